@@ -1,0 +1,154 @@
+// Package affinity turns image features into a sparse, symmetric, weighted
+// graph: one node per pixel (Shi and Malik 2000) or per SLIC superpixel
+// (Achanta et al. 2012), with edge weights from Gaussian kernels on feature
+// and spatial distance. It knows nothing of files or eigensolvers.
+package affinity
+
+import "fmt"
+
+// Graph is an undirected weighted graph stored as a symmetric matrix W in
+// compressed sparse row form. Row i holds the neighbours of node i in
+// Col[RowPtr[i]:RowPtr[i+1]] (ascending, no self loops) with weights
+// Weight[RowPtr[i]:RowPtr[i+1]]. Every edge appears in both rows with the
+// same weight, so W = Wᵀ exactly. Weights are float32 and indices int32:
+// sparse products are memory bound, and this halves the traffic.
+type Graph struct {
+	N      int
+	RowPtr []int
+	Col    []int32
+	Weight []float32
+}
+
+// NNZ is the number of stored entries (twice the number of edges).
+func (g *Graph) NNZ() int { return len(g.Col) }
+
+// Degrees returns d_i = sum_j w_ij in float64.
+func (g *Graph) Degrees() []float64 {
+	d := make([]float64, g.N)
+	for i := 0; i < g.N; i++ {
+		var s float64
+		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
+			s += float64(g.Weight[p])
+		}
+		d[i] = s
+	}
+	return d
+}
+
+// Validate checks the structural invariants: sizes, sorted in-range columns,
+// no self loops, finite non-negative weights and exact symmetry.
+func (g *Graph) Validate() error {
+	if g.N < 0 || len(g.RowPtr) != g.N+1 || g.RowPtr[0] != 0 || g.RowPtr[g.N] != len(g.Col) || len(g.Col) != len(g.Weight) {
+		return fmt.Errorf("affinity: malformed graph arrays")
+	}
+	for i := 0; i < g.N; i++ {
+		prev := int32(-1)
+		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
+			j := g.Col[p]
+			if j <= prev || int(j) >= g.N || int(j) == i {
+				return fmt.Errorf("affinity: row %d: bad column %d", i, j)
+			}
+			w := g.Weight[p]
+			if !(w >= 0) || w > 3.4e38 {
+				return fmt.Errorf("affinity: row %d: bad weight %v", i, w)
+			}
+			prev = j
+		}
+	}
+	for i := 0; i < g.N; i++ {
+		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
+			j := int(g.Col[p])
+			if w, ok := g.At(j, i); !ok || w != g.Weight[p] {
+				return fmt.Errorf("affinity: not symmetric at (%d,%d)", i, j)
+			}
+		}
+	}
+	return nil
+}
+
+// At returns w_ij and whether the entry is stored (binary search in row i).
+func (g *Graph) At(i, j int) (float32, bool) {
+	lo, hi := g.RowPtr[i], g.RowPtr[i+1]
+	for lo < hi {
+		m := (lo + hi) / 2
+		switch c := int(g.Col[m]); {
+		case c == j:
+			return g.Weight[m], true
+		case c < j:
+			lo = m + 1
+		default:
+			hi = m
+		}
+	}
+	return 0, false
+}
+
+// Edge is one undirected weighted edge, used to build graphs.
+type Edge struct {
+	I, J int
+	W    float32
+}
+
+// FromEdges builds a Graph on n nodes from undirected edges. Duplicate edges
+// are summed; self loops and zero weights are dropped. It returns an error
+// for an index out of range or a negative or non-finite weight.
+func FromEdges(n int, edges []Edge) (*Graph, error) {
+	deg := make([]int, n+1)
+	for _, e := range edges {
+		if e.I < 0 || e.I >= n || e.J < 0 || e.J >= n {
+			return nil, fmt.Errorf("affinity: edge (%d,%d) out of range for %d nodes", e.I, e.J, n)
+		}
+		if !(e.W >= 0) || e.W > 3.4e38 {
+			return nil, fmt.Errorf("affinity: edge (%d,%d) has bad weight %v", e.I, e.J, e.W)
+		}
+		if e.I == e.J || e.W == 0 {
+			continue
+		}
+		deg[e.I+1]++
+		deg[e.J+1]++
+	}
+	for i := 0; i < n; i++ {
+		deg[i+1] += deg[i]
+	}
+	g := &Graph{N: n, RowPtr: make([]int, n+1)}
+	col := make([]int32, deg[n])
+	wt := make([]float32, deg[n])
+	fill := append([]int(nil), deg[:n]...)
+	for _, e := range edges {
+		if e.I == e.J || e.W == 0 {
+			continue
+		}
+		col[fill[e.I]], wt[fill[e.I]] = int32(e.J), e.W
+		fill[e.I]++
+		col[fill[e.J]], wt[fill[e.J]] = int32(e.I), e.W
+		fill[e.J]++
+	}
+	// Sort each row and merge duplicates.
+	out := 0
+	for i := 0; i < n; i++ {
+		lo, hi := deg[i], deg[i+1]
+		sortRow(col[lo:hi], wt[lo:hi])
+		g.RowPtr[i] = out
+		for p := lo; p < hi; p++ {
+			if out > g.RowPtr[i] && col[out-1] == col[p] {
+				wt[out-1] += wt[p]
+				continue
+			}
+			col[out], wt[out] = col[p], wt[p]
+			out++
+		}
+	}
+	g.RowPtr[n] = out
+	g.Col, g.Weight = col[:out:out], wt[:out:out]
+	return g, nil
+}
+
+func sortRow(c []int32, w []float32) {
+	// Insertion sort: rows are short (a few dozen entries).
+	for a := 1; a < len(c); a++ {
+		for b := a; b > 0 && c[b] < c[b-1]; b-- {
+			c[b], c[b-1] = c[b-1], c[b]
+			w[b], w[b-1] = w[b-1], w[b]
+		}
+	}
+}

@@ -1,0 +1,3 @@
+module github.com/cleave-seg/cleave
+
+go 1.26

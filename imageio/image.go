@@ -1,0 +1,23 @@
+// Package imageio reads images into float32 planes (keeping 16-bit data at
+// full precision), normalizes intensities, corrects shading, derives the
+// feature planes the graph is built on, and writes label maps, overlays and
+// other outputs atomically. It knows nothing of graphs or eigensolvers.
+package imageio
+
+// Image is a decoded raster in the image's own units: Planes[c][y*Width+x]
+// holds channel c of pixel (x, y) as the integer sample value (0..255 for
+// 8-bit data, 0..65535 for 16-bit), stored as float32, which represents
+// every 16-bit value exactly. Channels is 1 (gray) or 3 (RGB); an alpha
+// channel is dropped after compositing is NOT applied (samples are read
+// un-premultiplied).
+type Image struct {
+	Width, Height int
+	Channels      int
+	BitDepth      int    // 8 or 16: bits per sample of the source
+	Format        string // "png", "tiff", "jpeg", "bmp", "gif", "webp"
+	HasAlpha      bool   // the source carried an alpha channel (ignored)
+	Planes        [][]float32
+}
+
+// MaxValue is the largest sample value the bit depth allows (2^bits - 1).
+func (im *Image) MaxValue() float64 { return float64(int(1)<<im.BitDepth - 1) }
