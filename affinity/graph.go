@@ -4,7 +4,11 @@
 // and spatial distance. It knows nothing of files or eigensolvers.
 package affinity
 
-import "fmt"
+import (
+	"fmt"
+	"math"
+	"sort"
+)
 
 // Graph is an undirected weighted graph stored as a symmetric matrix W in
 // compressed sparse row form. Row i holds the neighbours of node i in
@@ -41,6 +45,12 @@ func (g *Graph) Validate() error {
 	if g.N < 0 || len(g.RowPtr) != g.N+1 || g.RowPtr[0] != 0 || g.RowPtr[g.N] != len(g.Col) || len(g.Col) != len(g.Weight) {
 		return fmt.Errorf("affinity: malformed graph arrays")
 	}
+	// Row pointers must be non-decreasing before any row is sliced.
+	for i := 0; i < g.N; i++ {
+		if g.RowPtr[i] > g.RowPtr[i+1] {
+			return fmt.Errorf("affinity: row pointers decrease at row %d", i)
+		}
+	}
 	for i := 0; i < g.N; i++ {
 		prev := int32(-1)
 		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
@@ -49,7 +59,7 @@ func (g *Graph) Validate() error {
 				return fmt.Errorf("affinity: row %d: bad column %d", i, j)
 			}
 			w := g.Weight[p]
-			if !(w >= 0) || w > 3.4e38 {
+			if !(w >= 0) || math.IsInf(float64(w), 1) {
 				return fmt.Errorf("affinity: row %d: bad weight %v", i, w)
 			}
 			prev = j
@@ -93,12 +103,15 @@ type Edge struct {
 // are summed; self loops and zero weights are dropped. It returns an error
 // for an index out of range or a negative or non-finite weight.
 func FromEdges(n int, edges []Edge) (*Graph, error) {
+	if n < 0 || n > math.MaxInt32 {
+		return nil, fmt.Errorf("affinity: node count %d out of range", n)
+	}
 	deg := make([]int, n+1)
 	for _, e := range edges {
 		if e.I < 0 || e.I >= n || e.J < 0 || e.J >= n {
 			return nil, fmt.Errorf("affinity: edge (%d,%d) out of range for %d nodes", e.I, e.J, n)
 		}
-		if !(e.W >= 0) || e.W > 3.4e38 {
+		if !(e.W >= 0) || math.IsInf(float64(e.W), 1) {
 			return nil, fmt.Errorf("affinity: edge (%d,%d) has bad weight %v", e.I, e.J, e.W)
 		}
 		if e.I == e.J || e.W == 0 {
@@ -140,15 +153,40 @@ func FromEdges(n int, edges []Edge) (*Graph, error) {
 	}
 	g.RowPtr[n] = out
 	g.Col, g.Weight = col[:out:out], wt[:out:out]
+	// Both copies of a duplicated edge are summed in edge order, so the two
+	// rows agree bit for bit; only overflow can spoil the result.
+	for p, w := range g.Weight {
+		if math.IsInf(float64(w), 1) {
+			return nil, fmt.Errorf("affinity: duplicate edges at column %d sum past the float32 range", g.Col[p])
+		}
+	}
 	return g, nil
 }
 
+// sortRow sorts one row by column, stably, so duplicates keep edge order.
 func sortRow(c []int32, w []float32) {
-	// Insertion sort: rows are short (a few dozen entries).
+	if len(c) > 32 {
+		// A hub (a background region touching hundreds of others) would
+		// make insertion sort quadratic.
+		sort.Stable(rowSorter{c, w})
+		return
+	}
 	for a := 1; a < len(c); a++ {
 		for b := a; b > 0 && c[b] < c[b-1]; b-- {
 			c[b], c[b-1] = c[b-1], c[b]
 			w[b], w[b-1] = w[b-1], w[b]
 		}
 	}
+}
+
+type rowSorter struct {
+	c []int32
+	w []float32
+}
+
+func (r rowSorter) Len() int           { return len(r.c) }
+func (r rowSorter) Less(a, b int) bool { return r.c[a] < r.c[b] }
+func (r rowSorter) Swap(a, b int) {
+	r.c[a], r.c[b] = r.c[b], r.c[a]
+	r.w[a], r.w[b] = r.w[b], r.w[a]
 }

@@ -1,0 +1,134 @@
+package affinity
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+)
+
+// ErrParam is wrapped by every ParamError, for errors.Is.
+var ErrParam = errors.New("affinity: invalid parameter")
+
+// ParamError reports a parameter outside its domain. Name is the
+// user-facing name (as the command-line flag spells it), so the message
+// can be shown as it stands: "sigma-i must be a positive number, got NaN".
+type ParamError struct {
+	Name string // e.g. "sigma-i", "radius"
+	Want string // e.g. "a positive number"
+	Got  string // the offending value, formatted
+}
+
+func (e *ParamError) Error() string {
+	return fmt.Sprintf("%s must be %s, got %s", e.Name, e.Want, e.Got)
+}
+
+// Unwrap makes errors.Is(err, ErrParam) true.
+func (e *ParamError) Unwrap() error { return ErrParam }
+
+// positive checks that v is finite and > 0.
+func positive(name string, v float64) error {
+	if !(v > 0) || math.IsInf(v, 0) {
+		return &ParamError{Name: name, Want: "a positive number", Got: fmt.Sprint(v)}
+	}
+	return nil
+}
+
+// PixelParams are the parameters of the pixel graph of Shi and Malik (2000).
+type PixelParams struct {
+	Radius int     // r: pixels i, j are joined when 0 < |X_i - X_j| <= r (pixels)
+	SigmaI float64 // sigma_I: feature scale, in normalized feature units
+	SigmaX float64 // sigma_X: spatial scale, in pixels
+}
+
+// Validate reports the first parameter outside its domain: Radius >= 1,
+// SigmaI and SigmaX finite and > 0.
+func (p PixelParams) Validate() error {
+	if p.Radius < 1 {
+		return &ParamError{Name: "radius", Want: "at least 1 pixel", Got: fmt.Sprint(p.Radius)}
+	}
+	if err := positive("sigma-i", p.SigmaI); err != nil {
+		return err
+	}
+	return positive("sigma-x", p.SigmaX)
+}
+
+// SLICParams are the parameters of SLIC superpixels (Achanta et al. 2012).
+type SLICParams struct {
+	// Count is the wanted number of superpixels K. The result has about
+	// that many; more than the number of pixels means one per pixel.
+	Count int
+	// Compactness is the paper's m on its own scale (CIE Lab, L in 0..100;
+	// the paper suggests 1..40, commonly 10). Our features are normalized
+	// to about 0..1, so m/100 is used in feature units: compactness 10
+	// means 0.1.
+	Compactness float64
+	// Iterations of assignment and update; 0 means 10, which the paper
+	// reports to be enough for most images.
+	Iterations int
+}
+
+// Validate reports the first parameter outside its domain: Count >= 1,
+// Compactness finite and > 0, 0 <= Iterations <= 1000.
+func (p SLICParams) Validate() error {
+	if p.Count < 1 {
+		return &ParamError{Name: "superpixels", Want: "at least 1", Got: fmt.Sprint(p.Count)}
+	}
+	if err := positive("compactness", p.Compactness); err != nil {
+		return err
+	}
+	if p.Iterations < 0 || p.Iterations > 1000 {
+		return &ParamError{Name: "slic-iterations", Want: "between 0 (default 10) and 1000", Got: fmt.Sprint(p.Iterations)}
+	}
+	return nil
+}
+
+// RegionParams are the kernel widths of the superpixel (region) graph.
+type RegionParams struct {
+	SigmaI float64 // sigma_I on mean features, normalized feature units
+	SigmaX float64 // sigma_X on centroid distance, pixels
+}
+
+// Validate reports the first parameter outside its domain: both sigmas
+// finite and > 0.
+func (p RegionParams) Validate() error {
+	if err := positive("sigma-i", p.SigmaI); err != nil {
+		return err
+	}
+	return positive("sigma-x", p.SigmaX)
+}
+
+// checkPlanes verifies the feature planes: at least one, each w*h long,
+// all values finite. Graph sizes are bounded by int32 node indices.
+func checkPlanes(f [][]float32, w, h int) error {
+	if w < 1 || h < 1 {
+		return fmt.Errorf("affinity: image size %dx%d is empty", w, h)
+	}
+	if int64(w)*int64(h) > math.MaxInt32 {
+		return fmt.Errorf("affinity: image %dx%d has more than 2^31-1 pixels", w, h)
+	}
+	if len(f) == 0 {
+		return errors.New("affinity: no feature planes")
+	}
+	for c, pl := range f {
+		if len(pl) != w*h {
+			return fmt.Errorf("affinity: feature plane %d has %d values, want %dx%d = %d", c, len(pl), w, h, w*h)
+		}
+	}
+	for c, pl := range f {
+		for i, v := range pl {
+			if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+				return fmt.Errorf("affinity: feature plane %d has a non-finite value %v at pixel (%d,%d)", c, v, i%w, i/w)
+			}
+		}
+	}
+	return nil
+}
+
+// numWorkers maps workers < 1 to GOMAXPROCS.
+func numWorkers(workers int) int {
+	if workers < 1 {
+		return runtime.GOMAXPROCS(0)
+	}
+	return workers
+}
