@@ -1,0 +1,87 @@
+package affinity
+
+import (
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+// TestAutoSigmaI checks the estimate against its model: for Gaussian noise
+// of standard deviation s, the median absolute neighbour difference is
+// 0.6745·√2·s (the half-normal median, a textbook fact), so AutoSigmaI
+// should return 2√2·s, also when a few high-contrast steps are present.
+func TestAutoSigmaI(t *testing.T) {
+	const w, h = 200, 150
+	for _, c := range []struct {
+		name  string
+		s     float64
+		steps bool
+	}{
+		{"noise 0.05", 0.05, false},
+		{"noise 0.02 with steps", 0.02, true},
+		{"noise 0.1 with steps", 0.1, true},
+	} {
+		rng := rand.New(rand.NewPCG(5, 6))
+		p := make([]float32, w*h)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				v := 0.5
+				if c.steps && (x/40+y/50)%2 == 1 {
+					v = 0.9
+				}
+				p[y*w+x] = float32(v + c.s*rng.NormFloat64())
+			}
+		}
+		got := AutoSigmaI([][]float32{p}, w, h)
+		want := 2 * math.Sqrt2 * c.s
+		if relErr(got, want) > 0.05 {
+			t.Errorf("%s: AutoSigmaI = %.4g, want %.4g within 5%%", c.name, got, want)
+		}
+	}
+}
+
+func TestAutoSigmaIDegenerate(t *testing.T) {
+	constant := [][]float32{slices.Repeat([]float32{0.3}, 64)}
+	step := make([]float32, 64) // clean step 0 -> 0.6: median difference 0
+	for i := range step {
+		if i%8 >= 4 {
+			step[i] = 0.6
+		}
+	}
+	cases := []struct {
+		name string
+		f    [][]float32
+		w, h int
+		want float64
+	}{
+		{"constant", constant, 8, 8, minSigmaI},
+		{"1x1", [][]float32{{0.7}}, 1, 1, minSigmaI},
+		{"clean step uses 1% of spread", [][]float32{step}, 8, 8, 0.006},
+	}
+	for _, c := range cases {
+		got := AutoSigmaI(c.f, c.w, c.h)
+		if !(got > 0) || math.IsInf(got, 0) || relErr(got, c.want) > 1e-6 // float32(0.6) is 0.6 to 4e-8 {
+			t.Errorf("%s: AutoSigmaI = %v, want %v", c.name, got, c.want)
+		}
+	}
+}
+
+// TestLowerMedian compares the histogram selection with a full sort.
+func TestLowerMedian(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	for n := 1; n < 3000; n += 97 {
+		v := make([]float32, n)
+		for i := range v {
+			v[i] = float32(rng.ExpFloat64())
+			if i%3 == 0 {
+				v[i] = float32(rng.IntN(4)) // ties
+			}
+		}
+		s := slices.Clone(v)
+		slices.Sort(s)
+		if got, want := lowerMedian(v), s[(n-1)/2]; got != want {
+			t.Fatalf("n=%d: lowerMedian %v, want %v", n, got, want)
+		}
+	}
+}
