@@ -61,7 +61,7 @@ func TestAutoSigmaIDegenerate(t *testing.T) {
 	}
 	for _, c := range cases {
 		got := AutoSigmaI(c.f, c.w, c.h)
-		if !(got > 0) || math.IsInf(got, 0) || relErr(got, c.want) > 1e-6 // float32(0.6) is 0.6 to 4e-8 {
+		if !(got > 0) || math.IsInf(got, 0) || relErr(got, c.want) > 1e-6 { // float32(0.6) is 0.6 to 4e-8
 			t.Errorf("%s: AutoSigmaI = %v, want %v", c.name, got, c.want)
 		}
 	}
