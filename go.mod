@@ -1,3 +1,8 @@
 module github.com/cleave-seg/cleave
 
-go 1.26
+go 1.26.0
+
+require (
+	golang.org/x/image v0.48.0 // indirect
+	gonum.org/v1/gonum v0.17.0 // indirect
+)

@@ -15,3 +15,17 @@ func BenchmarkPixelGraph152x192r5(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkSLIC1024x3000 runs SLIC with 3000 superpixels on a 1024x1024
+// single-plane scene, the size of the whole-command speed case in issue 2,
+// on all cores.
+func BenchmarkSLIC1024x3000(b *testing.B) {
+	f := blobImage(8, 1024, 1024, 0.03)
+	p := SLICParams{Count: 3000, Compactness: 10}
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, _, err := SLIC(f, 1024, 1024, p, 0); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -1,0 +1,318 @@
+package affinity
+
+import (
+	"math"
+)
+
+// SLIC partitions a w x h image into compact superpixels by simple linear
+// iterative clustering (Achanta et al. 2012) on the feature planes f
+// (each w*h values, row-major, normalized to about 0..1). It returns one
+// label per pixel (index y*w + x) in 0..n-1.
+//
+// K cluster centres start on a regular grid of step S = sqrt(N/K) (N
+// pixels, K = p.Count, at most N/4 so that S >= 2) and move to the lowest gradient position
+// in their 3x3 neighbourhood, G(x,y) = ‖F(x+1,y) - F(x-1,y)‖² +
+// ‖F(x,y+1) - F(x,y-1)‖² (the paper's eq. 3), so they do not start on an
+// edge. Each iteration assigns every pixel to the nearest centre among
+// those whose 2S x 2S window covers it, by
+//
+//	D = sqrt(d_c² + (d_s/S)² m²)
+//
+// with d_c the Euclidean feature distance, d_s the distance in pixels and
+// m = p.Compactness/100 (the paper's m on its CIE Lab scale, L in 0..100,
+// carried over to features in 0..1), then moves each centre to the mean
+// features and position of its pixels. A pixel no window reaches keeps
+// its previous label (the grid cell at the start).
+//
+// Connectivity is then enforced as in the paper: pieces are flood-filled
+// in raster order; a piece no larger than a quarter of the expected size
+// N/K is merged into the label of its left (or else upper) neighbour,
+// which the raster scan has already labelled, while larger pieces become
+// superpixels of their own. The piece holding pixel (0,0) has no
+// labelled neighbour and stays a superpixel whatever its size, as in the
+// paper. Afterwards every superpixel is one 4-connected piece, every pixel
+// has exactly one label, and labels are numbered 0..n-1 in raster order of
+// their first pixel.
+//
+// Work is split into horizontal bands whose number depends only on the
+// image size and K, run on workers goroutines (workers < 1: all cores);
+// each band sums its pixels in raster order and band sums are added in
+// band order, so the labels are byte-identical for any worker count.
+// It returns a *ParamError for bad parameters and an error for an empty
+// image, planes of the wrong length or non-finite features.
+func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels []int32, n int, err error) {
+	if err := p.Validate(); err != nil {
+		return nil, 0, err
+	}
+	if err := checkPlanes(f, w, h); err != nil {
+		return nil, 0, err
+	}
+	iters := p.Iterations
+	if iters == 0 {
+		iters = 10
+	}
+	s := newSLICState(f, w, h, p.Count, p.Compactness/100)
+	workers = numWorkers(workers)
+	for it := 0; it < iters; it++ {
+		forChunks(s.nb, workers, s.assign)
+		forChunks(s.nb, workers, s.accumulate)
+		s.update()
+	}
+	expected := w * h / s.k
+	labels, n = enforceConnectivity(s.label, w, h, expected/4)
+	return labels, n, nil
+}
+
+// slicState holds the clustering: centres, per-pixel labels and distances,
+// and per-band partial sums for the update step.
+type slicState struct {
+	f          [][]float32
+	w, h, k    int
+	s          float64   // grid step S = sqrt(N/K): window half-size and spatial scale
+	ms         float32   // m² / S²: weight of squared pixel distance
+	cx, cy     []float32 // centre positions
+	cf         []float32 // centre features, k*planes
+	label      []int32
+	dist       []float32
+	nb         int         // bands
+	bandSums   []float64   // nb blocks of k*(planes+3): count, Σx, Σy, ΣF
+	scratch    [][]float32 // per band: squared x distances in a window row
+	sumsStride int
+}
+
+func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
+	N := w * h
+	count = max(1, min(count, N/4))
+	step := math.Sqrt(float64(N) / float64(count))
+	nx := min(max(1, int(math.Round(float64(w)/step))), w)
+	ny := min(max(1, int(math.Round(float64(h)/step))), h)
+	k := nx * ny
+	planes := len(f)
+	s := &slicState{f: f, w: w, h: h, k: k, s: math.Sqrt(float64(N) / float64(k))}
+	s.ms = float32(m * m / (s.s * s.s))
+	s.cx = make([]float32, k)
+	s.cy = make([]float32, k)
+	s.cf = make([]float32, k*planes)
+	for j := 0; j < ny; j++ {
+		for i := 0; i < nx; i++ {
+			c := j*nx + i
+			x := int((float64(i) + 0.5) * float64(w) / float64(nx))
+			y := int((float64(j) + 0.5) * float64(h) / float64(ny))
+			x, y = s.lowestGradient(x, y)
+			s.cx[c], s.cy[c] = float32(x), float32(y)
+			for pl := range f {
+				s.cf[c*planes+pl] = f[pl][y*w+x]
+			}
+		}
+	}
+	// Start from the grid cells, so that a pixel no window reaches in the
+	// first iteration still has a label.
+	s.label = make([]int32, N)
+	for y := 0; y < h; y++ {
+		row := y * ny / h * nx
+		for x := 0; x < w; x++ {
+			s.label[y*w+x] = int32(row + x*nx/w)
+		}
+	}
+	s.dist = make([]float32, N)
+	s.nb = slicBands(w, h, k)
+	s.sumsStride = k * (planes + 3)
+	s.bandSums = make([]float64, s.nb*s.sumsStride)
+	s.scratch = make([][]float32, s.nb)
+	for b := range s.scratch {
+		s.scratch[b] = make([]float32, 0, scratchLen(w, s.s))
+	}
+	return s
+}
+
+// slicBands is the number of horizontal bands: at most 16, at least one,
+// and few enough that the band sums (nb·K blocks) stay within N/8 blocks
+// when K <= N/8. It depends on the image and K only, never on the worker
+// count.
+func slicBands(w, h, k int) int {
+	return max(1, min(16, h, w*h/(8*k)))
+}
+
+func (s *slicState) band(b int) (y0, y1 int) {
+	return b * s.h / s.nb, (b + 1) * s.h / s.nb
+}
+
+// gradient is G(x,y) of Achanta et al. (2012), eq. 3, with the image
+// edge replicated.
+func (s *slicState) gradient(x, y int) float64 {
+	w, h := s.w, s.h
+	xl, xr := max(x-1, 0), min(x+1, w-1)
+	yu, yd := max(y-1, 0), min(y+1, h-1)
+	var g float64
+	for _, pl := range s.f {
+		dx := float64(pl[y*w+xr]) - float64(pl[y*w+xl])
+		dy := float64(pl[yd*w+x]) - float64(pl[yu*w+x])
+		g += dx*dx + dy*dy
+	}
+	return g
+}
+
+// lowestGradient returns the position of least gradient in the 3x3
+// neighbourhood of (x, y), the first in raster order on ties.
+func (s *slicState) lowestGradient(x, y int) (int, int) {
+	bx, by, best := x, y, math.Inf(1)
+	for yy := max(y-1, 0); yy <= min(y+1, s.h-1); yy++ {
+		for xx := max(x-1, 0); xx <= min(x+1, s.w-1); xx++ {
+			if g := s.gradient(xx, yy); g < best {
+				bx, by, best = xx, yy, g
+			}
+		}
+	}
+	return bx, by
+}
+
+// window returns the inclusive pixel range of centre c's 2S x 2S window.
+func (s *slicState) window(c int) (x0, x1, y0, y1 int) {
+	cx, cy := float64(s.cx[c]), float64(s.cy[c])
+	x0 = max(0, int(math.Ceil(cx-s.s)))
+	x1 = min(s.w-1, int(math.Floor(cx+s.s)))
+	y0 = max(0, int(math.Ceil(cy-s.s)))
+	y1 = min(s.h-1, int(math.Floor(cy+s.s)))
+	return
+}
+
+// assign is the assignment step for band b. Centres are visited in index
+// order and a pixel moves only to a strictly nearer centre, so the result
+// is that of one sequential pass.
+func (s *slicState) assign(b int) {
+	by0, by1 := s.band(b)
+	w := s.w
+	dist := s.dist[by0*w : by1*w]
+	for i := range dist {
+		dist[i] = float32(math.Inf(1))
+	}
+	planes := len(s.f)
+	dx2 := s.scratch[b]
+	for c := 0; c < s.k; c++ {
+		x0, x1, y0, y1 := s.window(c)
+		y0, y1 = max(y0, by0), min(y1, by1-1)
+		if y0 > y1 || x0 > x1 {
+			continue
+		}
+		cx, cy := s.cx[c], s.cy[c]
+		dx2 = dx2[:0]
+		for x := x0; x <= x1; x++ {
+			d := float32(x) - cx
+			dx2 = append(dx2, d*d*s.ms)
+		}
+		lab := int32(c)
+		for y := y0; y <= y1; y++ {
+			dy := float32(y) - cy
+			dy2 := dy * dy * s.ms
+			row := y*w + x0
+			drow := s.dist[row : row+len(dx2)]
+			lrow := s.label[row : row+len(dx2)]
+			if planes == 1 {
+				frow := s.f[0][row : row+len(dx2)]
+				fc := s.cf[c]
+				for x, d2 := range dx2 {
+					d := frow[x] - fc
+					D := d*d + d2 + dy2
+					if D < drow[x] {
+						drow[x] = D
+						lrow[x] = lab
+					}
+				}
+				continue
+			}
+			cf := s.cf[c*planes : (c+1)*planes]
+			for x, d2 := range dx2 {
+				D := d2 + dy2
+				for pl, v := range cf {
+					d := s.f[pl][row+x] - v
+					D += d * d
+				}
+				if D < drow[x] {
+					drow[x] = D
+					lrow[x] = lab
+				}
+			}
+		}
+	}
+}
+
+// accumulate sums count, position and features per label over band b.
+func (s *slicState) accumulate(b int) {
+	y0, y1 := s.band(b)
+	planes := len(s.f)
+	stride := planes + 3
+	sums := s.bandSums[b*s.sumsStride : (b+1)*s.sumsStride]
+	clear(sums)
+	for y := y0; y < y1; y++ {
+		fy := float64(y)
+		row := y * s.w
+		for x, l := range s.label[row : row+s.w] {
+			a := sums[int(l)*stride : int(l)*stride+stride]
+			a[0]++
+			a[1] += float64(x)
+			a[2] += fy
+			for pl, p := range s.f {
+				a[3+pl] += float64(p[row+x])
+			}
+		}
+	}
+}
+
+// update moves every non-empty cluster's centre to the mean of its pixels,
+// adding band sums in band order. An empty cluster keeps its centre.
+func (s *slicState) update() {
+	planes := len(s.f)
+	stride := planes + 3
+	acc := make([]float64, stride)
+	for c := 0; c < s.k; c++ {
+		clear(acc)
+		for b := 0; b < s.nb; b++ {
+			a := s.bandSums[b*s.sumsStride+c*stride : b*s.sumsStride+(c+1)*stride]
+			for i, v := range a {
+				acc[i] += v
+			}
+		}
+		if acc[0] == 0 {
+			continue
+		}
+		s.cx[c] = float32(acc[1] / acc[0])
+		s.cy[c] = float32(acc[2] / acc[0])
+		for pl := 0; pl < planes; pl++ {
+			s.cf[c*planes+pl] = float32(acc[3+pl] / acc[0])
+		}
+	}
+}
+
+// scratchLen bounds the width of a window: 2S+1 pixels, at most w.
+func scratchLen(w int, step float64) int {
+	return min(w, 2*int(step)+3)
+}
+
+// EstimateSLICBytes returns the peak number of bytes SLIC allocates for a
+// w x h image with the given number of feature planes P, as an upper
+// bound over every superpixel count: labels and distances (8 bytes per
+// pixel), the connectivity pass (output labels and a flood-fill stack, 8
+// more), and per-cluster centres and band sums, which take
+// K·(4(P+2) + 8(P+3)·bands) bytes and reach their bound, 2(P+3) + (P+2)
+// bytes per pixel, only at the limit of one superpixel per 4 pixels (with
+// 3000 superpixels on a megapixel they are under 2 MB). The feature
+// planes are the caller's and not included. Nonsensical sizes give 0.
+func EstimateSLICBytes(w, h, planes int) int64 {
+	if w < 1 || h < 1 || planes < 1 {
+		return 0
+	}
+	N := float64(w) * float64(h)
+	P := float64(planes)
+	K := max(1, math.Floor(N/4))
+	nbK := max(K, math.Floor(N/8)) // slicBands: nb·K <= max(K, N/8)
+	nb := math.Min(16, float64(h))
+	b := 4*allocBytes(4*N) + // label, dist, output labels, stack
+		2*allocBytes(4*K) + allocBytes(4*K*P) + // centres
+		allocBytes(8*(P+3)*nbK) + // band sums
+		nb*allocBytes(4*float64(min(w, 2*w+2*h+3))) + // window scratch
+		allocBytes(8*nb) + 16<<10 // headers, slack
+	if b >= math.MaxInt64 {
+		return math.MaxInt64
+	}
+	return int64(b)
+}
