@@ -1,0 +1,111 @@
+package affinity
+
+import (
+	"bytes"
+	"math"
+	"strings"
+	"testing"
+)
+
+// A hand-worked 4x3 labelling:
+//
+//	0 0 1 1
+//	0 0 1 1
+//	2 2 2 1
+//
+// Shared 4-connected pixel edges: 0-1: 2 (rows 0 and 1), 0-2: 2 (the two
+// vertical pairs under region 0), 1-2: 2 (pixel (2,1)-(2,2) vertical and
+// (2,2)-(3,2) horizontal).
+func TestAdjacencyHand(t *testing.T) {
+	labels := []int32{0, 0, 1, 1, 0, 0, 1, 1, 2, 2, 2, 1}
+	g := Adjacency(4, 3, labels, 3)
+	if err := g.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		i, j int
+		want float32
+	}{{0, 1, 2}, {0, 2, 2}, {1, 2, 2}} {
+		if got, ok := g.At(c.i, c.j); !ok || got != c.want {
+			t.Errorf("b(%d,%d) = %v, %v; want %v", c.i, c.j, got, ok, c.want)
+		}
+	}
+}
+
+func TestSummarizeAndRegionGraph(t *testing.T) {
+	labels := []int32{0, 0, 1, 1, 0, 0, 1, 1, 2, 2, 2, 1}
+	f := [][]float32{{0, 0.2, 1, 1, 0.2, 0, 1, 1, 0.5, 0.5, 0.5, 1}}
+	r := Summarize(f, 4, 3, labels, 3)
+	// Region 0: pixels (0,0),(1,0),(0,1),(1,1): mean 0.1, centroid (0.5,0.5).
+	if r.Area[0] != 4 || math.Abs(r.Mean[0][0]-0.1) > 1e-7 || r.CX[0] != 0.5 || r.CY[0] != 0.5 {
+		t.Fatalf("region 0: area %d mean %v centroid (%v,%v)", r.Area[0], r.Mean[0][0], r.CX[0], r.CY[0])
+	}
+	// Region 1: (2,0),(3,0),(2,1),(3,1),(3,2): centroid (2.6, 0.8).
+	if r.Area[1] != 5 || math.Abs(r.CX[1]-2.6) > 1e-12 || math.Abs(r.CY[1]-0.8) > 1e-12 {
+		t.Fatalf("region 1: area %d centroid (%v,%v)", r.Area[1], r.CX[1], r.CY[1])
+	}
+	p := RegionParams{SigmaI: 0.3, SigmaX: 5}
+	g, err := RegionGraph(r, 4, 3, labels, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := g.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	// The formula in RegionGraph's doc comment, evaluated by hand for 0-1.
+	S := math.Sqrt(12.0 / 3)
+	df := r.Mean[0][1] - r.Mean[0][0]
+	dx, dy := r.CX[1]-r.CX[0], r.CY[1]-r.CY[0]
+	want := 2 / S * math.Exp(-df*df/0.09) * math.Exp(-(dx*dx+dy*dy)/25)
+	if got, _ := g.At(0, 1); math.Abs(float64(got)-want) > 1e-6*want {
+		t.Errorf("w01 = %v, want %v", got, want)
+	}
+	if _, err := RegionGraph(r, 4, 3, labels, RegionParams{SigmaI: math.NaN(), SigmaX: 1}); err == nil {
+		t.Error("NaN sigma-i accepted")
+	}
+}
+
+func TestMatrixMarketRoundTrip(t *testing.T) {
+	g, err := FromEdges(5, []Edge{{0, 1, 0.5}, {1, 2, 1e-7}, {3, 4, 2}, {0, 4, 0.333333}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := g.WriteMatrixMarket(&buf, "test graph\nsecond line"); err != nil {
+		t.Fatal(err)
+	}
+	text := buf.String()
+	// Header and size line as the NIST Matrix Market format defines them.
+	if !strings.HasPrefix(text, "%%MatrixMarket matrix coordinate real symmetric\n% test graph\n% second line\n5 5 4\n") {
+		t.Fatalf("header:\n%s", text)
+	}
+	h, err := ReadMatrixMarket(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(graphBytes(t, g), graphBytes(t, h)) {
+		t.Error("graph changed in a Matrix Market round trip")
+	}
+	for _, bad := range []string{"", "%%MatrixMarket matrix array real general\n2 2\n", "%%MatrixMarket matrix coordinate real symmetric\n2 2 1\n3 1 1\n", "%%MatrixMarket matrix coordinate real symmetric\n2 2 2\n2 1 1\n"} {
+		if _, err := ReadMatrixMarket(strings.NewReader(bad)); err == nil {
+			t.Errorf("accepted %q", bad)
+		}
+	}
+}
+
+func TestSubgraph(t *testing.T) {
+	g, _ := FromEdges(4, []Edge{{0, 1, 1}, {1, 2, 2}, {2, 3, 3}, {0, 3, 4}})
+	s := g.Subgraph([]int{1, 2, 3})
+	if err := s.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	if s.N != 3 || s.NNZ() != 4 {
+		t.Fatalf("N %d NNZ %d, want 3, 4", s.N, s.NNZ())
+	}
+	if w, _ := s.At(0, 1); w != 2 {
+		t.Errorf("w(1,2) = %v", w)
+	}
+	if w, _ := s.At(1, 2); w != 3 {
+		t.Errorf("w(2,3) = %v", w)
+	}
+}
