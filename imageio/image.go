@@ -7,15 +7,16 @@ package imageio
 // Image is a decoded raster in the image's own units: Planes[c][y*Width+x]
 // holds channel c of pixel (x, y) as the integer sample value (0..255 for
 // 8-bit data, 0..65535 for 16-bit), stored as float32, which represents
-// every 16-bit value exactly. Channels is 1 (gray) or 3 (RGB); an alpha
-// channel is dropped after compositing is NOT applied (samples are read
-// un-premultiplied).
+// every 16-bit value exactly. Channels is 1 (gray) or 3 (RGB, in the
+// source's own encoding, normally sRGB). An alpha channel is dropped without
+// compositing: colour samples are the un-premultiplied ones (the semantics
+// of image/color.NRGBA), and HasAlpha records that the source carried alpha.
 type Image struct {
 	Width, Height int
 	Channels      int
 	BitDepth      int    // 8 or 16: bits per sample of the source
 	Format        string // "png", "tiff", "jpeg", "bmp", "gif", "webp"
-	HasAlpha      bool   // the source carried an alpha channel (ignored)
+	HasAlpha      bool   // the source carried an alpha channel (dropped)
 	Planes        [][]float32
 }
 
