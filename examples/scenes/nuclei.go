@@ -1,0 +1,467 @@
+package scenes
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+)
+
+// NucleiOptions configures Nuclei. Zero values select the defaults given in
+// each field's comment; invalid values are reported by Validate.
+type NucleiOptions struct {
+	Width, Height int    // image size in pixels; default 512 x 512
+	Count         int    // nuclei to place; default 34 per 512² pixels (at least 1)
+	Seed          uint64 // random seed; the scene is a function of the options
+	BitDepth      int    // 8 or 16; default 16
+
+	// RadiusMin and RadiusMax bound the mean radius sqrt(a·b) of a nucleus
+	// in pixels; defaults 8 and 20.
+	RadiusMin, RadiusMax float64
+	// PairFraction is the fraction of nuclei placed in touching pairs;
+	// default 0.35, a negative value means no pairs.
+	PairFraction float64
+	// DimFraction is the fraction of nuclei drawn dim (12–28 % of the
+	// brightest); default 0.2, a negative value means none.
+	DimFraction float64
+	// CornerLevel is the illumination at the corner farthest from the
+	// optical axis relative to the axis; default 0.4.
+	CornerLevel float64
+	// Haze is the mean additive glow relative to the brightest nucleus;
+	// default 0.08, a negative value means none.
+	Haze float64
+	// Photons is the expected photoelectron count of a nucleus of
+	// brightness 1 on the optical axis; default 800. It sets the shot-noise
+	// level: the signal-to-noise ratio there is about sqrt(Photons).
+	Photons float64
+	// ReadNoise is the camera read noise in electrons; default 3, a
+	// negative value means none.
+	ReadNoise float64
+}
+
+func (o NucleiOptions) withDefaults() NucleiOptions {
+	if o.Width == 0 {
+		o.Width = 512
+	}
+	if o.Height == 0 {
+		o.Height = 512
+	}
+	if o.BitDepth == 0 {
+		o.BitDepth = 16
+	}
+	if o.Count == 0 {
+		o.Count = max(1, int(math.Round(34*float64(o.Width*o.Height)/(512*512))))
+	}
+	if o.RadiusMin == 0 {
+		o.RadiusMin = 8
+	}
+	if o.RadiusMax == 0 {
+		o.RadiusMax = max(20, o.RadiusMin)
+	}
+	o.PairFraction = defaultFrac(o.PairFraction, 0.35)
+	o.DimFraction = defaultFrac(o.DimFraction, 0.2)
+	o.Haze = defaultFrac(o.Haze, 0.08)
+	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
+	if o.CornerLevel == 0 {
+		o.CornerLevel = 0.4
+	}
+	if o.Photons == 0 {
+		o.Photons = 800
+	}
+	return o
+}
+
+// defaultFrac maps 0 to def and a negative value to 0.
+func defaultFrac(v, def float64) float64 {
+	switch {
+	case v == 0:
+		return def
+	case v < 0:
+		return 0
+	}
+	return v
+}
+
+// Validate reports the first invalid option, naming it.
+func (o NucleiOptions) Validate() error {
+	o = o.withDefaults()
+	if err := checkGeometry("nuclei", o.Width, o.Height, o.BitDepth); err != nil {
+		return err
+	}
+	switch {
+	case o.Count < 0:
+		return fmt.Errorf("scenes: nuclei: Count %d is negative", o.Count)
+	case o.RadiusMin < 2 || o.RadiusMax < o.RadiusMin:
+		return fmt.Errorf("scenes: nuclei: RadiusMin %g and RadiusMax %g must satisfy 2 <= RadiusMin <= RadiusMax", o.RadiusMin, o.RadiusMax)
+	case 4*o.RadiusMax+8 > float64(min(o.Width, o.Height)):
+		return fmt.Errorf("scenes: nuclei: RadiusMax %g too large for a %dx%d image", o.RadiusMax, o.Width, o.Height)
+	case o.PairFraction > 1:
+		return fmt.Errorf("scenes: nuclei: PairFraction %g exceeds 1", o.PairFraction)
+	case o.DimFraction > 1:
+		return fmt.Errorf("scenes: nuclei: DimFraction %g exceeds 1", o.DimFraction)
+	case o.CornerLevel < 0 || o.CornerLevel > 1:
+		return fmt.Errorf("scenes: nuclei: CornerLevel %g outside (0, 1]", o.CornerLevel)
+	case o.Haze > 1:
+		return fmt.Errorf("scenes: nuclei: Haze %g exceeds 1", o.Haze)
+	case o.Photons < 10 || o.Photons > 1e6:
+		return fmt.Errorf("scenes: nuclei: Photons %g outside [10, 1e6]", o.Photons)
+	case o.ReadNoise > 1000:
+		return fmt.Errorf("scenes: nuclei: ReadNoise %g exceeds 1000", o.ReadNoise)
+	}
+	// Mean nucleus area π r² with r the mid radius, doubled for spacing,
+	// must fit comfortably in the field.
+	r := (o.RadiusMin + o.RadiusMax) / 2
+	if float64(o.Count)*2*math.Pi*r*r > 0.5*float64(o.Width*o.Height) {
+		return fmt.Errorf("scenes: nuclei: Count %d too large for a %dx%d image with radii %g-%g", o.Count, o.Width, o.Height, o.RadiusMin, o.RadiusMax)
+	}
+	return nil
+}
+
+// ellipse is a nucleus outline: centre (cx, cy), semi-axes a, b and the
+// angle theta of axis a to the x axis.
+type ellipse struct {
+	cx, cy, a, b, theta float64
+}
+
+// rho is the normalized radius sqrt((u/a)² + (v/b)²) of the point (x, y) in
+// the ellipse's own axes (u, v); the ellipse is rho <= 1.
+func (e ellipse) rho(x, y float64) float64 {
+	dx, dy := x-e.cx, y-e.cy
+	s, c := math.Sincos(e.theta)
+	u := c*dx + s*dy
+	v := -s*dx + c*dy
+	return math.Hypot(u/e.a, v/e.b)
+}
+
+// margin is the signed distance, along the ray from the centre, from (x, y)
+// to the outline: d(1/rho - 1) with d the distance to the centre, positive
+// inside. It is exact along each ray and is the inside test used for both
+// rendering and truth (inside ⇔ margin > 0).
+func (e ellipse) margin(x, y float64) float64 {
+	d := math.Hypot(x-e.cx, y-e.cy)
+	r := e.rho(x, y)
+	if r == 0 {
+		return e.b
+	}
+	return d * (1/r - 1)
+}
+
+// radiusAt is the distance from the centre to the outline in direction phi.
+func (e ellipse) radiusAt(phi float64) float64 {
+	s, c := math.Sincos(phi - e.theta)
+	return 1 / math.Hypot(c/e.a, s/e.b)
+}
+
+// nucleus is one placed object with its brightness.
+type nucleus struct {
+	shape      ellipse
+	brightness float64
+}
+
+// Nuclei renders a fluorescence-like field of nuclei: bright objects on a
+// dark background. The model, in order:
+//
+//   - Shapes: ellipses of mean radius sqrt(ab) uniform in
+//     [RadiusMin, RadiusMax], aspect a/b uniform in [1, 1.6], random angle.
+//     Single nuclei keep at least 4 px from every other object. A fraction
+//     PairFraction of the nuclei come as touching pairs: the second centre
+//     sits at 0.78–0.9 of the summed outline radii from the first along a
+//     random direction, so the outlines overlap; each pixel of the overlap
+//     goes to the nucleus with the larger margin, so the pair is two truth
+//     objects sharing a boundary.
+//   - Brightness b: uniform in [0.55, 1], or [0.12, 0.28] for a dim
+//     nucleus (probability DimFraction). Inside a nucleus the emitted
+//     intensity is b·(0.85 + 0.15(1-ρ²))·(1 + 0.18 T) with ρ the normalized
+//     radius and T a unit-variance texture (white noise smoothed by a
+//     Gaussian of σ = 1.5 px, chromatin-like granularity). Near the shared
+//     boundary of a pair it is multiplied by 1 - (1-s)·exp(-δ²/2·1.5²),
+//     where δ is half the margin difference (≈ distance to the boundary)
+//     and the seam level s is uniform in [0.5, 0.7].
+//   - Edges are anti-aliased with coverage clamp(1/2 + margin, 0, 1); then
+//     the optics blur everything with a Gaussian PSF of σ = 1 px.
+//   - Haze: an additive glow, Haze·(0.4 + 1.2 G/max G) with G a sum of
+//     three broad Gaussians (σ 15–35 % of the short side).
+//   - Illumination falls off quadratically from an optical axis near the
+//     centre, V = 1 - (1-CornerLevel)(d/d_max)², reaching CornerLevel at
+//     the farthest corner (a common approximation of vignetting).
+//   - Camera: expected electrons e = Photons·V·(signal + haze), Poisson
+//     shot noise in its Gaussian approximation plus ReadNoise, digital
+//     number = offset + gain·e with the offset 2 % of full scale and the
+//     gain putting brightness 1 on the axis at 60 % of full scale.
+//
+// Truth labels are 1..Objects in placement order (pairs first, the two
+// nuclei of a pair consecutive). When the field is too crowded to place a
+// nucleus after a bounded number of tries it is left out, so Objects may be
+// below Count. Nuclei panics if o.Validate() fails: check options from
+// users with Validate first.
+func Nuclei(o NucleiOptions) *Scene {
+	if err := o.Validate(); err != nil {
+		panic(err)
+	}
+	o = o.withDefaults()
+	w, h := o.Width, o.Height
+	rng := newRand(o.Seed, 0x6e75636c6569) // "nuclei"
+
+	nPairs := int(math.Round(float64(o.Count) * o.PairFraction / 2))
+	nSingles := o.Count - 2*nPairs
+
+	truth := make([]int32, w*h)
+	var placed []nucleus
+	var pairs [][2]int      // indices into placed
+	var seamLevel []float64 // per pair
+	const tries = 400
+
+	drawShape := func(cx, cy float64) ellipse {
+		r := uniform(rng, o.RadiusMin, o.RadiusMax)
+		asp := uniform(rng, 1, 1.6)
+		return ellipse{cx: cx, cy: cy, a: r * math.Sqrt(asp), b: r / math.Sqrt(asp), theta: uniform(rng, 0, math.Pi)}
+	}
+	drawBrightness := func() float64 {
+		if rng.Float64() < o.DimFraction {
+			return uniform(rng, 0.12, 0.28)
+		}
+		return uniform(rng, 0.55, 1)
+	}
+	// inside returns the pixels whose centres lie inside any of the shapes,
+	// or nil if one falls within 2 px of the image border.
+	inside := func(es ...ellipse) []int {
+		var pix []int
+		for _, e := range es {
+			x0, x1 := int(math.Floor(e.cx-e.a-1)), int(math.Ceil(e.cx+e.a+1))
+			y0, y1 := int(math.Floor(e.cy-e.a-1)), int(math.Ceil(e.cy+e.a+1))
+			for y := y0; y <= y1; y++ {
+				for x := x0; x <= x1; x++ {
+					if e.margin(float64(x)+0.5, float64(y)+0.5) > 0 {
+						if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
+							return nil
+						}
+						pix = append(pix, y*w+x)
+					}
+				}
+			}
+		}
+		return pix
+	}
+	randomCentre := func() (float64, float64) {
+		return uniform(rng, 0, float64(w)), uniform(rng, 0, float64(h))
+	}
+
+	for range nPairs {
+		for range tries {
+			cx, cy := randomCentre()
+			e1 := drawShape(cx, cy)
+			phi := uniform(rng, 0, 2*math.Pi)
+			e2 := drawShape(0, 0)
+			dist := (e1.radiusAt(phi) + e2.radiusAt(phi+math.Pi)) * uniform(rng, 0.78, 0.9)
+			e2.cx, e2.cy = cx+dist*math.Cos(phi), cy+dist*math.Sin(phi)
+			b1, b2 := drawBrightness(), drawBrightness()
+			s := uniform(rng, 0.5, 0.7)
+			pix := inside(e1, e2)
+			if pix == nil || touchesLabelled(truth, w, h, pix, 4) {
+				continue
+			}
+			l1, l2 := int32(len(placed)+1), int32(len(placed)+2)
+			if !labelPair(truth, w, pix, e1, e2, l1, l2) {
+				continue
+			}
+			pairs = append(pairs, [2]int{len(placed), len(placed) + 1})
+			seamLevel = append(seamLevel, s)
+			placed = append(placed, nucleus{e1, b1}, nucleus{e2, b2})
+			break
+		}
+	}
+	for range nSingles {
+		for range tries {
+			cx, cy := randomCentre()
+			e := drawShape(cx, cy)
+			b := drawBrightness()
+			pix := inside(e)
+			if pix == nil || touchesLabelled(truth, w, h, pix, 4) {
+				continue
+			}
+			l := int32(len(placed) + 1)
+			for _, p := range pix {
+				truth[p] = l
+			}
+			placed = append(placed, nucleus{e, b})
+			break
+		}
+	}
+
+	// Emitted signal.
+	texture := smoothNoise(rng, w, h, 1.5)
+	signal := make([]float64, w*h)
+	partner := make([]int, len(placed))
+	for i := range partner {
+		partner[i] = -1
+	}
+	pairOf := make([]int, len(placed))
+	for k, p := range pairs {
+		partner[p[0]], partner[p[1]] = p[1], p[0]
+		pairOf[p[0]], pairOf[p[1]] = k, k
+	}
+	for i, n := range placed {
+		e := n.shape
+		j := partner[i]
+		if j >= 0 && j < i {
+			continue // drawn with its partner
+		}
+		x0, x1 := max(0, int(math.Floor(e.cx-e.a-2))), min(w-1, int(math.Ceil(e.cx+e.a+2)))
+		y0, y1 := max(0, int(math.Floor(e.cy-e.a-2))), min(h-1, int(math.Ceil(e.cy+e.a+2)))
+		if j >= 0 {
+			f := placed[j].shape
+			x0, x1 = min(x0, max(0, int(math.Floor(f.cx-f.a-2)))), max(x1, min(w-1, int(math.Ceil(f.cx+f.a+2))))
+			y0, y1 = min(y0, max(0, int(math.Floor(f.cy-f.a-2)))), max(y1, min(h-1, int(math.Ceil(f.cy+f.a+2))))
+		}
+		for y := y0; y <= y1; y++ {
+			for x := x0; x <= x1; x++ {
+				px, py := float64(x)+0.5, float64(y)+0.5
+				m1 := e.margin(px, py)
+				own, m := n, m1
+				seam := 1.0
+				if j >= 0 {
+					m2 := placed[j].shape.margin(px, py)
+					if m2 > m1 {
+						own, m = placed[j], m2
+					}
+					if m1 > -3 && m2 > -3 {
+						d := (m1 - m2) / 2
+						seam = 1 - (1-seamLevel[pairOf[i]])*math.Exp(-d*d/(2*1.5*1.5))
+					}
+				}
+				c := coverage(m)
+				if c == 0 {
+					continue
+				}
+				r := own.shape.rho(px, py)
+				v := own.brightness * (0.85 + 0.15*(1-r*r)) * (1 + 0.18*texture[y*w+x]) * seam
+				signal[y*w+x] += c * max(v, 0)
+			}
+		}
+	}
+	signal = blur(signal, w, h, 1.0)
+
+	// Haze and vignetting.
+	haze := glow(rng, w, h, o.Haze)
+	ox := float64(w) * uniform(rng, 0.4, 0.6)
+	oy := float64(h) * uniform(rng, 0.4, 0.6)
+	dmax := 0.0
+	for _, c := range [][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
+		dmax = max(dmax, math.Hypot(c[0]-ox, c[1]-oy))
+	}
+	electrons := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			d := math.Hypot(float64(x)+0.5-ox, float64(y)+0.5-oy) / dmax
+			v := 1 - (1-o.CornerLevel)*d*d
+			i := y*w + x
+			electrons[i] = o.Photons * v * (signal[i] + haze[i])
+		}
+	}
+	maxCode := float64(int(1)<<o.BitDepth - 1)
+	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.6*maxCode/o.Photons, o.ReadNoise)
+
+	return &Scene{
+		Name:     fmt.Sprintf("nuclei-%d", o.Seed),
+		Width:    w,
+		Height:   h,
+		BitDepth: o.BitDepth,
+		Pixels:   pixels,
+		Truth:    truth,
+		Objects:  len(placed),
+	}
+}
+
+// labelPair assigns each candidate pixel to the ellipse with the larger
+// margin and reports whether both labels form one 4-connected piece each
+// and share a boundary; otherwise it leaves truth unchanged.
+func labelPair(truth []int32, w int, pix []int, e1, e2 ellipse, l1, l2 int32) bool {
+	lab := make(map[int]int32, len(pix))
+	for _, p := range pix {
+		x, y := float64(p%w)+0.5, float64(p/w)+0.5
+		if e1.margin(x, y) >= e2.margin(x, y) {
+			lab[p] = l1
+		} else {
+			lab[p] = l2
+		}
+	}
+	get := func(p int) int32 { return lab[p] }
+	for _, l := range []int32{l1, l2} {
+		if pieces4(lab, w, l) != 1 {
+			return false
+		}
+	}
+	touch := false
+	for _, p := range pix {
+		if get(p) == l1 && (get(p+1) == l2 || get(p-1) == l2 || get(p+w) == l2 || get(p-w) == l2) {
+			touch = true
+			break
+		}
+	}
+	if !touch {
+		return false
+	}
+	for p, l := range lab {
+		truth[p] = l
+	}
+	return true
+}
+
+// pieces4 counts the 4-connected pieces of label l in a sparse labelling
+// (pixels absent from the map are background). The count does not depend
+// on the map's iteration order.
+func pieces4(lab map[int]int32, w int, l int32) int {
+	seen := make(map[int]bool)
+	n := 0
+	for p, v := range lab {
+		if v != l || seen[p] {
+			continue
+		}
+		n++
+		stack := []int{p}
+		seen[p] = true
+		for len(stack) > 0 {
+			q := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			x := q % w
+			for _, nb := range []int{q + w, q - w, q + 1, q - 1} {
+				if (nb == q+1 && x == w-1) || (nb == q-1 && x == 0) {
+					continue
+				}
+				if lab[nb] == l && !seen[nb] {
+					seen[nb] = true
+					stack = append(stack, nb)
+				}
+			}
+		}
+	}
+	return n
+}
+
+// glow returns an additive haze field with mean near level: level·(0.4 +
+// 1.2·G/max G), G the sum of three isotropic Gaussians with centres in the
+// field and σ between 15 % and 35 % of the short side.
+func glow(rng *rand.Rand, w, h int, level float64) []float64 {
+	type blob struct{ x, y, s, a float64 }
+	short := float64(min(w, h))
+	var bs [3]blob
+	for i := range bs {
+		bs[i] = blob{uniform(rng, 0, float64(w)), uniform(rng, 0, float64(h)), short * uniform(rng, 0.15, 0.35), uniform(rng, 0.5, 1)}
+	}
+	g := make([]float64, w*h)
+	gmax := 0.0
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var s float64
+			for _, b := range bs {
+				dx, dy := float64(x)+0.5-b.x, float64(y)+0.5-b.y
+				s += b.a * math.Exp(-(dx*dx+dy*dy)/(2*b.s*b.s))
+			}
+			g[y*w+x] = s
+			gmax = max(gmax, s)
+		}
+	}
+	for i := range g {
+		g[i] = level * (0.4 + 1.2*g[i]/gmax)
+	}
+	return g
+}

@@ -1,0 +1,343 @@
+package scenes
+
+import (
+	"fmt"
+	"math"
+)
+
+// PlateOptions configures Plate. Zero values select the defaults given in
+// each field's comment; invalid values are reported by Validate.
+type PlateOptions struct {
+	Width, Height int    // image size in pixels; default 512 x 512
+	Seed          uint64 // random seed; the scene is a function of the options
+	BitDepth      int    // 8 or 16; default 16
+
+	// Pits is the number of pits to place; default a draw from 5..9 per
+	// 512² pixels, a negative value means none.
+	Pits int
+	// Scratches is the number of scratches; default 1 or 2 (drawn), a
+	// negative value means none.
+	Scratches int
+	// Gradient is the ratio of the brightest to the darkest illumination
+	// across the field from the raking light; default 2.5.
+	Gradient float64
+	// Grain is the standard deviation of the surface texture relative to
+	// the mean reflectance; default 0.08, a negative value means none.
+	Grain float64
+	// Photons is the expected electron count of bare surface at the
+	// brightest illumination; default 2000.
+	Photons float64
+	// ReadNoise is the camera read noise in electrons; default 3, a
+	// negative value means none.
+	ReadNoise float64
+}
+
+func (o PlateOptions) withDefaults() PlateOptions {
+	if o.Width == 0 {
+		o.Width = 512
+	}
+	if o.Height == 0 {
+		o.Height = 512
+	}
+	if o.BitDepth == 0 {
+		o.BitDepth = 16
+	}
+	if o.Gradient == 0 {
+		o.Gradient = 2.5
+	}
+	o.Grain = defaultFrac(o.Grain, 0.08)
+	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
+	if o.Photons == 0 {
+		o.Photons = 2000
+	}
+	return o
+}
+
+// Validate reports the first invalid option, naming it.
+func (o PlateOptions) Validate() error {
+	o = o.withDefaults()
+	if err := checkGeometry("plate", o.Width, o.Height, o.BitDepth); err != nil {
+		return err
+	}
+	area := float64(o.Width*o.Height) / (512 * 512)
+	switch {
+	case o.Width < 96 || o.Height < 96:
+		return fmt.Errorf("scenes: plate: size %dx%d below the 96x96 a scratch needs", o.Width, o.Height)
+	case float64(o.Pits) > 60*area:
+		return fmt.Errorf("scenes: plate: Pits %d too many for a %dx%d image", o.Pits, o.Width, o.Height)
+	case o.Scratches > 8:
+		return fmt.Errorf("scenes: plate: Scratches %d exceeds 8", o.Scratches)
+	case o.Gradient < 1 || o.Gradient > 100:
+		return fmt.Errorf("scenes: plate: Gradient %g outside [1, 100]", o.Gradient)
+	case o.Grain > 0.5:
+		return fmt.Errorf("scenes: plate: Grain %g exceeds 0.5", o.Grain)
+	case o.Photons < 10 || o.Photons > 1e6:
+		return fmt.Errorf("scenes: plate: Photons %g outside [10, 1e6]", o.Photons)
+	case o.ReadNoise > 1000:
+		return fmt.Errorf("scenes: plate: ReadNoise %g exceeds 1000", o.ReadNoise)
+	}
+	return nil
+}
+
+// pit is a star-shaped blob: radius r(φ) = r0(1 + Σ_k amp_k cos(kφ + ph_k))
+// for k = 2..4 around the centre (cx, cy).
+type pit struct {
+	cx, cy, r0 float64
+	amp, ph    [3]float64
+}
+
+// margin is r(φ) - d, the signed radial distance from (x, y) to the outline
+// (positive inside), the inside test used for rendering and truth.
+func (p pit) margin(x, y float64) float64 {
+	dx, dy := x-p.cx, y-p.cy
+	phi := math.Atan2(dy, dx)
+	r := 1.0
+	for k := range p.amp {
+		r += p.amp[k] * math.Cos(float64(k+2)*phi+p.ph[k])
+	}
+	return p.r0*r - math.Hypot(dx, dy)
+}
+
+// scratch is a thick polyline: the points within width/2 of the segments
+// joining its vertices.
+type scratch struct {
+	xs, ys []float64
+	width  float64
+}
+
+// margin is width/2 minus the distance from (x, y) to the polyline.
+func (s scratch) margin(x, y float64) float64 {
+	best := math.Inf(1)
+	for i := 0; i+1 < len(s.xs); i++ {
+		best = min(best, segmentDistance(x, y, s.xs[i], s.ys[i], s.xs[i+1], s.ys[i+1]))
+	}
+	return s.width/2 - best
+}
+
+// segmentDistance is the Euclidean distance from (x, y) to the segment
+// from (ax, ay) to (bx, by).
+func segmentDistance(x, y, ax, ay, bx, by float64) float64 {
+	vx, vy := bx-ax, by-ay
+	t := ((x-ax)*vx + (y-ay)*vy) / (vx*vx + vy*vy)
+	t = max(0, min(1, t))
+	return math.Hypot(x-ax-t*vx, y-ay-t*vy)
+}
+
+// Plate renders a metal inspection plate under raking light: a bright,
+// grainy surface with dark pits and thin dark scratches. The model:
+//
+//   - Surface reflectance 1 + Grain·(0.6 g + 0.8 s)/1, where g is white
+//     noise smoothed by a Gaussian of σ = 1.2 px (isotropic grain) and s are
+//     brushing streaks, a 1-D noise profile (σ = 0.8 px) across a random
+//     brushing direction, constant along it; both have unit variance.
+//   - Scratches (1 or 2 by default): polylines of 3–4 vertices, about
+//     100–300 px long, turning by at most 25° per vertex, 3–6 px wide;
+//     reflectance multiplied by a level in [0.45, 0.6] inside.
+//   - Pits (5–9 per 512² by default): star-shaped blobs with mean radius
+//     4–15 px and harmonics k = 2, 3, 4 of relative amplitude up to 0.12;
+//     reflectance multiplied by a depth level in [0.3, 0.5], shaded by
+//     1 + 0.3 (p-c)·l/r0 toward the light direction l (the lit wall).
+//     Objects keep at least 4 px apart and 2 px from the border.
+//   - Edges anti-aliased with coverage clamp(1/2 + margin, 0, 1), then a
+//     Gaussian PSF of σ = 0.8 px on the reflectance.
+//   - Raking light: illumination Gradient^(-t) with t in [0, 1] the
+//     position along the light direction l across the field, so the
+//     surface falls from bright to dark by the factor Gradient.
+//   - Camera: electrons e = Photons·illumination·reflectance, shot noise
+//     (Gaussian approximation of Poisson) and ReadNoise, digital number =
+//     offset + gain·e with offset 2 % of full scale and bare surface at the
+//     brightest point near 70 % of full scale.
+//
+// Each pit and scratch is one truth object, scratches labelled first,
+// then pits, in placement order. An object that cannot be placed after a
+// bounded number of tries is left out. Plate panics if o.Validate() fails.
+func Plate(o PlateOptions) *Scene {
+	if err := o.Validate(); err != nil {
+		panic(err)
+	}
+	o = o.withDefaults()
+	w, h := o.Width, o.Height
+	fw, fh := float64(w), float64(h)
+	rng := newRand(o.Seed, 0x706c617465) // "plate"
+	area := fw * fh / (512 * 512)
+
+	nPits := o.Pits
+	if nPits == 0 {
+		nPits = max(1, int(math.Round(float64(5+rng.IntN(5))*area)))
+	}
+	nPits = max(nPits, 0)
+	nScr := o.Scratches
+	if nScr == 0 {
+		nScr = 1 + rng.IntN(2)
+	}
+	nScr = max(nScr, 0)
+
+	lightAngle := uniform(rng, 0, 2*math.Pi)
+	lx, ly := math.Cos(lightAngle), math.Sin(lightAngle)
+
+	truth := make([]int32, w*h)
+	type object struct {
+		margin func(x, y float64) float64
+		box    [4]int // x0, y0, x1, y1 inclusive
+		shade  func(x, y float64) float64
+	}
+	var objs []object
+	const tries = 400
+
+	// candidate returns the pixels inside the shape, or nil when it comes
+	// within 2 px of the border.
+	candidate := func(margin func(x, y float64) float64, box [4]int) []int {
+		var pix []int
+		for y := box[1]; y <= box[3]; y++ {
+			for x := box[0]; x <= box[2]; x++ {
+				if margin(float64(x)+0.5, float64(y)+0.5) > 0 {
+					if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
+						return nil
+					}
+					pix = append(pix, y*w+x)
+				}
+			}
+		}
+		return pix
+	}
+	accept := func(margin func(x, y float64) float64, box [4]int, shade func(x, y float64) float64) bool {
+		pix := candidate(margin, box)
+		if len(pix) == 0 || touchesLabelled(truth, w, h, pix, 4) {
+			return false
+		}
+		l := int32(len(objs) + 1)
+		for _, p := range pix {
+			truth[p] = l
+		}
+		objs = append(objs, object{margin, box, shade})
+		return true
+	}
+
+	for range nScr {
+		for range tries {
+			nv := 3 + rng.IntN(2)
+			length := uniform(rng, 100, 300) * math.Sqrt(area)
+			step := length / float64(nv-1)
+			dir := uniform(rng, 0, 2*math.Pi)
+			s := scratch{width: uniform(rng, 3, 6)}
+			x, y := uniform(rng, 0.1*fw, 0.9*fw), uniform(rng, 0.1*fh, 0.9*fh)
+			s.xs, s.ys = append(s.xs, x), append(s.ys, y)
+			for range nv - 1 {
+				dir += uniform(rng, -25, 25) * math.Pi / 180
+				x, y = x+step*math.Cos(dir), y+step*math.Sin(dir)
+				s.xs, s.ys = append(s.xs, x), append(s.ys, y)
+			}
+			box := [4]int{
+				int(math.Floor(minOf(s.xs) - s.width)), int(math.Floor(minOf(s.ys) - s.width)),
+				int(math.Ceil(maxOf(s.xs) + s.width)), int(math.Ceil(maxOf(s.ys) + s.width)),
+			}
+			if box[0] < 0 || box[1] < 0 || box[2] >= w || box[3] >= h {
+				continue
+			}
+			level := uniform(rng, 0.45, 0.6)
+			phase, period := uniform(rng, 0, 2*math.Pi), uniform(rng, 20, 60)
+			shade := func(x, y float64) float64 {
+				return level * (1 + 0.1*math.Sin((x*lx+y*ly)/period+phase))
+			}
+			if accept(s.margin, box, shade) {
+				break
+			}
+		}
+	}
+	for range nPits {
+		for range tries {
+			p := pit{cx: uniform(rng, 0, fw), cy: uniform(rng, 0, fh), r0: uniform(rng, 4, 15)}
+			for k := range p.amp {
+				p.amp[k] = uniform(rng, 0, 0.12)
+				p.ph[k] = uniform(rng, 0, 2*math.Pi)
+			}
+			rmax := p.r0*1.36 + 2
+			box := [4]int{
+				max(0, int(math.Floor(p.cx-rmax))), max(0, int(math.Floor(p.cy-rmax))),
+				min(w-1, int(math.Ceil(p.cx+rmax))), min(h-1, int(math.Ceil(p.cy+rmax))),
+			}
+			depth := uniform(rng, 0.3, 0.5)
+			shade := func(x, y float64) float64 {
+				return depth * (1 + 0.3*((x-p.cx)*lx+(y-p.cy)*ly)/p.r0)
+			}
+			if accept(p.margin, box, shade) {
+				break
+			}
+		}
+	}
+
+	// Surface reflectance with grain and brushing streaks.
+	grain := smoothNoise(rng, w, h, 1.2)
+	beta := uniform(rng, 0, math.Pi)
+	bx, by := math.Sin(beta), -math.Cos(beta)
+	umin := math.Min(0, bx*fw) + math.Min(0, by*fh) - 2
+	umax := math.Max(0, bx*fw) + math.Max(0, by*fh) + 2
+	nu := int(math.Ceil(umax-umin)) + 1
+	streak := smoothNoise(rng, nu, 1, 0.8)
+	refl := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			u := bx*(float64(x)+0.5) + by*(float64(y)+0.5) - umin
+			i0 := int(u)
+			f := u - float64(i0)
+			i1 := min(i0+1, nu-1)
+			s := (1-f)*streak[i0] + f*streak[i1]
+			refl[y*w+x] = 1 + o.Grain*(0.6*grain[y*w+x]+0.8*s)
+		}
+	}
+	for _, ob := range objs {
+		for y := max(0, ob.box[1]-1); y <= min(h-1, ob.box[3]+1); y++ {
+			for x := max(0, ob.box[0]-1); x <= min(w-1, ob.box[2]+1); x++ {
+				px, py := float64(x)+0.5, float64(y)+0.5
+				c := coverage(ob.margin(px, py))
+				if c == 0 {
+					continue
+				}
+				f := max(0.05, ob.shade(px, py))
+				refl[y*w+x] *= 1 - c*(1-f)
+			}
+		}
+	}
+	refl = blur(refl, w, h, 0.8)
+
+	// Raking light across the field along (lx, ly).
+	tmin := math.Min(0, lx*fw) + math.Min(0, ly*fh)
+	tmax := math.Max(0, lx*fw) + math.Max(0, ly*fh)
+	electrons := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			t := (lx*(float64(x)+0.5) + ly*(float64(y)+0.5) - tmin) / (tmax - tmin)
+			// The light comes from the +l side: bright there, dark at -l.
+			ill := math.Pow(o.Gradient, -(1 - t))
+			electrons[y*w+x] = o.Photons * ill * max(refl[y*w+x], 0)
+		}
+	}
+	maxCode := float64(int(1)<<o.BitDepth - 1)
+	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.7*maxCode/o.Photons, o.ReadNoise)
+
+	return &Scene{
+		Name:     fmt.Sprintf("plate-%d", o.Seed),
+		Width:    w,
+		Height:   h,
+		BitDepth: o.BitDepth,
+		Pixels:   pixels,
+		Truth:    truth,
+		Objects:  len(objs),
+	}
+}
+
+func minOf(v []float64) float64 {
+	m := v[0]
+	for _, x := range v[1:] {
+		m = min(m, x)
+	}
+	return m
+}
+
+func maxOf(v []float64) float64 {
+	m := v[0]
+	for _, x := range v[1:] {
+		m = max(m, x)
+	}
+	return m
+}

@@ -1,0 +1,234 @@
+package scenes
+
+import (
+	"fmt"
+	"image"
+	"math"
+	"math/rand/v2"
+)
+
+// Scene is a gray image with its instance truth.
+type Scene struct {
+	Name          string
+	Width, Height int
+	BitDepth      int      // 8 or 16
+	Pixels        []uint16 // row-major gray values in 0..2^BitDepth-1
+	Truth         []int32  // instance mask: 0 background, 1..Objects
+	Objects       int
+}
+
+// Image returns the scene as *image.Gray (BitDepth 8) or *image.Gray16
+// (BitDepth 16). The pixels are copied.
+func (s *Scene) Image() image.Image {
+	r := image.Rect(0, 0, s.Width, s.Height)
+	if s.BitDepth == 8 {
+		g := image.NewGray(r)
+		for i, v := range s.Pixels {
+			g.Pix[i] = uint8(v)
+		}
+		return g
+	}
+	g := image.NewGray16(r)
+	for i, v := range s.Pixels {
+		g.Pix[2*i] = uint8(v >> 8)
+		g.Pix[2*i+1] = uint8(v)
+	}
+	return g
+}
+
+// TruthImage returns the instance mask as a 16-bit image whose gray value is
+// the object label (0 background). It panics if a label does not fit in 16
+// bits, which the generators here never produce.
+func (s *Scene) TruthImage() *image.Gray16 {
+	g := image.NewGray16(image.Rect(0, 0, s.Width, s.Height))
+	for i, v := range s.Truth {
+		if v < 0 || v > math.MaxUint16 {
+			panic(fmt.Sprintf("scenes: truth label %d does not fit in 16 bits", v))
+		}
+		g.Pix[2*i] = uint8(v >> 8)
+		g.Pix[2*i+1] = uint8(v)
+	}
+	return g
+}
+
+// Size limits shared by the generators' option checks.
+const (
+	minSide = 32
+	maxSide = 8192
+)
+
+func checkGeometry(kind string, w, h, depth int) error {
+	if w < minSide || w > maxSide {
+		return fmt.Errorf("scenes: %s: Width %d out of range [%d, %d]", kind, w, minSide, maxSide)
+	}
+	if h < minSide || h > maxSide {
+		return fmt.Errorf("scenes: %s: Height %d out of range [%d, %d]", kind, h, minSide, maxSide)
+	}
+	if depth != 8 && depth != 16 {
+		return fmt.Errorf("scenes: %s: BitDepth %d is not 8 or 16", kind, depth)
+	}
+	return nil
+}
+
+// newRand returns the scene generator's random source. The second PCG word
+// is a fixed constant so that a scene depends on Seed alone.
+func newRand(seed uint64, stream uint64) *rand.Rand {
+	return rand.New(rand.NewPCG(seed, stream))
+}
+
+// coverage converts a signed margin m (pixels inside the boundary, negative
+// outside) into an area coverage estimate for anti-aliased rendering: a
+// pixel of unit width straddling a straight edge at distance m from its
+// centre is covered by the fraction clamp(1/2 + m, 0, 1). The truth test is
+// m > 0, the same margin, so coverage > 1/2 exactly where truth says inside.
+func coverage(m float64) float64 {
+	c := 0.5 + m
+	if c < 0 {
+		return 0
+	}
+	if c > 1 {
+		return 1
+	}
+	return c
+}
+
+// gaussKernel returns the normalized 1-D Gaussian exp(-x²/2σ²) sampled at
+// integer offsets -r..r with r = ceil(3σ).
+func gaussKernel(sigma float64) []float64 {
+	r := int(math.Ceil(3 * sigma))
+	if r < 1 {
+		r = 1
+	}
+	k := make([]float64, 2*r+1)
+	var sum float64
+	for i := range k {
+		x := float64(i - r)
+		k[i] = math.Exp(-x * x / (2 * sigma * sigma))
+		sum += k[i]
+	}
+	for i := range k {
+		k[i] /= sum
+	}
+	return k
+}
+
+// blur returns f convolved with a separable Gaussian of standard deviation
+// sigma pixels, replicating edge pixels beyond the border. Sums run in a
+// fixed order, so the result is deterministic.
+func blur(f []float64, w, h int, sigma float64) []float64 {
+	if sigma <= 0 {
+		out := make([]float64, len(f))
+		copy(out, f)
+		return out
+	}
+	k := gaussKernel(sigma)
+	r := len(k) / 2
+	tmp := make([]float64, len(f))
+	for y := 0; y < h; y++ {
+		row := f[y*w : (y+1)*w]
+		for x := 0; x < w; x++ {
+			var s float64
+			for i, kv := range k {
+				xx := clampInt(x+i-r, 0, w-1)
+				s += kv * row[xx]
+			}
+			tmp[y*w+x] = s
+		}
+	}
+	out := make([]float64, len(f))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var s float64
+			for i, kv := range k {
+				yy := clampInt(y+i-r, 0, h-1)
+				s += kv * tmp[yy*w+x]
+			}
+			out[y*w+x] = s
+		}
+	}
+	return out
+}
+
+// smoothNoise returns white Gaussian noise blurred by sigma and rescaled to
+// zero mean and unit standard deviation.
+func smoothNoise(rng *rand.Rand, w, h int, sigma float64) []float64 {
+	f := make([]float64, w*h)
+	for i := range f {
+		f[i] = rng.NormFloat64()
+	}
+	f = blur(f, w, h, sigma)
+	var mean, sq float64
+	for _, v := range f {
+		mean += v
+	}
+	mean /= float64(len(f))
+	for _, v := range f {
+		sq += (v - mean) * (v - mean)
+	}
+	sd := math.Sqrt(sq / float64(len(f)))
+	if sd == 0 {
+		sd = 1
+	}
+	for i := range f {
+		f[i] = (f[i] - mean) / sd
+	}
+	return f
+}
+
+// quantize applies camera noise to an expected photoelectron count e per
+// pixel and converts to digital numbers. Shot noise is Poisson with variance
+// e; it is drawn in its Gaussian approximation N(e, e), good for counts
+// above a few tens (common practice). Read noise adds N(0, read²)
+// electrons. The code is offset + gain·e′, rounded and clipped to the range
+// of the bit depth.
+func quantize(rng *rand.Rand, e []float64, depth int, offset, gain, read float64) []uint16 {
+	maxCode := float64(int(1)<<depth - 1)
+	out := make([]uint16, len(e))
+	for i, ev := range e {
+		if ev < 0 {
+			ev = 0
+		}
+		noisy := ev + math.Sqrt(ev)*rng.NormFloat64() + read*rng.NormFloat64()
+		v := math.Round(offset + gain*noisy)
+		if v < 0 {
+			v = 0
+		}
+		if v > maxCode {
+			v = maxCode
+		}
+		out[i] = uint16(v)
+	}
+	return out
+}
+
+func clampInt(v, lo, hi int) int {
+	if v < lo {
+		return lo
+	}
+	if v > hi {
+		return hi
+	}
+	return v
+}
+
+// uniform returns a draw from [lo, hi).
+func uniform(rng *rand.Rand, lo, hi float64) float64 {
+	return lo + (hi-lo)*rng.Float64()
+}
+
+// touchesLabelled reports whether any pixel of the candidate set (flat
+// indices) lies within margin pixels (Chebyshev distance) of a pixel that
+// truth already assigns to an object.
+func touchesLabelled(truth []int32, w, h int, cand []int, margin int) bool {
+	for _, p := range cand {
+		x, y := p%w, p/w
+		for yy := max(0, y-margin); yy <= min(h-1, y+margin); yy++ {
+			for xx := max(0, x-margin); xx <= min(w-1, x+margin); xx++ {
+				if truth[yy*w+xx] != 0 {
+					return true
+				}
+			}
+		}
+	}
+	return false
+}
