@@ -1,0 +1,85 @@
+package imageio
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// ErrExists is returned (wrapped with the path) when an output file exists
+// and overwriting was not allowed.
+var ErrExists = errors.New("output exists (use --force to overwrite)")
+
+// WriteAtomic writes a file so that readers see either the old content or
+// the complete new content, never a partial file: write streams into a
+// temporary file in the same folder, which is flushed, fsynced and renamed
+// over path (rename within one file system is atomic, POSIX rename(2)).
+// The temporary file is removed on any error, including a panic in write.
+// Without force an existing path is refused with ErrExists; the final step
+// then uses link(2), which fails if path appeared meanwhile, falling back to
+// a check and rename on file systems without hard links.
+func WriteAtomic(path string, force bool, write func(io.Writer) error) (err error) {
+	if !force {
+		if _, err := os.Lstat(path); err == nil {
+			return fmt.Errorf("%s: %w", path, ErrExists)
+		}
+	}
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("%s: cannot create a file in %s: %w", path, dir, err)
+	}
+	tmpName := tmp.Name()
+	done := false
+	defer func() {
+		if !done {
+			tmp.Close()
+			os.Remove(tmpName)
+		}
+	}()
+	bw := bufio.NewWriterSize(tmp, 1<<16)
+	if err := write(bw); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := tmp.Chmod(0o644); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := tmp.Sync(); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if force {
+		if err := os.Rename(tmpName, path); err != nil {
+			return fmt.Errorf("%s: %w", path, err)
+		}
+	} else if err := os.Link(tmpName, path); err == nil {
+		os.Remove(tmpName)
+	} else if errors.Is(err, os.ErrExist) {
+		return fmt.Errorf("%s: %w", path, ErrExists)
+	} else {
+		if _, err := os.Lstat(path); err == nil {
+			return fmt.Errorf("%s: %w", path, ErrExists)
+		}
+		if err := os.Rename(tmpName, path); err != nil {
+			return fmt.Errorf("%s: %w", path, err)
+		}
+	}
+	done = true
+	// Persist the directory entry too (common practice after rename).
+	if d, err := os.Open(dir); err == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}

@@ -1,0 +1,185 @@
+package imageio
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// Names accepted by FeatureOptions.
+const (
+	SpaceGray = "gray"
+	SpaceLab  = "lab"
+
+	NormalizePercentile = "percentile"
+	NormalizeRange      = "range"
+	NormalizeBitDepth   = "bitdepth"
+
+	FlattenDivide   = "divide"
+	FlattenSubtract = "subtract"
+)
+
+// FeatureOptions selects the per-pixel features. The zero value of each
+// string field means its default.
+type FeatureOptions struct {
+	// Space is "gray" (default): one plane, the Rec. 709 luma of the stored
+	// samples (or the channel chosen by Channel), normalized to [0, 1] by
+	// Normalize; or "lab": CIE L*a*b* (CIE 15:2004, D65) of sRGB samples
+	// (IEC 61966-2-1), scaled by a fixed 1/100 (L*/100 in [0, 1], a*/100
+	// and b*/100 about -1.3..1.3) so that one intensity sigma suits gray
+	// and lab alike; Normalize does not apply to lab. A gray image in lab
+	// gives the L*/100 plane only.
+	Space string
+	// Channel is -1 for all channels (luminance); N >= 0 uses channel N
+	// only (gray space; an error if the image has no channel N).
+	Channel int
+	// Normalize is "percentile" (default: the 0.1 and 99.9 percentiles map
+	// to 0 and 1, clipped), "range" (min..max) or "bitdepth" (divide by
+	// 2^bits - 1, clipped). A constant plane normalizes to all zeros.
+	Normalize string
+	// Flatten is the shading-correction scale R in pixels (Gaussian sigma
+	// of the background estimate); 0 turns it off.
+	Flatten float64
+	// FlattenMode is "divide" (default) or "subtract".
+	FlattenMode string
+}
+
+// Validate reports the first invalid option, naming it.
+func (o FeatureOptions) Validate() error {
+	switch o.Space {
+	case "", SpaceGray, SpaceLab:
+	default:
+		return fmt.Errorf("--features: unknown feature space %q (want gray or lab)", o.Space)
+	}
+	if o.Channel < -1 {
+		return fmt.Errorf("--channel must be -1 (all) or a channel index >= 0, got %d", o.Channel)
+	}
+	if o.Space == SpaceLab && o.Channel >= 0 {
+		return fmt.Errorf("--channel %d selects one channel, but --features lab needs all three (use gray)", o.Channel)
+	}
+	switch o.Normalize {
+	case "", NormalizePercentile, NormalizeRange, NormalizeBitDepth:
+	default:
+		return fmt.Errorf("--normalize: unknown method %q (want percentile, range or bitdepth)", o.Normalize)
+	}
+	if !(o.Flatten >= 0) || math.IsInf(o.Flatten, 0) {
+		return fmt.Errorf("--flatten must be a finite scale >= 0 in pixels, got %v", o.Flatten)
+	}
+	switch o.FlattenMode {
+	case "", FlattenDivide, FlattenSubtract:
+	default:
+		return fmt.Errorf("--flatten-mode: unknown mode %q (want divide or subtract)", o.FlattenMode)
+	}
+	return nil
+}
+
+// Features are the per-pixel inputs of the graph and of the reports.
+type Features struct {
+	Width, Height int
+	// Planes are the normalized features the graph is built on: one plane
+	// for gray, three (L*, a*, b*, each /100) for lab of a colour image.
+	Planes [][]float32
+	// Display is the luma, contrast-stretched from its 0.1 and 99.9
+	// percentiles to [0, 1] (no shading correction), for overlays.
+	Display []float32
+	// Raw is the luma (or the chosen channel) in the image's own units
+	// (e.g. 0..65535), for region tables.
+	Raw []float32
+}
+
+// checkImage rejects an Image whose fields disagree.
+func checkImage(im *Image) error {
+	if im == nil {
+		return errors.New("no image")
+	}
+	if im.Width <= 0 || im.Height <= 0 {
+		return fmt.Errorf("image has zero size (%dx%d)", im.Width, im.Height)
+	}
+	if im.Channels != 1 && im.Channels != 3 {
+		return fmt.Errorf("image has %d channels; want 1 or 3", im.Channels)
+	}
+	if im.BitDepth != 8 && im.BitDepth != 16 {
+		return fmt.Errorf("image has bit depth %d; want 8 or 16", im.BitDepth)
+	}
+	if len(im.Planes) != im.Channels {
+		return fmt.Errorf("image has %d planes for %d channels", len(im.Planes), im.Channels)
+	}
+	for c, p := range im.Planes {
+		if len(p) != im.Width*im.Height {
+			return fmt.Errorf("image plane %d has %d samples; want %dx%d", c, len(p), im.Width, im.Height)
+		}
+	}
+	return nil
+}
+
+// MakeFeatures derives the feature planes, display plane and raw plane of
+// im. The work is shared among workers goroutines (workers < 1: GOMAXPROCS)
+// and the result is identical for any worker count.
+//
+// Order of operations: the source plane (luma Y' = 0.2126 R + 0.7152 G +
+// 0.0722 B of the stored samples, ITU-R BT.709; or the chosen channel; or
+// L* for lab) is shading-corrected when Flatten > 0 (see flatten: Gaussian
+// background estimate at sigma = Flatten, then division or subtraction),
+// and only then normalized, so the result lies in [0, 1]. For lab the
+// correction applies to L* alone, which is then clipped to 0..100.
+func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error) {
+	if err := opt.Validate(); err != nil {
+		return nil, err
+	}
+	if err := checkImage(im); err != nil {
+		return nil, err
+	}
+	if opt.Channel >= im.Channels {
+		return nil, fmt.Errorf("--channel %d is out of range: the image has %d channel(s) (0..%d)", opt.Channel, im.Channels, im.Channels-1)
+	}
+	w, h := im.Width, im.Height
+	mode := opt.FlattenMode
+	if mode == "" {
+		mode = FlattenDivide
+	}
+	f := &Features{Width: w, Height: h}
+	luma := luminance(im, workers)
+
+	f.Display = make([]float32, len(luma))
+	copy(f.Display, luma)
+	lo, hi := percentileRange(f.Display)
+	stretch(f.Display, lo, hi, workers)
+
+	if opt.Channel >= 0 {
+		f.Raw = make([]float32, w*h)
+		copy(f.Raw, im.Planes[opt.Channel])
+	} else {
+		f.Raw = luma
+	}
+
+	if opt.Space == SpaceLab {
+		lab := labPlanes(im, workers)
+		if opt.Flatten > 0 {
+			L := flatten(lab[0], w, h, opt.Flatten, mode, workers)
+			for i, v := range L {
+				L[i] = min(max(v, 0), 100)
+			}
+			lab[0] = L
+		}
+		for _, p := range lab {
+			parallelRange(len(p), workers, func(a, b int) {
+				for i := a; i < b; i++ {
+					p[i] /= 100
+				}
+			})
+		}
+		f.Planes = lab
+		return f, nil
+	}
+
+	var feat []float32
+	if opt.Flatten > 0 {
+		feat = flatten(f.Raw, w, h, opt.Flatten, mode, workers)
+	} else {
+		feat = make([]float32, len(f.Raw))
+		copy(feat, f.Raw)
+	}
+	normalize(feat, opt.Normalize, im.MaxValue(), workers)
+	f.Planes = [][]float32{feat}
+	return f, nil
+}

@@ -1,0 +1,181 @@
+package imageio
+
+import "math"
+
+// boxWidths returns the widths of n successive box filters whose combined
+// variance is closest to sigma^2 (Kovesi 2010, "Fast almost-Gaussian
+// filtering", DICTA): a box of odd width w has variance (w^2-1)/12, so with
+// w_l the largest odd width not above sqrt(12 sigma^2/n + 1), m boxes of w_l
+// and n-m of w_l+2 where m = round((12 sigma^2 - n w_l^2 - 4 n w_l - 3n) /
+// (-4 w_l - 4)).
+func boxWidths(sigma float64, n int) []int {
+	wIdeal := math.Sqrt(12*sigma*sigma/float64(n) + 1)
+	wl := int(math.Floor(wIdeal))
+	if wl%2 == 0 {
+		wl--
+	}
+	if wl < 1 {
+		wl = 1
+	}
+	fn, fw := float64(n), float64(wl)
+	m := int(math.Round((12*sigma*sigma - fn*fw*fw - 4*fn*fw - 3*fn) / (-4*fw - 4)))
+	m = min(max(m, 0), n)
+	ws := make([]int, n)
+	for i := range ws {
+		if i < m {
+			ws[i] = wl
+		} else {
+			ws[i] = wl + 2
+		}
+	}
+	return ws
+}
+
+// reflect maps an index of the infinitely extended signal of length n onto
+// 0..n-1 by half-sample symmetric reflection (... c b a | a b c ... x y z |
+// z y x ...), period 2n.
+func reflect(j, n int) int {
+	p := 2 * n
+	j %= p
+	if j < 0 {
+		j += p
+	}
+	if j >= n {
+		j = p - 1 - j
+	}
+	return j
+}
+
+// gaussianBlur approximates convolution with a Gaussian of standard
+// deviation sigma (pixels) by three successive box filters along x and then
+// along y (Wells 1986, "Efficient synthesis of Gaussian filters by cascaded
+// uniform filters", IEEE TPAMI 8(2); widths by Kovesi 2010). Each box pass
+// is a running sum, O(1) per pixel whatever sigma; edges are extended by
+// symmetric reflection. By the central limit theorem three boxes are close
+// to the Gaussian (their combined variance matches sigma^2 to within the
+// granularity of odd widths). Every output column and row is computed by
+// the same sequence of operations for any worker count.
+func gaussianBlur(v []float32, w, h int, sigma float64, workers int) []float32 {
+	a := make([]float32, len(v))
+	copy(a, v)
+	b := make([]float32, len(v))
+	for _, bw := range boxWidths(sigma, 3) {
+		boxRows(a, b, w, h, bw/2, workers)
+		a, b = b, a
+	}
+	for _, bw := range boxWidths(sigma, 3) {
+		boxCols(a, b, w, h, bw/2, workers)
+		a, b = b, a
+	}
+	return a
+}
+
+// boxRows writes to dst the mean of src over the window [x-r, x+r] of each
+// row.
+func boxRows(src, dst []float32, w, h, r, workers int) {
+	if r == 0 {
+		copy(dst, src)
+		return
+	}
+	inv := 1 / float64(2*r+1)
+	parallelRange(h, workers, func(y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			row, out := src[y*w:(y+1)*w], dst[y*w:(y+1)*w]
+			var s float64
+			for j := -r; j <= r; j++ {
+				s += float64(row[reflect(j, w)])
+			}
+			out[0] = float32(s * inv)
+			for x := 1; x < w; x++ {
+				s += float64(row[reflect(x+r, w)]) - float64(row[reflect(x-r-1, w)])
+				out[x] = float32(s * inv)
+			}
+		}
+	})
+}
+
+// boxCols writes to dst the mean of src over the window [y-r, y+r] of each
+// column, sweeping whole rows so memory is read in order.
+func boxCols(src, dst []float32, w, h, r, workers int) {
+	if r == 0 {
+		copy(dst, src)
+		return
+	}
+	inv := 1 / float64(2*r+1)
+	parallelRange(w, workers, func(x0, x1 int) {
+		s := make([]float64, x1-x0)
+		for j := -r; j <= r; j++ {
+			row := src[reflect(j, h)*w:]
+			for x := x0; x < x1; x++ {
+				s[x-x0] += float64(row[x])
+			}
+		}
+		out := dst[x0:x1]
+		for x := range out {
+			out[x] = float32(s[x] * inv)
+		}
+		for y := 1; y < h; y++ {
+			add, sub := src[reflect(y+r, h)*w:], src[reflect(y-r-1, h)*w:]
+			out := dst[y*w+x0 : y*w+x1]
+			for x := x0; x < x1; x++ {
+				s[x-x0] += float64(add[x]) - float64(sub[x])
+				out[x-x0] = float32(s[x-x0] * inv)
+			}
+		}
+	})
+}
+
+// meanOf is the arithmetic mean with per-row partial sums added in row
+// order, so the result does not depend on the worker count.
+func meanOf(v []float32, w, h, workers int) float64 {
+	rows := make([]float64, h)
+	parallelRange(h, workers, func(y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			var s float64
+			for _, x := range v[y*w : (y+1)*w] {
+				s += float64(x)
+			}
+			rows[y] = s
+		}
+	})
+	var s float64
+	for _, r := range rows {
+		s += r
+	}
+	return s / float64(len(v))
+}
+
+// flatten removes slow shading from f (w x h, in the image's units). The
+// background B is estimated by Gaussian smoothing of f at scale sigma = R
+// pixels (common practice for uneven illumination when objects are much
+// smaller than R; the rolling ball of Sternberg 1983, IEEE Computer 16(1),
+// is a morphological alternative not used here). With m the mean of B:
+//
+//	divide:   f' = f m / (B + eps),  eps = 1e-3 m   (flat-field correction, common practice)
+//	subtract: f' = f - B + m
+//
+// Multiplying by, or adding back, m keeps f' in the image's units, so any
+// normalization applies afterwards. An image whose mean is zero stays zero.
+func flatten(f []float32, w, h int, R float64, mode string, workers int) []float32 {
+	bg := gaussianBlur(f, w, h, R, workers)
+	m := meanOf(bg, w, h, workers)
+	out := make([]float32, len(f))
+	if mode == FlattenSubtract {
+		parallelRange(len(f), workers, func(lo, hi int) {
+			for i := lo; i < hi; i++ {
+				out[i] = float32(float64(f[i]) - float64(bg[i]) + m)
+			}
+		})
+		return out
+	}
+	if !(m > 0) {
+		return out
+	}
+	eps := 1e-3 * m
+	parallelRange(len(f), workers, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			out[i] = float32(float64(f[i]) * m / (max(float64(bg[i]), 0) + eps))
+		}
+	})
+	return out
+}
