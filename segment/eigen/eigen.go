@@ -1,0 +1,283 @@
+package eigen
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"github.com/cleave-seg/cleave/affinity"
+)
+
+// DefaultTol is the residual tolerance used when Options.Tol is 0.
+const DefaultTol = 1e-6
+
+// DefaultMaxIter is the LOBPCG step limit per level when Options.MaxIter is 0.
+const DefaultMaxIter = 500
+
+// denseMax is the largest graph solved directly by a dense symmetric
+// eigensolver; above it the coarse-to-fine LOBPCG path is faster
+// (measured with BenchmarkCrossover in this package).
+const denseMax = 200
+
+// coarseMax is the size at which coarsening stops and the coarsest graph
+// is solved densely.
+const coarseMax = 200
+
+// Options controls Smallest.
+type Options struct {
+	// Tol bounds the residual ‖L z - λ z‖ of every returned unit vector
+	// z; 0 means DefaultTol (1e-6). Since |λ - θ| <= ‖r‖²/gap for a Ritz
+	// value θ with residual r (Golub and Van Loan, section 8.1), 1e-6
+	// gives eigenvalues of order 1e-4 to a few parts in 1e-4 or better.
+	Tol float64
+	// MaxIter limits the LOBPCG steps on each level; 0 means
+	// DefaultMaxIter.
+	MaxIter int
+	// Workers is the number of goroutines for the sparse products and
+	// block reductions; 0 means runtime.NumCPU(). Results are
+	// byte-identical for any value.
+	Workers int
+	// Seed seeds the random vectors used when the coarse levels supply
+	// fewer start vectors than the block needs.
+	Seed uint64
+}
+
+// Result holds the k smallest eigenpairs of L.
+type Result struct {
+	// Values are the eigenvalues in ascending order. Values[0] is the
+	// Rayleigh quotient of the exact null vector z0 (0 up to rounding).
+	Values []float64
+	// Vectors[i] is the unit eigenvector z_i of L (length N), with its
+	// entry of largest magnitude (the first such) positive. Vectors[0] is
+	// z0 = D^1/2 1 / ‖D^1/2 1‖ exactly; the others are orthogonal to it.
+	Vectors [][]float64
+	// Residuals[i] = ‖L z_i - λ_i z_i‖, recomputed from the returned pairs.
+	Residuals []float64
+	// Iterations is the number of LOBPCG steps on the input graph itself
+	// (0 when it was solved densely).
+	Iterations int
+}
+
+// ErrNotConverged is returned (wrapped, together with the best result
+// found) when some residual is still above the tolerance after MaxIter
+// steps.
+var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
+
+// Smallest returns the k smallest eigenpairs of the symmetric normalized
+// Laplacian L = I - D^-1/2 W D^-1/2 of g (Shi and Malik 2000). The graph
+// must be connected; the null vector z0 = D^1/2 1/‖D^1/2 1‖ is deflated
+// exactly and returned as the first pair. Graphs of at most 200 nodes are
+// solved densely; larger ones coarse to fine with block LOBPCG (see the
+// package comment). It returns an error for a nil or empty graph, k < 1,
+// k > N, malformed arrays, negative or non-finite weights and nodes of
+// zero degree. When LOBPCG stops at MaxIter above the tolerance it returns
+// the result together with an error wrapping ErrNotConverged.
+func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
+	if err := check(g, k); err != nil {
+		return nil, err
+	}
+	tol := opt.Tol
+	if tol == 0 {
+		tol = DefaultTol
+	}
+	if !(tol > 0) || math.IsInf(tol, 0) {
+		return nil, fmt.Errorf("eigen: tolerance %v must be positive and finite", opt.Tol)
+	}
+	if opt.MaxIter < 0 {
+		return nil, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
+	}
+	maxIter := opt.MaxIter
+	if maxIter == 0 {
+		maxIter = DefaultMaxIter
+	}
+	workers := numWorkers(opt.Workers)
+	lv0 := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
+	for i, d := range lv0.deg {
+		if !(d > 0) || math.IsInf(d, 0) {
+			return nil, fmt.Errorf("eigen: node %d has degree %v (the graph must be connected with finite weights)", i, d)
+		}
+	}
+	n := g.N
+	want := k - 1 // eigenpairs wanted besides z0
+	o := &ops{lv: lv0, workers: workers}
+
+	var vals []float64
+	var vecs *block
+	iters := 0
+	var convErr error
+	// LOBPCG needs the block, its residuals and the previous directions to
+	// fit in the complement of z0; beyond that, solve densely.
+	m := blockSize(want)
+	if n <= denseMax || 3*m >= n-1 || want == 0 {
+		if want > 0 {
+			v, z, err := denseLevel(lv0, want)
+			if err != nil {
+				return nil, err
+			}
+			vals, vecs = v, z
+		}
+	} else {
+		levels := []*level{lv0}
+		for cur := lv0; cur.n > coarseMax; {
+			c := coarsen(cur, workers)
+			if c == nil {
+				break
+			}
+			levels = append(levels, c)
+			cur = c
+		}
+		coarsest := levels[len(levels)-1]
+		var x *block
+		if coarsest.n <= max(denseMax, 4*m) && len(levels) > 1 {
+			cnt := min(m, coarsest.n-1)
+			_, z, err := denseLevel(coarsest, cnt)
+			if err != nil {
+				return nil, err
+			}
+			x = z
+		} else {
+			x = newBlock(coarsest.n, 0)
+		}
+		if x.m < m {
+			x = fillRandom(x, m, opt.Seed)
+		}
+		for l := len(levels) - 1; l >= 0; l-- {
+			if l < len(levels)-1 {
+				x = prolong(levels[l], levels[l+1], x)
+			}
+			if l == len(levels)-1 && x.m > 0 && len(levels) > 1 {
+				continue // exact dense solution of the coarsest level
+			}
+			ol := &ops{lv: levels[l], workers: workers}
+			r, err := lobpcg(ol, x, want, levelTol(tol, l), maxIter)
+			if err != nil {
+				return nil, err
+			}
+			x = r.x
+			if l == 0 {
+				iters = r.iters
+				for q := 0; q < want; q++ {
+					if !(r.residuals[q] <= tol) {
+						convErr = fmt.Errorf("%w: residual %.3g > %.3g after %d steps", ErrNotConverged, r.residuals[q], tol, r.iters)
+						break
+					}
+				}
+				vals = r.theta[:want]
+			}
+		}
+		vecs = x
+	}
+	res := finish(o, vals, vecs, want)
+	res.Iterations = iters
+	return res, convErr
+}
+
+// blockSize is the LOBPCG block width for want eigenpairs: a few guard
+// vectors speed up convergence of clustered eigenvalues (Knyazev 2001).
+func blockSize(want int) int {
+	return want + max(2, (want+1)/2)
+}
+
+// levelTol is the residual target on level l (0 = input graph). Coarse
+// levels only supply start vectors, so a loose target is enough.
+func levelTol(tol float64, l int) float64 {
+	if l == 0 {
+		return tol
+	}
+	return 10 * tol
+}
+
+// fillRandom widens x to m columns with uniform random vectors.
+func fillRandom(x *block, m int, seed uint64) *block {
+	rng := rand.New(rand.NewPCG(seed, 0x6c6f6270636721))
+	out := newBlock(x.n, m)
+	for i := 0; i < x.n; i++ {
+		copy(out.v[i*m:], x.v[i*x.m:i*x.m+x.m])
+		for q := x.m; q < m; q++ {
+			out.v[i*m+q] = rng.Float64() - 0.5
+		}
+	}
+	return out
+}
+
+// check validates the arguments without trusting the graph's arrays.
+func check(g *affinity.Graph, k int) error {
+	if g == nil {
+		return errors.New("eigen: graph is nil")
+	}
+	if g.N <= 0 {
+		return fmt.Errorf("eigen: graph has %d nodes", g.N)
+	}
+	if k < 1 || k > g.N {
+		return fmt.Errorf("eigen: k = %d out of range 1..%d (number of nodes)", k, g.N)
+	}
+	if g.N > math.MaxInt32 || len(g.RowPtr) != g.N+1 || g.RowPtr[0] != 0 || g.RowPtr[g.N] != len(g.Col) || len(g.Col) != len(g.Weight) {
+		return errors.New("eigen: malformed graph arrays (RowPtr, Col, Weight lengths disagree)")
+	}
+	for i := 0; i < g.N; i++ {
+		if g.RowPtr[i] > g.RowPtr[i+1] {
+			return fmt.Errorf("eigen: graph row pointers decrease at row %d", i)
+		}
+		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
+			if j := g.Col[p]; j < 0 || int(j) >= g.N {
+				return fmt.Errorf("eigen: row %d has column %d out of range", i, j)
+			}
+			if w := g.Weight[p]; !(w >= 0) || math.IsInf(float64(w), 1) {
+				return fmt.Errorf("eigen: row %d has weight %v (must be finite and non-negative)", i, w)
+			}
+		}
+	}
+	return nil
+}
+
+// finish assembles the result: z0 first, then the deflated pairs, signs
+// fixed and residuals recomputed with a fresh product.
+func finish(o *ops, vals []float64, vecs *block, want int) *Result {
+	lv := o.lv
+	n := lv.n
+	k := want + 1
+	all := newBlock(n, k)
+	for i := 0; i < n; i++ {
+		all.v[i*k] = lv.z0[i]
+		if want > 0 {
+			copy(all.v[i*k+1:i*k+k], vecs.v[i*vecs.m:i*vecs.m+want])
+		}
+	}
+	lz := newBlock(n, k)
+	lv.applyL(lz, all, newBlock(n, k), o.workers)
+	res := &Result{Values: make([]float64, k), Vectors: make([][]float64, k), Residuals: make([]float64, k)}
+	ztlz := o.gram(all, lz)
+	for q := 0; q < k; q++ {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = all.v[i*k+q]
+		}
+		res.Vectors[q] = v
+	}
+	res.Values[0] = ztlz[0]
+	copy(res.Values[1:], vals)
+	for q := 0; q < k; q++ {
+		v := res.Vectors[q]
+		lam := res.Values[q]
+		var s float64
+		for i := range v {
+			r := lz.v[i*k+q] - lam*v[i]
+			s += r * r
+		}
+		res.Residuals[q] = math.Sqrt(s)
+		// Sign: entry of largest magnitude (first such) positive.
+		big := 0
+		for i := range v {
+			if math.Abs(v[i]) > math.Abs(v[big]) {
+				big = i
+			}
+		}
+		if v[big] < 0 {
+			for i := range v {
+				v[i] = -v[i]
+			}
+		}
+	}
+	return res
+}

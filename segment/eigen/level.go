@@ -1,0 +1,170 @@
+package eigen
+
+import (
+	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
+)
+
+// level is one graph of the hierarchy in CSR form. Unlike affinity.Graph it
+// may hold diagonal entries (self loops): a coarse node keeps the weight of
+// the edges inside its aggregate, so that the Galerkin identity
+// Pᵀ (D - W) P = D_c - W_c holds exactly. Degrees are summed from the stored
+// float32 weights in float64, so L z0 = 0 up to rounding at every level.
+type level struct {
+	n      int
+	rowPtr []int
+	col    []int32
+	wt     []float32
+	deg    []float64 // d_i = Σ_j w_ij (self loop included)
+	s      []float64 // d_i^-1/2
+	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
+	agg    []int32   // fine node -> node of the next coarser level
+	chunks []int     // fixed row chunk boundaries (independent of workers)
+}
+
+// chunkNNZ is the target number of stored entries per row chunk. Chunks
+// depend on the graph alone, never on the worker count, so chunked
+// reductions add partial sums in the same order for any number of workers.
+const chunkNNZ = 1 << 15
+
+func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
+	lv := &level{n: n, rowPtr: rowPtr, col: col, wt: wt}
+	lv.deg = make([]float64, n)
+	lv.s = make([]float64, n)
+	lv.z0 = make([]float64, n)
+	var sum float64
+	for i := 0; i < n; i++ {
+		var d float64
+		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
+			d += float64(wt[p])
+		}
+		lv.deg[i] = d
+		lv.s[i] = 1 / math.Sqrt(d)
+		sum += d
+	}
+	inv := 1 / math.Sqrt(sum)
+	for i, d := range lv.deg {
+		lv.z0[i] = math.Sqrt(d) * inv
+	}
+	lv.chunks = append(lv.chunks, 0)
+	for i := 0; i < n; {
+		start := rowPtr[i]
+		j := i + 1
+		for j < n && rowPtr[j]-start < chunkNNZ && j-i < 4096 {
+			j++
+		}
+		lv.chunks = append(lv.chunks, j)
+		i = j
+	}
+	return lv
+}
+
+// nchunks is the number of fixed row chunks.
+func (lv *level) nchunks() int { return len(lv.chunks) - 1 }
+
+// parallel runs f(c) for every chunk c on up to workers goroutines.
+// Chunks write disjoint outputs, so scheduling cannot change results.
+func parallel(n, workers int, f func(c int)) {
+	if workers <= 1 || n <= 1 {
+		for c := 0; c < n; c++ {
+			f(c)
+		}
+		return
+	}
+	workers = min(workers, n)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	wg.Add(workers)
+	for w := 0; w < workers; w++ {
+		go func() {
+			defer wg.Done()
+			for {
+				c := int(next.Add(1) - 1)
+				if c >= n {
+					return
+				}
+				f(c)
+			}
+		}()
+	}
+	wg.Wait()
+}
+
+func numWorkers(w int) int {
+	if w <= 0 {
+		return runtime.NumCPU()
+	}
+	return w
+}
+
+// block is an n×m matrix stored row-major: row i is v[i*m : i*m+m]. The
+// sparse product streams each matrix row once for all m columns.
+type block struct {
+	n, m int
+	v    []float64
+}
+
+func newBlock(n, m int) *block { return &block{n: n, m: m, v: make([]float64, n*m)} }
+
+func (b *block) row(i int) []float64 { return b.v[i*b.m : i*b.m+b.m] }
+
+// applyL sets y = L x = x - D^-1/2 W D^-1/2 x for a block x. tmp must have
+// the shape of x; it receives D^-1/2 x. Rows are independent, so the
+// result does not depend on the worker count.
+func (lv *level) applyL(y, x, tmp *block, workers int) {
+	m := x.m
+	nc := lv.nchunks()
+	parallel(nc, workers, func(c int) {
+		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
+			si := lv.s[i]
+			xr, tr := x.v[i*m:i*m+m], tmp.v[i*m:i*m+m]
+			for j := range tr {
+				tr[j] = si * xr[j]
+			}
+		}
+	})
+	parallel(nc, workers, func(c int) {
+		lv.mulRows(y, x, tmp, lv.chunks[c], lv.chunks[c+1])
+	})
+}
+
+// mulRows computes rows r0..r1-1 of y = x - S W S x given tmp = S x.
+// Columns are processed four at a time with the accumulators in
+// registers.
+func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
+	m := x.m
+	t := tmp.v
+	for i := r0; i < r1; i++ {
+		cols := lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]]
+		wts := lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
+		wts = wts[:len(cols)]
+		si := lv.s[i]
+		yr := y.v[i*m : i*m+m]
+		xr := x.v[i*m : i*m+m]
+		c0 := 0
+		for ; c0+4 <= m; c0 += 4 {
+			var a0, a1, a2, a3 float64
+			for p, j := range cols {
+				w := float64(wts[p])
+				q := t[int(j)*m+c0 : int(j)*m+c0+4 : int(j)*m+c0+4]
+				a0 += w * q[0]
+				a1 += w * q[1]
+				a2 += w * q[2]
+				a3 += w * q[3]
+			}
+			yr[c0] = xr[c0] - si*a0
+			yr[c0+1] = xr[c0+1] - si*a1
+			yr[c0+2] = xr[c0+2] - si*a2
+			yr[c0+3] = xr[c0+3] - si*a3
+		}
+		for ; c0 < m; c0++ {
+			var a float64
+			for p, j := range cols {
+				a += float64(wts[p]) * t[int(j)*m+c0]
+			}
+			yr[c0] = xr[c0] - si*a
+		}
+	}
+}

@@ -1,0 +1,271 @@
+package eigen
+
+import (
+	"errors"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// symEig returns the eigenvalues (ascending) and eigenvectors (row-major
+// n×n, column j belongs to value j) of the symmetric matrix whose upper
+// triangle is in a (row-major n×n), by gonum's mat.EigenSym.
+func symEig(n int, a []float64) ([]float64, []float64, error) {
+	sym := mat.NewSymDense(n, nil)
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			sym.SetSym(i, j, 0.5*(a[i*n+j]+a[j*n+i]))
+		}
+	}
+	var es mat.EigenSym
+	if !es.Factorize(sym, true) {
+		return nil, nil, errors.New("eigen: dense symmetric eigensolver did not converge")
+	}
+	vals := es.Values(nil)
+	var v mat.Dense
+	es.VectorsTo(&v)
+	return vals, append([]float64(nil), v.RawMatrix().Data...), nil
+}
+
+// lobpcgResult is the refined block of one level.
+type lobpcgResult struct {
+	x         *block
+	theta     []float64
+	residuals []float64
+	iters     int
+}
+
+// lobpcg refines the block x (n×m, orthogonal to z0) towards the m
+// smallest eigenpairs of L restricted to the complement of z0 by the
+// locally optimal block preconditioned conjugate gradient method of
+// Knyazev (2001). Each step performs the Rayleigh-Ritz procedure on
+// span[X, W, P] with W the residuals R = L X - X Θ of the unconverged
+// columns and P the previous search directions. P is taken as the part of
+// the new Ritz vectors' coordinates that lies outside X, orthonormalized
+// inside the small space (Hetmaniuk and Lehoucq 2006), so the basis stays
+// orthonormal and Rayleigh-Ritz is a standard symmetric eigenproblem.
+// It stops when the first want columns have ‖L x - θ x‖ <= tol or after
+// maxIter steps.
+func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult, error) {
+	lv := o.lv
+	n := lv.n
+	o.deflate(x)
+	x, _ = o.svqb(x, 1e-14)
+	m := x.m
+	if m < want {
+		return nil, errors.New("eigen: start block lost rank")
+	}
+	tmp := newBlock(n, m)
+	ax := newBlock(n, m)
+	lv.applyL(ax, x, tmp, o.workers)
+	// Initial Rayleigh-Ritz on span X.
+	h := o.gram(x, ax)
+	theta, c, err := symEig(m, h)
+	if err != nil {
+		return nil, err
+	}
+	xn, axn := newBlock(n, m), newBlock(n, m)
+	o.combine(xn, []*block{x}, c)
+	o.combine(axn, []*block{ax}, c)
+	x, ax = xn, axn
+
+	var p, ap *block
+	r := newBlock(n, m)
+	res := make([]float64, m)
+	it := 0
+	for ; ; it++ {
+		// R = AX - X Θ
+		parallel(lv.nchunks(), o.workers, func(ch int) {
+			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
+				rr, xr, axr := r.v[i*m:i*m+m], x.v[i*m:i*m+m], ax.v[i*m:i*m+m]
+				for q := range rr {
+					rr[q] = axr[q] - theta[q]*xr[q]
+				}
+			}
+		})
+		res = o.colNorms(r)
+		done := true
+		for q := 0; q < want; q++ {
+			if !(res[q] <= tol) {
+				done = false
+			}
+		}
+		if done || it >= maxIter {
+			break
+		}
+		var active []int
+		for q := 0; q < m; q++ {
+			if !(res[q] <= tol) {
+				active = append(active, q)
+			}
+		}
+		w := newBlock(n, len(active))
+		parallel(lv.nchunks(), o.workers, func(ch int) {
+			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
+				for t, q := range active {
+					w.v[i*w.m+t] = r.v[i*m+q]
+				}
+			}
+		})
+		o.deflate(w)
+		o.orthogonalize(w, x, p)
+		w, _ = o.svqb(w, 1e-12)
+		w, _ = o.svqb(w, 1e-12)
+		if w.m == 0 {
+			break
+		}
+		aw := newBlock(n, w.m)
+		if cap(tmp.v) < n*w.m {
+			tmp = newBlock(n, w.m)
+		}
+		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
+
+		basis := []*block{x, w}
+		abasis := []*block{ax, aw}
+		if p != nil && p.m > 0 {
+			basis = append(basis, p)
+			abasis = append(abasis, ap)
+		}
+		ns := 0
+		for _, b := range basis {
+			ns += b.m
+		}
+		g := o.gramBlocks(basis, abasis, theta)
+		vals, vecs, err := symEig(ns, g)
+		if err != nil {
+			return nil, err
+		}
+		// C = first m eigenvectors (ns×m); Z = C with its X rows zeroed,
+		// made orthogonal to C and orthonormal in the small space.
+		cm := make([]float64, ns*m)
+		for i := 0; i < ns; i++ {
+			copy(cm[i*m:i*m+m], vecs[i*ns:i*ns+m])
+		}
+		z := smallComplement(cm, ns, m)
+		mp := len(z) / ns
+		xn := newBlock(n, m)
+		axn := newBlock(n, m)
+		o.combine(xn, basis, cm)
+		o.combine(axn, abasis, cm)
+		if mp > 0 {
+			pn := newBlock(n, mp)
+			apn := newBlock(n, mp)
+			o.combine(pn, basis, z)
+			o.combine(apn, abasis, z)
+			p, ap = pn, apn
+		} else {
+			p, ap = nil, nil
+		}
+		x, ax = xn, axn
+		theta = vals[:m]
+	}
+	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
+}
+
+// gramBlocks returns G = Sᵀ (A S) for S = [basis...], computed from the
+// upper block triangle and mirrored; the X-X block is diag(θ), which the
+// previous Rayleigh-Ritz step made exact up to rounding.
+func (o *ops) gramBlocks(basis, abasis []*block, theta []float64) []float64 {
+	ns := 0
+	off := make([]int, len(basis))
+	for t, b := range basis {
+		off[t] = ns
+		ns += b.m
+	}
+	g := make([]float64, ns*ns)
+	for a := range basis {
+		for b := a; b < len(basis); b++ {
+			if a == 0 && b == 0 {
+				for q, th := range theta {
+					g[q*ns+q] = th
+				}
+				continue
+			}
+			blk := o.gram(basis[a], abasis[b])
+			ma, mb := basis[a].m, basis[b].m
+			for i := 0; i < ma; i++ {
+				for j := 0; j < mb; j++ {
+					v := blk[i*mb+j]
+					g[(off[a]+i)*ns+off[b]+j] = v
+					g[(off[b]+j)*ns+off[a]+i] = v
+				}
+			}
+		}
+	}
+	return g
+}
+
+// smallComplement returns Z (ns×mp, row-major): the coordinates of C
+// (ns×m, orthonormal columns) with the first m rows (the X block) set to
+// zero, orthogonalized against C twice and orthonormalized, dropping
+// directions that vanish.
+func smallComplement(c []float64, ns, m int) []float64 {
+	z := make([]float64, ns*m)
+	copy(z[m*m:], c[m*m:])
+	for pass := 0; pass < 2; pass++ {
+		// z -= C (Cᵀ z)
+		ctz := make([]float64, m*m)
+		for i := 0; i < ns; i++ {
+			for a := 0; a < m; a++ {
+				for b := 0; b < m; b++ {
+					ctz[a*m+b] += c[i*m+a] * z[i*m+b]
+				}
+			}
+		}
+		for i := 0; i < ns; i++ {
+			for a := 0; a < m; a++ {
+				for b := 0; b < m; b++ {
+					z[i*m+b] -= c[i*m+a] * ctz[a*m+b]
+				}
+			}
+		}
+	}
+	// Orthonormalize the columns of z by modified Gram-Schmidt with
+	// reorthogonalization (Golub and Van Loan section 5.2), dropping
+	// columns that fall below 1e-10 of their original norm.
+	var cols [][]float64
+	for b := 0; b < m; b++ {
+		v := make([]float64, ns)
+		for i := 0; i < ns; i++ {
+			v[i] = z[i*m+b]
+		}
+		norm0 := vnorm(v)
+		if norm0 == 0 {
+			continue
+		}
+		for pass := 0; pass < 2; pass++ {
+			for _, u := range cols {
+				d := vdot(u, v)
+				for i := range v {
+					v[i] -= d * u[i]
+				}
+			}
+		}
+		nv := vnorm(v)
+		if nv <= 1e-10*norm0 || nv < 1e-300 {
+			continue
+		}
+		for i := range v {
+			v[i] /= nv
+		}
+		cols = append(cols, v)
+	}
+	mp := len(cols)
+	out := make([]float64, ns*mp)
+	for b, v := range cols {
+		for i := 0; i < ns; i++ {
+			out[i*mp+b] = v[i]
+		}
+	}
+	return out
+}
+
+func vdot(a, b []float64) float64 {
+	var s float64
+	for i := range a {
+		s += a[i] * b[i]
+	}
+	return s
+}
+
+func vnorm(a []float64) float64 { return math.Sqrt(vdot(a, a)) }
