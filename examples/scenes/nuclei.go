@@ -18,10 +18,11 @@ type NucleiOptions struct {
 	// in pixels; defaults 8 and 20.
 	RadiusMin, RadiusMax float64
 	// PairFraction is the fraction of nuclei placed in touching pairs;
-	// default 0.35, a negative value means no pairs.
+	// default 0.5, a negative value means no pairs.
 	PairFraction float64
-	// DimFraction is the fraction of nuclei drawn dim (12–28 % of the
-	// brightest); default 0.2, a negative value means none.
+	// DimFraction is the fraction of nuclei (or pairs) drawn dim: 12–28 %
+	// of the brightest and in the lower half of the radius range;
+	// default 0.1, a negative value means none.
 	DimFraction float64
 	// CornerLevel is the illumination at the corner farthest from the
 	// optical axis relative to the axis; default 0.4.
@@ -57,8 +58,8 @@ func (o NucleiOptions) withDefaults() NucleiOptions {
 	if o.RadiusMax == 0 {
 		o.RadiusMax = max(20, o.RadiusMin)
 	}
-	o.PairFraction = defaultFrac(o.PairFraction, 0.35)
-	o.DimFraction = defaultFrac(o.DimFraction, 0.2)
+	o.PairFraction = defaultFrac(o.PairFraction, 0.5)
+	o.DimFraction = defaultFrac(o.DimFraction, 0.1)
 	o.Haze = defaultFrac(o.Haze, 0.08)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
 	if o.CornerLevel == 0 {
@@ -167,15 +168,18 @@ type nucleus struct {
 //     sits at 0.78–0.9 of the summed outline radii from the first along a
 //     random direction, so the outlines overlap; each pixel of the overlap
 //     goes to the nucleus with the larger margin, so the pair is two truth
-//     objects sharing a boundary.
+//     objects sharing a boundary. The two nuclei of a pair (daughters of
+//     one division) differ in mean radius by at most 12 % and in
+//     brightness by at most 10 %.
 //   - Brightness b: uniform in [0.55, 1], or [0.12, 0.28] for a dim
-//     nucleus (probability DimFraction). Inside a nucleus the emitted
-//     intensity is b·(0.85 + 0.15(1-ρ²))·(1 + 0.18 T) with ρ the normalized
-//     radius and T a unit-variance texture (white noise smoothed by a
-//     Gaussian of σ = 1.5 px, chromatin-like granularity). Near the shared
-//     boundary of a pair it is multiplied by 1 - (1-s)·exp(-δ²/2·1.5²),
-//     where δ is half the margin difference (≈ distance to the boundary)
-//     and the seam level s is uniform in [0.5, 0.7].
+//     nucleus (probability DimFraction; its radius is drawn from the lower
+//     half of the range). Inside a nucleus the emitted intensity is
+//     b·(0.85 + 0.15(1-ρ²))·(1 + 0.18 T) with ρ the normalized radius and
+//     T a unit-variance texture (white noise smoothed by a Gaussian of
+//     σ = 1.5 px, chromatin-like granularity). Near the shared boundary of
+//     a pair it is multiplied by 1 - (1-s)·exp(-δ²/2), where δ is half the
+//     margin difference (≈ distance in pixels to the shared boundary) and
+//     the seam level s is uniform in [0.5, 0.7].
 //   - Edges are anti-aliased with coverage clamp(1/2 + margin, 0, 1); then
 //     the optics blur everything with a Gaussian PSF of σ = 1 px.
 //   - Haze: an additive glow, Haze·(0.4 + 1.2 G/max G) with G a sum of
@@ -210,16 +214,17 @@ func Nuclei(o NucleiOptions) *Scene {
 	var seamLevel []float64 // per pair
 	const tries = 400
 
-	drawShape := func(cx, cy float64) ellipse {
-		r := uniform(rng, o.RadiusMin, o.RadiusMax)
+	shape := func(cx, cy, r float64) ellipse {
 		asp := uniform(rng, 1, 1.6)
 		return ellipse{cx: cx, cy: cy, a: r * math.Sqrt(asp), b: r / math.Sqrt(asp), theta: uniform(rng, 0, math.Pi)}
 	}
-	drawBrightness := func() float64 {
+	// draw returns the mean radius and brightness of a new nucleus (or of
+	// the first of a pair); dim nuclei are small and weakly stained.
+	draw := func() (r, b float64) {
 		if rng.Float64() < o.DimFraction {
-			return uniform(rng, 0.12, 0.28)
+			return uniform(rng, o.RadiusMin, (o.RadiusMin+o.RadiusMax)/2), uniform(rng, 0.12, 0.28)
 		}
-		return uniform(rng, 0.55, 1)
+		return uniform(rng, o.RadiusMin, o.RadiusMax), uniform(rng, 0.55, 1)
 	}
 	// inside returns the pixels whose centres lie inside any of the shapes,
 	// or nil if one falls within 2 px of the image border.
@@ -248,12 +253,14 @@ func Nuclei(o NucleiOptions) *Scene {
 	for range nPairs {
 		for range tries {
 			cx, cy := randomCentre()
-			e1 := drawShape(cx, cy)
+			// Daughter nuclei of one division: similar size and brightness.
+			r1, b1 := draw()
+			r2 := max(o.RadiusMin, min(o.RadiusMax, r1*uniform(rng, 0.88, 1.12)))
+			b2 := b1 * uniform(rng, 0.9, 1.1)
+			e1, e2 := shape(cx, cy, r1), shape(0, 0, r2)
 			phi := uniform(rng, 0, 2*math.Pi)
-			e2 := drawShape(0, 0)
 			dist := (e1.radiusAt(phi) + e2.radiusAt(phi+math.Pi)) * uniform(rng, 0.78, 0.9)
 			e2.cx, e2.cy = cx+dist*math.Cos(phi), cy+dist*math.Sin(phi)
-			b1, b2 := drawBrightness(), drawBrightness()
 			s := uniform(rng, 0.5, 0.7)
 			pix := inside(e1, e2)
 			if pix == nil || touchesLabelled(truth, w, h, pix, 4) {
@@ -272,8 +279,8 @@ func Nuclei(o NucleiOptions) *Scene {
 	for range nSingles {
 		for range tries {
 			cx, cy := randomCentre()
-			e := drawShape(cx, cy)
-			b := drawBrightness()
+			r, b := draw()
+			e := shape(cx, cy, r)
 			pix := inside(e)
 			if pix == nil || touchesLabelled(truth, w, h, pix, 4) {
 				continue
@@ -325,7 +332,7 @@ func Nuclei(o NucleiOptions) *Scene {
 					}
 					if m1 > -3 && m2 > -3 {
 						d := (m1 - m2) / 2
-						seam = 1 - (1-seamLevel[pairOf[i]])*math.Exp(-d*d/(2*1.5*1.5))
+						seam = 1 - (1-seamLevel[pairOf[i]])*math.Exp(-d*d/2)
 					}
 				}
 				c := coverage(m)

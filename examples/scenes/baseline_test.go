@@ -1,0 +1,54 @@
+package scenes
+
+import (
+	"testing"
+
+	"github.com/cleave-seg/cleave/segment/score"
+)
+
+// TestOtsuBaselineWeaknesses measures the Otsu + connected components
+// baseline against the scenes' truth with the project's scorers (ARI of
+// Hubert and Arabie 1985; object F1 at IoU > 0.5, common practice in
+// cell-segmentation benchmarks) and asserts the weaknesses the scenes are
+// built to expose: on nuclei the threshold keeps pixel agreement high but
+// merges touching pairs and loses dim nuclei, so object F1 stays low; on
+// plates the raking-light gradient defeats any global threshold.
+func TestOtsuBaselineWeaknesses(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders eight 512x512 scenes")
+	}
+	var sumARI, sumF1 float64
+	const nNuclei = 5
+	for seed := uint64(1); seed <= nNuclei; seed++ {
+		s := Nuclei(NucleiOptions{Seed: seed})
+		pred := OtsuObjects(s, false)
+		ari := score.ARI(pred, s.Truth)
+		m := score.MatchObjects(pred, s.Truth)
+		t.Logf("nuclei seed %d: objects %d, ARI %.3f, F1 %.3f (TP %d FP %d FN %d)", seed, s.Objects, ari, m.F1, m.TP, m.FP, m.FN)
+		sumARI += ari
+		sumF1 += m.F1
+		if m.F1 >= 0.8 {
+			t.Errorf("nuclei seed %d: Otsu object F1 %.3f >= 0.8; the scene no longer defeats a global threshold", seed, m.F1)
+		}
+		if ari < 0.75 {
+			t.Errorf("nuclei seed %d: Otsu ARI %.3f < 0.75; the scene is not a fair object-on-background image", seed, ari)
+		}
+	}
+	t.Logf("nuclei mean: ARI %.3f, F1 %.3f", sumARI/nNuclei, sumF1/nNuclei)
+
+	sumARI, sumF1 = 0, 0
+	const nPlates = 3
+	for seed := uint64(1); seed <= nPlates; seed++ {
+		s := Plate(PlateOptions{Seed: seed})
+		pred := OtsuObjects(s, true)
+		ari := score.ARI(pred, s.Truth)
+		m := score.MatchObjects(pred, s.Truth)
+		t.Logf("plate seed %d: objects %d, ARI %.3f, F1 %.3f (TP %d FP %d FN %d)", seed, s.Objects, ari, m.F1, m.TP, m.FP, m.FN)
+		sumARI += ari
+		sumF1 += m.F1
+		if ari > 0.3 {
+			t.Errorf("plate seed %d: Otsu ARI %.3f > 0.3; the gradient no longer defeats a global threshold", seed, ari)
+		}
+	}
+	t.Logf("plate mean: ARI %.3f, F1 %.3f", sumARI/nPlates, sumF1/nPlates)
+}
