@@ -12,6 +12,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"strings"
 
 	"golang.org/x/image/bmp"
 	"golang.org/x/image/tiff"
@@ -136,7 +137,8 @@ func checkSize(w, h int, limit float64) error {
 // describe turns a decoder error into a message that names the format and
 // says whether the data ended early.
 func describe(f imageFormat, stage string, err error) error {
-	if errors.Is(err, io.ErrUnexpectedEOF) || errors.Is(err, io.EOF) {
+	msg := err.Error() // some decoders format, rather than wrap, io errors
+	if errors.Is(err, io.ErrUnexpectedEOF) || errors.Is(err, io.EOF) || strings.Contains(msg, "EOF") || strings.Contains(msg, "not enough pixel data") {
 		return fmt.Errorf("truncated %s file (%s): %w", f.name, stage, err)
 	}
 	return fmt.Errorf("corrupt or unsupported %s file (%s): %w", f.name, stage, err)

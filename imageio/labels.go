@@ -1,7 +1,6 @@
 package imageio
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"image"
@@ -160,11 +159,6 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 			p[0], p[1], p[2] = gv, gv, gv
 		}
 	}
-	var buf bytes.Buffer
 	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	if err := enc.Encode(&buf, img); err != nil {
-		return err
-	}
-	_, err := w.Write(buf.Bytes())
-	return err
+	return enc.Encode(w, img)
 }
