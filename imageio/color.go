@@ -31,20 +31,53 @@ func luminance(im *Image, workers int) []float32 {
 	return out
 }
 
-// sRGB to CIE XYZ (IEC 61966-2-1:1999, equation for the linear RGB to XYZ
-// transform, D65). The reference white is the XYZ of linear (1, 1, 1) under
-// this matrix, i.e. D65 at the standard's own rounding
-// (0.9505, 1.0000, 1.0890), so sRGB white maps exactly to L*=100, a*=b*=0.
-var xyzFromRGB = [3][3]float64{
-	{0.4124, 0.3576, 0.1805},
-	{0.2126, 0.7152, 0.0722},
-	{0.0193, 0.1192, 0.9505},
+// xyzFromRGB is the linear sRGB to CIE XYZ matrix, derived from the
+// chromaticities that IEC 61966-2-1 (and ITU-R BT.709) specify: red
+// (0.64, 0.33), green (0.30, 0.60), blue (0.15, 0.06), white D65
+// (0.3127, 0.3290). Each column is the primary's XYZ (x/y, 1, (1-x-y)/y)
+// scaled by S, where S solves P S = W_XYZ so that RGB (1, 1, 1) maps to the
+// white with Y = 1 (SMPTE RP 177-1993). The result agrees with the
+// standard's four-digit matrix (0.4124 0.3576 0.1805 / 0.2126 0.7152
+// 0.0722 / 0.0193 0.1192 0.9505) when rounded.
+var xyzFromRGB = rgbToXYZMatrix([3][2]float64{{0.64, 0.33}, {0.30, 0.60}, {0.15, 0.06}}, [2]float64{0.3127, 0.3290})
+
+// whiteXYZ is the reference white (Xn, Yn, Zn): the XYZ of RGB (1, 1, 1),
+// D65 with Yn = 1, so sRGB white maps exactly to L*=100, a*=b*=0.
+var whiteXYZ = [3]float64{
+	xyzFromRGB[0][0] + xyzFromRGB[0][1] + xyzFromRGB[0][2],
+	xyzFromRGB[1][0] + xyzFromRGB[1][1] + xyzFromRGB[1][2],
+	xyzFromRGB[2][0] + xyzFromRGB[2][1] + xyzFromRGB[2][2],
 }
 
-var whiteXYZ = [3]float64{
-	0.4124 + 0.3576 + 0.1805,
-	0.2126 + 0.7152 + 0.0722,
-	0.0193 + 0.1192 + 0.9505,
+// rgbToXYZMatrix builds the RGB to XYZ matrix of three primaries and a
+// white point given as xy chromaticities (SMPTE RP 177-1993), solving the
+// 3x3 system by Cramer's rule.
+func rgbToXYZMatrix(prim [3][2]float64, white [2]float64) [3][3]float64 {
+	var p [3][3]float64 // columns: XYZ of each primary with Y = 1
+	for j, c := range prim {
+		p[0][j] = c[0] / c[1]
+		p[1][j] = 1
+		p[2][j] = (1 - c[0] - c[1]) / c[1]
+	}
+	w := [3]float64{white[0] / white[1], 1, (1 - white[0] - white[1]) / white[1]}
+	det := func(m [3][3]float64) float64 {
+		return m[0][0]*(m[1][1]*m[2][2]-m[1][2]*m[2][1]) -
+			m[0][1]*(m[1][0]*m[2][2]-m[1][2]*m[2][0]) +
+			m[0][2]*(m[1][0]*m[2][1]-m[1][1]*m[2][0])
+	}
+	d := det(p)
+	var m [3][3]float64
+	for j := 0; j < 3; j++ {
+		q := p
+		for i := 0; i < 3; i++ {
+			q[i][j] = w[i]
+		}
+		s := det(q) / d
+		for i := 0; i < 3; i++ {
+			m[i][j] = p[i][j] * s
+		}
+	}
+	return m
 }
 
 // srgbToLinear is the IEC 61966-2-1 decoding curve on a value in [0, 1]:

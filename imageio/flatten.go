@@ -151,11 +151,12 @@ func meanOf(v []float32, w, h, workers int) float64 {
 // smaller than R; the rolling ball of Sternberg 1983, IEEE Computer 16(1),
 // is a morphological alternative not used here). With m the mean of B:
 //
-//	divide:   f' = f m / (B + eps),  eps = 1e-3 m   (flat-field correction, common practice)
+//	divide:   f' = f m / max(B, eps),  eps = 1e-3 m   (flat-field correction, common practice)
 //	subtract: f' = f - B + m
 //
 // Multiplying by, or adding back, m keeps f' in the image's units, so any
-// normalization applies afterwards. An image whose mean is zero stays zero.
+// normalization applies afterwards; eps only guards near-black background.
+// An image whose mean is zero stays zero.
 func flatten(f []float32, w, h int, R float64, mode string, workers int) []float32 {
 	bg := gaussianBlur(f, w, h, R, workers)
 	m := meanOf(bg, w, h, workers)
@@ -174,7 +175,7 @@ func flatten(f []float32, w, h int, R float64, mode string, workers int) []float
 	eps := 1e-3 * m
 	parallelRange(len(f), workers, func(lo, hi int) {
 		for i := lo; i < hi; i++ {
-			out[i] = float32(float64(f[i]) * m / (max(float64(bg[i]), 0) + eps))
+			out[i] = float32(float64(f[i]) * m / max(float64(bg[i]), eps))
 		}
 	})
 	return out
