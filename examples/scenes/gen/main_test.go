@@ -1,0 +1,75 @@
+package main
+
+import (
+	"bytes"
+	"image"
+	"image/png"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/cleave-seg/cleave/examples/scenes"
+)
+
+func TestGenerate(t *testing.T) {
+	dir := t.TempDir()
+	var out, errb bytes.Buffer
+	code := run([]string{"-out", dir, "-kind", "nuclei", "-n", "2", "-seed", "5", "-size", "128"}, &out, &errb)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	for _, seed := range []uint64{5, 6} {
+		want := scenes.Nuclei(scenes.NucleiOptions{Width: 128, Height: 128, Seed: seed})
+		f, err := os.Open(filepath.Join(dir, want.Name+".truth.png"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(f)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		g, ok := img.(*image.Gray16)
+		if !ok {
+			t.Fatalf("truth decoded as %T, want *image.Gray16", img)
+		}
+		for i, l := range want.Truth {
+			if int32(g.Gray16At(i%128, i/128).Y) != l {
+				t.Fatalf("seed %d: truth pixel %d differs from the generator", seed, i)
+			}
+		}
+		if _, err := os.Stat(filepath.Join(dir, want.Name+".png")); err != nil {
+			t.Error(err)
+		}
+	}
+	code = run([]string{"-out", dir, "-kind", "plates", "-n", "1", "-seed", "1", "-size", "128", "-tiff"}, &out, &errb)
+	if code != 0 {
+		t.Fatalf("plates exit %d: %s", code, errb.String())
+	}
+	if _, err := os.Stat(filepath.Join(dir, "plate-1.tif")); err != nil {
+		t.Error(err)
+	}
+}
+
+func TestUsageErrors(t *testing.T) {
+	dir := t.TempDir()
+	cases := []struct {
+		args []string
+		want string
+	}{
+		{[]string{"-kind", "nuclei"}, "-out"},
+		{[]string{"-out", dir, "-kind", "stars"}, "-kind"},
+		{[]string{"-out", dir, "-n", "0"}, "-n"},
+		{[]string{"-out", dir, "-size", "8"}, "Width"},
+		{[]string{"-out", dir, "-depth", "12"}, "BitDepth"},
+		{[]string{"-out", dir, "-bogus"}, "bogus"},
+		{[]string{"-out", dir, "extra"}, "extra"},
+	}
+	for _, c := range cases {
+		var out, errb bytes.Buffer
+		if code := run(c.args, &out, &errb); code != 2 || !strings.Contains(errb.String(), c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want exit 2 naming %s", c.args, code, errb.String(), c.want)
+		}
+	}
+}
