@@ -1,0 +1,58 @@
+package imageio
+
+import (
+	"bytes"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+// FuzzDecode feeds arbitrary bytes to Decode (seeded with the committed
+// reference files): it must return an image or an error, never panic, and
+// a decoded image must be self-consistent with finite features in [0, 1].
+// Run with: go test -fuzz=FuzzDecode ./imageio
+func FuzzDecode(f *testing.F) {
+	entries, err := os.ReadDir(testdata)
+	if err != nil {
+		f.Fatal(err)
+	}
+	for _, e := range entries {
+		if _, ok := formatOfExt[filepath.Ext(e.Name())]; !ok {
+			continue
+		}
+		b, err := os.ReadFile(filepath.Join(testdata, e.Name()))
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(b)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		im, err := Decode(bytes.NewReader(data), LoadOptions{MaxMegapixels: 0.25})
+		if err != nil {
+			if im != nil {
+				t.Fatal("image and error both returned")
+			}
+			return
+		}
+		if err := checkImage(im); err != nil {
+			t.Fatal(err)
+		}
+		if float64(im.Width)*float64(im.Height) > 0.25e6 {
+			t.Fatalf("%dx%d decoded above the limit", im.Width, im.Height)
+		}
+		top := float32(im.MaxValue())
+		for _, p := range im.Planes {
+			for _, v := range p {
+				if !(v >= 0 && v <= top) || v != float32(math.Trunc(float64(v))) {
+					t.Fatalf("sample %v outside the integers 0..%v", v, top)
+				}
+			}
+		}
+		feat, err := MakeFeatures(im, FeatureOptions{Channel: -1, Flatten: 3}, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkFinite01(t, feat, FeatureOptions{})
+	})
+}

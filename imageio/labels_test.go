@@ -1,0 +1,195 @@
+package imageio
+
+import (
+	"bytes"
+	"image"
+	"image/color"
+	"image/png"
+	"io"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+)
+
+// TestLabelsRoundTrip: EncodeLabels then ReadLabels returns the labels,
+// and the standard library's image/png decoder reads the file as a 16-bit
+// gray image with the same values.
+func TestLabelsRoundTrip(t *testing.T) {
+	const w, h = 5, 3
+	labels := []int32{0, 1, 1, 2, 300, 0, 65535, 4, 4, 4, 256, 255, 0, 7, 1}
+	path := filepath.Join(t.TempDir(), "labels.png")
+	if err := WriteAtomic(path, false, func(wr io.Writer) error { return EncodeLabels(wr, w, h, labels) }); err != nil {
+		t.Fatal(err)
+	}
+	got, gw, gh, err := ReadLabels(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if gw != w || gh != h || !slices.Equal(got, labels) {
+		t.Fatalf("read %dx%d %v; want %dx%d %v", gw, gh, got, w, h, labels)
+	}
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	img, err := png.Decode(bytes.NewReader(raw))
+	if err != nil {
+		t.Fatal(err)
+	}
+	g16, ok := img.(*image.Gray16)
+	if !ok {
+		t.Fatalf("image/png decoded %T; want *image.Gray16", img)
+	}
+	for i, l := range labels {
+		if v := g16.Gray16At(i%w, i/w).Y; int32(v) != l {
+			t.Fatalf("pixel %d: image/png read %d; want %d", i, v, l)
+		}
+	}
+}
+
+func TestEncodeLabelsErrors(t *testing.T) {
+	for _, c := range []struct {
+		w, h   int
+		labels []int32
+		want   string
+	}{
+		{2, 1, []int32{0, -1}, "outside 0..65535"},
+		{2, 1, []int32{65536, 0}, "outside 0..65535"},
+		{2, 2, []int32{0, 1, 2}, "3 labels for a 2x2"},
+		{0, 0, nil, "0x0"},
+	} {
+		err := EncodeLabels(io.Discard, c.w, c.h, c.labels)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%v: got %v; want %q", c.labels, err, c.want)
+		}
+	}
+}
+
+// TestReadLabelsReferenceFiles: label maps written by Pillow and tifffile
+// (make.py): 16-bit labels read as is; 0/255 and 0/65535 masks read as
+// 0/1; a colour image and a JPEG are refused, naming the file.
+func TestReadLabelsReferenceFiles(t *testing.T) {
+	ref := expectedImages(t)
+	for _, c := range []struct {
+		name   string
+		binary bool
+	}{{"labels16.png", false}, {"mask8.png", true}, {"mask16.tif", true}} {
+		got, w, h, err := ReadLabels(filepath.Join(testdata, c.name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := ref[c.name]
+		if w != want.Width || h != want.Height {
+			t.Fatalf("%s: %dx%d; want %dx%d", c.name, w, h, want.Width, want.Height)
+		}
+		ones := 0
+		for i, v := range want.Planes[0] {
+			if c.binary && v != 0 {
+				v = 1
+			}
+			if int64(got[i]) != v {
+				t.Fatalf("%s: pixel %d = %d; want %d", c.name, i, got[i], v)
+			}
+			if got[i] == 1 {
+				ones++
+			}
+		}
+		if c.binary && ones == 0 {
+			t.Fatalf("%s: mask has no foreground", c.name)
+		}
+	}
+	for _, name := range []string{"rgb8.png", "orient1.jpg", "notanimage.tif"} {
+		path := filepath.Join(testdata, name)
+		if _, _, _, err := ReadLabels(path); err == nil || !strings.Contains(err.Error(), path) {
+			t.Errorf("%s: got %v; want an error naming the file", name, err)
+		}
+	}
+}
+
+// TestReadLabelsGrayRGB: an RGB image with R = G = B everywhere is
+// accepted as labels (encoded by the standard library's image/png).
+func TestReadLabelsGrayRGB(t *testing.T) {
+	img := image.NewRGBA(image.Rect(0, 0, 3, 1))
+	for x, v := range []uint8{0, 5, 9} {
+		img.Set(x, 0, color.RGBA{v, v, v, 255})
+	}
+	path := filepath.Join(t.TempDir(), "graylabels.png")
+	if err := WriteAtomic(path, false, func(w io.Writer) error { return png.Encode(w, img) }); err != nil {
+		t.Fatal(err)
+	}
+	got, _, _, err := ReadLabels(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(got, []int32{0, 5, 9}) {
+		t.Errorf("got %v; want [0 5 9]", got)
+	}
+}
+
+// TestEncodeOverlay: decoded by the standard library's image/png, the
+// overlay is an RGB PNG (colour type 2, PNG specification 11.2.2) showing
+// the display as gray, a one-pixel amber boundary on the left side of a
+// vertical region edge, tinted objects and untinted background.
+func TestEncodeOverlay(t *testing.T) {
+	const w, h = 4, 2
+	display := []float32{0, 0.5, 1, 0.25, 0.2, 0.4, 0.6, 0.8}
+	labels := []int32{0, 0, 3, 3, 0, 0, 3, 3}
+	for _, tint := range []bool{false, true} {
+		var buf bytes.Buffer
+		if err := EncodeOverlay(&buf, w, h, display, labels, tint); err != nil {
+			t.Fatal(err)
+		}
+		if ct := buf.Bytes()[25]; ct != 2 {
+			t.Fatalf("PNG colour type %d; want 2 (RGB)", ct)
+		}
+		img, err := png.Decode(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				r, g, b, _ := img.At(x, y).RGBA()
+				r, g, b = r>>8, g>>8, b>>8
+				gray := uint32(display[y*w+x]*255 + 0.5)
+				switch {
+				case x == 1: // label 0 next to label 3 on its right
+					if [3]uint32{r, g, b} != [3]uint32{255, 170, 0} {
+						t.Errorf("tint %v (%d,%d): %v; want the boundary colour", tint, x, y, [3]uint32{r, g, b})
+					}
+				case labels[y*w+x] == 0 || !tint:
+					if r != gray || g != gray || b != gray {
+						t.Errorf("tint %v (%d,%d): %v; want gray %d", tint, x, y, [3]uint32{r, g, b}, gray)
+					}
+				default:
+					if r == g && g == b {
+						t.Errorf("tint %v (%d,%d): object not tinted", tint, x, y)
+					}
+				}
+			}
+		}
+	}
+	if err := EncodeOverlay(io.Discard, 2, 2, make([]float32, 4), make([]int32, 3), false); err == nil {
+		t.Error("mismatched sizes accepted")
+	}
+}
+
+// TestLabelColor: the palette is deterministic and neighbouring labels get
+// clearly different colours (consecutive labels' hues are 0.382 turns
+// apart, the golden angle).
+func TestLabelColor(t *testing.T) {
+	for l := int32(1); l < 200; l++ {
+		a, b := labelColor(l), labelColor(l+1)
+		if labelColor(l) != a {
+			t.Fatalf("label %d: colour changed between calls", l)
+		}
+		d := 0.0
+		for k := 0; k < 3; k++ {
+			d += (a[k] - b[k]) * (a[k] - b[k])
+		}
+		if d < 0.05 {
+			t.Errorf("labels %d and %d: colours %v and %v too close", l, l+1, a, b)
+		}
+	}
+}
