@@ -163,14 +163,15 @@ type nucleus struct {
 //
 //   - Shapes: ellipses of mean radius sqrt(ab) uniform in
 //     [RadiusMin, RadiusMax], aspect a/b uniform in [1, 1.6], random angle.
-//     Single nuclei keep at least 4 px from every other object. A fraction
-//     PairFraction of the nuclei come as touching pairs: the second centre
-//     sits at 0.78–0.9 of the summed outline radii from the first along a
-//     random direction, so the outlines overlap; each pixel of the overlap
-//     goes to the nucleus with the larger margin, so the pair is two truth
-//     objects sharing a boundary. The two nuclei of a pair (daughters of
-//     one division) differ in mean radius by at most 12 % and in
-//     brightness by at most 10 %.
+//     Apart from the two partners of a pair, nuclei keep at least 4 px
+//     apart and 2 px from the border. A fraction PairFraction of the
+//     nuclei come as touching pairs: the second centre sits at 0.78–0.9 of
+//     the summed outline radii from the first along a random direction, so
+//     the outlines overlap; each pixel of the overlap goes to the nucleus
+//     with the larger margin, so the pair is two truth objects sharing a
+//     boundary. The two nuclei of a pair (daughters of one division)
+//     differ in mean radius by at most 12 % and in brightness by at most
+//     10 %.
 //   - Brightness b: uniform in [0.55, 1], or [0.12, 0.28] for a dim
 //     nucleus (probability DimFraction; its radius is drawn from the lower
 //     half of the range). Inside a nucleus the emitted intensity is

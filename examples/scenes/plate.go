@@ -126,17 +126,20 @@ func segmentDistance(x, y, ax, ay, bx, by float64) float64 {
 // Plate renders a metal inspection plate under raking light: a bright,
 // grainy surface with dark pits and thin dark scratches. The model:
 //
-//   - Surface reflectance 1 + Grain·(0.6 g + 0.8 s)/1, where g is white
+//   - Surface reflectance 1 + Grain·(0.6 g + 0.8 s), where g is white
 //     noise smoothed by a Gaussian of σ = 1.2 px (isotropic grain) and s are
 //     brushing streaks, a 1-D noise profile (σ = 0.8 px) across a random
-//     brushing direction, constant along it; both have unit variance.
+//     brushing direction, constant along it; both have unit variance, so
+//     the texture's standard deviation is Grain.
 //   - Scratches (1 or 2 by default): polylines of 3–4 vertices, about
 //     100–300 px long, turning by at most 25° per vertex, 3–6 px wide;
 //     reflectance multiplied by a level in [0.45, 0.6] inside.
 //   - Pits (5–9 per 512² by default): star-shaped blobs with mean radius
 //     4–15 px and harmonics k = 2, 3, 4 of relative amplitude up to 0.12;
 //     reflectance multiplied by a depth level in [0.3, 0.5], shaded by
-//     1 + 0.3 (p-c)·l/r0 toward the light direction l (the lit wall).
+//     1 - 0.3 (p-c)·l/r0 with l the direction the light comes from: the
+//     wall facing the light (on the far side from it) is brighter, the
+//     wall under the near rim darker.
 //     Objects keep at least 4 px apart and 2 px from the border.
 //   - Edges anti-aliased with coverage clamp(1/2 + margin, 0, 1), then a
 //     Gaussian PSF of σ = 0.8 px on the reflectance.
@@ -258,7 +261,7 @@ func Plate(o PlateOptions) *Scene {
 			}
 			depth := uniform(rng, 0.3, 0.5)
 			shade := func(x, y float64) float64 {
-				return depth * (1 + 0.3*((x-p.cx)*lx+(y-p.cy)*ly)/p.r0)
+				return depth * (1 - 0.3*((x-p.cx)*lx+(y-p.cy)*ly)/p.r0)
 			}
 			if accept(p.margin, box, shade) {
 				break

@@ -18,7 +18,8 @@ type Scene struct {
 }
 
 // Image returns the scene as *image.Gray (BitDepth 8) or *image.Gray16
-// (BitDepth 16). The pixels are copied.
+// (BitDepth 16). The pixels are copied; with BitDepth 8 they must lie in
+// 0..255, as the generators guarantee.
 func (s *Scene) Image() image.Image {
 	r := image.Rect(0, 0, s.Width, s.Height)
 	if s.BitDepth == 8 {

@@ -546,3 +546,15 @@ func TestImageConversion(t *testing.T) {
 		}
 	}
 }
+
+func BenchmarkNuclei512(b *testing.B) {
+	for i := 0; b.Loop(); i++ {
+		Nuclei(NucleiOptions{Seed: uint64(i)})
+	}
+}
+
+func BenchmarkPlate512(b *testing.B) {
+	for i := 0; b.Loop(); i++ {
+		Plate(PlateOptions{Seed: uint64(i)})
+	}
+}
