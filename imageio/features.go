@@ -142,7 +142,7 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 
 	f.Display = make([]float32, len(luma))
 	copy(f.Display, luma)
-	lo, hi := percentileRange(f.Display)
+	lo, hi := percentileRange(f.Display, workers)
 	stretch(f.Display, lo, hi, workers)
 
 	if opt.Channel >= 0 {

@@ -56,11 +56,12 @@ func reflect(j, n int) int {
 // granularity of odd widths). Every output column and row is computed by
 // the same sequence of operations for any worker count.
 func gaussianBlur(v []float32, w, h int, sigma float64, workers int) []float32 {
-	a := make([]float32, len(v))
-	copy(a, v)
-	b := make([]float32, len(v))
-	for _, bw := range boxWidths(sigma, 3) {
+	a, b := v, make([]float32, len(v))
+	for k, bw := range boxWidths(sigma, 3) {
 		boxRows(a, b, w, h, bw/2, workers)
+		if k == 0 {
+			a = make([]float32, len(v)) // v itself is never written
+		}
 		a, b = b, a
 	}
 	for _, bw := range boxWidths(sigma, 3) {
@@ -71,7 +72,8 @@ func gaussianBlur(v []float32, w, h int, sigma float64, workers int) []float32 {
 }
 
 // boxRows writes to dst the mean of src over the window [x-r, x+r] of each
-// row.
+// row. Each row is first copied into a buffer padded by r+1 reflected
+// samples on both sides so the running sum needs no index arithmetic.
 func boxRows(src, dst []float32, w, h, r, workers int) {
 	if r == 0 {
 		copy(dst, src)
@@ -79,15 +81,22 @@ func boxRows(src, dst []float32, w, h, r, workers int) {
 	}
 	inv := 1 / float64(2*r+1)
 	parallelRange(h, workers, func(y0, y1 int) {
+		pad := make([]float32, w+2*r+2) // pad[j] = row[reflect(j-r-1)]
 		for y := y0; y < y1; y++ {
 			row, out := src[y*w:(y+1)*w], dst[y*w:(y+1)*w]
+			for j := 0; j <= r; j++ {
+				pad[j] = row[reflect(j-r-1, w)]
+				pad[w+r+1+j] = row[reflect(w+j, w)]
+			}
+			copy(pad[r+1:], row)
 			var s float64
-			for j := -r; j <= r; j++ {
-				s += float64(row[reflect(j, w)])
+			for _, v := range pad[1 : 2*r+2] {
+				s += float64(v)
 			}
 			out[0] = float32(s * inv)
+			add, sub := pad[2*r+2:], pad[1:]
 			for x := 1; x < w; x++ {
-				s += float64(row[reflect(x+r, w)]) - float64(row[reflect(x-r-1, w)])
+				s += float64(add[x-1]) - float64(sub[x-1])
 				out[x] = float32(s * inv)
 			}
 		}

@@ -2,7 +2,6 @@ package imageio
 
 import (
 	"math"
-	"math/bits"
 	"slices"
 )
 
@@ -16,10 +15,8 @@ const (
 // interpolation between order statistics: with x(0) <= ... <= x(n-1) and
 // h = (n-1) p/100, the value is x(floor h) + (h - floor h)(x(floor h + 1) -
 // x(floor h)). This is definition 7 of Hyndman and Fan (1996), the default
-// of numpy.percentile. The order statistics are exact: a 65536-bin
-// histogram when every value is an integer in 0..65535 (8- and 16-bit
-// samples), otherwise selection (Hoare's quickselect) on a copy.
-func percentiles(v []float32, p, q float64) (float64, float64) {
+// of numpy.percentile. The order statistics are exact (see orderStats).
+func percentiles(v []float32, p, q float64, workers int) (float64, float64) {
 	n := len(v)
 	if n == 0 {
 		return 0, 0
@@ -27,12 +24,7 @@ func percentiles(v []float32, p, q float64) (float64, float64) {
 	hp, hq := float64(n-1)*p/100, float64(n-1)*q/100
 	want := []int{int(hp), min(int(hp)+1, n-1), int(hq), min(int(hq)+1, n-1)}
 	ranks := slices.Compact(slices.Sorted(slices.Values(want)))
-	var vals []float64
-	if hist, ok := intHistogram(v); ok {
-		vals = histRanks(hist, ranks)
-	} else {
-		vals = selectRanks(v, ranks)
-	}
+	vals := orderStats(v, ranks, workers)
 	x := make([]float64, len(want))
 	for i, r := range want {
 		x[i] = vals[slices.Index(ranks, r)]
@@ -41,101 +33,104 @@ func percentiles(v []float32, p, q float64) (float64, float64) {
 	return interp(hp, x[0], x[1]), interp(hq, x[2], x[3])
 }
 
-// intHistogram counts v into 65536 bins when every value is an integer in
-// 0..65535; ok is false otherwise.
-func intHistogram(v []float32) (hist []int, ok bool) {
-	hist = make([]int, 65536)
-	for _, x := range v {
-		i := int(x)
-		if float32(i) != x || i < 0 || i > 65535 {
-			return nil, false
-		}
-		hist[i]++
+// sortKey maps a float32 to a uint32 whose unsigned order is the numeric
+// order of the floats (NaN excepted): flip all bits of negatives, set the
+// sign bit of the rest.
+func sortKey(x float32) uint32 {
+	b := math.Float32bits(x)
+	if b&0x80000000 != 0 {
+		return ^b
 	}
-	return hist, true
+	return b | 0x80000000
 }
 
-// histRanks returns the values of the given strictly ascending ranks (0-based order
-// statistics) from a histogram.
-func histRanks(hist []int, ranks []int) []float64 {
+func fromSortKey(k uint32) float32 {
+	if k&0x80000000 != 0 {
+		return math.Float32frombits(k &^ 0x80000000)
+	}
+	return math.Float32frombits(^k)
+}
+
+// orderStats returns the values of the given strictly ascending ranks
+// (0-based order statistics) of v, exactly, by a two-pass radix selection
+// on order-preserving 32-bit keys: a histogram of the high 16 bits finds
+// the bucket holding each rank, a histogram of the low 16 bits inside that
+// bucket finds the key itself. O(n) per pass; the histograms are integer
+// counts, so the result does not depend on the worker count.
+func orderStats(v []float32, ranks []int, workers int) []float64 {
 	out := make([]float64, len(ranks))
-	cum, k := 0, 0
-	for val, c := range hist {
-		cum += c
-		for k < len(ranks) && ranks[k] < cum {
-			out[k] = float64(val)
-			k++
+	if len(v) <= 1<<12 {
+		a := slices.Clone(v)
+		slices.Sort(a)
+		for i, r := range ranks {
+			out[i] = float64(a[r])
 		}
-		if k == len(ranks) {
-			break
+		return out
+	}
+	high := keyHistogram(v, workers, false, 0)
+	buckets := make([]uint32, len(ranks))
+	within := make([]int, len(ranks))
+	for i, r := range ranks {
+		cum := 0
+		for b, c := range high {
+			if r < cum+c {
+				buckets[i], within[i] = uint32(b), r-cum
+				break
+			}
+			cum += c
+		}
+	}
+	for i := range ranks {
+		if i > 0 && buckets[i] == buckets[i-1] {
+			continue // histogram shared with the previous rank below
+		}
+		bucket := buckets[i]
+		low := keyHistogram(v, workers, true, bucket)
+		for j := i; j < len(ranks) && buckets[j] == bucket; j++ {
+			cum := 0
+			for b, c := range low {
+				if within[j] < cum+c {
+					out[j] = float64(fromSortKey(bucket<<16 | uint32(b)))
+					break
+				}
+				cum += c
+			}
 		}
 	}
 	return out
 }
 
-// selectRanks returns the values of strictly ascending ranks by repeated selection on
-// a copy of v; each selection partitions the copy so later ranks search only
-// the part to the right of the previous one.
-func selectRanks(v []float32, ranks []int) []float64 {
-	a := slices.Clone(v)
-	out := make([]float64, len(ranks))
-	lo := 0
-	for k, r := range ranks {
-		quickselect(a[lo:], r-lo)
-		out[k] = float64(a[r])
-		lo = r
-	}
-	return out
-}
-
-// quickselect reorders a so that a[k] is the k-th smallest value, everything
-// before it is <= a[k] and everything after is >= a[k]. Hoare partitioning
-// around a median of three; after 2 log2(n) rounds without convergence the
-// remaining range is sorted, which bounds the worst case by O(n log n).
-func quickselect(a []float32, k int) {
-	lo, hi := 0, len(a)-1
-	budget := 2 * bits.Len(uint(len(a)))
-	for hi > lo {
-		if hi-lo < 16 || budget == 0 {
-			slices.Sort(a[lo : hi+1])
-			return
-		}
-		budget--
-		mid := lo + (hi-lo)/2
-		if a[mid] < a[lo] {
-			a[mid], a[lo] = a[lo], a[mid]
-		}
-		if a[hi] < a[lo] {
-			a[hi], a[lo] = a[lo], a[hi]
-		}
-		if a[hi] < a[mid] {
-			a[hi], a[mid] = a[mid], a[hi]
-		}
-		pivot := a[mid]
-		i, j := lo, hi
-		for i <= j {
-			for a[i] < pivot {
-				i++
+// keyHistogram counts the keys (sortKey) of v over 65536 bins: by their
+// high 16 bits, or, when low is true, by their low 16 bits among the keys
+// whose high 16 bits equal bucket. Per-worker histograms are added in a
+// fixed order.
+func keyHistogram(v []float32, workers int, low bool, bucket uint32) []int {
+	nw := min(numWorkers(workers), 8)
+	parts := make([][]int, nw)
+	chunk := (len(v) + nw - 1) / nw
+	forEach(nw, nw, func(p int) {
+		h := make([]int, 65536)
+		part := v[min(p*chunk, len(v)):min((p+1)*chunk, len(v))]
+		if low {
+			for _, x := range part {
+				if k := sortKey(x); k>>16 == bucket {
+					h[k&0xffff]++
+				}
 			}
-			for a[j] > pivot {
-				j--
-			}
-			if i <= j {
-				a[i], a[j] = a[j], a[i]
-				i++
-				j--
+		} else {
+			for _, x := range part {
+				h[sortKey(x)>>16]++
 			}
 		}
-		// Now a[lo..j] <= pivot <= a[i..hi], and a[j+1..i-1] == pivot.
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return
+		parts[p] = h
+	})
+	total := parts[0]
+	for _, h := range parts[1:] {
+		for b, c := range h {
+			total[b] += c
 		}
 	}
+	return total
 }
 
 // minMax returns the smallest and largest value of v.
@@ -172,8 +167,8 @@ func stretch(v []float32, lo, hi float64, workers int) {
 // the 0.1 and 99.9 percentiles, widened to min..max when they coincide (an
 // image that is constant except for a few pixels keeps those pixels visible
 // instead of collapsing to zero).
-func percentileRange(v []float32) (float64, float64) {
-	lo, hi := percentiles(v, lowPercentile, highPercentile)
+func percentileRange(v []float32, workers int) (float64, float64) {
+	lo, hi := percentiles(v, lowPercentile, highPercentile, workers)
 	if !(hi > lo) {
 		lo, hi = minMax(v)
 	}
@@ -190,7 +185,7 @@ func normalize(v []float32, method string, maxValue float64, workers int) {
 	case NormalizeBitDepth:
 		lo, hi = 0, maxValue
 	default:
-		lo, hi = percentileRange(v)
+		lo, hi = percentileRange(v, workers)
 	}
 	stretch(v, lo, hi, workers)
 }

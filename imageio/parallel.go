@@ -38,3 +38,31 @@ func parallelRange(n, workers int, fn func(lo, hi int)) {
 	}
 	wg.Wait()
 }
+
+// forEach calls fn(i) for every i in [0, n) on at most workers goroutines,
+// one task at a time per goroutine; for a few coarse tasks.
+func forEach(n, workers int, fn func(i int)) {
+	workers = min(numWorkers(workers), n)
+	if workers <= 1 {
+		for i := 0; i < n; i++ {
+			fn(i)
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for g := 0; g < workers; g++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				fn(i)
+			}
+		}()
+	}
+	for i := 0; i < n; i++ {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+}
