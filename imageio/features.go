@@ -179,7 +179,11 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 		feat = make([]float32, len(f.Raw))
 		copy(feat, f.Raw)
 	}
-	normalize(feat, opt.Normalize, im.MaxValue(), workers)
+	if opt.Flatten == 0 && opt.Channel < 0 && (opt.Normalize == "" || opt.Normalize == NormalizePercentile) {
+		stretch(feat, lo, hi, workers) // the display's window, already computed from the same luma
+	} else {
+		normalize(feat, opt.Normalize, im.MaxValue(), workers)
+	}
 	f.Planes = [][]float32{feat}
 	return f, nil
 }
