@@ -1,7 +1,3 @@
-// Package imageio reads images into float32 planes (keeping 16-bit data at
-// full precision), normalizes intensities, corrects shading, derives the
-// feature planes the graph is built on, and writes label maps, overlays and
-// other outputs atomically. It knows nothing of graphs or eigensolvers.
 package imageio
 
 // Image is a decoded raster in the image's own units: Planes[c][y*Width+x]
