@@ -6,6 +6,7 @@ import (
 	"errors"
 	"hash/crc32"
 	"image"
+	"image/color"
 	"image/png"
 	"math"
 	"os"
@@ -13,6 +14,8 @@ import (
 	"runtime"
 	"strings"
 	"testing"
+
+	"golang.org/x/image/tiff"
 )
 
 var formatOfExt = map[string]string{".png": "png", ".tif": "tiff", ".jpg": "jpeg", ".bmp": "bmp", ".gif": "gif", ".webp": "webp"}
@@ -275,6 +278,40 @@ func checkFinite01(t *testing.T, f *Features, opt FeatureOptions) {
 	for i, v := range f.Display {
 		if !(v >= 0 && v <= 1) {
 			t.Fatalf("%+v: display value %d = %v", opt, i, v)
+		}
+	}
+}
+
+// TestDecodePremultipliedAlpha: a TIFF with associated (premultiplied)
+// alpha, written by golang.org/x/image/tiff from an image.RGBA64, reads
+// back un-premultiplied, c' = c * 65535 / a (image/color's NRGBA64
+// conversion), and reports HasAlpha; a fully transparent pixel reads as 0.
+func TestDecodePremultipliedAlpha(t *testing.T) {
+	src := image.NewRGBA64(image.Rect(0, 0, 3, 1))
+	src.SetRGBA64(0, 0, color.RGBA64{R: 10000, G: 20000, B: 30000, A: 40000})
+	src.SetRGBA64(1, 0, color.RGBA64{R: 65535, G: 0, B: 300, A: 65535})
+	src.SetRGBA64(2, 0, color.RGBA64{})
+	var buf bytes.Buffer
+	if err := tiff.Encode(&buf, src, nil); err != nil {
+		t.Fatal(err)
+	}
+	im, err := Decode(&buf, LoadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !im.HasAlpha || im.BitDepth != 16 || im.Channels != 3 {
+		t.Fatalf("HasAlpha %v depth %d channels %d; want true, 16, 3", im.HasAlpha, im.BitDepth, im.Channels)
+	}
+	want := [3][3]float32{
+		{10000 * 65535 / 40000, 20000 * 65535 / 40000, 30000 * 65535 / 40000}, // integer constants: integer division, as image/color does
+		{65535, 0, 300},
+		{0, 0, 0},
+	}
+	for x := range want {
+		for c := 0; c < 3; c++ {
+			if got := im.Planes[c][x]; got != want[x][c] {
+				t.Errorf("pixel %d channel %d = %v; want %v", x, c, got, want[x][c])
+			}
 		}
 	}
 }

@@ -6,13 +6,15 @@ package imageio
 // every 16-bit value exactly. Channels is 1 (gray) or 3 (RGB, in the
 // source's own encoding, normally sRGB). An alpha channel is dropped without
 // compositing: colour samples are the un-premultiplied ones (the semantics
-// of image/color.NRGBA), and HasAlpha records that the source carried alpha.
+// of image/color.NRGBA). HasAlpha is true when the source carried alpha
+// and at least one pixel is not fully opaque (some decoders, such as TIFF's
+// for associated alpha, cannot tell an all-opaque alpha channel from none).
 type Image struct {
 	Width, Height int
 	Channels      int
 	BitDepth      int    // 8 or 16: bits per sample of the source
 	Format        string // "png", "tiff", "jpeg", "bmp", "gif", "webp"
-	HasAlpha      bool   // the source carried an alpha channel (dropped)
+	HasAlpha      bool   // the source had alpha below full opacity (dropped)
 	Planes        [][]float32
 }
 
