@@ -27,6 +27,10 @@ func writeString(s string) func(io.Writer) error {
 	return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
 }
 
+// TestWriteAtomic checks the contract stated on WriteAtomic (atomic
+// replacement by rename(2), POSIX.1-2017): content appears whole, an
+// existing file is kept without force and replaced with it, and no
+// temporary file survives a failing or panicking writer.
 func TestWriteAtomic(t *testing.T) {
 	dir := t.TempDir()
 	path := filepath.Join(dir, "out.txt")

@@ -157,6 +157,9 @@ func TestHugeHeaderRefusedBeforeAllocation(t *testing.T) {
 	}
 }
 
+// TestMaxMegapixelsOption: the limit compares width x height / 1e6 with
+// the option (arithmetic on the 7x5 reference file); nonsense limits are
+// errors.
 func TestMaxMegapixelsOption(t *testing.T) {
 	name := filepath.Join(testdata, "gray16.png") // 7x5 = 35 pixels = 3.5e-5 MP
 	if _, err := Load(name, LoadOptions{MaxMegapixels: 3e-5}); !errors.Is(err, ErrTooLarge) {

@@ -252,6 +252,8 @@ func TestLabGray(t *testing.T) {
 	}
 }
 
+// TestFeatureOptionsValidate: the accepted values are those documented on
+// FeatureOptions; each error names the flag it comes from.
 func TestFeatureOptionsValidate(t *testing.T) {
 	cases := []struct {
 		opt  FeatureOptions

@@ -49,6 +49,9 @@ func TestLabelsRoundTrip(t *testing.T) {
 	}
 }
 
+// TestEncodeLabelsErrors: a 16-bit PNG sample holds 0..65535 (PNG
+// specification, 11.2.2), so labels outside it, and sizes that disagree,
+// are errors.
 func TestEncodeLabelsErrors(t *testing.T) {
 	for _, c := range []struct {
 		w, h   int

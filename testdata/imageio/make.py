@@ -8,9 +8,13 @@ tifffile or ImageMagick's `convert ... rgba:-`), so the Go tests compare
 against readings made outside the project. lab.json holds CIE L*a*b* values
 from scikit-image's skimage.color.rgb2lab, percentile.json values from
 numpy.percentile (default linear method), blur.json a Gaussian blur from
-scipy.ndimage.gaussian_filter (mode="reflect"). Run from this folder:
+scipy.ndimage.gaussian_filter (mode="reflect"). Install and run from this
+folder (Debian's own python3, not another interpreter on the PATH):
 
+    apt-get install -y python3-tifffile python3-numpy python3-pil python3-skimage imagemagick
     /usr/bin/python3 make.py
+
+The outputs are deterministic: running it again gives the same bytes.
 
 The tool versions used are recorded in versions.json.
 """
