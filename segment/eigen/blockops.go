@@ -18,34 +18,7 @@ type ops struct {
 
 // gram returns the ma×mb matrix Aᵀ B (row-major).
 func (o *ops) gram(a, b *block) []float64 {
-	ma, mb := a.m, b.m
-	nc := o.lv.nchunks()
-	sz := ma * mb
-	if cap(o.part) < nc*sz {
-		o.part = make([]float64, nc*sz)
-	}
-	part := o.part[:nc*sz]
-	parallel(nc, o.workers, func(c int) {
-		g := part[c*sz : (c+1)*sz]
-		clear(g)
-		for i := o.lv.chunks[c]; i < o.lv.chunks[c+1]; i++ {
-			ar := a.v[i*ma : i*ma+ma]
-			br := b.v[i*mb : i*mb+mb]
-			for p, x := range ar {
-				gr := g[p*mb : p*mb+mb]
-				for q, y := range br {
-					gr[q] += x * y
-				}
-			}
-		}
-	})
-	out := make([]float64, sz)
-	for c := 0; c < nc; c++ {
-		for t, v := range part[c*sz : (c+1)*sz] {
-			out[t] += v
-		}
-	}
-	return out
+	return o.gramMulti([]*block{a}, []*block{b})
 }
 
 // colNorms returns the Euclidean norm of every column of a.
@@ -80,39 +53,24 @@ func (o *ops) colNorms(a *block) []float64 {
 // combine sets out = Σ_t in[t] · C[rows of t] where C is ns×mc row-major
 // and ns is the total width of the inputs.
 func (o *ops) combine(out *block, in []*block, c []float64) {
-	mc := out.m
-	parallel(o.lv.nchunks(), o.workers, func(ch int) {
-		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			or := out.v[i*mc : i*mc+mc]
-			clear(or)
-			off := 0
-			for _, b := range in {
-				br := b.v[i*b.m : i*b.m+b.m]
-				for p, x := range br {
-					cr := c[(off+p)*mc : (off+p)*mc+mc]
-					for q, y := range cr {
-						or[q] += x * y
-					}
-				}
-				off += b.m
-			}
-		}
-	})
+	o.combineMulti([]*block{out}, in, [][]float64{c})
 }
 
-// subMul sets a = a - b·C with C of size b.m × a.m.
-func (o *ops) subMul(a, b *block, c []float64) {
-	ma, mb := a.m, b.m
+// subMul sets a = a - [bs...]·C with C of size (total width of bs) × a.m.
+func (o *ops) subMul(a *block, bs []*block, c []float64) {
+	ma := a.m
+	nb := width(bs)
+	ct := make([]float64, ma*nb)
+	for p := 0; p < nb; p++ {
+		for q := 0; q < ma; q++ {
+			ct[q*nb+p] = c[p*ma+q]
+		}
+	}
 	parallel(o.lv.nchunks(), o.workers, func(ch int) {
+		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			ar := a.v[i*ma : i*ma+ma]
-			br := b.v[i*mb : i*mb+mb]
-			for p, x := range br {
-				cr := c[p*ma : p*ma+ma]
-				for q, y := range cr {
-					ar[q] -= x * y
-				}
-			}
+			gatherRow(s, bs, i)
+			dotRows(a.v[i*ma:i*ma+ma], s, ct, true)
 		}
 	})
 }
@@ -120,20 +78,24 @@ func (o *ops) subMul(a, b *block, c []float64) {
 // deflate removes the null-vector component: a = (I - z0 z0ᵀ) a.
 func (o *ops) deflate(a *block) {
 	z := &block{n: o.lv.n, m: 1, v: o.lv.z0}
-	o.subMul(a, z, o.gram(z, a))
+	o.subMul(a, []*block{z}, o.gram(z, a))
 }
 
 // orthogonalize makes w orthogonal to the orthonormal blocks in (block
 // classical Gram-Schmidt, applied twice: "twice is enough", Golub and
 // Van Loan section 5.2).
 func (o *ops) orthogonalize(w *block, in ...*block) {
-	for pass := 0; pass < 2; pass++ {
-		for _, q := range in {
-			if q == nil || q.m == 0 {
-				continue
-			}
-			o.subMul(w, q, o.gram(q, w))
+	var qs []*block
+	for _, q := range in {
+		if q != nil && q.m > 0 {
+			qs = append(qs, q)
 		}
+	}
+	if len(qs) == 0 || w.m == 0 {
+		return
+	}
+	for pass := 0; pass < 2; pass++ {
+		o.subMul(w, qs, o.gramMulti(qs, []*block{w}))
 	}
 }
 
@@ -185,4 +147,142 @@ func (o *ops) svqb(w *block, drop float64) (*block, []float64) {
 	out := newBlock(w.n, k)
 	o.combine(out, []*block{w}, t)
 	return out, t
+}
+
+// gramMulti returns [as...]ᵀ [bs...] (na×nb, row-major) in one pass over
+// the rows. Within a chunk, rows are taken four at a time so that each
+// entry of the result is loaded and stored once per four products; the
+// grouping is fixed by the chunk boundaries, so the order of additions
+// does not depend on the worker count.
+func (o *ops) gramMulti(as, bs []*block) []float64 {
+	na, nb := width(as), width(bs)
+	nc := o.lv.nchunks()
+	sz := na * nb
+	if cap(o.part) < nc*sz {
+		o.part = make([]float64, nc*sz)
+	}
+	part := o.part[:nc*sz]
+	parallel(nc, o.workers, func(c int) {
+		g := part[c*sz : (c+1)*sz]
+		clear(g)
+		ra := make([]float64, 4*na)
+		rb := make([]float64, 4*nb)
+		r0, r1 := o.lv.chunks[c], o.lv.chunks[c+1]
+		for i := r0; i < r1; i += 4 {
+			cnt := min(4, r1-i)
+			clear(ra)
+			clear(rb)
+			for t := 0; t < cnt; t++ {
+				gatherRow(ra[t*na:(t+1)*na], as, i+t)
+				gatherRow(rb[t*nb:(t+1)*nb], bs, i+t)
+			}
+			a0, a1, a2, a3 := ra[:na], ra[na:2*na], ra[2*na:3*na], ra[3*na:4*na]
+			b0, b1, b2, b3 := rb[:nb], rb[nb:2*nb], rb[2*nb:3*nb], rb[3*nb:4*nb]
+			for p := 0; p < na; p++ {
+				x0, x1, x2, x3 := a0[p], a1[p], a2[p], a3[p]
+				gr := g[p*nb : p*nb+nb]
+				gr = gr[:len(b0)]
+				b1, b2, b3 := b1[:len(b0)], b2[:len(b0)], b3[:len(b0)]
+				for q := range gr {
+					gr[q] += x0*b0[q] + x1*b1[q] + x2*b2[q] + x3*b3[q]
+				}
+			}
+		}
+	})
+	out := make([]float64, sz)
+	for c := 0; c < nc; c++ {
+		for t, v := range part[c*sz : (c+1)*sz] {
+			out[t] += v
+		}
+	}
+	return out
+}
+
+func width(bs []*block) int {
+	w := 0
+	for _, b := range bs {
+		w += b.m
+	}
+	return w
+}
+
+// gatherRow copies row i of the blocks, side by side, into dst.
+func gatherRow(dst []float64, bs []*block, i int) {
+	off := 0
+	for _, b := range bs {
+		copy(dst[off:off+b.m], b.v[i*b.m:i*b.m+b.m])
+		off += b.m
+	}
+}
+
+// combineMulti sets outs[t] = [in...] · cs[t] for every t in one pass
+// over the rows; cs[t] is ns×outs[t].m row-major with ns the total width
+// of the inputs. Each output entry is one running sum over ns products.
+func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
+	ns := width(in)
+	// Transpose the coefficient matrices so the inner loop is contiguous.
+	cts := make([][]float64, len(cs))
+	for t, c := range cs {
+		mc := outs[t].m
+		ct := make([]float64, mc*ns)
+		for p := 0; p < ns; p++ {
+			for q := 0; q < mc; q++ {
+				ct[q*ns+p] = c[p*mc+q]
+			}
+		}
+		cts[t] = ct
+	}
+	parallel(o.lv.nchunks(), o.workers, func(ch int) {
+		s := make([]float64, ns)
+		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
+			gatherRow(s, in, i)
+			for t, out := range outs {
+				mc := out.m
+				dotRows(out.v[i*mc:i*mc+mc], s, cts[t], false)
+			}
+		}
+	})
+}
+
+// dotRows sets dst[q] = s · ct[q*len(s):(q+1)*len(s)] (or subtracts it
+// when sub is set). Four outputs are formed together so that four
+// independent sums are in flight and each s[p] is loaded once per four.
+func dotRows(dst, s, ct []float64, sub bool) {
+	ns := len(s)
+	q := 0
+	for ; q+4 <= len(dst); q += 4 {
+		c0 := ct[q*ns : q*ns+ns]
+		c1 := ct[(q+1)*ns : (q+1)*ns+ns]
+		c2 := ct[(q+2)*ns : (q+2)*ns+ns]
+		c3 := ct[(q+3)*ns : (q+3)*ns+ns]
+		c0, c1, c2, c3 = c0[:len(s)], c1[:len(s)], c2[:len(s)], c3[:len(s)]
+		var a0, a1, a2, a3 float64
+		for p, x := range s {
+			a0 += x * c0[p]
+			a1 += x * c1[p]
+			a2 += x * c2[p]
+			a3 += x * c3[p]
+		}
+		if sub {
+			dst[q] -= a0
+			dst[q+1] -= a1
+			dst[q+2] -= a2
+			dst[q+3] -= a3
+		} else {
+			dst[q], dst[q+1], dst[q+2], dst[q+3] = a0, a1, a2, a3
+		}
+	}
+	for ; q < len(dst); q++ {
+		c0 := ct[q*ns : q*ns+ns]
+		c0 = c0[:len(s)]
+		var a0 float64
+		for p, x := range s {
+			a0 += x * c0[p]
+		}
+		if sub {
+			dst[q] -= a0
+		} else {
+			dst[q] = a0
+		}
+	}
 }

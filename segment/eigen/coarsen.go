@@ -24,18 +24,23 @@ func coarsen(lv *level, workers int) *level {
 		if mate[i] != unmatched {
 			continue
 		}
-		best, bw := -1, -1.0
+		best, bw, wmax := -1, -1.0, 0.0
 		si := lv.s[i]
 		for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
 			j := int(lv.col[p])
-			if j == i || mate[j] != unmatched {
+			if j == i {
 				continue
 			}
-			if w := float64(lv.wt[p]) * si * lv.s[j]; w > bw {
+			w := float64(lv.wt[p]) * si * lv.s[j]
+			wmax = max(wmax, w)
+			if mate[j] != unmatched {
+				continue
+			}
+			if w > bw {
 				best, bw = j, w
 			}
 		}
-		if best >= 0 {
+		if best >= 0 && bw >= tuneStrong*wmax {
 			mate[i], mate[best] = int32(best), int32(i)
 		} else {
 			mate[i] = int32(i)
@@ -142,3 +147,5 @@ func prolong(fine, coarse *level, zc *block) *block {
 	}
 	return out
 }
+
+var tuneStrong = 0.3

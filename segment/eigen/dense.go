@@ -1,6 +1,6 @@
 package eigen
 
-// denseLevel returns the count smallest eigenpairs of L restricted to the
+// denseLevel returns the count (all n-1 if count < 0) smallest eigenpairs of L restricted to the
 // orthogonal complement of z0 on a small level. With the Householder
 // reflector H = I - β v vᵀ, v = z0 + e1, β = 2/(vᵀv), which maps z0 to
 // -e1, the matrix H L H has (in exact arithmetic) a zero first row and
@@ -41,6 +41,9 @@ func denseLevel(lv *level, count int) ([]float64, *block, error) {
 	vals, u, err := symEig(nb, b)
 	if err != nil {
 		return nil, nil, err
+	}
+	if count < 0 {
+		count = nb
 	}
 	out := newBlock(n, count)
 	for c := 0; c < count; c++ {

@@ -24,6 +24,8 @@ const denseMax = 200
 // is solved densely.
 const coarseMax = 200
 
+var tuneCoarse = 60
+
 // Options controls Smallest.
 type Options struct {
 	// Tol bounds the residual ‖L z - λ z‖ of every returned unit vector
@@ -119,7 +121,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		}
 	} else {
 		levels := []*level{lv0}
-		for cur := lv0; cur.n > coarseMax; {
+		for cur := lv0; cur.n > tuneCoarse; {
 			c := coarsen(cur, workers)
 			if c == nil {
 				break
@@ -129,13 +131,21 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		}
 		coarsest := levels[len(levels)-1]
 		var x *block
-		if coarsest.n <= max(denseMax, 4*m) && len(levels) > 1 {
-			cnt := min(m, coarsest.n-1)
-			_, z, err := denseLevel(coarsest, cnt)
+		var mg *multigrid
+		if len(levels) > 1 {
+			if coarsest.n > 4*coarseMax {
+				return nil, fmt.Errorf("eigen: coarsening stalled at %d nodes", coarsest.n)
+			}
+			cvals, cvecs, err := denseLevel(coarsest, -1)
 			if err != nil {
 				return nil, err
 			}
-			x = z
+			mg = newMultigrid(levels, workers, cvecs, cvals)
+			cnt := min(m, coarsest.n-1)
+			x = newBlock(coarsest.n, cnt)
+			for i := 0; i < coarsest.n; i++ {
+				copy(x.v[i*cnt:i*cnt+cnt], cvecs.v[i*cvecs.m:i*cvecs.m+cnt])
+			}
 		} else {
 			x = newBlock(coarsest.n, 0)
 		}
@@ -145,16 +155,38 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		for l := len(levels) - 1; l >= 0; l-- {
 			if l < len(levels)-1 {
 				x = prolong(levels[l], levels[l+1], x)
+				for sm := 0; sm < tuneSmooth; sm++ {
+					lx := newBlock(x.n, x.m)
+					levels[l].applyL(lx, x, newBlock(x.n, x.m), workers)
+					for t := range x.v {
+						x.v[t] -= 0.7 * lx.v[t]
+					}
+				}
 			}
-			if l == len(levels)-1 && x.m > 0 && len(levels) > 1 {
+			if l == len(levels)-1 && len(levels) > 1 {
 				continue // exact dense solution of the coarsest level
 			}
 			ol := &ops{lv: levels[l], workers: workers}
-			r, err := lobpcg(ol, x, want, levelTol(tol, l), maxIter)
+			var pre func(*block) *block
+			if mg != nil {
+				sub := mg.sub(l)
+				pre = func(b *block) *block {
+					x := sub.apply(0, b)
+					return &block{n: x.n, m: x.m, v: append([]float64(nil), x.v...)}
+				}
+			}
+			it := maxIter
+			if l > 0 {
+				it = min(it, tuneMid)
+			}
+			r, err := lobpcg(ol, x, want, levelTol(tol, l), it, pre)
 			if err != nil {
 				return nil, err
 			}
 			x = r.x
+			if traceHook != nil {
+				traceHook(l, levels[l].n, len(levels[l].col), r.iters, r.residuals)
+			}
 			if l == 0 {
 				iters = r.iters
 				for q := 0; q < want; q++ {
@@ -176,7 +208,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 // blockSize is the LOBPCG block width for want eigenpairs: a few guard
 // vectors speed up convergence of clustered eigenvalues (Knyazev 2001).
 func blockSize(want int) int {
-	return want + max(2, (want+1)/2)
+	return want + max(tuneGuard, (want+1)/2)
 }
 
 // levelTol is the residual target on level l (0 = input graph). Coarse
@@ -281,3 +313,11 @@ func finish(o *ops, vals []float64, vecs *block, want int) *Result {
 	}
 	return res
 }
+
+var traceHook func(l, n, nnz, iters int, res []float64)
+
+var tuneMid = 3
+
+var tuneGuard = 2
+
+var tuneSmooth = 2

@@ -18,6 +18,7 @@ type level struct {
 	col    []int32
 	wt     []float32
 	deg    []float64 // d_i = Σ_j w_ij (self loop included)
+	diag   []float64 // L_ii = 1 - w_ii/d_i
 	s      []float64 // d_i^-1/2
 	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
 	agg    []int32   // fine node -> node of the next coarser level
@@ -43,6 +44,16 @@ func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
 		lv.deg[i] = d
 		lv.s[i] = 1 / math.Sqrt(d)
 		sum += d
+	}
+	lv.diag = make([]float64, n)
+	for i := 0; i < n; i++ {
+		lv.diag[i] = 1
+		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
+			if int(col[p]) == i {
+				lv.diag[i] -= float64(wt[p]) / lv.deg[i]
+			}
+		}
+		lv.diag[i] = max(lv.diag[i], 1e-3) // aggregates nearly cut off
 	}
 	inv := 1 / math.Sqrt(sum)
 	for i, d := range lv.deg {
@@ -116,6 +127,7 @@ func (b *block) row(i int) []float64 { return b.v[i*b.m : i*b.m+b.m] }
 func (lv *level) applyL(y, x, tmp *block, workers int) {
 	m := x.m
 	nc := lv.nchunks()
+	workCount += float64(len(lv.col) * m)
 	parallel(nc, workers, func(c int) {
 		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
 			si := lv.s[i]
@@ -144,6 +156,29 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 		yr := y.v[i*m : i*m+m]
 		xr := x.v[i*m : i*m+m]
 		c0 := 0
+		for ; c0+8 <= m; c0 += 8 {
+			var a0, a1, a2, a3, a4, a5, a6, a7 float64
+			for p, j := range cols {
+				w := float64(wts[p])
+				q := t[int(j)*m+c0 : int(j)*m+c0+8 : int(j)*m+c0+8]
+				a0 += w * q[0]
+				a1 += w * q[1]
+				a2 += w * q[2]
+				a3 += w * q[3]
+				a4 += w * q[4]
+				a5 += w * q[5]
+				a6 += w * q[6]
+				a7 += w * q[7]
+			}
+			yr[c0] = xr[c0] - si*a0
+			yr[c0+1] = xr[c0+1] - si*a1
+			yr[c0+2] = xr[c0+2] - si*a2
+			yr[c0+3] = xr[c0+3] - si*a3
+			yr[c0+4] = xr[c0+4] - si*a4
+			yr[c0+5] = xr[c0+5] - si*a5
+			yr[c0+6] = xr[c0+6] - si*a6
+			yr[c0+7] = xr[c0+7] - si*a7
+		}
 		for ; c0+4 <= m; c0 += 4 {
 			var a0, a1, a2, a3 float64
 			for p, j := range cols {
@@ -168,3 +203,5 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 		}
 	}
 }
+
+var workCount float64

@@ -1,6 +1,7 @@
 package eigen
 
 import (
+	"time"
 	"errors"
 	"math"
 
@@ -46,7 +47,7 @@ type lobpcgResult struct {
 // orthonormal and Rayleigh-Ritz is a standard symmetric eigenproblem.
 // It stops when the first want columns have ‖L x - θ x‖ <= tol or after
 // maxIter steps.
-func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult, error) {
+func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block) (*lobpcgResult, error) {
 	lv := o.lv
 	n := lv.n
 	o.deflate(x)
@@ -84,6 +85,9 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult
 			}
 		})
 		res = o.colNorms(r)
+		if iterHook != nil {
+			iterHook(lv.n, it, res, theta)
+		}
 		done := true
 		for q := 0; q < want; q++ {
 			if !(res[q] <= tol) {
@@ -107,22 +111,35 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult
 				}
 			}
 		})
+		tp := time.Now()
+		if precond != nil {
+			w = precond(w)
+		}
+		if n > 20000 {
+			precTime += time.Since(tp)
+		}
 		o.deflate(w)
 		o.orthogonalize(w, x, p)
 		w, _ = o.svqb(w, 1e-12)
-		w, _ = o.svqb(w, 1e-12)
+		if tuneTwice {
+			w, _ = o.svqb(w, 1e-12)
+		}
 		if w.m == 0 {
 			break
 		}
+		ta := time.Now()
 		aw := newBlock(n, w.m)
 		if cap(tmp.v) < n*w.m {
 			tmp = newBlock(n, w.m)
 		}
 		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
 
+		if n > 20000 {
+			matTime += time.Since(ta)
+		}
 		basis := []*block{x, w}
 		abasis := []*block{ax, aw}
-		if p != nil && p.m > 0 {
+		if p != nil && p.m > 0 && !tuneNoP {
 			basis = append(basis, p)
 			abasis = append(abasis, ap)
 		}
@@ -145,15 +162,15 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult
 		mp := len(z) / ns
 		xn := newBlock(n, m)
 		axn := newBlock(n, m)
-		o.combine(xn, basis, cm)
-		o.combine(axn, abasis, cm)
 		if mp > 0 {
 			pn := newBlock(n, mp)
 			apn := newBlock(n, mp)
-			o.combine(pn, basis, z)
-			o.combine(apn, abasis, z)
+			o.combineMulti([]*block{xn, pn}, basis, [][]float64{cm, z})
+			o.combineMulti([]*block{axn, apn}, abasis, [][]float64{cm, z})
 			p, ap = pn, apn
 		} else {
+			o.combine(xn, basis, cm)
+			o.combine(axn, abasis, cm)
 			p, ap = nil, nil
 		}
 		x, ax = xn, axn
@@ -162,34 +179,27 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int) (*lobpcgResult
 	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
 }
 
-// gramBlocks returns G = Sᵀ (A S) for S = [basis...], computed from the
-// upper block triangle and mirrored; the X-X block is diag(θ), which the
-// previous Rayleigh-Ritz step made exact up to rounding.
+// gramBlocks returns G = Sᵀ (A S) for S = [X, W, P] and A S = [AX, AW,
+// AP]. The X-X block is diag(θ), which the previous Rayleigh-Ritz step
+// made exact up to rounding; the others come from one fused pass
+// Sᵀ [AW, AP], mirrored by symmetry.
 func (o *ops) gramBlocks(basis, abasis []*block, theta []float64) []float64 {
-	ns := 0
-	off := make([]int, len(basis))
-	for t, b := range basis {
-		off[t] = ns
-		ns += b.m
-	}
+	ns := width(basis)
+	m := basis[0].m
 	g := make([]float64, ns*ns)
-	for a := range basis {
-		for b := a; b < len(basis); b++ {
-			if a == 0 && b == 0 {
-				for q, th := range theta {
-					g[q*ns+q] = th
-				}
-				continue
+	for q, th := range theta {
+		g[q*ns+q] = th
+	}
+	rest := ns - m
+	blk := o.gramMulti(basis, abasis[1:]) // ns × rest
+	for i := 0; i < ns; i++ {
+		for j := 0; j < rest; j++ {
+			v := blk[i*rest+j]
+			if i >= m && i-m > j {
+				continue // lower triangle of the trailing block: mirrored below
 			}
-			blk := o.gram(basis[a], abasis[b])
-			ma, mb := basis[a].m, basis[b].m
-			for i := 0; i < ma; i++ {
-				for j := 0; j < mb; j++ {
-					v := blk[i*mb+j]
-					g[(off[a]+i)*ns+off[b]+j] = v
-					g[(off[b]+j)*ns+off[a]+i] = v
-				}
-			}
+			g[i*ns+m+j] = v
+			g[(m+j)*ns+i] = v
 		}
 	}
 	return g
@@ -269,3 +279,9 @@ func vdot(a, b []float64) float64 {
 }
 
 func vnorm(a []float64) float64 { return math.Sqrt(vdot(a, a)) }
+
+var iterHook func(n, it int, res, theta []float64)
+
+var precTime, matTime time.Duration
+
+var tuneNoP, tuneTwice = false, true

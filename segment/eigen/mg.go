@@ -1,0 +1,194 @@
+package eigen
+
+import "math"
+
+// multigrid applies one cycle of an aggregation multigrid method (Golub
+// and Van Loan, section 4.8 on multigrid; Galerkin coarse operators,
+// damped Jacobi smoothing) for L x = b on the orthogonal complement of
+// z0, as the LOBPCG preconditioner T ≈ L^+ (Knyazev 2001). The coarse
+// operator of level l+1 is Pzᵀ L_l Pz with Pz = D^1/2 P D_c^-1/2 (see
+// coarsen), so the restriction is Pzᵀ and the prolongation Pz. Each
+// level visits the next one twice (a W-cycle): pairwise aggregation
+// halves the nodes per level, and one visit (a V-cycle) loses too much
+// of the coarse correction over many levels. The coarse correction is
+// scaled by alpha > 1, the over-correction that unsmoothed aggregation
+// needs (common practice in aggregation multigrid). The coarsest level is
+// solved exactly with the pseudo-inverse L_c^+ = Σ_{j>=1} u_j u_jᵀ / λ_j.
+type multigrid struct {
+	levels  []*level // levels[0] is the finest level of this cycle
+	workers int
+	pinv    []float64 // dense pseudo-inverse of the coarsest L, row-major
+	omega   float64   // Jacobi damping
+	alpha   float64   // coarse-correction scale
+	gamma   int       // coarse visits per level (2: W-cycle)
+	post    int       // post-smoothing steps
+	scratch []mgScratch
+	depth0  int // index of levels[0] in the full hierarchy
+}
+
+// mgScratch holds the work blocks of one level, reused across cycles.
+type mgScratch struct {
+	x, r, tmp   []float64 // fine size
+	rc, xc, res []float64 // coarse size
+}
+
+func newMultigrid(levels []*level, workers int, coarseVecs *block, coarseVals []float64) *multigrid {
+	nc := coarseVecs.n
+	pinv := make([]float64, nc*nc)
+	for j, lam := range coarseVals {
+		f := 1 / lam
+		for a := 0; a < nc; a++ {
+			ua := coarseVecs.v[a*coarseVecs.m+j] * f
+			row := pinv[a*nc : a*nc+nc]
+			for b := range row {
+				row[b] += ua * coarseVecs.v[b*coarseVecs.m+j]
+			}
+		}
+	}
+	return &multigrid{levels: levels, workers: workers, pinv: pinv,
+		omega: tuneOmega, alpha: tuneAlpha, gamma: tuneGamma, post: tunePost,
+		scratch: make([]mgScratch, len(levels))}
+}
+
+// sub returns the cycle restricted to levels[l:], sharing its buffers.
+func (mg *multigrid) sub(l int) *multigrid {
+	s := *mg
+	s.levels = mg.levels[l:]
+	s.scratch = mg.scratch[l:]
+	s.depth0 = mg.depth0 + l
+	return &s
+}
+
+func grow(buf []float64, n int) []float64 {
+	if cap(buf) < n {
+		return make([]float64, n)
+	}
+	return buf[:n]
+}
+
+// apply returns x ≈ L^+ b for a block b on level l. The result lives in
+// level l's scratch space and is valid until the next call on level l.
+func (mg *multigrid) apply(l int, b *block) *block {
+	lv := mg.levels[l]
+	n, m := b.n, b.m
+	if l == len(mg.levels)-1 {
+		return mg.coarseSolve(b)
+	}
+	sc := &mg.scratch[l]
+	next := mg.levels[l+1]
+	sc.x = grow(sc.x, n*m)
+	sc.r = grow(sc.r, n*m)
+	sc.tmp = grow(sc.tmp, n*m)
+	sc.rc = grow(sc.rc, next.n*m)
+	sc.xc = grow(sc.xc, next.n*m)
+	sc.res = grow(sc.res, next.n*m)
+	x := &block{n: n, m: m, v: sc.x}
+	r := &block{n: n, m: m, v: sc.r}
+	tmp := &block{n: n, m: m, v: sc.tmp}
+	rc := &block{n: next.n, m: m, v: sc.rc}
+	xc := &block{n: next.n, m: m, v: sc.xc}
+	res := &block{n: next.n, m: m, v: sc.res}
+	// Pre-smoothing from zero: x = ω D_L^-1 b.
+	for i := 0; i < n; i++ {
+		f := mg.omega / lv.diag[i]
+		for q := 0; q < m; q++ {
+			x.v[i*m+q] = f * b.v[i*m+q]
+		}
+	}
+	residual := func() {
+		lv.applyL(r, x, tmp, mg.workers)
+		for t := range r.v {
+			r.v[t] = b.v[t] - r.v[t]
+		}
+	}
+	residual()
+	restrict(lv, next, r, rc)
+	clear(xc.v)
+	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
+	if l+mg.depth0 >= tuneWD {
+		gamma, alpha, post = 1, tuneAlphaV, 1
+	}
+	for g := 0; g < gamma; g++ {
+		src := rc
+		if g > 0 {
+			if l+1 == len(mg.levels)-1 {
+				break // the coarsest solve is exact
+			}
+			next.applyL(res, xc, &block{n: next.n, m: m, v: sc.tmp[:next.n*m]}, mg.workers)
+			for t := range res.v {
+				res.v[t] = rc.v[t] - res.v[t]
+			}
+			src = res
+		}
+		d := mg.apply(l+1, src)
+		for t := range xc.v {
+			xc.v[t] += d.v[t]
+		}
+	}
+	prolongAdd(lv, next, xc, x, alpha)
+	for s := 0; s < post; s++ {
+		residual()
+		for i := 0; i < n; i++ {
+			f := mg.omega / lv.diag[i]
+			for q := 0; q < m; q++ {
+				x.v[i*m+q] += f * r.v[i*m+q]
+			}
+		}
+	}
+	o := &ops{lv: lv, workers: mg.workers}
+	o.deflate(x)
+	return x
+}
+
+// coarseSolve applies the pseudo-inverse of the coarsest L.
+func (mg *multigrid) coarseSolve(b *block) *block {
+	n, m := b.n, b.m
+	sc := &mg.scratch[len(mg.levels)-1]
+	sc.x = grow(sc.x, n*m)
+	x := &block{n: n, m: m, v: sc.x}
+	clear(x.v)
+	for a := 0; a < n; a++ {
+		xa := x.v[a*m : a*m+m]
+		for c, p := range mg.pinv[a*n : a*n+n] {
+			bc := b.v[c*m : c*m+m]
+			for q := range xa {
+				xa[q] += p * bc[q]
+			}
+		}
+	}
+	return x
+}
+
+// restrict computes r_c = Pzᵀ r: r_c[a] = Σ_{i in a} sqrt(d_i/d_c[a]) r_i,
+// summed in fine node order.
+func restrict(fine, coarse *level, r, out *block) {
+	m := r.m
+	clear(out.v)
+	for i := 0; i < fine.n; i++ {
+		a := int(fine.agg[i])
+		f := math.Sqrt(fine.deg[i] / coarse.deg[a])
+		src := r.v[i*m : i*m+m]
+		dst := out.v[a*m : a*m+m]
+		for q, v := range src {
+			dst[q] += f * v
+		}
+	}
+}
+
+// prolongAdd adds alpha · Pz zc to x.
+func prolongAdd(fine, coarse *level, zc, x *block, alpha float64) {
+	m := zc.m
+	for i := 0; i < fine.n; i++ {
+		a := int(fine.agg[i])
+		f := alpha * math.Sqrt(fine.deg[i]/coarse.deg[a])
+		src := zc.v[a*m : a*m+m]
+		dst := x.v[i*m : i*m+m]
+		for q, v := range src {
+			dst[q] += f * v
+		}
+	}
+}
+
+var tuneOmega, tuneAlpha, tuneGamma, tunePost = 0.7, 1.5, 2, 0
+
+var tuneWD, tuneAlphaV = 2, 1.0
