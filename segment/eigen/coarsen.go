@@ -40,7 +40,7 @@ func coarsen(lv *level, workers int) *level {
 				best, bw = j, w
 			}
 		}
-		if best >= 0 && bw >= tuneStrong*wmax {
+		if best >= 0 && bw >= strongFraction*wmax {
 			mate[i], mate[best] = int32(best), int32(i)
 		} else {
 			mate[i] = int32(i)
@@ -148,4 +148,10 @@ func prolong(fine, coarse *level, zc *block) *block {
 	return out
 }
 
-var tuneStrong = 0.3
+// strongFraction is the smallest normalized weight, relative to the
+// heaviest edge of a node, that matching may use: pairing a node with a
+// weakly coupled neighbour (across a region boundary) makes the coarse
+// eigenvalues poor upper bounds. The "strong connection" test is common
+// practice in algebraic multigrid; 0.3 was measured best on the coins
+// pixel graph.
+const strongFraction = 0.3

@@ -21,10 +21,19 @@ const DefaultMaxIter = 500
 const denseMax = 200
 
 // coarseMax is the size at which coarsening stops and the coarsest graph
-// is solved densely.
-const coarseMax = 200
+// is solved densely. The W-cycle visits the coarsest level 2^levels
+// times, so it is kept small.
+const coarseMax = 60
 
-var tuneCoarse = 60
+// midIter is the LOBPCG step limit on the intermediate levels: a few
+// steps there give the next level a start that is good enough, more cost
+// more than they save (measured on the coins pixel graph).
+const midIter = 3
+
+// prolongSmooth is the number of damped Jacobi steps z <- z - 0.7 L z
+// applied to interpolated vectors; they remove most of the jumps of the
+// piecewise-constant interpolation at the cost of one product each.
+const prolongSmooth = 2
 
 // Options controls Smallest.
 type Options struct {
@@ -121,7 +130,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		}
 	} else {
 		levels := []*level{lv0}
-		for cur := lv0; cur.n > tuneCoarse; {
+		for cur := lv0; cur.n > coarseMax; {
 			c := coarsen(cur, workers)
 			if c == nil {
 				break
@@ -155,7 +164,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		for l := len(levels) - 1; l >= 0; l-- {
 			if l < len(levels)-1 {
 				x = prolong(levels[l], levels[l+1], x)
-				for sm := 0; sm < tuneSmooth; sm++ {
+				for sm := 0; sm < prolongSmooth; sm++ {
 					lx := newBlock(x.n, x.m)
 					levels[l].applyL(lx, x, newBlock(x.n, x.m), workers)
 					for t := range x.v {
@@ -177,16 +186,13 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 			}
 			it := maxIter
 			if l > 0 {
-				it = min(it, tuneMid)
+				it = min(it, midIter)
 			}
 			r, err := lobpcg(ol, x, want, levelTol(tol, l), it, pre)
 			if err != nil {
 				return nil, err
 			}
 			x = r.x
-			if traceHook != nil {
-				traceHook(l, levels[l].n, len(levels[l].col), r.iters, r.residuals)
-			}
 			if l == 0 {
 				iters = r.iters
 				for q := 0; q < want; q++ {
@@ -208,7 +214,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 // blockSize is the LOBPCG block width for want eigenpairs: a few guard
 // vectors speed up convergence of clustered eigenvalues (Knyazev 2001).
 func blockSize(want int) int {
-	return want + max(tuneGuard, (want+1)/2)
+	return want + max(3, (want+1)/2)
 }
 
 // levelTol is the residual target on level l (0 = input graph). Coarse
@@ -313,11 +319,3 @@ func finish(o *ops, vals []float64, vecs *block, want int) *Result {
 	}
 	return res
 }
-
-var traceHook func(l, n, nnz, iters int, res []float64)
-
-var tuneMid = 3
-
-var tuneGuard = 2
-
-var tuneSmooth = 2

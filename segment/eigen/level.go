@@ -127,7 +127,6 @@ func (b *block) row(i int) []float64 { return b.v[i*b.m : i*b.m+b.m] }
 func (lv *level) applyL(y, x, tmp *block, workers int) {
 	m := x.m
 	nc := lv.nchunks()
-	workCount += float64(len(lv.col) * m)
 	parallel(nc, workers, func(c int) {
 		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
 			si := lv.s[i]
@@ -203,5 +202,3 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 		}
 	}
 }
-
-var workCount float64

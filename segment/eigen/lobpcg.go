@@ -1,7 +1,6 @@
 package eigen
 
 import (
-	"time"
 	"errors"
 	"math"
 
@@ -85,9 +84,6 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			}
 		})
 		res = o.colNorms(r)
-		if iterHook != nil {
-			iterHook(lv.n, it, res, theta)
-		}
 		done := true
 		for q := 0; q < want; q++ {
 			if !(res[q] <= tol) {
@@ -111,35 +107,25 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 				}
 			}
 		})
-		tp := time.Now()
 		if precond != nil {
 			w = precond(w)
-		}
-		if n > 20000 {
-			precTime += time.Since(tp)
 		}
 		o.deflate(w)
 		o.orthogonalize(w, x, p)
 		w, _ = o.svqb(w, 1e-12)
-		if tuneTwice {
-			w, _ = o.svqb(w, 1e-12)
-		}
+		w, _ = o.svqb(w, 1e-12)
 		if w.m == 0 {
 			break
 		}
-		ta := time.Now()
 		aw := newBlock(n, w.m)
 		if cap(tmp.v) < n*w.m {
 			tmp = newBlock(n, w.m)
 		}
 		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
 
-		if n > 20000 {
-			matTime += time.Since(ta)
-		}
 		basis := []*block{x, w}
 		abasis := []*block{ax, aw}
-		if p != nil && p.m > 0 && !tuneNoP {
+		if p != nil && p.m > 0 {
 			basis = append(basis, p)
 			abasis = append(abasis, ap)
 		}
@@ -279,9 +265,3 @@ func vdot(a, b []float64) float64 {
 }
 
 func vnorm(a []float64) float64 { return math.Sqrt(vdot(a, a)) }
-
-var iterHook func(n, it int, res, theta []float64)
-
-var precTime, matTime time.Duration
-
-var tuneNoP, tuneTwice = false, true
