@@ -1,0 +1,83 @@
+package eigen
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
+)
+
+// debianPython is Debian's interpreter, whose python3-scipy is the
+// reference; other interpreters on the path may lack it.
+const debianPython = "/usr/bin/python3"
+
+var eigshScript = filepath.Join("..", "..", "testdata", "eigen", "eigsh_check.py")
+
+// scipySmallest runs testdata/eigen/eigsh_check.py on g and returns the k
+// smallest eigenvalues of L computed by scipy.sparse.linalg.eigsh.
+func scipySmallest(t *testing.T, g *affinity.Graph, k int) []float64 {
+	t.Helper()
+	if err := exec.Command(debianPython, "-c", "import scipy.sparse.linalg, scipy.io").Run(); err != nil {
+		t.Skip("SKIPPED: Debian python3-scipy not installed (apt-get install -y python3-scipy); scipy cross-check did not run")
+	}
+	path := filepath.Join(t.TempDir(), "graph.mtx")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := g.WriteMatrixMarket(f, "segment/eigen scipy cross-check"); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
+	}
+	out, err := exec.Command(debianPython, eigshScript, path, strconv.Itoa(k)).Output()
+	if err != nil {
+		t.Fatalf("%s: %v", eigshScript, err)
+	}
+	var res struct {
+		Values []float64 `json:"values"`
+	}
+	if err := json.Unmarshal(out, &res); err != nil {
+		t.Fatalf("%s output %q: %v", eigshScript, out, err)
+	}
+	if len(res.Values) != k {
+		t.Fatalf("scipy returned %d values, want %d", len(res.Values), k)
+	}
+	return res.Values
+}
+
+// TestScipy cross-checks eigenvalues with scipy.sparse.linalg.eigsh
+// (ARPACK, shift-invert about -1e-3, tol 1e-6) from Debian's
+// python3-scipy on graphs written in Matrix Market format.
+func TestScipy(t *testing.T) {
+	cases := []struct {
+		name string
+		g    *affinity.Graph
+		k    int
+	}{
+		{"planar 3000", planarGraph(3000, 21), 6},
+		{"planar 500", planarGraph(500, 22), 2},
+		{"random 1500", randomGraph(t, 1500, 3000, 23), 8},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			want := scipySmallest(t, c.g, c.k)
+			r, err := Smallest(c.g, c.k, Options{Tol: 1e-9})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, w := range want {
+				// scipy eigsh: 1e-6 relative (1e-12 absolute for λ_0 = 0).
+				if math.Abs(r.Values[i]-w) > 1e-12+1e-6*math.Abs(w) {
+					t.Errorf("λ_%d = %.12g, scipy %.12g", i, r.Values[i], w)
+				}
+			}
+		})
+	}
+}
