@@ -13,7 +13,32 @@ import (
 type ops struct {
 	lv      *level
 	workers int
-	part    []float64 // scratch for per-chunk partial sums
+	part    []float64   // scratch for per-chunk partial sums
+	free    [][]float64 // released block storage, reused by get
+}
+
+// get returns an n×m block whose contents are undefined; every caller
+// overwrites it completely. Reusing storage keeps the garbage collector
+// out of the iteration.
+func (o *ops) get(m int) *block {
+	n := o.lv.n
+	for t := len(o.free) - 1; t >= 0; t-- {
+		if cap(o.free[t]) >= n*m {
+			v := o.free[t][:n*m]
+			o.free = append(o.free[:t], o.free[t+1:]...)
+			return &block{n: n, m: m, v: v}
+		}
+	}
+	return newBlock(n, m)
+}
+
+// put releases the storage of blocks that are no longer used.
+func (o *ops) put(bs ...*block) {
+	for _, b := range bs {
+		if b != nil && b.v != nil {
+			o.free = append(o.free, b.v)
+		}
+	}
 }
 
 // gram returns the ma×mb matrix Aᵀ B (row-major).
@@ -69,7 +94,11 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 	parallel(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			gatherRow(s, bs, i)
+			if len(bs) == 1 {
+				s = bs[0].v[i*nb : i*nb+nb]
+			} else {
+				gatherRow(s, bs, i)
+			}
 			dotRows(a.v[i*ma:i*ma+ma], s, ct, true)
 		}
 	})
@@ -144,7 +173,7 @@ func (o *ops) svqb(w *block, drop float64) (*block, []float64) {
 			t[i*k+q] = dscale[i] * vecs.At(i, j) * f
 		}
 	}
-	out := newBlock(w.n, k)
+	out := o.get(k)
 	o.combine(out, []*block{w}, t)
 	return out, t
 }
@@ -168,16 +197,25 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 		ra := make([]float64, 4*na)
 		rb := make([]float64, 4*nb)
 		r0, r1 := o.lv.chunks[c], o.lv.chunks[c+1]
+		single := len(as) == 1 && len(bs) == 1
 		for i := r0; i < r1; i += 4 {
 			cnt := min(4, r1-i)
-			clear(ra)
-			clear(rb)
-			for t := 0; t < cnt; t++ {
-				gatherRow(ra[t*na:(t+1)*na], as, i+t)
-				gatherRow(rb[t*nb:(t+1)*nb], bs, i+t)
+			var a0, a1, a2, a3, b0, b1, b2, b3 []float64
+			if single && cnt == 4 {
+				// Contiguous rows: slice them in place.
+				av, bv := as[0].v, bs[0].v
+				a0, a1, a2, a3 = av[i*na:(i+1)*na], av[(i+1)*na:(i+2)*na], av[(i+2)*na:(i+3)*na], av[(i+3)*na:(i+4)*na]
+				b0, b1, b2, b3 = bv[i*nb:(i+1)*nb], bv[(i+1)*nb:(i+2)*nb], bv[(i+2)*nb:(i+3)*nb], bv[(i+3)*nb:(i+4)*nb]
+			} else {
+				clear(ra)
+				clear(rb)
+				for t := 0; t < cnt; t++ {
+					gatherRow(ra[t*na:(t+1)*na], as, i+t)
+					gatherRow(rb[t*nb:(t+1)*nb], bs, i+t)
+				}
+				a0, a1, a2, a3 = ra[:na], ra[na:2*na], ra[2*na:3*na], ra[3*na:4*na]
+				b0, b1, b2, b3 = rb[:nb], rb[nb:2*nb], rb[2*nb:3*nb], rb[3*nb:4*nb]
 			}
-			a0, a1, a2, a3 := ra[:na], ra[na:2*na], ra[2*na:3*na], ra[3*na:4*na]
-			b0, b1, b2, b3 := rb[:nb], rb[nb:2*nb], rb[2*nb:3*nb], rb[3*nb:4*nb]
 			for p := 0; p < na; p++ {
 				x0, x1, x2, x3 := a0[p], a1[p], a2[p], a3[p]
 				gr := g[p*nb : p*nb+nb]
@@ -235,7 +273,11 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 	parallel(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, ns)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			gatherRow(s, in, i)
+			if len(in) == 1 {
+				s = in[0].v[i*ns : i*ns+ns]
+			} else {
+				gatherRow(s, in, i)
+			}
 			for t, out := range outs {
 				mc := out.m
 				dotRows(out.v[i*mc:i*mc+mc], s, cts[t], false)

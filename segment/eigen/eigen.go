@@ -28,7 +28,7 @@ const coarseMax = 60
 // midIter is the LOBPCG step limit on the intermediate levels: a few
 // steps there give the next level a start that is good enough, more cost
 // more than they save (measured on the coins pixel graph).
-const midIter = 3
+const midIter = 2
 
 // prolongSmooth is the number of damped Jacobi steps z <- z - 0.7 L z
 // applied to interpolated vectors; they remove most of the jumps of the
@@ -181,7 +181,9 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 				sub := mg.sub(l)
 				pre = func(b *block) *block {
 					x := sub.apply(0, b)
-					return &block{n: x.n, m: x.m, v: append([]float64(nil), x.v...)}
+					out := ol.get(x.m)
+					copy(out.v, x.v)
+					return out
 				}
 			}
 			it := maxIter

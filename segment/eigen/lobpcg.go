@@ -64,9 +64,10 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	if err != nil {
 		return nil, err
 	}
-	xn, axn := newBlock(n, m), newBlock(n, m)
+	xn, axn := o.get(m), o.get(m)
 	o.combine(xn, []*block{x}, c)
 	o.combine(axn, []*block{ax}, c)
+	o.put(x, ax)
 	x, ax = xn, axn
 
 	var p, ap *block
@@ -99,7 +100,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 				active = append(active, q)
 			}
 		}
-		w := newBlock(n, len(active))
+		w := o.get(len(active))
 		parallel(lv.nchunks(), o.workers, func(ch int) {
 			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
 				for t, q := range active {
@@ -108,16 +109,21 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			}
 		})
 		if precond != nil {
-			w = precond(w)
+			pw := precond(w)
+			o.put(w)
+			w = pw
 		}
 		o.deflate(w)
 		o.orthogonalize(w, x, p)
-		w, _ = o.svqb(w, 1e-12)
-		w, _ = o.svqb(w, 1e-12)
+		for pass := 0; pass < 2; pass++ {
+			w2, _ := o.svqb(w, 1e-12)
+			o.put(w)
+			w = w2
+		}
 		if w.m == 0 {
 			break
 		}
-		aw := newBlock(n, w.m)
+		aw := o.get(w.m)
 		if cap(tmp.v) < n*w.m {
 			tmp = newBlock(n, w.m)
 		}
@@ -146,11 +152,12 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		}
 		z := smallComplement(cm, ns, m)
 		mp := len(z) / ns
-		xn := newBlock(n, m)
-		axn := newBlock(n, m)
+		old := []*block{x, ax, w, aw, p, ap}
+		xn := o.get(m)
+		axn := o.get(m)
 		if mp > 0 {
-			pn := newBlock(n, mp)
-			apn := newBlock(n, mp)
+			pn := o.get(mp)
+			apn := o.get(mp)
 			o.combineMulti([]*block{xn, pn}, basis, [][]float64{cm, z})
 			o.combineMulti([]*block{axn, apn}, abasis, [][]float64{cm, z})
 			p, ap = pn, apn
@@ -160,6 +167,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			p, ap = nil, nil
 		}
 		x, ax = xn, axn
+		o.put(old...)
 		theta = vals[:m]
 	}
 	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
