@@ -155,29 +155,6 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 		yr := y.v[i*m : i*m+m]
 		xr := x.v[i*m : i*m+m]
 		c0 := 0
-		for ; c0+8 <= m; c0 += 8 {
-			var a0, a1, a2, a3, a4, a5, a6, a7 float64
-			for p, j := range cols {
-				w := float64(wts[p])
-				q := t[int(j)*m+c0 : int(j)*m+c0+8 : int(j)*m+c0+8]
-				a0 += w * q[0]
-				a1 += w * q[1]
-				a2 += w * q[2]
-				a3 += w * q[3]
-				a4 += w * q[4]
-				a5 += w * q[5]
-				a6 += w * q[6]
-				a7 += w * q[7]
-			}
-			yr[c0] = xr[c0] - si*a0
-			yr[c0+1] = xr[c0+1] - si*a1
-			yr[c0+2] = xr[c0+2] - si*a2
-			yr[c0+3] = xr[c0+3] - si*a3
-			yr[c0+4] = xr[c0+4] - si*a4
-			yr[c0+5] = xr[c0+5] - si*a5
-			yr[c0+6] = xr[c0+6] - si*a6
-			yr[c0+7] = xr[c0+7] - si*a7
-		}
 		for ; c0+4 <= m; c0 += 4 {
 			var a0, a1, a2, a3 float64
 			for p, j := range cols {
