@@ -1,7 +1,5 @@
 package eigen
 
-import "math"
-
 // coarsen builds the next coarser level by heavy-edge matching and the
 // Galerkin product W_c = Pᵀ W P (Cour, Benezit and Shi 2005 use such
 // multiscale graphs; heavy-edge matching is common practice in multilevel
@@ -62,6 +60,14 @@ func coarsen(lv *level, workers int) *level {
 		return nil
 	}
 	lv.agg = agg
+	lv.pairs = make([]int32, 2*nc)
+	for a, i := range first {
+		lv.pairs[2*a] = i
+		lv.pairs[2*a+1] = -1
+		if j := mate[i]; j != i {
+			lv.pairs[2*a+1] = j
+		}
+	}
 
 	// Galerkin product, rows in fixed chunks built independently.
 	const rowsPerChunk = 2048
@@ -133,18 +139,9 @@ func coarsen(lv *level, workers int) *level {
 // sqrt(d_i / d_c[a]) z_c[a] for i in aggregate a, i.e. y = D^-1/2 z is
 // constant on aggregates (Shi and Malik's generalized eigenvectors are
 // interpolated piecewise constant), and z keeps unit norm.
-func prolong(fine, coarse *level, zc *block) *block {
-	m := zc.m
-	out := newBlock(fine.n, m)
-	for i := 0; i < fine.n; i++ {
-		a := int(fine.agg[i])
-		f := math.Sqrt(fine.deg[i] / coarse.deg[a])
-		src := zc.v[a*m : a*m+m]
-		dst := out.v[i*m : i*m+m]
-		for q, v := range src {
-			dst[q] = f * v
-		}
-	}
+func prolong(fine, coarse *level, zc *block, workers int) *block {
+	out := newBlock(fine.n, zc.m)
+	prolongAdd(fine, coarse, zc, out, 1, workers)
 	return out
 }
 

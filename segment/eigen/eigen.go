@@ -163,7 +163,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		}
 		for l := len(levels) - 1; l >= 0; l-- {
 			if l < len(levels)-1 {
-				x = prolong(levels[l], levels[l+1], x)
+				x = prolong(levels[l], levels[l+1], x, workers)
 				for sm := 0; sm < prolongSmooth; sm++ {
 					lx := newBlock(x.n, x.m)
 					levels[l].applyL(lx, x, newBlock(x.n, x.m), workers)

@@ -22,6 +22,7 @@ type level struct {
 	s      []float64 // d_i^-1/2
 	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
 	agg    []int32   // fine node -> node of the next coarser level
+	pairs  []int32   // members of coarse node a: pairs[2a] < pairs[2a+1] (-1: none)
 	chunks []int     // fixed row chunk boundaries (independent of workers)
 }
 

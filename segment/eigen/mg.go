@@ -89,20 +89,24 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	xc := &block{n: next.n, m: m, v: sc.xc}
 	res := &block{n: next.n, m: m, v: sc.res}
 	// Pre-smoothing from zero: x = ω D_L^-1 b.
-	for i := 0; i < n; i++ {
-		f := mg.omega / lv.diag[i]
-		for q := 0; q < m; q++ {
-			x.v[i*m+q] = f * b.v[i*m+q]
+	parallel(lv.nchunks(), mg.workers, func(c int) {
+		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
+			f := mg.omega / lv.diag[i]
+			for q := 0; q < m; q++ {
+				x.v[i*m+q] = f * b.v[i*m+q]
+			}
 		}
-	}
+	})
 	residual := func() {
 		lv.applyL(r, x, tmp, mg.workers)
-		for t := range r.v {
-			r.v[t] = b.v[t] - r.v[t]
-		}
+		parallel(lv.nchunks(), mg.workers, func(c int) {
+			for t := lv.chunks[c] * m; t < lv.chunks[c+1]*m; t++ {
+				r.v[t] = b.v[t] - r.v[t]
+			}
+		})
 	}
 	residual()
-	restrict(lv, next, r, rc)
+	restrict(lv, next, r, rc, mg.workers)
 	clear(xc.v)
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
 	if l+mg.depth0 >= wDepth {
@@ -125,7 +129,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 			xc.v[t] += d.v[t]
 		}
 	}
-	prolongAdd(lv, next, xc, x, alpha)
+	prolongAdd(lv, next, xc, x, alpha, mg.workers)
 	for s := 0; s < post; s++ {
 		residual()
 		for i := 0; i < n; i++ {
@@ -160,33 +164,45 @@ func (mg *multigrid) coarseSolve(b *block) *block {
 }
 
 // restrict computes r_c = Pzᵀ r: r_c[a] = Σ_{i in a} sqrt(d_i/d_c[a]) r_i,
-// summed in fine node order.
-func restrict(fine, coarse *level, r, out *block) {
+// the members of a taken in ascending order.
+func restrict(fine, coarse *level, r, out *block, workers int) {
 	m := r.m
-	clear(out.v)
-	for i := 0; i < fine.n; i++ {
-		a := int(fine.agg[i])
-		f := math.Sqrt(fine.deg[i] / coarse.deg[a])
-		src := r.v[i*m : i*m+m]
-		dst := out.v[a*m : a*m+m]
-		for q, v := range src {
-			dst[q] += f * v
+	parallel(coarse.nchunks(), workers, func(c int) {
+		for a := coarse.chunks[c]; a < coarse.chunks[c+1]; a++ {
+			dst := out.v[a*m : a*m+m]
+			i := int(fine.pairs[2*a])
+			f := math.Sqrt(fine.deg[i] / coarse.deg[a])
+			src := r.v[i*m : i*m+m]
+			for q, v := range src {
+				dst[q] = f * v
+			}
+			if j := int(fine.pairs[2*a+1]); j >= 0 {
+				f := math.Sqrt(fine.deg[j] / coarse.deg[a])
+				src := r.v[j*m : j*m+m]
+				for q, v := range src {
+					dst[q] += f * v
+				}
+			}
 		}
-	}
+	})
 }
 
-// prolongAdd adds alpha · Pz zc to x.
-func prolongAdd(fine, coarse *level, zc, x *block, alpha float64) {
+// prolongAdd adds alpha · Pz zc to x: x_i += alpha sqrt(d_i/d_c[a]) zc[a]
+// for i in aggregate a, i.e. y = D^-1/2 z is interpolated piecewise
+// constant (Shi and Malik's generalized eigenvectors).
+func prolongAdd(fine, coarse *level, zc, x *block, alpha float64, workers int) {
 	m := zc.m
-	for i := 0; i < fine.n; i++ {
-		a := int(fine.agg[i])
-		f := alpha * math.Sqrt(fine.deg[i]/coarse.deg[a])
-		src := zc.v[a*m : a*m+m]
-		dst := x.v[i*m : i*m+m]
-		for q, v := range src {
-			dst[q] += f * v
+	parallel(fine.nchunks(), workers, func(c int) {
+		for i := fine.chunks[c]; i < fine.chunks[c+1]; i++ {
+			a := int(fine.agg[i])
+			f := alpha * math.Sqrt(fine.deg[i]/coarse.deg[a])
+			src := zc.v[a*m : a*m+m]
+			dst := x.v[i*m : i*m+m]
+			for q, v := range src {
+				dst[q] += f * v
+			}
 		}
-	}
+	})
 }
 
 // wDepth is the number of top levels cycled as a W-cycle (two coarse
