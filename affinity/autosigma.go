@@ -123,3 +123,53 @@ func lowerMedian(v []float32) float32 {
 	slices.Sort(in)
 	return in[k-below]
 }
+
+// AutoRegionSigmaI estimates sigma_I of the superpixel graph the same way
+// AutoSigmaI does for pixels, from the differences of mean features of
+// adjacent regions (adj is Adjacency of the labelling):
+//
+//	sigma_I = max(median(‖F_i - F_j‖),  0.01 · spread,  1e-3)
+//
+// with spread the range of the region means. Region means average the
+// pixel noise away, so the pixel estimate would be far too wide for them;
+// most adjacent regions lie inside one object or the background, so the
+// median difference measures what "alike" means at the superpixel scale
+// (local scaling after Zelnik-Manor and Perona 2004). Unlike pixel noise,
+// differences of region means carry texture and shading too, so no
+// widening factor is applied: a factor of 1 was chosen on the project's
+// nuclei and plate scenes (plates lost their defects at 2; nuclei did not
+// change between 0.7 and 3).
+func AutoRegionSigmaI(r *Regions, adj *Graph) float64 {
+	var dist []float32
+	for i := 0; i < adj.N; i++ {
+		for p := adj.RowPtr[i]; p < adj.RowPtr[i+1]; p++ {
+			j := int(adj.Col[p])
+			if j <= i {
+				continue
+			}
+			var d2 float64
+			for c := range r.Mean {
+				d := r.Mean[c][i] - r.Mean[c][j]
+				d2 += d * d
+			}
+			if d := math.Sqrt(d2); !math.IsNaN(d) && !math.IsInf(d, 0) {
+				dist = append(dist, float32(d))
+			}
+		}
+	}
+	var spread2 float64
+	for c := range r.Mean {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, v := range r.Mean[c] {
+			lo, hi = min(lo, v), max(hi, v)
+		}
+		if hi > lo {
+			spread2 += (hi - lo) * (hi - lo)
+		}
+	}
+	s := max(0.01*math.Sqrt(spread2), minSigmaI)
+	if len(dist) > 0 {
+		s = max(s, float64(lowerMedian(dist)))
+	}
+	return s
+}

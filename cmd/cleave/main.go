@@ -1,0 +1,150 @@
+// Command cleave segments microscopy and inspection images by normalized
+// cuts. See `cleave help` and the README.
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"runtime/debug"
+	"syscall"
+)
+
+// version is the tool version written into every record.
+const version = "0.1.0"
+
+// Exit codes.
+const (
+	exitOK    = 0
+	exitFail  = 1 // the work failed for at least one file
+	exitUsage = 2 // wrong usage: bad flag, bad parameter, bad params file
+)
+
+// usageError marks errors caused by how the command was called (exit 2).
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Unwrap() error { return e.err }
+
+func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
+}
+
+// command is one subcommand.
+type command struct {
+	name, summary string
+	run           func(ctx context.Context, args []string, stdout, stderr io.Writer) int
+	help          func(w io.Writer)
+}
+
+func commands() []command {
+	return []command{
+		{"segment", "segment images into label maps, overlays, region tables and records", runSegment, segmentHelp},
+	}
+}
+
+const caution = `Caution: cleave's results are not validated for clinical diagnosis or for
+safety-critical acceptance decisions. Validate them against your own ground
+truth before relying on them, and defer to local codes and licensed practice.
+`
+
+func mainHelp(w io.Writer) {
+	fmt.Fprintf(w, `cleave %s: segment images by normalized cuts
+
+Usage:
+  cleave COMMAND [flags] [arguments]
+
+Commands:
+`, version)
+	for _, c := range commands() {
+		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintf(w, `  help      show help for a command
+  version   print the version
+
+Run 'cleave help COMMAND' or 'cleave COMMAND --help' for a command's flags
+and a worked example.
+
+%s`, caution)
+}
+
+// run is main without the process: it returns the exit code.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		mainHelp(stderr)
+		return exitUsage
+	}
+	switch args[0] {
+	case "-h", "--help", "help":
+		if len(args) > 1 && args[0] == "help" {
+			for _, c := range commands() {
+				if c.name == args[1] {
+					c.help(stdout)
+					return exitOK
+				}
+			}
+			fmt.Fprintf(stderr, "cleave: no command %q; run 'cleave help' for the list\n", args[1])
+			return exitUsage
+		}
+		mainHelp(stdout)
+		return exitOK
+	case "-v", "--version", "version":
+		fmt.Fprintf(stdout, "cleave %s%s\n", version, buildSuffix())
+		return exitOK
+	}
+	for _, c := range commands() {
+		if c.name == args[0] {
+			return c.run(ctx, args[1:], stdout, stderr)
+		}
+	}
+	fmt.Fprintf(stderr, "cleave: unknown command %q; run 'cleave help' for the list\n", args[0])
+	return exitUsage
+}
+
+// buildSuffix adds the VCS revision when the binary was built from a
+// checkout.
+func buildSuffix() string {
+	bi, ok := debug.ReadBuildInfo()
+	if !ok {
+		return ""
+	}
+	var rev, dirty string
+	for _, s := range bi.Settings {
+		switch s.Key {
+		case "vcs.revision":
+			rev = s.Value
+		case "vcs.modified":
+			if s.Value == "true" {
+				dirty = "+modified"
+			}
+		}
+	}
+	if len(rev) > 12 {
+		rev = rev[:12]
+	}
+	if rev == "" {
+		return ""
+	}
+	return " (" + rev + dirty + ")"
+}
+
+// exitCode maps an error to the exit code.
+func exitCode(err error) int {
+	var u *usageError
+	switch {
+	case err == nil:
+		return exitOK
+	case errors.As(err, &u):
+		return exitUsage
+	default:
+		return exitFail
+	}
+}

@@ -1,0 +1,218 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment"
+)
+
+// inputInfo describes the input file in the record.
+type inputInfo struct {
+	Path     string `json:"path"`
+	SHA256   string `json:"sha256"`
+	Format   string `json:"format"`
+	Width    int    `json:"width"`
+	Height   int    `json:"height"`
+	Channels int    `json:"channels"`
+	BitDepth int    `json:"bit_depth"`
+	HasAlpha bool   `json:"has_alpha"`
+}
+
+// record is STEM.json: what was read, what was done, what came out.
+type record struct {
+	Tool        string             `json:"tool"`
+	Version     string             `json:"version"`
+	Status      string             `json:"status"`
+	Error       string             `json:"error,omitempty"`
+	Input       inputInfo          `json:"input"`
+	Params      map[string]any     `json:"params,omitempty"`
+	Graph       *graphInfo         `json:"graph,omitempty"`
+	Eigenvalues []float64          `json:"eigenvalues"`
+	SplitNcuts  []float64          `json:"split_ncuts"`
+	Regions     int                `json:"regions"`
+	Objects     int                `json:"objects"`
+	Seconds     map[string]float64 `json:"seconds"`
+	Outputs     []string           `json:"outputs,omitempty"`
+}
+
+// graphInfo describes the graph that was solved.
+type graphInfo struct {
+	Kind  string `json:"kind"` // "pixels" or "superpixels"
+	Nodes int    `json:"nodes"`
+	Edges int    `json:"edges"`
+}
+
+// outputSet names the files written for one image.
+type outputSet struct {
+	dir, stem string
+}
+
+func (o outputSet) path(suffix string) string { return filepath.Join(o.dir, o.stem+suffix) }
+
+// job is one image to segment.
+type job struct {
+	path      string
+	out       outputSet
+	settings  settings
+	resolved  *resolved
+	force     bool
+	saveGraph string // Matrix Market path for the top-level W, or ""
+}
+
+// processImage is the one pipeline every command shares: decode, features,
+// segment, write the label map, overlay, class map, region table and
+// finally the record. It returns the record (also on failure, with the
+// error in it) and the error.
+func processImage(ctx context.Context, j job) (*record, error) {
+	start := time.Now()
+	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Seconds: map[string]float64{}}
+	fail := func(err error) (*record, error) {
+		err = fmt.Errorf("%s: %w", j.path, err)
+		rec.Error = err.Error()
+		rec.Seconds["total"] = time.Since(start).Seconds()
+		return rec, err
+	}
+	tick := time.Now()
+	lap := func(name string) {
+		now := time.Now()
+		rec.Seconds[name] += now.Sub(tick).Seconds()
+		tick = now
+	}
+	if !j.force {
+		for _, p := range j.outputs() {
+			if _, err := os.Lstat(p); err == nil {
+				return fail(fmt.Errorf("output %s already exists (use --force to overwrite)", p))
+			}
+		}
+	}
+	data, err := os.ReadFile(j.path)
+	if err != nil {
+		return fail(err)
+	}
+	sum := sha256.Sum256(data)
+	rec.Input.SHA256 = hex.EncodeToString(sum[:])
+	im, err := imageio.Decode(bytes.NewReader(data), j.resolved.load)
+	if err != nil {
+		return fail(err)
+	}
+	data = nil
+	rec.Input.Format, rec.Input.Width, rec.Input.Height = im.Format, im.Width, im.Height
+	rec.Input.Channels, rec.Input.BitDepth, rec.Input.HasAlpha = im.Channels, im.BitDepth, im.HasAlpha
+	lap("decode")
+	feat, err := imageio.MakeFeatures(im, j.resolved.features, j.resolved.params.Workers)
+	if err != nil {
+		return fail(err)
+	}
+	lap("features")
+	in := segment.Input{Width: feat.Width, Height: feat.Height, Planes: feat.Planes, Luminance: feat.Planes[0]}
+	res, err := segment.Run(ctx, in, j.resolved.params)
+	if err != nil {
+		return fail(err)
+	}
+	for _, st := range res.Stages {
+		rec.Seconds[st.Name] += st.Seconds
+	}
+	tick = time.Now()
+	rec.Params = usedParams(j.settings, res.Params)
+	kind := "pixels"
+	if res.Params.Superpixels > 0 {
+		kind = "superpixels"
+	}
+	rec.Graph = &graphInfo{Kind: kind, Nodes: res.Graph.N, Edges: res.Graph.NNZ() / 2}
+	rec.Eigenvalues, rec.SplitNcuts = res.Eigenvalues, res.SplitNcuts
+	if rec.SplitNcuts == nil {
+		rec.SplitNcuts = []float64{}
+	}
+	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
+
+	if err := ctx.Err(); err != nil {
+		return fail(err)
+	}
+	w, h := feat.Width, feat.Height
+	write := func(suffix string, fn func(io.Writer) error) error {
+		p := j.out.path(suffix)
+		if err := imageio.WriteAtomic(p, j.force, fn); err != nil {
+			return err
+		}
+		rec.Outputs = append(rec.Outputs, filepath.Base(p))
+		return nil
+	}
+	if err := write(".labels.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Labels) }); err != nil {
+		return fail(err)
+	}
+	tint := res.Params.Background != ""
+	if err := write(".overlay.png", func(wr io.Writer) error {
+		return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint)
+	}); err != nil {
+		return fail(err)
+	}
+	if res.Classes != nil {
+		if err := write(".classes.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Classes) }); err != nil {
+			return fail(err)
+		}
+	}
+	table := measureRegions(res.Labels, feat.Raw, w, h)
+	if err := write(".regions.csv", func(wr io.Writer) error {
+		return writeRegionTable(wr, table, j.settings.PixelSize, j.settings.Unit)
+	}); err != nil {
+		return fail(err)
+	}
+	if j.saveGraph != "" {
+		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", version, j.path, kind, res.Graph.N)
+		if kind == "pixels" {
+			comment += fmt.Sprintf("; node k is pixel (x, y) = (k mod %d, k div %d)", w, w)
+		} else {
+			comment += "; node k is superpixel k (numbered in raster order of its first pixel)"
+		}
+		if err := imageio.WriteAtomic(j.saveGraph, j.force, func(wr io.Writer) error {
+			return res.Graph.WriteMatrixMarket(wr, comment)
+		}); err != nil {
+			return fail(err)
+		}
+	}
+	lap("write")
+	rec.Status = "ok"
+	rec.Seconds["total"] = time.Since(start).Seconds()
+	if err := writeRecord(j.out.path(".json"), rec, true); err != nil {
+		return fail(err)
+	}
+	return rec, nil
+}
+
+// outputs lists every file the job may write.
+func (j job) outputs() []string {
+	list := []string{j.out.path(".labels.png"), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".json")}
+	if j.settings.Classes >= 2 {
+		list = append(list, j.out.path(".classes.png"))
+	}
+	if j.saveGraph != "" {
+		list = append(list, j.saveGraph)
+	}
+	return list
+}
+
+// writeRecord writes the JSON record atomically.
+func writeRecord(path string, rec *record, force bool) error {
+	return imageio.WriteAtomic(path, force, func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(rec)
+	})
+}
+
+// stemOf is the file name without its extension.
+func stemOf(path string) string {
+	base := filepath.Base(path)
+	return strings.TrimSuffix(base, filepath.Ext(base))
+}

@@ -1,0 +1,277 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment"
+	"github.com/spf13/pflag"
+)
+
+// settings are the parameters of one segmentation as the user gives them,
+// by flag or in a --params file. Every field is a flag of the same name
+// (the json tag); "auto" values are resolved per image by segment.Run.
+type settings struct {
+	MaxMegapixels float64 `json:"max-megapixels"`
+	Normalize     string  `json:"normalize"`
+	Flatten       float64 `json:"flatten"`
+	FlattenMode   string  `json:"flatten-mode"`
+	Features      string  `json:"features"`
+	Channel       int     `json:"channel"`
+	Superpixels   string  `json:"superpixels"`
+	Compactness   float64 `json:"compactness"`
+	Radius        int     `json:"radius"`
+	SigmaI        string  `json:"sigma-i"`
+	SigmaX        string  `json:"sigma-x"`
+	Method        string  `json:"method"`
+	Segments      int     `json:"segments"`
+	MaxSegments   int     `json:"max-segments"`
+	MaxNcut       float64 `json:"max-ncut"`
+	MinArea       int     `json:"min-area"`
+	Classes       int     `json:"classes"`
+	Background    string  `json:"background"`
+	PixelSize     float64 `json:"pixel-size"`
+	Unit          string  `json:"unit"`
+	MaxMemory     string  `json:"max-memory"`
+	Seed          uint64  `json:"seed"`
+}
+
+// Defaults, chosen on the project's generated nuclei and plate scenes (see
+// the README for how they were measured).
+const (
+	defaultRadius      = 5
+	defaultCompactness = 20
+	defaultMaxNcut     = 0.15
+	defaultMinArea     = 20
+	defaultMaxSegments = 12
+)
+
+// addParamFlags registers the parameter flags on fs, bound to s.
+func addParamFlags(fs *pflag.FlagSet, s *settings) {
+	fs.Float64Var(&s.MaxMegapixels, "max-megapixels", 100, "refuse images larger than this many megapixels (read from the header, before decoding)")
+	fs.StringVar(&s.Normalize, "normalize", "percentile", "intensity normalization: percentile (0.1 and 99.9 percentiles to 0 and 1), range (min..max) or bitdepth")
+	fs.Float64Var(&s.Flatten, "flatten", 0, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off)")
+	fs.StringVar(&s.FlattenMode, "flatten-mode", "divide", "how --flatten removes the background: divide or subtract")
+	fs.StringVar(&s.Features, "features", "gray", "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
+	fs.IntVar(&s.Channel, "channel", -1, "use only this channel (0-based) of a multi-channel image; -1 = all")
+	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels, 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d)",
+		segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels))
+	fs.Float64Var(&s.Compactness, "compactness", defaultCompactness, "SLIC compactness: higher gives rounder superpixels, lower follows edges more closely")
+	fs.IntVar(&s.Radius, "radius", defaultRadius, "pixel graph: join pixels up to this distance (pixels)")
+	fs.StringVar(&s.SigmaI, "sigma-i", "auto", "intensity kernel width in normalized intensity units (0..1), or auto")
+	fs.StringVar(&s.SigmaX, "sigma-x", "auto", "spatial kernel width in pixels, or auto (0.8 x radius; 2 x superpixel spacing)")
+	fs.StringVar(&s.Method, "method", segment.MethodBisect, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
+	fs.IntVar(&s.Segments, "segments", 0, "bisect: stop at this many regions (0 = no limit); kway: K (0 = from the largest eigengap)")
+	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, "kway with --segments 0: the largest K considered")
+	fs.Float64Var(&s.MaxNcut, "max-ncut", defaultMaxNcut, "bisect: accept a split only when its normalized cut is at most this")
+	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, "smallest region or object kept, in pixels; smaller regions merge into a neighbour, smaller objects go to the background")
+	fs.IntVar(&s.Classes, "classes", 0, "group regions into this many intensity classes (>= 2; 0 = off)")
+	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N")
+	fs.Float64Var(&s.PixelSize, "pixel-size", 0, "size of one pixel in --unit, for physical areas and diameters in the region table (0 = off)")
+	fs.StringVar(&s.Unit, "unit", "um", "unit of --pixel-size, used in column names")
+	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB)")
+	fs.Uint64Var(&s.Seed, "seed", 1, "seed for the eigensolver start and k-means restarts")
+}
+
+// paramNames lists the keys a --params file may hold (the json tags of
+// settings), sorted.
+func paramNames() []string {
+	var names []string
+	data, _ := json.Marshal(settings{})
+	var m map[string]json.RawMessage
+	_ = json.Unmarshal(data, &m)
+	for k := range m {
+		names = append(names, k)
+	}
+	sort.Strings(names)
+	return names
+}
+
+// applyParamsFile reads a JSON object of parameters named like the flags
+// and sets every one the command line did not set (flags given on the
+// command line win). Unknown keys and values of the wrong type are errors
+// naming the file and the key.
+func applyParamsFile(fs *pflag.FlagSet, path string) error {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return fmt.Errorf("params file: %w", err)
+	}
+	return applyParams(fs, path, data)
+}
+
+func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	var m map[string]any
+	if err := dec.Decode(&m); err != nil {
+		return fmt.Errorf("params file %s: not a JSON object of parameters: %v", path, err)
+	}
+	if dec.More() {
+		return fmt.Errorf("params file %s: unexpected data after the JSON object", path)
+	}
+	known := map[string]bool{}
+	for _, n := range paramNames() {
+		known[n] = true
+	}
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		if !known[k] {
+			return fmt.Errorf("params file %s: unknown parameter %q (known: %s)", path, k, strings.Join(paramNames(), ", "))
+		}
+		f := fs.Lookup(k)
+		if f == nil {
+			return fmt.Errorf("params file %s: parameter %q is not used by this command", path, k)
+		}
+		if f.Changed {
+			continue // the command line wins
+		}
+		var text string
+		switch v := m[k].(type) {
+		case json.Number:
+			if f.Value.Type() == "string" && !numericString(k) {
+				return fmt.Errorf("params file %s: %s must be a string, got the number %s", path, k, v)
+			}
+			text = v.String()
+		case string:
+			if f.Value.Type() != "string" {
+				return fmt.Errorf("params file %s: %s must be a number, got the string %q", path, k, v)
+			}
+			text = v
+		default:
+			return fmt.Errorf("params file %s: %s has a value of the wrong type (%T)", path, k, m[k])
+		}
+		if err := f.Value.Set(text); err != nil {
+			return fmt.Errorf("params file %s: %s: %v", path, k, err)
+		}
+	}
+	return nil
+}
+
+// numericString reports whether a string-typed flag also takes a number
+// ("auto" or a value).
+func numericString(name string) bool {
+	switch name {
+	case "sigma-i", "sigma-x", "superpixels":
+		return true
+	}
+	return false
+}
+
+// parseAuto reads "auto" or a number.
+func parseAuto(name, v string) (x float64, auto bool, err error) {
+	if strings.EqualFold(strings.TrimSpace(v), "auto") {
+		return 0, true, nil
+	}
+	x, err = strconv.ParseFloat(strings.TrimSpace(v), 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return 0, false, usagef("--%s must be a number or auto, got %q", name, v)
+	}
+	return x, false, nil
+}
+
+// parseBytes reads a size such as 400MB, 512MiB, 8GiB or a plain byte count.
+func parseBytes(name, v string) (int64, error) {
+	s := strings.TrimSpace(v)
+	mult := 1.0
+	units := []struct {
+		suffix string
+		m      float64
+	}{{"KiB", 1 << 10}, {"MiB", 1 << 20}, {"GiB", 1 << 30}, {"TiB", 1 << 40}, {"KB", 1e3}, {"MB", 1e6}, {"GB", 1e9}, {"TB", 1e12}, {"B", 1}}
+	up := strings.ToUpper(s)
+	for _, u := range units {
+		if strings.HasSuffix(up, strings.ToUpper(u.suffix)) {
+			s, mult = strings.TrimSpace(s[:len(s)-len(u.suffix)]), u.m
+			break
+		}
+	}
+	x, err := strconv.ParseFloat(s, 64)
+	if err != nil || !(x > 0) || math.IsInf(x, 0) || x*mult > math.MaxInt64/2 {
+		return 0, usagef("--%s must be a positive size such as 512MiB or 8GiB, got %q", name, v)
+	}
+	return int64(x * mult), nil
+}
+
+// resolved is a settings value turned into the options of each stage.
+type resolved struct {
+	load     imageio.LoadOptions
+	features imageio.FeatureOptions
+	params   segment.Params
+}
+
+// resolve checks the settings and converts them; every error is a usage
+// error naming the flag.
+func (s settings) resolve(workers int) (*resolved, error) {
+	r := &resolved{}
+	if !(s.MaxMegapixels > 0) || math.IsInf(s.MaxMegapixels, 0) {
+		return nil, usagef("--max-megapixels must be a positive number, got %v", s.MaxMegapixels)
+	}
+	r.load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
+	r.features = imageio.FeatureOptions{Space: s.Features, Channel: s.Channel, Normalize: s.Normalize, Flatten: s.Flatten, FlattenMode: s.FlattenMode}
+	if err := r.features.Validate(); err != nil {
+		return nil, &usageError{err}
+	}
+	p := segment.Params{
+		Compactness: s.Compactness, Radius: s.Radius, Method: s.Method, Segments: s.Segments,
+		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
+		Background: s.Background, Workers: workers, Seed: s.Seed,
+	}
+	var err error
+	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {
+		return nil, err
+	}
+	if p.SigmaX, p.AutoSigmaX, err = parseAuto("sigma-x", s.SigmaX); err != nil {
+		return nil, err
+	}
+	sp, auto, err := parseAuto("superpixels", s.Superpixels)
+	if err != nil {
+		return nil, err
+	}
+	switch {
+	case auto:
+		p.Superpixels = -1
+	case sp < 0 || sp != math.Trunc(sp) || sp > math.MaxInt32:
+		return nil, usagef("--superpixels must be auto, 0 (pixel graph) or a positive whole number, got %q", s.Superpixels)
+	default:
+		p.Superpixels = int(sp)
+	}
+	if p.MaxMemory, err = parseBytes("max-memory", s.MaxMemory); err != nil {
+		return nil, err
+	}
+	if err := p.Validate(); err != nil {
+		return nil, &usageError{err}
+	}
+	if s.PixelSize < 0 || math.IsNaN(s.PixelSize) || math.IsInf(s.PixelSize, 0) {
+		return nil, usagef("--pixel-size must be 0 (off) or a positive number, got %v", s.PixelSize)
+	}
+	if s.PixelSize > 0 && strings.TrimSpace(s.Unit) == "" {
+		return nil, usagef("--unit must name the unit of --pixel-size")
+	}
+	r.params = p
+	return r, nil
+}
+
+// usedParams is the parameter set as used on one image, automatic values
+// resolved, under the flag names: the "params" of the JSON record, and a
+// valid --params file that reproduces the run.
+func usedParams(s settings, p segment.Params) map[string]any {
+	m := map[string]any{}
+	data, _ := json.Marshal(s)
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	_ = dec.Decode(&m)
+	m["sigma-i"] = p.SigmaI
+	m["sigma-x"] = p.SigmaX
+	m["superpixels"] = p.Superpixels
+	return m
+}

@@ -1,0 +1,159 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func TestParamsFile(t *testing.T) {
+	cases := []struct {
+		name, json string
+		args       []string
+		wantErr    string
+		check      func(t *testing.T, s *settings)
+	}{
+		{name: "values", json: `{"radius": 7, "sigma-i": 0.08, "method": "kway", "classes": 2, "background": "dark"}`,
+			check: func(t *testing.T, s *settings) {
+				if s.Radius != 7 || s.SigmaI != "0.08" || s.Method != "kway" || s.Classes != 2 || s.Background != "dark" {
+					t.Errorf("got %+v", s)
+				}
+			}},
+		{name: "command line wins", json: `{"radius": 7, "max-ncut": 0.3}`, args: []string{"--radius", "3"},
+			check: func(t *testing.T, s *settings) {
+				if s.Radius != 3 || s.MaxNcut != 0.3 {
+					t.Errorf("radius %d max-ncut %v, want 3 and 0.3", s.Radius, s.MaxNcut)
+				}
+			}},
+		{name: "auto", json: `{"sigma-x": "auto", "superpixels": 300}`,
+			check: func(t *testing.T, s *settings) {
+				if s.SigmaX != "auto" || s.Superpixels != "300" {
+					t.Errorf("got %+v", s)
+				}
+			}},
+		{name: "unknown key", json: `{"radius": 5, "sigma": 0.1}`, wantErr: `unknown parameter "sigma"`},
+		{name: "wrong type number", json: `{"radius": "five"}`, wantErr: "radius must be a number"},
+		{name: "wrong type string", json: `{"method": 2}`, wantErr: "method must be a string"},
+		{name: "fraction for int", json: `{"radius": 2.5}`, wantErr: "radius"},
+		{name: "bool", json: `{"classes": true}`, wantErr: "wrong type"},
+		{name: "not an object", json: `[1, 2]`, wantErr: "not a JSON object"},
+		{name: "trailing", json: `{"radius": 5} {}`, wantErr: "unexpected data"},
+		{name: "out is not a parameter", json: `{"out": "x"}`, wantErr: `unknown parameter "out"`},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			path := filepath.Join(t.TempDir(), "p.json")
+			if err := os.WriteFile(path, []byte(c.json), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			_, s, _, err := parseSegment(append([]string{"--params", path}, append(c.args, "x.png")...), nil)
+			if c.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), c.wantErr) || !strings.Contains(err.Error(), path) {
+					t.Fatalf("error %v, want one naming %s and containing %q", err, path, c.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			c.check(t, s)
+		})
+	}
+}
+
+func TestResolveErrors(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--sigma-i", "0"}, "sigma-i"},
+		{[]string{"--sigma-i", "-0.1"}, "sigma-i"},
+		{[]string{"--sigma-i", "NaN"}, "sigma-i"},
+		{[]string{"--sigma-x", "wide"}, "sigma-x"},
+		{[]string{"--radius", "0"}, "radius"},
+		{[]string{"--superpixels", "-3"}, "superpixels"},
+		{[]string{"--superpixels", "2.5"}, "superpixels"},
+		{[]string{"--max-memory", "lots"}, "max-memory"},
+		{[]string{"--normalize", "zscore"}, "normalize"},
+		{[]string{"--background", "dark"}, "background"},
+		{[]string{"--classes", "1"}, "classes"},
+		{[]string{"--pixel-size", "-1"}, "pixel-size"},
+	} {
+		_, s, c2, err := parseSegment(append(c.args, "x.png"), nil)
+		if err == nil {
+			_, err = s.resolve(c2.workers)
+		}
+		var u *usageError
+		if err == nil || !errors.As(err, &u) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%v: error %v, want a usage error naming %s", c.args, err, c.want)
+		}
+	}
+}
+
+func TestParseBytes(t *testing.T) {
+	for in, want := range map[string]int64{"8GiB": 8 << 30, "400MB": 400e6, "512mib": 512 << 20, "1000": 1000, "1.5 GiB": 3 << 29} {
+		if got, err := parseBytes("max-memory", in); err != nil || got != want {
+			t.Errorf("%q: %d, %v; want %d", in, got, err, want)
+		}
+	}
+	for _, in := range []string{"", "0", "-1GiB", "GiB", "1e30GB"} {
+		if _, err := parseBytes("max-memory", in); err == nil {
+			t.Errorf("%q accepted", in)
+		}
+	}
+}
+
+func TestUsageExitCodes(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{}, exitUsage, "Usage"},
+		{[]string{"frobnicate"}, exitUsage, "unknown command"},
+		{[]string{"segment"}, exitUsage, "no image"},
+		{[]string{"segment", "--sigma", "3", "a.png"}, exitUsage, "unknown flag"},
+		{[]string{"segment", "--radius", "x", "a.png"}, exitUsage, "radius"},
+		{[]string{"segment", "a.png", "b/a.png"}, exitUsage, "same outputs"},
+		{[]string{"segment", "--out", t.TempDir(), "missing-file.png"}, exitFail, "missing-file.png"},
+	} {
+		var out, errb bytes.Buffer
+		code := run(context.Background(), c.args, &out, &errb)
+		if code != c.code || !strings.Contains(out.String()+errb.String(), c.want) {
+			t.Errorf("%v: exit %d, stderr %q; want exit %d mentioning %q", c.args, code, errb.String(), c.code, c.want)
+		}
+	}
+}
+
+func TestHelpHasExampleAndCaution(t *testing.T) {
+	for _, args := range [][]string{{"help", "segment"}, {"segment", "--help"}} {
+		var out, errb bytes.Buffer
+		if code := run(context.Background(), args, &out, &errb); code != exitOK {
+			t.Fatalf("%v: exit %d", args, code)
+		}
+		for _, want := range []string{"Example", "cleave segment --classes 2", "--sigma-i", "not validated for clinical"} {
+			if !strings.Contains(out.String(), want) {
+				t.Errorf("%v: help lacks %q", args, want)
+			}
+		}
+	}
+}
+
+// FuzzParamsFile: any bytes as a params file give a result or an error,
+// never a panic.
+func FuzzParamsFile(f *testing.F) {
+	for _, s := range []string{`{"radius": 5}`, `{"sigma-i": "auto", "superpixels": 0}`, `{"seed": 18446744073709551615}`, `{"max-ncut": 1e400}`, `{}`, `null`, `{"classes": -1}`} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		fs, s, c := segmentFlags()
+		if err := applyParams(fs, "fuzz.json", data); err != nil {
+			return
+		}
+		_, _ = s.resolve(c.workers)
+	})
+}

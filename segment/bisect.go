@@ -1,0 +1,208 @@
+package segment
+
+import (
+	"container/heap"
+	"context"
+	"math"
+	"sort"
+
+	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/eigen"
+)
+
+// cutResult is what both cut methods return: a region index per graph node
+// (0..regions-1), the eigenvalues of the top-level solve and the Ncut value
+// of every accepted split.
+type cutResult struct {
+	region      []int32
+	regions     int
+	eigenvalues []float64
+	splitNcuts  []float64
+}
+
+// part is a set of graph nodes (ascending) awaiting a decision.
+type part struct {
+	nodes []int
+	area  int
+}
+
+type partHeap []part
+
+func (h partHeap) Len() int { return len(h) }
+func (h partHeap) Less(a, b int) bool {
+	if h[a].area != h[b].area {
+		return h[a].area > h[b].area
+	}
+	return h[a].nodes[0] < h[b].nodes[0]
+}
+func (h partHeap) Swap(a, b int) { h[a], h[b] = h[b], h[a] }
+func (h *partHeap) Push(x any)   { *h = append(*h, x.(part)) }
+func (h *partHeap) Pop() any {
+	old := *h
+	x := old[len(old)-1]
+	*h = old[:len(old)-1]
+	return x
+}
+
+// Stability test of a Fiedler vector (Shi and Malik 2000, section 3.1):
+// the histogram of its values in stabilityBins bins; when the ratio of the
+// least to the most populated bin exceeds stabilityRatio the values change
+// continuously, with no clear place to cut, and the part is not split.
+// The paper uses the ratio 0.06 (value from memory of the paper); the bin
+// count is not given there and is our choice.
+const (
+	stabilityBins  = 20
+	stabilityRatio = 0.06
+)
+
+// stable reports whether y has a clear split point by the test above.
+// Parts with fewer nodes than bins always pass: their histograms are too
+// coarse to judge.
+func stable(y []float64) bool {
+	if len(y) < 4*stabilityBins {
+		return true
+	}
+	lo, hi := y[0], y[0]
+	for _, v := range y {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	if !(hi > lo) {
+		return false
+	}
+	var count [stabilityBins]int
+	for _, v := range y {
+		b := int(float64(stabilityBins) * (v - lo) / (hi - lo))
+		count[min(b, stabilityBins-1)]++
+	}
+	mn, mx := count[0], count[0]
+	for _, c := range count {
+		mn, mx = min(mn, c), max(mx, c)
+	}
+	return float64(mn) <= stabilityRatio*float64(mx)
+}
+
+// topEigenpairs is how many eigenpairs the first (top-level) solve of a
+// recursive bisection computes, so the record shows the low spectrum.
+const topEigenpairs = 6
+
+// bisect performs recursive two-way normalized cuts (Shi and Malik 2000,
+// section 3.1): each part's Fiedler vector y = D^-1/2 z_1 of its own
+// subgraph is swept for the split of least Ncut; the split is accepted when
+// that Ncut is at most maxNcut and both sides hold at least minArea pixels.
+// Disconnected parts split into their components at no cost (Ncut 0).
+// The largest open part is split first, and splitting stops once maxRegions
+// regions exist (0: no limit).
+func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutResult, error) {
+	res := &cutResult{region: make([]int32, g.N)}
+	h := &partHeap{}
+	var final []part
+	all := make([]int, g.N)
+	areaOf := func(nodes []int) int {
+		s := 0
+		for _, i := range nodes {
+			s += nodeArea(area, i)
+		}
+		return s
+	}
+	for i := range all {
+		all[i] = i
+	}
+	heap.Push(h, part{nodes: all, area: areaOf(all)})
+	regions := 1
+	first := true
+	for h.Len() > 0 {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		if p.Segments > 0 && regions >= p.Segments {
+			break
+		}
+		pt := heap.Pop(h).(part)
+		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea {
+			final = append(final, pt)
+			continue
+		}
+		sub := g
+		if len(pt.nodes) != g.N {
+			sub = g.Subgraph(pt.nodes)
+		}
+		subArea := make([]int, len(pt.nodes))
+		for k, i := range pt.nodes {
+			subArea[k] = nodeArea(area, i)
+		}
+		comp, nc := Components(sub)
+		if nc > 1 {
+			pieces := make([][]int, nc)
+			for k, c := range comp {
+				pieces[c] = append(pieces[c], pt.nodes[k])
+			}
+			for c, pc := range pieces {
+				heap.Push(h, part{nodes: pc, area: areaOf(pc)})
+				if c > 0 { // nc pieces take nc-1 free splits
+					res.splitNcuts = append(res.splitNcuts, 0)
+				}
+			}
+			regions += nc - 1
+			continue
+		}
+		k := 2
+		if first {
+			k = min(topEigenpairs, sub.N)
+		}
+		ep, err := eigen.Smallest(sub, k, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+		if err != nil {
+			return nil, err
+		}
+		if first {
+			res.eigenvalues = append([]float64(nil), ep.Values...)
+			first = false
+		}
+		deg := sub.Degrees()
+		y := make([]float64, sub.N)
+		z := ep.Vectors[1]
+		for i := range y {
+			y[i] = z[i] / math.Sqrt(deg[i])
+		}
+		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
+		if !ok || s.ncut > p.MaxNcut || (p.stability && !stable(y)) {
+			final = append(final, pt)
+			continue
+		}
+		inA := make([]bool, sub.N)
+		for _, i := range s.order[:s.at] {
+			inA[i] = true
+		}
+		if p.accept != nil && !p.accept(pt.nodes, inA) {
+			final = append(final, pt)
+			continue
+		}
+		res.splitNcuts = append(res.splitNcuts, s.ncut)
+		var a, b []int
+		for k, i := range pt.nodes {
+			if inA[k] {
+				a = append(a, i)
+			} else {
+				b = append(b, i)
+			}
+		}
+		heap.Push(h, part{nodes: a, area: areaOf(a)})
+		heap.Push(h, part{nodes: b, area: areaOf(b)})
+		regions++
+	}
+	for h.Len() > 0 {
+		final = append(final, heap.Pop(h).(part))
+	}
+	// Number regions by their lowest node so the numbering is deterministic.
+	sortParts(final)
+	for r, pt := range final {
+		for _, i := range pt.nodes {
+			res.region[i] = int32(r)
+		}
+	}
+	res.regions = len(final)
+	return res, nil
+}
+
+func sortParts(ps []part) {
+	sort.Slice(ps, func(a, b int) bool { return ps[a].nodes[0] < ps[b].nodes[0] })
+}

@@ -1,0 +1,282 @@
+package segment
+
+import (
+	"math"
+	"sort"
+)
+
+// Shading compensation constants (common practice for background
+// estimation by normalized convolution; the values were chosen on the
+// project's synthetic scenes).
+const (
+	fieldScale     = 8.0  // background field Gaussian σ = max(w,h)/fieldScale
+	fieldFloor     = 0.05 // smallest background level divided by, in normalized units
+	classRounds    = 3    // alternations of field estimate and regrouping
+	fieldGridCells = 64   // the field is estimated on about this many cells across
+	scoreFloor     = 1e-3 // smallest ratio I/B before the logarithm
+)
+
+// regionStats holds per-region area and mean of each feature plane.
+type regionStats struct {
+	area []float64
+	mean [][]float64 // [plane][region]
+}
+
+func statsOf(planes [][]float32, reg []int32, n int) regionStats {
+	st := regionStats{area: make([]float64, n), mean: make([][]float64, len(planes))}
+	for _, r := range reg {
+		st.area[r]++
+	}
+	for c, pl := range planes {
+		s := make([]float64, n)
+		for i, r := range reg {
+			s[r] += float64(pl[i])
+		}
+		for r := range s {
+			if st.area[r] > 0 {
+				s[r] /= st.area[r]
+			}
+		}
+		st.mean[c] = s
+	}
+	return st
+}
+
+// groupClasses assigns each region a class 0..C-1, numbered from darkest to
+// brightest by area-weighted mean luminance.
+//
+// With one feature plane the regions are grouped by a shading-compensated
+// score: s_r = mean over the region of I(x)/B(x), where B is a smooth field of
+// the reference class (the background: darkest class with background "dark",
+// brightest with "bright", otherwise the class of largest area) estimated by
+// normalized convolution, B = G*(I·m)/G*m with m the reference-class mask and
+// G a wide Gaussian (Knutsson and Westin 1993). Each region is thus judged
+// against the background around it rather than one global level, so
+// illumination falloff and haze do not move the class boundary. Scores are
+// split by Otsu's method (C = 2, weighted by area, exact) or weighted k-means
+// (C > 2), then B is re-estimated from the new grouping; classRounds rounds.
+// With several feature planes (CIE Lab) the region mean vectors are grouped
+// by area-weighted k-means without shading compensation.
+func groupClasses(planes [][]float32, disp []float32, w, h int, reg []int32, n, C int, background string, seed uint64) []int32 {
+	st := statsOf(planes, reg, n)
+	lum := statsOf([][]float32{disp}, reg, n).mean[0]
+	if len(planes) > 1 {
+		x := make([]float64, n*len(planes))
+		for r := 0; r < n; r++ {
+			for c := range planes {
+				x[r*len(planes)+c] = st.mean[c][r]
+			}
+		}
+		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed)
+		return orderClasses(cls, lum, st.area, C)
+	}
+	score := append([]float64(nil), st.mean[0]...)
+	cls := split1D(score, st.area, C, seed)
+	for round := 0; round < classRounds && C >= 2; round++ {
+		ref := referenceClass(cls, st.area, C, background)
+		mask := make([]bool, len(reg))
+		any := false
+		for i, r := range reg {
+			if cls[r] == ref {
+				mask[i] = true
+				any = true
+			}
+		}
+		if !any {
+			break
+		}
+		field := smoothField(planes[0], mask, w, h, float64(max(w, h))/fieldScale)
+		sum := make([]float64, n)
+		for i, r := range reg {
+			sum[r] += float64(planes[0][i]) / math.Max(float64(field[i]), fieldFloor)
+		}
+		for r := range score {
+			if st.area[r] > 0 {
+				score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
+			}
+		}
+		next := split1D(score, st.area, C, seed)
+		same := true
+		for r := range next {
+			if next[r] != cls[r] {
+				same = false
+			}
+		}
+		cls = next
+		if same {
+			break
+		}
+	}
+	return cls
+}
+
+// split1D groups scalar scores into C classes numbered by increasing score.
+func split1D(v, wt []float64, C int, seed uint64) []int32 {
+	cls := make([]int32, len(v))
+	if C == 2 {
+		if t, ok := otsuWeighted(v, wt); ok {
+			for r := range v {
+				if v[r] > t {
+					cls[r] = 1
+				}
+			}
+		}
+		return cls
+	}
+	cls = kmeans(v, len(v), 1, C, wt, kmeansRestarts, seed)
+	return orderClasses(cls, v, wt, C)
+}
+
+// orderClasses renumbers classes by increasing weighted mean of key.
+func orderClasses(cls []int32, key, wt []float64, C int) []int32 {
+	s := make([]float64, C)
+	a := make([]float64, C)
+	for r, c := range cls {
+		s[c] += wt[r] * key[r]
+		a[c] += wt[r]
+	}
+	idx := make([]int, C)
+	for i := range idx {
+		idx[i] = i
+		if a[i] > 0 {
+			s[i] /= a[i]
+		} else {
+			s[i] = math.Inf(1)
+		}
+	}
+	sort.SliceStable(idx, func(x, y int) bool { return s[idx[x]] < s[idx[y]] })
+	rank := make([]int32, C)
+	for k, c := range idx {
+		rank[c] = int32(k)
+	}
+	out := make([]int32, len(cls))
+	for r, c := range cls {
+		out[r] = rank[c]
+	}
+	return out
+}
+
+func referenceClass(cls []int32, area []float64, C int, background string) int32 {
+	switch background {
+	case "dark":
+		return 0
+	case "bright":
+		return int32(C - 1)
+	}
+	a := make([]float64, C)
+	for r, c := range cls {
+		a[c] += area[r]
+	}
+	best := int32(0)
+	for c := 1; c < C; c++ {
+		if a[c] > a[best] {
+			best = int32(c)
+		}
+	}
+	return best
+}
+
+// smoothField estimates a smooth field from the pixels where mask is true by
+// normalized convolution with a Gaussian of standard deviation sigma pixels,
+// computed on a coarse grid of about fieldGridCells cells across and
+// interpolated bilinearly. Cells with no masked pixel within reach take the
+// mean of all masked pixels.
+func smoothField(v []float32, mask []bool, w, h int, sigma float64) []float32 {
+	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
+	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
+	sum := make([]float64, gw*gh)
+	cnt := make([]float64, gw*gh)
+	var tot, totN float64
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			if mask[i] {
+				c := (y/cell)*gw + x/cell
+				sum[c] += float64(v[i])
+				cnt[c]++
+				tot += float64(v[i])
+				totN++
+			}
+		}
+	}
+	sg := sigma / float64(cell)
+	sum = blurGrid(sum, gw, gh, sg)
+	cnt = blurGrid(cnt, gw, gh, sg)
+	global := tot / math.Max(totN, 1)
+	grid := make([]float64, gw*gh)
+	minCnt := 1e-3 * float64(cell*cell)
+	for c := range grid {
+		if cnt[c] > minCnt {
+			grid[c] = sum[c] / cnt[c]
+		} else {
+			grid[c] = global
+		}
+	}
+	out := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		fy := (float64(y)+0.5)/float64(cell) - 0.5
+		y0 := int(math.Floor(fy))
+		ty := fy - float64(y0)
+		y0c, y1c := clampInt(y0, 0, gh-1), clampInt(y0+1, 0, gh-1)
+		for x := 0; x < w; x++ {
+			fx := (float64(x)+0.5)/float64(cell) - 0.5
+			x0 := int(math.Floor(fx))
+			tx := fx - float64(x0)
+			x0c, x1c := clampInt(x0, 0, gw-1), clampInt(x0+1, 0, gw-1)
+			top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
+			bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
+			out[y*w+x] = float32(top*(1-ty) + bot*ty)
+		}
+	}
+	return out
+}
+
+func clampInt(v, lo, hi int) int {
+	if v < lo {
+		return lo
+	}
+	if v > hi {
+		return hi
+	}
+	return v
+}
+
+// blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,
+// truncated at 3σ, with zero padding (normalized convolution divides the
+// zero-padding effect out).
+func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
+	if sigma <= 0 {
+		return g
+	}
+	rad := int(math.Ceil(3 * sigma))
+	k := make([]float64, 2*rad+1)
+	for i := range k {
+		d := float64(i - rad)
+		k[i] = math.Exp(-d * d / (2 * sigma * sigma))
+	}
+	tmp := make([]float64, len(g))
+	for y := 0; y < gh; y++ {
+		for x := 0; x < gw; x++ {
+			var s float64
+			for t := -rad; t <= rad; t++ {
+				if xx := x + t; xx >= 0 && xx < gw {
+					s += k[t+rad] * g[y*gw+xx]
+				}
+			}
+			tmp[y*gw+x] = s
+		}
+	}
+	out := make([]float64, len(g))
+	for y := 0; y < gh; y++ {
+		for x := 0; x < gw; x++ {
+			var s float64
+			for t := -rad; t <= rad; t++ {
+				if yy := y + t; yy >= 0 && yy < gh {
+					s += k[t+rad] * tmp[yy*gw+x]
+				}
+			}
+			out[y*gw+x] = s
+		}
+	}
+	return out
+}

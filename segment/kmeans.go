@@ -1,0 +1,132 @@
+package segment
+
+import (
+	"math"
+	"math/rand/v2"
+)
+
+// kmeans clusters the rows of x (n points of dimension dim, row-major) into k
+// clusters with weights wt (nil: all 1), minimising Σ w_i |x_i - c(i)|².
+// Seeds come from k-means++ (Arthur and Vassilvitskii 2007): the first centre
+// drawn with probability ∝ w_i, each next one ∝ w_i D(x_i)², D the distance to
+// the nearest chosen centre. Lloyd iterations follow until no label changes.
+// restarts independent seedings run from one seeded generator and the one of
+// least inertia wins, so the result is a pure function of the inputs.
+func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64) []int32 {
+	if k >= n {
+		lab := make([]int32, n)
+		for i := range lab {
+			lab[i] = int32(i)
+		}
+		return lab
+	}
+	rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73))
+	var best []int32
+	bestInertia := math.Inf(1)
+	for r := 0; r < max(1, restarts); r++ {
+		lab, inertia := lloyd(x, n, dim, k, wt, rng)
+		if inertia < bestInertia {
+			best, bestInertia = lab, inertia
+		}
+	}
+	return best
+}
+
+func weightOf(wt []float64, i int) float64 {
+	if wt == nil {
+		return 1
+	}
+	return wt[i]
+}
+
+func sqDist(a, b []float64) float64 {
+	var s float64
+	for d := range a {
+		t := a[d] - b[d]
+		s += t * t
+	}
+	return s
+}
+
+func lloyd(x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, float64) {
+	cent := make([]float64, k*dim)
+	dist := make([]float64, n)
+	pick := func(prob func(i int) float64) int {
+		var tot float64
+		for i := 0; i < n; i++ {
+			tot += prob(i)
+		}
+		if tot <= 0 {
+			return rng.IntN(n)
+		}
+		u := rng.Float64() * tot
+		for i := 0; i < n; i++ {
+			u -= prob(i)
+			if u < 0 {
+				return i
+			}
+		}
+		return n - 1
+	}
+	first := pick(func(i int) float64 { return weightOf(wt, i) })
+	copy(cent[:dim], x[first*dim:(first+1)*dim])
+	for i := 0; i < n; i++ {
+		dist[i] = sqDist(x[i*dim:(i+1)*dim], cent[:dim])
+	}
+	for c := 1; c < k; c++ {
+		j := pick(func(i int) float64 { return weightOf(wt, i) * dist[i] })
+		copy(cent[c*dim:(c+1)*dim], x[j*dim:(j+1)*dim])
+		for i := 0; i < n; i++ {
+			if d := sqDist(x[i*dim:(i+1)*dim], cent[c*dim:(c+1)*dim]); d < dist[i] {
+				dist[i] = d
+			}
+		}
+	}
+	lab := make([]int32, n)
+	for i := range lab {
+		lab[i] = -1
+	}
+	sum := make([]float64, k*dim)
+	cnt := make([]float64, k)
+	var inertia float64
+	for iter := 0; iter < 300; iter++ {
+		changed := false
+		inertia = 0
+		for i := 0; i < n; i++ {
+			xi := x[i*dim : (i+1)*dim]
+			bc, bd := 0, math.Inf(1)
+			for c := 0; c < k; c++ {
+				if d := sqDist(xi, cent[c*dim:(c+1)*dim]); d < bd {
+					bc, bd = c, d
+				}
+			}
+			if lab[i] != int32(bc) {
+				lab[i] = int32(bc)
+				changed = true
+			}
+			inertia += weightOf(wt, i) * bd
+		}
+		if !changed {
+			break
+		}
+		clear(sum)
+		clear(cnt)
+		for i := 0; i < n; i++ {
+			c := int(lab[i])
+			w := weightOf(wt, i)
+			cnt[c] += w
+			for d := 0; d < dim; d++ {
+				sum[c*dim+d] += w * x[i*dim+d]
+			}
+		}
+		for c := 0; c < k; c++ {
+			if cnt[c] == 0 {
+				continue // keep an emptied centre where it was
+			}
+			for d := 0; d < dim; d++ {
+				cent[c*dim+d] = sum[c*dim+d] / cnt[c]
+			}
+		}
+	}
+	return lab, inertia
+}

@@ -1,0 +1,387 @@
+package segment
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/cleave-seg/cleave/affinity"
+)
+
+// Methods and backgrounds accepted by Params.
+const (
+	MethodBisect = "bisect"
+	MethodKway   = "kway"
+)
+
+// Automatic choices (stated in the command's help and the README).
+const (
+	// PixelGraphMaxPixels is the largest image (in pixels) that gets a pixel
+	// graph when Superpixels is automatic; larger images get superpixels.
+	PixelGraphMaxPixels = 128 * 128
+	// PixelsPerSuperpixel sets the automatic superpixel count, clamped to
+	// [MinAutoSuperpixels, MaxAutoSuperpixels].
+	PixelsPerSuperpixel = 48
+	MinAutoSuperpixels  = 64
+	MaxAutoSuperpixels  = 4000
+)
+
+// Params are the segmentation parameters. Zero values are not defaults: the
+// command layer fills defaults, Run validates and resolves the automatic
+// ones (AutoSigmaI, AutoSigmaX, Superpixels < 0) and reports them in
+// Result.Params.
+type Params struct {
+	Superpixels int     // < 0 automatic, 0 pixel graph, > 0 target SLIC count
+	Compactness float64 // SLIC compactness
+	Radius      int     // pixel-graph neighbourhood radius r in pixels
+	SigmaI      float64 // intensity kernel width σ_I, normalized intensity units
+	AutoSigmaI  bool    // estimate σ_I from the image
+	SigmaX      float64 // spatial kernel width σ_X in pixels
+	AutoSigmaX  bool    // σ_X = 0.8 r (pixel graph) or 2 S (superpixels, S the grid step)
+
+	Method      string  // MethodBisect or MethodKway
+	Segments    int     // bisect: region limit (0 none); kway: K (0 from the eigengap)
+	MaxSegments int     // kway with K = 0: largest K considered
+	MaxNcut     float64 // bisect: largest Ncut value of an accepted split
+	MinArea     int     // pixels: smallest region or object kept
+
+	Classes    int    // 0: no grouping; >= 2: number of intensity classes
+	Background string // "", "dark" or "bright"
+
+	Workers   int
+	Seed      uint64
+	MaxMemory int64 // bytes; the graph stage refuses to build above it
+
+	stability bool // apply the Fiedler-vector stability test in bisect
+	// accept, when set, must also approve a split of a part (nodes of the
+	// whole graph; inA marks side A by position in nodes).
+	accept func(nodes []int, inA []bool) bool
+}
+
+// ParamError reports an invalid parameter by its flag name.
+type ParamError struct {
+	Name, Problem string
+}
+
+func (e *ParamError) Error() string { return fmt.Sprintf("--%s %s", e.Name, e.Problem) }
+
+// ErrMemory is returned (wrapped) when the estimated memory of the graph
+// stage exceeds Params.MaxMemory.
+var ErrMemory = errors.New("estimated memory above the limit")
+
+func positive(name string, v float64) error {
+	if math.IsNaN(v) || math.IsInf(v, 0) || v <= 0 {
+		return &ParamError{name, fmt.Sprintf("must be a positive number, got %v", v)}
+	}
+	return nil
+}
+
+// Validate checks the parameters and returns a *ParamError for the first
+// bad one.
+func (p Params) Validate() error {
+	if !p.AutoSigmaI {
+		if err := positive("sigma-i", p.SigmaI); err != nil {
+			return err
+		}
+	}
+	if !p.AutoSigmaX {
+		if err := positive("sigma-x", p.SigmaX); err != nil {
+			return err
+		}
+	}
+	if p.Radius < 1 {
+		return &ParamError{"radius", fmt.Sprintf("must be at least 1 pixel, got %d", p.Radius)}
+	}
+	if err := positive("compactness", p.Compactness); err != nil {
+		return err
+	}
+	if err := positive("max-ncut", p.MaxNcut); err != nil {
+		return err
+	}
+	switch p.Method {
+	case MethodBisect, MethodKway:
+	default:
+		return &ParamError{"method", fmt.Sprintf("must be bisect or kway, got %q", p.Method)}
+	}
+	if p.Segments < 0 {
+		return &ParamError{"segments", fmt.Sprintf("must be 0 or more, got %d", p.Segments)}
+	}
+	if p.Method == MethodKway && p.Segments == 0 && p.MaxSegments < 2 {
+		return &ParamError{"max-segments", fmt.Sprintf("must be at least 2, got %d", p.MaxSegments)}
+	}
+	if p.MinArea < 0 {
+		return &ParamError{"min-area", fmt.Sprintf("must be 0 or more, got %d", p.MinArea)}
+	}
+	if p.Classes == 1 || p.Classes < 0 {
+		return &ParamError{"classes", fmt.Sprintf("must be 0 (off) or at least 2, got %d", p.Classes)}
+	}
+	switch p.Background {
+	case "", "dark", "bright":
+	default:
+		return &ParamError{"background", fmt.Sprintf("must be dark or bright, got %q", p.Background)}
+	}
+	if p.Background != "" && p.Classes < 2 {
+		return &ParamError{"background", "needs --classes 2 or more"}
+	}
+	return nil
+}
+
+// Stage is the wall time of one pipeline stage.
+type Stage struct {
+	Name    string
+	Seconds float64
+}
+
+// Result is the outcome of Run.
+type Result struct {
+	Labels      []int32 // final label map: regions 1..N, or objects 1..N on background 0
+	Regions     []int32 // regions 1..NumRegions after cleanup
+	Classes     []int32 // class of each pixel 0..C-1 (darkest first); nil without classes
+	NumRegions  int
+	NumObjects  int // objects when Background is set, else 0
+	Eigenvalues []float64
+	SplitNcuts  []float64
+	ObjectNcuts []float64 // Ncut of every split of an object into touching objects
+	Params      Params    // with automatic values resolved
+	Graph       *affinity.Graph
+	Stages      []Stage
+}
+
+// Input is what Run segments: the feature planes the graph is built on and
+// the luminance plane used to judge brightness, all normalized, w*h each.
+type Input struct {
+	Width, Height int
+	Planes        [][]float32
+	Luminance     []float32
+}
+
+// Run segments one image: graph (pixels or SLIC superpixels), normalized
+// cuts, cleanup, and optionally classes and objects.
+func Run(ctx context.Context, in Input, p Params) (*Result, error) {
+	if err := p.Validate(); err != nil {
+		return nil, err
+	}
+	w, h := in.Width, in.Height
+	npix := w * h
+	if npix == 0 || len(in.Planes) == 0 || len(in.Luminance) != npix {
+		return nil, errors.New("segment: empty input")
+	}
+	res := &Result{}
+	t0 := time.Now()
+	stage := func(name string) {
+		now := time.Now()
+		res.Stages = append(res.Stages, Stage{name, now.Sub(t0).Seconds()})
+		t0 = now
+	}
+
+	// Graph.
+	if p.Superpixels < 0 {
+		if npix <= PixelGraphMaxPixels {
+			p.Superpixels = 0
+		} else {
+			p.Superpixels = min(max(npix/PixelsPerSuperpixel, MinAutoSuperpixels), MaxAutoSuperpixels)
+		}
+	}
+	if p.Superpixels >= npix {
+		p.Superpixels = 0
+	}
+	if p.AutoSigmaI {
+		p.SigmaI = affinity.AutoSigmaI(in.Planes, w, h)
+	}
+	var est int64
+	if p.Superpixels == 0 {
+		est = affinity.EstimatePixelGraphBytes(w, h, p.Radius)
+	} else {
+		est = affinity.EstimateSLICBytes(w, h, len(in.Planes))
+	}
+	if p.MaxMemory > 0 && est > p.MaxMemory {
+		hint := "--radius, or use superpixels (--superpixels N)"
+		if p.Superpixels > 0 {
+			hint = "--superpixels, or downsample the image"
+		}
+		return nil, fmt.Errorf("%w: the graph stage needs about %.2f GiB, above --max-memory %.2f GiB; lower %s, or raise --max-memory",
+			ErrMemory, float64(est)/(1<<30), float64(p.MaxMemory)/(1<<30), hint)
+	}
+	var (
+		g      *affinity.Graph
+		nodeOf []int32 // pixel -> node; nil for the pixel graph
+		area   []int
+		err    error
+	)
+	if p.Superpixels == 0 {
+		if p.AutoSigmaX {
+			p.SigmaX = 0.8 * float64(p.Radius)
+		}
+		g, err = affinity.PixelGraph(in.Planes, w, h, affinity.PixelParams{Radius: p.Radius, SigmaI: p.SigmaI, SigmaX: p.SigmaX}, p.Workers)
+		if err != nil {
+			return nil, err
+		}
+		stage("graph")
+	} else {
+		var n int
+		nodeOf, n, err = affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
+		if err != nil {
+			return nil, err
+		}
+		stage("superpixels")
+		if p.AutoSigmaX {
+			p.SigmaX = 2 * math.Sqrt(float64(npix)/float64(n))
+		}
+		sum := affinity.Summarize(in.Planes, w, h, nodeOf, n)
+		if p.AutoSigmaI {
+			p.SigmaI = affinity.AutoRegionSigmaI(sum, affinity.Adjacency(w, h, nodeOf, n))
+		}
+		g, err = affinity.RegionGraph(sum, w, h, nodeOf, affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX})
+		if err != nil {
+			return nil, err
+		}
+		area = sum.Area
+		stage("graph")
+	}
+	res.Graph = g
+
+	// Cuts.
+	var cut *cutResult
+	if constant(in.Planes) {
+		// No feature varies: any cut would be purely spatial. One region.
+		cut = &cutResult{region: make([]int32, g.N), regions: 1}
+	} else if p.Method == MethodBisect {
+		q := p
+		q.stability = true
+		cut, err = bisect(ctx, g, area, q)
+	} else {
+		cut, err = kwayComponents(ctx, g, area, p)
+	}
+	if err != nil {
+		return nil, err
+	}
+	res.Eigenvalues = cut.eigenvalues
+	res.SplitNcuts = cut.splitNcuts
+	stage("cuts")
+
+	reg := make([]int32, npix)
+	if nodeOf == nil {
+		copy(reg, cut.region)
+	} else {
+		for i, v := range nodeOf {
+			reg[i] = cut.region[v]
+		}
+	}
+	nreg := mergeSmall(reg, w, h, cut.regions, p.MinArea)
+	res.NumRegions = nreg
+	res.Regions = make([]int32, npix)
+	for i, r := range reg {
+		res.Regions[i] = r + 1
+	}
+	res.Labels = res.Regions
+
+	if p.Classes >= 2 {
+		cls := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, p.Seed)
+		res.Classes = make([]int32, npix)
+		for i, r := range reg {
+			res.Classes[i] = cls[r]
+		}
+		if p.Background != "" {
+			bg := referenceClass(cls, nil, p.Classes, p.Background)
+			mask := make([]bool, npix)
+			for i, c := range res.Classes {
+				mask[i] = c == bg
+			}
+			field := smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
+			obj, nobj := objectsFrom(in.Luminance, field, w, h, reg, nreg, cls, bg, p.MinArea)
+			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, in.Luminance, field, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
+			if err != nil {
+				return nil, err
+			}
+		}
+		stage("classes")
+	}
+	res.Params = p
+	return res, nil
+}
+
+// kwayComponents runs k-way clustering on the largest connected component;
+// every other component is a region of its own and counts toward K.
+func kwayComponents(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutResult, error) {
+	comp, nc := Components(g)
+	if nc == 1 && g.N < 2 {
+		return &cutResult{region: make([]int32, g.N), regions: g.N}, nil
+	}
+	if nc == 1 {
+		c, _, err := kway(ctx, g, area, p)
+		return c, err
+	}
+	size := make([]int, nc)
+	for _, c := range comp {
+		size[c]++
+	}
+	big := 0
+	for c := range size {
+		if size[c] > size[big] {
+			big = c
+		}
+	}
+	var nodes []int
+	for i, c := range comp {
+		if int(c) == big {
+			nodes = append(nodes, i)
+		}
+	}
+	res := &cutResult{region: make([]int32, g.N)}
+	q := p
+	if p.Segments > 0 {
+		q.Segments = max(1, p.Segments-(nc-1))
+	}
+	next := int32(0)
+	id := make([]int32, nc)
+	for c := range id {
+		if c != big {
+			id[c] = next
+			next++
+		}
+	}
+	if len(nodes) >= 2 && q.Segments != 1 {
+		var subArea []int
+		if area != nil {
+			subArea = make([]int, len(nodes))
+			for k, i := range nodes {
+				subArea[k] = area[i]
+			}
+		}
+		c, _, err := kway(ctx, g.Subgraph(nodes), subArea, q)
+		if err != nil {
+			return nil, err
+		}
+		for k, i := range nodes {
+			res.region[i] = next + c.region[k]
+		}
+		res.eigenvalues = c.eigenvalues
+		next += int32(c.regions)
+	} else {
+		for _, i := range nodes {
+			res.region[i] = next
+		}
+		next++
+	}
+	for i, c := range comp {
+		if int(c) != big {
+			res.region[i] = id[c]
+		}
+	}
+	res.regions = int(next)
+	return res, nil
+}
+
+// constant reports whether every feature plane holds a single value.
+func constant(planes [][]float32) bool {
+	for _, pl := range planes {
+		for _, v := range pl {
+			if v != pl[0] {
+				return false
+			}
+		}
+	}
+	return true
+}

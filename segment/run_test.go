@@ -1,0 +1,151 @@
+package segment
+
+import (
+	"context"
+	"errors"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+func defaultParams() Params {
+	return Params{
+		Superpixels: -1, Compactness: 20, Radius: 5, AutoSigmaI: true, AutoSigmaX: true,
+		Method: MethodBisect, MaxSegments: 12, MaxNcut: 0.15, MinArea: 20, Workers: 1, Seed: 1,
+	}
+}
+
+// discs renders bright discs on a dark ramp with Gaussian noise.
+func discs(w, h int, seed uint64) Input {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	f := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := 0.1 + 0.1*float64(x)/float64(w)
+			for _, c := range [][3]float64{{0.3, 0.3, 0.12}, {0.7, 0.6, 0.15}, {0.35, 0.75, 0.1}} {
+				dx, dy := float64(x)-c[0]*float64(w), float64(y)-c[1]*float64(h)
+				if dx*dx+dy*dy < c[2]*c[2]*float64(w*w) {
+					v = 0.8
+				}
+			}
+			f[y*w+x] = float32(v + 0.03*rng.NormFloat64())
+		}
+	}
+	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
+}
+
+// Same labels for any worker count (DESIGN.md: determinism), on the pixel
+// graph and on superpixels, for both methods.
+func TestRunWorkersIdentical(t *testing.T) {
+	for _, c := range []struct {
+		name        string
+		w, h        int
+		superpixels int
+		method      string
+	}{
+		{"pixels bisect", 64, 48, 0, MethodBisect},
+		{"pixels kway", 64, 48, 0, MethodKway},
+		{"superpixels bisect", 200, 160, 400, MethodBisect},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			in := discs(c.w, c.h, 5)
+			p := defaultParams()
+			p.Superpixels, p.Method, p.Classes, p.Background = c.superpixels, c.method, 2, "dark"
+			if c.method == MethodKway {
+				p.Segments = 4
+			}
+			var first *Result
+			for _, workers := range []int{1, 2, 3} {
+				p.Workers = workers
+				res, err := Run(context.Background(), in, p)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if first == nil {
+					first = res
+					continue
+				}
+				if !slices.Equal(res.Labels, first.Labels) || !slices.Equal(res.Eigenvalues, first.Eigenvalues) {
+					t.Fatalf("workers %d changed the result", workers)
+				}
+			}
+			if first.NumObjects != 3 {
+				t.Errorf("%d objects, want the 3 discs", first.NumObjects)
+			}
+		})
+	}
+}
+
+// Degenerate but valid inputs get a sensible result: one region, no NaN.
+func TestRunDegenerate(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		w, h int
+		v    float32
+	}{{"1x1", 1, 1, 0.5}, {"constant", 40, 30, 0.25}, {"constant zero", 20, 20, 0}, {"1x50", 1, 50, 1}} {
+		t.Run(c.name, func(t *testing.T) {
+			f := make([]float32, c.w*c.h)
+			for i := range f {
+				f[i] = c.v
+			}
+			for _, m := range []string{MethodBisect, MethodKway} {
+				p := defaultParams()
+				p.Method, p.Classes, p.Background = m, 2, "dark"
+				res, err := Run(context.Background(), Input{Width: c.w, Height: c.h, Planes: [][]float32{f}, Luminance: f}, p)
+				if err != nil {
+					t.Fatalf("%s: %v", m, err)
+				}
+				if res.NumRegions != 1 {
+					t.Errorf("%s: %d regions, want 1", m, res.NumRegions)
+				}
+				for _, v := range res.Eigenvalues {
+					if math.IsNaN(v) {
+						t.Errorf("%s: NaN eigenvalue", m)
+					}
+				}
+			}
+		})
+	}
+}
+
+func TestParamsValidate(t *testing.T) {
+	bad := []func(*Params){
+		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, 0 },
+		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, -1 },
+		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, math.NaN() },
+		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, math.Inf(1) },
+		func(p *Params) { p.Radius = 0 },
+		func(p *Params) { p.MaxNcut = 0 },
+		func(p *Params) { p.Method = "spectral" },
+		func(p *Params) { p.Classes = 1 },
+		func(p *Params) { p.Background = "grey"; p.Classes = 2 },
+		func(p *Params) { p.Background = "dark" },
+		func(p *Params) { p.Segments = -2 },
+	}
+	for i, f := range bad {
+		p := defaultParams()
+		f(&p)
+		var pe *ParamError
+		if err := p.Validate(); !errors.As(err, &pe) {
+			t.Errorf("case %d: %+v accepted (err %v)", i, p, err)
+		}
+	}
+	if err := defaultParams().Validate(); err != nil {
+		t.Errorf("defaults rejected: %v", err)
+	}
+}
+
+// More segments than nodes: k-way returns at most one region per node.
+func TestKwayMoreSegmentsThanNodes(t *testing.T) {
+	in := discs(4, 3, 1)
+	p := defaultParams()
+	p.Method, p.Segments, p.MinArea = MethodKway, 50, 0
+	res, err := Run(context.Background(), in, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.NumRegions < 1 || res.NumRegions > 12 {
+		t.Errorf("%d regions for 12 pixels", res.NumRegions)
+	}
+}
