@@ -16,14 +16,18 @@ const DefaultTol = 1e-6
 const DefaultMaxIter = 500
 
 // denseMax is the largest graph solved directly by a dense symmetric
-// eigensolver; above it the coarse-to-fine LOBPCG path is faster
-// (measured with BenchmarkCrossover in this package).
-const denseMax = 200
+// eigensolver; above it the coarse-to-fine LOBPCG path is faster (for
+// k = 2 the two cross near 70 nodes: BenchmarkCrossover).
+const denseMax = 70
 
 // coarseMax is the size at which coarsening stops and the coarsest graph
 // is solved densely. The W-cycle visits the coarsest level 2^levels
 // times, so it is kept small.
 const coarseMax = 60
+
+// coarseStall is the largest coarsest level solved densely when
+// coarsening stops early (matching stalls).
+const coarseStall = 1000
 
 // midIter is the LOBPCG step limit on the intermediate levels: a few
 // steps there give the next level a start that is good enough, more cost
@@ -78,13 +82,18 @@ var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
 // Smallest returns the k smallest eigenpairs of the symmetric normalized
 // Laplacian L = I - D^-1/2 W D^-1/2 of g (Shi and Malik 2000). The graph
 // must be connected; the null vector z0 = D^1/2 1/‖D^1/2 1‖ is deflated
-// exactly and returned as the first pair. Graphs of at most 200 nodes are
+// exactly and returned as the first pair. Graphs of at most 70 nodes are
 // solved densely; larger ones coarse to fine with block LOBPCG (see the
 // package comment). It returns an error for a nil or empty graph, k < 1,
 // k > N, malformed arrays, negative or non-finite weights and nodes of
 // zero degree. When LOBPCG stops at MaxIter above the tolerance it returns
 // the result together with an error wrapping ErrNotConverged.
 func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
+	return smallest(g, k, opt, denseMax)
+}
+
+// smallest is Smallest with the dense crossover as a parameter.
+func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, error) {
 	if err := check(g, k); err != nil {
 		return nil, err
 	}
@@ -120,7 +129,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 	// LOBPCG needs the block, its residuals and the previous directions to
 	// fit in the complement of z0; beyond that, solve densely.
 	m := blockSize(want)
-	if n <= denseMax || 3*m >= n-1 || want == 0 {
+	if n <= denseLimit || 3*m >= n-1 || want == 0 {
 		if want > 0 {
 			v, z, err := denseLevel(lv0, want)
 			if err != nil {
@@ -141,10 +150,14 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 		coarsest := levels[len(levels)-1]
 		var x *block
 		var mg *multigrid
+		if coarsest.n > coarseStall {
+			// Coarsening stalled far above the dense size: solve on the
+			// input graph alone, from random vectors, without a
+			// preconditioner (slow but sure).
+			levels = levels[:1]
+			coarsest = lv0
+		}
 		if len(levels) > 1 {
-			if coarsest.n > 4*coarseMax {
-				return nil, fmt.Errorf("eigen: coarsening stalled at %d nodes", coarsest.n)
-			}
 			cvals, cvecs, err := denseLevel(coarsest, -1)
 			if err != nil {
 				return nil, err
@@ -157,9 +170,6 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 			}
 		} else {
 			x = newBlock(coarsest.n, 0)
-		}
-		if x.m < m {
-			x = fillRandom(x, m, opt.Seed)
 		}
 		for l := len(levels) - 1; l >= 0; l-- {
 			if l < len(levels)-1 {
@@ -174,6 +184,14 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 			}
 			if l == len(levels)-1 && len(levels) > 1 {
 				continue // exact dense solution of the coarsest level
+			}
+			if l > 0 && 3*m >= levels[l].n-1 {
+				continue // too small for the block: interpolate on
+			}
+			if x.m < m {
+				// The coarser levels had fewer pairs than the block
+				// needs (hub graphs shrink fast): add random vectors.
+				x = fillRandom(x, m, opt.Seed)
 			}
 			ol := &ops{lv: levels[l], workers: workers}
 			var pre func(*block) *block
@@ -190,7 +208,7 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 			if l > 0 {
 				it = min(it, midIter)
 			}
-			r, err := lobpcg(ol, x, want, levelTol(tol, l), it, pre)
+			r, err := lobpcg(ol, x, want, levelTol(tol, l), it, pre, opt.Seed)
 			if err != nil {
 				return nil, err
 			}

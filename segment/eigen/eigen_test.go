@@ -48,6 +48,15 @@ func completeGraph(t testing.TB, n int) *affinity.Graph {
 	return mustGraph(t, n, e)
 }
 
+// starGraph joins node 0 to every other node.
+func starGraph(t testing.TB, n int) *affinity.Graph {
+	var e []affinity.Edge
+	for i := 1; i < n; i++ {
+		e = append(e, affinity.Edge{I: 0, J: i, W: 1})
+	}
+	return mustGraph(t, n, e)
+}
+
 // torusGraph is the Cartesian product C_a x C_b (a, b >= 3), node x*b+y.
 func torusGraph(t testing.TB, a, b int) *affinity.Graph {
 	var e []affinity.Edge
@@ -142,7 +151,7 @@ func dot(a, b []float64) float64 {
 }
 
 // TestClosedForms compares with eigenvalues known in closed form. Sizes
-// both below and above the dense crossover (200 nodes) are used, so the
+// both below and above the dense crossover (70 nodes) are used, so the
 // coarse-to-fine LOBPCG path is tested too.
 func TestClosedForms(t *testing.T) {
 	// Normalized Laplacian of the path P_n: 1 - cos(πj/(n-1)), j = 0..n-1
@@ -188,12 +197,25 @@ func TestClosedForms(t *testing.T) {
 		}
 		return v
 	}
+	// Star K_1,n-1: 0, 1 with multiplicity n-2, and 2 (Chung 1997,
+	// example 1.3). Matching pairs the centre once, so this exercises
+	// the hub aggregation of coarsen.
+	star := func(n int) []float64 {
+		v := make([]float64, n)
+		for j := 1; j < n-1; j++ {
+			v[j] = 1
+		}
+		v[n-1] = 2
+		return v
+	}
 	cases := []struct {
 		name string
 		g    *affinity.Graph
 		k    int
 		want []float64
 	}{
+		{"star n=30 dense", starGraph(t, 30), 30, star(30)},
+		{"star n=500 sparse", starGraph(t, 500), 4, star(500)},
 		{"path n=10 dense", pathGraph(t, 10), 10, path(10)},
 		{"path n=2000 sparse", pathGraph(t, 2000), 5, path(2000)},
 		{"cycle n=12 dense", cycleGraph(t, 12), 7, cycle(12)},

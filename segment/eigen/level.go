@@ -22,8 +22,9 @@ type level struct {
 	s      []float64 // d_i^-1/2
 	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
 	agg    []int32   // fine node -> node of the next coarser level
-	pairs  []int32   // members of coarse node a: pairs[2a] < pairs[2a+1] (-1: none)
-	chunks []int     // fixed row chunk boundaries (independent of workers)
+	memPtr []int     // members of coarse node a: mem[memPtr[a]:memPtr[a+1]], ascending
+	mem    []int32
+	chunks []int // fixed row chunk boundaries (independent of workers)
 }
 
 // chunkNNZ is the target number of stored entries per row chunk. Chunks

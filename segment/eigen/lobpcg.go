@@ -11,6 +11,9 @@ import (
 // n×n, column j belongs to value j) of the symmetric matrix whose upper
 // triangle is in a (row-major n×n), by gonum's mat.EigenSym.
 func symEig(n int, a []float64) ([]float64, []float64, error) {
+	if n == 0 {
+		return nil, nil, nil
+	}
 	sym := mat.NewSymDense(n, nil)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {
@@ -46,11 +49,18 @@ type lobpcgResult struct {
 // orthonormal and Rayleigh-Ritz is a standard symmetric eigenproblem.
 // It stops when the first want columns have ‖L x - θ x‖ <= tol or after
 // maxIter steps.
-func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block) (*lobpcgResult, error) {
+func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block, seed uint64) (*lobpcgResult, error) {
 	lv := o.lv
 	n := lv.n
+	m0 := x.m
 	o.deflate(x)
 	x, _ = o.svqb(x, 1e-14)
+	if x.m < m0 {
+		// Interpolated vectors became dependent: top up with random ones.
+		x = fillRandom(x, m0, seed)
+		o.deflate(x)
+		x, _ = o.svqb(x, 1e-14)
+	}
 	m := x.m
 	if m < want {
 		return nil, errors.New("eigen: start block lost rank")

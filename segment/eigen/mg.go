@@ -170,15 +170,10 @@ func restrict(fine, coarse *level, r, out *block, workers int) {
 	parallel(coarse.nchunks(), workers, func(c int) {
 		for a := coarse.chunks[c]; a < coarse.chunks[c+1]; a++ {
 			dst := out.v[a*m : a*m+m]
-			i := int(fine.pairs[2*a])
-			f := math.Sqrt(fine.deg[i] / coarse.deg[a])
-			src := r.v[i*m : i*m+m]
-			for q, v := range src {
-				dst[q] = f * v
-			}
-			if j := int(fine.pairs[2*a+1]); j >= 0 {
-				f := math.Sqrt(fine.deg[j] / coarse.deg[a])
-				src := r.v[j*m : j*m+m]
+			clear(dst)
+			for _, i := range fine.mem[fine.memPtr[a]:fine.memPtr[a+1]] {
+				f := math.Sqrt(fine.deg[i] / coarse.deg[a])
+				src := r.v[int(i)*m : int(i)*m+m]
 				for q, v := range src {
 					dst[q] += f * v
 				}
