@@ -118,7 +118,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 			break
 		}
 		pt := heap.Pop(h).(part)
-		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea {
+		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea || (p.final != nil && p.final(pt.nodes)) {
 			final = append(final, pt)
 			continue
 		}

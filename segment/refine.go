@@ -4,6 +4,8 @@ import (
 	"context"
 	"math"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/cleave-seg/cleave/affinity"
 )
@@ -19,6 +21,11 @@ const (
 	refineSigmaI  = 0.12
 	refinePercent = 0.9  // quantile of contrast that is scaled to 1
 	refineSeam    = 0.98 // a seam's contrast is below this fraction of its sides'
+	// refineSolidity: objects whose solidity (area over convex hull area)
+	// is above this are taken as single and not re-cut. Touching pairs have
+	// a waist, and so a lower solidity (two touching discs: 2π/(π+4) ≈
+	// 0.88); a digitized ellipse is close to 1.
+	refineSolidity = 0.93
 	// RefineMaxNcut is the largest Ncut at which an object is split into
 	// touching objects.
 	RefineMaxNcut = 0.03
@@ -50,20 +57,18 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 		b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
 		pixels[l] = append(pixels[l], i)
 	}
-	out := make([]int32, len(labels))
-	next := int32(0)
-	var splits []float64
-	for l := 1; l <= n; l++ {
-		if err := ctx.Err(); err != nil {
-			return nil, 0, nil, err
-		}
+	type result struct {
+		region  []int32
+		regions int
+		splits  []float64
+		err     error
+	}
+	results := make([]result, n+1)
+	one := func(l int) {
 		px := pixels[l]
-		if len(px) < 2*minPart {
-			next++
-			for _, i := range px {
-				out[i] = next
-			}
-			continue
+		if len(px) < 2*minPart || solidity(px, w) > refineSolidity {
+			results[l] = result{regions: 1}
+			return
 		}
 		b := boxes[l]
 		cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
@@ -83,7 +88,8 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 		}
 		g, err := affinity.PixelGraph([][]float32{feat}, cw, ch, affinity.PixelParams{Radius: refineRadius, SigmaI: refineSigmaI, SigmaX: refineSigmaX}, 1)
 		if err != nil {
-			return nil, 0, nil, err
+			results[l].err = err
+			return
 		}
 		// nodes is ascending (px is in raster order), so the subgraph's node
 		// k is pixel px[k].
@@ -91,15 +97,48 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 		seam := func(nodes []int, inA []bool) bool {
 			return seamSplit(feat, cw, ch, px, b.x0, b.y0, w, nodes, inA)
 		}
-		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: maxNcut, MinArea: minPart, Workers: workers, Seed: seed, accept: seam})
+		// A part that is already convex (for instance one nucleus of a
+		// split pair) is not cut again.
+		convex := func(nodes []int) bool {
+			if len(nodes) == len(px) {
+				return false // the object itself passed the test above
+			}
+			part := make([]int, len(nodes))
+			for k, v := range nodes {
+				part[k] = px[v]
+			}
+			return solidity(part, w) > refineSolidity
+		}
+		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: maxNcut, MinArea: minPart, Workers: 1, Seed: seed, accept: seam, final: convex})
 		if err != nil {
-			return nil, 0, nil, err
+			results[l].err = err
+			return
 		}
-		splits = append(splits, cut.splitNcuts...)
-		for k, i := range px {
-			out[i] = next + 1 + cut.region[k]
+		results[l] = result{region: cut.region, regions: cut.regions, splits: cut.splitNcuts}
+	}
+	// Objects are independent: refine them in parallel, one goroutine per
+	// object at a time, and assemble in label order (deterministic).
+	forEach(n, workers, func(k int) { one(k + 1) })
+	if err := ctx.Err(); err != nil {
+		return nil, 0, nil, err
+	}
+	out := make([]int32, len(labels))
+	next := int32(0)
+	var splits []float64
+	for l := 1; l <= n; l++ {
+		r := results[l]
+		if r.err != nil {
+			return nil, 0, nil, r.err
 		}
-		next += int32(cut.regions)
+		splits = append(splits, r.splits...)
+		for k, i := range pixels[l] {
+			v := int32(0)
+			if r.region != nil {
+				v = r.region[k]
+			}
+			out[i] = next + 1 + v
+		}
+		next += int32(r.regions)
 	}
 	// Renumber in raster order of the first pixel so labels do not depend
 	// on the order objects were refined in.
@@ -159,4 +198,88 @@ func seamSplit(feat []float32, cw, ch int, px []int, x0, y0, w int, nodes []int,
 		return false
 	}
 	return seam/seamN < refineSeam*math.Min(sum[1]/cnt[1], sum[2]/cnt[2])
+}
+
+// solidity is the pixel count of an object over the area of the convex
+// hull of its pixels (as unit squares), a common shape measure for clumps.
+// px lists the object's pixels in raster order.
+func solidity(px []int, w int) float64 {
+	// The hull of the squares is the hull of the outer corners of the
+	// leftmost and rightmost pixel of each row.
+	var pts [][2]int
+	for k := 0; k < len(px); {
+		y := px[k] / w
+		x0 := px[k] % w
+		j := k
+		for j+1 < len(px) && px[j+1]/w == y {
+			j++
+		}
+		x1 := px[j] % w
+		pts = append(pts, [2]int{x0, y}, [2]int{x0, y + 1}, [2]int{x1 + 1, y}, [2]int{x1 + 1, y + 1})
+		k = j + 1
+	}
+	hull := convexHull(pts)
+	var a2 int
+	for i := range hull {
+		p, q := hull[i], hull[(i+1)%len(hull)]
+		a2 += p[0]*q[1] - q[0]*p[1]
+	}
+	if a2 < 0 {
+		a2 = -a2
+	}
+	if a2 == 0 {
+		return 1
+	}
+	return float64(len(px)) / (float64(a2) / 2)
+}
+
+// convexHull returns the convex hull of pts in counter-clockwise order by
+// Andrew's monotone chain (Andrew 1979).
+func convexHull(pts [][2]int) [][2]int {
+	slices.SortFunc(pts, func(a, b [2]int) int {
+		if a[0] != b[0] {
+			return a[0] - b[0]
+		}
+		return a[1] - b[1]
+	})
+	cross := func(o, a, b [2]int) int {
+		return (a[0]-o[0])*(b[1]-o[1]) - (a[1]-o[1])*(b[0]-o[0])
+	}
+	var hull [][2]int
+	for _, p := range pts {
+		for len(hull) >= 2 && cross(hull[len(hull)-2], hull[len(hull)-1], p) <= 0 {
+			hull = hull[:len(hull)-1]
+		}
+		hull = append(hull, p)
+	}
+	lower := len(hull) + 1
+	for i := len(pts) - 2; i >= 0; i-- {
+		p := pts[i]
+		for len(hull) >= lower && cross(hull[len(hull)-2], hull[len(hull)-1], p) <= 0 {
+			hull = hull[:len(hull)-1]
+		}
+		hull = append(hull, p)
+	}
+	return hull[:len(hull)-1]
+}
+
+// forEach calls fn(k) for k in [0, n) on up to workers goroutines.
+func forEach(n, workers int, fn func(k int)) {
+	workers = max(1, min(workers, n))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for g := 0; g < workers; g++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				k := int(next.Add(1) - 1)
+				if k >= n {
+					return
+				}
+				fn(k)
+			}
+		}()
+	}
+	wg.Wait()
 }

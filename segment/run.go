@@ -58,6 +58,9 @@ type Params struct {
 	// accept, when set, must also approve a split of a part (nodes of the
 	// whole graph; inA marks side A by position in nodes).
 	accept func(nodes []int, inA []bool) bool
+	// final, when set, marks a part (nodes of the whole graph) that is not
+	// to be split at all.
+	final func(nodes []int) bool
 }
 
 // ParamError reports an invalid parameter by its flag name.
@@ -291,12 +294,15 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			field := smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			obj, nobj := objectsFrom(in.Luminance, field, w, h, reg, nreg, cls, bg, p.MinArea)
+			stage("classes")
 			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, in.Luminance, field, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
+			stage("objects")
+		} else {
+			stage("classes")
 		}
-		stage("classes")
 	}
 	res.Params = p
 	return res, nil
