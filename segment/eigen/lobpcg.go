@@ -42,8 +42,9 @@ type lobpcgResult struct {
 // smallest eigenpairs of L restricted to the complement of z0 by the
 // locally optimal block preconditioned conjugate gradient method of
 // Knyazev (2001). Each step performs the Rayleigh-Ritz procedure on
-// span[X, W, P] with W the residuals R = L X - X Θ of the unconverged
-// columns and P the previous search directions. P is taken as the part of
+// span[X, W, P] with W = T R, T the preconditioner and R = L X - X Θ the
+// residuals of the unconverged wanted columns, and P the previous search
+// directions. P is taken as the part of
 // the new Ritz vectors' coordinates that lies outside X, orthonormalized
 // inside the small space (Hetmaniuk and Lehoucq 2006), so the basis stays
 // orthonormal and Rayleigh-Ritz is a standard symmetric eigenproblem.
@@ -104,8 +105,12 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		if done || it >= maxIter {
 			break
 		}
+		// Residual directions only for the wanted columns still above
+		// the tolerance: the guard columns improve through Rayleigh-Ritz
+		// alone, which costs fewer products than it loses in steps
+		// (measured on the coins pixel graph).
 		var active []int
-		for q := 0; q < m; q++ {
+		for q := 0; q < want; q++ {
 			if !(res[q] <= tol) {
 				active = append(active, q)
 			}
