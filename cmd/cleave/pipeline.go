@@ -11,6 +11,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
@@ -140,33 +141,39 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		return fail(err)
 	}
 	w, h := feat.Width, feat.Height
-	write := func(suffix string, fn func(io.Writer) error) error {
-		p := j.out.path(suffix)
-		if err := imageio.WriteAtomic(p, j.force, fn); err != nil {
-			return err
-		}
-		rec.Outputs = append(rec.Outputs, filepath.Base(p))
-		return nil
-	}
-	if err := write(".labels.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Labels) }); err != nil {
-		return fail(err)
-	}
+	// The image outputs are encoded concurrently (PNG compression is the
+	// slow part); each goes to its own file, so order does not matter, and
+	// the list of outputs is kept in a fixed order.
 	tint := res.Params.Background != ""
-	if err := write(".overlay.png", func(wr io.Writer) error {
-		return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint)
-	}); err != nil {
-		return fail(err)
+	type output struct {
+		suffix string
+		fn     func(io.Writer) error
+	}
+	outs := []output{
+		{".labels.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Labels) }},
+		{".overlay.png", func(wr io.Writer) error { return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint) }},
 	}
 	if res.Classes != nil {
-		if err := write(".classes.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Classes) }); err != nil {
-			return fail(err)
-		}
+		outs = append(outs, output{".classes.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Classes) }})
 	}
-	table := measureRegions(res.Labels, feat.Raw, w, h)
-	if err := write(".regions.csv", func(wr io.Writer) error {
-		return writeRegionTable(wr, table, j.settings.PixelSize, j.settings.Unit)
-	}); err != nil {
-		return fail(err)
+	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
+		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), j.settings.PixelSize, j.settings.Unit)
+	}})
+	errs := make([]error, len(outs))
+	var wg sync.WaitGroup
+	for k, o := range outs {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			errs[k] = imageio.WriteAtomic(j.out.path(o.suffix), j.force, o.fn)
+		}()
+	}
+	wg.Wait()
+	for k, o := range outs {
+		if errs[k] != nil {
+			return fail(errs[k])
+		}
+		rec.Outputs = append(rec.Outputs, filepath.Base(j.out.path(o.suffix)))
 	}
 	if j.saveGraph != "" {
 		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", version, j.path, kind, res.Graph.N)

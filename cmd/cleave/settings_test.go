@@ -4,10 +4,15 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"image"
+	"image/color"
+	"image/png"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
 )
 
 func TestParamsFile(t *testing.T) {
@@ -156,4 +161,102 @@ func FuzzParamsFile(f *testing.F) {
 		}
 		_, _ = s.resolve(c.workers)
 	})
+}
+
+// --save-graph writes the solved W in Matrix Market form that reads back to
+// a graph with one node per pixel (a 40x30 image under the pixel graph).
+func TestSaveGraph(t *testing.T) {
+	dir := t.TempDir()
+	img := filepath.Join(dir, "ramp.png")
+	writeTestPNG(t, img, 40, 30)
+	mtx := filepath.Join(dir, "w.mtx")
+	var out, errb bytes.Buffer
+	if code := run(context.Background(), []string{"segment", "--out", dir, "--save-graph", mtx, img}, &out, &errb); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	f, err := os.Open(mtx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	g, err := affinity.ReadMatrixMarket(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g.N != 40*30 || g.NNZ() == 0 {
+		t.Errorf("graph of %d nodes, %d entries; want 1200 nodes", g.N, g.NNZ())
+	}
+}
+
+// An output folder that cannot be written: exit 1, an error naming it, no
+// panic.
+func TestUnwritableOut(t *testing.T) {
+	dir := t.TempDir()
+	img := filepath.Join(dir, "ramp.png")
+	writeTestPNG(t, img, 20, 20)
+	blocker := filepath.Join(dir, "file")
+	if err := os.WriteFile(blocker, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var out, errb bytes.Buffer
+	code := run(context.Background(), []string{"segment", "--out", filepath.Join(blocker, "sub"), img}, &out, &errb)
+	if code != exitFail || !strings.Contains(errb.String(), "output folder") {
+		t.Errorf("exit %d, stderr %q", code, errb.String())
+	}
+	// An existing output is not overwritten without --force.
+	if code := run(context.Background(), []string{"segment", "--out", dir, img}, &out, &errb); code != exitOK {
+		t.Fatalf("first run: exit %d: %s", code, errb.String())
+	}
+	errb.Reset()
+	if code := run(context.Background(), []string{"segment", "--out", dir, img}, &out, &errb); code != exitFail || !strings.Contains(errb.String(), "--force") {
+		t.Errorf("second run without --force: exit %d, stderr %q", code, errb.String())
+	}
+}
+
+// Broken inputs: each gets exit 1 and a message naming the file.
+func TestBadImages(t *testing.T) {
+	dir := t.TempDir()
+	good := filepath.Join(dir, "good.png")
+	writeTestPNG(t, good, 16, 16)
+	data, _ := os.ReadFile(good)
+	files := map[string][]byte{
+		"empty.png":     {},
+		"truncated.png": data[:len(data)/2],
+		"text.tif":      []byte("this is not an image\n"),
+	}
+	for name, content := range files {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, content, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		var out, errb bytes.Buffer
+		code := run(context.Background(), []string{"segment", "--out", filepath.Join(dir, "out"), p}, &out, &errb)
+		if code != exitFail || !strings.Contains(errb.String(), p) {
+			t.Errorf("%s: exit %d, stderr %q", name, code, errb.String())
+		}
+		if _, err := os.Stat(filepath.Join(dir, "out", stemOf(p)+".labels.png")); err == nil {
+			t.Errorf("%s: a label map was written for a broken file", name)
+		}
+	}
+}
+
+func writeTestPNG(t *testing.T, path string, w, h int) {
+	t.Helper()
+	img := image.NewGray16(image.Rect(0, 0, w, h))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := uint16(1000 + 40*x)
+			if (x-w/2)*(x-w/2)+(y-h/2)*(y-h/2) < w*h/16 {
+				v = 50000
+			}
+			img.SetGray16(x, y, color.Gray16{Y: v})
+		}
+	}
+	var buf bytes.Buffer
+	if err := png.Encode(&buf, img); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
 }
