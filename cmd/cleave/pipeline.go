@@ -37,7 +37,8 @@ type record struct {
 	Status      string             `json:"status"`
 	Error       string             `json:"error,omitempty"`
 	Input       inputInfo          `json:"input"`
-	Params      map[string]any     `json:"params,omitempty"`
+	Settings    *settings          `json:"settings,omitempty"` // parameters as requested ("auto" unresolved)
+	Params      map[string]any     `json:"params,omitempty"`   // parameters as used, automatic values resolved
 	Graph       *graphInfo         `json:"graph,omitempty"`
 	Eigenvalues []float64          `json:"eigenvalues"`
 	SplitNcuts  []float64          `json:"split_ncuts"`
@@ -77,14 +78,15 @@ type job struct {
 // error in it) and the error.
 func processImage(ctx context.Context, j job) (*record, error) {
 	start := time.Now()
-	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Seconds: map[string]float64{}}
+	set := j.settings
+	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Seconds: map[string]float64{}}
 	fail := func(err error) (*record, error) {
 		err = fmt.Errorf("%s: %w", j.path, err)
 		rec.Error = err.Error()
 		rec.Seconds["total"] = time.Since(start).Seconds()
 		return rec, err
 	}
-	tick := time.Now()
+	var tick time.Time
 	lap := func(name string) {
 		now := time.Now()
 		rec.Seconds[name] += now.Sub(tick).Seconds()
@@ -97,27 +99,14 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			}
 		}
 	}
-	data, err := os.ReadFile(j.path)
+	in, err := loadInput(j.path, j.resolved)
 	if err != nil {
 		return fail(err)
 	}
-	sum := sha256.Sum256(data)
-	rec.Input.SHA256 = hex.EncodeToString(sum[:])
-	im, err := imageio.Decode(bytes.NewReader(data), j.resolved.load)
-	if err != nil {
-		return fail(err)
-	}
-	data = nil
-	rec.Input.Format, rec.Input.Width, rec.Input.Height = im.Format, im.Width, im.Height
-	rec.Input.Channels, rec.Input.BitDepth, rec.Input.HasAlpha = im.Channels, im.BitDepth, im.HasAlpha
-	lap("decode")
-	feat, err := imageio.MakeFeatures(im, j.resolved.features, j.resolved.params.Workers)
-	if err != nil {
-		return fail(err)
-	}
-	lap("features")
-	in := segment.Input{Width: feat.Width, Height: feat.Height, Planes: feat.Planes, Luminance: feat.Planes[0]}
-	res, err := segment.Run(ctx, in, j.resolved.params)
+	rec.Input = in.info
+	rec.Seconds["decode"], rec.Seconds["features"] = in.decodeSeconds, in.featureSeconds
+	feat := in.features
+	res, err := segmentInput(ctx, in, j.resolved.params)
 	if err != nil {
 		return fail(err)
 	}
@@ -222,4 +211,45 @@ func writeRecord(path string, rec *record, force bool) error {
 func stemOf(path string) string {
 	base := filepath.Base(path)
 	return strings.TrimSuffix(base, filepath.Ext(base))
+}
+
+// loaded is an input image decoded and turned into features, ready to be
+// segmented (possibly many times, as a parameter search does).
+type loaded struct {
+	info           inputInfo
+	features       *imageio.Features
+	decodeSeconds  float64
+	featureSeconds float64
+}
+
+// loadInput reads, checksums and decodes one image file and computes its
+// features. Errors do not carry the path; callers add it.
+func loadInput(path string, r *resolved) (*loaded, error) {
+	t0 := time.Now()
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	sum := sha256.Sum256(data)
+	in := &loaded{info: inputInfo{Path: path, SHA256: hex.EncodeToString(sum[:])}}
+	im, err := imageio.Decode(bytes.NewReader(data), r.load)
+	if err != nil {
+		return nil, err
+	}
+	in.info.Format, in.info.Width, in.info.Height = im.Format, im.Width, im.Height
+	in.info.Channels, in.info.BitDepth, in.info.HasAlpha = im.Channels, im.BitDepth, im.HasAlpha
+	t1 := time.Now()
+	in.decodeSeconds = t1.Sub(t0).Seconds()
+	in.features, err = imageio.MakeFeatures(im, r.features, r.params.Workers)
+	if err != nil {
+		return nil, err
+	}
+	in.featureSeconds = time.Since(t1).Seconds()
+	return in, nil
+}
+
+// segmentInput runs the segmentation of a loaded image with parameters p.
+func segmentInput(ctx context.Context, in *loaded, p segment.Params) (*segment.Result, error) {
+	f := in.features
+	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0]}, p)
 }
