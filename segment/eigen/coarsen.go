@@ -127,7 +127,12 @@ func coarsen(lv *level, workers int) *level {
 		}
 		var acc []float64
 		var cols []int32
-		co := chunkOut{cnt: make([]int, 0, a1-a0)}
+		// Capacity: the members' row lengths bound the coarse row's.
+		bound := 0
+		for _, u := range lv.mem[lv.memPtr[a0]:lv.memPtr[a1]] {
+			bound += lv.rowPtr[u+1] - lv.rowPtr[u]
+		}
+		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound), wt: make([]float32, 0, bound)}
 		for a := a0; a < a1; a++ {
 			cols = cols[:0]
 			acc = acc[:0]

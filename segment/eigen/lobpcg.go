@@ -86,6 +86,14 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	res := make([]float64, m)
 	it := 0
 	for ; ; it++ {
+		if it > 0 && it%refreshEvery == 0 {
+			// AX and AP are updated by linear combination, so rounding
+			// drifts them away from L X and L P; recompute AX and
+			// restart the directions so that residuals stay true.
+			lv.applyL(ax, x, tmp, o.workers)
+			o.put(p, ap)
+			p, ap = nil, nil
+		}
 		// R = AX - X Θ
 		parallel(lv.nchunks(), o.workers, func(ch int) {
 			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
@@ -288,3 +296,6 @@ func vdot(a, b []float64) float64 {
 }
 
 func vnorm(a []float64) float64 { return math.Sqrt(vdot(a, a)) }
+
+// refreshEvery is the step interval at which L X is recomputed.
+const refreshEvery = 10
