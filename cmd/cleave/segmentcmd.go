@@ -14,14 +14,14 @@ import (
 
 const segmentExample = `Example (a generated nuclei scene shipped with cleave):
 
-  cleave segment --classes 2 --background dark --out results examples/nuclei/nuclei-01.png
+  cleave segment --classes 2 --background dark --out results examples/nuclei/nuclei-1.png
 
-writes results/nuclei-01.labels.png (objects 1..N on background 0, 16-bit),
-results/nuclei-01.overlay.png, results/nuclei-01.classes.png,
-results/nuclei-01.regions.csv and results/nuclei-01.json, and prints one
+writes results/nuclei-1.labels.png (objects 1..N on background 0, 16-bit),
+results/nuclei-1.overlay.png, results/nuclei-1.classes.png,
+results/nuclei-1.regions.csv and results/nuclei-1.json, and prints one
 summary line. For a plate under raking light with dark defects:
 
-  cleave segment --classes 2 --background bright --flatten 30 examples/plates/plate-01.png
+  cleave segment --classes 2 --background bright --flatten 30 examples/plates/plate-1.png
 `
 
 func segmentHelp(w io.Writer) {
