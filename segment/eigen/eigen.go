@@ -12,7 +12,8 @@ import (
 // DefaultTol is the residual tolerance used when Options.Tol is 0.
 const DefaultTol = 1e-6
 
-// DefaultMaxIter is the LOBPCG step limit per level when Options.MaxIter is 0.
+// DefaultMaxIter is the LOBPCG step limit on the input graph when
+// Options.MaxIter is 0 (intermediate levels take at most midIter steps).
 const DefaultMaxIter = 500
 
 // denseMax is the largest graph solved directly by a dense symmetric
@@ -46,7 +47,7 @@ type Options struct {
 	// value θ with residual r (Golub and Van Loan, section 8.1), 1e-6
 	// gives eigenvalues of order 1e-4 to a few parts in 1e-4 or better.
 	Tol float64
-	// MaxIter limits the LOBPCG steps on each level; 0 means
+	// MaxIter limits the LOBPCG steps on the input graph; 0 means
 	// DefaultMaxIter.
 	MaxIter int
 	// Workers is the number of goroutines for the sparse products and
@@ -82,9 +83,10 @@ var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
 // Smallest returns the k smallest eigenpairs of the symmetric normalized
 // Laplacian L = I - D^-1/2 W D^-1/2 of g (Shi and Malik 2000). The graph
 // must be connected; the null vector z0 = D^1/2 1/‖D^1/2 1‖ is deflated
-// exactly and returned as the first pair. Graphs of at most 70 nodes are
-// solved densely; larger ones coarse to fine with block LOBPCG (see the
-// package comment). It returns an error for a nil or empty graph, k < 1,
+// exactly and returned as the first pair. Graphs of at most 70 nodes,
+// and requests whose LOBPCG block would not fit in N (k above about N/4),
+// are solved densely; the others coarse to fine with block LOBPCG (see
+// the package comment). It returns an error for a nil or empty graph, k < 1,
 // k > N, malformed arrays, negative or non-finite weights and nodes of
 // zero degree. When LOBPCG stops at MaxIter above the tolerance it returns
 // the result together with an error wrapping ErrNotConverged.

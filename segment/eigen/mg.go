@@ -4,16 +4,16 @@ import "math"
 
 // multigrid applies one cycle of an aggregation multigrid method (Golub
 // and Van Loan, section 4.8 on multigrid; Galerkin coarse operators,
-// damped Jacobi smoothing) for L x = b on the orthogonal complement of
-// z0, as the LOBPCG preconditioner T ≈ L^+ (Knyazev 2001). The coarse
-// operator of level l+1 is Pzᵀ L_l Pz with Pz = D^1/2 P D_c^-1/2 (see
-// coarsen), so the restriction is Pzᵀ and the prolongation Pz. Each
-// level visits the next one twice (a W-cycle): pairwise aggregation
-// halves the nodes per level, and one visit (a V-cycle) loses too much
-// of the coarse correction over many levels. The coarse correction is
-// scaled by alpha > 1, the over-correction that unsmoothed aggregation
-// needs (common practice in aggregation multigrid). The coarsest level is
-// solved exactly with the pseudo-inverse L_c^+ = Σ_{j>=1} u_j u_jᵀ / λ_j.
+// damped Jacobi smoothing with ω = 0.7) for L x = b on the orthogonal
+// complement of z0, as the LOBPCG preconditioner T ≈ L^+ (Knyazev 2001).
+// The coarse operator of level l+1 is Pzᵀ L_l Pz with Pz = D^1/2 P D_c^-1/2
+// (see coarsen), so the restriction is Pzᵀ and the prolongation Pz.
+// The top wDepth levels visit the next one twice (a W-cycle) with the
+// coarse correction scaled by 1.5, the over-correction that unsmoothed
+// aggregation needs (common practice in aggregation multigrid), and no
+// post-smoothing; deeper levels use a symmetric V(1,1)-cycle. The
+// coarsest level is solved exactly with the pseudo-inverse
+// L_c^+ = Σ_{j>=1} u_j u_jᵀ / λ_j from its dense eigendecomposition.
 type multigrid struct {
 	levels  []*level // levels[0] is the finest level of this cycle
 	workers int
