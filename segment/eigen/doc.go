@@ -15,7 +15,8 @@
 // solved coarse to fine (Cour, Benezit and Shi 2005): heavy-edge matching
 // builds a hierarchy of Galerkin coarse graphs W_c = Pᵀ W P, the coarsest is
 // solved densely, and the eigenvectors are interpolated level by level and
-// refined with block LOBPCG (Knyazev 2001) in the deflated space. All
+// refined with block LOBPCG (Knyazev 2001) in the deflated space,
+// preconditioned by a multigrid cycle on the same hierarchy. All
 // reductions run in a fixed order over fixed row chunks, so results are
 // byte-identical for any number of workers.
 package eigen
