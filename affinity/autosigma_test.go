@@ -85,3 +85,21 @@ func TestLowerMedian(t *testing.T) {
 		}
 	}
 }
+
+// AutoRegionSigmaI on a hand-made labelling: a 3x1 strip of regions with
+// means 0.1, 0.2, 0.6 has adjacent differences 0.1 and 0.4; the lower
+// median of {0.1, 0.4} is 0.1, above the floor 0.01 x spread 0.5.
+func TestAutoRegionSigmaI(t *testing.T) {
+	labels := []int32{0, 0, 1, 1, 2, 2}
+	f := [][]float32{{0.1, 0.1, 0.2, 0.2, 0.6, 0.6}}
+	r := Summarize(f, 6, 1, labels, 3)
+	got := AutoRegionSigmaI(r, Adjacency(6, 1, labels, 3))
+	if math.Abs(got-0.1) > 1e-6 {
+		t.Errorf("sigma-i = %v, want 0.1", got)
+	}
+	// A constant image: every difference 0, spread 0 -> the absolute floor.
+	c := [][]float32{{0.5, 0.5, 0.5, 0.5, 0.5, 0.5}}
+	if got := AutoRegionSigmaI(Summarize(c, 6, 1, labels, 3), Adjacency(6, 1, labels, 3)); got != minSigmaI {
+		t.Errorf("constant: sigma-i = %v, want the floor %v", got, minSigmaI)
+	}
+}
