@@ -1,0 +1,80 @@
+package segment
+
+import (
+	"context"
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// A touching pair of discs with a dim seam, a single disc and a thin bar,
+// bright on a dark field: the pair comes out as two objects, the disc and
+// the bar as one each (the bar must not be cut across: it has no seam).
+func TestRefineSplitsTouchingPair(t *testing.T) {
+	const w, h = 240, 160
+	rng := rand.New(rand.NewPCG(21, 22))
+	f := make([]float32, w*h)
+	type disc struct{ x, y, r float64 }
+	pair := []disc{{60, 60, 16}, {88, 60, 16}}
+	single := disc{170, 50, 14}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := 0.1
+			fx, fy := float64(x), float64(y)
+			in := func(d disc) bool { return (fx-d.x)*(fx-d.x)+(fy-d.y)*(fy-d.y) <= d.r*d.r }
+			if in(pair[0]) || in(pair[1]) {
+				v = 0.8
+				if math.Abs(fx-74) < 2 { // the seam at the midline
+					v = 0.45
+				}
+			}
+			if in(single) {
+				v = 0.8
+			}
+			if x >= 40 && x < 200 && y >= 120 && y < 124 { // a 4-pixel bar
+				v = 0.7
+			}
+			f[y*w+x] = float32(v + 0.02*rng.NormFloat64())
+		}
+	}
+	p := defaultParams()
+	p.Classes, p.Background, p.Workers = 2, "dark", 2
+	res, err := Run(context.Background(), Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	at := func(x, y int) int32 { return res.Labels[y*w+x] }
+	if res.NumObjects != 4 {
+		t.Errorf("%d objects, want 4 (pair split in two, disc, bar)", res.NumObjects)
+	}
+	if a, b := at(55, 60), at(93, 60); a == 0 || b == 0 || a == b {
+		t.Errorf("pair: labels %d and %d, want two different objects", a, b)
+	}
+	if a, b := at(50, 121), at(190, 121); a == 0 || a != b {
+		t.Errorf("bar: labels %d and %d at its ends, want one object", a, b)
+	}
+	if len(res.ObjectNcuts) != 1 {
+		t.Errorf("object splits %v, want exactly one", res.ObjectNcuts)
+	}
+}
+
+// Solidity of simple shapes against their closed forms: a filled
+// rectangle is its own hull (1); an L of three unit squares has hull area
+// 3.5 (the square 2x2 minus the half square cut off by the hull's
+// diagonal), so 3/3.5.
+func TestSolidity(t *testing.T) {
+	const w = 10
+	rect := []int{}
+	for y := 2; y < 5; y++ {
+		for x := 3; x < 7; x++ {
+			rect = append(rect, y*w+x)
+		}
+	}
+	if s := solidity(rect, w); math.Abs(s-1) > 1e-12 {
+		t.Errorf("rectangle: %v, want 1", s)
+	}
+	l := []int{0*w + 0, 1*w + 0, 1*w + 1}
+	if s := solidity(l, w); math.Abs(s-3/3.5) > 1e-12 {
+		t.Errorf("L tromino: %v, want %v", s, 3/3.5)
+	}
+}
