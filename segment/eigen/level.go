@@ -172,12 +172,31 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 			yr[c0+2] = xr[c0+2] - si*a2
 			yr[c0+3] = xr[c0+3] - si*a3
 		}
-		for ; c0 < m; c0++ {
-			var a float64
+		if m-c0 >= 2 {
+			var a0, a1 float64
 			for p, j := range cols {
-				a += float64(wts[p]) * t[int(j)*m+c0]
+				w := float64(wts[p])
+				q := t[int(j)*m+c0 : int(j)*m+c0+2 : int(j)*m+c0+2]
+				a0 += w * q[0]
+				a1 += w * q[1]
 			}
-			yr[c0] = xr[c0] - si*a
+			yr[c0] = xr[c0] - si*a0
+			yr[c0+1] = xr[c0+1] - si*a1
+			c0 += 2
+		}
+		if c0 < m {
+			// One column: two partial sums (even and odd entries) keep
+			// the additions from waiting on each other.
+			var a0, a1 float64
+			p := 0
+			for ; p+2 <= len(cols); p += 2 {
+				a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
+				a1 += float64(wts[p+1]) * t[int(cols[p+1])*m+c0]
+			}
+			if p < len(cols) {
+				a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
+			}
+			yr[c0] = xr[c0] - si*(a0+a1)
 		}
 	}
 }
