@@ -121,11 +121,10 @@ func coarsen(lv *level, workers int) *level {
 	outs := make([]chunkOut, nch)
 	parallel(nch, workers, func(c int) {
 		a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
-		mark := make([]int32, nc)
-		for i := range mark {
-			mark[i] = -1
-		}
-		var acc []float64
+		// Dense accumulator over coarse columns; seen lists the columns
+		// touched by the current row in order of first appearance.
+		acc := make([]float64, nc)
+		seen := make([]bool, nc)
 		var cols []int32
 		// Capacity: the members' row lengths bound the coarse row's.
 		bound := 0
@@ -135,22 +134,20 @@ func coarsen(lv *level, workers int) *level {
 		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound), wt: make([]float32, 0, bound)}
 		for a := a0; a < a1; a++ {
 			cols = cols[:0]
-			acc = acc[:0]
 			for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
 				for p := lv.rowPtr[u]; p < lv.rowPtr[u+1]; p++ {
 					b := agg[lv.col[p]]
-					if mark[b] < 0 {
-						mark[b] = int32(len(cols))
+					if !seen[b] {
+						seen[b] = true
 						cols = append(cols, b)
-						acc = append(acc, 0)
 					}
-					acc[mark[b]] += float64(lv.wt[p])
+					acc[b] += float64(lv.wt[p])
 				}
 			}
-			for t, b := range cols {
-				mark[b] = -1
+			for _, b := range cols {
 				co.col = append(co.col, b)
-				co.wt = append(co.wt, float32(acc[t]))
+				co.wt = append(co.wt, float32(acc[b]))
+				acc[b], seen[b] = 0, false
 			}
 			co.cnt = append(co.cnt, len(cols))
 		}
