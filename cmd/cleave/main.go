@@ -48,6 +48,7 @@ type command struct {
 func commands() []command {
 	return []command{
 		{"segment", "segment images into label maps, overlays, region tables and records", runSegment, segmentHelp},
+		{"score", "compare label maps with ground truth (ARI, VI, Dice, object F1, boundary F, covering)", runScore, scoreHelp},
 	}
 }
 
