@@ -1,0 +1,205 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+)
+
+// imageExts are the file extensions read as images (lower case).
+var imageExts = map[string]bool{".png": true, ".tif": true, ".tiff": true, ".jpg": true, ".jpeg": true, ".bmp": true, ".gif": true, ".webp": true}
+
+// truthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
+// NAME_truth.png all belong to the image NAME.
+var truthSuffixes = []string{".truth", "_mask", "_truth"}
+
+// labelsSuffix marks the label map cleave segment writes (NAME.labels.png).
+const labelsSuffix = ".labels"
+
+// trimTruth returns the image name a truth stem belongs to and whether the
+// stem carries a truth suffix.
+func trimTruth(stem string) (string, bool) {
+	for _, s := range truthSuffixes {
+		if n, ok := strings.CutSuffix(stem, s); ok && n != "" {
+			return n, true
+		}
+	}
+	return stem, false
+}
+
+// listImageFiles lists the image files of a folder (by extension), sorted
+// by name. It errors when dir is not a readable folder.
+func listImageFiles(dir string) ([]string, error) {
+	st, err := os.Stat(dir)
+	if err != nil {
+		return nil, err
+	}
+	if !st.IsDir() {
+		return nil, fmt.Errorf("%s is not a folder", dir)
+	}
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		return nil, err
+	}
+	var files []string
+	for _, e := range ents {
+		if e.Type().IsRegular() || e.Type()&os.ModeSymlink != 0 {
+			if imageExts[strings.ToLower(filepath.Ext(e.Name()))] && !strings.HasPrefix(e.Name(), ".") {
+				files = append(files, filepath.Join(dir, e.Name()))
+			}
+		}
+	}
+	sort.Strings(files)
+	return files, nil
+}
+
+// pair is an image (or a prediction) with its truth.
+type pair struct {
+	name, image, truth string
+}
+
+// truthIndex maps image names to truth files found in dir. A truth file is
+// one whose stem is NAME.truth, NAME_mask or NAME_truth; when plain is true
+// (the truth folder is not the images folder) a file whose stem is NAME
+// alone is the truth of NAME unless a suffixed one exists (so a folder
+// holding NAME.png and NAME.truth.png serves as a truth folder too). Two
+// truth files of the same kind for one name are an error.
+func truthIndex(dir string, plain bool) (map[string]string, error) {
+	files, err := listImageFiles(dir)
+	if err != nil {
+		return nil, fmt.Errorf("truth folder: %w", err)
+	}
+	suffixed, bare := map[string]string{}, map[string]string{}
+	for _, f := range files {
+		name, ok := trimTruth(stemOf(f))
+		idx := suffixed
+		if !ok {
+			if !plain {
+				continue
+			}
+			idx = bare
+		}
+		if prev, dup := idx[name]; dup {
+			return nil, fmt.Errorf("truth folder %s: both %s and %s are a truth for %s; keep one", dir, filepath.Base(prev), filepath.Base(f), name)
+		}
+		idx[name] = f
+	}
+	for name, f := range bare {
+		if _, ok := suffixed[name]; !ok {
+			suffixed[name] = f
+		}
+	}
+	return suffixed, nil
+}
+
+// sameDir reports whether two paths name the same folder.
+func sameDir(a, b string) bool {
+	sa, err1 := os.Stat(a)
+	sb, err2 := os.Stat(b)
+	return err1 == nil && err2 == nil && os.SameFile(sa, sb)
+}
+
+// pairTune pairs the images of imagesDir with truths in truthDir (tune's
+// rule): image NAME.ext goes with the truth whose stem is NAME, NAME.truth,
+// NAME_mask or NAME_truth. Files with a truth suffix are never images.
+// It returns the pairs sorted by name and the unpaired images.
+func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err error) {
+	files, err := listImageFiles(imagesDir)
+	if err != nil {
+		return nil, nil, fmt.Errorf("images folder: %w", err)
+	}
+	idx, err := truthIndex(truthDir, !sameDir(imagesDir, truthDir))
+	if err != nil {
+		return nil, nil, err
+	}
+	for _, f := range files {
+		stem := stemOf(f)
+		if _, isTruth := trimTruth(stem); isTruth {
+			continue
+		}
+		if t, ok := idx[stem]; ok {
+			pairs = append(pairs, pair{name: stem, image: f, truth: t})
+		} else {
+			unpaired = append(unpaired, f)
+		}
+	}
+	return pairs, unpaired, nil
+}
+
+// pairScore pairs the predictions in predDir with the truths in truthDir:
+// when predDir holds label maps written by cleave segment (NAME.labels.png)
+// only those are predictions, named NAME; otherwise every image file that is
+// not a truth is, named by its stem. Unpaired files on either side are an
+// error listing them.
+func pairScore(predDir, truthDir string) ([]pair, error) {
+	files, err := listImageFiles(predDir)
+	if err != nil {
+		return nil, fmt.Errorf("prediction folder: %w", err)
+	}
+	idx, err := truthIndex(truthDir, !sameDir(predDir, truthDir))
+	if err != nil {
+		return nil, err
+	}
+	if len(files) == 0 {
+		return nil, fmt.Errorf("prediction folder %s holds no image files", predDir)
+	}
+	if len(idx) == 0 {
+		return nil, fmt.Errorf("truth folder %s holds no truth images", truthDir)
+	}
+	hasLabels := false
+	for _, f := range files {
+		if strings.HasSuffix(stemOf(f), labelsSuffix) {
+			hasLabels = true
+		}
+	}
+	preds := map[string]string{}
+	for _, f := range files {
+		stem := stemOf(f)
+		name := stem
+		if hasLabels {
+			var ok bool
+			if name, ok = strings.CutSuffix(stem, labelsSuffix); !ok {
+				continue
+			}
+		} else if _, isTruth := trimTruth(stem); isTruth {
+			continue
+		}
+		if prev, dup := preds[name]; dup {
+			return nil, fmt.Errorf("prediction folder %s: both %s and %s are predictions for %s; keep one", predDir, filepath.Base(prev), filepath.Base(f), name)
+		}
+		preds[name] = f
+	}
+	var pairs []pair
+	var noTruth, noPred []string
+	for name, p := range preds {
+		if t, ok := idx[name]; ok {
+			pairs = append(pairs, pair{name: name, image: p, truth: t})
+		} else {
+			noTruth = append(noTruth, p)
+		}
+	}
+	for name, t := range idx {
+		if _, ok := preds[name]; !ok {
+			noPred = append(noPred, t)
+		}
+	}
+	sort.Slice(pairs, func(i, j int) bool { return pairs[i].name < pairs[j].name })
+	sort.Strings(noTruth)
+	sort.Strings(noPred)
+	var msgs []string
+	if len(noTruth) > 0 {
+		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(noTruth, ", "))
+	}
+	if len(noPred) > 0 {
+		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(noPred, ", "))
+	}
+	if len(msgs) > 0 {
+		return nil, fmt.Errorf("unpaired files: %s", strings.Join(msgs, "; "))
+	}
+	if len(pairs) == 0 {
+		return nil, fmt.Errorf("no label images in %s and %s", predDir, truthDir)
+	}
+	return pairs, nil
+}

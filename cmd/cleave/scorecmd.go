@@ -1,0 +1,321 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/spf13/pflag"
+)
+
+// metrics are the scores of one prediction against its truth; the json tags
+// are the metric names of --json, --csv and tune's --metric.
+type metrics struct {
+	ARI      float64 `json:"ari"`
+	Rand     float64 `json:"rand"`
+	VI       float64 `json:"vi"`
+	VISplit  float64 `json:"vi_split"`
+	VIMerge  float64 `json:"vi_merge"`
+	Dice     float64 `json:"dice"`
+	IoU      float64 `json:"iou"`
+	Prec     float64 `json:"precision"`
+	Recall   float64 `json:"recall"`
+	F1       float64 `json:"f1"`
+	MeanIoU  float64 `json:"mean_iou"`
+	BF       float64 `json:"bf"`
+	BP       float64 `json:"bp"`
+	BR       float64 `json:"br"`
+	Covering float64 `json:"covering"`
+}
+
+// metricNames lists the metrics in output order with their values.
+func (m metrics) values() []float64 {
+	return []float64{m.ARI, m.Rand, m.VI, m.VISplit, m.VIMerge, m.Dice, m.IoU, m.Prec, m.Recall, m.F1, m.MeanIoU, m.BF, m.BP, m.BR, m.Covering}
+}
+
+var metricNames = []string{"ari", "rand", "vi", "vi_split", "vi_merge", "dice", "iou", "precision", "recall", "f1", "mean_iou", "bf", "bp", "br", "covering"}
+
+// get returns the metric of the given name.
+func (m metrics) get(name string) float64 {
+	for i, n := range metricNames {
+		if n == name {
+			return m.values()[i]
+		}
+	}
+	panic("cleave: unknown metric " + name)
+}
+
+// defaultTolerance is the boundary matching tolerance in pixels: a choice
+// for images a few hundred pixels wide (Martin, Fowlkes and Malik 2004 scale
+// theirs with the image diagonal).
+const defaultTolerance = 2
+
+// scoreMaps computes every metric of pred against truth (width x height).
+func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
+	t := score.Contingency(pred, truth)
+	var m metrics
+	m.ARI, m.Rand = t.ARI(), t.RandIndex()
+	m.VI, m.VISplit, m.VIMerge = t.VI()
+	m.Dice, m.IoU = score.Dice(pred, truth)
+	om := score.MatchObjects(pred, truth)
+	m.Prec, m.Recall, m.F1, m.MeanIoU = om.Precision, om.Recall, om.F1, om.MeanIoU
+	b := score.Boundary(pred, truth, width, height, tol)
+	m.BF, m.BP, m.BR = b.F, b.Precision, b.Recall
+	m.Covering = t.Covering()
+	return m
+}
+
+// meanMetrics is the mean of each metric, summed in the given order.
+func meanMetrics(ms []metrics) metrics {
+	var sum [15]float64
+	for _, m := range ms {
+		for i, v := range m.values() {
+			sum[i] += v
+		}
+	}
+	n := float64(len(ms))
+	return metrics{sum[0] / n, sum[1] / n, sum[2] / n, sum[3] / n, sum[4] / n, sum[5] / n, sum[6] / n, sum[7] / n,
+		sum[8] / n, sum[9] / n, sum[10] / n, sum[11] / n, sum[12] / n, sum[13] / n, sum[14] / n}
+}
+
+const scoreExample = `Example (score cleave's label map of a shipped nuclei scene against its mask):
+
+  cleave segment --classes 2 --background dark --out results examples/nuclei/nuclei-1.png
+  cleave score results/nuclei-1.labels.png examples/nuclei/nuclei-1.truth.png
+  cleave score --json --csv scores.csv results examples/nuclei
+
+The folder form pairs NAME.labels.png (or NAME.png) in PRED with NAME.png,
+NAME.truth.png, NAME_mask.png or NAME_truth.png in TRUTH and prints one row
+per pair and the mean.
+`
+
+func scoreHelp(w io.Writer) {
+	fs, _ := scoreFlags()
+	fmt.Fprintf(w, `Usage: cleave score [flags] PRED TRUTH
+
+Compare label maps with their ground truth. PRED and TRUTH are two label
+images (8/16-bit gray PNG or TIFF; any integer labels; 0/255 masks read as
+0/1) or two folders. Label 0 is background for the object measures.
+
+Metrics (natural log for VI):
+  ari, rand           adjusted Rand index and Rand index (Hubert and Arabie 1985)
+  vi, vi_split,       variation of information and its over-segmentation
+    vi_merge            (split) and under-segmentation (merge) parts (Meila 2007)
+  dice, iou           foreground overlap (truth 0 = background)
+  precision, recall,  objects matched at IoU > 0.5 (common practice in
+    f1, mean_iou        cell-segmentation benchmarks) and their mean IoU
+  bp, br, bf          boundary precision, recall and F within --tolerance
+                        pixels (distance approximation of Martin, Fowlkes
+                        and Malik 2004)
+  covering            segmentation covering of the truth (Arbelaez et al. 2011)
+
+%s
+Flags:
+%s
+Exit status: 0 scored, 1 a file is missing, unreadable, of another size or
+unpaired, 2 wrong usage.
+
+%s`, scoreExample, fs.FlagUsagesWrapped(100), caution)
+}
+
+type scoreOptions struct {
+	json      bool
+	csv       string
+	tolerance float64
+	force     bool
+	help      bool
+}
+
+func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
+	fs := pflag.NewFlagSet("score", pflag.ContinueOnError)
+	fs.SortFlags = false
+	o := &scoreOptions{}
+	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table (metric names as keys; folders: \"pairs\" and \"mean\")")
+	fs.StringVar(&o.csv, "csv", "", "also write the scores to this CSV file (one row per pair, then the mean)")
+	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for bp, br and bf")
+	fs.BoolVar(&o.force, "force", false, "overwrite an existing --csv file")
+	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
+	return fs, o
+}
+
+// scoredPair is one scored pair.
+type scoredPair struct {
+	Name  string `json:"name"`
+	Pred  string `json:"pred"`
+	Truth string `json:"truth"`
+	metrics
+}
+
+func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs, o := scoreFlags()
+	fs.SetOutput(io.Discard)
+	if err := fs.Parse(args); err != nil {
+		fmt.Fprintf(stderr, "cleave score: %v (run 'cleave score --help')\n", err)
+		return exitUsage
+	}
+	if o.help {
+		scoreHelp(stdout)
+		return exitOK
+	}
+	if fs.NArg() != 2 {
+		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %d arguments (run 'cleave score --help')\n", fs.NArg())
+		return exitUsage
+	}
+	if o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0) {
+		fmt.Fprintf(stderr, "cleave score: --tolerance must be a number of pixels >= 0, got %v\n", o.tolerance)
+		return exitUsage
+	}
+	predArg, truthArg := fs.Arg(0), fs.Arg(1)
+	pst, err := os.Stat(predArg)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave score: prediction: %v\n", err)
+		return exitFail
+	}
+	tst, err := os.Stat(truthArg)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave score: truth: %v\n", err)
+		return exitFail
+	}
+	var pairs []pair
+	folders := pst.IsDir()
+	switch {
+	case pst.IsDir() != tst.IsDir():
+		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
+		return exitUsage
+	case folders:
+		if pairs, err = pairScore(predArg, truthArg); err != nil {
+			fmt.Fprintf(stderr, "cleave score: %v\n", err)
+			return exitFail
+		}
+	default:
+		pairs = []pair{{name: stemOf(predArg), image: predArg, truth: truthArg}}
+	}
+	var scored []scoredPair
+	for _, p := range pairs {
+		if ctx.Err() != nil {
+			fmt.Fprintln(stderr, "cleave score: interrupted")
+			return exitFail
+		}
+		m, err := scoreFiles(p.image, p.truth, o.tolerance)
+		if err != nil {
+			fmt.Fprintf(stderr, "cleave score: %v\n", err)
+			return exitFail
+		}
+		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, metrics: m})
+	}
+	all := make([]metrics, len(scored))
+	for i, s := range scored {
+		all[i] = s.metrics
+	}
+	mean := meanMetrics(all)
+	if o.csv != "" {
+		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return writeScoreCSV(w, scored, mean, folders) }); err != nil {
+			fmt.Fprintf(stderr, "cleave score: --csv: %v\n", err)
+			return exitFail
+		}
+	}
+	if o.json {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		var v any = scored[0].metrics
+		if folders {
+			v = struct {
+				Pairs []scoredPair `json:"pairs"`
+				Mean  metrics      `json:"mean"`
+			}{scored, mean}
+		}
+		if err := enc.Encode(v); err != nil {
+			fmt.Fprintf(stderr, "cleave score: %v\n", err)
+			return exitFail
+		}
+		return exitOK
+	}
+	writeScoreTable(stdout, scored, mean, folders, o.tolerance)
+	return exitOK
+}
+
+// scoreFiles reads a prediction and a truth label image and scores them.
+func scoreFiles(predPath, truthPath string, tol float64) (metrics, error) {
+	pred, pw, ph, err := imageio.ReadLabels(predPath)
+	if err != nil {
+		return metrics{}, fmt.Errorf("prediction %w", err)
+	}
+	truth, tw, th, err := imageio.ReadLabels(truthPath)
+	if err != nil {
+		return metrics{}, fmt.Errorf("truth %w", err)
+	}
+	if pw != tw || ph != th {
+		return metrics{}, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
+	}
+	return scoreMaps(pred, truth, pw, ph, tol), nil
+}
+
+func fmtMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
+
+// writeScoreTable prints the readable table: metric per line for one pair,
+// a row per pair and the mean for folders.
+func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders bool, tol float64) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	if !folders {
+		fmt.Fprintf(w, "%s vs %s\n", scored[0].Pred, scored[0].Truth)
+		vals := scored[0].metrics.values()
+		for i, n := range metricNames {
+			fmt.Fprintf(tw, "%s\t%s\t\n", n, fmtMetric(vals[i]))
+		}
+		tw.Flush()
+		fmt.Fprintf(w, "(boundary tolerance %g px; vi in nats, lower is better; the rest: higher is better, 1 best)\n", tol)
+		return
+	}
+	cols := []string{"ari", "vi", "dice", "f1", "mean_iou", "bf", "covering"}
+	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(cols, "\t"))
+	row := func(name string, m metrics) {
+		cells := make([]string, len(cols))
+		for i, c := range cols {
+			cells[i] = fmtMetric(m.get(c))
+		}
+		fmt.Fprintf(tw, "%s\t%s\t\n", name, strings.Join(cells, "\t"))
+	}
+	for _, s := range scored {
+		row(s.Name, s.metrics)
+	}
+	row(fmt.Sprintf("mean of %d", len(scored)), mean)
+	tw.Flush()
+	fmt.Fprintf(w, "(boundary tolerance %g px; every metric in --json and --csv)\n", tol)
+}
+
+// writeScoreCSV writes one row per pair and, for folders, a final "mean" row.
+func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool) error {
+	cw := csv.NewWriter(w)
+	head := append([]string{"name", "pred", "truth"}, metricNames...)
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	rec := func(name, pred, truth string, m metrics) error {
+		r := []string{name, pred, truth}
+		for _, v := range m.values() {
+			r = append(r, strconv.FormatFloat(v, 'g', 17, 64))
+		}
+		return cw.Write(r)
+	}
+	for _, s := range scored {
+		if err := rec(s.Name, s.Pred, s.Truth, s.metrics); err != nil {
+			return err
+		}
+	}
+	if folders {
+		if err := rec("mean", "", "", mean); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}

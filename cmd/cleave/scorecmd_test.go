@@ -1,0 +1,188 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"image"
+	"image/color"
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+type cliReference struct {
+	Name string  `json:"name"`
+	ARI  float64 `json:"ari"`
+	Rand float64 `json:"rand"`
+	VI   float64 `json:"vi"`
+}
+
+// loadCLIReference reads testdata/score/cli/reference.json, written by
+// testdata/score/make_cli_reference.py with Debian's python3-sklearn 1.2.1
+// from the label images it committed beside it.
+func loadCLIReference(t *testing.T) (dir string, cases []cliReference) {
+	t.Helper()
+	dir = filepath.Join("..", "..", "testdata", "score", "cli")
+	raw, err := os.ReadFile(filepath.Join(dir, "reference.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var doc struct {
+		Cases []cliReference `json:"cases"`
+	}
+	if err := json.Unmarshal(raw, &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Cases) != 3 {
+		t.Fatalf("reference.json holds %d cases, want 3", len(doc.Cases))
+	}
+	return dir, doc.Cases
+}
+
+func runOK(t *testing.T, args ...string) string {
+	t.Helper()
+	var out, errb bytes.Buffer
+	if code := run(context.Background(), args, &out, &errb); code != exitOK {
+		t.Fatalf("%v: exit %d: %s", args, code, errb.String())
+	}
+	return out.String()
+}
+
+// Reference: sklearn.metrics.adjusted_rand_score and rand_score, and VI =
+// H(a) + H(b) - 2 I(a;b) (Meila 2007) from sklearn's entropy and
+// mutual_info_score, on the same committed label images (reference.json).
+func TestScoreAgainstScikitLearn(t *testing.T) {
+	dir, cases := loadCLIReference(t)
+	const tol = 1e-9
+	var meanARI float64
+	for _, c := range cases {
+		out := runOK(t, "score", "--json", filepath.Join(dir, "pred", c.Name+".png"), filepath.Join(dir, "truth", c.Name+"_mask.png"))
+		var got map[string]float64
+		if err := json.Unmarshal([]byte(out), &got); err != nil {
+			t.Fatalf("%s: %v in %s", c.Name, err, out)
+		}
+		if len(got) != len(metricNames) {
+			t.Errorf("%s: %d keys, want %d (%v)", c.Name, len(got), len(metricNames), metricNames)
+		}
+		if math.Abs(got["ari"]-c.ARI) > tol || math.Abs(got["rand"]-c.Rand) > tol || math.Abs(got["vi"]-c.VI) > tol {
+			t.Errorf("%s: ari %.17g rand %.17g vi %.17g; sklearn %.17g %.17g %.17g", c.Name, got["ari"], got["rand"], got["vi"], c.ARI, c.Rand, c.VI)
+		}
+		meanARI += c.ARI / float64(len(cases))
+	}
+	// The folder form pairs pred/NAME.png with truth/NAME_mask.png; its mean
+	// is the mean of the same sklearn values.
+	out := runOK(t, "score", "--json", filepath.Join(dir, "pred"), filepath.Join(dir, "truth"))
+	var doc struct {
+		Pairs []map[string]any   `json:"pairs"`
+		Mean  map[string]float64 `json:"mean"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Pairs) != 3 || math.Abs(doc.Mean["ari"]-meanARI) > tol {
+		t.Errorf("folders: %d pairs, mean ari %.17g; want 3, %.17g", len(doc.Pairs), doc.Mean["ari"], meanARI)
+	}
+}
+
+// Identities (Hubert and Arabie 1985; Meila 2007; Arbelaez et al. 2011; the
+// boundary F definition): a map against itself scores ARI 1, VI 0,
+// covering 1, boundary F 1, Dice 1 and object F1 1.
+func TestScoreIdentityAndCSV(t *testing.T) {
+	dir, _ := loadCLIReference(t)
+	p := filepath.Join(dir, "pred", "discs.png")
+	out := runOK(t, "score", "--json", p, p)
+	var got map[string]float64
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatal(err)
+	}
+	for k, want := range map[string]float64{"ari": 1, "vi": 0, "covering": 1, "bf": 1, "dice": 1, "f1": 1, "rand": 1} {
+		if math.Abs(got[k]-want) > 1e-12 {
+			t.Errorf("%s = %v, want %v", k, got[k], want)
+		}
+	}
+	csvPath := filepath.Join(t.TempDir(), "s.csv")
+	table := runOK(t, "score", "--csv", csvPath, filepath.Join(dir, "pred"), filepath.Join(dir, "truth"))
+	if !strings.Contains(table, "mean of 3") || !strings.Contains(table, "discs") {
+		t.Errorf("table lacks rows:\n%s", table)
+	}
+	f, err := os.Open(csvPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 5 || rows[0][3] != "ari" || rows[4][0] != "mean" {
+		t.Errorf("csv rows %v", rows)
+	}
+}
+
+func writeGrayPNG(t *testing.T, path string, w, h int, colour bool) {
+	t.Helper()
+	var img image.Image
+	if colour {
+		m := image.NewNRGBA(image.Rect(0, 0, w, h))
+		m.Set(1, 1, color.NRGBA{200, 10, 10, 255})
+		img = m
+	} else {
+		img = image.NewGray(image.Rect(0, 0, w, h))
+	}
+	var buf bytes.Buffer
+	if err := png.Encode(&buf, img); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// Bad input: clear errors with exit 1 for bad files, 2 for wrong usage.
+func TestScoreErrors(t *testing.T) {
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a.png")
+	b := filepath.Join(dir, "b.png")
+	col := filepath.Join(dir, "c.png")
+	writeGrayPNG(t, a, 8, 6, false)
+	writeGrayPNG(t, b, 6, 8, false)
+	writeGrayPNG(t, col, 8, 6, true)
+	empty := filepath.Join(dir, "empty")
+	preds := filepath.Join(dir, "preds")
+	truths := filepath.Join(dir, "truths")
+	for _, d := range []string{empty, preds, truths} {
+		if err := os.Mkdir(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	writeGrayPNG(t, filepath.Join(preds, "x.labels.png"), 8, 6, false)
+	writeGrayPNG(t, filepath.Join(preds, "x.overlay.png"), 8, 6, true)
+	writeGrayPNG(t, filepath.Join(preds, "y.labels.png"), 8, 6, false)
+	writeGrayPNG(t, filepath.Join(truths, "x_truth.png"), 8, 6, false)
+	for _, c := range []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"size", []string{"score", a, b}, exitFail, "same size"},
+		{"colour", []string{"score", col, a}, exitFail, "colour"},
+		{"missing", []string{"score", filepath.Join(dir, "nope.png"), a}, exitFail, "nope.png"},
+		{"empty_folder", []string{"score", empty, truths}, exitFail, "no image files"},
+		{"unpaired", []string{"score", preds, truths}, exitFail, "y.labels.png"},
+		{"one_arg", []string{"score", a}, exitUsage, "PRED and TRUTH"},
+		{"file_and_folder", []string{"score", a, truths}, exitUsage, "two files or two folders"},
+		{"tolerance", []string{"score", "--tolerance", "-1", a, a}, exitUsage, "--tolerance"},
+	} {
+		var out, errb bytes.Buffer
+		code := run(context.Background(), c.args, &out, &errb)
+		if code != c.code || !strings.Contains(errb.String(), c.want) {
+			t.Errorf("%s: exit %d, stderr %q; want exit %d mentioning %q", c.name, code, errb.String(), c.code, c.want)
+		}
+	}
+}
