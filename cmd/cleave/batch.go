@@ -1,0 +1,809 @@
+package main
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/spf13/pflag"
+)
+
+const batchExample = `Example (the generated nuclei scenes shipped with cleave):
+
+  cleave batch --classes 2 --background dark --out results examples/nuclei
+
+segments every image in examples/nuclei (the truth masks too, as they are
+images; add --exclude '*.truth.png' to skip them) with two files at a time,
+writes results/nuclei-1.labels.png, .overlay.png, .classes.png,
+.regions.csv and .json per image as 'cleave segment' does, then
+results/manifest.csv and results/report.html. Running the same command
+again skips every image whose record is up to date.
+
+On a cluster, task I of N runs
+
+  cleave batch --shard I/N --params best.json --out /shared/results /shared/images
+
+and once all tasks are done one command builds the manifest and the report:
+
+  cleave batch --rebuild /shared/results
+
+examples/cluster has a Slurm job array and a Kubernetes Indexed Job.
+`
+
+func batchHelp(w io.Writer) {
+	fs, _, _ := batchFlagSet()
+	fmt.Fprintf(w, `Usage: cleave batch [flags] INPUT_DIR --out DIR
+       cleave batch --rebuild DIR
+
+Segment every image file in INPUT_DIR (by extension: %s;
+other files and names starting with a dot are ignored) into DIR, with the
+same pipeline and outputs as 'cleave segment'. Output paths mirror the input
+paths: INPUT_DIR/a/x.png gives DIR/a/x.labels.png and so on. When two inputs
+in one folder share a name up to the extension (x.png, x.tif), both keep
+their extension in the output names (x.png.labels.png, x.tif.labels.png).
+
+Each image's STEM.json record says ok or failed with the message; a broken
+file is recorded and the batch goes on. DIR/manifest.csv (input, status,
+regions, objects, seconds, error) and DIR/report.html (counts, parameters,
+a contact sheet of the overlays scaled by the browser, the table of files,
+the failures) are rebuilt from the records at the end. A rerun skips every
+image whose record is ok for the same file contents (SHA-256), parameters
+and cleave version; after an interruption, even kill -9, it completes the
+work and removes the temporary files cleave left behind. Status "pending"
+in the manifest marks an input with no current record yet (a shard not
+finished, or a run stopped early).
+
+With --shard I/N only every N-th file of the sorted list, starting at the
+I-th, is processed; N tasks can write into one shared DIR. Shards write no
+manifest or report: run 'cleave batch --rebuild DIR' when all are done.
+
+%s
+Flags:
+%s
+Exit status: 0 all images ok, 1 an image failed or the run stopped early,
+2 wrong usage (nothing is written then).
+
+%s`, strings.Join(imageExtensions, " "), batchExample, fs.FlagUsagesWrapped(100), caution)
+}
+
+// imageExtensions are the file name extensions batch treats as images
+// (the formats imageio decodes), compared without regard to case.
+var imageExtensions = []string{".png", ".tif", ".tiff", ".jpg", ".jpeg", ".bmp", ".gif", ".webp"}
+
+// batchOptions are batch's flags that are not segmentation parameters.
+type batchOptions struct {
+	out, params, shard string
+	include, exclude   []string
+	recursive          bool
+	failFast, quiet    bool
+	rebuild, help      bool
+	jobs, workers      int
+	// progressEvery is the interval of the plain progress line when stderr
+	// is not a terminal.
+	progressEvery time.Duration
+}
+
+func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
+	fs := pflag.NewFlagSet("batch", pflag.ContinueOnError)
+	fs.SortFlags = false
+	s := &settings{}
+	o := &batchOptions{progressEvery: 5 * time.Second}
+	fs.StringVarP(&o.out, "out", "o", "", "folder for the outputs, manifest and report (required; created if missing)")
+	fs.StringVar(&o.params, "params", "", "JSON file of parameters named like the flags (e.g. a tuned best.json); flags given here win")
+	fs.BoolVarP(&o.recursive, "recursive", "r", false, "descend into subfolders (symbolic links to folders are not followed)")
+	fs.StringArrayVar(&o.include, "include", nil, "only files matching this glob (on the name, or on the relative path if it has a /); repeatable")
+	fs.StringArrayVar(&o.exclude, "exclude", nil, "skip files matching this glob (as --include); repeatable")
+	fs.IntVarP(&o.jobs, "jobs", "j", 0, "images processed at the same time (0 = one per core)")
+	fs.IntVar(&o.workers, "workers", 0, "threads per image (0 = cores divided by --jobs); results do not depend on it")
+	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list")
+	fs.BoolVar(&o.failFast, "fail-fast", false, "stop at the first image that fails")
+	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress and no summary on stderr (errors are still printed)")
+	fs.BoolVar(&o.rebuild, "rebuild", false, "only rebuild DIR/manifest.csv and DIR/report.html from the records in DIR (after all shards are done)")
+	addParamFlags(fs, s)
+	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
+	return fs, s, o
+}
+
+// batchPlan is a checked batch command line, ready to run.
+type batchPlan struct {
+	opts               batchOptions
+	settings           settings
+	res                *resolved
+	inputDir, out      string // as given
+	realOut, realInput string // symbolic links resolved
+	shardI, shardN     int
+	all                []batchInput // every input, sorted by relative path
+	mine               []int        // indices into all of this shard's inputs
+	jobs, workers      int
+}
+
+// batchInput is one input file.
+type batchInput struct {
+	Input string `json:"input"` // path relative to INPUT_DIR, slash-separated
+	Stem  string `json:"stem"`  // output path prefix relative to --out, slash-separated
+}
+
+func runBatch(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	return runBatchWith(ctx, args, stdout, stderr, nil)
+}
+
+// runBatchWith is runBatch; tune, when not nil, adjusts the options after
+// parsing (tests shorten the progress interval).
+func runBatchWith(ctx context.Context, args []string, stdout, stderr io.Writer, tune func(*batchOptions)) int {
+	fs, s, o := batchFlagSet()
+	fs.SetOutput(io.Discard)
+	if err := fs.Parse(args); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v (run 'cleave batch --help')\n", err)
+		return exitUsage
+	}
+	if o.help {
+		batchHelp(stdout)
+		return exitOK
+	}
+	if tune != nil {
+		tune(o)
+	}
+	if o.rebuild {
+		return runRebuild(fs, o, stderr)
+	}
+	plan, err := planBatch(fs, s, o)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitCode(err)
+	}
+	return plan.execute(ctx, stderr)
+}
+
+// runRebuild is 'cleave batch --rebuild DIR'.
+func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
+	var extra []string
+	fs.Visit(func(f *pflag.Flag) {
+		if f.Name != "rebuild" && f.Name != "quiet" {
+			extra = append(extra, "--"+f.Name)
+		}
+	})
+	if len(extra) > 0 {
+		fmt.Fprintf(stderr, "cleave batch: --rebuild takes only the output folder (and --quiet), not %s\n", strings.Join(extra, ", "))
+		return exitUsage
+	}
+	if fs.NArg() != 1 {
+		fmt.Fprintln(stderr, "cleave batch: --rebuild takes one argument, the output folder of the batch (run 'cleave batch --help')")
+		return exitUsage
+	}
+	dir := fs.Arg(0)
+	idx, err := readBatchIndex(dir)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitUsage
+	}
+	if err := removeTempFiles(dir, nil); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitFail
+	}
+	rows, err := writeManifestAndReport(dir, idx)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitFail
+	}
+	c := countRows(rows)
+	if !o.quiet {
+		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending -> %s, %s\n", len(rows), c.ok, c.failed, c.pending,
+			filepath.Join(dir, manifestName), filepath.Join(dir, reportName))
+	}
+	if c.failed > 0 || c.pending > 0 {
+		return exitFail
+	}
+	return exitOK
+}
+
+// planBatch checks the command line and the folders and lists the inputs,
+// writing nothing. Errors of usage are usageErrors (exit 2).
+func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, error) {
+	if o.params != "" {
+		if err := applyParamsFile(flags, o.params); err != nil {
+			return nil, &usageError{err}
+		}
+	}
+	switch {
+	case flags.NArg() == 0:
+		return nil, usagef("no INPUT_DIR given (run 'cleave batch --help')")
+	case flags.NArg() > 1:
+		return nil, usagef("one INPUT_DIR expected, got %d arguments: %s", flags.NArg(), strings.Join(flags.Args(), " "))
+	case o.out == "":
+		return nil, usagef("--out DIR is required: the folder for the outputs")
+	case o.jobs < 0:
+		return nil, usagef("--jobs must be 0 (one per core) or more, got %d", o.jobs)
+	case o.workers < 0:
+		return nil, usagef("--workers must be 0 (automatic) or more, got %d", o.workers)
+	}
+	p := &batchPlan{opts: *o, settings: *s, inputDir: flags.Arg(0), out: o.out, shardI: 0, shardN: 1}
+	if o.shard != "" {
+		var err error
+		if p.shardI, p.shardN, err = parseShard(o.shard); err != nil {
+			return nil, err
+		}
+	}
+	for _, g := range append(append([]string{}, o.include...), o.exclude...) {
+		if _, err := path.Match(g, ""); err != nil {
+			return nil, usagef("--include/--exclude %q is not a valid glob: %v", g, err)
+		}
+	}
+	// Resolve with one worker to check the parameters; the real count is
+	// set below.
+	if _, err := s.resolve(1); err != nil {
+		return nil, err
+	}
+	st, err := os.Stat(p.inputDir)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		return nil, usagef("INPUT_DIR %s does not exist", p.inputDir)
+	case err != nil:
+		return nil, usagef("INPUT_DIR %s: %v", p.inputDir, err)
+	case !st.IsDir():
+		return nil, usagef("INPUT_DIR %s is a file, not a folder (use 'cleave segment' for single images)", p.inputDir)
+	}
+	if p.realInput, err = filepath.EvalSymlinks(p.inputDir); err != nil {
+		return nil, usagef("INPUT_DIR %s: %v", p.inputDir, err)
+	}
+	if p.realInput, err = filepath.Abs(p.realInput); err != nil {
+		return nil, usagef("INPUT_DIR %s: %v", p.inputDir, err)
+	}
+	if p.realOut, err = checkOutDir(p.out); err != nil {
+		return nil, err
+	}
+	if p.realOut == p.realInput {
+		return nil, usagef("--out %s is INPUT_DIR itself: the outputs would be read back as inputs; choose another folder (a subfolder is fine)", p.out)
+	}
+	if p.all, err = discover(p.inputDir, p.realOut, o); err != nil {
+		return nil, err
+	}
+	for _, in := range p.all {
+		d := filepath.Join(p.realOut, filepath.FromSlash(path.Dir(in.Stem)))
+		if within(d, p.realInput) && !within(d, p.realOut) {
+			return nil, usagef("the outputs of %s would go into %s, inside INPUT_DIR, and be read back as inputs; choose another --out", in.Input, d)
+		}
+	}
+	for k := range p.all {
+		if k%p.shardN == p.shardI {
+			p.mine = append(p.mine, k)
+		}
+	}
+	cores := runtime.NumCPU()
+	p.jobs = o.jobs
+	if p.jobs == 0 {
+		p.jobs = cores
+	}
+	p.jobs = max(1, min(p.jobs, len(p.mine)))
+	p.workers = o.workers
+	if p.workers == 0 {
+		p.workers = max(1, cores/p.jobs)
+	}
+	if p.res, err = s.resolve(p.workers); err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+// parseShard reads "I/N" with 0 <= I < N.
+func parseShard(v string) (i, n int, err error) {
+	a, b, ok := strings.Cut(strings.TrimSpace(v), "/")
+	if ok {
+		var e1, e2 error
+		i, e1 = strconv.Atoi(a)
+		n, e2 = strconv.Atoi(b)
+		if e1 == nil && e2 == nil && n >= 1 && i >= 0 && i < n {
+			return i, n, nil
+		}
+	}
+	return 0, 0, usagef("--shard must be I/N with 0 <= I < N (e.g. 0/4 for the first of four tasks), got %q", v)
+}
+
+// checkOutDir checks, without writing anything, that --out is or can be
+// made a writable folder, and returns its absolute path with symbolic
+// links resolved (of the part that exists).
+func checkOutDir(out string) (string, error) {
+	abs, err := filepath.Abs(out)
+	if err != nil {
+		return "", usagef("--out %s: %v", out, err)
+	}
+	existing, rest := abs, ""
+	for {
+		st, err := os.Stat(existing)
+		if err == nil {
+			if !st.IsDir() {
+				return "", usagef("--out %s: %s is a file, not a folder", out, existing)
+			}
+			break
+		}
+		if !errors.Is(err, fs.ErrNotExist) {
+			return "", usagef("--out %s: %v", out, err)
+		}
+		parent := filepath.Dir(existing)
+		if parent == existing {
+			return "", usagef("--out %s: no existing parent folder", out)
+		}
+		rest = filepath.Join(filepath.Base(existing), rest)
+		existing = parent
+	}
+	// A probe file, removed at once, is the only test of writability that
+	// also holds for root on a read-only file system.
+	probe, err := os.CreateTemp(existing, ".cleave-probe-*")
+	if err != nil {
+		return "", usagef("--out %s: cannot write in %s: %v", out, existing, errors.Unwrap(err))
+	}
+	probe.Close()
+	os.Remove(probe.Name())
+	real, err := filepath.EvalSymlinks(existing)
+	if err != nil {
+		return "", usagef("--out %s: %v", out, err)
+	}
+	return filepath.Join(real, rest), nil
+}
+
+// within reports whether path p is dir or lies below it (both absolute and
+// clean).
+func within(p, dir string) bool {
+	rel, err := filepath.Rel(dir, p)
+	return err == nil && rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator)) && !filepath.IsAbs(rel)
+}
+
+// discover lists the image files under root, sorted by relative path, with
+// their output stems. Names starting with a dot are skipped (hidden files,
+// cleave's temporary files); the folder realOut is not entered.
+func discover(root, realOut string, o *batchOptions) ([]batchInput, error) {
+	var rels []string
+	err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return fmt.Errorf("cannot read %s: %w", p, errors.Unwrap(err))
+		}
+		if p == root {
+			return nil
+		}
+		name := d.Name()
+		if strings.HasPrefix(name, ".") {
+			if d.IsDir() {
+				return filepath.SkipDir
+			}
+			return nil
+		}
+		if d.IsDir() {
+			if !o.recursive {
+				return filepath.SkipDir
+			}
+			if real, err := filepath.EvalSymlinks(p); err == nil {
+				if abs, err := filepath.Abs(real); err == nil && abs == realOut {
+					return filepath.SkipDir
+				}
+			}
+			return nil
+		}
+		if !d.Type().IsRegular() {
+			if d.Type()&fs.ModeSymlink == 0 {
+				return nil
+			}
+			st, err := os.Stat(p) // a link to a file is read; to a folder, not followed
+			if err != nil || !st.Mode().IsRegular() {
+				return nil
+			}
+		}
+		if !isImageName(name) {
+			return nil
+		}
+		rel, err := filepath.Rel(root, p)
+		if err != nil {
+			return err
+		}
+		rel = filepath.ToSlash(rel)
+		if !globsAllow(rel, o.include, o.exclude) {
+			return nil
+		}
+		rels = append(rels, rel)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	sort.Strings(rels)
+	return stemsFor(rels)
+}
+
+func isImageName(name string) bool {
+	ext := strings.ToLower(filepath.Ext(name))
+	for _, e := range imageExtensions {
+		if ext == e {
+			return true
+		}
+	}
+	return false
+}
+
+// globsAllow applies --include and --exclude to a relative path: a pattern
+// with a slash matches the whole path, one without matches the name.
+func globsAllow(rel string, include, exclude []string) bool {
+	match := func(g string) bool {
+		subject := path.Base(rel)
+		if strings.Contains(g, "/") {
+			subject = rel
+		}
+		ok, _ := path.Match(g, subject)
+		return ok
+	}
+	if len(include) > 0 {
+		in := false
+		for _, g := range include {
+			in = in || match(g)
+		}
+		if !in {
+			return false
+		}
+	}
+	for _, g := range exclude {
+		if match(g) {
+			return false
+		}
+	}
+	return true
+}
+
+// stemsFor gives each input its output stem: the relative path without the
+// extension, or with it when another input in the same folder has the same
+// stem. rels is sorted.
+func stemsFor(rels []string) ([]batchInput, error) {
+	count := map[string]int{}
+	for _, r := range rels {
+		count[strings.TrimSuffix(r, path.Ext(r))]++
+	}
+	out := make([]batchInput, len(rels))
+	owner := map[string]string{}
+	for k, r := range rels {
+		stem := strings.TrimSuffix(r, path.Ext(r))
+		if count[stem] > 1 {
+			stem = r
+		}
+		if prev, dup := owner[stem]; dup {
+			return nil, usagef("%s and %s would write the same outputs %s.*; rename one of them", prev, r, stem)
+		}
+		owner[stem] = r
+		out[k] = batchInput{Input: r, Stem: stem}
+	}
+	return out, nil
+}
+
+// batchStatus is what happened to one input in this run.
+type batchStatus int
+
+const (
+	statusComputed batchStatus = iota
+	statusUpToDate
+	statusFailed
+	statusNotDone // interrupted or stopped by --fail-fast before finishing
+)
+
+type batchResult struct {
+	k      int
+	status batchStatus
+	err    error
+}
+
+// execute runs the plan: clean up, write the index, process this shard's
+// inputs on p.jobs goroutines, then write the manifest and report.
+func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
+	start := time.Now()
+	if err := os.MkdirAll(p.out, 0o755); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: cannot create the output folder: %v\n", err)
+		return exitFail
+	}
+	// Temporary files of an earlier, killed run: a shard removes only those
+	// of its own outputs (other shards may be writing into the same folder).
+	var only map[string]bool
+	if p.shardN > 1 {
+		only = map[string]bool{}
+		for _, k := range p.mine {
+			for _, name := range outputNames(p.all[k].Stem) {
+				only[name] = true
+			}
+		}
+	}
+	if err := removeTempFiles(p.out, only); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitFail
+	}
+	idx := &batchIndex{Tool: "cleave", Version: version, InputDir: p.inputDir, Settings: p.settings, Inputs: p.all}
+	if p.all == nil {
+		idx.Inputs = []batchInput{}
+	}
+	if err := writeBatchIndex(p.out, idx); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitFail
+	}
+
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	work := make(chan int)
+	results := make(chan batchResult)
+	var wg sync.WaitGroup
+	for range p.jobs {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range work {
+				results <- p.one(ctx, k)
+			}
+		}()
+	}
+	go func() {
+		defer close(work)
+		for _, k := range p.mine {
+			select {
+			case work <- k:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	go func() { wg.Wait(); close(results) }()
+
+	prog := newProgress(stderr, len(p.mine), p.opts.quiet)
+	tick := time.NewTicker(p.opts.progressEvery)
+	defer tick.Stop()
+	var computed, upToDate, failed, finished int
+	stoppedEarly := false
+	for done := false; !done; {
+		select {
+		case r, ok := <-results:
+			if !ok {
+				done = true
+				break
+			}
+			switch r.status {
+			case statusComputed:
+				computed++
+			case statusUpToDate:
+				upToDate++
+			case statusFailed:
+				failed++
+				prog.clear()
+				fmt.Fprintf(stderr, "cleave batch: %v\n", r.err)
+				if p.opts.failFast && !stoppedEarly {
+					stoppedEarly = true
+					cancel()
+				}
+			case statusNotDone:
+				continue
+			}
+			finished++
+			prog.add(finished, failed)
+		case <-tick.C:
+			prog.line(finished, failed)
+		}
+	}
+	prog.finish()
+	interrupted := ctx.Err() != nil && !stoppedEarly
+	notDone := len(p.mine) - finished
+
+	wrote := ""
+	if p.shardN == 1 {
+		if _, err := writeManifestAndReport(p.out, idx); err != nil {
+			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+			return exitFail
+		}
+		wrote = fmt.Sprintf(" -> %s, %s", filepath.Join(p.out, manifestName), filepath.Join(p.out, reportName))
+	}
+	if !p.opts.quiet {
+		shard := ""
+		if p.shardN > 1 {
+			shard = fmt.Sprintf(" (shard %d/%d of %d)", p.shardI, p.shardN, len(p.all))
+		}
+		fmt.Fprintf(stderr, "cleave batch: %d files%s: %d computed now, %d already up to date, %d failed", len(p.mine), shard, computed, upToDate, failed)
+		if notDone > 0 {
+			fmt.Fprintf(stderr, ", %d not done", notDone)
+		}
+		fmt.Fprintf(stderr, " in %.1f s%s\n", time.Since(start).Seconds(), wrote)
+		if p.shardN > 1 {
+			fmt.Fprintf(stderr, "cleave batch: when every shard is done, run: cleave batch --rebuild %s\n", p.out)
+		}
+	}
+	switch {
+	case interrupted:
+		fmt.Fprintln(stderr, "cleave batch: interrupted; run the same command again to finish")
+		return exitFail
+	case stoppedEarly:
+		fmt.Fprintln(stderr, "cleave batch: stopped at the first failure (--fail-fast)")
+		return exitFail
+	case failed > 0:
+		return exitFail
+	}
+	return exitOK
+}
+
+// one processes input k: skipped when its record is up to date, else
+// segmented; a failure is recorded in its STEM.json.
+func (p *batchPlan) one(ctx context.Context, k int) batchResult {
+	in := p.all[k]
+	src := filepath.Join(p.inputDir, filepath.FromSlash(in.Input))
+	dir := filepath.Join(p.out, filepath.FromSlash(path.Dir(in.Stem)))
+	set := outputSet{dir: dir, stem: path.Base(in.Stem)}
+	if ctx.Err() != nil {
+		return batchResult{k: k, status: statusNotDone}
+	}
+	if p.upToDate(src, set) {
+		return batchResult{k: k, status: statusUpToDate}
+	}
+	fail := func(err error) batchResult {
+		rec := &record{Tool: "cleave", Version: version, Status: "failed", Error: err.Error(), Input: inputInfo{Path: src},
+			Settings: &p.settings, Eigenvalues: []float64{}, SplitNcuts: []float64{}, Seconds: map[string]float64{}}
+		if werr := writeRecord(set.path(".json"), rec, true); werr != nil {
+			err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
+		}
+		return batchResult{k: k, status: statusFailed, err: err}
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fail(fmt.Errorf("%s: cannot create the output folder: %w", src, err))
+	}
+	// No output may leave --out, even through a symbolic link placed in it.
+	if real, err := filepath.EvalSymlinks(dir); err != nil {
+		return fail(fmt.Errorf("%s: output folder %s: %w", src, dir, err))
+	} else if abs, _ := filepath.Abs(real); !within(abs, p.realOut) {
+		return batchResult{k: k, status: statusFailed, err: fmt.Errorf("%s: output folder %s leads outside --out (to %s) through a symbolic link; nothing written", src, dir, abs)}
+	}
+	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, force: true})
+	if err != nil {
+		if ctx.Err() != nil {
+			return batchResult{k: k, status: statusNotDone}
+		}
+		if rec != nil {
+			rec.Eigenvalues, rec.SplitNcuts = nonNil(rec.Eigenvalues), nonNil(rec.SplitNcuts)
+			if werr := writeRecord(set.path(".json"), rec, true); werr != nil {
+				err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
+			}
+			return batchResult{k: k, status: statusFailed, err: err}
+		}
+		return fail(err)
+	}
+	return batchResult{k: k, status: statusComputed}
+}
+
+func nonNil(v []float64) []float64 {
+	if v == nil {
+		return []float64{}
+	}
+	return v
+}
+
+// upToDate reports whether the record of set is ok for the same cleave
+// version, the same requested settings and the same input bytes, with
+// every output it lists present.
+func (p *batchPlan) upToDate(src string, set outputSet) bool {
+	rec, err := readRecord(set.path(".json"))
+	if err != nil || rec.Status != "ok" || rec.Version != version || rec.Settings == nil || *rec.Settings != p.settings {
+		return false
+	}
+	for _, name := range rec.Outputs {
+		if _, err := os.Stat(filepath.Join(set.dir, name)); err != nil {
+			return false
+		}
+	}
+	sum, err := fileSHA256(src)
+	return err == nil && sum == rec.Input.SHA256
+}
+
+func readRecord(p string) (*record, error) {
+	data, err := os.ReadFile(p)
+	if err != nil {
+		return nil, err
+	}
+	var rec record
+	if err := json.Unmarshal(data, &rec); err != nil {
+		return nil, fmt.Errorf("%s: not a cleave record: %v", p, err)
+	}
+	if rec.Tool != "cleave" {
+		return nil, fmt.Errorf("%s: not a cleave record", p)
+	}
+	return &rec, nil
+}
+
+func fileSHA256(p string) (string, error) {
+	f, err := os.Open(p)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// outputSuffixes are the files processImage may write for one stem.
+var outputSuffixes = []string{".labels.png", ".overlay.png", ".classes.png", ".regions.csv", ".json"}
+
+// outputNames are the output paths of a stem relative to --out,
+// slash-separated.
+func outputNames(stem string) []string {
+	names := make([]string, len(outputSuffixes))
+	for k, s := range outputSuffixes {
+		names[k] = stem + s
+	}
+	return names
+}
+
+// tempTarget reports whether name is a temporary file of
+// imageio.WriteAtomic (".NAME.tmp-DIGITS") and returns NAME.
+func tempTarget(name string) (string, bool) {
+	i := strings.LastIndex(name, ".tmp-")
+	if !strings.HasPrefix(name, ".") || i < 1 {
+		return "", false
+	}
+	digits := name[i+len(".tmp-"):]
+	if digits == "" {
+		return "", false
+	}
+	for _, c := range digits {
+		if c < '0' || c > '9' {
+			return "", false
+		}
+	}
+	return name[1:i], true
+}
+
+// removeTempFiles deletes the temporary files that imageio.WriteAtomic
+// leaves when a process is killed mid-write, under dir. When only is not
+// nil, only those whose target (relative to dir, slash-separated) is in
+// it. Symbolic links to folders are not followed.
+func removeTempFiles(dir string, only map[string]bool) error {
+	if only != nil {
+		dirs := map[string]bool{}
+		for name := range only {
+			dirs[path.Dir(name)] = true
+		}
+		for _, d := range sortedKeys(dirs) {
+			entries, err := os.ReadDir(filepath.Join(dir, filepath.FromSlash(d)))
+			if err != nil {
+				continue // not created yet
+			}
+			for _, e := range entries {
+				if t, ok := tempTarget(e.Name()); ok && !e.IsDir() && only[path.Join(d, t)] {
+					if err := os.Remove(filepath.Join(dir, filepath.FromSlash(d), e.Name())); err != nil {
+						return fmt.Errorf("cannot remove a temporary file: %w", err)
+					}
+				}
+			}
+		}
+		return nil
+	}
+	return filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return fmt.Errorf("cannot read %s: %w", p, errors.Unwrap(err))
+		}
+		if _, ok := tempTarget(d.Name()); ok && d.Type().IsRegular() {
+			if err := os.Remove(p); err != nil {
+				return fmt.Errorf("cannot remove a temporary file: %w", err)
+			}
+		}
+		return nil
+	})
+}
+
+func sortedKeys(m map[string]bool) []string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	return keys
+}
