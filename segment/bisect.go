@@ -85,6 +85,10 @@ func stable(y []float64) bool {
 // recursive bisection computes, so the record shows the low spectrum.
 const topEigenpairs = 6
 
+// SplitTol is the eigensolver's residual tolerance for the Fiedler vectors
+// of the parts below the top level.
+var SplitTol = 1e-4
+
 // bisect performs recursive two-way normalized cuts (Shi and Malik 2000,
 // section 3.1): each part's Fiedler vector y = D^-1/2 z_1 of its own
 // subgraph is swept for the split of least Ncut; the split is accepted when
@@ -109,7 +113,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 	}
 	heap.Push(h, part{nodes: all, area: areaOf(all)})
 	regions := 1
-	first := true
+	first := !p.noSpectrum // the top-level solve records the low spectrum
 	for h.Len() > 0 {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -149,7 +153,15 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 		if first {
 			k = min(topEigenpairs, sub.N)
 		}
-		ep, err := eigen.Smallest(sub, k, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+		opt := eigen.Options{Workers: p.Workers, Seed: p.Seed}
+		if !first {
+			// Only the order of the Fiedler vector's entries matters to the
+			// sweep, and a residual of splitTol already fixes it far more
+			// finely than the Ncut threshold can tell; the top-level solve,
+			// whose eigenvalues are recorded, keeps the default tolerance.
+			opt.Tol = SplitTol
+		}
+		ep, err := eigen.Smallest(sub, k, opt)
 		if err != nil {
 			return nil, err
 		}

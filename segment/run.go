@@ -61,6 +61,9 @@ type Params struct {
 	// final, when set, marks a part (nodes of the whole graph) that is not
 	// to be split at all.
 	final func(nodes []int) bool
+	// noSpectrum skips the top-level spectrum: every solve is a k = 2
+	// solve at SplitTol (for the small graphs of object refinement).
+	noSpectrum bool
 }
 
 // ParamError reports an invalid parameter by its flag name.
