@@ -67,7 +67,7 @@ func groupClasses(planes [][]float32, disp []float32, w, h int, reg []int32, n, 
 				x[r*len(planes)+c] = st.mean[c][r]
 			}
 		}
-		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed)
+		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed, 1)
 		return orderClasses(cls, lum, st.area, C)
 	}
 	score := append([]float64(nil), st.mean[0]...)
@@ -123,7 +123,7 @@ func split1D(v, wt []float64, C int, seed uint64) []int32 {
 		}
 		return cls
 	}
-	cls = kmeans(v, len(v), 1, C, wt, kmeansRestarts, seed)
+	cls = kmeans(v, len(v), 1, C, wt, kmeansRestarts, seed, 1)
 	return orderClasses(cls, v, wt, C)
 }
 

@@ -10,9 +10,10 @@ import (
 // Seeds come from k-means++ (Arthur and Vassilvitskii 2007): the first centre
 // drawn with probability ∝ w_i, each next one ∝ w_i D(x_i)², D the distance to
 // the nearest chosen centre. Lloyd iterations follow until no label changes.
-// restarts independent seedings run from one seeded generator and the one of
-// least inertia wins, so the result is a pure function of the inputs.
-func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64) []int32 {
+// restarts independent seedings run (in parallel on workers goroutines) and
+// the one of least inertia wins; the result is a pure function of the
+// inputs, whatever the worker count.
+func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64, workers int) []int32 {
 	if k >= n {
 		lab := make([]int32, n)
 		for i := range lab {
@@ -20,16 +21,23 @@ func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64)
 		}
 		return lab
 	}
-	rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73))
-	var best []int32
-	bestInertia := math.Inf(1)
-	for r := 0; r < max(1, restarts); r++ {
-		lab, inertia := lloyd(x, n, dim, k, wt, rng)
-		if inertia < bestInertia {
-			best, bestInertia = lab, inertia
+	// Restart r draws from its own generator, seeded by (seed, r), so the
+	// restarts can run in parallel and the winner (least inertia, ties to
+	// the lower r) does not depend on the worker count.
+	restarts = max(1, restarts)
+	labs := make([][]int32, restarts)
+	inertia := make([]float64, restarts)
+	forEach(restarts, workers, func(r int) {
+		rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73+uint64(r)))
+		labs[r], inertia[r] = lloyd(x, n, dim, k, wt, rng)
+	})
+	best := 0
+	for r := 1; r < restarts; r++ {
+		if inertia[r] < inertia[best] {
+			best = r
 		}
 	}
-	return best
+	return labs[best]
 }
 
 func weightOf(wt []float64, i int) float64 {

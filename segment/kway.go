@@ -63,7 +63,7 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 	for i := range wt {
 		wt[i] = float64(nodeArea(area, i))
 	}
-	lab := kmeans(u, g.N, K, K, wt, kmeansRestarts, p.Seed)
+	lab := kmeans(u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
 	// Renumber clusters by lowest node, drop empty ones.
 	id := make([]int32, K)
 	for i := range id {
