@@ -17,6 +17,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"syscall"
 	"time"
 
 	"github.com/spf13/pflag"
@@ -329,7 +330,7 @@ func checkOutDir(out string) (string, error) {
 			}
 			break
 		}
-		if !errors.Is(err, fs.ErrNotExist) {
+		if !errors.Is(err, fs.ErrNotExist) && !errors.Is(err, syscall.ENOTDIR) {
 			return "", usagef("--out %s: %v", out, err)
 		}
 		parent := filepath.Dir(existing)
