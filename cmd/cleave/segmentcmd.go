@@ -148,10 +148,18 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 // summaryLine is the one line per image on stdout.
 func summaryLine(rec *record, prefix string) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s: %dx%d, %d regions", rec.Input.Path, rec.Input.Width, rec.Input.Height, rec.Regions)
+	fmt.Fprintf(&b, "%s: %dx%d, %s", rec.Input.Path, rec.Input.Width, rec.Input.Height, plural(rec.Regions, "region"))
 	if v, ok := rec.Params["background"].(string); ok && v != "" {
-		fmt.Fprintf(&b, ", %d objects", rec.Objects)
+		fmt.Fprintf(&b, ", %s", plural(rec.Objects, "object"))
 	}
 	fmt.Fprintf(&b, ", %.2f s -> %s.*", rec.Seconds["total"], prefix)
 	return b.String()
+}
+
+// plural formats a count with its noun: "1 region", "3 regions".
+func plural(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }
