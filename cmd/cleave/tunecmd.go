@@ -1,0 +1,557 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment"
+	"github.com/spf13/pflag"
+)
+
+const tuneExample = `Example (tune on the shipped nuclei scenes, then use the result):
+
+  cleave tune --images examples/nuclei --truth examples/nuclei --out tuned \
+      --classes 2 --background dark
+  cleave segment --params tuned/best.json --out results examples/nuclei/nuclei-1.png
+
+The first command searches sigma-i, sigma-x and max-ncut (default ranges
+around the automatic values), writes tuned/tune.csv, tune.png, tune.json
+and best.json, and prints the best and the cross-validated score. Search a
+range yourself with, e.g., --sigma-x 4:32:5 (5 log-spaced values) or
+--radius 3,5,8; one value fixes a parameter.
+`
+
+func tuneHelp(w io.Writer) {
+	fs, _, _ := tuneFlags()
+	fmt.Fprintf(w, `Usage: cleave tune --images DIR --truth DIR --out DIR [flags]
+
+Choose segmentation parameters for a batch from a few hand-drawn masks.
+Image NAME.ext in --images goes with the file in --truth whose stem is NAME,
+NAME.truth, NAME_mask or NAME_truth (both may be one folder). Every setting
+of a coarse log-spaced grid is segmented and scored on every image, then a
+pattern search refines the best within --budget new settings; the mean
+--metric over the images decides, ties going to the smoother setting (wider
+kernels, smaller max-ncut). --folds K cross-validation reports the score to
+expect on new images. Images are decoded once; segmentations run in
+parallel, one thread each, so results do not depend on --workers.
+
+%s
+Flags:
+%s
+Outputs in --out: best.json (every parameter, for 'cleave segment --params'),
+tune.csv (every setting evaluated: parameters, score per image, means,
+seconds), tune.png (mean score over sigma-i x sigma-x at the best other
+settings), tune.json (scores, search space, evaluations).
+
+Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
+
+%s`, tuneExample, fs.FlagUsagesWrapped(100), caution)
+}
+
+// tuneOptions are tune's own flags.
+type tuneOptions struct {
+	images, truth, out string
+	metric             string
+	budget, folds      int
+	workers            int
+	tolerance          float64
+	force, help        bool
+	space              [numDims]string
+}
+
+// searchFlagHelp describes the search flags, which replace the segment
+// flags of the same names.
+var searchFlagHelp = [numDims]string{
+	"intensity kernel widths to search: A:B:N (N log-spaced values), a,b,c, one value or auto (default: 5 values from 1/4 to 4 x the median automatic value)",
+	"spatial kernel widths in pixels to search (default: 3 values from 1/2 to 2 x the median automatic value)",
+	"stop thresholds to search (default 0.075:0.3:3)",
+	"pixel-graph radii to search, e.g. 3,5,8 (default 5; matters only with a pixel graph)",
+	"superpixel counts to search, e.g. 800,1500,3000; 0 = pixel graph (default auto)",
+	"SLIC compactness values to search (default 20)",
+}
+
+func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
+	fs := pflag.NewFlagSet("tune", pflag.ContinueOnError)
+	fs.SortFlags = false
+	s := &settings{}
+	o := &tuneOptions{}
+	fs.StringVar(&o.images, "images", "", "folder of images to tune on")
+	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
+	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
+	fs.StringVar(&o.metric, "metric", "ari", "score to maximize: ari, f1, dice, bf, covering, or vi (minimized)")
+	fs.IntVar(&o.budget, "budget", 12, "most new settings the refinement after the grid evaluates (per search; 0 = grid only)")
+	fs.IntVar(&o.folds, "folds", 3, "K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off)")
+	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf")
+	for d := 0; d < numDims; d++ {
+		fs.StringVar(&o.space[d], dimNames[d], "", searchFlagHelp[d])
+	}
+	// The other segment parameters pass through as fixed settings.
+	scratch := pflag.NewFlagSet("params", pflag.ContinueOnError)
+	scratch.SortFlags = false
+	addParamFlags(scratch, s)
+	scratch.VisitAll(func(f *pflag.Flag) {
+		for _, n := range dimNames {
+			if f.Name == n {
+				return
+			}
+		}
+		fs.AddFlag(f)
+	})
+	fs.IntVar(&o.workers, "workers", 0, "segmentations run at once (0 = all cores); results do not depend on it")
+	fs.BoolVar(&o.force, "force", false, "overwrite existing outputs in --out")
+	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
+	return fs, s, o
+}
+
+var tuneMetrics = []string{"ari", "f1", "dice", "bf", "covering", "vi"}
+
+// tuneOutputs are the files tune writes into --out.
+var tuneOutputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
+
+func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs, s, o := tuneFlags()
+	fs.SetOutput(io.Discard)
+	if err := fs.Parse(args); err != nil {
+		fmt.Fprintf(stderr, "cleave tune: %v (run 'cleave tune --help')\n", err)
+		return exitUsage
+	}
+	if o.help {
+		tuneHelp(stdout)
+		return exitOK
+	}
+	code, err := tune(ctx, fs, s, o, stdout, stderr)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave tune: %v\n", err)
+	}
+	return code
+}
+
+// tuneReport is tune.json.
+type tuneReport struct {
+	Tool        string            `json:"tool"`
+	Version     string            `json:"version"`
+	Metric      string            `json:"metric"`
+	Score       float64           `json:"score"`
+	GridScore   float64           `json:"grid_score"`
+	Baseline    *float64          `json:"automatic_score"`
+	CVScore     *float64          `json:"cross_validated_score"`
+	CVFolds     int               `json:"folds"`
+	Folds       []foldResult      `json:"fold_results,omitempty"`
+	Best        map[string]string `json:"best"`
+	Space       map[string]any    `json:"search_space"`
+	Evaluations int               `json:"evaluations"`
+	GridSize    int               `json:"grid_settings"`
+	Refined     int               `json:"refined_settings"`
+	Budget      int               `json:"budget"`
+	Images      []string          `json:"images"`
+	Unpaired    []string          `json:"unpaired_images"`
+	Seconds     float64           `json:"seconds"`
+}
+
+func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
+	start := time.Now()
+	if fs.NArg() > 0 {
+		return exitUsage, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
+	}
+	switch {
+	case o.images == "":
+		return exitUsage, usagef("--images is required (run 'cleave tune --help')")
+	case o.truth == "":
+		return exitUsage, usagef("--truth is required")
+	case o.out == "":
+		return exitUsage, usagef("--out is required")
+	case !contains(tuneMetrics, o.metric):
+		return exitUsage, usagef("--metric must be one of %s, got %q", strings.Join(tuneMetrics, ", "), o.metric)
+	case o.budget < 0:
+		return exitUsage, usagef("--budget must be 0 or more, got %d", o.budget)
+	case o.folds < 0:
+		return exitUsage, usagef("--folds must be 0 or more, got %d", o.folds)
+	case o.workers < 0:
+		return exitUsage, usagef("--workers must be 0 (all cores) or more, got %d", o.workers)
+	case o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0):
+		return exitUsage, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
+	}
+	t := &tuner{ctx: ctx, base: *s, workers: defaultWorkers(o.workers), metric: o.metric, tol: o.tolerance, cache: map[string]*evaluation{}}
+	given := [numDims]bool{}
+	for d := 0; d < numDims; d++ {
+		if o.space[d] == "" {
+			continue
+		}
+		given[d] = true
+		isInt := d == dimRadius || d == dimSuperpixels
+		dm, err := parseSpec(dimNames[d], o.space[d], isInt, d == dimSigmaI || d == dimSigmaX || d == dimSuperpixels, d == dimSuperpixels)
+		if err != nil {
+			return exitUsage, err
+		}
+		t.dims[d] = dm
+	}
+	// Check the fixed settings now (a wrong --classes is a usage error).
+	probe := *s
+	for d := 0; d < numDims; d++ {
+		if given[d] && !t.dims[d].auto && len(t.dims[d].values) == 1 {
+			probe = withDim(probe, d, t.dims[d].values[0], false)
+		}
+	}
+	loadRes, err := probe.resolve(t.workers)
+	if err != nil {
+		return exitUsage, err
+	}
+	if !o.force {
+		for _, n := range tuneOutputs {
+			if p := filepath.Join(o.out, n); exists(p) {
+				return exitFail, fmt.Errorf("output %s already exists (use --force to overwrite)", p)
+			}
+		}
+	}
+	pairs, unpaired, err := pairTune(o.images, o.truth)
+	if err != nil {
+		return exitFail, err
+	}
+	for _, u := range unpaired {
+		fmt.Fprintf(stderr, "cleave tune: %s has no truth (want NAME, NAME.truth, NAME_mask or NAME_truth in %s); skipped\n", u, o.truth)
+	}
+	if len(pairs) == 0 {
+		return exitFail, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
+	}
+	for _, p := range pairs {
+		in, err := loadInput(p.image, loadRes)
+		if err != nil {
+			return exitFail, fmt.Errorf("%s: %w", p.image, err)
+		}
+		truth, w, h, err := imageio.ReadLabels(p.truth)
+		if err != nil {
+			return exitFail, fmt.Errorf("truth %w", err)
+		}
+		if w != in.features.Width || h != in.features.Height {
+			return exitFail, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
+		}
+		t.images, t.truths, t.names = append(t.images, in), append(t.truths, truth), append(t.names, p.name)
+	}
+	all := make([]int, len(t.images))
+	for i := range all {
+		all[i] = i
+	}
+
+	// The segment defaults (automatic widths) score the baseline and give
+	// the centres of the default ranges.
+	base := *s
+	for d := 0; d < numDims; d++ {
+		if given[d] && (t.dims[d].auto || len(t.dims[d].values) == 1) {
+			v := math.NaN()
+			if !t.dims[d].auto {
+				v = t.dims[d].values[0]
+			}
+			base = withDim(base, d, v, t.dims[d].auto)
+		}
+	}
+	br, err := base.resolve(1)
+	if err != nil {
+		return exitUsage, err
+	}
+	baseline := t.newEvaluation(point{}, "baseline", "baseline")
+	used, err := t.run([]*evaluation{baseline}, []segment.Params{br.params})
+	if err != nil {
+		return exitFail, err
+	}
+	var autoI, autoX []float64
+	for j := range t.images {
+		if baseline.errs[j] == "" {
+			autoI, autoX = append(autoI, used[0][j].SigmaI), append(autoX, used[0][j].SigmaX)
+		}
+	}
+	if len(autoI) == 0 {
+		return exitFail, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.errs[0])
+	}
+	if !given[dimSigmaI] {
+		a := median(autoI)
+		t.dims[dimSigmaI] = defaultDim("sigma-i", logSpaced(a/4, 4*a, 5), false)
+	}
+	if !given[dimSigmaX] {
+		b := median(autoX)
+		t.dims[dimSigmaX] = defaultDim("sigma-x", logSpaced(b/2, 2*b, 3), false)
+	}
+	if !given[dimMaxNcut] {
+		t.dims[dimMaxNcut] = defaultDim("max-ncut", logSpaced(defaultMaxNcut/2, 2*defaultMaxNcut, 3), false)
+	}
+	if !given[dimRadius] {
+		t.dims[dimRadius] = defaultDim("radius", []float64{float64(s.Radius)}, true)
+	}
+	if !given[dimSuperpixels] {
+		t.dims[dimSuperpixels] = dim{name: "superpixels", auto: true, spec: "auto (default)"}
+		if sp, auto, err := parseAuto("superpixels", s.Superpixels); err == nil && !auto {
+			t.dims[dimSuperpixels] = defaultDim("superpixels", []float64{sp}, true)
+		}
+	}
+	if !given[dimCompactness] {
+		t.dims[dimCompactness] = defaultDim("compactness", []float64{s.Compactness}, false)
+	}
+
+	gridPts := t.gridPoints()
+	grid, err := t.evaluate(gridPts, "grid")
+	if err != nil {
+		return exitFail, err
+	}
+	var folds []foldResult
+	var cv *float64
+	k := o.folds
+	if k > len(t.images) {
+		k = len(t.images)
+	}
+	if k >= 2 {
+		f, v, err := t.crossValidate(grid, k, o.budget)
+		if err != nil {
+			return exitFail, err
+		}
+		folds, cv = f, &v
+	}
+	gridBest, best, err := t.search(grid, all, o.budget)
+	if err != nil {
+		return exitFail, err
+	}
+	if math.IsInf(t.objective(best, all), -1) {
+		return exitFail, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.order))
+	}
+
+	// Outputs.
+	if err := os.MkdirAll(o.out, 0o755); err != nil {
+		return exitFail, fmt.Errorf("cannot create the output folder: %w", err)
+	}
+	bestParams := t.paramsFile(best.pt)
+	bv := t.value(baseline, all)
+	rep := tuneReport{
+		Tool: "cleave", Version: version, Metric: o.metric, Score: t.value(best, all), GridScore: t.value(gridBest, all),
+		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
+		GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
+	}
+	if rep.Unpaired == nil {
+		rep.Unpaired = []string{}
+	}
+	if !math.IsNaN(bv) {
+		rep.Baseline = &bv
+	}
+	if k < 2 {
+		rep.CVFolds = 0
+	}
+	for d := 0; d < numDims; d++ {
+		dm := t.dims[d]
+		if dm.auto {
+			rep.Space[dm.name] = "auto"
+		} else {
+			rep.Space[dm.name] = map[string]any{"spec": dm.spec, "grid": dm.values, "refined": dm.refinable()}
+		}
+	}
+	for _, e := range t.order {
+		if e.stage != "baseline" {
+			rep.Evaluations++
+		}
+		if e.stage == "refine" {
+			rep.Refined++
+		}
+	}
+	writes := []struct {
+		name string
+		fn   func(io.Writer) error
+	}{
+		{"best.json", func(w io.Writer) error { return writeJSON(w, bestParams) }},
+		{"tune.csv", func(w io.Writer) error { return t.writeCSV(w, baseline) }},
+		{"tune.png", func(w io.Writer) error { return t.writeHeatmap(w, gridBest, best, all) }},
+	}
+	for _, wr := range writes {
+		if err := imageio.WriteAtomic(filepath.Join(o.out, wr.name), o.force, wr.fn); err != nil {
+			return exitFail, err
+		}
+	}
+	rep.Seconds = time.Since(start).Seconds()
+	if err := imageio.WriteAtomic(filepath.Join(o.out, "tune.json"), o.force, func(w io.Writer) error { return writeJSON(w, rep) }); err != nil {
+		return exitFail, err
+	}
+	t.summary(stdout, rep, best, o.out)
+	return exitOK, nil
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
+
+func firstError(es []*evaluation) string {
+	for _, e := range es {
+		for _, m := range e.errs {
+			if m != "" {
+				return m
+			}
+		}
+	}
+	return "none recorded"
+}
+
+// withDim sets one searched parameter in a settings value (auto for the
+// parameters that allow it).
+func withDim(s settings, d int, v float64, auto bool) settings {
+	txt := fmtValue(v)
+	if auto {
+		txt = "auto"
+	}
+	switch d {
+	case dimSigmaI:
+		s.SigmaI = txt
+	case dimSigmaX:
+		s.SigmaX = txt
+	case dimSuperpixels:
+		s.Superpixels = txt
+	case dimMaxNcut:
+		s.MaxNcut = v
+	case dimRadius:
+		s.Radius = int(v)
+	case dimCompactness:
+		s.Compactness = v
+	}
+	return s
+}
+
+// paramsFile is best.json: every parameter of the settings (the fixed ones
+// passed through) with the tuned values, numbers where the value is one.
+func (t *tuner) paramsFile(p point) map[string]any {
+	m := map[string]any{}
+	data, _ := json.Marshal(t.settingsAt(p))
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	_ = dec.Decode(&m)
+	for d := 0; d < numDims; d++ {
+		switch {
+		case t.dims[d].auto:
+			m[dimNames[d]] = "auto"
+		case t.dims[d].integer:
+			m[dimNames[d]] = int64(p[d])
+		default:
+			m[dimNames[d]] = p[d]
+		}
+	}
+	return m
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+// csvMeans are the metrics whose mean over the images tune.csv lists.
+var csvMeans = []string{"ari", "vi", "dice", "f1", "bf", "covering"}
+
+// writeCSV writes every evaluation in the order evaluated: its stage, the
+// parameters, the tuned metric per image, the means and the seconds.
+func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
+	cw := csv.NewWriter(w)
+	head := []string{"stage"}
+	head = append(head, dimNames[:]...)
+	for _, n := range t.names {
+		head = append(head, t.metric+":"+n)
+	}
+	for _, m := range csvMeans {
+		head = append(head, "mean_"+m)
+	}
+	head = append(head, "seconds", "error")
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	for _, e := range t.order {
+		row := []string{e.stage}
+		for d := 0; d < numDims; d++ {
+			switch {
+			case e == baseline:
+				row = append(row, baselineText(t.base, d))
+			case t.dims[d].auto:
+				row = append(row, "auto")
+			default:
+				row = append(row, fmtValue(e.pt[d]))
+			}
+		}
+		errText := ""
+		for j := range t.images {
+			if e.errs[j] != "" {
+				row = append(row, "")
+				if errText == "" {
+					errText = t.names[j] + ": " + e.errs[j]
+				}
+			} else {
+				row = append(row, strconv.FormatFloat(e.perImage[j].get(t.metric), 'g', 10, 64))
+			}
+		}
+		for _, m := range csvMeans {
+			var sum float64
+			for j := range t.images {
+				sum += e.perImage[j].get(m)
+			}
+			if errText != "" {
+				row = append(row, "")
+			} else {
+				row = append(row, strconv.FormatFloat(sum/float64(len(t.images)), 'g', 10, 64))
+			}
+		}
+		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), errText)
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// baselineText is a parameter of the baseline row as given.
+func baselineText(s settings, d int) string {
+	switch d {
+	case dimSigmaI:
+		return s.SigmaI
+	case dimSigmaX:
+		return s.SigmaX
+	case dimSuperpixels:
+		return s.Superpixels
+	case dimMaxNcut:
+		return fmtValue(s.MaxNcut)
+	case dimRadius:
+		return strconv.Itoa(s.Radius)
+	}
+	return fmtValue(s.Compactness)
+}
+
+// summary prints the short report on stdout.
+func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out string) {
+	fmt.Fprintf(w, "tuned on %d images: %d grid + %d refined settings, %.1f s\n", len(t.images), rep.GridSize, rep.Refined, rep.Seconds)
+	if rep.Baseline != nil {
+		fmt.Fprintf(w, "automatic settings:  mean %s %.4f\n", rep.Metric, *rep.Baseline)
+	}
+	var parts []string
+	for d := 0; d < numDims; d++ {
+		parts = append(parts, dimNames[d]+" "+rep.Best[dimNames[d]])
+	}
+	fmt.Fprintf(w, "best:                mean %s %.4f  (%s)\n", rep.Metric, rep.Score, strings.Join(parts, ", "))
+	if rep.CVScore != nil {
+		kind := fmt.Sprintf("%d-fold", rep.CVFolds)
+		if rep.CVFolds == len(t.images) {
+			kind = "leave-one-out"
+		}
+		fmt.Fprintf(w, "cross-validated:     held-out %s %.4f (%s; expect about this on new images)\n", rep.Metric, *rep.CVScore, kind)
+	} else {
+		fmt.Fprintf(w, "cross-validated:     not run (needs --folds >= 2 and at least 2 images)\n")
+	}
+	fmt.Fprintf(w, "wrote %s (best.json, tune.csv, tune.png, tune.json)\n", out)
+	fmt.Fprintf(w, "next: cleave segment --params %s IMAGE...\n", filepath.Join(out, "best.json"))
+}
