@@ -50,6 +50,7 @@ func commands() []command {
 		{"segment", "segment images into label maps, overlays, region tables and records", runSegment, segmentHelp},
 		{"batch", "segment every image in a folder, resumable, with a manifest and a report", runBatch, batchHelp},
 		{"score", "compare label maps with ground truth (ARI, VI, Dice, object F1, boundary F, covering)", runScore, scoreHelp},
+		{"tune", "choose parameters from images with ground truth (grid, refinement, cross-validation)", runTune, tuneHelp},
 	}
 }
 
