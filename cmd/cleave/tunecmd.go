@@ -534,7 +534,11 @@ func baselineText(s settings, d int) string {
 
 // summary prints the short report on stdout.
 func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out string) {
-	fmt.Fprintf(w, "tuned on %d images: %d grid + %d refined settings, %.1f s\n", len(t.images), rep.GridSize, rep.Refined, rep.Seconds)
+	plural := "s"
+	if len(t.images) == 1 {
+		plural = ""
+	}
+	fmt.Fprintf(w, "tuned on %d image%s: %d grid + %d refined settings, %.1f s\n", len(t.images), plural, rep.GridSize, rep.Refined, rep.Seconds)
 	if rep.Baseline != nil {
 		fmt.Fprintf(w, "automatic settings:  mean %s %.4f\n", rep.Metric, *rep.Baseline)
 	}

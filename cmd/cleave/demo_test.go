@@ -1,0 +1,100 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/score"
+)
+
+// The demo end to end: every step succeeds, the scores it prints are those
+// of the label maps it wrote against the generated truth (ARI of Hubert and
+// Arabie 1985 via score.ARI, checked against scikit-learn in
+// segment/score), and the held-out slide scenes are segmented reasonably
+// (measured mean ARI 0.913 on this machine; the bound leaves a margin).
+func TestDemo(t *testing.T) {
+	if testing.Short() {
+		t.Skip("the demo takes about 10 s")
+	}
+	out := filepath.Join(t.TempDir(), "demo")
+	stdout := runOK(t, "demo", "--out", out)
+	for _, want := range []string{"== summary", "slide  3 new scenes", "plate  2 new scenes", "cross-validated", "tune.png"} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("output lacks %q:\n%s", want, stdout)
+		}
+	}
+	var sum float64
+	parts := demoScenario()
+	for _, sc := range parts[0].fresh {
+		labels, _, _, err := imageio.ReadLabels(filepath.Join(out, "slide", "segmented", sc.Name+".labels.png"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		sum += score.ARI(labels, sc.Truth)
+	}
+	mean := sum / float64(len(parts[0].fresh))
+	line := ""
+	for _, l := range strings.Split(stdout, "\n") {
+		if strings.HasPrefix(l, "slide  3 new scenes") {
+			line = l
+		}
+	}
+	if want := "mean ARI " + strings.TrimSpace(fmtMetric(mean)); !strings.Contains(line, want) {
+		t.Errorf("summary %q, recomputed %s", line, want)
+	}
+	if mean < 0.85 {
+		t.Errorf("slide: mean ARI %.4f on new scenes, want >= 0.85", mean)
+	}
+	for _, p := range []string{"slide/tuned/best.json", "slide/tuned/tune.png", "plate/tuned/best.json", "slide/scores.csv", "plate/scores.csv"} {
+		if _, err := os.Stat(filepath.Join(out, p)); err != nil {
+			t.Error(err)
+		}
+	}
+	// A second run into the same folder is refused without --force.
+	var o, e bytes.Buffer
+	if code := run(context.Background(), []string{"demo", "--out", out}, &o, &e); code != exitFail || !strings.Contains(e.String(), "not empty") {
+		t.Errorf("rerun: exit %d, %q", code, e.String())
+	}
+}
+
+func TestDemoUsage(t *testing.T) {
+	var o, e bytes.Buffer
+	if code := run(context.Background(), []string{"demo", "extra"}, &o, &e); code != exitUsage || !strings.Contains(e.String(), "unexpected") {
+		t.Errorf("exit %d, %q", code, e.String())
+	}
+}
+
+// Every new command's help has a worked example and the caution.
+func TestNewCommandsHelp(t *testing.T) {
+	for _, c := range []struct{ cmd, example string }{
+		{"score", "cleave score results/nuclei-1.labels.png"},
+		{"tune", "cleave tune --images examples/nuclei"},
+		{"demo", "cleave demo --out cleave-demo"},
+	} {
+		for _, args := range [][]string{{"help", c.cmd}, {c.cmd, "--help"}} {
+			out := runOK(t, args...)
+			for _, want := range []string{"Example", c.example, "not validated for clinical"} {
+				if !strings.Contains(out, want) {
+					t.Errorf("%v: help lacks %q", args, want)
+				}
+			}
+		}
+	}
+}
+
+// BenchmarkDemo is the whole demo (scenes, two tunes, segmentation and
+// scoring); the target is under 30 s on the 2-core machine.
+func BenchmarkDemo(b *testing.B) {
+	dir := b.TempDir()
+	for i := 0; i < b.N; i++ {
+		var stdout, stderr bytes.Buffer
+		if code := run(context.Background(), []string{"demo", "--force", "--out", filepath.Join(dir, "demo")}, &stdout, &stderr); code != exitOK {
+			b.Fatalf("exit %d: %s", code, stderr.String())
+		}
+	}
+}
