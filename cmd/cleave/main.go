@@ -51,6 +51,7 @@ func commands() []command {
 		{"batch", "segment every image in a folder, resumable, with a manifest and a report", runBatch, batchHelp},
 		{"score", "compare label maps with ground truth (ARI, VI, Dice, object F1, boundary F, covering)", runScore, scoreHelp},
 		{"tune", "choose parameters from images with ground truth (grid, refinement, cross-validation)", runTune, tuneHelp},
+		{"demo", "run the whole workflow (tune, segment, score) on an invented scenario", runDemo, demoHelp},
 	}
 }
 
