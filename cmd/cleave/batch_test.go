@@ -701,3 +701,16 @@ func TestGlobsAndStems(t *testing.T) {
 		t.Error("stem collision x.png (from x.png and x.tif) with x.png.tif not reported")
 	}
 }
+
+// Help on both routes, with the worked example and the caution (STYLE.md:
+// every command's --help has a summary, the flags and a worked example).
+func TestBatchHelp(t *testing.T) {
+	for _, args := range [][]string{{"help", "batch"}, {"batch", "--help"}} {
+		code, stdout, _ := runCleave(args...)
+		for _, want := range []string{"Usage: cleave batch", "cleave batch --classes 2 --background dark --out results examples/nuclei", "--rebuild", "--shard", "Caution:"} {
+			if code != exitOK || !strings.Contains(stdout, want) {
+				t.Errorf("%v: exit %d, help lacks %q", args, code, want)
+			}
+		}
+	}
+}

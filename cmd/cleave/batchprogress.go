@@ -36,7 +36,7 @@ func newProgress(w io.Writer, total int, quiet bool) *progress {
 			progressbar.OptionSetPredictTime(true),
 			progressbar.OptionThrottle(100*time.Millisecond),
 			progressbar.OptionClearOnFinish(),
-			progressbar.OptionFullWidth(),
+			progressbar.OptionSetWidth(30),
 		)
 	}
 	return p
