@@ -2,7 +2,11 @@ package eigen
 
 import (
 	"fmt"
+	"math"
+	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
 )
 
 // BenchmarkSmallestPixel152x192 solves for the 6 smallest eigenpairs of
@@ -51,6 +55,93 @@ func BenchmarkCrossover(b *testing.B) {
 					}
 				}
 			})
+		}
+	}
+}
+
+// objectGraph is the pixel graph of one image object as segment's object
+// refinement builds it (radius 2, sigma_X 2, sigma_I 0.12 on a contrast
+// feature scaled so the bright core is about 1, then restricted to the
+// object's pixels): two touching discs of radius rad whose centres are
+// 1.8 rad apart, each with a contrast falling from 1 at its centre to 0.6
+// at its rim, plus seeded noise of 0.03. With rad = 16 it has about 1500
+// nodes.
+func objectGraph(tb testing.TB, rad float64) *affinity.Graph {
+	tb.Helper()
+	w := int(math.Ceil(3.8*rad)) + 2
+	h := int(math.Ceil(2*rad)) + 2
+	cy := float64(h-1) / 2
+	cx1 := float64(w-1)/2 - 0.9*rad
+	cx2 := float64(w-1)/2 + 0.9*rad
+	rng := rand.New(rand.NewPCG(17, 3))
+	feat := make([]float32, w*h)
+	var nodes []int
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			d1 := math.Hypot(float64(x)-cx1, float64(y)-cy) / rad
+			d2 := math.Hypot(float64(x)-cx2, float64(y)-cy) / rad
+			d := math.Min(d1, d2)
+			if d > 1 {
+				continue
+			}
+			feat[y*w+x] = float32(1 - 0.4*d*d + 0.03*rng.NormFloat64())
+			nodes = append(nodes, y*w+x)
+		}
+	}
+	g, err := affinity.PixelGraph([][]float32{feat}, w, h, affinity.PixelParams{Radius: 2, SigmaI: 0.12, SigmaX: 2}, 1)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return g.Subgraph(nodes)
+}
+
+// BenchmarkSmallestObject1500 is one split of segment's object refinement:
+// the Fiedler pair (k = 2) of a ~1500-node object pixel graph at residual
+// 1e-4, on one worker as segment calls it.
+func BenchmarkSmallestObject1500(b *testing.B) {
+	g := objectGraph(b, 16)
+	b.ReportMetric(float64(g.N), "nodes")
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Smallest(g, 2, Options{Tol: 1e-4, Workers: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkSmallestObject400 is the same on a ~400-node object.
+func BenchmarkSmallestObject400(b *testing.B) {
+	g := objectGraph(b, 8)
+	b.ReportMetric(float64(g.N), "nodes")
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Smallest(g, 2, Options{Tol: 1e-4, Workers: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkSmallestSuperpixel3000Tol4 is a sub-part split of the
+// superpixel path: k = 2 at residual 1e-4 on a superpixel-like graph of
+// 3000 nodes.
+func BenchmarkSmallestSuperpixel3000Tol4(b *testing.B) {
+	g := planarGraph(3000, 7)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Smallest(g, 2, Options{Tol: 1e-4}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkSmallestSuperpixel3000K6 is the top-level solve of the
+// superpixel path: k = 6 at the default residual 1e-6.
+func BenchmarkSmallestSuperpixel3000K6(b *testing.B) {
+	g := planarGraph(3000, 7)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Smallest(g, 6, Options{}); err != nil {
+			b.Fatal(err)
 		}
 	}
 }

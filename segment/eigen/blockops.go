@@ -2,6 +2,7 @@ package eigen
 
 import (
 	"math"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -13,33 +14,83 @@ import (
 type ops struct {
 	lv      *level
 	workers int
-	part    []float64   // scratch for per-chunk partial sums
-	free    [][]float64 // released block storage, reused by get
+	part    []float64 // scratch for per-chunk partial sums
+	pool    *pool     // block storage shared by all levels of one solve
 }
 
 // get returns an n×m block whose contents are undefined; every caller
 // overwrites it completely. Reusing storage keeps the garbage collector
 // out of the iteration.
 func (o *ops) get(m int) *block {
-	n := o.lv.n
-	for t := len(o.free) - 1; t >= 0; t-- {
-		if cap(o.free[t]) >= n*m {
-			v := o.free[t][:n*m]
-			o.free = append(o.free[:t], o.free[t+1:]...)
-			return &block{n: n, m: m, v: v}
-		}
+	if o.pool == nil {
+		o.pool = new(pool)
 	}
-	return newBlock(n, m)
+	return o.pool.get(o.lv.n, m)
 }
 
 // put releases the storage of blocks that are no longer used.
 func (o *ops) put(bs ...*block) {
+	if o.pool == nil {
+		o.pool = new(pool)
+	}
+	o.pool.put(bs...)
+}
+
+// pool recycles block storage. Contents of a recycled block are whatever
+// its last user left, so callers of get overwrite every entry (or clear
+// it); results therefore never depend on what the pool holds.
+type pool struct {
+	free [][]float64
+}
+
+// get returns an n×m block backed by the smallest free slice that fits,
+// or by new storage.
+func (p *pool) get(n, m int) *block {
+	need := n * m
+	best := -1
+	for t, f := range p.free {
+		if cap(f) >= need && (best < 0 || cap(f) < cap(p.free[best])) {
+			best = t
+		}
+	}
+	if best < 0 {
+		return newBlock(n, m)
+	}
+	v := p.free[best][:need]
+	last := len(p.free) - 1
+	p.free[best] = p.free[last]
+	p.free = p.free[:last]
+	return &block{n: n, m: m, v: v}
+}
+
+// put releases the storage of blocks that are no longer used.
+func (p *pool) put(bs ...*block) {
 	for _, b := range bs {
-		if b != nil && b.v != nil {
-			o.free = append(o.free, b.v)
+		if b != nil && cap(b.v) > 0 {
+			p.free = append(p.free, b.v)
 		}
 	}
 }
+
+// size is the number of float64 values held.
+func (p *pool) size() int {
+	s := 0
+	for _, f := range p.free {
+		s += cap(f)
+	}
+	return s
+}
+
+// solvePools keeps the block storage of finished solves for the next
+// ones: segment calls Smallest many times on small graphs, where
+// allocation and garbage collection otherwise cost as much as the
+// arithmetic. A pool is used by one solve at a time.
+var solvePools = sync.Pool{New: func() any { return new(pool) }}
+
+// poolKeep is the most storage (float64 values) a pool keeps between
+// solves; larger pools are dropped so that one big solve does not pin
+// its memory.
+const poolKeep = 1 << 21
 
 // gram returns the ma×mb matrix Aᵀ B (row-major).
 func (o *ops) gram(a, b *block) []float64 {

@@ -176,8 +176,9 @@ func coarsen(lv *level, workers int) *level {
 // sqrt(d_i / d_c[a]) z_c[a] for i in aggregate a, i.e. y = D^-1/2 z is
 // constant on aggregates (Shi and Malik's generalized eigenvectors are
 // interpolated piecewise constant), and z keeps unit norm.
-func prolong(fine, coarse *level, zc *block, workers int) *block {
-	out := newBlock(fine.n, zc.m)
+func prolong(fine, coarse *level, zc *block, workers int, pl *pool) *block {
+	out := pl.get(fine.n, zc.m)
+	clear(out.v)
 	prolongAdd(fine, coarse, zc, out, 1, workers)
 	return out
 }

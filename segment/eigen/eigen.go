@@ -122,7 +122,13 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 	}
 	n := g.N
 	want := k - 1 // eigenpairs wanted besides z0
-	o := &ops{lv: lv0, workers: workers}
+	pl := solvePools.Get().(*pool)
+	defer func() {
+		if pl.size() <= poolKeep {
+			solvePools.Put(pl)
+		}
+	}()
+	o := &ops{lv: lv0, workers: workers, pool: pl}
 
 	var vals []float64
 	var vecs *block
@@ -166,7 +172,7 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 			}
 			mg = newMultigrid(levels, workers, cvecs, cvals)
 			cnt := min(m, coarsest.n-1)
-			x = newBlock(coarsest.n, cnt)
+			x = pl.get(coarsest.n, cnt)
 			for i := 0; i < coarsest.n; i++ {
 				copy(x.v[i*cnt:i*cnt+cnt], cvecs.v[i*cvecs.m:i*cvecs.m+cnt])
 			}
@@ -175,14 +181,17 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 		}
 		for l := len(levels) - 1; l >= 0; l-- {
 			if l < len(levels)-1 {
-				x = prolong(levels[l], levels[l+1], x, workers)
+				xc := x
+				x = prolong(levels[l], levels[l+1], xc, workers, pl)
+				pl.put(xc)
+				lx, tmp := pl.get(x.n, x.m), pl.get(x.n, x.m)
 				for sm := 0; sm < prolongSmooth; sm++ {
-					lx := newBlock(x.n, x.m)
-					levels[l].applyL(lx, x, newBlock(x.n, x.m), workers)
+					levels[l].applyL(lx, x, tmp, workers)
 					for t := range x.v {
 						x.v[t] -= 0.7 * lx.v[t]
 					}
 				}
+				pl.put(lx, tmp)
 			}
 			if l == len(levels)-1 && len(levels) > 1 {
 				continue // exact dense solution of the coarsest level
@@ -195,7 +204,7 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 				// needs (hub graphs shrink fast): add random vectors.
 				x = fillRandom(x, m, opt.Seed)
 			}
-			ol := &ops{lv: levels[l], workers: workers}
+			ol := &ops{lv: levels[l], workers: workers, pool: pl}
 			var pre func(*block) *block
 			if mg != nil {
 				sub := mg.sub(l)
@@ -229,6 +238,7 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 		vecs = x
 	}
 	res := finish(o, vals, vecs, want)
+	pl.put(vecs)
 	res.Iterations = iters
 	return res, convErr
 }
@@ -297,15 +307,15 @@ func finish(o *ops, vals []float64, vecs *block, want int) *Result {
 	lv := o.lv
 	n := lv.n
 	k := want + 1
-	all := newBlock(n, k)
+	all := o.get(k)
 	for i := 0; i < n; i++ {
 		all.v[i*k] = lv.z0[i]
 		if want > 0 {
 			copy(all.v[i*k+1:i*k+k], vecs.v[i*vecs.m:i*vecs.m+want])
 		}
 	}
-	lz := newBlock(n, k)
-	lv.applyL(lz, all, newBlock(n, k), o.workers)
+	lz, tmp := o.get(k), o.get(k)
+	lv.applyL(lz, all, tmp, o.workers)
 	res := &Result{Values: make([]float64, k), Vectors: make([][]float64, k), Residuals: make([]float64, k)}
 	ztlz := o.gram(all, lz)
 	for q := 0; q < k; q++ {
@@ -339,5 +349,6 @@ func finish(o *ops, vals []float64, vecs *block, want int) *Result {
 			}
 		}
 	}
+	o.put(all, lz, tmp)
 	return res
 }

@@ -66,8 +66,8 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	if m < want {
 		return nil, errors.New("eigen: start block lost rank")
 	}
-	tmp := newBlock(n, m)
-	ax := newBlock(n, m)
+	tmp := o.get(m)
+	ax := o.get(m)
 	lv.applyL(ax, x, tmp, o.workers)
 	// Initial Rayleigh-Ritz on span X.
 	h := o.gram(x, ax)
@@ -82,7 +82,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	x, ax = xn, axn
 
 	var p, ap *block
-	r := newBlock(n, m)
+	r := o.get(m)
 	res := make([]float64, m)
 	it := 0
 	for ; ; it++ {
@@ -148,7 +148,8 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		}
 		aw := o.get(w.m)
 		if cap(tmp.v) < n*w.m {
-			tmp = newBlock(n, w.m)
+			o.put(tmp)
+			tmp = o.get(w.m)
 		}
 		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
 
@@ -193,6 +194,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		o.put(old...)
 		theta = vals[:m]
 	}
+	o.put(tmp, r, ax, p, ap)
 	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
 }
 
