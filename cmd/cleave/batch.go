@@ -25,14 +25,13 @@ import (
 
 const batchExample = `Example (the generated nuclei scenes shipped with cleave):
 
-  cleave batch --classes 2 --background dark --out results examples/nuclei
+  cleave batch --classes 2 --background dark --exclude '*.truth.png' --out results examples/nuclei
 
-segments every image in examples/nuclei (the truth masks too, as they are
-images; add --exclude '*.truth.png' to skip them) with two files at a time,
-writes results/nuclei-1.labels.png, .overlay.png, .classes.png,
-.regions.csv and .json per image as 'cleave segment' does, then
-results/manifest.csv and results/report.html. Running the same command
-again skips every image whose record is up to date.
+segments nuclei-1.png, nuclei-2.png and nuclei-3.png (not their truth
+masks), one file per core at a time, writes results/nuclei-1.labels.png,
+.overlay.png, .classes.png, .regions.csv and .json per image as 'cleave
+segment' does, then results/manifest.csv and results/report.html. Running
+the same command again skips every image whose record is up to date.
 
 On a cluster, task I of N runs
 
@@ -50,18 +49,21 @@ func batchHelp(w io.Writer) {
 	fmt.Fprintf(w, `Usage: cleave batch [flags] INPUT_DIR --out DIR
        cleave batch --rebuild DIR
 
-Segment every image file in INPUT_DIR (by extension: %s;
-other files and names starting with a dot are ignored) into DIR, with the
-same pipeline and outputs as 'cleave segment'. Output paths mirror the input
-paths: INPUT_DIR/a/x.png gives DIR/a/x.labels.png and so on. When two inputs
-in one folder share a name up to the extension (x.png, x.tif), both keep
-their extension in the output names (x.png.labels.png, x.tif.labels.png).
+Segment every image file in INPUT_DIR into DIR, with the same pipeline and
+outputs as 'cleave segment'. Images are found by extension:
+%s
+(other files and names starting with a dot are ignored). Output paths
+mirror the input paths: INPUT_DIR/a/x.png gives DIR/a/x.labels.png and so
+on. When two inputs in one folder share a name up to the extension (x.png,
+x.tif), both keep their extension in the output names (x.png.labels.png,
+x.tif.labels.png).
 
 Each image's STEM.json record says ok or failed with the message; a broken
 file is recorded and the batch goes on. DIR/manifest.csv (input, status,
 regions, objects, seconds, error) and DIR/report.html (counts, parameters,
 a contact sheet of the overlays scaled by the browser, the table of files,
-the failures) are rebuilt from the records at the end. A rerun skips every
+the failures) are rebuilt from the records at the end, using the list of
+inputs and the parameters kept in DIR/%s. A rerun skips every
 image whose record is ok for the same file contents (SHA-256), parameters
 and cleave version; after an interruption, even kill -9, it completes the
 work and removes the temporary files cleave left behind. Status "pending"
@@ -78,7 +80,7 @@ Flags:
 Exit status: 0 all images ok, 1 an image failed or the run stopped early,
 2 wrong usage (nothing is written then).
 
-%s`, strings.Join(imageExtensions, " "), batchExample, fs.FlagUsagesWrapped(100), caution)
+%s`, strings.Join(imageExtensions, " "), indexName, batchExample, fs.FlagUsagesWrapped(100), caution)
 }
 
 // imageExtensions are the file name extensions batch treats as images
@@ -532,6 +534,9 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		return exitFail
 	}
 
+	if !p.opts.quiet && p.opts.recursive && within(p.realOut, p.realInput) {
+		fmt.Fprintf(stderr, "cleave batch: note: --out %s lies inside INPUT_DIR; it is skipped when looking for images\n", p.out)
+	}
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
 	work := make(chan int)

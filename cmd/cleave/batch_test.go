@@ -707,7 +707,7 @@ func TestGlobsAndStems(t *testing.T) {
 func TestBatchHelp(t *testing.T) {
 	for _, args := range [][]string{{"help", "batch"}, {"batch", "--help"}} {
 		code, stdout, _ := runCleave(args...)
-		for _, want := range []string{"Usage: cleave batch", "cleave batch --classes 2 --background dark --out results examples/nuclei", "--rebuild", "--shard", "Caution:"} {
+		for _, want := range []string{"Usage: cleave batch", "cleave batch --classes 2 --background dark --exclude '*.truth.png' --out results examples/nuclei", "--rebuild", "--shard", "Caution:"} {
 			if code != exitOK || !strings.Contains(stdout, want) {
 				t.Errorf("%v: exit %d, help lacks %q", args, code, want)
 			}
