@@ -214,7 +214,7 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 	if tmp := tempFiles(t, out); len(tmp) > 0 {
 		t.Errorf("temporary files left: %v", tmp)
 	}
-	checkReportInBrowser(t, out, good, brokenInputs)
+	t.Run("report in chromium", func(t *testing.T) { checkReportInBrowser(t, out, good, brokenInputs) })
 
 	// Rerun: nothing recomputed, records untouched.
 	recPath := filepath.Join(out, "img-00.json")
@@ -256,7 +256,7 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 		t.Log("SKIPPED: chromium is not installed; report.html was NOT checked")
 		t.Log("in a browser. Install it: apt-get install -y chromium")
 		t.Log("**************************************************************")
-		t.Skip("chromium missing")
+		t.Skip("SKIPPED: Debian chromium not installed (apt-get install -y chromium); report.html was not checked in a browser")
 	}
 	report, err := os.ReadFile(filepath.Join(out, "report.html"))
 	if err != nil {

@@ -98,7 +98,7 @@ print(s["completions"]); print(env["SHARDS"]); print(c["command"][0]); print(c["
 	if err != nil {
 		if strings.Contains(string(outp), "No module named") || strings.Contains(err.Error(), "not found") {
 			t.Log("SKIPPED: python3-yaml is missing; the Kubernetes example was NOT checked (apt-get install -y python3-yaml)")
-			t.Skip("python3-yaml missing")
+			t.Skip("SKIPPED: Debian python3-yaml not installed (apt-get install -y python3-yaml); the Kubernetes example was not run")
 		}
 		t.Fatalf("reading %s: %v: %s", manifest, err, outp)
 	}
