@@ -16,7 +16,8 @@
 // builds a hierarchy of Galerkin coarse graphs W_c = Pᵀ W P, the coarsest is
 // solved densely, and the eigenvectors are interpolated level by level and
 // refined with block LOBPCG (Knyazev 2001) in the deflated space,
-// preconditioned by a multigrid cycle on the same hierarchy. All
+// preconditioned by a multigrid cycle on the same hierarchy (at residual
+// targets of 1e-5 and above only the input graph is refined). All
 // reductions run in a fixed order over fixed row chunks, so results are
 // byte-identical for any number of workers.
 package eigen

@@ -481,3 +481,40 @@ func TestSmallK(t *testing.T) {
 		}
 	}
 }
+
+// TestLooseTolerance checks the cheap path taken at residual targets of
+// 1e-5 and above (segment's Fiedler vectors at 1e-4) against gonum's dense
+// EigenSym: every residual within the target, and each eigenvalue within
+// ‖r‖ of the reference one (for a symmetric matrix some eigenvalue lies
+// within ‖r‖ of a Ritz value: Golub and Van Loan, section 8.1; that it is
+// the right one is what the comparison with the reference checks).
+func TestLooseTolerance(t *testing.T) {
+	cases := []struct {
+		name string
+		g    *affinity.Graph
+		k    int
+	}{
+		{"object 394", objectGraph(t, 8), 2},
+		{"object 394 k=3", objectGraph(t, 8), 3},
+		{"random 700", randomGraph(t, 700, 600, 5), 2},
+		{"planar 900", planarGraph(900, 4), 2},
+	}
+	const tol = 1e-4
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			ref, _ := denseReference(t, c.g)
+			for _, w := range []int{1, 2} {
+				r, err := Smallest(c.g, c.k, Options{Tol: tol, Workers: w, Seed: 1})
+				if err != nil {
+					t.Fatal(err)
+				}
+				checkPairs(t, c.g, c.k, r, tol)
+				for i := 0; i < c.k; i++ {
+					if d := math.Abs(r.Values[i] - ref[i]); d > r.Residuals[i]+1e-12 {
+						t.Errorf("workers=%d λ_%d = %.10g, gonum %.10g (|difference| %.3g > residual %.3g)", w, i, r.Values[i], ref[i], d, r.Residuals[i])
+					}
+				}
+			}
+		})
+	}
+}
