@@ -274,9 +274,25 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if p.all, err = discover(p.inputDir, p.realOut, o); err != nil {
 		return nil, err
 	}
+	absOut, _ := filepath.Abs(p.out)
+	checked := map[string]bool{}
 	for _, in := range p.all {
-		d := filepath.Join(p.realOut, filepath.FromSlash(path.Dir(in.Stem)))
-		if within(d, p.realInput) && !within(d, p.realOut) {
+		dir := path.Dir(in.Stem)
+		if checked[dir] {
+			continue
+		}
+		checked[dir] = true
+		// A symbolic link already in --out must not lead the outputs
+		// elsewhere, nor a file stand where a folder is needed.
+		d, isDir, err := resolveExisting(filepath.Join(absOut, filepath.FromSlash(dir)))
+		switch {
+		case err != nil:
+			return nil, usagef("--out %s: %v", p.out, err)
+		case !isDir:
+			return nil, usagef("the outputs of %s need the folder %s, but a file stands in its way in --out", in.Input, filepath.Join(p.out, filepath.FromSlash(dir)))
+		case !within(d, p.realOut):
+			return nil, usagef("the outputs of %s would go to %s, outside --out, through a symbolic link in --out; remove the link", in.Input, d)
+		case within(d, p.realInput) && !within(d, p.realOut):
 			return nil, usagef("the outputs of %s would go into %s, inside INPUT_DIR, and be read back as inputs; choose another --out", in.Input, d)
 		}
 	}
@@ -323,24 +339,12 @@ func checkOutDir(out string) (string, error) {
 	if err != nil {
 		return "", usagef("--out %s: %v", out, err)
 	}
-	existing, rest := abs, ""
-	for {
-		st, err := os.Stat(existing)
-		if err == nil {
-			if !st.IsDir() {
-				return "", usagef("--out %s: %s is a file, not a folder", out, existing)
-			}
-			break
-		}
-		if !errors.Is(err, fs.ErrNotExist) && !errors.Is(err, syscall.ENOTDIR) {
-			return "", usagef("--out %s: %v", out, err)
-		}
-		parent := filepath.Dir(existing)
-		if parent == existing {
-			return "", usagef("--out %s: no existing parent folder", out)
-		}
-		rest = filepath.Join(filepath.Base(existing), rest)
-		existing = parent
+	existing, rest, err := existingPrefix(abs)
+	switch {
+	case err != nil:
+		return "", usagef("--out %s: %v", out, err)
+	case !isDirPath(existing):
+		return "", usagef("--out %s: %s is a file, not a folder", out, existing)
 	}
 	// A probe file, removed at once, is the only test of writability that
 	// also holds for root on a read-only file system.
@@ -355,6 +359,46 @@ func checkOutDir(out string) (string, error) {
 		return "", usagef("--out %s: %v", out, err)
 	}
 	return filepath.Join(real, rest), nil
+}
+
+// existingPrefix splits an absolute path into its longest existing prefix
+// and the rest.
+func existingPrefix(abs string) (existing, rest string, err error) {
+	existing = abs
+	for {
+		_, err := os.Stat(existing)
+		if err == nil {
+			return existing, rest, nil
+		}
+		if !errors.Is(err, fs.ErrNotExist) && !errors.Is(err, syscall.ENOTDIR) {
+			return "", "", err
+		}
+		parent := filepath.Dir(existing)
+		if parent == existing {
+			return "", "", fmt.Errorf("no existing parent folder")
+		}
+		rest = filepath.Join(filepath.Base(existing), rest)
+		existing = parent
+	}
+}
+
+func isDirPath(p string) bool {
+	st, err := os.Stat(p)
+	return err == nil && st.IsDir()
+}
+
+// resolveExisting resolves the symbolic links of the existing part of an
+// absolute path; isDir tells whether that part is a folder.
+func resolveExisting(abs string) (real string, isDir bool, err error) {
+	existing, rest, err := existingPrefix(abs)
+	if err != nil {
+		return "", false, err
+	}
+	r, err := filepath.EvalSymlinks(existing)
+	if err != nil {
+		return "", false, err
+	}
+	return filepath.Join(r, rest), isDirPath(existing), nil
 }
 
 // within reports whether path p is dir or lies below it (both absolute and

@@ -517,6 +517,25 @@ func TestBatchUsage(t *testing.T) {
 		{"rebuild not a batch folder", []string{"--rebuild", root}, "not the output folder of a batch"},
 		{"rebuild with parameters", []string{"--rebuild", "--classes", "2", root}, "--rebuild takes only"},
 	}
+	// An unwritable --out: a folder without write permission (not for
+	// root, who may write anyway) and Linux's /proc, which refuses new
+	// files even to root (proc(5)).
+	if os.Geteuid() != 0 {
+		ro := filepath.Join(root, "readonly")
+		os.Mkdir(ro, 0o500)
+		cases = append(cases, struct {
+			name string
+			args []string
+			want string
+		}{"--out not writable", []string{"--out", filepath.Join(ro, "out"), in}, "cannot write in"})
+	}
+	if st, err := os.Stat("/proc/self"); err == nil && st.IsDir() {
+		cases = append(cases, struct {
+			name string
+			args []string
+			want string
+		}{"--out in /proc", []string{"--out", "/proc/cleave-batch-test-out", in}, "cannot write in /proc"})
+	}
 	listing := func() string {
 		var names []string
 		filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
@@ -559,11 +578,9 @@ func TestBatchOutInsideInput(t *testing.T) {
 	}
 }
 
-// A symbolic link inside --out that leads elsewhere is not written through.
+// A symbolic link inside --out that leads elsewhere is not written
+// through: a usage error before anything is written.
 func TestBatchSymlinkEscape(t *testing.T) {
-	if testing.Short() {
-		t.Skip("end-to-end")
-	}
 	in, _ := makeBatchFolder(t, 2, false)
 	out := filepath.Join(t.TempDir(), "out")
 	outside := t.TempDir()
@@ -571,12 +588,22 @@ func TestBatchSymlinkEscape(t *testing.T) {
 	if err := os.Symlink(outside, filepath.Join(out, "sub")); err != nil {
 		t.Skip("no symbolic links here:", err)
 	}
-	code, _, stderr := runCleave("batch", "-r", "-q", "--superpixels", "150", "--out", out, in)
-	if code != exitFail || !strings.Contains(stderr, "leads outside --out") {
-		t.Errorf("exit %d, stderr %q; want 1 and the escape named", code, stderr)
+	code, _, stderr := runCleave("batch", "-r", "-q", "--out", out, in)
+	if code != exitUsage || !strings.Contains(stderr, "outside --out, through a symbolic link") {
+		t.Errorf("exit %d, stderr %q; want 2 and the escape named", code, stderr)
 	}
 	if entries, _ := os.ReadDir(outside); len(entries) != 0 {
 		t.Errorf("%d files written outside --out", len(entries))
+	}
+	if entries, _ := os.ReadDir(out); len(entries) != 1 {
+		t.Errorf("%d entries in --out, want only the link", len(entries))
+	}
+	// A file where an output folder is needed.
+	os.Remove(filepath.Join(out, "sub"))
+	os.WriteFile(filepath.Join(out, "sub"), nil, 0o644)
+	code, _, stderr = runCleave("batch", "-r", "-q", "--out", out, in)
+	if code != exitUsage || !strings.Contains(stderr, "a file stands in its way") {
+		t.Errorf("exit %d, stderr %q; want 2 and the file named", code, stderr)
 	}
 }
 
