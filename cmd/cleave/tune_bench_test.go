@@ -6,7 +6,7 @@ import (
 )
 
 // BenchmarkTune3x256 is tune over its default search (5 sigma-i x 3
-// sigma-x x 3 max-ncut grid, --budget 12 per search, 3 folds) on three
+// sigma-x x 2 max-ncut grid, --budget 8 per search, 3 folds) on three
 // generated 256x256 nuclei scenes with --classes 2 --background dark: the
 // issue's speed case (target: at most 90 s on the 2-core machine).
 func BenchmarkTune3x256(b *testing.B) {

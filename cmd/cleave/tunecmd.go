@@ -75,7 +75,7 @@ type tuneOptions struct {
 var searchFlagHelp = [numDims]string{
 	"intensity kernel widths to search: A:B:N (N log-spaced values), a,b,c, one value or auto (default: 5 values from 1/4 to 4 x the median automatic value)",
 	"spatial kernel widths in pixels to search (default: 3 values from 1/2 to 2 x the median automatic value)",
-	"stop thresholds to search (default 0.075:0.3:3)",
+	"stop thresholds to search (default 0.075,0.15)",
 	"pixel-graph radii to search, e.g. 3,5,8 (default 5; matters only with a pixel graph)",
 	"superpixel counts to search, e.g. 800,1500,3000; 0 = pixel graph (default auto)",
 	"SLIC compactness values to search (default 20)",
@@ -90,7 +90,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
 	fs.StringVar(&o.metric, "metric", "ari", "score to maximize: ari, f1, dice, bf, covering, or vi (minimized)")
-	fs.IntVar(&o.budget, "budget", 12, "most new settings the refinement after the grid evaluates (per search; 0 = grid only)")
+	fs.IntVar(&o.budget, "budget", 8, "most new settings the refinement after the grid evaluates (per search; 0 = grid only)")
 	fs.IntVar(&o.folds, "folds", 3, "K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off)")
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf")
 	for d := 0; d < numDims; d++ {
@@ -282,7 +282,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		t.dims[dimSigmaX] = defaultDim("sigma-x", logSpaced(b/2, 2*b, 3), false)
 	}
 	if !given[dimMaxNcut] {
-		t.dims[dimMaxNcut] = defaultDim("max-ncut", logSpaced(defaultMaxNcut/2, 2*defaultMaxNcut, 3), false)
+		t.dims[dimMaxNcut] = defaultDim("max-ncut", []float64{defaultMaxNcut / 2, defaultMaxNcut}, false)
 	}
 	if !given[dimRadius] {
 		t.dims[dimRadius] = defaultDim("radius", []float64{float64(s.Radius)}, true)
