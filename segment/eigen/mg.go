@@ -5,7 +5,8 @@ import "math"
 // multigrid applies one cycle of an aggregation multigrid method (Golub
 // and Van Loan, section 4.8 on multigrid; Galerkin coarse operators,
 // damped Jacobi smoothing with ω = 0.7) for L x = b on the orthogonal
-// complement of z0, as the LOBPCG preconditioner T ≈ L^+ (Knyazev 2001).
+// complement of z0, as the LOBPCG preconditioner T ≈ L^+ (Knyazev 2001);
+// its result may hold a multiple of z0, which LOBPCG removes.
 // The coarse operator of level l+1 is Pzᵀ L_l Pz with Pz = D^1/2 P D_c^-1/2
 // (see coarsen), so the restriction is Pzᵀ and the prolongation Pz.
 // The top wDepth levels visit the next one twice (a W-cycle) with the
@@ -139,8 +140,9 @@ func (mg *multigrid) apply(l int, b *block) *block {
 			}
 		}
 	}
-	o := &ops{lv: lv, workers: mg.workers}
-	o.deflate(x)
+	// No deflation here: Pz maps z0 of the coarse level to z0 of the fine
+	// one and L z0 = 0, so null-vector components only pass upwards, and
+	// LOBPCG deflates the preconditioned block itself.
 	return x
 }
 
