@@ -143,7 +143,7 @@ type tuneReport struct {
 	Version     string            `json:"version"`
 	Metric      string            `json:"metric"`
 	Score       float64           `json:"score"`
-	GridScore   float64           `json:"grid_score"`
+	GridScore   *float64          `json:"grid_score"`
 	Baseline    *float64          `json:"automatic_score"`
 	CVScore     *float64          `json:"cross_validated_score"`
 	CVFolds     int               `json:"folds"`
@@ -313,7 +313,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		if err != nil {
 			return exitFail, err
 		}
-		folds, cv = f, &v
+		folds, cv = f, finite(v)
 	}
 	gridBest, best, err := t.search(grid, all, o.budget)
 	if err != nil {
@@ -330,7 +330,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	bestParams := t.paramsFile(best.pt)
 	bv := t.value(baseline, all)
 	rep := tuneReport{
-		Tool: "cleave", Version: version, Metric: o.metric, Score: t.value(best, all), GridScore: t.value(gridBest, all),
+		Tool: "cleave", Version: version, Metric: o.metric, Score: t.value(best, all), GridScore: finite(t.value(gridBest, all)),
 		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
 		GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
 	}
@@ -553,6 +553,8 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 			kind = "leave-one-out"
 		}
 		fmt.Fprintf(w, "cross-validated:     held-out %s %.4f (%s; expect about this on new images)\n", rep.Metric, *rep.CVScore, kind)
+	} else if rep.CVFolds >= 2 {
+		fmt.Fprintf(w, "cross-validated:     no score: a fold's choice failed on a held-out image (see tune.json)\n")
 	} else {
 		fmt.Fprintf(w, "cross-validated:     not run (needs --folds >= 2 and at least 2 images)\n")
 	}

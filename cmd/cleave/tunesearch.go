@@ -471,14 +471,23 @@ type foldResult struct {
 	Held      []string          `json:"held_out"`
 	Params    map[string]string `json:"params"`
 	Train     float64           `json:"train_score"`
-	HeldScore float64           `json:"held_out_score"`
+	HeldScore *float64          `json:"held_out_score"` // null when the choice failed on a held-out image
+}
+
+// finite returns &v, or nil when v is NaN (JSON has no NaN).
+func finite(v float64) *float64 {
+	if math.IsNaN(v) {
+		return nil
+	}
+	return &v
 }
 
 // crossValidate runs K-fold cross-validation over the images (image i in
 // name order is held out in fold i mod K; leave-one-out when there are
 // fewer images than K): each fold searches on the other images and scores
 // its choice on the held-out ones. The cross-validated score is the mean
-// over all images of their held-out scores.
+// over all images of their held-out scores; it is NaN when a fold's choice
+// failed to segment a held-out image.
 func (t *tuner) crossValidate(grid []*evaluation, k, budget int) ([]foldResult, float64, error) {
 	n := len(t.images)
 	if k > n {
@@ -499,7 +508,7 @@ func (t *tuner) crossValidate(grid []*evaluation, k, budget int) ([]foldResult, 
 		if err != nil {
 			return nil, 0, err
 		}
-		fr := foldResult{Params: t.paramStrings(best.pt), Train: t.value(best, train), HeldScore: t.value(best, test)}
+		fr := foldResult{Params: t.paramStrings(best.pt), Train: t.value(best, train), HeldScore: finite(t.value(best, test))}
 		for _, i := range test {
 			fr.Held = append(fr.Held, t.names[i])
 			held[i] = t.value(best, []int{i})
