@@ -163,6 +163,9 @@ func coarsen(lv *level, workers int) *level {
 			rowPtr[a] = total
 		}
 	}
+	if nch == 1 {
+		return newLevel(nc, rowPtr, outs[0].col, outs[0].wt)
+	}
 	col := make([]int32, 0, total)
 	wt := make([]float32, 0, total)
 	for _, co := range outs {

@@ -37,25 +37,22 @@ func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
 	lv.deg = make([]float64, n)
 	lv.s = make([]float64, n)
 	lv.z0 = make([]float64, n)
+	lv.diag = make([]float64, n)
 	var sum float64
 	for i := 0; i < n; i++ {
-		var d float64
+		var d, self float64
 		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
 			d += float64(wt[p])
+			if int(col[p]) == i {
+				self += float64(wt[p])
+			}
 		}
 		lv.deg[i] = d
 		lv.s[i] = 1 / math.Sqrt(d)
 		sum += d
-	}
-	lv.diag = make([]float64, n)
-	for i := 0; i < n; i++ {
-		lv.diag[i] = 1
-		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
-			if int(col[p]) == i {
-				lv.diag[i] -= float64(wt[p]) / lv.deg[i]
-			}
-		}
-		lv.diag[i] = max(lv.diag[i], 1e-3) // aggregates nearly cut off
+		// L_ii = 1 - w_ii/d_i, kept away from 0 for aggregates nearly cut
+		// off from the rest.
+		lv.diag[i] = max(1-self/d, 1e-3)
 	}
 	inv := 1 / math.Sqrt(sum)
 	for i, d := range lv.deg {
