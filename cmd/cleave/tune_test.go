@@ -187,6 +187,48 @@ func TestParseSpec(t *testing.T) {
 	}
 }
 
+// The chosen setting is the best row of tune.csv for the metric: the
+// largest mean ARI, or the smallest mean VI (--metric vi is minimized).
+func TestTuneChoosesBestRow(t *testing.T) {
+	dir := t.TempDir()
+	writeNuclei(t, dir, 7300, 2, 112)
+	for _, c := range []struct {
+		metric string
+		col    string
+		sign   float64
+	}{{"ari", "mean_ari", 1}, {"vi", "mean_vi", -1}} {
+		out := filepath.Join(dir, "tuned-"+c.metric)
+		args := append([]string{"tune", "--images", dir, "--truth", dir, "--out", out, "--metric", c.metric}, smallTune...)
+		runOK(t, args...)
+		rows := readCSV(t, filepath.Join(out, "tune.csv"))
+		col := -1
+		for i, h := range rows[0] {
+			if h == c.col {
+				col = i
+			}
+		}
+		extreme := math.Inf(-1)
+		for _, r := range rows[1:] {
+			if r[0] == "baseline" {
+				continue
+			}
+			v, err := strconv.ParseFloat(r[col], 64)
+			if err != nil {
+				t.Fatalf("%s: %v", c.col, err)
+			}
+			extreme = math.Max(extreme, c.sign*v)
+		}
+		var rep tuneReport
+		raw, _ := os.ReadFile(filepath.Join(out, "tune.json"))
+		if err := json.Unmarshal(raw, &rep); err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(c.sign*rep.Score-extreme) > 1e-9 {
+			t.Errorf("--metric %s: score %v, best row of tune.csv %v", c.metric, rep.Score, c.sign*extreme)
+		}
+	}
+}
+
 func TestSmootherOrder(t *testing.T) {
 	// Ties go to wider kernels, then a smaller max-ncut (the documented order).
 	a := point{0.01, 20, 0.1, 5, 0, 20}
