@@ -4,10 +4,12 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io/fs"
 	"os"
 	"os/exec"
+	"os/signal"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -412,7 +414,10 @@ func TestBatchHelperProcess(t *testing.T) {
 			break
 		}
 	}
-	os.Exit(run(context.Background(), args, os.Stdout, os.Stderr))
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM) // as main does
+	code := run(ctx, args, os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
 }
 
 // kill -9 in the middle of a run, then a rerun: the same files as an
@@ -476,6 +481,49 @@ func TestBatchKillAndResume(t *testing.T) {
 			t.Errorf("temporary files left after the rerun: %v", tmp)
 		}
 	}
+}
+
+// Ctrl-C (SIGINT) mid-run: exit 1 with a message, no temporary files, and
+// the rerun completes the work with the bytes of a clean run.
+func TestBatchInterrupt(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end")
+	}
+	in, _ := makeBatchFolder(t, 8, false)
+	root := t.TempDir()
+	args := []string{"batch", "-r", "--classes", "2", "--superpixels", "150", "--jobs", "1"}
+	clean := filepath.Join(root, "clean")
+	if code, _, stderr := runCleave(append(args, "-q", "--out", clean, in)...); code != exitOK {
+		t.Fatalf("clean run: exit %d: %s", code, stderr)
+	}
+	out := filepath.Join(root, "out")
+	cmd := exec.Command(os.Args[0], append([]string{"-test.run=^TestBatchHelperProcess$", "--"}, append(args, "--out", out, in)...)...)
+	cmd.Env = append(os.Environ(), "CLEAVE_BATCH_HELPER=1")
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	deadline := time.Now().Add(60 * time.Second)
+	for time.Now().Before(deadline) {
+		if recs, _ := filepath.Glob(filepath.Join(out, "img-00.json")); len(recs) > 0 {
+			break
+		}
+		time.Sleep(2 * time.Millisecond)
+	}
+	cmd.Process.Signal(os.Interrupt)
+	err := cmd.Wait()
+	var ee *exec.ExitError
+	if !errors.As(err, &ee) || ee.ExitCode() != exitFail || !strings.Contains(stderr.String(), "interrupted") {
+		t.Errorf("after SIGINT: %v, stderr %q; want exit 1 and 'interrupted'", err, stderr.String())
+	}
+	if tmp := tempFiles(t, out); len(tmp) > 0 {
+		t.Errorf("temporary files left after SIGINT: %v", tmp)
+	}
+	if code, _, stderr := runCleave(append(args, "-q", "--out", out, in)...); code != exitOK {
+		t.Fatalf("rerun: exit %d: %s", code, stderr)
+	}
+	sameOutputs(t, "interrupted then rerun vs clean", outputBytes(t, clean), outputBytes(t, out))
 }
 
 // Wrong usage: exit 2, a message naming the problem, nothing written.
