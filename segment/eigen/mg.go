@@ -9,7 +9,8 @@ import "math"
 // its result may hold a multiple of z0, which LOBPCG removes.
 // The coarse operator of level l+1 is Pzᵀ L_l Pz with Pz = D^1/2 P D_c^-1/2
 // (see coarsen), so the restriction is Pzᵀ and the prolongation Pz.
-// The top wDepth levels visit the next one twice (a W-cycle) with the
+// The top wDepth levels visit the next one twice (a W-cycle, only where
+// the next level has at most wRatio of the nodes) with the
 // coarse correction scaled by 1.5, the over-correction that unsmoothed
 // aggregation needs (common practice in aggregation multigrid), and no
 // post-smoothing; deeper levels use a symmetric V(1,1)-cycle. The
@@ -110,7 +111,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	restrict(lv, next, r, rc, mg.workers)
 	clear(xc.v)
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
-	if l+mg.depth0 >= wDepth {
+	if l+mg.depth0 >= wDepth || float64(next.n) > wRatio*float64(lv.n) {
 		gamma, alpha, post = 1, 1, 1
 	}
 	for g := 0; g < gamma; g++ {
@@ -208,3 +209,10 @@ func prolongAdd(fine, coarse *level, zc, x *block, alpha float64, workers int) {
 // inner solver. All-W cycles cost a fine product per level; all-V cycles
 // needed twice the LOBPCG steps (measured on the coins pixel graph).
 const wDepth = 2
+
+// wRatio is the largest coarse-to-fine size ratio at which a level is
+// cycled as a W-cycle: two coarse visits cost 2·ratio fine products, more
+// than the fine level itself once matching pairs fewer than about half
+// the nodes (irregular superpixel graphs), with no fewer LOBPCG steps to
+// show for it (measured on planarGraph(3000) and the coins pixel graph).
+const wRatio = 0.52
