@@ -284,6 +284,9 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 	if want := fmt.Sprintf("%d inputs: <b>%d ok</b>, <b>%d failed</b>", len(ok)+len(failed), len(ok), len(failed)); !strings.Contains(dom, want) {
 		t.Errorf("rendered report lacks %q", want)
 	}
+	if !strings.Contains(dom, `<a href="manifest.csv">manifest.csv</a>`) {
+		t.Error("rendered report lacks the link to manifest.csv")
+	}
 	for _, f := range failed {
 		if !strings.Contains(dom, `<tr class="failed"><td>`+f+`</td>`) {
 			t.Errorf("rendered report lacks the failure row of %s", f)

@@ -244,7 +244,8 @@ tr.pending td { background: #fff6d6; }
 <body>
 <h1>cleave batch report</h1>
 <p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}.
-Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.</p>
+Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
+The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 
 <h2>Parameters</h2>
 <table id="params">
