@@ -283,3 +283,20 @@ func TestTuneErrors(t *testing.T) {
 		}
 	}
 }
+
+// Ctrl-C (a cancelled context) stops tune with exit 1 and writes nothing.
+func TestTuneInterrupted(t *testing.T) {
+	dir := t.TempDir()
+	writeNuclei(t, dir, 7400, 1, 112)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	out := filepath.Join(dir, "out")
+	var stdout, stderr bytes.Buffer
+	code := run(ctx, append([]string{"tune", "--images", dir, "--truth", dir, "--out", out}, smallTune...), &stdout, &stderr)
+	if code != exitFail || !strings.Contains(stderr.String(), "interrupted") {
+		t.Errorf("exit %d, stderr %q", code, stderr.String())
+	}
+	if _, err := os.Stat(filepath.Join(out, "best.json")); err == nil {
+		t.Error("best.json written after an interrupt")
+	}
+}

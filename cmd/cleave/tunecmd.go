@@ -131,7 +131,10 @@ func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return exitOK
 	}
 	code, err := tune(ctx, fs, s, o, stdout, stderr)
-	if err != nil {
+	switch {
+	case err != nil && ctx.Err() != nil:
+		fmt.Fprintln(stderr, "cleave tune: interrupted")
+	case err != nil:
 		fmt.Fprintf(stderr, "cleave tune: %v\n", err)
 	}
 	return code
