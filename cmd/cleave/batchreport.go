@@ -247,12 +247,6 @@ tr.pending td { background: #fff6d6; }
 Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
 The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 
-<h2>Parameters</h2>
-<table id="params">
-<tr><th>parameter</th><th>value</th></tr>
-{{range .Params}}<tr><td>{{.Name}}</td><td>{{.Value}}</td></tr>
-{{end}}</table>
-
 {{if .FailureRows}}<h2>Failures</h2>
 <table id="failures">
 <tr><th>input</th><th>message</th></tr>
@@ -268,6 +262,12 @@ The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 <table id="files">
 <tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th></tr>
 {{range .Rows}}<tr class="{{.Status}}"><td>{{.Input}}</td><td>{{.Status}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if ne .Status "pending"}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
+{{end}}</table>
+
+<h2>Parameters (as requested; each record holds the values used)</h2>
+<table id="params">
+<tr><th>parameter</th><th>value</th></tr>
+{{range .Params}}<tr><td>{{.Name}}</td><td>{{.Value}}</td></tr>
 {{end}}</table>
 </body>
 </html>
