@@ -1,0 +1,17 @@
+package main
+
+import (
+	"testing"
+
+	"github.com/cleave-seg/cleave/examples/scenes"
+)
+
+// BenchmarkScoreMaps512 is every metric of one 512x512 nuclei truth against
+// another scene's truth: the scoring cost tune pays per segmentation.
+func BenchmarkScoreMaps512(b *testing.B) {
+	t := scenes.Nuclei(scenes.NucleiOptions{Seed: 61}).Truth
+	p := scenes.Nuclei(scenes.NucleiOptions{Seed: 62}).Truth
+	for b.Loop() {
+		scoreMaps(p, t, 512, 512, defaultTolerance)
+	}
+}
