@@ -179,15 +179,30 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		old := []*block{x, ax, w, aw, p, ap}
 		xn := o.get(m)
 		axn := o.get(m)
+		// The images A X and A P are either combined from [AX, AW, AP]
+		// (ns products per entry) or recomputed as sparse products (about
+		// nnz/n per entry, at a higher cost each): on sparse graphs such
+		// as superpixel graphs the product is the cheaper, and it is
+		// exact rather than updated.
+		recompute := 2*len(lv.col) < ns*n
 		if mp > 0 {
 			pn := o.get(mp)
 			apn := o.get(mp)
 			o.combineMulti([]*block{xn, pn}, basis, [][]float64{cm, z})
-			o.combineMulti([]*block{axn, apn}, abasis, [][]float64{cm, z})
+			if recompute {
+				lv.applyL(axn, xn, &block{n: n, m: m, v: tmp.v[:n*m]}, o.workers)
+				lv.applyL(apn, pn, &block{n: n, m: mp, v: tmp.v[:n*mp]}, o.workers)
+			} else {
+				o.combineMulti([]*block{axn, apn}, abasis, [][]float64{cm, z})
+			}
 			p, ap = pn, apn
 		} else {
 			o.combine(xn, basis, cm)
-			o.combine(axn, abasis, cm)
+			if recompute {
+				lv.applyL(axn, xn, &block{n: n, m: m, v: tmp.v[:n*m]}, o.workers)
+			} else {
+				o.combine(axn, abasis, cm)
+			}
 			p, ap = nil, nil
 		}
 		x, ax = xn, axn
