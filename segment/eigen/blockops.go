@@ -251,6 +251,35 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 		single := len(as) == 1 && len(bs) == 1
 		for i := r0; i < r1; i += 4 {
 			cnt := min(4, r1-i)
+			if !single && cnt == 4 {
+				// Several blocks: take each pair of blocks in place; every
+				// entry gets the same operations as through the gathered
+				// rows below.
+				offA := 0
+				for _, ab := range as {
+					ma := ab.m
+					av := ab.v
+					a0, a1, a2, a3 := av[i*ma:(i+1)*ma], av[(i+1)*ma:(i+2)*ma], av[(i+2)*ma:(i+3)*ma], av[(i+3)*ma:(i+4)*ma]
+					offB := 0
+					for _, bb := range bs {
+						mb := bb.m
+						bv := bb.v
+						b0, b1, b2, b3 := bv[i*mb:(i+1)*mb], bv[(i+1)*mb:(i+2)*mb], bv[(i+2)*mb:(i+3)*mb], bv[(i+3)*mb:(i+4)*mb]
+						for p := 0; p < ma; p++ {
+							x0, x1, x2, x3 := a0[p], a1[p], a2[p], a3[p]
+							gr := g[(offA+p)*nb+offB : (offA+p)*nb+offB+mb]
+							gr = gr[:len(b0)]
+							b1, b2, b3 := b1[:len(b0)], b2[:len(b0)], b3[:len(b0)]
+							for q := range gr {
+								gr[q] += x0*b0[q] + x1*b1[q] + x2*b2[q] + x3*b3[q]
+							}
+						}
+						offB += mb
+					}
+					offA += ma
+				}
+				continue
+			}
 			var a0, a1, a2, a3, b0, b1, b2, b3 []float64
 			if single && cnt == 4 {
 				// Contiguous rows: slice them in place.
