@@ -37,7 +37,9 @@ const midIter = 2
 
 // prolongSmooth is the number of damped Jacobi steps z <- z - 0.7 L z
 // applied to interpolated vectors; they remove most of the jumps of the
-// piecewise-constant interpolation at the cost of one product each.
+// piecewise-constant interpolation at the cost of one product each. At
+// loose residual targets one step is kept: the second cost more products
+// than it saved in LOBPCG steps (object and superpixel-like graphs).
 const prolongSmooth = 2
 
 // Options controls Smallest.
@@ -185,7 +187,11 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 				x = prolong(levels[l], levels[l+1], xc, workers, pl)
 				pl.put(xc)
 				lx, tmp := pl.get(x.n, x.m), pl.get(x.n, x.m)
-				for sm := 0; sm < prolongSmooth; sm++ {
+				smooth := prolongSmooth
+				if tol >= looseTol {
+					smooth = 1
+				}
+				for sm := 0; sm < smooth; sm++ {
 					levels[l].applyL(lx, x, tmp, workers)
 					for t := range x.v {
 						x.v[t] -= 0.7 * lx.v[t]
