@@ -26,6 +26,11 @@ const denseMax = 70
 // times, so it is kept small.
 const coarseMax = 60
 
+// coarseMaxLoose replaces coarseMax at loose residual targets, where
+// the dense solve of the coarsest level (cubic in its size) is a large
+// share of the work (BenchmarkSmallestObject1500).
+const coarseMaxLoose = 30
+
 // coarseStall is the largest coarsest level solved densely when
 // coarsening stops early (matching stalls).
 const coarseStall = 1000
@@ -149,7 +154,11 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 		}
 	} else {
 		levels := []*level{lv0}
-		for cur := lv0; cur.n > coarseMax; {
+		cmax := coarseMax
+		if tol >= looseTol {
+			cmax = coarseMaxLoose
+		}
+		for cur := lv0; cur.n > cmax; {
 			c := coarsen(cur, workers)
 			if c == nil {
 				break
