@@ -144,9 +144,9 @@ func runBatch(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	return runBatchWith(ctx, args, stdout, stderr, nil)
 }
 
-// runBatchWith is runBatch; tune, when not nil, adjusts the options after
-// parsing (tests shorten the progress interval).
-func runBatchWith(ctx context.Context, args []string, stdout, stderr io.Writer, tune func(*batchOptions)) int {
+// runBatchWith is runBatch; adjust, when not nil, changes the options
+// after parsing (tests shorten the progress interval).
+func runBatchWith(ctx context.Context, args []string, stdout, stderr io.Writer, adjust func(*batchOptions)) int {
 	fs, s, o := batchFlagSet()
 	fs.SetOutput(io.Discard)
 	if err := fs.Parse(args); err != nil {
@@ -157,8 +157,8 @@ func runBatchWith(ctx context.Context, args []string, stdout, stderr io.Writer, 
 		batchHelp(stdout)
 		return exitOK
 	}
-	if tune != nil {
-		tune(o)
+	if adjust != nil {
+		adjust(o)
 	}
 	if o.rebuild {
 		return runRebuild(fs, o, stderr)
