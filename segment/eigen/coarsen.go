@@ -1,5 +1,7 @@
 package eigen
 
+import "math"
+
 // coarsen builds the next coarser level by heavy-edge matching and the
 // Galerkin product W_c = Pᵀ W P (Cour, Benezit and Shi 2005 use such
 // multiscale graphs; heavy-edge matching is common practice in multilevel
@@ -163,16 +165,23 @@ func coarsen(lv *level, workers int) *level {
 			rowPtr[a] = total
 		}
 	}
+	var c *level
 	if nch == 1 {
-		return newLevel(nc, rowPtr, outs[0].col, outs[0].wt)
+		c = newLevel(nc, rowPtr, outs[0].col, outs[0].wt)
+	} else {
+		col := make([]int32, 0, total)
+		wt := make([]float32, 0, total)
+		for _, co := range outs {
+			col = append(col, co.col...)
+			wt = append(wt, co.wt...)
+		}
+		c = newLevel(nc, rowPtr, col, wt)
 	}
-	col := make([]int32, 0, total)
-	wt := make([]float32, 0, total)
-	for _, co := range outs {
-		col = append(col, co.col...)
-		wt = append(wt, co.wt...)
+	lv.pz = make([]float64, n)
+	for i, a := range agg {
+		lv.pz[i] = math.Sqrt(lv.deg[i] / c.deg[a])
 	}
-	return newLevel(nc, rowPtr, col, wt)
+	return c
 }
 
 // prolong interpolates a coarse block to the fine level: z_i =

@@ -22,6 +22,7 @@ type level struct {
 	s      []float64 // d_i^-1/2
 	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
 	agg    []int32   // fine node -> node of the next coarser level
+	pz     []float64 // sqrt(d_i / d_c[agg[i]]): the nonzero of row i of Pz
 	memPtr []int     // members of coarse node a: mem[memPtr[a]:memPtr[a+1]], ascending
 	mem    []int32
 	chunks []int // fixed row chunk boundaries (independent of workers)

@@ -1,7 +1,5 @@
 package eigen
 
-import "math"
-
 // multigrid applies one cycle of an aggregation multigrid method (Golub
 // and Van Loan, section 4.8 on multigrid; Galerkin coarse operators,
 // damped Jacobi smoothing with ω = 0.7) for L x = b on the orthogonal
@@ -175,7 +173,7 @@ func restrict(fine, coarse *level, r, out *block, workers int) {
 			dst := out.v[a*m : a*m+m]
 			clear(dst)
 			for _, i := range fine.mem[fine.memPtr[a]:fine.memPtr[a+1]] {
-				f := math.Sqrt(fine.deg[i] / coarse.deg[a])
+				f := fine.pz[i]
 				src := r.v[int(i)*m : int(i)*m+m]
 				for q, v := range src {
 					dst[q] += f * v
@@ -193,7 +191,7 @@ func prolongAdd(fine, coarse *level, zc, x *block, alpha float64, workers int) {
 	parallel(fine.nchunks(), workers, func(c int) {
 		for i := fine.chunks[c]; i < fine.chunks[c+1]; i++ {
 			a := int(fine.agg[i])
-			f := alpha * math.Sqrt(fine.deg[i]/coarse.deg[a])
+			f := alpha * fine.pz[i]
 			src := zc.v[a*m : a*m+m]
 			dst := x.v[i*m : i*m+m]
 			for q, v := range src {
