@@ -91,7 +91,7 @@ var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
 // Laplacian L = I - D^-1/2 W D^-1/2 of g (Shi and Malik 2000). The graph
 // must be connected; the null vector z0 = D^1/2 1/‖D^1/2 1‖ is deflated
 // exactly and returned as the first pair. Graphs of at most 70 nodes,
-// and requests whose LOBPCG block would not fit in N (k above about N/4),
+// and requests whose LOBPCG block would not fit in N (k above about N/3),
 // are solved densely; the others coarse to fine with block LOBPCG (see
 // the package comment). It returns an error for a nil or empty graph, k < 1,
 // k > N, malformed arrays, negative or non-finite weights and nodes of
