@@ -21,6 +21,12 @@ const DefaultMaxIter = 500
 // k = 2 the two cross near 70 nodes: BenchmarkCrossover).
 const denseMax = 70
 
+// denseMaxLoose replaces denseMax at loose residual targets, where the
+// coarse-to-fine path (coarsened to coarseMaxLoose nodes) was faster from
+// 32 nodes on and the dense solver below (k = 2 on planarGraph, tol 1e-4,
+// one worker).
+const denseMaxLoose = 30
+
 // coarseMax is the size at which coarsening stops and the coarsest graph
 // is solved densely. The W-cycle visits the coarsest level 2^levels
 // times, so it is kept small.
@@ -90,15 +96,19 @@ var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
 // Smallest returns the k smallest eigenpairs of the symmetric normalized
 // Laplacian L = I - D^-1/2 W D^-1/2 of g (Shi and Malik 2000). The graph
 // must be connected; the null vector z0 = D^1/2 1/‖D^1/2 1‖ is deflated
-// exactly and returned as the first pair. Graphs of at most 70 nodes,
-// and requests whose LOBPCG block would not fit in N (k above about N/3),
-// are solved densely; the others coarse to fine with block LOBPCG (see
-// the package comment). It returns an error for a nil or empty graph, k < 1,
+// exactly and returned as the first pair. Graphs of at most 70 nodes (30
+// at residual targets of 1e-5 and above), and requests whose LOBPCG block
+// would not fit in N (k above about N/3), are solved densely; the others
+// coarse to fine with block LOBPCG (see the package comment). It returns an error for a nil or empty graph, k < 1,
 // k > N, malformed arrays, negative or non-finite weights and nodes of
 // zero degree. When LOBPCG stops at MaxIter above the tolerance it returns
 // the result together with an error wrapping ErrNotConverged.
 func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
-	return smallest(g, k, opt, denseMax)
+	limit := denseMax
+	if opt.Tol >= looseTol {
+		limit = denseMaxLoose
+	}
+	return smallest(g, k, opt, limit)
 }
 
 // smallest is Smallest with the dense crossover as a parameter.

@@ -498,6 +498,8 @@ func TestLooseTolerance(t *testing.T) {
 		{"object 394 k=3", objectGraph(t, 8), 3},
 		{"random 700", randomGraph(t, 700, 600, 5), 2},
 		{"planar 900", planarGraph(900, 4), 2},
+		{"planar 60 (sparse path below denseMax)", planarGraph(60, 4), 2},
+		{"random 45", randomGraph(t, 45, 70, 6), 2},
 	}
 	const tol = 1e-4
 	for _, c := range cases {
