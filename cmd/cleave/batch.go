@@ -268,8 +268,8 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if p.realOut, err = checkOutDir(p.out); err != nil {
 		return nil, err
 	}
-	if p.realOut == p.realInput {
-		return nil, usagef("--out %s is INPUT_DIR itself: the outputs would be read back as inputs; choose another folder (a subfolder is fine)", p.out)
+	if within(p.realOut, p.realInput) {
+		return nil, usagef("--out %s is inside INPUT_DIR %s: its outputs would be read back as inputs on the next run; choose a folder outside INPUT_DIR", p.out, p.inputDir)
 	}
 	if p.all, err = discover(p.inputDir, p.realOut, o); err != nil {
 		return nil, err
@@ -578,9 +578,6 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		return exitFail
 	}
 
-	if !p.opts.quiet && p.opts.recursive && within(p.realOut, p.realInput) {
-		fmt.Fprintf(stderr, "cleave batch: note: --out %s lies inside INPUT_DIR; it is skipped when looking for images\n", p.out)
-	}
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
 	work := make(chan int)

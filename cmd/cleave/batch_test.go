@@ -552,7 +552,7 @@ func TestBatchUsage(t *testing.T) {
 		{"no --out", []string{in}, "--out DIR is required"},
 		{"--out is a file", []string{"--out", file, in}, "is a file, not a folder"},
 		{"--out under a file", []string{"--out", filepath.Join(file, "sub"), in}, "is a file, not a folder"},
-		{"--out is INPUT_DIR", []string{"--out", in, in}, "INPUT_DIR itself"},
+		{"--out is INPUT_DIR", []string{"--out", in, in}, "inside INPUT_DIR"},
 		{"shard no slash", []string{"--shard", "1", "--out", out, in}, "--shard must be I/N"},
 		{"shard I = N", []string{"--shard", "3/3", "--out", out, in}, "--shard must be I/N"},
 		{"shard negative", []string{"--shard", "-1/3", "--out", out, in}, "--shard must be I/N"},
@@ -612,19 +612,18 @@ func TestBatchUsage(t *testing.T) {
 	}
 }
 
-// --out inside INPUT_DIR: the outputs are not read back as inputs.
+// --out inside INPUT_DIR is wrong usage (issue 4, bad input): exit 2 and
+// nothing written, so a later run cannot read the outputs back as inputs.
 func TestBatchOutInsideInput(t *testing.T) {
-	if testing.Short() {
-		t.Skip("end-to-end")
-	}
-	in, good := makeBatchFolder(t, 2, false)
-	out := filepath.Join(in, "results")
-	for range 2 {
-		if code, _, stderr := runCleave("batch", "-r", "-q", "--superpixels", "150", "--out", out, in); code != exitOK {
-			t.Fatalf("exit %d: %s", code, stderr)
+	in, _ := makeBatchFolder(t, 2, false)
+	for _, sub := range []string{"results", filepath.Join("a", "b")} {
+		out := filepath.Join(in, sub)
+		code, _, stderr := runCleave("batch", "-r", "-q", "--out", out, in)
+		if code != exitUsage || !strings.Contains(stderr, "inside INPUT_DIR") {
+			t.Errorf("--out %s: exit %d, stderr %q; want exit 2 naming the problem", sub, code, stderr)
 		}
-		if rows := readManifest(t, out); len(rows) != len(good) {
-			t.Errorf("manifest has %d rows, want %d: %v", len(rows), len(good), rows)
+		if _, err := os.Stat(out); err == nil {
+			t.Errorf("--out %s was created", sub)
 		}
 	}
 }
