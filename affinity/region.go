@@ -99,14 +99,16 @@ func Adjacency(w, h int, labels []int32, n int) *Graph {
 // on region means, with the boundary factor making a long shared border
 // a strong tie (region graphs weighted this way are common practice in
 // superpixel-based normalized cuts). Non-adjacent regions are not joined.
-func RegionGraph(r *Regions, w, h int, labels []int32, p RegionParams) (*Graph, error) {
+//
+// adj is Adjacency of the w x h labelling the regions come from (callers
+// that also estimate sigma_I from it build it once).
+func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	if len(labels) != w*h {
-		return nil, fmt.Errorf("affinity: %d labels for a %dx%d image", len(labels), w, h)
+	if adj.N != r.N {
+		return nil, fmt.Errorf("affinity: adjacency of %d regions for %d regions", adj.N, r.N)
 	}
-	adj := Adjacency(w, h, labels, r.N)
 	meanSide := math.Sqrt(float64(w*h) / float64(max(r.N, 1)))
 	invI2 := 1 / (p.SigmaI * p.SigmaI)
 	invX2 := 1 / (p.SigmaX * p.SigmaX)

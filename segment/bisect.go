@@ -96,7 +96,22 @@ var SplitTol = 1e-4
 // Disconnected parts split into their components at no cost (Ncut 0).
 // The largest open part is split first, and splitting stops once maxRegions
 // regions exist (0: no limit).
-func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutResult, error) {
+// cutOptions are the internal variations of bisect for its two callers:
+// the image's top-level cut and the re-cut of single objects.
+type cutOptions struct {
+	stability bool // apply the Fiedler-vector stability test
+	// accept, when set, must also approve a split of a part (nodes of the
+	// whole graph; inA marks side A by position in nodes).
+	accept func(nodes []int, inA []bool) bool
+	// final, when set, marks a part (nodes of the whole graph) that is not
+	// to be split at all.
+	final func(nodes []int) bool
+	// noSpectrum skips the top-level spectrum: every solve is a k = 2
+	// solve at SplitTol (for the small graphs of object refinement).
+	noSpectrum bool
+}
+
+func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutOptions) (*cutResult, error) {
 	res := &cutResult{region: make([]int32, g.N)}
 	h := &partHeap{}
 	var final []part
@@ -113,7 +128,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 	}
 	heap.Push(h, part{nodes: all, area: areaOf(all)})
 	regions := 1
-	first := !p.noSpectrum // the top-level solve records the low spectrum
+	first := !o.noSpectrum // the top-level solve records the low spectrum
 	for h.Len() > 0 {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -122,7 +137,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 			break
 		}
 		pt := heap.Pop(h).(part)
-		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea || (p.final != nil && p.final(pt.nodes)) {
+		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea || (o.final != nil && o.final(pt.nodes)) {
 			final = append(final, pt)
 			continue
 		}
@@ -176,7 +191,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 			y[i] = z[i] / math.Sqrt(deg[i])
 		}
 		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
-		if !ok || s.ncut > p.MaxNcut || (p.stability && !stable(y)) {
+		if !ok || s.ncut > p.MaxNcut || (o.stability && !stable(y)) {
 			final = append(final, pt)
 			continue
 		}
@@ -184,7 +199,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutR
 		for _, i := range s.order[:s.at] {
 			inA[i] = true
 		}
-		if p.accept != nil && !p.accept(pt.nodes, inA) {
+		if o.accept != nil && !o.accept(pt.nodes, inA) {
 			final = append(final, pt)
 			continue
 		}

@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -46,33 +47,36 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // brightest by area-weighted mean luminance.
 //
 // With one feature plane the regions are grouped by a shading-compensated
-// score: s_r = mean over the region of I(x)/B(x), where B is a smooth field of
-// the reference class (the background: darkest class with background "dark",
-// brightest with "bright", otherwise the class of largest area) estimated by
-// normalized convolution, B = G*(I·m)/G*m with m the reference-class mask and
-// G a wide Gaussian (Knutsson and Westin 1993). Each region is thus judged
+// score of the luminance plane lum: s_r = log of the mean over the region of
+// I(x)/B(x), where B is a smooth field of the reference class (the
+// background: darkest class with background "dark", brightest with
+// "bright", otherwise the class of largest area) estimated by normalized
+// convolution, B = G*(I·m)/G*m with m the reference-class mask and G a
+// wide Gaussian (Knutsson and Westin 1993). Each region is thus judged
 // against the background around it rather than one global level, so
 // illumination falloff and haze do not move the class boundary. Scores are
-// split by Otsu's method (C = 2, weighted by area, exact) or weighted k-means
-// (C > 2), then B is re-estimated from the new grouping; classRounds rounds.
+// split by Otsu's method (C = 2, weighted by area, exact) or weighted
+// k-means (C > 2), then B is re-estimated from the new grouping; at most
+// classRounds rounds. When the grouping settles, field is B of the final
+// grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
-// by area-weighted k-means without shading compensation.
-func groupClasses(planes [][]float32, disp []float32, w, h int, reg []int32, n, C int, background string, seed uint64) []int32 {
-	st := statsOf(planes, reg, n)
-	lum := statsOf([][]float32{disp}, reg, n).mean[0]
+// by area-weighted k-means without shading compensation, and field is nil.
+func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, seed uint64) (cls []int32, field []float32) {
+	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
+		mv := statsOf(planes, reg, n).mean
 		x := make([]float64, n*len(planes))
 		for r := 0; r < n; r++ {
 			for c := range planes {
-				x[r*len(planes)+c] = st.mean[c][r]
+				x[r*len(planes)+c] = mv[c][r]
 			}
 		}
 		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed, 1)
-		return orderClasses(cls, lum, st.area, C)
+		return orderClasses(cls, st.mean[0], st.area, C), nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
-	cls := split1D(score, st.area, C, seed)
-	for round := 0; round < classRounds && C >= 2; round++ {
+	cls = split1D(score, st.area, C, seed)
+	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
 		mask := make([]bool, len(reg))
 		any := false
@@ -83,12 +87,12 @@ func groupClasses(planes [][]float32, disp []float32, w, h int, reg []int32, n, 
 			}
 		}
 		if !any {
-			break
+			return cls, nil
 		}
-		field := smoothField(planes[0], mask, w, h, float64(max(w, h))/fieldScale)
+		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale)
 		sum := make([]float64, n)
 		for i, r := range reg {
-			sum[r] += float64(planes[0][i]) / math.Max(float64(field[i]), fieldFloor)
+			sum[r] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
 		}
 		for r := range score {
 			if st.area[r] > 0 {
@@ -96,18 +100,12 @@ func groupClasses(planes [][]float32, disp []float32, w, h int, reg []int32, n, 
 			}
 		}
 		next := split1D(score, st.area, C, seed)
-		same := true
-		for r := range next {
-			if next[r] != cls[r] {
-				same = false
-			}
+		if slices.Equal(next, cls) {
+			return cls, field // field was estimated from this very grouping
 		}
 		cls = next
-		if same {
-			break
-		}
 	}
-	return cls
+	return cls, nil
 }
 
 // split1D groups scalar scores into C classes numbered by increasing score.
@@ -217,28 +215,18 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64) []float32 {
 		fy := (float64(y)+0.5)/float64(cell) - 0.5
 		y0 := int(math.Floor(fy))
 		ty := fy - float64(y0)
-		y0c, y1c := clampInt(y0, 0, gh-1), clampInt(y0+1, 0, gh-1)
+		y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
 		for x := 0; x < w; x++ {
 			fx := (float64(x)+0.5)/float64(cell) - 0.5
 			x0 := int(math.Floor(fx))
 			tx := fx - float64(x0)
-			x0c, x1c := clampInt(x0, 0, gw-1), clampInt(x0+1, 0, gw-1)
+			x0c, x1c := min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
 			top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
 			bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
 			out[y*w+x] = float32(top*(1-ty) + bot*ty)
 		}
 	}
 	return out
-}
-
-func clampInt(v, lo, hi int) int {
-	if v < lo {
-		return lo
-	}
-	if v > hi {
-		return hi
-	}
-	return v
 }
 
 // blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,

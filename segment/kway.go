@@ -65,17 +65,6 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 	}
 	lab := kmeans(u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
 	// Renumber clusters by lowest node, drop empty ones.
-	id := make([]int32, K)
-	for i := range id {
-		id[i] = -1
-	}
-	n := int32(0)
-	for i, c := range lab {
-		if id[c] < 0 {
-			id[c] = n
-			n++
-		}
-		lab[i] = id[c]
-	}
-	return &cutResult{region: lab, regions: int(n), eigenvalues: ep.Values}, K, nil
+	n := relabel(lab, K)
+	return &cutResult{region: lab, regions: n, eigenvalues: ep.Values}, K, nil
 }

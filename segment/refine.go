@@ -109,7 +109,7 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 			}
 			return solidity(part, w) > refineSolidity
 		}
-		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: maxNcut, MinArea: minPart, Workers: 1, Seed: seed, accept: seam, final: convex, noSpectrum: true})
+		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: maxNcut, MinArea: minPart, Workers: 1, Seed: seed}, cutOptions{accept: seam, final: convex, noSpectrum: true})
 		if err != nil {
 			results[l].err = err
 			return

@@ -54,16 +54,6 @@ type Params struct {
 	Seed      uint64
 	MaxMemory int64 // bytes; the graph stage refuses to build above it
 
-	stability bool // apply the Fiedler-vector stability test in bisect
-	// accept, when set, must also approve a split of a part (nodes of the
-	// whole graph; inA marks side A by position in nodes).
-	accept func(nodes []int, inA []bool) bool
-	// final, when set, marks a part (nodes of the whole graph) that is not
-	// to be split at all.
-	final func(nodes []int) bool
-	// noSpectrum skips the top-level spectrum: every solve is a k = 2
-	// solve at SplitTol (for the small graphs of object refinement).
-	noSpectrum bool
 }
 
 // ParamError reports an invalid parameter by its flag name.
@@ -236,10 +226,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			p.SigmaX = 2 * math.Sqrt(float64(npix)/float64(n))
 		}
 		sum := affinity.Summarize(in.Planes, w, h, nodeOf, n)
+		adj := affinity.Adjacency(w, h, nodeOf, n)
 		if p.AutoSigmaI {
-			p.SigmaI = affinity.AutoRegionSigmaI(sum, affinity.Adjacency(w, h, nodeOf, n))
+			p.SigmaI = affinity.AutoRegionSigmaI(sum, adj)
 		}
-		g, err = affinity.RegionGraph(sum, w, h, nodeOf, affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX})
+		g, err = affinity.RegionGraph(sum, adj, w, h, affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX})
 		if err != nil {
 			return nil, err
 		}
@@ -254,9 +245,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		// No feature varies: any cut would be purely spatial. One region.
 		cut = &cutResult{region: make([]int32, g.N), regions: 1}
 	} else if p.Method == MethodBisect {
-		q := p
-		q.stability = true
-		cut, err = bisect(ctx, g, area, q)
+		cut, err = bisect(ctx, g, area, p, cutOptions{stability: true})
 	} else {
 		cut, err = kwayComponents(ctx, g, area, p)
 	}
@@ -284,18 +273,20 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	res.Labels = res.Regions
 
 	if p.Classes >= 2 {
-		cls := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, p.Seed)
+		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, p.Seed)
 		res.Classes = make([]int32, npix)
 		for i, r := range reg {
 			res.Classes[i] = cls[r]
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
-			mask := make([]bool, npix)
-			for i, c := range res.Classes {
-				mask[i] = c == bg
+			if field == nil {
+				mask := make([]bool, npix)
+				for i, c := range res.Classes {
+					mask[i] = c == bg
+				}
+				field = smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			}
-			field := smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			obj, nobj := objectsFrom(in.Luminance, field, w, h, reg, nreg, cls, bg, p.MinArea)
 			stage("classes")
 			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, in.Luminance, field, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)

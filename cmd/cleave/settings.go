@@ -116,8 +116,9 @@ func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
 	if dec.More() {
 		return fmt.Errorf("params file %s: unexpected data after the JSON object", path)
 	}
+	names := paramNames()
 	known := map[string]bool{}
-	for _, n := range paramNames() {
+	for _, n := range names {
 		known[n] = true
 	}
 	keys := make([]string, 0, len(m))
@@ -127,7 +128,7 @@ func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
 	sort.Strings(keys)
 	for _, k := range keys {
 		if !known[k] {
-			return fmt.Errorf("params file %s: unknown parameter %q (known: %s)", path, k, strings.Join(paramNames(), ", "))
+			return fmt.Errorf("params file %s: unknown parameter %q (known: %s)", path, k, strings.Join(names, ", "))
 		}
 		f := fs.Lookup(k)
 		if f == nil {

@@ -130,7 +130,7 @@ func blur(f []float64, w, h int, sigma float64) []float64 {
 		for x := 0; x < w; x++ {
 			var s float64
 			for i, kv := range k {
-				xx := clampInt(x+i-r, 0, w-1)
+				xx := min(max(x+i-r, 0), w-1)
 				s += kv * row[xx]
 			}
 			tmp[y*w+x] = s
@@ -141,7 +141,7 @@ func blur(f []float64, w, h int, sigma float64) []float64 {
 		for x := 0; x < w; x++ {
 			var s float64
 			for i, kv := range k {
-				yy := clampInt(y+i-r, 0, h-1)
+				yy := min(max(y+i-r, 0), h-1)
 				s += kv * tmp[yy*w+x]
 			}
 			out[y*w+x] = s
@@ -200,16 +200,6 @@ func quantize(rng *rand.Rand, e []float64, depth int, offset, gain, read float64
 		out[i] = uint16(v)
 	}
 	return out
-}
-
-func clampInt(v, lo, hi int) int {
-	if v < lo {
-		return lo
-	}
-	if v > hi {
-		return hi
-	}
-	return v
 }
 
 // uniform returns a draw from [lo, hi).
