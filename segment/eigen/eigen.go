@@ -154,6 +154,7 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 	// LOBPCG needs the block, its residuals and the previous directions to
 	// fit in the complement of z0; beyond that, solve densely.
 	m := blockSize(want)
+	pl.unit = n * max(m, k)
 	if n <= denseLimit || 3*m >= n-1 || want == 0 {
 		if want > 0 {
 			v, z, err := denseLevel(lv0, want)
