@@ -32,6 +32,7 @@ func (e *usageError) Unwrap() error { return e.err }
 func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
 
 func main() {
+	adviseHugePages()
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	stop()
