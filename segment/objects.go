@@ -1,6 +1,9 @@
 package segment
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // seamRatio: two adjacent foreground regions stay separate objects when the
 // contrast along their shared boundary is below seamRatio times the weaker
@@ -147,4 +150,192 @@ func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 		}
 	}
 	return out, n
+}
+
+// Boundary tightening constants: an object's outline is redrawn where its
+// smoothed contrast falls to tightenLevel of the object's median
+// contrast (the half-maximum outline of its typical interior level,
+// common practice for blurred objects such as fluorescent nuclei),
+// within tightenReach pixels of its region outline. On the project's
+// scenes (seeds 411-420, defaults), half of the median gave nuclei ARI
+// 0.976 and F1 0.966 against 0.969 and 0.920 without tightening, and
+// plates 0.928 and 0.876 against 0.934 and 0.878; 0.4 or 0.35 of the
+// 90th percentile did less well on both.
+const (
+	tightenReach = 3
+	tightenLevel = 0.5
+)
+
+// tightenObjects redraws object outlines at pixel level. Region outlines
+// follow superpixel borders, which keep to strong edges but cut corners
+// at faint ones: a faint nucleus comes out as a blocky patch that spills
+// into the background and joins its faint neighbour. For each object
+// (labels 1..n, 0 background), the contrast |I/B - 1| smoothed by a 3x3
+// mean is compared with tightenLevel times the object's median; the object
+// keeps its pixels at or above that level and gains background pixels at
+// or above it within tightenReach pixels (chessboard distance), where
+// earlier labels win contested pixels. A dim seam below the level splits
+// a touching pair. The pieces are then relabelled 1..N in raster order;
+// pieces under minArea pixels go to the background.
+func tightenObjects(inten, field []float32, w, h int, labels []int32, n, minArea int) ([]int32, int) {
+	con := make([]float32, len(inten))
+	for i := range con {
+		con[i] = float32(math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1))
+	}
+	sm := boxMean3(con, w, h)
+	type box struct{ x0, y0, x1, y1 int }
+	boxes := make([]box, n+1)
+	for i := range boxes {
+		boxes[i] = box{w, h, -1, -1}
+	}
+	vals := make([][]float32, n+1)
+	for i, l := range labels {
+		if l <= 0 {
+			continue
+		}
+		x, y := i%w, i/w
+		b := &boxes[l]
+		b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
+		vals[l] = append(vals[l], sm[i])
+	}
+	group := make([]int32, len(labels))
+	for i, l := range labels {
+		group[i] = l - 1 // -1: background
+	}
+	for l := 1; l <= n; l++ {
+		if len(vals[l]) == 0 {
+			continue
+		}
+		slices.Sort(vals[l])
+		level := tightenLevel * vals[l][(len(vals[l])-1)/2]
+		b := boxes[l]
+		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
+		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
+		bw, bh := x1-x0+1, y1-y0+1
+		own := make([]bool, bw*bh)
+		for y := y0; y <= y1; y++ {
+			for x := x0; x <= x1; x++ {
+				own[(y-y0)*bw+x-x0] = labels[y*w+x] == int32(l)
+			}
+		}
+		near := dilateSquare(own, bw, bh, tightenReach)
+		for y := y0; y <= y1; y++ {
+			for x := x0; x <= x1; x++ {
+				k, i := (y-y0)*bw+x-x0, y*w+x
+				switch {
+				case own[k] && sm[i] < level:
+					group[i] = -1
+				case near[k] && labels[i] == 0 && group[i] < 0 && sm[i] >= level:
+					group[i] = int32(l - 1)
+				}
+			}
+		}
+	}
+	fillHoles(group, w, h)
+	return componentsOfGroups(group, w, h, minArea)
+}
+
+// fillHoles gives every background piece (group < 0, 4-connected) that
+// does not reach the image border and borders a single group to that
+// group: the holes a contrast level leaves in grainy or unevenly lit
+// objects. Filled masks are common practice for counted objects.
+func fillHoles(group []int32, w, h int) {
+	seen := make([]bool, len(group))
+	var stack, piece []int
+	for s := range group {
+		if group[s] >= 0 || seen[s] {
+			continue
+		}
+		seen[s] = true
+		stack = append(stack[:0], s)
+		piece = piece[:0]
+		border := false
+		owner := int32(-1) // -1: none yet, -2: several
+		for len(stack) > 0 {
+			i := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			piece = append(piece, i)
+			x, y := i%w, i/w
+			if x == 0 || y == 0 || x == w-1 || y == h-1 {
+				border = true
+			}
+			visit := func(j int) {
+				if g := group[j]; g >= 0 {
+					if owner == -1 {
+						owner = g
+					} else if owner != g {
+						owner = -2
+					}
+				} else if !seen[j] {
+					seen[j] = true
+					stack = append(stack, j)
+				}
+			}
+			if x > 0 {
+				visit(i - 1)
+			}
+			if x+1 < w {
+				visit(i + 1)
+			}
+			if y > 0 {
+				visit(i - w)
+			}
+			if y+1 < h {
+				visit(i + w)
+			}
+		}
+		if !border && owner >= 0 {
+			for _, i := range piece {
+				group[i] = owner
+			}
+		}
+	}
+}
+
+// boxMean3 returns the 3x3 mean of v (the window shrunk at the image
+// border).
+func boxMean3(v []float32, w, h int) []float32 {
+	out := make([]float32, len(v))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var s float32
+			var c int
+			for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
+				for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
+					s += v[yy*w+xx]
+					c++
+				}
+			}
+			out[y*w+x] = s / float32(c)
+		}
+	}
+	return out
+}
+
+// dilateSquare returns m dilated by a (2r+1)x(2r+1) square (separable
+// running maximum).
+func dilateSquare(m []bool, w, h, r int) []bool {
+	tmp := make([]bool, len(m))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			for xx := max(x-r, 0); xx <= min(x+r, w-1); xx++ {
+				if m[y*w+xx] {
+					tmp[y*w+x] = true
+					break
+				}
+			}
+		}
+	}
+	out := make([]bool, len(m))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
+				if tmp[yy*w+x] {
+					out[y*w+x] = true
+					break
+				}
+			}
+		}
+	}
+	return out
 }

@@ -280,6 +280,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
+			if single(cls) {
+				// One class only (a single region, or regions of one
+				// level): nothing stands out, so no objects.
+				bg = cls[0]
+			}
 			if field == nil {
 				mask := make([]bool, npix)
 				for i, c := range res.Classes {
@@ -288,6 +293,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				field = smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			}
 			obj, nobj := objectsFrom(in.Luminance, field, w, h, reg, nreg, cls, bg, p.MinArea)
+			obj, nobj = tightenObjects(in.Luminance, field, w, h, obj, nobj, max(p.MinArea, 1))
 			stage("classes")
 			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, in.Luminance, field, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
@@ -381,6 +387,16 @@ func constant(planes [][]float32) bool {
 			if v != pl[0] {
 				return false
 			}
+		}
+	}
+	return true
+}
+
+// single reports whether every region has the same class.
+func single(cls []int32) bool {
+	for _, c := range cls {
+		if c != cls[0] {
+			return false
 		}
 	}
 	return true

@@ -90,18 +90,25 @@ func TestRunDegenerate(t *testing.T) {
 				f[i] = c.v
 			}
 			for _, m := range []string{MethodBisect, MethodKway} {
-				p := defaultParams()
-				p.Method, p.Classes, p.Background = m, 2, "dark"
-				res, err := Run(context.Background(), Input{Width: c.w, Height: c.h, Planes: [][]float32{f}, Luminance: f}, p)
-				if err != nil {
-					t.Fatalf("%s: %v", m, err)
-				}
-				if res.NumRegions != 1 {
-					t.Errorf("%s: %d regions, want 1", m, res.NumRegions)
-				}
-				for _, v := range res.Eigenvalues {
-					if math.IsNaN(v) {
-						t.Errorf("%s: NaN eigenvalue", m)
+				for _, bg := range []string{"dark", "bright"} {
+					p := defaultParams()
+					p.Method, p.Classes, p.Background = m, 2, bg
+					res, err := Run(context.Background(), Input{Width: c.w, Height: c.h, Planes: [][]float32{f}, Luminance: f}, p)
+					if err != nil {
+						t.Fatalf("%s: %v", m, err)
+					}
+					if res.NumRegions != 1 {
+						t.Errorf("%s: %d regions, want 1", m, res.NumRegions)
+					}
+					// Nothing stands out from a single region: no
+					// objects, whichever side is the background.
+					if res.NumObjects != 0 {
+						t.Errorf("%s, background %s: %d objects, want 0", m, bg, res.NumObjects)
+					}
+					for _, v := range res.Eigenvalues {
+						if math.IsNaN(v) {
+							t.Errorf("%s: NaN eigenvalue", m)
+						}
 					}
 				}
 			}
