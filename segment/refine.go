@@ -26,6 +26,11 @@ const (
 	// a waist, and so a lower solidity (two touching discs: 2π/(π+4) ≈
 	// 0.88); a digitized ellipse is close to 1.
 	refineSolidity = 0.93
+	// refineElongation: objects whose inertia ratio (elongation) is above
+	// this are taken as single, however bent: scratches and fibres. Two
+	// touching discs have 5, a row of three 11.7; a scratch 3 px wide and
+	// 60 px long has 400.
+	refineElongation = 25
 	// RefineMaxNcut is the largest Ncut at which an object is split into
 	// touching objects.
 	RefineMaxNcut = 0.03
@@ -66,7 +71,7 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 	results := make([]result, n+1)
 	one := func(l int) {
 		px := pixels[l]
-		if len(px) < 2*minPart || solidity(px, w) > refineSolidity {
+		if len(px) < 2*minPart || solidity(px, w) > refineSolidity || elongation(px, w) > refineElongation {
 			results[l] = result{regions: 1}
 			return
 		}
@@ -282,4 +287,34 @@ func forEach(n, workers int, fn func(k int)) {
 		}()
 	}
 	wg.Wait()
+}
+
+// elongation returns λ1/λ2, the ratio of the larger to the smaller
+// eigenvalue of the covariance of the pixel coordinates (second moments;
+// common practice in shape description): 1 for a disc, (L/W)² for a
+// long thin bar of length L and width W. A pixel line has λ2 = 0 and
+// returns +Inf.
+func elongation(px []int, w int) float64 {
+	n := float64(len(px))
+	var mx, my float64
+	for _, i := range px {
+		mx += float64(i % w)
+		my += float64(i / w)
+	}
+	mx /= n
+	my /= n
+	var sxx, syy, sxy float64
+	for _, i := range px {
+		dx, dy := float64(i%w)-mx, float64(i/w)-my
+		sxx += dx * dx
+		syy += dy * dy
+		sxy += dx * dy
+	}
+	sxx, syy, sxy = sxx/n, syy/n, sxy/n
+	// Eigenvalues of [[sxx sxy] [sxy syy]].
+	m, d := (sxx+syy)/2, math.Hypot((sxx-syy)/2, sxy)
+	if m-d <= 0 {
+		return math.Inf(1)
+	}
+	return (m + d) / (m - d)
 }

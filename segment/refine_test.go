@@ -78,3 +78,50 @@ func TestSolidity(t *testing.T) {
 		t.Errorf("L tromino: %v, want %v", s, 3/3.5)
 	}
 }
+
+// TestElongation checks the inertia ratio against closed forms: a bar of
+// L x W pixels has coordinate variances (L²-1)/12 and (W²-1)/12 (the
+// discrete uniform distribution), so the ratio is (L²-1)/(W²-1) exactly;
+// a digitized disc is close to 1 and two touching discs of radius r
+// close to 5 (variances 1.25 r² and r²/4, continuous).
+func TestElongation(t *testing.T) {
+	const w = 200
+	bar := func(x0, y0, l, wd int) []int {
+		var px []int
+		for y := y0; y < y0+wd; y++ {
+			for x := x0; x < x0+l; x++ {
+				px = append(px, y*w+x)
+			}
+		}
+		return px
+	}
+	disc := func(cx, cy, r float64) []int {
+		var px []int
+		for y := 0; y < 100; y++ {
+			for x := 0; x < w; x++ {
+				if math.Hypot(float64(x)-cx, float64(y)-cy) <= r {
+					px = append(px, y*w+x)
+				}
+			}
+		}
+		return px
+	}
+	cases := []struct {
+		name     string
+		px       []int
+		want, rt float64
+	}{
+		{"bar 60x3", bar(10, 10, 60, 3), (60*60 - 1) / (3*3 - 1.0), 1e-9},
+		{"bar 9x9", bar(10, 10, 9, 9), 1, 1e-9},
+		{"disc r=20", disc(50, 50, 20), 1, 0.02},
+		{"two discs r=20", append(disc(50, 50, 20), disc(90.5, 50, 20)...), 5, 0.05},
+	}
+	for _, c := range cases {
+		if got := elongation(c.px, w); math.Abs(got-c.want) > c.rt*c.want {
+			t.Errorf("%s: elongation %.6g, want %.6g", c.name, got, c.want)
+		}
+	}
+	if got := elongation(bar(0, 0, 10, 1), w); !math.IsInf(got, 1) {
+		t.Errorf("one-pixel line: %v, want +Inf", got)
+	}
+}
