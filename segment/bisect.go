@@ -18,12 +18,14 @@ type cutResult struct {
 	regions     int
 	eigenvalues []float64
 	splitNcuts  []float64
+	tree        *cutTree // with cutOptions.tree
 }
 
 // part is a set of graph nodes (ascending) awaiting a decision.
 type part struct {
 	nodes []int
 	area  int
+	id    int32 // node of the split tree (see cutTree)
 }
 
 type partHeap []part
@@ -109,6 +111,8 @@ type cutOptions struct {
 	// noSpectrum skips the top-level spectrum: every solve is a k = 2
 	// solve at SplitTol (for the small graphs of object refinement).
 	noSpectrum bool
+	// tree records the split tree in cutResult.tree (see cutTree).
+	tree bool
 }
 
 func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutOptions) (*cutResult, error) {
@@ -126,7 +130,22 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 	for i := range all {
 		all[i] = i
 	}
-	heap.Push(h, part{nodes: all, area: areaOf(all)})
+	var tr *cutTree
+	if o.tree {
+		tr = &cutTree{}
+	}
+	newPart := func(nodes []int, parent int32) part {
+		pt := part{nodes: nodes, area: areaOf(nodes)}
+		if tr != nil {
+			pt.id = int32(len(tr.parent))
+			tr.parent = append(tr.parent, parent)
+			tr.ncut = append(tr.ncut, math.Inf(1))
+			tr.zeros = append(tr.zeros, 0)
+			tr.low = append(tr.low, int32(nodes[0]))
+		}
+		return pt
+	}
+	heap.Push(h, newPart(all, -1))
 	regions := 1
 	first := !o.noSpectrum // the top-level solve records the low spectrum
 	for h.Len() > 0 {
@@ -156,10 +175,14 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 				pieces[c] = append(pieces[c], pt.nodes[k])
 			}
 			for c, pc := range pieces {
-				heap.Push(h, part{nodes: pc, area: areaOf(pc)})
+				heap.Push(h, newPart(pc, pt.id))
 				if c > 0 { // nc pieces take nc-1 free splits
 					res.splitNcuts = append(res.splitNcuts, 0)
 				}
+			}
+			if tr != nil {
+				tr.ncut[pt.id], tr.zeros[pt.id] = 0, nc-1
+				tr.order = append(tr.order, pt.id)
 			}
 			regions += nc - 1
 			continue
@@ -212,8 +235,12 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 				b = append(b, i)
 			}
 		}
-		heap.Push(h, part{nodes: a, area: areaOf(a)})
-		heap.Push(h, part{nodes: b, area: areaOf(b)})
+		heap.Push(h, newPart(a, pt.id))
+		heap.Push(h, newPart(b, pt.id))
+		if tr != nil {
+			tr.ncut[pt.id] = s.ncut
+			tr.order = append(tr.order, pt.id)
+		}
 		regions++
 	}
 	for h.Len() > 0 {
@@ -227,7 +254,93 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 		}
 	}
 	res.regions = len(final)
+	if tr != nil {
+		tr.leafOf = make([]int32, g.N)
+		for _, pt := range final {
+			for _, i := range pt.nodes {
+				tr.leafOf[i] = pt.id
+			}
+		}
+		tr.eigenvalues = res.eigenvalues
+		res.tree = tr
+	}
 	return res, nil
+}
+
+// cutTree is the split tree of one recursive bisection. Every part is a
+// node (the whole graph is node 0); a split part has the Ncut of its
+// split (0 for a split into connected components, which also records
+// zeros = pieces - 1 entries of the split list) and the parts it split
+// into as children; a part never split has Ncut +Inf. Since a part's
+// split depends on the part alone and never on max-ncut, the bisection
+// at any threshold t at most the one the tree was grown with is the tree
+// cut back to the splits of Ncut <= t: prune gives it without solving
+// again (with the segment limit off).
+type cutTree struct {
+	parent      []int32   // node -> parent node, -1 for the root
+	ncut        []float64 // node -> Ncut of its split, +Inf if not split
+	zeros       []int     // node -> split-list entries of a components split
+	low         []int32   // node -> its lowest graph node
+	order       []int32   // split nodes in the order the splits were made
+	leafOf      []int32   // graph node -> the unsplit part holding it
+	eigenvalues []float64
+}
+
+// prune returns the bisection at threshold t: graph nodes are in the
+// same region when the first split on their common path from the root
+// with Ncut above t, or the leaf, is the same; regions are numbered by
+// their lowest graph node and the accepted splits listed in the order
+// they were made, as bisect itself does.
+func (tr *cutTree) prune(t float64) *cutResult {
+	nn := len(tr.parent)
+	// top[v] is the region node of tree node v at threshold t.
+	top := make([]int32, nn)
+	applied := make([]bool, nn) // v's own split is made at t
+	for v := 0; v < nn; v++ {   // parents precede children
+		p := tr.parent[v]
+		switch {
+		case p < 0:
+			top[v] = int32(v)
+		case applied[p]:
+			top[v] = int32(v)
+		default:
+			top[v] = top[p]
+		}
+		applied[v] = top[v] == int32(v) && tr.ncut[v] <= t
+	}
+	reps := map[int32]int32{} // region node -> its lowest graph node
+	for _, leaf := range tr.leafOf {
+		r := top[leaf]
+		if lo, ok := reps[r]; !ok || tr.low[leaf] < lo {
+			reps[r] = tr.low[leaf]
+		}
+	}
+	ids := make([]int32, 0, len(reps))
+	for r := range reps {
+		ids = append(ids, r)
+	}
+	sort.Slice(ids, func(a, b int) bool { return reps[ids[a]] < reps[ids[b]] })
+	num := make(map[int32]int32, len(ids))
+	for k, r := range ids {
+		num[r] = int32(k)
+	}
+	res := &cutResult{region: make([]int32, len(tr.leafOf)), regions: len(ids), eigenvalues: tr.eigenvalues}
+	for i, leaf := range tr.leafOf {
+		res.region[i] = num[top[leaf]]
+	}
+	for _, v := range tr.order {
+		if !applied[v] {
+			continue
+		}
+		if tr.zeros[v] > 0 {
+			for range tr.zeros[v] {
+				res.splitNcuts = append(res.splitNcuts, 0)
+			}
+		} else {
+			res.splitNcuts = append(res.splitNcuts, tr.ncut[v])
+		}
+	}
+	return res
 }
 
 func sortParts(ps []part) {

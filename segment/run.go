@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync"
 	"time"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -151,6 +152,57 @@ type Input struct {
 	Width, Height int
 	Planes        [][]float32
 	Luminance     []float32
+	// Cuts, when set, shares recursive bisections between runs on this
+	// same input that differ only in MaxNcut (see CutCache).
+	Cuts *CutCache
+}
+
+// CutCache lets runs on one input that differ only in max-ncut share one
+// recursive bisection: the split tree grown at the largest threshold
+// serves every smaller one exactly (see cutTree), so a parameter search
+// over max-ncut solves each part's eigenproblem once. It applies to
+// --method bisect without a segment limit. Safe for concurrent use.
+type CutCache struct {
+	// Ceiling is the least threshold a tree is grown with: a search sets
+	// it to the largest max-ncut it will try, so that the first run
+	// serves the others. A run above a stored tree's threshold grows a
+	// new tree.
+	Ceiling float64
+
+	mu      sync.Mutex
+	entries map[string]*cutEntry
+}
+
+type cutEntry struct {
+	mu   sync.Mutex
+	tree *cutTree
+	at   float64
+}
+
+// cut returns the bisection at threshold t for the graph identified by
+// key, growing (grow(threshold)) or reusing a split tree.
+func (c *CutCache) cut(key string, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
+	c.mu.Lock()
+	if c.entries == nil {
+		c.entries = map[string]*cutEntry{}
+	}
+	e := c.entries[key]
+	if e == nil {
+		e = &cutEntry{}
+		c.entries[key] = e
+	}
+	c.mu.Unlock()
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	if e.tree == nil || t > e.at {
+		at := max(t, c.Ceiling)
+		r, err := grow(at)
+		if err != nil {
+			return nil, err
+		}
+		e.tree, e.at = r.tree, at
+	}
+	return e.tree.prune(t), nil
 }
 
 // Run segments one image: graph (pixels or SLIC superpixels), normalized
@@ -244,6 +296,17 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if constant(in.Planes) {
 		// No feature varies: any cut would be purely spatial. One region.
 		cut = &cutResult{region: make([]int32, g.N), regions: 1}
+	} else if p.Method == MethodBisect && in.Cuts != nil && p.Segments == 0 {
+		// Everything the graph and the cut depend on except MaxNcut (the
+		// automatic values are resolved by now); Workers never changes
+		// results.
+		q := p
+		q.MaxNcut, q.Workers = 0, 0
+		cut, err = in.Cuts.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
+			q := p
+			q.MaxNcut = at
+			return bisect(ctx, g, area, q, cutOptions{stability: true, tree: true})
+		})
 	} else if p.Method == MethodBisect {
 		cut, err = bisect(ctx, g, area, p, cutOptions{stability: true})
 	} else {

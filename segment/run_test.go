@@ -156,3 +156,76 @@ func TestKwayMoreSegmentsThanNodes(t *testing.T) {
 		t.Errorf("%d regions for 12 pixels", res.NumRegions)
 	}
 }
+
+// A CutCache must not change any result: for every max-ncut at or below
+// the tree's threshold, the pruned bisection equals a direct run (labels,
+// regions, objects, split list, eigenvalues), on the pixel graph and on
+// superpixels, whatever order the thresholds come in.
+func TestCutCacheSameAsDirect(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		in   Input
+		sp   int
+		si   float64 // 0: automatic
+	}{{"pixels 64x48", faintDiscs(64, 48, 3), 0, 0.03}, {"superpixels 200x160", faintDiscs(200, 160, 3), 400, 0}} {
+		t.Run(c.name, func(t *testing.T) {
+			cache := &CutCache{Ceiling: 0.2}
+			in := c.in
+			in.Cuts = cache
+			counts := map[int]bool{}
+			for _, mx := range []float64{0.05, 0.2, 0.001, 0.1, 0.00001, 0.3} {
+				p := defaultParams()
+				p.Superpixels, p.MaxNcut, p.MinArea = c.sp, mx, 5
+				if c.si > 0 {
+					p.SigmaI, p.AutoSigmaI = c.si, false
+				}
+				p.Classes, p.Background = 2, "dark"
+				want, err := Run(context.Background(), c.in, p)
+				if err != nil {
+					t.Fatal(err)
+				}
+				got, err := Run(context.Background(), in, p)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !slices.Equal(got.Regions, want.Regions) || !slices.Equal(got.Labels, want.Labels) ||
+					got.NumRegions != want.NumRegions || got.NumObjects != want.NumObjects {
+					t.Errorf("max-ncut %g: %d regions / %d objects with the cache, %d / %d without",
+						mx, got.NumRegions, got.NumObjects, want.NumRegions, want.NumObjects)
+				}
+				if !slices.Equal(got.SplitNcuts, want.SplitNcuts) || !slices.Equal(got.Eigenvalues, want.Eigenvalues) {
+					t.Errorf("max-ncut %g: split list or eigenvalues differ:\n got %v\nwant %v", mx, got.SplitNcuts, want.SplitNcuts)
+				}
+				counts[want.NumRegions] = true
+			}
+			// The thresholds must give different bisections, or pruning
+			// was not exercised.
+			if len(counts) < 3 {
+				t.Errorf("only %d distinct region counts over the thresholds", len(counts))
+			}
+			if len(cache.entries) != 1 {
+				t.Errorf("%d cache entries, want 1 (one graph)", len(cache.entries))
+			}
+		})
+	}
+}
+
+// faintDiscs renders four discs of decreasing contrast (0.2 to 0.05) on a
+// ramp with Gaussian noise of 0.03: splits at a spread of Ncut values.
+func faintDiscs(w, h int, seed uint64) Input {
+	rng := rand.New(rand.NewPCG(seed, 2))
+	f := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := 0.3 + 0.1*float64(x)/float64(w)
+			for _, c := range [][4]float64{{0.25, 0.3, 0.15, 0.2}, {0.7, 0.35, 0.12, 0.12}, {0.4, 0.75, 0.12, 0.08}, {0.8, 0.8, 0.1, 0.05}} {
+				dx, dy := float64(x)-c[0]*float64(w), float64(y)-c[1]*float64(h)
+				if dx*dx+dy*dy < c[2]*c[2]*float64(w*w) {
+					v += c[3]
+				}
+			}
+			f[y*w+x] = float32(v + 0.03*rng.NormFloat64())
+		}
+	}
+	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
+}

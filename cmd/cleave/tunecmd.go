@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -300,6 +301,12 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		t.dims[dimCompactness] = defaultDim("compactness", []float64{s.Compactness}, false)
 	}
 
+	// Settings that differ only in max-ncut share one recursive
+	// bisection per image: the split tree grown at the largest max-ncut
+	// of the grid serves the smaller ones exactly.
+	for _, in := range t.images {
+		in.cuts = &segment.CutCache{Ceiling: slices.Max(t.dims[dimMaxNcut].values)}
+	}
 	gridPts := t.gridPoints()
 	grid, err := t.evaluate(gridPts, "grid")
 	if err != nil {
