@@ -152,25 +152,31 @@ type Input struct {
 	Width, Height int
 	Planes        [][]float32
 	Luminance     []float32
-	// Cuts, when set, shares recursive bisections between runs on this
-	// same input that differ only in MaxNcut (see CutCache).
-	Cuts *CutCache
+	// Cache, when set, shares work between runs on this same input
+	// (see Cache).
+	Cache *Cache
 }
 
-// CutCache lets runs on one input that differ only in max-ncut share one
-// recursive bisection: the split tree grown at the largest threshold
-// serves every smaller one exactly (see cutTree), so a parameter search
-// over max-ncut solves each part's eigenproblem once. It applies to
-// --method bisect without a segment limit. Safe for concurrent use.
-type CutCache struct {
-	// Ceiling is the least threshold a tree is grown with: a search sets
-	// it to the largest max-ncut it will try, so that the first run
-	// serves the others. A run above a stored tree's threshold grows a
-	// new tree.
+// Cache shares work between runs on one input whose parameters differ
+// (a parameter search): the superpixels, their feature summaries and
+// adjacency between runs with the same superpixel count and
+// compactness, since SLIC does not depend on sigma-i, sigma-x or
+// max-ncut; and one recursive bisection between runs that differ only
+// in max-ncut, since the split tree grown at the largest threshold serves
+// every smaller one exactly (see cutTree), so each part's eigenproblem is
+// solved once. Bisections are shared for --method bisect without a
+// segment limit. Results are those of runs without a cache. Safe for
+// concurrent use.
+type Cache struct {
+	// Ceiling is the least threshold a bisection tree is grown with: a
+	// search sets it to the largest max-ncut it will try, so that the
+	// first run serves the others. A run above a stored tree's threshold
+	// grows a new tree.
 	Ceiling float64
 
-	mu      sync.Mutex
-	entries map[string]*cutEntry
+	mu    sync.Mutex
+	cuts  map[string]*cutEntry
+	slics map[[2]float64]*slicEntry
 }
 
 type cutEntry struct {
@@ -179,17 +185,27 @@ type cutEntry struct {
 	at   float64
 }
 
+type slicEntry struct {
+	mu     sync.Mutex
+	done   bool
+	nodeOf []int32
+	n      int
+	sum    *affinity.Regions
+	adj    *affinity.Graph
+	err    error
+}
+
 // cut returns the bisection at threshold t for the graph identified by
 // key, growing (grow(threshold)) or reusing a split tree.
-func (c *CutCache) cut(key string, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
+func (c *Cache) cut(key string, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
 	c.mu.Lock()
-	if c.entries == nil {
-		c.entries = map[string]*cutEntry{}
+	if c.cuts == nil {
+		c.cuts = map[string]*cutEntry{}
 	}
-	e := c.entries[key]
+	e := c.cuts[key]
 	if e == nil {
 		e = &cutEntry{}
-		c.entries[key] = e
+		c.cuts[key] = e
 	}
 	c.mu.Unlock()
 	e.mu.Lock()
@@ -203,6 +219,32 @@ func (c *CutCache) cut(key string, t float64, grow func(at float64) (*cutResult,
 		e.tree, e.at = r.tree, at
 	}
 	return e.tree.prune(t), nil
+}
+
+// superpixels returns the superpixels of the input for (count,
+// compactness), computing them with compute once.
+func (c *Cache) superpixels(count int, compactness float64, compute func() (*slicEntry, error)) (*slicEntry, error) {
+	c.mu.Lock()
+	if c.slics == nil {
+		c.slics = map[[2]float64]*slicEntry{}
+	}
+	key := [2]float64{float64(count), compactness}
+	e := c.slics[key]
+	if e == nil {
+		e = &slicEntry{}
+		c.slics[key] = e
+	}
+	c.mu.Unlock()
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	if !e.done {
+		r, err := compute()
+		if err == nil {
+			e.nodeOf, e.n, e.sum, e.adj = r.nodeOf, r.n, r.sum, r.adj
+		}
+		e.err, e.done = err, true
+	}
+	return e, e.err
 }
 
 // Run segments one image: graph (pixels or SLIC superpixels), normalized
@@ -268,17 +310,28 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		stage("graph")
 	} else {
-		var n int
-		nodeOf, n, err = affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
+		compute := func() (*slicEntry, error) {
+			nodeOf, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
+			if err != nil {
+				return nil, err
+			}
+			return &slicEntry{nodeOf: nodeOf, n: n, sum: affinity.Summarize(in.Planes, w, h, nodeOf, n), adj: affinity.Adjacency(w, h, nodeOf, n)}, nil
+		}
+		var sp *slicEntry
+		if in.Cache != nil {
+			sp, err = in.Cache.superpixels(p.Superpixels, p.Compactness, compute)
+		} else {
+			sp, err = compute()
+		}
 		if err != nil {
 			return nil, err
 		}
 		stage("superpixels")
+		nodeOf = sp.nodeOf
 		if p.AutoSigmaX {
-			p.SigmaX = 2 * math.Sqrt(float64(npix)/float64(n))
+			p.SigmaX = 2 * math.Sqrt(float64(npix)/float64(sp.n))
 		}
-		sum := affinity.Summarize(in.Planes, w, h, nodeOf, n)
-		adj := affinity.Adjacency(w, h, nodeOf, n)
+		sum, adj := sp.sum, sp.adj
 		if p.AutoSigmaI {
 			p.SigmaI = affinity.AutoRegionSigmaI(sum, adj)
 		}
@@ -296,13 +349,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if constant(in.Planes) {
 		// No feature varies: any cut would be purely spatial. One region.
 		cut = &cutResult{region: make([]int32, g.N), regions: 1}
-	} else if p.Method == MethodBisect && in.Cuts != nil && p.Segments == 0 {
+	} else if p.Method == MethodBisect && in.Cache != nil && p.Segments == 0 {
 		// Everything the graph and the cut depend on except MaxNcut (the
 		// automatic values are resolved by now); Workers never changes
 		// results.
 		q := p
 		q.MaxNcut, q.Workers = 0, 0
-		cut, err = in.Cuts.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
+		cut, err = in.Cache.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
 			return bisect(ctx, g, area, q, cutOptions{stability: true, tree: true})

@@ -157,54 +157,60 @@ func TestKwayMoreSegmentsThanNodes(t *testing.T) {
 	}
 }
 
-// A CutCache must not change any result: for every max-ncut at or below
-// the tree's threshold, the pruned bisection equals a direct run (labels,
-// regions, objects, split list, eigenvalues), on the pixel graph and on
-// superpixels, whatever order the thresholds come in.
-func TestCutCacheSameAsDirect(t *testing.T) {
+// A Cache must not change any result: for every max-ncut at or below
+// the tree's threshold the pruned bisection, and for every sigma-i the
+// shared superpixels, give what a direct run gives (labels, regions,
+// objects, split list, eigenvalues), on the pixel graph and on
+// superpixels, whatever order the settings come in.
+func TestCacheSameAsDirect(t *testing.T) {
 	for _, c := range []struct {
 		name string
 		in   Input
 		sp   int
-		si   float64 // 0: automatic
-	}{{"pixels 64x48", faintDiscs(64, 48, 3), 0, 0.03}, {"superpixels 200x160", faintDiscs(200, 160, 3), 400, 0}} {
+		si   []float64 // 0: automatic
+	}{{"pixels 64x48", faintDiscs(64, 48, 3), 0, []float64{0.03}}, {"superpixels 200x160", faintDiscs(200, 160, 3), 400, []float64{0, 0.05}}} {
 		t.Run(c.name, func(t *testing.T) {
-			cache := &CutCache{Ceiling: 0.2}
+			cache := &Cache{Ceiling: 0.2}
 			in := c.in
-			in.Cuts = cache
+			in.Cache = cache
 			counts := map[int]bool{}
-			for _, mx := range []float64{0.05, 0.2, 0.001, 0.1, 0.00001, 0.3} {
-				p := defaultParams()
-				p.Superpixels, p.MaxNcut, p.MinArea = c.sp, mx, 5
-				if c.si > 0 {
-					p.SigmaI, p.AutoSigmaI = c.si, false
+			for _, si := range c.si {
+				for _, mx := range []float64{0.05, 0.2, 0.001, 0.1, 0.00001, 0.3} {
+					p := defaultParams()
+					p.Superpixels, p.MaxNcut, p.MinArea = c.sp, mx, 5
+					if si > 0 {
+						p.SigmaI, p.AutoSigmaI = si, false
+					}
+					p.Classes, p.Background = 2, "dark"
+					want, err := Run(context.Background(), c.in, p)
+					if err != nil {
+						t.Fatal(err)
+					}
+					got, err := Run(context.Background(), in, p)
+					if err != nil {
+						t.Fatal(err)
+					}
+					if !slices.Equal(got.Regions, want.Regions) || !slices.Equal(got.Labels, want.Labels) ||
+						got.NumRegions != want.NumRegions || got.NumObjects != want.NumObjects {
+						t.Errorf("sigma-i %g, max-ncut %g: %d regions / %d objects with the cache, %d / %d without",
+							si, mx, got.NumRegions, got.NumObjects, want.NumRegions, want.NumObjects)
+					}
+					if !slices.Equal(got.SplitNcuts, want.SplitNcuts) || !slices.Equal(got.Eigenvalues, want.Eigenvalues) {
+						t.Errorf("sigma-i %g, max-ncut %g: split list or eigenvalues differ:\n got %v\nwant %v", si, mx, got.SplitNcuts, want.SplitNcuts)
+					}
+					counts[want.NumRegions] = true
 				}
-				p.Classes, p.Background = 2, "dark"
-				want, err := Run(context.Background(), c.in, p)
-				if err != nil {
-					t.Fatal(err)
-				}
-				got, err := Run(context.Background(), in, p)
-				if err != nil {
-					t.Fatal(err)
-				}
-				if !slices.Equal(got.Regions, want.Regions) || !slices.Equal(got.Labels, want.Labels) ||
-					got.NumRegions != want.NumRegions || got.NumObjects != want.NumObjects {
-					t.Errorf("max-ncut %g: %d regions / %d objects with the cache, %d / %d without",
-						mx, got.NumRegions, got.NumObjects, want.NumRegions, want.NumObjects)
-				}
-				if !slices.Equal(got.SplitNcuts, want.SplitNcuts) || !slices.Equal(got.Eigenvalues, want.Eigenvalues) {
-					t.Errorf("max-ncut %g: split list or eigenvalues differ:\n got %v\nwant %v", mx, got.SplitNcuts, want.SplitNcuts)
-				}
-				counts[want.NumRegions] = true
 			}
 			// The thresholds must give different bisections, or pruning
 			// was not exercised.
 			if len(counts) < 3 {
 				t.Errorf("only %d distinct region counts over the thresholds", len(counts))
 			}
-			if len(cache.entries) != 1 {
-				t.Errorf("%d cache entries, want 1 (one graph)", len(cache.entries))
+			if len(cache.cuts) != len(c.si) {
+				t.Errorf("%d bisection trees, want %d (one per sigma-i)", len(cache.cuts), len(c.si))
+			}
+			if wantS := min(c.sp, 1); len(cache.slics) != wantS {
+				t.Errorf("%d superpixel sets, want %d", len(cache.slics), wantS)
 			}
 		})
 	}

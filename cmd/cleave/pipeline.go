@@ -220,7 +220,7 @@ type loaded struct {
 	features       *imageio.Features
 	decodeSeconds  float64
 	featureSeconds float64
-	cuts           *segment.CutCache // shared bisections (tune), or nil
+	cache          *segment.Cache // work shared between runs (tune), or nil
 }
 
 // loadInput reads, checksums and decodes one image file and computes its
@@ -252,5 +252,5 @@ func loadInput(path string, r *resolved) (*loaded, error) {
 // segmentInput runs the segmentation of a loaded image with parameters p.
 func segmentInput(ctx context.Context, in *loaded, p segment.Params) (*segment.Result, error) {
 	f := in.features
-	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cuts: in.cuts}, p)
+	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cache: in.cache}, p)
 }

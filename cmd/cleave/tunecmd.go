@@ -301,11 +301,13 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		t.dims[dimCompactness] = defaultDim("compactness", []float64{s.Compactness}, false)
 	}
 
-	// Settings that differ only in max-ncut share one recursive
-	// bisection per image: the split tree grown at the largest max-ncut
-	// of the grid serves the smaller ones exactly.
+	// Settings share work per image (segment.Cache): the superpixels
+	// between settings of one superpixel count and compactness, and one
+	// recursive bisection between settings that differ only in max-ncut
+	// (the split tree grown at the grid's largest max-ncut serves the
+	// smaller ones exactly).
 	for _, in := range t.images {
-		in.cuts = &segment.CutCache{Ceiling: slices.Max(t.dims[dimMaxNcut].values)}
+		in.cache = &segment.Cache{Ceiling: slices.Max(t.dims[dimMaxNcut].values)}
 	}
 	gridPts := t.gridPoints()
 	grid, err := t.evaluate(gridPts, "grid")
