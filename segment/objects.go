@@ -116,25 +116,12 @@ func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 			i := stack[len(stack)-1]
 			stack = stack[:len(stack)-1]
 			members = append(members, i)
-			x, y := i%w, i/w
-			try := func(j int) {
+			neighbours4(i, w, h, func(j int) {
 				if group[j] == g && lab[j] < 0 {
 					lab[j] = id
 					stack = append(stack, j)
 				}
-			}
-			if x > 0 {
-				try(i - 1)
-			}
-			if x+1 < w {
-				try(i + 1)
-			}
-			if y > 0 {
-				try(i - w)
-			}
-			if y+1 < h {
-				try(i + w)
-			}
+			})
 		}
 		pieces = append(pieces, members)
 	}
@@ -183,20 +170,12 @@ func tightenObjects(inten, field []float32, w, h int, labels []int32, n, minArea
 		con[i] = float32(math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1))
 	}
 	sm := boxMean3(con, w, h)
-	type box struct{ x0, y0, x1, y1 int }
-	boxes := make([]box, n+1)
-	for i := range boxes {
-		boxes[i] = box{w, h, -1, -1}
-	}
+	boxes, pixels := objectPixels(labels, w, h, n)
 	vals := make([][]float32, n+1)
-	for i, l := range labels {
-		if l <= 0 {
-			continue
+	for l, px := range pixels {
+		for _, i := range px {
+			vals[l] = append(vals[l], sm[i])
 		}
-		x, y := i%w, i/w
-		b := &boxes[l]
-		b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
-		vals[l] = append(vals[l], sm[i])
 	}
 	group := make([]int32, len(labels))
 	for i, l := range labels {
@@ -255,11 +234,10 @@ func fillHoles(group []int32, w, h int) {
 			i := stack[len(stack)-1]
 			stack = stack[:len(stack)-1]
 			piece = append(piece, i)
-			x, y := i%w, i/w
-			if x == 0 || y == 0 || x == w-1 || y == h-1 {
+			if x, y := i%w, i/w; x == 0 || y == 0 || x == w-1 || y == h-1 {
 				border = true
 			}
-			visit := func(j int) {
+			neighbours4(i, w, h, func(j int) {
 				if g := group[j]; g >= 0 {
 					if owner == -1 {
 						owner = g
@@ -270,19 +248,7 @@ func fillHoles(group []int32, w, h int) {
 					seen[j] = true
 					stack = append(stack, j)
 				}
-			}
-			if x > 0 {
-				visit(i - 1)
-			}
-			if x+1 < w {
-				visit(i + 1)
-			}
-			if y > 0 {
-				visit(i - w)
-			}
-			if y+1 < h {
-				visit(i + w)
-			}
+			})
 		}
 		if !border && owner >= 0 {
 			for _, i := range piece {
@@ -338,4 +304,44 @@ func dilateSquare(m []bool, w, h, r int) []bool {
 		}
 	}
 	return out
+}
+
+// neighbours4 calls f with each 4-neighbour of pixel i inside the image.
+func neighbours4(i, w, h int, f func(j int)) {
+	x, y := i%w, i/w
+	if x > 0 {
+		f(i - 1)
+	}
+	if x+1 < w {
+		f(i + 1)
+	}
+	if y > 0 {
+		f(i - w)
+	}
+	if y+1 < h {
+		f(i + w)
+	}
+}
+
+// box is an inclusive pixel bounding box.
+type box struct{ x0, y0, x1, y1 int }
+
+// objectPixels returns, for labels 1..n (0 background), each object's
+// bounding box and its pixels in raster order (index 0 unused).
+func objectPixels(labels []int32, w, h, n int) ([]box, [][]int) {
+	boxes := make([]box, n+1)
+	pixels := make([][]int, n+1)
+	for i := range boxes {
+		boxes[i] = box{w, h, -1, -1}
+	}
+	for i, l := range labels {
+		if l <= 0 {
+			continue
+		}
+		x, y := i%w, i/w
+		b := &boxes[l]
+		b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
+		pixels[l] = append(pixels[l], i)
+	}
+	return boxes, pixels
 }

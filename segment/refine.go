@@ -47,21 +47,7 @@ const (
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
 func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) ([]int32, int, []float64, error) {
-	type box struct{ x0, y0, x1, y1 int }
-	boxes := make([]box, n+1)
-	pixels := make([][]int, n+1)
-	for i := range boxes {
-		boxes[i] = box{w, h, -1, -1}
-	}
-	for i, l := range labels {
-		if l <= 0 {
-			continue
-		}
-		x, y := i%w, i/w
-		b := &boxes[l]
-		b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
-		pixels[l] = append(pixels[l], i)
-	}
+	boxes, pixels := objectPixels(labels, w, h, n)
 	type result struct {
 		region  []int32
 		regions int
