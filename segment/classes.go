@@ -172,8 +172,51 @@ func noiseCV(lum, field []float32, ref []bool) (c float64, ok bool) {
 	if len(dev) == 0 {
 		return 0, false
 	}
-	slices.Sort(dev)
-	return madScale * dev[len(dev)/2], true
+	return madScale * kthSmallest(dev, len(dev)/2), true
+}
+
+// kthSmallest returns the k-th smallest value of v (0-based), reordering
+// v: Hoare's selection (quickselect) with the median of three as pivot,
+// linear time on average, the same value a full sort would give.
+func kthSmallest(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		// Median of three to v[mid].
+		if v[mid] < v[lo] {
+			v[mid], v[lo] = v[lo], v[mid]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[mid] {
+			v[hi], v[mid] = v[mid], v[hi]
+		}
+		pivot := v[mid]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k]
+		}
+	}
+	return v[k]
 }
 
 // split1D groups scalar scores into C classes numbered by increasing score.

@@ -3,6 +3,7 @@ package segment
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -79,6 +80,26 @@ func TestNoiseBound(t *testing.T) {
 		for r := range got {
 			if got[r] != c.want[r] {
 				t.Errorf("%s %v: region %d (I/B %.2f) class %d, want %d", c.background, c.ratio, r, c.ratio[r], got[r], c.want[r])
+			}
+		}
+	}
+}
+
+// TestKthSmallest compares the selection with a full sort (the definition
+// of the k-th order statistic) on random data with ties.
+func TestKthSmallest(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	for _, n := range []int{1, 2, 3, 10, 101, 1000} {
+		for trial := 0; trial < 20; trial++ {
+			v := make([]float64, n)
+			for i := range v {
+				v[i] = float64(rng.IntN(n/2 + 1))
+			}
+			sorted := slices.Clone(v)
+			slices.Sort(sorted)
+			k := rng.IntN(n)
+			if got := kthSmallest(slices.Clone(v), k); got != sorted[k] {
+				t.Fatalf("n %d k %d: %v, want %v", n, k, got, sorted[k])
 			}
 		}
 	}
