@@ -31,15 +31,24 @@ const (
 	// touching discs have 5, a row of three 11.7; a scratch 3 px wide and
 	// 60 px long has 400.
 	refineElongation = 25
-	// RefineMaxNcut is the largest Ncut at which an object is split into
-	// touching objects.
+	// refineArea: objects smaller than this many pixels may be split at
+	// an Ncut up to sqrt(refineArea/area) times the limit. The Ncut of a
+	// cut across a waist scales as 1/size (the cut grows with the radius,
+	// each side's association with the area), so one fixed limit would
+	// keep small touching pairs together. On generated scenes of small
+	// nuclei (radius 6-12 px, seeds 800-805) object F1 rose from 0.875 to
+	// 0.911, with the default nuclei and the plates unchanged.
+	refineArea = 800
+	// RefineMaxNcut is the largest Ncut at which an object (of at least
+	// refineArea pixels) is split into touching objects.
 	RefineMaxNcut = 0.03
 )
 
 // refineObjects splits touching objects: each object's pixels form a pixel
 // graph (Shi and Malik 2000) over the contrast |I/B - 1| (B the background
 // field), scaled by the object's own refinePercent quantile, and that graph
-// is cut recursively in two while the best cut has Ncut <= maxNcut, both
+// is cut recursively in two while the best cut has Ncut <= maxNcut (raised
+// for small objects, see refineArea), both
 // sides hold at least minPart pixels. A dim seam between two objects pressed together gives
 // weak affinities across it and so a cheap cut; a single object has none.
 // A split must also pass seamSplit: the cut must run along a dip in
@@ -100,7 +109,7 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 			}
 			return solidity(part, w) > refineSolidity
 		}
-		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: maxNcut, MinArea: minPart, Workers: 1, Seed: seed}, cutOptions{accept: seam, final: convex, noSpectrum: true})
+		cut, err := bisect(ctx, sub, nil, Params{MaxNcut: refineLimit(maxNcut, len(px)), MinArea: minPart, Workers: 1, Seed: seed}, cutOptions{accept: seam, final: convex, noSpectrum: true})
 		if err != nil {
 			results[l].err = err
 			return
@@ -303,4 +312,10 @@ func elongation(px []int, w int) float64 {
 		return math.Inf(1)
 	}
 	return (m + d) / (m - d)
+}
+
+// refineLimit is the Ncut limit for re-cutting an object of area pixels:
+// maxNcut, raised by sqrt(refineArea/area) below refineArea.
+func refineLimit(maxNcut float64, area int) float64 {
+	return maxNcut * math.Max(1, math.Sqrt(refineArea/float64(area)))
 }

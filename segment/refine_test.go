@@ -125,3 +125,17 @@ func TestElongation(t *testing.T) {
 		t.Errorf("one-pixel line: %v, want +Inf", got)
 	}
 }
+
+// TestRefineLimit: the waist Ncut of similar shapes scales as 1/size
+// (cut length ∝ r, association ∝ r²), i.e. as 1/sqrt(area), so the limit
+// does too below refineArea: a quarter of the area doubles it.
+func TestRefineLimit(t *testing.T) {
+	for _, c := range []struct {
+		area int
+		want float64
+	}{{refineArea * 4, 0.03}, {refineArea, 0.03}, {refineArea / 4, 0.06}, {refineArea / 16, 0.12}} {
+		if got := refineLimit(0.03, c.area); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("area %d: limit %v, want %v", c.area, got, c.want)
+		}
+	}
+}
