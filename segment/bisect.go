@@ -26,7 +26,6 @@ type part struct {
 	nodes []int
 	area  int
 	id    int32 // node of the split tree (see cutTree)
-	tried int   // higher-eigenvector attempts by the part and its ancestors
 }
 
 type partHeap []part
@@ -114,34 +113,7 @@ type cutOptions struct {
 	noSpectrum bool
 	// tree records the split tree in cutResult.tree (see cutTree).
 	tree bool
-	// higher lets a part whose Fiedler vector gives no usable split try
-	// the next eigenvectors (see moreVectors).
-	higher bool
 }
-
-// moreVectors is the number of eigenvectors after the Fiedler vector that
-// a part may try when the Fiedler vector gives no usable split (none that
-// leaves min-area on both sides, or the vector fails the stability test),
-// and
-// moreMinNodes the smallest part (in graph nodes) that tries them. Each
-// eigenvector z_j of a part's L is itself a relaxed normalized cut (Shi
-// and Malik 2000 suggest the eigenvectors beyond the second for further
-// subdivision); when a large part holds a weakly attached piece, such as
-// a dark pit inside a band of grainy surface, the Fiedler vector may
-// follow the grain or the shading, fail the stability test, and leave
-// the pit inside, while z_2 or z_3 isolates it at a small Ncut. A split
-// found this way passes the same tests (Ncut at most max-ncut, both sides
-// at least min-area, the stability test). A part and its descendants try
-// this at most moreTries times, which bounds the extra work: on generated
-// plates with twice the default grain (seeds 800-805) ARI rose from 0.681
-// to 0.842 with two tries (0.850 with three or more, at twice the extra
-// time), on noisier plates from 0.880 to 0.909; default nuclei and plates
-// were unchanged, and a 512 x 512 image took about 15% longer.
-const (
-	moreVectors  = 3
-	moreMinNodes = 4 * stabilityBins
-	moreTries    = 2
-)
 
 func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutOptions) (*cutResult, error) {
 	res := &cutResult{region: make([]int32, g.N)}
@@ -242,23 +214,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			y[i] = z[i] / math.Sqrt(deg[i])
 		}
 		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
-		// Whether a split exists and passes the stability test does not
-		// depend on max-ncut, and neither does the choice of the higher
-		// eigenvectors' split, so that a split tree grown at one threshold
-		// serves every smaller one (cutTree).
-		usable := func(s split, ok bool, y []float64) bool {
-			return ok && (!o.stability || stable(y))
-		}
-		ok = usable(s, ok, y)
-		tried := pt.tried
-		if !ok && o.higher && pt.tried < moreTries && sub.N >= moreMinNodes {
-			s, ok, err = higherSplit(sub, deg, subArea, p, usable)
-			if err != nil {
-				return nil, err
-			}
-			tried++
-		}
-		if !ok || s.ncut > p.MaxNcut {
+		if !ok || s.ncut > p.MaxNcut || (o.stability && !stable(y)) {
 			final = append(final, pt)
 			continue
 		}
@@ -279,10 +235,8 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 				b = append(b, i)
 			}
 		}
-		pa, pb := newPart(a, pt.id), newPart(b, pt.id)
-		pa.tried, pb.tried = tried, tried
-		heap.Push(h, pa)
-		heap.Push(h, pb)
+		heap.Push(h, newPart(a, pt.id))
+		heap.Push(h, newPart(b, pt.id))
 		if tr != nil {
 			tr.ncut[pt.id] = s.ncut
 			tr.order = append(tr.order, pt.id)
@@ -391,31 +345,4 @@ func (tr *cutTree) prune(t float64) *cutResult {
 
 func sortParts(ps []part) {
 	sort.Slice(ps, func(a, b int) bool { return ps[a].nodes[0] < ps[b].nodes[0] })
-}
-
-// higherSplit solves for the eigenvectors z_2 .. z_{1+moreVectors} of the
-// part's L and returns the split of least Ncut among those that usable
-// accepts; ok is false when none does.
-func higherSplit(sub *affinity.Graph, deg []float64, area []int, p Params, usable func(split, bool, []float64) bool) (split, bool, error) {
-	k := 2 + moreVectors
-	if k > sub.N {
-		return split{}, false, nil
-	}
-	ep, err := eigen.Smallest(sub, k, eigen.Options{Workers: p.Workers, Seed: p.Seed, Tol: SplitTol})
-	if err != nil {
-		return split{}, false, err
-	}
-	var best split
-	found := false
-	y := make([]float64, sub.N)
-	for j := 2; j < k; j++ {
-		for i := range y {
-			y[i] = ep.Vectors[j][i] / math.Sqrt(deg[i])
-		}
-		s, ok := sweepSplit(sub, deg, y, area, p.MinArea)
-		if usable(s, ok, y) && (!found || s.ncut < best.ncut) {
-			best, found = s, true
-		}
-	}
-	return best, found, nil
 }

@@ -358,10 +358,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		cut, err = in.Cache.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
-			return bisect(ctx, g, area, q, cutOptions{stability: true, tree: true, higher: true})
+			return bisect(ctx, g, area, q, cutOptions{stability: true, tree: true})
 		})
 	} else if p.Method == MethodBisect {
-		cut, err = bisect(ctx, g, area, p, cutOptions{stability: true, higher: true})
+		cut, err = bisect(ctx, g, area, p, cutOptions{stability: true})
 	} else {
 		cut, err = kwayComponents(ctx, g, area, p)
 	}
