@@ -7,6 +7,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"github.com/cleave-seg/cleave/examples/scenes"
 )
 
 func defaultParams() Params {
@@ -168,7 +170,13 @@ func TestCacheSameAsDirect(t *testing.T) {
 		in   Input
 		sp   int
 		si   []float64 // 0: automatic
-	}{{"pixels 64x48", faintDiscs(64, 48, 3), 0, []float64{0.03}}, {"superpixels 200x160", faintDiscs(200, 160, 3), 400, []float64{0, 0.05}}} {
+	}{
+		{"pixels 64x48", faintDiscs(64, 48, 3), 0, []float64{0.03}},
+		{"superpixels 200x160", faintDiscs(200, 160, 3), 400, []float64{0, 0.05}},
+		// A generated scene: faint and touching nuclei in a shaded
+		// background, the classes and objects stages after the cut.
+		{"nuclei scene 256x256", sceneInput(scenes.Nuclei(scenes.NucleiOptions{Width: 256, Height: 256, Seed: 77, DimFraction: 0.4})), -1, []float64{0, 0.03}},
+	} {
 		t.Run(c.name, func(t *testing.T) {
 			cache := &Cache{Ceiling: 0.2}
 			in := c.in
@@ -178,6 +186,9 @@ func TestCacheSameAsDirect(t *testing.T) {
 				for _, mx := range []float64{0.05, 0.2, 0.001, 0.1, 0.00001, 0.3} {
 					p := defaultParams()
 					p.Superpixels, p.MaxNcut, p.MinArea = c.sp, mx, 5
+					if c.sp < 0 {
+						p.MinArea = 20
+					}
 					if si > 0 {
 						p.SigmaI, p.AutoSigmaI = si, false
 					}
@@ -209,7 +220,11 @@ func TestCacheSameAsDirect(t *testing.T) {
 			if len(cache.cuts) != len(c.si) {
 				t.Errorf("%d bisection trees, want %d (one per sigma-i)", len(cache.cuts), len(c.si))
 			}
-			if wantS := min(c.sp, 1); len(cache.slics) != wantS {
+			wantS := 1 // one superpixel count and compactness
+			if c.sp == 0 {
+				wantS = 0 // the pixel graph
+			}
+			if len(cache.slics) != wantS {
 				t.Errorf("%d superpixel sets, want %d", len(cache.slics), wantS)
 			}
 		})
@@ -234,4 +249,14 @@ func faintDiscs(w, h int, seed uint64) Input {
 		}
 	}
 	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
+}
+
+// sceneInput normalizes a generated scene to 0..1 by its bit depth.
+func sceneInput(sc *scenes.Scene) Input {
+	f := make([]float32, len(sc.Pixels))
+	scale := float32(int(1)<<sc.BitDepth - 1)
+	for i, v := range sc.Pixels {
+		f[i] = float32(v) / scale
+	}
+	return Input{Width: sc.Width, Height: sc.Height, Planes: [][]float32{f}, Luminance: f}
 }
