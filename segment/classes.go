@@ -72,10 +72,10 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 			}
 		}
 		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed, 1)
-		return orderClasses(cls, st.mean[0], st.area, C), nil
+		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
-	cls = split1D(score, st.area, C, seed)
+	cls = asBackground(split1D(score, st.area, C, seed), C, background)
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
 		mask := make([]bool, len(reg))
@@ -99,7 +99,7 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 				score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
 			}
 		}
-		next := split1D(score, st.area, C, seed)
+		next := asBackground(split1D(score, st.area, C, seed), C, background)
 		if C == 2 && (background == "dark" || background == "bright") {
 			next = noiseBound(next, score, lum, field, mask, background)
 		}
@@ -109,6 +109,26 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		cls = next
 	}
 	return cls, nil
+}
+
+// asBackground puts every region into the background class when the
+// grouping found one class only (a single region, or regions of one
+// level): nothing stands out, so there are no objects. Without a named
+// background it returns cls as it is.
+func asBackground(cls []int32, C int, background string) []int32 {
+	if background != "dark" && background != "bright" {
+		return cls
+	}
+	for _, c := range cls {
+		if c != cls[0] {
+			return cls
+		}
+	}
+	ref := referenceClass(cls, nil, C, background)
+	for r := range cls {
+		cls[r] = ref
+	}
+	return cls
 }
 
 // detectSigmas is k in the detection rule "brighter (darker) than the

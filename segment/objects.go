@@ -5,6 +5,17 @@ import (
 	"slices"
 )
 
+// contrastMap returns |I/B - 1| per pixel, the contrast against the
+// background field B (kept above fieldFloor) that the object stages judge
+// by.
+func contrastMap(inten, field []float32) []float64 {
+	con := make([]float64, len(inten))
+	for i := range con {
+		con[i] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+	}
+	return con
+}
+
 // seamRatio: two adjacent foreground regions stay separate objects when the
 // contrast along their shared boundary is below seamRatio times the weaker
 // region's contrast (a dim seam between touching objects). Chosen on the
@@ -15,19 +26,16 @@ const seamRatio = 0.8
 // connected piece (4-neighbours) of non-background pixels is an object,
 // except that neighbouring pixels of two different regions are joined only
 // when the boundary between those regions is not a seam. A seam is a
-// boundary whose mean contrast |I/B - 1| (B the background field) is below
+// boundary whose mean contrast con = |I/B - 1| (contrastMap) is below
 // seamRatio times the mean contrast of the weaker of the two regions: the
 // dim line between two nuclei pressed together, or the bright ridge between
 // two touching pits. Objects under minArea pixels go to the background.
 // It returns labels 0 (background) and 1..N in raster order, and N.
-func objectsFrom(inten, field []float32, w, h int, reg []int32, n int, cls []int32, bgClass int32, minArea int) ([]int32, int) {
-	contrast := func(i int) float64 {
-		return math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
-	}
+func objectsFrom(con []float64, w, h int, reg []int32, n int, cls []int32, bgClass int32, minArea int) ([]int32, int) {
 	regC := make([]float64, n)
 	regA := make([]float64, n)
 	for i, r := range reg {
-		regC[r] += contrast(i)
+		regC[r] += con[i]
 		regA[r]++
 	}
 	for r := range regC {
@@ -43,7 +51,7 @@ func objectsFrom(inten, field []float32, w, h int, reg []int32, n int, cls []int
 			return
 		}
 		k := pairKey(a, b)
-		seamSum[k] += contrast(i) + contrast(j)
+		seamSum[k] += con[i] + con[j]
 		seamCnt[k] += 2
 	}
 	for y := 0; y < h; y++ {
@@ -164,12 +172,12 @@ const (
 // earlier labels win contested pixels. A dim seam below the level splits
 // a touching pair. The pieces are then relabelled 1..N in raster order;
 // pieces under minArea pixels go to the background.
-func tightenObjects(inten, field []float32, w, h int, labels []int32, n, minArea int) ([]int32, int) {
-	con := make([]float32, len(inten))
-	for i := range con {
-		con[i] = float32(math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1))
+func tightenObjects(con []float64, w, h int, labels []int32, n, minArea int) ([]int32, int) {
+	c32 := make([]float32, len(con))
+	for i, v := range con {
+		c32[i] = float32(v)
 	}
-	sm := boxMean3(con, w, h)
+	sm := boxMean3(c32, w, h)
 	boxes, pixels := objectPixels(labels, w, h, n)
 	vals := make([][]float32, n+1)
 	for l, px := range pixels {

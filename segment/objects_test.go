@@ -62,7 +62,7 @@ func TestTightenObjects(t *testing.T) {
 			labels[y*w+x] = 1
 		}
 	}
-	out, n := tightenObjects(inten, field, w, h, labels, 1, 20)
+	out, n := tightenObjects(contrastMap(inten, field), w, h, labels, 1, 20)
 	if n != 2 {
 		t.Fatalf("got %d objects, want 2", n)
 	}

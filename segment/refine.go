@@ -55,7 +55,7 @@ const (
 // contrast, so thin scratches and elongated objects are not cut across.
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
-func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) ([]int32, int, []float64, error) {
+func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) ([]int32, int, []float64, error) {
 	boxes, pixels := objectPixels(labels, w, h, n)
 	type result struct {
 		region  []int32
@@ -74,7 +74,7 @@ func refineObjects(ctx context.Context, inten, field []float32, w, h int, labels
 		cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 		contrast := make([]float64, len(px))
 		for k, i := range px {
-			contrast[k] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+			contrast[k] = con[i]
 		}
 		sorted := slices.Clone(contrast)
 		slices.Sort(sorted)

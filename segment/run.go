@@ -396,11 +396,6 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
-			if single(cls) {
-				// One class only (a single region, or regions of one
-				// level): nothing stands out, so no objects.
-				bg = cls[0]
-			}
 			if field == nil {
 				mask := make([]bool, npix)
 				for i, c := range res.Classes {
@@ -408,10 +403,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				}
 				field = smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			}
-			obj, nobj := objectsFrom(in.Luminance, field, w, h, reg, nreg, cls, bg, p.MinArea)
-			obj, nobj = tightenObjects(in.Luminance, field, w, h, obj, nobj, max(p.MinArea, 1))
+			con := contrastMap(in.Luminance, field)
+			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
+			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
 			stage("classes")
-			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, in.Luminance, field, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
+			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
@@ -503,16 +499,6 @@ func constant(planes [][]float32) bool {
 			if v != pl[0] {
 				return false
 			}
-		}
-	}
-	return true
-}
-
-// single reports whether every region has the same class.
-func single(cls []int32) bool {
-	for _, c := range cls {
-		if c != cls[0] {
-			return false
 		}
 	}
 	return true
