@@ -195,19 +195,26 @@ type slicEntry struct {
 	err    error
 }
 
+// cacheEntry returns the entry of m for key, creating the map and the
+// entry under c.mu; the caller locks the entry itself while filling it.
+func cacheEntry[K comparable, E any](c *Cache, m *map[K]*E, key K) *E {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if *m == nil {
+		*m = map[K]*E{}
+	}
+	e := (*m)[key]
+	if e == nil {
+		e = new(E)
+		(*m)[key] = e
+	}
+	return e
+}
+
 // cut returns the bisection at threshold t for the graph identified by
 // key, growing (grow(threshold)) or reusing a split tree.
 func (c *Cache) cut(key string, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
-	c.mu.Lock()
-	if c.cuts == nil {
-		c.cuts = map[string]*cutEntry{}
-	}
-	e := c.cuts[key]
-	if e == nil {
-		e = &cutEntry{}
-		c.cuts[key] = e
-	}
-	c.mu.Unlock()
+	e := cacheEntry(c, &c.cuts, key)
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	if e.tree == nil || t > e.at {
@@ -224,17 +231,7 @@ func (c *Cache) cut(key string, t float64, grow func(at float64) (*cutResult, er
 // superpixels returns the superpixels of the input for (count,
 // compactness), computing them with compute once.
 func (c *Cache) superpixels(count int, compactness float64, compute func() (*slicEntry, error)) (*slicEntry, error) {
-	c.mu.Lock()
-	if c.slics == nil {
-		c.slics = map[[2]float64]*slicEntry{}
-	}
-	key := [2]float64{float64(count), compactness}
-	e := c.slics[key]
-	if e == nil {
-		e = &slicEntry{}
-		c.slics[key] = e
-	}
-	c.mu.Unlock()
+	e := cacheEntry(c, &c.slics, [2]float64{float64(count), compactness})
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	if !e.done {
