@@ -148,14 +148,8 @@ func runBatch(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 // after parsing (tests shorten the progress interval).
 func runBatchWith(ctx context.Context, args []string, stdout, stderr io.Writer, adjust func(*batchOptions)) int {
 	fs, s, o := batchFlagSet()
-	fs.SetOutput(io.Discard)
-	if err := fs.Parse(args); err != nil {
-		fmt.Fprintf(stderr, "cleave batch: %v (run 'cleave batch --help')\n", err)
-		return exitUsage
-	}
-	if o.help {
-		batchHelp(stdout)
-		return exitOK
+	if code, done := parseCommand(fs, args, "batch", &o.help, batchHelp, stdout, stderr); done {
+		return code
 	}
 	if adjust != nil {
 		adjust(o)

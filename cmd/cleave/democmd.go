@@ -86,14 +86,8 @@ type demoPart struct {
 
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs, o := demoFlags()
-	fs.SetOutput(io.Discard)
-	if err := fs.Parse(args); err != nil {
-		fmt.Fprintf(stderr, "cleave demo: %v (run 'cleave demo --help')\n", err)
-		return exitUsage
-	}
-	if o.help {
-		demoHelp(stdout)
-		return exitOK
+	if code, done := parseCommand(fs, args, "demo", &o.help, demoHelp, stdout, stderr); done {
+		return code
 	}
 	if fs.NArg() > 0 {
 		fmt.Fprintf(stderr, "cleave demo: unexpected arguments %q (run 'cleave demo --help')\n", fs.Args())

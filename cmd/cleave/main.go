@@ -11,6 +11,8 @@ import (
 	"os/signal"
 	"runtime/debug"
 	"syscall"
+
+	"github.com/spf13/pflag"
 )
 
 // version is the tool version written into every record.
@@ -37,6 +39,22 @@ func main() {
 	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
+}
+
+// parseCommand parses the flags of the named command. It prints a usage
+// error (exit 2) or the help asked for (exit 0) and reports done; when
+// done is false the command goes on.
+func parseCommand(fs *pflag.FlagSet, args []string, name string, help *bool, printHelp func(io.Writer), stdout, stderr io.Writer) (code int, done bool) {
+	fs.SetOutput(io.Discard)
+	if err := fs.Parse(args); err != nil {
+		fmt.Fprintf(stderr, "cleave %s: %v (run 'cleave %s --help')\n", name, err, name)
+		return exitUsage, true
+	}
+	if *help {
+		printHelp(stdout)
+		return exitOK, true
+	}
+	return exitOK, false
 }
 
 // command is one subcommand.

@@ -157,14 +157,8 @@ type scoredPair struct {
 
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs, o := scoreFlags()
-	fs.SetOutput(io.Discard)
-	if err := fs.Parse(args); err != nil {
-		fmt.Fprintf(stderr, "cleave score: %v (run 'cleave score --help')\n", err)
-		return exitUsage
-	}
-	if o.help {
-		scoreHelp(stdout)
-		return exitOK
+	if code, done := parseCommand(fs, args, "score", &o.help, scoreHelp, stdout, stderr); done {
+		return code
 	}
 	if fs.NArg() != 2 {
 		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %d arguments (run 'cleave score --help')\n", fs.NArg())

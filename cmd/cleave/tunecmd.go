@@ -122,14 +122,8 @@ var tuneOutputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
 
 func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs, s, o := tuneFlags()
-	fs.SetOutput(io.Discard)
-	if err := fs.Parse(args); err != nil {
-		fmt.Fprintf(stderr, "cleave tune: %v (run 'cleave tune --help')\n", err)
-		return exitUsage
-	}
-	if o.help {
-		tuneHelp(stdout)
-		return exitOK
+	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
+		return code
 	}
 	code, err := tune(ctx, fs, s, o, stdout, stderr)
 	switch {
