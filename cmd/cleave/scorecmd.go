@@ -31,18 +31,24 @@ type metrics struct {
 	Recall   float64 `json:"recall"`
 	F1       float64 `json:"f1"`
 	MeanIoU  float64 `json:"mean_iou"`
+	MAP      float64 `json:"map"`
 	BF       float64 `json:"bf"`
 	BP       float64 `json:"bp"`
 	BR       float64 `json:"br"`
 	Covering float64 `json:"covering"`
 }
 
-// metricNames lists the metrics in output order with their values.
+// values lists the metrics' values in the order of metricNames.
 func (m metrics) values() []float64 {
-	return []float64{m.ARI, m.Rand, m.VI, m.VISplit, m.VIMerge, m.Dice, m.IoU, m.Prec, m.Recall, m.F1, m.MeanIoU, m.BF, m.BP, m.BR, m.Covering}
+	return []float64{m.ARI, m.Rand, m.VI, m.VISplit, m.VIMerge, m.Dice, m.IoU, m.Prec, m.Recall, m.F1, m.MeanIoU, m.MAP, m.BF, m.BP, m.BR, m.Covering}
 }
 
-var metricNames = []string{"ari", "rand", "vi", "vi_split", "vi_merge", "dice", "iou", "precision", "recall", "f1", "mean_iou", "bf", "bp", "br", "covering"}
+// fields are pointers to the metrics in the order of metricNames.
+func (m *metrics) fields() []*float64 {
+	return []*float64{&m.ARI, &m.Rand, &m.VI, &m.VISplit, &m.VIMerge, &m.Dice, &m.IoU, &m.Prec, &m.Recall, &m.F1, &m.MeanIoU, &m.MAP, &m.BF, &m.BP, &m.BR, &m.Covering}
+}
+
+var metricNames = []string{"ari", "rand", "vi", "vi_split", "vi_merge", "dice", "iou", "precision", "recall", "f1", "mean_iou", "map", "bf", "bp", "br", "covering"}
 
 // get returns the metric of the given name.
 func (m metrics) get(name string) float64 {
@@ -68,6 +74,7 @@ func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
 	m.Dice, m.IoU = score.Dice(pred, truth)
 	om := score.MatchObjects(pred, truth)
 	m.Prec, m.Recall, m.F1, m.MeanIoU = om.Precision, om.Recall, om.F1, om.MeanIoU
+	m.MAP = t.MeanAP()
 	b := score.Boundary(pred, truth, width, height, tol)
 	m.BF, m.BP, m.BR = b.F, b.Precision, b.Recall
 	m.Covering = t.Covering()
@@ -76,15 +83,17 @@ func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
 
 // meanMetrics is the mean of each metric, summed in the given order.
 func meanMetrics(ms []metrics) metrics {
-	var sum [15]float64
+	var mean metrics
+	f := mean.fields()
 	for _, m := range ms {
 		for i, v := range m.values() {
-			sum[i] += v
+			*f[i] += v
 		}
 	}
-	n := float64(len(ms))
-	return metrics{sum[0] / n, sum[1] / n, sum[2] / n, sum[3] / n, sum[4] / n, sum[5] / n, sum[6] / n, sum[7] / n,
-		sum[8] / n, sum[9] / n, sum[10] / n, sum[11] / n, sum[12] / n, sum[13] / n, sum[14] / n}
+	for _, p := range f {
+		*p /= float64(len(ms))
+	}
+	return mean
 }
 
 const scoreExample = `Example (score cleave's label map of a shipped nuclei scene against its mask):
@@ -113,6 +122,8 @@ Metrics (natural log for VI):
   dice, iou           foreground overlap (truth 0 = background)
   precision, recall,  objects matched at IoU > 0.5 (common practice in
     f1, mean_iou        cell-segmentation benchmarks) and their mean IoU
+  map                 mean average precision over IoU 0.50, 0.55, ..., 0.95,
+                        AP(t) = TP/(TP+FP+FN) (Caicedo et al. 2019)
   bp, br, bf          boundary precision, recall and F within --tolerance
                         pixels (distance approximation of Martin, Fowlkes
                         and Malik 2004)
@@ -269,7 +280,7 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 		fmt.Fprintf(w, "(boundary tolerance %g px; vi in nats, lower is better; the rest: higher is better, 1 best)\n", tol)
 		return
 	}
-	cols := []string{"ari", "vi", "dice", "f1", "mean_iou", "bf", "covering"}
+	cols := []string{"ari", "vi", "dice", "f1", "map", "mean_iou", "bf", "covering"}
 	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(cols, "\t"))
 	row := func(name string, m metrics) {
 		cells := make([]string, len(cols))

@@ -11,6 +11,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -100,7 +102,7 @@ func TestScoreIdentityAndCSV(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &got); err != nil {
 		t.Fatal(err)
 	}
-	for k, want := range map[string]float64{"ari": 1, "vi": 0, "covering": 1, "bf": 1, "dice": 1, "f1": 1, "rand": 1} {
+	for k, want := range map[string]float64{"ari": 1, "vi": 0, "covering": 1, "bf": 1, "dice": 1, "f1": 1, "map": 1, "rand": 1} {
 		if math.Abs(got[k]-want) > 1e-12 {
 			t.Errorf("%s = %v, want %v", k, got[k], want)
 		}
@@ -120,6 +122,86 @@ func TestScoreIdentityAndCSV(t *testing.T) {
 		t.Fatal(err)
 	}
 	if len(rows) != 5 || rows[0][3] != "ari" || rows[4][0] != "mean" {
+		t.Errorf("csv rows %v", rows)
+	}
+}
+
+// writeLabelPNG writes an 8-bit gray label image whose rows are given as
+// strings of digits (label per pixel).
+func writeLabelPNG(t *testing.T, path string, rows ...string) {
+	t.Helper()
+	img := image.NewGray(image.Rect(0, 0, len(rows[0]), len(rows)))
+	for y, r := range rows {
+		for x, c := range r {
+			img.SetGray(x, y, color.Gray{uint8(c - '0')})
+		}
+	}
+	var buf bytes.Buffer
+	if err := png.Encode(&buf, img); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// mAP(0.5:0.95) worked by hand on a 10 x 3 pair (Caicedo et al. 2019:
+// AP(t) = TP/(TP+FP+FN), a match needing IoU > t). Truth: object 1 is
+// row 0, x 0-7 (8 px); object 2 is row 1, x 0-3. Prediction: object 1
+// shifted one pixel right (x 1-8: intersection 7, union 9, IoU 0.778),
+// object 2 exact (IoU 1), and a false object in row 2. At t = 0.50 ...
+// 0.75 (6 levels) TP 2, FP 1, FN 0: AP 2/3; at t = 0.80 ... 0.95 (4
+// levels) TP 1, FP 2, FN 1: AP 1/4; mAP = (6 x 2/3 + 4 x 1/4)/10 = 0.5.
+// Object F1 at IoU > 0.5: precision 2/3, recall 1, F1 0.8. A folder of
+// this pair and an exact one (mAP 1) has mean mAP 0.75.
+func TestScoreMeanAPHandWorked(t *testing.T) {
+	dir := t.TempDir()
+	preds, truths := filepath.Join(dir, "pred"), filepath.Join(dir, "truth")
+	for _, d := range []string{preds, truths} {
+		if err := os.Mkdir(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	writeLabelPNG(t, filepath.Join(truths, "a.png"), "1111111100", "2222000000", "0000000000")
+	writeLabelPNG(t, filepath.Join(preds, "a.labels.png"), "0111111110", "2222000000", "0000003333")
+	writeLabelPNG(t, filepath.Join(truths, "b.png"), "0011000000", "0011000220", "0000000220")
+	writeLabelPNG(t, filepath.Join(preds, "b.labels.png"), "0055000000", "0055000770", "0000000770")
+	pa, ta := filepath.Join(preds, "a.labels.png"), filepath.Join(truths, "a.png")
+
+	var got map[string]float64
+	if err := json.Unmarshal([]byte(runOK(t, "score", "--json", pa, ta)), &got); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(got["map"]-0.5) > 1e-12 || math.Abs(got["f1"]-0.8) > 1e-12 {
+		t.Errorf("map %v, f1 %v; worked by hand 0.5 and 0.8", got["map"], got["f1"])
+	}
+	// The readable output lists map beside f1.
+	text := runOK(t, "score", pa, ta)
+	if !regexp.MustCompile(`(?m)^\s*map\s+0\.5000\s*$`).MatchString(text) {
+		t.Errorf("text output lacks the map line:\n%s", text)
+	}
+
+	var doc struct {
+		Pairs []map[string]any   `json:"pairs"`
+		Mean  map[string]float64 `json:"mean"`
+	}
+	if err := json.Unmarshal([]byte(runOK(t, "score", "--json", preds, truths)), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Pairs) != 2 || doc.Pairs[0]["map"] != 0.5 || doc.Pairs[1]["map"] != 1.0 || math.Abs(doc.Mean["map"]-0.75) > 1e-12 {
+		t.Errorf("folders: pairs %v, mean map %v; want 0.5, 1 and mean 0.75", doc.Pairs, doc.Mean["map"])
+	}
+	csvPath := filepath.Join(dir, "s.csv")
+	table := runOK(t, "score", "--csv", csvPath, preds, truths)
+	lines := strings.Split(table, "\n")
+	head, mean := strings.Fields(lines[0]), strings.Fields(lines[3])
+	col := slices.Index(head, "map")
+	if col < 0 || slices.Index(head, "f1") < 0 || len(mean) != len(head)+2 || mean[col+2] != "0.7500" {
+		t.Errorf("folder table lacks the map column or its mean 0.7500:\n%s", table)
+	}
+	rows := readCSV(t, csvPath)
+	mc := slices.Index(rows[0], "map")
+	if mc < 0 || len(rows) != 4 || rows[1][mc] != "0.5" || rows[3][0] != "mean" || rows[3][mc] != "0.75" {
 		t.Errorf("csv rows %v", rows)
 	}
 }
