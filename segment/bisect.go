@@ -103,8 +103,9 @@ var SplitTol = 1e-4
 type cutOptions struct {
 	stability bool // apply the Fiedler-vector stability test
 	// accept, when set, must also approve a split of a part (nodes of the
-	// whole graph; inA marks side A by position in nodes).
-	accept func(nodes []int, inA []bool) bool
+	// whole graph; inA marks side A by position in nodes; ncut is the
+	// split's Ncut, at most Params.MaxNcut).
+	accept func(nodes []int, inA []bool, ncut float64) bool
 	// final, when set, marks a part (nodes of the whole graph) that is not
 	// to be split at all.
 	final func(nodes []int) bool
@@ -222,7 +223,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 		for _, i := range s.order[:s.at] {
 			inA[i] = true
 		}
-		if o.accept != nil && !o.accept(pt.nodes, inA) {
+		if o.accept != nil && !o.accept(pt.nodes, inA, s.ncut) {
 			final = append(final, pt)
 			continue
 		}

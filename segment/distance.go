@@ -1,0 +1,175 @@
+package segment
+
+import (
+	"math"
+	"slices"
+)
+
+// distanceInside returns, for each pixel of a cw x ch mask, the Euclidean
+// distance from its centre to the centre of the nearest pixel outside the
+// mask, where everything beyond the crop counts as outside; pixels outside
+// the mask get 0. It is the exact Euclidean distance transform computed
+// by Felzenszwalb and Huttenlocher's lower envelope of parabolas, one pass
+// over the columns and one over the rows (Felzenszwalb and Huttenlocher
+// 2012, Distance transforms of sampled functions, Theory of Computing 8),
+// in O(cw·ch).
+func distanceInside(mask []bool, cw, ch int) []float64 {
+	// Pad by one pixel of outside on every side so that the crop border
+	// counts as outside.
+	pw, ph := cw+2, ch+2
+	f := make([]float64, pw*ph)
+	inf := float64(pw*pw + ph*ph)
+	for y := 0; y < ch; y++ {
+		for x := 0; x < cw; x++ {
+			if mask[y*cw+x] {
+				f[(y+1)*pw+x+1] = inf
+			}
+		}
+	}
+	n := max(pw, ph)
+	buf := make([]float64, n)
+	out := make([]float64, n)
+	v := make([]int, n)
+	z := make([]float64, n+1)
+	for x := 0; x < pw; x++ { // columns
+		for y := 0; y < ph; y++ {
+			buf[y] = f[y*pw+x]
+		}
+		envelope(buf[:ph], out[:ph], v, z)
+		for y := 0; y < ph; y++ {
+			f[y*pw+x] = out[y]
+		}
+	}
+	for y := 0; y < ph; y++ { // rows
+		row := f[y*pw : (y+1)*pw]
+		copy(buf, row)
+		envelope(buf[:pw], out[:pw], v, z)
+		copy(row, out[:pw])
+	}
+	d := make([]float64, cw*ch)
+	for y := 0; y < ch; y++ {
+		for x := 0; x < cw; x++ {
+			if mask[y*cw+x] {
+				d[y*cw+x] = math.Sqrt(f[(y+1)*pw+x+1])
+			}
+		}
+	}
+	return d
+}
+
+// envelope computes d(q) = min_p ((q-p)² + f(p)) for the sampled function
+// f (the one-dimensional squared distance transform of Felzenszwalb and
+// Huttenlocher 2012, algorithm DT(f)); v and z are scratch of length
+// len(f) and len(f)+1. Samples are finite (inside pixels hold a value
+// above any squared distance in the crop, so no Inf - Inf arises).
+func envelope(f, d []float64, v []int, z []float64) {
+	n := len(f)
+	k := 0
+	v[0] = 0
+	z[0], z[1] = math.Inf(-1), math.Inf(1)
+	for q := 1; q < n; q++ {
+		s := parabolaCut(f, q, v[k])
+		for s <= z[k] { // z[0] = -Inf ends the loop
+			k--
+			s = parabolaCut(f, q, v[k])
+		}
+		k++
+		v[k] = q
+		z[k] = s
+		z[k+1] = math.Inf(1)
+	}
+	k = 0
+	for q := 0; q < n; q++ {
+		for z[k+1] < float64(q) {
+			k++
+		}
+		dq := float64(q - v[k])
+		d[q] = dq*dq + f[v[k]]
+	}
+}
+
+// parabolaCut is the abscissa where the parabolas rooted at q and p
+// (q > p) of the lower envelope intersect.
+func parabolaCut(f []float64, q, p int) float64 {
+	return ((f[q] + float64(q*q)) - (f[p] + float64(p*p))) / float64(2*q-2*p)
+}
+
+// neckDepth measures how deeply the distance map d of a shape (inside
+// pixels > 0, from distanceInside) is pinched between two of its maxima:
+// flooding d from the top (8-neighbours), each connected piece above a
+// level starts at a maximum of peak value p; where two pieces meet at a
+// saddle of value s, the lower piece ends with the relative depth
+//
+//	(p - s) / p,  distances measured to the boundary (value - 1/2),
+//
+// and neckDepth returns the largest such depth (0 for a shape with one
+// maximum). This is the persistence of the maxima of the distance map,
+// the quantity the h-maxima transform thresholds when markers are chosen
+// for a watershed of touching objects (Soille 2003, Morphological Image
+// Analysis, 2nd ed., section 6.3), taken relative to the peak so that it
+// does not depend on size. For two discs of radius R whose centres are d
+// apart it is 1 - sqrt(1 - (d/2R)²) (closed form from the chord at the
+// saddle); a convex shape has 0.
+func neckDepth(d []float64, cw, ch int) float64 {
+	var order []int
+	for i, v := range d {
+		if v > 0 {
+			order = append(order, i)
+		}
+	}
+	// Descending distance, ties by index: deterministic.
+	slices.SortFunc(order, func(a, b int) int {
+		switch {
+		case d[a] > d[b]:
+			return -1
+		case d[a] < d[b]:
+			return 1
+		}
+		return a - b
+	})
+	parent := make([]int32, len(d))
+	for i := range parent {
+		parent[i] = -1 // not flooded yet
+	}
+	peak := make([]float64, len(d))
+	find := func(x int32) int32 {
+		for parent[x] != x {
+			parent[x] = parent[parent[x]]
+			x = parent[x]
+		}
+		return x
+	}
+	best := 0.0
+	for _, i := range order {
+		parent[i] = int32(i)
+		peak[i] = d[i]
+		x, y := i%cw, i/cw
+		for dy := -1; dy <= 1; dy++ {
+			for dx := -1; dx <= 1; dx++ {
+				xx, yy := x+dx, y+dy
+				if (dx == 0 && dy == 0) || xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+					continue
+				}
+				j := yy*cw + xx
+				if parent[j] < 0 {
+					continue
+				}
+				a, b := find(int32(i)), find(int32(j))
+				if a == b {
+					continue
+				}
+				// The lower of the two pieces ends here, at saddle d[i].
+				lo := min(peak[a], peak[b])
+				if p := lo - 0.5; p > 0 {
+					best = max(best, (lo-d[i])/p)
+				}
+				if peak[a] >= peak[b] {
+					parent[b] = a
+				} else {
+					parent[a] = b
+				}
+			}
+		}
+	}
+	return best
+}

@@ -1,0 +1,107 @@
+package segment
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// The transform against its definition: the distance from each inside
+// pixel's centre to the nearest outside pixel centre (the crop border
+// counting as outside), by brute force over random masks.
+func TestDistanceInsideDefinition(t *testing.T) {
+	r := rand.New(rand.NewPCG(7, 8))
+	for trial := 0; trial < 20; trial++ {
+		cw, ch := 3+r.IntN(20), 3+r.IntN(20)
+		mask := make([]bool, cw*ch)
+		for i := range mask {
+			mask[i] = r.Float64() < 0.8
+		}
+		d := distanceInside(mask, cw, ch)
+		for y := 0; y < ch; y++ {
+			for x := 0; x < cw; x++ {
+				want := 0.0
+				if mask[y*cw+x] {
+					want = math.Inf(1)
+					for yy := -1; yy <= ch; yy++ {
+						for xx := -1; xx <= cw; xx++ {
+							in := xx >= 0 && yy >= 0 && xx < cw && yy < ch && mask[yy*cw+xx]
+							if !in {
+								want = math.Min(want, math.Hypot(float64(x-xx), float64(y-yy)))
+							}
+						}
+					}
+				}
+				if got := d[y*cw+x]; math.Abs(got-want) > 1e-12 {
+					t.Fatalf("trial %d (%dx%d): d(%d,%d) = %v, want %v", trial, cw, ch, x, y, got, want)
+				}
+			}
+		}
+	}
+}
+
+// discRow draws the union of discs of radius R centred on a horizontal line
+// sep apart, in a crop with a margin.
+func discRow(R, sep float64, k int) ([]bool, int, int) {
+	cw := int(2*R+sep*float64(k-1)) + 6
+	ch := int(2*R) + 6
+	mask := make([]bool, cw*ch)
+	for y := 0; y < ch; y++ {
+		for x := 0; x < cw; x++ {
+			for c := 0; c < k; c++ {
+				cx, cy := 3+R+sep*float64(c), 3+R
+				if math.Hypot(float64(x)+0.5-cx, float64(y)+0.5-cy) < R {
+					mask[y*cw+x] = true
+				}
+			}
+		}
+	}
+	return mask, cw, ch
+}
+
+// Two overlapping discs of radius R, centres s apart: the saddle of the
+// distance map lies at half the chord, sqrt(R² - s²/4), so the relative
+// depth is 1 - sqrt(1 - (s/2R)²) (plane geometry). Digitization moves the
+// peak and the saddle by up to a pixel (the cusp at the neck is blunted,
+// so the measured depth falls short), hence a tolerance of 1.5/R; a
+// single disc and an ellipse have one maximum (up to digitization ties)
+// and a depth near 0.
+func TestNeckDepthDiscs(t *testing.T) {
+	cases := []struct {
+		R, sep float64
+		k      int
+	}{
+		{20, 30, 2},
+		{20, 36, 2},
+		{12, 20, 2},
+		{8, 14, 2},
+		{15, 24, 3},
+		{25, 30, 2},
+	}
+	for _, c := range cases {
+		mask, cw, ch := discRow(c.R, c.sep, c.k)
+		got := neckDepth(distanceInside(mask, cw, ch), cw, ch)
+		want := 1 - math.Sqrt(1-c.sep*c.sep/(4*c.R*c.R))
+		if tol := 1.5 / c.R; math.Abs(got-want) > tol {
+			t.Errorf("R=%v sep=%v k=%d: depth %.3f, want %.3f ± %.3f", c.R, c.sep, c.k, got, want, tol)
+		}
+	}
+	for _, R := range []float64{6, 15, 30} {
+		mask, cw, ch := discRow(R, 0, 1)
+		if got := neckDepth(distanceInside(mask, cw, ch), cw, ch); got > 0.1 {
+			t.Errorf("single disc R=%v: depth %.3f, want about 0", R, got)
+		}
+	}
+	// An ellipse with semi-axes 30 and 12.
+	cw, ch := 70, 32
+	mask := make([]bool, cw*ch)
+	for y := 0; y < ch; y++ {
+		for x := 0; x < cw; x++ {
+			dx, dy := (float64(x)+0.5-35)/30, (float64(y)+0.5-16)/12
+			mask[y*cw+x] = dx*dx+dy*dy < 1
+		}
+	}
+	if got := neckDepth(distanceInside(mask, cw, ch), cw, ch); got > 0.1 {
+		t.Errorf("ellipse: depth %.3f, want about 0", got)
+	}
+}
