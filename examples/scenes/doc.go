@@ -9,9 +9,16 @@
 // of their options; randomness comes only from math/rand/v2's PCG generator
 // seeded from Options.Seed, and every loop runs in a fixed order.
 //
-// Two scene families are provided: Nuclei (fluorescence-like nuclei, some
-// touching in pairs, under vignetting, haze and shot noise) and Plate
-// (dark pits and scratches on a grainy metal surface under raking light).
+// Seven scene families are provided (short names in Kinds, made by
+// Generate): Nuclei (fluorescence-like nuclei, some touching in pairs,
+// under vignetting, haze and shot noise), Plate (dark pits and scratches
+// on a grainy metal surface under raking light), Clusters (crowded
+// irregular nuclei in touching clusters of 2-4, with and without a seam,
+// dim and out-of-focus ones), Haze (sparse faint nuclei under bright
+// out-of-focus glow), Stained (dark brightfield nuclei on an unevenly lit
+// field), Surface (machined metal with directional grain, pits,
+// inclusions and a crack) and Grains (a packed tessellation with thin
+// dark boundaries).
 // The package also holds the modified Shepp–Logan phantom, a published
 // test object with exact regions, and Otsu's global threshold with
 // connected components as a baseline segmentation.

@@ -1,6 +1,7 @@
 // Command gen writes synthetic example scenes with their truth masks.
+// KIND is one of nuclei, plates, clusters, haze, stained, surface, grains.
 //
-//	go run ./examples/scenes/gen -out DIR -kind nuclei|plates -n N -seed S -size 512 [-tiff]
+//	go run ./examples/scenes/gen -out DIR -kind KIND -n N -seed S -size 512 [-tiff]
 //
 // For each of N scenes (seeds S, S+1, ..., S+N-1) it writes NAME.png (or
 // NAME.tif with -tiff), the gray image, and NAME.truth.png, a 16-bit
@@ -15,6 +16,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/cleave-seg/cleave/examples/scenes"
 )
@@ -46,7 +48,7 @@ func generate(args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("gen", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	out := fs.String("out", "", "output directory (created if missing)")
-	kind := fs.String("kind", "nuclei", "scene family: nuclei or plates")
+	kind := fs.String("kind", "nuclei", "scene family: "+strings.Join(scenes.Kinds, ", "))
 	n := fs.Int("n", 1, "number of scenes")
 	seed := fs.Uint64("seed", 1, "seed of the first scene; scene k uses seed+k")
 	size := fs.Int("size", 512, "width and height in pixels")
@@ -54,7 +56,7 @@ func generate(args []string, stdout, stderr io.Writer) error {
 	asTIFF := fs.Bool("tiff", false, "write the image as uncompressed TIFF instead of PNG")
 	fs.Usage = func() {
 		fmt.Fprintf(stderr, "gen writes invented synthetic scenes and their 16-bit truth masks.\n\n")
-		fmt.Fprintf(stderr, "usage: gen -out DIR -kind nuclei|plates -n N -seed S -size 512 [-tiff]\n\n")
+		fmt.Fprintf(stderr, "usage: gen -out DIR -kind KIND -n N -seed S -size 512 [-tiff]\n\nkinds: %s\n\n", strings.Join(scenes.Kinds, ", "))
 		fs.PrintDefaults()
 		fmt.Fprintf(stderr, "\nexample:\n  go run ./examples/scenes/gen -out /tmp/nuclei -kind nuclei -n 3 -seed 1\n")
 	}
@@ -73,26 +75,19 @@ func generate(args []string, stdout, stderr io.Writer) error {
 	if *n < 1 || *n > 10000 {
 		return fmt.Errorf("%w: -n %d outside [1, 10000]", errUsage, *n)
 	}
-	var make1 func(seed uint64) (*scenes.Scene, error)
-	switch *kind {
-	case "nuclei":
-		make1 = func(s uint64) (*scenes.Scene, error) {
-			o := scenes.NucleiOptions{Width: *size, Height: *size, Seed: s, BitDepth: *depth}
-			if err := o.Validate(); err != nil {
-				return nil, fmt.Errorf("%w: %v", errUsage, err)
-			}
-			return scenes.Nuclei(o), nil
+	known := false
+	for _, k := range scenes.Kinds {
+		known = known || k == *kind
+	}
+	if !known {
+		return fmt.Errorf("%w: -kind %q is not one of %s", errUsage, *kind, strings.Join(scenes.Kinds, ", "))
+	}
+	make1 := func(s uint64) (*scenes.Scene, error) {
+		sc, err := scenes.Generate(*kind, *size, *size, s, *depth)
+		if err != nil {
+			return nil, fmt.Errorf("%w: %v", errUsage, err)
 		}
-	case "plates":
-		make1 = func(s uint64) (*scenes.Scene, error) {
-			o := scenes.PlateOptions{Width: *size, Height: *size, Seed: s, BitDepth: *depth}
-			if err := o.Validate(); err != nil {
-				return nil, fmt.Errorf("%w: %v", errUsage, err)
-			}
-			return scenes.Plate(o), nil
-		}
-	default:
-		return fmt.Errorf("%w: -kind %q is not nuclei or plates", errUsage, *kind)
+		return sc, nil
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return err

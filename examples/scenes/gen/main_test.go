@@ -52,6 +52,40 @@ func TestGenerate(t *testing.T) {
 	}
 }
 
+// TestGenerateKinds: every kind named in scenes.Kinds is accepted and
+// written with its truth, identical to the generator's own scene.
+func TestGenerateKinds(t *testing.T) {
+	dir := t.TempDir()
+	for _, kind := range scenes.Kinds {
+		var out, errb bytes.Buffer
+		if code := run([]string{"-out", dir, "-kind", kind, "-n", "1", "-seed", "3", "-size", "128", "-depth", "8"}, &out, &errb); code != 0 {
+			t.Fatalf("%s: exit %d: %s", kind, code, errb.String())
+		}
+		want, err := scenes.Generate(kind, 128, 128, 3, 8)
+		if err != nil {
+			t.Fatal(err)
+		}
+		f, err := os.Open(filepath.Join(dir, want.Name+".png"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(f)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		g, ok := img.(*image.Gray)
+		if !ok {
+			t.Fatalf("%s: image decoded as %T, want *image.Gray", kind, img)
+		}
+		for i, v := range want.Pixels {
+			if uint16(g.Pix[i]) != v {
+				t.Fatalf("%s: pixel %d is %d, generator says %d", kind, i, g.Pix[i], v)
+			}
+		}
+	}
+}
+
 func TestUsageErrors(t *testing.T) {
 	dir := t.TempDir()
 	cases := []struct {

@@ -1,0 +1,258 @@
+package scenes
+
+import (
+	"math"
+	"math/rand/v2"
+)
+
+// blob is an irregular star-shaped outline around (cx, cy) with radius
+//
+//	r(φ) = r0·(1 + Σ_{k=2..6} amp_k cos(kφ + ph_k)),
+//
+// a radial harmonic perturbation of a circle: k = 2 elongates it, k = 3..6
+// give the dents and bulges of real nuclei and pits. The amplitudes sum to
+// less than 1/2, so r(φ) > r0/2 and the shape is star-shaped about its
+// centre.
+type blob struct {
+	cx, cy, r0 float64
+	amp, ph    [5]float64
+}
+
+// newBlob draws a blob of mean radius r0 at (cx, cy). irregular in [0, 1]
+// scales the harmonic amplitudes, whose bounds are 0.22 for k = 2 (an
+// aspect ratio up to about 1.6) and 0.24/k for k = 3..6.
+func newBlob(rng *rand.Rand, cx, cy, r0, irregular float64) blob {
+	b := blob{cx: cx, cy: cy, r0: r0}
+	for k := range b.amp {
+		bound := 0.24 / float64(k+2)
+		if k == 0 {
+			bound = 0.22
+		}
+		b.amp[k] = irregular * uniform(rng, 0, bound)
+		b.ph[k] = uniform(rng, 0, 2*math.Pi)
+	}
+	return b
+}
+
+// radius is r(φ), the distance from the centre to the outline in direction φ.
+func (b blob) radius(phi float64) float64 {
+	r := 1.0
+	for k := range b.amp {
+		r += b.amp[k] * math.Cos(float64(k+2)*phi+b.ph[k])
+	}
+	return b.r0 * r
+}
+
+// rmax bounds r(φ) from above.
+func (b blob) rmax() float64 {
+	s := 1.0
+	for _, a := range b.amp {
+		s += a
+	}
+	return b.r0 * s
+}
+
+// margin is r(φ) - d with d the distance from the centre to (x, y) and φ
+// its direction: the signed radial distance to the outline, positive
+// inside. It is the inside test used both for rendering and for truth.
+func (b blob) margin(x, y float64) float64 {
+	dx, dy := x-b.cx, y-b.cy
+	return b.radius(math.Atan2(dy, dx)) - math.Hypot(dx, dy)
+}
+
+// group is a set of blobs placed together: a single nucleus or a cluster
+// of touching ones. Each pixel inside the union belongs to the member with
+// the largest margin there, so touching members share a boundary and
+// never overlap in the truth.
+type group struct {
+	members []blob
+	first   int32 // label of members[0]; the others follow consecutively
+}
+
+// box returns the pixel bounding box x0, y0, x1, y1 (inclusive) of the
+// group grown by pad pixels, clipped to the image.
+func (g group) box(w, h, pad int) (x0, y0, x1, y1 int) {
+	x0, y0, x1, y1 = w, h, -1, -1
+	for _, b := range g.members {
+		r := b.rmax() + float64(pad)
+		x0 = min(x0, int(math.Floor(b.cx-r)))
+		y0 = min(y0, int(math.Floor(b.cy-r)))
+		x1 = max(x1, int(math.Ceil(b.cx+r)))
+		y1 = max(y1, int(math.Ceil(b.cy+r)))
+	}
+	return max(0, x0), max(0, y0), min(w-1, x1), min(h-1, y1)
+}
+
+// owner returns the index of the member with the largest margin at
+// (x, y), that margin, and the largest margin among the other members
+// (-Inf for a single blob).
+func (g group) owner(x, y float64) (i int, m, second float64) {
+	m, second = math.Inf(-1), math.Inf(-1)
+	for k, b := range g.members {
+		v := b.margin(x, y)
+		if v > m {
+			second = m
+			i, m = k, v
+		} else if v > second {
+			second = v
+		}
+	}
+	return i, m, second
+}
+
+// placer puts groups into a truth mask without touching earlier ones.
+type placer struct {
+	w, h  int
+	truth []int32
+	next  int32 // the next free label
+	gap   int   // minimal Chebyshev distance to earlier objects
+}
+
+func newPlacer(w, h, gap int) *placer {
+	return &placer{w: w, h: h, truth: make([]int32, w*h), next: 1, gap: gap}
+}
+
+// place labels the group if every member owns at least minOwn of its own
+// area (pixels inside it), every member is one 4-connected piece, the
+// members of a cluster form one 4-connected piece together, no pixel
+// lies within 2 px of the border and none within gap of an earlier
+// object. On success the members get consecutive labels and it returns
+// true; otherwise truth is unchanged.
+func (p *placer) place(g *group, minOwn float64) bool {
+	w, h := p.w, p.h
+	x0, y0, x1, y1 := g.box(w, h, 1)
+	own := make([]int, len(g.members))
+	area := make([]int, len(g.members))
+	lab := make(map[int]int32)
+	var pix []int
+	for y := y0; y <= y1; y++ {
+		for x := x0; x <= x1; x++ {
+			px, py := float64(x)+0.5, float64(y)+0.5
+			i, m, _ := g.owner(px, py)
+			if m <= 0 {
+				continue
+			}
+			for k, b := range g.members {
+				if b.margin(px, py) > 0 {
+					area[k]++
+				}
+			}
+			if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
+				return false
+			}
+			own[i]++
+			lab[y*w+x] = int32(i + 1)
+			pix = append(pix, y*w+x)
+		}
+	}
+	for k := range g.members {
+		if area[k] == 0 || float64(own[k]) < minOwn*float64(area[k]) {
+			return false
+		}
+		if pieces4(lab, w, int32(k+1)) != 1 {
+			return false
+		}
+	}
+	if len(g.members) > 1 {
+		all := make(map[int]int32, len(lab))
+		for q := range lab {
+			all[q] = 1
+		}
+		if pieces4(all, w, 1) != 1 {
+			return false
+		}
+	}
+	if touchesLabelled(p.truth, w, h, pix, p.gap) {
+		return false
+	}
+	g.first = p.next
+	for _, q := range pix {
+		p.truth[q] = p.next - 1 + lab[q]
+	}
+	p.next += int32(len(g.members))
+	return true
+}
+
+// attach returns a blob of mean radius r0 touching member a of the group:
+// its centre lies in a random direction φ from a's centre at a distance of
+// (r_a(φ) + r_new(φ+π)) times a factor in [0.74, 0.9], so the outlines
+// overlap a little and the contact has a visible neck.
+func attach(rng *rand.Rand, a blob, r0, irregular float64) blob {
+	b := newBlob(rng, 0, 0, r0, irregular)
+	phi := uniform(rng, 0, 2*math.Pi)
+	d := (a.radius(phi) + b.radius(phi+math.Pi)) * uniform(rng, 0.74, 0.9)
+	b.cx, b.cy = a.cx+d*math.Cos(phi), a.cy+d*math.Sin(phi)
+	return b
+}
+
+// clusterSizes splits n objects into singles and clusters of 2-4: about
+// fraction·n of them go into clusters (sizes uniform in 2..4, the last one
+// trimmed), the rest are singles. The result lists the group sizes,
+// clusters first.
+func clusterSizes(rng *rand.Rand, n int, fraction float64) []int {
+	inClusters := int(math.Round(float64(n) * fraction))
+	var sizes []int
+	for inClusters >= 2 {
+		k := min(2+rng.IntN(3), inClusters)
+		sizes = append(sizes, k)
+		inClusters -= k
+	}
+	used := 0
+	for _, k := range sizes {
+		used += k
+	}
+	for range n - used {
+		sizes = append(sizes, 1)
+	}
+	return sizes
+}
+
+// logNormalRadius draws r·exp(s·Z), Z standard normal, clamped to
+// [lo, hi]: size distributions of cells and particles are close to
+// log-normal (common practice).
+func logNormalRadius(rng *rand.Rand, r, s, lo, hi float64) float64 {
+	return min(hi, max(lo, r*math.Exp(s*rng.NormFloat64())))
+}
+
+// vignette returns the illumination 1 - (1-corner)(d/d_max)² around an
+// optical axis drawn within the central fifth of the field, reaching
+// corner at the farthest corner (a common approximation of vignetting).
+func vignette(rng *rand.Rand, w, h int, corner float64) []float64 {
+	ox := float64(w) * uniform(rng, 0.4, 0.6)
+	oy := float64(h) * uniform(rng, 0.4, 0.6)
+	dmax := 0.0
+	for _, c := range [][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
+		dmax = max(dmax, math.Hypot(c[0]-ox, c[1]-oy))
+	}
+	v := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			d := math.Hypot(float64(x)+0.5-ox, float64(y)+0.5-oy) / dmax
+			v[y*w+x] = 1 - (1-corner)*d*d
+		}
+	}
+	return v
+}
+
+// contrastFor returns the signal s (in units of the brightness scale,
+// electrons = photons·illum·s) whose expected electron count exceeds the
+// local background by k times the background's noise standard deviation
+// sqrt(photons·illum·bg + read²) (shot plus read noise).
+func contrastFor(k, photons, illum, bg, read float64) float64 {
+	sd := math.Sqrt(photons*illum*max(bg, 0) + read*read)
+	return k * sd / (photons * illum)
+}
+
+// sampleBilinear reads f (w x h) at the real position (x, y) in pixel
+// units (pixel centres at integer + 0.5), clamping to the edges.
+func sampleBilinear(f []float64, w, h int, x, y float64) float64 {
+	x, y = x-0.5, y-0.5
+	x = min(max(x, 0), float64(w-1))
+	y = min(max(y, 0), float64(h-1))
+	x0, y0 := int(x), int(y)
+	x1, y1 := min(x0+1, w-1), min(y0+1, h-1)
+	fx, fy := x-float64(x0), y-float64(y0)
+	a := f[y0*w+x0]*(1-fx) + f[y0*w+x1]*fx
+	b := f[y1*w+x0]*(1-fx) + f[y1*w+x1]*fx
+	return a*(1-fy) + b*fy
+}

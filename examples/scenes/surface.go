@@ -1,0 +1,401 @@
+package scenes
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+)
+
+// SurfaceOptions configures Surface. Zero values select the defaults given
+// in each field's comment; invalid values are reported by Validate.
+type SurfaceOptions struct {
+	Width, Height int    // image size in pixels; default 512 x 512
+	Seed          uint64 // random seed; the scene is a function of the options
+	BitDepth      int    // 8 or 16; default 16
+
+	// Pits is the number of pits; default a draw from 4..12 per 512²
+	// pixels, a negative value means none.
+	Pits int
+	// Inclusions is the number of inclusions (bright or dark); default a
+	// draw from 3..10 per 512² pixels, a negative value means none.
+	Inclusions int
+	// Cracks is the number of cracks; default 1, a negative value means
+	// none.
+	Cracks int
+	// Grain is the standard deviation of the machining texture relative to
+	// the mean reflectance; default drawn in [0.06, 0.12] per scene.
+	Grain float64
+	// Gradient is the ratio of the brightest to the darkest illumination
+	// from the raking light; default drawn in [1.5, 3] per scene.
+	Gradient float64
+	// Photons is the electron count of bare metal at the brightest
+	// illumination; default 3000.
+	Photons float64
+	// ReadNoise is the camera read noise in electrons; default 4, a
+	// negative value means none.
+	ReadNoise float64
+}
+
+func (o SurfaceOptions) withDefaults() SurfaceOptions {
+	if o.Width == 0 {
+		o.Width = 512
+	}
+	if o.Height == 0 {
+		o.Height = 512
+	}
+	if o.BitDepth == 0 {
+		o.BitDepth = 16
+	}
+	if o.Cracks == 0 {
+		o.Cracks = 1
+	}
+	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
+	if o.Photons == 0 {
+		o.Photons = 3000
+	}
+	return o
+}
+
+// Validate reports the first invalid option, naming it.
+func (o SurfaceOptions) Validate() error {
+	o = o.withDefaults()
+	if err := checkGeometry("surface", o.Width, o.Height, o.BitDepth); err != nil {
+		return err
+	}
+	area := float64(o.Width*o.Height) / (512 * 512)
+	switch {
+	case o.Width < 96 || o.Height < 96:
+		return fmt.Errorf("scenes: surface: size %dx%d below the 96x96 a crack needs", o.Width, o.Height)
+	case float64(o.Pits) > 60*area:
+		return fmt.Errorf("scenes: surface: Pits %d too many for a %dx%d image", o.Pits, o.Width, o.Height)
+	case float64(o.Inclusions) > 60*area:
+		return fmt.Errorf("scenes: surface: Inclusions %d too many for a %dx%d image", o.Inclusions, o.Width, o.Height)
+	case o.Cracks > 4:
+		return fmt.Errorf("scenes: surface: Cracks %d exceeds 4", o.Cracks)
+	case o.Grain < 0 || o.Grain > 0.4:
+		return fmt.Errorf("scenes: surface: Grain %g outside [0, 0.4]", o.Grain)
+	case o.Gradient != 0 && (o.Gradient < 1 || o.Gradient > 100):
+		return fmt.Errorf("scenes: surface: Gradient %g outside [1, 100]", o.Gradient)
+	case o.Photons < 10 || o.Photons > 1e6:
+		return fmt.Errorf("scenes: surface: Photons %g outside [10, 1e6]", o.Photons)
+	case o.ReadNoise > 1000:
+		return fmt.Errorf("scenes: surface: ReadNoise %g exceeds 1000", o.ReadNoise)
+	}
+	return nil
+}
+
+// crack is a thin curvy line: the points within width(s)/2 of a polyline
+// with many short segments, width varying along the arc length s.
+type crack struct {
+	xs, ys []float64
+	ws     []float64 // half-width at each vertex
+}
+
+// margin is the local half-width minus the distance to the polyline; the
+// half-width is interpolated linearly along the nearest segment.
+func (c crack) margin(x, y float64) float64 {
+	best := math.Inf(-1)
+	for i := 0; i+1 < len(c.xs); i++ {
+		ax, ay, bx, by := c.xs[i], c.ys[i], c.xs[i+1], c.ys[i+1]
+		vx, vy := bx-ax, by-ay
+		t := ((x-ax)*vx + (y-ay)*vy) / (vx*vx + vy*vy)
+		t = max(0, min(1, t))
+		d := math.Hypot(x-ax-t*vx, y-ay-t*vy)
+		best = max(best, c.ws[i]+(c.ws[i+1]-c.ws[i])*t-d)
+	}
+	return best
+}
+
+// newCrack draws a crack as a walk of 4-px steps: the heading is a base
+// direction plus a meander that reverts to it (an autoregressive process,
+// w ← 0.9 w + 0.12 Z, stationary spread about 0.28 rad) plus a jag of
+// 0.2 Z rad per step, 120-350 px long, with half-width wandering in
+// [0.9, 2.2] px.
+func newCrack(rng *rand.Rand, fw, fh, scale float64) crack {
+	n := int(uniform(rng, 120, 350)*scale/4) + 1
+	x, y := uniform(rng, 0.15*fw, 0.85*fw), uniform(rng, 0.15*fh, 0.85*fh)
+	base := uniform(rng, 0, 2*math.Pi)
+	wander := 0.0
+	hw := uniform(rng, 1.1, 2)
+	var c crack
+	for range n {
+		c.xs, c.ys, c.ws = append(c.xs, x), append(c.ys, y), append(c.ws, hw)
+		wander = 0.9*wander + 0.12*rng.NormFloat64()
+		dir := base + wander + 0.2*rng.NormFloat64()
+		x, y = x+4*math.Cos(dir), y+4*math.Sin(dir)
+		hw = min(2.2, max(0.9, hw+0.15*rng.NormFloat64()))
+	}
+	return c
+}
+
+// anisoNoise returns unit-variance noise correlated over sigmaAlong pixels
+// along the direction theta and sigmaAcross across it: white noise on a
+// grid aligned with theta, blurred separably there and sampled bilinearly
+// at the rotated pixel centres.
+func anisoNoise(rng *rand.Rand, w, h int, theta, sigmaAlong, sigmaAcross float64) []float64 {
+	// The grid covers the image diagonal plus the kernel radius 3σ on
+	// each side, so that no pixel sees the grid's replicated edge.
+	d := int(math.Ceil(math.Hypot(float64(w), float64(h))+6*max(sigmaAlong, sigmaAcross))) + 4
+	g := make([]float64, d*d)
+	for i := range g {
+		g[i] = rng.NormFloat64()
+	}
+	// Grid axis u (columns) runs along theta, v (rows) across.
+	g = blurAxes(g, d, d, sigmaAlong, sigmaAcross)
+	s, c := math.Sincos(theta)
+	cx, cy := float64(w)/2, float64(h)/2
+	half := float64(d) / 2
+	out := make([]float64, w*h)
+	var mean, sq float64
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			dx, dy := float64(x)+0.5-cx, float64(y)+0.5-cy
+			u := c*dx + s*dy + half
+			v := -s*dx + c*dy + half
+			f := sampleBilinear(g, d, d, u, v)
+			out[y*w+x] = f
+			mean += f
+		}
+	}
+	mean /= float64(w * h)
+	for _, f := range out {
+		sq += (f - mean) * (f - mean)
+	}
+	sd := math.Sqrt(sq / float64(w*h))
+	if sd == 0 {
+		sd = 1
+	}
+	for i := range out {
+		out[i] = (out[i] - mean) / sd
+	}
+	return out
+}
+
+// blurAxes blurs f by a Gaussian of σx along rows and σy along columns.
+func blurAxes(f []float64, w, h int, sx, sy float64) []float64 {
+	tmp := make([]float64, len(f))
+	kx := gaussKernel(sx)
+	rx := len(kx) / 2
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var s float64
+			for i, kv := range kx {
+				s += kv * f[y*w+min(max(x+i-rx, 0), w-1)]
+			}
+			tmp[y*w+x] = s
+		}
+	}
+	ky := gaussKernel(sy)
+	ry := len(ky) / 2
+	out := make([]float64, len(f))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var s float64
+			for i, kv := range ky {
+				s += kv * tmp[min(max(y+i-ry, 0), h-1)*w+x]
+			}
+			out[y*w+x] = s
+		}
+	}
+	return out
+}
+
+// Surface renders a machined metal surface under raking light with pits,
+// inclusions and a crack. The model:
+//
+//   - Machining texture: reflectance 1 + Grain·(0.75 A + 0.45 M + 0.3 F)/k
+//     (k normalizes the sum to standard deviation Grain), where A is grain
+//     noise correlated 25-60 px along a random direction θ and 0.6-1.2 px
+//     across it, M tool marks (a sinusoid across θ with a period of 5-12
+//     px whose phase wanders with a 1-D noise), F fine isotropic noise
+//     (σ = 0.8 px).
+//   - Cracks (1 by default, placed first): thin curvy dark lines, a meandering
+//     walk of 4-px steps (see newCrack), 120-350 px long,
+//     2-4.4 px wide (half-width wandering in [0.9, 2.2]); reflectance
+//     times a level in [0.25, 0.5] varying ±20 % along it.
+//   - Pits (4-12 per 512² by default): dark irregular blobs (see blob) of
+//     mean radius 1.5-10 px (a few to 20 px across), reflectance times
+//     [0.25, 0.55], shaded 1 - 0.35 (p-c)·l/r0 across the pit, l the light
+//     direction (the wall facing the light brighter).
+//   - Inclusions (3-10 per 512²): small irregular blobs of mean radius 2-6
+//     px, dark (reflectance times [0.45, 0.75]) or bright (times
+//     [1.3, 1.7]) with equal probability.
+//   - Objects keep 4 px apart and 2 px from the border. Edges
+//     anti-aliased (coverage clamp(1/2 + m, 0, 1)), PSF σ = 0.9 px.
+//   - Raking light Gradient^(-(1-t)), t in [0, 1] along the light
+//     direction, times 1 + 0.05 N₈₀ (broad unevenness, N₈₀ unit-variance
+//     noise smoothed by σ = 80 px).
+//   - Camera: electrons e = Photons·illumination·reflectance, shot and
+//     read noise, offset 2 % of full scale, bare metal at the brightest
+//     illumination near 60 % of full scale.
+//
+// Each crack, pit and inclusion is one truth object, labelled in that
+// order. Surface panics if o.Validate() fails.
+func Surface(o SurfaceOptions) *Scene {
+	if err := o.Validate(); err != nil {
+		panic(err)
+	}
+	o = o.withDefaults()
+	w, h := o.Width, o.Height
+	fw, fh := float64(w), float64(h)
+	rng := newRand(o.Seed, 0x73757266616365) // "surface"
+	area := fw * fh / (512 * 512)
+	grain := o.Grain
+	if grain == 0 {
+		grain = uniform(rng, 0.06, 0.12)
+	}
+	gradient := o.Gradient
+	if gradient == 0 {
+		gradient = uniform(rng, 1.5, 3)
+	}
+	nPits := o.Pits
+	if nPits == 0 {
+		nPits = max(1, int(math.Round(float64(4+rng.IntN(9))*area)))
+	}
+	nInc := o.Inclusions
+	if nInc == 0 {
+		nInc = max(1, int(math.Round(float64(3+rng.IntN(8))*area)))
+	}
+	lightAngle := uniform(rng, 0, 2*math.Pi)
+	lx, ly := math.Cos(lightAngle), math.Sin(lightAngle)
+
+	type object struct {
+		margin func(x, y float64) float64
+		box    [4]int
+		factor func(x, y float64) float64 // reflectance factor inside
+	}
+	var objs []object
+	truth := make([]int32, w*h)
+	accept := func(margin func(x, y float64) float64, box [4]int, factor func(x, y float64) float64) bool {
+		box = [4]int{max(0, box[0]), max(0, box[1]), min(w-1, box[2]), min(h-1, box[3])}
+		var pix []int
+		for y := box[1]; y <= box[3]; y++ {
+			for x := box[0]; x <= box[2]; x++ {
+				if margin(float64(x)+0.5, float64(y)+0.5) > 0 {
+					if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
+						return false
+					}
+					pix = append(pix, y*w+x)
+				}
+			}
+		}
+		if len(pix) == 0 || touchesLabelled(truth, w, h, pix, 4) {
+			return false
+		}
+		lab := make(map[int]int32, len(pix))
+		for _, p := range pix {
+			lab[p] = 1
+		}
+		if pieces4(lab, w, 1) != 1 {
+			return false
+		}
+		l := int32(len(objs) + 1)
+		for _, p := range pix {
+			truth[p] = l
+		}
+		objs = append(objs, object{margin, box, factor})
+		return true
+	}
+	blobBox := func(b blob) [4]int {
+		r := b.rmax() + 2
+		return [4]int{int(math.Floor(b.cx - r)), int(math.Floor(b.cy - r)), int(math.Ceil(b.cx + r)), int(math.Ceil(b.cy + r))}
+	}
+	const tries = 300
+	for range max(o.Cracks, 0) {
+		for range tries {
+			c := newCrack(rng, fw, fh, math.Sqrt(area))
+			box := [4]int{int(minOf(c.xs)) - 4, int(minOf(c.ys)) - 4, int(maxOf(c.xs)) + 4, int(maxOf(c.ys)) + 4}
+			level, phase, period := uniform(rng, 0.25, 0.5), uniform(rng, 0, 2*math.Pi), uniform(rng, 15, 40)
+			factor := func(x, y float64) float64 {
+				return level * (1 + 0.2*math.Sin((x+y)/period+phase))
+			}
+			if accept(c.margin, box, factor) {
+				break
+			}
+		}
+	}
+	for range max(nPits, 0) {
+		for range tries {
+			b := newBlob(rng, uniform(rng, 0, fw), uniform(rng, 0, fh), uniform(rng, 1.5, 10), 0.8)
+			depth := uniform(rng, 0.25, 0.55)
+			factor := func(x, y float64) float64 {
+				return depth * (1 - 0.35*((x-b.cx)*lx+(y-b.cy)*ly)/b.r0)
+			}
+			if accept(b.margin, blobBox(b), factor) {
+				break
+			}
+		}
+	}
+	for range max(nInc, 0) {
+		for range tries {
+			b := newBlob(rng, uniform(rng, 0, fw), uniform(rng, 0, fh), uniform(rng, 2, 6), 1)
+			f := uniform(rng, 0.45, 0.75)
+			if rng.IntN(2) == 1 {
+				f = uniform(rng, 1.3, 1.7)
+			}
+			factor := func(x, y float64) float64 { return f }
+			if accept(b.margin, blobBox(b), factor) {
+				break
+			}
+		}
+	}
+
+	// Machining texture.
+	theta := uniform(rng, 0, math.Pi)
+	along := anisoNoise(rng, w, h, theta, uniform(rng, 25, 60), uniform(rng, 0.6, 1.2))
+	fine := smoothNoise(rng, w, h, 0.8)
+	period := uniform(rng, 5, 12)
+	nx, ny := -math.Sin(theta), math.Cos(theta) // across the grain
+	dd := int(math.Ceil(math.Hypot(fw, fh))) + 4
+	jitter := smoothNoise(rng, dd, 1, 20)
+	refl := make([]float64, w*h)
+	norm := math.Sqrt(0.75*0.75 + 0.45*0.45/2 + 0.3*0.3)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			px, py := float64(x)+0.5-fw/2, float64(y)+0.5-fh/2
+			u := px*nx + py*ny
+			j := jitter[min(dd-1, max(0, int(u+float64(dd)/2)))]
+			mark := math.Sin(2*math.Pi*u/period + 1.5*j)
+			i := y*w + x
+			refl[i] = 1 + grain*(0.75*along[i]+0.45*mark+0.3*fine[i])/norm
+		}
+	}
+	for _, ob := range objs {
+		for y := max(0, ob.box[1]-1); y <= min(h-1, ob.box[3]+1); y++ {
+			for x := max(0, ob.box[0]-1); x <= min(w-1, ob.box[2]+1); x++ {
+				px, py := float64(x)+0.5, float64(y)+0.5
+				c := coverage(ob.margin(px, py))
+				if c == 0 {
+					continue
+				}
+				f := max(0.05, ob.factor(px, py))
+				refl[y*w+x] *= 1 - c*(1-f)
+			}
+		}
+	}
+	refl = blur(refl, w, h, 0.9)
+
+	broad := smoothNoise(rng, w, h, 80)
+	tmin := math.Min(0, lx*fw) + math.Min(0, ly*fh)
+	tmax := math.Max(0, lx*fw) + math.Max(0, ly*fh)
+	electrons := make([]float64, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			t := (lx*(float64(x)+0.5) + ly*(float64(y)+0.5) - tmin) / (tmax - tmin)
+			ill := math.Pow(gradient, -(1-t)) * (1 + 0.05*broad[i])
+			electrons[i] = o.Photons * ill * max(refl[i], 0)
+		}
+	}
+	maxCode := float64(int(1)<<o.BitDepth - 1)
+	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.6*maxCode/o.Photons, o.ReadNoise)
+	return &Scene{
+		Name:     fmt.Sprintf("surface-%d", o.Seed),
+		Width:    w,
+		Height:   h,
+		BitDepth: o.BitDepth,
+		Pixels:   pixels,
+		Truth:    truth,
+		Objects:  len(objs),
+	}
+}
