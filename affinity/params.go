@@ -87,6 +87,11 @@ func (p SLICParams) Validate() error {
 type RegionParams struct {
 	SigmaI float64 // sigma_I on mean features, normalized feature units
 	SigmaX float64 // sigma_X on centroid distance, pixels
+	// Contour, when set, is the edge energy (EdgeEnergy) of the w x h
+	// image, and SigmaC (> 0) the width of the intervening-contour
+	// factor exp(-IC²/SigmaC²) of each weight (see RegionGraph).
+	Contour []float32
+	SigmaC  float64
 }
 
 // Validate reports the first parameter outside its domain: both sigmas
@@ -94,6 +99,11 @@ type RegionParams struct {
 func (p RegionParams) Validate() error {
 	if err := positive("sigma-i", p.SigmaI); err != nil {
 		return err
+	}
+	if p.Contour != nil {
+		if err := positive("sigma-c", p.SigmaC); err != nil {
+			return err
+		}
 	}
 	return positive("sigma-x", p.SigmaX)
 }

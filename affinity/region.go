@@ -100,6 +100,13 @@ func Adjacency(w, h int, labels []int32, n int) *Graph {
 // a strong tie (region graphs weighted this way are common practice in
 // superpixel-based normalized cuts). Non-adjacent regions are not joined.
 //
+// With p.Contour set, each weight is also multiplied by the
+// intervening-contour factor exp(-IC_ij² / σ_C²), IC_ij the largest edge
+// energy on the segment between the two centroids (Leung and Malik 1998;
+// Malik, Belongie, Leung and Shi 2001): a thin boundary line between two
+// packed objects, which barely moves the regions' means, still parts
+// them.
+//
 // adj is Adjacency of the w x h labelling the regions come from (callers
 // that also estimate sigma_I from it build it once).
 func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, error) {
@@ -112,6 +119,14 @@ func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, erro
 	meanSide := math.Sqrt(float64(w*h) / float64(max(r.N, 1)))
 	invI2 := 1 / (p.SigmaI * p.SigmaI)
 	invX2 := 1 / (p.SigmaX * p.SigmaX)
+	if p.Contour != nil && len(p.Contour) != w*h {
+		return nil, fmt.Errorf("affinity: contour map of %d values for %dx%d", len(p.Contour), w, h)
+	}
+	var ic []float32
+	if p.Contour != nil {
+		ic = interveningContour(p.Contour, w, h, r, adj)
+	}
+	invC2 := 1 / (p.SigmaC * p.SigmaC)
 	g := &Graph{N: adj.N, RowPtr: adj.RowPtr, Col: adj.Col, Weight: make([]float32, len(adj.Weight))}
 	for i := 0; i < adj.N; i++ {
 		for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
@@ -125,6 +140,10 @@ func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, erro
 			// The expression is symmetric in i and j term by term, so both
 			// copies of the edge get bit-identical weights.
 			v := float64(adj.Weight[q]) / meanSide * math.Exp(-df*invI2) * math.Exp(-(dx*dx+dy*dy)*invX2)
+			if ic != nil {
+				c := float64(ic[q])
+				v *= math.Exp(-c * c * invC2)
+			}
 			g.Weight[q] = float32(v)
 		}
 	}

@@ -41,6 +41,10 @@ type Params struct {
 	AutoSigmaI  bool    // estimate σ_I from the image
 	SigmaX      float64 // spatial kernel width σ_X in pixels
 	AutoSigmaX  bool    // σ_X = 0.8 r (pixel graph) or 2 S (superpixels, S the grid step)
+	// Contour adds the intervening-contour cue to the superpixel graph
+	// (affinity.RegionGraph): weights fall across edges and thin lines.
+	Contour bool
+	SigmaC  float64 // σ_C of the contour cue, resolved from the image (affinity.AutoSigmaContour)
 
 	Method      string  // MethodBisect or MethodKway
 	Segments    int     // bisect: region limit (0 none); kway: K (0 from the eigengap)
@@ -49,7 +53,7 @@ type Params struct {
 	MinArea     int     // pixels: smallest region or object kept
 
 	Classes    int    // 0: no grouping; >= 2: number of intensity classes
-	Background string // "", "dark" or "bright"
+	Background string // "", "dark", "bright" or BackgroundLines
 
 	Workers   int
 	Seed      uint64
@@ -115,11 +119,15 @@ func (p Params) Validate() error {
 		return &ParamError{"classes", fmt.Sprintf("must be 0 (off) or at least 2, got %d", p.Classes)}
 	}
 	switch p.Background {
-	case "", "dark", "bright":
+	case "", "dark", "bright", BackgroundLines:
 	default:
-		return &ParamError{"background", fmt.Sprintf("must be dark or bright, got %q", p.Background)}
+		return &ParamError{"background", fmt.Sprintf("must be dark, bright or lines, got %q", p.Background)}
 	}
-	if p.Background != "" && p.Classes < 2 {
+	if p.Background == BackgroundLines {
+		if p.Classes != 0 {
+			return &ParamError{"background", "lines takes no classes (packed objects are the regions of the cut)"}
+		}
+	} else if p.Background != "" && p.Classes < 2 {
 		return &ParamError{"background", "needs --classes 2 or more"}
 	}
 	return nil
@@ -332,7 +340,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		if p.AutoSigmaI {
 			p.SigmaI = affinity.AutoRegionSigmaI(sum, adj)
 		}
-		g, err = affinity.RegionGraph(sum, adj, w, h, affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX})
+		rp := affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX}
+		if p.Contour {
+			rp.Contour = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+			p.SigmaC = affinity.AutoSigmaContour(rp.Contour, w, h, sum, adj)
+			rp.SigmaC = p.SigmaC
+		}
+		g, err = affinity.RegionGraph(sum, adj, w, h, rp)
 		if err != nil {
 			return nil, err
 		}
@@ -385,6 +399,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	res.Labels = res.Regions
 
+	if p.Background == BackgroundLines {
+		res.Labels, res.NumObjects = packedObjects(in.Luminance, w, h, reg, nreg, max(p.MinArea, 1), p.Workers)
+		stage("objects")
+	}
 	if p.Classes >= 2 {
 		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, p.Seed)
 		res.Classes = make([]int32, npix)

@@ -30,6 +30,7 @@ type settings struct {
 	Radius        int     `json:"radius"`
 	SigmaI        string  `json:"sigma-i"`
 	SigmaX        string  `json:"sigma-x"`
+	Contour       string  `json:"contour"`
 	Method        string  `json:"method"`
 	Segments      int     `json:"segments"`
 	MaxSegments   int     `json:"max-segments"`
@@ -67,13 +68,14 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.IntVar(&s.Radius, "radius", defaultRadius, "pixel graph: join pixels up to this distance (pixels)")
 	fs.StringVar(&s.SigmaI, "sigma-i", "auto", "intensity kernel width in normalized intensity units (0..1), or auto")
 	fs.StringVar(&s.SigmaX, "sigma-x", "auto", "spatial kernel width in pixels, or auto (0.8 x radius; 2 x superpixel spacing)")
+	fs.StringVar(&s.Contour, "contour", "on", "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
 	fs.StringVar(&s.Method, "method", segment.MethodBisect, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
 	fs.IntVar(&s.Segments, "segments", 0, "bisect: stop at this many regions (0 = no limit); kway: K (0 = from the largest eigengap)")
 	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, "kway with --segments 0: the largest K considered")
 	fs.Float64Var(&s.MaxNcut, "max-ncut", defaultMaxNcut, "bisect: accept a split only when its normalized cut is at most this")
 	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, "smallest region or object kept, in pixels; smaller regions merge into a neighbour, smaller objects go to the background")
 	fs.IntVar(&s.Classes, "classes", 0, "group regions into this many intensity classes (>= 2; 0 = off)")
-	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N")
+	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, "size of one pixel in --unit, for physical areas and diameters in the region table (0 = off)")
 	fs.StringVar(&s.Unit, "unit", "um", "unit of --pixel-size, used in column names")
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB)")
@@ -226,6 +228,13 @@ func (s settings) resolve(workers int) (*resolved, error) {
 		Compactness: s.Compactness, Radius: s.Radius, Method: s.Method, Segments: s.Segments,
 		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
 		Background: s.Background, Workers: workers, Seed: s.Seed,
+	}
+	switch s.Contour {
+	case "on":
+		p.Contour = true
+	case "off":
+	default:
+		return nil, usagef("--contour must be on or off, got %q", s.Contour)
 	}
 	var err error
 	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {

@@ -1,0 +1,71 @@
+package segment
+
+import (
+	"context"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/cleave-seg/cleave/segment/score"
+)
+
+// packedScene draws a k x k mosaic of square tiles of side s with thin
+// lines (2 px) between them, each tile at its own level with noise; the
+// truth marks every tile an object and the lines 0. With dark false the
+// lines are brighter than the tiles.
+func packedScene(k, s int, dark bool, seed uint64) (lum []float32, truth []int32, w int) {
+	r := rand.New(rand.NewPCG(seed, 1))
+	w = k*s + (k-1)*2
+	lum = make([]float32, w*w)
+	truth = make([]int32, w*w)
+	level := make([]float32, k*k)
+	for i := range level {
+		level[i] = 0.45 + 0.35*r.Float32()
+	}
+	for y := 0; y < w; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			tx, ty := x/(s+2), y/(s+2)
+			onLine := x%(s+2) >= s || y%(s+2) >= s
+			v := float32(0.15)
+			if !dark {
+				v = 0.95
+			}
+			if !onLine {
+				v = level[ty*k+tx]
+				truth[i] = int32(ty*k + tx + 1)
+			}
+			lum[i] = v + float32(0.02*r.NormFloat64())
+		}
+	}
+	return lum, truth, w
+}
+
+// Packed tiles with dark or bright lines come out as one object per tile
+// (the construction above is the reference: every tile is an object),
+// also when tiles next to each other have nearly the same level, which
+// only the line between them tells apart.
+func TestPackedObjects(t *testing.T) {
+	for _, dark := range []bool{true, false} {
+		lum, truth, w := packedScene(5, 24, dark, 3)
+		p := defaultParams()
+		p.Classes, p.Background, p.Contour = 0, BackgroundLines, true
+		p.Superpixels = 400
+		res, err := Run(context.Background(), Input{Width: w, Height: w, Planes: [][]float32{lum}, Luminance: lum}, p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		m := score.MatchObjects(res.Labels, truth)
+		if m.F1 < 0.95 {
+			t.Errorf("dark lines %v: %d objects, F1 %.3f (TP %d FP %d FN %d), want F1 >= 0.95", dark, res.NumObjects, m.F1, m.TP, m.FP, m.FN)
+		}
+	}
+}
+
+// With classes the lines mode is refused (it needs none).
+func TestPackedRefusesClasses(t *testing.T) {
+	p := defaultParams()
+	p.Classes, p.Background = 2, BackgroundLines
+	if err := p.Validate(); err == nil {
+		t.Error("lines with classes: no error")
+	}
+}
