@@ -5,10 +5,13 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"image/png"
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -55,19 +58,29 @@ func readCSV(t *testing.T, path string) [][]string {
 }
 
 // best.json must reproduce the tuned run: cleave segment --params best.json
-// on a tuning image gives the label map whose ARI (Hubert and Arabie 1985,
-// score.ARI, itself checked against scikit-learn) tune recorded for the
-// best setting, exactly. And the search does not depend on --workers:
-// best.json and tune.csv (but for the seconds column) are the same bytes.
+// on a tuning image gives the label map whose object F1 (score.MatchObjects,
+// hand-worked tests in segment/score) tune recorded for the best setting,
+// exactly; f1 is the documented default metric with --background. And the
+// search does not depend on --workers: with --tie-break smoother (no
+// timing in the choice) best.json and tune.csv (but for the two seconds
+// columns) are the same bytes. Progress lines go to stderr.
 func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	dir := t.TempDir()
 	sc := writeNuclei(t, dir, 7100, 2, 112)
 	outs := map[string]string{}
 	for _, w := range []string{"1", "2"} {
 		out := filepath.Join(dir, "tuned"+w)
-		stdout := runOK(t, append([]string{"tune", "--images", dir, "--truth", dir, "--out", out, "--workers", w}, smallTune...)...)
-		if !strings.Contains(stdout, "cross-validated:     held-out ari") || !strings.Contains(stdout, "best.json") {
-			t.Errorf("summary:\n%s", stdout)
+		var stdout, stderr bytes.Buffer
+		if code := run(context.Background(), append([]string{"tune", "--images", dir, "--truth", dir, "--out", out, "--workers", w, "--tie-break", "smoother"}, smallTune...), &stdout, &stderr); code != exitOK {
+			t.Fatalf("exit %d: %s", code, stderr.String())
+		}
+		for _, want := range []string{"metric:              f1 (default with --background", "best:                mean f1 ", "s per image", "cross-validated:     held-out f1", "best.json"} {
+			if !strings.Contains(stdout.String(), want) {
+				t.Errorf("summary lacks %q:\n%s", want, stdout.String())
+			}
+		}
+		if !regexp.MustCompile(`(?m)^cleave tune: \d+/\d+ settings evaluated, best mean f1 so far [0-9.]+ \(grid done\)$`).MatchString(stderr.String()) {
+			t.Errorf("stderr lacks the progress line of the grid:\n%s", stderr.String())
 		}
 		outs[w] = out
 	}
@@ -77,15 +90,27 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 		t.Errorf("best.json differs with --workers 1 and 2:\n%s\n%s", b1, b2)
 	}
 	r1, r2 := readCSV(t, filepath.Join(outs["1"], "tune.csv")), readCSV(t, filepath.Join(outs["2"], "tune.csv"))
-	secCol := len(r1[0]) - 2
-	if r1[0][secCol] != "seconds" || len(r1) != len(r2) {
+	secCol, perCol := slices.Index(r1[0], "seconds"), slices.Index(r1[0], "seconds_per_image")
+	if secCol < 0 || perCol < 0 || len(r1) != len(r2) || r1[0][7] != "f1:"+sc[0].Name {
 		t.Fatalf("csv header %v, %d vs %d rows", r1[0], len(r1), len(r2))
 	}
+	for _, m := range []string{"mean_f1", "mean_map", "mean_ari"} {
+		if !slices.Contains(r1[0], m) {
+			t.Errorf("tune.csv lacks %s: %v", m, r1[0])
+		}
+	}
+	timed := 0
 	for i := range r1 {
-		r1[i][secCol], r2[i][secCol] = "", ""
+		if i > 0 && r1[i][perCol] != "" {
+			timed++
+		}
+		r1[i][secCol], r2[i][secCol], r1[i][perCol], r2[i][perCol] = "", "", "", ""
 		if strings.Join(r1[i], ",") != strings.Join(r2[i], ",") {
 			t.Errorf("tune.csv row %d differs: %v vs %v", i, r1[i], r2[i])
 		}
+	}
+	if timed == 0 {
+		t.Error("no setting of tune.csv has its seconds per image")
 	}
 	// The grid has 2 x 2 settings; baseline, grid and refine rows all present.
 	stages := map[string]int{}
@@ -117,11 +142,15 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	if rep.CVScore == nil || rep.CVFolds != 2 || len(rep.Folds) != 2 || rep.GridSize != 4 || rep.Evaluations != len(r1)-2 {
 		t.Errorf("tune.json: %+v", rep)
 	}
-	// Find the best row in tune.csv: its per-image ARI.
+	if rep.Metric != "f1" || rep.TieBreak != "smoother" || rep.BestMetrics == nil || rep.BestMetrics.F1 != rep.Score || rep.SecondsPerImage == nil || len(rep.Tied) == 0 || rep.Widenings == nil {
+		t.Errorf("tune.json: metric %q, best metrics %+v, score %v, seconds per image %v, timed ties %d, widenings %v",
+			rep.Metric, rep.BestMetrics, rep.Score, rep.SecondsPerImage, len(rep.Tied), rep.Widenings)
+	}
+	// Find the best row in tune.csv: its per-image F1.
 	var want float64 = math.NaN()
 	for _, r := range r1[1:] {
 		if r[0] != "baseline" && r[1] == rep.Best["sigma-i"] && r[2] == rep.Best["sigma-x"] && r[3] == rep.Best["max-ncut"] {
-			want, _ = strconv.ParseFloat(r[7], 64) // ari of the first image
+			want, _ = strconv.ParseFloat(r[7], 64) // f1 of the first image
 		}
 	}
 	if math.IsNaN(want) || math.Abs(want-rep.Score) > 0.5 {
@@ -134,8 +163,8 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	// tune.csv holds 10 significant digits.
-	if got := score.ARI(labels, sc[0].Truth); math.Abs(got-want) > 1e-9 {
-		t.Errorf("segment --params best.json: ARI %.12g, tune recorded %.12g", got, want)
+	if got := score.MatchObjects(labels, sc[0].Truth).F1; math.Abs(got-want) > 1e-9 {
+		t.Errorf("segment --params best.json: object F1 %.12g, tune recorded %.12g", got, want)
 	}
 	// tune.png is a PNG of the documented size.
 	f, err := os.Open(filepath.Join(outs["1"], "tune.png"))
@@ -187,8 +216,9 @@ func TestParseSpec(t *testing.T) {
 	}
 }
 
-// The chosen setting is the best row of tune.csv for the metric: the
-// largest mean ARI, or the smallest mean VI (--metric vi is minimized).
+// The chosen setting is the best row of tune.csv for the metric, within
+// the documented tie tolerance (relative 1e-4): the largest mean ARI or
+// mAP, or the smallest mean VI (--metric vi is minimized).
 func TestTuneChoosesBestRow(t *testing.T) {
 	dir := t.TempDir()
 	writeNuclei(t, dir, 7300, 2, 112)
@@ -196,7 +226,7 @@ func TestTuneChoosesBestRow(t *testing.T) {
 		metric string
 		col    string
 		sign   float64
-	}{{"ari", "mean_ari", 1}, {"vi", "mean_vi", -1}} {
+	}{{"ari", "mean_ari", 1}, {"map", "mean_map", 1}, {"vi", "mean_vi", -1}} {
 		out := filepath.Join(dir, "tuned-"+c.metric)
 		args := append([]string{"tune", "--images", dir, "--truth", dir, "--out", out, "--metric", c.metric}, smallTune...)
 		runOK(t, args...)
@@ -223,8 +253,8 @@ func TestTuneChoosesBestRow(t *testing.T) {
 		if err := json.Unmarshal(raw, &rep); err != nil {
 			t.Fatal(err)
 		}
-		if math.Abs(c.sign*rep.Score-extreme) > 1e-9 {
-			t.Errorf("--metric %s: score %v, best row of tune.csv %v", c.metric, rep.Score, c.sign*extreme)
+		if math.Abs(c.sign*rep.Score-extreme) > 1e-9+tieRelative*math.Abs(extreme) || rep.Metric != c.metric || rep.MetricChoice != "--metric" {
+			t.Errorf("--metric %s: tune.json metric %q (%s), score %v, best row of tune.csv %v", c.metric, rep.Metric, rep.MetricChoice, rep.Score, c.sign*extreme)
 		}
 	}
 }
@@ -268,7 +298,8 @@ func TestTuneErrors(t *testing.T) {
 		want string
 	}{
 		{"no_images", []string{"tune", "--truth", dir, "--out", out}, exitUsage, "--images"},
-		{"metric", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--metric", "speed"}, exitUsage, "--metric"},
+		{"metric", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--metric", "speed"}, exitUsage, `--metric must be one of f1, map, ari, dice, bf, covering, vi, got "speed"`},
+		{"tie_break", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--tie-break", "slower"}, exitUsage, "--tie-break must be faster or smoother"},
 		{"spec", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--sigma-x", "1:2"}, exitUsage, "--sigma-x"},
 		{"fixed_param", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--background", "grey", "--classes", "2"}, exitUsage, "background"},
 		{"no_pairs", []string{"tune", "--images", lone, "--truth", lone, "--out", out}, exitFail, "no image"},
@@ -298,5 +329,187 @@ func TestTuneInterrupted(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(out, "best.json")); err == nil {
 		t.Error("best.json written after an interrupt")
+	}
+}
+
+// The metric tune maximizes: the one given, else the documented default
+// (object F1 with --background, since objects are what users count; ARI
+// without, when there are no objects). An unknown name is a usage error
+// naming the flag and the allowed values.
+func TestTuneMetricChoice(t *testing.T) {
+	for _, c := range []struct {
+		given, background string
+		want, why         string
+		usage             bool
+	}{
+		{"", "dark", "f1", "default with --background", false},
+		{"", "bright", "f1", "default with --background", false},
+		{"", "", "ari", "default without --background", false},
+		{"map", "dark", "map", "--metric", false},
+		{"ari", "dark", "ari", "--metric", false},
+		{"f1", "", "f1", "--metric", false},
+		{"vi", "", "vi", "--metric", false},
+		{"mAP", "dark", "", "", true},
+		{"speed", "", "", "", true},
+	} {
+		got, why, err := chooseMetric(c.given, c.background)
+		if c.usage {
+			var u *usageError
+			if !errors.As(err, &u) || !strings.Contains(err.Error(), "--metric must be one of f1, map, ari") || !strings.Contains(err.Error(), c.given) {
+				t.Errorf("%q: error %v, want a usage error naming --metric, the allowed values and %q", c.given, err, c.given)
+			}
+			continue
+		}
+		if err != nil || got != c.want || !strings.HasPrefix(why, c.why) {
+			t.Errorf("--metric %q --background %q: %q (%s) %v; want %q (%s...)", c.given, c.background, got, why, err, c.want, c.why)
+		}
+	}
+}
+
+// synthTuner is a tuner over sigma-x alone (grid sx, the other parameters
+// fixed) on two images whose object F1 is f(sigma-x) and whose seconds
+// per image are secs(sigma-x): the search code on an objective known in
+// closed form, without segmenting.
+func synthTuner(sx []float64, f, secs func(sx float64, img int) float64) *tuner {
+	t := &tuner{ctx: context.Background(), metric: "f1", workers: 1, cache: map[string]*evaluation{},
+		images: make([]*loaded, 2), names: []string{"a", "b"}}
+	t.dims[dimSigmaI] = defaultDim("sigma-i", []float64{0.02}, false)
+	t.dims[dimSigmaX] = defaultDim("sigma-x", slices.Clone(sx), false)
+	t.dims[dimMaxNcut] = defaultDim("max-ncut", []float64{0.15}, false)
+	t.dims[dimRadius] = defaultDim("radius", []float64{5}, true)
+	t.dims[dimSuperpixels] = dim{name: "superpixels", auto: true}
+	t.dims[dimCompactness] = defaultDim("compactness", []float64{20}, false)
+	t.evalFn = func(p point, img int) (metrics, error) {
+		v := f(p[dimSigmaX], img)
+		if math.IsNaN(v) {
+			return metrics{}, errors.New("synthetic failure")
+		}
+		return metrics{F1: v}, nil
+	}
+	t.timeFn = func(p point, img int) (float64, error) { return secs(p[dimSigmaX], 0), nil }
+	return t
+}
+
+// Edge widening on an objective with its peak at opt, F1 = 1/(1 +
+// ln(sx/opt)^2) (a closed form chosen for the test: one maximum, at opt),
+// from the grid 4, 8, 16 (log step ln 2). An optimum inside the range
+// widens nothing; one outside widens the range toward it, one grid step
+// (a factor 2) at a time, at most twice, and the search then finds a
+// better setting outside the initial range; a plateau reaching inside the
+// range widens nothing.
+func TestTuneWidensAtTheEdge(t *testing.T) {
+	peak := func(opt float64) func(float64, int) float64 {
+		return func(sx float64, _ int) float64 { l := math.Log(sx / opt); return 1 / (1 + l*l) }
+	}
+	for _, c := range []struct {
+		name     string
+		f        func(float64, int) float64
+		side     string
+		n        int     // widenings expected
+		lo, hi   float64 // where the best must lie
+		outsides bool    // the best lies outside 4..16
+	}{
+		{"inside", peak(10), "", 0, 9, 11, false},
+		{"above", peak(40), "high", 2, 36, 44, true},
+		{"below", peak(1.5), "low", 2, 1.35, 1.65, true},
+		// Far away: two widenings (16 -> 32 -> 64), then refinement up to
+		// one more grid step (128) and no further.
+		{"far_above", peak(1000), "high", 2, 64, 128, true},
+		// A plateau: refinement may step one grid step beyond (to 32).
+		{"plateau", func(float64, int) float64 { return 0.9 }, "", 0, 4, 32, false},
+	} {
+		tn := synthTuner([]float64{4, 8, 16}, c.f, func(float64, int) float64 { return 1 })
+		var said []string
+		res, err := tn.search([]int{0, 1}, 8, func(m string) { said = append(said, m) })
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(res.widened) != c.n || len(said) != c.n {
+			t.Errorf("%s: %d widenings %+v, %d messages; want %d", c.name, len(res.widened), res.widened, len(said), c.n)
+		}
+		for i, w := range res.widened {
+			if w.Parameter != "sigma-x" || w.Side != c.side || !strings.Contains(said[i], "sigma-x") || !strings.Contains(said[i], "widened") {
+				t.Errorf("%s: widening %+v, message %q", c.name, w, said[i])
+			}
+		}
+		got := res.best.pt[dimSigmaX]
+		if got < c.lo || got > c.hi {
+			t.Errorf("%s: best sigma-x %v, want within [%v, %v]", c.name, got, c.lo, c.hi)
+		}
+		if c.outsides && !(tn.objective(res.best, []int{0, 1}) > c.f(16, 0)+1e-3 || tn.objective(res.best, []int{0, 1}) > c.f(4, 0)+1e-3) {
+			t.Errorf("%s: widening did not improve on the initial range", c.name)
+		}
+		if c.n == maxWidenings && len(res.dims[dimSigmaX].values) != 3+maxWidenings {
+			t.Errorf("%s: widened grid %v", c.name, res.dims[dimSigmaX].values)
+		}
+	}
+}
+
+// Ties (objectives within a relative 1e-4) go to the faster setting; of
+// settings within 1/speedMargin of the fastest median time, to the
+// smoother (larger sigma-x). Grid 4, 8, 16 only (budget 0); the objective
+// and the seconds are given (hand-made cases).
+func TestTuneTieBreakFaster(t *testing.T) {
+	flat := func(float64, int) float64 { return 0.9 }
+	linear := func(sx float64, _ int) float64 { return sx }
+	for _, c := range []struct {
+		name string
+		f    func(float64, int) float64
+		secs func(float64, int) float64
+		want float64
+	}{
+		{"faster_wins", flat, linear, 4},
+		{"equal_speed_smoother_wins", flat, func(float64, int) float64 { return 1 }, 16},
+		{"within_margin_smoother_wins", flat, func(sx float64, _ int) float64 { return map[float64]float64{4: 0.9, 8: 0.95, 16: 1}[sx] }, 16},
+		{"tied_within_1e-4", func(sx float64, _ int) float64 {
+			if sx == 4 {
+				return 0.9 * (1 - 5e-5)
+			}
+			return 0.9
+		}, linear, 4},
+		{"not_tied_at_1e-3", func(sx float64, _ int) float64 {
+			if sx == 4 {
+				return 0.9 * (1 - 1e-3)
+			}
+			return 0.9
+		}, linear, 8},
+	} {
+		tn := synthTuner([]float64{4, 8, 16}, c.f, c.secs)
+		res, err := tn.search([]int{0, 1}, 0, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := res.best.pt[dimSigmaX]; got != c.want || len(res.widened) != 0 {
+			t.Errorf("%s: chose sigma-x %v (widenings %v), want %v", c.name, got, res.widened, c.want)
+		}
+		if s := tn.secondsPerImage(res.best, []int{0, 1}); s != c.secs(c.want, 0) {
+			t.Errorf("%s: seconds per image %v, want %v", c.name, s, c.secs(c.want, 0))
+		}
+	}
+}
+
+// A fold whose choice fails on its held-out image records why in its
+// result (tune.json's fold_results[].error), and the cross-validated score
+// is absent. Image b fails for sigma-x >= 16, where image a scores best.
+func TestTuneFoldErrorRecorded(t *testing.T) {
+	tn := synthTuner([]float64{4, 8, 16}, func(sx float64, img int) float64 {
+		if img == 1 && sx >= 16 {
+			return math.NaN()
+		}
+		return 1 / (1 + math.Abs(math.Log(sx/16)))
+	}, func(float64, int) float64 { return 1 })
+	folds, cv, err := tn.crossValidate(2, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(folds) != 2 || !math.IsNaN(cv) {
+		t.Fatalf("folds %+v, cv %v", folds, cv)
+	}
+	f := folds[1]
+	if f.HeldScore != nil || !strings.Contains(f.Error, "held-out b") || !strings.Contains(f.Error, "synthetic failure") {
+		t.Errorf("fold holding b: held-out score %v, error %q", f.HeldScore, f.Error)
+	}
+	if folds[0].Error != "" || folds[0].HeldScore == nil {
+		t.Errorf("fold holding a: %+v", folds[0])
 	}
 }

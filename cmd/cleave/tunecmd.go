@@ -27,10 +27,12 @@ const tuneExample = `Example (tune on the shipped nuclei scenes, then use the re
   cleave segment --params tuned/best.json --out results examples/nuclei/nuclei-1.png
 
 The first command searches sigma-i, sigma-x and max-ncut (default ranges
-around the automatic values), writes tuned/tune.csv, tune.png, tune.json
-and best.json, and prints the best and the cross-validated score. Search a
-range yourself with, e.g., --sigma-x 4:32:5 (5 log-spaced values) or
---radius 3,5,8; one value fixes a parameter.
+around the automatic values) for the best mean object F1 (the default with
+--background), writes tuned/tune.csv, tune.png, tune.json and best.json,
+and prints the best with its other scores and seconds per image, and the
+cross-validated score. Search a range yourself with, e.g., --sigma-x
+4:32:5 (5 log-spaced values) or --radius 3,5,8; one value fixes a
+parameter. --metric map tunes for mean average precision instead.
 `
 
 func tuneHelp(w io.Writer) {
@@ -42,10 +44,33 @@ Image NAME.ext in --images goes with the file in --truth whose stem is NAME,
 NAME.truth, NAME_mask or NAME_truth (both may be one folder). Every setting
 of a coarse log-spaced grid is segmented and scored on every image, then a
 pattern search refines the best within --budget new settings; the mean
---metric over the images decides, ties going to the smoother setting (wider
-kernels, smaller max-ncut). --folds K cross-validation reports the score to
-expect on new images. Images are decoded once; segmentations run in
-parallel, one thread each, so results do not depend on --workers.
+--metric over the images decides. When the best lies on an end of the
+range of a continuous parameter (sigma-i, sigma-x, max-ncut, compactness
+with two or more values), and so do all settings tied with it, that range
+is widened by one grid step outward
+and the search runs again: at most %d times per parameter, and again only
+while it improves the score (stderr and tune.json say so). --folds K
+cross-validation reports the score to expect on new images. Images are
+decoded once; segmentations run in parallel, one thread each, so scores do
+not depend on --workers.
+
+Metric: with --background the default is f1, object F1 at IoU > 0.5: it
+counts objects found, missed, split and merged, which is what users count;
+map (mean average precision over IoU 0.50:0.95, Caicedo et al. 2019) also
+rewards outlines exact to a pixel or two, which hand-drawn masks rarely
+support. Without --background there are no objects and the default is
+ari. Every setting is still scored with every metric (tune.csv: mean ari,
+f1, map, ...).
+
+Ties: scores within a relative %g of the best are equal. Up to %d tied
+settings are timed (one segmentation per image on one thread, as many at
+once as --workers, without the search's shared work: the seconds 'cleave
+segment --params' spends per decoded image); the fastest wins, and of settings
+within %.0f%% of the fastest median time, the smoother (wider kernels,
+then smaller max-ncut). The choice's median seconds per image is reported.
+Timings vary with the machine's load, so with ties best.json may differ
+between runs; --tie-break smoother keeps ties on the smoother setting
+untimed, and the choice never depends on the clock.
 
 %s
 Flags:
@@ -55,15 +80,19 @@ tune.csv (every setting evaluated: parameters, score per image, means,
 seconds), tune.png (mean score over sigma-i x sigma-x at the best other
 settings), tune.json (scores, search space, evaluations).
 
+Progress goes to stderr: settings evaluated of those planned (at most) and
+the best mean score so far; on a terminal one line, else one per stage.
+
 Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
 
-%s`, tuneExample, fs.FlagUsagesWrapped(100), caution)
+%s`, maxWidenings, tieRelative, maxTimed, 100*(1/speedMargin-1), tuneExample, fs.FlagUsagesWrapped(100), caution)
 }
 
 // tuneOptions are tune's own flags.
 type tuneOptions struct {
 	images, truth, out string
 	metric             string
+	tieBreak           string
 	budget, folds      int
 	workers            int
 	tolerance          float64
@@ -90,8 +119,9 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.images, "images", "", "folder of images to tune on")
 	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
-	fs.StringVar(&o.metric, "metric", "ari", "score to maximize: ari, f1, dice, bf, covering, or vi (minimized)")
-	fs.IntVar(&o.budget, "budget", 8, "most new settings the refinement after the grid evaluates (per search; 0 = grid only)")
+	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(tuneMetrics, ", ")+" (vi is minimized); default f1 with --background, else ari")
+	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (timed; the choice may vary with the machine's load) or smoother (never timed, so best.json is the same on every run)")
+	fs.IntVar(&o.budget, "budget", 8, "most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only)")
 	fs.IntVar(&o.folds, "folds", 3, "K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off)")
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf")
 	for d := 0; d < numDims; d++ {
@@ -115,7 +145,22 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	return fs, s, o
 }
 
-var tuneMetrics = []string{"ari", "f1", "dice", "bf", "covering", "vi"}
+var tuneMetrics = []string{"f1", "map", "ari", "dice", "bf", "covering", "vi"}
+
+// chooseMetric is the --metric given, or the default: object F1 when
+// objects are segmented (--background), ARI otherwise. It returns the
+// metric and why it was chosen.
+func chooseMetric(given, background string) (string, string, error) {
+	switch {
+	case given != "" && !contains(tuneMetrics, given):
+		return "", "", usagef("--metric must be one of %s, got %q", strings.Join(tuneMetrics, ", "), given)
+	case given != "":
+		return given, "--metric", nil
+	case background != "":
+		return "f1", "default with --background: objects counted", nil
+	}
+	return "ari", "default without --background: no objects to count", nil
+}
 
 // tuneOutputs are the files tune writes into --out.
 var tuneOutputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
@@ -137,24 +182,58 @@ func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 
 // tuneReport is tune.json.
 type tuneReport struct {
-	Tool        string            `json:"tool"`
-	Version     string            `json:"version"`
-	Metric      string            `json:"metric"`
-	Score       float64           `json:"score"`
-	GridScore   *float64          `json:"grid_score"`
-	Baseline    *float64          `json:"automatic_score"`
-	CVScore     *float64          `json:"cross_validated_score"`
-	CVFolds     int               `json:"folds"`
-	Folds       []foldResult      `json:"fold_results,omitempty"`
-	Best        map[string]string `json:"best"`
-	Space       map[string]any    `json:"search_space"`
-	Evaluations int               `json:"evaluations"`
-	GridSize    int               `json:"grid_settings"`
-	Refined     int               `json:"refined_settings"`
-	Budget      int               `json:"budget"`
-	Images      []string          `json:"images"`
-	Unpaired    []string          `json:"unpaired_images"`
-	Seconds     float64           `json:"seconds"`
+	Tool            string            `json:"tool"`
+	Version         string            `json:"version"`
+	Metric          string            `json:"metric"`
+	MetricChoice    string            `json:"metric_chosen_by"`
+	Score           float64           `json:"score"`
+	BestMetrics     *metrics          `json:"best_mean_metrics"`
+	SecondsPerImage *float64          `json:"seconds_per_image"`
+	Timing          string            `json:"timing"`
+	TieRelative     float64           `json:"tie_tolerance_relative"`
+	TieBreak        string            `json:"tie_break"`
+	Tied            []tiedSetting     `json:"timed_tied_settings"`
+	GridScore       *float64          `json:"grid_score"`
+	Baseline        *float64          `json:"automatic_score"`
+	BaselineMetrics *metrics          `json:"automatic_mean_metrics"`
+	CVScore         *float64          `json:"cross_validated_score"`
+	CVFolds         int               `json:"folds"`
+	CVError         string            `json:"cross_validation_error,omitempty"`
+	Folds           []foldResult      `json:"fold_results,omitempty"`
+	Best            map[string]string `json:"best"`
+	Space           map[string]any    `json:"search_space"`
+	Widenings       []widening        `json:"widenings"`
+	Evaluations     int               `json:"evaluations"`
+	GridSize        int               `json:"grid_settings"`
+	Refined         int               `json:"refined_settings"`
+	WidenedSettings int               `json:"widened_settings"`
+	Budget          int               `json:"budget"`
+	Images          []string          `json:"images"`
+	Unpaired        []string          `json:"unpaired_images"`
+	Seconds         float64           `json:"seconds"`
+}
+
+// tiedSetting is a setting tied with the best that was timed.
+type tiedSetting struct {
+	Params          map[string]string `json:"params"`
+	Score           float64           `json:"score"`
+	SecondsPerImage *float64          `json:"seconds_per_image"`
+	Chosen          bool              `json:"chosen"`
+}
+
+// timingNote says how seconds_per_image is measured.
+const timingNote = "median over the images of one segmentation's seconds on one thread (as many at once as --workers), without the search's shared work, decoding excluded"
+
+// meanOf is the mean of every metric of e over the images, or nil when an
+// image failed.
+func meanOf(e *evaluation) *metrics {
+	for _, m := range e.errs {
+		if m != "" {
+			return nil
+		}
+	}
+	m := meanMetrics(e.perImage)
+	return &m
 }
 
 func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
@@ -169,8 +248,8 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		return exitUsage, usagef("--truth is required")
 	case o.out == "":
 		return exitUsage, usagef("--out is required")
-	case !contains(tuneMetrics, o.metric):
-		return exitUsage, usagef("--metric must be one of %s, got %q", strings.Join(tuneMetrics, ", "), o.metric)
+	case o.tieBreak != "faster" && o.tieBreak != "smoother":
+		return exitUsage, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
 	case o.budget < 0:
 		return exitUsage, usagef("--budget must be 0 or more, got %d", o.budget)
 	case o.folds < 0:
@@ -180,7 +259,12 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	case o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0):
 		return exitUsage, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
 	}
-	t := &tuner{ctx: ctx, base: *s, workers: defaultWorkers(o.workers), metric: o.metric, tol: o.tolerance, cache: map[string]*evaluation{}}
+	metric, metricWhy, err := chooseMetric(o.metric, s.Background)
+	if err != nil {
+		return exitUsage, err
+	}
+	t := &tuner{ctx: ctx, base: *s, workers: defaultWorkers(o.workers), metric: metric, tol: o.tolerance, cache: map[string]*evaluation{},
+		smootherTies: o.tieBreak == "smoother"}
 	given := [numDims]bool{}
 	for d := 0; d < numDims; d++ {
 		if o.space[d] == "" {
@@ -257,11 +341,15 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitUsage, err
 	}
+	t.prog = newTuneProgress(stderr, metric)
+	defer t.prog.finish()
+	t.prog.plan(1)
 	baseline := t.newEvaluation(point{}, "baseline", "baseline")
 	used, err := t.run([]*evaluation{baseline}, []segment.Params{br.params})
 	if err != nil {
 		return exitFail, err
 	}
+	t.prog.stage("automatic settings")
 	var autoI, autoX []float64
 	for j := range t.images {
 		if baseline.errs[j] == "" {
@@ -303,31 +391,40 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	for _, in := range t.images {
 		in.cache = &segment.Cache{Ceiling: slices.Max(t.dims[dimMaxNcut].values)}
 	}
-	gridPts := t.gridPoints()
-	grid, err := t.evaluate(gridPts, "grid")
-	if err != nil {
-		return exitFail, err
-	}
-	var folds []foldResult
-	var cv *float64
+	gridPts := gridPoints(&t.dims)
 	k := o.folds
 	if k > len(t.images) {
 		k = len(t.images)
 	}
+	searches := 1
 	if k >= 2 {
-		f, v, err := t.crossValidate(grid, k, o.budget)
+		searches += k
+	}
+	t.prog.plan(len(gridPts) + searches*o.budget)
+	if _, err := t.evaluate(gridPts, "grid"); err != nil {
+		return exitFail, err
+	}
+	t.prog.stage("grid")
+	var folds []foldResult
+	var cv *float64
+	if k >= 2 {
+		f, v, err := t.crossValidate(k, o.budget)
 		if err != nil {
 			return exitFail, err
 		}
 		folds, cv = f, finite(v)
 	}
-	gridBest, best, err := t.search(grid, all, o.budget)
+	res, err := t.search(all, o.budget, t.prog.say)
 	if err != nil {
 		return exitFail, err
 	}
+	t.prog.stage("search")
+	t.prog.finish()
+	gridBest, best := res.gridBest, res.best
 	if math.IsInf(t.objective(best, all), -1) {
 		return exitFail, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.order))
 	}
+	t.dims = res.dims // the ranges as widened, for tune.png and tune.json
 
 	// Outputs.
 	if err := os.MkdirAll(o.out, 0o755); err != nil {
@@ -336,12 +433,26 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	bestParams := t.paramsFile(best.pt)
 	bv := t.value(baseline, all)
 	rep := tuneReport{
-		Tool: "cleave", Version: version, Metric: o.metric, Score: t.value(best, all), GridScore: finite(t.value(gridBest, all)),
+		Tool: "cleave", Version: version, Metric: metric, MetricChoice: metricWhy, Score: t.value(best, all),
+		BestMetrics: meanOf(best), SecondsPerImage: finite(t.secondsPerImage(best, all)), Timing: timingNote,
+		TieRelative: tieRelative, TieBreak: o.tieBreak, GridScore: finite(t.value(gridBest, all)), BaselineMetrics: meanOf(baseline),
 		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
-		GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
+		Widenings: res.widened, GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
 	}
 	if rep.Unpaired == nil {
 		rep.Unpaired = []string{}
+	}
+	if rep.Widenings == nil {
+		rep.Widenings = []widening{}
+	}
+	for _, e := range res.ties {
+		rep.Tied = append(rep.Tied, tiedSetting{Params: t.paramStrings(e.pt), Score: t.value(e, all),
+			SecondsPerImage: finite(t.secondsPerImage(e, all)), Chosen: e == best})
+	}
+	for _, f := range folds {
+		if f.Error != "" && rep.CVError == "" {
+			rep.CVError = f.Error
+		}
 	}
 	if !math.IsNaN(bv) {
 		rep.Baseline = &bv
@@ -353,17 +464,26 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		dm := t.dims[d]
 		if dm.auto {
 			rep.Space[dm.name] = "auto"
-		} else {
-			rep.Space[dm.name] = map[string]any{"spec": dm.spec, "grid": dm.values, "refined": dm.refinable()}
+			continue
 		}
+		n := 0
+		for _, w := range res.widened {
+			if w.Parameter == dm.name {
+				n++
+			}
+		}
+		rep.Space[dm.name] = map[string]any{"spec": dm.spec, "grid": dm.values, "refined": dm.refinable(), "widened": n}
 	}
 	for _, e := range t.order {
-		if e.stage != "baseline" {
-			rep.Evaluations++
-		}
-		if e.stage == "refine" {
+		switch e.stage {
+		case "baseline":
+			continue
+		case "refine":
 			rep.Refined++
+		case "widen":
+			rep.WidenedSettings++
 		}
+		rep.Evaluations++
 	}
 	writes := []struct {
 		name string
@@ -460,12 +580,18 @@ func writeJSON(w io.Writer, v any) error {
 }
 
 // csvMeans are the metrics whose mean over the images tune.csv lists.
-var csvMeans = []string{"ari", "vi", "dice", "f1", "bf", "covering"}
+var csvMeans = []string{"ari", "vi", "dice", "f1", "map", "bf", "covering"}
 
 // writeCSV writes every evaluation in the order evaluated: its stage, the
-// parameters, the tuned metric per image, the means and the seconds.
+// parameters, the tuned metric per image, the means, the seconds (with
+// the shared work) and, for settings timed for the tie-break, the median
+// seconds per image.
 func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 	cw := csv.NewWriter(w)
+	all := make([]int, len(t.images))
+	for i := range all {
+		all[i] = i
+	}
 	head := []string{"stage"}
 	head = append(head, dimNames[:]...)
 	for _, n := range t.names {
@@ -474,7 +600,7 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 	for _, m := range csvMeans {
 		head = append(head, "mean_"+m)
 	}
-	head = append(head, "seconds", "error")
+	head = append(head, "seconds", "seconds_per_image", "error")
 	if err := cw.Write(head); err != nil {
 		return err
 	}
@@ -512,7 +638,11 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 				row = append(row, strconv.FormatFloat(sum/float64(len(t.images)), 'g', 10, 64))
 			}
 		}
-		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), errText)
+		per := ""
+		if s := t.secondsPerImage(e, all); !math.IsNaN(s) {
+			per = strconv.FormatFloat(s, 'f', 3, 64)
+		}
+		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), per, errText)
 		if err := cw.Write(row); err != nil {
 			return err
 		}
@@ -544,15 +674,43 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	if len(t.images) == 1 {
 		plural = ""
 	}
-	fmt.Fprintf(w, "tuned on %d image%s: %d grid + %d refined settings, %.1f s\n", len(t.images), plural, rep.GridSize, rep.Refined, rep.Seconds)
+	widened := ""
+	if rep.WidenedSettings > 0 {
+		widened = fmt.Sprintf(" + %d widened", rep.WidenedSettings)
+	}
+	fmt.Fprintf(w, "tuned on %d image%s: %d grid + %d refined%s settings, %.1f s\n", len(t.images), plural, rep.GridSize, rep.Refined, widened, rep.Seconds)
+	fmt.Fprintf(w, "metric:              %s (%s)\n", rep.Metric, rep.MetricChoice)
+	others := func(m *metrics) string {
+		if m == nil {
+			return ""
+		}
+		var p []string
+		for _, n := range []string{"f1", "map", "ari"} {
+			if n != rep.Metric {
+				p = append(p, fmt.Sprintf("%s %.4f", n, m.get(n)))
+			}
+		}
+		return "; " + strings.Join(p, ", ")
+	}
 	if rep.Baseline != nil {
-		fmt.Fprintf(w, "automatic settings:  mean %s %.4f\n", rep.Metric, *rep.Baseline)
+		fmt.Fprintf(w, "automatic settings:  mean %s %.4f%s\n", rep.Metric, *rep.Baseline, others(rep.BaselineMetrics))
 	}
 	var parts []string
 	for d := 0; d < numDims; d++ {
 		parts = append(parts, dimNames[d]+" "+rep.Best[dimNames[d]])
 	}
-	fmt.Fprintf(w, "best:                mean %s %.4f  (%s)\n", rep.Metric, rep.Score, strings.Join(parts, ", "))
+	per := "time not measured"
+	if rep.SecondsPerImage != nil {
+		per = fmt.Sprintf("%.3f s per image", *rep.SecondsPerImage)
+	}
+	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
+	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
+	if n := len(rep.Tied); n > 1 {
+		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g) were timed; the fastest, or the smoother within %.0f%% of its time, chosen (see tune.json)\n", n, rep.TieRelative, 100*(1/speedMargin-1))
+	}
+	for _, wd := range rep.Widenings {
+		fmt.Fprintf(w, "widened:             %s beyond its %s end %s to %s\n", wd.Parameter, wd.Side, fmtValue(wd.Edge), fmtValue(wd.Added))
+	}
 	if rep.CVScore != nil {
 		kind := fmt.Sprintf("%d-fold", rep.CVFolds)
 		if rep.CVFolds == len(t.images) {
@@ -560,7 +718,11 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 		}
 		fmt.Fprintf(w, "cross-validated:     held-out %s %.4f (%s; expect about this on new images)\n", rep.Metric, *rep.CVScore, kind)
 	} else if rep.CVFolds >= 2 {
-		fmt.Fprintf(w, "cross-validated:     no score: a fold's choice failed on a held-out image (see tune.json)\n")
+		why := rep.CVError
+		if why == "" {
+			why = "a fold's choice failed (see tune.json)"
+		}
+		fmt.Fprintf(w, "cross-validated:     no score: %s\n", why)
 	} else {
 		fmt.Fprintf(w, "cross-validated:     not run (needs --folds >= 2 and at least 2 images)\n")
 	}

@@ -165,7 +165,11 @@ type evaluation struct {
 	stage    string
 	perImage []metrics
 	errs     []string // per image, "" when it segmented
-	seconds  float64  // segmentation wall time summed over images
+	seconds  float64  // segmentation wall time summed over images (with the shared cache)
+	// imgSeconds are the seconds of one segmentation per image without the
+	// shared cache (see timeSetting); nil until timed.
+	imgSeconds []float64
+	timeErr    string
 }
 
 // tuner runs the search. Every setting is evaluated on every image and
@@ -182,6 +186,15 @@ type tuner struct {
 	tol     float64
 	cache   map[string]*evaluation
 	order   []*evaluation
+	prog    *tuneProgress // nil: no progress lines
+	// smootherTies keeps ties on the smoother setting without timing them
+	// (--tie-break smoother: the choice then never depends on the clock).
+	smootherTies bool
+
+	// evalFn and timeFn, when set, replace segmentation and its timing by
+	// a given objective (the tests' synthetic searches).
+	evalFn func(p point, img int) (metrics, error)
+	timeFn func(p point, img int) (float64, error)
 }
 
 // settingsAt is the full settings of a point: the fixed settings with the
@@ -230,6 +243,20 @@ func (t *tuner) evaluate(points []point, stage string) ([]*evaluation, error) {
 	if len(fresh) == 0 {
 		return out, nil
 	}
+	if t.evalFn != nil {
+		for _, e := range fresh {
+			for j := range t.images {
+				m, err := t.evalFn(e.pt, j)
+				if err != nil {
+					e.errs[j] = err.Error()
+				}
+				e.perImage[j] = m
+			}
+			t.order = append(t.order, e)
+			t.settingDone(e)
+		}
+		return out, nil
+	}
 	params := make([]segment.Params, len(fresh))
 	for i, e := range fresh {
 		r, err := t.settingsAt(e.pt).resolve(1)
@@ -256,6 +283,10 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 	for i := range used {
 		used[i] = make([]segment.Params, nImg)
 	}
+	left := make([]atomic.Int32, len(es))
+	for i := range left {
+		left[i].Store(int32(nImg))
+	}
 	var next atomic.Int64
 	var wg sync.WaitGroup
 	for w := 0; w < min(t.workers, nTasks); w++ {
@@ -278,6 +309,9 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 					used[i][j] = res.Params
 				}
 				secs[k] = time.Since(start).Seconds()
+				if left[i].Add(-1) == 0 {
+					t.settingDone(es[i])
+				}
 			}
 		}()
 	}
@@ -292,6 +326,18 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 		t.order = append(t.order, e)
 	}
 	return used, nil
+}
+
+// settingDone reports an evaluated setting to the progress line.
+func (t *tuner) settingDone(e *evaluation) {
+	if t.prog == nil {
+		return
+	}
+	all := make([]int, len(t.images))
+	for i := range all {
+		all[i] = i
+	}
+	t.prog.settingDone(t.value(e, all))
 }
 
 // newEvaluation is an empty evaluation of a point.
@@ -324,18 +370,34 @@ func (t *tuner) objective(e *evaluation, imgs []int) float64 {
 	return v
 }
 
-// tieTolerance: objectives closer than this are equal and the smoother
-// setting wins.
-const tieTolerance = 1e-12
+// tieRelative: two objectives whose difference is at most this fraction
+// of the larger magnitude (and at least 1e-12 apart absolutely) are a tie.
+// 1e-4 is far below what a few annotated images can tell apart (one
+// object in 100 changes F1 by about 1e-2).
+const tieRelative = 1e-4
+
+// tied reports whether two objectives are equal within tieRelative.
+func tied(a, b float64) bool {
+	if math.IsInf(a, 0) || math.IsInf(b, 0) {
+		return a == b
+	}
+	return math.Abs(a-b) <= math.Max(1e-12, tieRelative*math.Max(math.Abs(a), math.Abs(b)))
+}
 
 // better reports whether a beats b on imgs: a higher objective, or an
-// equal one and a smoother setting.
+// equal one (within tieRelative) and a smoother setting.
 func (t *tuner) better(a, b *evaluation, imgs []int) bool {
 	oa, ob := t.objective(a, imgs), t.objective(b, imgs)
-	if math.Abs(oa-ob) > tieTolerance || math.IsInf(oa, 0) || math.IsInf(ob, 0) {
+	if !tied(oa, ob) {
 		return oa > ob
 	}
 	return smoother(a.pt, b.pt)
+}
+
+// improves reports whether a is better than b by more than a tie.
+func (t *tuner) improves(a, b *evaluation, imgs []int) bool {
+	oa, ob := t.objective(a, imgs), t.objective(b, imgs)
+	return oa > ob && !tied(oa, ob)
 }
 
 // smoother orders settings from the smoothest: wider kernels (a larger
@@ -365,16 +427,17 @@ func (t *tuner) bestOf(es []*evaluation, imgs []int) *evaluation {
 	return best
 }
 
-// gridPoints is the coarse grid: every combination of the grid values.
-func (t *tuner) gridPoints() []point {
+// gridPoints is the coarse grid of dims: every combination of the grid
+// values.
+func gridPoints(dims *[numDims]dim) []point {
 	pts := []point{{}}
 	for d := 0; d < numDims; d++ {
-		if t.dims[d].auto {
+		if dims[d].auto {
 			continue
 		}
 		var next []point
 		for _, p := range pts {
-			for _, v := range t.dims[d].values {
+			for _, v := range dims[d].values {
 				q := p
 				q[d] = v
 				next = append(next, q)
@@ -393,19 +456,21 @@ func (t *tuner) gridPoints() []point {
 // grid is still refined: on the plates, sigma-x scored the same at all
 // three grid values and better between them.) Steps start at half the grid spacing and
 // values stay within the grid range widened by one grid step. At most
-// budget new settings are evaluated.
-func (t *tuner) refine(start *evaluation, imgs []int, budget int) (*evaluation, error) {
+// budget new settings are evaluated. It returns the best and every
+// setting it looked at.
+func (t *tuner) refine(start *evaluation, space *[numDims]dim, imgs []int, budget int) (*evaluation, []*evaluation, error) {
 	var step, lo, hi [numDims]float64
 	var dims []int
 	for d := 0; d < numDims; d++ {
-		if t.dims[d].refinable() {
+		if space[d].refinable() {
 			dims = append(dims, d)
-			g := t.dims[d].logStep()
+			g := space[d].logStep()
 			step[d] = g / 2
-			lo[d] = math.Log(t.dims[d].values[0]) - g
-			hi[d] = math.Log(t.dims[d].values[len(t.dims[d].values)-1]) + g
+			lo[d] = math.Log(space[d].values[0]) - g
+			hi[d] = math.Log(space[d].values[len(space[d].values)-1]) + g
 		}
 	}
+	var visited []*evaluation
 	cur, used := start, 0
 	for len(dims) > 0 && used < budget {
 		var cands []point
@@ -436,11 +501,13 @@ func (t *tuner) refine(start *evaluation, imgs []int, budget int) (*evaluation, 
 		}
 		es, err := t.evaluate(keep, "refine")
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
-		// Only a strict improvement moves the search: on a plateau of equal
-		// scores it would otherwise drift toward the smoothest corner.
-		if b := t.bestOf(es, imgs); b != nil && t.objective(b, imgs) > t.objective(cur, imgs)+tieTolerance {
+		visited = append(visited, es...)
+		// Only an improvement beyond a tie moves the search: on a plateau
+		// of equal scores it would otherwise drift toward the smoothest
+		// corner.
+		if b := t.bestOf(es, imgs); b != nil && t.improves(b, cur, imgs) {
 			cur = b
 			continue
 		}
@@ -455,15 +522,296 @@ func (t *tuner) refine(start *evaluation, imgs []int, budget int) (*evaluation, 
 			break
 		}
 	}
-	return cur, nil
+	return cur, visited, nil
 }
 
-// search is the coarse grid (already evaluated in grid) then refinement,
-// judged on the images imgs.
-func (t *tuner) search(grid []*evaluation, imgs []int, budget int) (gridBest, best *evaluation, err error) {
-	gridBest = t.bestOf(grid, imgs)
-	best, err = t.refine(gridBest, imgs, budget)
-	return gridBest, best, err
+// maxWidenings is the most times one parameter's range is widened.
+const maxWidenings = 2
+
+// widening is one widening of a parameter's range: the best setting sat on
+// an end of it.
+type widening struct {
+	Parameter string  `json:"parameter"`
+	Side      string  `json:"side"` // "low" or "high"
+	Edge      float64 `json:"edge"` // the end the best sat on
+	Added     float64 `json:"added"`
+	Score     float64 `json:"score_before"`
+}
+
+// searchResult is one search's outcome.
+type searchResult struct {
+	gridBest *evaluation // best of the initial grid
+	top      *evaluation // best objective (the smoother setting on ties)
+	best     *evaluation // the choice: among settings tied with top, the faster
+	dims     [numDims]dim
+	widened  []widening
+	ties     []*evaluation // settings tied with top that were timed
+	visited  []*evaluation
+}
+
+// search is the coarse grid then refinement, judged on the images imgs.
+// When the best sits on an end of the range of a continuous parameter
+// (at or beyond its first or last grid value), that range is widened by
+// one grid step outward (a new grid value; the grid is completed) and the
+// search runs again, at most maxWidenings times per parameter, and again
+// only while widening improves the score. say, when set, tells the user.
+// Among the settings tied with the best, the faster is chosen
+// (chooseFaster).
+func (t *tuner) search(imgs []int, budget int, say func(string)) (*searchResult, error) {
+	r := &searchResult{dims: t.dims}
+	var step [numDims]float64
+	for d := range step {
+		if t.dims[d].refinable() {
+			step[d] = t.dims[d].logStep()
+		}
+	}
+	seen := map[*evaluation]bool{}
+	visit := func(es []*evaluation) {
+		for _, e := range es {
+			if !seen[e] {
+				seen[e] = true
+				r.visited = append(r.visited, e)
+			}
+		}
+	}
+	var count [numDims]int
+	stage := "grid"
+	for round := 0; ; round++ {
+		grid, err := t.evaluate(gridPoints(&r.dims), stage)
+		if err != nil {
+			return nil, err
+		}
+		visit(grid)
+		gb := t.bestOf(grid, imgs)
+		if round == 0 {
+			r.gridBest = gb
+		}
+		top, vis, err := t.refine(gb, &r.dims, imgs, budget)
+		if err != nil {
+			return nil, err
+		}
+		visit(vis)
+		if round > 0 && !t.improves(top, r.top, imgs) {
+			if t.better(top, r.top, imgs) {
+				r.top = top
+			}
+			break
+		}
+		r.top = top
+		if math.IsInf(t.objective(top, imgs), -1) {
+			break
+		}
+		// The settings tied with the best: a parameter is widened only when
+		// all of them sit on the same end of its range (on a plateau that
+		// reaches inside the range the optimum is not pinned to the end).
+		var best []*evaluation
+		for _, e := range r.visited {
+			if tied(t.objective(e, imgs), t.objective(top, imgs)) {
+				best = append(best, e)
+			}
+		}
+		var added []widening
+		for d := 0; d < numDims; d++ {
+			dm := r.dims[d]
+			if !dm.refinable() || count[d] >= maxWidenings {
+				continue
+			}
+			v, lo, hi := top.pt[d], dm.values[0], dm.values[len(dm.values)-1]
+			atLow, atHigh := true, true
+			for _, e := range best {
+				atLow = atLow && e.pt[d] <= lo*(1+1e-9)
+				atHigh = atHigh && e.pt[d] >= hi*(1-1e-9)
+			}
+			w := widening{Parameter: dm.name, Score: t.value(top, imgs)}
+			switch {
+			case atLow:
+				w.Side, w.Edge, w.Added = "low", lo, sig4(lo*math.Exp(-step[d]))
+			case atHigh:
+				w.Side, w.Edge, w.Added = "high", hi, sig4(hi*math.Exp(step[d]))
+			default:
+				continue
+			}
+			// A normalized cut never exceeds 2: no threshold above it.
+			if w.Added == w.Edge || (d == dimMaxNcut && w.Added > 2) {
+				continue
+			}
+			vals := append(slices.Clone(dm.values), w.Added)
+			slices.Sort(vals)
+			r.dims[d].values = vals
+			count[d]++
+			added = append(added, w)
+			if say != nil {
+				say(fmt.Sprintf("best %s %s lies on the %s end of its range; widened to %s..%s (widening %d of at most %d) and searching again",
+					dm.name, fmtValue(v), w.Side, fmtValue(vals[0]), fmtValue(vals[len(vals)-1]), count[d], maxWidenings))
+			}
+		}
+		if len(added) == 0 {
+			break
+		}
+		r.widened = append(r.widened, added...)
+		if t.prog != nil {
+			t.prog.plan(len(gridPoints(&r.dims)) - len(gridPoints(&t.dims)) + budget)
+		}
+		stage = "widen"
+	}
+	best, ties, err := t.chooseFaster(r.visited, r.top, imgs)
+	if err != nil {
+		return nil, err
+	}
+	r.best, r.ties = best, ties
+	return r, nil
+}
+
+// maxTimed is the most tied settings timed for the speed tie-break.
+const maxTimed = 4
+
+// speedMargin: a tied setting counts as faster only when its median time
+// per image is below speedMargin times the other's (timings vary by a
+// tenth or more from run to run on a busy machine).
+const speedMargin = 0.8
+
+// chooseFaster breaks ties toward speed: of the settings in es whose
+// objective on imgs ties with top's (within tieRelative), it times top and
+// up to maxTimed-1 more (the smoothest first) and returns the smoothest of
+// those whose median seconds per image is within 1/speedMargin of the
+// fastest, with the timed settings.
+func (t *tuner) chooseFaster(es []*evaluation, top *evaluation, imgs []int) (*evaluation, []*evaluation, error) {
+	ot := t.objective(top, imgs)
+	if math.IsInf(ot, -1) {
+		return top, nil, nil
+	}
+	var others []*evaluation
+	for _, e := range es {
+		if e != top && tied(t.objective(e, imgs), ot) {
+			others = append(others, e)
+		}
+	}
+	slices.SortStableFunc(others, func(a, b *evaluation) int {
+		switch {
+		case smoother(a.pt, b.pt):
+			return -1
+		case smoother(b.pt, a.pt):
+			return 1
+		}
+		return 0
+	})
+	if t.smootherTies {
+		others = nil
+	}
+	cands := append([]*evaluation{top}, others[:min(len(others), maxTimed-1)]...)
+	if err := t.timeSettings(cands); err != nil {
+		return nil, nil, err
+	}
+	fastest := math.Inf(1)
+	for _, e := range cands {
+		if s := t.secondsPerImage(e, imgs); !math.IsNaN(s) {
+			fastest = math.Min(fastest, s)
+		}
+	}
+	best := top
+	if !math.IsInf(fastest, 1) {
+		best = nil
+		for _, e := range cands {
+			s := t.secondsPerImage(e, imgs)
+			if !math.IsNaN(s) && s*speedMargin <= fastest && (best == nil || smoother(e.pt, best.pt)) {
+				best = e
+			}
+		}
+	}
+	return best, cands, nil
+}
+
+// timeSettings times one segmentation of every image with each setting
+// not yet timed, on one thread each (as many at once as --workers) and
+// without the search's shared cache, so that the seconds are those of
+// 'cleave segment --params' on the decoded image.
+func (t *tuner) timeSettings(es []*evaluation) error {
+	var todo []*evaluation
+	for _, e := range es {
+		if e.imgSeconds == nil {
+			todo = append(todo, e)
+		}
+	}
+	nImg := len(t.images)
+	if t.timeFn != nil {
+		for _, e := range todo {
+			e.imgSeconds = make([]float64, nImg)
+			for j := range e.imgSeconds {
+				s, err := t.timeFn(e.pt, j)
+				if err != nil {
+					e.timeErr, s = err.Error(), math.NaN()
+				}
+				e.imgSeconds[j] = s
+			}
+		}
+		return nil
+	}
+	params := make([]segment.Params, len(todo))
+	for i, e := range todo {
+		r, err := t.settingsAt(e.pt).resolve(1)
+		if err != nil {
+			return fmt.Errorf("setting %s: %w", e.key, err)
+		}
+		params[i] = r.params
+	}
+	secs := make([]float64, len(todo)*nImg)
+	errs := make([]string, len(todo)*nImg)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := 0; w < min(t.workers, len(secs)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				k := int(next.Add(1)) - 1
+				if k >= len(secs) || t.ctx.Err() != nil {
+					return
+				}
+				i, j := k/nImg, k%nImg
+				if todo[i].errs[j] != "" {
+					secs[k] = math.NaN()
+					continue
+				}
+				plain := *t.images[j]
+				plain.cache = nil
+				start := time.Now()
+				_, err := segmentInput(t.ctx, &plain, params[i])
+				secs[k] = time.Since(start).Seconds()
+				if err != nil {
+					errs[k], secs[k] = t.names[j]+": "+err.Error(), math.NaN()
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	if err := t.ctx.Err(); err != nil {
+		return err
+	}
+	for i, e := range todo {
+		e.imgSeconds = secs[i*nImg : (i+1)*nImg]
+		for _, m := range errs[i*nImg : (i+1)*nImg] {
+			if m != "" && e.timeErr == "" {
+				e.timeErr = m
+			}
+		}
+	}
+	return nil
+}
+
+// secondsPerImage is the median of the timed seconds over imgs; NaN when
+// not timed or an image failed.
+func (t *tuner) secondsPerImage(e *evaluation, imgs []int) float64 {
+	if e.imgSeconds == nil {
+		return math.NaN()
+	}
+	v := make([]float64, 0, len(imgs))
+	for _, j := range imgs {
+		if math.IsNaN(e.imgSeconds[j]) {
+			return math.NaN()
+		}
+		v = append(v, e.imgSeconds[j])
+	}
+	return median(v)
 }
 
 // foldResult is one fold of the cross-validation.
@@ -471,7 +819,9 @@ type foldResult struct {
 	Held      []string          `json:"held_out"`
 	Params    map[string]string `json:"params"`
 	Train     float64           `json:"train_score"`
-	HeldScore *float64          `json:"held_out_score"` // null when the choice failed on a held-out image
+	HeldScore *float64          `json:"held_out_score"`  // null when the choice failed on a held-out image
+	Error     string            `json:"error,omitempty"` // why held_out_score is null
+	Widened   []widening        `json:"widenings,omitempty"`
 }
 
 // finite returns &v, or nil when v is NaN (JSON has no NaN).
@@ -488,7 +838,7 @@ func finite(v float64) *float64 {
 // its choice on the held-out ones. The cross-validated score is the mean
 // over all images of their held-out scores; it is NaN when a fold's choice
 // failed to segment a held-out image.
-func (t *tuner) crossValidate(grid []*evaluation, k, budget int) ([]foldResult, float64, error) {
+func (t *tuner) crossValidate(k, budget int) ([]foldResult, float64, error) {
 	n := len(t.images)
 	if k > n {
 		k = n
@@ -504,16 +854,31 @@ func (t *tuner) crossValidate(grid []*evaluation, k, budget int) ([]foldResult, 
 				train = append(train, i)
 			}
 		}
-		_, best, err := t.search(grid, train, budget)
+		res, err := t.search(train, budget, nil)
 		if err != nil {
 			return nil, 0, err
 		}
-		fr := foldResult{Params: t.paramStrings(best.pt), Train: t.value(best, train), HeldScore: finite(t.value(best, test))}
+		best := res.best
+		fr := foldResult{Params: t.paramStrings(best.pt), Train: t.value(best, train), HeldScore: finite(t.value(best, test)), Widened: res.widened}
 		for _, i := range test {
 			fr.Held = append(fr.Held, t.names[i])
 			held[i] = t.value(best, []int{i})
+			if best.errs[i] != "" && fr.Error == "" {
+				fr.Error = fmt.Sprintf("the fold's choice failed on held-out %s: %s", t.names[i], best.errs[i])
+			}
+		}
+		if fr.Error == "" && math.IsNaN(fr.Train) {
+			for _, i := range train {
+				if best.errs[i] != "" {
+					fr.Error = fmt.Sprintf("every setting failed on training image %s; first error: %s", t.names[i], best.errs[i])
+					break
+				}
+			}
 		}
 		folds = append(folds, fr)
+		if t.prog != nil {
+			t.prog.stage(fmt.Sprintf("fold %d of %d", f+1, k))
+		}
 	}
 	var s float64
 	for _, v := range held {
