@@ -54,7 +54,7 @@ var cleaveFlags = map[string][]string{
 	"haze":     {"--classes", "2", "--background", "dark"},
 	"stained":  {"--classes", "2", "--background", "bright"},
 	"surface":  {"--classes", "2", "--background", "bright", "--flatten", "30"},
-	"grains":   {"--classes", "2", "--background", "dark"},
+	"grains":   {"--background", "lines"},
 }
 
 // metrics are the four scores of one label map (or their means).
