@@ -3,12 +3,15 @@ module github.com/cleave-seg/cleave
 go 1.26.0
 
 require (
+	github.com/schollz/progressbar/v3 v3.19.1
+	github.com/spf13/pflag v1.1.0
+	golang.org/x/image v0.48.0
+	golang.org/x/term v0.44.0
+	gonum.org/v1/gonum v0.17.0
+)
+
+require (
 	github.com/mitchellh/colorstring v0.0.0-20190213212951-d06e56a500db // indirect
 	github.com/rivo/uniseg v0.4.7 // indirect
-	github.com/schollz/progressbar/v3 v3.19.1 // indirect
-	github.com/spf13/pflag v1.1.0 // indirect
-	golang.org/x/image v0.48.0 // indirect
 	golang.org/x/sys v0.50.0 // indirect
-	golang.org/x/term v0.44.0 // indirect
-	gonum.org/v1/gonum v0.17.0 // indirect
 )
