@@ -16,8 +16,10 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/examples/scenes"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -61,17 +63,22 @@ func readCSV(t *testing.T, path string) [][]string {
 // on a tuning image gives the label map whose object F1 (score.MatchObjects,
 // hand-worked tests in segment/score) tune recorded for the best setting,
 // exactly; f1 is the documented default metric with --background. And the
-// search does not depend on --workers: with --tie-break smoother (no
-// timing in the choice) best.json and tune.csv (but for the two seconds
-// columns) are the same bytes. Progress lines go to stderr.
+// search does not depend on --workers or the clock: with --tie-break
+// smoother and with the default (faster: the cost model, no timing in the
+// choice) two runs give the same best.json bytes and tune.csv (but for the
+// two seconds columns). Progress lines go to stderr.
 func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	dir := t.TempDir()
 	sc := writeNuclei(t, dir, 7100, 2, 112)
 	outs := map[string]string{}
-	for _, w := range []string{"1", "2"} {
-		out := filepath.Join(dir, "tuned"+w)
+	for _, c := range []struct{ name, w string }{{"1", "1"}, {"2", "2"}, {"faster1", "1"}, {"faster2", "2"}} {
+		out := filepath.Join(dir, "tuned"+c.name)
+		args := []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--workers", c.w}
+		if !strings.HasPrefix(c.name, "faster") {
+			args = append(args, "--tie-break", "smoother")
+		}
 		var stdout, stderr bytes.Buffer
-		if code := run(context.Background(), append([]string{"tune", "--images", dir, "--truth", dir, "--out", out, "--workers", w, "--tie-break", "smoother"}, smallTune...), &stdout, &stderr); code != exitOK {
+		if code := run(context.Background(), append(args, smallTune...), &stdout, &stderr); code != exitOK {
 			t.Fatalf("exit %d: %s", code, stderr.String())
 		}
 		for _, want := range []string{"metric:              f1 (default with --background", "best:                mean f1 ", "s per image", "cross-validated:     held-out f1", "best.json"} {
@@ -82,35 +89,78 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 		if !regexp.MustCompile(`(?m)^cleave tune: \d+/\d+ settings evaluated, best mean f1 so far [0-9.]+ \(grid done\)$`).MatchString(stderr.String()) {
 			t.Errorf("stderr lacks the progress line of the grid:\n%s", stderr.String())
 		}
-		outs[w] = out
+		outs[c.name] = out
 	}
-	b1, _ := os.ReadFile(filepath.Join(outs["1"], "best.json"))
-	b2, _ := os.ReadFile(filepath.Join(outs["2"], "best.json"))
-	if !bytes.Equal(b1, b2) || len(b1) == 0 {
-		t.Errorf("best.json differs with --workers 1 and 2:\n%s\n%s", b1, b2)
-	}
-	r1, r2 := readCSV(t, filepath.Join(outs["1"], "tune.csv")), readCSV(t, filepath.Join(outs["2"], "tune.csv"))
-	secCol, perCol := slices.Index(r1[0], "seconds"), slices.Index(r1[0], "seconds_per_image")
-	if secCol < 0 || perCol < 0 || len(r1) != len(r2) || r1[0][7] != "f1:"+sc[0].Name {
-		t.Fatalf("csv header %v, %d vs %d rows", r1[0], len(r1), len(r2))
-	}
-	for _, m := range []string{"mean_f1", "mean_map", "mean_ari"} {
-		if !slices.Contains(r1[0], m) {
-			t.Errorf("tune.csv lacks %s: %v", m, r1[0])
+	var b1 []byte
+	var r1 [][]string
+	for _, pair := range [][2]string{{"1", "2"}, {"faster1", "faster2"}} {
+		ba, _ := os.ReadFile(filepath.Join(outs[pair[0]], "best.json"))
+		bb, _ := os.ReadFile(filepath.Join(outs[pair[1]], "best.json"))
+		if !bytes.Equal(ba, bb) || len(ba) == 0 {
+			t.Errorf("%s/%s: best.json differs between the two runs:\n%s\n%s", pair[0], pair[1], ba, bb)
+		}
+		ra, rb := readCSV(t, filepath.Join(outs[pair[0]], "tune.csv")), readCSV(t, filepath.Join(outs[pair[1]], "tune.csv"))
+		secCol, perCol, costCol := slices.Index(ra[0], "seconds"), slices.Index(ra[0], "seconds_per_image"), slices.Index(ra[0], "cost_per_image")
+		if secCol < 0 || perCol < 0 || costCol < 0 || len(ra) != len(rb) || ra[0][7] != "f1:"+sc[0].Name {
+			t.Fatalf("csv header %v, %d vs %d rows", ra[0], len(ra), len(rb))
+		}
+		for _, m := range []string{"mean_f1", "mean_map", "mean_ari"} {
+			if !slices.Contains(ra[0], m) {
+				t.Errorf("tune.csv lacks %s: %v", m, ra[0])
+			}
+		}
+		timed := 0
+		for i := range ra {
+			if i > 0 && ra[i][perCol] != "" {
+				timed++
+			}
+			if i > 0 && ra[i][costCol] == "" {
+				t.Errorf("%s: tune.csv row %d has no cost: %v", pair[0], i, ra[i])
+			}
+			ra[i][secCol], rb[i][secCol], ra[i][perCol], rb[i][perCol] = "", "", "", ""
+			if strings.Join(ra[i], ",") != strings.Join(rb[i], ",") {
+				t.Errorf("%s/%s: tune.csv row %d differs: %v vs %v", pair[0], pair[1], i, ra[i], rb[i])
+			}
+		}
+		if timed == 0 {
+			t.Errorf("%s: no setting of tune.csv has its seconds per image", pair[0])
+		}
+		if pair[0] == "1" {
+			b1, r1 = ba, ra
 		}
 	}
-	timed := 0
-	for i := range r1 {
-		if i > 0 && r1[i][perCol] != "" {
-			timed++
-		}
-		r1[i][secCol], r2[i][secCol], r1[i][perCol], r2[i][perCol] = "", "", "", ""
-		if strings.Join(r1[i], ",") != strings.Join(r2[i], ",") {
-			t.Errorf("tune.csv row %d differs: %v vs %v", i, r1[i], r2[i])
+	// The default run had ties to break (measured on these scenes), and
+	// both runs list the same tied settings with the same costs, the
+	// cheapest within 10% chosen.
+	var fa, fb tuneReport
+	for _, x := range []struct {
+		name string
+		rep  *tuneReport
+	}{{"faster1", &fa}, {"faster2", &fb}} {
+		raw, _ := os.ReadFile(filepath.Join(outs[x.name], "tune.json"))
+		if err := json.Unmarshal(raw, x.rep); err != nil {
+			t.Fatal(err)
 		}
 	}
-	if timed == 0 {
-		t.Error("no setting of tune.csv has its seconds per image")
+	strip := func(ts []tiedSetting) string {
+		var b strings.Builder
+		for _, s := range ts {
+			s.SecondsPerImage = nil
+			j, _ := json.Marshal(s)
+			b.Write(j)
+		}
+		return b.String()
+	}
+	if fa.TieBreak != "faster" || len(fa.Tied) < 2 || fa.CostPerImage == nil || strip(fa.Tied) != strip(fb.Tied) {
+		t.Errorf("default tie-break: %q, %d tied settings, cost %v; ties differ between runs: %v", fa.TieBreak, len(fa.Tied), fa.CostPerImage, strip(fa.Tied) != strip(fb.Tied))
+	} else {
+		low := math.Inf(1)
+		for _, s := range fa.Tied {
+			low = math.Min(low, *s.CostPerImage)
+		}
+		if !fa.Tied[0].Chosen || *fa.Tied[0].CostPerImage > costMargin*low || *fa.CostPerImage != *fa.Tied[0].CostPerImage {
+			t.Errorf("chosen tie %+v, lowest cost %v", fa.Tied[0], low)
+		}
 	}
 	// The grid has 2 x 2 settings; baseline, grid and refine rows all present.
 	stages := map[string]int{}
@@ -367,10 +417,10 @@ func TestTuneMetricChoice(t *testing.T) {
 }
 
 // synthTuner is a tuner over sigma-x alone (grid sx, the other parameters
-// fixed) on two images whose object F1 is f(sigma-x) and whose seconds
-// per image are secs(sigma-x): the search code on an objective known in
-// closed form, without segmenting.
-func synthTuner(sx []float64, f, secs func(sx float64, img int) float64) *tuner {
+// fixed) on two images whose object F1 is f(sigma-x) and whose cost model
+// per image is cost(sigma-x, image); every segmentation times 1 s: the
+// search code on an objective known in closed form, without segmenting.
+func synthTuner(sx []float64, f, cost func(sx float64, img int) float64) *tuner {
 	t := &tuner{ctx: context.Background(), metric: "f1", workers: 1, cache: map[string]*evaluation{},
 		images: make([]*loaded, 2), names: []string{"a", "b"}}
 	t.dims[dimSigmaI] = defaultDim("sigma-i", []float64{0.02}, false)
@@ -386,7 +436,8 @@ func synthTuner(sx []float64, f, secs func(sx float64, img int) float64) *tuner 
 		}
 		return metrics{F1: v}, nil
 	}
-	t.timeFn = func(p point, img int) (float64, error) { return secs(p[dimSigmaX], 0), nil }
+	t.costFn = func(p point, img int) float64 { return cost(p[dimSigmaX], img) }
+	t.timeFn = func(point, int) (float64, error) { return 1, nil }
 	return t
 }
 
@@ -445,22 +496,34 @@ func TestTuneWidensAtTheEdge(t *testing.T) {
 	}
 }
 
-// Ties (objectives within a relative 1e-4) go to the faster setting; of
-// settings within 1/speedMargin of the fastest median time, to the
+// Ties (objectives within a relative 1e-4) go to the setting cheapest by
+// the cost model (mean over the images of the per-image cost); of
+// settings within costMargin (10%) of the lowest mean cost, to the
 // smoother (larger sigma-x). Grid 4, 8, 16 only (budget 0); the objective
-// and the seconds are given (hand-made cases).
+// and the costs are given (hand-made cases, expected choices worked by
+// hand). The clock plays no part: each case runs with seconds that favour
+// the most expensive setting and with seconds that favour the cheapest,
+// and the choice is the same; the seconds reported are those measured.
 func TestTuneTieBreakFaster(t *testing.T) {
 	flat := func(float64, int) float64 { return 0.9 }
 	linear := func(sx float64, _ int) float64 { return sx }
+	table := func(m map[float64]float64) func(float64, int) float64 {
+		return func(sx float64, _ int) float64 { return m[sx] }
+	}
 	for _, c := range []struct {
 		name string
 		f    func(float64, int) float64
-		secs func(float64, int) float64
+		cost func(float64, int) float64
 		want float64
 	}{
-		{"faster_wins", flat, linear, 4},
-		{"equal_speed_smoother_wins", flat, func(float64, int) float64 { return 1 }, 16},
-		{"within_margin_smoother_wins", flat, func(sx float64, _ int) float64 { return map[float64]float64{4: 0.9, 8: 0.95, 16: 1}[sx] }, 16},
+		{"cheaper_wins", flat, linear, 4},
+		{"equal_cost_smoother_wins", flat, func(float64, int) float64 { return 1 }, 16},
+		{"within_10pct_smoother_wins", flat, table(map[float64]float64{4: 1, 8: 1.05, 16: 1.09}), 16},
+		{"beyond_10pct_cheaper_wins", flat, table(map[float64]float64{4: 1, 8: 1.05, 16: 1.15}), 8},
+		// Means over the images 10.5, 5, 6.5: 8 is cheapest, 16 is 30% above.
+		{"mean_over_images", flat, func(sx float64, img int) float64 {
+			return [][]float64{{1, 5, 10}, {20, 5, 3}}[img][map[float64]int{4: 0, 8: 1, 16: 2}[sx]]
+		}, 8},
 		{"tied_within_1e-4", func(sx float64, _ int) float64 {
 			if sx == 4 {
 				return 0.9 * (1 - 5e-5)
@@ -474,17 +537,62 @@ func TestTuneTieBreakFaster(t *testing.T) {
 			return 0.9
 		}, linear, 8},
 	} {
-		tn := synthTuner([]float64{4, 8, 16}, c.f, c.secs)
-		res, err := tn.search([]int{0, 1}, 0, nil)
-		if err != nil {
-			t.Fatal(err)
+		for _, clock := range []struct {
+			name string
+			secs func(sx float64) float64
+		}{{"clock_favours_costly", func(sx float64) float64 { return 1 / c.cost(sx, 0) }}, {"clock_favours_cheap", func(sx float64) float64 { return c.cost(sx, 0) }}} {
+			tn := synthTuner([]float64{4, 8, 16}, c.f, c.cost)
+			tn.timeFn = func(p point, _ int) (float64, error) { return clock.secs(p[dimSigmaX]), nil }
+			res, err := tn.search([]int{0, 1}, 0, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := tn.timeTies(res); err != nil {
+				t.Fatal(err)
+			}
+			if got := res.best.pt[dimSigmaX]; got != c.want || len(res.widened) != 0 {
+				t.Errorf("%s, %s: chose sigma-x %v (widenings %v), want %v", c.name, clock.name, got, res.widened, c.want)
+			}
+			if len(res.ties) == 0 || res.ties[0] != res.best {
+				t.Errorf("%s, %s: ties %d, the chosen setting not first", c.name, clock.name, len(res.ties))
+			}
+			if s := tn.secondsPerImage(res.best, []int{0, 1}); s != clock.secs(c.want) {
+				t.Errorf("%s, %s: seconds per image %v, want the measured %v", c.name, clock.name, s, clock.secs(c.want))
+			}
 		}
-		if got := res.best.pt[dimSigmaX]; got != c.want || len(res.widened) != 0 {
-			t.Errorf("%s: chose sigma-x %v (widenings %v), want %v", c.name, got, res.widened, c.want)
+	}
+}
+
+// With --tie-break smoother the tie stays on the search's best (the
+// smoother on ties), whatever the costs: on a flat objective with cost
+// rising in sigma-x, the grid's best is the smoothest, 16 (hand-worked).
+func TestTuneTieBreakSmoother(t *testing.T) {
+	tn := synthTuner([]float64{4, 8, 16}, func(float64, int) float64 { return 0.9 }, func(sx float64, _ int) float64 { return sx })
+	tn.smootherTies = true
+	res, err := tn.search([]int{0, 1}, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := res.best.pt[dimSigmaX]; got != 16 || len(res.ties) != 1 {
+		t.Errorf("chose sigma-x %v with %d ties listed, want 16 alone", got, len(res.ties))
+	}
+}
+
+// The cost model of a segmentation result: nonzeros x (1 + log2 regions),
+// worked by hand: 10 nonzeros and 4 regions give 10 x 3 = 30; one region
+// gives the nonzeros alone.
+func TestSegCost(t *testing.T) {
+	g := &affinity.Graph{N: 4, RowPtr: []int{0, 3, 5, 8, 10}, Col: make([]int32, 10), Weight: make([]float32, 10)}
+	for _, c := range []struct {
+		regions int
+		want    float64
+	}{{4, 30}, {1, 10}, {0, 10}} {
+		if got := segCost(&segment.Result{Graph: g, NumRegions: c.regions}); got != c.want {
+			t.Errorf("%d regions: cost %v, want %v", c.regions, got, c.want)
 		}
-		if s := tn.secondsPerImage(res.best, []int{0, 1}); s != c.secs(c.want, 0) {
-			t.Errorf("%s: seconds per image %v, want %v", c.name, s, c.secs(c.want, 0))
-		}
+	}
+	if got := segCost(&segment.Result{}); got != 0 {
+		t.Errorf("no graph: cost %v, want 0", got)
 	}
 }
 

@@ -62,15 +62,19 @@ support. Without --background there are no objects and the default is
 ari. Every setting is still scored with every metric (tune.csv: mean ari,
 f1, map, ...).
 
-Ties: scores within a relative %g of the best are equal. Up to %d tied
-settings are timed (one segmentation per image on one thread, as many at
-once as --workers, without the search's shared work: the seconds 'cleave
-segment --params' spends per decoded image); the fastest wins, and of settings
-within %.0f%% of the fastest median time, the smoother (wider kernels,
-then smaller max-ncut). The choice's median seconds per image is reported.
-Timings vary with the machine's load, so with ties best.json may differ
-between runs; --tie-break smoother keeps ties on the smoother setting
-untimed, and the choice never depends on the clock.
+Ties: scores within a relative %g of the best are equal. With
+--tie-break faster (the default) the tied setting cheapest by a cost model
+of the segmentation wins, not the clock: per image, the stored nonzeros of
+the affinity graph times (1 + log2(regions)), the work of a balanced
+recursive two-way cut (the re-cut of touching objects is not counted),
+averaged over the images; of settings within %.0f%% of the lowest cost, the
+smoother (wider kernels, then smaller max-ncut). --tie-break smoother keeps
+the search's best, the smoother of the ties it compared. Neither uses the
+clock, so best.json is the same on every run. The chosen setting and up to
+%d tied ones are also timed (one segmentation per image on one thread, as
+many at once as --workers, without the search's shared work: the seconds
+'cleave segment --params' spends per decoded image); the median seconds
+per image is reported as information and never changes the choice.
 
 %s
 Flags:
@@ -85,7 +89,7 @@ the best mean score so far; on a terminal one line, else one per stage.
 
 Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
 
-%s`, maxWidenings, tieRelative, maxTimed, 100*(1/speedMargin-1), tuneExample, fs.FlagUsagesWrapped(100), caution)
+%s`, maxWidenings, tieRelative, 100*(costMargin-1), maxTimed-1, tuneExample, fs.FlagUsagesWrapped(100), caution)
 }
 
 // tuneOptions are tune's own flags.
@@ -120,7 +124,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
 	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(tuneMetrics, ", ")+" (vi is minimized); default f1 with --background, else ari")
-	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (timed; the choice may vary with the machine's load) or smoother (never timed, so best.json is the same on every run)")
+	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
 	fs.IntVar(&o.budget, "budget", 8, "most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only)")
 	fs.IntVar(&o.folds, "folds", 3, "K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off)")
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf")
@@ -190,9 +194,11 @@ type tuneReport struct {
 	BestMetrics     *metrics          `json:"best_mean_metrics"`
 	SecondsPerImage *float64          `json:"seconds_per_image"`
 	Timing          string            `json:"timing"`
+	CostPerImage    *float64          `json:"cost_per_image"`
+	CostModel       string            `json:"cost_model"`
 	TieRelative     float64           `json:"tie_tolerance_relative"`
 	TieBreak        string            `json:"tie_break"`
-	Tied            []tiedSetting     `json:"timed_tied_settings"`
+	Tied            []tiedSetting     `json:"tied_settings"`
 	GridScore       *float64          `json:"grid_score"`
 	Baseline        *float64          `json:"automatic_score"`
 	BaselineMetrics *metrics          `json:"automatic_mean_metrics"`
@@ -213,16 +219,21 @@ type tuneReport struct {
 	Seconds         float64           `json:"seconds"`
 }
 
-// tiedSetting is a setting tied with the best that was timed.
+// tiedSetting is a setting tied with the best: its cost (which decides
+// the tie) and, when timed, its seconds (information only).
 type tiedSetting struct {
 	Params          map[string]string `json:"params"`
 	Score           float64           `json:"score"`
-	SecondsPerImage *float64          `json:"seconds_per_image"`
+	CostPerImage    *float64          `json:"cost_per_image"`
+	SecondsPerImage *float64          `json:"seconds_per_image"` // null when not timed
 	Chosen          bool              `json:"chosen"`
 }
 
 // timingNote says how seconds_per_image is measured.
-const timingNote = "median over the images of one segmentation's seconds on one thread (as many at once as --workers), without the search's shared work, decoding excluded"
+const timingNote = "median over the images of one segmentation's seconds on one thread (as many at once as --workers), without the search's shared work, decoding excluded; information only, never used for the choice"
+
+// costNote says what cost_per_image is (segCost).
+var costNote = fmt.Sprintf("mean over the images of graph nonzeros x (1 + log2 regions), the work of a balanced recursive two-way cut (object re-cuts not counted); of tied settings within %.0f%% of the lowest cost the smoother is chosen", 100*(costMargin-1))
 
 // meanOf is the mean of every metric of e over the images, or nil when an
 // image failed.
@@ -418,6 +429,9 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitFail, err
 	}
+	if err := t.timeTies(res); err != nil {
+		return exitFail, err
+	}
 	t.prog.stage("search")
 	t.prog.finish()
 	gridBest, best := res.gridBest, res.best
@@ -435,6 +449,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	rep := tuneReport{
 		Tool: "cleave", Version: version, Metric: metric, MetricChoice: metricWhy, Score: t.value(best, all),
 		BestMetrics: meanOf(best), SecondsPerImage: finite(t.secondsPerImage(best, all)), Timing: timingNote,
+		CostPerImage: finite(t.costPerImage(best, all)), CostModel: costNote,
 		TieRelative: tieRelative, TieBreak: o.tieBreak, GridScore: finite(t.value(gridBest, all)), BaselineMetrics: meanOf(baseline),
 		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
 		Widenings: res.widened, GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
@@ -447,7 +462,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	}
 	for _, e := range res.ties {
 		rep.Tied = append(rep.Tied, tiedSetting{Params: t.paramStrings(e.pt), Score: t.value(e, all),
-			SecondsPerImage: finite(t.secondsPerImage(e, all)), Chosen: e == best})
+			CostPerImage: finite(t.costPerImage(e, all)), SecondsPerImage: finite(t.secondsPerImage(e, all)), Chosen: e == best})
 	}
 	for _, f := range folds {
 		if f.Error != "" && rep.CVError == "" {
@@ -584,8 +599,8 @@ var csvMeans = []string{"ari", "vi", "dice", "f1", "map", "bf", "covering"}
 
 // writeCSV writes every evaluation in the order evaluated: its stage, the
 // parameters, the tuned metric per image, the means, the seconds (with
-// the shared work) and, for settings timed for the tie-break, the median
-// seconds per image.
+// the shared work), for settings timed the median seconds per image, and
+// the mean cost per image (segCost) that breaks ties.
 func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 	cw := csv.NewWriter(w)
 	all := make([]int, len(t.images))
@@ -600,7 +615,7 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 	for _, m := range csvMeans {
 		head = append(head, "mean_"+m)
 	}
-	head = append(head, "seconds", "seconds_per_image", "error")
+	head = append(head, "seconds", "seconds_per_image", "cost_per_image", "error")
 	if err := cw.Write(head); err != nil {
 		return err
 	}
@@ -642,7 +657,11 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 		if s := t.secondsPerImage(e, all); !math.IsNaN(s) {
 			per = strconv.FormatFloat(s, 'f', 3, 64)
 		}
-		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), per, errText)
+		cost := ""
+		if c := t.costPerImage(e, all); !math.IsNaN(c) {
+			cost = strconv.FormatFloat(c, 'f', 0, 64)
+		}
+		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), per, cost, errText)
 		if err := cw.Write(row); err != nil {
 			return err
 		}
@@ -706,7 +725,7 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
 	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
 	if n := len(rep.Tied); n > 1 {
-		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g) were timed; the fastest, or the smoother within %.0f%% of its time, chosen (see tune.json)\n", n, rep.TieRelative, 100*(1/speedMargin-1))
+		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(costMargin-1))
 	}
 	for _, wd := range rep.Widenings {
 		fmt.Fprintf(w, "widened:             %s beyond its %s end %s to %s\n", wd.Parameter, wd.Side, fmtValue(wd.Edge), fmtValue(wd.Added))

@@ -166,8 +166,12 @@ type evaluation struct {
 	perImage []metrics
 	errs     []string // per image, "" when it segmented
 	seconds  float64  // segmentation wall time summed over images (with the shared cache)
+	// cost is the cost model of each image's segmentation (segCost),
+	// recorded when it runs; 0 where the image failed. The speed
+	// tie-break compares it; it never depends on the clock.
+	cost []float64
 	// imgSeconds are the seconds of one segmentation per image without the
-	// shared cache (see timeSetting); nil until timed.
+	// shared cache (see timeSettings); nil until timed. Information only.
 	imgSeconds []float64
 	timeErr    string
 }
@@ -187,13 +191,15 @@ type tuner struct {
 	cache   map[string]*evaluation
 	order   []*evaluation
 	prog    *tuneProgress // nil: no progress lines
-	// smootherTies keeps ties on the smoother setting without timing them
-	// (--tie-break smoother: the choice then never depends on the clock).
+	// smootherTies keeps ties on the smoother setting (--tie-break
+	// smoother) instead of the cheapest by the cost model.
 	smootherTies bool
 
-	// evalFn and timeFn, when set, replace segmentation and its timing by
-	// a given objective (the tests' synthetic searches).
+	// evalFn, costFn and timeFn, when set, replace segmentation, its cost
+	// model and its timing by given functions (the tests' synthetic
+	// searches). Without costFn a synthetic cost is 0.
 	evalFn func(p point, img int) (metrics, error)
+	costFn func(p point, img int) float64
 	timeFn func(p point, img int) (float64, error)
 }
 
@@ -249,6 +255,8 @@ func (t *tuner) evaluate(points []point, stage string) ([]*evaluation, error) {
 				m, err := t.evalFn(e.pt, j)
 				if err != nil {
 					e.errs[j] = err.Error()
+				} else if t.costFn != nil {
+					e.cost[j] = t.costFn(e.pt, j)
 				}
 				e.perImage[j] = m
 			}
@@ -306,6 +314,7 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 				} else {
 					f := t.images[j].features
 					es[i].perImage[j] = scoreMaps(res.Labels, t.truths[j], f.Width, f.Height, t.tol)
+					es[i].cost[j] = segCost(res)
 					used[i][j] = res.Params
 				}
 				secs[k] = time.Since(start).Seconds()
@@ -342,7 +351,46 @@ func (t *tuner) settingDone(e *evaluation) {
 
 // newEvaluation is an empty evaluation of a point.
 func (t *tuner) newEvaluation(p point, key, stage string) *evaluation {
-	return &evaluation{pt: p, key: key, stage: stage, perImage: make([]metrics, len(t.images)), errs: make([]string, len(t.images))}
+	n := len(t.images)
+	return &evaluation{pt: p, key: key, stage: stage, perImage: make([]metrics, n), errs: make([]string, n), cost: make([]float64, n)}
+}
+
+// segCost is the cost model of one segmentation, computed from its result
+// and never from the clock, so that the speed tie-break is the same on
+// every run and machine:
+//
+//	cost = nnz(W) * (1 + log2(R))
+//
+// with nnz(W) the stored nonzeros of the top-level affinity graph
+// (len(Graph.Col): the work of one Lanczos sweep of the eigensolver, whose
+// sparse products dominate, scales with it) and R the number of regions.
+// A balanced recursive two-way cut into R regions has log2(R) levels of
+// accepted splits, and the subgraphs of one level together hold at most
+// nnz(W) entries; each final region is solved once more for the split
+// refused by max-ncut: 1 + log2(R) levels of nnz(W) each (Shi and Malik
+// 2000, Normalized cuts and image segmentation, IEEE TPAMI 22(8): the
+// recursive two-way cut, solved by Lanczos iterations whose cost is that
+// of the sparse products). The re-cut of touching objects is left
+// out: segment.Result does not report the pixel counts of the objects it
+// re-cut.
+func segCost(res *segment.Result) float64 {
+	if res == nil || res.Graph == nil {
+		return 0
+	}
+	return float64(res.Graph.NNZ()) * (1 + math.Log2(float64(max(res.NumRegions, 1))))
+}
+
+// costPerImage is the mean of the cost model over imgs; NaN when an image
+// failed.
+func (t *tuner) costPerImage(e *evaluation, imgs []int) float64 {
+	var s float64
+	for _, j := range imgs {
+		if e.errs[j] != "" {
+			return math.NaN()
+		}
+		s += e.cost[j]
+	}
+	return s / float64(len(imgs))
 }
 
 // value is the mean of the tuned metric over the images imgs (as scored,
@@ -542,10 +590,10 @@ type widening struct {
 type searchResult struct {
 	gridBest *evaluation // best of the initial grid
 	top      *evaluation // best objective (the smoother setting on ties)
-	best     *evaluation // the choice: among settings tied with top, the faster
+	best     *evaluation // the choice: among settings tied with top, the cheapest by the cost model
 	dims     [numDims]dim
 	widened  []widening
-	ties     []*evaluation // settings tied with top that were timed
+	ties     []*evaluation // settings tied with top (best first; see chooseFaster)
 	visited  []*evaluation
 }
 
@@ -555,8 +603,8 @@ type searchResult struct {
 // one grid step outward (a new grid value; the grid is completed) and the
 // search runs again, at most maxWidenings times per parameter, and again
 // only while widening improves the score. say, when set, tells the user.
-// Among the settings tied with the best, the faster is chosen
-// (chooseFaster).
+// Among the settings tied with the best, the cheapest by the cost model
+// is chosen (chooseFaster).
 func (t *tuner) search(imgs []int, budget int, say func(string)) (*searchResult, error) {
 	r := &searchResult{dims: t.dims}
 	var step [numDims]float64
@@ -654,39 +702,67 @@ func (t *tuner) search(imgs []int, budget int, say func(string)) (*searchResult,
 		}
 		stage = "widen"
 	}
-	best, ties, err := t.chooseFaster(r.visited, r.top, imgs)
-	if err != nil {
-		return nil, err
-	}
-	r.best, r.ties = best, ties
+	r.best, r.ties = t.chooseFaster(r.visited, r.top, imgs)
 	return r, nil
 }
 
-// maxTimed is the most tied settings timed for the speed tie-break.
+// maxTimed is the most tied settings timed for information (the chosen
+// one first).
 const maxTimed = 4
 
-// speedMargin: a tied setting counts as faster only when its median time
-// per image is below speedMargin times the other's (timings vary by a
-// tenth or more from run to run on a busy machine).
-const speedMargin = 0.8
+// costMargin: tied settings whose mean cost (segCost) is at most
+// costMargin times the lowest count as equally fast, and the smoother of
+// them wins. The model counts work, not seconds, so a difference of a few
+// per cent is within what it cannot tell apart.
+const costMargin = 1.1
 
-// chooseFaster breaks ties toward speed: of the settings in es whose
-// objective on imgs ties with top's (within tieRelative), it times top and
-// up to maxTimed-1 more (the smoothest first) and returns the smoothest of
-// those whose median seconds per image is within 1/speedMargin of the
-// fastest, with the timed settings.
-func (t *tuner) chooseFaster(es []*evaluation, top *evaluation, imgs []int) (*evaluation, []*evaluation, error) {
+// chooseFaster breaks ties toward speed without the clock: of the settings
+// in es whose objective on imgs ties with top's (within tieRelative), it
+// returns the smoothest of those whose mean cost per image on imgs (segCost)
+// is within costMargin of the lowest, and every tied setting, the chosen
+// first, then by cost and smoothness. With --tie-break smoother, top alone.
+// Nothing is timed here (see timeTies).
+func (t *tuner) chooseFaster(es []*evaluation, top *evaluation, imgs []int) (*evaluation, []*evaluation) {
 	ot := t.objective(top, imgs)
 	if math.IsInf(ot, -1) {
-		return top, nil, nil
+		return top, nil
 	}
-	var others []*evaluation
-	for _, e := range es {
-		if e != top && tied(t.objective(e, imgs), ot) {
-			others = append(others, e)
+	cands := []*evaluation{top}
+	if !t.smootherTies {
+		for _, e := range es {
+			if e != top && tied(t.objective(e, imgs), ot) {
+				cands = append(cands, e)
+			}
 		}
 	}
-	slices.SortStableFunc(others, func(a, b *evaluation) int {
+	cheapest := math.Inf(1)
+	for _, e := range cands {
+		if c := t.costPerImage(e, imgs); !math.IsNaN(c) {
+			cheapest = math.Min(cheapest, c)
+		}
+	}
+	best := top
+	if !t.smootherTies && !math.IsInf(cheapest, 1) {
+		best = nil
+		for _, e := range cands {
+			c := t.costPerImage(e, imgs)
+			if !math.IsNaN(c) && c <= costMargin*cheapest && (best == nil || smoother(e.pt, best.pt)) {
+				best = e
+			}
+		}
+	}
+	slices.SortStableFunc(cands, func(a, b *evaluation) int {
+		switch {
+		case a == b:
+			return 0
+		case a == best:
+			return -1
+		case b == best:
+			return 1
+		}
+		if ca, cb := t.costPerImage(a, imgs), t.costPerImage(b, imgs); ca != cb {
+			return cmpFloat(ca, cb)
+		}
 		switch {
 		case smoother(a.pt, b.pt):
 			return -1
@@ -695,30 +771,29 @@ func (t *tuner) chooseFaster(es []*evaluation, top *evaluation, imgs []int) (*ev
 		}
 		return 0
 	})
-	if t.smootherTies {
-		others = nil
+	return best, cands
+}
+
+// timeTies times the chosen setting of a search and up to maxTimed-1 more
+// of its ties (in the order of r.ties), for the report only: the seconds
+// never change the choice.
+func (t *tuner) timeTies(r *searchResult) error {
+	es := r.ties
+	if len(es) == 0 {
+		es = []*evaluation{r.best}
 	}
-	cands := append([]*evaluation{top}, others[:min(len(others), maxTimed-1)]...)
-	if err := t.timeSettings(cands); err != nil {
-		return nil, nil, err
+	return t.timeSettings(es[:min(len(es), maxTimed)])
+}
+
+// cmpFloat orders a before b when a is smaller; NaN last.
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b || (!math.IsNaN(a) && math.IsNaN(b)):
+		return -1
+	case a > b || (math.IsNaN(a) && !math.IsNaN(b)):
+		return 1
 	}
-	fastest := math.Inf(1)
-	for _, e := range cands {
-		if s := t.secondsPerImage(e, imgs); !math.IsNaN(s) {
-			fastest = math.Min(fastest, s)
-		}
-	}
-	best := top
-	if !math.IsInf(fastest, 1) {
-		best = nil
-		for _, e := range cands {
-			s := t.secondsPerImage(e, imgs)
-			if !math.IsNaN(s) && s*speedMargin <= fastest && (best == nil || smoother(e.pt, best.pt)) {
-				best = e
-			}
-		}
-	}
-	return best, cands, nil
+	return 0
 }
 
 // timeSettings times one segmentation of every image with each setting
