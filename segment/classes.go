@@ -57,11 +57,16 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // illumination falloff and haze do not move the class boundary. Scores are
 // split by Otsu's method (C = 2, weighted by area, exact) or weighted
 // k-means (C > 2), then B is re-estimated from the new grouping; at most
-// classRounds rounds. When the grouping settles, field is B of the final
+// classRounds rounds. With a named background (dark or bright) the first
+// grouping judges each region against a background mesh that needs no
+// grouping (initialScores), and in every round the scores of regions that
+// cannot be objects are clamped to the background's level
+// (backgroundSide); radius is the image's typical object radius in
+// pixels (affinity.ObjectScale), 0 when unknown. When the grouping settles, field is B of the final
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, seed uint64) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, radius float64, seed uint64) (cls []int32, field []float32) {
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
 		mv := statsOf(planes, reg, n).mean
@@ -75,6 +80,11 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
+	if background == "dark" || background == "bright" {
+		// First grouping against the local background mesh, which needs
+		// no grouping (see initialScores).
+		initialScores(score, lum, w, h, reg, st.area, radius, background)
+	}
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
@@ -99,6 +109,7 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 				score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
 			}
 		}
+		backgroundSide(score, background)
 		next := asBackground(split1D(score, st.area, C, seed), C, background)
 		if C == 2 && (background == "dark" || background == "bright") {
 			next = noiseBound(next, score, lum, field, mask, background)
@@ -109,6 +120,48 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		cls = next
 	}
 	return cls, nil
+}
+
+// initialScores sets score[r] to log of the mean over region r of I/B₀,
+// B₀ the local background mesh of lum (meshBackground, cells from the
+// object radius, see meshCell). Grouping raw brightness first fails on
+// haze: a bright, uneven glow over most of the field with dark corners
+// splits into "dark corners" against "everything else", the field is then
+// estimated from the corners alone, and the whole glow stands out from it
+// as one huge object in every later round. B₀ depends on the image only,
+// so the glow scores near 0 like any other background and the first
+// grouping is already one of objects against their local background.
+func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background string) {
+	b0 := meshBackground(lum, w, h, meshCell(radius, w, h))
+	sum := make([]float64, len(score))
+	for i, r := range reg {
+		sum[r] += float64(lum[i]) / math.Max(float64(b0[i]), fieldFloor)
+	}
+	for r := range score {
+		if area[r] > 0 {
+			score[r] = math.Log(math.Max(sum[r]/area[r], scoreFloor))
+		}
+	}
+	backgroundSide(score, background)
+}
+
+// backgroundSide clamps to 0 (the background's level) the scores
+// log(I/B) of regions on the background's side of it: darker than their
+// local background on a dark field, brighter on a bright one. Objects
+// stand out from their local background by definition, so such a region
+// is background. Without the clamp, a large dark area (vignetted corners
+// under a bright glow) pulls Otsu's threshold below 0 and the background
+// itself becomes the object class. Other backgrounds are left as they
+// are.
+func backgroundSide(score []float64, background string) {
+	for r, v := range score {
+		switch background {
+		case "dark":
+			score[r] = math.Max(v, 0)
+		case "bright":
+			score[r] = math.Min(v, 0)
+		}
+	}
 }
 
 // asBackground puts every region into the background class when the

@@ -404,7 +404,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("objects")
 	}
 	if p.Classes >= 2 {
-		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, p.Seed)
+		radius := 0.0
+		if p.Background != "" && len(in.Planes) == 1 {
+			radius = objectRadius(affinity.ObjectScale(in.Luminance, w, h, p.Workers))
+		}
+		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed)
 		res.Classes = make([]int32, npix)
 		for i, r := range reg {
 			res.Classes[i] = cls[r]

@@ -1,0 +1,164 @@
+package segment
+
+import (
+	"math"
+
+	"github.com/cleave-seg/cleave/affinity"
+)
+
+// Local background mesh (Bertin and Arnouts 1996, "SExtractor: software
+// for source extraction", A&AS 117, 393, section 3.1): the image is
+// divided into square cells several object diameters across; in each cell
+// the background is the median of the pixels left after iterative κσ
+// clipping (κ = 3, σ from the median absolute deviation), so the few
+// object pixels of a cell do not move it; the cell values are
+// median-filtered over 3x3 cells, which removes cells taken over by a
+// large object, and interpolated bilinearly between cell centres.
+const (
+	// meshDiameters is the cell side in object diameters: a disc of
+	// diameter d covers π/(4·m²) of a cell of side m·d, under 5 % for
+	// m = 4, so even a cell holding several objects keeps a background
+	// majority and its clipped median is the background (the rule of
+	// the method: cells larger than the objects).
+	meshDiameters = 4
+	// meshMinCells is the least number of cells across the longer side
+	// (a coarser mesh could not follow any shading).
+	meshMinCells = 4
+	// meshClip is κ of the κσ clipping (the method's value).
+	meshClip = 3
+	// meshClipRounds bounds the clipping iterations (the method iterates
+	// to convergence; three rounds settle within a few per cent of σ).
+	meshClipRounds = 3
+)
+
+// meshCell returns the cell side of the background mesh for objects of
+// typical radius r pixels in a w x h image: meshDiameters object
+// diameters, at most max(w, h)/meshMinCells and at least 8 pixels. With no
+// object scale (r <= 0) it is max(w, h)/fieldScale, the project's fixed
+// shading scale.
+func meshCell(r float64, w, h int) int {
+	long := max(w, h)
+	if r <= 0 {
+		return max(1, int(math.Round(float64(long)/fieldScale)))
+	}
+	c := int(math.Round(2 * meshDiameters * r))
+	return max(min(c, long/meshMinCells), min(8, long))
+}
+
+// meshBackground returns the local background of v (w x h) estimated on
+// a mesh of cell x cell pixels as described above. It depends on v only,
+// not on any grouping of the pixels.
+func meshBackground(v []float32, w, h, cell int) []float32 {
+	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
+	grid := make([]float64, gw*gh)
+	buf := make([]float64, 0, cell*cell)
+	for gy := 0; gy < gh; gy++ {
+		for gx := 0; gx < gw; gx++ {
+			buf = buf[:0]
+			for y := gy * cell; y < min((gy+1)*cell, h); y++ {
+				for x := gx * cell; x < min((gx+1)*cell, w); x++ {
+					buf = append(buf, float64(v[y*w+x]))
+				}
+			}
+			grid[gy*gw+gx] = clippedMedian(buf)
+		}
+	}
+	grid = medianFilter3(grid, gw, gh)
+	return interpolateGrid(grid, gw, gh, cell, w, h)
+}
+
+// clippedMedian is the median of x after iterative κσ clipping around the
+// median (σ = madScale · MAD, κ = meshClip, at most meshClipRounds
+// rounds). It reorders x.
+func clippedMedian(x []float64) float64 {
+	if len(x) == 0 {
+		return 0
+	}
+	dev := make([]float64, len(x))
+	med := 0.0
+	for round := 0; ; round++ {
+		med = kthSmallest(x, len(x)/2)
+		if round == meshClipRounds {
+			return med
+		}
+		dev = dev[:len(x)]
+		for i, v := range x {
+			dev[i] = math.Abs(v - med)
+		}
+		s := madScale * kthSmallest(dev, len(dev)/2)
+		kept := x[:0]
+		for _, v := range x {
+			if math.Abs(v-med) <= meshClip*s {
+				kept = append(kept, v)
+			}
+		}
+		if len(kept) == len(x) || len(kept) == 0 {
+			return med
+		}
+		x = kept
+	}
+}
+
+// medianFilter3 returns the 3x3 median of a gw x gh grid. At the border
+// the window shrinks symmetrically about its cell (to 1x3, 3x1 or the
+// cell alone), so that a linear trend, whose median over a symmetric
+// window is the centre value, passes unchanged.
+func medianFilter3(g []float64, gw, gh int) []float64 {
+	out := make([]float64, len(g))
+	win := make([]float64, 0, 9)
+	for y := 0; y < gh; y++ {
+		ry := min(1, y, gh-1-y)
+		for x := 0; x < gw; x++ {
+			rx := min(1, x, gw-1-x)
+			win = win[:0]
+			for yy := y - ry; yy <= y+ry; yy++ {
+				for xx := x - rx; xx <= x+rx; xx++ {
+					win = append(win, g[yy*gw+xx])
+				}
+			}
+			out[y*gw+x] = kthSmallest(win, len(win)/2)
+		}
+	}
+	return out
+}
+
+// interpolateGrid spreads a gw x gh grid of cell values (cell pixels
+// each, values at cell centres) over a w x h image by bilinear
+// interpolation, held constant beyond the outer centres.
+func interpolateGrid(grid []float64, gw, gh, cell, w, h int) []float32 {
+	out := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		fy := (float64(y)+0.5)/float64(cell) - 0.5
+		y0 := int(math.Floor(fy))
+		ty := fy - float64(y0)
+		y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
+		for x := 0; x < w; x++ {
+			fx := (float64(x)+0.5)/float64(cell) - 0.5
+			x0 := int(math.Floor(fx))
+			tx := fx - float64(x0)
+			x0c, x1c := min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
+			top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
+			bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
+			out[y*w+x] = float32(top*(1-ty) + bot*ty)
+		}
+	}
+	return out
+}
+
+// Weak small scales: ObjectScale's documentation warns that on packed
+// scenes it answers with the thin boundaries between the objects (a
+// radius of a few pixels at a Strength near its threshold). Such an
+// answer is no object scale here.
+const (
+	scaleWeakRadius   = 4
+	scaleWeakStrength = 20
+)
+
+// objectRadius is the typical object radius of an ObjectScale estimate,
+// or 0 when there is none: not found, or a weak small scale.
+func objectRadius(sc affinity.ScaleEstimate) float64 {
+	if !sc.Found || (sc.Radius < scaleWeakRadius && sc.Strength < scaleWeakStrength) {
+		return 0
+	}
+	return sc.Radius
+}
