@@ -6,9 +6,10 @@ import (
 	"github.com/cleave-seg/cleave/affinity"
 )
 
-// Local background mesh (Bertin and Arnouts 1996, "SExtractor: software
-// for source extraction", A&AS 117, 393, section 3.1): the image is
-// divided into square cells several object diameters across; in each cell
+// Local background mesh (common practice in detecting faint sources on a
+// varying sky; the construction is described in Bertin and Arnouts 1996,
+// A&AS 117, 393, section 3.1): the image is divided into square cells
+// several object diameters across; in each cell
 // the background is the median of the pixels left after iterative κσ
 // clipping (κ = 3, σ from the median absolute deviation), so the few
 // object pixels of a cell do not move it; the cell values are

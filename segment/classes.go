@@ -57,16 +57,18 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // illumination falloff and haze do not move the class boundary. Scores are
 // split by Otsu's method (C = 2, weighted by area, exact) or weighted
 // k-means (C > 2), then B is re-estimated from the new grouping; at most
-// classRounds rounds. With a named background (dark or bright) the first
-// grouping judges each region against a background mesh that needs no
-// grouping (initialScores), and in every round the scores of regions that
+// classRounds rounds. With a named background (dark or bright), when the
+// first grouping makes one connected object of over half the image, it is
+// redone against a background mesh that needs no grouping
+// (initialScores), and in every round the scores of regions that
 // cannot be objects are clamped to the background's level
-// (backgroundSide); radius is the image's typical object radius in
-// pixels (affinity.ObjectScale), 0 when unknown. When the grouping settles, field is B of the final
+// (backgroundSide); radius gives the image's typical object radius in
+// pixels (affinity.ObjectScale), 0 when unknown, and is called only when
+// the mesh is needed. When the grouping settles, field is B of the final
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, radius float64, seed uint64) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, radius func() float64, seed uint64) (cls []int32, field []float32) {
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
 		mv := statsOf(planes, reg, n).mean
@@ -80,12 +82,16 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
-	if background == "dark" || background == "bright" {
-		// First grouping against the local background mesh, which needs
-		// no grouping (see initialScores).
-		initialScores(score, lum, w, h, reg, st.area, radius, background)
-	}
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
+	if (background == "dark" || background == "bright") && objectShare(cls, reg, w, h, st.area, C, background) > 0.5 {
+		// Objects stand out from a background around them; a first
+		// grouping whose objects include one piece over half the field
+		// has taken uneven background (haze, a glow with dark corners)
+		// for an object. Start again against the local background mesh,
+		// which needs no grouping (see initialScores).
+		initialScores(score, lum, w, h, reg, st.area, radius(), background)
+		cls = asBackground(split1D(score, st.area, C, seed), C, background)
+	}
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
 		mask := make([]bool, len(reg))
@@ -451,4 +457,28 @@ func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
 		}
 	}
 	return out
+}
+
+// objectShare is the fraction of the image covered by the largest
+// connected piece (4-neighbours) of pixels outside the background class of
+// cls (regions reg of a w x h image, area per region).
+func objectShare(cls []int32, reg []int32, w, h int, area []float64, C int, background string) float64 {
+	ref := referenceClass(cls, area, C, background)
+	group := make([]int32, len(reg))
+	for i, r := range reg {
+		group[i] = -1
+		if cls[r] != ref {
+			group[i] = 0
+		}
+	}
+	lab, n := componentsOfGroups(group, w, h, 0)
+	size := make([]int, n+1)
+	for _, l := range lab {
+		size[l]++
+	}
+	big := 0
+	for l := 1; l <= n; l++ {
+		big = max(big, size[l])
+	}
+	return float64(big) / float64(len(reg))
 }

@@ -404,9 +404,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("objects")
 	}
 	if p.Classes >= 2 {
-		radius := 0.0
-		if p.Background != "" && len(in.Planes) == 1 {
-			radius = objectRadius(affinity.ObjectScale(in.Luminance, w, h, p.Workers))
+		// The object scale is estimated only if the class grouping needs
+		// the background mesh.
+		radius := func() float64 {
+			if p.Background == "" || len(in.Planes) != 1 {
+				return 0
+			}
+			return objectRadius(affinity.ObjectScale(in.Luminance, w, h, p.Workers))
 		}
 		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed)
 		res.Classes = make([]int32, npix)
