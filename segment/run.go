@@ -45,6 +45,11 @@ type Params struct {
 	// (affinity.RegionGraph): weights fall across edges and thin lines.
 	Contour bool
 	SigmaC  float64 // σ_C of the contour cue, resolved from the image (affinity.AutoSigmaContour)
+	// Grain removes a directional texture (machining grain) from the
+	// features and the luminance before anything else (see removeGrain);
+	// GrainModel is the model measured on the image, resolved by Run.
+	Grain      bool
+	GrainModel affinity.Grain
 
 	Method      string  // MethodBisect or MethodKway
 	Segments    int     // bisect: region limit (0 none); kway: K (0 from the eigengap)
@@ -184,7 +189,7 @@ type Cache struct {
 
 	mu    sync.Mutex
 	cuts  map[string]*cutEntry
-	slics map[[2]float64]*slicEntry
+	slics map[[3]float64]*slicEntry
 }
 
 type cutEntry struct {
@@ -237,9 +242,13 @@ func (c *Cache) cut(key string, t float64, grow func(at float64) (*cutResult, er
 }
 
 // superpixels returns the superpixels of the input for (count,
-// compactness), computing them with compute once.
-func (c *Cache) superpixels(count int, compactness float64, compute func() (*slicEntry, error)) (*slicEntry, error) {
-	e := cacheEntry(c, &c.slics, [2]float64{float64(count), compactness})
+// compactness, grain removed or not), computing them with compute once.
+func (c *Cache) superpixels(count int, compactness float64, grain bool, compute func() (*slicEntry, error)) (*slicEntry, error) {
+	key := [3]float64{float64(count), compactness, 0}
+	if grain {
+		key[2] = 1
+	}
+	e := cacheEntry(c, &c.slics, key)
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	if !e.done {
@@ -269,6 +278,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		now := time.Now()
 		res.Stages = append(res.Stages, Stage{name, now.Sub(t0).Seconds()})
 		t0 = now
+	}
+	if p.Grain {
+		in, p.GrainModel = removeGrain(in, p.Workers)
+		stage("grain")
 	}
 
 	// Graph.
@@ -324,7 +337,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		var sp *slicEntry
 		if in.Cache != nil {
-			sp, err = in.Cache.superpixels(p.Superpixels, p.Compactness, compute)
+			sp, err = in.Cache.superpixels(p.Superpixels, p.Compactness, p.Grain, compute)
 		} else {
 			sp, err = compute()
 		}
@@ -441,6 +454,26 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	res.Params = p
 	return res, nil
+}
+
+// removeGrain returns the input with the directional texture of its
+// luminance (affinity.EstimateGrain) removed from every feature plane and
+// from the luminance (affinity.RemoveGrain), and the model it measured.
+// The caller's planes are not modified.
+func removeGrain(in Input, workers int) (Input, affinity.Grain) {
+	w, h := in.Width, in.Height
+	g := affinity.EstimateGrain(in.Luminance, w, h, workers)
+	lum := affinity.RemoveGrain(in.Luminance, w, h, g, workers)
+	planes := make([][]float32, len(in.Planes))
+	for c, pl := range in.Planes {
+		if len(pl) > 0 && len(pl) == len(in.Luminance) && &pl[0] == &in.Luminance[0] {
+			planes[c] = lum
+		} else {
+			planes[c] = affinity.RemoveGrain(pl, w, h, g, workers)
+		}
+	}
+	in.Planes, in.Luminance = planes, lum
+	return in, g
 }
 
 // kwayComponents runs k-way clustering on the largest connected component;

@@ -31,6 +31,7 @@ type settings struct {
 	SigmaI        string  `json:"sigma-i"`
 	SigmaX        string  `json:"sigma-x"`
 	Contour       string  `json:"contour"`
+	Grain         string  `json:"grain"`
 	Method        string  `json:"method"`
 	Segments      int     `json:"segments"`
 	MaxSegments   int     `json:"max-segments"`
@@ -69,6 +70,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.StringVar(&s.SigmaI, "sigma-i", "auto", "intensity kernel width in normalized intensity units (0..1), or auto")
 	fs.StringVar(&s.SigmaX, "sigma-x", "auto", "spatial kernel width in pixels, or auto (0.8 x radius; 2 x superpixel spacing)")
 	fs.StringVar(&s.Contour, "contour", "on", "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
+	fs.StringVar(&s.Grain, "grain", "off", "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
 	fs.StringVar(&s.Method, "method", segment.MethodBisect, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
 	fs.IntVar(&s.Segments, "segments", 0, "bisect: stop at this many regions (0 = no limit); kway: K (0 = from the largest eigengap)")
 	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, "kway with --segments 0: the largest K considered")
@@ -236,6 +238,13 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	default:
 		return nil, usagef("--contour must be on or off, got %q", s.Contour)
 	}
+	switch s.Grain {
+	case "on":
+		p.Grain = true
+	case "off":
+	default:
+		return nil, usagef("--grain must be on or off, got %q", s.Grain)
+	}
 	var err error
 	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {
 		return nil, err
@@ -283,5 +292,10 @@ func usedParams(s settings, p segment.Params) map[string]any {
 	m["sigma-i"] = p.SigmaI
 	m["sigma-x"] = p.SigmaX
 	m["superpixels"] = p.Superpixels
+	if p.Grain {
+		m["grain-angle"] = p.GrainModel.Angle * 180 / math.Pi
+		m["grain-share"] = p.GrainModel.Share
+		m["grain-length"] = p.GrainModel.Length
+	}
 	return m
 }

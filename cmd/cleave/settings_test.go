@@ -87,6 +87,7 @@ func TestResolveErrors(t *testing.T) {
 		{[]string{"--background", "dark"}, "background"},
 		{[]string{"--classes", "1"}, "classes"},
 		{[]string{"--pixel-size", "-1"}, "pixel-size"},
+		{[]string{"--grain", "yes"}, "grain"},
 	} {
 		_, s, c2, err := parseSegment(append(c.args, "x.png"), nil)
 		if err == nil {

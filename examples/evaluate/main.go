@@ -53,7 +53,7 @@ var cleaveFlags = map[string][]string{
 	"clusters": {"--classes", "2", "--background", "dark"},
 	"haze":     {"--classes", "2", "--background", "dark"},
 	"stained":  {"--classes", "2", "--background", "bright"},
-	"surface":  {"--classes", "2", "--background", "bright", "--flatten", "30"},
+	"surface":  {"--classes", "2", "--background", "bright", "--flatten", "30", "--grain", "on"},
 	"grains":   {"--background", "lines"},
 }
 
