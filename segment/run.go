@@ -439,6 +439,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				}
 				field = smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
 			}
+			if nodeOf != nil && p.Classes == 2 {
+				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+				for i, r := range reg {
+					res.Classes[i] = cls[r]
+				}
+			}
 			con := contrastMap(in.Luminance, field)
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))

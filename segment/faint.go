@@ -1,0 +1,88 @@
+package segment
+
+import "math"
+
+// faintSigmas is k of the faint-object rule of faintObjects. The usual
+// 3 (detectSigmas) assumes Gaussian scores; superpixel scores on mottled
+// stains and grainy metal have much heavier tails, and at 3 (and 5) the
+// rule found spurious objects there (generated stained scenes, seeds
+// 9200-9203: object F1 0.821 -> 0.703 at 3, 0.797 at 5). 7, chosen on
+// those seeds with the clusters, plates, surface and nuclei kinds, left
+// stained and clusters unchanged and found the pits the cut had missed
+// (plates F1 0.933 -> 1.000, surface 0.528 -> 0.745).
+const faintSigmas = 7
+
+// faintObjects finds objects the cut left inside the background: a faint
+// object of a few superpixels in a large background part is cheap to cut
+// off but never lies at an end of its part's Fiedler vector, so the
+// recursive bisection stops before it. Each superpixel k (nodeOf maps
+// pixels to superpixels 0..nsp-1) gets the score s_k = log of the mean of
+// I/B over its pixels, B the background field; over the superpixels of
+// background-class regions the scores have a robust centre m (median) and
+// spread σ (scaled median absolute deviation, common practice), which
+// hold both the pixel noise averaged over a superpixel and the shading the
+// field leaves. Background superpixels beyond m + faintSigmas·σ on the
+// objects' side (above for a dark background, below for a bright one)
+// stand out, and each connected piece of them (4-neighbours, at least
+// minArea pixels) becomes a new region of the object class next to the
+// background. It returns the updated region map, count and classes.
+func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg []int32, nreg int, cls []int32, bg int32, background string, minArea int) ([]int32, int, []int32) {
+	sum := make([]float64, nsp)
+	cnt := make([]float64, nsp)
+	inBg := make([]bool, nsp)
+	for i, k := range nodeOf {
+		sum[k] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
+		cnt[k]++
+		inBg[k] = cls[reg[i]] == bg
+	}
+	score := make([]float64, nsp)
+	var bgScores []float64
+	for k := range score {
+		if cnt[k] > 0 {
+			score[k] = math.Log(math.Max(sum[k]/cnt[k], scoreFloor))
+			if inBg[k] {
+				bgScores = append(bgScores, score[k])
+			}
+		}
+	}
+	// Too few background superpixels to judge a spread.
+	if len(bgScores) < 16 {
+		return reg, nreg, cls
+	}
+	m := kthSmallest(bgScores, len(bgScores)/2)
+	for i, v := range bgScores {
+		bgScores[i] = math.Abs(v - m)
+	}
+	t := faintSigmas * madScale * kthSmallest(bgScores, len(bgScores)/2)
+	sign, obj := 1.0, bg+1 // dark background: class 0, objects above
+	if background == "bright" {
+		sign, obj = -1, bg-1
+	}
+	group := make([]int32, len(reg))
+	any := false
+	for i, k := range nodeOf {
+		group[i] = -1
+		if inBg[k] && sign*(score[k]-m) > t {
+			group[i] = 0
+			any = true
+		}
+	}
+	if !any {
+		return reg, nreg, cls
+	}
+	pieces, n := componentsOfGroups(group, w, h, minArea)
+	if n == 0 {
+		return reg, nreg, cls
+	}
+	out := append([]int32(nil), reg...)
+	for i, l := range pieces {
+		if l > 0 {
+			out[i] = int32(nreg) + l - 1
+		}
+	}
+	cls = append(cls, make([]int32, n)...)
+	for l := 0; l < n; l++ {
+		cls[nreg+l] = obj
+	}
+	return out, nreg + n, cls
+}

@@ -1,0 +1,57 @@
+package segment
+
+import (
+	"math/rand/v2"
+	"testing"
+)
+
+// A faint square of 16x16 pixels at 1.1 times a flat background with 5 %
+// pixel noise, in a single background region, on a grid of 8x8
+// superpixels: each of its superpixels averages 64 pixels, so its score
+// log(1.1) ≈ 0.095 stands about 15 standard deviations (0.05/8 per
+// superpixel) above the background's (Gaussian arithmetic), beyond
+// faintSigmas; it becomes one new object region, and nothing else does.
+// Flipped (a dark square on a bright background) the same holds.
+func TestFaintObjects(t *testing.T) {
+	const w, h, cell = 128, 128, 8
+	for _, background := range []string{"dark", "bright"} {
+		r := rand.New(rand.NewPCG(5, 6))
+		lum := make([]float32, w*h)
+		field := make([]float32, w*h)
+		nodeOf := make([]int32, w*h)
+		reg := make([]int32, w*h)
+		level := float32(1.1)
+		if background == "bright" {
+			level = 0.9
+		}
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				i := y*w + x
+				v := float32(1)
+				if x >= 64 && x < 80 && y >= 32 && y < 48 {
+					v = level
+				}
+				lum[i] = 0.5 * v * (1 + float32(0.05*r.NormFloat64()))
+				field[i] = 0.5
+				nodeOf[i] = int32((y/cell)*(w/cell) + x/cell)
+			}
+		}
+		bg := int32(0)
+		if background == "bright" {
+			bg = 1
+		}
+		cls := []int32{bg}
+		out, n, outCls := faintObjects(lum, field, w, h, nodeOf, (w/cell)*(h/cell), reg, 1, cls, bg, background, 20)
+		if n != 2 || outCls[1] == bg {
+			t.Fatalf("%s: %d regions, classes %v; want 2 with the new one an object", background, n, outCls)
+		}
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				in := x >= 64 && x < 80 && y >= 32 && y < 48
+				if got := out[y*w+x] == 1; got != in {
+					t.Fatalf("%s: pixel (%d,%d) in new region %v, want %v", background, x, y, got, in)
+				}
+			}
+		}
+	}
+}
