@@ -353,3 +353,77 @@ func objectPixels(labels []int32, w, h, n int) ([]box, [][]int) {
 	}
 	return boxes, pixels
 }
+
+// edgeRatio: an object keeps its label only when the median edge energy
+// along its outline is at least edgeRatio times the median over the
+// whole image. Most pixels of an image lie inside flat areas, so the
+// image median measures what noise and texture give; along an outline
+// of dozens of pixels the median of noise alone stays close to it, so
+// twice that is well clear of noise, while a real object border (a
+// step blurred by the optics) stands far above it. On generated scenes
+// (haze 9201 and 9203, clusters 9200) true objects had ratios of 2.1 to
+// 114; the patches of glow that the classes took for objects had 1.3
+// to 1.8.
+const edgeRatio = 2
+
+// edgeless marks the objects (labels 1..n, 0 background) with no
+// boundary: the median edge energy (EdgeEnergy of the luminance) over
+// their outline pixels, those with a 4-neighbour of another label, is
+// below edgeRatio times the image's median energy. A smooth hill of glow
+// or haze that stands above its surroundings has no edge anywhere on its
+// outline; an object, however faint, has one. It returns nil when no
+// object is marked.
+func edgeless(labels []int32, n int, energy []float32, w, h int) []bool {
+	if n == 0 {
+		return nil
+	}
+	all := make([]float64, len(energy))
+	for i, v := range energy {
+		all[i] = float64(v)
+	}
+	floor := edgeRatio * kthSmallest(all, len(all)/2)
+	outline := make([][]float64, n+1)
+	for i, l := range labels {
+		if l <= 0 {
+			continue
+		}
+		edge := false
+		neighbours4(i, w, h, func(j int) {
+			if labels[j] != l {
+				edge = true
+			}
+		})
+		if edge {
+			outline[l] = append(outline[l], float64(energy[i]))
+		}
+	}
+	var drop []bool
+	for l := 1; l <= n; l++ {
+		if v := outline[l]; len(v) > 0 && kthSmallest(v, len(v)/2) < floor {
+			if drop == nil {
+				drop = make([]bool, n+1)
+			}
+			drop[l] = true
+		}
+	}
+	return drop
+}
+
+// withoutLabels sends the marked objects to the background and numbers
+// the rest 1..N in raster order of their first pixel.
+func withoutLabels(labels []int32, n int, drop []bool) ([]int32, int) {
+	out := make([]int32, len(labels))
+	id := make([]int32, n+1)
+	var m int32
+	for i, l := range labels {
+		if l <= 0 || drop[l] {
+			continue
+		}
+		if id[l] == 0 {
+			m++
+			id[l] = m
+		}
+		out[i] = id[l]
+	}
+	return out, int(m)
+}

@@ -2,7 +2,10 @@ package segment
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
 )
 
 // twoDiscs renders two discs of radius r at I/B = level on a flat
@@ -151,5 +154,46 @@ func TestFillHoles(t *testing.T) {
 	fillHoles(two, w, h)
 	if two[2*w+3] != -1 {
 		t.Errorf("hole between two groups filled with %d", two[2*w+3])
+	}
+}
+
+// A disc with a sharp border and a broad Gaussian hill (σ 50 px) of the
+// same height on a noisy background (3 % noise): along the hill's outline
+// (where it reaches half its height) the slope is 0.2·1.18/50 per pixel,
+// an edge energy (σ = 1.5) of about 0.007, at the level noise alone gives
+// there; along the disc's border the smoothed step gives about
+// 0.4/sqrt(2π) ≈ 0.16 (closed forms of the smoothed ramp and step). Only
+// the hill is marked.
+func TestEdgeless(t *testing.T) {
+	const w, h = 320, 160
+	r := rand.New(rand.NewPCG(9, 9))
+	lum := make([]float32, w*h)
+	labels := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			v := 0.2
+			dx, dy := float64(x-60), float64(y-80)
+			if dx*dx+dy*dy < 15*15 {
+				v = 0.6
+				labels[i] = 1
+			}
+			hx, hy := float64(x-220), float64(y-80)
+			hill := 0.4 * math.Exp(-(hx*hx+hy*hy)/(2*50*50))
+			v += hill
+			if hill > 0.2 {
+				labels[i] = 2
+			}
+			lum[i] = float32(v + 0.03*r.NormFloat64())
+		}
+	}
+	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
+	drop := edgeless(labels, 2, energy, w, h)
+	if drop == nil || drop[1] || !drop[2] {
+		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
+	}
+	out, n := withoutLabels(labels, 2, drop)
+	if n != 1 || out[80*w+60] != 1 || out[80*w+220] != 0 {
+		t.Errorf("after dropping: %d objects, disc label %d, hill label %d", n, out[80*w+60], out[80*w+220])
 	}
 }

@@ -316,6 +316,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		g      *affinity.Graph
 		nodeOf []int32 // pixel -> node; nil for the pixel graph
 		area   []int
+		energy []float32 // edge energy of the luminance, once computed
 		err    error
 	)
 	if p.Superpixels == 0 {
@@ -355,7 +356,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		rp := affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX}
 		if p.Contour {
-			rp.Contour = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+			energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+			rp.Contour = energy
 			p.SigmaC = affinity.AutoSigmaContour(rp.Contour, w, h, sum, adj)
 			rp.SigmaC = p.SigmaC
 		}
@@ -432,26 +434,48 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
-			if field == nil {
+			backgroundField := func() []float32 {
 				mask := make([]bool, npix)
-				for i, c := range res.Classes {
-					mask[i] = c == bg
-				}
-				field = smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
-			}
-			if nodeOf != nil && p.Classes == 2 {
-				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 				for i, r := range reg {
-					res.Classes[i] = cls[r]
+					mask[i] = cls[r] == bg
 				}
+				return smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
+			}
+			if field == nil {
+				field = backgroundField()
+			}
+			if energy == nil {
+				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
 			con := contrastMap(in.Luminance, field)
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
+			// Objects with no edge on their outline are shading (a glow,
+			// haze): their regions join the background, which is then
+			// estimated again with them.
+			if drop := edgeless(obj, nobj, energy, w, h); drop != nil {
+				for i, l := range obj {
+					if drop[l] {
+						cls[reg[i]] = bg
+					}
+				}
+				field = backgroundField()
+				con = contrastMap(in.Luminance, field)
+			}
+			if nodeOf != nil && p.Classes == 2 {
+				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+			}
+			for i, r := range reg {
+				res.Classes[i] = cls[r]
+			}
+			obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
 			stage("classes")
 			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
+			}
+			if drop := edgeless(res.Labels, res.NumObjects, energy, w, h); drop != nil {
+				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
 			stage("objects")
 		} else {
