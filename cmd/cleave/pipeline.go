@@ -40,6 +40,7 @@ type record struct {
 	Settings    *settings          `json:"settings,omitempty"` // parameters as requested ("auto" unresolved)
 	Params      map[string]any     `json:"params,omitempty"`   // parameters as used, automatic values resolved
 	Graph       *graphInfo         `json:"graph,omitempty"`
+	ObjectScale *objectScaleInfo   `json:"object_scale,omitempty"`
 	Eigenvalues []float64          `json:"eigenvalues"`
 	SplitNcuts  []float64          `json:"split_ncuts"`
 	Regions     int                `json:"regions"`
@@ -53,6 +54,19 @@ type graphInfo struct {
 	Kind  string `json:"kind"` // "pixels" or "superpixels"
 	Nodes int    `json:"nodes"`
 	Edges int    `json:"edges"`
+}
+
+// objectScaleInfo is the object scale estimated for the automatic
+// superpixel count (segment.Result.ObjectScale): present only when one was
+// estimated; Used tells whether the count followed it.
+type objectScaleInfo struct {
+	Radius   float64 `json:"radius"`
+	Sigma    float64 `json:"sigma"`
+	Strength float64 `json:"strength"`
+	Blobs    int     `json:"blobs"`
+	Noise    float64 `json:"noise"`
+	Found    bool    `json:"found"`
+	Used     bool    `json:"used"`
 }
 
 // outputSet names the files written for one image.
@@ -120,6 +134,9 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		kind = "superpixels"
 	}
 	rec.Graph = &graphInfo{Kind: kind, Nodes: res.Graph.N, Edges: res.Graph.NNZ() / 2}
+	if e := res.ObjectScale; e != nil {
+		rec.ObjectScale = &objectScaleInfo{Radius: e.Radius, Sigma: e.Sigma, Strength: e.Strength, Blobs: e.Blobs, Noise: e.Noise, Found: e.Found, Used: res.ObjectScaleUsed}
+	}
 	rec.Eigenvalues, rec.SplitNcuts = res.Eigenvalues, res.SplitNcuts
 	if rec.SplitNcuts == nil {
 		rec.SplitNcuts = []float64{}

@@ -63,8 +63,10 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.StringVar(&s.FlattenMode, "flatten-mode", "divide", "how --flatten removes the background: divide or subtract")
 	fs.StringVar(&s.Features, "features", "gray", "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
 	fs.IntVar(&s.Channel, "channel", -1, "use only this channel (0-based) of a multi-channel image; -1 = all")
-	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels, 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d)",
-		segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels))
+	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels, 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
+		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
+		segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
+		segment.SuperpixelsPerObject, segment.SuperpixelsPerObject, segment.MaxAutoSuperpixels, segment.MinPixelsPerScaledSuperpixel, segment.MaxScaledSuperpixels, segment.MaxAutoSuperpixels))
 	fs.Float64Var(&s.Compactness, "compactness", defaultCompactness, "SLIC compactness: higher gives rounder superpixels, lower follows edges more closely")
 	fs.IntVar(&s.Radius, "radius", defaultRadius, "pixel graph: join pixels up to this distance (pixels)")
 	fs.StringVar(&s.SigmaI, "sigma-i", "auto", "intensity kernel width in normalized intensity units (0..1), or auto")
