@@ -400,23 +400,7 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64) []float32 {
 			grid[c] = global
 		}
 	}
-	out := make([]float32, w*h)
-	for y := 0; y < h; y++ {
-		fy := (float64(y)+0.5)/float64(cell) - 0.5
-		y0 := int(math.Floor(fy))
-		ty := fy - float64(y0)
-		y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
-		for x := 0; x < w; x++ {
-			fx := (float64(x)+0.5)/float64(cell) - 0.5
-			x0 := int(math.Floor(fx))
-			tx := fx - float64(x0)
-			x0c, x1c := min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
-			top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
-			bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
-			out[y*w+x] = float32(top*(1-ty) + bot*ty)
-		}
-	}
-	return out
+	return interpolateGrid(grid, gw, gh, cell, w, h)
 }
 
 // blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,

@@ -123,7 +123,7 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 		// A split is made along a seam (a dip in contrast) within the Ncut
 		// limit, or, in a shape with a neck, through the neck.
 		accept := func(part []int, inA []bool, ncut float64) bool {
-			if ncut <= limit && seamSplit(feat, cw, ch, px, b.x0, b.y0, w, part, inA) {
+			if ncut <= limit && seamSplit(feat, cw, ch, nodes, part, inA) {
 				return true
 			}
 			return necked && cutNeck(nodes, cw, ch, part, inA) >= refineNeck
@@ -196,22 +196,11 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 // seam: the mean scaled contrast of the pixels next to the cut (with a
 // 4-neighbour on the other side) must be below refineSeam times the mean
 // contrast of the dimmer side. A thin scratch cut across, or an elongated
-// object cut at its middle, has no such dip and stays whole. nodes index
-// px (the object's pixels, raster order), inA marks side A by position in
-// nodes; feat is the object's crop (cw x ch at x0, y0 in an image of
-// width w).
-func seamSplit(feat []float32, cw, ch int, px []int, x0, y0, w int, nodes []int, inA []bool) bool {
-	// side per crop pixel: 0 outside the part, 1 side A, 2 side B.
-	side := make([]uint8, cw*ch)
-	crop := make([]int, len(nodes))
-	for k, v := range nodes {
-		i := px[v]
-		crop[k] = (i/w-y0)*cw + (i%w - x0)
-		side[crop[k]] = 2
-		if inA[k] {
-			side[crop[k]] = 1
-		}
-	}
+// object cut at its middle, has no such dip and stays whole. part indexes
+// nodes (the crop pixel of each object pixel), inA marks side A by
+// position in part; feat is the object's crop (cw x ch).
+func seamSplit(feat []float32, cw, ch int, nodes, part []int, inA []bool) bool {
+	crop, side := cutSides(nodes, cw*ch, part, inA)
 	var sum, cnt [3]float64
 	var seam, seamN float64
 	for _, c := range crop { // in node order: sums are deterministic
@@ -219,17 +208,9 @@ func seamSplit(feat []float32, cw, ch int, px []int, x0, y0, w int, nodes []int,
 		a := side[c]
 		sum[a] += v
 		cnt[a]++
-		x, y := c%cw, c/cw
-		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
-			xx, yy := x+d[0], y+d[1]
-			if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
-				continue
-			}
-			if b := side[yy*cw+xx]; b != 0 && b != a {
-				seam += v
-				seamN++
-				break
-			}
+		if onCut(side, cw, ch, c) {
+			seam += v
+			seamN++
 		}
 	}
 	if seamN == 0 || cnt[1] == 0 || cnt[2] == 0 {
@@ -393,31 +374,14 @@ func shapeWeights(g *affinity.Graph, nodes []int, dist []float64) {
 // it returns (min(pA, pB) - s) / (min(pA, pB) - 1/2) as in neckDepth, or
 // 0 when the split leaves no such pinch.
 func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) float64 {
-	crop := make([]int, len(part))
-	side := make([]uint8, cw*ch) // 0 outside the part, 1 side A, 2 side B
-	for k, v := range part {
-		crop[k] = nodes[v]
-		side[crop[k]] = 2
-		if inA[k] {
-			side[crop[k]] = 1
-		}
-	}
+	crop, side := cutSides(nodes, cw*ch, part, inA)
 	d := distanceInside(cropMask(crop, cw*ch), cw, ch)
 	var peak [3]float64
 	saddle := 0.0
 	for _, c := range crop {
-		a := side[c]
-		peak[a] = max(peak[a], d[c])
-		x, y := c%cw, c/cw
-		for _, o := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
-			xx, yy := x+o[0], y+o[1]
-			if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
-				continue
-			}
-			if b := side[yy*cw+xx]; b != 0 && b != a {
-				saddle = max(saddle, d[c])
-				break
-			}
+		peak[side[c]] = max(peak[side[c]], d[c])
+		if onCut(side, cw, ch, c) {
+			saddle = max(saddle, d[c])
 		}
 	}
 	lo := min(peak[1], peak[2])
@@ -425,4 +389,37 @@ func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) float64 {
 		return 0
 	}
 	return (lo - saddle) / (lo - 0.5)
+}
+
+// cutSides returns the crop pixel of each node of part (indexes of nodes,
+// the crop pixel of each object pixel) and a map of the n crop pixels: 0
+// outside the part, 1 side A (inA, by position in part), 2 side B.
+func cutSides(nodes []int, n int, part []int, inA []bool) ([]int, []uint8) {
+	crop := make([]int, len(part))
+	side := make([]uint8, n)
+	for k, v := range part {
+		crop[k] = nodes[v]
+		side[crop[k]] = 2
+		if inA[k] {
+			side[crop[k]] = 1
+		}
+	}
+	return crop, side
+}
+
+// onCut reports whether crop pixel c (cw x ch) has a 4-neighbour on the
+// other side of a split (side from cutSides).
+func onCut(side []uint8, cw, ch, c int) bool {
+	a := side[c]
+	x, y := c%cw, c/cw
+	for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
+		xx, yy := x+d[0], y+d[1]
+		if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+			continue
+		}
+		if b := side[yy*cw+xx]; b != 0 && b != a {
+			return true
+		}
+	}
+	return false
 }

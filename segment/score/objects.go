@@ -31,17 +31,7 @@ type ObjectMatch struct {
 func MatchObjects(pred, truth []int32) ObjectMatch {
 	t := Contingency(pred, truth)
 	var m ObjectMatch
-	nPred, nTruth := 0, 0
-	for _, l := range t.A {
-		if l != 0 {
-			nPred++
-		}
-	}
-	for _, l := range t.B {
-		if l != 0 {
-			nTruth++
-		}
-	}
+	nPred, nTruth := t.objects()
 	var sumIoU float64
 	for _, c := range t.Cells {
 		if t.A[c.Row] == 0 || t.B[c.Col] == 0 {
@@ -76,4 +66,19 @@ func ratio(num, den int, empty bool) float64 {
 		return 0
 	}
 	return float64(num) / float64(den)
+}
+
+// objects counts the non-zero labels of the table's two maps.
+func (t *Table) objects() (nA, nB int) {
+	for _, l := range t.A {
+		if l != 0 {
+			nA++
+		}
+	}
+	for _, l := range t.B {
+		if l != 0 {
+			nB++
+		}
+	}
+	return nA, nB
 }

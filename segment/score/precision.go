@@ -43,17 +43,7 @@ func (t *Table) precisionAt(ts []float64) []float64 {
 			panic("score: IoU threshold outside [0.5, 1)")
 		}
 	}
-	nPred, nTruth := 0, 0
-	for _, l := range t.A {
-		if l != 0 {
-			nPred++
-		}
-	}
-	for _, l := range t.B {
-		if l != 0 {
-			nTruth++
-		}
-	}
+	nPred, nTruth := t.objects()
 	// IoU of every candidate pair: only cells with IoU > 0.5 can match at
 	// any threshold in range.
 	var ious []float64
