@@ -66,36 +66,21 @@ func objectsFrom(con []float64, w, h int, reg []int32, n int, cls []int32, bgCla
 		}
 	}
 	// Union the regions whose shared boundary is not a seam.
-	parent := make([]int32, n)
-	for i := range parent {
-		parent[i] = int32(i)
-	}
-	find := func(x int32) int32 {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
-	}
+	f := newForest(n)
 	for k, s := range seamSum {
 		a, b := int32(k>>32), int32(uint32(k))
 		seam := s / seamCnt[k]
 		if seam < seamRatio*math.Min(regC[a], regC[b]) {
 			continue
 		}
-		ra, rb := find(a), find(b)
-		if ra < rb {
-			parent[rb] = ra
-		} else if rb < ra {
-			parent[ra] = rb
-		}
+		f.union(a, b)
 	}
 	group := make([]int32, len(reg))
 	for i, r := range reg {
 		if cls[r] == bgClass {
 			group[i] = -1
 		} else {
-			group[i] = find(r)
+			group[i] = f.find(r)
 		}
 	}
 	return componentsOfGroups(group, w, h, minArea)

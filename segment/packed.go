@@ -81,17 +81,7 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 			}
 		}
 	}
-	parent := make([]int32, n)
-	for i := range parent {
-		parent[i] = int32(i)
-	}
-	find := func(x int32) int32 {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
-	}
+	f := newForest(n)
 	keys := make([]uint64, 0, len(pairs))
 	for k := range pairs {
 		keys = append(keys, k)
@@ -101,16 +91,11 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 		if c := pairs[k]; 2*c.onLine >= c.all {
 			continue // a line runs along this border
 		}
-		ra, rb := find(int32(k>>32)), find(int32(uint32(k)))
-		if ra < rb {
-			parent[rb] = ra
-		} else if rb < ra {
-			parent[ra] = rb
-		}
+		f.union(int32(k>>32), int32(uint32(k)))
 	}
 	group := make([]int32, len(reg))
 	for i, r := range reg {
-		group[i] = find(r)
+		group[i] = f.find(r)
 		if line[i] {
 			group[i] = -1
 		}

@@ -151,3 +151,33 @@ func mergeSmall(lab []int32, w, h, n, minArea int) int {
 	}
 	return relabel(lab, n)
 }
+
+// forest is a union-find over 0..n-1 (path halving); union makes the
+// smaller root the parent, so the roots do not depend on the order of
+// the unions' arguments.
+type forest []int32
+
+func newForest(n int) forest {
+	f := make(forest, n)
+	for i := range f {
+		f[i] = int32(i)
+	}
+	return f
+}
+
+func (f forest) find(x int32) int32 {
+	for f[x] != x {
+		f[x] = f[f[x]]
+		x = f[x]
+	}
+	return x
+}
+
+func (f forest) union(a, b int32) {
+	ra, rb := f.find(a), f.find(b)
+	if ra < rb {
+		f[rb] = ra
+	} else if rb < ra {
+		f[ra] = rb
+	}
+}
