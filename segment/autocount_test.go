@@ -72,8 +72,10 @@ func TestAutoSuperpixelsRule(t *testing.T) {
 		{"2048² radius 12", 2048 * 2048, found(12, 300), 37086, true},
 		// 4·4096²/(π·12²) = 148345, above the absolute cap
 		{"4096² radius 12 capped", 4096 * 4096, found(12, 300), 48000, true},
-		// 4·600²/(π·3²) = 50930 > npix/16 = 22500
-		{"600² radius 3 strong, npix/16", 600 * 600, found(3, 100), 22500, true},
+		// 4·600²/(π·7²) = 9354 < npix/16 = 22500
+		{"600² radius 7", 600 * 600, found(7, 100), 9354, true},
+		// 4·1200²/(π·6²) = 50930, below npix/16 = 90000, above the absolute cap
+		{"1200² radius 6, absolute cap", 1200 * 1200, found(6, 100), 48000, true},
 		// 4·1024²/(π·30²) = 1483: never below the per-pixel rule's 4000
 		{"1024² radius 30, floor", 1024 * 1024, found(30, 300), 4000, true},
 		// 4·512²/(π·12.5²) = 2136: 512² nuclei stay at today's 4000
@@ -84,8 +86,9 @@ func TestAutoSuperpixelsRule(t *testing.T) {
 		{"boundary scale of packed grains", 2048 * 2048, found(3.0, 21.7), 4000, false},
 		{"texture scale of a surface", 2048 * 2048, found(3.6, 38.8), 4000, false},
 		{"texture scale of a plate", 2048 * 2048, found(4.1, 24.3), 4000, false},
-		// 4·2048²/(π·5²) = 213636 -> 48000
-		{"small strong objects", 2048 * 2048, found(5, 120), 48000, true},
+		// tiny objects, however strong (stars): the per-pixel rule
+		{"small strong objects", 2048 * 2048, found(5, 120), 4000, false},
+		{"stars", 1000 * 872, found(2.3, 72), 4000, false},
 		{"zero radius", 2048 * 2048, found(0, 300), 4000, false},
 		{"infinite radius", 2048 * 2048, found(math.Inf(1), 300), 4000, false},
 		{"NaN radius", 2048 * 2048, found(math.NaN(), 300), 4000, false},
