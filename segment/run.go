@@ -20,8 +20,14 @@ const (
 // Automatic choices (stated in the command's help and the README).
 const (
 	// PixelGraphMaxPixels is the largest image (in pixels) that gets a pixel
-	// graph when Superpixels is automatic; larger images get superpixels.
-	PixelGraphMaxPixels = 128 * 128
+	// graph when Superpixels is automatic; larger images get superpixels:
+	// the smallest image with MinAutoSuperpixels of PixelsPerSuperpixel
+	// pixels. The superpixel graph carries the contour cue and the faint
+	// object rule, and on 128 x 128 generated scenes (seeds 9230-9235) it
+	// beat the pixel graph at a fifteenth of the time: object F1 nuclei
+	// 0.889 -> 1.000, clusters 0.826 -> 0.907, stained 0.967 -> 0.967,
+	// plates 0.417 -> 1.000 (the former limit was 128 x 128).
+	PixelGraphMaxPixels = MinAutoSuperpixels * PixelsPerSuperpixel
 	// PixelsPerSuperpixel sets the automatic superpixel count, clamped to
 	// [MinAutoSuperpixels, MaxAutoSuperpixels].
 	PixelsPerSuperpixel = 48
