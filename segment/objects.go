@@ -412,3 +412,57 @@ func withoutLabels(labels []int32, n int, drop []bool) ([]int32, int) {
 	}
 	return out, int(m)
 }
+
+// absorbSmall gives every object (labels 1..n, 0 background) under
+// minArea pixels to the neighbouring object it shares the most pixel
+// edges with, or to the background when it touches none (a re-cut can
+// leave a few pixels cut off from both sides of a split), and numbers the
+// objects 1..N in raster order of their first pixel.
+func absorbSmall(labels []int32, n, w, h, minArea int) ([]int32, int) {
+	area := make([]int, n+1)
+	for _, l := range labels {
+		area[l]++
+	}
+	target := make([]int32, n+1)
+	small := false
+	for l := 1; l <= n; l++ {
+		target[l] = int32(l)
+		if area[l] < minArea {
+			small = true
+		}
+	}
+	if !small {
+		return labels, n
+	}
+	shared := map[uint64]int{}
+	for i, l := range labels {
+		if l <= 0 || area[l] >= minArea {
+			continue
+		}
+		neighbours4(i, w, h, func(j int) {
+			if m := labels[j]; m > 0 && m != l && area[m] >= minArea {
+				shared[uint64(l)<<32|uint64(m)]++
+			}
+		})
+	}
+	best := make([]int, n+1)
+	for l := 1; l <= n; l++ {
+		if area[l] < minArea {
+			target[l] = 0
+		}
+	}
+	for k, c := range shared {
+		l, m := int32(k>>32), int32(uint32(k))
+		if c > best[l] || (c == best[l] && m < target[l]) {
+			best[l], target[l] = c, m
+		}
+	}
+	drop := make([]bool, n+1)
+	out := make([]int32, len(labels))
+	for i, l := range labels {
+		if l > 0 {
+			out[i] = target[l]
+		}
+	}
+	return withoutLabels(out, n, drop)
+}

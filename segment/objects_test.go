@@ -197,3 +197,30 @@ func TestEdgeless(t *testing.T) {
 		t.Errorf("after dropping: %d objects, disc label %d, hill label %d", n, out[80*w+60], out[80*w+220])
 	}
 }
+
+// Hand-worked: object 2 (2 pixels, under the minimum of 3) touches
+// objects 1 and 3 along 2 pixel edges each, and the tie goes to the
+// smaller label, 1; object 4 (1 pixel) touches no object and goes to the
+// background; objects are renumbered in raster order.
+func TestAbsorbSmall(t *testing.T) {
+	const w, h = 6, 3
+	labels := []int32{
+		1, 1, 2, 3, 3, 0,
+		1, 1, 2, 3, 3, 0,
+		1, 1, 0, 3, 0, 4,
+	}
+	got, n := absorbSmall(labels, 4, w, h, 3)
+	want := []int32{
+		1, 1, 1, 2, 2, 0,
+		1, 1, 1, 2, 2, 0,
+		1, 1, 0, 2, 0, 0,
+	}
+	if n != 2 {
+		t.Fatalf("%d objects, want 2", n)
+	}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Fatalf("labels %v, want %v", got, want)
+		}
+	}
+}

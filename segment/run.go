@@ -603,6 +603,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if drop := edgeless(res.Labels, res.NumObjects, energy, w, h); drop != nil {
 				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
+			res.Labels, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, w, h, max(p.MinArea, 1))
 			stage("objects")
 		} else {
 			stage("classes")
