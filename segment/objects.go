@@ -354,19 +354,14 @@ const edgeRatio = 2
 // edgeless marks the objects (labels 1..n, 0 background) with no
 // boundary: the median edge energy (EdgeEnergy of the luminance) over
 // their outline pixels, those with a 4-neighbour of another label, is
-// below edgeRatio times the image's median energy. A smooth hill of glow
+// below floor (edgeFloor of the energy). A smooth hill of glow
 // or haze that stands above its surroundings has no edge anywhere on its
 // outline; an object, however faint, has one. It returns nil when no
 // object is marked.
-func edgeless(labels []int32, n int, energy []float32, w, h int) []bool {
+func edgeless(labels []int32, n int, energy []float32, floor float64, w, h int) []bool {
 	if n == 0 {
 		return nil
 	}
-	all := make([]float64, len(energy))
-	for i, v := range energy {
-		all[i] = float64(v)
-	}
-	floor := edgeRatio * kthSmallest(all, len(all)/2)
 	outline := make([][]float64, n+1)
 	for i, l := range labels {
 		if l <= 0 {
@@ -392,6 +387,15 @@ func edgeless(labels []int32, n int, energy []float32, w, h int) []bool {
 		}
 	}
 	return drop
+}
+
+// edgeFloor is edgeRatio times the median of the edge energy.
+func edgeFloor(energy []float32) float64 {
+	all := make([]float64, len(energy))
+	for i, v := range energy {
+		all[i] = float64(v)
+	}
+	return edgeRatio * kthSmallest(all, len(all)/2)
 }
 
 // withoutLabels sends the marked objects to the background and numbers

@@ -188,7 +188,7 @@ func TestEdgeless(t *testing.T) {
 		}
 	}
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	drop := edgeless(labels, 2, energy, w, h)
+	drop := edgeless(labels, 2, energy, edgeFloor(energy), w, h)
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
 	}

@@ -573,12 +573,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
+			floor := edgeFloor(energy)
 			con := contrastMap(in.Luminance, field)
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			// Objects with no edge on their outline are shading (a glow,
 			// haze): their regions join the background, which is then
 			// estimated again with them.
-			if drop := edgeless(obj, nobj, energy, w, h); drop != nil {
+			if drop := edgeless(obj, nobj, energy, floor, w, h); drop != nil {
 				for i, l := range obj {
 					if drop[l] {
 						cls[reg[i]] = bg
@@ -600,7 +601,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if err != nil {
 				return nil, err
 			}
-			if drop := edgeless(res.Labels, res.NumObjects, energy, w, h); drop != nil {
+			if drop := edgeless(res.Labels, res.NumObjects, energy, floor, w, h); drop != nil {
 				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
 			res.Labels, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, w, h, max(p.MinArea, 1))
