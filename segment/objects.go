@@ -470,3 +470,69 @@ func absorbSmall(labels []int32, n, w, h, minArea int) ([]int32, int) {
 	}
 	return withoutLabels(out, n, drop)
 }
+
+// joinTouching merges objects (labels 1..n, 0 background) that touch
+// without a seam between them, by the rule of objectsFrom: the mean
+// contrast con over the pixels on both sides of their shared border is
+// at least seamRatio times the weaker object's mean contrast. Redrawn
+// outlines can bridge the gap between pieces of one object that the cut
+// left apart (a thin scratch found superpixel by superpixel), and a
+// border without a dip in contrast is no boundary between objects.
+// Objects are numbered 1..N in raster order of their first pixel.
+func joinTouching(con []float64, labels []int32, n, w, h int) ([]int32, int) {
+	if n < 2 {
+		return labels, n
+	}
+	mean := make([]float64, n+1)
+	cnt := make([]float64, n+1)
+	for i, l := range labels {
+		mean[l] += con[i]
+		cnt[l]++
+	}
+	for l := range mean {
+		if cnt[l] > 0 {
+			mean[l] /= cnt[l]
+		}
+	}
+	seamSum := map[uint64]float64{}
+	seamCnt := map[uint64]float64{}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			for _, j := range [2]int{i + 1, i + w} {
+				if (j == i+1 && x+1 >= w) || (j == i+w && y+1 >= h) {
+					continue
+				}
+				a, b := labels[i], labels[j]
+				if a == b || a == 0 || b == 0 {
+					continue
+				}
+				k := pairKey(min(a, b), max(a, b))
+				seamSum[k] += con[i] + con[j]
+				seamCnt[k] += 2
+			}
+		}
+	}
+	if len(seamSum) == 0 {
+		return labels, n
+	}
+	keys := make([]uint64, 0, len(seamSum))
+	for k := range seamSum {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	f := newForest(n + 1)
+	for _, k := range keys {
+		a, b := int32(k>>32), int32(uint32(k))
+		if seamSum[k]/seamCnt[k] >= seamRatio*math.Min(mean[a], mean[b]) {
+			f.union(a, b)
+		}
+	}
+	out := make([]int32, len(labels))
+	for i, l := range labels {
+		if l > 0 {
+			out[i] = f.find(l)
+		}
+	}
+	return withoutLabels(out, n, make([]bool, n+1))
+}

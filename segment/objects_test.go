@@ -224,3 +224,38 @@ func TestAbsorbSmall(t *testing.T) {
 		}
 	}
 }
+
+// Two labelled halves of one bright bar touch with no dip in contrast
+// and become one object; the same halves with the two border columns
+// dimmed to 0.3 of the bar's contrast (below seamRatio = 0.8 of it, the
+// rule of objectsFrom) stay two.
+func TestJoinTouching(t *testing.T) {
+	const w, h = 12, 4
+	labels := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 1; x < 11; x++ {
+			labels[y*w+x] = 1
+			if x >= 6 {
+				labels[y*w+x] = 2
+			}
+		}
+	}
+	for _, c := range []struct {
+		seam float64
+		want int
+	}{{1, 1}, {0.3, 2}} {
+		con := make([]float64, w*h)
+		for i, l := range labels {
+			if l > 0 {
+				con[i] = 1
+				if x := i % w; x == 5 || x == 6 {
+					con[i] = c.seam
+				}
+			}
+		}
+		_, n := joinTouching(con, labels, 2, w, h)
+		if n != c.want {
+			t.Errorf("border contrast %v: %d objects, want %d", c.seam, n, c.want)
+		}
+	}
+}

@@ -596,6 +596,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
+			obj, nobj = joinTouching(con, obj, nobj, w, h)
 			stage("classes")
 			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
