@@ -13,14 +13,14 @@ import (
 // between them.
 const BackgroundLines = "lines"
 
-// lineSigmas is k in "a line is darker (brighter) than the objects on
-// both sides by more than k noise standard deviations", the usual
+// lineSigmas is k in "a pixel is on a line when its ridge strength
+// exceeds k noise standard deviations of the response", the usual
 // detection margin (common practice, as detectSigmas).
 const lineSigmas = 3
 
-// noiseFloor is the least pixel noise assumed, in normalized units
-// (about a quarter of an 8-bit step): clean or quantized images have a
-// zero median difference.
+// noiseFloor is the least noise of the ridge response assumed, in
+// normalized units (about a quarter of an 8-bit step): clean or quantized
+// images have a zero median response.
 const noiseFloor = 1e-3
 
 // packedObjects turns the regions of the cut into objects separated by
@@ -111,23 +111,4 @@ func upperTail(v []float32) float64 {
 		c[i] = float64(x)
 	}
 	return kthSmallest(c, min(len(c)-1, len(c)*999/1000))
-}
-
-// pixelNoise estimates the noise standard deviation of an image from the
-// differences of horizontal neighbours: madScale · median|v_i - v_{i+1}| / √2
-// (for white noise of deviation s the difference has deviation √2·s; the
-// few pairs across edges barely move a median; common practice). At most
-// about 65536 pairs are used (every stride-th pixel).
-func pixelNoise(v []float64, w, h int) float64 {
-	stride := max(1, len(v)>>16)
-	var d []float64
-	for i := 0; i < len(v); i += stride {
-		if i%w+1 < w {
-			d = append(d, math.Abs(v[i]-v[i+1]))
-		}
-	}
-	if len(d) == 0 {
-		return 0
-	}
-	return madScale * kthSmallest(d, len(d)/2) / math.Sqrt2
 }
