@@ -11,7 +11,7 @@ import (
 
 // ErrExists is returned (wrapped with the path) when an output file exists
 // and overwriting was not allowed.
-var ErrExists = errors.New("output exists (use --force to overwrite)")
+var ErrExists = errors.New("output exists (overwriting needs force)")
 
 // WriteAtomic writes a file so that readers see either the old content or
 // the complete new content, never a partial file: write streams into a

@@ -129,7 +129,7 @@ func checkSize(w, h int, limit float64) error {
 	}
 	mp := float64(w) * float64(h) / 1e6
 	if mp > limit {
-		return fmt.Errorf("%w: %dx%d = %.1f megapixels exceeds --max-megapixels %g", ErrTooLarge, w, h, mp, limit)
+		return fmt.Errorf("%w: %dx%d = %.1f megapixels exceeds the limit of %g (max-megapixels)", ErrTooLarge, w, h, mp, limit)
 	}
 	return nil
 }

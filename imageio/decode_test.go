@@ -147,7 +147,7 @@ func TestHugeHeaderRefusedBeforeAllocation(t *testing.T) {
 	if !errors.Is(err, ErrTooLarge) {
 		t.Fatalf("got %v; want ErrTooLarge", err)
 	}
-	for _, s := range []string{path, "100000x100000 = 10000.0 megapixels exceeds --max-megapixels 100"} {
+	for _, s := range []string{path, "100000x100000 = 10000.0 megapixels exceeds the limit of 100 (max-megapixels)"} {
 		if !strings.Contains(err.Error(), s) {
 			t.Errorf("error %q does not contain %q", err, s)
 		}

@@ -44,31 +44,40 @@ type FeatureOptions struct {
 	FlattenMode string
 }
 
-// Validate reports the first invalid option, naming it.
+// OptionError reports an invalid option by its name (the name of the
+// FeatureOptions or LoadOptions field in lower case, hyphenated); the
+// command layer maps names to its flags.
+type OptionError struct {
+	Name, Problem string
+}
+
+func (e *OptionError) Error() string { return e.Name + " " + e.Problem }
+
+// Validate reports the first invalid option as an *OptionError.
 func (o FeatureOptions) Validate() error {
 	switch o.Space {
 	case "", SpaceGray, SpaceLab:
 	default:
-		return fmt.Errorf("--features: unknown feature space %q (want gray or lab)", o.Space)
+		return &OptionError{"features", fmt.Sprintf("%q is not a feature space (want gray or lab)", o.Space)}
 	}
 	if o.Channel < -1 {
-		return fmt.Errorf("--channel must be -1 (all) or a channel index >= 0, got %d", o.Channel)
+		return &OptionError{"channel", fmt.Sprintf("must be -1 (all) or a channel index >= 0, got %d", o.Channel)}
 	}
 	if o.Space == SpaceLab && o.Channel >= 0 {
-		return fmt.Errorf("--channel %d selects one channel, but --features lab needs all three (use gray)", o.Channel)
+		return &OptionError{"channel", fmt.Sprintf("%d selects one channel, but lab features need all three (use gray)", o.Channel)}
 	}
 	switch o.Normalize {
 	case "", NormalizePercentile, NormalizeRange, NormalizeBitDepth:
 	default:
-		return fmt.Errorf("--normalize: unknown method %q (want percentile, range or bitdepth)", o.Normalize)
+		return &OptionError{"normalize", fmt.Sprintf("%q is not a method (want percentile, range or bitdepth)", o.Normalize)}
 	}
 	if !(o.Flatten >= 0) || math.IsInf(o.Flatten, 0) {
-		return fmt.Errorf("--flatten must be a finite scale >= 0 in pixels, got %v", o.Flatten)
+		return &OptionError{"flatten", fmt.Sprintf("must be a finite scale >= 0 in pixels, got %v", o.Flatten)}
 	}
 	switch o.FlattenMode {
 	case "", FlattenDivide, FlattenSubtract:
 	default:
-		return fmt.Errorf("--flatten-mode: unknown mode %q (want divide or subtract)", o.FlattenMode)
+		return &OptionError{"flatten-mode", fmt.Sprintf("%q is not a mode (want divide or subtract)", o.FlattenMode)}
 	}
 	return nil
 }
@@ -130,7 +139,7 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 		return nil, err
 	}
 	if opt.Channel >= im.Channels {
-		return nil, fmt.Errorf("--channel %d is out of range: the image has %d channel(s) (0..%d)", opt.Channel, im.Channels, im.Channels-1)
+		return nil, &OptionError{"channel", fmt.Sprintf("%d is out of range: the image has %d channel(s) (0..%d)", opt.Channel, im.Channels, im.Channels-1)}
 	}
 	w, h := im.Width, im.Height
 	mode := opt.FlattenMode

@@ -1,6 +1,7 @@
 package imageio
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"path/filepath"
@@ -253,7 +254,7 @@ func TestLabGray(t *testing.T) {
 }
 
 // TestFeatureOptionsValidate: the accepted values are those documented on
-// FeatureOptions; each error names the flag it comes from.
+// FeatureOptions; each error is an *OptionError naming the option.
 func TestFeatureOptionsValidate(t *testing.T) {
 	cases := []struct {
 		opt  FeatureOptions
@@ -261,28 +262,31 @@ func TestFeatureOptionsValidate(t *testing.T) {
 	}{
 		{FeatureOptions{Channel: -1}, ""},
 		{FeatureOptions{Space: SpaceLab, Channel: -1, Normalize: NormalizeRange, Flatten: 20, FlattenMode: FlattenSubtract}, ""},
-		{FeatureOptions{Space: "hsv", Channel: -1}, "--features"},
-		{FeatureOptions{Channel: -2}, "--channel"},
-		{FeatureOptions{Space: SpaceLab, Channel: 1}, "--channel"},
-		{FeatureOptions{Channel: -1, Normalize: "zscore"}, "--normalize"},
-		{FeatureOptions{Channel: -1, Flatten: -1}, "--flatten"},
-		{FeatureOptions{Channel: -1, Flatten: math.NaN()}, "--flatten"},
-		{FeatureOptions{Channel: -1, Flatten: math.Inf(1)}, "--flatten"},
-		{FeatureOptions{Channel: -1, FlattenMode: "median"}, "--flatten-mode"},
+		{FeatureOptions{Space: "hsv", Channel: -1}, "features"},
+		{FeatureOptions{Channel: -2}, "channel"},
+		{FeatureOptions{Space: SpaceLab, Channel: 1}, "channel"},
+		{FeatureOptions{Channel: -1, Normalize: "zscore"}, "normalize"},
+		{FeatureOptions{Channel: -1, Flatten: -1}, "flatten"},
+		{FeatureOptions{Channel: -1, Flatten: math.NaN()}, "flatten"},
+		{FeatureOptions{Channel: -1, Flatten: math.Inf(1)}, "flatten"},
+		{FeatureOptions{Channel: -1, FlattenMode: "median"}, "flatten-mode"},
 	}
 	for _, c := range cases {
 		err := c.opt.Validate()
 		switch {
 		case c.want == "" && err != nil:
 			t.Errorf("%+v: %v", c.opt, err)
-		case c.want != "" && (err == nil || !strings.Contains(err.Error(), c.want)):
-			t.Errorf("%+v: got %v; want an error naming %s", c.opt, err, c.want)
+		case c.want != "":
+			var oe *OptionError
+			if !errors.As(err, &oe) || oe.Name != c.want {
+				t.Errorf("%+v: got %v; want an *OptionError naming %s", c.opt, err, c.want)
+			}
 		}
 	}
 }
 
 // TestChannel: Channel N takes channel N alone as Raw and feature source;
-// a channel the image lacks is an error naming --channel.
+// a channel the image lacks is an *OptionError naming channel.
 func TestChannel(t *testing.T) {
 	im, err := Load(filepath.Join(testdata, "rgb16.tif"), LoadOptions{})
 	if err != nil {
@@ -301,7 +305,8 @@ func TestChannel(t *testing.T) {
 			t.Fatalf("feature %d = %v; want %v", i, f.Planes[0][i], want)
 		}
 	}
-	if _, err := MakeFeatures(im, FeatureOptions{Channel: 3}, 1); err == nil || !strings.Contains(err.Error(), "--channel 3") {
+	var oe *OptionError
+	if _, err := MakeFeatures(im, FeatureOptions{Channel: 3}, 1); !errors.As(err, &oe) || oe.Name != "channel" || !strings.Contains(err.Error(), "channel 3") {
 		t.Errorf("channel 3 of an RGB image: %v", err)
 	}
 	gray := grayImage(2, 2, 8, []float32{1, 2, 3, 4})

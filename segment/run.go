@@ -99,12 +99,13 @@ type Params struct {
 
 }
 
-// ParamError reports an invalid parameter by its flag name.
+// ParamError reports an invalid parameter by its name (the command layer
+// maps names to its flags).
 type ParamError struct {
 	Name, Problem string
 }
 
-func (e *ParamError) Error() string { return fmt.Sprintf("--%s %s", e.Name, e.Problem) }
+func (e *ParamError) Error() string { return e.Name + " " + e.Problem }
 
 // ErrMemory is returned (wrapped) when the estimated memory of the graph
 // stage exceeds Params.MaxMemory.
@@ -166,7 +167,7 @@ func (p Params) Validate() error {
 			return &ParamError{"background", "lines takes no classes (packed objects are the regions of the cut)"}
 		}
 	} else if p.Background != "" && p.Classes < 2 {
-		return &ParamError{"background", "needs --classes 2 or more"}
+		return &ParamError{"background", "needs classes 2 or more"}
 	}
 	return nil
 }
@@ -431,11 +432,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		est = affinity.EstimateSLICBytes(w, h, len(in.Planes))
 	}
 	if p.MaxMemory > 0 && est > p.MaxMemory {
-		hint := "--radius, or use superpixels (--superpixels N)"
+		hint := "radius, or use superpixels (superpixels N)"
 		if p.Superpixels > 0 {
-			hint = "--superpixels, or downsample the image"
+			hint = "superpixels, or downsample the image"
 		}
-		return nil, fmt.Errorf("%w: the graph stage needs about %.2f GiB, above --max-memory %.2f GiB; lower %s, or raise --max-memory",
+		return nil, fmt.Errorf("%w: the graph stage needs about %.2f GiB, above max-memory %.2f GiB; lower %s, or raise max-memory",
 			ErrMemory, float64(est)/(1<<30), float64(p.MaxMemory)/(1<<30), hint)
 	}
 	var (

@@ -685,6 +685,7 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 		return batchResult{k: k, status: statusUpToDate}
 	}
 	fail := func(err error) batchResult {
+		err = withFlags(err)
 		rec := &record{Tool: "cleave", Version: version, Status: "failed", Error: err.Error(), Input: inputInfo{Path: src},
 			Settings: &p.settings, Eigenvalues: []float64{}, SplitNcuts: []float64{}, Seconds: map[string]float64{}}
 		if werr := writeRecord(set.path(".json"), rec, true); werr != nil {

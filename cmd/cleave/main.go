@@ -28,7 +28,7 @@ const (
 // usageError marks errors caused by how the command was called (exit 2).
 type usageError struct{ err error }
 
-func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Error() string { return withFlags(e.err).Error() }
 func (e *usageError) Unwrap() error { return e.err }
 
 func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }

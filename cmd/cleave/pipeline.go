@@ -95,7 +95,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	set := j.settings
 	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Seconds: map[string]float64{}}
 	fail := func(err error) (*record, error) {
-		err = fmt.Errorf("%s: %w", j.path, err)
+		err = withFlags(fmt.Errorf("%s: %w", j.path, err))
 		rec.Error = err.Error()
 		rec.Seconds["total"] = time.Since(start).Seconds()
 		return rec, err

@@ -310,7 +310,7 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 				start := time.Now()
 				res, err := segmentInput(t.ctx, t.images[j], params[i])
 				if err != nil {
-					es[i].errs[j] = err.Error()
+					es[i].errs[j] = withFlags(err).Error()
 				} else {
 					f := t.images[j].features
 					es[i].perImage[j] = scoreMaps(res.Labels, t.truths[j], f.Width, f.Height, t.tol)
@@ -853,7 +853,7 @@ func (t *tuner) timeSettings(es []*evaluation) error {
 				_, err := segmentInput(t.ctx, &plain, params[i])
 				secs[k] = time.Since(start).Seconds()
 				if err != nil {
-					errs[k], secs[k] = t.names[j]+": "+err.Error(), math.NaN()
+					errs[k], secs[k] = t.names[j]+": "+withFlags(err).Error(), math.NaN()
 				}
 			}
 		}()

@@ -1,0 +1,50 @@
+package main
+
+import (
+	"errors"
+	"strings"
+
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment"
+)
+
+// withFlags returns err with the library's parameter names written as
+// this command's flags: the libraries name their parameters (imageio
+// and segment know nothing of flags), and every parameter of theirs that
+// a user sets has a flag of the same name. The result unwraps to err.
+func withFlags(err error) error {
+	if err == nil {
+		return nil
+	}
+	msg := err.Error()
+	var oe *imageio.OptionError
+	if errors.As(err, &oe) {
+		msg = strings.Replace(msg, oe.Error(), "--"+oe.Error(), 1)
+	}
+	var pe *segment.ParamError
+	if errors.As(err, &pe) {
+		msg = strings.Replace(msg, pe.Error(), "--"+pe.Error(), 1)
+	}
+	switch {
+	case errors.Is(err, imageio.ErrExists):
+		msg = strings.Replace(msg, "(overwriting needs force)", "(use --force to overwrite)", 1)
+	case errors.Is(err, imageio.ErrTooLarge):
+		msg = strings.Replace(msg, "(max-megapixels)", "(--max-megapixels)", 1)
+	case errors.Is(err, segment.ErrMemory):
+		msg = strings.NewReplacer("max-memory", "--max-memory", "lower radius", "lower --radius",
+			"(superpixels N)", "(--superpixels N)", "lower superpixels", "lower --superpixels").Replace(msg)
+	}
+	if msg == err.Error() {
+		return err
+	}
+	return &flagged{err, msg}
+}
+
+// flagged is an error with its message rewritten by withFlags.
+type flagged struct {
+	err error
+	msg string
+}
+
+func (e *flagged) Error() string { return e.msg }
+func (e *flagged) Unwrap() error { return e.err }
