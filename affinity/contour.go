@@ -92,9 +92,8 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 	// Horizontal passes: I*g0, I*g1, I*g2 along x.
 	rows := [3][]float32{make([]float32, w*h), make([]float32, w*h), make([]float32, w*h)}
 	kernels := [3][]float64{g0, g1, g2}
-	const chunk = 32
-	forChunks((h+chunk-1)/chunk, workers, func(c int) {
-		for y := c * chunk; y < min(h, (c+1)*chunk); y++ {
+	forBands(h, workers, func(_, y0, y1 int) {
+		for y := y0; y < y1; y++ {
 			line := plane[y*w : (y+1)*w]
 			for f, kern := range kernels {
 				out := rows[f][y*w : (y+1)*w]
@@ -110,8 +109,8 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		}
 	})
 	// Vertical passes.
-	forChunks((h+chunk-1)/chunk, workers, func(c int) {
-		for y := c * chunk; y < min(h, (c+1)*chunk); y++ {
+	forBands(h, workers, func(_, y0, y1 int) {
+		for y := y0; y < y1; y++ {
 			for x := 0; x < w; x++ {
 				var ix, iy, ixx, iyy, ixy float64
 				for k := -r; k <= r; k++ {

@@ -36,3 +36,15 @@ func forChunks(nchunks, workers int, fn func(c int)) {
 	}
 	wg.Wait()
 }
+
+// bandRows is the number of image rows in one work chunk of forBands.
+const bandRows = 32
+
+// forBands runs fn over fixed bands of bandRows rows of an image of h
+// rows.
+func forBands(h, workers int, fn func(c, y0, y1 int)) {
+	n := (h + bandRows - 1) / bandRows
+	forChunks(n, workers, func(c int) {
+		fn(c, c*bandRows, min(h, (c+1)*bandRows))
+	})
+}

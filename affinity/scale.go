@@ -384,18 +384,6 @@ func pixelNoise(v []float32, w, h int) float64 {
 	return 1.4826 * float64(d[len(d)/2]) / math.Sqrt2
 }
 
-// scaleBand is the number of rows in one work chunk.
-const scaleBand = 32
-
-// forBands runs fn over fixed bands of scaleBand rows of an image of h
-// rows.
-func forBands(h, workers int, fn func(c, y0, y1 int)) {
-	n := (h + scaleBand - 1) / scaleBand
-	forChunks(n, workers, func(c int) {
-		fn(c, c*scaleBand, min(h, (c+1)*scaleBand))
-	})
-}
-
 // mirror maps i into [0, n) by reflection about the edges (d c b a | a b c
 // d), the "reflect" boundary of scipy.ndimage.
 func mirror(i, n int) int {
@@ -560,7 +548,7 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 		return nil
 	}
 	thr := float32(scaleMinZ * noiseResp(noise, rsig[1]))
-	nb := (h + scaleBand - 1) / scaleBand
+	nb := (h + bandRows - 1) / bandRows
 	out := make([][]blob, nb)
 	lo, mid, hi := resp[0], resp[1], resp[2]
 	unit := math.Ldexp(1, level) // image pixels per level pixel
