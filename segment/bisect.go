@@ -19,6 +19,10 @@ type cutResult struct {
 	eigenvalues []float64
 	splitNcuts  []float64
 	tree        *cutTree // with cutOptions.tree
+	// short is the worst solve that stopped above its residual target.
+	short shortfall
+	// root is what the first two-way cut of the whole graph found.
+	root rootSplit
 }
 
 // part is a set of graph nodes (ascending) awaiting a decision.
@@ -201,7 +205,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			opt.Tol = SplitTol
 		}
 		ep, err := eigen.Smallest(sub, k, opt)
-		if err != nil {
+		if !res.short.note(err, ep, opt.Tol, sub.N) {
 			return nil, err
 		}
 		if first {
@@ -215,6 +219,9 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			y[i] = z[i] / math.Sqrt(deg[i])
 		}
 		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
+		if len(pt.nodes) == g.N {
+			res.root = rootSplit{tried: true, found: ok, ncut: s.ncut, stable: !o.stability || stable(y)}
+		}
 		if !ok || s.ncut > p.MaxNcut || (o.stability && !stable(y)) {
 			final = append(final, pt)
 			continue
@@ -262,7 +269,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 				tr.leafOf[i] = pt.id
 			}
 		}
-		tr.eigenvalues = res.eigenvalues
+		tr.eigenvalues, tr.short, tr.root = res.eigenvalues, res.short, res.root
 		res.tree = tr
 	}
 	return res, nil
@@ -285,6 +292,8 @@ type cutTree struct {
 	order       []int32   // split nodes in the order the splits were made
 	leafOf      []int32   // graph node -> the unsplit part holding it
 	eigenvalues []float64
+	short       shortfall
+	root        rootSplit
 }
 
 // prune returns the bisection at threshold t: graph nodes are in the
@@ -325,7 +334,7 @@ func (tr *cutTree) prune(t float64) *cutResult {
 	for k, r := range ids {
 		num[r] = int32(k)
 	}
-	res := &cutResult{region: make([]int32, len(tr.leafOf)), regions: len(ids), eigenvalues: tr.eigenvalues}
+	res := &cutResult{region: make([]int32, len(tr.leafOf)), regions: len(ids), eigenvalues: tr.eigenvalues, short: tr.short, root: tr.root}
 	for i, leaf := range tr.leafOf {
 		res.region[i] = num[top[leaf]]
 	}

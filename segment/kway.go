@@ -29,7 +29,8 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 		return nil, 0, err
 	}
 	ep, err := eigen.Smallest(g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
-	if err != nil {
+	var short shortfall
+	if !short.note(err, ep, 0, g.N) {
 		return nil, 0, err
 	}
 	if K == 0 {
@@ -66,5 +67,5 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 	lab := kmeans(u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
 	// Renumber clusters by lowest node, drop empty ones.
 	n := relabel(lab, K)
-	return &cutResult{region: lab, regions: n, eigenvalues: ep.Values}, K, nil
+	return &cutResult{region: lab, regions: n, eigenvalues: ep.Values, short: short}, K, nil
 }

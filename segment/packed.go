@@ -13,6 +13,13 @@ import (
 // between them.
 const BackgroundLines = "lines"
 
+// Params.Background values for objects on a background: the darkest
+// class is the background (objects brighter), or the brightest is.
+const (
+	BackgroundDark   = "dark"
+	BackgroundBright = "bright"
+)
+
 // lineSigmas is k in "a pixel is on a line when its ridge strength
 // exceeds k noise standard deviations of the response", the usual
 // detection margin (common practice, as detectSigmas).

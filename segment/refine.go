@@ -71,12 +71,13 @@ const (
 // contrast, so thin scratches and elongated objects are not cut across.
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
-func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) ([]int32, int, []float64, error) {
+func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) (refined, error) {
 	boxes, pixels := objectPixels(labels, w, h, n)
 	type result struct {
 		region  []int32
 		regions int
 		splits  []float64
+		short   shortfall
 		err     error
 	}
 	results := make([]result, n+1)
@@ -155,23 +156,25 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 			results[l].err = err
 			return
 		}
-		results[l] = result{region: cut.region, regions: cut.regions, splits: cut.splitNcuts}
+		results[l] = result{region: cut.region, regions: cut.regions, splits: cut.splitNcuts, short: cut.short}
 	}
 	// Objects are independent: refine them in parallel, one goroutine per
 	// object at a time, and assemble in label order (deterministic).
 	forEach(n, workers, func(k int) { one(k + 1) })
 	if err := ctx.Err(); err != nil {
-		return nil, 0, nil, err
+		return refined{}, err
 	}
 	out := make([]int32, len(labels))
 	next := int32(0)
 	var splits []float64
+	var short shortfall
 	for l := 1; l <= n; l++ {
 		r := results[l]
 		if r.err != nil {
-			return nil, 0, nil, r.err
+			return refined{}, r.err
 		}
 		splits = append(splits, r.splits...)
+		short.merge(r.short)
 		for k, i := range pixels[l] {
 			v := int32(0)
 			if r.region != nil {
@@ -192,7 +195,15 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 		}
 		out[i] = id[l]
 	}
-	return out, int(m), splits, nil
+	return refined{labels: out, n: int(m), splits: splits, short: short}, nil
+}
+
+// refined is the result of refineObjects.
+type refined struct {
+	labels []int32 // objects 1..n on background 0
+	n      int
+	splits []float64 // Ncut of every accepted split
+	short  shortfall // the worst eigensolve above its target
 }
 
 // seamSplit approves a split of an object only where the cut runs along a

@@ -198,6 +198,9 @@ type Result struct {
 	// count followed it rather than the per-pixel rule.
 	ObjectScale     *affinity.ScaleEstimate
 	ObjectScaleUsed bool
+	// Warnings are findings about this result to check before trusting
+	// it (see Warning); nil when there are none.
+	Warnings []Warning
 }
 
 // Input is what Run segments: the feature planes the graph is built on and
@@ -499,7 +502,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 
 	// Cuts.
 	var cut *cutResult
-	if constant(in.Planes) {
+	flat := constant(in.Planes)
+	if flat {
 		// No feature varies: any cut would be purely spatial. One region.
 		cut = &cutResult{region: make([]int32, g.N), regions: 1}
 	} else if p.Method == MethodBisect && in.Cache != nil && p.Segments == 0 {
@@ -523,6 +527,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	res.Eigenvalues = cut.eigenvalues
 	res.SplitNcuts = cut.splitNcuts
+	short := cut.short
 	stage("cuts")
 
 	reg := make([]int32, npix)
@@ -599,10 +604,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
 			obj, nobj = joinTouching(con, obj, nobj, w, h)
 			stage("classes")
-			res.Labels, res.NumObjects, res.ObjectNcuts, err = refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
+			ref, err := refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
+			res.Labels, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
+			short.merge(ref.short)
 			if drop := edgeless(res.Labels, res.NumObjects, energy, floor, w, h); drop != nil {
 				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
@@ -611,6 +618,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		} else {
 			stage("classes")
 		}
+	}
+	if res.NumRegions == 1 {
+		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
+	}
+	res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
+	if w := short.warning(); w != nil {
+		res.Warnings = append(res.Warnings, *w)
 	}
 	res.Params = p
 	return res, nil
@@ -691,7 +705,7 @@ func kwayComponents(ctx context.Context, g *affinity.Graph, area []int, p Params
 		for k, i := range nodes {
 			res.region[i] = next + c.region[k]
 		}
-		res.eigenvalues = c.eigenvalues
+		res.eigenvalues, res.short = c.eigenvalues, c.short
 		next += int32(c.regions)
 	} else {
 		for _, i := range nodes {

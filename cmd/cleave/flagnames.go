@@ -2,6 +2,7 @@ package main
 
 import (
 	"errors"
+	"regexp"
 	"strings"
 
 	"github.com/cleave-seg/cleave/imageio"
@@ -48,3 +49,13 @@ type flagged struct {
 
 func (e *flagged) Error() string { return e.msg }
 func (e *flagged) Unwrap() error { return e.err }
+
+// quotedParam is a parameter name in backquotes, as the libraries write
+// them in messages that advise a change (segment.Warning).
+var quotedParam = regexp.MustCompile("`([a-z][a-z0-9-]*)`")
+
+// flagQuoted writes every backquoted parameter name in msg as its flag
+// ("raise `max-ncut`" -> "raise --max-ncut").
+func flagQuoted(msg string) string {
+	return quotedParam.ReplaceAllString(msg, "--$1")
+}

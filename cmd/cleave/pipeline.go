@@ -45,8 +45,26 @@ type record struct {
 	SplitNcuts  []float64          `json:"split_ncuts"`
 	Regions     int                `json:"regions"`
 	Objects     int                `json:"objects"`
+	Warnings    []warningInfo      `json:"warnings"`
 	Seconds     map[string]float64 `json:"seconds"`
 	Outputs     []string           `json:"outputs,omitempty"`
+}
+
+// warningInfo is one finding about the result that the user should check
+// (segment.Warning), its message written with this command's flags.
+type warningInfo struct {
+	Code    string `json:"code"`
+	Message string `json:"message"`
+}
+
+// warningsOf converts the library's warnings: every parameter a message
+// names (in backquotes) becomes its flag.
+func warningsOf(ws []segment.Warning) []warningInfo {
+	out := make([]warningInfo, 0, len(ws))
+	for _, w := range ws {
+		out = append(out, warningInfo{Code: w.Code, Message: flagQuoted(w.Message)})
+	}
+	return out
 }
 
 // graphInfo describes the graph that was solved.
@@ -93,7 +111,7 @@ type job struct {
 func processImage(ctx context.Context, j job) (*record, error) {
 	start := time.Now()
 	set := j.settings
-	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Seconds: map[string]float64{}}
+	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Warnings: []warningInfo{}, Seconds: map[string]float64{}}
 	fail := func(err error) (*record, error) {
 		err = withFlags(fmt.Errorf("%s: %w", j.path, err))
 		rec.Error = err.Error()
@@ -142,6 +160,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		rec.SplitNcuts = []float64{}
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
+	rec.Warnings = warningsOf(res.Warnings)
 
 	if err := ctx.Err(); err != nil {
 		return fail(err)

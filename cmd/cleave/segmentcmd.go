@@ -138,6 +138,9 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 			continue
 		}
 		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, stemOf(p))))
+		for _, w := range rec.Warnings {
+			fmt.Fprintf(stderr, "cleave segment: %s: warning: %s\n", p, w.Message)
+		}
 	}
 	if failed > 0 {
 		return exitFail
@@ -151,6 +154,9 @@ func summaryLine(rec *record, prefix string) string {
 	fmt.Fprintf(&b, "%s: %dx%d, %s", rec.Input.Path, rec.Input.Width, rec.Input.Height, plural(rec.Regions, "region"))
 	if v, ok := rec.Params["background"].(string); ok && v != "" {
 		fmt.Fprintf(&b, ", %s", plural(rec.Objects, "object"))
+	}
+	if n := len(rec.Warnings); n > 0 {
+		fmt.Fprintf(&b, ", %s (see stderr and the record)", plural(n, "warning"))
 	}
 	fmt.Fprintf(&b, ", %.2f s -> %s.*", rec.Seconds["total"], prefix)
 	return b.String()

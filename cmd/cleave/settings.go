@@ -83,7 +83,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, "size of one pixel in --unit, for physical areas and diameters in the region table (0 = off)")
 	fs.StringVar(&s.Unit, "unit", "um", "unit of --pixel-size, used in column names")
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB)")
-	fs.Uint64Var(&s.Seed, "seed", 1, "seed for the eigensolver start and k-means restarts")
+	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut")
 }
 
 // paramNames lists the keys a --params file may hold (the json tags of

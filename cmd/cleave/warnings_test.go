@@ -1,0 +1,85 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// A result the user should check is flagged on stderr, in the summary line
+// and in the record, with the command's flags in the advice; a clean
+// result has an empty warnings list. A generated nuclei scene has bright
+// nuclei on a dark field: with --min-area above the image nothing can be
+// split, and with --background bright the dark field is taken for one
+// object over the image.
+func TestSegmentWarnings(t *testing.T) {
+	dir := t.TempDir()
+	sc := writeNuclei(t, dir, 31, 1, 128)[0]
+	img := filepath.Join(dir, sc.Name+".png")
+	for _, c := range []struct {
+		name string
+		args []string
+		code string // "" = no warning
+		flag string // a flag the advice must name
+	}{
+		{"clean", []string{"--classes", "2", "--background", "dark"}, "", ""},
+		{"min-area", []string{"--min-area", "100000"}, "no-split", "--min-area"},
+		{"polarity", []string{"--classes", "2", "--background", "bright"}, "one-object", "--background"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			out := filepath.Join(dir, c.name)
+			code, stdout, stderr := runCleave(append([]string{"segment", "--out", out}, append(c.args, img)...)...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, stderr)
+			}
+			data, err := os.ReadFile(filepath.Join(out, sc.Name+".json"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			var rec struct {
+				Warnings []warningInfo `json:"warnings"`
+			}
+			if err := json.Unmarshal(data, &rec); err != nil {
+				t.Fatal(err)
+			}
+			if !strings.Contains(string(data), `"warnings": [`) {
+				t.Errorf("record has no warnings list:\n%s", data)
+			}
+			if c.code == "" {
+				if len(rec.Warnings) != 0 || strings.Contains(stderr, "warning") || strings.Contains(stdout, "warning") {
+					t.Fatalf("clean result warned: %+v\n%s", rec.Warnings, stderr)
+				}
+				return
+			}
+			if len(rec.Warnings) == 0 || rec.Warnings[0].Code != c.code {
+				t.Fatalf("warnings %+v, want code %s", rec.Warnings, c.code)
+			}
+			msg := rec.Warnings[0].Message
+			if !strings.Contains(msg, c.flag) || strings.Contains(msg, "`") {
+				t.Errorf("advice should name %s as a flag: %s", c.flag, msg)
+			}
+			if !strings.Contains(stderr, img+": warning: "+msg) {
+				t.Errorf("stderr lacks the warning:\n%s", stderr)
+			}
+			if !strings.Contains(stdout, "warning") {
+				t.Errorf("summary line does not mention the warning: %s", stdout)
+			}
+		})
+	}
+}
+
+// flagQuoted turns backquoted parameter names into flags and leaves other
+// text alone.
+func TestFlagQuoted(t *testing.T) {
+	for in, want := range map[string]string{
+		"raise `max-ncut` above 0.3":          "raise --max-ncut above 0.3",
+		"the dark class, taken as background": "the dark class, taken as background",
+		"try `flatten` or `classes` 3":        "try --flatten or --classes 3",
+	} {
+		if got := flagQuoted(in); got != want {
+			t.Errorf("flagQuoted(%q) = %q, want %q", in, got, want)
+		}
+	}
+}
