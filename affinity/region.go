@@ -107,6 +107,9 @@ func Adjacency(w, h int, labels []int32, n int) *Graph {
 // packed objects, which barely moves the regions' means, still parts
 // them.
 //
+// Edges negligible against the degrees of their ends are dropped (see
+// dropNegligible).
+//
 // adj is Adjacency of the w x h labelling the regions come from (callers
 // that also estimate sigma_I from it build it once).
 func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, error) {
@@ -147,6 +150,7 @@ func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, erro
 			g.Weight[q] = float32(v)
 		}
 	}
+	g.DropNegligible()
 	return g, nil
 }
 

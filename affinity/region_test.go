@@ -109,3 +109,32 @@ func TestSubgraph(t *testing.T) {
 		t.Errorf("w(2,3) = %v", w)
 	}
 }
+
+// DropNegligible removes exactly the edges below 1e-6 of the larger degree
+// of their ends, from both rows, and leaves the rest untouched: a triangle
+// of unit weights (degrees about 2) with a fourth node hung on it by 1e-7
+// (below 2e-6, dropped) and a fifth by 1e-5 (kept).
+func TestDropNegligible(t *testing.T) {
+	g, err := FromEdges(5, []Edge{{0, 1, 1}, {1, 2, 1}, {0, 2, 1}, {2, 3, 1e-7}, {0, 4, 1e-5}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g.DropNegligible()
+	if err := g.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := g.At(2, 3); ok {
+		t.Error("edge 2-3 (1e-7 against degree 2) kept")
+	}
+	if _, ok := g.At(3, 2); ok {
+		t.Error("edge 3-2 kept in one row only")
+	}
+	for _, e := range [][2]int{{0, 1}, {1, 2}, {0, 2}, {0, 4}, {4, 0}} {
+		if _, ok := g.At(e[0], e[1]); !ok {
+			t.Errorf("edge %d-%d dropped", e[0], e[1])
+		}
+	}
+	if g.NNZ() != 8 {
+		t.Errorf("%d entries, want 8", g.NNZ())
+	}
+}
