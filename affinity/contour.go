@@ -41,20 +41,24 @@ func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32
 	return e
 }
 
-// RidgeStrength returns σ² λ₁ at scale σ, λ₁ the larger eigenvalue of the
-// Hessian of G_σ * I: large and positive across a dark line (the
-// intensity curves upward across it), large and negative, in its other
-// eigenvalue, across a bright one, which RidgeStrength of the negated
-// plane measures (Lindeberg 1998, ridge detection with scale
-// normalization). Rows are processed in fixed chunks, so the result does
-// not depend on workers.
-func RidgeStrength(plane []float32, w, h int, sigma float64, workers int) []float32 {
-	out := make([]float32, w*h)
+// RidgeStrengths returns the scale-normalized ridge strengths of a plane
+// at scale σ for dark and for bright lines, from one pass: σ² λ₁, large
+// and positive across a dark line (the intensity curves upward across
+// it), and -σ² λ₂, large and positive across a bright one, λ₁ >= λ₂ the
+// eigenvalues of the Hessian of G_σ * I (Lindeberg 1998, ridge detection
+// with scale normalization; the bright strength is the dark strength of
+// the negated plane, whose Hessian -H has larger eigenvalue -λ₂). Rows
+// are processed in fixed chunks, so the result does not depend on
+// workers.
+func RidgeStrengths(plane []float32, w, h int, sigma float64, workers int) (dark, bright []float32) {
+	dark, bright = make([]float32, w*h), make([]float32, w*h)
 	s2 := sigma * sigma
 	gaussianJet(plane, w, h, sigma, workers, func(i int, _, _, ixx, iyy, ixy float64) {
-		out[i] = float32(s2 * ((ixx+iyy)/2 + math.Hypot((ixx-iyy)/2, ixy)))
+		m, q := (ixx+iyy)/2, math.Hypot((ixx-iyy)/2, ixy)
+		dark[i] = float32(s2 * (m + q))
+		bright[i] = float32(-s2 * (m - q))
 	})
-	return out
+	return dark, bright
 }
 
 // gaussianJet calls fn for every pixel i with the first and second

@@ -25,6 +25,12 @@ func TestEdgeEnergyClosedForms(t *testing.T) {
 		}
 	}
 	i := cy*w + cx
+	neg := make([]float32, w*h)
+	for k, v := range para {
+		neg[k] = -v
+	}
+	dark, bright := RidgeStrengths(para, w, h, sigma, 2)
+	negDark, negBright := RidgeStrengths(neg, w, h, sigma, 1)
 	cases := []struct {
 		name string
 		got  float32
@@ -32,11 +38,19 @@ func TestEdgeEnergyClosedForms(t *testing.T) {
 	}{
 		{"ramp energy", EdgeEnergy(ramp, w, h, sigma, 2)[i], sigma * 0.01},
 		{"parabola energy", EdgeEnergy(para, w, h, sigma, 1)[i], sigma * sigma * 2 * 0.002},
-		{"parabola ridge", RidgeStrength(para, w, h, sigma, 2)[i], sigma * sigma * 2 * 0.002},
+		// A valley I = a x² (a dark line) has Hessian eigenvalues 2a and 0:
+		// dark strength σ²·2a, bright strength 0; negated, the reverse.
+		{"valley, dark strength", dark[i], sigma * sigma * 2 * 0.002},
+		{"ridge, bright strength", negBright[i], sigma * sigma * 2 * 0.002},
 	}
 	for _, c := range cases {
 		if math.Abs(float64(c.got)-c.want) > 5e-3*c.want { // sampled kernels cut at 4σ
 			t.Errorf("%s: %v, want %v", c.name, c.got, c.want)
+		}
+	}
+	for name, v := range map[string]float32{"valley, bright strength": bright[i], "ridge, dark strength": negDark[i]} {
+		if math.Abs(float64(v)) > 1e-6 {
+			t.Errorf("%s: %v, want 0", name, v)
 		}
 	}
 	// Flat image: no energy anywhere (the second-derivative kernel sums

@@ -20,6 +20,15 @@ const (
 	BackgroundBright = "bright"
 )
 
+// lineScales are the scales σ (pixels) at which lines are looked for,
+// from boundaries of a pixel between grains to shadowed gaps of a few
+// pixels between stones. An image's lines are taken at the scale and
+// polarity where they stand out most: the largest ratio of the upper
+// tail (99.9th percentile) of the ridge strength to its noise, the same
+// robust noise the detection threshold uses. On the project's grain
+// scenes this selects 1.5 px; on scikit-image's gravel photograph 1 px.
+var lineScales = [...]float64{1, affinity.ContourScale, 2, 3}
+
 // lineSigmas is k in "a pixel is on a line when its ridge strength
 // exceeds k noise standard deviations of the response", the usual
 // detection margin (common practice, as detectSigmas).
@@ -31,13 +40,12 @@ const lineSigmas = 3
 const noiseFloor = 1e-3
 
 // packedObjects turns the regions of the cut into objects separated by
-// thin lines. Line pixels are found by their ridge strength σ²λ₁ at
-// affinity.ContourScale (affinity.RidgeStrength; Lindeberg 1998), taken
-// on the plane or its negative, whichever has the stronger upper tail
-// (the 99.9th percentile), so dark and bright lines are both handled: a
-// pixel is on a line when its ridge strength exceeds lineSigmas times the
-// response's noise, the scaled median absolute response (most pixels lie
-// inside objects; common practice). Two adjacent regions are one object
+// thin lines. Line pixels are found by their ridge strength σ²λ₁
+// (affinity.RidgeStrengths; Lindeberg 1998) at the scale and polarity
+// selected as lineScales says, so dark and bright lines of widths in range
+// are handled: a pixel is on a line when its ridge strength exceeds
+// lineSigmas times the response's noise, the scaled median absolute
+// response (most pixels lie inside objects; common practice). Two adjacent regions are one object
 // unless at least half of their shared border lies within one pixel of a
 // line pixel: the cut may split an object where no line runs, and that
 // must not make two objects. Line pixels become background, holes inside
@@ -45,21 +53,24 @@ const noiseFloor = 1e-3
 // background. It returns labels 0 (lines) and 1..N in raster order, and
 // N.
 func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int) ([]int32, int) {
-	dark := affinity.RidgeStrength(lum, w, h, affinity.ContourScale, workers)
-	neg := make([]float32, len(lum))
-	for i, v := range lum {
-		neg[i] = -v
+	var (
+		ridge []float32
+		t     float64
+		best  = math.Inf(-1)
+	)
+	abs := make([]float64, len(lum))
+	for _, sigma := range lineScales {
+		dark, bright := affinity.RidgeStrengths(lum, w, h, sigma, workers)
+		for _, r := range [2][]float32{dark, bright} {
+			for i, v := range r {
+				abs[i] = math.Abs(float64(v))
+			}
+			noise := max(madScale*kthSmallest(abs, len(abs)/2), noiseFloor)
+			if z := upperTail(r) / noise; z > best {
+				best, ridge, t = z, r, lineSigmas*noise
+			}
+		}
 	}
-	bright := affinity.RidgeStrength(neg, w, h, affinity.ContourScale, workers)
-	ridge := dark
-	if upperTail(bright) > upperTail(dark) {
-		ridge = bright
-	}
-	abs := make([]float64, 0, len(ridge))
-	for _, v := range ridge {
-		abs = append(abs, math.Abs(float64(v)))
-	}
-	t := lineSigmas * max(madScale*kthSmallest(abs, len(abs)/2), noiseFloor)
 	line := make([]bool, len(ridge))
 	for i, v := range ridge {
 		line[i] = float64(v) > t

@@ -502,6 +502,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 
 	// Cuts.
 	var cut *cutResult
+	// With packed objects, a cut that runs where no line does is undone
+	// by packedObjects (regions are one object unless a line runs along
+	// their border), so a smooth cut vector need not stop the recursion:
+	// a field of packed objects has no coarse two-way structure for the
+	// stability test to find, only the fine one of its objects.
+	stability := p.Background != BackgroundLines
 	flat := constant(in.Planes)
 	if flat {
 		// No feature varies: any cut would be purely spatial. One region.
@@ -515,10 +521,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		cut, err = in.Cache.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
-			return bisect(ctx, g, area, q, cutOptions{stability: true, tree: true})
+			return bisect(ctx, g, area, q, cutOptions{stability: stability, tree: true})
 		})
 	} else if p.Method == MethodBisect {
-		cut, err = bisect(ctx, g, area, p, cutOptions{stability: true})
+		cut, err = bisect(ctx, g, area, p, cutOptions{stability: stability})
 	} else {
 		cut, err = kwayComponents(ctx, g, area, p)
 	}
