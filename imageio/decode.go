@@ -191,7 +191,10 @@ func decodeBytes(data []byte, opt LoadOptions) (*Image, error) {
 		gray = data[25] == 0 || data[25] == 4
 	}
 	im := fromImage(img, gray)
-	im.Format = f.id
+	im.Format, im.Pages = f.id, 1
+	if f.id == "tiff" {
+		im.Pages = tiffPages(data)
+	}
 	if f.id == "jpeg" {
 		im = orient(im, jpegOrientation(data))
 	}

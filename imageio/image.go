@@ -15,7 +15,11 @@ type Image struct {
 	BitDepth      int    // 8 or 16: bits per sample of the source
 	Format        string // "png", "tiff", "jpeg", "bmp", "gif", "webp"
 	HasAlpha      bool   // the source had alpha below full opacity (dropped)
-	Planes        [][]float32
+	// Pages is the number of images in the file (TIFF pages: planes of a
+	// stack, channels or time points stored one per page); only the first
+	// is read. 1 for the other formats.
+	Pages  int
+	Planes [][]float32
 }
 
 // MaxValue is the largest sample value the bit depth allows (2^bits - 1).

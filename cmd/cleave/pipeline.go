@@ -28,6 +28,7 @@ type inputInfo struct {
 	Channels int    `json:"channels"`
 	BitDepth int    `json:"bit_depth"`
 	HasAlpha bool   `json:"has_alpha"`
+	Pages    int    `json:"pages"` // images in the file; only the first is read
 }
 
 // record is STEM.json: what was read, what was done, what came out.
@@ -161,6 +162,10 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
 	rec.Warnings = warningsOf(res.Warnings)
+	if p := rec.Input.Pages; p > 1 {
+		rec.Warnings = append([]warningInfo{{Code: "unused-pages", Message: fmt.Sprintf(
+			"the file holds %d images (pages: planes of a stack, channels or time points); only the first was segmented; save the plane you want as a file of its own", p)}}, rec.Warnings...)
+	}
 
 	if err := ctx.Err(); err != nil {
 		return fail(err)
@@ -274,7 +279,7 @@ func loadInput(path string, r *resolved) (*loaded, error) {
 		return nil, err
 	}
 	in.info.Format, in.info.Width, in.info.Height = im.Format, im.Width, im.Height
-	in.info.Channels, in.info.BitDepth, in.info.HasAlpha = im.Channels, im.BitDepth, im.HasAlpha
+	in.info.Channels, in.info.BitDepth, in.info.HasAlpha, in.info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
 	t1 := time.Now()
 	in.decodeSeconds = t1.Sub(t0).Seconds()
 	in.features, err = imageio.MakeFeatures(im, r.features, r.params.Workers)

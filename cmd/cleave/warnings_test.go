@@ -83,3 +83,32 @@ func TestFlagQuoted(t *testing.T) {
 		}
 	}
 }
+
+// A multi-page TIFF (scikit-image's _blobs_3d_fiji_skeleton.tif, a stack
+// of 30 pages by python3-tifffile's count) is segmented from its first
+// page, and the record and stderr say so.
+func TestSegmentWarnsUnusedPages(t *testing.T) {
+	const img = "/usr/lib/python3/dist-packages/skimage/data/_blobs_3d_fiji_skeleton.tif"
+	if _, err := os.Stat(img); err != nil {
+		t.Skipf("scikit-image data not installed: %v", err)
+	}
+	out := t.TempDir()
+	code, _, stderr := runCleave("segment", "--out", out, img)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	data, err := os.ReadFile(filepath.Join(out, "_blobs_3d_fiji_skeleton.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rec record
+	if err := json.Unmarshal(data, &rec); err != nil {
+		t.Fatal(err)
+	}
+	if rec.Input.Pages != 30 || len(rec.Warnings) == 0 || rec.Warnings[0].Code != "unused-pages" || !strings.Contains(rec.Warnings[0].Message, "30 images") {
+		t.Fatalf("pages %d, warnings %+v", rec.Input.Pages, rec.Warnings)
+	}
+	if !strings.Contains(stderr, "only the first was segmented") {
+		t.Errorf("stderr: %s", stderr)
+	}
+}
