@@ -628,7 +628,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if res.NumRegions == 1 {
 		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
 	}
-	res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
+	if !flat { // a blank image has nothing else to say
+		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
+	}
 	if w := short.warning(); w != nil {
 		res.Warnings = append(res.Warnings, *w)
 	}

@@ -59,10 +59,12 @@ x.tif), both keep their extension in the output names (x.png.labels.png,
 x.tif.labels.png).
 
 Each image's STEM.json record says ok or failed with the message; a broken
-file is recorded and the batch goes on. DIR/manifest.csv (input, status,
-regions, objects, seconds, error) and DIR/report.html (counts, parameters,
-a contact sheet of the overlays scaled by the browser, the table of files,
-the failures) are rebuilt from the records at the end, using the list of
+file is recorded and the batch goes on; a result to check (one region, no
+objects, one object over half the image, ...) is ok with warnings.
+DIR/manifest.csv (input, status, regions, objects, seconds, error,
+warnings) and DIR/report.html (counts, parameters, a contact sheet of the
+overlays scaled by the browser, the table of files, the failures and the
+warnings) are rebuilt from the records at the end, using the list of
 inputs and the parameters kept in DIR/%s. A rerun skips every
 image whose record is ok for the same file contents (SHA-256), parameters
 and cleave version; after an interruption, even kill -9, it completes the
@@ -636,12 +638,14 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 	interrupted := ctx.Err() != nil && !stoppedEarly
 	notDone := len(p.mine) - finished
 
-	wrote := ""
+	wrote, warned := "", 0
 	if p.shardN == 1 {
-		if _, err := writeManifestAndReport(p.out, idx); err != nil {
+		rows, err := writeManifestAndReport(p.out, idx)
+		if err != nil {
 			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 			return exitFail
 		}
+		warned = countRows(rows).warned
 		wrote = fmt.Sprintf(" -> %s, %s", filepath.Join(p.out, manifestName), filepath.Join(p.out, reportName))
 	}
 	if !p.opts.quiet {
@@ -652,6 +656,9 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave batch: %d files%s: %d computed now, %d already up to date, %d failed", len(p.mine), shard, computed, upToDate, failed)
 		if notDone > 0 {
 			fmt.Fprintf(stderr, ", %d not done", notDone)
+		}
+		if warned > 0 {
+			fmt.Fprintf(stderr, ", %d with warnings to check (see the report)", warned)
 		}
 		fmt.Fprintf(stderr, " in %.1f s%s\n", time.Since(start).Seconds(), wrote)
 		if p.shardN > 1 {

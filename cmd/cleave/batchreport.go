@@ -74,6 +74,7 @@ type manifestRow struct {
 	Input, Stem, Status, Error string
 	Regions, Objects           int
 	Seconds                    float64
+	Warnings                   []string // messages of an ok record's warnings
 }
 
 // Statuses in the manifest.
@@ -98,6 +99,9 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			r.Error = "the record is from other parameters or another cleave version"
 		case rec.Status == "ok":
 			r.Status, r.Regions, r.Objects, r.Seconds = rowOK, rec.Regions, rec.Objects, rec.Seconds["total"]
+			for _, w := range rec.Warnings {
+				r.Warnings = append(r.Warnings, w.Message)
+			}
 		default:
 			r.Status, r.Error, r.Seconds = rowFailed, rec.Error, rec.Seconds["total"]
 		}
@@ -106,7 +110,7 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 	return rows
 }
 
-type rowCounts struct{ ok, failed, pending int }
+type rowCounts struct{ ok, warned, failed, pending int }
 
 func countRows(rows []manifestRow) rowCounts {
 	var c rowCounts
@@ -114,6 +118,9 @@ func countRows(rows []manifestRow) rowCounts {
 		switch r.Status {
 		case rowOK:
 			c.ok++
+			if len(r.Warnings) > 0 {
+				c.warned++
+			}
 		case rowFailed:
 			c.failed++
 		default:
@@ -143,9 +150,9 @@ func writeManifestAndReport(dir string, idx *batchIndex) ([]manifestRow, error) 
 // writeManifest writes the CSV (RFC 4180 quoting by encoding/csv).
 func writeManifest(w io.Writer, rows []manifestRow) error {
 	cw := csv.NewWriter(w)
-	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error"})
+	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error", "warnings"})
 	for _, r := range rows {
-		rec := []string{r.Input, r.Status, "", "", "", r.Error}
+		rec := []string{r.Input, r.Status, "", "", "", r.Error, strings.Join(r.Warnings, " | ")}
 		if r.Status == rowOK {
 			rec[2], rec[3] = strconv.Itoa(r.Regions), strconv.Itoa(r.Objects)
 		}
@@ -174,13 +181,16 @@ type reportRow struct {
 	manifestRow
 	Overlay, Record template.URL
 	SecondsText     string
+	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending"
+	Class           string // row class: ok, warned, failed, pending
 }
 
 type reportData struct {
-	Version, InputDir        string
-	Total, OK, Failed, Pend  int
-	Params                   []reportParam
-	Rows, Sheet, FailureRows []reportRow
+	Version, InputDir               string
+	Total, OK, Warned, Failed, Pend int
+	Params                          []reportParam
+	Rows, Sheet, FailureRows        []reportRow
+	WarnedRows                      []reportRow
 }
 
 // writeReport writes report.html: one self-contained page, no scripts and
@@ -189,7 +199,7 @@ type reportData struct {
 // large batches open quickly.
 func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 	c := countRows(rows)
-	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows), OK: c.ok, Failed: c.failed, Pend: c.pending}
+	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows), OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending}
 	m := map[string]any{}
 	data, _ := json.Marshal(idx.Settings)
 	dec := json.NewDecoder(bytes.NewReader(data))
@@ -199,7 +209,11 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 		d.Params = append(d.Params, reportParam{k, fmt.Sprint(m[k])})
 	}
 	for _, r := range rows {
-		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json")}
+		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json"), StatusText: r.Status, Class: r.Status}
+		if n := len(r.Warnings); n > 0 {
+			rr.StatusText, rr.Class = "ok, "+plural(n, "warning"), "warned"
+			d.WarnedRows = append(d.WarnedRows, rr)
+		}
 		if r.Status != rowPending {
 			rr.SecondsText = strconv.FormatFloat(r.Seconds, 'f', 2, 64)
 		}
@@ -234,6 +248,7 @@ table { border-collapse: collapse; }
 th, td { border: 1px solid #ccc; padding: 2px 8px; text-align: left; }
 td.n { text-align: right; }
 tr.failed td { background: #fde8e8; }
+tr.warned td { background: #eef3fb; }
 tr.pending td { background: #fff6d6; }
 .sheet { display: flex; flex-wrap: wrap; gap: 10px; }
 .sheet figure { margin: 0; width: 160px; }
@@ -243,7 +258,7 @@ tr.pending td { background: #fff6d6; }
 </head>
 <body>
 <h1>cleave batch report</h1>
-<p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}.
+<p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}.
 Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
 The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 
@@ -253,6 +268,13 @@ The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 {{range .FailureRows}}<tr class="failed"><td>{{.Input}}</td><td>{{.Error}}</td></tr>
 {{end}}</table>
 {{end}}
+{{if .WarnedRows}}<h2>Warnings</h2>
+<p>These images were segmented, but the result is probably not what was wanted; each message says what to change.</p>
+<table id="warnings">
+<tr><th>input</th><th>message</th></tr>
+{{range .WarnedRows}}{{$in := .Input}}{{range .Warnings}}<tr class="warned"><td>{{$in}}</td><td>{{.}}</td></tr>
+{{end}}{{end}}</table>
+{{end}}
 <h2>Overlays</h2>
 <div class="sheet" id="sheet">
 {{range .Sheet}}<figure><a href="{{.Overlay}}"><img src="{{.Overlay}}" loading="lazy" alt="overlay of {{.Input}}"></a><figcaption>{{.Input}}</figcaption></figure>
@@ -261,7 +283,7 @@ The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
 <h2>Files</h2>
 <table id="files">
 <tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th></tr>
-{{range .Rows}}<tr class="{{.Status}}"><td>{{.Input}}</td><td>{{.Status}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if ne .Status "pending"}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
+{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if ne .Status "pending"}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
 {{end}}</table>
 
 <h2>Parameters (as requested; each record holds the values used)</h2>

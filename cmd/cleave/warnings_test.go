@@ -112,3 +112,44 @@ func TestSegmentWarnsUnusedPages(t *testing.T) {
 		t.Errorf("stderr: %s", stderr)
 	}
 }
+
+// In a batch, a result with warnings is ok and says so: its manifest row
+// carries the messages, the report lists them and marks the row, and the
+// summary counts it. A blank image (all zero) can only come out as one
+// region; a generated nuclei scene segments cleanly.
+func TestBatchWarnings(t *testing.T) {
+	in := t.TempDir()
+	sc := writeNuclei(t, in, 41, 1, 96)[0]
+	if err := os.Remove(filepath.Join(in, sc.Name+".truth.png")); err != nil {
+		t.Fatal(err)
+	}
+	writeGrayPNG(t, filepath.Join(in, "blank.png"), 40, 30, false)
+	out := filepath.Join(t.TempDir(), "out")
+	code, _, stderr := runCleave("batch", in, "--out", out, "--classes", "2", "--background", "dark")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stderr, "1 with warnings to check") {
+		t.Errorf("summary does not count the warned image: %s", stderr)
+	}
+	rows := readManifest(t, out)
+	blank, clean := rows["blank.png"], rows[sc.Name+".png"]
+	if blank == nil || clean == nil {
+		t.Fatalf("manifest rows %v", rows)
+	}
+	if blank[1] != "ok" || !strings.Contains(blank[6], "one region") {
+		t.Errorf("blank row %q: want ok with the no-split message", blank)
+	}
+	if clean[1] != "ok" || clean[6] != "" {
+		t.Errorf("clean row %q: want ok without warnings", clean)
+	}
+	html, err := os.ReadFile(filepath.Join(out, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`id="warnings"`, "(1 with warnings to check)", `<tr class="warned"><td>blank.png</td><td>ok, 1 warning</td>`} {
+		if !strings.Contains(string(html), want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+}
