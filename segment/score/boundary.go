@@ -53,7 +53,9 @@ func BoundaryPixels(labels []int32, width, height int) []bool {
 // pixel counts as matched when a boundary pixel of the other map lies within
 // Euclidean distance tol (a disc of offsets dx² + dy² <= tol²), so several
 // pixels may be matched by the same one and the scores are at least the
-// one-to-one ones. tol = 0 demands the same pixel.
+// one-to-one ones. tol = 0 demands the same pixel. The distances come from
+// an exact Euclidean distance transform, so time and memory are linear in
+// the pixels for any tol.
 //
 // Degenerate cases follow MatchObjects: a ratio whose denominator is zero is
 // 1 when neither map has a boundary and 0 otherwise; F is 0 when precision
@@ -68,9 +70,8 @@ func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch
 	}
 	bp := BoundaryPixels(pred, width, height)
 	bt := BoundaryPixels(truth, width, height)
-	offs := discOffsets(tol)
-	hitP, np := within(bp, bt, width, height, offs)
-	hitT, nt := within(bt, bp, width, height, offs)
+	hitP, np := within(bp, bt, width, height, tol)
+	hitT, nt := within(bt, bp, width, height, tol)
 	empty := np == 0 && nt == 0
 	m := BoundaryMatch{
 		Precision:   ratio(hitP, np, empty),
@@ -84,38 +85,97 @@ func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch
 	return m
 }
 
-// discOffsets lists the integer offsets with dx² + dy² <= tol², in a fixed
-// order.
-func discOffsets(tol float64) [][2]int {
-	r := int(math.Floor(tol))
-	t2 := tol * tol
-	var offs [][2]int
-	for dy := -r; dy <= r; dy++ {
-		for dx := -r; dx <= r; dx++ {
-			if float64(dx*dx+dy*dy) <= t2 {
-				offs = append(offs, [2]int{dx, dy})
-			}
-		}
-	}
-	return offs
-}
-
 // within counts the marked pixels of a that have a marked pixel of b within
-// the offsets, and the marked pixels of a.
-func within(a, b []bool, width, height int, offs [][2]int) (hits, total int) {
+// Euclidean distance tol, and the marked pixels of a. The distances come
+// from the exact transform of b (sqDistance), so the work is linear in
+// the pixels whatever tol is.
+func within(a, b []bool, width, height int, tol float64) (hits, total int) {
+	d := sqDistance(b, width, height)
+	t2 := tol * tol
 	for k, on := range a {
 		if !on {
 			continue
 		}
 		total++
-		x, y := k%width, k/width
-		for _, o := range offs {
-			xx, yy := x+o[0], y+o[1]
-			if xx >= 0 && xx < width && yy >= 0 && yy < height && b[yy*width+xx] {
-				hits++
-				break
-			}
+		if d[k] <= t2 && !math.IsInf(d[k], 1) {
+			hits++
 		}
 	}
 	return hits, total
+}
+
+// sqDistance returns, for every pixel of a width x height grid, the
+// squared Euclidean distance to the nearest marked pixel (+Inf when none
+// is marked). It is the exact distance transform of Felzenszwalb and
+// Huttenlocher (2012), Distance transforms of sampled functions, Theory
+// of Computing 8: the lower envelope of parabolas along every column, then
+// along every row of the result, O(width x height). Squared distances are
+// whole numbers, exact in float64.
+func sqDistance(marked []bool, width, height int) []float64 {
+	inf := math.Inf(1)
+	d := make([]float64, len(marked))
+	for k, m := range marked {
+		if !m {
+			d[k] = inf
+		}
+	}
+	n := max(width, height)
+	f, out := make([]float64, n), make([]float64, n)
+	v, z := make([]int, n), make([]float64, n+1)
+	for x := 0; x < width; x++ {
+		for y := 0; y < height; y++ {
+			f[y] = d[y*width+x]
+		}
+		envelope(f[:height], out[:height], v, z)
+		for y := 0; y < height; y++ {
+			d[y*width+x] = out[y]
+		}
+	}
+	for y := 0; y < height; y++ {
+		row := d[y*width : (y+1)*width]
+		copy(f, row)
+		envelope(f[:width], row, v, z)
+	}
+	return d
+}
+
+// envelope is the one-dimensional transform: out[q] = min_p (q-p)² + f[p]
+// over the finite samples f[p] (+Inf when there is none), by the lower
+// envelope of the parabolas rooted at them; v and z are scratch of
+// lengths len(f) and len(f)+1.
+func envelope(f, out []float64, v []int, z []float64) {
+	k := -1
+	for q := range f {
+		if math.IsInf(f[q], 1) {
+			continue
+		}
+		s := math.Inf(-1)
+		for k >= 0 {
+			p := v[k]
+			// Where the parabola from q starts to lie below the one from p.
+			s = ((f[q] + float64(q*q)) - (f[p] + float64(p*p))) / float64(2*(q-p))
+			if s > z[k] {
+				break
+			}
+			k--
+			s = math.Inf(-1)
+		}
+		k++
+		v[k], z[k] = q, s
+	}
+	if k < 0 {
+		for q := range out {
+			out[q] = math.Inf(1)
+		}
+		return
+	}
+	z[k+1] = math.Inf(1)
+	j := 0
+	for q := range out {
+		for z[j+1] < float64(q) {
+			j++
+		}
+		p := v[j]
+		out[q] = float64((q-p)*(q-p)) + f[p]
+	}
 }

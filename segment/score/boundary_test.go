@@ -141,3 +141,42 @@ func TestBoundaryPanicsOnBadTolerance(t *testing.T) {
 		}()
 	}
 }
+
+// within, computed through the distance transform, counts exactly the
+// pixels that the definition counts: a marked pixel of a is a hit when some
+// marked pixel of b lies within Euclidean distance tol (checked here by
+// trying every pair). Random sparse and dense marks, tolerances from 0 to
+// beyond any image, and a b with no mark at all.
+func TestWithinMatchesDefinition(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	for trial := 0; trial < 40; trial++ {
+		w, h := 1+rng.IntN(30), 1+rng.IntN(30)
+		density := []float64{0, 0.01, 0.1, 0.5}[trial%4]
+		a, b := make([]bool, w*h), make([]bool, w*h)
+		for k := range a {
+			a[k] = rng.Float64() < 0.3
+			b[k] = rng.Float64() < density
+		}
+		for _, tol := range []float64{0, 0.5, 1, 1.5, 2, 2.9, 7.3, 40, 1e5, 1e308} {
+			hits, total := within(a, b, w, h, tol)
+			wantHits, wantTotal := 0, 0
+			for k, on := range a {
+				if !on {
+					continue
+				}
+				wantTotal++
+				x, y := k%w, k/w
+				for j, m := range b {
+					dx, dy := float64(j%w-x), float64(j/w-y)
+					if m && dx*dx+dy*dy <= tol*tol {
+						wantHits++
+						break
+					}
+				}
+			}
+			if hits != wantHits || total != wantTotal {
+				t.Fatalf("%dx%d, density %v, tol %v: %d of %d hits, want %d of %d", w, h, density, tol, hits, total, wantHits, wantTotal)
+			}
+		}
+	}
+}
