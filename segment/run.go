@@ -99,6 +99,49 @@ type Params struct {
 
 }
 
+// Ranges of the parameters. Validate refuses values outside them, so that
+// no value, however large, makes a run allocate or compute without bound;
+// Run also refuses counts above the nodes of the image's graph. The
+// command states them in its help.
+const (
+	// MinSigmaI and MaxSigmaI bound SigmaI (normalized units). Features
+	// lie in 0..1 (lab a* and b* within about -1.3..1.3), so above 100
+	// every intensity weight is 1 to float32 precision; below 1e-6 every
+	// weight between different intensities is 0.
+	MinSigmaI, MaxSigmaI = 1e-6, 100.0
+	// MinSigmaX and MaxSigmaX bound SigmaX (pixels): below 0.01 every
+	// weight between distinct pixels is 0, above a million pixels every
+	// spatial weight is 1 on any image cleave accepts.
+	MinSigmaX, MaxSigmaX = 0.01, 1e6
+	// MaxRadius bounds Radius: the pixel graph has about pi r^2 neighbours
+	// per pixel (12,900 at 64), beyond any useful kernel.
+	MaxRadius = 64
+	// MaxCompactness bounds Compactness: far above the default 20,
+	// superpixels are already squares of the grid.
+	MaxCompactness = 10000
+	// MaxNcutLimit bounds MaxNcut: the normalized cut of a split,
+	// cut/assoc(A) + cut/assoc(B), never exceeds 2.
+	MaxNcutLimit = 2
+	// MaxSuperpixels bounds a given superpixel count (the automatic one
+	// stays within MaxScaledSuperpixels).
+	MaxSuperpixels = 1000000
+	// MaxKwaySegments bounds K of the k-way method and MaxSegments: the
+	// eigensolver's work grows with the square of the eigenpairs sought
+	// (measured on scikit-image's coins.png: K = 32 took 0.16 s, 100 took
+	// 4.8 s, 200 took 28 s).
+	MaxKwaySegments = 64
+	// MaxBisectSegments bounds the region limit of the bisect method (a
+	// limit, not work: above the regions a cut finds it is no limit).
+	MaxBisectSegments = 1000000
+	// MaxClasses bounds Classes: intensity classes beyond a few dozen
+	// are not separable in a 16-bit image's brightness, and the grouping
+	// allocates per class.
+	MaxClasses = 64
+	// MaxMinArea bounds MinArea by the largest image cleave reads (2000
+	// megapixels, whose pixel indices still fit 32 bits).
+	MaxMinArea = 2000000000
+)
+
 // ParamError reports an invalid parameter by its name (the command layer
 // maps names to its flags).
 type ParamError struct {
@@ -122,40 +165,54 @@ func positive(name string, v float64) error {
 // bad one.
 func (p Params) Validate() error {
 	if !p.AutoSigmaI {
-		if err := positive("sigma-i", p.SigmaI); err != nil {
+		if err := within("sigma-i", p.SigmaI, MinSigmaI, MaxSigmaI); err != nil {
 			return err
 		}
 	}
 	if !p.AutoSigmaX {
-		if err := positive("sigma-x", p.SigmaX); err != nil {
+		if err := within("sigma-x", p.SigmaX, MinSigmaX, MaxSigmaX); err != nil {
 			return err
 		}
 	}
-	if p.Radius < 1 {
-		return &ParamError{"radius", fmt.Sprintf("must be at least 1 pixel, got %d", p.Radius)}
+	if p.Superpixels > MaxSuperpixels {
+		return &ParamError{"superpixels", fmt.Sprintf("must be at most %d, got %d", MaxSuperpixels, p.Superpixels)}
+	}
+	if p.Radius < 1 || p.Radius > MaxRadius {
+		return &ParamError{"radius", fmt.Sprintf("must be 1 to %d pixels, got %d", MaxRadius, p.Radius)}
 	}
 	if err := positive("compactness", p.Compactness); err != nil {
 		return err
 	}
+	if p.Compactness > MaxCompactness {
+		return &ParamError{"compactness", fmt.Sprintf("must be at most %d, got %v", MaxCompactness, p.Compactness)}
+	}
 	if err := positive("max-ncut", p.MaxNcut); err != nil {
 		return err
+	}
+	if p.MaxNcut > MaxNcutLimit {
+		return &ParamError{"max-ncut", fmt.Sprintf("must be at most %d (no normalized cut exceeds it), got %v", MaxNcutLimit, p.MaxNcut)}
 	}
 	switch p.Method {
 	case MethodBisect, MethodKway:
 	default:
 		return &ParamError{"method", fmt.Sprintf("must be bisect or kway, got %q", p.Method)}
 	}
-	if p.Segments < 0 {
+	switch {
+	case p.Segments < 0:
 		return &ParamError{"segments", fmt.Sprintf("must be 0 or more, got %d", p.Segments)}
+	case p.Method == MethodKway && p.Segments > MaxKwaySegments:
+		return &ParamError{"segments", fmt.Sprintf("must be at most %d with the kway method (its work grows with the square of K), got %d", MaxKwaySegments, p.Segments)}
+	case p.Segments > MaxBisectSegments:
+		return &ParamError{"segments", fmt.Sprintf("must be at most %d, got %d", MaxBisectSegments, p.Segments)}
 	}
-	if p.Method == MethodKway && p.Segments == 0 && p.MaxSegments < 2 {
-		return &ParamError{"max-segments", fmt.Sprintf("must be at least 2, got %d", p.MaxSegments)}
+	if p.MaxSegments > MaxKwaySegments || p.MaxSegments < 0 || (p.Method == MethodKway && p.Segments == 0 && p.MaxSegments < 2) {
+		return &ParamError{"max-segments", fmt.Sprintf("must be 2 to %d, got %d", MaxKwaySegments, p.MaxSegments)}
 	}
-	if p.MinArea < 0 {
-		return &ParamError{"min-area", fmt.Sprintf("must be 0 or more, got %d", p.MinArea)}
+	if p.MinArea < 0 || p.MinArea > MaxMinArea {
+		return &ParamError{"min-area", fmt.Sprintf("must be 0 to %d pixels, got %d", MaxMinArea, p.MinArea)}
 	}
-	if p.Classes == 1 || p.Classes < 0 {
-		return &ParamError{"classes", fmt.Sprintf("must be 0 (off) or at least 2, got %d", p.Classes)}
+	if p.Classes == 1 || p.Classes < 0 || p.Classes > MaxClasses {
+		return &ParamError{"classes", fmt.Sprintf("must be 0 (off) or 2 to %d, got %d", MaxClasses, p.Classes)}
 	}
 	switch p.Background {
 	case "", "dark", "bright", BackgroundLines:
@@ -168,6 +225,32 @@ func (p Params) Validate() error {
 		}
 	} else if p.Background != "" && p.Classes < 2 {
 		return &ParamError{"background", "needs classes 2 or more"}
+	}
+	return nil
+}
+
+// within checks that v lies in [lo, hi].
+func within(name string, v, lo, hi float64) error {
+	if err := positive(name, v); err != nil {
+		return err
+	}
+	if v < lo || v > hi {
+		return &ParamError{name, fmt.Sprintf("must be %g to %g, got %v", lo, hi, v)}
+	}
+	return nil
+}
+
+// checkNodes refuses counts that the graph of n nodes cannot hold: more
+// classes than nodes (two classes, background and objects, are always
+// defined, even on a one-pixel image), or a k-way K above the nodes. It
+// runs before the graph is built (n is the pixel count or the superpixel
+// count asked for).
+func (p Params) checkNodes(n int) error {
+	if p.Classes > max(n, 2) {
+		return &ParamError{"classes", fmt.Sprintf("%d is more than the %d nodes of this image's graph", p.Classes, n)}
+	}
+	if p.Method == MethodKway && p.Segments > n {
+		return &ParamError{"segments", fmt.Sprintf("%d is more than the %d nodes of this image's graph", p.Segments, n)}
 	}
 	return nil
 }
@@ -424,6 +507,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	if p.Superpixels >= npix {
 		p.Superpixels = 0
+	}
+	nodes := npix
+	if p.Superpixels > 0 {
+		nodes = p.Superpixels
+	}
+	if err := p.checkNodes(nodes); err != nil {
+		return nil, err
 	}
 	if p.AutoSigmaI {
 		p.SigmaI = affinity.AutoSigmaI(in.Planes, w, h)

@@ -131,6 +131,22 @@ func TestParamsValidate(t *testing.T) {
 		func(p *Params) { p.Background = "grey"; p.Classes = 2 },
 		func(p *Params) { p.Background = "dark" },
 		func(p *Params) { p.Segments = -2 },
+		// Ranges: each bound plus one step.
+		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MinSigmaI/2 },
+		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MaxSigmaI*1.01 },
+		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, MinSigmaX/2 },
+		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, 1e308 },
+		func(p *Params) { p.Radius = MaxRadius + 1 },
+		func(p *Params) { p.Superpixels = MaxSuperpixels + 1 },
+		func(p *Params) { p.Compactness = MaxCompactness + 1 },
+		func(p *Params) { p.MaxNcut = 2.0001 },
+		func(p *Params) { p.Method, p.Segments = MethodKway, MaxKwaySegments+1 },
+		func(p *Params) { p.Segments = MaxBisectSegments + 1 },
+		func(p *Params) { p.MaxSegments = MaxKwaySegments + 1 },
+		func(p *Params) { p.Method, p.MaxSegments = MethodKway, 1 },
+		func(p *Params) { p.MinArea = MaxMinArea + 1 },
+		func(p *Params) { p.Classes = MaxClasses + 1 },
+		func(p *Params) { p.Classes = 1 << 31 },
 	}
 	for i, f := range bad {
 		p := defaultParams()
@@ -143,13 +159,49 @@ func TestParamsValidate(t *testing.T) {
 	if err := defaultParams().Validate(); err != nil {
 		t.Errorf("defaults rejected: %v", err)
 	}
+	// Each end of each range is accepted.
+	good := []func(*Params){
+		func(p *Params) { p.AutoSigmaI, p.SigmaI, p.AutoSigmaX, p.SigmaX = false, MinSigmaI, false, MinSigmaX },
+		func(p *Params) { p.AutoSigmaI, p.SigmaI, p.AutoSigmaX, p.SigmaX = false, MaxSigmaI, false, MaxSigmaX },
+		func(p *Params) {
+			p.Radius, p.Superpixels, p.Compactness, p.MaxNcut = MaxRadius, MaxSuperpixels, MaxCompactness, MaxNcutLimit
+		},
+		func(p *Params) { p.Method, p.Segments, p.MaxSegments = MethodKway, MaxKwaySegments, MaxKwaySegments },
+		func(p *Params) { p.Segments, p.MinArea, p.Classes = MaxBisectSegments, MaxMinArea, MaxClasses },
+	}
+	for i, f := range good {
+		p := defaultParams()
+		f(&p)
+		if err := p.Validate(); err != nil {
+			t.Errorf("range end %d refused: %v", i, err)
+		}
+	}
 }
 
-// More segments than nodes: k-way returns at most one region per node.
-func TestKwayMoreSegmentsThanNodes(t *testing.T) {
+// Counts the graph cannot hold are refused before it is built: a k-way K
+// or a class count above the nodes (12 pixels here, the pixel graph) is a
+// *ParamError naming the parameter; K equal to the nodes gives at most one
+// region per node.
+func TestCountsAboveNodes(t *testing.T) {
 	in := discs(4, 3, 1)
+	for _, c := range []struct {
+		name string
+		set  func(*Params)
+	}{
+		{"segments", func(p *Params) { p.Method, p.Segments = MethodKway, 13 }},
+		{"segments", func(p *Params) { p.Method, p.Segments = MethodKway, 50 }},
+		{"classes", func(p *Params) { p.Classes = 13 }},
+	} {
+		p := defaultParams()
+		p.MinArea = 0
+		c.set(&p)
+		var pe *ParamError
+		if _, err := Run(context.Background(), in, p); !errors.As(err, &pe) || pe.Name != c.name {
+			t.Errorf("%s: error %v, want a ParamError naming %s", c.name, err, c.name)
+		}
+	}
 	p := defaultParams()
-	p.Method, p.Segments, p.MinArea = MethodKway, 50, 0
+	p.Method, p.Segments, p.MinArea = MethodKway, 12, 0
 	res, err := Run(context.Background(), in, p)
 	if err != nil {
 		t.Fatal(err)
