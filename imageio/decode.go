@@ -2,6 +2,7 @@ package imageio
 
 import (
 	"bytes"
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"image"
@@ -10,7 +11,6 @@ import (
 	"image/jpeg"
 	"image/png"
 	"io"
-	"math"
 	"os"
 	"strings"
 
@@ -23,17 +23,31 @@ import (
 // is zero.
 const DefaultMaxMegapixels = 100
 
+// MinMaxMegapixels and MaxMaxMegapixels bound LoadOptions.MaxMegapixels:
+// at least one pixel, and at most 2000 megapixels, below 2^31 pixels, so
+// that every pixel index and label of an accepted image fits 32 bits.
+const (
+	MinMaxMegapixels = 1e-6
+	MaxMaxMegapixels = 2000
+)
+
 // LoadOptions controls decoding.
 type LoadOptions struct {
 	// MaxMegapixels refuses images with more than this many million pixels,
 	// judged from the header before any pixel memory is allocated.
-	// 0 means DefaultMaxMegapixels; a negative or non-finite value is an error.
+	// 0 means DefaultMaxMegapixels; a value outside MinMaxMegapixels..
+	// MaxMaxMegapixels is an error.
 	MaxMegapixels float64
 }
 
 // ErrUnknownFormat is returned (wrapped) for data that is none of the
 // supported formats.
 var ErrUnknownFormat = errors.New("not a PNG, TIFF, JPEG, BMP, GIF or WebP image")
+
+// ErrUnsupported is returned (wrapped, with what the file is) for a
+// variant of a known format that cleave cannot read yet: BigTIFF, and TIFF
+// with each channel in a plane of its own.
+var ErrUnsupported = errors.New("not supported yet")
 
 // ErrTooLarge is returned (wrapped, with the size) for images above the
 // megapixel limit.
@@ -116,8 +130,8 @@ func megapixelLimit(opt LoadOptions) (float64, error) {
 	switch {
 	case m == 0:
 		return DefaultMaxMegapixels, nil
-	case !(m > 0) || math.IsInf(m, 0):
-		return 0, fmt.Errorf("max megapixels must be a positive number, got %v", m)
+	case !(m >= MinMaxMegapixels && m <= MaxMaxMegapixels):
+		return 0, &OptionError{"max-megapixels", fmt.Sprintf("must be %g (one pixel) to %d megapixels, got %v", MinMaxMegapixels, MaxMaxMegapixels, m)}
 	}
 	return m, nil
 }
@@ -165,7 +179,15 @@ func decodeBytes(data []byte, opt LoadOptions) (*Image, error) {
 	}
 	f, ok := sniff(data)
 	if !ok {
+		if isBigTIFF(data) {
+			return nil, fmt.Errorf("BigTIFF file (TIFF with 64-bit offsets): %w; save the image as a classic TIFF (under 4 GB) or a PNG", ErrUnsupported)
+		}
 		return nil, ErrUnknownFormat
+	}
+	if f.id == "tiff" {
+		if err := checkTIFFLayout(data); err != nil {
+			return nil, err
+		}
 	}
 	cfg, err := guarded(func() (image.Config, error) { return f.config(bytes.NewReader(data)) })
 	if err != nil {
@@ -199,6 +221,64 @@ func decodeBytes(data []byte, opt LoadOptions) (*Image, error) {
 		im = orient(im, jpegOrientation(data))
 	}
 	return im, nil
+}
+
+// isBigTIFF reports the BigTIFF signature: the byte order mark of TIFF
+// followed by version 43 instead of 42 (BigTIFF design, Aware Systems
+// 2006: "II" 0x2B 0x00 or "MM" 0x00 0x2B, then offset size 8).
+func isBigTIFF(b []byte) bool {
+	return bytes.HasPrefix(b, []byte("II+\x00")) || bytes.HasPrefix(b, []byte("MM\x00+"))
+}
+
+// checkTIFFLayout refuses, from the first image file directory, a TIFF
+// whose channels are stored one plane after another (PlanarConfiguration
+// 2 with more than one sample per pixel, TIFF 6.0 section 8): the decoder
+// would read the planes as interleaved pixels and report the file as
+// truncated. A directory that cannot be read is left to the decoder,
+// which names the problem.
+func checkTIFFLayout(b []byte) error {
+	var order binary.ByteOrder = binary.LittleEndian
+	if b[0] == 'M' {
+		order = binary.BigEndian
+	}
+	if len(b) < 8 {
+		return nil
+	}
+	off := int64(order.Uint32(b[4:8]))
+	if off+2 > int64(len(b)) {
+		return nil
+	}
+	n := int64(order.Uint16(b[off:]))
+	planar, samples := 1, 1
+	for k := int64(0); k < n; k++ {
+		e := off + 2 + 12*k
+		if e+12 > int64(len(b)) {
+			break
+		}
+		tag, typ, count := order.Uint16(b[e:]), order.Uint16(b[e+2:]), order.Uint32(b[e+4:])
+		if count != 1 {
+			continue
+		}
+		var v int
+		switch typ {
+		case 3: // SHORT, left-justified in the value field
+			v = int(order.Uint16(b[e+8:]))
+		case 4: // LONG
+			v = int(order.Uint32(b[e+8:]))
+		default:
+			continue
+		}
+		switch tag {
+		case 277: // SamplesPerPixel
+			samples = v
+		case 284: // PlanarConfiguration
+			planar = v
+		}
+	}
+	if planar == 2 && samples > 1 {
+		return fmt.Errorf("TIFF with its %d channels in separate planes (PlanarConfiguration 2): %w; save it with interleaved channels (PlanarConfiguration 1, the usual layout) or as a PNG", samples, ErrUnsupported)
+	}
+	return nil
 }
 
 // fromImage copies img into float32 planes. forceGray says that the source

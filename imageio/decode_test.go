@@ -251,12 +251,13 @@ func TestDecodeOnePixel(t *testing.T) {
 	if im.Width != 1 || im.Height != 1 || im.Planes[0][0] != 0x1234 || im.BitDepth != 16 {
 		t.Fatalf("got %dx%d depth %d value %v; want 1x1 depth 16 value %d", im.Width, im.Height, im.BitDepth, im.Planes[0][0], 0x1234)
 	}
+	// Flatten scales up to the diagonal (1.41 pixels) are accepted.
 	for _, opt := range []FeatureOptions{
 		{Channel: -1},
-		{Channel: -1, Flatten: 5},
-		{Channel: -1, Flatten: 5, FlattenMode: FlattenSubtract},
+		{Channel: -1, Flatten: 1.4},
+		{Channel: -1, Flatten: 1.4, FlattenMode: FlattenSubtract},
 		{Channel: -1, Normalize: NormalizeBitDepth},
-		{Channel: -1, Space: SpaceLab, Flatten: 3},
+		{Channel: -1, Space: SpaceLab, Flatten: 1},
 	} {
 		f, err := MakeFeatures(im, opt, 2)
 		if err != nil {

@@ -38,7 +38,10 @@ type FeatureOptions struct {
 	// 2^bits - 1, clipped). A constant plane normalizes to all zeros.
 	Normalize string
 	// Flatten is the shading-correction scale R in pixels (Gaussian sigma
-	// of the background estimate); 0 turns it off.
+	// of the background estimate); 0 turns it off. It must not exceed the
+	// image diagonal (MakeFeatures refuses it before allocating): a
+	// larger scale estimates no shading the image can hold, and the
+	// filter's padded rows grow with it.
 	Flatten float64
 	// FlattenMode is "divide" (default) or "subtract".
 	FlattenMode string
@@ -137,6 +140,10 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 	}
 	if err := checkImage(im); err != nil {
 		return nil, err
+	}
+	if diag := math.Hypot(float64(im.Width), float64(im.Height)); opt.Flatten > diag {
+		return nil, &OptionError{"flatten", fmt.Sprintf("%g is larger than the image diagonal (%.0f pixels for %dx%d); the background scale must lie within the image",
+			opt.Flatten, diag, im.Width, im.Height)}
 	}
 	if opt.Channel >= im.Channels {
 		return nil, &OptionError{"channel", fmt.Sprintf("%d is out of range: the image has %d channel(s) (0..%d)", opt.Channel, im.Channels, im.Channels-1)}

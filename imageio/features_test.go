@@ -402,3 +402,24 @@ func TestXYZMatrix(t *testing.T) {
 		}
 	}
 }
+
+// Flatten is at most the image diagonal (5 for 3 x 4): the diagonal itself
+// is accepted, anything above it, up to the largest float, is an
+// *OptionError naming flatten, never a panic or a huge allocation.
+func TestFlattenAtMostDiagonal(t *testing.T) {
+	v := make([]float32, 12)
+	for i := range v {
+		v[i] = float32(i)
+	}
+	im := grayImage(3, 4, 8, v)
+	if _, err := MakeFeatures(im, FeatureOptions{Channel: -1, Flatten: 5}, 1); err != nil {
+		t.Errorf("flatten 5 on a 3x4 image (diagonal 5): %v", err)
+	}
+	for _, r := range []float64{5.0001, 1e9, 1e308} {
+		_, err := MakeFeatures(im, FeatureOptions{Channel: -1, Flatten: r}, 1)
+		var oe *OptionError
+		if !errors.As(err, &oe) || oe.Name != "flatten" || !strings.Contains(err.Error(), "diagonal") {
+			t.Errorf("flatten %g on a 3x4 image: error %v, want an OptionError about the diagonal", r, err)
+		}
+	}
+}

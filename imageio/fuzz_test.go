@@ -27,6 +27,10 @@ func FuzzDecode(f *testing.F) {
 		}
 		f.Add(b)
 	}
+	// TIFF variants: interleaved and planar RGB, and a BigTIFF header.
+	f.Add(tiffRGB(1))
+	f.Add(tiffRGB(2))
+	f.Add([]byte("II+\x00\x08\x00\x00\x00\x10\x00\x00\x00\x00\x00\x00\x00"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		im, err := Decode(bytes.NewReader(data), LoadOptions{MaxMegapixels: 0.25})
 		if err != nil {
@@ -49,7 +53,10 @@ func FuzzDecode(f *testing.F) {
 				}
 			}
 		}
-		feat, err := MakeFeatures(im, FeatureOptions{Channel: -1, Flatten: 3}, 2)
+		// Flatten at 3 pixels, or the diagonal of a smaller image (the
+		// largest scale MakeFeatures accepts).
+		r := min(3, math.Hypot(float64(im.Width), float64(im.Height)))
+		feat, err := MakeFeatures(im, FeatureOptions{Channel: -1, Flatten: r}, 2)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,0 +1,98 @@
+package imageio
+
+import (
+	"bytes"
+	"encoding/binary"
+	"errors"
+	"strings"
+	"testing"
+)
+
+// tiffRGB builds a 2 x 1 RGB 8-bit uncompressed little-endian TIFF by the
+// TIFF 6.0 specification: the 8-byte header, one image file directory of
+// 10 entries in tag order at offset 8, then BitsPerSample (8, 8, 8), the
+// strip offsets and byte counts, and the samples of the pixels (10, 20,
+// 30) and (40, 50, 60). With planar 1 the samples are interleaved in one
+// strip (10 20 30 40 50 60); with planar 2 each channel is a strip of its
+// own (10 40, 20 50, 30 60), as section 8 describes.
+func tiffRGB(planar uint16) []byte {
+	le := binary.LittleEndian
+	var b bytes.Buffer
+	b.WriteString("II*\x00")
+	binary.Write(&b, le, uint32(8))
+	const ifdEnd = 8 + 2 + 10*12 + 4
+	const bps, offs, counts, data = ifdEnd, ifdEnd + 6, ifdEnd + 18, ifdEnd + 30
+	strips := uint32(1)
+	if planar == 2 {
+		strips = 3
+	}
+	entry := func(tag, typ uint16, count, value uint32) {
+		binary.Write(&b, le, tag)
+		binary.Write(&b, le, typ)
+		binary.Write(&b, le, count)
+		binary.Write(&b, le, value)
+	}
+	binary.Write(&b, le, uint16(10))
+	entry(256, 4, 1, 2)   // ImageWidth
+	entry(257, 4, 1, 1)   // ImageLength
+	entry(258, 3, 3, bps) // BitsPerSample, at bps
+	entry(259, 3, 1, 1)   // Compression: none
+	entry(262, 3, 1, 2)   // PhotometricInterpretation: RGB
+	if strips == 1 {
+		entry(273, 4, 1, data) // StripOffsets
+	} else {
+		entry(273, 4, 3, offs)
+	}
+	entry(277, 3, 1, 3) // SamplesPerPixel
+	entry(278, 4, 1, 1) // RowsPerStrip
+	if strips == 1 {
+		entry(279, 4, 1, 6) // StripByteCounts
+	} else {
+		entry(279, 4, 3, counts)
+	}
+	entry(284, 3, 1, uint32(planar)) // PlanarConfiguration
+	binary.Write(&b, le, uint32(0))  // no next directory
+	binary.Write(&b, le, [3]uint16{8, 8, 8})
+	binary.Write(&b, le, [3]uint32{data, data + 2, data + 4})
+	binary.Write(&b, le, [3]uint32{2, 2, 2})
+	if planar == 2 {
+		b.Write([]byte{10, 40, 20, 50, 30, 60})
+	} else {
+		b.Write([]byte{10, 20, 30, 40, 50, 60})
+	}
+	return b.Bytes()
+}
+
+// The interleaved file reads back its pixels (the builder is a valid
+// TIFF); the planar one is refused as planar and not yet supported, not
+// as truncated or corrupt.
+func TestPlanarTIFFRefused(t *testing.T) {
+	im, err := Decode(bytes.NewReader(tiffRGB(1)), LoadOptions{})
+	if err != nil {
+		t.Fatalf("interleaved TIFF: %v", err)
+	}
+	if im.Channels != 3 || im.Width != 2 || im.Height != 1 {
+		t.Fatalf("interleaved TIFF: %dx%d with %d channels, want 2x1 with 3", im.Width, im.Height, im.Channels)
+	}
+	for c, want := range [3][2]float32{{10, 40}, {20, 50}, {30, 60}} {
+		if got := im.Planes[c]; got[0] != want[0] || got[1] != want[1] {
+			t.Errorf("channel %d: %v, want %v", c, got, want)
+		}
+	}
+	_, err = Decode(bytes.NewReader(tiffRGB(2)), LoadOptions{})
+	if !errors.Is(err, ErrUnsupported) || !strings.Contains(err.Error(), "separate planes") || strings.Contains(err.Error(), "truncated") {
+		t.Errorf("planar TIFF: error %v, want one saying its planes are separate and not supported yet", err)
+	}
+}
+
+// A BigTIFF (version 43, 8-byte offsets: "II" 0x2B 0x00, offset size 8,
+// 0, first directory at 16) is named as a BigTIFF that is not supported
+// yet, in either byte order, not as an unknown format.
+func TestBigTIFFNamed(t *testing.T) {
+	for _, head := range []string{"II+\x00\x08\x00\x00\x00\x10\x00\x00\x00\x00\x00\x00\x00", "MM\x00+\x00\x08\x00\x00\x00\x00\x00\x00\x00\x00\x00\x10"} {
+		_, err := Decode(strings.NewReader(head+strings.Repeat("\x00", 64)), LoadOptions{})
+		if !errors.Is(err, ErrUnsupported) || errors.Is(err, ErrUnknownFormat) || !strings.Contains(err.Error(), "BigTIFF") {
+			t.Errorf("%q: error %v, want one naming BigTIFF as not supported yet", head[:4], err)
+		}
+	}
+}
