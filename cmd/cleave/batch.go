@@ -112,8 +112,8 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 	fs.BoolVarP(&o.recursive, "recursive", "r", false, "descend into subfolders (symbolic links to folders are not followed)")
 	fs.StringArrayVar(&o.include, "include", nil, "only files matching this glob (on the name, or on the relative path if it has a /); repeatable")
 	fs.StringArrayVar(&o.exclude, "exclude", nil, "skip files matching this glob (as --include); repeatable")
-	fs.IntVarP(&o.jobs, "jobs", "j", 0, "images processed at the same time (0 = one per core)")
-	fs.IntVar(&o.workers, "workers", 0, "threads per image (0 = cores divided by --jobs); results do not depend on it")
+	fs.IntVarP(&o.jobs, "jobs", "j", 0, fmt.Sprintf("images processed at the same time (0 = one per core; at most %d)", maxWorkers))
+	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads per image (0 = cores divided by --jobs; at most %d); results do not depend on it", maxWorkers))
 	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list")
 	fs.BoolVar(&o.failFast, "fail-fast", false, "stop at the first image that fails")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress and no summary on stderr (errors are still printed)")
@@ -224,10 +224,10 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 		return nil, usagef("one INPUT_DIR expected, got %d arguments: %s", flags.NArg(), strings.Join(flags.Args(), " "))
 	case o.out == "":
 		return nil, usagef("--out DIR is required: the folder for the outputs")
-	case o.jobs < 0:
-		return nil, usagef("--jobs must be 0 (one per core) or more, got %d", o.jobs)
-	case o.workers < 0:
-		return nil, usagef("--workers must be 0 (automatic) or more, got %d", o.workers)
+	case o.jobs < 0 || o.jobs > maxWorkers:
+		return nil, usagef("--jobs must be 0 (one per core) to %d, got %d", maxWorkers, o.jobs)
+	case o.workers < 0 || o.workers > maxWorkers:
+		return nil, usagef("--workers must be 0 (automatic) to %d, got %d", maxWorkers, o.workers)
 	}
 	p := &batchPlan{opts: *o, settings: *s, inputDir: flags.Arg(0), out: o.out, shardI: 0, shardN: 1}
 	if o.shard != "" {

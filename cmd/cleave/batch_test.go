@@ -6,6 +6,7 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"html"
 	"io/fs"
 	"os"
 	"os/exec"
@@ -177,6 +178,20 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 		t.Skip("end-to-end")
 	}
 	in, good := makeBatchFolder(t, 4, true)
+	// Hostile and awkward names (copies of the first image): a name that
+	// would be a script link, names with : and %, and names a spreadsheet
+	// would take for formulas.
+	first, err := os.ReadFile(filepath.Join(in, good[0]))
+	if err != nil {
+		t.Fatal(err)
+	}
+	hostile := []string{"javascript:(document.title='PWNED').png", "run:7 sample.png", "50% done.png", "=SUM(1+1).png", "-2+3.png", "@cmd.png"}
+	for _, n := range hostile {
+		if err := os.WriteFile(filepath.Join(in, n), first, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	good = append(good, hostile...)
 	out := filepath.Join(t.TempDir(), "out")
 	args := []string{"batch", "-r", "--classes", "2", "--background", "dark", "--superpixels", "150", "--jobs", "2", "--out", out, in}
 	code, stdout, stderr := runCleave(args...)
@@ -186,15 +201,25 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 	if stdout != "" {
 		t.Errorf("stdout %q, want nothing", stdout)
 	}
-	if c, u, f := summaryCounts(t, stderr); c != 4 || u != 0 || f != 3 {
-		t.Errorf("summary %d computed, %d up to date, %d failed; want 4, 0, 3", c, u, f)
+	if c, u, f := summaryCounts(t, stderr); c != 10 || u != 0 || f != 3 {
+		t.Errorf("summary %d computed, %d up to date, %d failed; want 10, 0, 3", c, u, f)
 	}
 	rows := readManifest(t, out)
-	if len(rows) != 7 {
-		t.Errorf("manifest has %d rows, want 7 (notes.txt is not an image)", len(rows))
+	if len(rows) != 13 {
+		t.Errorf("manifest has %d rows, want 13 (notes.txt is not an image)", len(rows))
+	}
+	// A text cell starting with = + - @ is written with a leading quote
+	// (OWASP's advice on CSV injection); the others as they are.
+	for _, n := range []string{"=SUM(1+1).png", "-2+3.png", "@cmd.png"} {
+		if rows["'"+n] == nil || rows[n] != nil {
+			t.Errorf("manifest: the row of %s is not neutralized with a leading quote", n)
+		}
 	}
 	for _, g := range good {
 		r := rows[g]
+		if strings.ContainsAny(g[:1], "=-@") {
+			r = rows["'"+g]
+		}
 		if r == nil || r[1] != "ok" || r[2] == "" || r[2] == "0" || r[5] != "" {
 			t.Errorf("manifest row for %s: %v", g, r)
 		}
@@ -222,8 +247,8 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 	recPath := filepath.Join(out, "img-00.json")
 	before, _ := os.Stat(recPath)
 	code, _, stderr = runCleave(args...)
-	if c, u, f := summaryCounts(t, stderr); code != exitFail || c != 0 || u != 4 || f != 3 {
-		t.Errorf("rerun: exit %d, %d computed, %d up to date, %d failed; want 1, 0, 4, 3", code, c, u, f)
+	if c, u, f := summaryCounts(t, stderr); code != exitFail || c != 0 || u != 10 || f != 3 {
+		t.Errorf("rerun: exit %d, %d computed, %d up to date, %d failed; want 1, 0, 10, 3", code, c, u, f)
 	}
 	if after, _ := os.Stat(recPath); !after.ModTime().Equal(before.ModTime()) {
 		t.Errorf("rerun rewrote %s", recPath)
@@ -235,13 +260,13 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 		t.Fatal(err)
 	}
 	_, _, stderr = runCleave(args...)
-	if c, u, _ := summaryCounts(t, stderr); c != 1 || u != 3 {
-		t.Errorf("after changing one file: %d computed, %d up to date; want 1, 3", c, u)
+	if c, u, _ := summaryCounts(t, stderr); c != 1 || u != 9 {
+		t.Errorf("after changing one file: %d computed, %d up to date; want 1, 9", c, u)
 	}
 	// A changed parameter recomputes everything.
 	_, _, stderr = runCleave(append(args[:len(args)-1], "--min-area", "30", in)...)
-	if c, u, _ := summaryCounts(t, stderr); c != 4 || u != 0 {
-		t.Errorf("after changing --min-area: %d computed, %d up to date; want 4, 0", c, u)
+	if c, u, _ := summaryCounts(t, stderr); c != 10 || u != 0 {
+		t.Errorf("after changing --min-area: %d computed, %d up to date; want 10, 0", c, u)
 	}
 }
 
@@ -288,7 +313,7 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 			t.Errorf("rendered report lacks %q", want)
 		}
 	}
-	if !strings.Contains(dom, `<a href="manifest.csv">manifest.csv</a>`) {
+	if !strings.Contains(dom, `<a href="./manifest.csv">manifest.csv</a>`) {
 		t.Error("rendered report lacks the link to manifest.csv")
 	}
 	for _, f := range failed {
@@ -306,21 +331,49 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 	if i < 0 || j < i {
 		t.Fatalf("probe page did not render: %s", seen)
 	}
-	lines := strings.Split(strings.TrimSpace(seen[i+len(`<pre id="out">`):j]), "\n")
+	var lines []string
+	links := 0
+	for _, l := range strings.Split(strings.TrimSpace(html.UnescapeString(seen[i+len(`<pre id="out">`):j])), "\n") {
+		kind, rest, _ := strings.Cut(l, " ")
+		switch kind {
+		case "IMG":
+			lines = append(lines, rest)
+		case "LINK":
+			// Every link and image source is a relative path written
+			// with "./" and resolves to a file: no scheme (javascript:,
+			// run:, ...) is ever taken from a file name.
+			links++
+			protocol, raw, _ := strings.Cut(rest, " ")
+			if protocol != "file:" || !strings.HasPrefix(raw, "./") {
+				t.Errorf("link %q resolves to protocol %s; want a ./ path to a file", raw, protocol)
+			}
+		default:
+			t.Errorf("probe line %q", l)
+		}
+	}
+	if want := 1 + 3*len(ok) + len(failed); links != want {
+		t.Errorf("%d links and image sources, want %d", links, want)
+	}
 	sort.Strings(lines)
 	var want []string
 	for _, g := range ok {
-		// Overlays are full size (128x128 here) and shown 160 px wide.
-		want = append(want, strings.TrimSuffix(g, ".png")+".overlay.png 128x128 shown 160x160")
+		// Overlays are full size (128x128 here) and shown 160 px wide,
+		// loaded from the file beside the input's record.
+		want = append(want, filepath.Join(abs, strings.TrimSuffix(g, ".png")+".overlay.png")+" 128x128 shown 160x160")
 	}
 	sort.Strings(want)
 	if strings.Join(lines, "\n") != strings.Join(want, "\n") {
 		t.Errorf("thumbnails as the browser shows them:\n%s\nwant:\n%s", strings.Join(lines, "\n"), strings.Join(want, "\n"))
 	}
+	if strings.Contains(dom, "PWNED</title>") {
+		t.Error("a file name changed the report's title")
+	}
 }
 
 // reportProbe renders report.html in a tall iframe (so lazy images load)
-// and lists each contact-sheet image with its decoded and shown size.
+// and lists each contact-sheet image (the file it loaded, its decoded and
+// shown size) and every link or image source (the protocol it resolves
+// to, and the attribute as written).
 const reportProbe = `<!DOCTYPE html><html><body><iframe id="f" src="report.html" style="width:1200px;height:100000px"></iframe><pre id="out">waiting</pre>
 <script>
 const f = document.getElementById('f');
@@ -328,7 +381,11 @@ f.addEventListener('load', () => {
   const check = () => {
     const imgs = Array.from(f.contentDocument.querySelectorAll('#sheet img'));
     if (imgs.some(i => !i.complete)) { setTimeout(check, 100); return; }
-    document.getElementById('out').textContent = imgs.map(i => i.getAttribute('src') + ' ' + i.naturalWidth + 'x' + i.naturalHeight + ' shown ' + i.width + 'x' + i.height).join('\n');
+    const links = Array.from(f.contentDocument.querySelectorAll('[href], [src]')).map(e => {
+      const raw = e.getAttribute('href') ?? e.getAttribute('src');
+      return 'LINK ' + new URL(raw, f.contentDocument.baseURI).protocol + ' ' + raw;
+    });
+    document.getElementById('out').textContent = imgs.map(i => 'IMG ' + decodeURIComponent(new URL(i.src).pathname) + ' ' + i.naturalWidth + 'x' + i.naturalHeight + ' shown ' + i.width + 'x' + i.height).concat(links).join('\n');
   };
   check();
 });

@@ -147,12 +147,13 @@ func writeManifestAndReport(dir string, idx *batchIndex) ([]manifestRow, error) 
 	return rows, nil
 }
 
-// writeManifest writes the CSV (RFC 4180 quoting by encoding/csv).
+// writeManifest writes the CSV (RFC 4180 quoting by encoding/csv; text
+// cells neutralized by csvText).
 func writeManifest(w io.Writer, rows []manifestRow) error {
 	cw := csv.NewWriter(w)
 	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error", "warnings"})
 	for _, r := range rows {
-		rec := []string{r.Input, r.Status, "", "", "", r.Error, strings.Join(r.Warnings, " | ")}
+		rec := []string{csvText(r.Input), r.Status, "", "", "", csvText(r.Error), csvText(strings.Join(r.Warnings, " | "))}
 		if r.Status == rowOK {
 			rec[2], rec[3] = strconv.Itoa(r.Regions), strconv.Itoa(r.Objects)
 		}
@@ -165,21 +166,25 @@ func writeManifest(w io.Writer, rows []manifestRow) error {
 	return cw.Error()
 }
 
-// relURL turns a slash-separated path relative to the report into a URL
-// path with every segment escaped (names may hold spaces, # or ?).
-func relURL(p string) template.URL {
+// relURL turns a slash-separated path relative to the report into a
+// relative URL: "./" and every segment escaped (names may hold spaces, #,
+// ?, % or :). The "./" keeps a first segment such as "javascript:x" from
+// reading as a URL scheme, so every link stays a path next to the report.
+// The result is a plain string, not a trusted template.URL, so
+// html/template still checks and escapes it.
+func relURL(p string) string {
 	parts := strings.Split(p, "/")
 	for k, s := range parts {
 		parts[k] = url.PathEscape(s)
 	}
-	return template.URL(strings.Join(parts, "/"))
+	return "./" + strings.Join(parts, "/")
 }
 
 type reportParam struct{ Name, Value string }
 
 type reportRow struct {
 	manifestRow
-	Overlay, Record template.URL
+	Overlay, Record string
 	SecondsText     string
 	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending"
 	Class           string // row class: ok, warned, failed, pending
@@ -260,7 +265,7 @@ tr.pending td { background: #fff6d6; }
 <h1>cleave batch report</h1>
 <p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}.
 Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
-The same table as CSV: <a href="manifest.csv">manifest.csv</a>.</p>
+The same table as CSV: <a href="./manifest.csv">manifest.csv</a>.</p>
 
 {{if .FailureRows}}<h2>Failures</h2>
 <table id="failures">

@@ -71,7 +71,7 @@ func demoFlags() (*pflag.FlagSet, *demoOptions) {
 	o := &demoOptions{}
 	fs.StringVarP(&o.out, "out", "o", "cleave-demo", "folder for the scenes and every output (must be new or empty, unless --force)")
 	fs.BoolVar(&o.force, "force", false, "overwrite the outputs of an earlier demo in --out")
-	fs.IntVar(&o.workers, "workers", 0, "threads (0 = all cores); results do not depend on it")
+	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads (0 = all cores; at most %d); results do not depend on it", maxWorkers))
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, o
 }
@@ -93,8 +93,8 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave demo: unexpected arguments %q (run 'cleave demo --help')\n", fs.Args())
 		return exitUsage
 	}
-	if o.workers < 0 {
-		fmt.Fprintf(stderr, "cleave demo: --workers must be 0 (all cores) or more, got %d\n", o.workers)
+	if o.workers < 0 || o.workers > maxWorkers {
+		fmt.Fprintf(stderr, "cleave demo: --workers must be 0 (all cores) to %d, got %d\n", maxWorkers, o.workers)
 		return exitUsage
 	}
 	if ents, err := os.ReadDir(o.out); err == nil && len(ents) > 0 && !o.force {

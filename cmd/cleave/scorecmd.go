@@ -133,7 +133,7 @@ Metrics (natural log for VI):
 Flags:
 %s
 Exit status: 0 scored, 1 a file is missing, unreadable, of another size or
-unpaired, 2 wrong usage.
+unpaired, 2 wrong usage (also a --tolerance above an image's diagonal).
 
 %s`, scoreExample, fs.FlagUsagesWrapped(100), caution)
 }
@@ -152,7 +152,7 @@ func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
 	o := &scoreOptions{}
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table (metric names as keys; folders: \"pairs\" and \"mean\")")
 	fs.StringVar(&o.csv, "csv", "", "also write the scores to this CSV file (one row per pair, then the mean)")
-	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for bp, br and bf")
+	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for bp, br and bf (0 to the image diagonal)")
 	fs.BoolVar(&o.force, "force", false, "overwrite an existing --csv file")
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, o
@@ -213,7 +213,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		m, err := scoreFiles(p.image, p.truth, o.tolerance)
 		if err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail
+			return exitCode(err)
 		}
 		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, metrics: m})
 	}
@@ -261,7 +261,21 @@ func scoreFiles(predPath, truthPath string, tol float64) (metrics, error) {
 	if pw != tw || ph != th {
 		return metrics{}, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
 	}
+	if err := checkTolerance(tol, predPath, pw, ph); err != nil {
+		return metrics{}, err
+	}
 	return scoreMaps(pred, truth, pw, ph, tol), nil
+}
+
+// checkTolerance refuses a boundary tolerance above the diagonal of a
+// width x height label map (file path): no two pixels lie farther apart,
+// so a larger tolerance is a mistake, not a stricter or looser score. It
+// is a usage error (exit 2).
+func checkTolerance(tol float64, path string, width, height int) error {
+	if diag := math.Hypot(float64(width), float64(height)); tol > diag {
+		return usagef("--tolerance %g is larger than the diagonal of %s (%dx%d: %.0f pixels); give at most %.0f", tol, path, width, height, diag, math.Floor(diag))
+	}
+	return nil
 }
 
 func fmtMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
@@ -297,7 +311,8 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 	fmt.Fprintf(w, "(boundary tolerance %g px; every metric in --json and --csv)\n", tol)
 }
 
-// writeScoreCSV writes one row per pair and, for folders, a final "mean" row.
+// writeScoreCSV writes one row per pair and, for folders, a final "mean"
+// row; names and paths are neutralized by csvText.
 func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool) error {
 	cw := csv.NewWriter(w)
 	head := append([]string{"name", "pred", "truth"}, metricNames...)
@@ -305,7 +320,7 @@ func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool)
 		return err
 	}
 	rec := func(name, pred, truth string, m metrics) error {
-		r := []string{name, pred, truth}
+		r := []string{csvText(name), csvText(pred), csvText(truth)}
 		for _, v := range m.values() {
 			r = append(r, strconv.FormatFloat(v, 'g', 17, 64))
 		}

@@ -268,3 +268,34 @@ func TestScoreErrors(t *testing.T) {
 		}
 	}
 }
+
+// --tolerance is at most the diagonal of the label maps: 20 x 20 has
+// diagonal 28.3, so 28 is scored (and, as no two pixel centres lie more
+// than 26.9 apart, every boundary pixel is matched: bp = br = bf = 1),
+// while 29 and 1e308 are usage errors naming the file (exit 2).
+func TestScoreToleranceBounds(t *testing.T) {
+	dir := t.TempDir()
+	pred, truth := filepath.Join(dir, "p.png"), filepath.Join(dir, "t.png")
+	rows := make([]string, 20)
+	for y := range rows {
+		rows[y] = strings.Repeat("1", 20)
+	}
+	rows[0] = "2" + rows[0][1:]
+	writeLabelPNG(t, pred, rows...)
+	rows[0] = rows[0][:19] + "3"
+	rows[19] = "4" + rows[19][1:]
+	writeLabelPNG(t, truth, rows...)
+	var m metrics
+	if err := json.Unmarshal([]byte(runOK(t, "score", "--json", "--tolerance", "28", pred, truth)), &m); err != nil {
+		t.Fatal(err)
+	}
+	if m.BP != 1 || m.BR != 1 || m.BF != 1 {
+		t.Errorf("tolerance 28: bp %v br %v bf %v, want 1, 1, 1", m.BP, m.BR, m.BF)
+	}
+	for _, tol := range []string{"29", "1e5", "1e308"} {
+		code, _, stderr := runCleave("score", "--tolerance", tol, pred, truth)
+		if code != exitUsage || !strings.Contains(stderr, "--tolerance") || !strings.Contains(stderr, pred) || !strings.Contains(stderr, "diagonal") {
+			t.Errorf("--tolerance %s: exit %d, stderr %q; want exit 2 naming --tolerance, %s and the diagonal", tol, code, stderr, pred)
+		}
+	}
+}

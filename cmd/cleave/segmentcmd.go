@@ -58,7 +58,7 @@ func segmentFlags() (*pflag.FlagSet, *settings, *commonFlags) {
 	fs.StringVar(&c.params, "params", "", "JSON file of parameters named like the flags (e.g. a tuned best.json); flags given here win")
 	addParamFlags(fs, s)
 	fs.StringVar(&c.saveGraph, "save-graph", "", "write the top-level affinity matrix W to this Matrix Market file (one image only)")
-	fs.IntVar(&c.workers, "workers", 0, "threads per image (0 = all cores); results do not depend on it")
+	fs.IntVar(&c.workers, "workers", 0, fmt.Sprintf("threads per image (0 = all cores; at most %d); results do not depend on it", maxWorkers))
 	fs.BoolVarP(&c.help, "help", "h", false, "show this help")
 	return fs, s, c
 }
@@ -78,8 +78,8 @@ func parseSegment(args []string, stderr io.Writer) (*pflag.FlagSet, *settings, *
 			return nil, nil, nil, &usageError{err}
 		}
 	}
-	if c.workers < 0 {
-		return nil, nil, nil, usagef("--workers must be 0 (all cores) or more, got %d", c.workers)
+	if c.workers < 0 || c.workers > maxWorkers {
+		return nil, nil, nil, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, c.workers)
 	}
 	if c.workers == 0 {
 		c.workers = runtime.NumCPU()

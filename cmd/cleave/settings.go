@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"sort"
@@ -45,6 +46,20 @@ type settings struct {
 	Seed          uint64  `json:"seed"`
 }
 
+// Ranges of the parameters that only the command uses (the libraries
+// state theirs: segment.MaxRadius and the rest, imageio.MaxMaxMegapixels).
+const (
+	// minMaxMemory is the least --max-memory: the limit is a size, and a
+	// value that rounds to nothing would otherwise read as "no limit".
+	minMaxMemory = 1 << 20
+	// minPixelSize and maxPixelSize bound --pixel-size so that areas in
+	// unit^2 stay finite and above zero in float64.
+	minPixelSize, maxPixelSize = 1e-9, 1e9
+	// maxWorkers bounds --workers and --jobs: threads beyond this share
+	// the same cores and only cost memory.
+	maxWorkers = 1024
+)
+
 // Defaults, chosen on the project's generated nuclei and plate scenes (see
 // the README for how they were measured).
 const (
@@ -57,33 +72,33 @@ const (
 
 // addParamFlags registers the parameter flags on fs, bound to s.
 func addParamFlags(fs *pflag.FlagSet, s *settings) {
-	fs.Float64Var(&s.MaxMegapixels, "max-megapixels", 100, "refuse images larger than this many megapixels (read from the header, before decoding)")
+	fs.Float64Var(&s.MaxMegapixels, "max-megapixels", 100, fmt.Sprintf("refuse images larger than this many megapixels (read from the header, before decoding); %g (one pixel) to %d", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels))
 	fs.StringVar(&s.Normalize, "normalize", "percentile", "intensity normalization: percentile (0.1 and 99.9 percentiles to 0 and 1), range (min..max) or bitdepth")
-	fs.Float64Var(&s.Flatten, "flatten", 0, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off)")
+	fs.Float64Var(&s.Flatten, "flatten", 0, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off; at most the image diagonal)")
 	fs.StringVar(&s.FlattenMode, "flatten-mode", "divide", "how --flatten removes the background: divide or subtract")
 	fs.StringVar(&s.Features, "features", "gray", "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
-	fs.IntVar(&s.Channel, "channel", -1, "use only this channel (0-based) of a multi-channel image; -1 = all")
-	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels, 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
+	fs.IntVar(&s.Channel, "channel", -1, "use only this channel (0-based, below the image's channel count) of a multi-channel image; -1 = all")
+	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
-		segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
+		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
 		segment.SuperpixelsPerObject, segment.SuperpixelsPerObject, segment.MaxAutoSuperpixels, segment.MinPixelsPerScaledSuperpixel, segment.MaxScaledSuperpixels, segment.MaxAutoSuperpixels))
-	fs.Float64Var(&s.Compactness, "compactness", defaultCompactness, "SLIC compactness: higher gives rounder superpixels, lower follows edges more closely")
-	fs.IntVar(&s.Radius, "radius", defaultRadius, "pixel graph: join pixels up to this distance (pixels)")
-	fs.StringVar(&s.SigmaI, "sigma-i", "auto", "intensity kernel width in normalized intensity units (0..1), or auto")
-	fs.StringVar(&s.SigmaX, "sigma-x", "auto", "spatial kernel width in pixels, or auto (0.8 x radius; 2 x superpixel spacing)")
+	fs.Float64Var(&s.Compactness, "compactness", defaultCompactness, fmt.Sprintf("SLIC compactness: higher gives rounder superpixels, lower follows edges more closely (above 0, at most %d)", segment.MaxCompactness))
+	fs.IntVar(&s.Radius, "radius", defaultRadius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
+	fs.StringVar(&s.SigmaI, "sigma-i", "auto", fmt.Sprintf("intensity kernel width in normalized intensity units (0..1), %g to %g, or auto", segment.MinSigmaI, segment.MaxSigmaI))
+	fs.StringVar(&s.SigmaX, "sigma-x", "auto", fmt.Sprintf("spatial kernel width in pixels, %g to %g, or auto (0.8 x radius; 2 x superpixel spacing)", segment.MinSigmaX, segment.MaxSigmaX))
 	fs.StringVar(&s.Contour, "contour", "on", "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
 	fs.StringVar(&s.Grain, "grain", "off", "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
 	fs.StringVar(&s.Method, "method", segment.MethodBisect, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
-	fs.IntVar(&s.Segments, "segments", 0, "bisect: stop at this many regions (0 = no limit); kway: K (0 = from the largest eigengap)")
-	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, "kway with --segments 0: the largest K considered")
-	fs.Float64Var(&s.MaxNcut, "max-ncut", defaultMaxNcut, "bisect: accept a split only when its normalized cut is at most this")
-	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, "smallest region or object kept, in pixels; smaller regions merge into a neighbour, smaller objects go to the background")
-	fs.IntVar(&s.Classes, "classes", 0, "group regions into this many intensity classes (>= 2; 0 = off)")
+	fs.IntVar(&s.Segments, "segments", 0, fmt.Sprintf("bisect: stop at this many regions (0 = no limit, at most %d); kway: K (0 = from the largest eigengap; at most %d and the nodes of the graph)", segment.MaxBisectSegments, segment.MaxKwaySegments))
+	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, fmt.Sprintf("kway with --segments 0: the largest K considered (2 to %d)", segment.MaxKwaySegments))
+	fs.Float64Var(&s.MaxNcut, "max-ncut", defaultMaxNcut, fmt.Sprintf("bisect: accept a split only when its normalized cut is at most this (above 0, at most %d: no cut exceeds it)", segment.MaxNcutLimit))
+	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
+	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
-	fs.Float64Var(&s.PixelSize, "pixel-size", 0, "size of one pixel in --unit, for physical areas and diameters in the region table (0 = off)")
-	fs.StringVar(&s.Unit, "unit", "um", "unit of --pixel-size, used in column names")
-	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB)")
-	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut")
+	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (0 = off, else %g to %g)", minPixelSize, maxPixelSize))
+	fs.StringVar(&s.Unit, "unit", "um", fmt.Sprintf("unit of --pixel-size, used in column names: up to %d letters, digits, µ, /, ^ or _", maxUnitLen))
+	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB; at least 1MiB)")
+	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
 // paramNames lists the keys a --params file may hold (the json tags of
@@ -113,14 +128,9 @@ func applyParamsFile(fs *pflag.FlagSet, path string) error {
 }
 
 func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.UseNumber()
-	var m map[string]any
-	if err := dec.Decode(&m); err != nil {
-		return fmt.Errorf("params file %s: not a JSON object of parameters: %v", path, err)
-	}
-	if dec.More() {
-		return fmt.Errorf("params file %s: unexpected data after the JSON object", path)
+	m, err := paramsObject(path, data)
+	if err != nil {
+		return err
 	}
 	names := paramNames()
 	known := map[string]bool{}
@@ -165,6 +175,56 @@ func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
 	return nil
 }
 
+// utf8BOM is the UTF-8 encoding of U+FEFF, which some editors write at the
+// start of a text file.
+const utf8BOM = "\xef\xbb\xbf"
+
+// paramsObject reads the JSON object of a params file: a leading UTF-8
+// byte-order mark is skipped, a key given twice is an error naming the
+// key (a JSON decoder would silently keep the last), and nothing may
+// follow the object.
+func paramsObject(path string, data []byte) (map[string]any, error) {
+	data = bytes.TrimPrefix(data, []byte(utf8BOM))
+	dec := json.NewDecoder(bytes.NewReader(data))
+	dec.UseNumber()
+	notObject := func(err error) error {
+		return fmt.Errorf("params file %s: not a JSON object of parameters: %v", path, err)
+	}
+	tok, err := dec.Token()
+	if err != nil {
+		return nil, notObject(err)
+	}
+	if d, ok := tok.(json.Delim); !ok || d != '{' {
+		return nil, notObject(fmt.Errorf("it starts with %v", tok))
+	}
+	m := map[string]any{}
+	for dec.More() {
+		tok, err := dec.Token()
+		if err != nil {
+			return nil, notObject(err)
+		}
+		k, ok := tok.(string)
+		if !ok {
+			return nil, notObject(fmt.Errorf("key %v is not a string", tok))
+		}
+		if _, dup := m[k]; dup {
+			return nil, fmt.Errorf("params file %s: parameter %q is given twice", path, k)
+		}
+		var v any
+		if err := dec.Decode(&v); err != nil {
+			return nil, notObject(err)
+		}
+		m[k] = v
+	}
+	if _, err := dec.Token(); err != nil { // the closing brace
+		return nil, notObject(err)
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		return nil, fmt.Errorf("params file %s: unexpected data after the JSON object", path)
+	}
+	return m, nil
+}
+
 // numericString reports whether a string-typed flag also takes a number
 // ("auto" or a value).
 func numericString(name string) bool {
@@ -206,6 +266,9 @@ func parseBytes(name, v string) (int64, error) {
 	if err != nil || !(x > 0) || math.IsInf(x, 0) || x*mult > math.MaxInt64/2 {
 		return 0, usagef("--%s must be a positive size such as 512MiB or 8GiB, got %q", name, v)
 	}
+	if x*mult < 1 {
+		return 0, usagef("--%s %q is less than one byte", name, v)
+	}
 	return int64(x * mult), nil
 }
 
@@ -220,8 +283,14 @@ type resolved struct {
 // error naming the flag.
 func (s settings) resolve(workers int) (*resolved, error) {
 	r := &resolved{}
-	if !(s.MaxMegapixels > 0) || math.IsInf(s.MaxMegapixels, 0) {
-		return nil, usagef("--max-megapixels must be a positive number, got %v", s.MaxMegapixels)
+	if !(s.MaxMegapixels >= imageio.MinMaxMegapixels && s.MaxMegapixels <= imageio.MaxMaxMegapixels) {
+		return nil, usagef("--max-megapixels must be %g (one pixel) to %d, got %v", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels, s.MaxMegapixels)
+	}
+	// No image within --max-megapixels has a diagonal above its pixel
+	// count (a 1 x N image comes closest); the diagonal of each image is
+	// checked once it is known (imageio.MakeFeatures).
+	if maxDiag := s.MaxMegapixels * 1e6; s.Flatten > maxDiag {
+		return nil, usagef("--flatten %g is larger than the diagonal of any image within --max-megapixels %g (at most %g pixels)", s.Flatten, s.MaxMegapixels, maxDiag)
 	}
 	r.load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
 	r.features = imageio.FeatureOptions{Space: s.Features, Channel: s.Channel, Normalize: s.Normalize, Flatten: s.Flatten, FlattenMode: s.FlattenMode}
@@ -269,14 +338,19 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	if p.MaxMemory, err = parseBytes("max-memory", s.MaxMemory); err != nil {
 		return nil, err
 	}
+	if p.MaxMemory < minMaxMemory {
+		return nil, usagef("--max-memory must be at least 1MiB, got %q", s.MaxMemory)
+	}
 	if err := p.Validate(); err != nil {
 		return nil, &usageError{err}
 	}
-	if s.PixelSize < 0 || math.IsNaN(s.PixelSize) || math.IsInf(s.PixelSize, 0) {
-		return nil, usagef("--pixel-size must be 0 (off) or a positive number, got %v", s.PixelSize)
+	if !(s.PixelSize == 0 || s.PixelSize >= minPixelSize && s.PixelSize <= maxPixelSize) {
+		return nil, usagef("--pixel-size must be 0 (off) or %g to %g, got %v", minPixelSize, maxPixelSize, s.PixelSize)
 	}
-	if s.PixelSize > 0 && strings.TrimSpace(s.Unit) == "" {
-		return nil, usagef("--unit must name the unit of --pixel-size")
+	if s.Unit != "" || s.PixelSize > 0 {
+		if err := checkUnit(s.Unit); err != nil {
+			return nil, err
+		}
 	}
 	r.params = p
 	return r, nil

@@ -48,6 +48,16 @@ func TestParamsFile(t *testing.T) {
 		{name: "not an object", json: `[1, 2]`, wantErr: "not a JSON object"},
 		{name: "trailing", json: `{"radius": 5} {}`, wantErr: "unexpected data"},
 		{name: "out is not a parameter", json: `{"out": "x"}`, wantErr: `unknown parameter "out"`},
+		{name: "duplicate key", json: `{"radius": 3, "sigma-i": 0.1, "radius": 7}`, wantErr: `parameter "radius" is given twice`},
+		{name: "byte-order mark", json: "\ufeff{\"radius\": 4, \"classes\": 3}",
+			check: func(t *testing.T, s *settings) {
+				if s.Radius != 4 || s.Classes != 3 {
+					t.Errorf("radius %d classes %d, want 4 and 3", s.Radius, s.Classes)
+				}
+			}},
+		{name: "mark inside", json: "{\"radius\": 4}\ufeff", wantErr: "unexpected data"},
+		{name: "null", json: `null`, wantErr: "not a JSON object"},
+		{name: "unterminated", json: `{"radius": 4`, wantErr: "not a JSON object"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -88,6 +98,37 @@ func TestResolveErrors(t *testing.T) {
 		{[]string{"--classes", "1"}, "classes"},
 		{[]string{"--pixel-size", "-1"}, "pixel-size"},
 		{[]string{"--grain", "yes"}, "grain"},
+		// Ranges (see segment.MaxRadius and the rest).
+		{[]string{"--sigma-i", "1e-300"}, "--sigma-i"},
+		{[]string{"--sigma-i", "1e308"}, "--sigma-i"},
+		{[]string{"--sigma-x", "1e9"}, "--sigma-x"},
+		{[]string{"--radius", "65"}, "--radius"},
+		{[]string{"--radius", "2147483647"}, "--radius"},
+		{[]string{"--superpixels", "1000001"}, "--superpixels"},
+		{[]string{"--compactness", "1e5"}, "--compactness"},
+		{[]string{"--max-ncut", "2.5"}, "--max-ncut"},
+		{[]string{"--classes", "65"}, "--classes"},
+		{[]string{"--classes", "2147483648"}, "--classes"},
+		{[]string{"--method", "kway", "--segments", "65"}, "--segments"},
+		{[]string{"--method", "kway", "--segments", "200"}, "--segments"},
+		{[]string{"--segments", "1000001"}, "--segments"},
+		{[]string{"--segments", "-1"}, "--segments"},
+		{[]string{"--method", "kway", "--max-segments", "100"}, "--max-segments"},
+		{[]string{"--max-segments", "-2"}, "--max-segments"},
+		{[]string{"--min-area", "3000000000"}, "--min-area"},
+		{[]string{"--min-area", "-1"}, "--min-area"},
+		{[]string{"--max-megapixels", "0"}, "--max-megapixels"},
+		{[]string{"--max-megapixels", "1e-7"}, "--max-megapixels"},
+		{[]string{"--max-megapixels", "2001"}, "--max-megapixels"},
+		{[]string{"--flatten", "1e308"}, "--flatten"},
+		{[]string{"--flatten", "1e9"}, "--flatten"},
+		{[]string{"--flatten", "-1"}, "flatten"},
+		{[]string{"--flatten", "NaN"}, "flatten"},
+		{[]string{"--max-memory", "0.5"}, "--max-memory"},
+		{[]string{"--max-memory", "1000"}, "--max-memory"},
+		{[]string{"--pixel-size", "1e-12"}, "--pixel-size"},
+		{[]string{"--pixel-size", "1e300"}, "--pixel-size"},
+		{[]string{"--workers", "100000"}, "--workers"},
 	} {
 		_, s, c2, err := parseSegment(append(c.args, "x.png"), nil)
 		if err == nil {
@@ -106,7 +147,7 @@ func TestParseBytes(t *testing.T) {
 			t.Errorf("%q: %d, %v; want %d", in, got, err, want)
 		}
 	}
-	for _, in := range []string{"", "0", "-1GiB", "GiB", "1e30GB"} {
+	for _, in := range []string{"", "0", "-1GiB", "GiB", "1e30GB", "0.5", "0.4B", "1e-20KiB"} {
 		if _, err := parseBytes("max-memory", in); err == nil {
 			t.Errorf("%q accepted", in)
 		}
@@ -150,17 +191,39 @@ func TestHelpHasExampleAndCaution(t *testing.T) {
 }
 
 // FuzzParamsFile: any bytes as a params file give a result or an error,
-// never a panic.
+// never a panic, from parsing through segmenting an image.
 func FuzzParamsFile(f *testing.F) {
-	for _, s := range []string{`{"radius": 5}`, `{"sigma-i": "auto", "superpixels": 0}`, `{"seed": 18446744073709551615}`, `{"max-ncut": 1e400}`, `{}`, `null`, `{"classes": -1}`} {
+	for _, s := range []string{`{"radius": 5}`, `{"sigma-i": "auto", "superpixels": 0}`, `{"seed": 18446744073709551615}`, `{"max-ncut": 1e400}`, `{}`, `null`, `{"classes": -1}`,
+		// The values that once panicked or ran without bound.
+		`{"flatten": 1e308}`, `{"flatten": 1e9}`, `{"classes": 2147483648}`, `{"method": "kway", "segments": 200}`, `{"max-memory": "0.5"}`,
+		`{"radius": 9223372036854775807}`, `{"superpixels": "1e300"}`, `{"sigma-i": 1e-320, "sigma-x": "1e308"}`, `{"min-area": 1e18}`,
+		`{"max-megapixels": 1e308}`, `{"pixel-size": 1e-320}`, `{"max-segments": 100000, "method": "kway"}`, `{"compactness": 1e300}`,
+		`{"unit": "=1+1", "pixel-size": 1}`, `{"channel": 9223372036854775807}`, "\ufeff{\"radius\": 3}", `{"radius": 3, "radius": 4}`} {
 		f.Add([]byte(s))
 	}
+	// Every accepted setting segments a small image (24 x 20, a ramp
+	// with a bright disc) without a panic, and its refusals are errors:
+	// the ranges hold for whatever value passes resolve.
+	dir := f.TempDir()
+	img := filepath.Join(dir, "fuzz.png")
+	writeTestPNG(f, img, 24, 20)
 	f.Fuzz(func(t *testing.T, data []byte) {
 		fs, s, c := segmentFlags()
 		if err := applyParams(fs, "fuzz.json", data); err != nil {
 			return
 		}
-		_, _ = s.resolve(c.workers)
+		r, err := s.resolve(min(c.workers, 2))
+		if err != nil {
+			return
+		}
+		// Keep each run small: the fuzzed values, not the image, are
+		// under test.
+		r.params.MaxMemory = min(r.params.MaxMemory, 64<<20)
+		in, err := loadInput(img, r)
+		if err != nil {
+			return
+		}
+		_, _ = segmentInput(context.Background(), in, r.params)
 	})
 }
 
@@ -241,7 +304,7 @@ func TestBadImages(t *testing.T) {
 	}
 }
 
-func writeTestPNG(t *testing.T, path string, w, h int) {
+func writeTestPNG(t testing.TB, path string, w, h int) {
 	t.Helper()
 	img := image.NewGray16(image.Rect(0, 0, w, h))
 	for y := 0; y < h; y++ {

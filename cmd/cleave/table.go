@@ -1,11 +1,13 @@
 package main
 
 import (
-	"bufio"
-	"fmt"
+	"encoding/csv"
 	"io"
 	"math"
 	"strconv"
+	"strings"
+	"unicode"
+	"unicode/utf8"
 )
 
 // regionRow holds the measurements of one label.
@@ -71,29 +73,67 @@ func measureRegions(labels []int32, raw []float32, w, h int) []*regionRow {
 	return out
 }
 
-// writeRegionTable writes the region table as CSV, one row per label in
-// ascending order. With pixelSize > 0, area and diameter are also given in
-// unit² and unit.
+// writeRegionTable writes the region table as CSV (encoding/csv), one row
+// per label in ascending order. With pixelSize > 0, area and diameter are
+// also given in unit² and unit; unit has passed checkUnit, so the header
+// needs no quoting and starts no formula. Every other cell is a number.
 func writeRegionTable(w io.Writer, rows []*regionRow, pixelSize float64, unit string) error {
-	bw := bufio.NewWriter(w)
-	fmt.Fprint(bw, "label,area_px,centroid_x,centroid_y,bbox_x0,bbox_y0,bbox_x1,bbox_y1,mean,std,min,max,perimeter_px,equiv_diameter_px")
+	cw := csv.NewWriter(w)
+	head := []string{"label", "area_px", "centroid_x", "centroid_y", "bbox_x0", "bbox_y0", "bbox_x1", "bbox_y1", "mean", "std", "min", "max", "perimeter_px", "equiv_diameter_px"}
 	if pixelSize > 0 {
-		fmt.Fprintf(bw, ",area_%s2,equiv_diameter_%s", unit, unit)
+		head = append(head, "area_"+unit+"2", "equiv_diameter_"+unit)
 	}
-	fmt.Fprintln(bw)
+	if err := cw.Write(head); err != nil {
+		return err
+	}
 	f := func(v float64, prec int) string { return strconv.FormatFloat(v, 'f', prec, 64) }
+	d := strconv.Itoa
 	for _, r := range rows {
 		a := float64(r.area)
 		mean := r.sum / a
 		variance := math.Max(r.sumSq/a-mean*mean, 0)
 		diam := math.Sqrt(4 * a / math.Pi)
-		fmt.Fprintf(bw, "%d,%d,%s,%s,%d,%d,%d,%d,%s,%s,%s,%s,%d,%s",
-			r.label, r.area, f(r.sumX/a, 2), f(r.sumY/a, 2), r.x0, r.y0, r.x1, r.y1,
-			f(mean, 3), f(math.Sqrt(variance), 3), f(r.minV, 3), f(r.maxV, 3), r.perimeter, f(diam, 3))
+		rec := []string{d(int(r.label)), d(r.area), f(r.sumX/a, 2), f(r.sumY/a, 2), d(r.x0), d(r.y0), d(r.x1), d(r.y1),
+			f(mean, 3), f(math.Sqrt(variance), 3), f(r.minV, 3), f(r.maxV, 3), d(r.perimeter), f(diam, 3)}
 		if pixelSize > 0 {
-			fmt.Fprintf(bw, ",%s,%s", strconv.FormatFloat(a*pixelSize*pixelSize, 'g', 6, 64), strconv.FormatFloat(diam*pixelSize, 'g', 6, 64))
+			rec = append(rec, strconv.FormatFloat(a*pixelSize*pixelSize, 'g', 6, 64), strconv.FormatFloat(diam*pixelSize, 'g', 6, 64))
 		}
-		fmt.Fprintln(bw)
+		if err := cw.Write(rec); err != nil {
+			return err
+		}
 	}
-	return bw.Flush()
+	cw.Flush()
+	return cw.Error()
+}
+
+// maxUnitLen is the longest --unit, in characters.
+const maxUnitLen = 16
+
+// checkUnit accepts a short unit name for the region table's column
+// names: 1 to maxUnitLen letters (µ included), digits, '/', '^' or '_'.
+// No such name needs CSV quoting or can start a spreadsheet formula.
+func checkUnit(unit string) error {
+	n := 0
+	for _, r := range unit {
+		n++
+		if !unicode.IsLetter(r) && !unicode.IsDigit(r) && !strings.ContainsRune("µ/^_", r) {
+			return usagef("--unit must be a short unit name (letters, digits, µ, /, ^ or _), got %q", unit)
+		}
+	}
+	if n == 0 || n > maxUnitLen || !utf8.ValidString(unit) {
+		return usagef("--unit must be a unit name of 1 to %d characters, got %q", maxUnitLen, unit)
+	}
+	return nil
+}
+
+// csvText neutralizes a text cell of a CSV table (a file name, a path, an
+// error message) that a spreadsheet would read as a formula: a cell
+// starting with =, +, -, @, a tab or a carriage return gets a leading
+// single quote, as the OWASP guidance on CSV injection recommends. Number
+// cells are never passed through it, so -1.5 stays a number.
+func csvText(s string) string {
+	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
+		return "'" + s
+	}
+	return s
 }

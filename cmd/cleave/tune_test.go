@@ -244,7 +244,11 @@ func TestParseSpec(t *testing.T) {
 		{"0.15", false, []float64{0.15}, false},
 		{"auto", false, nil, true},
 	} {
-		d, err := parseSpec("x", c.spec, c.integer, true, false)
+		name := "sigma-x"
+		if c.integer {
+			name = "radius"
+		}
+		d, err := parseSpec(name, c.spec, c.integer, true, false)
 		if err != nil {
 			t.Errorf("%s: %v", c.spec, err)
 			continue
@@ -259,9 +263,15 @@ func TestParseSpec(t *testing.T) {
 			}
 		}
 	}
-	for _, bad := range []string{"1:2", "0:1:3", "-1", "a,b", "1:2:0", "1:2:x", "2.5"} {
+	for _, bad := range []string{"1:2", "0:1:3", "-1", "a,b", "1:2:0", "1:2:x", "2.5", "65", "3,5,100", "1:1e9:3"} {
 		if _, err := parseSpec("radius", bad, true, false, false); err == nil || !strings.Contains(err.Error(), "--radius") {
 			t.Errorf("%q: error %v", bad, err)
+		}
+	}
+	// Values outside a parameter's range (segment's ranges) are refused.
+	for _, c := range [][2]string{{"sigma-i", "1e-9"}, {"sigma-i", "0.1,200"}, {"sigma-x", "1:1e7:3"}, {"max-ncut", "0.1,3"}, {"compactness", "20,1e5"}, {"superpixels", "2000000"}} {
+		if _, err := parseSpec(c[0], c[1], c[0] == "superpixels", true, c[0] == "superpixels"); err == nil || !strings.Contains(err.Error(), "outside the range") {
+			t.Errorf("--%s %s: error %v, want one about the range", c[0], c[1], err)
 		}
 	}
 }
@@ -356,6 +366,11 @@ func TestTuneErrors(t *testing.T) {
 		{"size", []string{"tune", "--images", mism, "--truth", mism, "--out", out}, exitFail, "a_mask.png is 30x40"},
 		{"exists", []string{"tune", "--images", dir, "--truth", dir, "--out", done}, exitFail, "already exists"},
 		{"missing_folder", []string{"tune", "--images", filepath.Join(dir, "nope"), "--truth", dir, "--out", out}, exitFail, "nope"},
+		{"budget", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--budget", "1001"}, exitUsage, "--budget must be 0 to 1000"},
+		{"folds", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--folds", "1000000"}, exitUsage, "--folds must be 0 to 100"},
+		{"workers", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--workers", "1000000"}, exitUsage, "--workers must be 0"},
+		{"tolerance", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--tolerance", "1e5"}, exitUsage, "--tolerance 100000 is larger than the diagonal of " + filepath.Join(dir, "nuclei-7200.truth.png")},
+		{"classes", []string{"tune", "--images", dir, "--truth", dir, "--out", out, "--classes", "2147483648"}, exitUsage, "--classes"},
 	} {
 		var stdout, stderr bytes.Buffer
 		code := run(context.Background(), c.args, &stdout, &stderr)

@@ -92,6 +92,14 @@ Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
 %s`, maxWidenings, tieRelative, 100*(costMargin-1), maxTimed-1, tuneExample, fs.FlagUsagesWrapped(100), caution)
 }
 
+// Ranges of tune's own counts: each refinement evaluates at most
+// maxBudget new settings (every one a segmentation of every image), and
+// cross-validation runs the whole search once per fold.
+const (
+	maxBudget = 1000
+	maxFolds  = 100
+)
+
 // tuneOptions are tune's own flags.
 type tuneOptions struct {
 	images, truth, out string
@@ -125,9 +133,9 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
 	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(tuneMetrics, ", ")+" (vi is minimized); default f1 with --background, else ari")
 	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
-	fs.IntVar(&o.budget, "budget", 8, "most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only)")
-	fs.IntVar(&o.folds, "folds", 3, "K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off)")
-	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf")
+	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
+	fs.IntVar(&o.folds, "folds", 3, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
+	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf (0 to the image diagonal)")
 	for d := 0; d < numDims; d++ {
 		fs.StringVar(&o.space[d], dimNames[d], "", searchFlagHelp[d])
 	}
@@ -143,7 +151,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 		}
 		fs.AddFlag(f)
 	})
-	fs.IntVar(&o.workers, "workers", 0, "segmentations run at once (0 = all cores); results do not depend on it")
+	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("segmentations run at once (0 = all cores; at most %d); results do not depend on it", maxWorkers))
 	fs.BoolVar(&o.force, "force", false, "overwrite existing outputs in --out")
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, s, o
@@ -261,12 +269,12 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		return exitUsage, usagef("--out is required")
 	case o.tieBreak != "faster" && o.tieBreak != "smoother":
 		return exitUsage, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
-	case o.budget < 0:
-		return exitUsage, usagef("--budget must be 0 or more, got %d", o.budget)
-	case o.folds < 0:
-		return exitUsage, usagef("--folds must be 0 or more, got %d", o.folds)
-	case o.workers < 0:
-		return exitUsage, usagef("--workers must be 0 (all cores) or more, got %d", o.workers)
+	case o.budget < 0 || o.budget > maxBudget:
+		return exitUsage, usagef("--budget must be 0 to %d, got %d", maxBudget, o.budget)
+	case o.folds < 0 || o.folds > maxFolds:
+		return exitUsage, usagef("--folds must be 0 to %d, got %d", maxFolds, o.folds)
+	case o.workers < 0 || o.workers > maxWorkers:
+		return exitUsage, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, o.workers)
 	case o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0):
 		return exitUsage, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
 	}
@@ -328,6 +336,9 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		}
 		if w != in.features.Width || h != in.features.Height {
 			return exitFail, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
+		}
+		if err := checkTolerance(o.tolerance, p.truth, w, h); err != nil {
+			return exitUsage, err
 		}
 		t.images, t.truths, t.names = append(t.images, in), append(t.truths, truth), append(t.names, p.name)
 	}
@@ -636,7 +647,7 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 			if e.errs[j] != "" {
 				row = append(row, "")
 				if errText == "" {
-					errText = t.names[j] + ": " + e.errs[j]
+					errText = csvText(t.names[j] + ": " + e.errs[j])
 				}
 			} else {
 				row = append(row, strconv.FormatFloat(e.perImage[j].get(t.metric), 'g', 10, 64))
@@ -674,11 +685,11 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 func baselineText(s settings, d int) string {
 	switch d {
 	case dimSigmaI:
-		return s.SigmaI
+		return strings.TrimSpace(s.SigmaI)
 	case dimSigmaX:
-		return s.SigmaX
+		return strings.TrimSpace(s.SigmaX)
 	case dimSuperpixels:
-		return s.Superpixels
+		return strings.TrimSpace(s.Superpixels)
 	case dimMaxNcut:
 		return fmtValue(s.MaxNcut)
 	case dimRadius:

@@ -29,6 +29,28 @@ const (
 
 var dimNames = [numDims]string{"sigma-i", "sigma-x", "max-ncut", "radius", "superpixels", "compactness"}
 
+// searchBounds is the range a searched parameter's values must keep (the
+// ranges of segment.Params.Validate; the lower end of max-ncut is
+// exclusive, checked as "positive"). Parsing, refinement and widening all
+// stay within it, so no setting of the search is refused.
+func searchBounds(name string) (lo, hi float64) {
+	switch name {
+	case "sigma-i":
+		return segment.MinSigmaI, segment.MaxSigmaI
+	case "sigma-x":
+		return segment.MinSigmaX, segment.MaxSigmaX
+	case "max-ncut":
+		return 0, segment.MaxNcutLimit
+	case "radius":
+		return 1, segment.MaxRadius
+	case "superpixels":
+		return 0, segment.MaxSuperpixels
+	case "compactness":
+		return 0, segment.MaxCompactness
+	}
+	panic("cleave: no bounds for " + name)
+}
+
 // dim is one searched parameter: its grid values (ascending), or "auto".
 type dim struct {
 	name    string
@@ -81,8 +103,9 @@ func parseSpec(name, text string, integer, allowAuto, allowZero bool) (dim, erro
 			return 0, usagef("--%s: %q is not a whole number", name, s)
 		case v < 0 || (v == 0 && !allowZero):
 			return 0, usagef("--%s: %q must be positive", name, s)
-		case v > 1e9:
-			return 0, usagef("--%s: %q is too large", name, s)
+		}
+		if lo, hi := searchBounds(name); v < lo || v > hi {
+			return 0, usagef("--%s: %q is outside the range %g to %g", name, s, lo, hi)
 		}
 		return v, nil
 	}
@@ -137,13 +160,19 @@ func parseSpec(name, text string, integer, allowAuto, allowZero bool) (dim, erro
 }
 
 // defaultDim is the search of a parameter whose flag was not given.
+// Values outside the parameter's range (an automatic value times the
+// default spread can leave it) are clamped to its ends.
 func defaultDim(name string, values []float64, integer bool) dim {
-	parts := make([]string, len(values))
+	lo, hi := searchBounds(name)
 	for i, v := range values {
 		if !integer {
 			v = sig4(v)
-			values[i] = v
 		}
+		values[i] = min(max(v, lo), hi)
+	}
+	values = slices.Compact(values)
+	parts := make([]string, len(values))
+	for i, v := range values {
 		parts[i] = fmtValue(v)
 	}
 	return dim{name: name, values: values, integer: integer, spec: strings.Join(parts, ",") + " (default)"}
@@ -503,7 +532,8 @@ func gridPoints(dims *[numDims]dim) []point {
 // improves the score, else the steps halve. (A parameter flat across the
 // grid is still refined: on the plates, sigma-x scored the same at all
 // three grid values and better between them.) Steps start at half the grid spacing and
-// values stay within the grid range widened by one grid step. At most
+// values stay within the grid range widened by one grid step, and within
+// the parameter's range (searchBounds). At most
 // budget new settings are evaluated. It returns the best and every
 // setting it looked at.
 func (t *tuner) refine(start *evaluation, space *[numDims]dim, imgs []int, budget int) (*evaluation, []*evaluation, error) {
@@ -514,8 +544,9 @@ func (t *tuner) refine(start *evaluation, space *[numDims]dim, imgs []int, budge
 			dims = append(dims, d)
 			g := space[d].logStep()
 			step[d] = g / 2
-			lo[d] = math.Log(space[d].values[0]) - g
-			hi[d] = math.Log(space[d].values[len(space[d].values)-1]) + g
+			blo, bhi := searchBounds(space[d].name)
+			lo[d] = max(math.Log(space[d].values[0])-g, math.Log(blo))
+			hi[d] = min(math.Log(space[d].values[len(space[d].values)-1])+g, math.Log(bhi))
 		}
 	}
 	var visited []*evaluation
@@ -679,8 +710,9 @@ func (t *tuner) search(imgs []int, budget int, say func(string)) (*searchResult,
 			default:
 				continue
 			}
-			// A normalized cut never exceeds 2: no threshold above it.
-			if w.Added == w.Edge || (d == dimMaxNcut && w.Added > 2) {
+			// Never past the parameter's range (a normalized cut never
+			// exceeds 2: no max-ncut above it).
+			if blo, bhi := searchBounds(dm.name); w.Added == w.Edge || w.Added < blo || w.Added > bhi {
 				continue
 			}
 			vals := append(slices.Clone(dm.values), w.Added)
