@@ -304,7 +304,7 @@ type Input struct {
 // max-ncut; and one recursive bisection between runs that differ only
 // in max-ncut, since the split tree grown at the largest threshold serves
 // every smaller one exactly (see cutTree), so each part's eigenproblem is
-// solved once. Bisections are shared for --method bisect without a
+// solved once. Bisections are shared for the bisect method without a
 // segment limit. The object scale behind an automatic superpixel count
 // is estimated once. Results are those of runs without a cache. Safe for
 // concurrent use.
