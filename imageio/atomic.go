@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"sync"
 )
 
 // ErrExists is returned (wrapped with the path) when an output file exists
@@ -36,6 +37,8 @@ func WriteAtomic(path string, force bool, write func(io.Writer) error) (err erro
 		return fmt.Errorf("%s: cannot create a file in %s: %w", path, dir, err)
 	}
 	tmpName := tmp.Name()
+	pending.add(tmpName)
+	defer pending.remove(tmpName)
 	done := false
 	defer func() {
 		if !done {
@@ -82,4 +85,43 @@ func WriteAtomic(path string, force bool, write func(io.Writer) error) (err erro
 		d.Close()
 	}
 	return nil
+}
+
+// pendingSet holds the temporary files of the writes under way.
+type pendingSet struct {
+	mu     sync.Mutex
+	names  map[string]bool
+	closed bool // RemovePendingWrites ran: the process is exiting
+}
+
+var pending = &pendingSet{names: map[string]bool{}}
+
+func (p *pendingSet) add(name string) {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.closed {
+		os.Remove(name)
+		return
+	}
+	p.names[name] = true
+}
+
+func (p *pendingSet) remove(name string) {
+	p.mu.Lock()
+	delete(p.names, name)
+	p.mu.Unlock()
+}
+
+// RemovePendingWrites removes the temporary files of every WriteAtomic
+// still under way, for a process about to exit without waiting for them
+// (a second interrupt): the files they were to replace keep their old
+// content, and no temporary file is left behind. Writes that go on
+// afterwards fail at their rename, and so do writes started later.
+func RemovePendingWrites() {
+	pending.mu.Lock()
+	defer pending.mu.Unlock()
+	pending.closed = true
+	for name := range pending.names {
+		os.Remove(name)
+	}
 }

@@ -8,9 +8,7 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
 	"runtime/debug"
-	"syscall"
 
 	"github.com/spf13/pflag"
 )
@@ -35,10 +33,9 @@ func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(forma
 
 func main() {
 	adviseHugePages()
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
-	stop()
-	os.Exit(code)
+	os.Exit(runWithSignals(func(ctx context.Context) int {
+		return run(ctx, os.Args[1:], os.Stdout, os.Stderr)
+	}, os.Stderr, os.Exit))
 }
 
 // parseCommand parses the flags of the named command. It prints a usage
