@@ -11,7 +11,6 @@ import (
 	"image/jpeg"
 	"image/png"
 	"io"
-	"os"
 	"strings"
 
 	"golang.org/x/image/bmp"
@@ -53,18 +52,15 @@ var ErrUnsupported = errors.New("not supported yet")
 // megapixel limit.
 var ErrTooLarge = errors.New("image too large")
 
-// Load reads and decodes the image file at path; see Decode. Every error
-// names the file.
+// Load reads and decodes the image file at path; see Open and Decode.
+// Every error names the file.
 func Load(path string, opt LoadOptions) (*Image, error) {
-	data, err := os.ReadFile(path)
+	src, err := Open(path, opt)
 	if err != nil {
-		return nil, err // *fs.PathError names the file
+		return nil, err
 	}
-	im, err := decodeBytes(data, opt)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	return im, nil
+	defer src.Close()
+	return src.Decode()
 }
 
 // Decode reads a PNG, TIFF (first page), JPEG, BMP, GIF (first frame) or
@@ -170,57 +166,11 @@ func guarded[T any](fn func() (T, error)) (v T, err error) {
 }
 
 func decodeBytes(data []byte, opt LoadOptions) (*Image, error) {
-	limit, err := megapixelLimit(opt)
+	src, err := bytesSource(data, opt)
 	if err != nil {
 		return nil, err
 	}
-	if len(data) == 0 {
-		return nil, errors.New("empty file")
-	}
-	f, ok := sniff(data)
-	if !ok {
-		if isBigTIFF(data) {
-			return nil, fmt.Errorf("BigTIFF file (TIFF with 64-bit offsets): %w; save the image as a classic TIFF (under 4 GB) or a PNG", ErrUnsupported)
-		}
-		return nil, ErrUnknownFormat
-	}
-	if f.id == "tiff" {
-		if err := checkTIFFLayout(data); err != nil {
-			return nil, err
-		}
-	}
-	cfg, err := guarded(func() (image.Config, error) { return f.config(bytes.NewReader(data)) })
-	if err != nil {
-		return nil, describe(f, "header", err)
-	}
-	if err := checkSize(cfg.Width, cfg.Height, limit); err != nil {
-		return nil, err
-	}
-	img, err := guarded(func() (image.Image, error) { return f.decode(bytes.NewReader(data)) })
-	if err != nil {
-		return nil, describe(f, "pixel data", err)
-	}
-	b := img.Bounds()
-	if b.Dx() > cfg.Width || b.Dy() > cfg.Height {
-		return nil, fmt.Errorf("corrupt %s file: pixel data %dx%d larger than its header %dx%d", f.name, b.Dx(), b.Dy(), cfg.Width, cfg.Height)
-	}
-	if err := checkSize(b.Dx(), b.Dy(), limit); err != nil {
-		return nil, err
-	}
-	gray := false
-	if f.id == "png" && len(data) > 25 {
-		// IHDR colour type (PNG specification, 11.2.2): 0 gray, 4 gray+alpha.
-		gray = data[25] == 0 || data[25] == 4
-	}
-	im := fromImage(img, gray)
-	im.Format, im.Pages = f.id, 1
-	if f.id == "tiff" {
-		im.Pages = tiffPages(data)
-	}
-	if f.id == "jpeg" {
-		im = orient(im, jpegOrientation(data))
-	}
-	return im, nil
+	return src.decode(src.r)
 }
 
 // isBigTIFF reports the BigTIFF signature: the byte order mark of TIFF

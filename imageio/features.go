@@ -203,3 +203,33 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 	f.Planes = [][]float32{feat}
 	return f, nil
 }
+
+// EstimateFeatureBytes estimates the memory of MakeFeatures for a w x h
+// image of the given channels, beyond the image's own planes: peak while
+// it runs, and kept, what the returned Features hold. It counts the
+// float32 planes it allocates (4 bytes per pixel each: luminance,
+// display, raw, feature planes) and the shading correction's work
+// (an int window count of 8 bytes and two float32 planes per pixel).
+// Nonsensical sizes give 0.
+func EstimateFeatureBytes(w, h, channels int, opt FeatureOptions) (peak, kept int64) {
+	if w < 1 || h < 1 || channels < 1 {
+		return 0, 0
+	}
+	n := int64(w) * int64(h)
+	planes := int64(1)
+	if opt.Space == SpaceLab {
+		planes = 3
+	}
+	kept = 4 * n * (2 + planes) // luminance (the raw plane), display, features
+	if opt.Channel >= 0 {
+		kept += 4 * n
+	}
+	peak = kept
+	if opt.Space == SpaceLab {
+		peak += 4 * n * 3 // the Lab conversion's planes
+	}
+	if opt.Flatten > 0 {
+		peak += 16 * n
+	}
+	return peak, kept
+}

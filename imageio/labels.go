@@ -1,13 +1,11 @@
 package imageio
 
 import (
-	"errors"
 	"fmt"
 	"image"
 	"image/png"
 	"io"
 	"math"
-	"os"
 )
 
 // EncodeLabels writes a label map (row-major, width x height) as a 16-bit
@@ -34,26 +32,30 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
 // everywhere). A binary mask whose only values are 0 and 255 (8-bit) or 0
 // and 65535 (16-bit) reads as 0/1. JPEG is refused as lossy; a colour image
 // is an error. Every error names the file.
+// The file is opened as Open does (regular files only, header first,
+// the default megapixel limit).
 func ReadLabels(path string) (labels []int32, width, height int, err error) {
-	data, err := os.ReadFile(path)
+	src, err := Open(path, LoadOptions{})
 	if err != nil {
 		return nil, 0, 0, err
 	}
-	labels, width, height, err = decodeLabels(data)
+	defer src.Close()
+	if src.Header().Format == "jpeg" {
+		return nil, 0, 0, fmt.Errorf("%s: a label map cannot be JPEG (lossy compression changes labels)", path)
+	}
+	im, err := src.Decode()
+	if err != nil {
+		return nil, 0, 0, err
+	}
+	labels, width, height, err = labelsOf(im)
 	if err != nil {
 		return nil, 0, 0, fmt.Errorf("%s: %w", path, err)
 	}
 	return labels, width, height, nil
 }
 
-func decodeLabels(data []byte) ([]int32, int, int, error) {
-	if f, ok := sniff(data); ok && f.id == "jpeg" {
-		return nil, 0, 0, errors.New("a label map cannot be JPEG (lossy compression changes labels)")
-	}
-	im, err := decodeBytes(data, LoadOptions{})
-	if err != nil {
-		return nil, 0, 0, err
-	}
+// labelsOf reads the labels of a decoded label image.
+func labelsOf(im *Image) ([]int32, int, int, error) {
 	if im.Channels == 3 {
 		r, g, b := im.Planes[0], im.Planes[1], im.Planes[2]
 		for i := range r {

@@ -95,7 +95,7 @@ type Params struct {
 
 	Workers   int
 	Seed      uint64
-	MaxMemory int64 // bytes; the graph stage refuses to build above it
+	MaxMemory int64 // bytes; Run refuses to start a stage estimated above it (EstimateStages)
 
 }
 
@@ -150,8 +150,8 @@ type ParamError struct {
 
 func (e *ParamError) Error() string { return e.Name + " " + e.Problem }
 
-// ErrMemory is returned (wrapped) when the estimated memory of the graph
-// stage exceeds Params.MaxMemory.
+// ErrMemory is returned (wrapped) when the estimated memory of a stage
+// (EstimateStages) exceeds Params.MaxMemory.
 var ErrMemory = errors.New("estimated memory above the limit")
 
 func positive(name string, v float64) error {
@@ -518,19 +518,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if p.AutoSigmaI {
 		p.SigmaI = affinity.AutoSigmaI(in.Planes, w, h)
 	}
-	var est int64
-	if p.Superpixels == 0 {
-		est = affinity.EstimatePixelGraphBytes(w, h, p.Radius)
-	} else {
-		est = affinity.EstimateSLICBytes(w, h, len(in.Planes))
-	}
-	if p.MaxMemory > 0 && est > p.MaxMemory {
-		hint := "radius, or use superpixels (superpixels N)"
-		if p.Superpixels > 0 {
-			hint = "superpixels, or downsample the image"
-		}
-		return nil, fmt.Errorf("%w: the graph stage needs about %.2f GiB, above max-memory %.2f GiB; lower %s, or raise max-memory",
-			ErrMemory, float64(est)/(1<<30), float64(p.MaxMemory)/(1<<30), hint)
+	if err := checkMemory(w, h, len(in.Planes), p); err != nil {
+		return nil, err
 	}
 	var (
 		g      *affinity.Graph

@@ -546,6 +546,7 @@ type batchResult struct {
 // inputs on p.jobs goroutines, then write the manifest and report.
 func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 	start := time.Now()
+	defer setMemoryLimit(p.res.params.MaxMemory)()
 	if err := os.MkdirAll(p.out, 0o755); err != nil {
 		fmt.Fprintf(stderr, "cleave batch: cannot create the output folder: %v\n", err)
 		return exitFail

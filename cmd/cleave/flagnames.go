@@ -33,7 +33,8 @@ func withFlags(err error) error {
 		msg = strings.Replace(msg, "(max-megapixels)", "(--max-megapixels)", 1)
 	case errors.Is(err, segment.ErrMemory):
 		msg = strings.NewReplacer("max-memory", "--max-memory", "lower radius", "lower --radius",
-			"(superpixels N)", "(--superpixels N)", "lower superpixels", "lower --superpixels").Replace(msg)
+			"(superpixels N)", "(--superpixels N)", "lower superpixels", "lower --superpixels",
+			"turn off flatten", "turn off --flatten").Replace(msg)
 	}
 	if msg == err.Error() {
 		return err

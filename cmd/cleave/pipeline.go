@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -132,10 +131,23 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			}
 		}
 	}
-	in, err := loadInput(j.path, j.resolved)
+	src, err := openInput(j.path, j.resolved)
 	if err != nil {
 		return fail(err)
 	}
+	defer src.Close()
+	// Images processed at once (batch --jobs) share the memory limit.
+	budget := budgetFor(j.resolved.params.MaxMemory)
+	held, err := budget.acquire(ctx, peakOf(estimateImage(src.Header(), j.resolved)))
+	if err != nil {
+		return fail(err)
+	}
+	defer budget.release(held)
+	in, err := loadSource(ctx, src, j.resolved)
+	if err != nil {
+		return fail(err)
+	}
+	in.info.Path = j.path
 	rec.Input = in.info
 	rec.Seconds["decode"], rec.Seconds["features"] = in.decodeSeconds, in.featureSeconds
 	feat := in.features
@@ -264,30 +276,94 @@ type loaded struct {
 	cache          *segment.Cache // work shared between runs (tune), or nil
 }
 
-// loadInput reads, checksums and decodes one image file and computes its
-// features. Errors do not carry the path; callers add it.
-func loadInput(path string, r *resolved) (*loaded, error) {
-	t0 := time.Now()
-	data, err := os.ReadFile(path)
+// loadInput opens one image file, checks its header against the size and
+// memory limits, and loads it (loadSource). Errors do not carry the path;
+// callers add it.
+func loadInput(ctx context.Context, path string, r *resolved) (*loaded, error) {
+	src, err := openInput(path, r)
 	if err != nil {
 		return nil, err
 	}
-	sum := sha256.Sum256(data)
-	in := &loaded{info: inputInfo{Path: path, SHA256: hex.EncodeToString(sum[:])}}
-	im, err := imageio.Decode(bytes.NewReader(data), r.load)
+	defer src.Close()
+	return loadSource(ctx, src, r)
+}
+
+// openInput opens an image file (regular files only) and refuses it,
+// from its header, when it is above the megapixel limit or when a stage
+// of its processing is estimated above the memory limit. Errors do not
+// carry the path.
+func openInput(path string, r *resolved) (*imageio.Source, error) {
+	src, err := imageio.Open(path, r.load)
 	if err != nil {
+		return nil, stripPath(err, path)
+	}
+	if err := checkImageMemory(src.Header(), r); err != nil {
+		src.Close()
 		return nil, err
+	}
+	return src, nil
+}
+
+// stripPath removes the "path: " that imageio puts before its messages,
+// for callers that add the path themselves.
+func stripPath(err error, path string) error {
+	msg := err.Error()
+	if rest, ok := strings.CutPrefix(msg, path+": "); ok {
+		return &flagged{err, rest}
+	}
+	return err
+}
+
+// loadSource checksums and decodes an opened image and computes its
+// features. The file is read in steps (never held whole) and the work
+// stops when ctx is done.
+func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded, error) {
+	t0 := time.Now()
+	h := sha256.New()
+	if err := copyContext(ctx, h, src.Contents()); err != nil {
+		return nil, err
+	}
+	in := &loaded{info: inputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}}
+	im, err := src.DecodeContext(ctx)
+	if err != nil {
+		return nil, stripPath(err, src.Path())
 	}
 	in.info.Format, in.info.Width, in.info.Height = im.Format, im.Width, im.Height
 	in.info.Channels, in.info.BitDepth, in.info.HasAlpha, in.info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
 	t1 := time.Now()
 	in.decodeSeconds = t1.Sub(t0).Seconds()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	in.features, err = imageio.MakeFeatures(im, r.features, r.params.Workers)
 	if err != nil {
 		return nil, err
 	}
 	in.featureSeconds = time.Since(t1).Seconds()
 	return in, nil
+}
+
+// copyContext copies src to dst in steps of 1 MiB, stopping when ctx is
+// done.
+func copyContext(ctx context.Context, dst io.Writer, src io.Reader) error {
+	buf := make([]byte, 1<<20)
+	for {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		n, err := src.Read(buf)
+		if n > 0 {
+			if _, werr := dst.Write(buf[:n]); werr != nil {
+				return werr
+			}
+		}
+		if err == io.EOF {
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+	}
 }
 
 // segmentInput runs the segmentation of a loaded image with parameters p.

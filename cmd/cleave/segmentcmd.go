@@ -107,6 +107,7 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 		return exitUsage
 	}
+	defer setMemoryLimit(res.params.MaxMemory)()
 	if c.saveGraph != "" && len(images) > 1 {
 		fmt.Fprintln(stderr, "cleave segment: --save-graph takes one image; give a single IMAGE")
 		return exitUsage

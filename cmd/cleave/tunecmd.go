@@ -308,6 +308,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitUsage, err
 	}
+	defer setMemoryLimit(loadRes.params.MaxMemory)()
 	if !o.force {
 		for _, n := range tuneOutputs {
 			if p := filepath.Join(o.out, n); exists(p) {
@@ -326,7 +327,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		return exitFail, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
 	for _, p := range pairs {
-		in, err := loadInput(p.image, loadRes)
+		in, err := loadInput(ctx, p.image, loadRes)
 		if err != nil {
 			return exitFail, fmt.Errorf("%s: %w", p.image, err)
 		}
