@@ -1,6 +1,7 @@
 package imageio
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -135,6 +136,12 @@ func checkImage(im *Image) error {
 // and only then normalized, so the result lies in [0, 1]. For lab the
 // correction applies to L* alone, which is then clipped to 0..100.
 func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error) {
+	return MakeFeaturesContext(context.Background(), im, opt, workers)
+}
+
+// MakeFeaturesContext is MakeFeatures that stops, with ctx's error,
+// when ctx is done (the shading correction checks it between passes).
+func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, workers int) (*Features, error) {
 	if err := opt.Validate(); err != nil {
 		return nil, err
 	}
@@ -171,7 +178,10 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 	if opt.Space == SpaceLab {
 		lab := labPlanes(im, workers)
 		if opt.Flatten > 0 {
-			L := flatten(lab[0], w, h, opt.Flatten, mode, workers)
+			L, err := flatten(ctx, lab[0], w, h, opt.Flatten, mode, workers)
+			if err != nil {
+				return nil, err
+			}
 			for i, v := range L {
 				L[i] = min(max(v, 0), 100)
 			}
@@ -190,7 +200,10 @@ func MakeFeatures(im *Image, opt FeatureOptions, workers int) (*Features, error)
 
 	var feat []float32
 	if opt.Flatten > 0 {
-		feat = flatten(f.Raw, w, h, opt.Flatten, mode, workers)
+		var err error
+		if feat, err = flatten(ctx, f.Raw, w, h, opt.Flatten, mode, workers); err != nil {
+			return nil, err
+		}
 	} else {
 		feat = make([]float32, len(f.Raw))
 		copy(feat, f.Raw)

@@ -1,6 +1,9 @@
 package imageio
 
-import "math"
+import (
+	"context"
+	"math"
+)
 
 // boxWidths returns the widths of n successive box filters whose combined
 // variance is closest to sigma^2 (Kovesi 2010, "Fast almost-Gaussian
@@ -56,8 +59,18 @@ func reflect(j, n int) int {
 // granularity of odd widths). Every output column and row is computed by
 // the same sequence of operations for any worker count.
 func gaussianBlur(v []float32, w, h int, sigma float64, workers int) []float32 {
+	out, _ := gaussianBlurContext(context.Background(), v, w, h, sigma, workers)
+	return out
+}
+
+// gaussianBlurContext is gaussianBlur that checks ctx before each of its
+// six passes and returns ctx's error once it is done.
+func gaussianBlurContext(ctx context.Context, v []float32, w, h int, sigma float64, workers int) ([]float32, error) {
 	a, b := v, make([]float32, len(v))
 	for k, bw := range boxWidths(sigma, 3) {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		boxRows(a, b, w, h, bw/2, workers)
 		if k == 0 {
 			a = make([]float32, len(v)) // v itself is never written
@@ -65,10 +78,13 @@ func gaussianBlur(v []float32, w, h int, sigma float64, workers int) []float32 {
 		a, b = b, a
 	}
 	for _, bw := range boxWidths(sigma, 3) {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		boxCols(a, b, w, h, bw/2, workers)
 		a, b = b, a
 	}
-	return a
+	return a, nil
 }
 
 // boxRows writes to dst the mean of src over the window [x-r, x+r] of each
@@ -165,9 +181,13 @@ func meanOf(v []float32, w, h, workers int) float64 {
 //
 // Multiplying by, or adding back, m keeps f' in the image's units, so any
 // normalization applies afterwards; eps only guards near-black background.
-// An image whose mean is zero stays zero.
-func flatten(f []float32, w, h int, R float64, mode string, workers int) []float32 {
-	bg := gaussianBlur(f, w, h, R, workers)
+// An image whose mean is zero stays zero. It stops with ctx's error
+// once ctx is done.
+func flatten(ctx context.Context, f []float32, w, h int, R float64, mode string, workers int) ([]float32, error) {
+	bg, err := gaussianBlurContext(ctx, f, w, h, R, workers)
+	if err != nil {
+		return nil, err
+	}
 	m := meanOf(bg, w, h, workers)
 	out := make([]float32, len(f))
 	if mode == FlattenSubtract {
@@ -176,10 +196,10 @@ func flatten(f []float32, w, h int, R float64, mode string, workers int) []float
 				out[i] = float32(float64(f[i]) - float64(bg[i]) + m)
 			}
 		})
-		return out
+		return out, nil
 	}
 	if !(m > 0) {
-		return out
+		return out, nil
 	}
 	eps := 1e-3 * m
 	parallelRange(len(f), workers, func(lo, hi int) {
@@ -187,5 +207,5 @@ func flatten(f []float32, w, h int, R float64, mode string, workers int) []float
 			out[i] = float32(float64(f[i]) * m / max(float64(bg[i]), eps))
 		}
 	})
-	return out
+	return out, nil
 }

@@ -204,7 +204,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			// whose eigenvalues are recorded, keeps the default tolerance.
 			opt.Tol = SplitTol
 		}
-		ep, err := eigen.Smallest(sub, k, opt)
+		ep, err := eigen.SmallestContext(ctx, sub, k, opt)
 		if !res.short.note(err, ep, opt.Tol, sub.N) {
 			return nil, err
 		}

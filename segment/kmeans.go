@@ -1,6 +1,7 @@
 package segment
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 )
@@ -14,12 +15,20 @@ import (
 // the one of least inertia wins; the result is a pure function of the
 // inputs, whatever the worker count.
 func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64, workers int) []int32 {
+	lab, _ := kmeansContext(context.Background(), x, n, dim, k, wt, restarts, seed, workers)
+	return lab
+}
+
+// kmeansContext is kmeans that stops when ctx is done: each restart
+// checks ctx before every seeding step and every Lloyd iteration, and
+// ctx's error is returned.
+func kmeansContext(ctx context.Context, x []float64, n, dim, k int, wt []float64, restarts int, seed uint64, workers int) ([]int32, error) {
 	if k >= n {
 		lab := make([]int32, n)
 		for i := range lab {
 			lab[i] = int32(i)
 		}
-		return lab
+		return lab, nil
 	}
 	// Restart r draws from its own generator, seeded by (seed, r), so the
 	// restarts can run in parallel and the winner (least inertia, ties to
@@ -29,15 +38,18 @@ func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64,
 	inertia := make([]float64, restarts)
 	forEach(restarts, workers, func(r int) {
 		rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73+uint64(r)))
-		labs[r], inertia[r] = lloyd(x, n, dim, k, wt, rng)
+		labs[r], inertia[r] = lloyd(ctx, x, n, dim, k, wt, rng)
 	})
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	best := 0
 	for r := 1; r < restarts; r++ {
 		if inertia[r] < inertia[best] {
 			best = r
 		}
 	}
-	return labs[best]
+	return labs[best], nil
 }
 
 func weightOf(wt []float64, i int) float64 {
@@ -56,7 +68,10 @@ func sqDist(a, b []float64) float64 {
 	return s
 }
 
-func lloyd(x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, float64) {
+// lloyd runs one seeding and its Lloyd iterations; once ctx is done it
+// returns at its next check with a partial result that the caller
+// discards.
+func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, float64) {
 	cent := make([]float64, k*dim)
 	dist := make([]float64, n)
 	pick := func(prob func(i int) float64) int {
@@ -82,6 +97,9 @@ func lloyd(x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, f
 		dist[i] = sqDist(x[i*dim:(i+1)*dim], cent[:dim])
 	}
 	for c := 1; c < k; c++ {
+		if ctx.Err() != nil {
+			return nil, math.Inf(1)
+		}
 		j := pick(func(i int) float64 { return weightOf(wt, i) * dist[i] })
 		copy(cent[c*dim:(c+1)*dim], x[j*dim:(j+1)*dim])
 		for i := 0; i < n; i++ {
@@ -98,6 +116,9 @@ func lloyd(x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, f
 	cnt := make([]float64, k)
 	var inertia float64
 	for iter := 0; iter < 300; iter++ {
+		if ctx.Err() != nil {
+			return nil, math.Inf(1)
+		}
 		changed := false
 		inertia = 0
 		for i := 0; i < n; i++ {

@@ -28,7 +28,7 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 	if err := ctx.Err(); err != nil {
 		return nil, 0, err
 	}
-	ep, err := eigen.Smallest(g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+	ep, err := eigen.SmallestContext(ctx, g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
 	var short shortfall
 	if !short.note(err, ep, 0, g.N) {
 		return nil, 0, err
@@ -64,7 +64,10 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 	for i := range wt {
 		wt[i] = float64(nodeArea(area, i))
 	}
-	lab := kmeans(u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
+	lab, err := kmeansContext(ctx, u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
+	if err != nil {
+		return nil, 0, err
+	}
 	// Renumber clusters by lowest node, drop empty ones.
 	n := relabel(lab, K)
 	return &cutResult{region: lab, regions: n, eigenvalues: ep.Values, short: short}, K, nil

@@ -493,6 +493,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		res.Stages = append(res.Stages, Stage{name, now.Sub(t0).Seconds()})
 		t0 = now
 	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if p.Grain {
 		in, p.GrainModel = removeGrain(in, p.Workers)
 		stage("grain")
@@ -555,6 +558,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			return nil, err
 		}
 		stage("superpixels")
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		nodeOf = sp.nodeOf
 		if p.AutoSigmaX {
 			p.SigmaX = 2 * math.Sqrt(float64(npix)/float64(sp.n))
@@ -578,6 +584,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("graph")
 	}
 	res.Graph = g
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 
 	// Cuts.
 	var cut *cutResult
@@ -614,6 +623,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	res.SplitNcuts = cut.splitNcuts
 	short := cut.short
 	stage("cuts")
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 
 	reg := make([]int32, npix)
 	if nodeOf == nil {
@@ -689,6 +701,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
 			obj, nobj = joinTouching(con, obj, nobj, w, h)
 			stage("classes")
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
 			ref, err := refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err

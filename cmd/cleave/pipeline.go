@@ -335,7 +335,7 @@ func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded,
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	in.features, err = imageio.MakeFeatures(im, r.features, r.params.Workers)
+	in.features, err = imageio.MakeFeaturesContext(ctx, im, r.features, r.params.Workers)
 	if err != nil {
 		return nil, err
 	}

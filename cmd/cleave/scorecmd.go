@@ -67,6 +67,17 @@ const defaultTolerance = 2
 
 // scoreMaps computes every metric of pred against truth (width x height).
 func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
+	m, _ := scoreMapsContext(context.Background(), pred, truth, width, height, tol)
+	return m
+}
+
+// scoreMapsContext is scoreMaps that stops when ctx is done, between
+// metrics and inside the boundary matching (the long part), returning
+// ctx's error.
+func scoreMapsContext(ctx context.Context, pred, truth []int32, width, height int, tol float64) (metrics, error) {
+	if err := ctx.Err(); err != nil {
+		return metrics{}, err
+	}
 	t := score.Contingency(pred, truth)
 	var m metrics
 	m.ARI, m.Rand = t.ARI(), t.RandIndex()
@@ -75,10 +86,13 @@ func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
 	om := score.MatchObjects(pred, truth)
 	m.Prec, m.Recall, m.F1, m.MeanIoU = om.Precision, om.Recall, om.F1, om.MeanIoU
 	m.MAP = t.MeanAP()
-	b := score.Boundary(pred, truth, width, height, tol)
+	b, err := score.BoundaryContext(ctx, pred, truth, width, height, tol)
+	if err != nil {
+		return metrics{}, err
+	}
 	m.BF, m.BP, m.BR = b.F, b.Precision, b.Recall
 	m.Covering = t.Covering()
-	return m
+	return m, nil
 }
 
 // meanMetrics is the mean of each metric, summed in the given order.
@@ -210,7 +224,11 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			fmt.Fprintln(stderr, "cleave score: interrupted")
 			return exitFail
 		}
-		m, err := scoreFiles(p.image, p.truth, o.tolerance)
+		m, err := scoreFiles(ctx, p.image, p.truth, o.tolerance)
+		if ctx.Err() != nil {
+			fmt.Fprintln(stderr, "cleave score: interrupted")
+			return exitFail
+		}
 		if err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
 			return exitCode(err)
@@ -249,7 +267,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 }
 
 // scoreFiles reads a prediction and a truth label image and scores them.
-func scoreFiles(predPath, truthPath string, tol float64) (metrics, error) {
+func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64) (metrics, error) {
 	pred, pw, ph, err := imageio.ReadLabels(predPath)
 	if err != nil {
 		return metrics{}, fmt.Errorf("prediction %w", err)
@@ -264,7 +282,7 @@ func scoreFiles(predPath, truthPath string, tol float64) (metrics, error) {
 	if err := checkTolerance(tol, predPath, pw, ph); err != nil {
 		return metrics{}, err
 	}
-	return scoreMaps(pred, truth, pw, ph, tol), nil
+	return scoreMapsContext(ctx, pred, truth, pw, ph, tol)
 }
 
 // checkTolerance refuses a boundary tolerance above the diagonal of a

@@ -219,7 +219,7 @@ func FuzzParamsFile(f *testing.F) {
 		// Keep each run small: the fuzzed values, not the image, are
 		// under test.
 		r.params.MaxMemory = min(r.params.MaxMemory, 64<<20)
-		in, err := loadInput(img, r)
+		in, err := loadInput(context.Background(), img, r)
 		if err != nil {
 			return
 		}

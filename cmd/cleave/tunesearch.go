@@ -338,11 +338,15 @@ func (t *tuner) run(es []*evaluation, params []segment.Params) ([][]segment.Para
 				i, j := k/nImg, k%nImg
 				start := time.Now()
 				res, err := segmentInput(t.ctx, t.images[j], params[i])
+				var m metrics
+				if err == nil {
+					f := t.images[j].features
+					m, err = scoreMapsContext(t.ctx, res.Labels, t.truths[j], f.Width, f.Height, t.tol)
+				}
 				if err != nil {
 					es[i].errs[j] = withFlags(err).Error()
 				} else {
-					f := t.images[j].features
-					es[i].perImage[j] = scoreMaps(res.Labels, t.truths[j], f.Width, f.Height, t.tol)
+					es[i].perImage[j] = m
 					es[i].cost[j] = segCost(res)
 					used[i][j] = res.Params
 				}

@@ -1,6 +1,7 @@
 package eigen
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -104,15 +105,31 @@ var ErrNotConverged = errors.New("eigen: LOBPCG did not converge")
 // zero degree. When LOBPCG stops at MaxIter above the tolerance it returns
 // the result together with an error wrapping ErrNotConverged.
 func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
+	return SmallestContext(context.Background(), g, k, opt)
+}
+
+// SmallestContext is Smallest that stops when ctx is done: the
+// coarsening checks ctx before each level and LOBPCG before each step,
+// and ctx's error is returned with no result.
+func SmallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options) (*Result, error) {
 	limit := denseMax
 	if opt.Tol >= looseTol {
 		limit = denseMaxLoose
 	}
-	return smallest(g, k, opt, limit)
+	return smallestContext(ctx, g, k, opt, limit)
 }
 
 // smallest is Smallest with the dense crossover as a parameter.
 func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, error) {
+	return smallestContext(context.Background(), g, k, opt, denseLimit)
+}
+
+// smallestContext is SmallestContext with the dense crossover as a
+// parameter.
+func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if err := check(g, k); err != nil {
 		return nil, err
 	}
@@ -145,7 +162,7 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 			solvePools.Put(pl)
 		}
 	}()
-	o := &ops{lv: lv0, workers: workers, pool: pl}
+	o := &ops{ctx: ctx, lv: lv0, workers: workers, pool: pl}
 
 	var vals []float64
 	var vecs *block
@@ -170,6 +187,9 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 			cmax = coarseMaxLoose
 		}
 		for cur := lv0; cur.n > cmax; {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
 			c := coarsen(cur, workers)
 			if c == nil {
 				break
@@ -236,7 +256,10 @@ func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, e
 				// needs (hub graphs shrink fast): add random vectors.
 				x = fillRandom(x, m, opt.Seed)
 			}
-			ol := &ops{lv: levels[l], workers: workers, pool: pl}
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			ol := &ops{ctx: ctx, lv: levels[l], workers: workers, pool: pl}
 			var pre func(*block) *block
 			if mg != nil {
 				sub := mg.sub(l)

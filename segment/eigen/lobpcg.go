@@ -86,6 +86,9 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	res := make([]float64, m)
 	it := 0
 	for ; ; it++ {
+		if err := o.cancelled(); err != nil {
+			return nil, err
+		}
 		if it > 0 && it%refreshEvery == 0 {
 			// AX and AP are updated by linear combination, so rounding
 			// drifts them away from L X and L P; recompute AX and

@@ -1,6 +1,7 @@
 package score
 
 import (
+	"context"
 	"fmt"
 	"math"
 )
@@ -62,6 +63,14 @@ func BoundaryPixels(labels []int32, width, height int) []bool {
 // and recall are both 0. It panics if the lengths do not match width*height
 // or tol is negative or not finite.
 func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch {
+	m, _ := BoundaryContext(context.Background(), pred, truth, width, height, tol)
+	return m
+}
+
+// BoundaryContext is Boundary that stops when ctx is done: it checks ctx
+// every few thousand boundary pixels and returns ctx's error with a zero
+// result.
+func BoundaryContext(ctx context.Context, pred, truth []int32, width, height int, tol float64) (BoundaryMatch, error) {
 	if len(pred) != len(truth) {
 		panic(fmt.Sprintf("score: label maps of different lengths %d and %d", len(pred), len(truth)))
 	}
@@ -70,8 +79,14 @@ func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch
 	}
 	bp := BoundaryPixels(pred, width, height)
 	bt := BoundaryPixels(truth, width, height)
-	hitP, np := within(bp, bt, width, height, tol)
-	hitT, nt := within(bt, bp, width, height, tol)
+	hitP, np, err := within(ctx, bp, bt, width, height, tol)
+	if err != nil {
+		return BoundaryMatch{}, err
+	}
+	hitT, nt, err := within(ctx, bt, bp, width, height, tol)
+	if err != nil {
+		return BoundaryMatch{}, err
+	}
 	empty := np == 0 && nt == 0
 	m := BoundaryMatch{
 		Precision:   ratio(hitP, np, empty),
@@ -82,26 +97,32 @@ func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch
 	if s := m.Precision + m.Recall; s > 0 {
 		m.F = 2 * m.Precision * m.Recall / s
 	}
-	return m
+	return m, nil
 }
 
 // within counts the marked pixels of a that have a marked pixel of b within
 // Euclidean distance tol, and the marked pixels of a. The distances come
 // from the exact transform of b (sqDistance), so the work is linear in
-// the pixels whatever tol is.
-func within(a, b []bool, width, height int, tol float64) (hits, total int) {
+// the pixels whatever tol is. It checks ctx after the transform and every
+// 4096 marked pixels.
+func within(ctx context.Context, a, b []bool, width, height int, tol float64) (hits, total int, err error) {
 	d := sqDistance(b, width, height)
 	t2 := tol * tol
 	for k, on := range a {
 		if !on {
 			continue
 		}
+		if total%4096 == 0 {
+			if err := ctx.Err(); err != nil {
+				return 0, 0, err
+			}
+		}
 		total++
 		if d[k] <= t2 && !math.IsInf(d[k], 1) {
 			hits++
 		}
 	}
-	return hits, total
+	return hits, total, nil
 }
 
 // sqDistance returns, for every pixel of a width x height grid, the

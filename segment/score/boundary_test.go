@@ -1,6 +1,7 @@
 package score
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -158,7 +159,10 @@ func TestWithinMatchesDefinition(t *testing.T) {
 			b[k] = rng.Float64() < density
 		}
 		for _, tol := range []float64{0, 0.5, 1, 1.5, 2, 2.9, 7.3, 40, 1e5, 1e308} {
-			hits, total := within(a, b, w, h, tol)
+			hits, total, err := within(context.Background(), a, b, w, h, tol)
+			if err != nil {
+				t.Fatal(err)
+			}
 			wantHits, wantTotal := 0, 0
 			for k, on := range a {
 				if !on {
