@@ -97,7 +97,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (0 = off, else %g to %g)", minPixelSize, maxPixelSize))
 	fs.StringVar(&s.Unit, "unit", "um", fmt.Sprintf("unit of --pixel-size, used in column names: up to %d letters, digits, µ, /, ^ or _", maxUnitLen))
-	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "refuse to build a graph estimated above this size (e.g. 512MiB, 8GiB; at least 1MiB)")
+	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
 	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
