@@ -7,6 +7,8 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"sync"
 )
 
@@ -14,17 +16,92 @@ import (
 // and overwriting was not allowed.
 var ErrExists = errors.New("output exists (overwriting needs force)")
 
-// WriteAtomic writes a file so that readers see either the old content or
-// the complete new content, never a partial file: write streams into a
+// ErrIsFolder is returned (wrapped with the path) when an output path is
+// an existing folder: a file cannot replace it.
+var ErrIsFolder = errors.New("a folder stands in the way of this output file")
+
+// tempMark separates the target's name from the owner in a temporary
+// file's name.
+const tempMark = ".tmp-"
+
+// DefaultTempOwner is the owner tag of temporary files when none is given:
+// "pid" and the process id.
+func DefaultTempOwner() string { return "pid" + strconv.Itoa(os.Getpid()) }
+
+func validOwner(owner string) bool {
+	if owner == "" || len(owner) > 64 {
+		return false
+	}
+	for _, c := range owner {
+		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '-') {
+			return false
+		}
+	}
+	return true
+}
+
+// ParseTempName reports whether name is the name of a temporary file of
+// WriteAtomicAs, "." + target + ".tmp-" + owner + "-" + digits, and returns
+// the target and the owner. Temporary files of earlier versions,
+// "." + target + ".tmp-" + digits, have the owner "".
+func ParseTempName(name string) (target, owner string, ok bool) {
+	i := strings.LastIndex(name, tempMark)
+	if !strings.HasPrefix(name, ".") || i < 1 {
+		return "", "", false
+	}
+	rest := name[i+len(tempMark):]
+	digits := rest
+	if j := strings.LastIndexByte(rest, '-'); j >= 0 {
+		owner, digits = rest[:j], rest[j+1:]
+		if !validOwner(owner) {
+			return "", "", false
+		}
+	}
+	if digits == "" {
+		return "", "", false
+	}
+	for _, c := range digits {
+		if c < '0' || c > '9' {
+			return "", "", false
+		}
+	}
+	return name[1:i], owner, true
+}
+
+// WriteAtomic is WriteAtomicAs with the default owner, this process
+// ("pid" and its process id).
+func WriteAtomic(path string, force bool, write func(io.Writer) error) error {
+	return WriteAtomicAs(path, force, "", write)
+}
+
+// WriteAtomicAs writes a file so that readers see either the old content
+// or the complete new content, never a partial file: write streams into a
 // temporary file in the same folder, which is flushed, fsynced and renamed
 // over path (rename within one file system is atomic, POSIX rename(2)).
 // The temporary file is removed on any error, including a panic in write.
 // Without force an existing path is refused with ErrExists; the final step
 // then uses link(2), which fails if path appeared meanwhile, falling back to
-// a check and rename on file systems without hard links.
-func WriteAtomic(path string, force bool, write func(io.Writer) error) (err error) {
-	if !force {
-		if _, err := os.Lstat(path); err == nil {
+// a check and rename on file systems without hard links. A folder at path
+// is refused even with force.
+//
+// The temporary file is named "." + base of path + ".tmp-" + owner + "-" +
+// random digits (ParseTempName reads it back), so that several processes writing into one folder can tell their
+// temporary files apart (a process killed mid-write leaves one behind;
+// only its owner, or a clean-up that knows no writer is left, may remove
+// it). owner is a short tag of letters, digits and hyphens; "" means
+// "pid" followed by this process's id.
+func WriteAtomicAs(path string, force bool, owner string, write func(io.Writer) error) (err error) {
+	if owner == "" {
+		owner = DefaultTempOwner()
+	}
+	if !validOwner(owner) {
+		return fmt.Errorf("%s: temporary file owner %q must be letters, digits and hyphens", path, owner)
+	}
+	if st, err := os.Lstat(path); err == nil {
+		if st.IsDir() {
+			return fmt.Errorf("%s: %w", path, ErrIsFolder)
+		}
+		if !force {
 			return fmt.Errorf("%s: %w", path, ErrExists)
 		}
 	}
@@ -32,7 +109,7 @@ func WriteAtomic(path string, force bool, write func(io.Writer) error) (err erro
 	if dir == "" {
 		dir = "."
 	}
-	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	tmp, err := os.CreateTemp(dir, "."+base+tempMark+owner+"-*")
 	if err != nil {
 		return fmt.Errorf("%s: cannot create a file in %s: %w", path, dir, err)
 	}

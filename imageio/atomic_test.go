@@ -110,3 +110,69 @@ func TestWriteAtomicUnwritableFolder(t *testing.T) {
 		t.Errorf("folder holds %v; want only the plain file", names)
 	}
 }
+
+// Temporary names say whose they are: "." + target + ".tmp-" + owner +
+// "-" + digits (os.CreateTemp replaces * by a decimal number), and the
+// names of earlier versions without an owner are still recognised so that
+// a clean-up finds them.
+func TestTempNames(t *testing.T) {
+	dir := t.TempDir()
+	var seen []string
+	for _, owner := range []string{"", "shard2of4-pid77"} {
+		err := WriteAtomicAs(filepath.Join(dir, "x.json"), true, owner, func(w io.Writer) error {
+			names := dirNames(t, dir)
+			for _, n := range names {
+				if n != "x.json" {
+					seen = append(seen, n)
+				}
+			}
+			_, err := io.WriteString(w, "{}")
+			return err
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	if len(seen) != 2 {
+		t.Fatalf("temporary files seen while writing: %v; want one per write", seen)
+	}
+	wantOwners := []string{DefaultTempOwner(), "shard2of4-pid77"}
+	for k, n := range seen {
+		target, owner, ok := ParseTempName(n)
+		if !ok || target != "x.json" || owner != wantOwners[k] {
+			t.Errorf("ParseTempName(%q) = %q, %q, %v; want x.json, %q", n, target, owner, ok, wantOwners[k])
+		}
+	}
+	cases := []struct {
+		name, target, owner string
+		ok                  bool
+	}{
+		{".x.labels.png.tmp-123", "x.labels.png", "", true},
+		{".a.b.json.tmp-pid9-4294967295", "a.b.json", "pid9", true},
+		{".a.json.tmp-shard0of2-pid1-5", "a.json", "shard0of2-pid1", true},
+		{"x.labels.png.tmp-1", "", "", false},
+		{".x.png.tmp-", "", "", false},
+		{".x.png.tmp-pid1-", "", "", false},
+		{".x.png.tmp-12a", "", "", false},
+		{".x.png.tmp-p_1-12", "", "", false},
+		{".hidden.png", "", "", false},
+	}
+	for _, c := range cases {
+		target, owner, ok := ParseTempName(c.name)
+		if ok != c.ok || target != c.target || owner != c.owner {
+			t.Errorf("ParseTempName(%q) = %q, %q, %v; want %q, %q, %v", c.name, target, owner, ok, c.target, c.owner, c.ok)
+		}
+	}
+	if err := WriteAtomicAs(filepath.Join(dir, "y"), true, "a/b", writeString("x")); err == nil {
+		t.Error("an owner with a slash was accepted")
+	}
+	// A folder in the way is refused, with force too, and left as it is.
+	folder := filepath.Join(dir, "z.json")
+	os.Mkdir(folder, 0o755)
+	if err := WriteAtomic(folder, true, writeString("x")); !errors.Is(err, ErrIsFolder) || !strings.Contains(err.Error(), folder) {
+		t.Errorf("folder in the way: %v; want ErrIsFolder naming it", err)
+	}
+	if st, err := os.Stat(folder); err != nil || !st.IsDir() {
+		t.Errorf("the folder was touched: %v", err)
+	}
+}
