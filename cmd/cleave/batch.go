@@ -20,6 +20,7 @@ import (
 	"syscall"
 	"time"
 
+	"github.com/cleave-seg/cleave/imageio"
 	"github.com/spf13/pflag"
 )
 
@@ -68,21 +69,37 @@ warnings) are rebuilt from the records at the end, using the list of
 inputs and the parameters kept in DIR/%s. A rerun skips every
 image whose record is ok for the same file contents (SHA-256), parameters
 and cleave version; after an interruption, even kill -9, it completes the
-work and removes the temporary files cleave left behind. Status "pending"
+work, and an unsharded rerun removes the temporary files cleave left behind. Status "pending"
 in the manifest marks an input with no current record yet (a shard not
 finished, or a run stopped early).
 
+Entries named like images that are not regular files or links to them
+(dangling or looping links, links to folders, FIFOs, devices, sockets) and,
+with --recursive, subfolders that cannot be read are never opened: they
+are manifest rows with status "skipped" and the reason, named on stderr,
+and do not change the exit status. INPUT_DIR itself may be a link.
+
+Only cleave's own files in DIR are replaced (the records list them): a
+file in the way that cleave did not write fails its image, or for
+manifest.csv and report.html the run (exit 2), and is left as it is. When
+an image fails, or a setting drops an output, the outputs of an earlier
+run that no longer match are removed.
+
+One batch at a time writes into DIR: a second one, or --rebuild, exits 2
+at once naming the holder (pid, host and start time in DIR/%s).
 With --shard I/N only every N-th file of the sorted list, starting at the
-I-th, is processed; N tasks can write into one shared DIR. Shards write no
-manifest or report: run 'cleave batch --rebuild DIR' when all are done.
+I-th, is processed; N tasks can write into one shared DIR at once, and
+none removes another's temporary files. Shards write no manifest or
+report: run 'cleave batch --rebuild DIR' when all are done; it also removes
+the temporary files of killed shards.
 
 %s
 Flags:
 %s
 Exit status: 0 all images ok, 1 an image failed or the run stopped early,
-2 wrong usage (nothing is written then).
+2 wrong usage or DIR in use by another run (nothing is written then).
 
-%s`, strings.Join(imageExtensions, " "), indexName, batchExample, fs.FlagUsagesWrapped(100), caution)
+%s`, strings.Join(imageExtensions, " "), indexName, lockName, batchExample, fs.FlagUsagesWrapped(100), caution)
 }
 
 // imageExtensions are the file name extensions batch treats as images
@@ -132,6 +149,8 @@ type batchPlan struct {
 	realOut, realInput string // symbolic links resolved
 	shardI, shardN     int
 	all                []batchInput // every input, sorted by relative path
+	skipped            []batchSkip  // entries named like images that are not read, sorted
+	oldIndex           *batchIndex  // the index an earlier run left in --out, or nil
 	mine               []int        // indices into all of this shard's inputs
 	jobs, workers      int
 }
@@ -189,18 +208,40 @@ func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitUsage
 	}
-	if err := removeTempFiles(dir, nil); err != nil {
+	// No shard may be writing while the temporary files are cleaned up
+	// and the manifest is read from the records.
+	lock, err := lockOut(dir, true, "cleave batch --rebuild")
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitCode(err)
+	}
+	defer lock.release()
+	warnUnlocked(stderr, lock, dir)
+	if err := checkTopFiles(dir, idx); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitUsage
+	}
+	idx.Files = topFiles
+	if err := writeBatchIndex(dir, idx, imageio.DefaultTempOwner()); err != nil {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitFail
 	}
-	rows, err := writeManifestAndReport(dir, idx)
+	if err := removeTempFiles(dir, outputDirs(idx.Inputs)); err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitFail
+	}
+	rows, err := writeManifestAndReport(dir, idx, imageio.DefaultTempOwner())
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitFail
 	}
 	c := countRows(rows)
 	if !o.quiet {
-		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending -> %s, %s\n", len(rows), c.ok, c.failed, c.pending,
+		skipped := ""
+		if c.skipped > 0 {
+			skipped = fmt.Sprintf(", %d skipped", c.skipped)
+		}
+		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending%s -> %s, %s\n", len(rows)-c.skipped, c.ok, c.failed, c.pending, skipped,
 			filepath.Join(dir, manifestName), filepath.Join(dir, reportName))
 	}
 	if c.failed > 0 || c.pending > 0 {
@@ -267,8 +308,18 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if within(p.realOut, p.realInput) {
 		return nil, usagef("--out %s is inside INPUT_DIR %s: its outputs would be read back as inputs on the next run; choose a folder outside INPUT_DIR", p.out, p.inputDir)
 	}
-	if p.all, err = discover(p.inputDir, p.realOut, o); err != nil {
+	// The walk starts at the resolved folder, so that an INPUT_DIR that is
+	// a symbolic link (as cluster data folders often are) is followed.
+	if p.all, p.skipped, err = discover(p.realInput, p.realOut, o); err != nil {
 		return nil, err
+	}
+	if p.oldIndex, err = existingIndex(p.out); err != nil {
+		return nil, &usageError{err}
+	}
+	if p.shardN == 1 {
+		if err := checkTopFiles(p.out, p.oldIndex); err != nil {
+			return nil, &usageError{err}
+		}
 	}
 	absOut, _ := filepath.Abs(p.out)
 	checked := map[string]bool{}
@@ -288,7 +339,7 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 			return nil, usagef("the outputs of %s need the folder %s, but a file stands in its way in --out", in.Input, filepath.Join(p.out, filepath.FromSlash(dir)))
 		case !within(d, p.realOut):
 			return nil, usagef("the outputs of %s would go to %s, outside --out, through a symbolic link in --out; remove the link", in.Input, d)
-		case within(d, p.realInput) && !within(d, p.realOut):
+		case within(d, p.realInput):
 			return nil, usagef("the outputs of %s would go into %s, inside INPUT_DIR, and be read back as inputs; choose another --out", in.Input, d)
 		}
 	}
@@ -404,14 +455,45 @@ func within(p, dir string) bool {
 	return err == nil && rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator)) && !filepath.IsAbs(rel)
 }
 
-// discover lists the image files under root, sorted by relative path, with
-// their output stems. Names starting with a dot are skipped (hidden files,
-// cleave's temporary files); the folder realOut is not entered.
-func discover(root, realOut string, o *batchOptions) ([]batchInput, error) {
+// batchSkip is an entry of INPUT_DIR that batch does not read, with the
+// reason: a manifest row with status skipped.
+type batchSkip struct {
+	Input  string `json:"input"` // path relative to INPUT_DIR, slash-separated
+	Reason string `json:"reason"`
+}
+
+// discover lists the image files under root (a folder with symbolic links
+// resolved), sorted by relative path, with their output stems, and the
+// entries it skips: entries named like images (and passing --include and
+// --exclude) that are not regular files or links to them (FIFOs,
+// devices, sockets, dangling or looping links, links to folders), and,
+// with --recursive, subfolders it cannot read. Nothing is opened but
+// folders: a FIFO would block a reader for ever. Names starting with a dot
+// are skipped silently (hidden files, cleave's temporary files); the
+// folder realOut is not entered.
+func discover(root, realOut string, o *batchOptions) ([]batchInput, []batchSkip, error) {
 	var rels []string
+	var skipped []batchSkip
+	relOf := func(p string) (string, error) {
+		rel, err := filepath.Rel(root, p)
+		return filepath.ToSlash(rel), err
+	}
 	err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
 		if err != nil {
-			return fmt.Errorf("cannot read %s: %w", p, errors.Unwrap(err))
+			if p == root {
+				return fmt.Errorf("cannot read %s: %w", p, errors.Unwrap(err))
+			}
+			// A subfolder that cannot be read (WalkDir reports it after
+			// failing to list it): recorded, and the walk goes on.
+			rel, rerr := relOf(p)
+			if rerr != nil {
+				return rerr
+			}
+			skipped = append(skipped, batchSkip{Input: rel, Reason: "folder not read: " + describeErr(err)})
+			if d != nil && d.IsDir() {
+				return filepath.SkipDir
+			}
+			return nil
 		}
 		if p == root {
 			return nil
@@ -424,44 +506,81 @@ func discover(root, realOut string, o *batchOptions) ([]batchInput, error) {
 			return nil
 		}
 		if d.IsDir() {
-			if !o.recursive {
+			if !o.recursive || p == realOut {
 				return filepath.SkipDir
 			}
-			if real, err := filepath.EvalSymlinks(p); err == nil {
-				if abs, err := filepath.Abs(real); err == nil && abs == realOut {
-					return filepath.SkipDir
-				}
-			}
 			return nil
-		}
-		if !d.Type().IsRegular() {
-			if d.Type()&fs.ModeSymlink == 0 {
-				return nil
-			}
-			st, err := os.Stat(p) // a link to a file is read; to a folder, not followed
-			if err != nil || !st.Mode().IsRegular() {
-				return nil
-			}
 		}
 		if !isImageName(name) {
 			return nil
 		}
-		rel, err := filepath.Rel(root, p)
+		rel, err := relOf(p)
 		if err != nil {
 			return err
 		}
-		rel = filepath.ToSlash(rel)
 		if !globsAllow(rel, o.include, o.exclude) {
+			return nil
+		}
+		if reason := notRegular(p, d.Type()); reason != "" {
+			skipped = append(skipped, batchSkip{Input: rel, Reason: reason})
 			return nil
 		}
 		rels = append(rels, rel)
 		return nil
 	})
 	if err != nil {
-		return nil, err
+		return nil, nil, usagef("INPUT_DIR: %v", err)
 	}
 	sort.Strings(rels)
-	return stemsFor(rels)
+	sort.Slice(skipped, func(a, b int) bool { return skipped[a].Input < skipped[b].Input })
+	inputs, err := stemsFor(rels)
+	return inputs, skipped, err
+}
+
+// notRegular says why the entry at p, of type t (from its folder listing),
+// is not read as an image, or "" for a regular file or a symbolic link to
+// one. Only the link is followed (stat), nothing is opened.
+func notRegular(p string, t fs.FileMode) string {
+	if t.IsRegular() {
+		return ""
+	}
+	link := ""
+	if t&fs.ModeSymlink != 0 {
+		st, err := os.Stat(p)
+		switch {
+		case isLinkLoop(err):
+			return "a symbolic link that loops (too many levels of links)"
+		case errors.Is(err, fs.ErrNotExist):
+			target, _ := os.Readlink(p)
+			return fmt.Sprintf("a symbolic link to %s, which does not exist", target)
+		case err != nil:
+			return "a symbolic link that cannot be followed: " + describeErr(err)
+		case st.Mode().IsRegular():
+			return ""
+		}
+		t, link = st.Mode().Type(), "a symbolic link to "
+	}
+	switch {
+	case t.IsDir():
+		return link + "a folder, not an image file (links to folders are not followed)"
+	case t&fs.ModeNamedPipe != 0:
+		return link + "a named pipe (FIFO), not a regular file; not opened"
+	case t&fs.ModeSocket != 0:
+		return link + "a socket, not a regular file; not opened"
+	case t&fs.ModeDevice != 0:
+		return link + "a device, not a regular file; not opened"
+	}
+	return link + "not a regular file; not opened"
+}
+
+// describeErr is the system's message of a file error without the path
+// (the caller names the file).
+func describeErr(err error) string {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return pe.Err.Error()
+	}
+	return err.Error()
 }
 
 func isImageName(name string) bool {
@@ -551,28 +670,53 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave batch: cannot create the output folder: %v\n", err)
 		return exitFail
 	}
-	// Temporary files of an earlier, killed run: a shard removes only those
-	// of its own outputs (other shards may be writing into the same folder).
-	var only map[string]bool
+	what := "cleave batch"
 	if p.shardN > 1 {
-		only = map[string]bool{}
-		for _, k := range p.mine {
-			for _, name := range outputNames(p.all[k].Stem) {
-				only[name] = true
-			}
+		what = fmt.Sprintf("cleave batch --shard %d/%d", p.shardI, p.shardN)
+	}
+	lock, err := lockOut(p.out, p.shardN == 1, what)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+		return exitCode(err)
+	}
+	defer lock.release()
+	warnUnlocked(stderr, lock, p.out)
+	// Temporary files of an earlier, killed run: only a run that holds the
+	// lock alone removes them. A shard leaves them, since they may be
+	// another shard's, being written now; its own it removes as it goes.
+	if p.shardN == 1 {
+		dirs := outputDirs(p.all)
+		if p.oldIndex != nil {
+			dirs = append(dirs, outputDirs(p.oldIndex.Inputs)...)
+		}
+		if err := removeTempFiles(p.out, dirs); err != nil {
+			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+			return exitFail
 		}
 	}
-	if err := removeTempFiles(p.out, only); err != nil {
-		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
-		return exitFail
-	}
-	idx := &batchIndex{Tool: "cleave", Version: version, InputDir: p.inputDir, Settings: p.settings, Inputs: p.all}
+	idx := &batchIndex{Tool: "cleave", Version: version, InputDir: p.inputDir, Settings: p.settings, Inputs: p.all, Skipped: p.skipped, Files: []string{}}
 	if p.all == nil {
 		idx.Inputs = []batchInput{}
 	}
-	if err := writeBatchIndex(p.out, idx); err != nil {
+	if p.skipped == nil {
+		idx.Skipped = []batchSkip{}
+	}
+	switch {
+	case p.shardN == 1:
+		idx.Files = topFiles // written at the end of this run
+	case p.oldIndex != nil && p.oldIndex.Files != nil:
+		idx.Files = p.oldIndex.Files
+	case p.oldIndex != nil:
+		idx.Files = legacyTopFiles(p.out)
+	}
+	if err := writeBatchIndex(p.out, idx, p.owner()); err != nil {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitFail
+	}
+	if !p.opts.quiet {
+		for _, sk := range p.skipped {
+			fmt.Fprintf(stderr, "cleave batch: skipped %s: %s\n", filepath.Join(p.inputDir, filepath.FromSlash(sk.Input)), sk.Reason)
+		}
 	}
 
 	ctx, cancel := context.WithCancel(ctx)
@@ -641,7 +785,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 
 	wrote, warned := "", 0
 	if p.shardN == 1 {
-		rows, err := writeManifestAndReport(p.out, idx)
+		rows, err := writeManifestAndReport(p.out, idx, p.owner())
 		if err != nil {
 			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 			return exitFail
@@ -660,6 +804,9 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		}
 		if warned > 0 {
 			fmt.Fprintf(stderr, ", %d with warnings to check (see the report)", warned)
+		}
+		if len(p.skipped) > 0 {
+			fmt.Fprintf(stderr, ", %d other entries skipped", len(p.skipped))
 		}
 		fmt.Fprintf(stderr, " in %.1f s%s\n", time.Since(start).Seconds(), wrote)
 		if p.shardN > 1 {
@@ -696,7 +843,9 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 		err = withFlags(err)
 		rec := &record{Tool: "cleave", Version: version, Status: "failed", Error: err.Error(), Input: inputInfo{Path: src},
 			Settings: &p.settings, Eigenvalues: []float64{}, SplitNcuts: []float64{}, Seconds: map[string]float64{}}
-		if werr := writeRecord(set.path(".json"), rec, true); werr != nil {
+		// Reached only when the output folder cannot be made, so no record
+		// can be there; force is off all the same, to replace nothing.
+		if werr := writeRecord(set.path(".json"), rec, false, p.owner()); werr != nil {
 			err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
 		}
 		return batchResult{k: k, status: statusFailed, err: err}
@@ -710,21 +859,25 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	} else if abs, _ := filepath.Abs(real); !within(abs, p.realOut) {
 		return batchResult{k: k, status: statusFailed, err: fmt.Errorf("%s: output folder %s leads outside --out (to %s) through a symbolic link; nothing written", src, dir, abs)}
 	}
-	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, force: true})
+	// processImage records a failure in STEM.json itself, unless a file
+	// that cleave did not write stands at that path.
+	_, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, replace: replaceOwn, owner: p.owner()})
 	if err != nil {
 		if ctx.Err() != nil {
 			return batchResult{k: k, status: statusNotDone}
 		}
-		if rec != nil {
-			rec.Eigenvalues, rec.SplitNcuts = nonNil(rec.Eigenvalues), nonNil(rec.SplitNcuts)
-			if werr := writeRecord(set.path(".json"), rec, true); werr != nil {
-				err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
-			}
-			return batchResult{k: k, status: statusFailed, err: err}
-		}
-		return fail(err)
+		return batchResult{k: k, status: statusFailed, err: err}
 	}
 	return batchResult{k: k, status: statusComputed}
+}
+
+// owner is the owner tag of this run's temporary files: the process, and
+// the shard when there are several (imageio.WriteAtomicAs).
+func (p *batchPlan) owner() string {
+	if p.shardN > 1 {
+		return fmt.Sprintf("shard%dof%d-%s", p.shardI, p.shardN, imageio.DefaultTempOwner())
+	}
+	return imageio.DefaultTempOwner()
 }
 
 func nonNil(v []float64) []float64 {
@@ -782,71 +935,39 @@ func fileSHA256(p string) (string, error) {
 // outputSuffixes are the files processImage may write for one stem.
 var outputSuffixes = []string{".labels.png", ".overlay.png", ".classes.png", ".regions.csv", ".json"}
 
-// outputNames are the output paths of a stem relative to --out,
-// slash-separated.
-func outputNames(stem string) []string {
-	names := make([]string, len(outputSuffixes))
-	for k, s := range outputSuffixes {
-		names[k] = stem + s
+// outputDirs are the folders, relative to --out and slash-separated,
+// that hold the outputs of inputs, with the top of --out itself.
+func outputDirs(inputs []batchInput) []string {
+	dirs := map[string]bool{".": true}
+	for _, in := range inputs {
+		dirs[path.Dir(in.Stem)] = true
 	}
-	return names
+	return sortedKeys(dirs)
 }
 
-// tempTarget reports whether name is a temporary file of
-// imageio.WriteAtomic (".NAME.tmp-DIGITS") and returns NAME.
-func tempTarget(name string) (string, bool) {
-	i := strings.LastIndex(name, ".tmp-")
-	if !strings.HasPrefix(name, ".") || i < 1 {
-		return "", false
-	}
-	digits := name[i+len(".tmp-"):]
-	if digits == "" {
-		return "", false
-	}
-	for _, c := range digits {
-		if c < '0' || c > '9' {
-			return "", false
+// removeTempFiles deletes, in the folders dirs of --out (relative,
+// slash-separated), the temporary files that imageio.WriteAtomicAs leaves
+// when a process is killed mid-write, whoever their owner. Only a run that
+// holds the lock on --out alone may call it: then no other process is
+// writing. Only the folders cleave writes into are looked at, so a user's
+// files elsewhere under --out (even an INPUT_DIR inside it) are left
+// alone.
+func removeTempFiles(out string, dirs []string) error {
+	for _, d := range dirs {
+		folder := filepath.Join(out, filepath.FromSlash(d))
+		entries, err := os.ReadDir(folder)
+		if err != nil {
+			continue // not created yet
 		}
-	}
-	return name[1:i], true
-}
-
-// removeTempFiles deletes the temporary files that imageio.WriteAtomic
-// leaves when a process is killed mid-write, under dir. When only is not
-// nil, only those whose target (relative to dir, slash-separated) is in
-// it. Symbolic links to folders are not followed.
-func removeTempFiles(dir string, only map[string]bool) error {
-	if only != nil {
-		dirs := map[string]bool{}
-		for name := range only {
-			dirs[path.Dir(name)] = true
-		}
-		for _, d := range sortedKeys(dirs) {
-			entries, err := os.ReadDir(filepath.Join(dir, filepath.FromSlash(d)))
-			if err != nil {
-				continue // not created yet
-			}
-			for _, e := range entries {
-				if t, ok := tempTarget(e.Name()); ok && !e.IsDir() && only[path.Join(d, t)] {
-					if err := os.Remove(filepath.Join(dir, filepath.FromSlash(d), e.Name())); err != nil {
-						return fmt.Errorf("cannot remove a temporary file: %w", err)
-					}
+		for _, e := range entries {
+			if _, _, ok := imageio.ParseTempName(e.Name()); ok && e.Type().IsRegular() {
+				if err := os.Remove(filepath.Join(folder, e.Name())); err != nil && !errors.Is(err, fs.ErrNotExist) {
+					return fmt.Errorf("cannot remove a temporary file: %w", err)
 				}
 			}
 		}
-		return nil
 	}
-	return filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
-		if err != nil {
-			return fmt.Errorf("cannot read %s: %w", p, errors.Unwrap(err))
-		}
-		if _, ok := tempTarget(d.Name()); ok && d.Type().IsRegular() {
-			if err := os.Remove(p); err != nil {
-				return fmt.Errorf("cannot remove a temporary file: %w", err)
-			}
-		}
-		return nil
-	})
+	return nil
 }
 
 func sortedKeys(m map[string]bool) []string {

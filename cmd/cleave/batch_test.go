@@ -530,12 +530,19 @@ func TestBatchKillAndResume(t *testing.T) {
 			t.Fatalf("the run finished before the kill; the test proves nothing")
 		}
 		t.Logf("killed with %d of 8 records written", done)
-		// A stale temporary file and a half-written output, as kill -9
-		// mid-write leaves them.
+		// Stale temporary files (of this version and of earlier ones) and
+		// a broken output under the record that processImage writes
+		// before the outputs (status "writing"), as kill -9 mid-write
+		// would leave them if a renamed file were damaged.
 		os.MkdirAll(out, 0o755)
 		os.WriteFile(filepath.Join(out, ".img-06.labels.png.tmp-123456"), []byte("partial"), 0o644)
+		os.WriteFile(filepath.Join(out, ".img-06.overlay.png.tmp-pid1-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, "img-06.labels.png"), []byte("partial"), 0o644)
-		os.Remove(filepath.Join(out, "img-06.json"))
+		intent := &record{Tool: "cleave", Version: version, Status: statusWriting,
+			Outputs: []string{"img-06.classes.png", "img-06.json", "img-06.labels.png", "img-06.overlay.png", "img-06.regions.csv"}}
+		if err := writeRecord(filepath.Join(out, "img-06.json"), intent, true, ""); err != nil {
+			t.Fatal(err)
+		}
 
 		if code, _, stderr := runCleave(append(args, "--out", out, in)...); code != exitOK {
 			t.Fatalf("rerun after kill: exit %d: %s", code, stderr)
@@ -784,28 +791,6 @@ func TestParseShard(t *testing.T) {
 		i, n, err := parseShard(c.in)
 		if (err == nil) != c.ok || i != c.i || n != c.n {
 			t.Errorf("parseShard(%q) = %d, %d, %v", c.in, i, n, err)
-		}
-	}
-}
-
-// Names of imageio.WriteAtomic's temporary files: "." + name + ".tmp-" +
-// digits (os.CreateTemp replaces * by a decimal number).
-func TestTempTarget(t *testing.T) {
-	cases := []struct {
-		name, target string
-		ok           bool
-	}{
-		{".x.labels.png.tmp-123", "x.labels.png", true},
-		{".a.b.json.tmp-4294967295", "a.b.json", true},
-		{"x.labels.png.tmp-1", "", false},
-		{".x.png.tmp-", "", false},
-		{".x.png.tmp-12a", "", false},
-		{".hidden.png", "", false},
-	}
-	for _, c := range cases {
-		got, ok := tempTarget(c.name)
-		if ok != c.ok || got != c.target {
-			t.Errorf("tempTarget(%q) = %q, %v", c.name, got, ok)
 		}
 	}
 }

@@ -16,6 +16,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"syscall"
 
 	"github.com/cleave-seg/cleave/imageio"
 )
@@ -38,10 +39,23 @@ type batchIndex struct {
 	InputDir string       `json:"input_dir"`
 	Settings settings     `json:"settings"`
 	Inputs   []batchInput `json:"inputs"`
+	// Skipped are the entries of INPUT_DIR named like images that were
+	// not read (manifest status skipped).
+	Skipped []batchSkip `json:"skipped"`
+	// Files are the files at the top of the folder, besides the index and
+	// the per-image outputs, that cleave writes there (manifest.csv and
+	// report.html): listed before they are first written, so that cleave
+	// knows them for its own and never replaces a user's file of the same
+	// name. Absent (nil) in indexes of earlier versions, which wrote both.
+	Files []string `json:"files"`
 }
 
-func writeBatchIndex(dir string, idx *batchIndex) error {
-	return imageio.WriteAtomic(filepath.Join(dir, indexName), true, func(w io.Writer) error {
+// topFiles are the files an unsharded batch or a rebuild writes at the top
+// of the folder.
+var topFiles = []string{manifestName, reportName}
+
+func writeBatchIndex(dir string, idx *batchIndex, owner string) error {
+	return imageio.WriteAtomicAs(filepath.Join(dir, indexName), true, owner, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(idx)
@@ -59,7 +73,7 @@ func readBatchIndex(dir string) (*batchIndex, error) {
 	}
 	var idx batchIndex
 	if err := json.Unmarshal(data, &idx); err != nil || idx.Tool != "cleave" {
-		return nil, fmt.Errorf("%s: not a cleave batch index (%v)", p, err)
+		return nil, fmt.Errorf("%s: not a cleave batch index (%v); cleave does not replace it", p, err)
 	}
 	for _, in := range idx.Inputs {
 		if in.Stem == "" || path.IsAbs(in.Stem) || strings.HasPrefix(path.Clean(in.Stem), "..") {
@@ -67,6 +81,63 @@ func readBatchIndex(dir string) (*batchIndex, error) {
 		}
 	}
 	return &idx, nil
+}
+
+// existingIndex is the index of an earlier batch in dir, or nil when there
+// is none (no folder, or no index in it).
+func existingIndex(dir string) (*batchIndex, error) {
+	if _, err := os.Lstat(filepath.Join(dir, indexName)); errors.Is(err, fs.ErrNotExist) || errors.Is(err, syscall.ENOTDIR) {
+		return nil, nil
+	}
+	return readBatchIndex(dir)
+}
+
+// legacyTopFiles are the top files an index of an earlier version (without
+// Files) stands for: those present, which that version wrote.
+func legacyTopFiles(dir string) []string {
+	var files []string
+	for _, name := range topFiles {
+		if _, err := os.Lstat(filepath.Join(dir, name)); err == nil {
+			files = append(files, name)
+		}
+	}
+	return files
+}
+
+// checkTopFiles refuses to go on when manifest.csv or report.html in dir
+// is a file that cleave did not write (not listed in the index idx of an
+// earlier run; idx may be nil) or a folder.
+func checkTopFiles(dir string, idx *batchIndex) error {
+	own := map[string]bool{}
+	if idx != nil {
+		files := idx.Files
+		if files == nil {
+			files = legacyTopFiles(dir)
+		}
+		for _, name := range files {
+			own[name] = true
+		}
+	}
+	for _, name := range topFiles {
+		p := filepath.Join(dir, name)
+		st, err := os.Lstat(p)
+		switch {
+		case err != nil:
+			continue
+		case st.IsDir():
+			return fmt.Errorf("%s is a folder, where batch writes its %s; move it away or choose another --out", p, name)
+		case !own[name]:
+			return fmt.Errorf("%s exists and was not written by cleave (the batch index in %s does not list it); cleave does not replace it: move it away or choose another --out", p, dir)
+		}
+	}
+	return nil
+}
+
+// warnUnlocked tells the user that dir could not be locked (see lockOut).
+func warnUnlocked(stderr io.Writer, l *outLock, dir string) {
+	if l != nil && l.unsupported != nil {
+		fmt.Fprintf(stderr, "cleave batch: warning: cannot lock %s (%v); make sure no other cleave batch writes into it at the same time\n", dir, l.unsupported)
+	}
 }
 
 // manifestRow is one line of manifest.csv and of the report's table.
@@ -82,21 +153,29 @@ const (
 	rowOK      = "ok"
 	rowFailed  = "failed"
 	rowPending = "pending" // no record for the current settings and version yet
+	rowSkipped = "skipped" // named like an image, but not a file batch reads
 )
 
-// manifestRows reads the record of every input of the index.
+// manifestRows reads the record of every input of the index, and adds the
+// skipped entries; rows are sorted by input path.
 func manifestRows(dir string, idx *batchIndex) []manifestRow {
-	rows := make([]manifestRow, len(idx.Inputs))
-	for k, in := range idx.Inputs {
+	rows := make([]manifestRow, 0, len(idx.Inputs)+len(idx.Skipped))
+	for _, in := range idx.Inputs {
 		r := manifestRow{Input: in.Input, Stem: in.Stem, Status: rowPending}
-		rec, err := readRecord(filepath.Join(dir, filepath.FromSlash(in.Stem)+".json"))
+		p := filepath.Join(dir, filepath.FromSlash(in.Stem)+".json")
+		rec, err := readRecord(p)
 		switch {
 		case errors.Is(err, fs.ErrNotExist):
 			r.Error = "no record yet"
 		case err != nil:
-			r.Error = err.Error()
+			// Something that is not a cleave record stands where the
+			// record goes (a user's file, a folder): the image cannot be
+			// done until it is moved away.
+			r.Status, r.Error = rowFailed, recordBlocked(p, err)
 		case rec.Version != version || rec.Settings == nil || *rec.Settings != idx.Settings:
 			r.Error = "the record is from other parameters or another cleave version"
+		case rec.Status == statusWriting:
+			r.Error = "the run stopped while the outputs were being written; run the batch again"
 		case rec.Status == "ok":
 			r.Status, r.Regions, r.Objects, r.Seconds = rowOK, rec.Regions, rec.Objects, rec.Seconds["total"]
 			for _, w := range rec.Warnings {
@@ -105,12 +184,16 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 		default:
 			r.Status, r.Error, r.Seconds = rowFailed, rec.Error, rec.Seconds["total"]
 		}
-		rows[k] = r
+		rows = append(rows, r)
 	}
+	for _, sk := range idx.Skipped {
+		rows = append(rows, manifestRow{Input: sk.Input, Status: rowSkipped, Error: sk.Reason})
+	}
+	sort.SliceStable(rows, func(a, b int) bool { return rows[a].Input < rows[b].Input })
 	return rows
 }
 
-type rowCounts struct{ ok, warned, failed, pending int }
+type rowCounts struct{ ok, warned, failed, pending, skipped int }
 
 func countRows(rows []manifestRow) rowCounts {
 	var c rowCounts
@@ -123,6 +206,8 @@ func countRows(rows []manifestRow) rowCounts {
 			}
 		case rowFailed:
 			c.failed++
+		case rowSkipped:
+			c.skipped++
 		default:
 			c.pending++
 		}
@@ -132,14 +217,14 @@ func countRows(rows []manifestRow) rowCounts {
 
 // writeManifestAndReport rebuilds manifest.csv and report.html in dir from
 // the records of the inputs of idx.
-func writeManifestAndReport(dir string, idx *batchIndex) ([]manifestRow, error) {
+func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manifestRow, error) {
 	rows := manifestRows(dir, idx)
-	if err := imageio.WriteAtomic(filepath.Join(dir, manifestName), true, func(w io.Writer) error {
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, manifestName), true, owner, func(w io.Writer) error {
 		return writeManifest(w, rows)
 	}); err != nil {
 		return nil, err
 	}
-	if err := imageio.WriteAtomic(filepath.Join(dir, reportName), true, func(w io.Writer) error {
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, reportName), true, owner, func(w io.Writer) error {
 		return writeReport(w, idx, rows)
 	}); err != nil {
 		return nil, err
@@ -157,7 +242,7 @@ func writeManifest(w io.Writer, rows []manifestRow) error {
 		if r.Status == rowOK {
 			rec[2], rec[3] = strconv.Itoa(r.Regions), strconv.Itoa(r.Objects)
 		}
-		if r.Status != rowPending {
+		if r.Status == rowOK || r.Status == rowFailed {
 			rec[4] = strconv.FormatFloat(r.Seconds, 'f', 3, 64)
 		}
 		_ = cw.Write(rec)
@@ -186,13 +271,14 @@ type reportRow struct {
 	manifestRow
 	Overlay, Record string
 	SecondsText     string
-	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending"
-	Class           string // row class: ok, warned, failed, pending
+	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending", "skipped"
+	Class           string // row class: ok, warned, failed, pending, skipped
 }
 
 type reportData struct {
 	Version, InputDir               string
 	Total, OK, Warned, Failed, Pend int
+	Skipped                         int
 	Params                          []reportParam
 	Rows, Sheet, FailureRows        []reportRow
 	WarnedRows                      []reportRow
@@ -204,7 +290,7 @@ type reportData struct {
 // large batches open quickly.
 func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 	c := countRows(rows)
-	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows), OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending}
+	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped}
 	m := map[string]any{}
 	data, _ := json.Marshal(idx.Settings)
 	dec := json.NewDecoder(bytes.NewReader(data))
@@ -219,7 +305,7 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 			rr.StatusText, rr.Class = "ok, "+plural(n, "warning"), "warned"
 			d.WarnedRows = append(d.WarnedRows, rr)
 		}
-		if r.Status != rowPending {
+		if r.Status == rowOK || r.Status == rowFailed {
 			rr.SecondsText = strconv.FormatFloat(r.Seconds, 'f', 2, 64)
 		}
 		d.Rows = append(d.Rows, rr)
@@ -255,6 +341,7 @@ td.n { text-align: right; }
 tr.failed td { background: #fde8e8; }
 tr.warned td { background: #eef3fb; }
 tr.pending td { background: #fff6d6; }
+tr.skipped td { background: #eeeeee; }
 .sheet { display: flex; flex-wrap: wrap; gap: 10px; }
 .sheet figure { margin: 0; width: 160px; }
 .sheet img { width: 160px; height: auto; border: 1px solid #999; }
@@ -263,7 +350,7 @@ tr.pending td { background: #fff6d6; }
 </head>
 <body>
 <h1>cleave batch report</h1>
-<p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}.
+<p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}{{if .Skipped}}; <b>{{.Skipped}} skipped</b> (named like images but not read: see the table){{end}}.
 Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
 The same table as CSV: <a href="./manifest.csv">manifest.csv</a>.</p>
 
@@ -288,7 +375,7 @@ The same table as CSV: <a href="./manifest.csv">manifest.csv</a>.</p>
 <h2>Files</h2>
 <table id="files">
 <tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th></tr>
-{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if ne .Status "pending"}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
+{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if or (eq .Status "ok") (eq .Status "failed")}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
 {{end}}</table>
 
 <h2>Parameters (as requested; each record holds the values used)</h2>

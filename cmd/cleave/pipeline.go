@@ -5,8 +5,10 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"strings"
@@ -94,13 +96,34 @@ type outputSet struct {
 
 func (o outputSet) path(suffix string) string { return filepath.Join(o.dir, o.stem+suffix) }
 
+// replacePolicy says which existing files processImage may replace.
+type replacePolicy int
+
+const (
+	// replaceNone: every output must be new (segment).
+	replaceNone replacePolicy = iota
+	// replaceAny: existing output files are replaced (segment --force).
+	replaceAny
+	// replaceOwn: only files that the image's record lists as outputs
+	// cleave wrote are replaced; any other file in the way fails the
+	// image (batch).
+	replaceOwn
+)
+
+// statusWriting is the status of the record written just before the
+// outputs: it lists every output of the earlier run and of this one, so
+// that a run killed while writing leaves cleave's files known as
+// cleave's. The final record replaces it.
+const statusWriting = "writing"
+
 // job is one image to segment.
 type job struct {
 	path      string
 	out       outputSet
 	settings  settings
 	resolved  *resolved
-	force     bool
+	replace   replacePolicy
+	owner     string // owner tag of temporary files (imageio.WriteAtomicAs), "" for the process
 	saveGraph string // Matrix Market path for the top-level W, or ""
 }
 
@@ -108,14 +131,48 @@ type job struct {
 // segment, write the label map, overlay, class map, region table and
 // finally the record. It returns the record (also on failure, with the
 // error in it) and the error.
+//
+// What is on disk always matches the record STEM.json: before the outputs
+// are written a record with status "writing" lists them; outputs of an
+// earlier run that this one does not write (a class map after --classes
+// was dropped) are removed before the final record; and when the image
+// fails, unless every output had to be new (replaceNone) or the run was
+// cancelled, the earlier outputs are removed and STEM.json records the
+// failure. Which files are cleave's comes from the earlier record.
 func processImage(ctx context.Context, j job) (*record, error) {
 	start := time.Now()
 	set := j.settings
 	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Warnings: []warningInfo{}, Seconds: map[string]float64{}}
+	recordPath := j.out.path(".json")
+	// own: base names of files in j.out.dir that an earlier record (or this
+	// run) lists as cleave's outputs for this stem; mayRecord: whether a
+	// failure may be written into STEM.json.
+	own := map[string]bool{}
+	mayRecord := false
 	fail := func(err error) (*record, error) {
 		err = withFlags(fmt.Errorf("%s: %w", j.path, err))
-		rec.Error = err.Error()
+		rec.Status, rec.Error = "failed", err.Error()
 		rec.Seconds["total"] = time.Since(start).Seconds()
+		if !mayRecord || ctx.Err() != nil {
+			return rec, err
+		}
+		// The outputs of an earlier run (or the part of this one that was
+		// written) no longer match the input: removed, so that nothing
+		// pairs them with it later. Any that cannot be removed stay listed.
+		rec.Outputs = nil
+		for _, name := range sortedKeys(own) {
+			if name == filepath.Base(recordPath) {
+				continue
+			}
+			if rerr := os.Remove(filepath.Join(j.out.dir, name)); rerr != nil && !errors.Is(rerr, fs.ErrNotExist) {
+				rec.Outputs = append(rec.Outputs, name)
+				err = fmt.Errorf("%w (and the earlier output %s could not be removed: %v)", err, name, describeErr(rerr))
+			}
+		}
+		rec.Eigenvalues, rec.SplitNcuts = nonNil(rec.Eigenvalues), nonNil(rec.SplitNcuts)
+		if werr := writeRecord(recordPath, rec, true, j.owner); werr != nil {
+			err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
+		}
 		return rec, err
 	}
 	var tick time.Time
@@ -124,12 +181,36 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		rec.Seconds[name] += now.Sub(tick).Seconds()
 		tick = now
 	}
-	if !j.force {
+	switch j.replace {
+	case replaceNone:
 		for _, p := range j.outputs() {
-			if _, err := os.Lstat(p); err == nil {
+			if st, err := os.Lstat(p); err == nil && st.IsDir() {
+				return fail(fmt.Errorf("%s: %w", p, imageio.ErrIsFolder))
+			} else if err == nil {
 				return fail(fmt.Errorf("output %s already exists (use --force to overwrite)", p))
 			}
 		}
+	default:
+		prior, err := priorOutputs(j.out)
+		if err != nil && (j.replace == replaceOwn || errors.Is(err, imageio.ErrIsFolder)) {
+			return fail(err) // the record's path is not cleave's to write
+		}
+		own, mayRecord = prior, true
+		for _, p := range j.outputs() {
+			st, err := os.Lstat(p)
+			switch {
+			case err != nil:
+			case st.IsDir():
+				return fail(fmt.Errorf("%s: %w", p, imageio.ErrIsFolder))
+			case j.replace == replaceOwn && !own[filepath.Base(p)] && p != recordPath:
+				return fail(fmt.Errorf("%s exists and was not written by cleave (its record %s does not list it); cleave does not replace it: move it away or choose another --out", p, recordPath))
+			}
+		}
+	}
+	// Never open anything but a regular file: a FIFO would block for ever,
+	// a device might never end.
+	if st, err := os.Stat(j.path); err == nil && !st.Mode().IsRegular() {
+		return fail(errors.New(notRegular(j.path, st.Mode().Type())))
 	}
 	src, err := openInput(j.path, j.resolved)
 	if err != nil {
@@ -201,13 +282,27 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
 		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), j.settings.PixelSize, j.settings.Unit)
 	}})
+	// The record announces the outputs before they are written.
+	written := map[string]bool{filepath.Base(recordPath): true}
+	for _, o := range outs {
+		written[filepath.Base(j.out.path(o.suffix))] = true
+	}
+	for name := range written {
+		own[name] = true
+	}
+	intent := *rec
+	intent.Status, intent.Outputs = statusWriting, sortedKeys(own)
+	if err := writeRecord(recordPath, &intent, j.replace != replaceNone, j.owner); err != nil {
+		return fail(err)
+	}
+	mayRecord = true
 	errs := make([]error, len(outs))
 	var wg sync.WaitGroup
 	for k, o := range outs {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			errs[k] = imageio.WriteAtomic(j.out.path(o.suffix), j.force, o.fn)
+			errs[k] = imageio.WriteAtomicAs(j.out.path(o.suffix), j.replace != replaceNone, j.owner, o.fn)
 		}()
 	}
 	wg.Wait()
@@ -224,19 +319,77 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		} else {
 			comment += "; node k is superpixel k (numbered in raster order of its first pixel)"
 		}
-		if err := imageio.WriteAtomic(j.saveGraph, j.force, func(wr io.Writer) error {
+		if err := imageio.WriteAtomicAs(j.saveGraph, j.replace != replaceNone, j.owner, func(wr io.Writer) error {
 			return res.Graph.WriteMatrixMarket(wr, comment)
 		}); err != nil {
 			return fail(err)
 		}
 	}
+	// Outputs of an earlier run that this one did not write (a class map
+	// when --classes was dropped) would look current beside the new ones.
+	for _, name := range sortedKeys(own) {
+		if written[name] {
+			continue
+		}
+		if err := os.Remove(filepath.Join(j.out.dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fail(fmt.Errorf("cannot remove the earlier output %s: %v", filepath.Join(j.out.dir, name), describeErr(err)))
+		}
+		delete(own, name)
+	}
 	lap("write")
 	rec.Status = "ok"
 	rec.Seconds["total"] = time.Since(start).Seconds()
-	if err := writeRecord(j.out.path(".json"), rec, true); err != nil {
+	if err := writeRecord(recordPath, rec, true, j.owner); err != nil {
 		return fail(err)
 	}
 	return rec, nil
+}
+
+// priorOutputs reads the record an earlier run left for set and returns
+// the base names of the files it lists as cleave's outputs, with the
+// record itself; only names that cleave gives the outputs of this stem
+// count. No record: none. A folder, or a file that is not a cleave
+// record, at the record's path is an error (wrapping imageio.ErrIsFolder
+// for a folder).
+func priorOutputs(set outputSet) (map[string]bool, error) {
+	own := map[string]bool{}
+	p := set.path(".json")
+	st, err := os.Lstat(p)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		return own, nil
+	case err != nil:
+		return own, err
+	case st.IsDir():
+		return own, fmt.Errorf("%s: %w (it is where the image's record goes)", p, imageio.ErrIsFolder)
+	}
+	rec, err := readRecord(p)
+	if err != nil || !st.Mode().IsRegular() {
+		return own, fmt.Errorf("%s exists and is not a record that cleave wrote; cleave does not replace it: move it away or choose another --out", p)
+	}
+	valid := map[string]bool{}
+	for _, s := range outputSuffixes {
+		valid[set.stem+s] = true
+	}
+	own[filepath.Base(p)] = true
+	for _, name := range rec.Outputs {
+		if valid[name] {
+			own[name] = true
+		}
+	}
+	return own, nil
+}
+
+// recordBlocked says why the record at p could not be read (err from
+// readRecord), as the manifest shows it.
+func recordBlocked(p string, err error) string {
+	if st, serr := os.Lstat(p); serr == nil && st.IsDir() {
+		return fmt.Sprintf("%s is a folder, where the image's record goes; move it away and run again", p)
+	}
+	if errors.Is(err, fs.ErrPermission) {
+		return fmt.Sprintf("the record %s cannot be read: %v", p, describeErr(err))
+	}
+	return fmt.Sprintf("%s is not a record that cleave wrote, so cleave does not replace it; move it away and run again", p)
 }
 
 // outputs lists every file the job may write.
@@ -252,8 +405,8 @@ func (j job) outputs() []string {
 }
 
 // writeRecord writes the JSON record atomically.
-func writeRecord(path string, rec *record, force bool) error {
-	return imageio.WriteAtomic(path, force, func(w io.Writer) error {
+func writeRecord(path string, rec *record, force bool, owner string) error {
+	return imageio.WriteAtomicAs(path, force, owner, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(rec)

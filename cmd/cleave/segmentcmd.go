@@ -54,7 +54,7 @@ func segmentFlags() (*pflag.FlagSet, *settings, *commonFlags) {
 	s := &settings{}
 	c := &commonFlags{}
 	fs.StringVarP(&c.out, "out", "o", "cleave-out", "folder for the outputs (created if missing)")
-	fs.BoolVar(&c.force, "force", false, "overwrite existing outputs")
+	fs.BoolVar(&c.force, "force", false, "overwrite existing outputs (never an input image; --save-graph replaces only a Matrix Market file)")
 	fs.StringVar(&c.params, "params", "", "JSON file of parameters named like the flags (e.g. a tuned best.json); flags given here win")
 	addParamFlags(fs, s)
 	fs.StringVar(&c.saveGraph, "save-graph", "", "write the top-level affinity matrix W to this Matrix Market file (one image only)")
@@ -121,17 +121,29 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		}
 		stems[st] = p
 	}
+	replace := replaceNone
+	if c.force {
+		replace = replaceAny
+	}
+	jobs := make([]job, len(images))
+	for k, p := range images {
+		jobs[k] = job{path: p, out: outputSet{dir: c.out, stem: stemOf(p)}, settings: *s, resolved: res, replace: replace, saveGraph: c.saveGraph}
+	}
+	if err := checkNotInputs(jobs); err != nil {
+		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
+		return exitUsage
+	}
 	if err := os.MkdirAll(c.out, 0o755); err != nil {
 		fmt.Fprintf(stderr, "cleave segment: cannot create the output folder: %v\n", err)
 		return exitFail
 	}
 	failed := 0
-	for _, p := range images {
+	for _, j := range jobs {
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave segment: interrupted")
 			return exitFail
 		}
-		j := job{path: p, out: outputSet{dir: c.out, stem: stemOf(p)}, settings: *s, resolved: res, force: c.force, saveGraph: c.saveGraph}
+		p := j.path
 		rec, err := processImage(ctx, j)
 		if err != nil {
 			failed++
@@ -148,6 +160,82 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	}
 	return exitOK
 }
+
+// checkNotInputs refuses, before anything is written, an output path (or
+// the --save-graph path) that is one of the input images, with --force or
+// without: cleave never replaces its own input. Paths are compared as
+// files (os.SameFile), so links and other spellings of a path count.
+// The --save-graph path may not be one of the outputs either.
+func checkNotInputs(jobs []job) error {
+	type input struct {
+		path string
+		info os.FileInfo
+	}
+	var inputs []input
+	for _, j := range jobs {
+		if st, err := os.Stat(j.path); err == nil {
+			inputs = append(inputs, input{j.path, st})
+		}
+	}
+	for _, j := range jobs {
+		for _, out := range j.outputs() {
+			st, err := os.Stat(out)
+			if err != nil {
+				continue
+			}
+			for _, in := range inputs {
+				if os.SameFile(st, in.info) {
+					what := "output"
+					if out == j.saveGraph {
+						what = "--save-graph file"
+					}
+					return fmt.Errorf("the %s %s of %s is the input image %s; cleave never replaces an input, even with --force: choose another --out or file name", what, out, j.path, in.path)
+				}
+			}
+		}
+		if j.saveGraph != "" {
+			if err := checkGraphTarget(j.saveGraph); err != nil {
+				return err
+			}
+			g, _ := filepath.Abs(j.saveGraph)
+			own := j
+			own.saveGraph = ""
+			for _, out := range own.outputs() {
+				if o, _ := filepath.Abs(out); o == g {
+					return fmt.Errorf("--save-graph %s is also an output of %s; choose another file name", j.saveGraph, j.path)
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// checkGraphTarget refuses an existing --save-graph path that is not a
+// Matrix Market file (its first line starts "%%MatrixMarket"), even with
+// --force: cleave replaces only a graph file, such as one it wrote
+// before, never an image or another file of the user's.
+func checkGraphTarget(p string) error {
+	st, err := os.Stat(p)
+	if err != nil {
+		return nil // nothing there yet (or the write will name the problem)
+	}
+	if !st.Mode().IsRegular() {
+		return fmt.Errorf("--save-graph %s exists and is not a regular file; choose another file name", p)
+	}
+	f, err := os.Open(p)
+	if err != nil {
+		return fmt.Errorf("--save-graph %s: %v", p, err)
+	}
+	defer f.Close()
+	head := make([]byte, len(matrixMarketBanner))
+	if _, err := io.ReadFull(f, head); err != nil || string(head) != matrixMarketBanner {
+		return fmt.Errorf("--save-graph %s exists and is not a Matrix Market file; cleave replaces only a graph file, even with --force: choose another file name", p)
+	}
+	return nil
+}
+
+// matrixMarketBanner starts every Matrix Market file.
+const matrixMarketBanner = "%%MatrixMarket"
 
 // summaryLine is the one line per image on stdout.
 func summaryLine(rec *record, prefix string) string {
