@@ -805,8 +805,10 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		if warned > 0 {
 			fmt.Fprintf(stderr, ", %d with warnings to check (see the report)", warned)
 		}
-		if len(p.skipped) > 0 {
-			fmt.Fprintf(stderr, ", %d other entries skipped", len(p.skipped))
+		if n := len(p.skipped); n == 1 {
+			fmt.Fprint(stderr, ", 1 other entry skipped")
+		} else if n > 1 {
+			fmt.Fprintf(stderr, ", %d other entries skipped", n)
 		}
 		fmt.Fprintf(stderr, " in %.1f s%s\n", time.Since(start).Seconds(), wrote)
 		if p.shardN > 1 {
