@@ -207,11 +207,6 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			}
 		}
 	}
-	// Never open anything but a regular file: a FIFO would block for ever,
-	// a device might never end.
-	if st, err := os.Stat(j.path); err == nil && !st.Mode().IsRegular() {
-		return fail(errors.New(notRegular(j.path, st.Mode().Type())))
-	}
 	src, err := openInput(j.path, j.resolved)
 	if err != nil {
 		return fail(err)
