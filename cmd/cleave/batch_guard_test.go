@@ -83,6 +83,13 @@ func TestBatchOneWriterPerOut(t *testing.T) {
 	if err := first.Process.Signal(syscall.SIGSTOP); err != nil {
 		t.Fatal(err)
 	}
+	// The signal is delivered asynchronously: wait until the kernel
+	// reports the child stopped (waitpid with WUNTRACED), so that no
+	// write of the first run can land after the snapshot below.
+	var ws syscall.WaitStatus
+	if _, err := syscall.Wait4(first.Process.Pid, &ws, syscall.WUNTRACED, nil); err != nil || !ws.Stopped() {
+		t.Fatalf("the first run did not stop: %v (status %v)", err, ws)
+	}
 	stopped := true
 	defer func() {
 		if stopped {
