@@ -1,6 +1,7 @@
 package segment
 
 import (
+	"container/heap"
 	"math"
 	"slices"
 )
@@ -111,6 +112,23 @@ func parabolaCut(f []float64, q, p int) float64 {
 // apart it is 1 - sqrt(1 - (d/2R)²) (closed form from the chord at the
 // saddle); a convex shape has 0.
 func neckDepth(d []float64, cw, ch int) float64 {
+	return deepestNeck(d, cw, ch).depth
+}
+
+// neck is the deepest neck of a distance map: its relative depth (see
+// neckDepth) and the peak pixels of the two pieces that meet there (-1
+// when the shape has one maximum).
+type neck struct {
+	depth  float64
+	peakA  int
+	peakB  int
+	saddle float64
+}
+
+// deepestNeck floods d from the top as neckDepth describes and returns
+// the merge of greatest relative depth with the peak pixels of its two
+// pieces.
+func deepestNeck(d []float64, cw, ch int) neck {
 	var order []int
 	for i, v := range d {
 		if v > 0 {
@@ -131,7 +149,7 @@ func neckDepth(d []float64, cw, ch int) float64 {
 	for i := range parent {
 		parent[i] = -1 // not flooded yet
 	}
-	peak := make([]float64, len(d))
+	top := make([]int32, len(d)) // root -> its peak pixel
 	find := func(x int32) int32 {
 		for parent[x] != x {
 			parent[x] = parent[parent[x]]
@@ -139,10 +157,10 @@ func neckDepth(d []float64, cw, ch int) float64 {
 		}
 		return x
 	}
-	best := 0.0
+	best := neck{peakA: -1, peakB: -1}
 	for _, i := range order {
 		parent[i] = int32(i)
-		peak[i] = d[i]
+		top[i] = int32(i)
 		x, y := i%cw, i/cw
 		for dy := -1; dy <= 1; dy++ {
 			for dx := -1; dx <= 1; dx++ {
@@ -159,11 +177,14 @@ func neckDepth(d []float64, cw, ch int) float64 {
 					continue
 				}
 				// The lower of the two pieces ends here, at saddle d[i].
-				lo := min(peak[a], peak[b])
+				pa, pb := d[top[a]], d[top[b]]
+				lo := min(pa, pb)
 				if p := lo - 0.5; p > 0 {
-					best = max(best, (lo-d[i])/p)
+					if r := (lo - d[i]) / p; r > best.depth {
+						best = neck{depth: r, peakA: int(top[a]), peakB: int(top[b]), saddle: d[i]}
+					}
 				}
-				if peak[a] >= peak[b] {
+				if pa >= pb {
 					parent[b] = a
 				} else {
 					parent[a] = b
@@ -172,4 +193,59 @@ func neckDepth(d []float64, cw, ch int) float64 {
 		}
 	}
 	return best
+}
+
+// splitAtNeck divides a shape (distance map d, inside pixels > 0) in two
+// at its deepest neck n: a watershed of -d from the two peak pixels
+// (Meyer's flooding by a priority queue, highest distance first, ties by
+// pixel index, 8-neighbours), the marker-controlled watershed of the
+// distance transform that the classical pipeline for touching objects
+// uses (Soille 2003, section 9.3), here with only the two markers the
+// neck separates. It returns side 1 or 2 per pixel (0 outside).
+func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
+	side := make([]uint8, len(d))
+	q := &floodQueue{d: d}
+	side[n.peakA], side[n.peakB] = 1, 2
+	heap.Push(q, n.peakA)
+	heap.Push(q, n.peakB)
+	for q.Len() > 0 {
+		i := heap.Pop(q).(int)
+		x, y := i%cw, i/cw
+		for dy := -1; dy <= 1; dy++ {
+			for dx := -1; dx <= 1; dx++ {
+				xx, yy := x+dx, y+dy
+				if (dx == 0 && dy == 0) || xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+					continue
+				}
+				j := yy*cw + xx
+				if d[j] > 0 && side[j] == 0 {
+					side[j] = side[i]
+					heap.Push(q, j)
+				}
+			}
+		}
+	}
+	return side
+}
+
+// floodQueue orders pixels by descending distance, then ascending index.
+type floodQueue struct {
+	d   []float64
+	pix []int
+}
+
+func (q *floodQueue) Len() int { return len(q.pix) }
+func (q *floodQueue) Less(a, b int) bool {
+	da, db := q.d[q.pix[a]], q.d[q.pix[b]]
+	if da != db {
+		return da > db
+	}
+	return q.pix[a] < q.pix[b]
+}
+func (q *floodQueue) Swap(a, b int) { q.pix[a], q.pix[b] = q.pix[b], q.pix[a] }
+func (q *floodQueue) Push(x any)    { q.pix = append(q.pix, x.(int)) }
+func (q *floodQueue) Pop() any {
+	x := q.pix[len(q.pix)-1]
+	q.pix = q.pix[:len(q.pix)-1]
+	return x
 }

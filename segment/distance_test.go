@@ -105,3 +105,52 @@ func TestNeckDepthDiscs(t *testing.T) {
 		t.Errorf("ellipse: depth %.3f, want about 0", got)
 	}
 }
+
+// Two overlapping discs split at their neck: the watershed from the two
+// peaks puts each disc centre on its own side and the cut on the
+// perpendicular bisector of the centres (by symmetry, plane geometry):
+// every pixel nearer one centre than the other by more than a pixel lies
+// on that centre's side.
+func TestSplitAtNeckDiscs(t *testing.T) {
+	for _, c := range []struct{ R, sep float64 }{{20, 30}, {12, 20}, {15, 16}} {
+		mask, cw, ch := discRow(c.R, c.sep, 2)
+		d := distanceInside(mask, cw, ch)
+		nk := deepestNeck(d, cw, ch)
+		if nk.peakA < 0 || nk.peakB < 0 {
+			t.Fatalf("R=%v sep=%v: no neck found", c.R, c.sep)
+		}
+		side := splitAtNeck(d, cw, ch, nk)
+		ax, bx := 3+c.R, 3+c.R+c.sep
+		wrong := 0
+		for y := 0; y < ch; y++ {
+			for x := 0; x < cw; x++ {
+				i := y*cw + x
+				if !mask[i] {
+					if side[i] != 0 {
+						t.Fatalf("R=%v sep=%v: pixel (%d,%d) outside the shape got side %d", c.R, c.sep, x, y, side[i])
+					}
+					continue
+				}
+				px := float64(x) + 0.5
+				da, db := math.Abs(px-ax), math.Abs(px-bx)
+				switch {
+				case side[i] == 0:
+					t.Fatalf("R=%v sep=%v: pixel (%d,%d) of the shape has no side", c.R, c.sep, x, y)
+				case da+1 < db && side[i] != side[pixelAt(cw, ax, ch)]:
+					wrong++
+				case db+1 < da && side[i] != side[pixelAt(cw, bx, ch)]:
+					wrong++
+				}
+			}
+		}
+		if side[pixelAt(cw, ax, ch)] == side[pixelAt(cw, bx, ch)] {
+			t.Errorf("R=%v sep=%v: both centres on one side", c.R, c.sep)
+		}
+		if wrong > 0 {
+			t.Errorf("R=%v sep=%v: %d pixels on the far side of the bisector", c.R, c.sep, wrong)
+		}
+	}
+}
+
+// pixelAt is the pixel index of the point (x, mid-height) of a cw x ch crop.
+func pixelAt(cw int, x float64, ch int) int { return (ch/2)*cw + int(x) }
