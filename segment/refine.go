@@ -69,6 +69,8 @@ const (
 // weak affinities across it and so a cheap cut; a single object has none.
 // A split must also pass seamSplit: the cut must run along a dip in
 // contrast, so thin scratches and elongated objects are not cut across.
+// In a shape with a neck, a split through the neck is accepted too, and
+// a region the cut left with a deep neck is split there (neckPieces).
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
 func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) (refined, error) {
