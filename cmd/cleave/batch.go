@@ -659,6 +659,7 @@ type batchResult struct {
 	k      int
 	status batchStatus
 	err    error
+	notes  []string // printed on stderr: output names that changed (labelWarningCode)
 }
 
 // execute runs the plan: clean up, write the index, process this shard's
@@ -756,6 +757,12 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 			if !ok {
 				done = true
 				break
+			}
+			if len(r.notes) > 0 && !p.opts.quiet {
+				prog.clear()
+				for _, n := range r.notes {
+					fmt.Fprintf(stderr, "cleave batch: %s\n", n)
+				}
 			}
 			switch r.status {
 			case statusComputed:
@@ -863,14 +870,22 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	}
 	// processImage records a failure in STEM.json itself, unless a file
 	// that cleave did not write stands at that path.
-	_, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, replace: replaceOwn, owner: p.owner()})
+	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, replace: replaceOwn, owner: p.owner()})
 	if err != nil {
 		if ctx.Err() != nil {
 			return batchResult{k: k, status: statusNotDone}
 		}
 		return batchResult{k: k, status: statusFailed, err: err}
 	}
-	return batchResult{k: k, status: statusComputed}
+	// Other warnings are in the report; this one changes an output's
+	// name, so it is said at once too.
+	var notes []string
+	for _, w := range rec.Warnings {
+		if w.Code == labelWarningCode {
+			notes = append(notes, fmt.Sprintf("%s: warning: %s", src, w.Message))
+		}
+	}
+	return batchResult{k: k, status: statusComputed, notes: notes}
 }
 
 // owner is the owner tag of this run's temporary files: the process, and
@@ -894,7 +909,7 @@ func nonNil(v []float64) []float64 {
 // every output it lists present.
 func (p *batchPlan) upToDate(src string, set outputSet) bool {
 	rec, err := readRecord(set.path(".json"))
-	if err != nil || rec.Status != "ok" || rec.Version != version || rec.Settings == nil || *rec.Settings != p.settings {
+	if err != nil || rec.Status != "ok" || rec.Version != version || rec.Settings == nil || !sameSettings(*rec.Settings, p.settings) {
 		return false
 	}
 	for _, name := range rec.Outputs {
@@ -935,7 +950,7 @@ func fileSHA256(p string) (string, error) {
 }
 
 // outputSuffixes are the files processImage may write for one stem.
-var outputSuffixes = []string{".labels.png", ".overlay.png", ".classes.png", ".regions.csv", ".json"}
+var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".classes.png", ".classes.tif", ".regions.csv", ".json"}
 
 // outputDirs are the folders, relative to --out and slash-separated,
 // that hold the outputs of inputs, with the top of --out itself.

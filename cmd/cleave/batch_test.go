@@ -99,7 +99,7 @@ func readManifest(t *testing.T, out string) map[string][]string {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if want := []string{"input", "status", "regions", "objects", "seconds", "error", "warnings"}; strings.Join(recs[0], ",") != strings.Join(want, ",") {
+	if want := []string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"}; strings.Join(recs[0], ",") != strings.Join(want, ",") {
 		t.Fatalf("manifest header %v, want %v", recs[0], want)
 	}
 	rows := map[string][]string{}

@@ -143,6 +143,9 @@ func warnUnlocked(stderr io.Writer, l *outLock, dir string) {
 // manifestRow is one line of manifest.csv and of the report's table.
 type manifestRow struct {
 	Input, Stem, Status, Error string
+	// Labels is the label map of an ok record, relative to the folder
+	// and slash-separated (its name depends on the format written).
+	Labels string
 	Regions, Objects           int
 	Seconds                    float64
 	Warnings                   []string // messages of an ok record's warnings
@@ -172,12 +175,15 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			// record goes (a user's file, a folder): the image cannot be
 			// done until it is moved away.
 			r.Status, r.Error = rowFailed, recordBlocked(p, err)
-		case rec.Version != version || rec.Settings == nil || *rec.Settings != idx.Settings:
+		case rec.Version != version || rec.Settings == nil || !sameSettings(*rec.Settings, idx.Settings):
 			r.Error = "the record is from other parameters or another cleave version"
 		case rec.Status == statusWriting:
 			r.Error = "the run stopped while the outputs were being written; run the batch again"
 		case rec.Status == "ok":
 			r.Status, r.Regions, r.Objects, r.Seconds = rowOK, rec.Regions, rec.Objects, rec.Seconds["total"]
+			if name := labelMapOf(rec); name != "" {
+				r.Labels = path.Join(path.Dir(in.Stem), name)
+			}
 			for _, w := range rec.Warnings {
 				r.Warnings = append(r.Warnings, w.Message)
 			}
@@ -191,6 +197,24 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 	}
 	sort.SliceStable(rows, func(a, b int) bool { return rows[a].Input < rows[b].Input })
 	return rows
+}
+
+// labelMapOf is the file name of the label map a record lists as written
+// (records of earlier versions lack label_maps: their outputs tell), or "".
+func labelMapOf(rec *record) string {
+	for _, m := range rec.LabelMaps {
+		if m.Content == "labels" {
+			return m.File
+		}
+	}
+	for _, name := range rec.Outputs {
+		for _, suf := range labelsSuffixes {
+			if strings.HasSuffix(name, suf) {
+				return name
+			}
+		}
+	}
+	return ""
 }
 
 type rowCounts struct{ ok, warned, failed, pending, skipped int }
@@ -236,9 +260,9 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 // cells neutralized by csvText).
 func writeManifest(w io.Writer, rows []manifestRow) error {
 	cw := csv.NewWriter(w)
-	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error", "warnings"})
+	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"})
 	for _, r := range rows {
-		rec := []string{csvText(r.Input), r.Status, "", "", "", csvText(r.Error), csvText(strings.Join(r.Warnings, " | "))}
+		rec := []string{csvText(r.Input), r.Status, "", "", "", csvText(r.Error), csvText(strings.Join(r.Warnings, " | ")), csvText(r.Labels)}
 		if r.Status == rowOK {
 			rec[2], rec[3] = strconv.Itoa(r.Regions), strconv.Itoa(r.Objects)
 		}
@@ -270,6 +294,7 @@ type reportParam struct{ Name, Value string }
 type reportRow struct {
 	manifestRow
 	Overlay, Record string
+	LabelsLink      string // relative URL of the label map, "" when none
 	SecondsText     string
 	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending", "skipped"
 	Class           string // row class: ok, warned, failed, pending, skipped
@@ -301,6 +326,9 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 	}
 	for _, r := range rows {
 		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json"), StatusText: r.Status, Class: r.Status}
+		if r.Labels != "" {
+			rr.LabelsLink = relURL(r.Labels)
+		}
 		if n := len(r.Warnings); n > 0 {
 			rr.StatusText, rr.Class = "ok, "+plural(n, "warning"), "warned"
 			d.WarnedRows = append(d.WarnedRows, rr)
@@ -374,8 +402,8 @@ The same table as CSV: <a href="./manifest.csv">manifest.csv</a>.</p>
 
 <h2>Files</h2>
 <table id="files">
-<tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th></tr>
-{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if or (eq .Status "ok") (eq .Status "failed")}}<a href="{{.Record}}">json</a>{{end}}</td></tr>
+<tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th><th>label map</th></tr>
+{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if or (eq .Status "ok") (eq .Status "failed")}}<a href="{{.Record}}">json</a>{{end}}</td><td>{{if .LabelsLink}}<a href="{{.LabelsLink}}">{{.Labels}}</a>{{end}}</td></tr>
 {{end}}</table>
 
 <h2>Parameters (as requested; each record holds the values used)</h2>

@@ -50,6 +50,68 @@ type record struct {
 	Warnings    []warningInfo      `json:"warnings"`
 	Seconds     map[string]float64 `json:"seconds"`
 	Outputs     []string           `json:"outputs,omitempty"`
+	LabelMaps   []labelMapInfo     `json:"label_maps,omitempty"`
+}
+
+// labelMapInfo describes one label or class map written: its file, format
+// and sample width, and the resolution its TIFF tags carry (or why they
+// carry none).
+type labelMapInfo struct {
+	File     string `json:"file"`
+	Content  string `json:"content"` // "labels" or "classes"
+	Format   string `json:"format"`  // "png" or "tiff"
+	Bits     int    `json:"bits"`    // bits per sample: 16, or 32 for TIFF above 65535
+	MaxLabel int32  `json:"max_label"`
+	// PixelsPerUnit and ResolutionUnit are the TIFF XResolution (=
+	// YResolution) and ResolutionUnit written, from pixel-size and unit.
+	PixelsPerUnit  float64 `json:"pixels_per_unit,omitempty"`
+	ResolutionUnit string  `json:"resolution_unit,omitempty"` // "centimetre" or "inch"
+	// ResolutionNote says why a TIFF with a pixel size has no resolution.
+	ResolutionNote string `json:"resolution_note,omitempty"`
+}
+
+// Output suffixes of the label and class maps by format.
+var (
+	labelsSuffixes  = map[string]string{imageio.LabelsPNG: ".labels.png", imageio.LabelsTIFF: ".labels.tif"}
+	classesSuffixes = map[string]string{imageio.LabelsPNG: ".classes.png", imageio.LabelsTIFF: ".classes.tif"}
+)
+
+// labelsFormatFor is the format the label and class maps of one result are
+// written in: the one asked for, except that labels above 65535, which a
+// 16-bit PNG cannot hold, are written as a TIFF (32-bit) rather than
+// wrapped around or refused after the work is done. switched reports that
+// case.
+func labelsFormatFor(asked string, maxLabel int32) (format string, switched bool) {
+	if asked == imageio.LabelsPNG && maxLabel > imageio.MaxPNGLabel {
+		return imageio.LabelsTIFF, true
+	}
+	return asked, false
+}
+
+// labelWarningCode marks the warning that the label map was written as a
+// TIFF because PNG could not hold its labels.
+const labelWarningCode = "labels-tiff"
+
+// encodeLabelMap returns the encoder of one label or class map in format,
+// and fills info (file, format, bits, resolution) for the record.
+func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, info *labelMapInfo) func(io.Writer) error {
+	info.Format, info.MaxLabel = format, imageio.MaxLabel(labels)
+	if format == imageio.LabelsPNG {
+		info.Bits = 16
+		return func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, labels) }
+	}
+	info.Bits = imageio.LabelBits(labels)
+	res, why := imageio.ResolutionFor(pixelSize, unit)
+	if res.Set() {
+		info.PixelsPerUnit = res.PerUnit()
+		info.ResolutionUnit = map[int]string{imageio.ResolutionCM: "centimetre", imageio.ResolutionInch: "inch"}[res.Unit]
+	} else if why != "" {
+		info.ResolutionNote = "no resolution tags: " + why
+	}
+	return func(wr io.Writer) error {
+		_, err := imageio.EncodeLabelsTIFF(wr, w, h, labels, res)
+		return err
+	}
 }
 
 // warningInfo is one finding about the result that the user should check
@@ -181,31 +243,33 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		rec.Seconds[name] += now.Sub(tick).Seconds()
 		tick = now
 	}
-	switch j.replace {
-	case replaceNone:
-		for _, p := range j.outputs() {
-			if st, err := os.Lstat(p); err == nil && st.IsDir() {
-				return fail(fmt.Errorf("%s: %w", p, imageio.ErrIsFolder))
-			} else if err == nil {
-				return fail(fmt.Errorf("output %s already exists (use --force to overwrite)", p))
+	// checkPaths refuses outputs that may not be written: any existing
+	// one when every output must be new, a folder, and (batch) a file
+	// that the earlier record does not list.
+	checkPaths := func(paths []string) error {
+		for _, p := range paths {
+			st, err := os.Lstat(p)
+			switch {
+			case err != nil:
+			case st.IsDir():
+				return fmt.Errorf("%s: %w", p, imageio.ErrIsFolder)
+			case j.replace == replaceNone:
+				return fmt.Errorf("output %s already exists (use --force to overwrite)", p)
+			case j.replace == replaceOwn && !own[filepath.Base(p)] && p != recordPath:
+				return fmt.Errorf("%s exists and was not written by cleave (its record %s does not list it); cleave does not replace it: move it away or choose another --out", p, recordPath)
 			}
 		}
-	default:
+		return nil
+	}
+	if j.replace != replaceNone {
 		prior, err := priorOutputs(j.out)
 		if err != nil && (j.replace == replaceOwn || errors.Is(err, imageio.ErrIsFolder)) {
 			return fail(err) // the record's path is not cleave's to write
 		}
 		own, mayRecord = prior, true
-		for _, p := range j.outputs() {
-			st, err := os.Lstat(p)
-			switch {
-			case err != nil:
-			case st.IsDir():
-				return fail(fmt.Errorf("%s: %w", p, imageio.ErrIsFolder))
-			case j.replace == replaceOwn && !own[filepath.Base(p)] && p != recordPath:
-				return fail(fmt.Errorf("%s exists and was not written by cleave (its record %s does not list it); cleave does not replace it: move it away or choose another --out", p, recordPath))
-			}
-		}
+	}
+	if err := checkPaths(j.outputs()); err != nil {
+		return fail(err)
 	}
 	src, err := openInput(j.path, j.resolved)
 	if err != nil {
@@ -267,13 +331,36 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		suffix string
 		fn     func(io.Writer) error
 	}
+	// Label and class maps share one format; labels that PNG cannot hold
+	// switch both to TIFF, and the record and stderr say so.
+	asked := j.settings.labelsFormat()
+	format, switched := labelsFormatFor(asked, imageio.MaxLabel(res.Labels))
+	if switched {
+		also := ""
+		if res.Classes != nil {
+			also = " (and the class map as " + filepath.Base(j.out.path(classesSuffixes[format])) + ")"
+		}
+		rec.Warnings = append(rec.Warnings, warningInfo{Code: labelWarningCode, Message: fmt.Sprintf(
+			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; --labels-format tiff asks for TIFF from the start",
+			imageio.MaxLabel(res.Labels), imageio.MaxPNGLabel, filepath.Base(j.out.path(labelsSuffixes[format])), filepath.Base(j.out.path(labelsSuffixes[asked])), also)})
+		fallback := []string{j.out.path(labelsSuffixes[format])}
+		if res.Classes != nil {
+			fallback = append(fallback, j.out.path(classesSuffixes[format]))
+		}
+		if err := checkPaths(fallback); err != nil {
+			return fail(err)
+		}
+	}
+	maps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{".labels.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Labels) }},
+		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, j.settings.PixelSize, j.settings.Unit, &maps[0])},
 		{".overlay.png", func(wr io.Writer) error { return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint) }},
 	}
 	if res.Classes != nil {
-		outs = append(outs, output{".classes.png", func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, res.Classes) }})
+		maps = append(maps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
+		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, j.settings.PixelSize, j.settings.Unit, &maps[1])})
 	}
+	rec.LabelMaps = maps
 	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
 		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), j.settings.PixelSize, j.settings.Unit)
 	}})
@@ -387,14 +474,28 @@ func recordBlocked(p string, err error) string {
 	return fmt.Sprintf("%s is not a record that cleave wrote, so cleave does not replace it; move it away and run again", p)
 }
 
-// outputs lists every file the job may write.
+// outputs lists every file the job writes in the format asked for.
 func (j job) outputs() []string {
-	list := []string{j.out.path(".labels.png"), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".json")}
+	f := j.settings.labelsFormat()
+	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".json")}
 	if j.settings.Classes >= 2 {
-		list = append(list, j.out.path(".classes.png"))
+		list = append(list, j.out.path(classesSuffixes[f]))
 	}
 	if j.saveGraph != "" {
 		list = append(list, j.saveGraph)
+	}
+	return list
+}
+
+// possibleOutputs is outputs with the TIFF label and class maps that
+// replace the PNG ones when the labels pass 65535 (labelsFormatFor).
+func (j job) possibleOutputs() []string {
+	list := j.outputs()
+	if j.settings.labelsFormat() == imageio.LabelsPNG {
+		list = append(list, j.out.path(labelsSuffixes[imageio.LabelsTIFF]))
+		if j.settings.Classes >= 2 {
+			list = append(list, j.out.path(classesSuffixes[imageio.LabelsTIFF]))
+		}
 	}
 	return list
 }

@@ -178,7 +178,7 @@ func checkNotInputs(jobs []job) error {
 		}
 	}
 	for _, j := range jobs {
-		for _, out := range j.outputs() {
+		for _, out := range j.possibleOutputs() {
 			st, err := os.Stat(out)
 			if err != nil {
 				continue

@@ -44,6 +44,24 @@ type settings struct {
 	Unit          string  `json:"unit"`
 	MaxMemory     string  `json:"max-memory"`
 	Seed          uint64  `json:"seed"`
+	LabelsFormat  string  `json:"labels-format"`
+}
+
+// labelsFormat is the label map format asked for: png unless tiff was
+// given ("" in records and indexes of earlier versions, which wrote PNG).
+func (s settings) labelsFormat() string {
+	if s.LabelsFormat == "" {
+		return imageio.LabelsPNG
+	}
+	return s.LabelsFormat
+}
+
+// sameSettings reports whether two requests segment and write alike: equal
+// but for an unset labels-format, which means png (records of earlier
+// versions lack the key).
+func sameSettings(a, b settings) bool {
+	a.LabelsFormat, b.LabelsFormat = a.labelsFormat(), b.labelsFormat()
+	return a == b
 }
 
 // Ranges of the parameters that only the command uses (the libraries
@@ -98,6 +116,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (0 = off, else %g to %g)", minPixelSize, maxPixelSize))
 	fs.StringVar(&s.Unit, "unit", "um", fmt.Sprintf("unit of --pixel-size, used in column names: up to %d letters, digits, µ, /, ^ or _", maxUnitLen))
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
+	fs.StringVar(&s.LabelsFormat, "labels-format", imageio.LabelsPNG, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
 	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
@@ -346,6 +365,9 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	}
 	if !(s.PixelSize == 0 || s.PixelSize >= minPixelSize && s.PixelSize <= maxPixelSize) {
 		return nil, usagef("--pixel-size must be 0 (off) or %g to %g, got %v", minPixelSize, maxPixelSize, s.PixelSize)
+	}
+	if f := s.labelsFormat(); f != imageio.LabelsPNG && f != imageio.LabelsTIFF {
+		return nil, usagef("--labels-format must be png or tiff, got %q", s.LabelsFormat)
 	}
 	if s.Unit != "" || s.PixelSize > 0 {
 		if err := checkUnit(s.Unit); err != nil {
