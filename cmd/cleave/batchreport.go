@@ -145,10 +145,10 @@ type manifestRow struct {
 	Input, Stem, Status, Error string
 	// Labels is the label map of an ok record, relative to the folder
 	// and slash-separated (its name depends on the format written).
-	Labels string
-	Regions, Objects           int
-	Seconds                    float64
-	Warnings                   []string // messages of an ok record's warnings
+	Labels           string
+	Regions, Objects int
+	Seconds          float64
+	Warnings         []string // messages of an ok record's warnings
 }
 
 // Statuses in the manifest.
