@@ -126,8 +126,17 @@ func scoreHelp(w io.Writer) {
 	fmt.Fprintf(w, `Usage: cleave score [flags] PRED TRUTH
 
 Compare label maps with their ground truth. PRED and TRUTH are two label
-images (8/16-bit gray PNG or TIFF; any integer labels; 0/255 masks read as
-0/1) or two folders. Label 0 is background for the object measures.
+images (8/16-bit gray PNG or TIFF; any integer labels) or two folders.
+Label 0 is background for the object measures. An image holding only 0
+and one other value (a 0/255 mask, as hand annotations and thresholds are
+saved) is a binary mask: its 8-connected components (pixels joined by a
+side or a corner) become the objects, so that a mask of many nuclei
+counts many objects, not one; the output says which images were read so
+(--json: pred_map and truth_map, present for a mask, with its kind,
+mask-components or mask-unsplit, and the objects counted; --csv: the
+columns pred_map, pred_objects, truth_map, truth_objects, kind labels for
+a label map). --split-masks off scores such
+an image as it is, one label.
 
 Metrics (natural log for VI):
   ari, rand           adjusted Rand index and Rand index (Hubert and Arabie 1985)
@@ -153,11 +162,12 @@ unpaired, 2 wrong usage (also a --tolerance above an image's diagonal).
 }
 
 type scoreOptions struct {
-	json      bool
-	csv       string
-	tolerance float64
-	force     bool
-	help      bool
+	splitMasks string
+	json       bool
+	csv        string
+	tolerance  float64
+	force      bool
+	help       bool
 }
 
 func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
@@ -167,6 +177,7 @@ func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table (metric names as keys; folders: \"pairs\" and \"mean\")")
 	fs.StringVar(&o.csv, "csv", "", "also write the scores to this CSV file (one row per pair, then the mean)")
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for bp, br and bf (0 to the image diagonal)")
+	addSplitMasksFlag(fs, &o.splitMasks)
 	fs.BoolVar(&o.force, "force", false, "overwrite an existing --csv file")
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, o
@@ -178,6 +189,87 @@ type scoredPair struct {
 	Pred  string `json:"pred"`
 	Truth string `json:"truth"`
 	metrics
+	PredMap  mapReading `json:"-"`
+	TruthMap mapReading `json:"-"`
+	// PredMask and TruthMask are set when that side is a binary mask
+	// (absent for label maps, so their JSON is as before).
+	PredMask  *mapReading `json:"pred_map,omitempty"`
+	TruthMask *mapReading `json:"truth_map,omitempty"`
+}
+
+// masksOnly is r when it is a binary mask, else nil (the JSON keys).
+func masksOnly(r mapReading) *mapReading {
+	if r.Kind == readLabels {
+		return nil
+	}
+	return &r
+}
+
+// addSplitMasksFlag registers --split-masks (score and tune).
+func addSplitMasksFlag(fs *pflag.FlagSet, v *string) {
+	fs.StringVar(v, "split-masks", "on", "on: a label image holding only 0 and one other value is a binary mask, and its 8-connected components (sides and corners) are the objects; off: it is scored as it is, one label")
+}
+
+// parseSplitMasks reads --split-masks.
+func parseSplitMasks(v string) (bool, error) {
+	switch v {
+	case "on":
+		return true, nil
+	case "off":
+		return false, nil
+	}
+	return false, usagef("--split-masks must be on or off, got %q", v)
+}
+
+// How a label image was read for scoring (mapReading.Kind).
+const (
+	readLabels         = "labels"          // a label map: values as they are
+	readMaskComponents = "mask-components" // a binary mask, its 8-connected components numbered 1..n
+	readMaskUnsplit    = "mask-unsplit"    // a binary mask kept as one label (--split-masks off)
+)
+
+// mapReading says how one label image was read: as labels or as a binary
+// mask, and how many objects (labels above 0) were scored.
+type mapReading struct {
+	Kind    string `json:"kind"`
+	Objects int    `json:"objects"`
+}
+
+// describe is the reading in words, for the text output.
+func (r mapReading) describe() string {
+	switch r.Kind {
+	case readMaskComponents:
+		return fmt.Sprintf("a binary mask (0 and one other value): its %s, the 8-connected components, were scored (--split-masks off scores it as one label)", plural(r.Objects, "object"))
+	case readMaskUnsplit:
+		return "a binary mask (0 and one other value), scored as one label (--split-masks off)"
+	}
+	return fmt.Sprintf("a label map of %s", plural(r.Objects, "object"))
+}
+
+// readScoreMap reads a label image for scoring (imageio.ReadLabels) and,
+// when split is set and it is a binary mask (score.BinaryValue), replaces
+// it by its 8-connected components (score.MaskComponents): hand-drawn
+// annotations and thresholded masks are saved that way, and read as one
+// label they would make every object one.
+func readScoreMap(path string, split bool) ([]int32, int, int, mapReading, error) {
+	labels, w, h, err := imageio.ReadLabels(path)
+	if err != nil {
+		return nil, 0, 0, mapReading{}, err
+	}
+	if _, binary := score.BinaryValue(labels); binary {
+		if !split {
+			return labels, w, h, mapReading{Kind: readMaskUnsplit, Objects: 1}, nil
+		}
+		comp, n := score.MaskComponents(labels, w, h)
+		return comp, w, h, mapReading{Kind: readMaskComponents, Objects: n}, nil
+	}
+	seen := map[int32]bool{}
+	for _, l := range labels {
+		if l != 0 {
+			seen[l] = true
+		}
+	}
+	return labels, w, h, mapReading{Kind: readLabels, Objects: len(seen)}, nil
 }
 
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -191,6 +283,11 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	}
 	if o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0) {
 		fmt.Fprintf(stderr, "cleave score: --tolerance must be a number of pixels >= 0, got %v\n", o.tolerance)
+		return exitUsage
+	}
+	split, err := parseSplitMasks(o.splitMasks)
+	if err != nil {
+		fmt.Fprintf(stderr, "cleave score: %v\n", err)
 		return exitUsage
 	}
 	predArg, truthArg := fs.Arg(0), fs.Arg(1)
@@ -224,7 +321,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			fmt.Fprintln(stderr, "cleave score: interrupted")
 			return exitFail
 		}
-		m, err := scoreFiles(ctx, p.image, p.truth, o.tolerance)
+		m, pr, tr, err := scoreFiles(ctx, p.image, p.truth, o.tolerance, split)
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave score: interrupted")
 			return exitFail
@@ -233,7 +330,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
 			return exitCode(err)
 		}
-		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, metrics: m})
+		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, metrics: m, PredMap: pr, TruthMap: tr, PredMask: masksOnly(pr), TruthMask: masksOnly(tr)})
 	}
 	all := make([]metrics, len(scored))
 	for i, s := range scored {
@@ -249,7 +346,11 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if o.json {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		var v any = scored[0].metrics
+		var v any = struct {
+			metrics
+			PredMask  *mapReading `json:"pred_map,omitempty"`
+			TruthMask *mapReading `json:"truth_map,omitempty"`
+		}{scored[0].metrics, scored[0].PredMask, scored[0].TruthMask}
 		if folders {
 			v = struct {
 				Pairs []scoredPair `json:"pairs"`
@@ -266,23 +367,26 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	return exitOK
 }
 
-// scoreFiles reads a prediction and a truth label image and scores them.
-func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64) (metrics, error) {
-	pred, pw, ph, err := imageio.ReadLabels(predPath)
+// scoreFiles reads a prediction and a truth label image (binary masks
+// split into their components when split is set, readScoreMap) and scores
+// them; it returns how each was read.
+func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64, split bool) (m metrics, pr, tr mapReading, err error) {
+	pred, pw, ph, pr, err := readScoreMap(predPath, split)
 	if err != nil {
-		return metrics{}, fmt.Errorf("prediction %w", err)
+		return metrics{}, pr, tr, fmt.Errorf("prediction %w", err)
 	}
-	truth, tw, th, err := imageio.ReadLabels(truthPath)
+	truth, tw, th, tr, err := readScoreMap(truthPath, split)
 	if err != nil {
-		return metrics{}, fmt.Errorf("truth %w", err)
+		return metrics{}, pr, tr, fmt.Errorf("truth %w", err)
 	}
 	if pw != tw || ph != th {
-		return metrics{}, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
+		return metrics{}, pr, tr, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
 	}
 	if err := checkTolerance(tol, predPath, pw, ph); err != nil {
-		return metrics{}, err
+		return metrics{}, pr, tr, err
 	}
-	return scoreMapsContext(ctx, pred, truth, pw, ph, tol)
+	m, err = scoreMapsContext(ctx, pred, truth, pw, ph, tol)
+	return m, pr, tr, err
 }
 
 // checkTolerance refuses a boundary tolerance above the diagonal of a
@@ -304,6 +408,8 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	if !folders {
 		fmt.Fprintf(w, "%s vs %s\n", scored[0].Pred, scored[0].Truth)
+		fmt.Fprintf(w, "prediction: %s\n", scored[0].PredMap.describe())
+		fmt.Fprintf(w, "truth:      %s\n", scored[0].TruthMap.describe())
 		vals := scored[0].metrics.values()
 		for i, n := range metricNames {
 			fmt.Fprintf(tw, "%s\t%s\t\n", n, fmtMetric(vals[i]))
@@ -326,6 +432,23 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 	}
 	row(fmt.Sprintf("mean of %d", len(scored)), mean)
 	tw.Flush()
+	var masks []string
+	for _, s := range scored {
+		for _, side := range []struct {
+			what string
+			r    mapReading
+		}{{"prediction", s.PredMap}, {"truth", s.TruthMap}} {
+			switch side.r.Kind {
+			case readMaskComponents:
+				masks = append(masks, fmt.Sprintf("%s %s: binary mask, %s (8-connected components)", s.Name, side.what, plural(side.r.Objects, "object")))
+			case readMaskUnsplit:
+				masks = append(masks, fmt.Sprintf("%s %s: binary mask, one label (--split-masks off)", s.Name, side.what))
+			}
+		}
+	}
+	if len(masks) > 0 {
+		fmt.Fprintf(w, "binary masks: %s\n", strings.Join(masks, "; "))
+	}
 	fmt.Fprintf(w, "(boundary tolerance %g px; every metric in --json and --csv)\n", tol)
 }
 
@@ -333,24 +456,29 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 // row; names and paths are neutralized by csvText.
 func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool) error {
 	cw := csv.NewWriter(w)
-	head := append([]string{"name", "pred", "truth"}, metricNames...)
+	head := append(append([]string{"name", "pred", "truth"}, metricNames...), "pred_map", "pred_objects", "truth_map", "truth_objects")
 	if err := cw.Write(head); err != nil {
 		return err
 	}
-	rec := func(name, pred, truth string, m metrics) error {
+	rec := func(name, pred, truth string, m metrics, pr, tr *mapReading) error {
 		r := []string{csvText(name), csvText(pred), csvText(truth)}
 		for _, v := range m.values() {
 			r = append(r, strconv.FormatFloat(v, 'g', 17, 64))
 		}
+		if pr != nil {
+			r = append(r, pr.Kind, strconv.Itoa(pr.Objects), tr.Kind, strconv.Itoa(tr.Objects))
+		} else {
+			r = append(r, "", "", "", "")
+		}
 		return cw.Write(r)
 	}
 	for _, s := range scored {
-		if err := rec(s.Name, s.Pred, s.Truth, s.metrics); err != nil {
+		if err := rec(s.Name, s.Pred, s.Truth, s.metrics, &s.PredMap, &s.TruthMap); err != nil {
 			return err
 		}
 	}
 	if folders {
-		if err := rec("mean", "", "", mean); err != nil {
+		if err := rec("mean", "", "", mean, nil, nil); err != nil {
 			return err
 		}
 	}

@@ -119,7 +119,7 @@ func TestScoreCSVNeutralized(t *testing.T) {
 	if want := []string{"'=cmd", "'=cmd.png", "'-truth.png"}; strings.Join(row[:3], "|") != strings.Join(want, "|") {
 		t.Errorf("name, pred, truth cells %q, want %q", row[:3], want)
 	}
-	for _, cell := range row[3:] {
+	for _, cell := range row[3 : 3+len(metricNames)] {
 		if _, err := strconv.ParseFloat(cell, 64); err != nil {
 			t.Errorf("metric cell %q is not a number", cell)
 		}

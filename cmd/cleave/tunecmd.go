@@ -108,6 +108,7 @@ type tuneOptions struct {
 	budget, folds      int
 	workers            int
 	tolerance          float64
+	splitMasks         string
 	force, help        bool
 	space              [numDims]string
 }
@@ -136,6 +137,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
 	fs.IntVar(&o.folds, "folds", 3, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf (0 to the image diagonal)")
+	addSplitMasksFlag(fs, &o.splitMasks)
 	for d := 0; d < numDims; d++ {
 		fs.StringVar(&o.space[d], dimNames[d], "", searchFlagHelp[d])
 	}
@@ -223,8 +225,17 @@ type tuneReport struct {
 	WidenedSettings int               `json:"widened_settings"`
 	Budget          int               `json:"budget"`
 	Images          []string          `json:"images"`
+	TruthMaps       []truthMap        `json:"truth_maps"`
 	Unpaired        []string          `json:"unpaired_images"`
 	Seconds         float64           `json:"seconds"`
+}
+
+// truthMap says how one truth image was read (readScoreMap): as labels or
+// as a binary mask split into its 8-connected components.
+type truthMap struct {
+	Name  string `json:"name"`
+	Truth string `json:"truth"`
+	mapReading
 }
 
 // tiedSetting is a setting tied with the best: its cost (which decides
@@ -282,6 +293,10 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitUsage, err
 	}
+	split, err := parseSplitMasks(o.splitMasks)
+	if err != nil {
+		return exitUsage, err
+	}
 	t := &tuner{ctx: ctx, base: *s, workers: defaultWorkers(o.workers), metric: metric, tol: o.tolerance, cache: map[string]*evaluation{},
 		smootherTies: o.tieBreak == "smoother"}
 	given := [numDims]bool{}
@@ -326,15 +341,17 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if len(pairs) == 0 {
 		return exitFail, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
+	var truthMaps []truthMap
 	for _, p := range pairs {
 		in, err := loadInput(ctx, p.image, loadRes)
 		if err != nil {
 			return exitFail, fmt.Errorf("%s: %w", p.image, err)
 		}
-		truth, w, h, err := imageio.ReadLabels(p.truth)
+		truth, w, h, reading, err := readScoreMap(p.truth, split)
 		if err != nil {
 			return exitFail, fmt.Errorf("truth %w", err)
 		}
+		truthMaps = append(truthMaps, truthMap{Name: p.name, Truth: p.truth, mapReading: reading})
 		if w != in.features.Width || h != in.features.Height {
 			return exitFail, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
 		}
@@ -464,7 +481,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		CostPerImage: finite(t.costPerImage(best, all)), CostModel: costNote,
 		TieRelative: tieRelative, TieBreak: o.tieBreak, GridScore: finite(t.value(gridBest, all)), BaselineMetrics: meanOf(baseline),
 		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
-		Widenings: res.widened, GridSize: len(gridPts), Budget: o.budget, Images: t.names, Unpaired: unpaired,
+		Widenings: res.widened, GridSize: len(gridPts), Budget: o.budget, Images: t.names, TruthMaps: truthMaps, Unpaired: unpaired,
 	}
 	if rep.Unpaired == nil {
 		rep.Unpaired = []string{}
@@ -711,6 +728,21 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	}
 	fmt.Fprintf(w, "tuned on %d image%s: %d grid + %d refined%s settings, %.1f s\n", len(t.images), plural, rep.GridSize, rep.Refined, widened, rep.Seconds)
 	fmt.Fprintf(w, "metric:              %s (%s)\n", rep.Metric, rep.MetricChoice)
+	var split, unsplit []string
+	for _, m := range rep.TruthMaps {
+		switch m.Kind {
+		case readMaskComponents:
+			split = append(split, fmt.Sprintf("%s %d", m.Name, m.Objects))
+		case readMaskUnsplit:
+			unsplit = append(unsplit, m.Name)
+		}
+	}
+	if len(split) > 0 {
+		fmt.Fprintf(w, "truth masks:         %d of %d truths are binary masks, scored by their 8-connected components as objects (%s); --split-masks off scores each as one label\n", len(split), len(rep.TruthMaps), strings.Join(split, ", "))
+	}
+	if len(unsplit) > 0 {
+		fmt.Fprintf(w, "truth masks:         %d of %d truths are binary masks, each scored as one label (--split-masks off): %s\n", len(unsplit), len(rep.TruthMaps), strings.Join(unsplit, ", "))
+	}
 	others := func(m *metrics) string {
 		if m == nil {
 			return ""
