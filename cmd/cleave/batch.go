@@ -63,7 +63,7 @@ Each image's STEM.json record says ok or failed with the message; a broken
 file is recorded and the batch goes on; a result to check (one region, no
 objects, one object over half the image, ...) is ok with warnings.
 DIR/manifest.csv (input, status, regions, objects, seconds, error,
-warnings) and DIR/report.html (counts, parameters, a contact sheet of the
+warnings, labels: the label map written, .png or .tif) and DIR/report.html (counts, parameters, a contact sheet of the
 overlays scaled by the browser, the table of files, the failures and the
 warnings) are rebuilt from the records at the end, using the list of
 inputs and the parameters kept in DIR/%s. A rerun skips every

@@ -351,7 +351,9 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 			t.Errorf("probe line %q", l)
 		}
 	}
-	if want := 1 + 3*len(ok) + len(failed); links != want {
+	// manifest.csv; per ok image the overlay (link and image), the record
+	// and the label map; per failed image the record.
+	if want := 1 + 4*len(ok) + len(failed); links != want {
 		t.Errorf("%d links and image sources, want %d", links, want)
 	}
 	sort.Strings(lines)

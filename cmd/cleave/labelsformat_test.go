@@ -131,10 +131,15 @@ func TestSegmentLabelsTIFF(t *testing.T) {
 	if !slices.Contains(rec.Outputs, "nuclei-1.labels.tif") || slices.Contains(rec.Outputs, "nuclei-1.labels.png") {
 		t.Errorf("outputs %v", rec.Outputs)
 	}
-	// A unit that is no length: the TIFF carries no resolution, and the
-	// record says why.
+	// A unit that is no length (asked for in a params file, key
+	// labels-format): the TIFF carries no resolution, and the record says
+	// why.
 	pxOut := filepath.Join(dir, "px")
-	runOK(t, "segment", "--labels-format", "tiff", "--pixel-size", "2", "--unit", "px", "--out", pxOut, img)
+	params := filepath.Join(dir, "params.json")
+	if err := os.WriteFile(params, []byte(`{"labels-format": "tiff", "pixel-size": 2, "unit": "px"}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	runOK(t, "segment", "--params", params, "--out", pxOut, img)
 	rec, err = readRecord(filepath.Join(pxOut, "nuclei-1.json"))
 	if err != nil {
 		t.Fatal(err)

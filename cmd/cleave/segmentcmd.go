@@ -19,7 +19,13 @@ const segmentExample = `Example (a generated nuclei scene shipped with cleave):
 writes results/nuclei-1.labels.png (objects 1..N on background 0, 16-bit),
 results/nuclei-1.overlay.png, results/nuclei-1.classes.png,
 results/nuclei-1.regions.csv and results/nuclei-1.json, and prints one
-summary line. For a plate under raking light with dark defects:
+summary line. With --labels-format tiff the label and class maps are
+nuclei-1.labels.tif and nuclei-1.classes.tif (16-bit, 32-bit above 65535
+labels; with --pixel-size in nm, um, mm, cm, m or inches they carry the
+resolution). A PNG label map holds at most 65535 labels: above that it is
+written as a 32-bit TIFF with a warning.
+
+For a plate under raking light with dark defects:
 
   cleave segment --classes 2 --background bright --flatten 30 examples/plates/plate-1.png
 `

@@ -198,7 +198,8 @@ func FuzzParamsFile(f *testing.F) {
 		`{"flatten": 1e308}`, `{"flatten": 1e9}`, `{"classes": 2147483648}`, `{"method": "kway", "segments": 200}`, `{"max-memory": "0.5"}`,
 		`{"radius": 9223372036854775807}`, `{"superpixels": "1e300"}`, `{"sigma-i": 1e-320, "sigma-x": "1e308"}`, `{"min-area": 1e18}`,
 		`{"max-megapixels": 1e308}`, `{"pixel-size": 1e-320}`, `{"max-segments": 100000, "method": "kway"}`, `{"compactness": 1e300}`,
-		`{"unit": "=1+1", "pixel-size": 1}`, `{"channel": 9223372036854775807}`, "\ufeff{\"radius\": 3}", `{"radius": 3, "radius": 4}`} {
+		`{"unit": "=1+1", "pixel-size": 1}`, `{"channel": 9223372036854775807}`, "\ufeff{\"radius\": 3}", `{"radius": 3, "radius": 4}`,
+		`{"labels-format": "tiff", "pixel-size": 0.5, "unit": "µm"}`, `{"labels-format": "gif"}`, `{"labels-format": 16}`} {
 		f.Add([]byte(s))
 	}
 	// Every accepted setting segments a small image (24 x 20, a ramp
