@@ -19,9 +19,11 @@ const baseBytes = 24 << 20
 
 // outputBytesPerPixel is the memory of the outputs stage beyond the
 // features: the label, region and class maps (12 bytes per pixel), the
-// 16-bit label and class images and the overlay being encoded at once
-// (2 + 2 + 4), and the region table's per-pixel work (8).
-const outputBytesPerPixel = 28
+// label and class images and the overlay being encoded at once (16-bit
+// PNG images 2 + 2; a TIFF label map keeps its compressed strips until
+// its header is written, at most 4 + 2 for 32-bit labels; the overlay 4),
+// and the region table's per-pixel work (8).
+const outputBytesPerPixel = 30
 
 // stageEstimate is the estimated peak memory of the process during one
 // stage of one image.
