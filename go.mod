@@ -3,6 +3,7 @@ module github.com/cleave-seg/cleave
 go 1.26.0
 
 require (
+	github.com/klauspost/compress v1.20.4
 	github.com/schollz/progressbar/v3 v3.19.1
 	github.com/spf13/pflag v1.1.0
 	golang.org/x/image v0.48.0
