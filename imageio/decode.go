@@ -2,7 +2,7 @@ package imageio
 
 import (
 	"bytes"
-	"encoding/binary"
+	"context"
 	"errors"
 	"fmt"
 	"image"
@@ -43,10 +43,11 @@ type LoadOptions struct {
 // supported formats.
 var ErrUnknownFormat = errors.New("not a PNG, TIFF, JPEG, BMP, GIF or WebP image")
 
-// ErrUnsupported is returned (wrapped, with what the file is) for a
-// variant of a known format that cleave cannot read yet: BigTIFF, and TIFF
-// with each channel in a plane of its own.
-var ErrUnsupported = errors.New("not supported yet")
+// ErrUnsupported is returned (wrapped, with the feature named) for a
+// variant of a known format that cleave does not read: TIFF with a
+// compression, sample type or colour model outside those package
+// tiffread decodes.
+var ErrUnsupported = errors.New("not supported")
 
 // ErrTooLarge is returned (wrapped, with the size) for images above the
 // megapixel limit.
@@ -63,13 +64,16 @@ func Load(path string, opt LoadOptions) (*Image, error) {
 	return src.Decode()
 }
 
-// Decode reads a PNG, TIFF (first page), JPEG, BMP, GIF (first frame) or
-// WebP image from r. The format is detected from the content, never from a
+// Decode reads a PNG, TIFF (the first channel, plane and frame; see
+// Source.Choose for others), JPEG, BMP, GIF (first frame) or WebP image
+// from r. The format is detected from the content, never from a
 // name. The header is read first and an image above opt.MaxMegapixels is
 // refused before its pixels are allocated.
 //
-// Samples keep the source's precision: 16-bit PNG and TIFF data are read
-// from the decoders' 16-bit pixel buffers (image.Gray16, image.RGBA64,
+// Samples keep the source's precision: TIFF samples of 8 to 64 bits,
+// integer or floating-point, are read by package tiffread; 16-bit PNG
+// data (and TIFF that only golang.org/x/image/tiff reads) are read from
+// the decoders' 16-bit pixel buffers (image.Gray16, image.RGBA64,
 // image.NRGBA64) and never pass through 8 bits. Gray sources (PNG colour
 // types 0 and 4, gray TIFF and JPEG, paletted images whose palette is all
 // gray) give one channel; the rest give three. A JPEG's EXIF orientation
@@ -106,7 +110,8 @@ func sniff(b []byte) (imageFormat, bool) {
 	switch {
 	case bytes.HasPrefix(b, []byte("\x89PNG\r\n\x1a\n")):
 		return formatPNG, true
-	case bytes.HasPrefix(b, []byte("II*\x00")), bytes.HasPrefix(b, []byte("MM\x00*")):
+	case bytes.HasPrefix(b, []byte("II*\x00")), bytes.HasPrefix(b, []byte("MM\x00*")),
+		bytes.HasPrefix(b, []byte("II+\x00")), bytes.HasPrefix(b, []byte("MM\x00+")): // TIFF, BigTIFF
 		return formatTIFF, true
 	case bytes.HasPrefix(b, []byte("\xff\xd8\xff")):
 		return formatJPEG, true
@@ -170,65 +175,10 @@ func decodeBytes(data []byte, opt LoadOptions) (*Image, error) {
 	if err != nil {
 		return nil, err
 	}
+	if src.tiff != nil {
+		return src.tiff.decode(context.Background(), src.r)
+	}
 	return src.decode(src.r)
-}
-
-// isBigTIFF reports the BigTIFF signature: the byte order mark of TIFF
-// followed by version 43 instead of 42 (BigTIFF design, Aware Systems
-// 2006: "II" 0x2B 0x00 or "MM" 0x00 0x2B, then offset size 8).
-func isBigTIFF(b []byte) bool {
-	return bytes.HasPrefix(b, []byte("II+\x00")) || bytes.HasPrefix(b, []byte("MM\x00+"))
-}
-
-// checkTIFFLayout refuses, from the first image file directory, a TIFF
-// whose channels are stored one plane after another (PlanarConfiguration
-// 2 with more than one sample per pixel, TIFF 6.0 section 8): the decoder
-// would read the planes as interleaved pixels and report the file as
-// truncated. A directory that cannot be read is left to the decoder,
-// which names the problem.
-func checkTIFFLayout(b []byte) error {
-	var order binary.ByteOrder = binary.LittleEndian
-	if b[0] == 'M' {
-		order = binary.BigEndian
-	}
-	if len(b) < 8 {
-		return nil
-	}
-	off := int64(order.Uint32(b[4:8]))
-	if off+2 > int64(len(b)) {
-		return nil
-	}
-	n := int64(order.Uint16(b[off:]))
-	planar, samples := 1, 1
-	for k := int64(0); k < n; k++ {
-		e := off + 2 + 12*k
-		if e+12 > int64(len(b)) {
-			break
-		}
-		tag, typ, count := order.Uint16(b[e:]), order.Uint16(b[e+2:]), order.Uint32(b[e+4:])
-		if count != 1 {
-			continue
-		}
-		var v int
-		switch typ {
-		case 3: // SHORT, left-justified in the value field
-			v = int(order.Uint16(b[e+8:]))
-		case 4: // LONG
-			v = int(order.Uint32(b[e+8:]))
-		default:
-			continue
-		}
-		switch tag {
-		case 277: // SamplesPerPixel
-			samples = v
-		case 284: // PlanarConfiguration
-			planar = v
-		}
-	}
-	if planar == 2 && samples > 1 {
-		return fmt.Errorf("TIFF with its %d channels in separate planes (PlanarConfiguration 2): %w; save it with interleaved channels (PlanarConfiguration 1, the usual layout) or as a PNG", samples, ErrUnsupported)
-	}
-	return nil
 }
 
 // fromImage copies img into float32 planes. forceGray says that the source

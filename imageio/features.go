@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 )
 
 // Names accepted by FeatureOptions.
@@ -98,6 +99,76 @@ type Features struct {
 	// Raw is the luma (or the chosen channel) in the image's own units
 	// (e.g. 0..65535), for region tables.
 	Raw []float32
+	// Invalid marks the pixels whose samples are not numbers (NaN or
+	// infinite floating-point samples), nil when there are none. Their
+	// features, display and raw values are the median of the valid
+	// pixels, a value that neither stretches the normalization nor
+	// spreads through the shading correction; segment.Input.Invalid
+	// keeps them out of every region.
+	Invalid []bool
+	// InvalidCount is the number of pixels marked in Invalid.
+	InvalidCount int
+}
+
+func sampleTypeName(t string) string {
+	switch t {
+	case SampleFloat:
+		return "floating-point"
+	case SampleSigned:
+		return "signed integer"
+	}
+	return "unsigned integer"
+}
+
+// withoutNonFinite returns im, or, when a plane holds NaN or infinite
+// samples, a copy whose such samples are the median of that plane's
+// finite samples, with the mask of the pixels that had any.
+func withoutNonFinite(im *Image) (*Image, []bool, int) {
+	if im.SampleType != SampleFloat {
+		return im, nil, 0
+	}
+	var mask []bool
+	count := 0
+	for _, p := range im.Planes {
+		for i, v := range p {
+			if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+				if mask == nil {
+					mask = make([]bool, len(p))
+				}
+				if !mask[i] {
+					mask[i] = true
+					count++
+				}
+			}
+		}
+	}
+	if mask == nil {
+		return im, nil, 0
+	}
+	out := *im
+	out.Planes = make([][]float32, len(im.Planes))
+	for c, p := range im.Planes {
+		q := make([]float32, len(p))
+		finite := make([]float32, 0, len(p)-count)
+		for i, v := range p {
+			if !mask[i] {
+				finite = append(finite, v)
+			}
+		}
+		fill := float32(0)
+		if len(finite) > 0 {
+			slices.Sort(finite)
+			fill = finite[len(finite)/2]
+		}
+		for i, v := range p {
+			if mask[i] {
+				v = fill
+			}
+			q[i] = v
+		}
+		out.Planes[c] = q
+	}
+	return &out, mask, count
 }
 
 // checkImage rejects an Image whose fields disagree.
@@ -111,8 +182,11 @@ func checkImage(im *Image) error {
 	if im.Channels != 1 && im.Channels != 3 {
 		return fmt.Errorf("image has %d channels; want 1 or 3", im.Channels)
 	}
-	if im.BitDepth != 8 && im.BitDepth != 16 {
-		return fmt.Errorf("image has bit depth %d; want 8 or 16", im.BitDepth)
+	switch {
+	case im.SampleType == SampleFloat && (im.BitDepth == 16 || im.BitDepth == 32 || im.BitDepth == 64):
+	case im.SampleType != SampleFloat && (im.BitDepth == 8 || im.BitDepth == 16 || im.BitDepth == 32 || im.BitDepth == 64):
+	default:
+		return fmt.Errorf("image has bit depth %d (%s samples); want 8, 16, 32 or 64 (16 to 64 for floats)", im.BitDepth, sampleTypeName(im.SampleType))
 	}
 	if len(im.Planes) != im.Channels {
 		return fmt.Errorf("image has %d planes for %d channels", len(im.Planes), im.Channels)
@@ -155,12 +229,19 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 	if opt.Channel >= im.Channels {
 		return nil, &OptionError{"channel", fmt.Sprintf("%d is out of range: the image has %d channel(s) (0..%d)", opt.Channel, im.Channels, im.Channels-1)}
 	}
+	if opt.Normalize == NormalizeBitDepth && im.SampleType != "" {
+		return nil, &OptionError{"normalize", fmt.Sprintf("bitdepth needs unsigned integer samples, and the image has %d-bit %s samples (use percentile or range)", im.BitDepth, sampleTypeName(im.SampleType))}
+	}
+	if opt.Space == SpaceLab && im.Channels == 3 && (im.SampleType != "" || im.BitDepth > 16) {
+		return nil, &OptionError{"features", fmt.Sprintf("lab needs 8- or 16-bit unsigned colour samples (sRGB), and the image has %d-bit %s samples (use gray)", im.BitDepth, sampleTypeName(im.SampleType))}
+	}
+	im, invalid, ninvalid := withoutNonFinite(im)
 	w, h := im.Width, im.Height
 	mode := opt.FlattenMode
 	if mode == "" {
 		mode = FlattenDivide
 	}
-	f := &Features{Width: w, Height: h}
+	f := &Features{Width: w, Height: h, Invalid: invalid, InvalidCount: ninvalid}
 	luma := luminance(im, workers)
 
 	f.Display = make([]float32, len(luma))

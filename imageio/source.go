@@ -68,6 +68,10 @@ type Source struct {
 	prefix []byte
 	cfg    image.Config
 	header Header
+	tiff   *tiffSource // TIFF read by package tiffread; nil for the other formats
+	// channel is the channel Choose selected for the other formats (-1:
+	// all); Decode then returns it alone.
+	channel int
 }
 
 // Open opens the image file at path and reads its header. It refuses,
@@ -150,20 +154,40 @@ func newSource(r io.ReaderAt, size int64, opt LoadOptions) (*Source, error) {
 	}
 	f, ok := sniff(prefix)
 	if !ok {
-		if isBigTIFF(prefix) {
-			return nil, fmt.Errorf("BigTIFF file (TIFF with 64-bit offsets): %w; save the image as a classic TIFF (under 4 GB) or a PNG", ErrUnsupported)
-		}
 		return nil, ErrUnknownFormat
 	}
+	s := &Source{r: r, size: size, f: f, prefix: prefix, channel: -1}
+	hr := &boundedReaderAt{r: r, size: size, budget: headerBudget}
 	if f.id == "tiff" {
-		// The first directory is nearly always within the prefix; when it
-		// is not, the layout is left to the decoder.
-		if err := checkTIFFLayout(prefix); err != nil {
+		// TIFF and BigTIFF are read by package tiffread, the directories
+		// through the bounded reader; a page only
+		// golang.org/x/image/tiff reads (palettes, bilevel) goes on below.
+		t, err := openTIFF(hr, size)
+		if err != nil {
+			if errors.Is(err, errHeaderBudget) || hr.budget < 0 {
+				return nil, fmt.Errorf("corrupt TIFF file: its directories do not end within the first %d MiB", headerBudget>>20)
+			}
 			return nil, err
 		}
+		if t != nil {
+			p := t.page
+			if err := checkSize(p.Width, p.Height, limit); err != nil {
+				return nil, err
+			}
+			s.tiff = t
+			if err := t.choose(Selection{}); err != nil {
+				return nil, err
+			}
+			ch := 1
+			if t.rgb {
+				ch = 3
+			}
+			s.cfg = image.Config{Width: p.Width, Height: p.Height}
+			s.header = Header{Format: f.id, Width: p.Width, Height: p.Height, Channels: ch}
+			s.header.DecodeBytes = t.decodeBytes(ch)
+			return s, nil
+		}
 	}
-	s := &Source{r: r, size: size, f: f, prefix: prefix}
-	hr := &boundedReaderAt{r: r, size: size, budget: headerBudget}
 	var in io.Reader = bufio.NewReader(hr)
 	if f.id == "tiff" {
 		in = hr // the TIFF parser seeks to its directories by offset
@@ -182,6 +206,44 @@ func newSource(r io.ReaderAt, size int64, opt LoadOptions) (*Source, error) {
 	s.header = Header{Format: f.id, Width: cfg.Width, Height: cfg.Height, Channels: s.channels()}
 	s.header.DecodeBytes = s.decodeBytes()
 	return s, nil
+}
+
+// Stack describes the channels, planes and time points of the file and
+// the pixel size it states (one of each, and no size, for the formats
+// other than TIFF).
+func (s *Source) Stack() Stack {
+	if s.tiff != nil {
+		return s.tiff.stack
+	}
+	return Stack{Channels: s.header.Channels, Planes: 1, Frames: 1}
+}
+
+// Choose selects what Decode reads of a multi-image file (see
+// Selection); the default is channel "" (all colours, or channel 0),
+// plane 0, frame 0. A selection the file cannot give is an
+// *OptionError naming the parameter. Formats other than TIFF hold one
+// plane and frame; their channel is chosen after decoding (a colour
+// channel by index).
+func (s *Source) Choose(sel Selection) error {
+	if s.tiff != nil {
+		return s.tiff.choose(sel)
+	}
+	st := s.Stack()
+	if err := checkIndex("plane", sel.Plane, 1, "plane(s)"); err != nil {
+		return err
+	}
+	if err := checkIndex("frame", sel.Frame, 1, "time point(s)"); err != nil {
+		return err
+	}
+	s.channel = -1
+	if sel.Channel != "" {
+		k, err := channelIndex(sel.Channel, st)
+		if err != nil {
+			return err
+		}
+		s.channel = k
+	}
+	return nil
 }
 
 // Header returns what the file's header says.
@@ -216,7 +278,13 @@ func (s *Source) DecodeContext(ctx context.Context) (*Image, error) {
 	if ctx.Done() != nil {
 		r = &ctxReaderAt{ctx: ctx, r: r}
 	}
-	im, err := s.decode(r)
+	var im *Image
+	var err error
+	if s.tiff != nil {
+		im, err = s.tiff.decode(ctx, r)
+	} else {
+		im, err = s.decode(r)
+	}
 	if err != nil {
 		if ctx.Err() != nil {
 			return nil, ctx.Err()
@@ -257,6 +325,15 @@ func (s *Source) decode(r io.ReaderAt) (*Image, error) {
 	}
 	if f.id == "jpeg" {
 		im = orient(im, jpegOrientation(s.prefix))
+	}
+	if s.channel > 0 || s.channel == 0 && im.Channels > 1 {
+		if s.channel >= im.Channels {
+			return nil, &OptionError{"channel", fmt.Sprintf("%d is out of range: the image has %d channel(s) (0..%d)", s.channel, im.Channels, im.Channels-1)}
+		}
+		im.Planes, im.Channels = [][]float32{im.Planes[s.channel]}, 1
+	}
+	if s.channel >= 0 {
+		im.Used = &Used{Channel: s.channel, Stack: Stack{Channels: s.header.Channels, Planes: 1, Frames: 1}}
 	}
 	return im, nil
 }

@@ -295,6 +295,12 @@ type Input struct {
 	// Cache, when set, shares work between runs on this same input
 	// (see Cache).
 	Cache *Cache
+	// Invalid, when not nil, marks pixels that have no measurement (a
+	// floating-point sample that is NaN or infinite): they join no
+	// region and no object, label 0 in Labels and Regions. The caller
+	// gives them a neutral feature value so that they do not pull the
+	// graph's weights; Classes still assigns them a class.
+	Invalid []bool
 }
 
 // Cache shares work between runs on one input whose parameters differ
@@ -719,6 +725,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			stage("classes")
 		}
 	}
+	if in.Invalid != nil && len(in.Invalid) == npix {
+		maskInvalid(res, in.Invalid)
+	}
 	if res.NumRegions == 1 {
 		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
 	}
@@ -730,6 +739,34 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	res.Params = p
 	return res, nil
+}
+
+// maskInvalid gives the invalid pixels label 0 in the regions and the
+// label map, and numbers what is left consecutively in raster order of
+// first pixels (a region or object made only of invalid pixels is gone).
+func maskInvalid(res *Result, invalid []bool) {
+	same := len(res.Labels) > 0 && len(res.Regions) > 0 && &res.Labels[0] == &res.Regions[0]
+	mask := func(l []int32, n int) ([]int32, int) {
+		out := make([]int32, len(l))
+		for i, v := range l {
+			if !invalid[i] {
+				out[i] = v
+			}
+		}
+		return withoutLabels(out, n, make([]bool, n+1))
+	}
+	res.Regions, res.NumRegions = mask(res.Regions, res.NumRegions)
+	if same {
+		res.Labels = res.Regions
+		return
+	}
+	n := res.NumObjects
+	if n == 0 {
+		for _, l := range res.Labels {
+			n = max(n, int(l))
+		}
+	}
+	res.Labels, res.NumObjects = mask(res.Labels, n)
 }
 
 // removeGrain returns the input with the directional texture of its

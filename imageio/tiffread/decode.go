@@ -68,7 +68,7 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 	if oe.count < uint64(nChunks) {
 		return FormatError(fmt.Sprintf("%d strip or tile offsets for %d strips or tiles", oe.count, nChunks))
 	}
-	offsets, err := f.uints(oe)
+	offsets, err := f.uintsN(oe, nChunks)
 	if err != nil {
 		return err
 	}
@@ -80,7 +80,7 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 		if ce.count < uint64(nChunks) {
 			return FormatError(fmt.Sprintf("%d strip or tile byte counts for %d strips or tiles", ce.count, nChunks))
 		}
-		if counts, err = f.uints(ce); err != nil {
+		if counts, err = f.uintsN(ce, nChunks); err != nil {
 			return err
 		}
 	} else if p.Compression != CompressionNone {

@@ -319,6 +319,26 @@ func (f *File) uints(e entry) ([]uint64, error) {
 	if err != nil {
 		return nil, err
 	}
+	return f.decodeUints(e, b)
+}
+
+// uintsN reads the first n values of an entry (n at most its count).
+func (f *File) uintsN(e entry, n int) ([]uint64, error) {
+	e.count = min(e.count, uint64(n))
+	return f.uints(e)
+}
+
+// SetReader makes the file read through r from now on: Open reads the
+// directories through a reader that bounds what a header may cost, and
+// the pixel data is read through another (one that stops when a context
+// is done).
+func (f *File) SetReader(r io.ReaderAt) { f.r = r }
+
+func (f *File) decodeUints(e entry, b []byte) ([]uint64, error) {
+	var err error
+	if err != nil {
+		return nil, err
+	}
 	v := make([]uint64, e.count)
 	for i := range v {
 		switch e.typ {
