@@ -29,7 +29,18 @@ type inputInfo struct {
 	Channels int    `json:"channels"`
 	BitDepth int    `json:"bit_depth"`
 	HasAlpha bool   `json:"has_alpha"`
-	Pages    int    `json:"pages"` // images in the file; only the first is read
+	Pages    int    `json:"pages"` // images (pages) in the file
+	// SampleType is "int" or "float" for signed or floating-point TIFF
+	// samples; empty for unsigned integers.
+	SampleType string `json:"sample_type,omitempty"`
+	// Stack describes the channels, planes and time points of a TIFF
+	// and which were segmented.
+	Stack *stackInfo `json:"stack,omitempty"`
+	// PixelSize is the pixel size of the region table and its source.
+	PixelSize *pixelSizeInfo `json:"pixel_size,omitempty"`
+	// InvalidPixels counts floating-point pixels that are NaN or
+	// infinite: they join no region (label 0).
+	InvalidPixels int `json:"invalid_pixels,omitempty"`
 }
 
 // record is STEM.json: what was read, what was done, what came out.
@@ -313,10 +324,12 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		rec.SplitNcuts = []float64{}
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
-	rec.Warnings = warningsOf(res.Warnings)
-	if p := rec.Input.Pages; p > 1 {
-		rec.Warnings = append([]warningInfo{{Code: "unused-pages", Message: fmt.Sprintf(
-			"the file holds %d images (pages: planes of a stack, channels or time points); only the first was segmented; save the plane you want as a file of its own", p)}}, rec.Warnings...)
+	rec.Warnings = append(append([]warningInfo{}, stackWarnings(rec.Input, j.settings)...), warningsOf(res.Warnings)...)
+	pixelSize := pixelSizeFor(j.settings, in.calibration)
+	rec.Input.PixelSize = pixelSize
+	tableSize, tableUnit := 0.0, ""
+	if pixelSize != nil {
+		tableSize, tableUnit = pixelSize.Size, pixelSize.Unit
 	}
 
 	if err := ctx.Err(); err != nil {
@@ -362,7 +375,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	rec.LabelMaps = maps
 	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
-		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), j.settings.PixelSize, j.settings.Unit)
+		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), tableSize, tableUnit)
 	}})
 	// The record announces the outputs before they are written.
 	written := map[string]bool{filepath.Base(recordPath): true}
@@ -522,6 +535,7 @@ type loaded struct {
 	features       *imageio.Features
 	decodeSeconds  float64
 	featureSeconds float64
+	calibration    imageio.Calibration // the pixel size the file states
 	cache          *segment.Cache // work shared between runs (tune), or nil
 }
 
@@ -572,22 +586,29 @@ func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded,
 	if err := copyContext(ctx, h, src.Contents()); err != nil {
 		return nil, err
 	}
-	in := &loaded{info: inputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}}
+	in := &loaded{info: inputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}, calibration: src.Stack().Calibration}
+	if err := src.Choose(r.selection); err != nil {
+		return nil, stripPath(err, src.Path())
+	}
 	im, err := src.DecodeContext(ctx)
 	if err != nil {
 		return nil, stripPath(err, src.Path())
 	}
 	in.info.Format, in.info.Width, in.info.Height = im.Format, im.Width, im.Height
 	in.info.Channels, in.info.BitDepth, in.info.HasAlpha, in.info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
+	in.info.SampleType, in.info.Stack = im.SampleType, stackInfoOf(im.Used)
+	fopt := r.features
+	fopt.Channel = -1 // Choose chose it: the image holds that channel alone
 	t1 := time.Now()
 	in.decodeSeconds = t1.Sub(t0).Seconds()
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	in.features, err = imageio.MakeFeaturesContext(ctx, im, r.features, r.params.Workers)
+	in.features, err = imageio.MakeFeaturesContext(ctx, im, fopt, r.params.Workers)
 	if err != nil {
 		return nil, err
 	}
+	in.info.InvalidPixels = in.features.InvalidCount
 	in.featureSeconds = time.Since(t1).Seconds()
 	return in, nil
 }
@@ -618,5 +639,5 @@ func copyContext(ctx context.Context, dst io.Writer, src io.Reader) error {
 // segmentInput runs the segmentation of a loaded image with parameters p.
 func segmentInput(ctx context.Context, in *loaded, p segment.Params) (*segment.Result, error) {
 	f := in.features
-	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cache: in.cache}, p)
+	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cache: in.cache, Invalid: f.Invalid}, p)
 }

@@ -25,7 +25,10 @@ type settings struct {
 	Flatten       float64 `json:"flatten"`
 	FlattenMode   string  `json:"flatten-mode"`
 	Features      string  `json:"features"`
-	Channel       int     `json:"channel"`
+	Channel       channelArg `json:"channel"`
+	Plane         int        `json:"plane"`
+	Frame         int        `json:"frame"`
+	Planes        string     `json:"planes"`
 	Superpixels   string  `json:"superpixels"`
 	Compactness   float64 `json:"compactness"`
 	Radius        int     `json:"radius"`
@@ -95,7 +98,11 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Float64Var(&s.Flatten, "flatten", 0, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off; at most the image diagonal)")
 	fs.StringVar(&s.FlattenMode, "flatten-mode", "divide", "how --flatten removes the background: divide or subtract")
 	fs.StringVar(&s.Features, "features", "gray", "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
-	fs.IntVar(&s.Channel, "channel", -1, "use only this channel (0-based, below the image's channel count) of a multi-channel image; -1 = all")
+	s.Channel = "-1"
+	fs.Var(&s.Channel, "channel", "use only this channel of a multi-channel image: an index from 0, or a name the file gives its channels; -1 = a colour image's three colours, else the first channel")
+	fs.IntVar(&s.Plane, "plane", 0, "plane (Z, from 0) of a stack to segment")
+	fs.IntVar(&s.Frame, "frame", 0, "time point (from 0) of a time series to segment")
+	fs.StringVar(&s.Planes, "planes", planesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.* and a summary STEM.stack.json) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
 	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
 		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
@@ -113,8 +120,8 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
 	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
-	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (0 = off, else %g to %g)", minPixelSize, maxPixelSize))
-	fs.StringVar(&s.Unit, "unit", "um", fmt.Sprintf("unit of --pixel-size, used in column names: up to %d letters, digits, µ, /, ^ or _", maxUnitLen))
+	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", minPixelSize, maxPixelSize))
+	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", maxUnitLen))
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
 	fs.StringVar(&s.LabelsFormat, "labels-format", imageio.LabelsPNG, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
 	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
@@ -293,7 +300,8 @@ func parseBytes(name, v string) (int64, error) {
 
 // resolved is a settings value turned into the options of each stage.
 type resolved struct {
-	load     imageio.LoadOptions
+	load      imageio.LoadOptions
+	selection imageio.Selection
 	features imageio.FeatureOptions
 	params   segment.Params
 }
@@ -312,10 +320,19 @@ func (s settings) resolve(workers int) (*resolved, error) {
 		return nil, usagef("--flatten %g is larger than the diagonal of any image within --max-megapixels %g (at most %g pixels)", s.Flatten, s.MaxMegapixels, maxDiag)
 	}
 	r.load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
-	r.features = imageio.FeatureOptions{Space: s.Features, Channel: s.Channel, Normalize: s.Normalize, Flatten: s.Flatten, FlattenMode: s.FlattenMode}
+	ch, ok := s.Channel.index()
+	if !ok {
+		ch = 0 // a channel name: one channel
+	}
+	r.features = imageio.FeatureOptions{Space: s.Features, Channel: ch, Normalize: s.Normalize, Flatten: s.Flatten, FlattenMode: s.FlattenMode}
 	if err := r.features.Validate(); err != nil {
 		return nil, &usageError{err}
 	}
+	sel, err := selectionOf(s)
+	if err != nil {
+		return nil, err
+	}
+	r.selection = sel
 	p := segment.Params{
 		Compactness: s.Compactness, Radius: s.Radius, Method: s.Method, Segments: s.Segments,
 		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
@@ -335,7 +352,6 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	default:
 		return nil, usagef("--grain must be on or off, got %q", s.Grain)
 	}
-	var err error
 	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {
 		return nil, err
 	}

@@ -108,7 +108,7 @@ func TestSegmentWarnsUnusedPages(t *testing.T) {
 	if rec.Input.Pages != 30 || len(rec.Warnings) == 0 || rec.Warnings[0].Code != "unused-pages" || !strings.Contains(rec.Warnings[0].Message, "30 images") {
 		t.Fatalf("pages %d, warnings %+v", rec.Input.Pages, rec.Warnings)
 	}
-	if !strings.Contains(stderr, "only the first was segmented") {
+	if !strings.Contains(stderr, "only plane 0 was segmented") || !strings.Contains(stderr, "--planes all") {
 		t.Errorf("stderr: %s", stderr)
 	}
 }
