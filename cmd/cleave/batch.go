@@ -287,6 +287,9 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if _, err := s.resolve(1); err != nil {
 		return nil, err
 	}
+	if s.Planes == planesAll {
+		return nil, usagef("--planes all is for cleave segment; batch segments one plane per file (--planes one with --plane, or brightest)")
+	}
 	st, err := os.Stat(p.inputDir)
 	switch {
 	case errors.Is(err, fs.ErrNotExist):

@@ -131,9 +131,23 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	if c.force {
 		replace = replaceAny
 	}
-	jobs := make([]job, len(images))
-	for k, p := range images {
-		jobs[k] = job{path: p, out: outputSet{dir: c.out, stem: stemOf(p)}, settings: *s, resolved: res, replace: replace, saveGraph: c.saveGraph}
+	var jobs []job
+	stacks := map[string][]int{} // --planes all: image -> indices of its jobs
+	for _, p := range images {
+		j := job{path: p, out: outputSet{dir: c.out, stem: stemOf(p)}, settings: *s, resolved: res, replace: replace, saveGraph: c.saveGraph}
+		if s.Planes != planesAll {
+			jobs = append(jobs, j)
+			continue
+		}
+		planeJobs, err := expandPlanes(j)
+		if err != nil {
+			fmt.Fprintf(stderr, "cleave segment: %v\n", withFlags(err))
+			return exitFail
+		}
+		for range planeJobs {
+			stacks[p] = append(stacks[p], len(jobs))
+			jobs = append(jobs, planeJobs[len(stacks[p])-1])
+		}
 	}
 	if err := checkNotInputs(jobs); err != nil {
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
@@ -144,22 +158,38 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		return exitFail
 	}
 	failed := 0
-	for _, j := range jobs {
+	recs := make([]*record, len(jobs))
+	for k, j := range jobs {
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave segment: interrupted")
 			return exitFail
 		}
 		p := j.path
 		rec, err := processImage(ctx, j)
+		recs[k] = rec
 		if err != nil {
 			failed++
 			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 			continue
 		}
-		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, stemOf(p))))
+		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, j.out.stem)))
 		for _, w := range rec.Warnings {
 			fmt.Fprintf(stderr, "cleave segment: %s: warning: %s\n", p, w.Message)
 		}
+	}
+	for _, p := range images {
+		idx, ok := stacks[p]
+		if !ok {
+			continue
+		}
+		sum := stackSummaryOf(p, jobs, recs, idx)
+		path := filepath.Join(c.out, stemOf(p)+".stack.json")
+		if err := writeStackSummary(path, sum, replace != replaceNone); err != nil {
+			failed++
+			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
+			continue
+		}
+		fmt.Fprintf(stdout, "%s: %s segmented, %d failed -> %s\n", p, plural(len(idx), "plane"), sum.Failed, path)
 	}
 	if failed > 0 {
 		return exitFail

@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"strconv"
 	"strings"
@@ -218,4 +219,73 @@ const defaultUnit = "um"
 // UnitsLength symbols and their ASCII spellings).
 var metres = map[string]float64{
 	"m": 1, "dm": 1e-1, "cm": 1e-2, "mm": 1e-3, "µm": 1e-6, "um": 1e-6, "μm": 1e-6, "nm": 1e-9, "pm": 1e-12,
+}
+
+// expandPlanes makes one job per plane of the image of j (--planes all):
+// plane z is written as STEM.zNNN.* (three digits at least, more when
+// the stack needs them, so that names sort in plane order).
+func expandPlanes(j job) ([]job, error) {
+	src, err := imageio.Open(j.path, j.resolved.load)
+	if err != nil {
+		return nil, err
+	}
+	n := src.Stack().Planes
+	src.Close()
+	digits := max(3, len(strconv.Itoa(n-1)))
+	out := make([]job, n)
+	for z := range out {
+		r := *j.resolved
+		r.selection.Plane = z
+		q := j
+		q.resolved = &r
+		q.out.stem = fmt.Sprintf("%s.z%0*d", j.out.stem, digits, z)
+		out[z] = q
+	}
+	return out, nil
+}
+
+// stackSummary is STEM.stack.json, written after every plane of a stack
+// was segmented on its own (--planes all).
+type stackSummary struct {
+	Tool    string       `json:"tool"`
+	Version string       `json:"version"`
+	Input   string       `json:"input"`
+	Planes  int          `json:"planes"`
+	Failed  int          `json:"failed"`
+	Results []planeEntry `json:"results"`
+}
+
+// planeEntry is one plane's outcome in the stack summary.
+type planeEntry struct {
+	Plane    int     `json:"plane"`
+	Status   string  `json:"status"`
+	Record   string  `json:"record"`
+	Regions  int     `json:"regions"`
+	Objects  int     `json:"objects"`
+	Warnings int     `json:"warnings"`
+	Seconds  float64 `json:"seconds"`
+	Error    string  `json:"error,omitempty"`
+}
+
+func stackSummaryOf(path string, jobs []job, recs []*record, idx []int) *stackSummary {
+	s := &stackSummary{Tool: "cleave", Version: version, Input: path, Planes: len(idx), Results: []planeEntry{}}
+	for _, k := range idx {
+		e := planeEntry{Plane: jobs[k].resolved.selection.Plane, Status: "failed", Record: jobs[k].out.stem + ".json"}
+		if r := recs[k]; r != nil {
+			e.Status, e.Regions, e.Objects, e.Warnings, e.Seconds, e.Error = r.Status, r.Regions, r.Objects, len(r.Warnings), r.Seconds["total"], r.Error
+		}
+		if e.Status != "ok" {
+			s.Failed++
+		}
+		s.Results = append(s.Results, e)
+	}
+	return s
+}
+
+func writeStackSummary(path string, s *stackSummary, force bool) error {
+	return imageio.WriteAtomicAs(path, force, "", func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(s)
+	})
 }

@@ -323,6 +323,9 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitUsage, err
 	}
+	if s.Planes == planesAll {
+		return exitUsage, usagef("--planes all is for cleave segment; tune reads one plane per image (--planes one with --plane, or brightest)")
+	}
 	defer setMemoryLimit(loadRes.params.MaxMemory)()
 	if !o.force {
 		for _, n := range tuneOutputs {
