@@ -536,7 +536,7 @@ type loaded struct {
 	decodeSeconds  float64
 	featureSeconds float64
 	calibration    imageio.Calibration // the pixel size the file states
-	cache          *segment.Cache // work shared between runs (tune), or nil
+	cache          *segment.Cache      // work shared between runs (tune), or nil
 }
 
 // loadInput opens one image file, checks its header against the size and

@@ -20,34 +20,34 @@ import (
 // by flag or in a --params file. Every field is a flag of the same name
 // (the json tag); "auto" values are resolved per image by segment.Run.
 type settings struct {
-	MaxMegapixels float64 `json:"max-megapixels"`
-	Normalize     string  `json:"normalize"`
-	Flatten       float64 `json:"flatten"`
-	FlattenMode   string  `json:"flatten-mode"`
-	Features      string  `json:"features"`
+	MaxMegapixels float64    `json:"max-megapixels"`
+	Normalize     string     `json:"normalize"`
+	Flatten       float64    `json:"flatten"`
+	FlattenMode   string     `json:"flatten-mode"`
+	Features      string     `json:"features"`
 	Channel       channelArg `json:"channel"`
 	Plane         int        `json:"plane"`
 	Frame         int        `json:"frame"`
 	Planes        string     `json:"planes"`
-	Superpixels   string  `json:"superpixels"`
-	Compactness   float64 `json:"compactness"`
-	Radius        int     `json:"radius"`
-	SigmaI        string  `json:"sigma-i"`
-	SigmaX        string  `json:"sigma-x"`
-	Contour       string  `json:"contour"`
-	Grain         string  `json:"grain"`
-	Method        string  `json:"method"`
-	Segments      int     `json:"segments"`
-	MaxSegments   int     `json:"max-segments"`
-	MaxNcut       float64 `json:"max-ncut"`
-	MinArea       int     `json:"min-area"`
-	Classes       int     `json:"classes"`
-	Background    string  `json:"background"`
-	PixelSize     float64 `json:"pixel-size"`
-	Unit          string  `json:"unit"`
-	MaxMemory     string  `json:"max-memory"`
-	Seed          uint64  `json:"seed"`
-	LabelsFormat  string  `json:"labels-format"`
+	Superpixels   string     `json:"superpixels"`
+	Compactness   float64    `json:"compactness"`
+	Radius        int        `json:"radius"`
+	SigmaI        string     `json:"sigma-i"`
+	SigmaX        string     `json:"sigma-x"`
+	Contour       string     `json:"contour"`
+	Grain         string     `json:"grain"`
+	Method        string     `json:"method"`
+	Segments      int        `json:"segments"`
+	MaxSegments   int        `json:"max-segments"`
+	MaxNcut       float64    `json:"max-ncut"`
+	MinArea       int        `json:"min-area"`
+	Classes       int        `json:"classes"`
+	Background    string     `json:"background"`
+	PixelSize     float64    `json:"pixel-size"`
+	Unit          string     `json:"unit"`
+	MaxMemory     string     `json:"max-memory"`
+	Seed          uint64     `json:"seed"`
+	LabelsFormat  string     `json:"labels-format"`
 }
 
 // labelsFormat is the label map format asked for: png unless tiff was
@@ -302,8 +302,8 @@ func parseBytes(name, v string) (int64, error) {
 type resolved struct {
 	load      imageio.LoadOptions
 	selection imageio.Selection
-	features imageio.FeatureOptions
-	params   segment.Params
+	features  imageio.FeatureOptions
+	params    segment.Params
 }
 
 // resolve checks the settings and converts them; every error is a usage
