@@ -1,11 +1,14 @@
 package imageio
 
 import (
+	"context"
 	"fmt"
 	"image"
 	"image/png"
 	"io"
 	"math"
+
+	"github.com/cleave-seg/cleave/imageio/tiffread"
 )
 
 // EncodeLabels writes a label map (row-major, width x height) as a 16-bit
@@ -28,8 +31,8 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
 }
 
 // ReadLabels reads a label map: any lossless integer image (8- or 16-bit
-// gray PNG or TIFF, or a colour image whose R, G and B are equal
-// everywhere). A binary mask whose only values are 0 and 255 (8-bit) or 0
+// gray PNG, 8-, 16- or 32-bit integer TIFF, read exactly through package
+// tiffread, or a colour image whose R, G and B are equal everywhere). A binary mask whose only values are 0 and 255 (8-bit) or 0
 // and 65535 (16-bit) reads as 0/1. JPEG is refused as lossy; a colour image
 // is an error. Every error names the file.
 // The file is opened as Open does (regular files only, header first,
@@ -42,6 +45,13 @@ func ReadLabels(path string) (labels []int32, width, height int, err error) {
 	defer src.Close()
 	if src.Header().Format == "jpeg" {
 		return nil, 0, 0, fmt.Errorf("%s: a label map cannot be JPEG (lossy compression changes labels)", path)
+	}
+	if src.tiff != nil {
+		labels, width, height, err = src.tiff.labels()
+		if err != nil {
+			return nil, 0, 0, fmt.Errorf("%s: %w", path, err)
+		}
+		return labels, width, height, nil
 	}
 	im, err := src.Decode()
 	if err != nil {
@@ -67,22 +77,66 @@ func labelsOf(im *Image) ([]int32, int, int, error) {
 	}
 	p := im.Planes[0]
 	labels := make([]int32, len(p))
-	binary := true
-	top := float32(im.MaxValue())
 	for i, v := range p {
 		labels[i] = int32(v)
-		if v != 0 && v != top {
-			binary = false
+	}
+	binaryMask(labels, int32(im.MaxValue()))
+	return labels, im.Width, im.Height, nil
+}
+
+// binaryMask reads a mask whose only values are 0 and top (the largest
+// value of its bit depth, above 1) as 0/1.
+func binaryMask(labels []int32, top int32) {
+	if top <= 1 {
+		return
+	}
+	for _, l := range labels {
+		if l != 0 && l != top {
+			return
 		}
 	}
-	if binary && top > 1 {
-		for i, l := range labels {
-			if l != 0 {
-				labels[i] = 1
+	for i, l := range labels {
+		if l != 0 {
+			labels[i] = 1
+		}
+	}
+}
+
+// labels reads the first page of a label TIFF as exact integers (its
+// first sample; a colour page must have equal samples). Values must be
+// integers from 0 to 2^31 - 1.
+func (t *tiffSource) labels() ([]int32, int, int, error) {
+	p := t.page
+	n := p.Width * p.Height
+	labels := make([]int32, n)
+	ctx := context.Background()
+	if err := tiffread.ReadSample(ctx, p, 0, labels); err != nil {
+		return nil, 0, 0, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
+	}
+	if t.rgb {
+		other := make([]int32, n)
+		for s := 1; s < 3; s++ {
+			if err := tiffread.ReadSample(ctx, p, s, other); err != nil {
+				return nil, 0, 0, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
+			}
+			for i := range other {
+				if other[i] != labels[i] {
+					return nil, 0, 0, fmt.Errorf("a label map must be a gray integer image, but pixel (%d, %d) has different colour samples", i%p.Width, i/p.Width)
+				}
 			}
 		}
+	} else if p.SamplesPerPixel > 1 {
+		return nil, 0, 0, fmt.Errorf("a label map must have one sample per pixel, and this TIFF has %d", p.SamplesPerPixel)
 	}
-	return labels, im.Width, im.Height, nil
+	for i, l := range labels {
+		if l < 0 {
+			return nil, 0, 0, fmt.Errorf("label %d at pixel (%d, %d) is negative; labels are 0 (background) and 1, 2, ...", l, i%p.Width, i/p.Width)
+		}
+	}
+	if !p.IsFloat() && !p.IsSigned() && p.BitsPerSample <= 16 {
+		binaryMask(labels, int32(1)<<p.BitsPerSample-1)
+	}
+	return labels, p.Width, p.Height, nil
 }
 
 // Overlay colours. The boundary colour is a saturated amber, far from any

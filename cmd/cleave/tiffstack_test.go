@@ -185,3 +185,35 @@ func TestSegmentNaNPixelsLabelZero(t *testing.T) {
 		t.Fatalf("%d non-finite pixels in the reference, %d in the record, %d objects (three discs)", bad, rec.Input.InvalidPixels, rec.Objects)
 	}
 }
+
+// cleave score reads 32-bit integer label TIFFs (labels from 70000;
+// the prediction zlib-compressed with the horizontal predictor, one
+// block split and every label renumbered) and gives the adjusted Rand
+// index scikit-learn computes for the same arrays (make.py:
+// sklearn.metrics.adjusted_rand_score, stored in manifest.json).
+func TestScore32BitLabelTIFFs(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join(tiffData, "manifest.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m struct {
+		Files map[string]struct {
+			ARI *float64 `json:"ari_against_labels_uint32"`
+		}
+	}
+	if err := json.Unmarshal(b, &m); err != nil {
+		t.Fatal(err)
+	}
+	want := m.Files["labels-int32-zlib.tif"].ARI
+	if want == nil {
+		t.Fatal("manifest.json has no scikit-learn ARI for labels-int32-zlib.tif (run make.py with python3-sklearn)")
+	}
+	out := runOK(t, "score", "--json", filepath.Join(tiffData, "labels-int32-zlib.tif"), filepath.Join(tiffData, "labels-uint32.tif"))
+	var got map[string]float64
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatalf("%v in %s", err, out)
+	}
+	if math.Abs(got["ari"]-*want) > 1e-12 {
+		t.Fatalf("ari %.17g, scikit-learn %.17g", got["ari"], *want)
+	}
+}

@@ -32,7 +32,7 @@ tifffile reports (OME pixel sizes, hyperstack fields, resolution tags).
 Run from this folder with Debian's python3 (not another interpreter on
 the PATH):
 
-    apt-get install -y python3-tifffile python3-numpy python3-pil libtiff-tools
+    apt-get install -y python3-tifffile python3-numpy python3-pil python3-sklearn libtiff-tools
     /usr/bin/python3 make.py
 
 The output is deterministic.
@@ -168,6 +168,13 @@ ome = np.stack([np.stack([as_dtype(scene(z + 2 * c), "uint16") for z in range(3)
 tifffile.imwrite("ome-cz.ome.tif", ome, photometric="minisblack", metadata={
     "axes": "CZYX", "PhysicalSizeX": 0.325, "PhysicalSizeXUnit": "µm", "PhysicalSizeY": 0.325,
     "PhysicalSizeYUnit": "µm", "Channel": {"Name": ["DAPI", "GFP"]}})
+# tifffile gives the document a fresh UUID; a fixed one of the same
+# length keeps the output deterministic.
+with open("ome-cz.ome.tif", "r+b") as f:
+    data = f.read()
+    i = data.index(b"urn:uuid:") + len(b"urn:uuid:")
+    f.seek(i)
+    f.write(b"00000000-0000-4000-8000-000000000000")
 store("ome-cz.ome.tif", planes_of("ome-cz.ome.tif"), "tifffile")
 with tifffile.TiffFile("ome-cz.ome.tif") as tf:
     px = tifffile.xml2dict(tf.ome_metadata)["OME"]["Image"]["Pixels"]
@@ -252,6 +259,27 @@ for name, src, args in recoded:
 for _, src, _ in recoded:
     if os.path.exists(src):
         os.remove(src)
+
+# --- label maps: 32-bit integers above 65535, as array software saves them
+# truth: a 6 x 5 grid of blocks numbered from 70000 (uint32) and the same
+# partition with one block split in two and labels renumbered (int32);
+# sklearn's adjusted_rand_score of the two is the reference for cleave
+# score.
+gy, gx = np.mgrid[0:H, 0:W]
+truth = (70000 + (gy * 5 // H) * 6 + (gx * 6 // W)).astype(np.uint32)
+pred = (truth.astype(np.int64) * 7 % 1000 + 100000).astype(np.int32)
+pred[(truth == truth[0, 0]) & (gx < 3)] = 123456
+tifffile.imwrite("labels-uint32.tif", truth)
+store("labels-uint32.tif", planes_of("labels-uint32.tif"), "tifffile")
+tifffile.imwrite("labels-int32-zlib.tif", pred, compression="zlib", predictor=2)
+store("labels-int32-zlib.tif", planes_of("labels-int32-zlib.tif"), "tifffile")
+try:
+    import sklearn
+    import sklearn.metrics
+    meta("labels-int32-zlib.tif", ari_against_labels_uint32=float(sklearn.metrics.adjusted_rand_score(truth.ravel(), pred.ravel())),
+         sklearn=sklearn.__version__)
+except ImportError:
+    print("python3-sklearn missing: no ARI reference for the label TIFFs")
 
 # --- refused with the feature named ------------------------------------
 subprocess.run(["tifffile", "--version"], capture_output=True)
