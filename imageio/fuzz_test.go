@@ -27,7 +27,21 @@ func FuzzDecode(f *testing.F) {
 		}
 		f.Add(b)
 	}
-	// TIFF variants: interleaved and planar RGB, and a BigTIFF header.
+	// TIFF variants written by tifffile and libtiff's tiffcp
+	// (testdata/tiff/make.py): sample types, BigTIFF, tiles, planar,
+	// pages, every compression and predictor.
+	tiffs, err := filepath.Glob(filepath.Join(tiffdata, "*.tif"))
+	if err != nil || len(tiffs) == 0 {
+		f.Fatalf("no TIFF variants in %s: %v", tiffdata, err)
+	}
+	for _, p := range tiffs {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(b)
+	}
+	// Hand-built: interleaved and planar RGB, and a BigTIFF header.
 	f.Add(tiffRGB(1))
 	f.Add(tiffRGB(2))
 	f.Add([]byte("II+\x00\x08\x00\x00\x00\x10\x00\x00\x00\x00\x00\x00\x00"))
@@ -45,11 +59,20 @@ func FuzzDecode(f *testing.F) {
 		if float64(im.Width)*float64(im.Height) > 0.25e6 {
 			t.Fatalf("%dx%d decoded above the limit", im.Width, im.Height)
 		}
-		top := float32(im.MaxValue())
+		top := im.MaxValue()
 		for _, p := range im.Planes {
 			for _, v := range p {
-				if !(v >= 0 && v <= top) || v != float32(math.Trunc(float64(v))) {
-					t.Fatalf("sample %v outside the integers 0..%v", v, top)
+				x := float64(v)
+				switch im.SampleType {
+				case SampleFloat: // any value, NaN and infinities too
+				case SampleSigned:
+					if !(x >= -top-1 && x <= top) || x != math.Trunc(x) {
+						t.Fatalf("sample %v outside the integers %v..%v", v, -top-1, top)
+					}
+				default:
+					if !(x >= 0 && x <= top) || x != math.Trunc(x) {
+						t.Fatalf("sample %v outside the integers 0..%v", v, top)
+					}
 				}
 			}
 		}

@@ -163,6 +163,14 @@ func (f *File) newPage(es map[uint16]entry) (*Page, error) {
 		}
 		p.ChunkWidth, p.ChunkHeight = p.Width, rps
 	}
+	// A strip or tile is decompressed whole: one far larger than the
+	// image (a hostile tile size) is refused before its buffer exists.
+	// Real tiles on small images (512 x 512 on a thumbnail) stay well
+	// below 16 MiB over the image.
+	bps := int64(max(p.BitsPerSample, 8) / 8)
+	if plane := int64(p.Width) * int64(p.Height) * int64(p.SamplesPerPixel) * bps; p.ChunkBytes() > 2*plane+16<<20 {
+		return nil, FormatError(fmt.Sprintf("strip or tile of %dx%d pixels for a %dx%d image", p.ChunkWidth, p.ChunkHeight, p.Width, p.Height))
+	}
 	p.reason = p.unsupported()
 	return p, nil
 }
