@@ -12,6 +12,9 @@ import (
 	"image/jpeg"
 	"io"
 	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"github.com/klauspost/compress/zstd"
 	"golang.org/x/image/tiff/lzw"
@@ -90,71 +93,108 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 	// adds 1 byte in 128, deflate 5 bytes per 16 KiB block, LZW with
 	// 12-bit codes half again; a larger count is damage.
 	maxCompressed := uint64(chunkBytes)*2 + 1<<16
-	dec := &decoder{p: p}
-	defer dec.close()
-	buf := make([]byte, chunkBytes)
-	var tmp []byte
-	if p.Predictor == predictorFloatingPoint {
-		tmp = make([]byte, rowBytes)
-	}
 	exact := isInt[T]()
-	for cy := 0; cy < down; cy++ {
-		for cx := 0; cx < across; cx++ {
-			if err := ctx.Err(); err != nil {
-				return err
-			}
-			k := cy*across + cx
-			if p.Planar == 2 {
-				k += s * perPlane
-			}
-			y0, x0 := cy*p.ChunkHeight, cx*p.ChunkWidth
-			rows := p.ChunkHeight
-			if !p.Tiled {
-				rows = min(rows, p.Height-y0) // the last strip may be short
-			}
-			need := rows * rowBytes
-			var cnt uint64
-			if counts != nil {
-				cnt = counts[k]
-			} else {
-				cnt = uint64(need)
-			}
-			if p.Compression == CompressionNone {
-				cnt = min(cnt, uint64(need))
-			} else if cnt > maxCompressed {
-				return FormatError(fmt.Sprintf("strip or tile %d claims %d bytes, more than %d pixel bytes can compress to", k, cnt, need))
-			}
-			off := offsets[k]
-			if off > uint64(f.size) || cnt > uint64(f.size)-off {
-				return fmt.Errorf("strip or tile %d (%d bytes at %d) lies past the end of the file: %w", k, cnt, off, io.ErrUnexpectedEOF)
-			}
-			if p.Compression == CompressionJPEG {
-				if err := dec.jpegChunk(off, cnt, s, rows, x0, y0, dst); err != nil {
-					return fmt.Errorf("strip or tile %d: %w", k, err)
-				}
-				continue
-			}
-			if err := dec.chunk(off, cnt, buf[:need]); err != nil {
+	// one decodes chunk number c (row-major within the sample plane)
+	// with a worker's decoder and buffers.
+	one := func(dec *decoder, buf, tmp []byte, c int) error {
+		cy, cx := c/across, c%across
+		k := c
+		if p.Planar == 2 {
+			k += s * perPlane
+		}
+		y0, x0 := cy*p.ChunkHeight, cx*p.ChunkWidth
+		rows := p.ChunkHeight
+		if !p.Tiled {
+			rows = min(rows, p.Height-y0) // the last strip may be short
+		}
+		need := rows * rowBytes
+		var cnt uint64
+		if counts != nil {
+			cnt = counts[k]
+		} else {
+			cnt = uint64(need)
+		}
+		if p.Compression == CompressionNone {
+			cnt = min(cnt, uint64(need))
+		} else if cnt > maxCompressed {
+			return FormatError(fmt.Sprintf("strip or tile %d claims %d bytes, more than %d pixel bytes can compress to", k, cnt, need))
+		}
+		off := offsets[k]
+		if off > uint64(f.size) || cnt > uint64(f.size)-off {
+			return fmt.Errorf("strip or tile %d (%d bytes at %d) lies past the end of the file: %w", k, cnt, off, io.ErrUnexpectedEOF)
+		}
+		if p.Compression == CompressionJPEG {
+			if err := dec.jpegChunk(off, cnt, s, rows, x0, y0, dst); err != nil {
 				return fmt.Errorf("strip or tile %d: %w", k, err)
 			}
-			w := min(p.ChunkWidth, p.Width-x0)
-			for r := 0; r < rows && y0+r < p.Height; r++ {
-				row := buf[r*rowBytes : (r+1)*rowBytes]
-				switch p.Predictor {
-				case predictorHorizontal:
-					undoHorizontal(row, spc, bps, f.Order)
-				case predictorFloatingPoint:
-					undoFloatingPoint(row, tmp, spc, bps)
-				}
-				y := y0 + r
-				if err := convertRow(dst[y*p.Width+x0:y*p.Width+x0+w], row, spc*bps, si*bps, p, exact); err != nil {
-					return fmt.Errorf("pixel (%d, %d): %w", x0, y, err)
-				}
+			return nil
+		}
+		if err := dec.chunk(off, cnt, buf[:need]); err != nil {
+			return fmt.Errorf("strip or tile %d: %w", k, err)
+		}
+		w := min(p.ChunkWidth, p.Width-x0)
+		for r := 0; r < rows && y0+r < p.Height; r++ {
+			row := buf[r*rowBytes : (r+1)*rowBytes]
+			switch p.Predictor {
+			case predictorHorizontal:
+				undoHorizontal(row, spc, bps, f.Order)
+			case predictorFloatingPoint:
+				undoFloatingPoint(row, tmp, spc, bps)
+			}
+			y := y0 + r
+			if err := convertRow(dst[y*p.Width+x0:y*p.Width+x0+w], row, spc*bps, si*bps, p, exact); err != nil {
+				return fmt.Errorf("pixel (%d, %d): %w", x0, y, err)
 			}
 		}
+		return nil
 	}
-	return nil
+	// Chunks are decoded by up to Workers goroutines, each taking the
+	// next chunk number; every chunk writes its own pixels, so the result
+	// does not depend on the order. The error reported is that of the
+	// first failing chunk in file order.
+	workers := max(1, min(Workers, runtime.GOMAXPROCS(0), perPlane))
+	errs := make([]error, perPlane)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			dec := &decoder{p: p}
+			defer dec.close()
+			buf := make([]byte, chunkBytes)
+			var tmp []byte
+			if p.Predictor == predictorFloatingPoint {
+				tmp = make([]byte, rowBytes)
+			}
+			for {
+				c := int(next.Add(1)) - 1
+				if c >= perPlane {
+					return
+				}
+				if err := ctx.Err(); err != nil {
+					errs[c] = err
+					return
+				}
+				if errs[c] = one(dec, buf, tmp, c); errs[c] != nil {
+					next.Store(int64(perPlane)) // stop the others
+					return
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return ctx.Err()
 }
+
+// Workers bounds the goroutines that decode the strips or tiles of one
+// sample plane (also by GOMAXPROCS); each holds one chunk buffer.
+var Workers = 4
 
 func isInt[T Sample]() bool {
 	var z T
@@ -389,22 +429,32 @@ func convertRow[T Sample](dst []T, row []byte, stride, off int, p *Page, exact b
 			}
 		}
 	default:
+		// 8- and 16-bit samples, the common case, by index arithmetic.
+		var flip uint16
+		if invert {
+			flip = 0xffff
+		}
 		switch p.BitsPerSample {
 		case 8:
+			row = row[off:]
 			for x := range dst {
-				v := at(x)[0]
-				if invert {
-					v = 255 - v
-				}
-				dst[x] = T(v)
+				dst[x] = T(row[x*stride] ^ uint8(flip))
 			}
 		case 16:
-			for x := range dst {
-				v := o.Uint16(at(x))
-				if invert {
-					v = 65535 - v
+			row = row[off:]
+			if len(dst) > 0 {
+				_ = row[(len(dst)-1)*stride+1]
+			}
+			if o == binary.LittleEndian {
+				for x := range dst {
+					j := x * stride
+					dst[x] = T((uint16(row[j]) | uint16(row[j+1])<<8) ^ flip)
 				}
-				dst[x] = T(v)
+			} else {
+				for x := range dst {
+					j := x * stride
+					dst[x] = T((uint16(row[j])<<8 | uint16(row[j+1])) ^ flip)
+				}
 			}
 		default:
 			for x := range dst {
