@@ -103,7 +103,7 @@ func TestSegmentOMEChannelByName(t *testing.T) {
 	}
 }
 
-// The hyperstack written by tifffile (imagej=True, TZCYX 2 x 3 x 2,
+// The hyperstack written by tifffile (its hyperstack option, TZCYX 2 x 3 x 2,
 // resolution 2 pixels per unit, unit um) gives its layout and a pixel
 // size of 1/2 um from the description's unit and the resolution tags;
 // --unit nm converts it.

@@ -189,8 +189,8 @@ tifffile.imwrite("hyperstack.tif", hyper, imagej=True, resolution=(1 / 0.5, 1 / 
                  metadata={"axes": "TZCYX", "spacing": 2.0, "unit": "um"})
 store("hyperstack.tif", planes_of("hyperstack.tif"), "tifffile")
 with tifffile.TiffFile("hyperstack.tif") as tf:
-    ij = tf.imagej_metadata
-    meta("hyperstack.tif", hyperstack={k: ij[k] for k in ("images", "channels", "slices", "frames", "spacing", "unit")},
+    hs = tf.imagej_metadata
+    meta("hyperstack.tif", hyperstack={k: hs[k] for k in ("images", "channels", "slices", "frames", "spacing", "unit")},
          resolution=[float(tf.pages[0].tags["XResolution"].value[0]) / tf.pages[0].tags["XResolution"].value[1]])
 
 tifffile.imwrite("resolution-cm.tif", u16, resolution=(10000 / 0.65, 10000 / 0.65), resolutionunit="CENTIMETER")
