@@ -33,6 +33,9 @@ func TestHostileCorpus(t *testing.T) {
 		{"cut-tiff-strip.tif", nil, "truncated TIFF file (pixel data)"},
 		{"cut-jpeg-scan.jpg", nil, "JPEG file (pixel data)"},
 		{"tiff-ifd-past-end.tif", nil, "truncated TIFF file (header)"},
+		{"tiff-tile-bomb.tif", nil, "corrupt TIFF file (header): strip or tile of 65536x65536 pixels"},
+		{"tiff-strip-count-bomb.tif", nil, "corrupt TIFF file (pixel data)"},
+		{"bigtiff-cut-directory.tif", nil, "truncated TIFF file (header)"},
 		{"empty.png", nil, "empty file"},
 		{"not-an-image.png", ErrUnknownFormat, "not a PNG"},
 	}

@@ -58,6 +58,18 @@ func main() {
 	write("cut-jpeg-scan.jpg", j[:len(j)/2])
 	// A TIFF whose first directory lies far past the end of the file.
 	write("tiff-ifd-past-end.tif", tiffIFDAt(1<<30))
+	// A 64 x 64 TIFF with tiles of 65536 x 65536 pixels (4 GiB each):
+	// refused from the directory, before a tile buffer exists.
+	write("tiff-tile-bomb.tif", tiffEntries([][4]uint32{
+		{256, 4, 1, 64}, {257, 4, 1, 64}, {258, 3, 1, 8}, {259, 3, 1, 1}, {262, 3, 1, 1}, {277, 3, 1, 1},
+		{322, 4, 1, 65536}, {323, 4, 1, 65536}, {324, 4, 1, 8}, {325, 4, 1, 64}}))
+	// A deflate strip that claims 2^31 bytes for 64 x 64 pixels.
+	write("tiff-strip-count-bomb.tif", tiffEntries([][4]uint32{
+		{256, 4, 1, 64}, {257, 4, 1, 64}, {258, 3, 1, 8}, {259, 3, 1, 8}, {262, 3, 1, 1}, {273, 4, 1, 8},
+		{277, 3, 1, 1}, {278, 4, 1, 64}, {279, 4, 1, 1 << 31}}))
+	// A BigTIFF (version 43) cut inside its first directory.
+	big := []byte("II+\x00\x08\x00\x00\x00\x10\x00\x00\x00\x00\x00\x00\x00\x09\x00\x00\x00\x00\x00\x00\x00")
+	write("bigtiff-cut-directory.tif", append(big, make([]byte, 40)...))
 	write("empty.png", nil)
 	write("not-an-image.png", []byte("just some text, not an image\n"))
 }
@@ -169,6 +181,24 @@ func stripFirstTIFF(w, h uint32) []byte {
 	binary.LittleEndian.PutUint32(b[8+2+5*12+8:], off)
 	img := gradient(int(w), int(h))
 	return append(b, img.Pix...)
+}
+
+// tiffEntries writes a little-endian TIFF with one directory at offset 8
+// holding the entries (tag, type, count, value), then 64 zero bytes.
+func tiffEntries(es [][4]uint32) []byte {
+	var b bytes.Buffer
+	b.WriteString("II*\x00")
+	binary.Write(&b, binary.LittleEndian, uint32(8))
+	binary.Write(&b, binary.LittleEndian, uint16(len(es)))
+	for _, e := range es {
+		binary.Write(&b, binary.LittleEndian, uint16(e[0]))
+		binary.Write(&b, binary.LittleEndian, uint16(e[1]))
+		binary.Write(&b, binary.LittleEndian, e[2])
+		binary.Write(&b, binary.LittleEndian, e[3])
+	}
+	binary.Write(&b, binary.LittleEndian, uint32(0))
+	b.Write(make([]byte, 64))
+	return b.Bytes()
 }
 
 func tiffIFDAt(off uint32) []byte {
