@@ -20,7 +20,9 @@ type Stack struct {
 	Channels, Planes, Frames int
 	ChannelNames             []string `json:",omitempty"`
 	// Layout says how the pages were read: "ome-xml", "hyperstack
-	// description", "pages" (every page a plane) or "" (one image).
+	// description", "shape description" (the JSON with the array's shape
+	// and axes that python's tifffile writes), "pages" (every page a
+	// plane) or "" (one image).
 	Layout      string
 	Calibration Calibration
 }
@@ -64,6 +66,7 @@ type tiffSource struct {
 	pageC   int  // channels held one per page
 	sampleC int  // channels held as samples of a pixel (1 for colour)
 	rgb     bool // the first three samples are red, green, blue
+	linear  bool // plane k is sample k mod n of page k div n (tiffmeta.Layout.Linear)
 	stack   Stack
 	// the choice (Choose)
 	channel int // -1: colour
@@ -104,9 +107,22 @@ func openTIFF(r io.ReaderAt, size int64) (*tiffSource, error) {
 		if l, err := tiffmeta.ParseOME(desc); err == nil {
 			layout = l
 		}
+	case strings.HasPrefix(desc, "{"):
+		if l := tiffmeta.ParseShaped(desc); l != nil {
+			layout = l
+		}
 	default:
 		if l := tiffmeta.ParseHyperstack(desc); l != nil {
 			layout = l
+		}
+	}
+	if layout.Linear {
+		// The array has no sample axis: its planes are the samples of
+		// the pages in order (three of them may be tagged RGB).
+		if layout.SizeC*layout.SizeZ*layout.SizeT == pages*p.SamplesPerPixel {
+			t.linear, t.rgb, t.sampleC = true, false, 1
+		} else {
+			layout = &tiffmeta.Layout{SizeC: 1, SizeZ: pages, SizeT: 1, Order: "XYCZT"}
 		}
 	}
 	// Channels in pages: OME counts samples in SizeC.
@@ -114,7 +130,7 @@ func openTIFF(r io.ReaderAt, size int64) (*tiffSource, error) {
 	if layout.Source == "ome-xml" && p.SamplesPerPixel > 1 && pc%p.SamplesPerPixel == 0 {
 		pc /= p.SamplesPerPixel
 	}
-	if layout.Source != "" && pc*layout.SizeZ*layout.SizeT > pages && layout.IFD == nil {
+	if layout.Source != "" && !t.linear && pc*layout.SizeZ*layout.SizeT > pages && layout.IFD == nil {
 		// The metadata describes more planes than the file has pages
 		// (a file of a multi-file set, or a description left from an
 		// earlier state): read the pages as planes.
@@ -254,6 +270,9 @@ func checkIndex(name string, v, n int, what string) error {
 func (t *tiffSource) locate(c, z, tt int) (*tiffread.Page, int, error) {
 	pc, s := c/t.sampleC, c%t.sampleC
 	idx := t.layout.PlaneIndex(pc, z, tt, t.pageC)
+	if t.linear {
+		idx, s = idx/t.page.SamplesPerPixel, idx%t.page.SamplesPerPixel
+	}
 	if t.layout.IFD != nil {
 		k, ok := t.layout.IFD[idx]
 		if !ok {

@@ -109,6 +109,20 @@ func TestChooseChannelPlaneFrame(t *testing.T) {
 	if im.Used.Plane != -1 {
 		t.Fatalf("used plane %d for the projection, want -1", im.Used.Plane)
 	}
+	// tifffile's JSON description with axes CZYX (2 x 3, stored as 2
+	// pages of 3 samples): channel 1, plane 2 is array plane 1 * 3 + 2,
+	// the 5th in tifffile's page-and-sample order.
+	ax := vs["axes-czyx.tif"]
+	src, err := Open(filepath.Join(tiffdata, "axes-czyx.tif"), LoadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st := src.Stack(); st.Channels != 2 || st.Planes != 3 || st.Layout != "shape description" {
+		t.Fatalf("axes-czyx.tif: stack %+v, tifffile's series is CZYX 2 x 3", st)
+	}
+	src.Close()
+	im = loadChosen(t, "axes-czyx.tif", Selection{Channel: "1", Plane: 2})
+	samePlane(t, "CZYX channel 1 plane 2", im.Planes[0], refPlane(t, ax, 1*3+2))
 	// Samples as channels: the five-channel planar file, channel 4.
 	five := vs["five-channel-planar.tif"]
 	im = loadChosen(t, "five-channel-planar.tif", Selection{Channel: "4"})

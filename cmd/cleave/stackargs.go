@@ -175,7 +175,7 @@ func stackWarnings(info inputInfo, s settings) []warningInfo {
 	if len(parts) > 0 {
 		out = append(out, warningInfo{Code: "unused-pages", Message: fmt.Sprintf(
 			"the file holds %d images (%s); only %s was segmented; choose with --plane and --frame, segment every plane with --planes all, or their brightest values with --planes brightest",
-			info.Pages, strings.Join(parts, ", "), strings.Join(used, " at "))})
+			st.Channels*st.Planes*st.Frames, strings.Join(parts, ", "), strings.Join(used, " at "))})
 	}
 	return out
 }

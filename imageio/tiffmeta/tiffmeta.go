@@ -8,6 +8,7 @@
 package tiffmeta
 
 import (
+	"encoding/json"
 	"encoding/xml"
 	"fmt"
 	"math"
@@ -19,7 +20,8 @@ import (
 // time points (T).
 type Layout struct {
 	// Source names where the layout came from: "ome-xml",
-	// "hyperstack description", or "" when neither was found.
+	// "hyperstack description", "shape description" or "" when none
+	// was found.
 	Source string
 	// SizeC, SizeZ, SizeT count channels, planes and time points as the
 	// metadata states them. For OME, SizeC counts samples: an RGB image
@@ -36,6 +38,9 @@ type Layout struct {
 	IFD map[int]int
 	// Calibration is the pixel size the metadata states, if any.
 	Calibration Calibration
+	// Linear says that plane k is sample k mod n of page k div n, for
+	// pages of n samples (ParseShaped), rather than page k.
+	Linear bool
 }
 
 // Calibration is a physical pixel size.
@@ -254,4 +259,73 @@ func FromResolution(xres, yres float64, unit int) Calibration {
 		return Calibration{}
 	}
 	return Calibration{X: um / xres, Y: um / yres, Unit: "µm", Source: "resolution tags"}
+}
+
+// ParseShaped reads the JSON description that python's tifffile writes
+// for arrays it saves without other metadata: {"shape": [...], "axes":
+// "..."}, the array's shape and one letter per dimension, stored in
+// row-major order (the last dimension before the image's rows varies
+// fastest). It returns nil without axes, or when the axes hold anything
+// but channel (C), plane (Z), time (T) and one generic sequence axis
+// (I or Q, read as planes when there is no Z) before Y, X and an
+// optional sample axis S. Without S the layout's planes count the
+// samples of a pixel as well as pages (Linear): tifffile stores a short
+// leading dimension as the samples of each page (even tagging three of
+// them RGB); with S every page is a plane.
+func ParseShaped(desc string) *Layout {
+	var d struct {
+		Shape []int  `json:"shape"`
+		Axes  string `json:"axes"`
+	}
+	if err := json.Unmarshal([]byte(desc), &d); err != nil || d.Axes == "" || len(d.Axes) != len(d.Shape) {
+		return nil
+	}
+	axes := strings.ToUpper(d.Axes)
+	shape := d.Shape
+	samples := strings.HasSuffix(axes, "S")
+	if samples {
+		axes, shape = axes[:len(axes)-1], shape[:len(shape)-1]
+	}
+	if !strings.HasSuffix(axes, "YX") {
+		return nil
+	}
+	axes, shape = axes[:len(axes)-2], shape[:len(shape)-2]
+	if !strings.ContainsRune(axes, 'Z') {
+		if i := strings.IndexAny(axes, "IQ"); i >= 0 {
+			axes = axes[:i] + "Z" + axes[i+1:]
+		}
+	}
+	l := &Layout{Source: "shape description", SizeC: 1, SizeZ: 1, SizeT: 1, Linear: true}
+	seen := map[rune]bool{}
+	order := ""
+	for i := len(axes) - 1; i >= 0; i-- {
+		a := rune(axes[i])
+		n := shape[i]
+		if seen[a] || n < 1 || n > maxDim {
+			return nil
+		}
+		seen[a] = true
+		switch a {
+		case 'C':
+			l.SizeC = n
+		case 'Z':
+			l.SizeZ = n
+		case 'T':
+			l.SizeT = n
+		default:
+			return nil
+		}
+		order += string(a)
+	}
+	for _, a := range "CZT" {
+		if !seen[a] {
+			order += string(a)
+		}
+	}
+	if l.SizeC*l.SizeZ*l.SizeT > maxDim {
+		return nil
+	}
+	l.Order = "XY" + order
+	l.Linear = !samples
+	return l
 }

@@ -162,6 +162,28 @@ func TestHyperstackAsTifffileReports(t *testing.T) {
 	}
 }
 
+// The JSON description with axes: TZCYX of 4 x 3 x 2 puts C fastest,
+// then Z, then T (row-major order), so (c 1, z 2, t 3) is plane
+// 1 + 2 (2 + 3 * 3) = 23; a generic sequence axis stands for Z; an
+// unknown axis or a description without axes gives nothing.
+func TestParseShaped(t *testing.T) {
+	l := ParseShaped(`{"shape": [4, 3, 2, 29, 37], "axes": "TZCYX"}`)
+	if l == nil || l.SizeT != 4 || l.SizeZ != 3 || l.SizeC != 2 || l.Order != "XYCZT" || !l.Linear {
+		t.Fatalf("layout %+v", l)
+	}
+	if k := l.PlaneIndex(1, 2, 3, 2); k != 23 {
+		t.Fatalf("plane index %d, want 23", k)
+	}
+	if l := ParseShaped(`{"shape": [5, 8, 9, 3], "axes": "QYXS"}`); l == nil || l.SizeZ != 5 {
+		t.Fatalf("QYXS: %+v", l)
+	}
+	for _, d := range []string{`{"shape": [2, 8, 9]}`, `{"shape": [2, 8, 9], "axes": "AYX"}`, `{"shape": [2, 8], "axes": "YX9"}`, `not json`} {
+		if ParseShaped(d) != nil {
+			t.Fatalf("%s read as a layout", d)
+		}
+	}
+}
+
 // Resolution tags: 2540 pixels per inch is 10 µm (25400 µm to the
 // inch), 1000 per centimetre is 10 µm; the screen defaults 72 and 96
 // per inch and unitless values give nothing (TIFF 6.0 section 8).

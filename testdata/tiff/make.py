@@ -193,6 +193,14 @@ with tifffile.TiffFile("hyperstack.tif") as tf:
     meta("hyperstack.tif", hyperstack={k: hs[k] for k in ("images", "channels", "slices", "frames", "spacing", "unit")},
          resolution=[float(tf.pages[0].tags["XResolution"].value[0]) / tf.pages[0].tags["XResolution"].value[1]])
 
+# The JSON description tifffile writes with the array's axes: a CZYX
+# array of 2 channels and 3 planes, which tifffile stores as 2 pages of 3
+# samples each (its series reports the axes and shape).
+czyx = np.stack([np.stack([as_dtype(scene(z + 2 * c), "uint16") for z in range(3)]) for c in range(2)])
+write("axes-czyx.tif", czyx, metadata={"axes": "CZYX"})
+with tifffile.TiffFile("axes-czyx.tif") as tf:
+    meta("axes-czyx.tif", series={"axes": tf.series[0].axes, "shape": list(tf.series[0].shape)})
+
 tifffile.imwrite("resolution-cm.tif", u16, resolution=(10000 / 0.65, 10000 / 0.65), resolutionunit="CENTIMETER")
 store("resolution-cm.tif", planes_of("resolution-cm.tif"), "tifffile")
 with tifffile.TiffFile("resolution-cm.tif") as tf:
