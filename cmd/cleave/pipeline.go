@@ -366,12 +366,12 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	maps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, j.settings.PixelSize, j.settings.Unit, &maps[0])},
+		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, &maps[0])},
 		{".overlay.png", func(wr io.Writer) error { return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint) }},
 	}
 	if res.Classes != nil {
 		maps = append(maps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, j.settings.PixelSize, j.settings.Unit, &maps[1])})
+		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, &maps[1])})
 	}
 	rec.LabelMaps = maps
 	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {

@@ -93,6 +93,16 @@ func TestSegmentOMEChannelByName(t *testing.T) {
 	if err != nil || !strings.Contains(strings.SplitN(string(table), "\n", 2)[0], "area_µm2") {
 		t.Fatalf("region table head: %.200s (%v)", table, err)
 	}
+	// A TIFF label map carries the file's pixel size in its resolution
+	// tags: 10^4 / 0.325 pixels per centimetre.
+	code, _, stderr = runCleave("segment", "--force", "--labels-format", "tiff", "--out", out, img)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	rec = readRecordFile(t, filepath.Join(out, "ome-cz.ome.json"))
+	if len(rec.LabelMaps) == 0 || math.Abs(rec.LabelMaps[0].PixelsPerUnit-1e4/m.OME.PhysicalSizeX) > 1e-6 || rec.LabelMaps[0].ResolutionUnit != "centimetre" {
+		t.Fatalf("label maps %+v, want %v pixels per centimetre", rec.LabelMaps, 1e4/m.OME.PhysicalSizeX)
+	}
 	code, _, stderr = runCleave("segment", "--force", "--pixel-size", "2", "--unit", "nm", "--out", out, img)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
