@@ -3,10 +3,13 @@
 // described by Aware Systems, 2006, and implemented by libtiff 4), in both
 // byte orders: strips and tiles, contiguous and planar samples, many
 // pages, 8-, 16-, 32- and 64-bit unsigned, signed and floating-point
-// samples and 16-bit floats, compression none, LZW, deflate (Adobe and
-// the older code 32946), PackBits, zstd and baseline JPEG (gray or YCbCr),
-// with the horizontal predictor (TIFF 6.0 section 14) and the
-// floating-point predictor (Adobe Photoshop TIFF Technical Note 3).
+// samples and 16-bit floats, compression none, LZW (TIFF 6.0 section
+// 13), deflate (code 8 of the Adobe Photoshop TIFF Technical Notes, a
+// zlib stream per RFC 1950 and 1951, and the older code 32946), PackBits
+// (section 9), zstd (code 50000 as libtiff registers it, RFC 8878) and
+// JPEG (TIFF Technical Note 2; gray or YCbCr), with the horizontal
+// predictor (section 14) and the floating-point predictor (Adobe
+// Photoshop TIFF Technical Note 3).
 //
 // It is written in the manner of golang.org/x/image/tiff, which cleave
 // keeps for what that package decodes and this one leaves out (bilevel
