@@ -410,13 +410,13 @@ func brightest(dst, v []float32) {
 }
 
 // decodeBytes estimates the memory of decode: the output planes, the
-// projection's second plane, one strip or tile decompressed and its
-// compressed bytes.
+// projection's second plane, and for each decoding worker a strip or
+// tile decompressed and its compressed bytes (at most twice as many).
 func (t *tiffSource) decodeBytes(channels int) int64 {
 	n := int64(t.page.Width) * int64(t.page.Height)
 	b := 4 * n * int64(channels)
 	if t.stack.Planes > 1 {
 		b += 4 * n // a projection's second plane
 	}
-	return b + 3*t.page.ChunkBytes() + 1<<20
+	return b + 3*int64(tiffread.Workers)*t.page.ChunkBytes() + 1<<20
 }
