@@ -953,7 +953,7 @@ func fileSHA256(p string) (string, error) {
 }
 
 // outputSuffixes are the files processImage may write for one stem.
-var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".classes.png", ".classes.tif", ".regions.csv", ".json"}
+var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".classes.png", ".classes.tif", ".regions.csv", ".outlines.geojson", ".json"}
 
 // outputDirs are the folders, relative to --out and slash-separated,
 // that hold the outputs of inputs, with the top of --out itself.

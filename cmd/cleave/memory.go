@@ -22,8 +22,10 @@ const baseBytes = 24 << 20
 // label and class images and the overlay being encoded at once (16-bit
 // PNG images 2 + 2; a TIFF label map keeps its compressed strips until
 // its header is written, at most 4 + 2 for 32-bit labels; the overlay 4),
-// and the region table's per-pixel work (8).
-const outputBytesPerPixel = 30
+// the region table's row runs (segment/measure, at most 12 per pixel, 8
+// counted: a run per pixel needs a label map of single-pixel rows) and
+// the outlines' edge flags and piece map (1 + 4).
+const outputBytesPerPixel = 35
 
 // stageEstimate is the estimated peak memory of the process during one
 // stage of one image.
@@ -46,6 +48,9 @@ func estimateImage(h imageio.Header, r *resolved) []stageEstimate {
 		planes = 3
 	}
 	base, kept := float64(baseBytes), float64(fkept)
+	if h.Channels > 1 {
+		kept += imagePlanes // a colour image's planes, kept for the region table
+	}
 	est := []stageEstimate{
 		{"decode", satBytes(base + float64(h.DecodeBytes))},
 		{"features", satBytes(base + imagePlanes + float64(fpeak))},

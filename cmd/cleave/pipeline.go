@@ -17,6 +17,7 @@ import (
 
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/segment/measure"
 )
 
 // inputInfo describes the input file in the record.
@@ -294,7 +295,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		return fail(err)
 	}
 	defer budget.release(held)
-	in, err := loadSource(ctx, src, j.resolved)
+	in, err := loadSourceKeep(ctx, src, j.resolved, true)
 	if err != nil {
 		return fail(err)
 	}
@@ -374,8 +375,26 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, &maps[1])})
 	}
 	rec.LabelMaps = maps
+	planes, planeNames := intensityPlanes(feat.Raw, in.channels)
+	regions, err := measure.Regions(res.Labels, w, h, planes, res.Classes)
+	if err != nil {
+		return fail(err)
+	}
+	var classOf map[int32]int32
+	if res.Classes != nil {
+		classOf = make(map[int32]int32, len(regions))
+		for _, r := range regions {
+			classOf[r.Label] = r.Class
+		}
+	}
 	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
-		return writeRegionTable(wr, measureRegions(res.Labels, feat.Raw, w, h), tableSize, tableUnit)
+		return writeRegionTable(wr, regions, planeNames, res.Classes != nil, tableSize, tableUnit)
+	}}, output{".outlines.geojson", func(wr io.Writer) error {
+		outlines, err := measure.Outlines(res.Labels, w, h)
+		if err != nil {
+			return err
+		}
+		return writeOutlines(wr, outlines, classOf)
 	}})
 	// The record announces the outputs before they are written.
 	written := map[string]bool{filepath.Base(recordPath): true}
@@ -490,7 +509,7 @@ func recordBlocked(p string, err error) string {
 // outputs lists every file the job writes in the format asked for.
 func (j job) outputs() []string {
 	f := j.settings.labelsFormat()
-	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".json")}
+	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".outlines.geojson"), j.out.path(".json")}
 	if j.settings.Classes >= 2 {
 		list = append(list, j.out.path(classesSuffixes[f]))
 	}
@@ -537,6 +556,9 @@ type loaded struct {
 	featureSeconds float64
 	calibration    imageio.Calibration // the pixel size the file states
 	cache          *segment.Cache      // work shared between runs (tune), or nil
+	// channels are the colour planes of a three-channel image in its own
+	// units, kept for the region table (processImage); nil otherwise.
+	channels [][]float32
 }
 
 // loadInput opens one image file, checks its header against the size and
@@ -581,6 +603,12 @@ func stripPath(err error, path string) error {
 // features. The file is read in steps (never held whole) and the work
 // stops when ctx is done.
 func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded, error) {
+	return loadSourceKeep(ctx, src, r, false)
+}
+
+// loadSourceKeep is loadSource that, with keepChannels, also keeps the
+// planes of a colour image (loaded.channels) for the region table.
+func loadSourceKeep(ctx context.Context, src *imageio.Source, r *resolved, keepChannels bool) (*loaded, error) {
 	t0 := time.Now()
 	h := sha256.New()
 	if err := copyContext(ctx, h, src.Contents()); err != nil {
@@ -599,6 +627,9 @@ func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded,
 	in.info.SampleType, in.info.Stack = im.SampleType, stackInfoOf(im.Used)
 	fopt := r.features
 	fopt.Channel = -1 // Choose chose it: the image holds that channel alone
+	if keepChannels && im.Channels > 1 {
+		in.channels = im.Planes
+	}
 	t1 := time.Now()
 	in.decodeSeconds = t1.Sub(t0).Seconds()
 	if err := ctx.Err(); err != nil {

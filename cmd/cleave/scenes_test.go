@@ -119,7 +119,7 @@ func TestSegmentWorkersSameBytes(t *testing.T) {
 			t.Fatalf("workers %s: exit %d: %s", workers, code, stderr.String())
 		}
 	}
-	for _, suffix := range []string{".labels.png", ".overlay.png", ".classes.png", ".regions.csv"} {
+	for _, suffix := range []string{".labels.png", ".overlay.png", ".classes.png", ".regions.csv", ".outlines.geojson"} {
 		a, err1 := os.ReadFile(filepath.Join(dir, "1", "nuclei-1"+suffix))
 		b, err2 := os.ReadFile(filepath.Join(dir, "2", "nuclei-1"+suffix))
 		if err1 != nil || err2 != nil {

@@ -8,95 +8,75 @@ import (
 	"strings"
 	"unicode"
 	"unicode/utf8"
+
+	"github.com/cleave-seg/cleave/segment/measure"
 )
 
-// regionRow holds the measurements of one label.
-type regionRow struct {
-	label                  int32
-	area                   int
-	sumX, sumY             float64
-	x0, y0, x1, y1         int
-	sum, sumSq, minV, maxV float64
-	perimeter              int
-}
+// channelNames names the colour channels of a three-channel image in the
+// region table's columns.
+var channelNames = []string{"red", "green", "blue"}
 
-// measureRegions measures every label > 0 of labels on the raw intensity
-// plane (the image's own units). The perimeter is the crack length: the
-// number of unit pixel edges between the label and anything else
-// (another label or the image border), common practice for a
-// 4-connected boundary. The equivalent diameter is that of the disc of
-// the same area, sqrt(4 A / pi).
-func measureRegions(labels []int32, raw []float32, w, h int) []*regionRow {
-	var maxLabel int32
-	for _, l := range labels {
-		maxLabel = max(maxLabel, l)
-	}
-	rows := make([]*regionRow, maxLabel+1)
-	at := func(x, y int) int32 {
-		if x < 0 || y < 0 || x >= w || y >= h {
-			return -1
-		}
-		return labels[y*w+x]
-	}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			l := labels[y*w+x]
-			if l <= 0 {
-				continue
-			}
-			r := rows[l]
-			if r == nil {
-				r = &regionRow{label: l, x0: x, y0: y, x1: x, y1: y, minV: math.Inf(1), maxV: math.Inf(-1)}
-				rows[l] = r
-			}
-			v := float64(raw[y*w+x])
-			r.area++
-			r.sumX += float64(x)
-			r.sumY += float64(y)
-			r.x0, r.y0, r.x1, r.y1 = min(r.x0, x), min(r.y0, y), max(r.x1, x), max(r.y1, y)
-			r.sum += v
-			r.sumSq += v * v
-			r.minV, r.maxV = math.Min(r.minV, v), math.Max(r.maxV, v)
-			for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
-				if at(x+d[0], y+d[1]) != l {
-					r.perimeter++
-				}
-			}
+// intensityPlanes are the planes measured in the region table, in the
+// image's own units: the intensity plane (the luma, or the channel chosen
+// with --channel) and, for a colour image, each of its channels; names
+// are the column suffixes ("" for the intensity plane).
+func intensityPlanes(raw []float32, channels [][]float32) (planes [][]float32, names []string) {
+	planes, names = [][]float32{raw}, []string{""}
+	if len(channels) == len(channelNames) {
+		for c, p := range channels {
+			planes, names = append(planes, p), append(names, "_"+channelNames[c])
 		}
 	}
-	var out []*regionRow
-	for _, r := range rows {
-		if r != nil {
-			out = append(out, r)
-		}
-	}
-	return out
+	return planes, names
 }
 
 // writeRegionTable writes the region table as CSV (encoding/csv), one row
-// per label in ascending order. With pixelSize > 0, area and diameter are
-// also given in unit² and unit; unit has passed checkUnit, so the header
-// needs no quoting and starts no formula. Every other cell is a number.
-func writeRegionTable(w io.Writer, rows []*regionRow, pixelSize float64, unit string) error {
+// per label in ascending order (the measurements of segment/measure; the
+// README lists the columns). names are the column suffixes of the
+// intensity planes measured; withClass adds the class column. With
+// pixelSize > 0, lengths and areas are also given in unit and unit²;
+// unit has passed checkUnit, so the header needs no quoting and starts
+// no formula. Every other cell is a number (touches_border is 0 or 1).
+func writeRegionTable(w io.Writer, regions []measure.Region, names []string, withClass bool, pixelSize float64, unit string) error {
 	cw := csv.NewWriter(w)
-	head := []string{"label", "area_px", "centroid_x", "centroid_y", "bbox_x0", "bbox_y0", "bbox_x1", "bbox_y1", "mean", "std", "min", "max", "perimeter_px", "equiv_diameter_px"}
+	head := []string{"label", "area_px", "centroid_x", "centroid_y", "bbox_x0", "bbox_y0", "bbox_x1", "bbox_y1",
+		"perimeter_px", "circularity", "equiv_diameter_px", "major_axis_px", "minor_axis_px", "eccentricity", "orientation_deg",
+		"convex_area_px", "solidity", "feret_max_px", "touches_border"}
+	if withClass {
+		head = append(head, "class")
+	}
+	for _, n := range names {
+		head = append(head, "mean"+n, "std"+n, "min"+n, "max"+n, "integrated"+n)
+	}
 	if pixelSize > 0 {
-		head = append(head, "area_"+unit+"2", "equiv_diameter_"+unit)
+		head = append(head, "area_"+unit+"2", "perimeter_"+unit, "equiv_diameter_"+unit, "major_axis_"+unit, "minor_axis_"+unit,
+			"convex_area_"+unit+"2", "feret_max_"+unit)
 	}
 	if err := cw.Write(head); err != nil {
 		return err
 	}
 	f := func(v float64, prec int) string { return strconv.FormatFloat(v, 'f', prec, 64) }
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
 	d := strconv.Itoa
-	for _, r := range rows {
-		a := float64(r.area)
-		mean := r.sum / a
-		variance := math.Max(r.sumSq/a-mean*mean, 0)
-		diam := math.Sqrt(4 * a / math.Pi)
-		rec := []string{d(int(r.label)), d(r.area), f(r.sumX/a, 2), f(r.sumY/a, 2), d(r.x0), d(r.y0), d(r.x1), d(r.y1),
-			f(mean, 3), f(math.Sqrt(variance), 3), f(r.minV, 3), f(r.maxV, 3), d(r.perimeter), f(diam, 3)}
+	for _, r := range regions {
+		border := "0"
+		if r.TouchesBorder {
+			border = "1"
+		}
+		rec := []string{d(int(r.Label)), d(r.Area), f(r.CentroidX, 2), f(r.CentroidY, 2), d(r.MinX), d(r.MinY), d(r.MaxX), d(r.MaxY),
+			f(r.Perimeter, 3), f(r.Circularity, 4), f(r.EquivDiameter, 3), f(r.MajorAxis, 3), f(r.MinorAxis, 3), f(r.Eccentricity, 4),
+			f(r.Orientation*180/math.Pi, 2), d(r.ConvexArea), f(r.Solidity, 4), f(r.FeretMax, 3), border}
+		if withClass {
+			rec = append(rec, d(int(r.Class)))
+		}
+		for c := range names {
+			s := r.Intensity[c]
+			rec = append(rec, f(s.Mean, 3), f(s.Std, 3), f(s.Min, 3), f(s.Max, 3), f(s.Sum, 3))
+		}
 		if pixelSize > 0 {
-			rec = append(rec, strconv.FormatFloat(a*pixelSize*pixelSize, 'g', 6, 64), strconv.FormatFloat(diam*pixelSize, 'g', 6, 64))
+			a2 := pixelSize * pixelSize
+			rec = append(rec, g(float64(r.Area)*a2), g(r.Perimeter*pixelSize), g(r.EquivDiameter*pixelSize), g(r.MajorAxis*pixelSize),
+				g(r.MinorAxis*pixelSize), g(float64(r.ConvexArea)*a2), g(r.FeretMax*pixelSize))
 		}
 		if err := cw.Write(rec); err != nil {
 			return err

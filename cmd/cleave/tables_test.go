@@ -78,8 +78,14 @@ func TestRegionTableCSV(t *testing.T) {
 		t.Fatalf("%d rows, want a header and at least one region", len(recs))
 	}
 	head := recs[0]
-	if head[len(head)-2] != "area_µm2" || head[len(head)-1] != "equiv_diameter_µm" {
-		t.Errorf("header ends %v, want area_µm2, equiv_diameter_µm", head[len(head)-2:])
+	col := map[string]int{}
+	for k, name := range head {
+		col[name] = k
+	}
+	for _, name := range []string{"area_µm2", "perimeter_µm", "equiv_diameter_µm", "major_axis_µm", "minor_axis_µm", "convex_area_µm2", "feret_max_µm"} {
+		if _, ok := col[name]; !ok {
+			t.Errorf("header %v lacks %s", head, name)
+		}
 	}
 	for _, r := range recs[1:] {
 		vals := make([]float64, len(r))
@@ -88,7 +94,7 @@ func TestRegionTableCSV(t *testing.T) {
 				t.Fatalf("cell %q of %v is not a number", cell, r)
 			}
 		}
-		if px, um2 := vals[1], vals[len(vals)-2]; um2 != px*0.0625 {
+		if px, um2 := vals[col["area_px"]], vals[col["area_µm2"]]; um2 != px*0.0625 {
 			t.Errorf("label %v: area %v px but %v µm², want %v", r[0], px, um2, px*0.0625)
 		}
 	}
