@@ -30,7 +30,7 @@ const batchExample = `Example (the generated nuclei scenes shipped with cleave):
 
 segments nuclei-1.png, nuclei-2.png and nuclei-3.png (not their truth
 masks), one file per core at a time, writes results/nuclei-1.labels.png,
-.overlay.png, .classes.png, .regions.csv and .json per image as 'cleave
+.overlay.png, .classes.png, .regions.csv, .outlines.geojson and .json per image as 'cleave
 segment' does, then results/manifest.csv and results/report.html. Running
 the same command again skips every image whose record is up to date.
 

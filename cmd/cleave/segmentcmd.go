@@ -18,8 +18,9 @@ const segmentExample = `Example (a generated nuclei scene shipped with cleave):
 
 writes results/nuclei-1.labels.png (objects 1..N on background 0, 16-bit),
 results/nuclei-1.overlay.png, results/nuclei-1.classes.png,
-results/nuclei-1.regions.csv and results/nuclei-1.json, and prints one
-summary line. With --labels-format tiff the label and class maps are
+results/nuclei-1.regions.csv (measurements per object),
+results/nuclei-1.outlines.geojson (object outlines as polygons) and
+results/nuclei-1.json, and prints one summary line. With --labels-format tiff the label and class maps are
 nuclei-1.labels.tif and nuclei-1.classes.tif (16-bit, 32-bit above 65535
 labels; with --pixel-size in nm, um, mm, cm, m or inches they carry the
 resolution). A PNG label map holds at most 65535 labels: above that it is
