@@ -19,11 +19,14 @@ import (
 )
 
 // Stats are the intensity statistics of one region on one plane, in the
-// plane's own units: the mean, the population standard deviation
-// sqrt(sum (v - mean)^2 / A), the extremes and the sum over the region's
-// pixels (the integrated intensity).
+// plane's own units, over the region's pixels whose value is a finite
+// number (Count of them; floating-point images may hold NaN or
+// infinities): the mean, the population standard deviation
+// sqrt(sum (v - mean)^2 / Count), the extremes and the sum (the
+// integrated intensity). With no finite value all are NaN.
 type Stats struct {
 	Mean, Std, Min, Max, Sum float64
+	Count                    int
 }
 
 // Region holds the measurements of one label. Lengths are in pixels,
@@ -209,7 +212,11 @@ func Regions(labels []int32, w, h int, planes [][]float32, classes []int32) ([]R
 			}
 			for c, p := range planes {
 				v := float64(p[i])
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					continue
+				}
 				s := &a.stats[c]
+				s.Count++
 				s.Sum += v
 				s.Min, s.Max = math.Min(s.Min, v), math.Max(s.Max, v)
 			}
@@ -222,7 +229,12 @@ func Regions(labels []int32, w, h int, planes [][]float32, classes []int32) ([]R
 	}
 	for _, a := range accs {
 		for c := range a.stats {
-			a.stats[c].Mean = a.stats[c].Sum / float64(a.area)
+			s := &a.stats[c]
+			if s.Count == 0 {
+				s.Mean, s.Min, s.Max, s.Sum = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+				continue
+			}
+			s.Mean = s.Sum / float64(s.Count)
 		}
 	}
 	// Pass 2: moments about the box corner, squared deviations.
@@ -241,8 +253,10 @@ func Regions(labels []int32, w, h int, planes [][]float32, classes []int32) ([]R
 			a.syy.add(dy * dy)
 			a.sxy.add(dx * dy)
 			for c, p := range planes {
-				d := float64(p[i]) - a.stats[c].Mean
-				a.dev[c] += d * d
+				if v := float64(p[i]); !math.IsNaN(v) && !math.IsInf(v, 0) {
+					d := v - a.stats[c].Mean
+					a.dev[c] += d * d
+				}
 			}
 		}
 	}

@@ -430,6 +430,28 @@ func TestBadInput(t *testing.T) {
 	}
 }
 
+// Pixels whose value is NaN or infinite (floating-point images) are left
+// out of the intensity statistics, and a region with none finite gets
+// NaN; values worked by hand: label 1 holds 2, NaN, 4 -> mean 3, std 1,
+// sum 6, count 2.
+func TestNonFiniteIntensities(t *testing.T) {
+	nan, inf := float32(math.NaN()), float32(math.Inf(1))
+	rs, err := Regions([]int32{1, 1, 1, 2, 2}, 5, 1, [][]float32{{2, nan, 4, inf, nan}}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := rs[0].Intensity[0]
+	if s.Count != 2 || s.Mean != 3 || s.Std != 1 || s.Sum != 6 || s.Min != 2 || s.Max != 4 {
+		t.Errorf("label 1: %+v", s)
+	}
+	if s := rs[1].Intensity[0]; s.Count != 0 || !math.IsNaN(s.Mean) || !math.IsNaN(s.Std) || !math.IsNaN(s.Sum) {
+		t.Errorf("label 2: %+v", s)
+	}
+	if rs[0].Area != 3 || rs[1].Area != 2 {
+		t.Errorf("areas %d %d", rs[0].Area, rs[1].Area)
+	}
+}
+
 // A few huge label values use the sparse index and give the same
 // measurements as small ones (the labels are only names).
 func TestSparseLabels(t *testing.T) {

@@ -92,7 +92,7 @@ func (a *acc) finish() Region {
 	r := Region{Label: a.label, Area: a.area, MinX: a.x0, MinY: a.y0, MaxX: a.x1, MaxY: a.y1,
 		Perimeter: a.perim, TouchesBorder: a.border, Class: a.class, Intensity: a.stats}
 	for c := range r.Intensity {
-		r.Intensity[c].Std = math.Sqrt(a.dev[c] / n)
+		r.Intensity[c].Std = math.Sqrt(a.dev[c] / float64(r.Intensity[c].Count)) // NaN for no count
 	}
 	r.EquivDiameter = math.Sqrt(4 * n / math.Pi)
 	if a.perim > 0 {
