@@ -31,14 +31,16 @@ const batchExample = `Example (the generated nuclei scenes shipped with cleave):
 segments nuclei-1.png, nuclei-2.png and nuclei-3.png (not their truth
 masks), one file per core at a time, writes results/nuclei-1.labels.png,
 .overlay.png, .classes.png, .regions.csv, .outlines.geojson and .json per image as 'cleave
-segment' does, then results/manifest.csv and results/report.html. Running
+segment' does, then results/manifest.csv, results/objects.csv and
+results/report.html. Running
 the same command again skips every image whose record is up to date.
 
 On a cluster, task I of N runs
 
   cleave batch --shard I/N --params best.json --out /shared/results /shared/images
 
-and once all tasks are done one command builds the manifest and the report:
+and once all tasks are done one command builds the manifest, the objects
+table and the report:
 
   cleave batch --rebuild /shared/results
 
@@ -63,7 +65,11 @@ Each image's STEM.json record says ok or failed with the message; a broken
 file is recorded and the batch goes on; a result to check (one region, no
 objects, one object over half the image, ...) is ok with warnings.
 DIR/manifest.csv (input, status, regions, objects, seconds, error,
-warnings, labels: the label map written, .png or .tif) and DIR/report.html (counts, parameters, a contact sheet of the
+warnings, labels: the label map written, .png or .tif), DIR/objects.csv
+(every row of every ok image's STEM.regions.csv, the input path in front;
+images whose tables have other columns, colour and gray say, share one
+header, the union, with empty cells where a table has no such column) and
+DIR/report.html (counts, parameters, a contact sheet of the
 overlays scaled by the browser, the table of files, the failures and the
 warnings) are rebuilt from the records at the end, using the list of
 inputs and the parameters kept in DIR/%s. A rerun skips every
@@ -81,7 +87,8 @@ and do not change the exit status. INPUT_DIR itself may be a link.
 
 Only cleave's own files in DIR are replaced (the records list them): a
 file in the way that cleave did not write fails its image, or for
-manifest.csv and report.html the run (exit 2), and is left as it is. When
+manifest.csv, objects.csv and report.html the run (exit 2), and is left
+as it is. When
 an image fails, or a setting drops an output, the outputs of an earlier
 run that no longer match are removed.
 
@@ -89,8 +96,8 @@ One batch at a time writes into DIR: a second one, or --rebuild, exits 2
 at once naming the holder (pid, host and start time in DIR/%s).
 With --shard I/N only every N-th file of the sorted list, starting at the
 I-th, is processed; N tasks can write into one shared DIR at once, and
-none removes another's temporary files. Shards write no manifest or
-report: run 'cleave batch --rebuild DIR' when all are done; it also removes
+none removes another's temporary files. Shards write no manifest, objects
+table or report: run 'cleave batch --rebuild DIR' when all are done; it also removes
 the temporary files of killed shards.
 
 %s
@@ -134,7 +141,7 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list")
 	fs.BoolVar(&o.failFast, "fail-fast", false, "stop at the first image that fails")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress and no summary on stderr (errors are still printed)")
-	fs.BoolVar(&o.rebuild, "rebuild", false, "only rebuild DIR/manifest.csv and DIR/report.html from the records in DIR (after all shards are done)")
+	fs.BoolVar(&o.rebuild, "rebuild", false, "only rebuild DIR/manifest.csv, DIR/objects.csv and DIR/report.html from the records in DIR (after all shards are done)")
 	addParamFlags(fs, s)
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, s, o
@@ -241,8 +248,8 @@ func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
 		if c.skipped > 0 {
 			skipped = fmt.Sprintf(", %d skipped", c.skipped)
 		}
-		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending%s -> %s, %s\n", len(rows)-c.skipped, c.ok, c.failed, c.pending, skipped,
-			filepath.Join(dir, manifestName), filepath.Join(dir, reportName))
+		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending%s -> %s, %s, %s\n", len(rows)-c.skipped, c.ok, c.failed, c.pending, skipped,
+			filepath.Join(dir, manifestName), filepath.Join(dir, objectsName), filepath.Join(dir, reportName))
 	}
 	if c.failed > 0 || c.pending > 0 {
 		return exitFail
@@ -801,7 +808,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 			return exitFail
 		}
 		warned = countRows(rows).warned
-		wrote = fmt.Sprintf(" -> %s, %s", filepath.Join(p.out, manifestName), filepath.Join(p.out, reportName))
+		wrote = fmt.Sprintf(" -> %s, %s, %s", filepath.Join(p.out, manifestName), filepath.Join(p.out, objectsName), filepath.Join(p.out, reportName))
 	}
 	if !p.opts.quiet {
 		shard := ""

@@ -316,6 +316,9 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 	if !strings.Contains(dom, `<a href="./manifest.csv">manifest.csv</a>`) {
 		t.Error("rendered report lacks the link to manifest.csv")
 	}
+	if !strings.Contains(dom, `<a href="./objects.csv">objects.csv</a>`) {
+		t.Error("rendered report lacks the link to objects.csv")
+	}
 	for _, f := range failed {
 		if !strings.Contains(dom, `<tr class="failed"><td>`+f+`</td>`) {
 			t.Errorf("rendered report lacks the failure row of %s", f)
@@ -351,9 +354,9 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 			t.Errorf("probe line %q", l)
 		}
 	}
-	// manifest.csv; per ok image the overlay (link and image), the record
-	// and the label map; per failed image the record.
-	if want := 1 + 4*len(ok) + len(failed); links != want {
+	// manifest.csv and objects.csv; per ok image the overlay (link and
+	// image), the record and the label map; per failed image the record.
+	if want := 2 + 4*len(ok) + len(failed); links != want {
 		t.Errorf("%d links and image sources, want %d", links, want)
 	}
 	sort.Strings(lines)

@@ -13,6 +13,7 @@ import (
 	"os"
 	"path"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -27,6 +28,7 @@ import (
 const (
 	indexName    = ".cleave-batch.json"
 	manifestName = "manifest.csv"
+	objectsName  = "objects.csv"
 	reportName   = "report.html"
 )
 
@@ -43,16 +45,21 @@ type batchIndex struct {
 	// not read (manifest status skipped).
 	Skipped []batchSkip `json:"skipped"`
 	// Files are the files at the top of the folder, besides the index and
-	// the per-image outputs, that cleave writes there (manifest.csv and
-	// report.html): listed before they are first written, so that cleave
-	// knows them for its own and never replaces a user's file of the same
-	// name. Absent (nil) in indexes of earlier versions, which wrote both.
+	// the per-image outputs, that cleave writes there (manifest.csv,
+	// objects.csv and report.html): listed before they are first written,
+	// so that cleave knows them for its own and never replaces a user's
+	// file of the same name. Absent (nil) in indexes of earlier versions,
+	// which wrote manifest.csv and report.html only.
 	Files []string `json:"files"`
 }
 
 // topFiles are the files an unsharded batch or a rebuild writes at the top
 // of the folder.
-var topFiles = []string{manifestName, reportName}
+var topFiles = []string{manifestName, objectsName, reportName}
+
+// legacyFiles are the top files the versions whose index has no Files
+// wrote (before objects.csv).
+var legacyFiles = []string{manifestName, reportName}
 
 func writeBatchIndex(dir string, idx *batchIndex, owner string) error {
 	return imageio.WriteAtomicAs(filepath.Join(dir, indexName), true, owner, func(w io.Writer) error {
@@ -96,7 +103,7 @@ func existingIndex(dir string) (*batchIndex, error) {
 // Files) stands for: those present, which that version wrote.
 func legacyTopFiles(dir string) []string {
 	var files []string
-	for _, name := range topFiles {
+	for _, name := range legacyFiles {
 		if _, err := os.Lstat(filepath.Join(dir, name)); err == nil {
 			files = append(files, name)
 		}
@@ -104,7 +111,8 @@ func legacyTopFiles(dir string) []string {
 	return files
 }
 
-// checkTopFiles refuses to go on when manifest.csv or report.html in dir
+// checkTopFiles refuses to go on when manifest.csv, objects.csv or
+// report.html in dir
 // is a file that cleave did not write (not listed in the index idx of an
 // earlier run; idx may be nil) or a folder.
 func checkTopFiles(dir string, idx *batchIndex) error {
@@ -145,7 +153,10 @@ type manifestRow struct {
 	Input, Stem, Status, Error string
 	// Labels is the label map of an ok record, relative to the folder
 	// and slash-separated (its name depends on the format written).
-	Labels           string
+	Labels string
+	// Table is the region table (STEM.regions.csv) of an ok record,
+	// relative to the folder and slash-separated, or "".
+	Table            string
 	Regions, Objects int
 	Seconds          float64
 	Warnings         []string // messages of an ok record's warnings
@@ -183,6 +194,11 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			r.Status, r.Regions, r.Objects, r.Seconds = rowOK, rec.Regions, rec.Objects, rec.Seconds["total"]
 			if name := labelMapOf(rec); name != "" {
 				r.Labels = path.Join(path.Dir(in.Stem), name)
+			}
+			for _, name := range rec.Outputs {
+				if strings.HasSuffix(name, ".regions.csv") {
+					r.Table = path.Join(path.Dir(in.Stem), name)
+				}
 			}
 			for _, w := range rec.Warnings {
 				r.Warnings = append(r.Warnings, w.Message)
@@ -239,14 +255,20 @@ func countRows(rows []manifestRow) rowCounts {
 	return c
 }
 
-// writeManifestAndReport rebuilds manifest.csv and report.html in dir from
-// the records of the inputs of idx.
+// writeManifestAndReport rebuilds manifest.csv, objects.csv and
+// report.html in dir from the records of the inputs of idx and their
+// region tables.
 func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manifestRow, error) {
 	rows := manifestRows(dir, idx)
 	if err := imageio.WriteAtomicAs(filepath.Join(dir, manifestName), true, owner, func(w io.Writer) error {
 		return writeManifest(w, rows)
 	}); err != nil {
 		return nil, err
+	}
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, objectsName), true, owner, func(w io.Writer) error {
+		return writeObjects(w, dir, rows)
+	}); err != nil {
+		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, objectsName), err)
 	}
 	if err := imageio.WriteAtomicAs(filepath.Join(dir, reportName), true, owner, func(w io.Writer) error {
 		return writeReport(w, idx, rows)
@@ -273,6 +295,135 @@ func writeManifest(w io.Writer, rows []manifestRow) error {
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// objectsColumns is the header of objects.csv after "input": the union of
+// the columns of the region tables heads, in order. Tables differ when
+// their images do (a colour image adds per-channel columns, --classes the
+// class column, a pixel size the columns in its unit); a column that an
+// earlier table lacks goes right after the column that precedes it in the
+// first table that has it (the first column of a table, at the front).
+// Tables are taken in the order of heads (rows sorted by input path), so
+// the order depends only on the tables.
+func objectsColumns(heads [][]string) []string {
+	var cols []string
+	have := map[string]bool{}
+	for _, head := range heads {
+		at := 0 // where the next new column of this head goes
+		for _, c := range head {
+			if have[c] {
+				at = slices.Index(cols, c) + 1
+				continue
+			}
+			cols = slices.Insert(cols, at, c)
+			have[c] = true
+			at++
+		}
+	}
+	return cols
+}
+
+// readTableHead reads the header of the region table at p and checks that
+// its column names are distinct.
+func readTableHead(p string) ([]string, error) {
+	f, err := os.Open(p)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	head, err := csv.NewReader(f).Read()
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", p, err)
+	}
+	seen := map[string]bool{}
+	for _, c := range head {
+		if seen[c] {
+			return nil, fmt.Errorf("%s: column %q appears twice", p, c)
+		}
+		seen[c] = true
+	}
+	return head, nil
+}
+
+// writeObjects writes objects.csv: every row of the region table of every
+// ok row, with the input path in front, under the union of the tables'
+// columns (objectsColumns; the cells of a column a table lacks are left
+// empty). The tables are read twice (heads first), so the file is
+// streamed however many objects there are. A cell that is not a number
+// is neutralized by csvText like every text cell; numbers are copied as
+// they are.
+func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
+	var tables []manifestRow
+	var heads [][]string
+	for _, r := range rows {
+		if r.Status != rowOK || r.Table == "" {
+			continue
+		}
+		head, err := readTableHead(filepath.Join(dir, filepath.FromSlash(r.Table)))
+		if err != nil {
+			return err
+		}
+		tables, heads = append(tables, r), append(heads, head)
+	}
+	cols := objectsColumns(heads)
+	pos := make(map[string]int, len(cols))
+	out := make([]string, 0, len(cols)+1)
+	out = append(out, "input")
+	for k, c := range cols {
+		pos[c] = k + 1
+		out = append(out, csvText(c))
+	}
+	cw := csv.NewWriter(w)
+	if err := cw.Write(out); err != nil {
+		return err
+	}
+	for t, r := range tables {
+		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), r.Input, heads[t], pos, len(out)); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// copyObjects writes the rows of the region table at p to cw, each as a
+// row of width cells: the input first, then each cell at the position pos
+// gives its column (head is the table's header).
+func copyObjects(cw *csv.Writer, p, input string, head []string, pos map[string]int, width int) error {
+	f, err := os.Open(p)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	cr := csv.NewReader(f)
+	cr.ReuseRecord = true
+	if _, err := cr.Read(); err != nil {
+		return fmt.Errorf("%s: %w", p, err)
+	}
+	if len(head) == 0 {
+		return nil
+	}
+	out := make([]string, width)
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			return nil
+		}
+		if err != nil {
+			return fmt.Errorf("%s: %w", p, err)
+		}
+		clear(out)
+		out[0] = csvText(input)
+		for k, cell := range rec {
+			if _, err := strconv.ParseFloat(cell, 64); err != nil {
+				cell = csvText(cell)
+			}
+			out[pos[head[k]]] = cell
+		}
+		if err := cw.Write(out); err != nil {
+			return err
+		}
+	}
 }
 
 // relURL turns a slash-separated path relative to the report into a
@@ -380,7 +531,7 @@ tr.skipped td { background: #eeeeee; }
 <h1>cleave batch report</h1>
 <p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}{{if .Skipped}}; <b>{{.Skipped}} skipped</b> (named like images but not read: see the table){{end}}.
 Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
-The same table as CSV: <a href="./manifest.csv">manifest.csv</a>.</p>
+The same table as CSV: <a href="./manifest.csv">manifest.csv</a>; every object of every ok image, one row each: <a href="./objects.csv">objects.csv</a>.</p>
 
 {{if .FailureRows}}<h2>Failures</h2>
 <table id="failures">

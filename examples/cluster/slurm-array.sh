@@ -4,7 +4,7 @@
 #
 #   sbatch --export=ALL,IN=/shared/images,OUT=/shared/results,PARAMS=/shared/best.json slurm-array.sh
 #
-# When every task has finished, build manifest.csv and report.html once:
+# When every task has finished, build manifest.csv, objects.csv and report.html once:
 #
 #   sbatch --dependency=afterany:JOBID --wrap "cleave batch --rebuild /shared/results"
 #

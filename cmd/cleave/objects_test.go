@@ -1,0 +1,274 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"image"
+	"image/color"
+	"image/png"
+	"os"
+	"path"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+)
+
+// readCSVFile reads a whole CSV file.
+func readCSVFile(t *testing.T, p string) [][]string {
+	t.Helper()
+	f, err := os.Open(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("%s: %v", p, err)
+	}
+	return recs
+}
+
+// writeColourDiscs writes a colour PNG: four discs of different hues on a
+// dark ground, so that its region table has the per-channel columns.
+func writeColourDiscs(t *testing.T, p string) {
+	t.Helper()
+	img := image.NewNRGBA(image.Rect(0, 0, 96, 96))
+	discs := []struct {
+		x, y, r int
+		c       color.NRGBA
+	}{
+		{24, 24, 12, color.NRGBA{230, 60, 40, 255}},
+		{70, 26, 10, color.NRGBA{50, 210, 70, 255}},
+		{26, 70, 11, color.NRGBA{60, 80, 235, 255}},
+		{70, 70, 13, color.NRGBA{220, 210, 60, 255}},
+	}
+	for y := range 96 {
+		for x := range 96 {
+			c := color.NRGBA{20 + uint8((x*7+y*3)%9), 18, 25, 255}
+			for _, d := range discs {
+				if (x-d.x)*(x-d.x)+(y-d.y)*(y-d.y) <= d.r*d.r {
+					c = d.c
+				}
+			}
+			img.SetNRGBA(x, y, c)
+		}
+	}
+	f, err := os.Create(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := png.Encode(f, img); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestObjectsColumns(t *testing.T) {
+	cases := []struct {
+		heads [][]string
+		want  string
+	}{
+		{nil, ""},
+		{[][]string{{"a", "b", "c"}}, "a,b,c"},
+		{[][]string{{"a", "b", "c"}, {"a", "b", "x", "c", "y"}}, "a,b,x,c,y"},
+		{[][]string{{"a", "b", "x", "c", "y"}, {"a", "b", "c"}}, "a,b,x,c,y"},
+		{[][]string{{"b", "c"}, {"a", "b", "c"}}, "a,b,c"},
+		{[][]string{{"a", "b"}, {"a", "u", "v"}, {"a", "b", "w"}}, "a,u,v,b,w"},
+	}
+	for _, c := range cases {
+		if got := strings.Join(objectsColumns(c.heads), ","); got != c.want {
+			t.Errorf("objectsColumns(%v) = %s, want %s", c.heads, got, c.want)
+		}
+	}
+}
+
+// objects.csv holds every row of every ok image's region table, cell for
+// cell, under one header even when gray and colour images give tables
+// with different columns; failed images are not in it; --rebuild writes
+// the same bytes; the report links it; a user's objects.csv is never
+// replaced.
+func TestBatchObjectsTable(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end")
+	}
+	in, good := makeBatchFolder(t, 3, true)
+	writeColourDiscs(t, filepath.Join(in, "colour-discs.png"))
+	good = append(good, "colour-discs.png")
+	out := filepath.Join(t.TempDir(), "out")
+	code, _, stderr := runCleave("batch", "-r", "-q", "--classes", "2", "--superpixels", "150", "--out", out, in)
+	if code != exitFail {
+		t.Fatalf("exit %d, want 1 (the broken files fail): %s", code, stderr)
+	}
+	manifest := readManifest(t, out)
+	for _, g := range good {
+		if manifest[g] == nil || manifest[g][1] != "ok" {
+			t.Fatalf("manifest row of %s: %v", g, manifest[g])
+		}
+	}
+
+	objects := readCSVFile(t, filepath.Join(out, objectsName))
+	head := objects[0]
+	if head[0] != "input" {
+		t.Fatalf("objects.csv starts with column %q, want input", head[0])
+	}
+	col := map[string]int{}
+	for k, c := range head {
+		if _, dup := col[c]; dup {
+			t.Fatalf("column %q twice in objects.csv", c)
+		}
+		col[c] = k
+	}
+	byInput := map[string][][]string{}
+	for _, r := range objects[1:] {
+		byInput[r[0]] = append(byInput[r[0]], r)
+	}
+	for in := range byInput {
+		if !slices.Contains(good, in) {
+			t.Errorf("objects.csv has rows of %s, which is not an ok input", in)
+		}
+	}
+	total := 0
+	heads := map[string][]string{}
+	for _, g := range good {
+		stem := strings.TrimSuffix(g, path.Ext(g))
+		table := readCSVFile(t, filepath.Join(out, filepath.FromSlash(stem)+".regions.csv"))
+		heads[g] = table[0]
+		rows := byInput[g]
+		if len(rows) != len(table)-1 {
+			t.Errorf("%s: %d rows in objects.csv, %d in its regions.csv", g, len(rows), len(table)-1)
+			continue
+		}
+		total += len(rows)
+		inTable := map[string]bool{}
+		for k, c := range table[0] {
+			inTable[c] = true
+			j, ok := col[c]
+			if !ok {
+				t.Errorf("%s: column %q of its table is not in objects.csv", g, c)
+				continue
+			}
+			for n, r := range table[1:] {
+				if rows[n][j] != r[k] {
+					t.Errorf("%s row %d column %s: objects.csv %q, regions.csv %q", g, n+1, c, rows[n][j], r[k])
+				}
+			}
+		}
+		for c, j := range col {
+			if c == "input" || inTable[c] {
+				continue
+			}
+			for n, r := range rows {
+				if r[j] != "" {
+					t.Errorf("%s row %d: cell %q in column %s, which its table lacks", g, n+1, r[j], c)
+				}
+			}
+		}
+	}
+	if total == 0 || total != len(objects)-1 {
+		t.Errorf("objects.csv has %d rows, the ok images' tables %d", len(objects)-1, total)
+	}
+	// The colour image's table has columns the gray ones lack: the test
+	// covers the union.
+	if !slices.Contains(heads["colour-discs.png"], "mean_red") || slices.Contains(heads[good[0]], "mean_red") {
+		t.Errorf("want a colour table with mean_red and a gray one without: %v / %v", heads["colour-discs.png"], heads[good[0]])
+	}
+	if len(byInput["colour-discs.png"]) == 0 {
+		t.Error("no rows of the colour image in objects.csv")
+	}
+
+	report := string(fileBytes(t, filepath.Join(out, reportName)))
+	if !strings.Contains(report, `<a href="./objects.csv">objects.csv</a>`) {
+		t.Error("report.html does not link objects.csv")
+	}
+	idx, err := readBatchIndex(out)
+	if err != nil || !slices.Contains(idx.Files, objectsName) {
+		t.Errorf("the index does not list objects.csv as cleave's: %v, %v", err, idx)
+	}
+
+	// --rebuild writes the same bytes (the file is removed first, so it is
+	// really written again).
+	before := fileBytes(t, filepath.Join(out, objectsName))
+	if err := os.Remove(filepath.Join(out, objectsName)); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := runCleave("batch", "--rebuild", "-q", out); code != exitFail {
+		t.Fatalf("--rebuild: exit %d, want 1 (the broken files): %s", code, stderr)
+	}
+	if after := fileBytes(t, filepath.Join(out, objectsName)); !bytes.Equal(before, after) {
+		t.Errorf("--rebuild gave other bytes:\n%s\nthen\n%s", before, after)
+	}
+
+	// A user's objects.csv in a fresh folder: exit 2, left as it was.
+	fresh := filepath.Join(t.TempDir(), "fresh")
+	if err := os.Mkdir(fresh, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	userCSV := []byte("sample,count\na,3\n")
+	if err := os.WriteFile(filepath.Join(fresh, objectsName), userCSV, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr = runCleave("batch", "-q", "--out", fresh, in)
+	if code != exitUsage || !strings.Contains(stderr, "objects.csv exists and was not written by cleave") {
+		t.Errorf("user's objects.csv: exit %d, %q; want 2 naming it", code, stderr)
+	}
+	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, objectsName)), userCSV) {
+		t.Error("the user's objects.csv was replaced")
+	}
+}
+
+// An index of a version that wrote only manifest.csv and report.html (no
+// files list) does not make a user's objects.csv cleave's.
+func TestObjectsNotOwnedByLegacyIndex(t *testing.T) {
+	dir := t.TempDir()
+	for _, name := range []string{manifestName, reportName, objectsName} {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte("x\n"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	err := checkTopFiles(dir, &batchIndex{Tool: "cleave"})
+	if err == nil || !strings.Contains(err.Error(), objectsName) {
+		t.Errorf("checkTopFiles with an index without files: %v, want a refusal naming %s", err, objectsName)
+	}
+	if err := os.Remove(filepath.Join(dir, objectsName)); err != nil {
+		t.Fatal(err)
+	}
+	if err := checkTopFiles(dir, &batchIndex{Tool: "cleave"}); err != nil {
+		t.Errorf("manifest.csv and report.html of an earlier version: %v, want them taken as cleave's", err)
+	}
+}
+
+// writeObjects neutralizes a text cell and the input path but copies
+// numbers, negative ones included, as they are.
+func TestWriteObjectsCells(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "a.regions.csv"), []byte("label,orientation_deg,note\n1,-45.00,=cmd()\n2,NaN,ok\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "b.regions.csv"), []byte("label,area_um2\n1,3.5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rows := []manifestRow{
+		{Input: "-a.png", Status: rowOK, Table: "a.regions.csv"},
+		{Input: "b.png", Status: rowOK, Table: "b.regions.csv"},
+		{Input: "c.png", Status: rowFailed},
+	}
+	var buf bytes.Buffer
+	if err := writeObjects(&buf, dir, rows); err != nil {
+		t.Fatal(err)
+	}
+	// area_um2 follows label in b's table, so it goes right after label.
+	want := "input,label,area_um2,orientation_deg,note\n'-a.png,1,,-45.00,'=cmd()\n'-a.png,2,,NaN,ok\nb.png,1,3.5,,\n"
+	if buf.String() != want {
+		t.Errorf("objects.csv:\n%s\nwant\n%s", buf.String(), want)
+	}
+	// A table that went missing is an error naming it, not a silent gap.
+	if err := os.Remove(filepath.Join(dir, "b.regions.csv")); err != nil {
+		t.Fatal(err)
+	}
+	if err := writeObjects(&buf, dir, rows); err == nil || !strings.Contains(err.Error(), "b.regions.csv") {
+		t.Errorf("missing table: %v, want an error naming it", err)
+	}
+}
