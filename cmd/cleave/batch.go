@@ -26,10 +26,10 @@ import (
 
 const batchExample = `Example (the generated nuclei scenes shipped with cleave):
 
-  cleave batch --classes 2 --background dark --exclude '*.truth.png' --out results examples/nuclei
+  cleave batch --classes 2 --background dark --out results examples/nuclei
 
-segments nuclei-1.png, nuclei-2.png and nuclei-3.png (not their truth
-masks), one file per core at a time, writes results/nuclei-1.labels.png,
+segments nuclei-1.png, nuclei-2.png and nuclei-3.png (their truth masks,
+nuclei-1.truth.png and so on, are skipped and listed as such), one file per core at a time, writes results/nuclei-1.labels.png,
 .overlay.png, .classes.png, .regions.csv, .outlines.geojson and .json per image as 'cleave
 segment' does, then results/manifest.csv, results/objects.csv and
 results/report.html. Running
@@ -84,6 +84,9 @@ Entries named like images that are not regular files or links to them
 with --recursive, subfolders that cannot be read are never opened: they
 are manifest rows with status "skipped" and the reason, named on stderr,
 and do not change the exit status. INPUT_DIR itself may be a link.
+Files named like truth masks, by the rule tune and score use to pair them
+(stem NAME.truth, NAME_mask or NAME_truth), are skipped the same way, with
+one line on stderr giving their count; --with-truths segments them too.
 
 Only cleave's own files in DIR are replaced (the records list them): a
 file in the way that cleave did not write fails its image, or for
@@ -118,6 +121,7 @@ type batchOptions struct {
 	out, params, shard string
 	include, exclude   []string
 	recursive          bool
+	withTruths         bool
 	failFast, quiet    bool
 	rebuild, help      bool
 	jobs, workers      int
@@ -136,6 +140,7 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 	fs.BoolVarP(&o.recursive, "recursive", "r", false, "descend into subfolders (symbolic links to folders are not followed)")
 	fs.StringArrayVar(&o.include, "include", nil, "only files matching this glob (on the name, or on the relative path if it has a /); repeatable")
 	fs.StringArrayVar(&o.exclude, "exclude", nil, "skip files matching this glob (as --include); repeatable")
+	fs.BoolVar(&o.withTruths, "with-truths", false, "also segment files named like truth masks (stem NAME.truth, NAME_mask or NAME_truth), skipped by default")
 	fs.IntVarP(&o.jobs, "jobs", "j", 0, fmt.Sprintf("images processed at the same time (0 = one per core; at most %d)", maxWorkers))
 	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads per image (0 = cores divided by --jobs; at most %d); results do not depend on it", maxWorkers))
 	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list")
@@ -531,6 +536,10 @@ func discover(root, realOut string, o *batchOptions) ([]batchInput, []batchSkip,
 		if !globsAllow(rel, o.include, o.exclude) {
 			return nil
 		}
+		if !o.withTruths && isTruthName(name) {
+			skipped = append(skipped, batchSkip{Input: rel, Reason: truthSkipReason})
+			return nil
+		}
 		if reason := notRegular(p, d.Type()); reason != "" {
 			skipped = append(skipped, batchSkip{Input: rel, Reason: reason})
 			return nil
@@ -546,6 +555,10 @@ func discover(root, realOut string, o *batchOptions) ([]batchInput, []batchSkip,
 	inputs, err := stemsFor(rels)
 	return inputs, skipped, err
 }
+
+// truthSkipReason is the manifest reason of a file skipped because it is
+// named like a truth mask.
+const truthSkipReason = "named like a truth mask (stem NAME.truth, NAME_mask or NAME_truth), as tune and score read them; --with-truths segments it"
 
 // notRegular says why the entry at p, of type t (from its folder listing),
 // is not read as an image, or "" for a regular file or a symbolic link to
@@ -725,8 +738,16 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		return exitFail
 	}
 	if !p.opts.quiet {
+		truths := 0
 		for _, sk := range p.skipped {
+			if sk.Reason == truthSkipReason {
+				truths++
+				continue
+			}
 			fmt.Fprintf(stderr, "cleave batch: skipped %s: %s\n", filepath.Join(p.inputDir, filepath.FromSlash(sk.Input)), sk.Reason)
+		}
+		if truths > 0 {
+			fmt.Fprintf(stderr, "cleave batch: skipped %s named like truth masks (NAME.truth, NAME_mask, NAME_truth; listed in %s); --with-truths segments them\n", plural(truths, "file"), manifestName)
 		}
 	}
 

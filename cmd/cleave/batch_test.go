@@ -783,6 +783,60 @@ func TestBatchOptions(t *testing.T) {
 	}
 }
 
+// Files named like truth masks (tune's and score's rule) are skipped by
+// default, counted in one stderr line and listed as skipped manifest rows;
+// --with-truths segments them.
+func TestBatchSkipsTruths(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end")
+	}
+	in, good := makeBatchFolder(t, 1, false)
+	img, err := os.ReadFile(filepath.Join(in, good[0]))
+	if err != nil {
+		t.Fatal(err)
+	}
+	truths := []string{"img-00.truth.png", "img-00_mask.png"}
+	for _, name := range truths {
+		if err := os.WriteFile(filepath.Join(in, name), img, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	root := t.TempDir()
+
+	out := filepath.Join(root, "default")
+	code, _, stderr := runCleave("batch", "--jobs", "1", "--superpixels", "150", "--out", out, in)
+	rows := readManifest(t, out)
+	if code != exitOK || len(rows) != 3 || rows[good[0]] == nil || rows[good[0]][1] != "ok" {
+		t.Fatalf("default: exit %d, rows %v, %s", code, rows, stderr)
+	}
+	for _, name := range truths {
+		if r := rows[name]; r == nil || r[1] != "skipped" || !strings.Contains(r[5], "truth mask") || !strings.Contains(r[5], "--with-truths") {
+			t.Errorf("%s: row %v; want skipped as a truth mask", name, r)
+		}
+		if _, err := os.Stat(filepath.Join(out, strings.TrimSuffix(name, ".png")+".labels.png")); err == nil {
+			t.Errorf("%s was segmented", name)
+		}
+	}
+	if n := strings.Count(stderr, "named like truth masks"); n != 1 || !strings.Contains(stderr, "skipped 2 files named like truth masks") {
+		t.Errorf("stderr says %d times, want one line with the count 2:\n%s", n, stderr)
+	}
+	if strings.Contains(stderr, "skipped "+filepath.Join(in, truths[0])) {
+		t.Errorf("truth files named one by one on stderr:\n%s", stderr)
+	}
+
+	out = filepath.Join(root, "with")
+	code, _, stderr = runCleave("batch", "--jobs", "1", "--superpixels", "150", "--with-truths", "--out", out, in)
+	rows = readManifest(t, out)
+	if code != exitOK || len(rows) != 3 || strings.Contains(stderr, "truth") {
+		t.Fatalf("--with-truths: exit %d, rows %v, %s", code, rows, stderr)
+	}
+	for _, name := range truths {
+		if r := rows[name]; r == nil || r[1] != "ok" {
+			t.Errorf("--with-truths: %s row %v; want ok", name, r)
+		}
+	}
+}
+
 func TestParseShard(t *testing.T) {
 	cases := []struct {
 		in   string
@@ -835,7 +889,7 @@ func TestGlobsAndStems(t *testing.T) {
 func TestBatchHelp(t *testing.T) {
 	for _, args := range [][]string{{"help", "batch"}, {"batch", "--help"}} {
 		code, stdout, _ := runCleave(args...)
-		for _, want := range []string{"Usage: cleave batch", "cleave batch --classes 2 --background dark --exclude '*.truth.png' --out results examples/nuclei", "--rebuild", "--shard", "Caution:"} {
+		for _, want := range []string{"Usage: cleave batch", "cleave batch --classes 2 --background dark --out results examples/nuclei", "--with-truths", "--rebuild", "--shard", "Caution:"} {
 			if code != exitOK || !strings.Contains(stdout, want) {
 				t.Errorf("%v: exit %d, help lacks %q", args, code, want)
 			}

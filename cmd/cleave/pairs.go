@@ -29,6 +29,13 @@ func trimTruth(stem string) (string, bool) {
 	return stem, false
 }
 
+// isTruthName reports whether a file name (or path) follows the truth-naming
+// rule of tune and score: its stem is NAME.truth, NAME_mask or NAME_truth.
+func isTruthName(name string) bool {
+	_, ok := trimTruth(stemOf(name))
+	return ok
+}
+
 // listImageFiles lists the image files of a folder (by extension), sorted
 // by name. It errors when dir is not a readable folder.
 func listImageFiles(dir string) ([]string, error) {
@@ -116,7 +123,7 @@ func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err 
 	}
 	for _, f := range files {
 		stem := stemOf(f)
-		if _, isTruth := trimTruth(stem); isTruth {
+		if isTruthName(f) {
 			continue
 		}
 		if t, ok := idx[stem]; ok {
