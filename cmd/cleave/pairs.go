@@ -138,22 +138,23 @@ func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err 
 // pairScore pairs the predictions in predDir with the truths in truthDir:
 // when predDir holds label maps written by cleave segment (NAME.labels.png)
 // only those are predictions, named NAME; otherwise every image file that is
-// not a truth is, named by its stem. Unpaired files on either side are an
-// error listing them.
-func pairScore(predDir, truthDir string) ([]pair, error) {
+// not a truth is, named by its stem. Files unpaired on either side are
+// returned in un (sorted), not as an error: the caller decides.
+func pairScore(predDir, truthDir string) ([]pair, unpairedFiles, error) {
+	var un unpairedFiles
 	files, err := listImageFiles(predDir)
 	if err != nil {
-		return nil, fmt.Errorf("prediction folder: %w", err)
+		return nil, un, fmt.Errorf("prediction folder: %w", err)
 	}
 	idx, err := truthIndex(truthDir, !sameDir(predDir, truthDir))
 	if err != nil {
-		return nil, err
+		return nil, un, err
 	}
 	if len(files) == 0 {
-		return nil, fmt.Errorf("prediction folder %s holds no image files", predDir)
+		return nil, un, fmt.Errorf("prediction folder %s holds no image files", predDir)
 	}
 	if len(idx) == 0 {
-		return nil, fmt.Errorf("truth folder %s holds no truth images", truthDir)
+		return nil, un, fmt.Errorf("truth folder %s holds no truth images", truthDir)
 	}
 	hasLabels := false
 	for _, f := range files {
@@ -174,39 +175,46 @@ func pairScore(predDir, truthDir string) ([]pair, error) {
 			continue
 		}
 		if prev, dup := preds[name]; dup {
-			return nil, fmt.Errorf("prediction folder %s: both %s and %s are predictions for %s; keep one", predDir, filepath.Base(prev), filepath.Base(f), name)
+			return nil, un, fmt.Errorf("prediction folder %s: both %s and %s are predictions for %s; keep one", predDir, filepath.Base(prev), filepath.Base(f), name)
 		}
 		preds[name] = f
 	}
 	var pairs []pair
-	var noTruth, noPred []string
 	for name, p := range preds {
 		if t, ok := idx[name]; ok {
 			pairs = append(pairs, pair{name: name, image: p, truth: t})
 		} else {
-			noTruth = append(noTruth, p)
+			un.noTruth = append(un.noTruth, p)
 		}
 	}
 	for name, t := range idx {
 		if _, ok := preds[name]; !ok {
-			noPred = append(noPred, t)
+			un.noPred = append(un.noPred, t)
 		}
 	}
 	sort.Slice(pairs, func(i, j int) bool { return pairs[i].name < pairs[j].name })
-	sort.Strings(noTruth)
-	sort.Strings(noPred)
+	sort.Strings(un.noTruth)
+	sort.Strings(un.noPred)
+	return pairs, un, nil
+}
+
+// unpairedFiles are the files of score's two folders left without a
+// partner: predictions with no truth and truths with no prediction.
+type unpairedFiles struct {
+	noTruth, noPred []string
+}
+
+func (u unpairedFiles) count() int { return len(u.noTruth) + len(u.noPred) }
+
+// unpairedMessage describes the unpaired files of predDir and truthDir in
+// one line.
+func unpairedMessage(u unpairedFiles, predDir, truthDir string) string {
 	var msgs []string
-	if len(noTruth) > 0 {
-		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(noTruth, ", "))
+	if len(u.noTruth) > 0 {
+		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(u.noTruth, ", "))
 	}
-	if len(noPred) > 0 {
-		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(noPred, ", "))
+	if len(u.noPred) > 0 {
+		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(u.noPred, ", "))
 	}
-	if len(msgs) > 0 {
-		return nil, fmt.Errorf("unpaired files: %s", strings.Join(msgs, "; "))
-	}
-	if len(pairs) == 0 {
-		return nil, fmt.Errorf("no label images in %s and %s", predDir, truthDir)
-	}
-	return pairs, nil
+	return strings.Join(msgs, "; ")
 }

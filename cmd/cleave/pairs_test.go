@@ -56,8 +56,8 @@ func TestPairScore(t *testing.T) {
 	preds, truths := t.TempDir(), t.TempDir()
 	touch(t, preds, "a.labels.png", "a.overlay.png", "a.classes.png", "b.labels.png")
 	touch(t, truths, "a.png", "a.truth.png", "b_mask.png")
-	pairs, err := pairScore(preds, truths)
-	if err != nil || len(pairs) != 2 || filepath.Base(pairs[0].truth) != "a.truth.png" || filepath.Base(pairs[1].truth) != "b_mask.png" {
+	pairs, un, err := pairScore(preds, truths)
+	if err != nil || un.count() != 0 || len(pairs) != 2 || filepath.Base(pairs[0].truth) != "a.truth.png" || filepath.Base(pairs[1].truth) != "b_mask.png" {
 		t.Errorf("pairs %v, err %v", pairs, err)
 	}
 }

@@ -118,7 +118,9 @@ const scoreExample = `Example (score cleave's label map of a shipped nuclei scen
 
 The folder form pairs NAME.labels.png (or NAME.png) in PRED with NAME.png,
 NAME.truth.png, NAME_mask.png or NAME_truth.png in TRUTH and prints one row
-per pair and the mean.
+per pair and the mean. A file with no partner on the other side fails the
+run naming it; with --paired-only the pairs are scored and each unpaired
+file is named on stderr.
 `
 
 func scoreHelp(w io.Writer) {
@@ -156,7 +158,7 @@ Metrics (natural log for VI):
 Flags:
 %s
 Exit status: 0 scored, 1 a file is missing, unreadable, of another size or
-unpaired, 2 wrong usage (also a --tolerance above an image's diagonal).
+unpaired (with --paired-only: no pair at all), 2 wrong usage (also a --tolerance above an image's diagonal).
 
 %s`, scoreExample, fs.FlagUsagesWrapped(100), caution)
 }
@@ -167,6 +169,7 @@ type scoreOptions struct {
 	csv        string
 	tolerance  float64
 	force      bool
+	pairedOnly bool
 	help       bool
 }
 
@@ -179,6 +182,7 @@ func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for bp, br and bf (0 to the image diagonal)")
 	addSplitMasksFlag(fs, &o.splitMasks)
 	fs.BoolVar(&o.force, "force", false, "overwrite an existing --csv file")
+	fs.BoolVar(&o.pairedOnly, "paired-only", false, "folders: score the files that pair up and name the unpaired ones on stderr, instead of failing on them")
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, o
 }
@@ -308,8 +312,23 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
 		return exitUsage
 	case folders:
-		if pairs, err = pairScore(predArg, truthArg); err != nil {
+		var un unpairedFiles
+		if pairs, un, err = pairScore(predArg, truthArg); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
+			return exitFail
+		}
+		if un.count() > 0 && !o.pairedOnly {
+			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", unpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
+			return exitFail
+		}
+		for _, f := range un.noTruth {
+			fmt.Fprintf(stderr, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truthArg)
+		}
+		for _, f := range un.noPred {
+			fmt.Fprintf(stderr, "cleave score: not scored: %s has no prediction in %s\n", f, predArg)
+		}
+		if len(pairs) == 0 {
+			fmt.Fprintf(stderr, "cleave score: no prediction in %s pairs with a truth in %s\n", predArg, truthArg)
 			return exitFail
 		}
 	default:

@@ -277,6 +277,7 @@ func TestScoreErrors(t *testing.T) {
 		{"missing", []string{"score", filepath.Join(dir, "nope.png"), a}, exitFail, "nope.png"},
 		{"empty_folder", []string{"score", empty, truths}, exitFail, "no image files"},
 		{"unpaired", []string{"score", preds, truths}, exitFail, "y.labels.png"},
+		{"unpaired_names_flag", []string{"score", preds, truths}, exitFail, "--paired-only"},
 		{"one_arg", []string{"score", a}, exitUsage, "PRED and TRUTH"},
 		{"file_and_folder", []string{"score", a, truths}, exitUsage, "two files or two folders"},
 		{"tolerance", []string{"score", "--tolerance", "-1", a, a}, exitUsage, "--tolerance"},
@@ -286,6 +287,53 @@ func TestScoreErrors(t *testing.T) {
 		if code != c.code || !strings.Contains(errb.String(), c.want) {
 			t.Errorf("%s: exit %d, stderr %q; want exit %d mentioning %q", c.name, code, errb.String(), c.code, c.want)
 		}
+	}
+}
+
+// --paired-only scores the pairs of two folders and names each unpaired
+// file (on either side) on stderr; with no pair at all it still fails.
+func TestScorePairedOnly(t *testing.T) {
+	dir := t.TempDir()
+	preds, truths := filepath.Join(dir, "preds"), filepath.Join(dir, "truths")
+	for _, d := range []string{preds, truths} {
+		if err := os.Mkdir(d, 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	writeGrayPNG(t, filepath.Join(preds, "x.labels.png"), 8, 6, false)
+	writeGrayPNG(t, filepath.Join(preds, "y.labels.png"), 8, 6, false)
+	writeGrayPNG(t, filepath.Join(truths, "x_truth.png"), 8, 6, false)
+	writeGrayPNG(t, filepath.Join(truths, "z.truth.png"), 8, 6, false)
+
+	code, stdout, stderr := runCleave("score", "--paired-only", "--json", preds, truths)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var got struct {
+		Pairs []struct {
+			Name string `json:"name"`
+		} `json:"pairs"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &got); err != nil {
+		t.Fatalf("%v: %s", err, stdout)
+	}
+	if len(got.Pairs) != 1 || got.Pairs[0].Name != "x" {
+		t.Errorf("pairs %+v; want x alone", got.Pairs)
+	}
+	for _, f := range []string{filepath.Join(preds, "y.labels.png"), filepath.Join(truths, "z.truth.png")} {
+		if !strings.Contains(stderr, "not scored: "+f) {
+			t.Errorf("stderr does not name %s:\n%s", f, stderr)
+		}
+	}
+	if strings.Contains(stderr, "x.labels.png") || strings.Contains(stderr, "x_truth.png") {
+		t.Errorf("stderr names a paired file:\n%s", stderr)
+	}
+
+	if err := os.Remove(filepath.Join(truths, "x_truth.png")); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := runCleave("score", "--paired-only", preds, truths); code != exitFail || !strings.Contains(stderr, "pairs with a truth") {
+		t.Errorf("no pair: exit %d, %s", code, stderr)
 	}
 }
 
