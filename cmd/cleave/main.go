@@ -13,8 +13,9 @@ import (
 	"github.com/spf13/pflag"
 )
 
-// version is the tool version written into every record.
-const version = "0.1.0"
+// version is the tool version written into every record. A build may set
+// it: go build -ldflags "-X main.version=1.2.3" ./cmd/cleave
+var version = "0.1.0"
 
 // Exit codes.
 const (
