@@ -253,7 +253,7 @@ func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
 		if c.skipped > 0 {
 			skipped = fmt.Sprintf(", %d skipped", c.skipped)
 		}
-		fmt.Fprintf(stderr, "cleave batch: %d inputs: %d ok, %d failed, %d pending%s -> %s, %s, %s\n", len(rows)-c.skipped, c.ok, c.failed, c.pending, skipped,
+		fmt.Fprintf(stderr, "cleave batch: %s: %d ok, %d failed, %d pending%s -> %s, %s, %s\n", plural(len(rows)-c.skipped, "input"), c.ok, c.failed, c.pending, skipped,
 			filepath.Join(dir, manifestName), filepath.Join(dir, objectsName), filepath.Join(dir, reportName))
 	}
 	if c.failed > 0 || c.pending > 0 {
@@ -836,7 +836,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		if p.shardN > 1 {
 			shard = fmt.Sprintf(" (shard %d/%d of %d)", p.shardI, p.shardN, len(p.all))
 		}
-		fmt.Fprintf(stderr, "cleave batch: %d files%s: %d computed now, %d already up to date, %d failed", len(p.mine), shard, computed, upToDate, failed)
+		fmt.Fprintf(stderr, "cleave batch: %s%s: %d computed now, %d already up to date, %d failed", plural(len(p.mine), "file"), shard, computed, upToDate, failed)
 		if notDone > 0 {
 			fmt.Fprintf(stderr, ", %d not done", notDone)
 		}

@@ -33,7 +33,7 @@ Run the whole workflow on an invented inspection day with exact ground
 truth, made up by cleave's own scene generators:
 
   slide  a fluorescence slide of cell nuclei (bright on dark, touching pairs,
-         dim nuclei, uneven illumination): %d scenes with hand-made masks to
+         dim nuclei, uneven illumination): %d scenes with generated masks to
          tune on, %d new scenes to segment;
   plate  a machined plate under raking light (pits and scratches, darker on
          a bright graded surface, with grain): %d scene to tune on, %d new.

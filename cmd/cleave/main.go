@@ -112,6 +112,14 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 					return exitOK
 				}
 			}
+			switch args[1] {
+			case "help":
+				mainHelp(stdout)
+				return exitOK
+			case "version":
+				fmt.Fprintln(stdout, "Usage: cleave version (or cleave --version, cleave -v)\n\nPrint cleave's version and, when the build recorded it, the commit it was\nbuilt from. The version is also kept in every record cleave writes.")
+				return exitOK
+			}
 			fmt.Fprintf(stderr, "cleave: no command %q; run 'cleave help' for the list\n", args[1])
 			return exitUsage
 		}

@@ -282,7 +282,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		return code
 	}
 	if fs.NArg() != 2 {
-		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %d arguments (run 'cleave score --help')\n", fs.NArg())
+		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %s (run 'cleave score --help')\n", plural(fs.NArg(), "argument"))
 		return exitUsage
 	}
 	if o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0) {

@@ -252,7 +252,7 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 	if len(got.TruthMaps) != 1 || got.TruthMaps[0].Kind != readMaskComponents || got.TruthMaps[0].Objects != n {
 		t.Errorf("tune.json truth_maps %+v; want one mask of %d components", got.TruthMaps, n)
 	}
-	if !strings.Contains(stdout, "1 of 1 truths are binary masks, scored by their 8-connected components") {
+	if !strings.Contains(stdout, "1 of 1 truth is a binary mask, scored by their 8-connected components") {
 		t.Errorf("stdout does not say the truth was a mask:\n%s", stdout)
 	}
 	off, stdout := tuneWith(masks, "--split-masks", "off")

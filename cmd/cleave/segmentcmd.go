@@ -171,6 +171,9 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		if err != nil {
 			failed++
 			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
+			if st, serr := os.Stat(p); serr == nil && st.IsDir() {
+				fmt.Fprintf(stderr, "cleave segment: to segment the images in the folder %s, run: cleave batch %s --out %s\n", p, p, c.out)
+			}
 			continue
 		}
 		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, j.out.stem)))

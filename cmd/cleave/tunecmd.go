@@ -721,15 +721,11 @@ func baselineText(s settings, d int) string {
 
 // summary prints the short report on stdout.
 func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out string) {
-	plural := "s"
-	if len(t.images) == 1 {
-		plural = ""
-	}
 	widened := ""
 	if rep.WidenedSettings > 0 {
 		widened = fmt.Sprintf(" + %d widened", rep.WidenedSettings)
 	}
-	fmt.Fprintf(w, "tuned on %d image%s: %d grid + %d refined%s settings, %.1f s\n", len(t.images), plural, rep.GridSize, rep.Refined, widened, rep.Seconds)
+	fmt.Fprintf(w, "tuned on %s: %d grid + %d refined%s settings, %.1f s\n", plural(len(t.images), "image"), rep.GridSize, rep.Refined, widened, rep.Seconds)
 	fmt.Fprintf(w, "metric:              %s (%s)\n", rep.Metric, rep.MetricChoice)
 	var split, unsplit []string
 	for _, m := range rep.TruthMaps {
@@ -741,10 +737,10 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 		}
 	}
 	if len(split) > 0 {
-		fmt.Fprintf(w, "truth masks:         %d of %d truths are binary masks, scored by their 8-connected components as objects (%s); --split-masks off scores each as one label\n", len(split), len(rep.TruthMaps), strings.Join(split, ", "))
+		fmt.Fprintf(w, "truth masks:         %d of %s %s, scored by their 8-connected components as objects (%s); --split-masks off scores each as one label\n", len(split), plural(len(rep.TruthMaps), "truth"), isBinaryMasks(len(split)), strings.Join(split, ", "))
 	}
 	if len(unsplit) > 0 {
-		fmt.Fprintf(w, "truth masks:         %d of %d truths are binary masks, each scored as one label (--split-masks off): %s\n", len(unsplit), len(rep.TruthMaps), strings.Join(unsplit, ", "))
+		fmt.Fprintf(w, "truth masks:         %d of %s %s, each scored as one label (--split-masks off): %s\n", len(unsplit), plural(len(rep.TruthMaps), "truth"), isBinaryMasks(len(unsplit)), strings.Join(unsplit, ", "))
 	}
 	others := func(m *metrics) string {
 		if m == nil {
@@ -794,4 +790,12 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	}
 	fmt.Fprintf(w, "wrote %s (best.json, tune.csv, tune.png, tune.json)\n", out)
 	fmt.Fprintf(w, "next: cleave segment --params %s IMAGE...\n", filepath.Join(out, "best.json"))
+}
+
+// isBinaryMasks is the predicate of "N of M truths ...", agreeing with N.
+func isBinaryMasks(n int) string {
+	if n == 1 {
+		return "is a binary mask"
+	}
+	return "are binary masks"
 }

@@ -152,7 +152,7 @@ func (t *tuner) writeHeatmap(w io.Writer, gridBest, best *evaluation, imgs []int
 	if t.metric == "vi" {
 		name += " (lower is better)"
 	}
-	text(img, fmt.Sprintf("mean %s over %d images", name, len(imgs)), plotW/2, 22, black, true)
+	text(img, fmt.Sprintf("mean %s over %s", name, plural(len(imgs), "image")), plotW/2, 22, black, true)
 	var fixedParts []string
 	for d := dimMaxNcut; d < numDims; d++ {
 		fixedParts = append(fixedParts, dimNames[d]+" "+t.tickText(d, gridBest.pt[d]))
