@@ -29,11 +29,12 @@ const batchExample = `Example (the generated nuclei scenes shipped with cleave):
   cleave batch --classes 2 --background dark --out results examples/nuclei
 
 segments nuclei-1.png, nuclei-2.png and nuclei-3.png (their truth masks,
-nuclei-1.truth.png and so on, are skipped and listed as such), one file per core at a time, writes results/nuclei-1.labels.png,
-.overlay.png, .classes.png, .regions.csv, .outlines.geojson and .json per image as 'cleave
-segment' does, then results/manifest.csv, results/objects.csv and
-results/report.html. Running
-the same command again skips every image whose record is up to date.
+nuclei-1.truth.png and so on, are skipped and listed as such), one file
+per core at a time, writes results/nuclei-1.labels.png, .overlay.png,
+.classes.png, .regions.csv, .outlines.geojson and .json per image as
+'cleave segment' does, then results/manifest.csv, results/objects.csv and
+results/report.html. Running the same command again skips every image
+whose record is up to date.
 
 On a cluster, task I of N runs
 
