@@ -1,6 +1,7 @@
 package affinity
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -200,10 +201,10 @@ func summarizeBlobs(cands []blob, noise float64) ScaleEstimate {
 	}
 	kept = suppressInside(kept)
 	slices.SortFunc(kept, func(a, b blob) int {
-		if c := cmpFloat(a.sigma, b.sigma); c != 0 {
+		if c := cmp.Compare(a.sigma, b.sigma); c != 0 {
 			return c
 		}
-		return cmpFloat(a.resp, b.resp)
+		return cmp.Compare(a.resp, b.resp)
 	})
 	sigma := trimmedLogMean(kept)
 	zs := make([]float64, len(kept))
@@ -240,16 +241,16 @@ const scaleNestRatio = 0.5
 // the cells of a uniform grid that their discs cover.
 func suppressInside(bs []blob) []blob {
 	slices.SortFunc(bs, func(a, b blob) int {
-		if c := cmpFloat(b.sigma, a.sigma); c != 0 {
+		if c := cmp.Compare(b.sigma, a.sigma); c != 0 {
 			return c
 		}
-		if c := cmpFloat(b.resp, a.resp); c != 0 {
+		if c := cmp.Compare(b.resp, a.resp); c != 0 {
 			return c
 		}
-		if c := cmpFloat(a.y, b.y); c != 0 {
+		if c := cmp.Compare(a.y, b.y); c != 0 {
 			return c
 		}
-		return cmpFloat(a.x, b.x)
+		return cmp.Compare(a.x, b.x)
 	})
 	const cell = 32.0
 	grid := map[[2]int][]int32{}
@@ -291,10 +292,10 @@ func suppressInside(bs []blob) []blob {
 // the plain median, lands between two equally strong populations).
 func trimmedLogMean(bs []blob) float64 {
 	slices.SortFunc(bs, func(a, b blob) int {
-		if c := cmpFloat(a.sigma, b.sigma); c != 0 {
+		if c := cmp.Compare(a.sigma, b.sigma); c != 0 {
 			return c
 		}
-		return cmpFloat(a.resp, b.resp)
+		return cmp.Compare(a.resp, b.resp)
 	})
 	var total float64
 	for _, b := range bs {
@@ -315,16 +316,6 @@ func trimmedLogMean(bs []blob) float64 {
 		return bs[len(bs)/2].sigma
 	}
 	return math.Exp(sl / sw)
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // finiteCopy returns v, or when it holds non-finite values a copy with

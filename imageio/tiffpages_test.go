@@ -1,6 +1,7 @@
 package imageio
 
 import (
+	"bytes"
 	"os"
 	"testing"
 )
@@ -23,7 +24,7 @@ func TestTIFFPagesSkimage(t *testing.T) {
 		if err != nil {
 			t.Skipf("scikit-image data not installed: %v", err)
 		}
-		if got := tiffPages(data); got != want {
+		if got := tiffPagesOf(data); got != want {
 			t.Errorf("%s: %d pages, want %d", name, got, want)
 		}
 	}
@@ -37,14 +38,17 @@ func TestTIFFPagesHostile(t *testing.T) {
 	// Header II*\0 with first IFD at 8; IFD at 8: 0 entries, next = 14;
 	// IFD at 14: 0 entries, next = 8 (a loop).
 	loop := []byte{'I', 'I', 42, 0, 8, 0, 0, 0, 0, 0, 14, 0, 0, 0, 0, 0, 8, 0, 0, 0}
-	if got := tiffPages(loop); got != 1 {
+	if got := tiffPagesOf(loop); got != 1 {
 		t.Errorf("loop: %d pages, want 1", got)
 	}
 	past := []byte{'M', 'M', 0, 42, 0, 0, 0, 8, 0, 0, 0xff, 0xff, 0xff, 0xff}
-	if got := tiffPages(past); got != 1 {
+	if got := tiffPagesOf(past); got != 1 {
 		t.Errorf("offset past the end: %d pages, want 1", got)
 	}
-	if got := tiffPages([]byte{'I', 'I', 42, 0}); got != 1 {
+	if got := tiffPagesOf([]byte{'I', 'I', 42, 0}); got != 1 {
 		t.Errorf("short header: %d pages, want 1", got)
 	}
 }
+
+// tiffPagesOf is tiffPagesAt on data in memory.
+func tiffPagesOf(data []byte) int { return tiffPagesAt(bytes.NewReader(data), int64(len(data))) }

@@ -219,10 +219,11 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			y[i] = z[i] / math.Sqrt(deg[i])
 		}
 		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
+		steady := !o.stability || stable(y)
 		if len(pt.nodes) == g.N {
-			res.root = rootSplit{tried: true, found: ok, ncut: s.ncut, stable: !o.stability || stable(y)}
+			res.root = rootSplit{tried: true, found: ok, ncut: s.ncut, stable: steady}
 		}
-		if !ok || s.ncut > p.MaxNcut || (o.stability && !stable(y)) {
+		if !ok || s.ncut > p.MaxNcut || !steady {
 			final = append(final, pt)
 			continue
 		}

@@ -119,10 +119,8 @@ func neckDepth(d []float64, cw, ch int) float64 {
 // neckDepth) and the peak pixels of the two pieces that meet there (-1
 // when the shape has one maximum).
 type neck struct {
-	depth  float64
-	peakA  int
-	peakB  int
-	saddle float64
+	depth        float64
+	peakA, peakB int
 }
 
 // deepestNeck floods d from the top as neckDepth describes and returns
@@ -181,7 +179,7 @@ func deepestNeck(d []float64, cw, ch int) neck {
 				lo := min(pa, pb)
 				if p := lo - 0.5; p > 0 {
 					if r := (lo - d[i]) / p; r > best.depth {
-						best = neck{depth: r, peakA: int(top[a]), peakB: int(top[b]), saddle: d[i]}
+						best = neck{depth: r, peakA: int(top[a]), peakB: int(top[b])}
 					}
 				}
 				if pa >= pb {

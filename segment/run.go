@@ -429,15 +429,19 @@ func autoCount(in Input, grain bool, workers int) (count int, est *affinity.Scal
 	case npix/PixelsPerSuperpixel <= MaxAutoSuperpixels:
 		return max(npix/PixelsPerSuperpixel, MinAutoSuperpixels), nil, false
 	}
-	estimate := func() affinity.ScaleEstimate { return affinity.ObjectScale(in.Luminance, w, h, workers) }
-	var e affinity.ScaleEstimate
-	if in.Cache != nil {
-		e = in.Cache.objectScale(grain, estimate)
-	} else {
-		e = estimate()
-	}
+	e := objectScaleOf(in, grain, workers)
 	count, used = autoSuperpixels(npix, e)
 	return count, &e, used
+}
+
+// objectScaleOf estimates the object scale of the input's luminance
+// (affinity.ObjectScale), once per input when it has a cache.
+func objectScaleOf(in Input, grain bool, workers int) affinity.ScaleEstimate {
+	estimate := func() affinity.ScaleEstimate { return affinity.ObjectScale(in.Luminance, in.Width, in.Height, workers) }
+	if in.Cache != nil {
+		return in.Cache.objectScale(grain, estimate)
+	}
+	return estimate()
 }
 
 // autoSuperpixels is the automatic superpixel count of a frame of npix
@@ -655,12 +659,16 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	if p.Classes >= 2 {
 		// The object scale is estimated only if the class grouping needs
-		// the background mesh.
+		// the background mesh, and not again when the automatic
+		// superpixel count has estimated it already.
 		radius := func() float64 {
 			if p.Background == "" || len(in.Planes) != 1 {
 				return 0
 			}
-			return objectRadius(affinity.ObjectScale(in.Luminance, w, h, p.Workers))
+			if res.ObjectScale != nil {
+				return objectRadius(*res.ObjectScale)
+			}
+			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
 		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed)
 		res.Classes = make([]int32, npix)

@@ -1,6 +1,7 @@
 package measure
 
 import (
+	"cmp"
 	"math"
 	"math/big"
 	"slices"
@@ -164,9 +165,9 @@ func cross(o, a, b pt) int64 { return (a.x-o.x)*(b.y-o.y) - (a.y-o.y)*(b.x-o.x) 
 func convexHull(ps []pt) []pt {
 	slices.SortFunc(ps, func(a, b pt) int {
 		if a.x != b.x {
-			return cmpInt(a.x, b.x)
+			return cmp.Compare(a.x, b.x)
 		}
-		return cmpInt(a.y, b.y)
+		return cmp.Compare(a.y, b.y)
 	})
 	ps = slices.Compact(ps)
 	if len(ps) < 3 {
@@ -188,16 +189,6 @@ func convexHull(ps []pt) []pt {
 		h = append(h, p)
 	}
 	return h[:len(h)-1]
-}
-
-func cmpInt(a, b int64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // interval is the first and last pixel column of a row of the convex
