@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
 )
 
 // A touching pair of discs with a dim seam, a single disc and a thin bar,
@@ -137,5 +139,49 @@ func TestRefineLimit(t *testing.T) {
 		if got := refineLimit(0.03, c.area); math.Abs(got-c.want) > 1e-12 {
 			t.Errorf("area %d: limit %v, want %v", c.area, got, c.want)
 		}
+	}
+}
+
+// The neck split cuts two overlapping discs apart but leaves a bar whose
+// width swells and narrows along its length (a vessel, a scratch): its
+// necks are deep, but every piece would be far longer than wide
+// (neckAspect). Shapes are built by hand; the expected outcome is the
+// definition of the rule.
+func TestNeckPiecesBarVersusDiscs(t *testing.T) {
+	run := func(mask []bool, cw, ch int) int {
+		var nodes []int
+		for c, m := range mask {
+			if m {
+				nodes = append(nodes, c)
+			}
+		}
+		feat := make([]float32, cw*ch)
+		g, err := affinity.PixelGraph([][]float32{feat}, cw, ch, affinity.PixelParams{Radius: 1, SigmaI: 1, SigmaX: 1}, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, regions, _ := neckPieces(g.Subgraph(nodes), nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
+		return regions
+	}
+	discs, cw, ch := discRow(14, 20, 2)
+	if n := run(discs, cw, ch); n != 2 {
+		t.Errorf("two discs of radius 14, centres 20 apart: %d pieces, want 2", n)
+	}
+	// A bar 120 pixels long whose half-width runs between 2 and 5 pixels.
+	bw, bh := 130, 16
+	bar := make([]bool, bw*bh)
+	for x := 5; x < 125; x++ {
+		half := 3.5 + 1.5*math.Cos(2*math.Pi*float64(x)/30)
+		for y := 0; y < bh; y++ {
+			if math.Abs(float64(y)+0.5-8) < half {
+				bar[y*bw+x] = true
+			}
+		}
+	}
+	if d := neckDepth(distanceInside(bar, bw, bh), bw, bh); d < refineNeckAlone {
+		t.Fatalf("the bar's necks (depth %.3f) are too shallow to test the aspect bound", d)
+	}
+	if n := run(bar, bw, bh); n != 1 {
+		t.Errorf("a bar of varying width: %d pieces, want 1", n)
 	}
 }
