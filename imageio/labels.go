@@ -35,6 +35,9 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
 // tiffread, or a colour image whose R, G and B are equal everywhere). A binary mask whose only values are 0 and 255 (8-bit) or 0
 // and 65535 (16-bit) reads as 0/1. JPEG is refused as lossy; a colour image
 // is an error. Every error names the file.
+// A TIFF that holds more than one image (planes, time points, or
+// channels that are not the three equal samples of a gray colour image)
+// is an error rather than its first page.
 // The file is opened as Open does (regular files only, header first,
 // the default megapixel limit).
 func ReadLabels(path string) (labels []int32, width, height int, err error) {
@@ -47,6 +50,10 @@ func ReadLabels(path string) (labels []int32, width, height int, err error) {
 		return nil, 0, 0, fmt.Errorf("%s: a label map cannot be JPEG (lossy compression changes labels)", path)
 	}
 	if src.tiff != nil {
+		if st := src.Stack(); st.Planes*st.Frames > 1 || (st.Channels > 1 && !src.tiff.rgb) {
+			// Reading page 0 alone would score one plane in silence.
+			return nil, 0, 0, fmt.Errorf("%s: a label map is one 2-D image, but this TIFF holds %s, %s and %s; save each plane's labels as a file of its own", path, nOf(st.Channels, "channel"), nOf(st.Planes, "plane"), nOf(st.Frames, "time point"))
+		}
 		labels, width, height, err = src.tiff.labels()
 		if err != nil {
 			return nil, 0, 0, fmt.Errorf("%s: %w", path, err)
@@ -217,4 +224,12 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 	}
 	enc := png.Encoder{CompressionLevel: png.BestSpeed}
 	return enc.Encode(w, img)
+}
+
+// nOf is "1 plane" or "3 planes".
+func nOf(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }

@@ -196,3 +196,31 @@ func TestLabelColor(t *testing.T) {
 		}
 	}
 }
+
+// TestReadLabelsRefusesStacks: a TIFF holding several images is refused
+// as a label map instead of read as its first page. The counts in the
+// message are those python3-tifffile reports for the committed files
+// (testdata/tiff/manifest.json, written by make.py: pages, OME SizeC and
+// SizeZ, the hyperstack description's channels, slices and frames).
+func TestReadLabelsRefusesStacks(t *testing.T) {
+	for _, c := range []struct{ file, want string }{
+		{"stack.tif", "1 channel, 4 planes and 1 time point"},
+		{"ome-cz.ome.tif", "2 channels, 3 planes and 1 time point"},
+		{"hyperstack.tif", "2 channels, 3 planes and 2 time points"},
+		{"two-channel.tif", "2 channels, 1 plane and 1 time point"},
+	} {
+		path := filepath.Join(tiffdata, c.file)
+		_, _, _, err := ReadLabels(path)
+		if err == nil {
+			t.Errorf("%s: read as a label map; want an error", c.file)
+			continue
+		}
+		if msg := err.Error(); !strings.Contains(msg, path) || !strings.Contains(msg, c.want) || !strings.Contains(msg, "one 2-D image") {
+			t.Errorf("%s: error %q; want the path, %q and the reason", c.file, msg, c.want)
+		}
+	}
+	// One page of one sample still reads (a 32-bit label TIFF).
+	if _, w, h, err := ReadLabels(filepath.Join(tiffdata, "labels-uint32.tif")); err != nil || w == 0 || h == 0 {
+		t.Errorf("labels-uint32.tif: %dx%d, %v", w, h, err)
+	}
+}
