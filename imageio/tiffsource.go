@@ -78,7 +78,7 @@ type tiffSource struct {
 // openTIFF reads the directories of a TIFF or BigTIFF through r (the
 // bounded header reader) and its metadata. It returns nil, nil for a
 // first page that golang.org/x/image/tiff reads and tiffread does not
-// (bilevel, 2- and 4-bit samples, palettes, CMYK, fax compression).
+// (bilevel, 2- and 4-bit samples, palettes, fax compression).
 func openTIFF(r io.ReaderAt, size int64) (*tiffSource, error) {
 	f, err := tiffread.Open(r, size)
 	if err != nil {
@@ -86,7 +86,7 @@ func openTIFF(r io.ReaderAt, size int64) (*tiffSource, error) {
 	}
 	p := f.Pages[0]
 	if err := p.Unsupported(); err != nil {
-		if !f.Big && p.Planar == 1 && (p.BitsPerSample < 8 || p.Photometric == 3 || p.Photometric == 5 ||
+		if !f.Big && p.Planar == 1 && (p.BitsPerSample < 8 || p.Photometric == 3 ||
 			p.Compression >= 2 && p.Compression <= 4) {
 			return nil, nil
 		}
@@ -176,7 +176,7 @@ func calibration(l *tiffmeta.Layout, p *tiffread.Page) Calibration {
 func tiffError(err error, stage string) error {
 	var ue tiffread.UnsupportedError
 	if errors.As(err, &ue) {
-		return fmt.Errorf("TIFF with %s: %w; save it uncompressed or with LZW, deflate, PackBits or zstd compression and 8- to 64-bit samples", strings.TrimPrefix(ue.Error(), "unsupported TIFF feature: "), ErrUnsupported)
+		return fmt.Errorf("TIFF with %s: %w; save it as gray, RGB or one channel per plane, with 8- to 64-bit integer or 16- to 64-bit floating-point samples, uncompressed or with LZW, deflate, PackBits or zstd compression", strings.TrimPrefix(ue.Error(), "unsupported TIFF feature: "), ErrUnsupported)
 	}
 	var fe tiffread.FormatError
 	if errors.As(err, &fe) {

@@ -95,3 +95,25 @@ func TestBigTIFFHeaderRead(t *testing.T) {
 		}
 	}
 }
+
+// A colour model cleave does not read is refused by name, whatever the
+// bit depth, as an ErrUnsupported (the PhotometricInterpretation values of
+// TIFF 6.0 section 8, part 2: 5 separated/CMYK, 8 CIE L*a*b*; as
+// remembered). The file is tiffRGB with that one field changed.
+func TestTIFFColourModelRefused(t *testing.T) {
+	for _, c := range []struct {
+		photometric uint16
+		want        string
+	}{{5, "CMYK"}, {8, "L*a*b*"}, {32844, "LogL"}, {7, "PhotometricInterpretation 7"}} {
+		b := tiffRGB(1)
+		// Entry 4 (tag 262) of the directory at 8: 8 + 2 + 4*12, value at +8.
+		if tag := binary.LittleEndian.Uint16(b[58:]); tag != 262 {
+			t.Fatalf("entry at 58 is tag %d, not 262", tag)
+		}
+		binary.LittleEndian.PutUint16(b[66:], c.photometric)
+		_, err := Decode(bytes.NewReader(b), LoadOptions{})
+		if err == nil || !errors.Is(err, ErrUnsupported) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("photometric %d: error %v; want ErrUnsupported naming %q", c.photometric, err, c.want)
+		}
+	}
+}

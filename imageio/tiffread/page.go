@@ -210,6 +210,9 @@ func (p *Page) unsupported() string {
 	case photometricPalette:
 		return "palette colour (PhotometricInterpretation 3)"
 	default:
+		if name, ok := photometricNames[p.Photometric]; ok {
+			return fmt.Sprintf("%s pixels (PhotometricInterpretation %d)", name, p.Photometric)
+		}
 		return fmt.Sprintf("PhotometricInterpretation %d", p.Photometric)
 	}
 	switch p.SampleFormat {
@@ -225,6 +228,10 @@ func (p *Page) unsupported() string {
 		default:
 			return fmt.Sprintf("%d-bit floating-point samples", p.BitsPerSample)
 		}
+	case sampleFormatComplexInt:
+		return fmt.Sprintf("complex integer samples (SampleFormat 5, %d bits)", p.BitsPerSample)
+	case sampleFormatComplexFloat:
+		return fmt.Sprintf("complex floating-point samples (SampleFormat 6, %d bits)", p.BitsPerSample)
 	default:
 		return fmt.Sprintf("sample format %d", p.SampleFormat)
 	}
@@ -311,4 +318,23 @@ func (p *Page) chunks() (across, down int) {
 func (p *Page) SameLayout(q *Page) bool {
 	return p.Width == q.Width && p.Height == q.Height && p.SamplesPerPixel == q.SamplesPerPixel &&
 		p.BitsPerSample == q.BitsPerSample && p.SampleFormat == q.SampleFormat && p.Photometric == q.Photometric
+}
+
+// photometricNames names the PhotometricInterpretation values that
+// ReadSample does not read, for the message that refuses them: TIFF 6.0
+// section 8 and part 2 (4 transparency mask, 5 separated, 8 CIE L*a*b*),
+// the TIFF technical notes and the DNG specification (9 and 10, the ICC
+// and ITU L*a*b* encodings; 32803 colour filter array; 32844 and 32845
+// the LogL and LogLuv encodings; 34892 linear raw). The values are from
+// those texts as remembered, not checked against a copy here.
+var photometricNames = map[int]string{
+	4:     "transparency mask",
+	5:     "CMYK (separated) colour",
+	8:     "CIE L*a*b* colour",
+	9:     "ICC L*a*b* colour",
+	10:    "ITU L*a*b* colour",
+	32803: "raw colour filter array",
+	32844: "LogL",
+	32845: "LogLuv",
+	34892: "linear raw",
 }

@@ -88,37 +88,41 @@ const (
 
 // Compression codes (TIFF 6.0 section 3 and later registrations).
 const (
-	CompressionNone        = 1
-	CompressionCCITT       = 2
-	CompressionLZW         = 5
-	CompressionOldJPEG     = 6
-	CompressionJPEG        = 7
-	CompressionDeflate     = 8
-	CompressionPackBits    = 32773
-	CompressionOldDeflate  = 32946
-	CompressionLERC        = 34887
-	CompressionLZMA        = 34925
-	CompressionZstd        = 50000
-	CompressionWebP        = 50001
-	CompressionJPEGXL      = 50002
-	CompressionZstdAlt     = 34926 // zstd as first registered by libtiff
-	CompressionWebPAlt     = 34927
-	CompressionJPEG2000    = 34712
-	CompressionPNG         = 34933
-	CompressionJPEGXR      = 22610
-	CompressionDeflateAlt  = 50013 // deflate as some microscope software tags it
-	photometricMinIsWhite  = 0
-	photometricMinIsBlack  = 1
-	photometricRGB         = 2
-	photometricPalette     = 3
-	photometricYCbCr       = 6
-	sampleFormatUint       = 1
-	sampleFormatInt        = 2
-	sampleFormatFloat      = 3
-	sampleFormatUndefined  = 4
-	predictorNone          = 1
-	predictorHorizontal    = 2
-	predictorFloatingPoint = 3
+	CompressionNone       = 1
+	CompressionCCITT      = 2
+	CompressionLZW        = 5
+	CompressionOldJPEG    = 6
+	CompressionJPEG       = 7
+	CompressionDeflate    = 8
+	CompressionPackBits   = 32773
+	CompressionOldDeflate = 32946
+	CompressionLERC       = 34887
+	CompressionLZMA       = 34925
+	CompressionZstd       = 50000
+	CompressionWebP       = 50001
+	CompressionJPEGXL     = 50002
+	CompressionZstdAlt    = 34926 // zstd as first registered by libtiff
+	CompressionWebPAlt    = 34927
+	CompressionJPEG2000   = 34712
+	CompressionPNG        = 34933
+	CompressionJPEGXR     = 22610
+	CompressionDeflateAlt = 50013 // deflate as some microscope software tags it
+	photometricMinIsWhite = 0
+	photometricMinIsBlack = 1
+	photometricRGB        = 2
+	photometricPalette    = 3
+	photometricYCbCr      = 6
+	sampleFormatUint      = 1
+	sampleFormatInt       = 2
+	sampleFormatFloat     = 3
+	sampleFormatUndefined = 4
+	// TIFF technical note 3 (as remembered): complex samples, real and
+	// imaginary parts each of half the bits.
+	sampleFormatComplexInt   = 5
+	sampleFormatComplexFloat = 6
+	predictorNone            = 1
+	predictorHorizontal      = 2
+	predictorFloatingPoint   = 3
 )
 
 var compressionNames = map[int]string{
