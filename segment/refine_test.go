@@ -185,3 +185,73 @@ func TestNeckPiecesBarVersusDiscs(t *testing.T) {
 		t.Errorf("a bar of varying width: %d pieces, want 1", n)
 	}
 }
+
+// An object above refineMaxNodes pixels is cut on a coarsened grid
+// (refineCoarse): two touching discs of radius 60 px (together about
+// 22,000 px, so a step of 2) with a dim seam between them still come
+// apart along the seam, and every pixel of each disc away from the seam
+// lands in that disc's piece. The same pair at half the size (below the
+// cap, cut at full resolution) splits the same way.
+func TestRefineCoarseSplitsLargePair(t *testing.T) {
+	for _, r := range []float64{60, 30} {
+		w, h := int(6*r), int(3*r)
+		cx0, cx1, cy := 1.6*r, 3.4*r, 1.5*r // centres 1.8 r apart: a waist
+		rng := rand.New(rand.NewPCG(5, uint64(r)))
+		con := make([]float64, w*h)
+		labels := make([]int32, w*h)
+		side := make([]int, w*h) // 1 or 2 for pixels of one disc away from the seam
+		seam := (cx0 + cx1) / 2
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				fx, fy := float64(x), float64(y)
+				d0 := math.Hypot(fx-cx0, fy-cy) <= r
+				d1 := math.Hypot(fx-cx1, fy-cy) <= r
+				if !d0 && !d1 {
+					continue
+				}
+				i := y*w + x
+				labels[i] = 1
+				con[i] = 0.8 + 0.02*rng.NormFloat64()
+				if math.Abs(fx-seam) < 2 {
+					con[i] = 0.4 + 0.02*rng.NormFloat64()
+				}
+				switch {
+				case fx < seam-4:
+					side[i] = 1
+				case fx > seam+4:
+					side[i] = 2
+				}
+			}
+		}
+		area := 0
+		for _, l := range labels {
+			area += int(l)
+		}
+		if coarse := area > refineMaxNodes; coarse != (r == 60) {
+			t.Fatalf("r %g: area %d, cap %d: the test no longer covers the path it names", r, area, refineMaxNodes)
+		}
+		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 30, 2, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref.n != 2 {
+			t.Errorf("r %g: %d objects, want 2", r, ref.n)
+			continue
+		}
+		pieceOf := map[int]int32{}
+		for i, s := range side {
+			if s == 0 {
+				continue
+			}
+			l := ref.labels[i]
+			if p, ok := pieceOf[s]; ok && p != l {
+				t.Errorf("r %g: disc %d is in pieces %d and %d", r, s, p, l)
+				break
+			}
+			pieceOf[s] = l
+		}
+		if pieceOf[1] == pieceOf[2] {
+			t.Errorf("r %g: both discs in piece %d", r, pieceOf[1])
+		}
+	}
+}
