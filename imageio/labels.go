@@ -6,7 +6,6 @@ import (
 	"image"
 	"image/png"
 	"io"
-	"math"
 
 	"github.com/cleave-seg/cleave/imageio/tiffread"
 )
@@ -144,86 +143,6 @@ func (t *tiffSource) labels() ([]int32, int, int, error) {
 		binaryMask(labels, int32(1)<<p.BitsPerSample-1)
 	}
 	return labels, p.Width, p.Height, nil
-}
-
-// Overlay colours. The boundary colour is a saturated amber, far from any
-// gray in hue and saturation.
-var boundaryRGB = [3]uint8{255, 170, 0}
-
-// tintAlpha is the weight of an object's colour in a tinted pixel.
-const tintAlpha = 0.3
-
-// labelColor is the tint of label l: hue l times the golden angle
-// (l * 0.381966 turns, spreading successive labels around the colour
-// wheel), saturation 0.75, value 1, converted by the standard HSV-to-RGB
-// formula (Smith 1978, Color gamut transform pairs, SIGGRAPH).
-func labelColor(l int32) [3]float64 {
-	hue := math.Mod(float64(l)*0.3819660112501051, 1) * 6
-	s, v := 0.75, 1.0
-	c := v * s
-	x := c * (1 - math.Abs(math.Mod(hue, 2)-1))
-	var r, g, b float64
-	switch int(hue) {
-	case 0:
-		r, g, b = c, x, 0
-	case 1:
-		r, g, b = x, c, 0
-	case 2:
-		r, g, b = 0, c, x
-	case 3:
-		r, g, b = 0, x, c
-	case 4:
-		r, g, b = x, 0, c
-	default:
-		r, g, b = c, 0, x
-	}
-	m := v - c
-	return [3]float64{r + m, g + m, b + m}
-}
-
-// isBoundary reports whether pixel (x, y) differs in label from its right or
-// lower neighbour; marking one side only draws boundaries one pixel wide.
-func isBoundary(labels []int32, width, height, x, y int) bool {
-	i := y*width + x
-	return (x+1 < width && labels[i+1] != labels[i]) || (y+1 < height && labels[i+width] != labels[i])
-}
-
-// EncodeOverlay writes an RGB PNG: display (values in [0, 1]) as gray, the
-// boundaries between regions of labels one pixel wide in amber, and, when
-// tint is true, every object (label > 0) blended with its palette colour
-// (weight 0.3; see labelColor). Label 0 is not tinted.
-func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []int32, tint bool) error {
-	if width <= 0 || height <= 0 || len(display) != width*height || len(labels) != width*height {
-		return fmt.Errorf("overlay: %d display values and %d labels for a %dx%d image", len(display), len(labels), width, height)
-	}
-	img := image.NewRGBA(image.Rect(0, 0, width, height))
-	for y := 0; y < height; y++ {
-		for x := 0; x < width; x++ {
-			i := y*width + x
-			p := img.Pix[4*i : 4*i+4]
-			p[3] = 255
-			if isBoundary(labels, width, height, x, y) {
-				p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
-				continue
-			}
-			d := float64(display[i])
-			if !(d >= 0) { // also NaN
-				d = 0
-			}
-			g := min(d, 1) * 255
-			if tint && labels[i] > 0 {
-				c := labelColor(labels[i])
-				for k := 0; k < 3; k++ {
-					p[k] = uint8(math.Round((1-tintAlpha)*g + tintAlpha*255*c[k]))
-				}
-				continue
-			}
-			gv := uint8(math.Round(g))
-			p[0], p[1], p[2] = gv, gv, gv
-		}
-	}
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	return enc.Encode(w, img)
 }
 
 // nOf is "1 plane" or "3 planes".

@@ -31,7 +31,7 @@ const batchExample = `Example (the generated nuclei scenes shipped with cleave):
 segments nuclei-1.png, nuclei-2.png and nuclei-3.png (their truth masks,
 nuclei-1.truth.png and so on, are skipped and listed as such), one file
 per core at a time, writes results/nuclei-1.labels.png, .overlay.png,
-.classes.png, .regions.csv, .outlines.geojson and .json per image as
+.preview.png, .classes.png, .regions.csv, .outlines.geojson and .json per image as
 'cleave segment' does, then results/manifest.csv, results/objects.csv and
 results/report.html. Running the same command again skips every image
 whose record is up to date.
@@ -982,7 +982,7 @@ func fileSHA256(p string) (string, error) {
 }
 
 // outputSuffixes are the files processImage may write for one stem.
-var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".classes.png", ".classes.tif", ".regions.csv", ".outlines.geojson", ".json"}
+var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".preview.png", ".classes.png", ".classes.tif", ".regions.csv", ".outlines.geojson", ".json"}
 
 // outputDirs are the folders, relative to --out and slash-separated,
 // that hold the outputs of inputs, with the top of --out itself.

@@ -24,8 +24,11 @@ const baseBytes = 24 << 20
 // its header is written, at most 4 + 2 for 32-bit labels; the overlay 4),
 // the region table's row runs (segment/measure, at most 12 per pixel, 8
 // counted: a run per pixel needs a label map of single-pixel rows) and
-// the outlines' edge flags and piece map (1 + 4).
-const outputBytesPerPixel = 35
+// the outlines' edge flags and piece map (1 + 4), the preview being
+// encoded (4) and the colouring of the labels before it (its touching
+// pairs, 8 bytes each, counted 8: a map of one-pixel objects can reach
+// 32).
+const outputBytesPerPixel = 47
 
 // stageEstimate is the estimated peak memory of the process during one
 // stage of one image.

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/render"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/measure"
 )
@@ -340,7 +341,14 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	// The image outputs are encoded concurrently (PNG compression is the
 	// slow part); each goes to its own file, so order does not matter, and
 	// the list of outputs is kept in a fixed order.
-	tint := res.Params.Background != ""
+	// The preview and the overlay's tints share one colouring; the
+	// overlay shows a colour image in its colours.
+	palette := render.ColourLabels(res.Labels, w, h)
+	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true}
+	if len(in.channels) == 3 {
+		overlay.Colour = in.channels
+		overlay.Lo, overlay.Hi = imageio.ColourWindow(in.channels, j.resolved.params.Workers)
+	}
 	type output struct {
 		suffix string
 		fn     func(io.Writer) error
@@ -368,7 +376,10 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	maps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
 		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, &maps[0])},
-		{".overlay.png", func(wr io.Writer) error { return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, tint) }},
+		{".overlay.png", func(wr io.Writer) error {
+			return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, overlay)
+		}},
+		{".preview.png", func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette) }},
 	}
 	if res.Classes != nil {
 		maps = append(maps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
@@ -509,7 +520,7 @@ func recordBlocked(p string, err error) string {
 // outputs lists every file the job writes in the format asked for.
 func (j job) outputs() []string {
 	f := j.settings.labelsFormat()
-	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".regions.csv"), j.out.path(".outlines.geojson"), j.out.path(".json")}
+	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".preview.png"), j.out.path(".regions.csv"), j.out.path(".outlines.geojson"), j.out.path(".json")}
 	if j.settings.Classes >= 2 {
 		list = append(list, j.out.path(classesSuffixes[f]))
 	}

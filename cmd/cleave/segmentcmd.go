@@ -17,7 +17,9 @@ const segmentExample = `Example (a generated nuclei scene shipped with cleave):
   cleave segment --classes 2 --background dark --out results examples/nuclei/nuclei-1.png
 
 writes results/nuclei-1.labels.png (objects 1..N on background 0, 16-bit),
-results/nuclei-1.overlay.png, results/nuclei-1.classes.png,
+results/nuclei-1.overlay.png (boundaries and object numbers on the image),
+results/nuclei-1.preview.png (the label map in colour),
+results/nuclei-1.classes.png,
 results/nuclei-1.regions.csv (measurements per object),
 results/nuclei-1.outlines.geojson (object outlines as polygons) and
 results/nuclei-1.json, and prints one summary line. With --labels-format tiff the label and class maps are
@@ -38,7 +40,8 @@ func segmentHelp(w io.Writer) {
 Segment each image by normalized cuts: build an affinity graph over pixels
 or SLIC superpixels, cut it recursively in two (or k ways), optionally group
 the regions into intensity classes and objects, and write a label map, an
-overlay, a region table and a JSON record per image into --out.
+overlay, a colour preview, a region table and a JSON record per image into
+--out.
 
 %s
 Flags:

@@ -82,7 +82,9 @@ Flags:
 Outputs in --out: best.json (every parameter, for 'cleave segment --params'),
 tune.csv (every setting evaluated: parameters, score per image, means,
 seconds), tune.png (mean score over sigma-i x sigma-x at the best other
-settings), tune.json (scores, search space, evaluations).
+settings, on a colour range fixed in advance: 0 to 1, or 0 to the largest
+value rounded up for vi; the grid's spread marked on the colour bar; the
+best cell ringed), tune.json (scores, search space, evaluations).
 
 Progress goes to stderr: settings evaluated of those planned (at most) and
 the best mean score so far; on a terminal one line, else one per stage.

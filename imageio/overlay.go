@@ -1,0 +1,263 @@
+package imageio
+
+import (
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"math"
+	"slices"
+
+	"github.com/cleave-seg/cleave/render"
+)
+
+// Overlay colours. The boundary colour is a saturated amber, far from any
+// gray in hue and saturation; numbers are white on a near-black halo.
+var (
+	boundaryRGB   = [3]uint8{255, 170, 0}
+	numberInk     = [3]uint8{255, 255, 255}
+	numberOutline = [3]uint8{20, 20, 20}
+)
+
+// tintAlpha is the weight of an object's colour in a tinted pixel.
+const tintAlpha = 0.3
+
+// OverlayOptions says what EncodeOverlay draws.
+type OverlayOptions struct {
+	// Colour, when it holds three planes (R, G, B in the image's own
+	// units), is the picture under the boundaries, each channel mapped
+	// linearly by the same window Lo..Hi to 0..255 (ColourWindow), which
+	// keeps the image's hues; NaN samples show black. Without it the
+	// display plane is drawn in gray.
+	Colour [][]float32
+	Lo, Hi float64
+	// Tint blends every object (label > 0) with its colour of
+	// render.ColourLabels (weight 0.3), the colour the preview gives it.
+	Tint bool
+	// Palette is the labels' colouring when the caller has it already
+	// (render.ColourLabels of the same labels); nil: computed here.
+	Palette *render.LabelColours
+	// Numbers draws each object's label at its centroid (the mean of its
+	// pixel coordinates, the region table's centroid_x and centroid_y) in
+	// render's digit font, white on a dark halo, where the number's box
+	// with its halo lies inside the object; see NumberScale.
+	Numbers bool
+}
+
+// ColourWindow is the display window of a colour image: the smallest 0.1
+// percentile and the largest 99.9 percentile of its channels (Hyndman and
+// Fan's definition 7, as the gray display plane), widened to min..max
+// when they meet. One window for all channels keeps the ratios between
+// them, so hues are kept. NaN and infinite samples are left out.
+func ColourWindow(planes [][]float32, workers int) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, p := range planes {
+		q := p
+		for _, v := range p {
+			if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+				q = finiteOnly(p)
+				break
+			}
+		}
+		if len(q) == 0 {
+			continue
+		}
+		a, b := percentileRange(q, workers)
+		lo, hi = math.Min(lo, a), math.Max(hi, b)
+	}
+	if math.IsInf(lo, 1) {
+		return 0, 1
+	}
+	return lo, hi
+}
+
+func finiteOnly(p []float32) []float32 {
+	var q []float32
+	for _, v := range p {
+		if !math.IsNaN(float64(v)) && !math.IsInf(float64(v), 0) {
+			q = append(q, v)
+		}
+	}
+	return q
+}
+
+// NumberScale is the size of a font pixel of the overlay's numbers for a
+// width x height image: one image pixel up to 600 pixels on the short
+// side, one more for each further 600, so numbers stay readable when a
+// large image is shown scaled down to a screen.
+func NumberScale(width, height int) int {
+	return 1 + min(width, height)/600
+}
+
+// NumberPlace is where EncodeOverlay draws the number of one object.
+type NumberPlace struct {
+	Label  int32
+	X, Y   int // top-left corner of the digits (without halo)
+	Scale  int
+	CX, CY float64 // the centroid
+}
+
+// PlaceNumbers finds where the overlay's numbers go: for each label > 0,
+// its centroid (cx, cy) = (mean x, mean y) of its pixels; the number's
+// box (render.NumberSize at NumberScale, or at scale 1 when that does not
+// fit) centred on the pixel nearest the centroid, kept only when the box
+// and a one-pixel margin around it (the halo) lie wholly inside the
+// object. Labels are in increasing order.
+func PlaceNumbers(labels []int32, width, height int) []NumberPlace {
+	type acc struct {
+		n      int
+		sx, sy float64
+	}
+	sums := map[int32]*acc{}
+	for i, l := range labels {
+		if l <= 0 {
+			continue
+		}
+		a := sums[l]
+		if a == nil {
+			a = &acc{}
+			sums[l] = a
+		}
+		a.n++
+		a.sx += float64(i % width)
+		a.sy += float64(i / width)
+	}
+	ids := make([]int32, 0, len(sums))
+	for l := range sums {
+		ids = append(ids, l)
+	}
+	slices.Sort(ids)
+	inside := func(l int32, x0, y0, w, h int) bool {
+		if x0 < 0 || y0 < 0 || x0+w > width || y0+h > height {
+			return false
+		}
+		for y := y0; y < y0+h; y++ {
+			for _, v := range labels[y*width+x0 : y*width+x0+w] {
+				if v != l {
+					return false
+				}
+			}
+		}
+		return true
+	}
+	var out []NumberPlace
+	for _, l := range ids {
+		a := sums[l]
+		cx, cy := a.sx/float64(a.n), a.sy/float64(a.n)
+		for _, s := range []int{NumberScale(width, height), 1} {
+			w, h := render.NumberSize(int(l), s)
+			x0 := int(math.Round(cx)) - w/2
+			y0 := int(math.Round(cy)) - h/2
+			if inside(l, x0-1, y0-1, w+2, h+2) {
+				out = append(out, NumberPlace{Label: l, X: x0, Y: y0, Scale: s, CX: cx, CY: cy})
+				break
+			}
+			if s == 1 {
+				break
+			}
+		}
+	}
+	return out
+}
+
+// isBoundary reports whether pixel (x, y) differs in label from its right or
+// lower neighbour; marking one side only draws boundaries one pixel wide.
+func isBoundary(labels []int32, width, height, x, y int) bool {
+	i := y*width + x
+	return (x+1 < width && labels[i+1] != labels[i]) || (y+1 < height && labels[i+width] != labels[i])
+}
+
+// EncodeOverlay writes an RGB PNG: the image (display values in [0, 1]
+// as gray, or the colour planes of opt), the boundaries between regions
+// of labels one pixel wide in amber, and what opt adds (tints, numbers).
+func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []int32, opt OverlayOptions) error {
+	if width <= 0 || height <= 0 || len(display) != width*height || len(labels) != width*height {
+		return fmt.Errorf("overlay: %d display values and %d labels for a %dx%d image", len(display), len(labels), width, height)
+	}
+	colour := len(opt.Colour) == 3
+	if colour {
+		for _, p := range opt.Colour {
+			if len(p) != width*height {
+				return fmt.Errorf("overlay: a colour plane of %d values for a %dx%d image", len(p), width, height)
+			}
+		}
+	}
+	var palette *render.LabelColours
+	if opt.Tint {
+		palette = opt.Palette
+		if palette == nil {
+			palette = render.ColourLabels(labels, width, height)
+		}
+	}
+	scale := 0.0
+	if opt.Hi > opt.Lo {
+		scale = 1 / (opt.Hi - opt.Lo)
+	}
+	unit := func(v float64) float64 {
+		if !(v >= 0) { // also NaN
+			return 0
+		}
+		return min(v, 1)
+	}
+	img := image.NewRGBA(image.Rect(0, 0, width, height))
+	for y := 0; y < height; y++ {
+		for x := 0; x < width; x++ {
+			i := y*width + x
+			p := img.Pix[4*i : 4*i+4]
+			p[3] = 255
+			if isBoundary(labels, width, height, x, y) {
+				p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
+				continue
+			}
+			var base [3]float64
+			if colour {
+				for k := range 3 {
+					base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
+				}
+			} else {
+				g := 255 * unit(float64(display[i]))
+				base = [3]float64{g, g, g}
+			}
+			if palette != nil && labels[i] > 0 {
+				c := palette.Of(labels[i])
+				for k := range 3 {
+					base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
+				}
+			}
+			for k := range 3 {
+				p[k] = uint8(math.Round(base[k]))
+			}
+		}
+	}
+	if opt.Numbers {
+		for _, n := range PlaceNumbers(labels, width, height) {
+			render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
+		}
+	}
+	enc := png.Encoder{CompressionLevel: png.BestSpeed}
+	return enc.Encode(w, img)
+}
+
+// EncodePreview writes an RGB PNG that shows a label map in colour:
+// label 0 black, every other label its colour of render.ColourLabels, so
+// labels that touch differ in colour. palette is that colouring when the
+// caller has it already (nil: computed here).
+func EncodePreview(w io.Writer, width, height int, labels []int32, palette *render.LabelColours) error {
+	if width <= 0 || height <= 0 || len(labels) != width*height {
+		return fmt.Errorf("preview: %d labels for a %dx%d image", len(labels), width, height)
+	}
+	if palette == nil {
+		palette = render.ColourLabels(labels, width, height)
+	}
+	img := image.NewRGBA(image.Rect(0, 0, width, height))
+	for i, l := range labels {
+		p := img.Pix[4*i : 4*i+4]
+		p[3] = 255
+		if l > 0 {
+			c := palette.Of(l)
+			p[0], p[1], p[2] = c[0], c[1], c[2]
+		}
+	}
+	enc := png.Encoder{CompressionLevel: png.BestSpeed}
+	return enc.Encode(w, img)
+}

@@ -1,0 +1,214 @@
+package render
+
+import (
+	"math"
+	"slices"
+)
+
+// Palette is the set of colours given to labels: twelve hues 30 degrees
+// apart in CIE LCh(ab) (the polar form of CIE 1976 L*a*b*, CIE 15:2004),
+// chroma 48, lightness alternating 58 and 78 so that colours next in hue
+// also differ in lightness, converted to sRGB (D65, IEC 61966-2-1) and
+// clipped to the gamut. The order visits the hues in steps of 150 degrees
+// (5 of the 12), so colours chosen one after another differ strongly.
+// None is near black, the colour of label 0.
+var Palette = makePalette()
+
+func makePalette() [][3]uint8 {
+	const n = 12
+	out := make([][3]uint8, n)
+	for k := range n {
+		j := k * 5 % n
+		L := 58.0
+		if j%2 == 1 {
+			L = 78
+		}
+		h := float64(j) * 2 * math.Pi / n
+		out[k] = labToSRGB(L, 48*math.Cos(h+0.5), 48*math.Sin(h+0.5))
+	}
+	return out
+}
+
+// labToSRGB converts CIE L*a*b* (D65 white, Xn = 0.95047, Zn = 1.08883)
+// to 8-bit sRGB: the inverse of CIE 15:2004's f, the XYZ-to-linear-sRGB
+// matrix and the sRGB transfer curve of IEC 61966-2-1, clipped to [0, 1].
+func labToSRGB(L, a, b float64) [3]uint8 {
+	fy := (L + 16) / 116
+	fx, fz := fy+a/500, fy-b/200
+	finv := func(t float64) float64 {
+		if t > 6.0/29 {
+			return t * t * t
+		}
+		return 3 * (6.0 / 29) * (6.0 / 29) * (t - 4.0/29)
+	}
+	x, y, z := 0.95047*finv(fx), finv(fy), 1.08883*finv(fz)
+	lin := [3]float64{
+		3.2404542*x - 1.5371385*y - 0.4985314*z,
+		-0.9692660*x + 1.8760108*y + 0.0415560*z,
+		0.0556434*x - 0.2040259*y + 1.0572252*z,
+	}
+	var out [3]uint8
+	for k, v := range lin {
+		v = min(max(v, 0), 1)
+		if v <= 0.0031308 {
+			v *= 12.92
+		} else {
+			v = 1.055*math.Pow(v, 1/2.4) - 0.055
+		}
+		out[k] = uint8(math.Round(255 * v))
+	}
+	return out
+}
+
+// LabelColours gives every label of a label map a colour of Palette.
+type LabelColours struct {
+	dense  [][3]uint8 // by label, when the labels are at most the pixel count
+	sparse map[int32][3]uint8
+}
+
+// Of is the colour of label l (black for 0 and for labels not in the map).
+func (c *LabelColours) Of(l int32) [3]uint8 {
+	if c.dense != nil {
+		if l >= 0 && int(l) < len(c.dense) {
+			return c.dense[l]
+		}
+		return [3]uint8{}
+	}
+	return c.sparse[l]
+}
+
+// ColourLabels colours the labels (> 0) of a width x height label map so
+// that labels that touch, side or corner (8-connectivity), get different
+// palette entries whenever fewer than len(Palette) colours are taken by
+// a label's neighbours: greedy colouring in increasing label order, each
+// label taking, among the colours none of its already-coloured neighbours
+// has, the one used least so far (ties: the earlier palette entry), which
+// spreads the colours evenly. A label whose neighbours hold every colour
+// takes the one fewest of them hold. A map whose objects touch as a plane
+// map does (a region adjacency graph is planar when regions are
+// connected and touch along sides) needs at most four colours (Appel and
+// Haken 1977), so twelve leave room for corner contacts and
+// disconnected labels. The result depends on the map only.
+func ColourLabels(labels []int32, width, height int) *LabelColours {
+	maxLabel := int32(0)
+	for _, l := range labels {
+		maxLabel = max(maxLabel, l)
+	}
+	// Distinct labels in increasing order, and each one's index.
+	var ids []int32
+	index := func(l int32) int { i, _ := slices.BinarySearch(ids, l); return i }
+	if int(maxLabel) <= len(labels) {
+		seen := make([]bool, int(maxLabel)+1)
+		for _, l := range labels {
+			if l > 0 {
+				seen[l] = true
+			}
+		}
+		for l, s := range seen {
+			if s {
+				ids = append(ids, int32(l))
+			}
+		}
+	} else {
+		set := map[int32]bool{}
+		for _, l := range labels {
+			if l > 0 {
+				set[l] = true
+			}
+		}
+		for l := range set {
+			ids = append(ids, l)
+		}
+		slices.Sort(ids)
+	}
+	// Touching pairs (a < b), found on the right, lower, lower-left and
+	// lower-right neighbours of each pixel.
+	var pairs [][2]int32
+	add := func(a, b int32) {
+		if a > 0 && b > 0 && a != b {
+			pairs = append(pairs, [2]int32{min(a, b), max(a, b)})
+		}
+	}
+	for y := range height {
+		row := labels[y*width : (y+1)*width]
+		for x, l := range row {
+			if x+1 < width {
+				add(l, row[x+1])
+			}
+			if y+1 < height {
+				next := labels[(y+1)*width : (y+2)*width]
+				add(l, next[x])
+				if x > 0 {
+					add(l, next[x-1])
+				}
+				if x+1 < width {
+					add(l, next[x+1])
+				}
+			}
+		}
+	}
+	slices.SortFunc(pairs, func(p, q [2]int32) int {
+		if p[0] != q[0] {
+			return int(p[0]) - int(q[0])
+		}
+		return int(p[1]) - int(q[1])
+	})
+	pairs = slices.Compact(pairs)
+	// Adjacency lists by index.
+	start := make([]int, len(ids)+1)
+	for _, p := range pairs {
+		start[index(p[0])+1]++
+		start[index(p[1])+1]++
+	}
+	for i := range ids {
+		start[i+1] += start[i]
+	}
+	adj := make([]int, start[len(ids)])
+	fill := slices.Clone(start[:len(ids)])
+	for _, p := range pairs {
+		a, b := index(p[0]), index(p[1])
+		adj[fill[a]] = b
+		fill[a]++
+		adj[fill[b]] = a
+		fill[b]++
+	}
+	colour := make([]int, len(ids))
+	used := make([]int, len(Palette))
+	for i := range ids {
+		var taken [16]int // neighbours holding each colour (len(Palette) <= 16)
+		for _, j := range adj[start[i]:start[i+1]] {
+			if j < i {
+				taken[colour[j]]++
+			}
+		}
+		best := -1
+		for k := range Palette {
+			if taken[k] == 0 && (best < 0 || used[k] < used[best]) {
+				best = k
+			}
+		}
+		if best < 0 {
+			best = 0
+			for k := range Palette {
+				if taken[k] < taken[best] {
+					best = k
+				}
+			}
+		}
+		colour[i] = best
+		used[best]++
+	}
+	out := &LabelColours{}
+	if int(maxLabel) <= len(labels) {
+		out.dense = make([][3]uint8, int(maxLabel)+1)
+		for i, l := range ids {
+			out.dense[l] = Palette[colour[i]]
+		}
+	} else {
+		out.sparse = make(map[int32][3]uint8, len(ids))
+		for i, l := range ids {
+			out.sparse[l] = Palette[colour[i]]
+		}
+	}
+	return out
+}
