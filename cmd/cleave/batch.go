@@ -100,7 +100,11 @@ One batch at a time writes into DIR: a second one, or --rebuild, exits 2
 at once naming the holder (pid, host and start time in DIR/%s).
 With --shard I/N only every N-th file of the sorted list, starting at the
 I-th, is processed; N tasks can write into one shared DIR at once, and
-none removes another's temporary files. Shards write no manifest, objects
+none removes another's temporary files. --shard auto takes I from the
+scheduler, SLURM_ARRAY_TASK_ID (Slurm job array) or JOB_COMPLETION_INDEX
+(Kubernetes Indexed Job), and N from CLEAVE_SHARDS, which the submitter
+sets to the size of the whole array; a missing or malformed variable,
+both indices set, or an index outside 0 to N-1 exits 2. Shards write no manifest, objects
 table or report: run 'cleave batch --rebuild DIR' when all are done; it also removes
 the temporary files of killed shards.
 
@@ -144,7 +148,7 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 	fs.BoolVar(&o.withTruths, "with-truths", false, "also segment files named like truth masks (stem NAME.truth, NAME_mask or NAME_truth), skipped by default")
 	fs.IntVarP(&o.jobs, "jobs", "j", 0, fmt.Sprintf("images processed at the same time (0 = one per core; at most %d)", maxWorkers))
 	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads per image (0 = cores divided by --jobs; at most %d); results do not depend on it", maxWorkers))
-	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list")
+	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list; auto: I from SLURM_ARRAY_TASK_ID or JOB_COMPLETION_INDEX, N from CLEAVE_SHARDS")
 	fs.BoolVar(&o.failFast, "fail-fast", false, "stop at the first image that fails")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress and no summary on stderr (errors are still printed)")
 	fs.BoolVar(&o.rebuild, "rebuild", false, "only rebuild DIR/manifest.csv, DIR/objects.csv and DIR/report.html from the records in DIR (after all shards are done)")
@@ -161,6 +165,7 @@ type batchPlan struct {
 	inputDir, out      string // as given
 	realOut, realInput string // symbolic links resolved
 	shardI, shardN     int
+	shardFrom          string       // the variables --shard auto read, for the log
 	all                []batchInput // every input, sorted by relative path
 	skipped            []batchSkip  // entries named like images that are not read, sorted
 	oldIndex           *batchIndex  // the index an earlier run left in --out, or nil
@@ -284,7 +289,12 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 		return nil, usagef("--workers must be 0 (automatic) to %d, got %d", maxWorkers, o.workers)
 	}
 	p := &batchPlan{opts: *o, settings: *s, inputDir: flags.Arg(0), out: o.out, shardI: 0, shardN: 1}
-	if o.shard != "" {
+	if o.shard == shardAuto {
+		var err error
+		if p.shardI, p.shardN, p.shardFrom, err = shardFromEnv(os.LookupEnv); err != nil {
+			return nil, err
+		}
+	} else if o.shard != "" {
 		var err error
 		if p.shardI, p.shardN, err = parseShard(o.shard); err != nil {
 			return nil, err
@@ -836,6 +846,9 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		shard := ""
 		if p.shardN > 1 {
 			shard = fmt.Sprintf(" (shard %d/%d of %d)", p.shardI, p.shardN, len(p.all))
+		}
+		if p.shardFrom != "" {
+			shard = fmt.Sprintf(" (shard %d/%d of %d, from %s)", p.shardI, p.shardN, len(p.all), p.shardFrom)
 		}
 		fmt.Fprintf(stderr, "cleave batch: %s%s: %d computed now, %d already up to date, %d failed", plural(len(p.mine), "file"), shard, computed, upToDate, failed)
 		if notDone > 0 {

@@ -4,6 +4,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -13,10 +14,10 @@ import (
 // task index the scheduler would set, calls this test binary as cleave
 // (through TestBatchHelperProcess); after all tasks, --rebuild must find
 // every input ok. The index variables are the documented ones: Slurm's
-// SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN and SLURM_ARRAY_TASK_COUNT
-// (sbatch(1), OUTPUT ENVIRONMENT VARIABLES) and Kubernetes'
-// JOB_COMPLETION_INDEX for Indexed Jobs (Kubernetes documentation, Jobs,
-// completion mode).
+// SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN, SLURM_ARRAY_TASK_MAX and
+// SLURM_ARRAY_TASK_COUNT (sbatch(1), OUTPUT ENVIRONMENT VARIABLES) and
+// Kubernetes' JOB_COMPLETION_INDEX for Indexed Jobs (Kubernetes
+// documentation, Jobs, completion mode).
 
 // fakeCleave puts a "cleave" on PATH that runs this test binary's helper.
 func fakeCleave(t *testing.T) []string {
@@ -64,17 +65,21 @@ func TestClusterSlurmArray(t *testing.T) {
 		t.Skip("no bash")
 	}
 	script, _ := filepath.Abs(filepath.Join("..", "..", "examples", "cluster", "slurm-array.sh"))
-	// --array=1-3: three tasks whose ids do not start at 0.
+	// Every task of the script's array (SHARDS of them, more than the five
+	// images: some shares are empty), as sbatch --array=0-(SHARDS-1) runs
+	// them; TestClusterSlurmReal runs the script on a real cluster.
+	shards := scriptShards(t, script)
 	data, in, good := clusterData(t)
 	out := filepath.Join(data, "results")
 	env := fakeCleave(t)
-	for id := 1; id <= 3; id++ {
+	for id := range shards {
 		cmd := exec.Command("bash", script)
 		cmd.Env = append(env, "IN="+in, "OUT="+out, "PARAMS="+filepath.Join(data, "best.json"),
-			"SLURM_ARRAY_TASK_ID="+strconv.Itoa(id), "SLURM_ARRAY_TASK_MIN=1", "SLURM_ARRAY_TASK_COUNT=3", "SLURM_CPUS_PER_TASK=1")
+			"SLURM_ARRAY_TASK_ID="+strconv.Itoa(id), "SLURM_ARRAY_TASK_MIN=0", "SLURM_ARRAY_TASK_MAX="+strconv.Itoa(shards-1),
+			"SLURM_ARRAY_TASK_COUNT="+strconv.Itoa(shards), "SLURM_CPUS_PER_TASK=1")
 		if msg, err := cmd.CombinedOutput(); err != nil {
 			t.Fatalf("task %d: %v: %s", id, err, msg)
-		} else if want := "shard " + strconv.Itoa(id-1) + "/3"; !strings.Contains(string(msg), want) {
+		} else if want := "shard " + strconv.Itoa(id) + "/" + strconv.Itoa(shards); !strings.Contains(string(msg), want) {
 			t.Errorf("task %d: output %q lacks %q", id, msg, want)
 		}
 	}
@@ -122,4 +127,23 @@ print(s["completions"]); print(env["SHARDS"]); print(c["command"][0]); print(c["
 		}
 	}
 	checkRebuilt(t, filepath.Join(data, "results"), good)
+}
+
+// scriptShards reads SHARDS=N from the script.
+func scriptShards(t *testing.T, script string) int {
+	t.Helper()
+	data, err := os.ReadFile(script)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := regexp.MustCompile(`(?m)^SHARDS=(\d+)$`).FindSubmatch(data)
+	if m == nil {
+		t.Fatalf("%s sets no SHARDS=N", script)
+	}
+	n, _ := strconv.Atoi(string(m[1]))
+	arr := regexp.MustCompile(`(?m)^#SBATCH --array=0-(\d+)$`).FindSubmatch(data)
+	if arr == nil || string(arr[1]) != strconv.Itoa(n-1) {
+		t.Fatalf("%s: #SBATCH --array must be 0-%d for SHARDS=%d", script, n-1, n)
+	}
+	return n
 }

@@ -1,0 +1,72 @@
+package main
+
+import (
+	"fmt"
+	"strconv"
+)
+
+// Environment variables read by --shard auto. The index comes from the
+// scheduler: Slurm sets SLURM_ARRAY_TASK_ID in every task of a job array
+// (sbatch(1), OUTPUT ENVIRONMENT VARIABLES), Kubernetes sets
+// JOB_COMPLETION_INDEX in every pod of an Indexed Job (Kubernetes
+// documentation, Jobs, completion mode). The number of shards comes from
+// the submitter in shardCountVar: neither scheduler gives the size of the
+// whole job to a task of a resubmitted subset (SLURM_ARRAY_TASK_COUNT
+// counts only the tasks of that submission; a pod does not see
+// completions).
+const (
+	slurmIndexVar = "SLURM_ARRAY_TASK_ID"
+	slurmMaxVar   = "SLURM_ARRAY_TASK_MAX"
+	k8sIndexVar   = "JOB_COMPLETION_INDEX"
+	shardCountVar = "CLEAVE_SHARDS"
+	shardAuto     = "auto"
+)
+
+// shardFromEnv returns the share I of N for --shard auto: I is the task
+// index set by the scheduler (slurmIndexVar or k8sIndexVar, exactly one of
+// them), N is shardCountVar. Empty variables count as unset. Missing,
+// malformed or inconsistent values (both indices set, I outside 0..N-1, a
+// Slurm array whose highest task id is N or more) are usage errors, so
+// that a task never quietly processes a share other than its own. from
+// names the variables used, for the log.
+func shardFromEnv(lookup func(string) (string, bool)) (i, n int, from string, err error) {
+	get := func(name string) string {
+		v, _ := lookup(name)
+		return v
+	}
+	nv := get(shardCountVar)
+	if nv == "" {
+		return 0, 0, "", usagef("--shard auto needs %s, the number of shards (the size of the whole array, %s 0 to N-1, or the Job's completions): it is not set", shardCountVar, slurmIndexVar)
+	}
+	n, err = strconv.Atoi(nv)
+	if err != nil || n < 1 {
+		return 0, 0, "", usagef("--shard auto: %s must be a whole number of shards, 1 or more, got %q", shardCountVar, nv)
+	}
+	sv, kv := get(slurmIndexVar), get(k8sIndexVar)
+	var name, v string
+	switch {
+	case sv != "" && kv != "":
+		return 0, 0, "", usagef("--shard auto: both %s=%s (Slurm) and %s=%s (Kubernetes) are set; unset one, or give --shard I/N", slurmIndexVar, sv, k8sIndexVar, kv)
+	case sv != "":
+		name, v = slurmIndexVar, sv
+	case kv != "":
+		name, v = k8sIndexVar, kv
+	default:
+		return 0, 0, "", usagef("--shard auto: neither %s (a Slurm job array task) nor %s (a Kubernetes Indexed Job pod) is set; run it as an array task or give --shard I/N", slurmIndexVar, k8sIndexVar)
+	}
+	i, err = strconv.Atoi(v)
+	if err != nil {
+		return 0, 0, "", usagef("--shard auto: %s must be a whole number, got %q", name, v)
+	}
+	if i < 0 || i >= n {
+		return 0, 0, "", usagef("--shard auto: %s=%d is outside 0 to %d (%s=%d): number the tasks from 0 to %d", name, i, n-1, shardCountVar, n, n-1)
+	}
+	if name == slurmIndexVar {
+		if mv := get(slurmMaxVar); mv != "" {
+			if m, err := strconv.Atoi(mv); err == nil && m >= n {
+				return 0, 0, "", usagef("--shard auto: the array reaches task %d (%s) but %s=%d: every task must be 0 to %d", m, slurmMaxVar, shardCountVar, n, n-1)
+			}
+		}
+	}
+	return i, n, fmt.Sprintf("%s=%d, %s=%d", name, i, shardCountVar, n), nil
+}
