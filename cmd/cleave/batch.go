@@ -177,6 +177,9 @@ type batchPlan struct {
 type batchInput struct {
 	Input string `json:"input"` // path relative to INPUT_DIR, slash-separated
 	Stem  string `json:"stem"`  // output path prefix relative to --out, slash-separated
+	// Plane is the plane segmented, with --planes all (every plane of a
+	// file is an input of its own, stem STEM.zNNN); nil otherwise.
+	Plane *int `json:"plane,omitempty"`
 }
 
 func runBatch(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -307,11 +310,9 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	}
 	// Resolve with one worker to check the parameters; the real count is
 	// set below.
-	if _, err := s.resolve(1); err != nil {
+	check, err := s.resolve(1)
+	if err != nil {
 		return nil, err
-	}
-	if s.Planes == planesAll {
-		return nil, usagef("--planes all is for cleave segment; batch segments one plane per file (--planes one with --plane, or brightest)")
 	}
 	st, err := os.Stat(p.inputDir)
 	switch {
@@ -338,6 +339,9 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	// a symbolic link (as cluster data folders often are) is followed.
 	if p.all, p.skipped, err = discover(p.realInput, p.realOut, o); err != nil {
 		return nil, err
+	}
+	if s.Planes == planesAll {
+		p.all = planeInputs(p.realInput, p.all, check.load)
 	}
 	if p.oldIndex, err = existingIndex(p.out); err != nil {
 		return nil, &usageError{err}
@@ -679,6 +683,43 @@ func stemsFor(rels []string) ([]batchInput, error) {
 	return out, nil
 }
 
+// countMine names this run's inputs in words: "12 files", or with
+// --planes all "30 images from 10 files" (each plane an image).
+func (p *batchPlan) countMine() string {
+	files := map[string]bool{}
+	planes := false
+	for _, k := range p.mine {
+		files[p.all[k].Input] = true
+		planes = planes || p.all[k].Plane != nil
+	}
+	if !planes {
+		return plural(len(p.mine), "file")
+	}
+	return plural(len(p.mine), "image") + " from " + plural(len(files), "file")
+}
+
+// planeInputs makes every plane of each input an input of its own
+// (--planes all), stems STEM.zNNN as cleave segment names them (see
+// expandPlanes), in plane order. The planes are counted from each file's
+// header (root is the resolved INPUT_DIR). A file that cannot be opened
+// stays one input without a plane: segmenting it fails and records why.
+func planeInputs(root string, ins []batchInput, load imageio.LoadOptions) []batchInput {
+	var out []batchInput
+	for _, in := range ins {
+		src, err := imageio.Open(filepath.Join(root, filepath.FromSlash(in.Input)), load)
+		if err != nil {
+			out = append(out, in)
+			continue
+		}
+		n := src.Stack().Planes
+		src.Close()
+		for z := range n {
+			out = append(out, batchInput{Input: in.Input, Stem: planeStem(in.Stem, z, n), Plane: &z})
+		}
+	}
+	return out
+}
+
 // batchStatus is what happened to one input in this run.
 type batchStatus int
 
@@ -850,7 +891,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		if p.shardFrom != "" {
 			shard = fmt.Sprintf(" (shard %d/%d of %d, from %s)", p.shardI, p.shardN, len(p.all), p.shardFrom)
 		}
-		fmt.Fprintf(stderr, "cleave batch: %s%s: %d computed now, %d already up to date, %d failed", plural(len(p.mine), "file"), shard, computed, upToDate, failed)
+		fmt.Fprintf(stderr, "cleave batch: %s%s: %d computed now, %d already up to date, %d failed", p.countMine(), shard, computed, upToDate, failed)
 		if notDone > 0 {
 			fmt.Fprintf(stderr, ", %d not done", notDone)
 		}
@@ -913,9 +954,15 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	} else if abs, _ := filepath.Abs(real); !within(abs, p.realOut) {
 		return batchResult{k: k, status: statusFailed, err: fmt.Errorf("%s: output folder %s leads outside --out (to %s) through a symbolic link; nothing written", src, dir, abs)}
 	}
+	res := p.res
+	if in.Plane != nil {
+		r := *p.res
+		r.selection.Plane = *in.Plane
+		res = &r
+	}
 	// processImage records a failure in STEM.json itself, unless a file
 	// that cleave did not write stands at that path.
-	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: p.res, replace: replaceOwn, owner: p.owner()})
+	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: res, replace: replaceOwn, owner: p.owner()})
 	if err != nil {
 		if ctx.Err() != nil {
 			return batchResult{k: k, status: statusNotDone}

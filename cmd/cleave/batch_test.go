@@ -875,7 +875,7 @@ func TestGlobsAndStems(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []batchInput{{"a/x.png", "a/x.png"}, {"a/x.tif", "a/x.tif"}, {"b/x.png", "b/x"}}
+	want := []batchInput{{Input: "a/x.png", Stem: "a/x.png"}, {Input: "a/x.tif", Stem: "a/x.tif"}, {Input: "b/x.png", Stem: "b/x"}}
 	if fmt.Sprint(got) != fmt.Sprint(want) {
 		t.Errorf("stemsFor = %v, want %v", got, want)
 	}

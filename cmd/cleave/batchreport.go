@@ -151,6 +151,7 @@ func warnUnlocked(stderr io.Writer, l *outLock, dir string) {
 // manifestRow is one line of manifest.csv and of the report's table.
 type manifestRow struct {
 	Input, Stem, Status, Error string
+	Plane                      *int // the plane, with --planes all
 	// Labels is the label map of an ok record, relative to the folder
 	// and slash-separated (its name depends on the format written).
 	Labels string
@@ -175,7 +176,7 @@ const (
 func manifestRows(dir string, idx *batchIndex) []manifestRow {
 	rows := make([]manifestRow, 0, len(idx.Inputs)+len(idx.Skipped))
 	for _, in := range idx.Inputs {
-		r := manifestRow{Input: in.Input, Stem: in.Stem, Status: rowPending}
+		r := manifestRow{Input: in.Input, Stem: in.Stem, Plane: in.Plane, Status: rowPending}
 		p := filepath.Join(dir, filepath.FromSlash(in.Stem)+".json")
 		rec, err := readRecord(p)
 		switch {
@@ -282,7 +283,8 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 // cells neutralized by csvText).
 func writeManifest(w io.Writer, rows []manifestRow) error {
 	cw := csv.NewWriter(w)
-	_ = cw.Write([]string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"})
+	planes := hasPlanes(rows)
+	_ = cw.Write(withPlane(planes, []string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"}, "plane"))
 	for _, r := range rows {
 		rec := []string{csvText(r.Input), r.Status, "", "", "", csvText(r.Error), csvText(strings.Join(r.Warnings, " | ")), csvText(r.Labels)}
 		if r.Status == rowOK {
@@ -291,10 +293,32 @@ func writeManifest(w io.Writer, rows []manifestRow) error {
 		if r.Status == rowOK || r.Status == rowFailed {
 			rec[4] = strconv.FormatFloat(r.Seconds, 'f', 3, 64)
 		}
-		_ = cw.Write(rec)
+		_ = cw.Write(withPlane(planes, rec, r.planeText()))
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// hasPlanes reports rows of the planes of stacks (--planes all): the
+// manifest and objects.csv then have a plane column after the input.
+func hasPlanes(rows []manifestRow) bool {
+	return slices.ContainsFunc(rows, func(r manifestRow) bool { return r.Plane != nil })
+}
+
+// withPlane inserts cell after the first cell of rec when planes is set.
+func withPlane(planes bool, rec []string, cell string) []string {
+	if !planes {
+		return rec
+	}
+	return slices.Insert(rec, 1, cell)
+}
+
+// planeText is the row's plane as a cell ("" without one).
+func (r manifestRow) planeText() string {
+	if r.Plane == nil {
+		return ""
+	}
+	return strconv.Itoa(*r.Plane)
 }
 
 // objectsColumns is the header of objects.csv after "input": the union of
@@ -366,11 +390,12 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
 		tables, heads = append(tables, r), append(heads, head)
 	}
 	cols := objectsColumns(heads)
+	planes := hasPlanes(rows)
+	out := withPlane(planes, []string{"input"}, "plane")
+	lead := len(out)
 	pos := make(map[string]int, len(cols))
-	out := make([]string, 0, len(cols)+1)
-	out = append(out, "input")
 	for k, c := range cols {
-		pos[c] = k + 1
+		pos[c] = k + lead
 		out = append(out, csvText(c))
 	}
 	cw := csv.NewWriter(w)
@@ -378,7 +403,8 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
 		return err
 	}
 	for t, r := range tables {
-		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), r.Input, heads[t], pos, len(out)); err != nil {
+		first := withPlane(planes, []string{csvText(r.Input)}, r.planeText())
+		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), first, heads[t], pos, len(out)); err != nil {
 			return err
 		}
 	}
@@ -387,9 +413,10 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
 }
 
 // copyObjects writes the rows of the region table at p to cw, each as a
-// row of width cells: the input first, then each cell at the position pos
-// gives its column (head is the table's header).
-func copyObjects(cw *csv.Writer, p, input string, head []string, pos map[string]int, width int) error {
+// row of width cells: the cells of first (the input, and its plane with
+// --planes all), then each cell at the position pos gives its column
+// (head is the table's header).
+func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos map[string]int, width int) error {
 	f, err := os.Open(p)
 	if err != nil {
 		return err
@@ -413,7 +440,7 @@ func copyObjects(cw *csv.Writer, p, input string, head []string, pos map[string]
 			return fmt.Errorf("%s: %w", p, err)
 		}
 		clear(out)
-		out[0] = csvText(input)
+		copy(out, first)
 		for k, cell := range rec {
 			if _, err := strconv.ParseFloat(cell, 64); err != nil {
 				cell = csvText(cell)
@@ -476,6 +503,9 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 		d.Params = append(d.Params, reportParam{k, fmt.Sprint(m[k])})
 	}
 	for _, r := range rows {
+		if r.Plane != nil {
+			r.Input = fmt.Sprintf("%s, plane %d", r.Input, *r.Plane)
+		}
 		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json"), StatusText: r.Status, Class: r.Status}
 		if r.Labels != "" {
 			rr.LabelsLink = relURL(r.Labels)

@@ -102,7 +102,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Var(&s.Channel, "channel", "use only this channel of a multi-channel image: an index from 0, or a name the file gives its channels; -1 = a colour image's three colours, else the first channel")
 	fs.IntVar(&s.Plane, "plane", 0, "plane (Z, from 0) of a stack to segment")
 	fs.IntVar(&s.Frame, "frame", 0, "time point (from 0) of a time series to segment")
-	fs.StringVar(&s.Planes, "planes", planesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.* and a summary STEM.stack.json) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
+	fs.StringVar(&s.Planes, "planes", planesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.*; segment adds a summary STEM.stack.json, batch a plane column in manifest.csv and objects.csv; not for tune) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
 	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
 		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,

@@ -231,17 +231,23 @@ func expandPlanes(j job) ([]job, error) {
 	}
 	n := src.Stack().Planes
 	src.Close()
-	digits := max(3, len(strconv.Itoa(n-1)))
 	out := make([]job, n)
 	for z := range out {
 		r := *j.resolved
 		r.selection.Plane = z
 		q := j
 		q.resolved = &r
-		q.out.stem = fmt.Sprintf("%s.z%0*d", j.out.stem, digits, z)
+		q.out.stem = planeStem(j.out.stem, z, n)
 		out[z] = q
 	}
 	return out, nil
+}
+
+// planeStem is the output stem of plane z of a stack of n planes:
+// STEM.zNNN, three digits at least, more when the stack needs them, so
+// that names sort in plane order.
+func planeStem(stem string, z, n int) string {
+	return fmt.Sprintf("%s.z%0*d", stem, max(3, len(strconv.Itoa(n-1))), z)
 }
 
 // stackSummary is STEM.stack.json, written after every plane of a stack

@@ -1,11 +1,15 @@
 package main
 
 import (
+	"bytes"
 	"encoding/binary"
+	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -225,5 +229,85 @@ func TestScore32BitLabelTIFFs(t *testing.T) {
 	}
 	if math.Abs(got["ari"]-*want) > 1e-12 {
 		t.Fatalf("ari %.17g, scikit-learn %.17g", got["ari"], *want)
+	}
+}
+
+// batch --planes all: every plane of the 4-page stack is an image of its
+// own (STEM.z000 .. STEM.z003, the same label maps as segment --planes
+// all writes), a one-plane file gives STEM.z000, manifest.csv and
+// objects.csv carry a plane column, and two shards plus --rebuild give
+// the same manifest as one run (apart from the seconds column).
+func TestBatchPlanesAll(t *testing.T) {
+	in, seg := t.TempDir(), t.TempDir()
+	for _, f := range []string{"stack.tif", "uint8.tif"} {
+		b, err := os.ReadFile(filepath.Join(tiffData, f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(in, f), b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if code, _, stderr := runCleave("segment", "--planes", "all", "--out", seg, filepath.Join(in, "stack.tif")); code != 0 {
+		t.Fatalf("segment: exit %d: %s", code, stderr)
+	}
+	manifest := func(out string, shards int) [][]string {
+		t.Helper()
+		for i := range shards {
+			args := []string{"batch", in, "--out", out, "--planes", "all"}
+			if shards > 1 {
+				args = append(args, "--shard", fmt.Sprintf("%d/%d", i, shards))
+			}
+			if code, _, stderr := runCleave(args...); code != 0 {
+				t.Fatalf("%v: exit %d: %s", args, code, stderr)
+			}
+		}
+		if shards > 1 {
+			if code, _, stderr := runCleave("batch", "--rebuild", out); code != 0 {
+				t.Fatalf("rebuild: exit %d: %s", code, stderr)
+			}
+		}
+		f, err := os.Open(filepath.Join(out, "manifest.csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer f.Close()
+		rows, err := csv.NewReader(f).ReadAll()
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, r := range rows[1:] {
+			r[5] = "" // seconds
+		}
+		return rows
+	}
+	one := t.TempDir()
+	rows := manifest(one, 1)
+	want := [][2]string{{"stack.tif", "0"}, {"stack.tif", "1"}, {"stack.tif", "2"}, {"stack.tif", "3"}, {"uint8.tif", "0"}}
+	if len(rows) != len(want)+1 || strings.Join(rows[0][:3], ",") != "input,plane,status" {
+		t.Fatalf("manifest %v; want a plane column and %d rows", rows, len(want))
+	}
+	for k, w := range want {
+		if r := rows[k+1]; r[0] != w[0] || r[1] != w[1] || r[2] != "ok" {
+			t.Errorf("row %d: %v; want %v ok", k, r, w)
+		}
+	}
+	for z := range 4 {
+		name := fmt.Sprintf("stack.z%03d.labels.png", z)
+		a, err1 := os.ReadFile(filepath.Join(one, name))
+		b, err2 := os.ReadFile(filepath.Join(seg, name))
+		if err1 != nil || err2 != nil || !bytes.Equal(a, b) {
+			t.Errorf("%s: batch and segment label maps differ (%v, %v)", name, err1, err2)
+		}
+		if rec := readRecordFile(t, filepath.Join(one, fmt.Sprintf("stack.z%03d.json", z))); rec.Input.Stack == nil || rec.Input.Stack.Plane != z {
+			t.Errorf("plane %d: record stack %+v", z, rec.Input.Stack)
+		}
+	}
+	head, err := os.ReadFile(filepath.Join(one, "objects.csv"))
+	if err != nil || !strings.HasPrefix(string(head), "input,plane,label,") {
+		t.Errorf("objects.csv starts %.40q (%v); want input,plane,label,", head, err)
+	}
+	if sharded := manifest(t.TempDir(), 2); !slices.EqualFunc(rows, sharded, slices.Equal) {
+		t.Errorf("two shards and --rebuild: %v; one run: %v", sharded, rows)
 	}
 }

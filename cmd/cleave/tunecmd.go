@@ -326,7 +326,7 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		return exitUsage, err
 	}
 	if s.Planes == planesAll {
-		return exitUsage, usagef("--planes all is for cleave segment; tune reads one plane per image (--planes one with --plane, or brightest)")
+		return exitUsage, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
 	}
 	defer setMemoryLimit(loadRes.params.MaxMemory)()
 	if !o.force {
