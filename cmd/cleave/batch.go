@@ -70,9 +70,10 @@ warnings, labels: the label map written, .png or .tif), DIR/objects.csv
 (every row of every ok image's STEM.regions.csv, the input path in front;
 images whose tables have other columns, colour and gray say, share one
 header, the union, with empty cells where a table has no such column) and
-DIR/report.html (counts, parameters, a contact sheet of the
-overlays scaled by the browser, the table of files, the failures and the
-warnings) are rebuilt from the records at the end, using the list of
+DIR/report.html (counts, the date, a summary of objects per image with a
+size histogram, the overlays 360 pixels wide linking the full size, the
+table of files linking each image's tables, the failures and the
+warnings, the parameters) are rebuilt from the records at the end, using the list of
 inputs and the parameters kept in DIR/%s. A rerun skips every
 image whose record is ok for the same file contents (SHA-256), parameters
 and cleave version; after an interruption, even kill -9, it completes the

@@ -12,7 +12,9 @@ import (
 	"os/exec"
 	"os/signal"
 	"path/filepath"
+	"regexp"
 	"sort"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
@@ -319,6 +321,30 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 	if !strings.Contains(dom, `<a href="./objects.csv">objects.csv</a>`) {
 		t.Error("rendered report lacks the link to objects.csv")
 	}
+	// The summary: images segmented, the date, a histogram bar per
+	// doubling bin whose counts add up to the objects (or regions) of the
+	// region tables, links to each table.
+	if !strings.Contains(dom, fmt.Sprintf("<td>images segmented</td><td class=\"n\">%d</td>", len(ok))) {
+		t.Errorf("rendered report lacks the count of images segmented (%d)", len(ok))
+	}
+	if !regexp.MustCompile(`Report written \d{4}-\d\d-\d\d \d\d:\d\d UTC`).MatchString(dom) {
+		t.Error("rendered report lacks its date")
+	}
+	if len(ok) > 0 {
+		bars := regexp.MustCompile(`<title>(\d+) with area (\d+) to (\d+) px</title>`).FindAllStringSubmatch(dom, -1)
+		total := 0
+		for _, b := range bars {
+			n, _ := strconv.Atoi(b[1])
+			total += n
+		}
+		rows := 0
+		for _, g := range ok {
+			rows += len(readRegionRows(t, filepath.Join(out, strings.TrimSuffix(g, ".png")+".regions.csv")))
+		}
+		if len(bars) == 0 || total != rows {
+			t.Errorf("size histogram: %d bars counting %d labels; the region tables hold %d", len(bars), total, rows)
+		}
+	}
 	for _, f := range failed {
 		if !strings.Contains(dom, `<tr class="failed"><td>`+f+`</td>`) {
 			t.Errorf("rendered report lacks the failure row of %s", f)
@@ -355,16 +381,17 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 		}
 	}
 	// manifest.csv and objects.csv; per ok image the overlay (link and
-	// image), the record and the label map; per failed image the record.
-	if want := 2 + 4*len(ok) + len(failed); links != want {
+	// image), the record, the label map, the region table, the outlines
+	// and the preview; per failed image the record.
+	if want := 2 + 7*len(ok) + len(failed); links != want {
 		t.Errorf("%d links and image sources, want %d", links, want)
 	}
 	sort.Strings(lines)
 	var want []string
 	for _, g := range ok {
-		// Overlays are full size (128x128 here) and shown 160 px wide,
+		// Overlays are full size (128x128 here) and shown 360 px wide,
 		// loaded from the file beside the input's record.
-		want = append(want, filepath.Join(abs, strings.TrimSuffix(g, ".png")+".overlay.png")+" 128x128 shown 160x160")
+		want = append(want, filepath.Join(abs, strings.TrimSuffix(g, ".png")+".overlay.png")+" 128x128 shown 360x360")
 	}
 	sort.Strings(want)
 	if strings.Join(lines, "\n") != strings.Join(want, "\n") {

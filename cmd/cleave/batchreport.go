@@ -18,6 +18,7 @@ import (
 	"strconv"
 	"strings"
 	"syscall"
+	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
 )
@@ -157,10 +158,13 @@ type manifestRow struct {
 	Labels string
 	// Table is the region table (STEM.regions.csv) of an ok record,
 	// relative to the folder and slash-separated, or "".
-	Table            string
-	Regions, Objects int
-	Seconds          float64
-	Warnings         []string // messages of an ok record's warnings
+	Table string
+	// Outlines and Preview are the outlines file and the colour preview
+	// of an ok record, like Table, or "" when the record lists none.
+	Outlines, Preview string
+	Regions, Objects  int
+	Seconds           float64
+	Warnings          []string // messages of an ok record's warnings
 }
 
 // Statuses in the manifest.
@@ -197,8 +201,13 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 				r.Labels = path.Join(path.Dir(in.Stem), name)
 			}
 			for _, name := range rec.Outputs {
-				if strings.HasSuffix(name, ".regions.csv") {
+				switch {
+				case strings.HasSuffix(name, ".regions.csv"):
 					r.Table = path.Join(path.Dir(in.Stem), name)
+				case strings.HasSuffix(name, ".outlines.geojson"):
+					r.Outlines = path.Join(path.Dir(in.Stem), name)
+				case strings.HasSuffix(name, ".preview.png"):
+					r.Preview = path.Join(path.Dir(in.Stem), name)
 				}
 			}
 			for _, w := range rec.Warnings {
@@ -271,8 +280,12 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 	}); err != nil {
 		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, objectsName), err)
 	}
+	sizes, err := objectSizes(dir, rows)
+	if err != nil {
+		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, reportName), err)
+	}
 	if err := imageio.WriteAtomicAs(filepath.Join(dir, reportName), true, owner, func(w io.Writer) error {
-		return writeReport(w, idx, rows)
+		return writeReport(w, idx, rows, sizes, time.Now())
 	}); err != nil {
 		return nil, err
 	}
@@ -473,6 +486,9 @@ type reportRow struct {
 	manifestRow
 	Overlay, Record string
 	LabelsLink      string // relative URL of the label map, "" when none
+	TableLink       string // relative URLs of the region table, the outlines
+	OutlinesLink    string // and the preview, "" when none
+	PreviewLink     string
 	SecondsText     string
 	StatusText      string // "ok", "ok, 2 warnings", "failed", "pending", "skipped"
 	Class           string // row class: ok, warned, failed, pending, skipped
@@ -485,15 +501,32 @@ type reportData struct {
 	Params                          []reportParam
 	Rows, Sheet, FailureRows        []reportRow
 	WarnedRows                      []reportRow
+	Date                            string // when the report was written, UTC
+	Summary                         reportSummary
+}
+
+// reportSummary is the report's summary of the ok images.
+type reportSummary struct {
+	Images                 int
+	Unit                   string // "objects", or "regions" when no image has objects
+	Count                  int    // objects (or regions) over all ok images
+	Mean                   string // per image, 1 decimal
+	Min, Max               int
+	Median                 string
+	Histogram              *sizeHistogram
+	HistogramW, HistogramH int
 }
 
 // writeReport writes report.html: one self-contained page, no scripts and
-// no external assets. The contact sheet shows the overlays themselves,
-// scaled down by the browser (no thumbnail files), loaded lazily so that
-// large batches open quickly.
-func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
+// no external assets. The summary counts the ok images and their objects
+// and draws the size histogram as inline SVG; the contact sheet shows the
+// overlays themselves, scaled by the browser to 360 pixels wide (no
+// thumbnail files), each a link to the full-size overlay, loaded lazily so
+// that large batches open quickly. now is the date written on it.
+func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHistogram, now time.Time) error {
 	c := countRows(rows)
-	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped}
+	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped,
+		Date: now.UTC().Format("2006-01-02 15:04 UTC"), Summary: summarize(rows, sizes)}
 	m := map[string]any{}
 	data, _ := json.Marshal(idx.Settings)
 	dec := json.NewDecoder(bytes.NewReader(data))
@@ -509,6 +542,15 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow) error {
 		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json"), StatusText: r.Status, Class: r.Status}
 		if r.Labels != "" {
 			rr.LabelsLink = relURL(r.Labels)
+		}
+		if r.Table != "" {
+			rr.TableLink = relURL(r.Table)
+		}
+		if r.Outlines != "" {
+			rr.OutlinesLink = relURL(r.Outlines)
+		}
+		if r.Preview != "" {
+			rr.PreviewLink = relURL(r.Preview)
 		}
 		if n := len(r.Warnings); n > 0 {
 			rr.StatusText, rr.Class = "ok, "+plural(n, "warning"), "warned"
@@ -552,16 +594,34 @@ tr.warned td { background: #eef3fb; }
 tr.pending td { background: #fff6d6; }
 tr.skipped td { background: #eeeeee; }
 .sheet { display: flex; flex-wrap: wrap; gap: 10px; }
-.sheet figure { margin: 0; width: 160px; }
-.sheet img { width: 160px; height: auto; border: 1px solid #999; }
+.sheet figure { margin: 0; width: 360px; }
+.sheet img { width: 360px; height: auto; border: 1px solid #999; }
+#summary td { border: none; padding: 1px 12px 1px 0; }
+svg text { font: 11px sans-serif; fill: #333; }
 .sheet figcaption { font-size: 12px; word-break: break-all; }
 </style>
 </head>
 <body>
 <h1>cleave batch report</h1>
 <p id="counts">{{.Total}} inputs: <b>{{.OK}} ok</b>{{if .Warned}} ({{.Warned}} with warnings to check){{end}}, <b>{{.Failed}} failed</b>{{if .Pend}}, <b>{{.Pend}} pending</b> (no current record yet){{end}}{{if .Skipped}}; <b>{{.Skipped}} skipped</b> (named like images but not read: see the table){{end}}.
-Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}.
+Input folder: <code>{{.InputDir}}</code>. cleave {{.Version}}. Report written {{.Date}}.
 The same table as CSV: <a href="./manifest.csv">manifest.csv</a>; every object of every ok image, one row each: <a href="./objects.csv">objects.csv</a>.</p>
+
+<h2>Summary</h2>
+{{with .Summary}}<table id="summary">
+<tr><td>images segmented</td><td class="n">{{.Images}}</td></tr>
+<tr><td>{{.Unit}}</td><td class="n">{{.Count}}</td></tr>
+{{if .Images}}<tr><td>{{.Unit}} per image</td><td class="n">{{.Mean}} on average; fewest {{.Min}}, median {{.Median}}, most {{.Max}}</td></tr>{{end}}
+</table>
+{{if .Histogram}}{{$h := .Histogram}}<figure id="sizes" style="margin: 0.5em 0">
+<svg width="{{.HistogramW}}" height="{{.HistogramH}}" role="img" aria-label="histogram of {{.Unit}} sizes">
+<line x1="{{$h.X0}}" y1="{{$h.Base}}" x2="{{$h.X1}}" y2="{{$h.Base}}" stroke="#555"/>
+{{range $h.Bars}}<rect x="{{.X}}" y="{{.Y}}" width="{{.W}}" height="{{.H}}" fill="#3b6e8f"><title>{{.Count}} with area {{.Lo}} to {{.Hi}} px</title></rect>
+{{if .Count}}<text x="{{.Mid}}" y="{{.CountY}}" text-anchor="middle">{{.Count}}</text>{{end}}
+{{end}}{{range $h.Ticks}}<text x="{{.X}}" y="{{$h.TickY}}" text-anchor="middle">{{.Text}}</text>
+{{end}}<text x="{{$h.X0}}" y="{{$h.LabelY}}">area in pixels (each bar from one power of two to the next)</text>
+</svg>
+<figcaption>sizes of the {{$h.Total}} {{.Unit}} of the ok images (the area_px column of objects.csv)</figcaption></figure>{{end}}{{end}}
 
 {{if .FailureRows}}<h2>Failures</h2>
 <table id="failures">
@@ -578,13 +638,13 @@ The same table as CSV: <a href="./manifest.csv">manifest.csv</a>; every object o
 {{end}}
 <h2>Overlays</h2>
 <div class="sheet" id="sheet">
-{{range .Sheet}}<figure><a href="{{.Overlay}}"><img src="{{.Overlay}}" loading="lazy" alt="overlay of {{.Input}}"></a><figcaption>{{.Input}}</figcaption></figure>
+{{range .Sheet}}<figure><a href="{{.Overlay}}"><img src="{{.Overlay}}" loading="lazy" alt="overlay of {{.Input}}"></a><figcaption>{{.Input}}: {{if .Objects}}{{.Objects}} objects{{else}}{{.Regions}} regions{{end}} (click for full size)</figcaption></figure>
 {{end}}</div>
 
 <h2>Files</h2>
 <table id="files">
-<tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th><th>label map</th></tr>
-{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if or (eq .Status "ok") (eq .Status "failed")}}<a href="{{.Record}}">json</a>{{end}}</td><td>{{if .LabelsLink}}<a href="{{.LabelsLink}}">{{.Labels}}</a>{{end}}</td></tr>
+<tr><th>input</th><th>status</th><th>regions</th><th>objects</th><th>seconds</th><th>record</th><th>label map</th><th>region table</th><th>outlines</th><th>preview</th></tr>
+{{range .Rows}}<tr class="{{.Class}}"><td>{{.Input}}</td><td>{{.StatusText}}</td>{{if eq .Status "ok"}}<td class="n">{{.Regions}}</td><td class="n">{{.Objects}}</td>{{else}}<td></td><td></td>{{end}}<td class="n">{{.SecondsText}}</td><td>{{if or (eq .Status "ok") (eq .Status "failed")}}<a href="{{.Record}}">json</a>{{end}}</td><td>{{if .LabelsLink}}<a href="{{.LabelsLink}}">{{.Labels}}</a>{{end}}</td><td>{{if .TableLink}}<a href="{{.TableLink}}">regions.csv</a>{{end}}</td><td>{{if .OutlinesLink}}<a href="{{.OutlinesLink}}">geojson</a>{{end}}</td><td>{{if .PreviewLink}}<a href="{{.PreviewLink}}">png</a>{{end}}</td></tr>
 {{end}}</table>
 
 <h2>Parameters (as requested; each record holds the values used)</h2>
