@@ -115,7 +115,7 @@ Flags:
 Exit status: 0 all images ok, 1 an image failed or the run stopped early,
 2 wrong usage or DIR in use by another run (nothing is written then).
 
-%s`, strings.Join(imageExtensions, " "), indexName, lockName, batchExample, fs.FlagUsagesWrapped(100), caution)
+%s`, strings.Join(imageExtensions, " "), indexName, lockName, batchExample, flagUsages(fs), caution)
 }
 
 // imageExtensions are the file name extensions batch treats as images

@@ -46,7 +46,7 @@ with their truth. Scores and the place of every output are printed.
 %s
 Flags:
 %s
-%s`, demoSlideTune, demoSlideNew, demoPlateTune, demoPlateNew, demoExample, fs.FlagUsagesWrapped(100), caution)
+%s`, demoSlideTune, demoSlideNew, demoPlateTune, demoPlateNew, demoExample, flagUsages(fs), caution)
 }
 
 // The demo's scenario: sizes, counts and seeds (fixed, so the demo prints

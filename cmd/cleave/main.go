@@ -9,6 +9,7 @@ import (
 	"io"
 	"os"
 	"runtime/debug"
+	"strings"
 
 	"github.com/spf13/pflag"
 )
@@ -176,4 +177,45 @@ func exitCode(err error) int {
 	default:
 		return exitFail
 	}
+}
+
+// flagUsages is the flag list of a command's help, wrapped to 100
+// columns, with boolean flags shown as they are used (--force, not
+// pflag's --force[=true|false]) and the description column moved left by
+// the width that suffix took, so descriptions stay aligned.
+func flagUsages(fs *pflag.FlagSet) string {
+	const suffix = "[=true|false]"
+	text := fs.FlagUsagesWrapped(100)
+	lines := strings.Split(text, "\n")
+	// col: where descriptions start; the narrowest space before it on
+	// flag lines, with the suffix and without.
+	col, gapBefore, gapAfter := -1, -1, -1
+	for _, l := range lines {
+		if !strings.HasPrefix(strings.TrimLeft(l, " "), "-") {
+			continue
+		}
+		name, _, _ := strings.Cut(strings.TrimLeft(l, " "), " ")
+		end := strings.Index(l, name) + len(name)
+		rest := l[end:]
+		c := end + len(rest) - len(strings.TrimLeft(rest, " "))
+		if col < 0 {
+			col = c
+		}
+		trimmed := end - strings.Count(name, suffix)*len(suffix)
+		if gapBefore < 0 || c-end < gapBefore {
+			gapBefore = c - end
+		}
+		if gapAfter < 0 || c-trimmed < gapAfter {
+			gapAfter = c - trimmed
+		}
+	}
+	k := gapAfter - gapBefore
+	for i, l := range lines {
+		l = strings.Replace(l, suffix, strings.Repeat(" ", len(suffix)), 1)
+		if k > 0 && col >= k && len(l) >= col && strings.TrimSpace(l[col-k:col]) == "" {
+			l = l[:col-k] + l[col:]
+		}
+		lines[i] = l
+	}
+	return strings.Join(lines, "\n")
 }

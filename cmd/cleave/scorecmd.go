@@ -160,7 +160,7 @@ Flags:
 Exit status: 0 scored, 1 a file is missing, unreadable, of another size or
 unpaired (with --paired-only: no pair at all), 2 wrong usage (also a --tolerance above an image's diagonal).
 
-%s`, scoreExample, fs.FlagUsagesWrapped(100), caution)
+%s`, scoreExample, flagUsages(fs), caution)
 }
 
 type scoreOptions struct {

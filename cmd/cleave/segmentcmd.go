@@ -48,7 +48,7 @@ Flags:
 %s
 Exit status: 0 all images done, 1 an image failed, 2 wrong usage.
 
-%s`, segmentExample, fs.FlagUsagesWrapped(100), caution)
+%s`, segmentExample, flagUsages(fs), caution)
 }
 
 // commonFlags are the flags of segment that are not parameters.

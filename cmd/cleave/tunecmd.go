@@ -91,7 +91,7 @@ the best mean score so far; on a terminal one line, else one per stage.
 
 Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
 
-%s`, maxWidenings, tieRelative, 100*(costMargin-1), maxTimed-1, tuneExample, fs.FlagUsagesWrapped(100), caution)
+%s`, maxWidenings, tieRelative, 100*(costMargin-1), maxTimed-1, tuneExample, flagUsages(fs), caution)
 }
 
 // Ranges of tune's own counts: each refinement evaluates at most

@@ -48,3 +48,45 @@ func TestSegmentFolderPointsToBatch(t *testing.T) {
 		t.Errorf("exit %d, stderr %q; want a pointer to cleave batch", code, stderr)
 	}
 }
+
+// Boolean flags show in help as they are typed (--force), without pflag's
+// [=true|false], and every flag's description starts in the column of
+// the wrapped description lines.
+func TestHelpBooleanFlags(t *testing.T) {
+	for _, cmd := range []string{"segment", "batch", "tune", "score", "demo"} {
+		_, stdout, _ := runCleave(cmd, "--help")
+		if strings.Contains(stdout, "[=true|false]") {
+			t.Errorf("%s --help shows [=true|false]", cmd)
+		}
+		_, flags, ok := strings.Cut(stdout, "Flags:\n")
+		if !ok {
+			t.Fatalf("%s --help has no Flags section", cmd)
+		}
+		col := -1
+		var flagLines []string
+		for _, l := range strings.Split(flags, "\n") {
+			trimmed := strings.TrimLeft(l, " ")
+			switch {
+			case trimmed == "":
+				continue
+			case strings.HasPrefix(trimmed, "-"):
+				flagLines = append(flagLines, l)
+			case len(l)-len(trimmed) > 10 && col < 0:
+				col = len(l) - len(trimmed) // a wrapped description line
+			}
+		}
+		if col < 0 {
+			t.Fatalf("%s --help: no wrapped description line", cmd)
+		}
+		help := false
+		for _, l := range flagLines {
+			if len(l) <= col || l[col-1] != ' ' || l[col-2] != ' ' || l[col] == ' ' {
+				t.Errorf("%s --help: %q does not start its description at column %d", cmd, l, col)
+			}
+			help = help || strings.HasPrefix(strings.TrimLeft(l, " "), "-h, --help  ")
+		}
+		if !help {
+			t.Errorf("%s --help: the boolean --help is not shown as \"-h, --help\"", cmd)
+		}
+	}
+}
