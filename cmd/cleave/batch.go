@@ -865,7 +865,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 				continue
 			}
 			finished++
-			prog.add(finished, failed)
+			prog.add(finished, failed, computed+failed)
 		case <-tick.C:
 			prog.line(finished, failed)
 		}

@@ -19,6 +19,9 @@ type progress struct {
 	bar   *progressbar.ProgressBar // nil unless stderr is a terminal
 	quiet bool
 	last  int // finished count at the last plain line
+	// worked is the count of finished images that took work (see
+	// rateText).
+	worked int
 }
 
 func newProgress(w io.Writer, total int, quiet bool) *progress {
@@ -31,9 +34,7 @@ func newProgress(w io.Writer, total int, quiet bool) *progress {
 			progressbar.OptionSetWriter(w),
 			progressbar.OptionSetDescription("cleave batch"),
 			progressbar.OptionShowCount(),
-			progressbar.OptionShowIts(),
-			progressbar.OptionSetItsString("images"),
-			progressbar.OptionSetPredictTime(true),
+			progressbar.OptionSetPredictTime(false),
 			progressbar.OptionThrottle(100*time.Millisecond),
 			progressbar.OptionClearOnFinish(),
 			progressbar.OptionSetWidth(30),
@@ -42,9 +43,29 @@ func newProgress(w io.Writer, total int, quiet bool) *progress {
 	return p
 }
 
-// add is called each time an image is finished.
-func (p *progress) add(finished, failed int) {
+// rateText is the speed and the time left, or "" until they mean
+// something: the rate counts only the images that took work (worked:
+// segmented or failed, not those found up to date, which finish in
+// microseconds and would claim thousands of images a second), over the
+// time since the start, and is shown from one second on.
+func rateText(total, finished, worked int, elapsed time.Duration) string {
+	el := elapsed.Seconds()
+	if worked == 0 || el < 1 {
+		return ""
+	}
+	rate := float64(worked) / el
+	left := float64(total-finished) / rate
+	return fmt.Sprintf("%.2f images/s, about %s left", rate, (time.Duration(left) * time.Second).Round(time.Second))
+}
+
+// add is called each time an image is finished; worked counts those that
+// were segmented or failed (not found up to date).
+func (p *progress) add(finished, failed, worked int) {
+	p.worked = worked
 	if p.bar != nil {
+		if r := rateText(p.total, finished, worked, time.Since(p.start)); r != "" {
+			p.bar.Describe("cleave batch " + r)
+		}
 		_ = p.bar.Set(finished)
 	}
 }
@@ -56,12 +77,9 @@ func (p *progress) line(finished, failed int) {
 		return
 	}
 	p.last = finished
-	el := time.Since(p.start).Seconds()
 	fmt.Fprintf(p.w, "cleave batch: %d/%d images done, %d failed", finished, p.total, failed)
-	if finished > 0 && el > 0 {
-		rate := float64(finished) / el
-		left := float64(p.total-finished) / rate
-		fmt.Fprintf(p.w, ", %.2f images/s, about %s left", rate, (time.Duration(left) * time.Second).Round(time.Second))
+	if r := rateText(p.total, finished, p.worked, time.Since(p.start)); r != "" {
+		fmt.Fprintf(p.w, ", %s", r)
 	}
 	fmt.Fprintln(p.w)
 }
