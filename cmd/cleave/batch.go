@@ -90,6 +90,11 @@ Files named like truth masks, by the rule tune and score use to pair them
 (stem NAME.truth, NAME_mask or NAME_truth), are skipped the same way, with
 one line on stderr giving their count; --with-truths segments them too.
 
+A rerun with a narrower selection lists on stderr the outputs in DIR of
+the inputs that left it (or were deleted) and keeps them; --prune removes
+them (the files their records list, then the records; never a file
+cleave did not write). Not with --shard.
+
 Only cleave's own files in DIR are replaced (the records list them): a
 file in the way that cleave did not write fails its image, or for
 manifest.csv, objects.csv and report.html the run (exit 2), and is left
@@ -130,6 +135,7 @@ type batchOptions struct {
 	withTruths         bool
 	failFast, quiet    bool
 	rebuild, help      bool
+	prune              bool
 	jobs, workers      int
 	// progressEvery is the interval of the plain progress line when stderr
 	// is not a terminal.
@@ -150,6 +156,7 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 	fs.IntVarP(&o.jobs, "jobs", "j", 0, fmt.Sprintf("images processed at the same time (0 = one per core; at most %d)", maxWorkers))
 	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads per image (0 = cores divided by --jobs; at most %d); results do not depend on it", maxWorkers))
 	fs.StringVar(&o.shard, "shard", "", "I/N: process only share I (0-based) of N of the sorted file list; auto: I from SLURM_ARRAY_TASK_ID or JOB_COMPLETION_INDEX, N from CLEAVE_SHARDS")
+	fs.BoolVar(&o.prune, "prune", false, "remove the outputs in --out of inputs no longer selected (by --include, --exclude, the truth-mask rule, or deleted); without it they are listed and kept")
 	fs.BoolVar(&o.failFast, "fail-fast", false, "stop at the first image that fails")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress and no summary on stderr (errors are still printed)")
 	fs.BoolVar(&o.rebuild, "rebuild", false, "only rebuild DIR/manifest.csv, DIR/objects.csv and DIR/report.html from the records in DIR (after all shards are done)")
@@ -303,6 +310,9 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 		if p.shardI, p.shardN, err = parseShard(o.shard); err != nil {
 			return nil, err
 		}
+	}
+	if o.prune && p.shardN > 1 {
+		return nil, usagef("--prune works on the whole folder, so not with --shard %s: run it once, unsharded (or after the shards)", o.shard)
 	}
 	for _, g := range append(append([]string{}, o.include...), o.exclude...) {
 		if _, err := path.Match(g, ""); err != nil {
@@ -770,6 +780,19 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 			return exitFail
 		}
+	}
+	// Outputs of inputs that left the selection: listed, removed with
+	// --prune (an unsharded run holds the lock alone).
+	if p.shardN == 1 {
+		stale, err := staleOutputs(p.out, p.all)
+		if err == nil && p.opts.prune {
+			err = pruneStale(stale)
+		}
+		if err != nil {
+			fmt.Fprintf(stderr, "cleave batch: %v\n", err)
+			return exitFail
+		}
+		reportStale(stderr, p.out, stale, p.opts.prune)
 	}
 	idx := &batchIndex{Tool: "cleave", Version: version, InputDir: p.inputDir, Settings: p.settings, Inputs: p.all, Skipped: p.skipped, Files: []string{}}
 	if p.all == nil {
