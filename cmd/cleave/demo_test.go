@@ -21,8 +21,22 @@ func TestDemo(t *testing.T) {
 	if testing.Short() {
 		t.Skip("the demo takes about 10 s")
 	}
-	out := filepath.Join(t.TempDir(), "demo")
-	stdout := runOK(t, "demo", "--out", out)
+	// Without --out the demo writes into a new folder under the system's
+	// temporary folder ($TMPDIR, as os.TempDir reads it) and says which.
+	tmp := t.TempDir()
+	t.Setenv("TMPDIR", tmp)
+	stdout := runOK(t, "demo")
+	made, _ := filepath.Glob(filepath.Join(tmp, "cleave-demo-*"))
+	if len(made) != 1 {
+		t.Fatalf("folders made under TMPDIR: %v", made)
+	}
+	out := made[0]
+	if first, _, _ := strings.Cut(stdout, "\n"); first != "writing into "+out+" (a new folder; --out DIR chooses another)" {
+		t.Errorf("first line %q does not name the folder %s", first, out)
+	}
+	if wd, _ := os.Getwd(); fileExists(filepath.Join(wd, "cleave-demo")) {
+		t.Error("the demo wrote cleave-demo into the working folder")
+	}
 	for _, want := range []string{"== summary", "slide  3 new scenes", "plate  2 new scenes", "cross-validated", "tune.png"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("output lacks %q:\n%s", want, stdout)
@@ -55,7 +69,8 @@ func TestDemo(t *testing.T) {
 			t.Error(err)
 		}
 	}
-	// A second run into the same folder is refused without --force.
+	// A second run into the same folder, given by --out, is refused
+	// without --force.
 	var o, e bytes.Buffer
 	if code := run(context.Background(), []string{"demo", "--out", out}, &o, &e); code != exitFail || !strings.Contains(e.String(), "not empty") {
 		t.Errorf("rerun: exit %d, %q", code, e.String())
@@ -97,4 +112,9 @@ func BenchmarkDemo(b *testing.B) {
 			b.Fatalf("exit %d: %s", code, stderr.String())
 		}
 	}
+}
+
+func fileExists(p string) bool {
+	_, err := os.Stat(p)
+	return err == nil
 }

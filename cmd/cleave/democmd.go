@@ -17,9 +17,11 @@ import (
 
 const demoExample = `Example:
 
-  cleave demo --out cleave-demo
+  cleave demo
 
-then look at cleave-demo/slide/segmented/*.overlay.png and
+writes into a new folder under the system's temporary folder (it prints
+which; --out DIR chooses another). With --out cleave-demo, look at
+cleave-demo/slide/segmented/*.overlay.png and
 cleave-demo/slide/tuned/tune.png, and rerun any step by hand, e.g.
 
   cleave segment --params cleave-demo/slide/tuned/best.json --out mine cleave-demo/slide/new/slide-new-1.png
@@ -69,7 +71,7 @@ func demoFlags() (*pflag.FlagSet, *demoOptions) {
 	fs := pflag.NewFlagSet("demo", pflag.ContinueOnError)
 	fs.SortFlags = false
 	o := &demoOptions{}
-	fs.StringVarP(&o.out, "out", "o", "cleave-demo", "folder for the scenes and every output (must be new or empty, unless --force)")
+	fs.StringVarP(&o.out, "out", "o", "", "folder for the scenes and every output (must be new or empty, unless --force); default: a new folder cleave-demo-* under the system's temporary folder")
 	fs.BoolVar(&o.force, "force", false, "overwrite the outputs of an earlier demo in --out")
 	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads (0 = all cores; at most %d); results do not depend on it", maxWorkers))
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
@@ -96,6 +98,15 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if o.workers < 0 || o.workers > maxWorkers {
 		fmt.Fprintf(stderr, "cleave demo: --workers must be 0 (all cores) to %d, got %d\n", maxWorkers, o.workers)
 		return exitUsage
+	}
+	if o.out == "" {
+		dir, err := os.MkdirTemp("", "cleave-demo-")
+		if err != nil {
+			fmt.Fprintf(stderr, "cleave demo: cannot make a folder under the temporary folder %s: %v (use --out DIR)\n", os.TempDir(), describeErr(err))
+			return exitFail
+		}
+		o.out = dir
+		fmt.Fprintf(stdout, "writing into %s (a new folder; --out DIR chooses another)\n", dir)
 	}
 	if ents, err := os.ReadDir(o.out); err == nil && len(ents) > 0 && !o.force {
 		fmt.Fprintf(stderr, "cleave demo: %s is not empty (use --force to overwrite an earlier demo, or another --out)\n", o.out)
