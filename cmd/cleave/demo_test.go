@@ -89,7 +89,7 @@ func TestNewCommandsHelp(t *testing.T) {
 	for _, c := range []struct{ cmd, example string }{
 		{"score", "cleave score results/nuclei-1.labels.png"},
 		{"tune", "cleave tune --images examples/nuclei"},
-		{"demo", "cleave demo --out cleave-demo"},
+		{"demo", "writes into a new folder under the system's temporary folder"},
 	} {
 		for _, args := range [][]string{{"help", c.cmd}, {c.cmd, "--help"}} {
 			out := runOK(t, args...)
