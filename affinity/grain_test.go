@@ -11,6 +11,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // TestEstimateGrainGratings checks the structure tensor on images whose
@@ -102,7 +104,7 @@ for axis in (1, 0):
 	out, err := cmd.Output()
 	if err != nil {
 		if strings.Contains(stderr.String(), "ModuleNotFoundError") || errors.Is(err, exec.ErrNotFound) || errors.Is(err, os.ErrNotExist) {
-			t.Skipf("SKIPPED: scipy is missing; install Debian's python3-scipy to compare RemoveGrain with scipy.ndimage (%v: %s)", err, stderr.String())
+			loudskip.Skip(t, "scipy is missing; install Debian's python3-scipy to compare RemoveGrain with scipy.ndimage (%v: %s)", err, stderr.String())
 		}
 		t.Fatalf("scipy: %v\n%s", err, stderr.String())
 	}

@@ -14,6 +14,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // discGrid draws a g x g grid of discs of radius r, centres 4r apart, on an
@@ -263,7 +265,7 @@ func TestObjectScaleSkimage(t *testing.T) {
 	out, err := cmd.Output()
 	if err != nil {
 		if strings.Contains(stderr.String(), "ModuleNotFoundError") || errors.Is(err, exec.ErrNotFound) || errors.Is(err, os.ErrNotExist) {
-			t.Skipf("SKIPPED: scikit-image is missing; install Debian's python3-skimage to compare with blob_log (%v: %s)", err, stderr.String())
+			loudskip.Skip(t, "scikit-image is missing; install Debian's python3-skimage to compare with blob_log (%v: %s)", err, stderr.String())
 		}
 		t.Fatalf("blob_log.py: %v\n%s", err, stderr.String())
 	}

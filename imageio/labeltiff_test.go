@@ -12,6 +12,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // debianPython is Debian's interpreter: its python3-tifffile is the
@@ -29,7 +31,7 @@ func runPython(t *testing.T, pkg, script string, args ...string) []byte {
 	out, err := cmd.Output()
 	if err != nil {
 		if strings.Contains(stderr.String(), "ModuleNotFoundError") || errors.Is(err, exec.ErrNotFound) || errors.Is(err, os.ErrNotExist) {
-			t.Skipf("SKIPPED: %s is missing; install Debian's %s to run this cross-check (%v: %s)", pkg, pkg, err, stderr.String())
+			loudskip.Skip(t, "%s is missing; install Debian's %s to run this cross-check (%v: %s)", pkg, pkg, err, stderr.String())
 		}
 		t.Fatalf("%s: %v\n%s", debianPython, err, stderr.String())
 	}

@@ -10,6 +10,8 @@ import (
 	"os/exec"
 	"path/filepath"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // tiffdata holds the variants testdata/tiff/make.py writes with
@@ -195,14 +197,14 @@ json.dump(out, sys.stdout)
 `
 	for _, name := range []string{"multipage.tif", "multipage_rgb.tif", "chessboard_GRAY_U16.tif", "chessboard_GRAY_U16B.tif"} {
 		if _, err := os.Stat(dir + name); err != nil {
-			t.Skipf("SKIPPED: scikit-image data not installed (apt-get install python3-skimage): %v", err)
+			loudskip.Skip(t, "scikit-image data not installed (apt-get install python3-skimage): %v", err)
 		}
 		cmd := exec.Command("/usr/bin/python3", "-c", script, dir+name)
 		var stderr bytes.Buffer
 		cmd.Stderr = &stderr
 		outb, err := cmd.Output()
 		if err != nil {
-			t.Skipf("SKIPPED: Debian python3-tifffile not usable (apt-get install python3-tifffile): %v %s", err, stderr.String())
+			loudskip.Skip(t, "Debian python3-tifffile not usable (apt-get install python3-tifffile): %v %s", err, stderr.String())
 		}
 		var pages []struct {
 			Shape []int

@@ -10,6 +10,8 @@ import (
 	"os/exec"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // debianPython is the interpreter with Debian's python3-matplotlib and
@@ -50,7 +52,7 @@ func TestAgainstReferences(t *testing.T) {
 	out, err := cmd.Output()
 	if err != nil {
 		if strings.Contains(stderr.String(), "ModuleNotFoundError") || errors.Is(err, exec.ErrNotFound) || errors.Is(err, os.ErrNotExist) {
-			t.Skipf("SKIPPED: install Debian's python3-matplotlib and python3-skimage to run this cross-check (%v: %s)", err, stderr.String())
+			loudskip.Skip(t, "install Debian's python3-matplotlib and python3-skimage to run this cross-check (%v: %s)", err, stderr.String())
 		}
 		t.Fatalf("%v: %s", err, stderr.String())
 	}

@@ -21,6 +21,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // The expected outcomes in these tests come from the behaviour that issue 4
@@ -281,11 +282,7 @@ func checkReportInBrowser(t *testing.T, out string, ok, failed []string) {
 	t.Helper()
 	chromium, err := exec.LookPath("chromium")
 	if err != nil {
-		t.Log("**************************************************************")
-		t.Log("SKIPPED: chromium is not installed; report.html was NOT checked")
-		t.Log("in a browser. Install it: apt-get install -y chromium")
-		t.Log("**************************************************************")
-		t.Skip("SKIPPED: Debian chromium not installed (apt-get install -y chromium); report.html was not checked in a browser")
+		loudskip.Skip(t, "Debian chromium not installed (apt-get install -y chromium); report.html was not checked in a browser")
 	}
 	report, err := os.ReadFile(filepath.Join(out, "report.html"))
 	if err != nil {

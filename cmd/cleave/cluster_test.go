@@ -8,6 +8,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // The shipped cluster examples run for real: each task's command, with the
@@ -102,8 +104,7 @@ print(s["completions"]); print(env["SHARDS"]); print(c["command"][0]); print(c["
 	outp, err := exec.Command("python3", "-c", py, manifest).CombinedOutput()
 	if err != nil {
 		if strings.Contains(string(outp), "No module named") || strings.Contains(err.Error(), "not found") {
-			t.Log("SKIPPED: python3-yaml is missing; the Kubernetes example was NOT checked (apt-get install -y python3-yaml)")
-			t.Skip("SKIPPED: Debian python3-yaml not installed (apt-get install -y python3-yaml); the Kubernetes example was not run")
+			loudskip.Skip(t, "Debian python3-yaml not installed (apt-get install -y python3-yaml); the Kubernetes example was not run")
 		}
 		t.Fatalf("reading %s: %v: %s", manifest, err, outp)
 	}

@@ -15,6 +15,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // debianPython is Debian's interpreter, whose python3-tifffile and
@@ -32,7 +33,7 @@ func pythonJSON(t *testing.T, pkg, script string, v any, args ...string) {
 	out, err := cmd.Output()
 	if err != nil {
 		if strings.Contains(stderr.String(), "ModuleNotFoundError") || errors.Is(err, exec.ErrNotFound) || errors.Is(err, os.ErrNotExist) {
-			t.Skipf("SKIPPED: install Debian's %s to run this cross-check (%v: %s)", pkg, err, stderr.String())
+			loudskip.Skip(t, "install Debian's %s to run this cross-check (%v: %s)", pkg, err, stderr.String())
 		}
 		t.Fatalf("%s: %v\n%s", debianPython, err, stderr.String())
 	}

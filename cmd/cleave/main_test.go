@@ -1,13 +1,14 @@
 package main
 
 import (
-	"os"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // TestMain starts the test binary as main starts cleave, so that the
 // benchmarks measure the memory set-up the command runs with.
 func TestMain(m *testing.M) {
 	adviseHugePages()
-	os.Exit(m.Run())
+	loudskip.Main(m, "cmd/cleave")
 }

@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // A result the user should check is flagged on stderr, in the summary line
@@ -90,7 +92,7 @@ func TestFlagQuoted(t *testing.T) {
 func TestSegmentWarnsUnusedPages(t *testing.T) {
 	const img = "/usr/lib/python3/dist-packages/skimage/data/_blobs_3d_fiji_skeleton.tif"
 	if _, err := os.Stat(img); err != nil {
-		t.Skipf("scikit-image data not installed: %v", err)
+		loudskip.Skip(t, "scikit-image data not installed (apt-get install -y python3-skimage); the unused-pages warning was not checked: %v", err)
 	}
 	out := t.TempDir()
 	code, _, stderr := runCleave("segment", "--out", out, img)

@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // debianPython is Debian's interpreter, whose python3-scipy is the
@@ -23,7 +24,7 @@ var eigshScript = filepath.Join("..", "..", "testdata", "eigen", "eigsh_check.py
 func scipySmallest(t *testing.T, g *affinity.Graph, k int) []float64 {
 	t.Helper()
 	if err := exec.Command(debianPython, "-c", "import scipy.sparse.linalg, scipy.io").Run(); err != nil {
-		t.Skip("SKIPPED: Debian python3-scipy not installed (apt-get install -y python3-scipy); scipy cross-check did not run")
+		loudskip.Skip(t, "Debian python3-scipy not installed (apt-get install -y python3-scipy); scipy cross-check did not run")
 	}
 	path := filepath.Join(t.TempDir(), "graph.mtx")
 	f, err := os.Create(path)

@@ -14,22 +14,13 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
-// skipped collects the reference checks that could not run; TestMain
-// prints them on stderr, where plain 'go test' shows them.
-var (
-	skippedMu sync.Mutex
-	skipped   []string
-)
-
-func TestMain(m *testing.M) {
-	code := m.Run()
-	for _, s := range skipped {
-		fmt.Fprintf(os.Stderr, "segment/measure: SKIPPED %s\n", s)
-	}
-	os.Exit(code)
-}
+// TestMain prints the reference checks that could not run where plain
+// 'go test ./...' shows them (package loudskip).
+func TestMain(m *testing.M) { loudskip.Main(m, "segment/measure") }
 
 // debianPython is Debian's interpreter, whose python3-skimage is the
 // reference.
@@ -106,12 +97,7 @@ func reference(t *testing.T) []refScene {
 		refScenes = v.Scenes
 	})
 	if refSkip != "" {
-		skippedMu.Lock()
-		if !slices.Contains(skipped, refSkip) {
-			skipped = append(skipped, refSkip)
-		}
-		skippedMu.Unlock()
-		t.Skip("SKIPPED: " + refSkip)
+		loudskip.Skip(t, "%s", refSkip)
 	}
 	if refErr != "" {
 		t.Fatal(refErr)
