@@ -6,7 +6,8 @@
 // A test calls Skip instead of t.Skip; the package's TestMain calls Main,
 // which, after the tests, prints every recorded reason in a banner on the
 // go command's own standard error (the parent process's, on Linux through
-// /proc; os.Stderr elsewhere and under -v, where output is shown anyway).
+// /proc, when it is a pipe, terminal or socket; os.Stderr elsewhere and
+// under -v, where output is shown anyway).
 // It imports package testing and is meant for tests only.
 package loudskip
 
@@ -73,8 +74,13 @@ func destination() (io.Writer, func()) {
 		return os.Stderr, func() {}
 	}
 	if runtime.GOOS == "linux" {
-		if f, err := os.OpenFile(fmt.Sprintf("/proc/%d/fd/2", os.Getppid()), os.O_WRONLY|os.O_APPEND, 0); err == nil {
-			return f, func() { f.Close() }
+		// Only a pipe, terminal or socket: on a regular file the go
+		// command's own offset would later overwrite what is written here.
+		p := fmt.Sprintf("/proc/%d/fd/2", os.Getppid())
+		if st, err := os.Stat(p); err == nil && st.Mode()&(os.ModeNamedPipe|os.ModeCharDevice|os.ModeSocket) != 0 {
+			if f, err := os.OpenFile(p, os.O_WRONLY, 0); err == nil {
+				return f, func() { f.Close() }
+			}
 		}
 	}
 	return os.Stderr, func() {}
