@@ -22,6 +22,7 @@ type progress struct {
 	// worked is the count of finished images that took work (see
 	// rateText).
 	worked int
+	drawn  time.Time // when the bar was last updated
 }
 
 func newProgress(w io.Writer, total int, quiet bool) *progress {
@@ -35,7 +36,6 @@ func newProgress(w io.Writer, total int, quiet bool) *progress {
 			progressbar.OptionSetDescription("cleave batch"),
 			progressbar.OptionShowCount(),
 			progressbar.OptionSetPredictTime(false),
-			progressbar.OptionThrottle(100*time.Millisecond),
 			progressbar.OptionClearOnFinish(),
 			progressbar.OptionSetWidth(30),
 		)
@@ -63,6 +63,13 @@ func rateText(total, finished, worked int, elapsed time.Duration) string {
 func (p *progress) add(finished, failed, worked int) {
 	p.worked = worked
 	if p.bar != nil {
+		// At most ten updates a second (images found up to date finish
+		// by the thousand); the description first, then the count, each
+		// drawn at once, so the bar shows both for this image.
+		if finished < p.total && time.Since(p.drawn) < 100*time.Millisecond {
+			return
+		}
+		p.drawn = time.Now()
 		if r := rateText(p.total, finished, worked, time.Since(p.start)); r != "" {
 			p.bar.Describe("cleave batch " + r)
 		}
