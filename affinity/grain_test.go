@@ -12,7 +12,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // TestEstimateGrainGratings checks the structure tensor on images whose

@@ -15,7 +15,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // discGrid draws a g x g grid of discs of radius r, centres 4r apart, on an

@@ -13,7 +13,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // debianPython is Debian's interpreter: its python3-tifffile is the

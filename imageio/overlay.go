@@ -8,7 +8,7 @@ import (
 	"math"
 	"slices"
 
-	"github.com/cleave-seg/cleave/render"
+	"github.com/cleave-seg/cleave/imageio/render"
 )
 
 // Overlay colours. The boundary colour is a saturated amber, far from any

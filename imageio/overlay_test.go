@@ -8,7 +8,7 @@ import (
 	"math"
 	"testing"
 
-	"github.com/cleave-seg/cleave/render"
+	"github.com/cleave-seg/cleave/imageio/render"
 )
 
 func decodeRGB(t *testing.T, buf *bytes.Buffer) image.Image {

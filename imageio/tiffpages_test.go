@@ -5,7 +5,7 @@ import (
 	"os"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // Page counts of TIFF files written by other software: scikit-image's

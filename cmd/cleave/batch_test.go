@@ -20,8 +20,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/examples/scenes"
-	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // The expected outcomes in these tests come from the behaviour that issue 4

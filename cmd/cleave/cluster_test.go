@@ -9,7 +9,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // The shipped cluster examples run for real: each task's command, with the

@@ -14,8 +14,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/internal/loudskip"
 )
 
 // debianPython is Debian's interpreter, whose python3-tifffile and

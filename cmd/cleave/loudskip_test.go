@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // skipLoudly skips t and says so where a plain 'go test ./...' shows it:

@@ -3,7 +3,7 @@ package main
 import (
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // TestMain starts the test binary as main starts cleave, so that the

@@ -13,7 +13,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/render"
+	"github.com/cleave-seg/cleave/imageio/render"
 )
 
 func decodePNG(t *testing.T, p string) image.Image {

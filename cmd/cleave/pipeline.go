@@ -16,7 +16,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/render"
+	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/measure"
 )

@@ -7,7 +7,7 @@ import (
 	"math"
 	"strings"
 
-	"github.com/cleave-seg/cleave/render"
+	"github.com/cleave-seg/cleave/imageio/render"
 )
 
 // Heatmap size in pixels (render's).

@@ -7,7 +7,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // A result the user should check is flagged on stderr, in the summary line

@@ -3,7 +3,7 @@ package eigen
 import (
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // TestMain prints the reference checks that could not run where plain

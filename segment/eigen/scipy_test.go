@@ -10,7 +10,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // debianPython is Debian's interpreter, whose python3-scipy is the

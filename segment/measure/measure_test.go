@@ -15,7 +15,7 @@ import (
 	"sync"
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 // TestMain prints the reference checks that could not run where plain

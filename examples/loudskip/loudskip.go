@@ -98,7 +98,7 @@ func uncacheable() {
 	if err != nil {
 		return
 	}
-	if err := os.WriteFile(p, []byte("a reference check was skipped; see internal/loudskip\n"), 0o644); err != nil {
+	if err := os.WriteFile(p, []byte("a reference check was skipped; see examples/loudskip\n"), 0o644); err != nil {
 		return
 	}
 	ahead := time.Now().Add(24 * time.Hour)

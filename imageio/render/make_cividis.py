@@ -4,7 +4,7 @@
 for color vision deficiency", PLoS ONE 13(7): e0199239), as Debian's
 python3-matplotlib ships it (matplotlib/_cm_listed.py, _cividis_data).
 
-Run: /usr/bin/python3 render/make_cividis.py > render/cividis.go
+Run: /usr/bin/python3 imageio/render/make_cividis.py > imageio/render/cividis.go
 """
 from matplotlib import _cm_listed
 

@@ -5,7 +5,7 @@ package skipper
 import (
 	"testing"
 
-	"github.com/cleave-seg/cleave/internal/loudskip"
+	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
 func TestMain(m *testing.M) { loudskip.Main(m, "skipper") }
