@@ -922,7 +922,16 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		if warned > 0 {
 			fmt.Fprintf(stderr, ", %d with warnings to check (see the report)", warned)
 		}
-		if n := len(p.skipped); n == 1 {
+		truths := 0
+		for _, sk := range p.skipped {
+			if sk.Reason == truthSkipReason {
+				truths++
+			}
+		}
+		if truths > 0 {
+			fmt.Fprintf(stderr, ", %s skipped", plural(truths, "truth mask"))
+		}
+		if n := len(p.skipped) - truths; n == 1 {
 			fmt.Fprint(stderr, ", 1 other entry skipped")
 		} else if n > 1 {
 			fmt.Fprintf(stderr, ", %d other entries skipped", n)

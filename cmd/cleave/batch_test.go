@@ -844,6 +844,10 @@ func TestBatchSkipsTruths(t *testing.T) {
 	if n := strings.Count(stderr, "named like truth masks"); n != 1 || !strings.Contains(stderr, "skipped 2 files named like truth masks") {
 		t.Errorf("stderr says %d times, want one line with the count 2:\n%s", n, stderr)
 	}
+	// The summary counts them as truth masks, not as other entries.
+	if !strings.Contains(stderr, ", 2 truth masks skipped in ") || strings.Contains(stderr, "other entries skipped") {
+		t.Errorf("summary line does not count the 2 truth masks apart:\n%s", stderr)
+	}
 	if strings.Contains(stderr, "skipped "+filepath.Join(in, truths[0])) {
 		t.Errorf("truth files named one by one on stderr:\n%s", stderr)
 	}
