@@ -8,18 +8,16 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
-// The shipped cluster examples run for real: each task's command, with the
+// The shipped Slurm script runs for real: each task's command, with the
 // task index the scheduler would set, calls this test binary as cleave
 // (through TestBatchHelperProcess); after all tasks, --rebuild must find
-// every input ok. The index variables are the documented ones: Slurm's
-// SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN, SLURM_ARRAY_TASK_MAX and
-// SLURM_ARRAY_TASK_COUNT (sbatch(1), OUTPUT ENVIRONMENT VARIABLES) and
-// Kubernetes' JOB_COMPLETION_INDEX for Indexed Jobs (Kubernetes
-// documentation, Jobs, completion mode).
+// every input ok. TestClusterSlurmReal runs it on a real cluster; the
+// Kubernetes manifests are checked in examples/cluster. The index
+// variables are the documented ones: Slurm's SLURM_ARRAY_TASK_ID,
+// SLURM_ARRAY_TASK_MIN, SLURM_ARRAY_TASK_MAX and SLURM_ARRAY_TASK_COUNT
+// (sbatch(1), OUTPUT ENVIRONMENT VARIABLES).
 
 // fakeCleave puts a "cleave" on PATH that runs this test binary's helper.
 func fakeCleave(t *testing.T) []string {
@@ -86,48 +84,6 @@ func TestClusterSlurmArray(t *testing.T) {
 		}
 	}
 	checkRebuilt(t, out, good)
-}
-
-func TestClusterKubernetesIndexedJob(t *testing.T) {
-	if testing.Short() {
-		t.Skip("end-to-end")
-	}
-	// Debian's python3-yaml reads the manifest.
-	manifest, _ := filepath.Abs(filepath.Join("..", "..", "examples", "cluster", "k8s-indexed-job.yaml"))
-	py := `import sys, yaml
-d = yaml.safe_load(open(sys.argv[1]))
-s = d["spec"]; c = s["template"]["spec"]["containers"][0]
-env = {e["name"]: e["value"] for e in c.get("env", [])}
-assert s["completionMode"] == "Indexed", s
-print(s["completions"]); print(env["SHARDS"]); print(c["command"][0]); print(c["command"][1]); print(c["args"][0])
-`
-	outp, err := exec.Command("python3", "-c", py, manifest).CombinedOutput()
-	if err != nil {
-		if strings.Contains(string(outp), "No module named") || strings.Contains(err.Error(), "not found") {
-			loudskip.Skip(t, "Debian python3-yaml not installed (apt-get install -y python3-yaml); the Kubernetes example was not run")
-		}
-		t.Fatalf("reading %s: %v: %s", manifest, err, outp)
-	}
-	f := strings.SplitN(strings.TrimSpace(string(outp)), "\n", 5)
-	if len(f) != 5 || f[0] != f[1] {
-		t.Fatalf("completions and SHARDS must agree: %q", f)
-	}
-	n, _ := strconv.Atoi(f[0])
-	data, in, good := clusterData(t)
-	// The pod's /data is the test's data folder, with the images in it.
-	if err := os.Rename(in, filepath.Join(data, "images")); err != nil {
-		t.Fatal(err)
-	}
-	command := strings.ReplaceAll(f[4], "/data/", data+"/")
-	env := fakeCleave(t)
-	for i := range n {
-		cmd := exec.Command(f[2], f[3], command)
-		cmd.Env = append(env, "SHARDS="+f[1], "JOB_COMPLETION_INDEX="+strconv.Itoa(i))
-		if msg, err := cmd.CombinedOutput(); err != nil {
-			t.Fatalf("index %d: %v: %s", i, err, msg)
-		}
-	}
-	checkRebuilt(t, filepath.Join(data, "results"), good)
 }
 
 // scriptShards reads SHARDS=N from the script.
