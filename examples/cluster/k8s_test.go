@@ -21,6 +21,7 @@ import (
 	"syscall"
 	"testing"
 
+	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/examples/scenes"
 	batchv1 "k8s.io/api/batch/v1"
 	corev1 "k8s.io/api/core/v1"
@@ -190,7 +191,7 @@ func TestPodWithoutShell(t *testing.T) {
 		t.Skip("builds the command")
 	}
 	if os.Geteuid() != 0 {
-		t.Skip("SKIPPED: not root: the pod command needs chroot and a change of user; only the manifests were checked")
+		loudskip.Skip(t, "not root: the pod command needs chroot and a change of user; only the manifests were checked")
 	}
 	m := loadManifests(t)
 	c := m.job.Spec.Template.Spec.Containers[0]
