@@ -22,10 +22,12 @@
 # shell's environment, --export=ALL), or set CLEAVE to the binary's path:
 # --export=ALL,CLEAVE=/shared/bin/cleave,...
 #
-# Sizing (measured, see examples/cluster/README.md): cleave holds about
-# 100 MB per megapixel of the image being segmented, and each of --jobs
-# images is held at once; a task needs --mem of at least
-# jobs x per-image peak plus a little. --jobs follows --cpus-per-task.
+# Sizing (measured, see examples/cluster/README.md, Sizing): about 130 MB
+# per megapixel for each image held at once (--jobs of them, set to
+# --cpus-per-task below), about 9 core-seconds per megapixel per image.
+# Ask --mem of 1.5 x jobs x 130 MB x megapixels: 2G suits 2 jobs of images
+# up to 2048 x 2048; --time of images per task x megapixels x 9 s /
+# cpus-per-task, doubled.
 #
 #SBATCH --job-name=cleave-batch
 #SBATCH --array=0-15
