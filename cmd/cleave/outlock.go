@@ -66,7 +66,29 @@ func (e *lockedError) Error() string {
 // and the shard is refused). When shards already hold it, the shard adds
 // its line to theirs; lines of shards that have ended stay until the next
 // holder that is alone clears them.
+//
+// Shards of a job array start together, and one may meet another in the
+// moment between its exclusive and its shared lock: a shard that is
+// refused tries again every 20 ms for up to shardLockPatience, and only
+// then gives up (an unsharded run or a rebuild holds the lock for much
+// longer).
 func lockOut(dir string, exclusive bool, what string) (*outLock, error) {
+	deadline := time.Now().Add(shardLockPatience)
+	for {
+		l, err := lockOutOnce(dir, exclusive, what)
+		var le *lockedError
+		if exclusive || !errors.As(err, &le) || time.Now().After(deadline) {
+			return l, err
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+}
+
+// shardLockPatience bounds how long a shard retries a refused lock.
+const shardLockPatience = 5 * time.Second
+
+// lockOutOnce is one attempt of lockOut.
+func lockOutOnce(dir string, exclusive bool, what string) (*outLock, error) {
 	p := filepath.Join(dir, lockName)
 	// A link placed at the lock file's name is not followed: the lock file
 	// is truncated, and that must never reach a file outside --out.
