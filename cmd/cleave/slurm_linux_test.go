@@ -27,7 +27,8 @@ import (
 // full array with the rebuild as a dependent job (afterany), the outputs of
 // two tasks removed as if they never ran, those two tasks resubmitted
 // (--array=3,7) and one finished task resubmitted alone (--array=5), the
-// rebuild again; every output is then compared with one plain
+// rebuild again, then the whole array and the rebuild once more; every
+// output is then compared with one plain
 // 'cleave batch' run byte for byte, except what legitimately differs:
 // the per-stage "seconds" of each STEM.json record, the seconds column of
 // manifest.csv and its cell in report.html (timings), the date report.html
@@ -151,6 +152,21 @@ func TestClusterSlurmReal(t *testing.T) {
 	}
 	if code := c.exitCodes(t, rb2)[-1]; code != exitFail {
 		t.Errorf("second rebuild exited %d, want 1 (corrupt inputs)", code)
+	}
+
+	// 3. The whole array again: nothing to compute but the corrupt inputs,
+	// which are tried again and fail again.
+	again := c.sbatch(t, export, "--output="+logs+"/again-%A_%a.log", script)
+	rb3 := c.sbatch(t, "--dependency=afterany:"+again, export, "--output="+logs+"/rebuild3-%j.log", rebuild)
+	c.wait(t, again, rb3)
+	for task := range shards {
+		log, _ := os.ReadFile(filepath.Join(logs, fmt.Sprintf("again-%s_%d.log", again, task)))
+		if !strings.Contains(string(log), ": 0 computed now") {
+			t.Errorf("task %d of the repeated array computed something:\n%s", task, log)
+		}
+	}
+	if code := c.exitCodes(t, rb3)[-1]; code != exitFail {
+		t.Errorf("third rebuild exited %d, want 1 (corrupt inputs)", code)
 	}
 	compareBatchTrees(t, ref, out)
 }

@@ -1,0 +1,9 @@
+package cluster_test
+
+import (
+	"testing"
+
+	"github.com/cleave-seg/cleave/examples/loudskip"
+)
+
+func TestMain(m *testing.M) { loudskip.Main(m, "examples/cluster") }
