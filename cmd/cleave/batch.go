@@ -110,9 +110,9 @@ none removes another's temporary files. --shard auto takes I from the
 scheduler, SLURM_ARRAY_TASK_ID (Slurm job array) or JOB_COMPLETION_INDEX
 (Kubernetes Indexed Job), and N from CLEAVE_SHARDS, which the submitter
 sets to the size of the whole array; a missing or malformed variable,
-both indices set, or an index outside 0 to N-1 exits 2. Shards write no manifest, objects
-table or report: run 'cleave batch --rebuild DIR' when all are done; it also removes
-the temporary files of killed shards.
+both indices set, or an index outside 0 to N-1 exits 2. Shards write no
+manifest, objects table or report: run 'cleave batch --rebuild DIR' when
+all are done; it also removes the temporary files of killed shards.
 
 %s
 Flags:
