@@ -3,6 +3,8 @@ package segment
 import (
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/affinity"
 )
 
 // contrastMap returns |I/B - 1| per pixel, the contrast against the
@@ -351,18 +353,78 @@ func objectPixels(labels []int32, w, h, n int) ([]box, [][]int) {
 // to 1.8.
 const edgeRatio = 2
 
+// diffuseScale is σ_c, the coarse scale (pixels) at which edgeless and
+// ringObjects measure the edge energy a second time to estimate how wide
+// an outline's edge is: four times affinity.ContourScale (1.5 px), wider
+// than the blur of an object's border by the optics (a point spread of
+// 1-4 px, out of focus included) and narrower than the changes of
+// out-of-focus light (a glow, the ghost of an object in another focal
+// plane, a vignetting ramp), which take tens of pixels.
+const diffuseScale = 4 * affinity.ContourScale
+
+// diffuseRatio is the largest ratio E(σ_c)/E(σ_f) of the
+// scale-normalized edge energies (affinity.EdgeEnergy) at diffuseScale
+// and at affinity.ContourScale along an outline that still counts as an
+// edge. For a step blurred by a Gaussian of width σ_e the normalized
+// gradient magnitude at the step is σ·A/√(2π(σ²+σ_e²)) at filter scale
+// σ (Lindeberg 1998, edge detection with automatic scale selection), so
+//
+//	ρ(σ_e) = (σ_c/σ_f) · √(σ_f² + σ_e²) / √(σ_c² + σ_e²),
+//
+// close to 1 for a sharp step and growing toward σ_c/σ_f = 4 as the
+// edge widens. The bound is ρ at σ_e = σ_c, an edge as wide as the
+// coarse scale: √((σ_f² + σ_c²)/2)/σ_f ≈ 2.92.
+var diffuseRatio = math.Sqrt((affinity.ContourScale*affinity.ContourScale+diffuseScale*diffuseScale)/2) / affinity.ContourScale
+
+// edgeTest decides whether an outline carries an edge: the median of the
+// fine edge energy over its pixels reaches floor (edgeFloor), and, when
+// coarse (the energy at diffuseScale) is known, the edge is not diffuse:
+// median coarse / median fine is at most diffuseRatio.
+type edgeTest struct {
+	fine, coarse []float32
+	floor        float64
+}
+
+// outline collects the fine and coarse energies of an outline pixel.
+type outlineEnergy struct{ fine, coarse []float64 }
+
+func (o *outlineEnergy) add(t *edgeTest, i int) {
+	o.fine = append(o.fine, float64(t.fine[i]))
+	if t.coarse != nil {
+		o.coarse = append(o.coarse, float64(t.coarse[i]))
+	}
+}
+
+func (o *outlineEnergy) reset() { o.fine, o.coarse = o.fine[:0], o.coarse[:0] }
+
+// edge reports whether the outline o carries an edge (see edgeTest).
+func (t *edgeTest) edge(o *outlineEnergy) bool {
+	if len(o.fine) == 0 {
+		return true
+	}
+	f := kthSmallest(o.fine, len(o.fine)/2)
+	if f < t.floor {
+		return false
+	}
+	if t.coarse == nil || len(o.coarse) == 0 {
+		return true
+	}
+	return kthSmallest(o.coarse, len(o.coarse)/2) <= diffuseRatio*f
+}
+
 // edgeless marks the objects (labels 1..n, 0 background) with no
-// boundary: the median edge energy (EdgeEnergy of the luminance) over
-// their outline pixels, those with a 4-neighbour of another label, is
-// below floor (edgeFloor of the energy). A smooth hill of glow
-// or haze that stands above its surroundings has no edge anywhere on its
-// outline; an object, however faint, has one. It returns nil when no
-// object is marked.
-func edgeless(labels []int32, n int, energy []float32, floor float64, w, h int) []bool {
+// boundary: over their outline pixels, those with a 4-neighbour of
+// another label, the median edge energy (EdgeEnergy of the luminance) is
+// below the floor (edgeFloor of the energy), or the edge is diffuse (see
+// edgeTest). A smooth hill of glow or haze that stands above its
+// surroundings has no edge anywhere on its outline, or one as wide as
+// the glow; an object, however faint, has a sharp one. It returns nil
+// when no object is marked.
+func edgeless(labels []int32, n int, t *edgeTest, w, h int) []bool {
 	if n == 0 {
 		return nil
 	}
-	outline := make([][]float64, n+1)
+	outline := make([]outlineEnergy, n+1)
 	for i, l := range labels {
 		if l <= 0 {
 			continue
@@ -374,12 +436,12 @@ func edgeless(labels []int32, n int, energy []float32, floor float64, w, h int) 
 			}
 		})
 		if edge {
-			outline[l] = append(outline[l], float64(energy[i]))
+			outline[l].add(t, i)
 		}
 	}
 	var drop []bool
 	for l := 1; l <= n; l++ {
-		if v := outline[l]; len(v) > 0 && kthSmallest(v, len(v)/2) < floor {
+		if len(outline[l].fine) > 0 && !t.edge(&outline[l]) {
 			if drop == nil {
 				drop = make([]bool, n+1)
 			}

@@ -188,7 +188,7 @@ func TestEdgeless(t *testing.T) {
 		}
 	}
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	drop := edgeless(labels, 2, energy, edgeFloor(energy), w, h)
+	drop := edgeless(labels, 2, &edgeTest{fine: energy, floor: edgeFloor(energy)}, w, h)
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
 	}
@@ -256,6 +256,83 @@ func TestJoinTouching(t *testing.T) {
 		_, n := joinTouching(con, labels, 2, w, h)
 		if n != c.want {
 			t.Errorf("border contrast %v: %d objects, want %d", c.seam, n, c.want)
+		}
+	}
+}
+
+// A sharp disc and a disc blurred by a Gaussian of σ 8 px, both 0.4 above
+// a background with 3 % noise and labelled where they exceed half their
+// height: both outlines pass the edge floor (the blurred step's slope,
+// 0.4/(8√(2π)) per pixel, gives an energy of about 0.03 at σ = 1.5, well
+// above the noise), but the blurred one's edge is as wide as the coarse
+// scale (ratio ρ(8) ≈ 3.1 > diffuseRatio, closed form of diffuseRatio),
+// so only it is marked once the coarse energy is given.
+func TestEdgelessDiffuse(t *testing.T) {
+	const w, h = 200, 100
+	r := rand.New(rand.NewPCG(4, 4))
+	lum := make([]float32, w*h)
+	labels := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			v := 0.2
+			dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
+			if dx*dx+dy*dy < 20*20 {
+				v += 0.4
+				labels[i] = 1
+			}
+			// The blurred disc: radius 20, its profile across the rim
+			// the normal CDF of σ 8 (a blurred step, as the rim is
+			// nearly straight at this radius).
+			d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
+			b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
+			v += b
+			if b > 0.2 {
+				labels[i] = 2
+			}
+			lum[i] = float32(v + 0.03*r.NormFloat64())
+		}
+	}
+	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
+	if drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
+		t.Fatalf("without the coarse energy: %v marked, want none", drop)
+	}
+	coarse := affinity.EdgeEnergy(lum, w, h, diffuseScale, 1)
+	drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse}, w, h)
+	if drop == nil || drop[1] || !drop[2] {
+		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
+	}
+}
+
+// The ratio of EdgeEnergy at diffuseScale and at ContourScale at a
+// straight step blurred by a Gaussian of width σ_e follows the closed
+// form ρ(σ_e) = (σ_c/σ_f)·√(σ_f²+σ_e²)/√(σ_c²+σ_e²) of diffuseRatio
+// (the scale-normalized gradient of a blurred step, Lindeberg 1998),
+// and diffuseRatio is ρ(σ_c). Measured at the step (the Hessian term of
+// EdgeEnergy vanishes there), within 3 % for the sampled kernels.
+func TestDiffuseRatio(t *testing.T) {
+	const w, h = 160, 40
+	sf, sc := affinity.ContourScale, diffuseScale
+	rho := func(se float64) float64 { return sc / sf * math.Sqrt(sf*sf+se*se) / math.Sqrt(sc*sc+se*se) }
+	if math.Abs(diffuseRatio-rho(sc)) > 1e-12 {
+		t.Fatalf("diffuseRatio %v, want ρ(σ_c) = %v", diffuseRatio, rho(sc))
+	}
+	for _, se := range []float64{2, 4, 6, 10} {
+		lum := make([]float32, w*h)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				// Step at x = 80 (between pixels 79 and 80, centres at
+				// x+0.5), blurred: the normal CDF via erf.
+				lum[y*w+x] = float32(0.2 + 0.5*0.5*(1+math.Erf((float64(x)+0.5-80)/(se*math.Sqrt2))))
+			}
+		}
+		ef := affinity.EdgeEnergy(lum, w, h, sf, 1)
+		ec := affinity.EdgeEnergy(lum, w, h, sc, 1)
+		// The step lies between pixels 79 and 80: average the two.
+		i, j := (h/2)*w+79, (h/2)*w+80
+		got := float64(ec[i]+ec[j]) / float64(ef[i]+ef[j])
+		if want := rho(se); math.Abs(got-want) > 0.03*want {
+			t.Errorf("σ_e %v: ratio %.3f, want %.3f", se, got, want)
 		}
 	}
 }

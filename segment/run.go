@@ -690,13 +690,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
-			floor := edgeFloor(energy)
+			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: affinity.EdgeEnergy(in.Luminance, w, h, diffuseScale, p.Workers)}
 			con := contrastMap(in.Luminance, field)
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
-			// Objects with no edge on their outline are shading (a glow,
-			// haze): their regions join the background, which is then
-			// estimated again with them.
-			if drop := edgeless(obj, nobj, energy, floor, w, h); drop != nil {
+			// Objects with no edge on their outline, or only a diffuse
+			// one, are shading (a glow, haze): their regions join the
+			// background, which is then estimated again with them.
+			if drop := edgeless(obj, nobj, edges, w, h); drop != nil {
 				for i, l := range obj {
 					if drop[l] {
 						cls[reg[i]] = bg
@@ -724,7 +724,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			res.Labels, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
 			short.merge(ref.short)
-			if drop := edgeless(res.Labels, res.NumObjects, energy, floor, w, h); drop != nil {
+			if drop := edgeless(res.Labels, res.NumObjects, edges, w, h); drop != nil {
 				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
 			res.Labels, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, w, h, max(p.MinArea, 1))
