@@ -190,6 +190,50 @@ func asBackground(cls []int32, C int, background string) []int32 {
 	return cls
 }
 
+// rejudge groups again the regions marked in dropped (regions of objects
+// that went back to the background as shading, see edgeless) after the
+// background field has been estimated with them in it: each region r
+// gets the score s_r = log of the mean of I/B over its pixels, clamped
+// to the background's side (backgroundSide), and the scores of all
+// regions are split as in groupClasses (Otsu's threshold, weighted by
+// area, with the noise rule of noiseBound, the noise measured on the
+// background pixels of the new grouping). Only the dropped regions may
+// change class; the others keep theirs. A nucleus that touched a glow
+// the first grouping took for an object went to the background with the
+// glow (they were one object without an edge on its outline as a whole);
+// against a field that now follows the glow it stands out again, while
+// the glow scores near 0. It reports whether any region changed.
+func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg int32, background string) bool {
+	if background != "dark" && background != "bright" {
+		return false
+	}
+	n := len(cls)
+	st := statsOf([][]float32{lum}, reg, n)
+	sum := make([]float64, n)
+	ref := make([]bool, len(reg))
+	for i, r := range reg {
+		sum[r] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
+		ref[i] = cls[r] == bg
+	}
+	score := make([]float64, n)
+	for r := range score {
+		if st.area[r] > 0 {
+			score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
+		}
+	}
+	backgroundSide(score, background)
+	next := asBackground(split1D(score, st.area, 2, 0), 2, background)
+	next = noiseBound(next, score, lum, field, ref, background)
+	changed := false
+	for r := range cls {
+		if dropped[r] && next[r] != bg {
+			cls[r] = next[r]
+			changed = true
+		}
+	}
+	return changed
+}
+
 // detectSigmas is k in the detection rule "brighter (darker) than the
 // local background by more than k noise standard deviations", common
 // practice for spot and object detection in fluorescence microscopy

@@ -104,3 +104,48 @@ func TestKthSmallest(t *testing.T) {
 		}
 	}
 }
+
+// Regions that went back to the background with a glow are judged again
+// against a field that follows the glow: a disc 0.8 on a glow of 0.5
+// (I/B 1.6) comes back as an object, the glow itself (I/B 1) does not,
+// and a region that was not dropped keeps its class whatever its score.
+// The background (region 0) has 5 % pixel noise, so the noise rule's
+// bound is about log(1.15).
+func TestRejudge(t *testing.T) {
+	const w, h = 64, 64
+	rng := rand.New(rand.NewPCG(1, 2))
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	reg := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			b := 0.2
+			switch {
+			case x >= 30 && x < 60 && y >= 10 && y < 40:
+				b = 0.5
+				reg[i] = 1 // the glow
+			case x < 10 && y < 10:
+				reg[i] = 3 // a bright patch that was not dropped
+			}
+			v := b
+			if x >= 40 && x < 50 && y >= 20 && y < 30 {
+				v = 0.8
+				reg[i] = 2 // the disc inside the glow
+			}
+			if reg[i] == 3 {
+				v = 0.6
+			}
+			lum[i] = float32(v * (1 + 0.05*rng.NormFloat64()))
+			field[i] = float32(b)
+		}
+	}
+	cls := []int32{0, 0, 0, 0}
+	dropped := []bool{false, true, true, false}
+	if !rejudge(cls, dropped, lum, field, reg, 0, "dark") {
+		t.Fatal("rejudge changed nothing")
+	}
+	if want := []int32{0, 0, 1, 0}; cls[0] != want[0] || cls[1] != want[1] || cls[2] != want[2] || cls[3] != want[3] {
+		t.Errorf("classes %v, want %v", cls, want)
+	}
+}

@@ -695,15 +695,32 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			// Objects with no edge on their outline, or only a diffuse
 			// one, are shading (a glow, haze): their regions join the
-			// background, which is then estimated again with them.
-			if drop := edgeless(obj, nobj, edges, w, h); drop != nil {
+			// background, which is then estimated again with them. The
+			// regions that went with the
+			// shading are judged again against the corrected background
+			// (rejudge): an object that touched the glow stands out from
+			// it once the glow is background. What comes back is tested
+			// for an edge again and dropped for good when it has none.
+			for round := 0; round < 2; round++ {
+				drop := edgeless(obj, nobj, edges, w, h)
+				if drop == nil {
+					break
+				}
+				dropped := make([]bool, nreg)
 				for i, l := range obj {
 					if drop[l] {
 						cls[reg[i]] = bg
+						dropped[reg[i]] = true
 					}
 				}
 				field = backgroundField()
 				con = contrastMap(in.Luminance, field)
+				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 || !rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background) {
+					break
+				}
+				field = backgroundField()
+				con = contrastMap(in.Luminance, field)
+				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			}
 			if nodeOf != nil && p.Classes == 2 {
 				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
