@@ -722,6 +722,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				con = contrastMap(in.Luminance, field)
 				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			}
+			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, w, h, reg, cls, bg, p.Background) {
+				field = backgroundField()
+				con = contrastMap(in.Luminance, field)
+			}
 			if nodeOf != nil && p.Classes == 2 {
 				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 			}
