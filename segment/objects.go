@@ -376,17 +376,42 @@ const diffuseScale = 4 * affinity.ContourScale
 // coarse scale: √((σ_f² + σ_c²)/2)/σ_f ≈ 2.92.
 var diffuseRatio = math.Sqrt((affinity.ContourScale*affinity.ContourScale+diffuseScale*diffuseScale)/2) / affinity.ContourScale
 
+// sourceRatio: an object that differs from its background by more than
+// this factor (I/B above it on a dark background, below its inverse on
+// a bright one) is a source of its own whatever its edge. Shading, the
+// out-of-focus light the diffuse test is for, changes the background by
+// a fraction of its own level; a diffuse object twice as bright as the
+// sky around it (a galaxy in scikit-image's hubble_deep_field.jpg, whose
+// large elliptical galaxies have edges as wide as the coarse scale) or
+// half as bright as a lit surface is not shading.
+const sourceRatio = 2
+
 // edgeTest decides whether an outline carries an edge: the median of the
 // fine edge energy over its pixels reaches floor (edgeFloor), and, when
 // coarse (the energy at diffuseScale) is known, the edge is not diffuse:
-// median coarse / median fine is at most diffuseRatio.
+// median coarse / median fine is at most diffuseRatio, unless the
+// object's median contrast con = |I/B - 1| (contrastMap, when set)
+// exceeds source (sourceContrast): the object is then a source.
 type edgeTest struct {
 	fine, coarse []float32
 	floor        float64
+	con          []float64
+	source       float64
 }
 
-// outline collects the fine and coarse energies of an outline pixel.
-type outlineEnergy struct{ fine, coarse []float64 }
+// sourceContrast is the contrast |I/B - 1| of an object sourceRatio
+// times brighter than a dark background, or sourceRatio times darker
+// than a bright one.
+func sourceContrast(background string) float64 {
+	if background == "bright" {
+		return 1 - 1.0/sourceRatio
+	}
+	return sourceRatio - 1
+}
+
+// outlineEnergy collects the fine and coarse energies of an object's
+// outline pixels and the contrast of all its pixels.
+type outlineEnergy struct{ fine, coarse, con []float64 }
 
 func (o *outlineEnergy) add(t *edgeTest, i int) {
 	o.fine = append(o.fine, float64(t.fine[i]))
@@ -395,7 +420,13 @@ func (o *outlineEnergy) add(t *edgeTest, i int) {
 	}
 }
 
-func (o *outlineEnergy) reset() { o.fine, o.coarse = o.fine[:0], o.coarse[:0] }
+func (o *outlineEnergy) addPixel(t *edgeTest, i int) {
+	if t.con != nil {
+		o.con = append(o.con, t.con[i])
+	}
+}
+
+func (o *outlineEnergy) reset() { o.fine, o.coarse, o.con = o.fine[:0], o.coarse[:0], o.con[:0] }
 
 // edge reports whether the outline o carries an edge (see edgeTest).
 func (t *edgeTest) edge(o *outlineEnergy) bool {
@@ -406,17 +437,17 @@ func (t *edgeTest) edge(o *outlineEnergy) bool {
 	if f < t.floor {
 		return false
 	}
-	if t.coarse == nil || len(o.coarse) == 0 {
+	if t.coarse == nil || len(o.coarse) == 0 || kthSmallest(o.coarse, len(o.coarse)/2) <= diffuseRatio*f {
 		return true
 	}
-	return kthSmallest(o.coarse, len(o.coarse)/2) <= diffuseRatio*f
+	return len(o.con) > 0 && kthSmallest(o.con, len(o.con)/2) > t.source
 }
 
 // edgeless marks the objects (labels 1..n, 0 background) with no
 // boundary: over their outline pixels, those with a 4-neighbour of
 // another label, the median edge energy (EdgeEnergy of the luminance) is
-// below the floor (edgeFloor of the energy), or the edge is diffuse (see
-// edgeTest). A smooth hill of glow or haze that stands above its
+// below the floor (edgeFloor of the energy), or the edge is diffuse and
+// the object no source (see edgeTest). A smooth hill of glow or haze that stands above its
 // surroundings has no edge anywhere on its outline, or one as wide as
 // the glow; an object, however faint, has a sharp one. It returns nil
 // when no object is marked.
@@ -429,6 +460,7 @@ func edgeless(labels []int32, n int, t *edgeTest, w, h int) []bool {
 		if l <= 0 {
 			continue
 		}
+		outline[l].addPixel(t, i)
 		edge := false
 		neighbours4(i, w, h, func(j int) {
 			if labels[j] != l {

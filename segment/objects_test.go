@@ -302,6 +302,25 @@ func TestEdgelessDiffuse(t *testing.T) {
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
 	}
+	// Against the flat background 0.2 the blurred disc's pixels lie at
+	// I/B 2 to 3 (median contrast above 1): a source (sourceRatio 2), so
+	// it is kept once the contrast is known; with the contrast halved
+	// (median below 1) it is shading again.
+	field := make([]float32, w*h)
+	for i := range field {
+		field[i] = 0.2
+	}
+	con := contrastMap(lum, field)
+	test := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
+	if drop := edgeless(labels, 2, test, w, h); drop != nil {
+		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)
+	}
+	for i := range con {
+		con[i] /= 2 // the contrast halved, the edge energies kept
+	}
+	if drop := edgeless(labels, 2, test, w, h); drop == nil || drop[1] || !drop[2] {
+		t.Errorf("at half the contrast: %v, want only the blurred disc (2) marked", drop)
+	}
 }
 
 // The ratio of EdgeEnergy at diffuseScale and at ContourScale at a

@@ -98,6 +98,7 @@ func ringObjects(lum []float32, t *edgeTest, w, h int, reg []int32, cls []int32,
 				switch {
 				case reg[i] == int32(r):
 					inside = append(inside, float64(lum[i]))
+					outline.addPixel(t, i)
 					edge := false
 					neighbours4(i, w, h, func(j int) {
 						if reg[j] != int32(r) {

@@ -690,8 +690,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
-			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: affinity.EdgeEnergy(in.Luminance, w, h, diffuseScale, p.Workers)}
+			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: affinity.EdgeEnergy(in.Luminance, w, h, diffuseScale, p.Workers), source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field)
+			edges.con = con
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			// Objects with no edge on their outline, or only a diffuse
 			// one, are shading (a glow, haze): their regions join the
@@ -715,16 +716,19 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				}
 				field = backgroundField()
 				con = contrastMap(in.Luminance, field)
+				edges.con = con
 				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 || !rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background) {
 					break
 				}
 				field = backgroundField()
 				con = contrastMap(in.Luminance, field)
+				edges.con = con
 				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			}
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, w, h, reg, cls, bg, p.Background) {
 				field = backgroundField()
 				con = contrastMap(in.Luminance, field)
+				edges.con = con
 			}
 			if nodeOf != nil && p.Classes == 2 {
 				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
