@@ -297,7 +297,7 @@ func TestEdgelessDiffuse(t *testing.T) {
 	if drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
 	}
-	coarse := affinity.EdgeEnergy(lum, w, h, diffuseScale, 1)
+	coarse := coarseEnergy(lum, w, h, 1)
 	drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse}, w, h)
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
@@ -352,6 +352,11 @@ func TestDiffuseRatio(t *testing.T) {
 		got := float64(ec[i]+ec[j]) / float64(ef[i]+ef[j])
 		if want := rho(se); math.Abs(got-want) > 0.03*want {
 			t.Errorf("σ_e %v: ratio %.3f, want %.3f", se, got, want)
+		}
+		// coarseEnergy, computed on the image reduced by 2, agrees.
+		er := coarseEnergy(lum, w, h, 1)
+		if r := float64(er[i]+er[j]) / float64(ef[i]+ef[j]); math.Abs(r-got) > 0.03*got {
+			t.Errorf("σ_e %v: ratio from the reduced image %.3f, full %.3f", se, r, got)
 		}
 	}
 }

@@ -101,7 +101,7 @@ func TestRingObjects(t *testing.T) {
 	for _, c := range cases {
 		lum, reg, w, h := ringScene(c.contrast, c.blurred)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-		edges := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: affinity.EdgeEnergy(lum, w, h, diffuseScale, 1)}
+		edges := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarseEnergy(lum, w, h, 1)}
 		bg, obj := int32(0), int32(1)
 		if c.background == "bright" {
 			bg, obj = 1, 0

@@ -690,7 +690,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
-			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: affinity.EdgeEnergy(in.Luminance, w, h, diffuseScale, p.Workers), source: sourceContrast(p.Background)}
+			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: coarseEnergy(in.Luminance, w, h, p.Workers), source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field)
 			edges.con = con
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
