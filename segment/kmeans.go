@@ -59,6 +59,16 @@ func weightOf(wt []float64, i int) float64 {
 	return wt[i]
 }
 
+// boundSlack is the relative margin by which Hamerly's bounds must be
+// apart before a point is skipped: up + boundSlack·(up + |lo| + travel) <
+// lo, travel the sum of the largest centre move of every iteration so
+// far. Distances and centre moves are each computed to a few units of
+// rounding (2^-52) relative, and a bound is a sum of at most 301 of them
+// whose magnitudes add up to at most up + |lo| + 2·travel; 1e-9 is far
+// above the rounding that can accumulate, and skips almost as many points
+// as an exact test would.
+const boundSlack = 1e-9
+
 func sqDist(a, b []float64) float64 {
 	var s float64
 	for d := range a {
@@ -114,29 +124,67 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 	}
 	sum := make([]float64, k*dim)
 	cnt := make([]float64, k)
+	// Hamerly's bounds (Hamerly 2010): up[i] >= |x_i - c(lab_i)| and
+	// lo[i] <= |x_i - c| for every other centre c, kept valid through the
+	// centre moves by the triangle inequality. A point whose bounds are
+	// apart by more than a relative margin cannot change its label, so it
+	// is skipped; every other point is assigned exactly as Lloyd's step
+	// does (all k squared distances, the first least one wins). The
+	// margin (boundSlack) covers the rounding of the bounds, so labels,
+	// centres and inertia are bit-identical to plain Lloyd iterations
+	// (TestLloydMatchesPlain).
+	up := make([]float64, n)
+	lo := make([]float64, n)
+	old := make([]float64, k*dim)
+	move := make([]float64, k)
 	var inertia float64
+	travel := 0.0 // Σ of the largest centre move per iteration
 	for iter := 0; iter < 300; iter++ {
 		if ctx.Err() != nil {
 			return nil, math.Inf(1)
 		}
 		changed := false
-		inertia = 0
+		last := iter == 299
 		for i := 0; i < n; i++ {
 			xi := x[i*dim : (i+1)*dim]
-			bc, bd := 0, math.Inf(1)
+			if iter > 0 && !last {
+				if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
+					continue
+				}
+				// Tighten the upper bound to the exact distance and test
+				// again (Hamerly's second test).
+				c := int(lab[i])
+				up[i] = math.Sqrt(sqDist(xi, cent[c*dim:(c+1)*dim]))
+				if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
+					continue
+				}
+			}
+			bc, bd, sd := 0, math.Inf(1), math.Inf(1)
 			for c := 0; c < k; c++ {
-				if d := sqDist(xi, cent[c*dim:(c+1)*dim]); d < bd {
-					bc, bd = c, d
+				d := sqDist(xi, cent[c*dim:(c+1)*dim])
+				if d < bd {
+					bc, bd, sd = c, d, bd
+				} else if d < sd {
+					sd = d
 				}
 			}
 			if lab[i] != int32(bc) {
 				lab[i] = int32(bc)
 				changed = true
 			}
-			inertia += weightOf(wt, i) * bd
+			up[i], lo[i] = math.Sqrt(bd), math.Sqrt(sd)
 		}
-		if !changed {
-			break
+		if !changed || last {
+			// Lloyd's inertia of this assignment: Σ w_i |x_i - c(lab_i)|²
+			// in point order, with the centres it was made with.
+			inertia = 0
+			for i := 0; i < n; i++ {
+				c := int(lab[i])
+				inertia += weightOf(wt, i) * sqDist(x[i*dim:(i+1)*dim], cent[c*dim:(c+1)*dim])
+			}
+			if !changed {
+				break
+			}
 		}
 		clear(sum)
 		clear(cnt)
@@ -148,6 +196,7 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 				sum[c*dim+d] += w * x[i*dim+d]
 			}
 		}
+		copy(old, cent)
 		for c := 0; c < k; c++ {
 			if cnt[c] == 0 {
 				continue // keep an emptied centre where it was
@@ -155,6 +204,16 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 			for d := 0; d < dim; d++ {
 				cent[c*dim+d] = sum[c*dim+d] / cnt[c]
 			}
+		}
+		maxMove := 0.0
+		for c := 0; c < k; c++ {
+			move[c] = math.Sqrt(sqDist(cent[c*dim:(c+1)*dim], old[c*dim:(c+1)*dim]))
+			maxMove = max(maxMove, move[c])
+		}
+		travel += maxMove
+		for i := 0; i < n; i++ {
+			up[i] += move[lab[i]]
+			lo[i] -= maxMove
 		}
 	}
 	return lab, inertia
