@@ -210,3 +210,39 @@ func findRoot(parent []int32, i int32) int32 {
 	}
 	return i
 }
+
+// coarsenTwice applies coarsen twice and folds the two aggregations into
+// one (double pairwise aggregation, Notay 2010): P = P1 P2 is again an
+// aggregation matrix, and the second level's W_c = P2ᵀ P1ᵀ W P1 P2 is the
+// Galerkin operator of the folded aggregation. Returns the first coarse
+// level alone when the second matching stalls, nil when the first does.
+func coarsenTwice(lv *level, workers int) *level {
+	c1 := coarsen(lv, workers)
+	if c1 == nil {
+		return nil
+	}
+	c2 := coarsen(c1, workers)
+	if c2 == nil {
+		return c1
+	}
+	nc := c2.n
+	for i, a := range lv.agg {
+		lv.agg[i] = c1.agg[a]
+	}
+	lv.memPtr = make([]int, nc+1)
+	for _, a := range lv.agg {
+		lv.memPtr[a+1]++
+	}
+	for a := 0; a < nc; a++ {
+		lv.memPtr[a+1] += lv.memPtr[a]
+	}
+	fill := append([]int(nil), lv.memPtr[:nc]...)
+	for i, a := range lv.agg {
+		lv.mem[fill[a]] = int32(i)
+		fill[a]++
+	}
+	for i, a := range lv.agg {
+		lv.pz[i] = math.Sqrt(lv.deg[i] / c2.deg[a])
+	}
+	return c2
+}

@@ -49,8 +49,12 @@ type lobpcgResult struct {
 // inside the small space (Hetmaniuk and Lehoucq 2006), so the basis stays
 // orthonormal and Rayleigh-Ritz is a standard symmetric eigenproblem.
 // It stops when the first want columns have ‖L x - θ x‖ <= tol or after
-// maxIter steps.
-func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block, seed uint64) (*lobpcgResult, error) {
+// maxIter steps. With guards set the guard columns (want..m-1) get
+// residual directions too while a wanted column is unconverged: on dense
+// pixel graphs a wanted pair next to a nearly equal guard otherwise
+// converges only as fast as the guard does through Rayleigh-Ritz (see
+// wideGraph).
+func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block, seed uint64, guards bool) (*lobpcgResult, error) {
 	lv := o.lv
 	n := lv.n
 	m0 := x.m
@@ -123,6 +127,11 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		var active []int
 		for q := 0; q < want; q++ {
 			if !(res[q] <= tol) {
+				active = append(active, q)
+			}
+		}
+		if guards && len(active) > 0 {
+			for q := want; q < m; q++ {
 				active = append(active, q)
 			}
 		}

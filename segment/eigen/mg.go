@@ -23,7 +23,8 @@ type multigrid struct {
 	gamma   int       // coarse visits per level (2: W-cycle)
 	post    int       // post-smoothing steps
 	scratch []mgScratch
-	depth0  int // index of levels[0] in the full hierarchy
+	depth0  int  // index of levels[0] in the full hierarchy
+	wAll    bool // W-cycle on every level (dense graphs), not wDepth only
 }
 
 // mgScratch holds the work blocks of one level, reused across cycles.
@@ -32,7 +33,12 @@ type mgScratch struct {
 	rc, xc, res []float64 // coarse size
 }
 
-func newMultigrid(levels []*level, workers int, coarseVecs *block, coarseVals []float64) *multigrid {
+// With wide set (graphs of at least longRows entries per row, coarsened
+// four to one by coarsenTwice) every level is cycled as a W-cycle with
+// one post-smoothing step: two coarse visits then cost half a fine
+// product per level, and the post-smoothing removes the rough part of
+// the unsmoothed aggregation's correction (see wideGraph).
+func newMultigrid(levels []*level, workers int, coarseVecs *block, coarseVals []float64, wide bool) *multigrid {
 	nc := coarseVecs.n
 	pinv := make([]float64, nc*nc)
 	for j, lam := range coarseVals {
@@ -45,8 +51,12 @@ func newMultigrid(levels []*level, workers int, coarseVecs *block, coarseVals []
 			}
 		}
 	}
+	post := 0
+	if wide {
+		post = 1
+	}
 	return &multigrid{levels: levels, workers: workers, pinv: pinv,
-		omega: 0.7, alpha: 1.5, gamma: 2, post: 0,
+		omega: 0.7, alpha: 1.5, gamma: 2, post: post, wAll: wide,
 		scratch: make([]mgScratch, len(levels))}
 }
 
@@ -109,7 +119,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	restrict(lv, next, r, rc, mg.workers)
 	clear(xc.v)
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
-	if l+mg.depth0 >= wDepth || float64(next.n) > wRatio*float64(lv.n) {
+	if (!mg.wAll && l+mg.depth0 >= wDepth) || float64(next.n) > wRatio*float64(lv.n) {
 		gamma, alpha, post = 1, 1, 1
 		if len(lv.col) >= longRows*lv.n {
 			post = 0

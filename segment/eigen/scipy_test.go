@@ -82,3 +82,29 @@ func TestScipy(t *testing.T) {
 		})
 	}
 }
+
+// TestScipyPixelGraph cross-checks the pixel-graph path (wideGraph: four
+// to one coarsening, W-cycles throughout, guard directions) at the
+// default residual target against scipy's eigsh (shift-invert, tol 1e-6,
+// Debian python3-scipy) on the coins pixel graph (r = 5, 29184 nodes):
+// the eigenvalues must agree to 1e-6 relative, the agreement the pixel
+// graph's speed work promises.
+func TestScipyPixelGraph(t *testing.T) {
+	if testing.Short() {
+		t.Skip("short mode")
+	}
+	g := coinsGraph(t)
+	if !wideGraph(g) {
+		t.Fatal("the coins pixel graph should take the wide-graph path")
+	}
+	want := scipySmallest(t, g, 6)
+	r, err := Smallest(g, 6, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, w := range want {
+		if math.Abs(r.Values[i]-w) > 1e-12+1e-6*math.Abs(w) {
+			t.Errorf("λ_%d = %.12g, scipy %.12g (relative %.2g)", i, r.Values[i], w, math.Abs(r.Values[i]/w-1))
+		}
+	}
+}
