@@ -121,19 +121,43 @@ func coarsen(lv *level, workers int) *level {
 		wt  []float32
 	}
 	outs := make([]chunkOut, nch)
+	// Dense accumulators over the coarse columns, one per running
+	// goroutine (at most workers at a time), reused from chunk to chunk:
+	// every row clears what it touched. One per chunk made the
+	// allocations grow with the square of the size (1.2 GB of garbage
+	// at a million nodes).
+	type scratch struct {
+		acc  []float64
+		seen []bool
+		cols []int32
+	}
+	free := make(chan *scratch, max(workers, 1))
 	parallel(nch, workers, func(c int) {
 		a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
-		// Dense accumulator over coarse columns; seen lists the columns
-		// touched by the current row in order of first appearance.
-		acc := make([]float64, nc)
-		seen := make([]bool, nc)
-		var cols []int32
-		// Capacity: the members' row lengths bound the coarse row's.
+		var sc *scratch
+		select {
+		case sc = <-free:
+		default:
+			sc = &scratch{acc: make([]float64, nc), seen: make([]bool, nc)}
+		}
+		defer func() {
+			select {
+			case free <- sc:
+			default:
+			}
+		}()
+		// acc accumulates the current row; cols lists the columns it
+		// touched in order of first appearance.
+		acc, seen, cols := sc.acc, sc.seen, sc.cols[:0]
+		defer func() { sc.cols = cols }()
+		// The members' row lengths bound the coarse row's; coarse rows
+		// merge neighbours, so start from half the bound and let
+		// append grow the rest.
 		bound := 0
 		for _, u := range lv.mem[lv.memPtr[a0]:lv.memPtr[a1]] {
 			bound += lv.rowPtr[u+1] - lv.rowPtr[u]
 		}
-		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound), wt: make([]float32, 0, bound)}
+		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound/2+16), wt: make([]float32, 0, bound/2+16)}
 		for a := a0; a < a1; a++ {
 			cols = cols[:0]
 			for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
