@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
 )
 
@@ -176,7 +177,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 			return code
 		}
 		var doc struct {
-			Mean metrics `json:"mean"`
+			Mean score.Report `json:"mean"`
 		}
 		if err := json.Unmarshal(js.Bytes(), &doc); err != nil {
 			fmt.Fprintf(stderr, "cleave demo: %v\n", err)

@@ -17,47 +17,13 @@ import (
 	"github.com/spf13/pflag"
 )
 
-// metrics are the scores of one prediction against its truth; the json tags
-// are the metric names of --json, --csv and tune's --metric.
-type metrics struct {
-	ARI      float64 `json:"ari"`
-	Rand     float64 `json:"rand"`
-	VI       float64 `json:"vi"`
-	VISplit  float64 `json:"vi_split"`
-	VIMerge  float64 `json:"vi_merge"`
-	Dice     float64 `json:"dice"`
-	IoU      float64 `json:"iou"`
-	Prec     float64 `json:"precision"`
-	Recall   float64 `json:"recall"`
-	F1       float64 `json:"f1"`
-	MeanIoU  float64 `json:"mean_iou"`
-	MAP      float64 `json:"map"`
-	BF       float64 `json:"bf"`
-	BP       float64 `json:"bp"`
-	BR       float64 `json:"br"`
-	Covering float64 `json:"covering"`
-}
-
-// values lists the metrics' values in the order of metricNames.
-func (m metrics) values() []float64 {
-	return []float64{m.ARI, m.Rand, m.VI, m.VISplit, m.VIMerge, m.Dice, m.IoU, m.Prec, m.Recall, m.F1, m.MeanIoU, m.MAP, m.BF, m.BP, m.BR, m.Covering}
-}
-
-// fields are pointers to the metrics in the order of metricNames.
-func (m *metrics) fields() []*float64 {
-	return []*float64{&m.ARI, &m.Rand, &m.VI, &m.VISplit, &m.VIMerge, &m.Dice, &m.IoU, &m.Prec, &m.Recall, &m.F1, &m.MeanIoU, &m.MAP, &m.BF, &m.BP, &m.BR, &m.Covering}
-}
-
-var metricNames = []string{"ari", "rand", "vi", "vi_split", "vi_merge", "dice", "iou", "precision", "recall", "f1", "mean_iou", "map", "bf", "bp", "br", "covering"}
-
-// get returns the metric of the given name.
-func (m metrics) get(name string) float64 {
-	for i, n := range metricNames {
-		if n == name {
-			return m.values()[i]
-		}
+// metricNames are the names of ms (their json keys and columns).
+func metricNames(ms []score.Metric) []string {
+	names := make([]string, len(ms))
+	for i, m := range ms {
+		names[i] = m.String()
 	}
-	panic("cleave: unknown metric " + name)
+	return names
 }
 
 // defaultTolerance is the boundary matching tolerance in pixels: a choice
@@ -66,48 +32,9 @@ func (m metrics) get(name string) float64 {
 const defaultTolerance = 2
 
 // scoreMaps computes every metric of pred against truth (width x height).
-func scoreMaps(pred, truth []int32, width, height int, tol float64) metrics {
-	m, _ := scoreMapsContext(context.Background(), pred, truth, width, height, tol)
+func scoreMaps(pred, truth []int32, width, height int, tol float64) score.Report {
+	m, _ := score.Compare(context.Background(), pred, truth, width, height, tol)
 	return m
-}
-
-// scoreMapsContext is scoreMaps that stops when ctx is done, between
-// metrics and inside the boundary matching (the long part), returning
-// ctx's error.
-func scoreMapsContext(ctx context.Context, pred, truth []int32, width, height int, tol float64) (metrics, error) {
-	if err := ctx.Err(); err != nil {
-		return metrics{}, err
-	}
-	t := score.Contingency(pred, truth)
-	var m metrics
-	m.ARI, m.Rand = t.ARI(), t.RandIndex()
-	m.VI, m.VISplit, m.VIMerge = t.VI()
-	m.Dice, m.IoU = score.Dice(pred, truth)
-	om := score.MatchObjects(pred, truth)
-	m.Prec, m.Recall, m.F1, m.MeanIoU = om.Precision, om.Recall, om.F1, om.MeanIoU
-	m.MAP = t.MeanAP()
-	b, err := score.BoundaryContext(ctx, pred, truth, width, height, tol)
-	if err != nil {
-		return metrics{}, err
-	}
-	m.BF, m.BP, m.BR = b.F, b.Precision, b.Recall
-	m.Covering = t.Covering()
-	return m, nil
-}
-
-// meanMetrics is the mean of each metric, summed in the given order.
-func meanMetrics(ms []metrics) metrics {
-	var mean metrics
-	f := mean.fields()
-	for _, m := range ms {
-		for i, v := range m.values() {
-			*f[i] += v
-		}
-	}
-	for _, p := range f {
-		*p /= float64(len(ms))
-	}
-	return mean
 }
 
 const scoreExample = `Example (score cleave's label map of a shipped nuclei scene against its mask):
@@ -192,7 +119,7 @@ type scoredPair struct {
 	Name  string `json:"name"`
 	Pred  string `json:"pred"`
 	Truth string `json:"truth"`
-	metrics
+	score.Report
 	PredMap  mapReading `json:"-"`
 	TruthMap mapReading `json:"-"`
 	// PredMask and TruthMask are set when that side is a binary mask
@@ -349,13 +276,13 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
 			return exitCode(err)
 		}
-		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, metrics: m, PredMap: pr, TruthMap: tr, PredMask: masksOnly(pr), TruthMask: masksOnly(tr)})
+		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, Report: m, PredMap: pr, TruthMap: tr, PredMask: masksOnly(pr), TruthMask: masksOnly(tr)})
 	}
-	all := make([]metrics, len(scored))
+	all := make([]score.Report, len(scored))
 	for i, s := range scored {
-		all[i] = s.metrics
+		all[i] = s.Report
 	}
-	mean := meanMetrics(all)
+	mean := score.Mean(all)
 	if o.csv != "" {
 		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return writeScoreCSV(w, scored, mean, folders) }); err != nil {
 			fmt.Fprintf(stderr, "cleave score: --csv: %v\n", err)
@@ -366,14 +293,14 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
 		var v any = struct {
-			metrics
+			score.Report
 			PredMask  *mapReading `json:"pred_map,omitempty"`
 			TruthMask *mapReading `json:"truth_map,omitempty"`
-		}{scored[0].metrics, scored[0].PredMask, scored[0].TruthMask}
+		}{scored[0].Report, scored[0].PredMask, scored[0].TruthMask}
 		if folders {
 			v = struct {
 				Pairs []scoredPair `json:"pairs"`
-				Mean  metrics      `json:"mean"`
+				Mean  score.Report `json:"mean"`
 			}{scored, mean}
 		}
 		if err := enc.Encode(v); err != nil {
@@ -389,22 +316,22 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 // scoreFiles reads a prediction and a truth label image (binary masks
 // split into their components when split is set, readScoreMap) and scores
 // them; it returns how each was read.
-func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64, split bool) (m metrics, pr, tr mapReading, err error) {
+func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64, split bool) (m score.Report, pr, tr mapReading, err error) {
 	pred, pw, ph, pr, err := readScoreMap(predPath, split)
 	if err != nil {
-		return metrics{}, pr, tr, fmt.Errorf("prediction %w", err)
+		return score.Report{}, pr, tr, fmt.Errorf("prediction %w", err)
 	}
 	truth, tw, th, tr, err := readScoreMap(truthPath, split)
 	if err != nil {
-		return metrics{}, pr, tr, fmt.Errorf("truth %w", err)
+		return score.Report{}, pr, tr, fmt.Errorf("truth %w", err)
 	}
 	if pw != tw || ph != th {
-		return metrics{}, pr, tr, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
+		return score.Report{}, pr, tr, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
 	}
 	if err := checkTolerance(tol, predPath, pw, ph); err != nil {
-		return metrics{}, pr, tr, err
+		return score.Report{}, pr, tr, err
 	}
-	m, err = scoreMapsContext(ctx, pred, truth, pw, ph, tol)
+	m, err = score.Compare(ctx, pred, truth, pw, ph, tol)
 	return m, pr, tr, err
 }
 
@@ -423,31 +350,30 @@ func fmtMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
 
 // writeScoreTable prints the readable table: metric per line for one pair,
 // a row per pair and the mean for folders.
-func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders bool, tol float64) {
+func writeScoreTable(w io.Writer, scored []scoredPair, mean score.Report, folders bool, tol float64) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	if !folders {
 		fmt.Fprintf(w, "%s vs %s\n", scored[0].Pred, scored[0].Truth)
 		fmt.Fprintf(w, "prediction: %s\n", scored[0].PredMap.describe())
 		fmt.Fprintf(w, "truth:      %s\n", scored[0].TruthMap.describe())
-		vals := scored[0].metrics.values()
-		for i, n := range metricNames {
-			fmt.Fprintf(tw, "%s\t%s\t\n", n, fmtMetric(vals[i]))
+		for _, m := range score.Metrics() {
+			fmt.Fprintf(tw, "%s\t%s\t\n", m, fmtMetric(scored[0].Get(m)))
 		}
 		tw.Flush()
 		fmt.Fprintf(w, "(boundary tolerance %g px; vi in nats, lower is better; the rest: higher is better, 1 best)\n", tol)
 		return
 	}
-	cols := []string{"ari", "vi", "dice", "f1", "map", "mean_iou", "bf", "covering"}
-	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(cols, "\t"))
-	row := func(name string, m metrics) {
+	cols := []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricMeanIoU, score.MetricBF, score.MetricCovering}
+	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(metricNames(cols), "\t"))
+	row := func(name string, m score.Report) {
 		cells := make([]string, len(cols))
 		for i, c := range cols {
-			cells[i] = fmtMetric(m.get(c))
+			cells[i] = fmtMetric(m.Get(c))
 		}
 		fmt.Fprintf(tw, "%s\t%s\t\n", name, strings.Join(cells, "\t"))
 	}
 	for _, s := range scored {
-		row(s.Name, s.metrics)
+		row(s.Name, s.Report)
 	}
 	row(fmt.Sprintf("mean of %d", len(scored)), mean)
 	tw.Flush()
@@ -473,15 +399,15 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean metrics, folders boo
 
 // writeScoreCSV writes one row per pair and, for folders, a final "mean"
 // row; names and paths are neutralized by csvText.
-func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool) error {
+func writeScoreCSV(w io.Writer, scored []scoredPair, mean score.Report, folders bool) error {
 	cw := csv.NewWriter(w)
-	head := append(append([]string{"name", "pred", "truth"}, metricNames...), "pred_map", "pred_objects", "truth_map", "truth_objects")
+	head := append(append([]string{"name", "pred", "truth"}, metricNames(score.Metrics())...), "pred_map", "pred_objects", "truth_map", "truth_objects")
 	if err := cw.Write(head); err != nil {
 		return err
 	}
-	rec := func(name, pred, truth string, m metrics, pr, tr *mapReading) error {
+	rec := func(name, pred, truth string, m score.Report, pr, tr *mapReading) error {
 		r := []string{csvText(name), csvText(pred), csvText(truth)}
-		for _, v := range m.values() {
+		for _, v := range m.Values() {
 			r = append(r, strconv.FormatFloat(v, 'g', 17, 64))
 		}
 		if pr != nil {
@@ -492,7 +418,7 @@ func writeScoreCSV(w io.Writer, scored []scoredPair, mean metrics, folders bool)
 		return cw.Write(r)
 	}
 	for _, s := range scored {
-		if err := rec(s.Name, s.Pred, s.Truth, s.metrics, &s.PredMap, &s.TruthMap); err != nil {
+		if err := rec(s.Name, s.Pred, s.Truth, s.Report, &s.PredMap, &s.TruthMap); err != nil {
 			return err
 		}
 	}

@@ -15,6 +15,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/score"
 )
 
 type cliReference struct {
@@ -88,8 +90,8 @@ func TestScoreAgainstScikitLearn(t *testing.T) {
 			}
 			got[k] = x
 		}
-		if len(got) != len(metricNames) {
-			t.Errorf("%s: %d keys, want %d (%v)", c.Name, len(got), len(metricNames), metricNames)
+		if len(got) != len(score.Metrics()) {
+			t.Errorf("%s: %d keys, want %d (%v)", c.Name, len(got), len(score.Metrics()), score.Metrics())
 		}
 		if math.Abs(got["ari"]-c.ARI) > tol || math.Abs(got["rand"]-c.Rand) > tol || math.Abs(got["vi"]-c.VI) > tol {
 			t.Errorf("%s: ari %.17g rand %.17g vi %.17g; sklearn %.17g %.17g %.17g", c.Name, got["ari"], got["rand"], got["vi"], c.ARI, c.Rand, c.VI)
@@ -353,7 +355,7 @@ func TestScoreToleranceBounds(t *testing.T) {
 	rows[0] = rows[0][:19] + "3"
 	rows[19] = "4" + rows[19][1:]
 	writeLabelPNG(t, truth, rows...)
-	var m metrics
+	var m score.Report
 	if err := json.Unmarshal([]byte(runOK(t, "score", "--json", "--tolerance", "28", pred, truth)), &m); err != nil {
 		t.Fatal(err)
 	}

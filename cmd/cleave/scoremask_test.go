@@ -57,7 +57,7 @@ func loadMaskReference(t *testing.T) []maskReference {
 }
 
 type scoreJSON struct {
-	metrics
+	score.Report
 	PredMap  mapReading `json:"pred_map"`  // Kind "" when absent: a label map
 	TruthMap mapReading `json:"truth_map"` // likewise
 }
@@ -127,8 +127,8 @@ func TestScoreBinaryMasks(t *testing.T) {
 		if lab.TruthMap.Kind != "" && c.TruthComp8 > 1 {
 			t.Errorf("%s: the labelled truth read as %+v", c.Name, lab.TruthMap)
 		}
-		for i, n := range metricNames {
-			if a, b := got.values()[i], lab.values()[i]; a != b {
+		for i, n := range score.Metrics() {
+			if a, b := got.Values()[i], lab.Values()[i]; a != b {
 				t.Errorf("%s: %s %.15g on the mask, %.15g on scikit-image's labelled map", c.Name, n, a, b)
 			}
 		}

@@ -7,6 +7,8 @@ import (
 	"io"
 	"math"
 	"os"
+	"reflect"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -130,15 +132,30 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 // paramNames lists the keys a --params file may hold (the json tags of
 // settings), sorted.
 func paramNames() []string {
-	var names []string
-	data, _ := json.Marshal(settings{})
-	var m map[string]json.RawMessage
-	_ = json.Unmarshal(data, &m)
-	for k := range m {
-		names = append(names, k)
+	t := reflect.TypeFor[settings]()
+	names := make([]string, t.NumField())
+	for i := range names {
+		names[i] = jsonName(t.Field(i))
 	}
-	sort.Strings(names)
+	slices.Sort(names)
 	return names
+}
+
+// jsonName is the key of a settings field (its json tag).
+func jsonName(f reflect.StructField) string {
+	name, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+	return name
+}
+
+// asMap is every setting under its key (the json tag), the values as they
+// are (encoding/json writes them as it writes the struct).
+func (s settings) asMap() map[string]any {
+	v := reflect.ValueOf(s)
+	m := make(map[string]any, v.NumField())
+	for i := range v.NumField() {
+		m[jsonName(v.Type().Field(i))] = v.Field(i).Interface()
+	}
+	return m
 }
 
 // applyParamsFile reads a JSON object of parameters named like the flags
@@ -398,11 +415,7 @@ func (s settings) resolve(workers int) (*resolved, error) {
 // resolved, under the flag names: the "params" of the JSON record, and a
 // valid --params file that reproduces the run.
 func usedParams(s settings, p segment.Params) map[string]any {
-	m := map[string]any{}
-	data, _ := json.Marshal(s)
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.UseNumber()
-	_ = dec.Decode(&m)
+	m := s.asMap()
 	m["sigma-i"] = p.SigmaI
 	m["sigma-x"] = p.SigmaX
 	m["superpixels"] = p.Superpixels

@@ -7,6 +7,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/score"
 )
 
 // Cells a spreadsheet would read as formulas get a leading single quote
@@ -125,7 +127,7 @@ func TestScoreCSVNeutralized(t *testing.T) {
 	if want := []string{"'=cmd", "'=cmd.png", "'-truth.png"}; strings.Join(row[:3], "|") != strings.Join(want, "|") {
 		t.Errorf("name, pred, truth cells %q, want %q", row[:3], want)
 	}
-	for _, cell := range row[3 : 3+len(metricNames)] {
+	for _, cell := range row[3 : 3+len(score.Metrics())] {
 		if _, err := strconv.ParseFloat(cell, 64); err != nil {
 			t.Errorf("metric cell %q is not a number", cell)
 		}

@@ -16,11 +16,10 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/examples/scenes"
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/cleave-seg/cleave/segment/tune"
 )
 
 // writeNuclei writes n small generated nuclei scenes (seeds from seed) as
@@ -158,7 +157,7 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 		for _, s := range fa.Tied {
 			low = math.Min(low, *s.CostPerImage)
 		}
-		if !fa.Tied[0].Chosen || *fa.Tied[0].CostPerImage > costMargin*low || *fa.CostPerImage != *fa.Tied[0].CostPerImage {
+		if !fa.Tied[0].Chosen || *fa.Tied[0].CostPerImage > tune.CostMargin*low || *fa.CostPerImage != *fa.Tied[0].CostPerImage {
 			t.Errorf("chosen tie %+v, lowest cost %v", fa.Tied[0], low)
 		}
 	}
@@ -192,7 +191,7 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	if rep.CVScore == nil || rep.CVFolds != 2 || len(rep.Folds) != 2 || rep.GridSize != 4 || rep.Evaluations != len(r1)-2 {
 		t.Errorf("tune.json: %+v", rep)
 	}
-	if rep.Metric != "f1" || rep.TieBreak != "smoother" || rep.BestMetrics == nil || rep.BestMetrics.F1 != rep.Score || rep.SecondsPerImage == nil || len(rep.Tied) == 0 || rep.Widenings == nil {
+	if rep.Metric != score.MetricF1 || rep.TieBreak != "smoother" || rep.BestMetrics == nil || rep.BestMetrics.F1 != rep.Score || rep.SecondsPerImage == nil || len(rep.Tied) == 0 || rep.Widenings == nil {
 		t.Errorf("tune.json: metric %q, best metrics %+v, score %v, seconds per image %v, timed ties %d, widenings %v",
 			rep.Metric, rep.BestMetrics, rep.Score, rep.SecondsPerImage, len(rep.Tied), rep.Widenings)
 	}
@@ -244,34 +243,37 @@ func TestParseSpec(t *testing.T) {
 		{"0.15", false, []float64{0.15}, false},
 		{"auto", false, nil, true},
 	} {
-		name := "sigma-x"
+		d := tune.SigmaX
 		if c.integer {
-			name = "radius"
+			d = tune.Radius
 		}
-		d, err := parseSpec(name, c.spec, c.integer, true, false)
+		ax, err := parseSpec(d, c.spec)
 		if err != nil {
 			t.Errorf("%s: %v", c.spec, err)
 			continue
 		}
-		if d.auto != c.auto || len(d.values) != len(c.want) {
-			t.Errorf("%s: got %v auto %v, want %v", c.spec, d.values, d.auto, c.want)
+		if ax.Auto != c.auto || len(ax.Values) != len(c.want) {
+			t.Errorf("%s: got %v auto %v, want %v", c.spec, ax.Values, ax.Auto, c.want)
 			continue
 		}
 		for i := range c.want {
-			if d.values[i] != c.want[i] {
-				t.Errorf("%s: got %v, want %v", c.spec, d.values, c.want)
+			if ax.Values[i] != c.want[i] {
+				t.Errorf("%s: got %v, want %v", c.spec, ax.Values, c.want)
 			}
 		}
 	}
 	for _, bad := range []string{"1:2", "0:1:3", "-1", "a,b", "1:2:0", "1:2:x", "2.5", "65", "3,5,100", "1:1e9:3"} {
-		if _, err := parseSpec("radius", bad, true, false, false); err == nil || !strings.Contains(err.Error(), "--radius") {
+		if _, err := parseSpec(tune.Radius, bad); err == nil || !strings.Contains(err.Error(), "--radius") {
 			t.Errorf("%q: error %v", bad, err)
 		}
 	}
 	// Values outside a parameter's range (segment's ranges) are refused.
-	for _, c := range [][2]string{{"sigma-i", "1e-9"}, {"sigma-i", "0.1,200"}, {"sigma-x", "1:1e7:3"}, {"max-ncut", "0.1,3"}, {"compactness", "20,1e5"}, {"superpixels", "2000000"}} {
-		if _, err := parseSpec(c[0], c[1], c[0] == "superpixels", true, c[0] == "superpixels"); err == nil || !strings.Contains(err.Error(), "outside the range") {
-			t.Errorf("--%s %s: error %v, want one about the range", c[0], c[1], err)
+	for _, c := range []struct {
+		d    tune.Param
+		spec string
+	}{{tune.SigmaI, "1e-9"}, {tune.SigmaI, "0.1,200"}, {tune.SigmaX, "1:1e7:3"}, {tune.MaxNcut, "0.1,3"}, {tune.Compactness, "20,1e5"}, {tune.Superpixels, "2000000"}} {
+		if _, err := parseSpec(c.d, c.spec); err == nil || !strings.Contains(err.Error(), "outside the range") {
+			t.Errorf("--%s %s: error %v, want one about the range", c.d, c.spec, err)
 		}
 	}
 }
@@ -313,19 +315,9 @@ func TestTuneChoosesBestRow(t *testing.T) {
 		if err := json.Unmarshal(raw, &rep); err != nil {
 			t.Fatal(err)
 		}
-		if math.Abs(c.sign*rep.Score-extreme) > 1e-9+tieRelative*math.Abs(extreme) || rep.Metric != c.metric || rep.MetricChoice != "--metric" {
+		if math.Abs(c.sign*rep.Score-extreme) > 1e-9+tune.TieRelative*math.Abs(extreme) || rep.Metric.String() != c.metric || rep.MetricChoice != "--metric" {
 			t.Errorf("--metric %s: tune.json metric %q (%s), score %v, best row of tune.csv %v", c.metric, rep.Metric, rep.MetricChoice, rep.Score, c.sign*extreme)
 		}
-	}
-}
-
-func TestSmootherOrder(t *testing.T) {
-	// Ties go to wider kernels, then a smaller max-ncut (the documented order).
-	a := point{0.01, 20, 0.1, 5, 0, 20}
-	b := point{0.01, 10, 0.1, 5, 0, 20}
-	c := point{0.01, 20, 0.2, 5, 0, 20}
-	if !smoother(a, b) || smoother(b, a) || !smoother(a, c) || smoother(a, a) {
-		t.Error("smoother order wrong")
 	}
 }
 
@@ -425,214 +417,8 @@ func TestTuneMetricChoice(t *testing.T) {
 			}
 			continue
 		}
-		if err != nil || got != c.want || !strings.HasPrefix(why, c.why) {
+		if err != nil || got.String() != c.want || !strings.HasPrefix(why, c.why) {
 			t.Errorf("--metric %q --background %q: %q (%s) %v; want %q (%s...)", c.given, c.background, got, why, err, c.want, c.why)
 		}
-	}
-}
-
-// synthTuner is a tuner over sigma-x alone (grid sx, the other parameters
-// fixed) on two images whose object F1 is f(sigma-x) and whose cost model
-// per image is cost(sigma-x, image); every segmentation times 1 s: the
-// search code on an objective known in closed form, without segmenting.
-func synthTuner(sx []float64, f, cost func(sx float64, img int) float64) *tuner {
-	t := &tuner{ctx: context.Background(), metric: "f1", workers: 1, cache: map[string]*evaluation{},
-		images: make([]*loaded, 2), names: []string{"a", "b"}}
-	t.dims[dimSigmaI] = defaultDim("sigma-i", []float64{0.02}, false)
-	t.dims[dimSigmaX] = defaultDim("sigma-x", slices.Clone(sx), false)
-	t.dims[dimMaxNcut] = defaultDim("max-ncut", []float64{0.15}, false)
-	t.dims[dimRadius] = defaultDim("radius", []float64{5}, true)
-	t.dims[dimSuperpixels] = dim{name: "superpixels", auto: true}
-	t.dims[dimCompactness] = defaultDim("compactness", []float64{20}, false)
-	t.evalFn = func(p point, img int) (metrics, error) {
-		v := f(p[dimSigmaX], img)
-		if math.IsNaN(v) {
-			return metrics{}, errors.New("synthetic failure")
-		}
-		return metrics{F1: v}, nil
-	}
-	t.costFn = func(p point, img int) float64 { return cost(p[dimSigmaX], img) }
-	t.timeFn = func(point, int) (float64, error) { return 1, nil }
-	return t
-}
-
-// Edge widening on an objective with its peak at opt, F1 = 1/(1 +
-// ln(sx/opt)^2) (a closed form chosen for the test: one maximum, at opt),
-// from the grid 4, 8, 16 (log step ln 2). An optimum inside the range
-// widens nothing; one outside widens the range toward it, one grid step
-// (a factor 2) at a time, at most twice, and the search then finds a
-// better setting outside the initial range; a plateau reaching inside the
-// range widens nothing.
-func TestTuneWidensAtTheEdge(t *testing.T) {
-	peak := func(opt float64) func(float64, int) float64 {
-		return func(sx float64, _ int) float64 { l := math.Log(sx / opt); return 1 / (1 + l*l) }
-	}
-	for _, c := range []struct {
-		name     string
-		f        func(float64, int) float64
-		side     string
-		n        int     // widenings expected
-		lo, hi   float64 // where the best must lie
-		outsides bool    // the best lies outside 4..16
-	}{
-		{"inside", peak(10), "", 0, 9, 11, false},
-		{"above", peak(40), "high", 2, 36, 44, true},
-		{"below", peak(1.5), "low", 2, 1.35, 1.65, true},
-		// Far away: two widenings (16 -> 32 -> 64), then refinement up to
-		// one more grid step (128) and no further.
-		{"far_above", peak(1000), "high", 2, 64, 128, true},
-		// A plateau: refinement may step one grid step beyond (to 32).
-		{"plateau", func(float64, int) float64 { return 0.9 }, "", 0, 4, 32, false},
-	} {
-		tn := synthTuner([]float64{4, 8, 16}, c.f, func(float64, int) float64 { return 1 })
-		var said []string
-		res, err := tn.search([]int{0, 1}, 8, func(m string) { said = append(said, m) })
-		if err != nil {
-			t.Fatal(err)
-		}
-		if len(res.widened) != c.n || len(said) != c.n {
-			t.Errorf("%s: %d widenings %+v, %d messages; want %d", c.name, len(res.widened), res.widened, len(said), c.n)
-		}
-		for i, w := range res.widened {
-			if w.Parameter != "sigma-x" || w.Side != c.side || !strings.Contains(said[i], "sigma-x") || !strings.Contains(said[i], "widened") {
-				t.Errorf("%s: widening %+v, message %q", c.name, w, said[i])
-			}
-		}
-		got := res.best.pt[dimSigmaX]
-		if got < c.lo || got > c.hi {
-			t.Errorf("%s: best sigma-x %v, want within [%v, %v]", c.name, got, c.lo, c.hi)
-		}
-		if c.outsides && !(tn.objective(res.best, []int{0, 1}) > c.f(16, 0)+1e-3 || tn.objective(res.best, []int{0, 1}) > c.f(4, 0)+1e-3) {
-			t.Errorf("%s: widening did not improve on the initial range", c.name)
-		}
-		if c.n == maxWidenings && len(res.dims[dimSigmaX].values) != 3+maxWidenings {
-			t.Errorf("%s: widened grid %v", c.name, res.dims[dimSigmaX].values)
-		}
-	}
-}
-
-// Ties (objectives within a relative 1e-4) go to the setting cheapest by
-// the cost model (mean over the images of the per-image cost); of
-// settings within costMargin (10%) of the lowest mean cost, to the
-// smoother (larger sigma-x). Grid 4, 8, 16 only (budget 0); the objective
-// and the costs are given (hand-made cases, expected choices worked by
-// hand). The clock plays no part: each case runs with seconds that favour
-// the most expensive setting and with seconds that favour the cheapest,
-// and the choice is the same; the seconds reported are those measured.
-func TestTuneTieBreakFaster(t *testing.T) {
-	flat := func(float64, int) float64 { return 0.9 }
-	linear := func(sx float64, _ int) float64 { return sx }
-	table := func(m map[float64]float64) func(float64, int) float64 {
-		return func(sx float64, _ int) float64 { return m[sx] }
-	}
-	for _, c := range []struct {
-		name string
-		f    func(float64, int) float64
-		cost func(float64, int) float64
-		want float64
-	}{
-		{"cheaper_wins", flat, linear, 4},
-		{"equal_cost_smoother_wins", flat, func(float64, int) float64 { return 1 }, 16},
-		{"within_10pct_smoother_wins", flat, table(map[float64]float64{4: 1, 8: 1.05, 16: 1.09}), 16},
-		{"beyond_10pct_cheaper_wins", flat, table(map[float64]float64{4: 1, 8: 1.05, 16: 1.15}), 8},
-		// Means over the images 10.5, 5, 6.5: 8 is cheapest, 16 is 30% above.
-		{"mean_over_images", flat, func(sx float64, img int) float64 {
-			return [][]float64{{1, 5, 10}, {20, 5, 3}}[img][map[float64]int{4: 0, 8: 1, 16: 2}[sx]]
-		}, 8},
-		{"tied_within_1e-4", func(sx float64, _ int) float64 {
-			if sx == 4 {
-				return 0.9 * (1 - 5e-5)
-			}
-			return 0.9
-		}, linear, 4},
-		{"not_tied_at_1e-3", func(sx float64, _ int) float64 {
-			if sx == 4 {
-				return 0.9 * (1 - 1e-3)
-			}
-			return 0.9
-		}, linear, 8},
-	} {
-		for _, clock := range []struct {
-			name string
-			secs func(sx float64) float64
-		}{{"clock_favours_costly", func(sx float64) float64 { return 1 / c.cost(sx, 0) }}, {"clock_favours_cheap", func(sx float64) float64 { return c.cost(sx, 0) }}} {
-			tn := synthTuner([]float64{4, 8, 16}, c.f, c.cost)
-			tn.timeFn = func(p point, _ int) (float64, error) { return clock.secs(p[dimSigmaX]), nil }
-			res, err := tn.search([]int{0, 1}, 0, nil)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if err := tn.timeTies(res); err != nil {
-				t.Fatal(err)
-			}
-			if got := res.best.pt[dimSigmaX]; got != c.want || len(res.widened) != 0 {
-				t.Errorf("%s, %s: chose sigma-x %v (widenings %v), want %v", c.name, clock.name, got, res.widened, c.want)
-			}
-			if len(res.ties) == 0 || res.ties[0] != res.best {
-				t.Errorf("%s, %s: ties %d, the chosen setting not first", c.name, clock.name, len(res.ties))
-			}
-			if s := tn.secondsPerImage(res.best, []int{0, 1}); s != clock.secs(c.want) {
-				t.Errorf("%s, %s: seconds per image %v, want the measured %v", c.name, clock.name, s, clock.secs(c.want))
-			}
-		}
-	}
-}
-
-// With --tie-break smoother the tie stays on the search's best (the
-// smoother on ties), whatever the costs: on a flat objective with cost
-// rising in sigma-x, the grid's best is the smoothest, 16 (hand-worked).
-func TestTuneTieBreakSmoother(t *testing.T) {
-	tn := synthTuner([]float64{4, 8, 16}, func(float64, int) float64 { return 0.9 }, func(sx float64, _ int) float64 { return sx })
-	tn.smootherTies = true
-	res, err := tn.search([]int{0, 1}, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if got := res.best.pt[dimSigmaX]; got != 16 || len(res.ties) != 1 {
-		t.Errorf("chose sigma-x %v with %d ties listed, want 16 alone", got, len(res.ties))
-	}
-}
-
-// The cost model of a segmentation result: nonzeros x (1 + log2 regions),
-// worked by hand: 10 nonzeros and 4 regions give 10 x 3 = 30; one region
-// gives the nonzeros alone.
-func TestSegCost(t *testing.T) {
-	g := &affinity.Graph{N: 4, RowPtr: []int{0, 3, 5, 8, 10}, Col: make([]int32, 10), Weight: make([]float32, 10)}
-	for _, c := range []struct {
-		regions int
-		want    float64
-	}{{4, 30}, {1, 10}, {0, 10}} {
-		if got := segCost(&segment.Result{Graph: g, NumRegions: c.regions}); got != c.want {
-			t.Errorf("%d regions: cost %v, want %v", c.regions, got, c.want)
-		}
-	}
-	if got := segCost(&segment.Result{}); got != 0 {
-		t.Errorf("no graph: cost %v, want 0", got)
-	}
-}
-
-// A fold whose choice fails on its held-out image records why in its
-// result (tune.json's fold_results[].error), and the cross-validated score
-// is absent. Image b fails for sigma-x >= 16, where image a scores best.
-func TestTuneFoldErrorRecorded(t *testing.T) {
-	tn := synthTuner([]float64{4, 8, 16}, func(sx float64, img int) float64 {
-		if img == 1 && sx >= 16 {
-			return math.NaN()
-		}
-		return 1 / (1 + math.Abs(math.Log(sx/16)))
-	}, func(float64, int) float64 { return 1 })
-	folds, cv, err := tn.crossValidate(2, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(folds) != 2 || !math.IsNaN(cv) {
-		t.Fatalf("folds %+v, cv %v", folds, cv)
-	}
-	f := folds[1]
-	if f.HeldScore != nil || !strings.Contains(f.Error, "held-out b") || !strings.Contains(f.Error, "synthetic failure") {
-		t.Errorf("fold holding b: held-out score %v, error %q", f.HeldScore, f.Error)
-	}
-	if folds[0].Error != "" || folds[0].HeldScore == nil {
-		t.Errorf("fold holding a: %+v", folds[0])
 	}
 }

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -17,6 +16,8 @@ import (
 
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/cleave-seg/cleave/segment/tune"
 	"github.com/spf13/pflag"
 )
 
@@ -91,7 +92,7 @@ the best mean score so far; on a terminal one line, else one per stage.
 
 Exit status: 0 done, 1 a file could not be read or written, 2 wrong usage.
 
-%s`, maxWidenings, tieRelative, 100*(costMargin-1), maxTimed-1, tuneExample, flagUsages(fs), caution)
+%s`, tune.MaxWidenings, tune.TieRelative, 100*(tune.CostMargin-1), tune.MaxTimed-1, tuneExample, flagUsages(fs), caution)
 }
 
 // Ranges of tune's own counts: each refinement evaluates at most
@@ -112,12 +113,12 @@ type tuneOptions struct {
 	tolerance          float64
 	splitMasks         string
 	force, help        bool
-	space              [numDims]string
+	space              [tune.NumParams]string
 }
 
 // searchFlagHelp describes the search flags, which replace the segment
 // flags of the same names.
-var searchFlagHelp = [numDims]string{
+var searchFlagHelp = [tune.NumParams]string{
 	"intensity kernel widths to search: A:B:N (N log-spaced values), a,b,c, one value or auto (default: 5 values from 1/4 to 4 x the median automatic value)",
 	"spatial kernel widths in pixels to search (default: 3 values from 1/2 to 2 x the median automatic value)",
 	"stop thresholds to search (default 0.075,0.15)",
@@ -134,22 +135,22 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.images, "images", "", "folder of images to tune on")
 	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
-	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(tuneMetrics, ", ")+" (vi is minimized); default f1 with --background, else ari")
+	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(metricNames(tuneMetrics), ", ")+" (vi is minimized); default f1 with --background, else ari")
 	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
 	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
 	fs.IntVar(&o.folds, "folds", 3, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf (0 to the image diagonal)")
 	addSplitMasksFlag(fs, &o.splitMasks)
-	for d := 0; d < numDims; d++ {
-		fs.StringVar(&o.space[d], dimNames[d], "", searchFlagHelp[d])
+	for _, d := range tune.Params() {
+		fs.StringVar(&o.space[d], d.String(), "", searchFlagHelp[d])
 	}
 	// The other segment parameters pass through as fixed settings.
 	scratch := pflag.NewFlagSet("params", pflag.ContinueOnError)
 	scratch.SortFlags = false
 	addParamFlags(scratch, s)
 	scratch.VisitAll(func(f *pflag.Flag) {
-		for _, n := range dimNames {
-			if f.Name == n {
+		for _, d := range tune.Params() {
+			if f.Name == d.String() {
 				return
 			}
 		}
@@ -161,21 +162,24 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	return fs, s, o
 }
 
-var tuneMetrics = []string{"f1", "map", "ari", "dice", "bf", "covering", "vi"}
+// tuneMetrics are the metrics tune can maximize (vi: minimize).
+var tuneMetrics = []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI, score.MetricDice, score.MetricBF, score.MetricCovering, score.MetricVI}
 
 // chooseMetric is the --metric given, or the default: object F1 when
 // objects are segmented (--background), ARI otherwise. It returns the
 // metric and why it was chosen.
-func chooseMetric(given, background string) (string, string, error) {
+func chooseMetric(given, background string) (score.Metric, string, error) {
 	switch {
-	case given != "" && !contains(tuneMetrics, given):
-		return "", "", usagef("--metric must be one of %s, got %q", strings.Join(tuneMetrics, ", "), given)
 	case given != "":
-		return given, "--metric", nil
+		m, err := score.ParseMetric(given)
+		if err != nil || !slices.Contains(tuneMetrics, m) {
+			return 0, "", usagef("--metric must be one of %s, got %q", strings.Join(metricNames(tuneMetrics), ", "), given)
+		}
+		return m, "--metric", nil
 	case background != "":
-		return "f1", "default with --background: objects counted", nil
+		return score.MetricF1, "default with --background: objects counted", nil
 	}
-	return "ari", "default without --background: no objects to count", nil
+	return score.MetricARI, "default without --background: no objects to count", nil
 }
 
 // tuneOutputs are the files tune writes into --out.
@@ -186,7 +190,7 @@ func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
 		return code
 	}
-	code, err := tune(ctx, fs, s, o, stdout, stderr)
+	code, err := tuneCommand(ctx, fs, s, o, stdout, stderr)
 	switch {
 	case err != nil && ctx.Err() != nil:
 		fmt.Fprintln(stderr, "cleave tune: interrupted")
@@ -200,10 +204,10 @@ func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 type tuneReport struct {
 	Tool            string            `json:"tool"`
 	Version         string            `json:"version"`
-	Metric          string            `json:"metric"`
+	Metric          score.Metric      `json:"metric"`
 	MetricChoice    string            `json:"metric_chosen_by"`
 	Score           float64           `json:"score"`
-	BestMetrics     *metrics          `json:"best_mean_metrics"`
+	BestMetrics     *score.Report     `json:"best_mean_metrics"`
 	SecondsPerImage *float64          `json:"seconds_per_image"`
 	Timing          string            `json:"timing"`
 	CostPerImage    *float64          `json:"cost_per_image"`
@@ -213,14 +217,14 @@ type tuneReport struct {
 	Tied            []tiedSetting     `json:"tied_settings"`
 	GridScore       *float64          `json:"grid_score"`
 	Baseline        *float64          `json:"automatic_score"`
-	BaselineMetrics *metrics          `json:"automatic_mean_metrics"`
+	BaselineMetrics *score.Report     `json:"automatic_mean_metrics"`
 	CVScore         *float64          `json:"cross_validated_score"`
 	CVFolds         int               `json:"folds"`
 	CVError         string            `json:"cross_validation_error,omitempty"`
-	Folds           []foldResult      `json:"fold_results,omitempty"`
+	Folds           []tune.Fold       `json:"fold_results,omitempty"`
 	Best            map[string]string `json:"best"`
 	Space           map[string]any    `json:"search_space"`
-	Widenings       []widening        `json:"widenings"`
+	Widenings       []tune.Widening   `json:"widenings"`
 	Evaluations     int               `json:"evaluations"`
 	GridSize        int               `json:"grid_settings"`
 	Refined         int               `json:"refined_settings"`
@@ -254,21 +258,21 @@ type tiedSetting struct {
 const timingNote = "median over the images of one segmentation's seconds on one thread (as many at once as --workers), without the search's shared work, decoding excluded; information only, never used for the choice"
 
 // costNote says what cost_per_image is (segCost).
-var costNote = fmt.Sprintf("mean over the images of graph nonzeros x (1 + log2 regions), the work of a balanced recursive two-way cut (object re-cuts not counted); of tied settings within %.0f%% of the lowest cost the smoother is chosen", 100*(costMargin-1))
+var costNote = fmt.Sprintf("mean over the images of graph nonzeros x (1 + log2 regions), the work of a balanced recursive two-way cut (object re-cuts not counted); of tied settings within %.0f%% of the lowest cost the smoother is chosen", 100*(tune.CostMargin-1))
 
 // meanOf is the mean of every metric of e over the images, or nil when an
 // image failed.
-func meanOf(e *evaluation) *metrics {
-	for _, m := range e.errs {
+func meanOf(e *tune.Evaluation) *score.Report {
+	for _, m := range e.Errs {
 		if m != "" {
 			return nil
 		}
 	}
-	m := meanMetrics(e.perImage)
+	m := score.Mean(e.Reports)
 	return &m
 }
 
-func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
+func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
 	start := time.Now()
 	if fs.NArg() > 0 {
 		return exitUsage, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
@@ -299,29 +303,30 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err != nil {
 		return exitUsage, err
 	}
-	t := &tuner{ctx: ctx, base: *s, workers: defaultWorkers(o.workers), metric: metric, tol: o.tolerance, cache: map[string]*evaluation{},
-		smootherTies: o.tieBreak == "smoother"}
-	given := [numDims]bool{}
-	for d := 0; d < numDims; d++ {
+	t := &tune.Tuner{Workers: defaultWorkers(o.workers), Metric: metric, SmootherTies: o.tieBreak == "smoother"}
+	var given [tune.NumParams]bool
+	for _, d := range tune.Params() {
 		if o.space[d] == "" {
 			continue
 		}
 		given[d] = true
-		isInt := d == dimRadius || d == dimSuperpixels
-		dm, err := parseSpec(dimNames[d], o.space[d], isInt, d == dimSigmaI || d == dimSigmaX || d == dimSuperpixels, d == dimSuperpixels)
+		ax, err := parseSpec(d, o.space[d])
 		if err != nil {
 			return exitUsage, err
 		}
-		t.dims[d] = dm
+		t.Space[d] = ax
 	}
-	// Check the fixed settings now (a wrong --classes is a usage error).
-	probe := *s
-	for d := 0; d < numDims; d++ {
-		if given[d] && !t.dims[d].auto && len(t.dims[d].values) == 1 {
-			probe = withDim(probe, d, t.dims[d].values[0], false)
+	// A searched parameter given as auto or as one value is fixed: the
+	// probe checks the fixed settings now (a wrong --classes is a usage
+	// error), and the same settings score the baseline and give the
+	// centres of the default ranges.
+	fixed := *s
+	for _, d := range tune.Params() {
+		if given[d] && (t.Space[d].Auto || len(t.Space[d].Values) == 1) {
+			fixed = withParam(fixed, d, t.Space[d])
 		}
 	}
-	loadRes, err := probe.resolve(t.workers)
+	loadRes, err := fixed.resolve(t.Workers)
 	if err != nil {
 		return exitUsage, err
 	}
@@ -347,6 +352,8 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		return exitFail, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
 	var truthMaps []truthMap
+	var images []*loaded
+	var truths [][]int32
 	for _, p := range pairs {
 		in, err := loadInput(ctx, p.image, loadRes)
 		if err != nil {
@@ -363,69 +370,56 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		if err := checkTolerance(o.tolerance, p.truth, w, h); err != nil {
 			return exitUsage, err
 		}
-		t.images, t.truths, t.names = append(t.images, in), append(t.truths, truth), append(t.names, p.name)
+		images, truths, t.Names = append(images, in), append(truths, truth), append(t.Names, p.name)
 	}
-	all := make([]int, len(t.images))
-	for i := range all {
-		all[i] = i
-	}
+	t.Objective, t.Timer = tuneObjective(images, truths, o.tolerance), tuneTimer(images)
+	all := t.All()
 
-	// The segment defaults (automatic widths) score the baseline and give
-	// the centres of the default ranges.
-	base := *s
-	for d := 0; d < numDims; d++ {
-		if given[d] && (t.dims[d].auto || len(t.dims[d].values) == 1) {
-			v := math.NaN()
-			if !t.dims[d].auto {
-				v = t.dims[d].values[0]
-			}
-			base = withDim(base, d, v, t.dims[d].auto)
-		}
-	}
-	br, err := base.resolve(1)
+	br, err := fixed.resolve(1)
 	if err != nil {
 		return exitUsage, err
 	}
-	t.prog = newTuneProgress(stderr, metric)
-	defer t.prog.finish()
-	t.prog.plan(1)
-	baseline := t.newEvaluation(point{}, "baseline", "baseline")
-	used, err := t.run([]*evaluation{baseline}, []segment.Params{br.params})
+	t.Base = br.params
+	prog := newTuneProgress(stderr, metric)
+	t.Progress = prog
+	defer prog.finish()
+	prog.Plan(1)
+	baseline, err := t.EvaluateParams(ctx, br.params, "baseline", "baseline")
 	if err != nil {
 		return exitFail, err
 	}
-	t.prog.stage("automatic settings")
+	prog.Stage("automatic settings")
 	var autoI, autoX []float64
-	for j := range t.images {
-		if baseline.errs[j] == "" {
-			autoI, autoX = append(autoI, used[0][j].SigmaI), append(autoX, used[0][j].SigmaX)
+	for j := range all {
+		if baseline.Errs[j] == "" {
+			autoI, autoX = append(autoI, baseline.Used[j].SigmaI), append(autoX, baseline.Used[j].SigmaX)
 		}
 	}
 	if len(autoI) == 0 {
-		return exitFail, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.errs[0])
+		return exitFail, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.Errs[0])
 	}
-	if !given[dimSigmaI] {
-		a := median(autoI)
-		t.dims[dimSigmaI] = defaultDim("sigma-i", logSpaced(a/4, 4*a, 5), false)
+	if !given[tune.SigmaI] {
+		a := tune.Median(autoI)
+		t.Space[tune.SigmaI] = tune.DefaultAxis(tune.SigmaI, tune.LogSpaced(a/4, 4*a, 5))
 	}
-	if !given[dimSigmaX] {
-		b := median(autoX)
-		t.dims[dimSigmaX] = defaultDim("sigma-x", logSpaced(b/2, 2*b, 3), false)
+	if !given[tune.SigmaX] {
+		b := tune.Median(autoX)
+		t.Space[tune.SigmaX] = tune.DefaultAxis(tune.SigmaX, tune.LogSpaced(b/2, 2*b, 3))
 	}
-	if !given[dimMaxNcut] {
-		t.dims[dimMaxNcut] = defaultDim("max-ncut", []float64{defaultMaxNcut / 2, defaultMaxNcut}, false)
+	if !given[tune.MaxNcut] {
+		t.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaultMaxNcut / 2, defaultMaxNcut})
 	}
-	if !given[dimRadius] {
-		t.dims[dimRadius] = defaultDim("radius", []float64{float64(s.Radius)}, true)
+	if !given[tune.Radius] {
+		t.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{float64(s.Radius)})
 	}
-	if !given[dimSuperpixels] {
-		t.dims[dimSuperpixels] = dim{name: "superpixels", auto: true, spec: "auto (default)"}
+	if !given[tune.Superpixels] {
+		t.Space[tune.Superpixels] = tune.AutoAxis(tune.Superpixels, "auto (default)")
 		if sp, auto, err := parseAuto("superpixels", s.Superpixels); err == nil && !auto {
-			t.dims[dimSuperpixels] = defaultDim("superpixels", []float64{sp}, true)
+			t.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{sp})
 		}
 	}
-	if !given[dimCompactness] {
-		t.dims[dimCompactness] = defaultDim("compactness", []float64{s.Compactness}, false)
+	if !given[tune.Compactness] {
+		t.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
 	}
 
 	// Settings share work per image (segment.Cache): the superpixels
@@ -433,70 +427,67 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	// recursive bisection between settings that differ only in max-ncut
 	// (the split tree grown at the grid's largest max-ncut serves the
 	// smaller ones exactly).
-	for _, in := range t.images {
-		in.cache = &segment.Cache{Ceiling: slices.Max(t.dims[dimMaxNcut].values)}
+	for _, in := range images {
+		in.cache = &segment.Cache{Ceiling: slices.Max(t.Space[tune.MaxNcut].Values)}
 	}
-	gridPts := gridPoints(&t.dims)
-	k := o.folds
-	if k > len(t.images) {
-		k = len(t.images)
-	}
+	gridPts := t.Space.Grid()
+	k := min(o.folds, len(images))
 	searches := 1
 	if k >= 2 {
 		searches += k
 	}
-	t.prog.plan(len(gridPts) + searches*o.budget)
-	if _, err := t.evaluate(gridPts, "grid"); err != nil {
+	prog.Plan(len(gridPts) + searches*o.budget)
+	if _, err := t.Evaluate(ctx, gridPts, "grid"); err != nil {
 		return exitFail, err
 	}
-	t.prog.stage("grid")
-	var folds []foldResult
+	prog.Stage("grid")
+	var folds []tune.Fold
 	var cv *float64
 	if k >= 2 {
-		f, v, err := t.crossValidate(k, o.budget)
+		f, v, err := t.CrossValidate(ctx, k, o.budget)
 		if err != nil {
 			return exitFail, err
 		}
-		folds, cv = f, finite(v)
+		folds, cv = f, tune.Finite(v)
 	}
-	res, err := t.search(all, o.budget, t.prog.say)
+	res, err := t.Search(ctx, all, o.budget, prog.say)
 	if err != nil {
 		return exitFail, err
 	}
-	if err := t.timeTies(res); err != nil {
+	if err := t.TimeTies(ctx, res); err != nil {
 		return exitFail, err
 	}
-	t.prog.stage("search")
-	t.prog.finish()
-	gridBest, best := res.gridBest, res.best
-	if math.IsInf(t.objective(best, all), -1) {
-		return exitFail, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.order))
+	prog.Stage("search")
+	prog.finish()
+	gridBest, best := res.GridBest, res.Best
+	if math.IsInf(t.Score(best, all), -1) {
+		return exitFail, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
 	}
-	t.dims = res.dims // the ranges as widened, for tune.png and tune.json
+	t.Space = res.Space // the ranges as widened, for tune.png and tune.json
 
 	// Outputs.
 	if err := os.MkdirAll(o.out, 0o755); err != nil {
 		return exitFail, fmt.Errorf("cannot create the output folder: %w", err)
 	}
-	bestParams := t.paramsFile(best.pt)
-	bv := t.value(baseline, all)
+	bestParams := paramsFile(&t.Space, s, best.Point)
+	bv := t.Value(baseline, all)
 	rep := tuneReport{
-		Tool: "cleave", Version: version, Metric: metric, MetricChoice: metricWhy, Score: t.value(best, all),
-		BestMetrics: meanOf(best), SecondsPerImage: finite(t.secondsPerImage(best, all)), Timing: timingNote,
-		CostPerImage: finite(t.costPerImage(best, all)), CostModel: costNote,
-		TieRelative: tieRelative, TieBreak: o.tieBreak, GridScore: finite(t.value(gridBest, all)), BaselineMetrics: meanOf(baseline),
-		CVScore: cv, CVFolds: k, Folds: folds, Best: t.paramStrings(best.pt), Space: map[string]any{},
-		Widenings: res.widened, GridSize: len(gridPts), Budget: o.budget, Images: t.names, TruthMaps: truthMaps, Unpaired: unpaired,
+		Tool: "cleave", Version: version, Metric: metric, MetricChoice: metricWhy, Score: t.Value(best, all),
+		BestMetrics: meanOf(best), SecondsPerImage: tune.Finite(t.SecondsPerImage(best, all)), Timing: timingNote,
+		CostPerImage: tune.Finite(t.CostPerImage(best, all)), CostModel: costNote,
+		TieRelative: tune.TieRelative, TieBreak: o.tieBreak, GridScore: tune.Finite(t.Value(gridBest, all)), BaselineMetrics: meanOf(baseline),
+		CVScore: cv, CVFolds: k, Folds: folds, Best: t.Space.Strings(best.Point), Space: map[string]any{},
+		Widenings: res.Widened, GridSize: len(gridPts), Budget: o.budget, Images: t.Names, TruthMaps: truthMaps, Unpaired: unpaired,
 	}
 	if rep.Unpaired == nil {
 		rep.Unpaired = []string{}
 	}
 	if rep.Widenings == nil {
-		rep.Widenings = []widening{}
+		rep.Widenings = []tune.Widening{}
 	}
-	for _, e := range res.ties {
-		rep.Tied = append(rep.Tied, tiedSetting{Params: t.paramStrings(e.pt), Score: t.value(e, all),
-			CostPerImage: finite(t.costPerImage(e, all)), SecondsPerImage: finite(t.secondsPerImage(e, all)), Chosen: e == best})
+	for _, e := range res.Ties {
+		rep.Tied = append(rep.Tied, tiedSetting{Params: t.Space.Strings(e.Point), Score: t.Value(e, all),
+			CostPerImage: tune.Finite(t.CostPerImage(e, all)), SecondsPerImage: tune.Finite(t.SecondsPerImage(e, all)), Chosen: e == best})
 	}
 	for _, f := range folds {
 		if f.Error != "" && rep.CVError == "" {
@@ -509,22 +500,22 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if k < 2 {
 		rep.CVFolds = 0
 	}
-	for d := 0; d < numDims; d++ {
-		dm := t.dims[d]
-		if dm.auto {
-			rep.Space[dm.name] = "auto"
+	for _, d := range tune.Params() {
+		ax := t.Space[d]
+		if ax.Auto {
+			rep.Space[d.String()] = "auto"
 			continue
 		}
 		n := 0
-		for _, w := range res.widened {
-			if w.Parameter == dm.name {
+		for _, w := range res.Widened {
+			if w.Parameter == d.String() {
 				n++
 			}
 		}
-		rep.Space[dm.name] = map[string]any{"spec": dm.spec, "grid": dm.values, "refined": dm.refinable(), "widened": n}
+		rep.Space[d.String()] = map[string]any{"spec": ax.Spec, "grid": ax.Values, "refined": ax.Refinable(), "widened": n}
 	}
-	for _, e := range t.order {
-		switch e.stage {
+	for _, e := range t.Order {
+		switch e.Stage {
 		case "baseline":
 			continue
 		case "refine":
@@ -539,8 +530,8 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 		fn   func(io.Writer) error
 	}{
 		{"best.json", func(w io.Writer) error { return writeJSON(w, bestParams) }},
-		{"tune.csv", func(w io.Writer) error { return t.writeCSV(w, baseline) }},
-		{"tune.png", func(w io.Writer) error { return t.writeHeatmap(w, gridBest, best, all) }},
+		{"tune.csv", func(w io.Writer) error { return writeTuneCSV(w, t, *s, baseline) }},
+		{"tune.png", func(w io.Writer) error { return writeHeatmap(w, t, gridBest, best, all) }},
 	}
 	for _, wr := range writes {
 		if err := imageio.WriteAtomic(filepath.Join(o.out, wr.name), o.force, wr.fn); err != nil {
@@ -551,24 +542,15 @@ func tune(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, s
 	if err := imageio.WriteAtomic(filepath.Join(o.out, "tune.json"), o.force, func(w io.Writer) error { return writeJSON(w, rep) }); err != nil {
 		return exitFail, err
 	}
-	t.summary(stdout, rep, best, o.out)
+	tuneSummary(stdout, rep, len(images), o.out)
 	return exitOK, nil
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
 
-func firstError(es []*evaluation) string {
+func firstError(es []*tune.Evaluation) string {
 	for _, e := range es {
-		for _, m := range e.errs {
+		for _, m := range e.Errs {
 			if m != "" {
 				return m
 			}
@@ -577,25 +559,29 @@ func firstError(es []*evaluation) string {
 	return "none recorded"
 }
 
-// withDim sets one searched parameter in a settings value (auto for the
-// parameters that allow it).
-func withDim(s settings, d int, v float64, auto bool) settings {
-	txt := fmtValue(v)
-	if auto {
+// withParam fixes one searched parameter in a settings value to the
+// single value of its axis, or to auto.
+func withParam(s settings, d tune.Param, ax tune.Axis) settings {
+	v := math.NaN()
+	if !ax.Auto {
+		v = ax.Values[0]
+	}
+	txt := tune.FormatValue(v)
+	if ax.Auto {
 		txt = "auto"
 	}
 	switch d {
-	case dimSigmaI:
+	case tune.SigmaI:
 		s.SigmaI = txt
-	case dimSigmaX:
+	case tune.SigmaX:
 		s.SigmaX = txt
-	case dimSuperpixels:
+	case tune.Superpixels:
 		s.Superpixels = txt
-	case dimMaxNcut:
+	case tune.MaxNcut:
 		s.MaxNcut = v
-	case dimRadius:
+	case tune.Radius:
 		s.Radius = int(v)
-	case dimCompactness:
+	case tune.Compactness:
 		s.Compactness = v
 	}
 	return s
@@ -603,20 +589,16 @@ func withDim(s settings, d int, v float64, auto bool) settings {
 
 // paramsFile is best.json: every parameter of the settings (the fixed ones
 // passed through) with the tuned values, numbers where the value is one.
-func (t *tuner) paramsFile(p point) map[string]any {
-	m := map[string]any{}
-	data, _ := json.Marshal(t.settingsAt(p))
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.UseNumber()
-	_ = dec.Decode(&m)
-	for d := 0; d < numDims; d++ {
+func paramsFile(space *tune.Space, s *settings, p tune.Point) map[string]any {
+	m := s.asMap()
+	for _, d := range tune.Params() {
 		switch {
-		case t.dims[d].auto:
-			m[dimNames[d]] = "auto"
-		case t.dims[d].integer:
-			m[dimNames[d]] = int64(p[d])
+		case space[d].Auto:
+			m[d.String()] = "auto"
+		case d.Integer():
+			m[d.String()] = int64(p[d])
 		default:
-			m[dimNames[d]] = p[d]
+			m[d.String()] = p[d]
 		}
 	}
 	return m
@@ -629,73 +611,70 @@ func writeJSON(w io.Writer, v any) error {
 }
 
 // csvMeans are the metrics whose mean over the images tune.csv lists.
-var csvMeans = []string{"ari", "vi", "dice", "f1", "map", "bf", "covering"}
+var csvMeans = []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricBF, score.MetricCovering}
 
-// writeCSV writes every evaluation in the order evaluated: its stage, the
-// parameters, the tuned metric per image, the means, the seconds (with
+// writeTuneCSV writes every evaluation in the order evaluated: its stage,
+// the parameters, the tuned metric per image, the means, the seconds (with
 // the shared work), for settings timed the median seconds per image, and
-// the mean cost per image (segCost) that breaks ties.
-func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
+// the mean cost per image (tune.Cost) that breaks ties. The baseline row
+// shows the fixed settings s as given.
+func writeTuneCSV(w io.Writer, t *tune.Tuner, s settings, baseline *tune.Evaluation) error {
 	cw := csv.NewWriter(w)
-	all := make([]int, len(t.images))
-	for i := range all {
-		all[i] = i
-	}
+	all := t.All()
 	head := []string{"stage"}
-	head = append(head, dimNames[:]...)
-	for _, n := range t.names {
-		head = append(head, t.metric+":"+n)
+	for _, d := range tune.Params() {
+		head = append(head, d.String())
+	}
+	for _, n := range t.Names {
+		head = append(head, t.Metric.String()+":"+n)
 	}
 	for _, m := range csvMeans {
-		head = append(head, "mean_"+m)
+		head = append(head, "mean_"+m.String())
 	}
 	head = append(head, "seconds", "seconds_per_image", "cost_per_image", "error")
 	if err := cw.Write(head); err != nil {
 		return err
 	}
-	for _, e := range t.order {
-		row := []string{e.stage}
-		for d := 0; d < numDims; d++ {
-			switch {
-			case e == baseline:
-				row = append(row, baselineText(t.base, d))
-			case t.dims[d].auto:
-				row = append(row, "auto")
-			default:
-				row = append(row, fmtValue(e.pt[d]))
+	for _, e := range t.Order {
+		row := []string{e.Stage}
+		for _, d := range tune.Params() {
+			if e == baseline {
+				row = append(row, baselineText(s, d))
+			} else {
+				row = append(row, t.Space.Text(e.Point, d))
 			}
 		}
 		errText := ""
-		for j := range t.images {
-			if e.errs[j] != "" {
+		for j := range all {
+			if e.Errs[j] != "" {
 				row = append(row, "")
 				if errText == "" {
-					errText = csvText(t.names[j] + ": " + e.errs[j])
+					errText = csvText(t.Names[j] + ": " + e.Errs[j])
 				}
 			} else {
-				row = append(row, strconv.FormatFloat(e.perImage[j].get(t.metric), 'g', 10, 64))
+				row = append(row, strconv.FormatFloat(e.Reports[j].Get(t.Metric), 'g', 10, 64))
 			}
 		}
 		for _, m := range csvMeans {
 			var sum float64
-			for j := range t.images {
-				sum += e.perImage[j].get(m)
+			for j := range all {
+				sum += e.Reports[j].Get(m)
 			}
 			if errText != "" {
 				row = append(row, "")
 			} else {
-				row = append(row, strconv.FormatFloat(sum/float64(len(t.images)), 'g', 10, 64))
+				row = append(row, strconv.FormatFloat(sum/float64(len(all)), 'g', 10, 64))
 			}
 		}
 		per := ""
-		if s := t.secondsPerImage(e, all); !math.IsNaN(s) {
-			per = strconv.FormatFloat(s, 'f', 3, 64)
+		if v := t.SecondsPerImage(e, all); !math.IsNaN(v) {
+			per = strconv.FormatFloat(v, 'f', 3, 64)
 		}
 		cost := ""
-		if c := t.costPerImage(e, all); !math.IsNaN(c) {
+		if c := t.CostPerImage(e, all); !math.IsNaN(c) {
 			cost = strconv.FormatFloat(c, 'f', 0, 64)
 		}
-		row = append(row, strconv.FormatFloat(e.seconds, 'f', 3, 64), per, cost, errText)
+		row = append(row, strconv.FormatFloat(e.Seconds, 'f', 3, 64), per, cost, errText)
 		if err := cw.Write(row); err != nil {
 			return err
 		}
@@ -705,29 +684,29 @@ func (t *tuner) writeCSV(w io.Writer, baseline *evaluation) error {
 }
 
 // baselineText is a parameter of the baseline row as given.
-func baselineText(s settings, d int) string {
+func baselineText(s settings, d tune.Param) string {
 	switch d {
-	case dimSigmaI:
+	case tune.SigmaI:
 		return strings.TrimSpace(s.SigmaI)
-	case dimSigmaX:
+	case tune.SigmaX:
 		return strings.TrimSpace(s.SigmaX)
-	case dimSuperpixels:
+	case tune.Superpixels:
 		return strings.TrimSpace(s.Superpixels)
-	case dimMaxNcut:
-		return fmtValue(s.MaxNcut)
-	case dimRadius:
+	case tune.MaxNcut:
+		return tune.FormatValue(s.MaxNcut)
+	case tune.Radius:
 		return strconv.Itoa(s.Radius)
 	}
-	return fmtValue(s.Compactness)
+	return tune.FormatValue(s.Compactness)
 }
 
 // summary prints the short report on stdout.
-func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out string) {
+func tuneSummary(w io.Writer, rep tuneReport, nImages int, out string) {
 	widened := ""
 	if rep.WidenedSettings > 0 {
 		widened = fmt.Sprintf(" + %d widened", rep.WidenedSettings)
 	}
-	fmt.Fprintf(w, "tuned on %s: %d grid + %d refined%s settings, %.1f s\n", plural(len(t.images), "image"), rep.GridSize, rep.Refined, widened, rep.Seconds)
+	fmt.Fprintf(w, "tuned on %s: %d grid + %d refined%s settings, %.1f s\n", plural(nImages, "image"), rep.GridSize, rep.Refined, widened, rep.Seconds)
 	fmt.Fprintf(w, "metric:              %s (%s)\n", rep.Metric, rep.MetricChoice)
 	var split, unsplit []string
 	for _, m := range rep.TruthMaps {
@@ -744,14 +723,14 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	if len(unsplit) > 0 {
 		fmt.Fprintf(w, "truth masks:         %d of %s %s, each scored as one label (--split-masks off): %s\n", len(unsplit), plural(len(rep.TruthMaps), "truth"), isBinaryMasks(len(unsplit)), strings.Join(unsplit, ", "))
 	}
-	others := func(m *metrics) string {
+	others := func(m *score.Report) string {
 		if m == nil {
 			return ""
 		}
 		var p []string
-		for _, n := range []string{"f1", "map", "ari"} {
+		for _, n := range []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI} {
 			if n != rep.Metric {
-				p = append(p, fmt.Sprintf("%s %.4f", n, m.get(n)))
+				p = append(p, fmt.Sprintf("%s %.4f", n, m.Get(n)))
 			}
 		}
 		return "; " + strings.Join(p, ", ")
@@ -760,8 +739,8 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 		fmt.Fprintf(w, "automatic settings:  mean %s %.4f%s\n", rep.Metric, *rep.Baseline, others(rep.BaselineMetrics))
 	}
 	var parts []string
-	for d := 0; d < numDims; d++ {
-		parts = append(parts, dimNames[d]+" "+rep.Best[dimNames[d]])
+	for _, d := range tune.Params() {
+		parts = append(parts, d.String()+" "+rep.Best[d.String()])
 	}
 	per := "time not measured"
 	if rep.SecondsPerImage != nil {
@@ -770,14 +749,14 @@ func (t *tuner) summary(w io.Writer, rep tuneReport, best *evaluation, out strin
 	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
 	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
 	if n := len(rep.Tied); n > 1 {
-		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(costMargin-1))
+		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(tune.CostMargin-1))
 	}
 	for _, wd := range rep.Widenings {
-		fmt.Fprintf(w, "widened:             %s beyond its %s end %s to %s\n", wd.Parameter, wd.Side, fmtValue(wd.Edge), fmtValue(wd.Added))
+		fmt.Fprintf(w, "widened:             %s beyond its %s end %s to %s\n", wd.Parameter, wd.Side, tune.FormatValue(wd.Edge), tune.FormatValue(wd.Added))
 	}
 	if rep.CVScore != nil {
 		kind := fmt.Sprintf("%d-fold", rep.CVFolds)
-		if rep.CVFolds == len(t.images) {
+		if rep.CVFolds == nImages {
 			kind = "leave-one-out"
 		}
 		fmt.Fprintf(w, "cross-validated:     held-out %s %.4f (%s; expect about this on new images)\n", rep.Metric, *rep.CVScore, kind)

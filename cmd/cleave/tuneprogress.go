@@ -9,6 +9,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/cleave-seg/cleave/segment/score"
 	"golang.org/x/term"
 )
 
@@ -21,7 +22,7 @@ type tuneProgress struct {
 	mu      sync.Mutex
 	w       io.Writer
 	term    bool
-	metric  string
+	metric  score.Metric
 	minimum bool // the metric is minimized (vi)
 	done    int
 	planned int
@@ -31,24 +32,24 @@ type tuneProgress struct {
 	width   int // length of the last terminal line
 }
 
-func newTuneProgress(w io.Writer, metric string) *tuneProgress {
-	p := &tuneProgress{w: w, metric: metric, minimum: metric == "vi"}
+func newTuneProgress(w io.Writer, metric score.Metric) *tuneProgress {
+	p := &tuneProgress{w: w, metric: metric, minimum: metric.LowerIsBetter()}
 	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 		p.term = true
 	}
 	return p
 }
 
-// plan adds n settings to those planned.
-func (p *tuneProgress) plan(n int) {
+// Plan adds n settings to those planned.
+func (p *tuneProgress) Plan(n int) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.planned += n
 }
 
-// settingDone counts one evaluated setting with its mean score v (NaN
+// SettingDone counts one evaluated setting with its mean score v (NaN
 // when it failed on an image).
-func (p *tuneProgress) settingDone(v float64) {
+func (p *tuneProgress) SettingDone(v float64) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.done++
@@ -85,8 +86,8 @@ func (p *tuneProgress) redraw(stage string) {
 	p.width, p.last = len(s), time.Now()
 }
 
-// stage reports the end of a stage: a line of its own off a terminal.
-func (p *tuneProgress) stage(name string) {
+// Stage reports the end of a stage: a line of its own off a terminal.
+func (p *tuneProgress) Stage(name string) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	if p.term {
