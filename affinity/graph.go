@@ -224,16 +224,16 @@ func (g *Graph) DropNegligible() {
 		j := int(g.Col[p])
 		return float64(g.Weight[p]) >= negligible*math.Max(deg[i], deg[j])
 	}
-	any := false
-	for i := 0; i < g.N && !any; i++ {
+	drop := false
+	for i := 0; i < g.N && !drop; i++ {
 		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
 			if !keep(i, p) {
-				any = true
+				drop = true
 				break
 			}
 		}
 	}
-	if !any {
+	if !drop {
 		return
 	}
 	// The structure may be shared with another graph (RegionGraph reuses

@@ -8,17 +8,26 @@ import (
 	"slices"
 )
 
-// Names accepted by FeatureOptions.
+// ColorSpace is the feature space of FeatureOptions.Space.
+type ColorSpace string
+
+// Normalization is the intensity normalization of FeatureOptions.Normalize.
+type Normalization string
+
+// FlattenMode is how FeatureOptions.Flatten removes the background.
+type FlattenMode string
+
+// Values accepted by FeatureOptions ("" means the first of each).
 const (
-	SpaceGray = "gray"
-	SpaceLab  = "lab"
+	SpaceGray ColorSpace = "gray"
+	SpaceLab  ColorSpace = "lab"
 
-	NormalizePercentile = "percentile"
-	NormalizeRange      = "range"
-	NormalizeBitDepth   = "bitdepth"
+	NormalizePercentile Normalization = "percentile"
+	NormalizeRange      Normalization = "range"
+	NormalizeBitDepth   Normalization = "bitdepth"
 
-	FlattenDivide   = "divide"
-	FlattenSubtract = "subtract"
+	FlattenDivide   FlattenMode = "divide"
+	FlattenSubtract FlattenMode = "subtract"
 )
 
 // FeatureOptions selects the per-pixel features. The zero value of each
@@ -31,14 +40,14 @@ type FeatureOptions struct {
 	// and b*/100 about -1.3..1.3) so that one intensity sigma suits gray
 	// and lab alike; Normalize does not apply to lab. A gray image in lab
 	// gives the L*/100 plane only.
-	Space string
+	Space ColorSpace
 	// Channel is -1 for all channels (luminance); N >= 0 uses channel N
 	// only (gray space; an error if the image has no channel N).
 	Channel int
 	// Normalize is "percentile" (default: the 0.1 and 99.9 percentiles map
 	// to 0 and 1, clipped), "range" (min..max) or "bitdepth" (divide by
 	// 2^bits - 1, clipped). A constant plane normalizes to all zeros.
-	Normalize string
+	Normalize Normalization
 	// Flatten is the shading-correction scale R in pixels (Gaussian sigma
 	// of the background estimate); 0 turns it off. It must not exceed the
 	// image diagonal (MakeFeatures refuses it before allocating): a
@@ -46,7 +55,7 @@ type FeatureOptions struct {
 	// filter's padded rows grow with it.
 	Flatten float64
 	// FlattenMode is "divide" (default) or "subtract".
-	FlattenMode string
+	FlattenMode FlattenMode
 }
 
 // OptionError reports an invalid option by its name (the name of the

@@ -101,7 +101,7 @@ func TestNormalizeRamp(t *testing.T) {
 	}
 	im := grayImage(100, 10, 16, ramp)
 	cases := []struct {
-		method string
+		method Normalization
 		want   func(v float64) float64
 	}{
 		{NormalizePercentile, func(v float64) float64 { return math.Min(math.Max((v-0.999)/(998.001-0.999), 0), 1) }},
@@ -131,9 +131,9 @@ func TestConstantImage(t *testing.T) {
 			v[i] = val
 		}
 		im := grayImage(40, 30, 16, v)
-		for _, norm := range []string{NormalizePercentile, NormalizeRange, NormalizeBitDepth} {
+		for _, norm := range []Normalization{NormalizePercentile, NormalizeRange, NormalizeBitDepth} {
 			for _, fl := range []float64{0, 7} {
-				for _, mode := range []string{FlattenDivide, FlattenSubtract} {
+				for _, mode := range []FlattenMode{FlattenDivide, FlattenSubtract} {
 					opt := FeatureOptions{Channel: -1, Normalize: norm, Flatten: fl, FlattenMode: mode}
 					f, err := MakeFeatures(im, opt, 2)
 					if err != nil {

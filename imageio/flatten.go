@@ -183,7 +183,7 @@ func meanOf(v []float32, w, h, workers int) float64 {
 // normalization applies afterwards; eps only guards near-black background.
 // An image whose mean is zero stays zero. It stops with ctx's error
 // once ctx is done.
-func flatten(ctx context.Context, f []float32, w, h int, R float64, mode string, workers int) ([]float32, error) {
+func flatten(ctx context.Context, f []float32, w, h int, R float64, mode FlattenMode, workers int) ([]float32, error) {
 	bg, err := gaussianBlurContext(ctx, f, w, h, R, workers)
 	if err != nil {
 		return nil, err

@@ -117,11 +117,11 @@ func shadedScene(multiplicative bool) (*Image, [2]int) {
 // multiplicative shading) or subtracting (additive) a smooth background
 // estimate makes them nearly equal, as flat-field correction is meant to
 // (common practice). Without correction the normalized levels differ by
-// more than 0.4, which is what makes global rules fail (DESIGN.md).
+// more than 0.4, which is what makes global thresholds fail.
 func TestFlattenRemovesShading(t *testing.T) {
 	for _, c := range []struct {
 		multiplicative bool
-		mode           string
+		mode           FlattenMode
 	}{{true, FlattenDivide}, {false, FlattenSubtract}} {
 		im, at := shadedScene(c.multiplicative)
 		plain, err := MakeFeatures(im, FeatureOptions{Channel: -1}, 2)

@@ -177,7 +177,7 @@ func percentileRange(v []float32, workers int) (float64, float64) {
 
 // normalize maps v to [0, 1] in place by the named method (see
 // FeatureOptions.Normalize); maxValue is 2^bits - 1 for "bitdepth".
-func normalize(v []float32, method string, maxValue float64, workers int) {
+func normalize(v []float32, method Normalization, maxValue float64, workers int) {
 	var lo, hi float64
 	switch method {
 	case NormalizeRange:

@@ -103,7 +103,7 @@ func TestMeshBackgroundRamp(t *testing.T) {
 func TestBackgroundSide(t *testing.T) {
 	in := []float64{-0.5, 0, 0.7, -0.7}
 	cases := []struct {
-		background string
+		background Background
 		want       []float64
 	}{
 		{"dark", []float64{0, 0, 0.7, 0}},

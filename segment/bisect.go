@@ -91,17 +91,10 @@ func stable(y []float64) bool {
 // recursive bisection computes, so the record shows the low spectrum.
 const topEigenpairs = 6
 
-// SplitTol is the eigensolver's residual tolerance for the Fiedler vectors
+// splitTol is the eigensolver's residual tolerance for the Fiedler vectors
 // of the parts below the top level.
-var SplitTol = 1e-4
+const splitTol = 1e-4
 
-// bisect performs recursive two-way normalized cuts (Shi and Malik 2000,
-// section 3.1): each part's Fiedler vector y = D^-1/2 z_1 of its own
-// subgraph is swept for the split of least Ncut; the split is accepted when
-// that Ncut is at most maxNcut and both sides hold at least minArea pixels.
-// Disconnected parts split into their components at no cost (Ncut 0).
-// The largest open part is split first, and splitting stops once maxRegions
-// regions exist (0: no limit).
 // cutOptions are the internal variations of bisect for its two callers:
 // the image's top-level cut and the re-cut of single objects.
 type cutOptions struct {
@@ -114,12 +107,19 @@ type cutOptions struct {
 	// to be split at all.
 	final func(nodes []int) bool
 	// noSpectrum skips the top-level spectrum: every solve is a k = 2
-	// solve at SplitTol (for the small graphs of object refinement).
+	// solve at splitTol (for the small graphs of object refinement).
 	noSpectrum bool
 	// tree records the split tree in cutResult.tree (see cutTree).
 	tree bool
 }
 
+// bisect performs recursive two-way normalized cuts (Shi and Malik 2000,
+// section 3.1): each part's Fiedler vector y = D^-1/2 z_1 of its own
+// subgraph is swept for the split of least Ncut; the split is accepted when
+// that Ncut is at most maxNcut and both sides hold at least minArea pixels.
+// Disconnected parts split into their components at no cost (Ncut 0).
+// The largest open part is split first, and splitting stops once maxRegions
+// regions exist (0: no limit).
 func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutOptions) (*cutResult, error) {
 	res := &cutResult{region: make([]int32, g.N)}
 	h := &partHeap{}
@@ -202,7 +202,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 			// sweep, and a residual of splitTol already fixes it far more
 			// finely than the Ncut threshold can tell; the top-level solve,
 			// whose eigenvalues are recorded, keeps the default tolerance.
-			opt.Tol = SplitTol
+			opt.Tol = splitTol
 		}
 		ep, err := eigen.SmallestContext(ctx, sub, k, opt)
 		if !res.short.note(err, ep, opt.Tol, sub.N) {

@@ -59,7 +59,7 @@ func TestRunCancelled(t *testing.T) {
 		}
 	}
 	in := Input{Width: w, Height: h, Planes: [][]float32{lum}, Luminance: lum}
-	for _, method := range []string{MethodBisect, MethodKway} {
+	for _, method := range []Method{MethodBisect, MethodKway} {
 		p := Params{Superpixels: 0, Radius: 2, AutoSigmaI: true, AutoSigmaX: true, Compactness: 20, Method: method,
 			MaxSegments: 4, MaxNcut: 0.15, MinArea: 5, Workers: 1, Seed: 1}
 		if _, err := Run(context.Background(), in, p); err != nil {

@@ -68,7 +68,7 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background string, radius func() float64, seed uint64) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background Background, radius func() float64, seed uint64) (cls []int32, field []float32) {
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
 		mv := statsOf(planes, reg, n).mean
@@ -95,14 +95,14 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
 		mask := make([]bool, len(reg))
-		any := false
+		found := false
 		for i, r := range reg {
 			if cls[r] == ref {
 				mask[i] = true
-				any = true
+				found = true
 			}
 		}
-		if !any {
+		if !found {
 			return cls, nil
 		}
 		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale)
@@ -137,7 +137,7 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 // as one huge object in every later round. B₀ depends on the image only,
 // so the glow scores near 0 like any other background and the first
 // grouping is already one of objects against their local background.
-func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background string) {
+func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background Background) {
 	b0 := meshBackground(lum, w, h, meshCell(radius, w, h))
 	sum := make([]float64, len(score))
 	for i, r := range reg {
@@ -159,7 +159,7 @@ func initialScores(score []float64, lum []float32, w, h int, reg []int32, area [
 // under a bright glow) pulls Otsu's threshold below 0 and the background
 // itself becomes the object class. Other backgrounds are left as they
 // are.
-func backgroundSide(score []float64, background string) {
+func backgroundSide(score []float64, background Background) {
 	for r, v := range score {
 		switch background {
 		case "dark":
@@ -174,7 +174,7 @@ func backgroundSide(score []float64, background string) {
 // grouping found one class only (a single region, or regions of one
 // level): nothing stands out, so there are no objects. Without a named
 // background it returns cls as it is.
-func asBackground(cls []int32, C int, background string) []int32 {
+func asBackground(cls []int32, C int, background Background) []int32 {
 	if background != "dark" && background != "bright" {
 		return cls
 	}
@@ -203,7 +203,7 @@ func asBackground(cls []int32, C int, background string) []int32 {
 // glow (they were one object without an edge on its outline as a whole);
 // against a field that now follows the glow it stands out again, while
 // the glow scores near 0. It reports whether any region changed.
-func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg int32, background string) bool {
+func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg int32, background Background) bool {
 	if background != "dark" && background != "bright" {
 		return false
 	}
@@ -250,7 +250,7 @@ const detectSigmas = 3
 // faint nuclei stand at I/B 2.3 to 2.7, the bright ones at 6 to 9, the
 // threshold at about 2.7, and c is about 0.2); the noise rule keeps them.
 // It only ever moves regions out of the background class.
-func noiseBound(cls []int32, score []float64, lum, field []float32, ref []bool, background string) []int32 {
+func noiseBound(cls []int32, score []float64, lum, field []float32, ref []bool, background Background) []int32 {
 	c, ok := noiseCV(lum, field, ref)
 	if !ok {
 		return cls
@@ -388,7 +388,7 @@ func orderClasses(cls []int32, key, wt []float64, C int) []int32 {
 	return out
 }
 
-func referenceClass(cls []int32, area []float64, C int, background string) int32 {
+func referenceClass(cls []int32, area []float64, C int, background Background) int32 {
 	switch background {
 	case "dark":
 		return 0
@@ -490,7 +490,7 @@ func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
 // objectShare is the fraction of the image covered by the largest
 // connected piece (4-neighbours) of pixels outside the background class of
 // cls (regions reg of a w x h image, area per region).
-func objectShare(cls []int32, reg []int32, w, h int, area []float64, C int, background string) float64 {
+func objectShare(cls []int32, reg []int32, w, h int, area []float64, C int, background Background) float64 {
 	ref := referenceClass(cls, area, C, background)
 	group := make([]int32, len(reg))
 	for i, r := range reg {

@@ -61,7 +61,7 @@ func TestNoiseCV(t *testing.T) {
 func TestNoiseBound(t *testing.T) {
 	lum, field, ref := noiseScene(256, 256, 0.1, 5)
 	cases := []struct {
-		background string
+		background Background
 		ratio      []float64 // I/B of each region
 		cls        []int32   // input classes
 		want       []int32

@@ -26,7 +26,7 @@ const faintSigmas = 7
 // stand out, and each connected piece of them (4-neighbours, at least
 // minArea pixels) becomes a new region of the object class next to the
 // background. It returns the updated region map, count and classes.
-func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg []int32, nreg int, cls []int32, bg int32, background string, minArea int) ([]int32, int, []int32) {
+func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg []int32, nreg int, cls []int32, bg int32, background Background, minArea int) ([]int32, int, []int32) {
 	sum := make([]float64, nsp)
 	cnt := make([]float64, nsp)
 	inBg := make([]bool, nsp)
@@ -59,15 +59,15 @@ func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg [
 		sign, obj = -1, bg-1
 	}
 	group := make([]int32, len(reg))
-	any := false
+	found := false
 	for i, k := range nodeOf {
 		group[i] = -1
 		if inBg[k] && sign*(score[k]-m) > t {
 			group[i] = 0
-			any = true
+			found = true
 		}
 	}
-	if !any {
+	if !found {
 		return reg, nreg, cls
 	}
 	pieces, n := componentsOfGroups(group, w, h, minArea)

@@ -14,7 +14,7 @@ import (
 // Flipped (a dark square on a bright background) the same holds.
 func TestFaintObjects(t *testing.T) {
 	const w, h, cell = 128, 128, 8
-	for _, background := range []string{"dark", "bright"} {
+	for _, background := range []Background{BackgroundDark, BackgroundBright} {
 		r := rand.New(rand.NewPCG(5, 6))
 		lum := make([]float32, w*h)
 		field := make([]float32, w*h)

@@ -45,7 +45,7 @@ type split struct {
 // sweepSplit sorts the nodes by the indicator vector y (ties by index, so the
 // order is deterministic) and evaluates the exact Ncut of every prefix split
 // in one pass: moving node i into A changes the cut by d_i - 2 w(i, A), and
-// assoc(A,V) grows by d_i (prefix sums; DESIGN.md). Only splits whose sides
+// assoc(A,V) grows by d_i (prefix sums). Only splits whose sides
 // both hold at least minArea pixels are admissible (area[i] pixels per node;
 // nil means 1 each). ok is false when no split is admissible.
 func sweepSplit(g *affinity.Graph, deg []float64, y []float64, area []int, minArea int) (s split, ok bool) {

@@ -433,7 +433,7 @@ type edgeTest struct {
 // sourceContrast is the contrast |I/B - 1| of an object sourceRatio
 // times brighter than a dark background, or sourceRatio times darker
 // than a bright one.
-func sourceContrast(background string) float64 {
+func sourceContrast(background Background) float64 {
 	if background == "bright" {
 		return 1 - 1.0/sourceRatio
 	}

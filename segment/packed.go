@@ -11,13 +11,13 @@ import (
 // objects fill the field (grains of a polycrystal, cells of a monolayer,
 // powder particles) and the background is the network of thin lines
 // between them.
-const BackgroundLines = "lines"
+const BackgroundLines Background = "lines"
 
 // Params.Background values for objects on a background: the darkest
 // class is the background (objects brighter), or the brightest is.
 const (
-	BackgroundDark   = "dark"
-	BackgroundBright = "bright"
+	BackgroundDark   Background = "dark"
+	BackgroundBright Background = "bright"
 )
 
 // lineScales are the scales σ (pixels) at which lines are looked for,

@@ -46,7 +46,7 @@ const (
 // be the dark side of a blurred object's rim), and so are regions whose
 // bounding box exceeds ringMaxShare of the image. It returns whether a
 // region changed class.
-func ringObjects(lum []float32, t *edgeTest, w, h int, reg []int32, cls []int32, bg int32, background string) bool {
+func ringObjects(lum []float32, t *edgeTest, w, h int, reg []int32, cls []int32, bg int32, background Background) bool {
 	if background != "dark" && background != "bright" {
 		return false
 	}

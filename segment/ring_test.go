@@ -89,7 +89,7 @@ func TestRingObjects(t *testing.T) {
 		name       string
 		contrast   float64
 		blurred    bool
-		background string
+		background Background
 		want       bool
 	}{
 		{"sharp 5 sd bright on dark", 0.05, false, "dark", true},

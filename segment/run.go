@@ -11,11 +11,19 @@ import (
 	"github.com/cleave-seg/cleave/affinity"
 )
 
-// Methods and backgrounds accepted by Params.
+// Method is the cutting method of Params.Method.
+type Method string
+
+// Methods accepted by Params.
 const (
-	MethodBisect = "bisect"
-	MethodKway   = "kway"
+	MethodBisect Method = "bisect"
+	MethodKway   Method = "kway"
 )
+
+// Background says which part of the image is background (Params.
+// Background): "" none (the label map holds the regions of the cut),
+// BackgroundDark, BackgroundBright or BackgroundLines.
+type Background string
 
 // Automatic choices (stated in the command's help and the README).
 const (
@@ -84,19 +92,34 @@ type Params struct {
 	Grain      bool
 	GrainModel affinity.Grain
 
-	Method      string  // MethodBisect or MethodKway
+	Method      Method  // MethodBisect or MethodKway
 	Segments    int     // bisect: region limit (0 none); kway: K (0 from the eigengap)
 	MaxSegments int     // kway with K = 0: largest K considered
 	MaxNcut     float64 // bisect: largest Ncut value of an accepted split
 	MinArea     int     // pixels: smallest region or object kept
 
-	Classes    int    // 0: no grouping; >= 2: number of intensity classes
-	Background string // "", "dark", "bright" or BackgroundLines
+	Classes    int        // 0: no grouping; >= 2: number of intensity classes
+	Background Background // "", BackgroundDark, BackgroundBright or BackgroundLines
 
 	Workers   int
 	Seed      uint64
 	MaxMemory int64 // bytes; Run refuses to start a stage estimated above it (EstimateStages)
 
+}
+
+// DefaultParams are the parameters cleave starts from: the superpixel
+// count and both kernel widths left to the image, compactness 20, a
+// pixel-graph radius of 5, recursive bisection up to a normalized cut of
+// 0.15, regions and objects of at least 20 pixels, no classes, the
+// intervening-contour cue on, seed 1, an 8 GiB memory bound and all
+// cores. They were chosen on the project's generated nuclei and plate
+// scenes (DEVELOPERS.md lists the seeds). MaxSegments (12) matters only
+// to the k-way method.
+func DefaultParams() Params {
+	return Params{
+		Superpixels: -1, Compactness: 20, Radius: 5, AutoSigmaI: true, AutoSigmaX: true, Contour: true,
+		Method: MethodBisect, MaxSegments: 12, MaxNcut: 0.15, MinArea: 20, Seed: 1, MaxMemory: 8 << 30,
+	}
 }
 
 // Ranges of the parameters. Validate refuses values outside them, so that

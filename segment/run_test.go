@@ -37,14 +37,14 @@ func discs(w, h int, seed uint64) Input {
 	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
 }
 
-// Same labels for any worker count (DESIGN.md: determinism), on the pixel
+// Same labels for any worker count (DEVELOPERS.md, habits: determinism), on the pixel
 // graph and on superpixels, for both methods.
 func TestRunWorkersIdentical(t *testing.T) {
 	for _, c := range []struct {
 		name        string
 		w, h        int
 		superpixels int
-		method      string
+		method      Method
 	}{
 		{"pixels bisect", 64, 48, 0, MethodBisect},
 		{"pixels kway", 64, 48, 0, MethodKway},
@@ -91,8 +91,8 @@ func TestRunDegenerate(t *testing.T) {
 			for i := range f {
 				f[i] = c.v
 			}
-			for _, m := range []string{MethodBisect, MethodKway} {
-				for _, bg := range []string{"dark", "bright"} {
+			for _, m := range []Method{MethodBisect, MethodKway} {
+				for _, bg := range []Background{BackgroundDark, BackgroundBright} {
 					p := defaultParams()
 					p.Method, p.Classes, p.Background = m, 2, bg
 					res, err := Run(context.Background(), Input{Width: c.w, Height: c.h, Planes: [][]float32{f}, Luminance: f}, p)
@@ -119,42 +119,50 @@ func TestRunDegenerate(t *testing.T) {
 }
 
 func TestParamsValidate(t *testing.T) {
-	bad := []func(*Params){
-		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, 0 },
-		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, -1 },
-		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, math.NaN() },
-		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, math.Inf(1) },
-		func(p *Params) { p.Radius = 0 },
-		func(p *Params) { p.MaxNcut = 0 },
-		func(p *Params) { p.Method = "spectral" },
-		func(p *Params) { p.Classes = 1 },
-		func(p *Params) { p.Background = "grey"; p.Classes = 2 },
-		func(p *Params) { p.Background = "dark" },
-		func(p *Params) { p.Segments = -2 },
+	bad := []struct {
+		name string // the parameter the error must name
+		set  func(*Params)
+	}{
+		{"sigma-i", func(p *Params) { p.AutoSigmaI, p.SigmaI = false, 0 }},
+		{"sigma-i", func(p *Params) { p.AutoSigmaI, p.SigmaI = false, -1 }},
+		{"sigma-i", func(p *Params) { p.AutoSigmaI, p.SigmaI = false, math.NaN() }},
+		{"sigma-x", func(p *Params) { p.AutoSigmaX, p.SigmaX = false, math.Inf(1) }},
+		{"radius", func(p *Params) { p.Radius = 0 }},
+		{"max-ncut", func(p *Params) { p.MaxNcut = 0 }},
+		{"method", func(p *Params) { p.Method = "spectral" }},
+		{"classes", func(p *Params) { p.Classes = 1 }},
+		{"background", func(p *Params) { p.Background = "grey"; p.Classes = 2 }},
+		{"background", func(p *Params) { p.Background = BackgroundDark }},
+		{"segments", func(p *Params) { p.Segments = -2 }},
 		// Ranges: each bound plus one step.
-		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MinSigmaI/2 },
-		func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MaxSigmaI*1.01 },
-		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, MinSigmaX/2 },
-		func(p *Params) { p.AutoSigmaX, p.SigmaX = false, 1e308 },
-		func(p *Params) { p.Radius = MaxRadius + 1 },
-		func(p *Params) { p.Superpixels = MaxSuperpixels + 1 },
-		func(p *Params) { p.Compactness = MaxCompactness + 1 },
-		func(p *Params) { p.MaxNcut = 2.0001 },
-		func(p *Params) { p.Method, p.Segments = MethodKway, MaxKwaySegments+1 },
-		func(p *Params) { p.Segments = MaxBisectSegments + 1 },
-		func(p *Params) { p.MaxSegments = MaxKwaySegments + 1 },
-		func(p *Params) { p.Method, p.MaxSegments = MethodKway, 1 },
-		func(p *Params) { p.MinArea = MaxMinArea + 1 },
-		func(p *Params) { p.Classes = MaxClasses + 1 },
-		func(p *Params) { p.Classes = 1 << 31 },
+		{"sigma-i", func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MinSigmaI/2 }},
+		{"sigma-i", func(p *Params) { p.AutoSigmaI, p.SigmaI = false, MaxSigmaI*1.01 }},
+		{"sigma-x", func(p *Params) { p.AutoSigmaX, p.SigmaX = false, MinSigmaX/2 }},
+		{"sigma-x", func(p *Params) { p.AutoSigmaX, p.SigmaX = false, 1e308 }},
+		{"radius", func(p *Params) { p.Radius = MaxRadius + 1 }},
+		{"superpixels", func(p *Params) { p.Superpixels = MaxSuperpixels + 1 }},
+		{"compactness", func(p *Params) { p.Compactness = MaxCompactness + 1 }},
+		{"compactness", func(p *Params) { p.Compactness = 0 }},
+		{"max-ncut", func(p *Params) { p.MaxNcut = 2.0001 }},
+		{"segments", func(p *Params) { p.Method, p.Segments = MethodKway, MaxKwaySegments+1 }},
+		{"segments", func(p *Params) { p.Segments = MaxBisectSegments + 1 }},
+		{"max-segments", func(p *Params) { p.MaxSegments = MaxKwaySegments + 1 }},
+		{"max-segments", func(p *Params) { p.Method, p.MaxSegments = MethodKway, 1 }},
+		{"min-area", func(p *Params) { p.MinArea = MaxMinArea + 1 }},
+		{"min-area", func(p *Params) { p.MinArea = -1 }},
+		{"classes", func(p *Params) { p.Classes = MaxClasses + 1 }},
+		{"classes", func(p *Params) { p.Classes = 1 << 31 }},
 	}
-	for i, f := range bad {
+	for i, c := range bad {
 		p := defaultParams()
-		f(&p)
+		c.set(&p)
 		var pe *ParamError
-		if err := p.Validate(); !errors.As(err, &pe) {
-			t.Errorf("case %d: %+v accepted (err %v)", i, p, err)
+		if err := p.Validate(); !errors.As(err, &pe) || pe.Name != c.name {
+			t.Errorf("case %d: %+v: error %v, want a ParamError naming %s", i, p, err, c.name)
 		}
+	}
+	if err := DefaultParams().Validate(); err != nil {
+		t.Errorf("DefaultParams rejected: %v", err)
 	}
 	if err := defaultParams().Validate(); err != nil {
 		t.Errorf("defaults rejected: %v", err)

@@ -136,7 +136,7 @@ func objectWarnings(p Params, labels []int32, n int) []Warning {
 				other = BackgroundBright
 			}
 			w.Message = fmt.Sprintf("no objects found: every region fell into the %s class, the one taken as background; if the objects are %s than their surroundings use \x60background\x60 %s, for faint objects try \x60classes\x60 3, for uneven light try \x60flatten\x60 (about twice the object diameter)",
-				p.Background, map[string]string{BackgroundBright: "darker", BackgroundDark: "brighter"}[other], other)
+				p.Background, map[Background]string{BackgroundBright: "darker", BackgroundDark: "brighter"}[other], other)
 		}
 		return []Warning{w}
 	}

@@ -103,7 +103,7 @@ func TestSegmentScenes(t *testing.T) {
 	}
 }
 
-// Same bytes out for --workers 1 and --workers 2 (DESIGN.md: determinism),
+// Same bytes out for --workers 1 and --workers 2 (DEVELOPERS.md, habits: results byte-identical for any --workers),
 // on a shipped example, for every output but the record (which holds
 // timings).
 func TestSegmentWorkersSameBytes(t *testing.T) {

@@ -92,7 +92,7 @@ func parseSegment(args []string, stderr io.Writer) (*pflag.FlagSet, *settings, *
 		return nil, nil, nil, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, c.workers)
 	}
 	if c.workers == 0 {
-		c.workers = runtime.NumCPU()
+		c.workers = runtime.GOMAXPROCS(0)
 	}
 	return fs, s, c, nil
 }

@@ -83,15 +83,8 @@ const (
 	maxWorkers = 1024
 )
 
-// Defaults, chosen on the project's generated nuclei and plate scenes (see
-// the README for how they were measured).
-const (
-	defaultRadius      = 5
-	defaultCompactness = 20
-	defaultMaxNcut     = 0.15
-	defaultMinArea     = 20
-	defaultMaxSegments = 12
-)
+// defaults are the library's default parameters, the flags' defaults.
+var defaults = segment.DefaultParams()
 
 // addParamFlags registers the parameter flags on fs, bound to s.
 func addParamFlags(fs *pflag.FlagSet, s *settings) {
@@ -109,24 +102,24 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
 		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
 		segment.SuperpixelsPerObject, segment.SuperpixelsPerObject, segment.MaxAutoSuperpixels, segment.MinPixelsPerScaledSuperpixel, segment.MaxScaledSuperpixels, segment.MaxAutoSuperpixels))
-	fs.Float64Var(&s.Compactness, "compactness", defaultCompactness, fmt.Sprintf("SLIC compactness: higher gives rounder superpixels, lower follows edges more closely (above 0, at most %d)", segment.MaxCompactness))
-	fs.IntVar(&s.Radius, "radius", defaultRadius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
+	fs.Float64Var(&s.Compactness, "compactness", defaults.Compactness, fmt.Sprintf("SLIC compactness: higher gives rounder superpixels, lower follows edges more closely (above 0, at most %d)", segment.MaxCompactness))
+	fs.IntVar(&s.Radius, "radius", defaults.Radius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
 	fs.StringVar(&s.SigmaI, "sigma-i", "auto", fmt.Sprintf("intensity kernel width in normalized intensity units (0..1), %g to %g, or auto", segment.MinSigmaI, segment.MaxSigmaI))
 	fs.StringVar(&s.SigmaX, "sigma-x", "auto", fmt.Sprintf("spatial kernel width in pixels, %g to %g, or auto (0.8 x radius; 2 x superpixel spacing)", segment.MinSigmaX, segment.MaxSigmaX))
 	fs.StringVar(&s.Contour, "contour", "on", "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
 	fs.StringVar(&s.Grain, "grain", "off", "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
-	fs.StringVar(&s.Method, "method", segment.MethodBisect, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
+	fs.StringVar(&s.Method, "method", string(defaults.Method), "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
 	fs.IntVar(&s.Segments, "segments", 0, fmt.Sprintf("bisect: stop at this many regions (0 = no limit, at most %d); kway: K (0 = from the largest eigengap; at most %d and the nodes of the graph)", segment.MaxBisectSegments, segment.MaxKwaySegments))
-	fs.IntVar(&s.MaxSegments, "max-segments", defaultMaxSegments, fmt.Sprintf("kway with --segments 0: the largest K considered (2 to %d)", segment.MaxKwaySegments))
-	fs.Float64Var(&s.MaxNcut, "max-ncut", defaultMaxNcut, fmt.Sprintf("bisect: accept a split only when its normalized cut is at most this (above 0, at most %d: no cut exceeds it)", segment.MaxNcutLimit))
-	fs.IntVar(&s.MinArea, "min-area", defaultMinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
+	fs.IntVar(&s.MaxSegments, "max-segments", defaults.MaxSegments, fmt.Sprintf("kway with --segments 0: the largest K considered (2 to %d)", segment.MaxKwaySegments))
+	fs.Float64Var(&s.MaxNcut, "max-ncut", defaults.MaxNcut, fmt.Sprintf("bisect: accept a split only when its normalized cut is at most this (above 0, at most %d: no cut exceeds it)", segment.MaxNcutLimit))
+	fs.IntVar(&s.MinArea, "min-area", defaults.MinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
 	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", minPixelSize, maxPixelSize))
 	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", maxUnitLen))
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
 	fs.StringVar(&s.LabelsFormat, "labels-format", imageio.LabelsPNG, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
-	fs.Uint64Var(&s.Seed, "seed", 1, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
+	fs.Uint64Var(&s.Seed, "seed", defaults.Seed, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
 // paramNames lists the keys a --params file may hold (the json tags of
@@ -341,7 +334,7 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	if !ok {
 		ch = 0 // a channel name: one channel
 	}
-	r.features = imageio.FeatureOptions{Space: s.Features, Channel: ch, Normalize: s.Normalize, Flatten: s.Flatten, FlattenMode: s.FlattenMode}
+	r.features = imageio.FeatureOptions{Space: imageio.ColorSpace(s.Features), Channel: ch, Normalize: imageio.Normalization(s.Normalize), Flatten: s.Flatten, FlattenMode: imageio.FlattenMode(s.FlattenMode)}
 	if err := r.features.Validate(); err != nil {
 		return nil, &usageError{err}
 	}
@@ -351,9 +344,9 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	}
 	r.selection = sel
 	p := segment.Params{
-		Compactness: s.Compactness, Radius: s.Radius, Method: s.Method, Segments: s.Segments,
+		Compactness: s.Compactness, Radius: s.Radius, Method: segment.Method(s.Method), Segments: s.Segments,
 		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
-		Background: s.Background, Workers: workers, Seed: s.Seed,
+		Background: segment.Background(s.Background), Workers: workers, Seed: s.Seed,
 	}
 	switch s.Contour {
 	case "on":

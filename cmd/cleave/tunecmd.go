@@ -407,7 +407,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		t.Space[tune.SigmaX] = tune.DefaultAxis(tune.SigmaX, tune.LogSpaced(b/2, 2*b, 3))
 	}
 	if !given[tune.MaxNcut] {
-		t.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaultMaxNcut / 2, defaultMaxNcut})
+		t.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaults.MaxNcut / 2, defaults.MaxNcut})
 	}
 	if !given[tune.Radius] {
 		t.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{float64(s.Radius)})

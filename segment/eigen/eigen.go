@@ -65,7 +65,7 @@ type Options struct {
 	// DefaultMaxIter.
 	MaxIter int
 	// Workers is the number of goroutines for the sparse products and
-	// block reductions; 0 means runtime.NumCPU(). Results are
+	// block reductions; 0 means runtime.GOMAXPROCS(0). Results are
 	// byte-identical for any value.
 	Workers int
 	// Seed seeds the random vectors used when the coarse levels supply

@@ -16,8 +16,8 @@ import (
 // (see testdata/eigen/README.txt).
 var coinsPath = filepath.Join("..", "..", "testdata", "eigen", "coins152x192.png")
 
-// coinsParams are the pixel-graph parameters of the numerics section of
-// DESIGN.md (r = 5, sigma_I = 0.1, sigma_X = 4).
+// coinsParams are the pixel-graph parameters of the scipy comparison
+// (testdata/eigen/scipy_compare.sh: r = 5, sigma_I = 0.1, sigma_X = 4).
 var coinsParams = affinity.PixelParams{Radius: 5, SigmaI: 0.1, SigmaX: 4}
 
 // coinsGraph loads the coins image (intensities / 255) and builds its

@@ -103,9 +103,10 @@ func parallel(n, workers int, f func(c int)) {
 	wg.Wait()
 }
 
+// numWorkers maps w < 1 to GOMAXPROCS, as every parallel loop of cleave does.
 func numWorkers(w int) int {
 	if w <= 0 {
-		return runtime.NumCPU()
+		return runtime.GOMAXPROCS(0)
 	}
 	return w
 }
