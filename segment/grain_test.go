@@ -5,7 +5,7 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 )
 
 // TestGrainCacheWorkersInput runs a generated machined surface with and

@@ -8,7 +8,7 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 )
 
 func defaultParams() Params {

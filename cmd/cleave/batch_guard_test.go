@@ -16,7 +16,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 	"golang.org/x/sys/unix"
 )
 

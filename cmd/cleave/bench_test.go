@@ -7,7 +7,7 @@ import (
 	"path/filepath"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 	"golang.org/x/image/tiff"
 )
 

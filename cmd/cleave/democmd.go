@@ -11,7 +11,7 @@ import (
 	"strings"
 	"time"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
 )

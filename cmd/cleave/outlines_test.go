@@ -14,8 +14,8 @@ import (
 	"strconv"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/scenes"
 )
 
 // geoFeature is a GeoJSON Feature as encoding/json reads it.

@@ -16,8 +16,8 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )

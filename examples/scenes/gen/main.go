@@ -18,7 +18,7 @@ import (
 	"path/filepath"
 	"strings"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 )
 
 func main() {

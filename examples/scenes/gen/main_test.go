@@ -9,7 +9,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/examples/scenes"
+	"github.com/cleave-seg/cleave/scenes"
 )
 
 func TestGenerate(t *testing.T) {

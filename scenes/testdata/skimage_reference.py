@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Reference values for the examples/scenes tests, from Debian's python3-skimage.
+"""Reference values for the scenes package tests, from Debian's python3-skimage.
 
 Run from this directory with the system interpreter:
 
