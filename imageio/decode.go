@@ -357,3 +357,9 @@ func channelsFor(gray bool) int {
 }
 
 func be16(p []byte) uint32 { return uint32(p[0])<<8 | uint32(p[1]) }
+
+// Extensions are the file name extensions of the formats the decoders read
+// (lower case; a fresh slice each call).
+func Extensions() []string {
+	return []string{".png", ".tif", ".tiff", ".jpg", ".jpeg", ".bmp", ".gif", ".webp"}
+}

@@ -9,10 +9,12 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"maps"
 	"os"
 	"path"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -120,12 +122,8 @@ Flags:
 Exit status: 0 all images ok, 1 an image failed or the run stopped early,
 2 wrong usage or DIR in use by another run (nothing is written then).
 
-%s`, strings.Join(imageExtensions, " "), indexName, lockName, batchExample, flagUsages(fs), caution)
+%s`, strings.Join(imageio.Extensions(), " "), indexName, lockName, batchExample, flagUsages(fs), caution)
 }
-
-// imageExtensions are the file name extensions batch treats as images
-// (the formats imageio decodes), compared without regard to case.
-var imageExtensions = []string{".png", ".tif", ".tiff", ".jpg", ".jpeg", ".bmp", ".gif", ".webp"}
 
 // batchOptions are batch's flags that are not segmentation parameters.
 type batchOptions struct {
@@ -632,14 +630,10 @@ func describeErr(err error) string {
 	return err.Error()
 }
 
+// isImageName reports whether a file name has the extension of an image
+// imageio reads (imageio.Extensions), in any case.
 func isImageName(name string) bool {
-	ext := strings.ToLower(filepath.Ext(name))
-	for _, e := range imageExtensions {
-		if ext == e {
-			return true
-		}
-	}
-	return false
+	return slices.Contains(imageio.Extensions(), strings.ToLower(filepath.Ext(name)))
 }
 
 // globsAllow applies --include and --exclude to a relative path: a pattern
@@ -1074,9 +1068,6 @@ func fileSHA256(p string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// outputSuffixes are the files processImage may write for one stem.
-var outputSuffixes = []string{".labels.png", ".labels.tif", ".overlay.png", ".preview.png", ".classes.png", ".classes.tif", ".regions.csv", ".outlines.geojson", ".json"}
-
 // outputDirs are the folders, relative to --out and slash-separated,
 // that hold the outputs of inputs, with the top of --out itself.
 func outputDirs(inputs []batchInput) []string {
@@ -1084,7 +1075,7 @@ func outputDirs(inputs []batchInput) []string {
 	for _, in := range inputs {
 		dirs[path.Dir(in.Stem)] = true
 	}
-	return sortedKeys(dirs)
+	return slices.Sorted(maps.Keys(dirs))
 }
 
 // removeTempFiles deletes, in the folders dirs of --out (relative,
@@ -1110,13 +1101,4 @@ func removeTempFiles(out string, dirs []string) error {
 		}
 	}
 	return nil
-}
-
-func sortedKeys(m map[string]bool) []string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	return keys
 }

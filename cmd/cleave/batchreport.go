@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"encoding/csv"
 	"encoding/json"
 	"errors"
@@ -9,6 +8,7 @@ import (
 	"html/template"
 	"io"
 	"io/fs"
+	"maps"
 	"net/url"
 	"os"
 	"path"
@@ -202,11 +202,11 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			}
 			for _, name := range rec.Outputs {
 				switch {
-				case strings.HasSuffix(name, ".regions.csv"):
+				case strings.HasSuffix(name, suffixRegions):
 					r.Table = path.Join(path.Dir(in.Stem), name)
-				case strings.HasSuffix(name, ".outlines.geojson"):
+				case strings.HasSuffix(name, suffixOutlines):
 					r.Outlines = path.Join(path.Dir(in.Stem), name)
-				case strings.HasSuffix(name, ".preview.png"):
+				case strings.HasSuffix(name, suffixPreview):
 					r.Preview = path.Join(path.Dir(in.Stem), name)
 				}
 			}
@@ -527,19 +527,15 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHi
 	c := countRows(rows)
 	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped,
 		Date: now.UTC().Format("2006-01-02 15:04 UTC"), Summary: summarize(rows, sizes)}
-	m := map[string]any{}
-	data, _ := json.Marshal(idx.Settings)
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.UseNumber()
-	_ = dec.Decode(&m)
-	for _, k := range sortedKeysAny(m) {
-		d.Params = append(d.Params, reportParam{k, fmt.Sprint(m[k])})
+	m := idx.Settings.asMap()
+	for _, k := range slices.Sorted(maps.Keys(m)) {
+		d.Params = append(d.Params, reportParam{k, paramText(m[k])})
 	}
 	for _, r := range rows {
 		if r.Plane != nil {
 			r.Input = fmt.Sprintf("%s, plane %d", r.Input, *r.Plane)
 		}
-		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + ".overlay.png"), Record: relURL(r.Stem + ".json"), StatusText: r.Status, Class: r.Status}
+		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + suffixOverlay), Record: relURL(r.Stem + suffixRecord), StatusText: r.Status, Class: r.Status}
 		if r.Labels != "" {
 			rr.LabelsLink = relURL(r.Labels)
 		}
@@ -570,13 +566,21 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHi
 	return reportTemplate.Execute(w, d)
 }
 
-func sortedKeysAny(m map[string]any) []string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
+// paramText is a setting's value as the report shows it: text as it is, a
+// channel as its index or name, a number as JSON writes it (so that the
+// report agrees with the params files).
+func paramText(v any) string {
+	switch v := v.(type) {
+	case string:
+		return v
+	case channelArg:
+		if n, ok := v.index(); ok {
+			return strconv.Itoa(n)
+		}
+		return string(v)
 	}
-	sort.Strings(keys)
-	return keys
+	b, _ := json.Marshal(v)
+	return string(b)
 }
 
 var reportTemplate = template.Must(template.New("report").Parse(`<!DOCTYPE html>

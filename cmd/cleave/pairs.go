@@ -8,9 +8,6 @@ import (
 	"strings"
 )
 
-// imageExts are the file extensions read as images (lower case).
-var imageExts = map[string]bool{".png": true, ".tif": true, ".tiff": true, ".jpg": true, ".jpeg": true, ".bmp": true, ".gif": true, ".webp": true}
-
 // truthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
 // NAME_truth.png all belong to the image NAME.
 var truthSuffixes = []string{".truth", "_mask", "_truth"}
@@ -53,7 +50,7 @@ func listImageFiles(dir string) ([]string, error) {
 	var files []string
 	for _, e := range ents {
 		if e.Type().IsRegular() || e.Type()&os.ModeSymlink != 0 {
-			if imageExts[strings.ToLower(filepath.Ext(e.Name()))] && !strings.HasPrefix(e.Name(), ".") {
+			if isImageName(e.Name()) && !strings.HasPrefix(e.Name(), ".") {
 				files = append(files, filepath.Join(dir, e.Name()))
 			}
 		}

@@ -9,8 +9,10 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"maps"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -83,11 +85,25 @@ type labelMapInfo struct {
 	ResolutionNote string `json:"resolution_note,omitempty"`
 }
 
-// Output suffixes of the label and class maps by format.
+// Output suffixes: STEM + suffix is each file one image's run writes. The
+// label and class maps have one per format.
 var (
 	labelsSuffixes  = map[string]string{imageio.LabelsPNG: ".labels.png", imageio.LabelsTIFF: ".labels.tif"}
 	classesSuffixes = map[string]string{imageio.LabelsPNG: ".classes.png", imageio.LabelsTIFF: ".classes.tif"}
 )
+
+const (
+	suffixOverlay  = ".overlay.png"
+	suffixPreview  = ".preview.png"
+	suffixRegions  = ".regions.csv"
+	suffixOutlines = ".outlines.geojson"
+	suffixRecord   = ".json"
+)
+
+// outputSuffixes are the files processImage may write for one stem, in
+// any format.
+var outputSuffixes = []string{labelsSuffixes[imageio.LabelsPNG], labelsSuffixes[imageio.LabelsTIFF], suffixOverlay, suffixPreview,
+	classesSuffixes[imageio.LabelsPNG], classesSuffixes[imageio.LabelsTIFF], suffixRegions, suffixOutlines, suffixRecord}
 
 // labelsFormatFor is the format the label and class maps of one result are
 // written in: the one asked for, except that labels above 65535, which a
@@ -235,7 +251,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		// written) no longer match the input: removed, so that nothing
 		// pairs them with it later. Any that cannot be removed stay listed.
 		rec.Outputs = nil
-		for _, name := range sortedKeys(own) {
+		for _, name := range slices.Sorted(maps.Keys(own)) {
 			if name == filepath.Base(recordPath) {
 				continue
 			}
@@ -373,19 +389,19 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			return fail(err)
 		}
 	}
-	maps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
+	labelMaps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, &maps[0])},
-		{".overlay.png", func(wr io.Writer) error {
+		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, &labelMaps[0])},
+		{suffixOverlay, func(wr io.Writer) error {
 			return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, overlay)
 		}},
-		{".preview.png", func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette) }},
+		{suffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette) }},
 	}
 	if res.Classes != nil {
-		maps = append(maps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, &maps[1])})
+		labelMaps = append(labelMaps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
+		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, &labelMaps[1])})
 	}
-	rec.LabelMaps = maps
+	rec.LabelMaps = labelMaps
 	planes, planeNames := intensityPlanes(feat.Raw, in.channels)
 	regions, err := measure.Regions(res.Labels, w, h, planes, res.Classes)
 	if err != nil {
@@ -398,9 +414,9 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			classOf[r.Label] = r.Class
 		}
 	}
-	outs = append(outs, output{".regions.csv", func(wr io.Writer) error {
+	outs = append(outs, output{suffixRegions, func(wr io.Writer) error {
 		return writeRegionTable(wr, regions, planeNames, res.Classes != nil, tableSize, tableUnit)
-	}}, output{".outlines.geojson", func(wr io.Writer) error {
+	}}, output{suffixOutlines, func(wr io.Writer) error {
 		outlines, err := measure.Outlines(res.Labels, w, h)
 		if err != nil {
 			return err
@@ -416,7 +432,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		own[name] = true
 	}
 	intent := *rec
-	intent.Status, intent.Outputs = statusWriting, sortedKeys(own)
+	intent.Status, intent.Outputs = statusWriting, slices.Sorted(maps.Keys(own))
 	if err := writeRecord(recordPath, &intent, j.replace != replaceNone, j.owner); err != nil {
 		return fail(err)
 	}
@@ -452,7 +468,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	// Outputs of an earlier run that this one did not write (a class map
 	// when --classes was dropped) would look current beside the new ones.
-	for _, name := range sortedKeys(own) {
+	for _, name := range slices.Sorted(maps.Keys(own)) {
 		if written[name] {
 			continue
 		}
@@ -520,7 +536,7 @@ func recordBlocked(p string, err error) string {
 // outputs lists every file the job writes in the format asked for.
 func (j job) outputs() []string {
 	f := j.settings.labelsFormat()
-	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(".overlay.png"), j.out.path(".preview.png"), j.out.path(".regions.csv"), j.out.path(".outlines.geojson"), j.out.path(".json")}
+	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(suffixOverlay), j.out.path(suffixPreview), j.out.path(suffixRegions), j.out.path(suffixOutlines), j.out.path(suffixRecord)}
 	if j.settings.Classes >= 2 {
 		list = append(list, j.out.path(classesSuffixes[f]))
 	}

@@ -6,7 +6,8 @@
 # examples/plates) and on scikit-image photographs (Debian python3-skimage's
 # data folder; skipped with a message when it is missing); a batch over
 # examples/nuclei; tune on examples/nuclei; score of the segmented examples
-# against their truth masks (text, --json and --csv). stdout and stderr of
+# against their truth masks (text, --json and --csv); the help of every
+# command. stdout and stderr of
 # every run are kept too (OUT/log/NAME.out, .err, .rc).
 set -u
 bin=$1
@@ -22,6 +23,9 @@ run() { # NAME ARGS...
 	echo $? >"$out/log/$name.rc"
 }
 cd "$repo"
+for c in segment batch score tune demo; do
+	run help-$c help $c
+done
 run demo demo --out "$out/demo" --workers 2
 run seg-nuclei segment --classes 2 --background dark --out "$out/seg-nuclei" \
 	examples/nuclei/nuclei-1.png examples/nuclei/nuclei-2.png examples/nuclei/nuclei-3.png
