@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"fmt"
 	"io"
 	"os"
@@ -146,57 +145,38 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		if o.force {
 			common = append(common, "--force")
 		}
-		steps := [][]string{
-			append(append(append([]string{"tune", "--images", tuneDir, "--truth", tuneDir, "--out", tunedDir}, common...), p.fixed...), p.search...),
-			append(append([]string{"segment", "--params", filepath.Join(tunedDir, "best.json"), "--out", segDir}, common...), scenePaths(newDir, p.fresh)...),
+		tuneArgv := append(append(append([]string{"tune", "--images", tuneDir, "--truth", tuneDir, "--out", tunedDir}, common...), p.fixed...), p.search...)
+		segmentArgv := append(append([]string{"segment", "--params", filepath.Join(tunedDir, "best.json"), "--out", segDir}, common...), scenePaths(newDir, p.fresh)...)
+		scoresPath := filepath.Join(dir, "scores.csv")
+		scoreArgv := []string{"score", "--csv", scoresPath, segDir, newDir}
+		if o.force {
+			scoreArgv = append(scoreArgv, "--force")
 		}
-		for _, st := range steps {
-			fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(st, " "))
+		// Each step is the command a user would type, shown with its
+		// output; tune and score hand back their results for the summary.
+		var rep *tuneReport
+		var mean *score.Report
+		for _, st := range []struct {
+			argv []string
+			run  func(io.Writer) int
+		}{
+			{tuneArgv, func(w io.Writer) (code int) { code, rep = tuneArgs(ctx, tuneArgv[1:], w, stderr); return code }},
+			{segmentArgv, func(w io.Writer) int { return runSegment(ctx, segmentArgv[1:], w, stderr) }},
+			{scoreArgv, func(w io.Writer) (code int) { code, mean = scoreCommand(ctx, scoreArgv[1:], w, stderr); return code }},
+		} {
+			fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(st.argv, " "))
 			var out bytes.Buffer
-			if code := run(ctx, st, &out, stderr); code != exitOK {
-				fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", st[0], code)
+			if code := st.run(&out); code != exitOK {
+				fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", st.argv[0], code)
 				return code
 			}
 			fmt.Fprint(stdout, indent(out.String()))
-		}
-		scoresPath := filepath.Join(dir, "scores.csv")
-		scoreArgs := []string{"score", "--csv", scoresPath, segDir, newDir}
-		if o.force {
-			scoreArgs = append(scoreArgs, "--force")
-		}
-		fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(scoreArgs, " "))
-		var out bytes.Buffer
-		if code := run(ctx, scoreArgs, &out, stderr); code != exitOK {
-			fmt.Fprintf(stderr, "cleave demo: cleave score failed (exit %d)\n", code)
-			return code
-		}
-		fmt.Fprint(stdout, indent(out.String()))
-		// The means for the closing summary, from the same scorer.
-		var js bytes.Buffer
-		if code := run(ctx, []string{"score", "--json", segDir, newDir}, &js, stderr); code != exitOK {
-			return code
-		}
-		var doc struct {
-			Mean score.Report `json:"mean"`
-		}
-		if err := json.Unmarshal(js.Bytes(), &doc); err != nil {
-			fmt.Fprintf(stderr, "cleave demo: %v\n", err)
-			return exitFail
-		}
-		var rep tuneReport
-		raw, err := os.ReadFile(filepath.Join(tunedDir, "tune.json"))
-		if err == nil {
-			err = json.Unmarshal(raw, &rep)
-		}
-		if err != nil {
-			fmt.Fprintf(stderr, "cleave demo: %v\n", err)
-			return exitFail
 		}
 		ts := fmt.Sprintf("tuned %s %.4f", rep.Metric, rep.Score)
 		if rep.CVScore != nil {
 			ts += fmt.Sprintf(", cross-validated %.4f", *rep.CVScore)
 		}
-		results = append(results, result{p, doc.Mean.ARI, doc.Mean.F1, ts, scoresPath})
+		results = append(results, result{p, mean.ARI, mean.F1, ts, scoresPath})
 		fmt.Fprintln(stdout)
 	}
 	fmt.Fprintf(stdout, "== summary (%.1f s)\n", time.Since(start).Seconds())

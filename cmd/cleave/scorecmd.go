@@ -204,49 +204,56 @@ func readScoreMap(path string, split bool) ([]int32, int, int, mapReading, error
 }
 
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	code, _ := scoreCommand(ctx, args, stdout, stderr)
+	return code
+}
+
+// scoreCommand is cleave score: it returns the exit status and, when the
+// pairs were scored, the mean of their scores (the demo's summary).
+func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *score.Report) {
 	fs, o := scoreFlags()
 	if code, done := parseCommand(fs, args, "score", &o.help, scoreHelp, stdout, stderr); done {
-		return code
+		return code, nil
 	}
 	if fs.NArg() != 2 {
 		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %s (run 'cleave score --help')\n", plural(fs.NArg(), "argument"))
-		return exitUsage
+		return exitUsage, nil
 	}
 	if o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0) {
 		fmt.Fprintf(stderr, "cleave score: --tolerance must be a number of pixels >= 0, got %v\n", o.tolerance)
-		return exitUsage
+		return exitUsage, nil
 	}
 	split, err := parseSplitMasks(o.splitMasks)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: %v\n", err)
-		return exitUsage
+		return exitUsage, nil
 	}
 	predArg, truthArg := fs.Arg(0), fs.Arg(1)
 	pst, err := os.Stat(predArg)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: prediction: %v\n", err)
-		return exitFail
+		return exitFail, nil
 	}
 	tst, err := os.Stat(truthArg)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: truth: %v\n", err)
-		return exitFail
+		return exitFail, nil
 	}
 	var pairs []pair
 	folders := pst.IsDir()
 	switch {
 	case pst.IsDir() != tst.IsDir():
 		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
-		return exitUsage
+		return exitUsage, nil
 	case folders:
 		var un unpairedFiles
 		if pairs, un, err = pairScore(predArg, truthArg); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail
+			return exitFail, nil
 		}
 		if un.count() > 0 && !o.pairedOnly {
 			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", unpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
-			return exitFail
+			return exitFail, nil
 		}
 		for _, f := range un.noTruth {
 			fmt.Fprintf(stderr, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truthArg)
@@ -256,7 +263,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		}
 		if len(pairs) == 0 {
 			fmt.Fprintf(stderr, "cleave score: no prediction in %s pairs with a truth in %s\n", predArg, truthArg)
-			return exitFail
+			return exitFail, nil
 		}
 	default:
 		pairs = []pair{{name: stemOf(predArg), image: predArg, truth: truthArg}}
@@ -265,16 +272,16 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	for _, p := range pairs {
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave score: interrupted")
-			return exitFail
+			return exitFail, nil
 		}
 		m, pr, tr, err := scoreFiles(ctx, p.image, p.truth, o.tolerance, split)
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave score: interrupted")
-			return exitFail
+			return exitFail, nil
 		}
 		if err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitCode(err)
+			return exitCode(err), nil
 		}
 		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, Report: m, PredMap: pr, TruthMap: tr, PredMask: masksOnly(pr), TruthMask: masksOnly(tr)})
 	}
@@ -286,7 +293,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if o.csv != "" {
 		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return writeScoreCSV(w, scored, mean, folders) }); err != nil {
 			fmt.Fprintf(stderr, "cleave score: --csv: %v\n", err)
-			return exitFail
+			return exitFail, nil
 		}
 	}
 	if o.json {
@@ -305,12 +312,12 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		}
 		if err := enc.Encode(v); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail
+			return exitFail, nil
 		}
-		return exitOK
+		return exitOK, &mean
 	}
 	writeScoreTable(stdout, scored, mean, folders, o.tolerance)
-	return exitOK
+	return exitOK, &mean
 }
 
 // scoreFiles reads a prediction and a truth label image (binary masks

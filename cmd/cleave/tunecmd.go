@@ -186,18 +186,26 @@ func chooseMetric(given, background string) (score.Metric, string, error) {
 var tuneOutputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
 
 func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	code, _ := tuneArgs(ctx, args, stdout, stderr)
+	return code
+}
+
+// tuneArgs is cleave tune with its arguments: it returns the exit status
+// and, when the search finished, its report (tune.json; the demo's
+// summary).
+func tuneArgs(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *tuneReport) {
 	fs, s, o := tuneFlags()
 	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
-		return code
+		return code, nil
 	}
-	code, err := tuneCommand(ctx, fs, s, o, stdout, stderr)
+	code, rep, err := tuneCommand(ctx, fs, s, o, stdout, stderr)
 	switch {
 	case err != nil && ctx.Err() != nil:
 		fmt.Fprintln(stderr, "cleave tune: interrupted")
 	case err != nil:
 		fmt.Fprintf(stderr, "cleave tune: %v\n", err)
 	}
-	return code
+	return code, rep
 }
 
 // tuneReport is tune.json.
@@ -272,36 +280,36 @@ func meanOf(e *tune.Evaluation) *score.Report {
 	return &m
 }
 
-func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
+func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, *tuneReport, error) {
 	start := time.Now()
 	if fs.NArg() > 0 {
-		return exitUsage, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
+		return exitUsage, nil, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
 	}
 	switch {
 	case o.images == "":
-		return exitUsage, usagef("--images is required (run 'cleave tune --help')")
+		return exitUsage, nil, usagef("--images is required (run 'cleave tune --help')")
 	case o.truth == "":
-		return exitUsage, usagef("--truth is required")
+		return exitUsage, nil, usagef("--truth is required")
 	case o.out == "":
-		return exitUsage, usagef("--out is required")
+		return exitUsage, nil, usagef("--out is required")
 	case o.tieBreak != "faster" && o.tieBreak != "smoother":
-		return exitUsage, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
+		return exitUsage, nil, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
 	case o.budget < 0 || o.budget > maxBudget:
-		return exitUsage, usagef("--budget must be 0 to %d, got %d", maxBudget, o.budget)
+		return exitUsage, nil, usagef("--budget must be 0 to %d, got %d", maxBudget, o.budget)
 	case o.folds < 0 || o.folds > maxFolds:
-		return exitUsage, usagef("--folds must be 0 to %d, got %d", maxFolds, o.folds)
+		return exitUsage, nil, usagef("--folds must be 0 to %d, got %d", maxFolds, o.folds)
 	case o.workers < 0 || o.workers > maxWorkers:
-		return exitUsage, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, o.workers)
+		return exitUsage, nil, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, o.workers)
 	case o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0):
-		return exitUsage, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
+		return exitUsage, nil, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
 	}
 	metric, metricWhy, err := chooseMetric(o.metric, s.Background)
 	if err != nil {
-		return exitUsage, err
+		return exitUsage, nil, err
 	}
 	split, err := parseSplitMasks(o.splitMasks)
 	if err != nil {
-		return exitUsage, err
+		return exitUsage, nil, err
 	}
 	t := &tune.Tuner{Workers: defaultWorkers(o.workers), Metric: metric, SmootherTies: o.tieBreak == "smoother"}
 	var given [tune.NumParams]bool
@@ -312,7 +320,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		given[d] = true
 		ax, err := parseSpec(d, o.space[d])
 		if err != nil {
-			return exitUsage, err
+			return exitUsage, nil, err
 		}
 		t.Space[d] = ax
 	}
@@ -328,28 +336,28 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	}
 	loadRes, err := fixed.resolve(t.Workers)
 	if err != nil {
-		return exitUsage, err
+		return exitUsage, nil, err
 	}
 	if s.Planes == planesAll {
-		return exitUsage, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
+		return exitUsage, nil, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
 	}
 	defer setMemoryLimit(loadRes.params.MaxMemory)()
 	if !o.force {
 		for _, n := range tuneOutputs {
 			if p := filepath.Join(o.out, n); exists(p) {
-				return exitFail, fmt.Errorf("output %s already exists (use --force to overwrite)", p)
+				return exitFail, nil, fmt.Errorf("output %s already exists (use --force to overwrite)", p)
 			}
 		}
 	}
 	pairs, unpaired, err := pairTune(o.images, o.truth)
 	if err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	for _, u := range unpaired {
 		fmt.Fprintf(stderr, "cleave tune: %s has no truth (want NAME, NAME.truth, NAME_mask or NAME_truth in %s); skipped\n", u, o.truth)
 	}
 	if len(pairs) == 0 {
-		return exitFail, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
+		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
 	var truthMaps []truthMap
 	var images []*loaded
@@ -357,18 +365,18 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	for _, p := range pairs {
 		in, err := loadInput(ctx, p.image, loadRes)
 		if err != nil {
-			return exitFail, fmt.Errorf("%s: %w", p.image, err)
+			return exitFail, nil, fmt.Errorf("%s: %w", p.image, err)
 		}
 		truth, w, h, reading, err := readScoreMap(p.truth, split)
 		if err != nil {
-			return exitFail, fmt.Errorf("truth %w", err)
+			return exitFail, nil, fmt.Errorf("truth %w", err)
 		}
 		truthMaps = append(truthMaps, truthMap{Name: p.name, Truth: p.truth, mapReading: reading})
 		if w != in.features.Width || h != in.features.Height {
-			return exitFail, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
+			return exitFail, nil, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
 		}
 		if err := checkTolerance(o.tolerance, p.truth, w, h); err != nil {
-			return exitUsage, err
+			return exitUsage, nil, err
 		}
 		images, truths, t.Names = append(images, in), append(truths, truth), append(t.Names, p.name)
 	}
@@ -377,7 +385,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 
 	br, err := fixed.resolve(1)
 	if err != nil {
-		return exitUsage, err
+		return exitUsage, nil, err
 	}
 	t.Base = br.params
 	prog := newTuneProgress(stderr, metric)
@@ -386,7 +394,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	prog.Plan(1)
 	baseline, err := t.EvaluateParams(ctx, br.params, "baseline", "baseline")
 	if err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	prog.Stage("automatic settings")
 	var autoI, autoX []float64
@@ -396,7 +404,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		}
 	}
 	if len(autoI) == 0 {
-		return exitFail, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.Errs[0])
+		return exitFail, nil, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.Errs[0])
 	}
 	if !given[tune.SigmaI] {
 		a := tune.Median(autoI)
@@ -438,7 +446,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	}
 	prog.Plan(len(gridPts) + searches*o.budget)
 	if _, err := t.Evaluate(ctx, gridPts, "grid"); err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	prog.Stage("grid")
 	var folds []tune.Fold
@@ -446,28 +454,28 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if k >= 2 {
 		f, v, err := t.CrossValidate(ctx, k, o.budget)
 		if err != nil {
-			return exitFail, err
+			return exitFail, nil, err
 		}
 		folds, cv = f, tune.Finite(v)
 	}
 	res, err := t.Search(ctx, all, o.budget, prog.say)
 	if err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	if err := t.TimeTies(ctx, res); err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	prog.Stage("search")
 	prog.finish()
 	gridBest, best := res.GridBest, res.Best
 	if math.IsInf(t.Score(best, all), -1) {
-		return exitFail, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
+		return exitFail, nil, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
 	}
 	t.Space = res.Space // the ranges as widened, for tune.png and tune.json
 
 	// Outputs.
 	if err := os.MkdirAll(o.out, 0o755); err != nil {
-		return exitFail, fmt.Errorf("cannot create the output folder: %w", err)
+		return exitFail, nil, fmt.Errorf("cannot create the output folder: %w", err)
 	}
 	bestParams := paramsFile(&t.Space, s, best.Point)
 	bv := t.Value(baseline, all)
@@ -535,15 +543,15 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	}
 	for _, wr := range writes {
 		if err := imageio.WriteAtomic(filepath.Join(o.out, wr.name), o.force, wr.fn); err != nil {
-			return exitFail, err
+			return exitFail, nil, err
 		}
 	}
 	rep.Seconds = time.Since(start).Seconds()
 	if err := imageio.WriteAtomic(filepath.Join(o.out, "tune.json"), o.force, func(w io.Writer) error { return writeJSON(w, rep) }); err != nil {
-		return exitFail, err
+		return exitFail, nil, err
 	}
 	tuneSummary(stdout, rep, len(images), o.out)
-	return exitOK, nil
+	return exitOK, &rep, nil
 }
 
 func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
