@@ -415,13 +415,13 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		}
 	}
 	outs = append(outs, output{suffixRegions, func(wr io.Writer) error {
-		return writeRegionTable(wr, regions, planeNames, res.Classes != nil, tableSize, tableUnit)
+		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: res.Classes != nil, PixelSize: tableSize, Unit: tableUnit})
 	}}, output{suffixOutlines, func(wr io.Writer) error {
 		outlines, err := measure.Outlines(res.Labels, w, h)
 		if err != nil {
 			return err
 		}
-		return writeOutlines(wr, outlines, classOf)
+		return measure.WriteGeoJSON(wr, outlines, classOf)
 	}})
 	// The record announces the outputs before they are written.
 	written := map[string]bool{filepath.Base(recordPath): true}

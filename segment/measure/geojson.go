@@ -1,14 +1,12 @@
-package main
+package measure
 
 import (
 	"bufio"
 	"io"
 	"strconv"
-
-	"github.com/cleave-seg/cleave/segment/measure"
 )
 
-// writeOutlines writes the outlines as a GeoJSON FeatureCollection (RFC
+// WriteGeoJSON writes the outlines as a GeoJSON FeatureCollection (RFC
 // 7946), one Feature per label: geometry a Polygon (a MultiPolygon when
 // the label has several 4-connected pieces), properties the label and,
 // when classOf is not nil, its class. Coordinates are pixel corners in
@@ -20,7 +18,7 @@ import (
 // ordinary x, y axes (clockwise as seen on the image, whose y axis points
 // down), and holes the opposite, the right-hand rule of RFC 7946 section
 // 3.1.6. The Feature's id is the label.
-func writeOutlines(w io.Writer, outs []measure.Outline, classOf map[int32]int32) error {
+func WriteGeoJSON(w io.Writer, outs []Outline, classOf map[int32]int32) error {
 	bw := bufio.NewWriter(w)
 	var buf []byte
 	buf = append(buf, `{"type":"FeatureCollection","features":[`...)
