@@ -138,11 +138,9 @@ func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 // smoothed contrast falls to tightenLevel of the object's median
 // contrast (the half-maximum outline of its typical interior level,
 // common practice for blurred objects such as fluorescent nuclei),
-// within tightenReach pixels of its region outline. On the project's
-// scenes (seeds 411-420, defaults), half of the median gave nuclei ARI
-// 0.976 and F1 0.966 against 0.969 and 0.920 without tightening, and
-// plates 0.928 and 0.876 against 0.934 and 0.878; 0.4 or 0.35 of the
-// 90th percentile did less well on both.
+// within tightenReach pixels of its region outline. Half of the median
+// did better than no tightening and than lower levels on the project's
+// generated scenes (DEVELOPERS.md, "Measured choices", gives the measurement).
 const (
 	tightenReach = 3
 	tightenLevel = 0.5

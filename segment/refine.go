@@ -35,22 +35,15 @@ const (
 	// an Ncut up to sqrt(refineArea/area) times the limit. The Ncut of a
 	// cut across a waist scales as 1/size (the cut grows with the radius,
 	// each side's association with the area), so one fixed limit would
-	// keep small touching pairs together. On generated scenes of small
-	// nuclei (radius 6-12 px, seeds 800-805) object F1 rose from 0.875 to
-	// 0.911, with the default nuclei and the plates unchanged.
+	// keep small touching pairs together (DEVELOPERS.md, "Measured choices", gives the measurement).
 	refineArea = 800
 	// refineNeck: a shape whose distance map is pinched by at least this
 	// relative depth (see neckDepth) holds two objects. Two discs of
 	// radius R whose centres are s apart have depth 1 - sqrt(1 - (s/2R)²):
 	// 0.134 when each centre lies just outside the other disc, 0.03 at
 	// s = 0.49 R. The geometric line 0.134 kept heavily overlapping
-	// clusters whole; 0.05, chosen on generated clusters, stained and
-	// nuclei scenes (seeds 9200-9203, 9210-9215), split more of them
-	// (clusters object F1 0.785 -> 0.814, stained 0.774 -> 0.821) without
-	// splitting single nuclei (nuclei F1 0.990 -> 0.998), and 0.03 a few
-	// more once the faint-object and edgeless rules were in (clusters
-	// 0.814 -> 0.824, stained 0.827 -> 0.830, haze 0.536 -> 0.554, nuclei
-	// 0.998 -> 0.995; 0.02 gave no further gain).
+	// clusters whole; 0.03 splits more of them without splitting single
+	// nuclei (DEVELOPERS.md, "Measured choices", gives the measurement).
 	refineNeck = 0.03
 	// refineNeckNcut bounds the Ncut of a split through a neck (on the
 	// shape-weighted graph, see shapeWeights); the neck test decides.
@@ -294,10 +287,9 @@ func cropMask(crop []int, n int) []bool {
 
 // refineNeckAlone is the least neck depth at which a region is split at
 // its neck without the cut's help (neckPieces). Lower necks occur in
-// single irregular nuclei as often as between touching ones: on the
-// generated nuclei and cluster scenes of seeds 9300-9303, 7 of 9 neck
-// splits below 0.055 separated pieces of one object, 10 of 14 above it
-// separated two objects (our choice, on those seeds).
+// single irregular nuclei as often as between touching ones; above it,
+// most neck splits separate two objects (our choice on generated scenes;
+// DEVELOPERS.md, "Measured choices", gives the counts).
 const refineNeckAlone = 0.06
 
 // neckAspect bounds how elongated each side of a neck split may be: its
@@ -326,9 +318,8 @@ const maxNeckSplits = 8
 // refineNeck (deepestNeck) is divided there by splitAtNeck when both
 // sides keep minPart pixels, and the pieces are examined again, up to
 // maxNeckSplits splits. It is the fallback for shapes whose normalized
-// cut ran elsewhere: on the generated cluster scenes (seeds 9300-9302)
-// most merged pairs and triplets had necks of 0.04-0.2 that the Fiedler
-// vector of the contrast graph did not follow. g is the object's pixel
+// cut ran elsewhere: merged pairs and triplets often have necks that the
+// Fiedler vector of the contrast graph does not follow (DEVELOPERS.md, "Measured choices", gives the measurement). g is the object's pixel
 // graph, shape-weighted (node k at crop pixel nodes[k] of a cw x ch
 // crop), region its cut (regions values); the Ncut of every neck split
 // on g is appended to splits.

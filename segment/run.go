@@ -31,10 +31,8 @@ const (
 	// graph when Superpixels is automatic; larger images get superpixels:
 	// the smallest image with MinAutoSuperpixels of PixelsPerSuperpixel
 	// pixels. The superpixel graph carries the contour cue and the faint
-	// object rule, and on 128 x 128 generated scenes (seeds 9230-9235) it
-	// beat the pixel graph at a fifteenth of the time: object F1 nuclei
-	// 0.889 -> 1.000, clusters 0.826 -> 0.907, stained 0.967 -> 0.967,
-	// plates 0.417 -> 1.000 (the former limit was 128 x 128).
+	// object rule, and on small generated scenes it beat the pixel graph
+	// at a fraction of the time (DEVELOPERS.md, "Measured choices", gives the measurement).
 	PixelGraphMaxPixels = MinAutoSuperpixels * PixelsPerSuperpixel
 	// PixelsPerSuperpixel sets the automatic superpixel count, clamped to
 	// [MinAutoSuperpixels, MaxAutoSuperpixels].
@@ -50,24 +48,18 @@ const (
 	// at least 16 pixels (a spacing of 4 pixels), below which SLIC has too
 	// few pixels per centre to follow an edge.
 	MinPixelsPerScaledSuperpixel = 16
-	// MaxScaledSuperpixels is the absolute cap of the scale rule (see
-	// autoSuperpixels for the measurement behind it).
+	// MaxScaledSuperpixels is the absolute cap of the scale rule (DEVELOPERS.md,
+	// "Measured choices", gives the measurement behind it).
 	MaxScaledSuperpixels = 48000
 )
 
 // ScaleMinRadius: the superpixel count follows an object scale only for
 // objects of at least this radius in pixels. affinity.ObjectScale
 // reports the scale of the boundaries on packed grains and of the texture
-// on machined surfaces, not the object size (measured on generated
-// 512x512 and 2048x2048 scenes, seeds 9500-9505, 9520-9521: grains,
-// plates and surfaces gave radius 2.3-4.1 pixels with Strength
-// 10.6-38.8; nuclei, clusters, haze and stained scenes gave radius
-// 9.1-14.3 with Strength 69-851), and truly tiny objects (stars of about
-// 2 pixels in scikit-image's hubble_deep_field.jpg, Strength 72) would ask
-// for superpixels barely larger than 16 pixels: on that 1000x872
-// photograph 48000 superpixels took 42 s against 3.3 s at 4000, with
-// objects that superpixels of 16 pixels cannot outline anyway. Below
-// this radius the count stays at the per-pixel rule.
+// on machined surfaces, not the object size, and truly tiny objects would
+// ask for superpixels barely larger than 16 pixels, too small to outline
+// them, at many times the cost (DEVELOPERS.md, "Measured choices", gives the measurement). Below this
+// radius the count stays at the per-pixel rule.
 const ScaleMinRadius = 6
 
 // Params are the segmentation parameters. Zero values are not defaults: the
@@ -483,16 +475,12 @@ func objectScaleOf(in Input, grain bool, workers int) affinity.ScaleEstimate {
 // two thirds the typical radius still span more than one. With the
 // per-pixel rule capped at 4000 superpixels, a 2048x2048 frame gets
 // S = 32 pixels, more than the diameter of the smaller nuclei, and loses
-// small and touching ones. Measured with fixed counts on generated nuclei
-// frames (estimated radius about 12.5 pixels): at 2048x2048 (seeds 9500,
-// 9501) object F1 0.925 at 4000, 0.977 at 8000, 0.985 at 16000, 0.988 at
-// 24000, 0.990 at 34000 (k = 4) and 0.990 at 48000; at 4096x4096 (seed
-// 9510) 0.432 at 4000, 0.971 at 24000, 0.981 at 48000 and 0.983 at 96000,
-// where the wall time rose from 62 s to 94 s. The count is bounded below by the
-// per-pixel rule's cap (the scale never coarsens the graph) and above by
-// npix/MinPixelsPerScaledSuperpixel and MaxScaledSuperpixels = 48000,
-// the knee of those measurements, which bounds the cost of SLIC, the
-// region graph and its eigenproblems.
+// small and touching ones. The count is bounded below by the per-pixel
+// rule's cap (the scale never coarsens the graph) and above by
+// npix/MinPixelsPerScaledSuperpixel and MaxScaledSuperpixels = 48000, the
+// knee of the object F1 measured against fixed counts (DEVELOPERS.md,
+// "Measured choices"), which bounds the cost of SLIC, the region graph
+// and its eigenproblems.
 //
 // Without a plausible scale (est.Found false, or a radius below
 // ScaleMinRadius) it is the per-pixel rule, MaxAutoSuperpixels.
