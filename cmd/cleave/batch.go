@@ -22,6 +22,8 @@ import (
 	"syscall"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/spf13/pflag"
 )
@@ -122,7 +124,7 @@ Flags:
 Exit status: 0 all images ok, 1 an image failed or the run stopped early,
 2 wrong usage or DIR in use by another run (nothing is written then).
 
-%s`, strings.Join(imageio.Extensions(), " "), indexName, lockName, batchExample, flagUsages(fs), caution)
+%s`, strings.Join(imageio.Extensions(), " "), indexName, outlock.Name, batchExample, flagUsages(fs), caution)
 }
 
 // batchOptions are batch's flags that are not segmentation parameters.
@@ -242,7 +244,7 @@ func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitCode(err)
 	}
-	defer lock.release()
+	defer lock.Release()
 	warnUnlocked(stderr, lock, dir)
 	if err := checkTopFiles(dir, idx); err != nil {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
@@ -595,7 +597,7 @@ func notRegular(p string, t fs.FileMode) string {
 	if t&fs.ModeSymlink != 0 {
 		st, err := os.Stat(p)
 		switch {
-		case isLinkLoop(err):
+		case outlock.IsLinkLoop(err):
 			return "a symbolic link that loops (too many levels of links)"
 		case errors.Is(err, fs.ErrNotExist):
 			target, _ := os.Readlink(p)
@@ -618,6 +620,17 @@ func notRegular(p string, t fs.FileMode) string {
 		return link + "a device, not a regular file; not opened"
 	}
 	return link + "not a regular file; not opened"
+}
+
+// lockOut takes the lock on an output folder (outlock.Take); a refusal,
+// another process holding it, is a usage error (exit 2).
+func lockOut(dir string, exclusive bool, what string) (*outlock.Lock, error) {
+	l, err := outlock.Take(dir, exclusive, what)
+	var le *outlock.LockedError
+	if errors.As(err, &le) {
+		return nil, &usageError{err}
+	}
+	return l, err
 }
 
 // describeErr is the system's message of a file error without the path
@@ -760,7 +773,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "cleave batch: %v\n", err)
 		return exitCode(err)
 	}
-	defer lock.release()
+	defer lock.Release()
 	warnUnlocked(stderr, lock, p.out)
 	// Temporary files of an earlier, killed run: only a run that holds the
 	// lock alone removes them. A shard leaves them, since they may be
@@ -847,7 +860,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 	}()
 	go func() { wg.Wait(); close(results) }()
 
-	prog := newProgress(stderr, len(p.mine), p.opts.quiet)
+	prog := progress.NewBatch(stderr, len(p.mine), p.opts.quiet)
 	tick := time.NewTicker(p.opts.progressEvery)
 	defer tick.Stop()
 	var computed, upToDate, failed, finished int
@@ -860,7 +873,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 				break
 			}
 			if len(r.notes) > 0 && !p.opts.quiet {
-				prog.clear()
+				prog.Clear()
 				for _, n := range r.notes {
 					fmt.Fprintf(stderr, "cleave batch: %s\n", n)
 				}
@@ -872,7 +885,7 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 				upToDate++
 			case statusFailed:
 				failed++
-				prog.clear()
+				prog.Clear()
 				fmt.Fprintf(stderr, "cleave batch: %v\n", r.err)
 				if p.opts.failFast && !stoppedEarly {
 					stoppedEarly = true
@@ -882,12 +895,12 @@ func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 				continue
 			}
 			finished++
-			prog.add(finished, failed, computed+failed)
+			prog.Add(finished, failed, computed+failed)
 		case <-tick.C:
-			prog.line(finished, failed)
+			prog.Line(finished, failed)
 		}
 	}
-	prog.finish()
+	prog.Finish()
 	interrupted := ctx.Err() != nil && !stoppedEarly
 	notDone := len(p.mine) - finished
 

@@ -16,6 +16,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 	"github.com/cleave-seg/cleave/scenes"
 	"golang.org/x/sys/unix"
 )
@@ -76,7 +77,7 @@ func TestBatchOneWriterPerOut(t *testing.T) {
 	first, firstErr := startHelperBatch(t, append(args, "--out", out, in)...)
 	pid := strconv.Itoa(first.Process.Pid)
 	waitFor(t, "the first run's first record", func() bool {
-		lock, _ := os.ReadFile(filepath.Join(out, lockName))
+		lock, _ := os.ReadFile(filepath.Join(out, outlock.Name))
 		_, err := os.Stat(filepath.Join(out, "img-00.json"))
 		return err == nil && strings.Contains(string(lock), "pid "+pid)
 	})
@@ -152,10 +153,10 @@ func TestBatchShardsShareTheLock(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "out")
 	os.MkdirAll(filepath.Join(out, "sub"), 0o755)
 	held, err := lockOut(out, false, "shard 1/2 of the test")
-	if err != nil || held.unsupported != nil {
+	if err != nil || held.Unsupported != nil {
 		t.Fatalf("lockOut: %v", err)
 	}
-	defer held.release()
+	defer held.Release()
 	// Temporary files of shard 1's output sub/img-01: one being written by
 	// the holder, one of an earlier version's process.
 	others := []string{
@@ -185,7 +186,7 @@ func TestBatchShardsShareTheLock(t *testing.T) {
 			t.Errorf("a shard removed a temporary file it does not own: %v", err)
 		}
 	}
-	held.release()
+	held.Release()
 	if code, _, stderr := runCleave("batch", "--rebuild", "-q", out); code != exitOK {
 		t.Fatalf("rebuild: exit %d, %s", code, stderr)
 	}

@@ -20,6 +20,7 @@ import (
 	"syscall"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 	"github.com/cleave-seg/cleave/imageio"
 )
 
@@ -143,9 +144,9 @@ func checkTopFiles(dir string, idx *batchIndex) error {
 }
 
 // warnUnlocked tells the user that dir could not be locked (see lockOut).
-func warnUnlocked(stderr io.Writer, l *outLock, dir string) {
-	if l != nil && l.unsupported != nil {
-		fmt.Fprintf(stderr, "cleave batch: warning: cannot lock %s (%v); make sure no other cleave batch writes into it at the same time\n", dir, l.unsupported)
+func warnUnlocked(stderr io.Writer, l *outlock.Lock, dir string) {
+	if l != nil && l.Unsupported != nil {
+		fmt.Fprintf(stderr, "cleave batch: warning: cannot lock %s (%v); make sure no other cleave batch writes into it at the same time\n", dir, l.Unsupported)
 	}
 }
 

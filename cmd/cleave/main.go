@@ -9,6 +9,7 @@ import (
 	"io"
 	"os"
 	"runtime/debug"
+	"slices"
 	"strings"
 
 	"github.com/spf13/pflag"
@@ -34,7 +35,12 @@ func (e *usageError) Unwrap() error { return e.err }
 func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
 
 func main() {
-	adviseHugePages()
+	// Only the commands that build graphs and solve eigenproblems gain
+	// from huge pages; help, version and score start without the advice
+	// (and without its large untouched allocation).
+	if len(os.Args) > 1 && slices.Contains([]string{"segment", "batch", "tune", "demo"}, os.Args[1]) {
+		adviseHugePages()
+	}
 	os.Exit(runWithSignals(func(ctx context.Context) int {
 		return run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	}, os.Stderr, os.Exit))

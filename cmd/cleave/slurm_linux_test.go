@@ -6,6 +6,7 @@ import (
 	"crypto/rand"
 	"encoding/csv"
 	"fmt"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 	"io/fs"
 	"net"
 	"os"
@@ -464,7 +465,7 @@ func compareBatchTrees(t *testing.T, want, got string) {
 		case !ok:
 			t.Errorf("%s: missing", name)
 			continue
-		case name == lockName:
+		case name == outlock.Name:
 			continue // the holder: pid, host and start time of the last run
 		case strings.HasSuffix(name, ".json") && name != indexName:
 			x, y = mustReplace(t, name, secondsJSON, x, ""), mustReplace(t, name, secondsJSON, y, "")

@@ -14,6 +14,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
@@ -388,9 +389,9 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		return exitUsage, nil, err
 	}
 	t.Base = br.params
-	prog := newTuneProgress(stderr, metric)
+	prog := progress.NewTune(stderr, metric)
 	t.Progress = prog
-	defer prog.finish()
+	defer prog.Finish()
 	prog.Plan(1)
 	baseline, err := t.EvaluateParams(ctx, br.params, "baseline", "baseline")
 	if err != nil {
@@ -458,7 +459,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		}
 		folds, cv = f, tune.Finite(v)
 	}
-	res, err := t.Search(ctx, all, o.budget, prog.say)
+	res, err := t.Search(ctx, all, o.budget, prog.Say)
 	if err != nil {
 		return exitFail, nil, err
 	}
@@ -466,7 +467,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		return exitFail, nil, err
 	}
 	prog.Stage("search")
-	prog.finish()
+	prog.Finish()
 	gridBest, best := res.GridBest, res.Best
 	if math.IsInf(t.Score(best, all), -1) {
 		return exitFail, nil, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))

@@ -1,6 +1,6 @@
 //go:build linux || darwin || freebsd || netbsd || openbsd || dragonfly || solaris
 
-package main
+package outlock
 
 import (
 	"errors"
@@ -28,7 +28,7 @@ func tryLock(f *os.File, exclusive bool) (bool, error) {
 		case errors.Is(err, unix.EWOULDBLOCK), errors.Is(err, unix.EAGAIN):
 			return false, nil
 		case errors.Is(err, unix.ENOLCK), errors.Is(err, unix.EOPNOTSUPP), errors.Is(err, unix.ENOTSUP), errors.Is(err, unix.ENOSYS):
-			return false, fmt.Errorf("%w (flock: %v)", errLockUnsupported, err)
+			return false, fmt.Errorf("%w (flock: %v)", ErrUnsupported, err)
 		default:
 			return false, err
 		}
@@ -37,8 +37,8 @@ func tryLock(f *os.File, exclusive bool) (bool, error) {
 
 func unlock(f *os.File) { unix.Flock(int(f.Fd()), unix.LOCK_UN) }
 
-// isLinkLoop reports whether err says a chain of symbolic links loops.
-func isLinkLoop(err error) bool { return errors.Is(err, unix.ELOOP) }
+// IsLinkLoop reports whether err says a chain of symbolic links loops.
+func IsLinkLoop(err error) bool { return errors.Is(err, unix.ELOOP) }
 
 // noFollow makes opening the lock file fail on a symbolic link.
 const noFollow = unix.O_NOFOLLOW

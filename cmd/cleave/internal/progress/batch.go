@@ -1,4 +1,7 @@
-package main
+// Package progress reports how far batch and tune are on stderr: on a
+// terminal one line (a bar for batch) rewritten in place, otherwise plain
+// lines.
+package progress
 
 import (
 	"fmt"
@@ -10,9 +13,9 @@ import (
 	"golang.org/x/term"
 )
 
-// progress reports how far a batch is: a bar when stderr is a terminal, a
+// Batch reports how far a batch is: a bar when stderr is a terminal, a
 // plain line on each tick otherwise, nothing when quiet.
-type progress struct {
+type Batch struct {
 	w     io.Writer
 	total int
 	start time.Time
@@ -25,8 +28,9 @@ type progress struct {
 	drawn  time.Time // when the bar was last updated
 }
 
-func newProgress(w io.Writer, total int, quiet bool) *progress {
-	p := &progress{w: w, total: total, start: time.Now(), quiet: quiet, last: -1}
+// NewBatch reports on w for total images (quiet: nothing).
+func NewBatch(w io.Writer, total int, quiet bool) *Batch {
+	p := &Batch{w: w, total: total, start: time.Now(), quiet: quiet, last: -1}
 	if quiet || total == 0 {
 		return p
 	}
@@ -58,9 +62,9 @@ func rateText(total, finished, worked int, elapsed time.Duration) string {
 	return fmt.Sprintf("%.2f images/s, about %s left", rate, (time.Duration(left) * time.Second).Round(time.Second))
 }
 
-// add is called each time an image is finished; worked counts those that
+// Add is called each time an image is finished; worked counts those that
 // were segmented or failed (not found up to date).
-func (p *progress) add(finished, failed, worked int) {
+func (p *Batch) Add(finished, failed, worked int) {
 	p.worked = worked
 	if p.bar != nil {
 		// At most ten updates a second (images found up to date finish
@@ -77,9 +81,9 @@ func (p *progress) add(finished, failed, worked int) {
 	}
 }
 
-// line prints the plain progress line (non-terminal stderr only), unless
+// Line prints the plain progress line (non-terminal stderr only), unless
 // nothing changed since the last one.
-func (p *progress) line(finished, failed int) {
+func (p *Batch) Line(finished, failed int) {
 	if p.quiet || p.bar != nil || p.total == 0 || finished == p.last {
 		return
 	}
@@ -91,14 +95,15 @@ func (p *progress) line(finished, failed int) {
 	fmt.Fprintln(p.w)
 }
 
-// clear removes the bar before another line is printed.
-func (p *progress) clear() {
+// Clear removes the bar before another line is printed.
+func (p *Batch) Clear() {
 	if p.bar != nil {
 		_ = p.bar.Clear()
 	}
 }
 
-func (p *progress) finish() {
+// Finish ends the bar.
+func (p *Batch) Finish() {
 	if p.bar != nil {
 		_ = p.bar.Finish()
 	}

@@ -1,4 +1,4 @@
-package main
+package outlock
 
 import (
 	"fmt"
@@ -19,7 +19,7 @@ func TestShardsStartingTogetherAllGetTheLock(t *testing.T) {
 	for round := range 30 {
 		const n = 16
 		var wg sync.WaitGroup
-		locks := make([]*outLock, n)
+		locks := make([]*Lock, n)
 		errs := make([]error, n)
 		start := make(chan struct{})
 		for i := range n {
@@ -27,7 +27,7 @@ func TestShardsStartingTogetherAllGetTheLock(t *testing.T) {
 			go func() {
 				defer wg.Done()
 				<-start
-				locks[i], errs[i] = lockOut(dir, false, fmt.Sprintf("cleave batch --shard %d/%d", i, n))
+				locks[i], errs[i] = Take(dir, false, fmt.Sprintf("cleave batch --shard %d/%d", i, n))
 			}()
 		}
 		close(start)
@@ -38,16 +38,16 @@ func TestShardsStartingTogetherAllGetTheLock(t *testing.T) {
 			}
 		}
 		for _, l := range locks {
-			l.release()
+			l.Release()
 		}
 	}
 	// An unsharded run is still refused while shards hold the folder.
-	held, err := lockOut(dir, false, "a shard")
+	held, err := Take(dir, false, "a shard")
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer held.release()
-	if _, err := lockOut(dir, true, "cleave batch"); err == nil {
+	defer held.Release()
+	if _, err := Take(dir, true, "cleave batch"); err == nil {
 		t.Fatal("an exclusive lock was granted while a shard holds the folder")
 	}
 }

@@ -1,4 +1,4 @@
-package main
+package progress
 
 import (
 	"fmt"
@@ -13,12 +13,12 @@ import (
 	"golang.org/x/term"
 )
 
-// tuneProgress reports how far a search is on stderr: settings evaluated
+// Tune reports how far a search is on stderr: settings evaluated
 // out of those planned (grid, refinement budgets and widenings; an upper
 // bound, since refinement may stop early) and the best mean score so far
 // on all images. On a terminal it is one line rewritten in place at most
 // five times a second; otherwise one line per stage.
-type tuneProgress struct {
+type Tune struct {
 	mu      sync.Mutex
 	w       io.Writer
 	term    bool
@@ -32,8 +32,9 @@ type tuneProgress struct {
 	width   int // length of the last terminal line
 }
 
-func newTuneProgress(w io.Writer, metric score.Metric) *tuneProgress {
-	p := &tuneProgress{w: w, metric: metric, minimum: metric.LowerIsBetter()}
+// NewTune reports on w the best mean of metric so far.
+func NewTune(w io.Writer, metric score.Metric) *Tune {
+	p := &Tune{w: w, metric: metric, minimum: metric.LowerIsBetter()}
 	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 		p.term = true
 	}
@@ -41,7 +42,7 @@ func newTuneProgress(w io.Writer, metric score.Metric) *tuneProgress {
 }
 
 // Plan adds n settings to those planned.
-func (p *tuneProgress) Plan(n int) {
+func (p *Tune) Plan(n int) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.planned += n
@@ -49,7 +50,7 @@ func (p *tuneProgress) Plan(n int) {
 
 // SettingDone counts one evaluated setting with its mean score v (NaN
 // when it failed on an image).
-func (p *tuneProgress) SettingDone(v float64) {
+func (p *Tune) SettingDone(v float64) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.done++
@@ -64,7 +65,7 @@ func (p *tuneProgress) SettingDone(v float64) {
 	}
 }
 
-func (p *tuneProgress) text() string {
+func (p *Tune) text() string {
 	s := fmt.Sprintf("cleave tune: %d/%d settings evaluated", p.done, p.planned)
 	if p.have {
 		s += fmt.Sprintf(", best mean %s so far %.4f", p.metric, p.best)
@@ -73,7 +74,7 @@ func (p *tuneProgress) text() string {
 }
 
 // redraw rewrites the terminal line (caller holds mu).
-func (p *tuneProgress) redraw(stage string) {
+func (p *Tune) redraw(stage string) {
 	s := p.text()
 	if stage != "" {
 		s += " (" + stage + " done)"
@@ -87,7 +88,7 @@ func (p *tuneProgress) redraw(stage string) {
 }
 
 // Stage reports the end of a stage: a line of its own off a terminal.
-func (p *tuneProgress) Stage(name string) {
+func (p *Tune) Stage(name string) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	if p.term {
@@ -97,8 +98,8 @@ func (p *tuneProgress) Stage(name string) {
 	fmt.Fprintf(p.w, "%s (%s done)\n", p.text(), name)
 }
 
-// say prints a message on a line of its own.
-func (p *tuneProgress) say(msg string) {
+// Say prints a message on a line of its own.
+func (p *Tune) Say(msg string) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.clear()
@@ -106,15 +107,15 @@ func (p *tuneProgress) say(msg string) {
 }
 
 // clear removes the terminal line (caller holds mu).
-func (p *tuneProgress) clear() {
+func (p *Tune) clear() {
 	if p.term && p.width > 0 {
 		fmt.Fprintf(p.w, "\r%s\r", strings.Repeat(" ", p.width))
 		p.width = 0
 	}
 }
 
-// finish removes the terminal line before the summary.
-func (p *tuneProgress) finish() {
+// Finish removes the terminal line before the summary.
+func (p *Tune) Finish() {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	p.clear()

@@ -1,4 +1,4 @@
-package main
+package progress
 
 import (
 	"bytes"
@@ -30,9 +30,9 @@ func TestProgressRate(t *testing.T) {
 	}
 	// The plain line after a first tick of up-to-date images only.
 	var buf bytes.Buffer
-	p := newProgress(&buf, 2000, false)
-	p.add(1000, 0, 0)
-	p.line(1000, 0)
+	p := NewBatch(&buf, 2000, false)
+	p.Add(1000, 0, 0)
+	p.Line(1000, 0)
 	if got := buf.String(); got != "cleave batch: 1000/2000 images done, 0 failed\n" || strings.Contains(got, "images/s") {
 		t.Errorf("first line %q claims a rate", got)
 	}
