@@ -5,7 +5,7 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // TestGrainCacheWorkersInput runs a generated machined surface with and

@@ -8,7 +8,7 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 func defaultParams() Params {

@@ -5,7 +5,7 @@ import (
 	"path/filepath"
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // BenchmarkBatch200 is issue 4's throughput case: 200 generated 512x512

@@ -17,7 +17,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	"golang.org/x/sys/unix"
 )
 

@@ -21,7 +21,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/examples/loudskip"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // The expected outcomes in these tests come from the behaviour that issue 4

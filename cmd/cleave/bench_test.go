@@ -7,7 +7,7 @@ import (
 	"path/filepath"
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	"golang.org/x/image/tiff"
 )
 

@@ -10,7 +10,7 @@ import (
 	"strings"
 	"time"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
 )

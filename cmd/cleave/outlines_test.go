@@ -15,7 +15,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // geoFeature is a GeoJSON Feature as encoding/json reads it.

@@ -10,7 +10,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 

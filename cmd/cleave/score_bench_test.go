@@ -3,7 +3,7 @@ package main
 import (
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // BenchmarkScoreMaps512 is every metric of one 512x512 nuclei truth against

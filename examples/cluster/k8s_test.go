@@ -22,7 +22,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/examples/loudskip"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	batchv1 "k8s.io/api/batch/v1"
 	corev1 "k8s.io/api/core/v1"
 	"sigs.k8s.io/yaml"

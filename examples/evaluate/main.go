@@ -1,5 +1,5 @@
 // Command evaluate measures cleave on the project's generated scenes the
-// way a user would: it writes scenes (package scenes) to a temporary
+// way a user would: it writes scenes (package imageio/scenes) to a temporary
 // folder, runs the real `cleave segment` binary on them with the flags of
 // the kind (the table recommended below, or the flags given after "--"),
 // runs the classical baseline watershed.py (threshold + distance-transform
@@ -41,7 +41,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 

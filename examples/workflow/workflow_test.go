@@ -16,7 +16,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/examples/loudskip"
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 // parallelLine is the README's GNU parallel equivalent of the Snakefile's

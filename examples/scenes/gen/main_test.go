@@ -9,7 +9,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/cleave-seg/cleave/scenes"
+	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
 func TestGenerate(t *testing.T) {

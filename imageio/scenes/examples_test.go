@@ -17,11 +17,11 @@ func TestCommittedExamples(t *testing.T) {
 		dir   string
 		scene *Scene
 	}{
-		{"../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 1})},
-		{"../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 2})},
-		{"../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 3})},
-		{"../examples/plates", Plate(PlateOptions{Width: 512, Height: 512, Seed: 1})},
-		{"../examples/plates", Plate(PlateOptions{Width: 512, Height: 512, Seed: 2})},
+		{"../../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 1})},
+		{"../../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 2})},
+		{"../../examples/nuclei", Nuclei(NucleiOptions{Width: 512, Height: 512, Seed: 3})},
+		{"../../examples/plates", Plate(PlateOptions{Width: 512, Height: 512, Seed: 1})},
+		{"../../examples/plates", Plate(PlateOptions{Width: 512, Height: 512, Seed: 2})},
 	}
 	for _, c := range cases {
 		s := c.scene
