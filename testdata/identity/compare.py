@@ -11,7 +11,8 @@ them):
     map of stage times), anywhere in a .json file;
   - the columns "seconds" and "seconds_per_image" of tune.csv and
     manifest.csv;
-  - the seconds cells of report.html (<td class="n">1.23</td>);
+  - the seconds cells of report.html (<td class="n">1.23</td>) and the
+    date it was written (2026-12-03 00:45 UTC);
   - the holder line of .cleave-batch.lock (pid, host, start time);
   - times in the logs of stdout/stderr ("2.2 s", "0.247 s per image"),
     and batch's periodic progress lines ("cleave batch: 0/3 images done"),
@@ -54,6 +55,7 @@ def normalize(rel, data, root):
             text = out.getvalue()
     elif name == "report.html":
         text = re.sub(r'<td class="n">\d+\.\d\d</td>', '<td class="n">T</td>', text)
+        text = re.sub(r"\d{4}-\d\d-\d\d \d\d:\d\d UTC", "DATE", text)
     if rel.startswith("log/"):
         # batch's periodic progress lines come on a clock.
         text = re.sub(r"(?m)^cleave batch: \d+/\d+ images done.*\n", "", text)
