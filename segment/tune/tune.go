@@ -438,8 +438,7 @@ type Result struct {
 // Among the settings tied with the best, the cheapest by the cost model is
 // chosen (chooseFaster).
 func (t *Tuner) Search(ctx context.Context, imgs []int, budget int, say func(string)) (*Result, error) {
-	r := &Result{Space: t.Space}
-	r.Space = cloneSpace(&t.Space)
+	r := &Result{Space: cloneSpace(&t.Space)}
 	var step [NumParams]float64
 	for d := range NumParams {
 		if t.Space[d].Refinable() {
