@@ -337,7 +337,7 @@ type Cache struct {
 	Ceiling float64
 
 	mu    sync.Mutex
-	cuts  map[string]*cutEntry
+	cuts  map[Params]*cutEntry
 	slics map[[3]float64]*slicEntry
 
 	// scales holds the object scale without (0) and with (1) grain
@@ -393,7 +393,7 @@ func cacheEntry[K comparable, E any](c *Cache, m *map[K]*E, key K) *E {
 
 // cut returns the bisection at threshold t for the graph identified by
 // key, growing (grow(threshold)) or reusing a split tree.
-func (c *Cache) cut(key string, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
+func (c *Cache) cut(key Params, t float64, grow func(at float64) (*cutResult, error)) (*cutResult, error) {
 	e := cacheEntry(c, &c.cuts, key)
 	e.mu.Lock()
 	defer e.mu.Unlock()
@@ -627,7 +627,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		// results.
 		q := p
 		q.MaxNcut, q.Workers = 0, 0
-		cut, err = in.Cache.cut(fmt.Sprintf("%+v", q), p.MaxNcut, func(at float64) (*cutResult, error) {
+		cut, err = in.Cache.cut(q, p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
 			return bisect(ctx, g, area, q, cutOptions{stability: stability, tree: true})
