@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"html"
@@ -93,15 +92,7 @@ func runCleave(args ...string) (code int, stdout, stderr string) {
 // keyed by input.
 func readManifest(t *testing.T, out string) map[string][]string {
 	t.Helper()
-	f, err := os.Open(filepath.Join(out, "manifest.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	recs := readCSV(t, filepath.Join(out, "manifest.csv"))
 	if want := []string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"}; strings.Join(recs[0], ",") != strings.Join(want, ",") {
 		t.Fatalf("manifest header %v, want %v", recs[0], want)
 	}

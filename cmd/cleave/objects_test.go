@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"encoding/csv"
 	"image"
 	"image/color"
 	"image/png"
@@ -13,21 +12,6 @@ import (
 	"strings"
 	"testing"
 )
-
-// readCSVFile reads a whole CSV file.
-func readCSVFile(t *testing.T, p string) [][]string {
-	t.Helper()
-	f, err := os.Open(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatalf("%s: %v", p, err)
-	}
-	return recs
-}
 
 // writeColourDiscs writes a colour PNG: four discs of different hues on a
 // dark ground, so that its region table has the per-channel columns.
@@ -109,7 +93,7 @@ func TestBatchObjectsTable(t *testing.T) {
 		}
 	}
 
-	objects := readCSVFile(t, filepath.Join(out, objectsName))
+	objects := readCSV(t, filepath.Join(out, objectsName))
 	head := objects[0]
 	if head[0] != "input" {
 		t.Fatalf("objects.csv starts with column %q, want input", head[0])
@@ -134,7 +118,7 @@ func TestBatchObjectsTable(t *testing.T) {
 	heads := map[string][]string{}
 	for _, g := range good {
 		stem := strings.TrimSuffix(g, path.Ext(g))
-		table := readCSVFile(t, filepath.Join(out, filepath.FromSlash(stem)+".regions.csv"))
+		table := readCSV(t, filepath.Join(out, filepath.FromSlash(stem)+".regions.csv"))
 		heads[g] = table[0]
 		rows := byInput[g]
 		if len(rows) != len(table)-1 {

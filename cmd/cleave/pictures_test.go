@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"image"
 	"image/color"
 	"image/png"
@@ -38,15 +37,7 @@ func rgb8(img image.Image, x, y int) [3]uint8 {
 // readRegionRows reads regions.csv into label -> column -> cell.
 func readRegionRows(t *testing.T, p string) map[int32]map[string]string {
 	t.Helper()
-	f, err := os.Open(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	recs := readCSV(t, p)
 	out := map[int32]map[string]string{}
 	for _, row := range recs[1:] {
 		m := map[string]string{}

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/json"
 	"image"
 	"image/color"
@@ -134,15 +133,7 @@ func TestScoreIdentityAndCSV(t *testing.T) {
 	if !strings.Contains(table, "mean of 3") || !strings.Contains(table, "discs") {
 		t.Errorf("table lacks rows:\n%s", table)
 	}
-	f, err := os.Open(csvPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := readCSV(t, csvPath)
 	if len(rows) != 5 || rows[0][3] != "ari" || rows[4][0] != "mean" {
 		t.Errorf("csv rows %v", rows)
 	}

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"io"
 	"math"
@@ -147,15 +146,7 @@ func TestScoreBinaryMasks(t *testing.T) {
 	}
 	csvPath := filepath.Join(t.TempDir(), "s.csv")
 	runOK(t, "score", "--csv", csvPath, shapes.predPath, shapes.truthPath)
-	f, err := os.Open(csvPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := readCSV(t, csvPath)
 	n := len(rows[0])
 	if strings.Join(rows[0][n-4:], ",") != "pred_map,pred_objects,truth_map,truth_objects" || strings.Join(rows[1][n-4:], ",") != "labels,5,mask-components,5" {
 		t.Errorf("csv: %v / %v", rows[0][n-4:], rows[1][n-4:])

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -67,15 +65,7 @@ func TestRegionTableCSV(t *testing.T) {
 	if code, _, stderr := runCleave("segment", "--out", dir, "--pixel-size", "0.25", "--unit", "µm", img); code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	f, err := os.Open(filepath.Join(dir, "ramp.regions.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	recs := readCSV(t, filepath.Join(dir, "ramp.regions.csv"))
 	if len(recs) < 2 {
 		t.Fatalf("%d rows, want a header and at least one region", len(recs))
 	}
@@ -92,6 +82,7 @@ func TestRegionTableCSV(t *testing.T) {
 	for _, r := range recs[1:] {
 		vals := make([]float64, len(r))
 		for k, cell := range r {
+			var err error
 			if vals[k], err = strconv.ParseFloat(cell, 64); err != nil {
 				t.Fatalf("cell %q of %v is not a number", cell, r)
 			}
@@ -111,15 +102,7 @@ func TestScoreCSVNeutralized(t *testing.T) {
 	if code, _, stderr := runCleave("score", "--csv", "s.csv", "--", "=cmd.png", "-truth.png"); code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	f, err := os.Open("s.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	recs, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	recs := readCSV(t, "s.csv")
 	if len(recs) != 2 {
 		t.Fatalf("%d rows, want 2", len(recs))
 	}

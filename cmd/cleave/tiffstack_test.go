@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"encoding/binary"
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -267,15 +266,7 @@ func TestBatchPlanesAll(t *testing.T) {
 				t.Fatalf("rebuild: exit %d: %s", code, stderr)
 			}
 		}
-		f, err := os.Open(filepath.Join(out, "manifest.csv"))
-		if err != nil {
-			t.Fatal(err)
-		}
-		defer f.Close()
-		rows, err := csv.NewReader(f).ReadAll()
-		if err != nil {
-			t.Fatal(err)
-		}
+		rows := readCSV(t, filepath.Join(out, "manifest.csv"))
 		for _, r := range rows[1:] {
 			r[5] = "" // seconds
 		}

@@ -44,6 +44,7 @@ func writeNuclei(t testing.TB, dir string, seed uint64, n, size int) []*scenes.S
 var smallTune = []string{"--classes", "2", "--background", "dark", "--superpixels", "300",
 	"--sigma-i", "0.005,0.02", "--sigma-x", "6:12:2", "--max-ncut", "0.15", "--budget", "2", "--folds", "2"}
 
+// readCSV reads a whole CSV file.
 func readCSV(t *testing.T, path string) [][]string {
 	t.Helper()
 	f, err := os.Open(path)
@@ -53,7 +54,7 @@ func readCSV(t *testing.T, path string) [][]string {
 	defer f.Close()
 	rows, err := csv.NewReader(f).ReadAll()
 	if err != nil {
-		t.Fatal(err)
+		t.Fatalf("%s: %v", path, err)
 	}
 	return rows
 }
