@@ -101,24 +101,37 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			line := plane[y*w : (y+1)*w]
 			for f, kern := range kernels {
 				out := rows[f][y*w : (y+1)*w]
-				for x := 0; x < w; x++ {
+				// Edge-replicated near the ends; the interior needs no
+				// clamping (the same terms in the same order).
+				lo, hi := min(r, w), max(w-r, min(r, w))
+				for x := 0; x < lo; x++ {
+					out[x] = float32(clampedTaps(kern, line, x, r))
+				}
+				for x := lo; x < hi; x++ {
 					var s float64
-					for k := -r; k <= r; k++ {
-						xx := min(max(x+k, 0), w-1)
-						s += kern[k+r] * float64(line[xx])
+					win := line[x-r : x+r+1]
+					for k, v := range win {
+						s += kern[k] * float64(v)
 					}
 					out[x] = float32(s)
+				}
+				for x := hi; x < w; x++ {
+					out[x] = float32(clampedTaps(kern, line, x, r))
 				}
 			}
 		}
 	})
 	// Vertical passes.
 	forBands(h, workers, func(_, y0, y1 int) {
+		off := make([]int, 2*r+1)
 		for y := y0; y < y1; y++ {
+			for k := -r; k <= r; k++ {
+				off[k+r] = min(max(y+k, 0), h-1) * w
+			}
 			for x := 0; x < w; x++ {
 				var ix, iy, ixx, iyy, ixy float64
 				for k := -r; k <= r; k++ {
-					j := min(max(y+k, 0), h-1)*w + x
+					j := off[k+r] + x
 					a, b, d := float64(rows[0][j]), float64(rows[1][j]), float64(rows[2][j])
 					ix += g0[k+r] * b
 					iy += g1[k+r] * a
@@ -130,6 +143,18 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			}
 		}
 	})
+}
+
+// clampedTaps is Σ_k kern[k+r]·line[clamp(x+k)], k = -r..r, the image
+// edge replicated.
+func clampedTaps(kern []float64, line []float32, x, r int) float64 {
+	w := len(line)
+	var s float64
+	for k := -r; k <= r; k++ {
+		xx := min(max(x+k, 0), w-1)
+		s += kern[k+r] * float64(line[xx])
+	}
+	return s
 }
 
 // interveningContour returns, for every edge of adj (a region adjacency
