@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"runtime"
 
 	"github.com/cleave-seg/cleave/affinity"
 )
@@ -49,7 +50,7 @@ func meshCell(r float64, w, h int) int {
 // meshBackground returns the local background of v (w x h) estimated on
 // a mesh of cell x cell pixels as described above. It depends on v only,
 // not on any grouping of the pixels.
-func meshBackground(v []float32, w, h, cell int) []float32 {
+func meshBackground(v []float32, w, h, cell, workers int) []float32 {
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	grid := make([]float64, gw*gh)
 	buf := make([]float64, 0, cell*cell)
@@ -65,7 +66,7 @@ func meshBackground(v []float32, w, h, cell int) []float32 {
 		}
 	}
 	grid = medianFilter3(grid, gw, gh)
-	return interpolateGrid(grid, gw, gh, cell, w, h)
+	return interpolateGrid(grid, gw, gh, cell, w, h, workers)
 }
 
 // clippedMedian is the median of x after iterative κσ clipping around the
@@ -125,25 +126,54 @@ func medianFilter3(g []float64, gw, gh int) []float64 {
 
 // interpolateGrid spreads a gw x gh grid of cell values (cell pixels
 // each, values at cell centres) over a w x h image by bilinear
-// interpolation, held constant beyond the outer centres.
-func interpolateGrid(grid []float64, gw, gh, cell, w, h int) []float32 {
+// interpolation, held constant beyond the outer centres. Bands of rows
+// run on workers goroutines (workers < 1: GOMAXPROCS); every pixel is
+// computed alone, so the result does not depend on the worker count.
+func interpolateGrid(grid []float64, gw, gh, cell, w, h, workers int) []float32 {
 	out := make([]float32, w*h)
-	for y := 0; y < h; y++ {
-		fy := (float64(y)+0.5)/float64(cell) - 0.5
-		y0 := int(math.Floor(fy))
-		ty := fy - float64(y0)
-		y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
-		for x := 0; x < w; x++ {
-			fx := (float64(x)+0.5)/float64(cell) - 0.5
-			x0 := int(math.Floor(fx))
-			tx := fx - float64(x0)
-			x0c, x1c := min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
-			top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
-			bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
-			out[y*w+x] = float32(top*(1-ty) + bot*ty)
-		}
+	// The horizontal weights are the same on every row.
+	xs := make([]int, 2*w)
+	txs := make([]float64, w)
+	for x := 0; x < w; x++ {
+		fx := (float64(x)+0.5)/float64(cell) - 0.5
+		x0 := int(math.Floor(fx))
+		txs[x] = fx - float64(x0)
+		xs[2*x], xs[2*x+1] = min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
 	}
+	forRowBands(h, workers, func(ya, yb int) {
+		for y := ya; y < yb; y++ {
+			fy := (float64(y)+0.5)/float64(cell) - 0.5
+			y0 := int(math.Floor(fy))
+			ty := fy - float64(y0)
+			y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
+			g0, g1 := grid[y0c*gw:(y0c+1)*gw], grid[y1c*gw:(y1c+1)*gw]
+			row := out[y*w : (y+1)*w]
+			for x := range row {
+				tx := txs[x]
+				x0c, x1c := xs[2*x], xs[2*x+1]
+				top := g0[x0c]*(1-tx) + g0[x1c]*tx
+				bot := g1[x0c]*(1-tx) + g1[x1c]*tx
+				row[x] = float32(top*(1-ty) + bot*ty)
+			}
+		}
+	})
 	return out
+}
+
+// rowBand is the number of image rows in one work chunk of forRowBands.
+const rowBand = 64
+
+// forRowBands calls fn(y0, y1) for fixed bands of rowBand rows of an
+// image of h rows on at most workers goroutines (workers < 1:
+// GOMAXPROCS). The bands depend on h only, never on the worker count.
+func forRowBands(h, workers int, fn func(y0, y1 int)) {
+	if workers < 1 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	n := (h + rowBand - 1) / rowBand
+	forEach(n, workers, func(c int) {
+		fn(c*rowBand, min(h, (c+1)*rowBand))
+	})
 }
 
 // Weak small scales: ObjectScale's documentation warns that on packed

@@ -84,7 +84,7 @@ func TestMeshBackgroundRamp(t *testing.T) {
 			}
 		}
 	}
-	got := meshBackground(v, w, h, cell)
+	got := meshBackground(v, w, h, cell, 2)
 	var worst float64
 	for y := cell / 2; y < h-cell/2; y++ {
 		for x := cell / 2; x < w-cell/2; x++ {
@@ -160,7 +160,7 @@ func TestGroupClassesHaze(t *testing.T) {
 	const w, h = 256, 256
 	lum, reg, n := hazeRegions(w, h)
 	for _, radius := range []float64{0, 6} {
-		cls, _ := groupClasses([][]float32{lum}, lum, w, h, reg, n, 2, "dark", func() float64 { return radius }, 1)
+		cls, _ := groupClasses([][]float32{lum}, lum, w, h, reg, n, 2, "dark", func() float64 { return radius }, 1, 2)
 		want := []int32{0, 0, 1, 1, 1, 1}
 		for r := range want {
 			if cls[r] != want[r] {

@@ -68,7 +68,7 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background Background, radius func() float64, seed uint64) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32) {
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
 		mv := statsOf(planes, reg, n).mean
@@ -89,7 +89,7 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		// has taken uneven background (haze, a glow with dark corners)
 		// for an object. Start again against the local background mesh,
 		// which needs no grouping (see initialScores).
-		initialScores(score, lum, w, h, reg, st.area, radius(), background)
+		initialScores(score, lum, w, h, reg, st.area, radius(), background, workers)
 		cls = asBackground(split1D(score, st.area, C, seed), C, background)
 	}
 	for round := 0; round < classRounds; round++ {
@@ -105,7 +105,7 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 		if !found {
 			return cls, nil
 		}
-		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale)
+		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
 		sum := make([]float64, n)
 		for i, r := range reg {
 			sum[r] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
@@ -137,8 +137,8 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 // as one huge object in every later round. B₀ depends on the image only,
 // so the glow scores near 0 like any other background and the first
 // grouping is already one of objects against their local background.
-func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background Background) {
-	b0 := meshBackground(lum, w, h, meshCell(radius, w, h))
+func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background Background, workers int) {
+	b0 := meshBackground(lum, w, h, meshCell(radius, w, h), workers)
 	sum := make([]float64, len(score))
 	for i, r := range reg {
 		sum[r] += float64(lum[i]) / math.Max(float64(b0[i]), fieldFloor)
@@ -413,7 +413,7 @@ func referenceClass(cls []int32, area []float64, C int, background Background) i
 // computed on a coarse grid of about fieldGridCells cells across and
 // interpolated bilinearly. Cells with no masked pixel within reach take the
 // mean of all masked pixels.
-func smoothField(v []float32, mask []bool, w, h int, sigma float64) []float32 {
+func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
 	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	sum := make([]float64, gw*gh)
@@ -444,7 +444,7 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64) []float32 {
 			grid[c] = global
 		}
 	}
-	return interpolateGrid(grid, gw, gh, cell, w, h)
+	return interpolateGrid(grid, gw, gh, cell, w, h, workers)
 }
 
 // blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,

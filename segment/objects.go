@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"runtime"
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -10,11 +11,28 @@ import (
 // contrastMap returns |I/B - 1| per pixel, the contrast against the
 // background field B (kept above fieldFloor) that the object stages judge
 // by.
-func contrastMap(inten, field []float32) []float64 {
-	con := make([]float64, len(inten))
-	for i := range con {
-		con[i] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+func contrastMap(inten, field []float32, workers int) []float64 {
+	return contrastMapInto(nil, inten, field, workers)
+}
+
+// contrastMapInto is contrastMap written into dst when it has the length
+// of inten (a map the caller no longer needs), else into a new slice; it
+// returns the map. Bands of pixels run on workers goroutines (workers <
+// 1: GOMAXPROCS); each pixel is computed alone.
+func contrastMapInto(dst []float64, inten, field []float32, workers int) []float64 {
+	con := dst
+	if len(con) != len(inten) {
+		con = make([]float64, len(inten))
 	}
+	const band = 1 << 16
+	if workers < 1 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	forEach((len(con)+band-1)/band, workers, func(c int) {
+		for i := c * band; i < min(len(con), (c+1)*band); i++ {
+			con[i] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+		}
+	})
 	return con
 }
 

@@ -65,7 +65,7 @@ func TestTightenObjects(t *testing.T) {
 			labels[y*w+x] = 1
 		}
 	}
-	out, n := tightenObjects(contrastMap(inten, field), w, h, labels, 1, 20)
+	out, n := tightenObjects(contrastMap(inten, field, 2), w, h, labels, 1, 20)
 	if n != 2 {
 		t.Fatalf("got %d objects, want 2", n)
 	}
@@ -310,7 +310,7 @@ func TestEdgelessDiffuse(t *testing.T) {
 	for i := range field {
 		field[i] = 0.2
 	}
-	con := contrastMap(lum, field)
+	con := contrastMap(lum, field, 2)
 	test := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
 	if drop := edgeless(labels, 2, test, w, h); drop != nil {
 		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)

@@ -681,7 +681,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
-		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed)
+		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		res.Classes = make([]int32, npix)
 		for i, r := range reg {
 			res.Classes[i] = cls[r]
@@ -693,7 +693,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				for i, r := range reg {
 					mask[i] = cls[r] == bg
 				}
-				return smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale)
+				return smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
 			}
 			if field == nil {
 				field = backgroundField()
@@ -702,7 +702,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
 			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: coarseEnergy(in.Luminance, w, h, p.Workers), source: sourceContrast(p.Background)}
-			con := contrastMap(in.Luminance, field)
+			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			// Objects with no edge on their outline, or only a diffuse
@@ -726,19 +726,19 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					}
 				}
 				field = backgroundField()
-				con = contrastMap(in.Luminance, field)
+				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 || !rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background) {
 					break
 				}
 				field = backgroundField()
-				con = contrastMap(in.Luminance, field)
+				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			}
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, w, h, reg, cls, bg, p.Background) {
 				field = backgroundField()
-				con = contrastMap(in.Luminance, field)
+				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 			}
 			if nodeOf != nil && p.Classes == 2 {
