@@ -93,13 +93,13 @@ func TestAutoRegionSigmaI(t *testing.T) {
 	labels := []int32{0, 0, 1, 1, 2, 2}
 	f := [][]float32{{0.1, 0.1, 0.2, 0.2, 0.6, 0.6}}
 	r := Summarize(f, 6, 1, labels, 3)
-	got := AutoRegionSigmaI(r, Adjacency(6, 1, labels, 3))
+	got := AutoRegionSigmaI(r, Adjacency(6, 1, labels, 3, 2))
 	if math.Abs(got-0.1) > 1e-6 {
 		t.Errorf("sigma-i = %v, want 0.1", got)
 	}
 	// A constant image: every difference 0, spread 0 -> the absolute floor.
 	c := [][]float32{{0.5, 0.5, 0.5, 0.5, 0.5, 0.5}}
-	if got := AutoRegionSigmaI(Summarize(c, 6, 1, labels, 3), Adjacency(6, 1, labels, 3)); got != minSigmaI {
+	if got := AutoRegionSigmaI(Summarize(c, 6, 1, labels, 3), Adjacency(6, 1, labels, 3, 2)); got != minSigmaI {
 		t.Errorf("constant: sigma-i = %v, want the floor %v", got, minSigmaI)
 	}
 }

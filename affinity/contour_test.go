@@ -83,7 +83,7 @@ func TestRegionGraphContourCue(t *testing.T) {
 		}
 	}
 	r := Summarize([][]float32{f}, w, h, lab, 4)
-	adj := Adjacency(w, h, lab, 4)
+	adj := Adjacency(w, h, lab, 4, 2)
 	e := EdgeEnergy(f, w, h, ContourScale, 1)
 	plain, err := RegionGraph(r, adj, w, h, RegionParams{SigmaI: 1, SigmaX: 100})
 	if err != nil {

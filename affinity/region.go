@@ -47,31 +47,54 @@ func Summarize(f [][]float32, w, h int, labels []int32, n int) *Regions {
 	return r
 }
 
+// adjRows is the number of image rows in one band of Adjacency.
+const adjRows = 128
+
 // Adjacency returns the region adjacency graph of a labelling: w_ij is the
 // number of 4-connected pixel pairs (horizontal and vertical unit edges)
 // with one pixel in region i and the other in j, i.e. the length of their
 // shared boundary in pixel edges.
-func Adjacency(w, h int, labels []int32, n int) *Graph {
-	counts := make(map[uint64]float32)
-	add := func(a, b int32) {
-		if a == b {
-			return
-		}
-		if a > b {
-			a, b = b, a
-		}
-		counts[uint64(a)<<32|uint64(b)]++
-	}
-	for y := 0; y < h; y++ {
-		row := labels[y*w : (y+1)*w]
-		for x := 0; x+1 < w; x++ {
-			add(row[x], row[x+1])
-		}
-		if y+1 < h {
-			next := labels[(y+1)*w : (y+2)*w]
-			for x := 0; x < w; x++ {
-				add(row[x], next[x])
+//
+// Bands of adjRows rows (fixed by h alone) are counted on workers
+// goroutines (workers < 1: GOMAXPROCS), each band in a map of its own;
+// the counts are small integers, exact in float32, so merging them in any
+// order gives the same graph.
+func Adjacency(w, h int, labels []int32, n, workers int) *Graph {
+	nb := (h + adjRows - 1) / adjRows
+	bands := make([]map[uint64]float32, nb)
+	forChunks(nb, numWorkers(workers), func(c int) {
+		counts := make(map[uint64]float32)
+		add := func(a, b int32) {
+			if a > b {
+				a, b = b, a
 			}
+			counts[uint64(a)<<32|uint64(b)]++
+		}
+		for y := c * adjRows; y < min(h, (c+1)*adjRows); y++ {
+			row := labels[y*w : (y+1)*w]
+			for x := 0; x+1 < w; x++ {
+				if row[x] != row[x+1] {
+					add(row[x], row[x+1])
+				}
+			}
+			if y+1 < h {
+				next := labels[(y+1)*w : (y+2)*w]
+				for x, a := range row {
+					if a != next[x] {
+						add(a, next[x])
+					}
+				}
+			}
+		}
+		bands[c] = counts
+	})
+	counts := make(map[uint64]float32)
+	if nb > 0 {
+		counts = bands[0]
+	}
+	for _, b := range bands[min(1, nb):] {
+		for k, v := range b {
+			counts[k] += v
 		}
 	}
 	edges := make([]Edge, 0, len(counts))

@@ -18,7 +18,7 @@ import (
 // (2,2)-(3,2) horizontal).
 func TestAdjacencyHand(t *testing.T) {
 	labels := []int32{0, 0, 1, 1, 0, 0, 1, 1, 2, 2, 2, 1}
-	g := Adjacency(4, 3, labels, 3)
+	g := Adjacency(4, 3, labels, 3, 2)
 	if err := g.Validate(); err != nil {
 		t.Fatal(err)
 	}
@@ -45,7 +45,7 @@ func TestSummarizeAndRegionGraph(t *testing.T) {
 		t.Fatalf("region 1: area %d centroid (%v,%v)", r.Area[1], r.CX[1], r.CY[1])
 	}
 	p := RegionParams{SigmaI: 0.3, SigmaX: 5}
-	g, err := RegionGraph(r, Adjacency(4, 3, labels, 3), 4, 3, p)
+	g, err := RegionGraph(r, Adjacency(4, 3, labels, 3, 2), 4, 3, p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -60,7 +60,7 @@ func TestSummarizeAndRegionGraph(t *testing.T) {
 	if got, _ := g.At(0, 1); math.Abs(float64(got)-want) > 1e-6*want {
 		t.Errorf("w01 = %v, want %v", got, want)
 	}
-	if _, err := RegionGraph(r, Adjacency(4, 3, labels, 3), 4, 3, RegionParams{SigmaI: math.NaN(), SigmaX: 1}); err == nil {
+	if _, err := RegionGraph(r, Adjacency(4, 3, labels, 3, 2), 4, 3, RegionParams{SigmaI: math.NaN(), SigmaX: 1}); err == nil {
 		t.Error("NaN sigma-i accepted")
 	}
 }

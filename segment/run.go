@@ -567,7 +567,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if err != nil {
 				return nil, err
 			}
-			return &slicEntry{nodeOf: nodeOf, n: n, sum: affinity.Summarize(in.Planes, w, h, nodeOf, n), adj: affinity.Adjacency(w, h, nodeOf, n)}, nil
+			return &slicEntry{nodeOf: nodeOf, n: n, sum: affinity.Summarize(in.Planes, w, h, nodeOf, n), adj: affinity.Adjacency(w, h, nodeOf, n, p.Workers)}, nil
 		}
 		var sp *slicEntry
 		if in.Cache != nil {
