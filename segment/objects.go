@@ -231,35 +231,54 @@ func tightenObjects(con []float64, w, h int, labels []int32, n, minArea int) ([]
 // objects. Filled masks are common practice for counted objects.
 func fillHoles(group []int32, w, h int) {
 	seen := make([]bool, len(group))
-	var stack, piece []int
+	// Pixel indices fit in int32 (images are capped far below 2^31
+	// pixels); a piece's pixels are kept only while it may still be a
+	// hole, so the large background piece, which reaches the border, is
+	// not listed.
+	var stack, piece []int32
 	for s := range group {
 		if group[s] >= 0 || seen[s] {
 			continue
 		}
 		seen[s] = true
-		stack = append(stack[:0], s)
+		stack = append(stack[:0], int32(s))
 		piece = piece[:0]
 		border := false
 		owner := int32(-1) // -1: none yet, -2: several
+		visit := func(j int) {
+			if g := group[j]; g >= 0 {
+				if owner == -1 {
+					owner = g
+				} else if owner != g {
+					owner = -2
+				}
+			} else if !seen[j] {
+				seen[j] = true
+				stack = append(stack, int32(j))
+			}
+		}
 		for len(stack) > 0 {
-			i := stack[len(stack)-1]
+			i := int(stack[len(stack)-1])
 			stack = stack[:len(stack)-1]
-			piece = append(piece, i)
-			if x, y := i%w, i/w; x == 0 || y == 0 || x == w-1 || y == h-1 {
+			x, y := i%w, i/w
+			if x == 0 || y == 0 || x == w-1 || y == h-1 {
 				border = true
 			}
-			neighbours4(i, w, h, func(j int) {
-				if g := group[j]; g >= 0 {
-					if owner == -1 {
-						owner = g
-					} else if owner != g {
-						owner = -2
-					}
-				} else if !seen[j] {
-					seen[j] = true
-					stack = append(stack, j)
-				}
-			})
+			if !border {
+				piece = append(piece, int32(i))
+			}
+			if x > 0 {
+				visit(i - 1)
+			}
+			if x+1 < w {
+				visit(i + 1)
+			}
+			if y > 0 {
+				visit(i - w)
+			}
+			if y+1 < h {
+				visit(i + w)
+			}
 		}
 		if !border && owner >= 0 {
 			for _, i := range piece {
