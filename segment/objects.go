@@ -435,20 +435,25 @@ func coarseEnergy(lum []float32, w, h, workers int) []float32 {
 	}
 	w2, h2 := (w+1)/2, (h+1)/2
 	small := make([]float32, w2*h2)
-	for y := 0; y < h2; y++ {
-		y0, y1 := 2*y, min(2*y+1, h-1)
-		for x := 0; x < w2; x++ {
-			x0, x1 := 2*x, min(2*x+1, w-1)
-			small[y*w2+x] = (lum[y0*w+x0] + lum[y0*w+x1] + lum[y1*w+x0] + lum[y1*w+x1]) / 4
+	forRowBands(h2, workers, func(ya, yb int) {
+		for y := ya; y < yb; y++ {
+			y0, y1 := 2*y, min(2*y+1, h-1)
+			for x := 0; x < w2; x++ {
+				x0, x1 := 2*x, min(2*x+1, w-1)
+				small[y*w2+x] = (lum[y0*w+x0] + lum[y0*w+x1] + lum[y1*w+x0] + lum[y1*w+x1]) / 4
+			}
 		}
-	}
+	})
 	e2 := affinity.EdgeEnergy(small, w2, h2, diffuseScale/2, workers)
 	out := make([]float32, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			out[y*w+x] = e2[(y/2)*w2+x/2]
+	forRowBands(h, workers, func(ya, yb int) {
+		for y := ya; y < yb; y++ {
+			src, dst := e2[(y/2)*w2:(y/2+1)*w2], out[y*w:(y+1)*w]
+			for x := range dst {
+				dst[x] = src[x/2]
+			}
 		}
-	}
+	})
 	return out
 }
 
