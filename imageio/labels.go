@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"image"
-	"image/png"
 	"io"
 
 	"github.com/cleave-seg/cleave/imageio/tiffread"
@@ -25,8 +24,7 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
 		img.Pix[2*i] = uint8(l >> 8)
 		img.Pix[2*i+1] = uint8(l)
 	}
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	return enc.Encode(w, img)
+	return encodePNGFast(w, img, 0)
 }
 
 // ReadLabels reads a label map: any lossless integer image (8- or 16-bit

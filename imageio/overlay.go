@@ -3,7 +3,6 @@ package imageio
 import (
 	"fmt"
 	"image"
-	"image/png"
 	"io"
 	"math"
 	"slices"
@@ -42,6 +41,10 @@ type OverlayOptions struct {
 	// render's digit font, white on a dark halo, where the number's box
 	// with its halo lies inside the object; see NumberScale.
 	Numbers bool
+	// Workers is the number of goroutines that draw and filter the
+	// picture (bands of rows, each pixel drawn alone, so the file does
+	// not depend on it); below 1: GOMAXPROCS.
+	Workers int
 }
 
 // ColourWindow is the display window of a colour image: the smallest 0.1
@@ -200,42 +203,44 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 		return min(v, 1)
 	}
 	img := image.NewRGBA(image.Rect(0, 0, width, height))
-	for y := 0; y < height; y++ {
-		for x := 0; x < width; x++ {
-			i := y*width + x
-			p := img.Pix[4*i : 4*i+4]
-			p[3] = 255
-			if isBoundary(labels, width, height, x, y) {
-				p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
-				continue
-			}
-			var base [3]float64
-			if colour {
-				for k := range 3 {
-					base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
+	const band = 64 // rows per work item
+	forEach((height+band-1)/band, opt.Workers, func(b int) {
+		for y := b * band; y < min(height, (b+1)*band); y++ {
+			for x := 0; x < width; x++ {
+				i := y*width + x
+				p := img.Pix[4*i : 4*i+4]
+				p[3] = 255
+				if isBoundary(labels, width, height, x, y) {
+					p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
+					continue
 				}
-			} else {
-				g := 255 * unit(float64(display[i]))
-				base = [3]float64{g, g, g}
-			}
-			if palette != nil && labels[i] > 0 {
-				c := palette.Of(labels[i])
-				for k := range 3 {
-					base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
+				var base [3]float64
+				if colour {
+					for k := range 3 {
+						base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
+					}
+				} else {
+					g := 255 * unit(float64(display[i]))
+					base = [3]float64{g, g, g}
 				}
-			}
-			for k := range 3 {
-				p[k] = uint8(math.Round(base[k]))
+				if palette != nil && labels[i] > 0 {
+					c := palette.Of(labels[i])
+					for k := range 3 {
+						base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
+					}
+				}
+				for k := range 3 {
+					p[k] = uint8(math.Round(base[k]))
+				}
 			}
 		}
-	}
+	})
 	if opt.Numbers {
 		for _, n := range PlaceNumbers(labels, width, height) {
 			render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
 		}
 	}
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	return enc.Encode(w, img)
+	return encodePNGFast(w, img, opt.Workers)
 }
 
 // EncodePreview writes an RGB PNG that shows a label map in colour:
@@ -258,6 +263,5 @@ func EncodePreview(w io.Writer, width, height int, labels []int32, palette *rend
 			p[0], p[1], p[2] = c[0], c[1], c[2]
 		}
 	}
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	return enc.Encode(w, img)
+	return encodePNGFast(w, img, 0)
 }
