@@ -11,8 +11,9 @@ import (
 
 // EncodeLabels writes a label map (row-major, width x height) as a 16-bit
 // gray PNG whose sample values are the labels. A label outside 0..65535 is
-// an error.
-func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
+// an error. workers goroutines filter the rows (0: GOMAXPROCS); the bytes
+// do not depend on their number.
+func EncodeLabels(w io.Writer, width, height int, labels []int32, workers int) error {
 	if width <= 0 || height <= 0 || len(labels) != width*height {
 		return fmt.Errorf("label map: %d labels for a %dx%d image", len(labels), width, height)
 	}
@@ -24,7 +25,7 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32) error {
 		img.Pix[2*i] = uint8(l >> 8)
 		img.Pix[2*i+1] = uint8(l)
 	}
-	return encodePNGFast(w, img, 0)
+	return encodePNGFast(w, img, workers)
 }
 
 // ReadLabels reads a label map: any lossless integer image (8- or 16-bit

@@ -20,7 +20,7 @@ func TestLabelsRoundTrip(t *testing.T) {
 	const w, h = 5, 3
 	labels := []int32{0, 1, 1, 2, 300, 0, 65535, 4, 4, 4, 256, 255, 0, 7, 1}
 	path := filepath.Join(t.TempDir(), "labels.png")
-	if err := WriteAtomic(path, false, func(wr io.Writer) error { return EncodeLabels(wr, w, h, labels) }); err != nil {
+	if err := WriteAtomic(path, false, func(wr io.Writer) error { return EncodeLabels(wr, w, h, labels, 0) }); err != nil {
 		t.Fatal(err)
 	}
 	got, gw, gh, err := ReadLabels(path)
@@ -63,7 +63,7 @@ func TestEncodeLabelsErrors(t *testing.T) {
 		{2, 2, []int32{0, 1, 2}, "3 labels for a 2x2"},
 		{0, 0, nil, "0x0"},
 	} {
-		err := EncodeLabels(io.Discard, c.w, c.h, c.labels)
+		err := EncodeLabels(io.Discard, c.w, c.h, c.labels, 0)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%v: got %v; want %q", c.labels, err, c.want)
 		}

@@ -246,8 +246,9 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 // EncodePreview writes an RGB PNG that shows a label map in colour:
 // label 0 black, every other label its colour of render.ColourLabels, so
 // labels that touch differ in colour. palette is that colouring when the
-// caller has it already (nil: computed here).
-func EncodePreview(w io.Writer, width, height int, labels []int32, palette *render.LabelColours) error {
+// caller has it already (nil: computed here). workers goroutines filter
+// the rows (0: GOMAXPROCS); the bytes do not depend on their number.
+func EncodePreview(w io.Writer, width, height int, labels []int32, palette *render.LabelColours, workers int) error {
 	if width <= 0 || height <= 0 || len(labels) != width*height {
 		return fmt.Errorf("preview: %d labels for a %dx%d image", len(labels), width, height)
 	}
@@ -263,5 +264,5 @@ func EncodePreview(w io.Writer, width, height int, labels []int32, palette *rend
 			p[0], p[1], p[2] = c[0], c[1], c[2]
 		}
 	}
-	return encodePNGFast(w, img, 0)
+	return encodePNGFast(w, img, workers)
 }

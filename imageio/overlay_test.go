@@ -217,7 +217,7 @@ func TestEncodePreview(t *testing.T) {
 		}
 	}
 	var buf bytes.Buffer
-	if err := EncodePreview(&buf, w, h, labels, nil); err != nil {
+	if err := EncodePreview(&buf, w, h, labels, nil, 0); err != nil {
 		t.Fatal(err)
 	}
 	img := decodeRGB(t, &buf)
@@ -248,7 +248,7 @@ func TestEncodePreview(t *testing.T) {
 			}
 		}
 	}
-	if err := EncodePreview(io.Discard, 2, 2, make([]int32, 3), nil); err == nil {
+	if err := EncodePreview(io.Discard, 2, 2, make([]int32, 3), nil, 0); err == nil {
 		t.Error("mismatched sizes accepted")
 	}
 }

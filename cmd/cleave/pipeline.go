@@ -123,11 +123,11 @@ const labelWarningCode = "labels-tiff"
 
 // encodeLabelMap returns the encoder of one label or class map in format,
 // and fills info (file, format, bits, resolution) for the record.
-func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, info *labelMapInfo) func(io.Writer) error {
+func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, workers int, info *labelMapInfo) func(io.Writer) error {
 	info.Format, info.MaxLabel = format, imageio.MaxLabel(labels)
 	if format == imageio.LabelsPNG {
 		info.Bits = 16
-		return func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, labels) }
+		return func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, labels, workers) }
 	}
 	info.Bits = imageio.LabelBits(labels)
 	res, why := imageio.ResolutionFor(pixelSize, unit)
@@ -360,7 +360,8 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	// The preview and the overlay's tints share one colouring; the
 	// overlay shows a colour image in its colours.
 	palette := render.ColourLabels(res.Labels, w, h)
-	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true}
+	workers := j.resolved.params.Workers
+	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true, Workers: workers}
 	if len(in.channels) == 3 {
 		overlay.Colour = in.channels
 		overlay.Lo, overlay.Hi = imageio.ColourWindow(in.channels, j.resolved.params.Workers)
@@ -391,15 +392,15 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	labelMaps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, &labelMaps[0])},
+		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, workers, &labelMaps[0])},
 		{suffixOverlay, func(wr io.Writer) error {
 			return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, overlay)
 		}},
-		{suffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette) }},
+		{suffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette, workers) }},
 	}
 	if res.Classes != nil {
 		labelMaps = append(labelMaps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, &labelMaps[1])})
+		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
 	rec.LabelMaps = labelMaps
 	planes, planeNames := intensityPlanes(feat.Raw, in.channels)

@@ -217,7 +217,7 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 		path   string
 		labels []int32
 	}{{filepath.Join(masks, sc.Name+"_mask.png"), mask}, {filepath.Join(labelled, sc.Name+"_mask.png"), comp}} {
-		if err := imageio.WriteAtomic(f.path, false, func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, f.labels) }); err != nil {
+		if err := imageio.WriteAtomic(f.path, false, func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, f.labels, 0) }); err != nil {
 			t.Fatal(err)
 		}
 	}
