@@ -1,24 +1,20 @@
 package segment
 
-import "github.com/cleave-seg/cleave/affinity"
+import (
+	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+)
 
 // Components labels the connected components of g (edges of positive
 // weight) by union-find with path halving and union by size. comp[i] is the
 // component of node i, numbered 0..n-1 in order of each component's lowest
 // node, so the numbering is deterministic.
 func Components(g *affinity.Graph) (comp []int32, n int) {
-	parent := make([]int32, g.N)
+	parent := unionfind.New(g.N)
+	find := parent.Find
 	size := make([]int32, g.N)
-	for i := range parent {
-		parent[i] = int32(i)
+	for i := range size {
 		size[i] = 1
-	}
-	find := func(x int32) int32 {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
 	}
 	for i := 0; i < g.N; i++ {
 		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {

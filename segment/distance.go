@@ -4,6 +4,8 @@ import (
 	"container/heap"
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // distanceInside returns, for each pixel of a cw x ch mask, the Euclidean
@@ -143,18 +145,12 @@ func deepestNeck(d []float64, cw, ch int) neck {
 		}
 		return a - b
 	})
-	parent := make([]int32, len(d))
+	parent := make(unionfind.Forest, len(d))
 	for i := range parent {
 		parent[i] = -1 // not flooded yet
 	}
 	top := make([]int32, len(d)) // root -> its peak pixel
-	find := func(x int32) int32 {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
-	}
+	find := parent.Find
 	best := neck{peakA: -1, peakB: -1}
 	for _, i := range order {
 		parent[i] = int32(i)

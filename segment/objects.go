@@ -6,6 +6,8 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // contrastMap returns |I/B - 1| per pixel, the contrast against the
@@ -86,21 +88,21 @@ func objectsFrom(con []float64, w, h int, reg []int32, n int, cls []int32, bgCla
 		}
 	}
 	// Union the regions whose shared boundary is not a seam.
-	f := newForest(n)
+	f := unionfind.New(n)
 	for k, s := range seamSum {
 		a, b := int32(k>>32), int32(uint32(k))
 		seam := s / seamCnt[k]
 		if seam < seamRatio*math.Min(regC[a], regC[b]) {
 			continue
 		}
-		f.union(a, b)
+		f.Union(a, b)
 	}
 	group := make([]int32, len(reg))
 	for i, r := range reg {
 		if cls[r] == bgClass {
 			group[i] = -1
 		} else {
-			group[i] = f.find(r)
+			group[i] = f.Find(r)
 		}
 	}
 	return componentsOfGroups(group, w, h, minArea)
@@ -686,17 +688,17 @@ func joinTouching(con []float64, labels []int32, n, w, h int) ([]int32, int) {
 		keys = append(keys, k)
 	}
 	slices.Sort(keys)
-	f := newForest(n + 1)
+	f := unionfind.New(n + 1)
 	for _, k := range keys {
 		a, b := int32(k>>32), int32(uint32(k))
 		if seamSum[k]/seamCnt[k] >= seamRatio*math.Min(mean[a], mean[b]) {
-			f.union(a, b)
+			f.Union(a, b)
 		}
 	}
 	out := make([]int32, len(labels))
 	for i, l := range labels {
 		if l > 0 {
-			out[i] = f.find(l)
+			out[i] = f.Find(l)
 		}
 	}
 	return withoutLabels(out, n, make([]bool, n+1))

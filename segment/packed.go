@@ -5,6 +5,8 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // BackgroundLines is the Params.Background value for packed objects:
@@ -99,7 +101,7 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 			}
 		}
 	}
-	f := newForest(n)
+	f := unionfind.New(n)
 	keys := make([]uint64, 0, len(pairs))
 	for k := range pairs {
 		keys = append(keys, k)
@@ -109,11 +111,11 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 		if c := pairs[k]; 2*c.onLine >= c.all {
 			continue // a line runs along this border
 		}
-		f.union(int32(k>>32), int32(uint32(k)))
+		f.Union(int32(k>>32), int32(uint32(k)))
 	}
 	group := make([]int32, len(reg))
 	for i, r := range reg {
-		group[i] = f.find(r)
+		group[i] = f.Find(r)
 		if line[i] {
 			group[i] = -1
 		}

@@ -3,6 +3,8 @@ package segment
 import (
 	"container/heap"
 	"sort"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // pairKey packs an unordered label pair (a < b) into one map key.
@@ -140,44 +142,10 @@ func mergeSmall(lab []int32, w, h, n, minArea int) int {
 			heap.Push(hp, areaItem{area[b], int(b)})
 		}
 	}
-	find := func(x int32) int32 {
-		for into[x] != x {
-			x = into[x]
-		}
-		return x
-	}
+	// into links each merged region towards the one that took it in:
+	// a forest whose roots are the regions left.
 	for i, l := range lab {
-		lab[i] = find(l)
+		lab[i] = unionfind.Forest(into).Find(l)
 	}
 	return relabel(lab, n)
-}
-
-// forest is a union-find over 0..n-1 (path halving); union makes the
-// smaller root the parent, so the roots do not depend on the order of
-// the unions' arguments.
-type forest []int32
-
-func newForest(n int) forest {
-	f := make(forest, n)
-	for i := range f {
-		f[i] = int32(i)
-	}
-	return f
-}
-
-func (f forest) find(x int32) int32 {
-	for f[x] != x {
-		f[x] = f[f[x]]
-		x = f[x]
-	}
-	return x
-}
-
-func (f forest) union(a, b int32) {
-	ra, rb := f.find(a), f.find(b)
-	if ra < rb {
-		f[rb] = ra
-	} else if rb < ra {
-		f[ra] = rb
-	}
 }

@@ -1,6 +1,10 @@
 package eigen
 
-import "math"
+import (
+	"math"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+)
 
 // coarsen builds the next coarser level by heavy-edge matching and the
 // Galerkin product W_c = Pᵀ W P (Cour, Benezit and Shi 2005 use such
@@ -47,7 +51,7 @@ func coarsen(lv *level, workers int) *level {
 		}
 	}
 	// Representatives: a pair is led by its smaller node.
-	parent := make([]int32, n)
+	parent := make(unionfind.Forest, n)
 	singles := 0
 	for i := range parent {
 		parent[i] = min(int32(i), mate[i])
@@ -73,7 +77,7 @@ func coarsen(lv *level, workers int) *level {
 				}
 			}
 			if best >= 0 {
-				if r := findRoot(parent, int32(best)); int(r) != i {
+				if r := parent.Find(int32(best)); int(r) != i {
 					parent[i] = r
 				}
 			}
@@ -86,7 +90,7 @@ func coarsen(lv *level, workers int) *level {
 	}
 	nc := 0
 	for i := 0; i < n; i++ {
-		r := findRoot(parent, int32(i))
+		r := parent.Find(int32(i))
 		if id[r] < 0 {
 			id[r] = int32(nc)
 			nc++
@@ -226,14 +230,6 @@ func prolong(fine, coarse *level, zc *block, workers int, pl *pool) *block {
 // practice in algebraic multigrid; 0.3 was measured best on the coins
 // pixel graph.
 const strongFraction = 0.3
-
-// findRoot follows representative links to the aggregate's root.
-func findRoot(parent []int32, i int32) int32 {
-	for parent[i] != i {
-		i = parent[i]
-	}
-	return i
-}
 
 // coarsenTwice applies coarsen twice and folds the two aggregations into
 // one (double pairwise aggregation, Notay 2010): P = P1 P2 is again an

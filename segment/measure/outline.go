@@ -3,6 +3,8 @@ package measure
 import (
 	"fmt"
 	"sort"
+
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // Point is a pixel corner: pixel (x, y) has the corners (x, y),
@@ -57,23 +59,9 @@ func Outlines(labels []int32, w, h int) ([]Outline, error) {
 	// Boundary edges still to trace, 4 bits per pixel.
 	edges := make([]uint8, w*h)
 	// 4-connected pieces of each label (union-find).
-	parent := make([]int32, w*h)
-	var find func(i int32) int32
-	find = func(i int32) int32 {
-		for parent[i] != i {
-			parent[i] = parent[parent[i]]
-			i = parent[i]
-		}
-		return i
-	}
-	union := func(a, b int32) {
-		ra, rb := find(a), find(b)
-		if ra < rb {
-			parent[rb] = ra
-		} else if rb < ra {
-			parent[ra] = rb
-		}
-	}
+	parent := make(unionfind.Forest, w*h)
+	find := parent.Find
+	union := parent.Union
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
