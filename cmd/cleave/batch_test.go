@@ -558,8 +558,15 @@ func TestBatchKillAndResume(t *testing.T) {
 		os.WriteFile(filepath.Join(out, ".img-06.labels.png.tmp-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, ".img-06.overlay.png.tmp-pid1-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, "img-06.labels.png"), []byte("partial"), 0o644)
-		intent := &record{Tool: "cleave", Version: version, Status: statusWriting,
-			Outputs: []string{"img-06.classes.png", "img-06.json", "img-06.labels.png", "img-06.overlay.png", "img-06.regions.csv"}}
+		// It announces every output of a PNG run, as processImage does
+		// (the one list, outputSuffixes).
+		var announced []string
+		for _, suf := range outputSuffixes {
+			if !strings.HasSuffix(suf, ".tif") {
+				announced = append(announced, "img-06"+suf)
+			}
+		}
+		intent := &record{Tool: "cleave", Version: version, Status: statusWriting, Outputs: announced}
 		if err := writeRecord(filepath.Join(out, "img-06.json"), intent, true, ""); err != nil {
 			t.Fatal(err)
 		}
