@@ -276,14 +276,19 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 	}); err != nil {
 		return nil, err
 	}
+	// The size histogram is counted while objects.csv copies the tables,
+	// so each table is read twice (head, rows), not a third time.
+	sizes := newSizeHistogram()
 	if err := imageio.WriteAtomicAs(filepath.Join(dir, objectsName), true, owner, func(w io.Writer) error {
-		return writeObjects(w, dir, rows)
+		return writeObjects(w, dir, rows, sizes)
 	}); err != nil {
 		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, objectsName), err)
 	}
-	sizes, err := objectSizes(dir, rows)
-	if err != nil {
+	if err := sizes.err; err != nil {
 		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, reportName), err)
+	}
+	if sizes.Total == 0 {
+		sizes = nil
 	}
 	if err := imageio.WriteAtomicAs(filepath.Join(dir, reportName), true, owner, func(w io.Writer) error {
 		return writeReport(w, idx, rows, sizes, time.Now())
@@ -389,8 +394,8 @@ func readTableHead(p string) ([]string, error) {
 // empty). The tables are read twice (heads first), so the file is
 // streamed however many objects there are. A cell that is not a number
 // is neutralized by csvText like every text cell; numbers are copied as
-// they are.
-func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
+// they are. Each table's area_px cells are counted into sizes.
+func writeObjects(w io.Writer, dir string, rows []manifestRow, sizes *sizeHistogram) error {
 	var tables []manifestRow
 	var heads [][]string
 	for _, r := range rows {
@@ -418,7 +423,7 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
 	}
 	for t, r := range tables {
 		first := withPlane(planes, []string{csvText(r.Input)}, r.planeText())
-		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), first, heads[t], pos, len(out)); err != nil {
+		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), first, heads[t], pos, len(out), sizes); err != nil {
 			return err
 		}
 	}
@@ -429,8 +434,8 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow) error {
 // copyObjects writes the rows of the region table at p to cw, each as a
 // row of width cells: the cells of first (the input, and its plane with
 // --planes all), then each cell at the position pos gives its column
-// (head is the table's header).
-func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos map[string]int, width int) error {
+// (head is the table's header); the area_px cells go to sizes.
+func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos map[string]int, width int, sizes *sizeHistogram) error {
 	f, err := os.Open(p)
 	if err != nil {
 		return err
@@ -445,6 +450,7 @@ func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos ma
 		return nil
 	}
 	out := make([]string, width)
+	area := slices.Index(head, "area_px") // -1 in a table of an earlier version
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
@@ -452,6 +458,9 @@ func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos ma
 		}
 		if err != nil {
 			return fmt.Errorf("%s: %w", p, err)
+		}
+		if area >= 0 && area < len(rec) {
+			sizes.add(p, rec[area])
 		}
 		clear(out)
 		copy(out, first)

@@ -5,6 +5,8 @@ import (
 	"image"
 	"image/color"
 	"image/png"
+	"io"
+	"maps"
 	"os"
 	"path"
 	"path/filepath"
@@ -240,7 +242,7 @@ func TestWriteObjectsCells(t *testing.T) {
 		{Input: "c.png", Status: rowFailed},
 	}
 	var buf bytes.Buffer
-	if err := writeObjects(&buf, dir, rows); err != nil {
+	if err := writeObjects(&buf, dir, rows, newSizeHistogram()); err != nil {
 		t.Fatal(err)
 	}
 	// area_um2 follows label in b's table, so it goes right after label.
@@ -252,7 +254,45 @@ func TestWriteObjectsCells(t *testing.T) {
 	if err := os.Remove(filepath.Join(dir, "b.regions.csv")); err != nil {
 		t.Fatal(err)
 	}
-	if err := writeObjects(&buf, dir, rows); err == nil || !strings.Contains(err.Error(), "b.regions.csv") {
+	if err := writeObjects(&buf, dir, rows, newSizeHistogram()); err == nil || !strings.Contains(err.Error(), "b.regions.csv") {
 		t.Errorf("missing table: %v, want an error naming it", err)
+	}
+}
+
+// The size histogram is counted while objects.csv is copied: area_px of
+// every ok table in doubling bins (1 -> bin 0, 3 -> 1, 300 and 511 -> 8);
+// a table without the column adds nothing; a cell that is not a pixel
+// count is kept as the error that stops the report, objects.csv still
+// written.
+func TestWriteObjectsCountsSizes(t *testing.T) {
+	dir := t.TempDir()
+	for name, body := range map[string]string{
+		"a.regions.csv": "label,area_px\n1,1\n2,3\n3,300\n",
+		"b.regions.csv": "label,area_um2\n1,3.5\n",
+		"c.regions.csv": "label,area_px\n1,511\n",
+		"d.regions.csv": "label,area_px\n1,x\n",
+	} {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	rows := []manifestRow{
+		{Input: "a.png", Status: rowOK, Table: "a.regions.csv"},
+		{Input: "b.png", Status: rowOK, Table: "b.regions.csv"},
+		{Input: "c.png", Status: rowOK, Table: "c.regions.csv"},
+	}
+	h := newSizeHistogram()
+	if err := writeObjects(io.Discard, dir, rows, h); err != nil {
+		t.Fatal(err)
+	}
+	if want := map[int]int{0: 1, 1: 1, 8: 2}; h.Total != 4 || !maps.Equal(h.counts, want) || h.err != nil {
+		t.Errorf("histogram %v total %d err %v; want %v total 4", h.counts, h.Total, h.err, want)
+	}
+	h = newSizeHistogram()
+	if err := writeObjects(io.Discard, dir, append(rows, manifestRow{Input: "d.png", Status: rowOK, Table: "d.regions.csv"}), h); err != nil {
+		t.Fatal(err)
+	}
+	if h.err == nil || !strings.Contains(h.err.Error(), "d.regions.csv") {
+		t.Errorf("bad area_px cell: %v, want an error naming d.regions.csv", h.err)
 	}
 }

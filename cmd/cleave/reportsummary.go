@@ -1,12 +1,8 @@
 package main
 
 import (
-	"encoding/csv"
 	"fmt"
-	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 )
@@ -16,6 +12,7 @@ import (
 // Its geometry fields place it in the report's SVG.
 type sizeHistogram struct {
 	counts map[int]int
+	err    error // the first area_px cell that was not a pixel count
 	Total  int
 	// Drawing, set by layout.
 	Bars          []sizeBar
@@ -45,55 +42,24 @@ func binOf(area int) int {
 	return k
 }
 
-// objectSizes reads the area_px column of the region table of every ok
-// row; nil when there is none or no label.
-func objectSizes(dir string, rows []manifestRow) (*sizeHistogram, error) {
-	h := &sizeHistogram{counts: map[int]int{}}
-	for _, r := range rows {
-		if r.Status != rowOK || r.Table == "" {
-			continue
-		}
-		if err := h.addTable(filepath.Join(dir, filepath.FromSlash(r.Table))); err != nil {
-			return nil, err
-		}
-	}
-	if h.Total == 0 {
-		return nil, nil
-	}
-	return h, nil
+// newSizeHistogram returns an empty histogram for add.
+func newSizeHistogram() *sizeHistogram {
+	return &sizeHistogram{counts: map[int]int{}}
 }
 
-func (h *sizeHistogram) addTable(p string) error {
-	f, err := os.Open(p)
-	if err != nil {
-		return err
-	}
-	defer f.Close()
-	cr := csv.NewReader(f)
-	cr.ReuseRecord = true
-	head, err := cr.Read()
-	if err != nil {
-		return fmt.Errorf("%s: %w", p, err)
-	}
-	col := slices.Index(head, "area_px")
-	if col < 0 {
-		return nil // a table of an earlier version
-	}
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			return nil
+// add counts one area_px cell of the region table at p. A cell that is
+// not a pixel count is kept as the histogram's error (the first one),
+// which stops the report.
+func (h *sizeHistogram) add(p, cell string) {
+	a, err := strconv.Atoi(cell)
+	if err != nil || a < 1 {
+		if h.err == nil {
+			h.err = fmt.Errorf("%s: area_px %q is not a pixel count", p, cell)
 		}
-		if err != nil {
-			return fmt.Errorf("%s: %w", p, err)
-		}
-		a, err := strconv.Atoi(rec[col])
-		if err != nil || a < 1 {
-			return fmt.Errorf("%s: area_px %q is not a pixel count", p, rec[col])
-		}
-		h.counts[binOf(a)]++
-		h.Total++
+		return
 	}
+	h.counts[binOf(a)]++
+	h.Total++
 }
 
 // Histogram size in the report, pixels.
