@@ -95,12 +95,18 @@ func measure(pred, truth []int32) metrics {
 
 // kindResult is what -json writes per kind: means over the scenes.
 type kindResult struct {
-	Scenes           int      `json:"scenes"`
-	CleaveFlags      []string `json:"cleave_flags"`
-	Cleave           metrics  `json:"cleave"`
-	Watershed        *metrics `json:"watershed"` // nil when the baseline was skipped
-	Otsu             metrics  `json:"otsu"`
-	CleaveSecPerImg  float64  `json:"cleave_seconds_per_image"`
+	Scenes          int      `json:"scenes"`
+	CleaveFlags     []string `json:"cleave_flags"`
+	Cleave          metrics  `json:"cleave"`
+	Watershed       *metrics `json:"watershed"` // nil when the baseline was skipped
+	Otsu            metrics  `json:"otsu"`
+	CleaveSecPerImg float64  `json:"cleave_seconds_per_image"`
+	// Tuned holds the scores of `cleave segment --params best.json` after
+	// `cleave tune` on the -tune scenes ahead of the reported ones; nil
+	// without -tune.
+	Tuned            *metrics `json:"tuned,omitempty"`
+	TunedSecPerImg   float64  `json:"tuned_seconds_per_image,omitempty"`
+	TunedSetting     string   `json:"tuned_setting,omitempty"`
 	WatershedSkipped string   `json:"watershed_skipped,omitempty"`
 }
 
@@ -111,6 +117,8 @@ type config struct {
 	size            int
 	variant         string
 	quality         int
+	tune            int
+	metric          string
 	keep, json, py  string
 	extra           []string
 	bin, dir, wsDir string
@@ -126,8 +134,10 @@ func main() {
 	keep := flag.String("keep", "", "keep the scenes and outputs in this folder instead of a temporary one")
 	jsonOut := flag.String("json", "", "also write the per-kind means to this JSON file")
 	py := flag.String("python", "/usr/bin/python3", "Python with scikit-image for the watershed baseline")
+	tuneN := flag.Int("tune", 0, "also run `cleave tune` on this many further scenes per kind (seeds just below -seed) and score its best.json on the reported scenes")
+	metric := flag.String("metric", "f1", "cleave tune's --metric with -tune")
 	flag.Parse()
-	c := config{n: *n, seed: *seed, size: *size, variant: *variant, quality: *quality, keep: *keep, json: *jsonOut, py: *py, extra: flag.Args()}
+	c := config{n: *n, seed: *seed, size: *size, variant: *variant, quality: *quality, keep: *keep, json: *jsonOut, py: *py, extra: flag.Args(), tune: *tuneN, metric: *metric}
 	if *kind == "all" {
 		c.kinds = scenes.Kinds
 	} else {
@@ -155,6 +165,9 @@ func run(c *config) error {
 	}
 	if c.n < 1 {
 		return fmt.Errorf("-n %d below 1", c.n)
+	}
+	if c.tune < 0 || uint64(c.tune) > c.seed {
+		return fmt.Errorf("-tune %d: needs 0 or more scenes, with seeds from -seed minus it", c.tune)
 	}
 	if len(c.extra) > 0 && len(c.kinds) > 1 {
 		return errors.New("flags after -- replace one kind's table entry; give a single -kind with them")
@@ -212,27 +225,9 @@ func runKind(c *config, kind string) (kindResult, error) {
 	if err := os.MkdirAll(in, 0o755); err != nil {
 		return res, err
 	}
-	depth := 16
-	if c.variant != "16bit" {
-		depth = 8
-	}
-	var list []*scenes.Scene
-	var paths []string
-	for k := 0; k < c.n; k++ {
-		s, err := scenes.Generate(kind, c.size, c.size, c.seed+uint64(k), depth)
-		if err != nil {
-			return res, err
-		}
-		p := filepath.Join(in, s.Name+".png")
-		if c.variant == "jpeg" {
-			p = filepath.Join(in, s.Name+".jpg")
-			if s, err = writeJPEG(p, s, c.quality); err != nil {
-				return res, err
-			}
-		} else if err := scenes.WritePNG(p, s.Image()); err != nil {
-			return res, err
-		}
-		list, paths = append(list, s), append(paths, p)
+	list, paths, err := writeScenes(c, kind, in, c.seed, c.n, false)
+	if err != nil {
+		return res, err
 	}
 
 	out := filepath.Join(dir, "cleave")
@@ -244,6 +239,13 @@ func runKind(c *config, kind string) (kindResult, error) {
 		return res, fmt.Errorf("cleave %v: %v", args, err)
 	}
 	res.CleaveSecPerImg = time.Since(t0).Seconds() / float64(c.n)
+
+	tunedOut := filepath.Join(dir, "tuned-labels")
+	if c.tune > 0 {
+		if err := tuneKind(c, kind, dir, &res, paths, tunedOut); err != nil {
+			return res, err
+		}
+	}
 
 	wsOut := filepath.Join(dir, "watershed")
 	ws := exec.Command(c.py, filepath.Join(c.wsDir, "watershed.py"), "--kind", kind, "--in", in, "--out", wsOut)
@@ -263,7 +265,7 @@ func runKind(c *config, kind string) (kindResult, error) {
 	fmt.Printf("\n%s (%s, seeds %d-%d, %dx%d)\n", kind, c.variant, c.seed, c.seed+uint64(c.n)-1, c.size, c.size)
 	fmt.Printf("%-16s %5s | %6s %6s %6s %6s | %6s %6s %6s %6s | %6s %6s %6s %6s\n", "scene", "N",
 		"cl F1", "mAP", "ARI", "cnt", "ws F1", "mAP", "ARI", "cnt", "ot F1", "mAP", "ARI", "cnt")
-	var wsMean metrics
+	var wsMean, tunedMean metrics
 	w := 1 / float64(c.n)
 	for _, s := range list {
 		labels, _, _, err := imageio.ReadLabels(filepath.Join(out, s.Name+".labels.png"))
@@ -284,13 +286,97 @@ func runKind(c *config, kind string) (kindResult, error) {
 			wsMean.add(m, w)
 			wsCol = fmt.Sprintf("%6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
 		}
-		fmt.Printf("%-16s %5d | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f\n", s.Name, s.Objects,
-			cl.F1, cl.MAP, cl.ARI, cl.CountErr, wsCol, ot.F1, ot.MAP, ot.ARI, ot.CountErr)
+		tunedCol := ""
+		if c.tune > 0 {
+			tl, _, _, err := imageio.ReadLabels(filepath.Join(tunedOut, s.Name+".labels.png"))
+			if err != nil {
+				return res, err
+			}
+			m := measure(tl, s.Truth)
+			tunedMean.add(m, w)
+			tunedCol = fmt.Sprintf(" | tuned %6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
+		}
+		fmt.Printf("%-16s %5d | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f%s\n", s.Name, s.Objects,
+			cl.F1, cl.MAP, cl.ARI, cl.CountErr, wsCol, ot.F1, ot.MAP, ot.ARI, ot.CountErr, tunedCol)
 	}
 	if wsOK {
 		res.Watershed = &wsMean
 	}
+	if c.tune > 0 {
+		res.Tuned = &tunedMean
+	}
 	return res, nil
+}
+
+// writeScenes generates n scenes of the kind from seed on into dir, as the
+// -variant says, with their truth masks beside them (NAME.truth.png) when
+// withTruth is set, and returns the scenes as the programs see them.
+func writeScenes(c *config, kind, dir string, seed uint64, n int, withTruth bool) ([]*scenes.Scene, []string, error) {
+	depth := 16
+	if c.variant != "16bit" {
+		depth = 8
+	}
+	var list []*scenes.Scene
+	var paths []string
+	for k := 0; k < n; k++ {
+		s, err := scenes.Generate(kind, c.size, c.size, seed+uint64(k), depth)
+		if err != nil {
+			return nil, nil, err
+		}
+		p := filepath.Join(dir, s.Name+".png")
+		if c.variant == "jpeg" {
+			p = filepath.Join(dir, s.Name+".jpg")
+			if s, err = writeJPEG(p, s, c.quality); err != nil {
+				return nil, nil, err
+			}
+		} else if err := scenes.WritePNG(p, s.Image()); err != nil {
+			return nil, nil, err
+		}
+		if withTruth {
+			if err := scenes.WritePNG(filepath.Join(dir, s.Name+".truth.png"), s.TruthImage()); err != nil {
+				return nil, nil, err
+			}
+		}
+		list, paths = append(list, s), append(paths, p)
+	}
+	return list, paths, nil
+}
+
+// tuneKind runs `cleave tune` with the kind's flags on c.tune scenes of
+// seeds seed-c.tune .. seed-1 (never the reported ones), then segments the
+// reported scenes with its best.json into out.
+func tuneKind(c *config, kind, dir string, res *kindResult, paths []string, out string) error {
+	td := filepath.Join(dir, "tune-in")
+	if err := os.MkdirAll(td, 0o755); err != nil {
+		return err
+	}
+	if _, _, err := writeScenes(c, kind, td, c.seed-uint64(c.tune), c.tune, true); err != nil {
+		return err
+	}
+	tuned := filepath.Join(dir, "tuned")
+	args := append([]string{"tune", "--images", td, "--truth", td, "--out", tuned, "--metric", c.metric}, res.CleaveFlags...)
+	cmd := exec.Command(c.bin, args...)
+	var log strings.Builder
+	cmd.Stderr = &log
+	cmd.Stdout = &log
+	if err := cmd.Run(); err != nil {
+		return fmt.Errorf("cleave %v: %v\n%s", args, err, log.String())
+	}
+	best, err := os.ReadFile(filepath.Join(tuned, "best.json"))
+	if err != nil {
+		return err
+	}
+	res.TunedSetting = strings.Join(strings.Fields(string(best)), " ")
+	fmt.Fprintf(os.Stderr, "evaluate: %s tuned on %d scenes: %s\n", kind, c.tune, res.TunedSetting)
+	args = append([]string{"segment", "--force", "--out", out, "--params", filepath.Join(tuned, "best.json")}, paths...)
+	t0 := time.Now()
+	cmd = exec.Command(c.bin, args...)
+	cmd.Stderr = os.Stderr
+	if err := cmd.Run(); err != nil {
+		return fmt.Errorf("cleave %v: %v", args, err)
+	}
+	res.TunedSecPerImg = time.Since(t0).Seconds() / float64(len(paths))
+	return nil
 }
 
 // writeJPEG writes the scene as a JPEG at the given quality and returns a
@@ -342,8 +428,12 @@ func printSummary(c *config, results map[string]kindResult) {
 			m := r.Watershed
 			ws = fmt.Sprintf("%6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
 		}
-		fmt.Printf("%-9s | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f | %7.2f\n", k,
+		tuned := ""
+		if r.Tuned != nil {
+			tuned = fmt.Sprintf(" | tuned %6.3f %6.3f %6.3f %6.3f %7.2f s/im", r.Tuned.F1, r.Tuned.MAP, r.Tuned.ARI, r.Tuned.CountErr, r.TunedSecPerImg)
+		}
+		fmt.Printf("%-9s | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f | %7.2f%s\n", k,
 			r.Cleave.F1, r.Cleave.MAP, r.Cleave.ARI, r.Cleave.CountErr, ws,
-			r.Otsu.F1, r.Otsu.MAP, r.Otsu.ARI, r.Otsu.CountErr, r.CleaveSecPerImg)
+			r.Otsu.F1, r.Otsu.MAP, r.Otsu.ARI, r.Otsu.CountErr, r.CleaveSecPerImg, tuned)
 	}
 }
