@@ -115,7 +115,7 @@ func TestSplitAtNeckDiscs(t *testing.T) {
 	for _, c := range []struct{ R, sep float64 }{{20, 30}, {12, 20}, {15, 16}} {
 		mask, cw, ch := discRow(c.R, c.sep, 2)
 		d := distanceInside(mask, cw, ch)
-		nk := deepestNeck(d, cw, ch)
+		nk := deepestNeck(d, cw, ch, 0)
 		if nk.peakA < 0 || nk.peakB < 0 {
 			t.Fatalf("R=%v sep=%v: no neck found", c.R, c.sep)
 		}
@@ -154,3 +154,50 @@ func TestSplitAtNeckDiscs(t *testing.T) {
 
 // pixelAt is the pixel index of the point (x, mid-height) of a cw x ch crop.
 func pixelAt(cw int, x float64, ch int) int { return (ch/2)*cw + int(x) }
+
+// neckNoise bounds the dip that digitizing a shape without a neck leaves
+// in its distance map: capsules (a rod: a segment of length L thickened
+// by r) of every angle and sub-pixel offset have one ridge of constant
+// height r in the plane (plane geometry), so every neck found in their
+// digitized distance map is digitization. Two overlapping discs of
+// radius R >= 8, centres 1.6 R apart, have a neck R (1 - sqrt(1 - 0.8²))
+// = 0.4 R deep in the plane (TestNeckDepthDiscs) and keep one above the
+// bound once digitized (blunted, never deepened by more than a pixel);
+// at R = 5 the digitized neck no longer clears it, and such a pair needs
+// a contrast cue (refineOne). Shapes are drawn here; the seed is arbitrary.
+func TestNeckNoiseBoundsDigitizedCapsules(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	deepest := 0.0
+	for it := 0; it < 400; it++ {
+		r := 2 + rng.Float64()*16
+		L := rng.Float64() * 70
+		th := rng.Float64() * math.Pi
+		n := int(L+2*r) + 6
+		cx, cy := float64(n)/2+rng.Float64(), float64(n)/2+rng.Float64()
+		dy, dx := math.Sin(th), math.Cos(th)
+		mask := make([]bool, n*n)
+		for y := 0; y < n; y++ {
+			for x := 0; x < n; x++ {
+				py, px := float64(y)-cy, float64(x)-cx
+				s := math.Max(-L/2, math.Min(L/2, py*dy+px*dx))
+				mask[y*n+x] = math.Hypot(py-s*dy, px-s*dx) <= r
+			}
+		}
+		nk := deepestNeck(distanceInside(mask, n, n), n, n, 0)
+		deepest = math.Max(deepest, nk.drop)
+		if nk := deepestNeck(distanceInside(mask, n, n), n, n, neckNoise); nk.peakA >= 0 {
+			t.Fatalf("capsule r=%.2f L=%.2f angle %.3f: a neck %.3f px deep passes the floor %v", r, L, th, nk.drop, neckNoise)
+		}
+	}
+	if deepest == 0 {
+		t.Fatal("no capsule had a digitization dip: the test shows nothing")
+	}
+	for _, R := range []float64{8, 12, 20} {
+		mask, cw, ch := discRow(R, 1.6*R, 2)
+		nk := deepestNeck(distanceInside(mask, cw, ch), cw, ch, neckNoise)
+		plane := R * (1 - math.Sqrt(1-0.64))
+		if nk.peakA < 0 || nk.drop > plane+1 {
+			t.Errorf("discs R=%v, centres 1.6 R apart: neck %.2f px deep above the floor %v, want at most %.2f + 1", R, nk.drop, neckNoise, plane)
+		}
+	}
+}

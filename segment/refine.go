@@ -63,10 +63,11 @@ const (
 // A split must also pass seamSplit: the cut must run along a dip in
 // contrast, so thin scratches and elongated objects are not cut across.
 // In a shape with a neck, a split through the neck is accepted too, and
-// a region the cut left with a deep neck is split there (neckPieces).
+// a region the cut left with a deep neck is split there (neckPieces),
+// unless necks is false (objects whose lobes are parts of one object).
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
-func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, workers int, seed uint64) (refined, error) {
+func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, necks bool, workers int, seed uint64) (refined, error) {
 	boxes, pixels := objectPixels(labels, w, h, n)
 	results := make([]refineResult, n+1)
 	one := func(l int) {
@@ -76,10 +77,10 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 			contrast[k] = con[i]
 		}
 		if len(px) <= refineMaxNodes {
-			results[l] = refineOne(ctx, px, w, boxes[l], contrast, maxNcut, minPart, seed)
+			results[l] = refineOne(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, seed)
 			return
 		}
-		results[l] = refineCoarse(ctx, px, w, boxes[l], contrast, maxNcut, minPart, seed)
+		results[l] = refineCoarse(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, seed)
 	}
 	// Objects are independent: refine them in parallel, one goroutine per
 	// object at a time, and assemble in label order (deterministic).
@@ -154,6 +155,37 @@ func seamSplit(feat []float32, cw, ch int, nodes, part []int, inA []bool) bool {
 		return false
 	}
 	return seam/seamN < refineSeam*math.Min(sum[1]/cnt[1], sum[2]/cnt[2])
+}
+
+// refineStep is the least relative difference of mean contrast,
+// |mA - mB| / max(mA, mB), at which the two sides of a split are taken
+// for two objects of different staining. Uneven light changes the
+// contrast of one object by a few per cent over its length; touching
+// nuclei commonly differ by more. Our choice (DEVELOPERS.md, "Measured
+// choices").
+const refineStep = 0.1
+
+// sidesDiffer reports whether the two sides of a split (part indexes
+// nodes, the crop pixel of each object pixel; inA marks side A by
+// position in part) differ in mean scaled contrast feat by at least
+// refineStep relatively.
+func sidesDiffer(feat []float32, nodes, part []int, inA []bool) bool {
+	var sum [2]float64
+	var cnt [2]int
+	for k, v := range part {
+		s := 1
+		if inA[k] {
+			s = 0
+		}
+		sum[s] += float64(feat[nodes[v]])
+		cnt[s]++
+	}
+	if cnt[0] == 0 || cnt[1] == 0 {
+		return false
+	}
+	a, b := sum[0]/float64(cnt[0]), sum[1]/float64(cnt[1])
+	hi := math.Max(a, b)
+	return hi > 0 && math.Abs(a-b) >= refineStep*hi
 }
 
 // solidity is the pixel count of an object over the area of the convex
@@ -323,7 +355,7 @@ const maxNeckSplits = 8
 // graph, shape-weighted (node k at crop pixel nodes[k] of a cw x ch
 // crop), region its cut (regions values); the Ncut of every neck split
 // on g is appended to splits.
-func neckPieces(g *affinity.Graph, nodes []int, cw, ch int, region []int32, regions int, splits []float64, minPart int) ([]int32, int, []float64) {
+func neckPieces(g *affinity.Graph, feat []float32, nodes []int, cw, ch int, region []int32, regions int, splits []float64, minPart int) ([]int32, int, []float64) {
 	region = slices.Clone(region)
 	queue := make([]int32, regions)
 	for r := range queue {
@@ -344,7 +376,7 @@ func neckPieces(g *affinity.Graph, nodes []int, cw, ch int, region []int32, regi
 			continue
 		}
 		d := distanceInside(mask, cw, ch)
-		nk := deepestNeck(d, cw, ch)
+		nk := deepestNeck(d, cw, ch, 0)
 		if nk.depth < refineNeckAlone {
 			continue
 		}
@@ -358,12 +390,6 @@ func neckPieces(g *affinity.Graph, nodes []int, cw, ch int, region []int32, regi
 		if nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
 			continue
 		}
-		inA := make([]bool, g.N)
-		for k, c := range nodes {
-			inA[k] = region[k] == r && side[c] == 1
-		}
-		// Ncut of the split within the region: the rest of the object
-		// is left out by restricting both sides to r.
 		inR := make([]int, 0, count)
 		for k := range nodes {
 			if region[k] == r {
@@ -372,8 +398,16 @@ func neckPieces(g *affinity.Graph, nodes []int, cw, ch int, region []int32, regi
 		}
 		subA := make([]bool, len(inR))
 		for i, k := range inR {
-			subA[i] = inA[k]
+			subA[i] = side[nodes[k]] == 1
 		}
+		// A neck no deeper than digitization makes may be the ridge
+		// of a rod: it needs a seam in contrast or sides of different
+		// contrast as well.
+		if nk.drop <= neckNoise && !seamSplit(feat, cw, ch, nodes, inR, subA) && !sidesDiffer(feat, nodes, inR, subA) {
+			continue
+		}
+		// Ncut of the split within the region: the rest of the object
+		// is left out by restricting both sides to r.
 		splits = append(splits, Ncut(g.Subgraph(inR), subA))
 		nr := int32(regions)
 		for k, c := range nodes {
@@ -411,9 +445,10 @@ func shapeWeights(g *affinity.Graph, nodes []int, dist []float64) {
 // object pixel; part indexes nodes; inA marks side A by position in
 // part), the peak p of each side is its largest d and the saddle s the
 // largest d on the cut (a pixel with a 4-neighbour on the other side);
-// it returns (min(pA, pB) - s) / (min(pA, pB) - 1/2) as in neckDepth, or
-// 0 when the split leaves no such pinch.
-func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) float64 {
+// it returns the relative depth (min(pA, pB) - s) / (min(pA, pB) - 1/2)
+// as in neckDepth and the absolute depth min(pA, pB) - s in pixels, or
+// zeros when the split leaves no pinch.
+func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) (rel, abs float64) {
 	crop, side := cutSides(nodes, cw*ch, part, inA)
 	d := distanceInside(cropMask(crop, cw*ch), cw, ch)
 	var peak [3]float64
@@ -426,9 +461,9 @@ func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) float64 {
 	}
 	lo := min(peak[1], peak[2])
 	if lo <= 0.5 || saddle >= lo {
-		return 0
+		return 0, 0
 	}
-	return (lo - saddle) / (lo - 0.5)
+	return (lo - saddle) / (lo - 0.5), lo - saddle
 }
 
 // cutSides returns the crop pixel of each node of part (indexes of nodes,
@@ -478,7 +513,7 @@ type refineResult struct {
 // refineOne re-cuts one object (see refineObjects): px are its pixels in
 // raster order in an image w pixels wide, b their bounding box, and
 // contrast[k] the contrast of pixel px[k].
-func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, seed uint64) refineResult {
+func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
 	if len(px) < 2*minPart || elongation(px, w) > refineElongation {
 		return refineResult{regions: 1}
 	}
@@ -488,7 +523,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		nodes[k] = (i/w-b.y0)*cw + i%w - b.x0
 	}
 	dist := distanceInside(cropMask(nodes, cw*ch), cw, ch)
-	necked := neckDepth(dist, cw, ch) >= refineNeck
+	necked := necks && neckDepth(dist, cw, ch) >= refineNeck
 	if !necked && solidity(px, w) > refineSolidity {
 		return refineResult{regions: 1}
 	}
@@ -518,7 +553,14 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		if ncut <= limit && seamSplit(feat, cw, ch, nodes, part, inA) {
 			return true
 		}
-		return necked && cutNeck(nodes, cw, ch, part, inA) >= refineNeck
+		if !necked {
+			return false
+		}
+		// A neck no deeper than digitization makes (neckNoise) may be
+		// the ridge of a rod: it needs a seam or sides of different
+		// contrast as well.
+		rel, abs := cutNeck(nodes, cw, ch, part, inA)
+		return rel >= refineNeck && (abs > neckNoise || seamSplit(feat, cw, ch, nodes, part, inA) || sidesDiffer(feat, nodes, part, inA))
 	}
 	// A part without a neck that is already convex (for instance one
 	// nucleus of a split pair) is not cut again.
@@ -545,7 +587,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	}
 	region, regions, splits := cut.region, cut.regions, cut.splitNcuts
 	if necked {
-		region, regions, splits = neckPieces(sub, nodes, cw, ch, region, regions, splits, minPart)
+		region, regions, splits = neckPieces(sub, feat, nodes, cw, ch, region, regions, splits, minPart)
 	}
 	return refineResult{region: region, regions: regions, splits: splits, short: cut.short}
 }
@@ -570,7 +612,7 @@ const refineMaxNodes = 10000
 // work per object is bounded; the cut follows seams at the resolution of
 // s pixels, which for objects this large is a small fraction of their
 // size. minPart is scaled by 1/s² (at least 1).
-func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, seed uint64) refineResult {
+func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
 	s := int(math.Ceil(math.Sqrt(float64(len(px)) / refineMaxNodes)))
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	gw, gh := (cw+s-1)/s, (ch+s-1)/s
@@ -597,7 +639,7 @@ func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float6
 			ccon = append(ccon, sum[c]/float64(n))
 		}
 	}
-	r := refineOne(ctx, cpx, gw, box{0, 0, gw - 1, gh - 1}, ccon, maxNcut, max(1, minPart/(s*s)), seed)
+	r := refineOne(ctx, cpx, gw, box{0, 0, gw - 1, gh - 1}, ccon, maxNcut, max(1, minPart/(s*s)), necks, seed)
 	if r.err != nil || r.region == nil {
 		return r
 	}

@@ -2,6 +2,7 @@ package segment
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -160,7 +161,7 @@ func TestNeckPiecesBarVersusDiscs(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, regions, _ := neckPieces(g.Subgraph(nodes), nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
+		_, regions, _ := neckPieces(g.Subgraph(nodes), feat, nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
 		return regions
 	}
 	discs, cw, ch := discRow(14, 20, 2)
@@ -230,7 +231,7 @@ func TestRefineCoarseSplitsLargePair(t *testing.T) {
 		if coarse := area > refineMaxNodes; coarse != (r == 60) {
 			t.Fatalf("r %g: area %d, cap %d: the test no longer covers the path it names", r, area, refineMaxNodes)
 		}
-		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 30, 2, 1)
+		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 30, true, 2, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -254,4 +255,66 @@ func TestRefineCoarseSplitsLargePair(t *testing.T) {
 			t.Errorf("r %g: both discs in piece %d", r, pieceOf[1])
 		}
 	}
+}
+
+// Rods and shallow necks: a capsule of even contrast (a rod-shaped cell)
+// has no neck but digitization dips (neckNoise) and stays one object; two
+// overlapping discs whose neck is about as shallow (radius 8, centres
+// 1.2 R apart: 8 (1 - sqrt(1 - 0.36)) = 1.6 px in the plane, less once
+// digitized) are split when their contrasts differ (refineStep) and kept
+// whole when they are alike and touch with no seam, since nothing then
+// tells them from one lobed object; with necks off (Params.SeamsOnly) a
+// deep neck alone no longer splits a pair of equal discs. Expected
+// outcomes are the rules' definitions; shapes are drawn here.
+func TestRefineRodsAndShallowNecks(t *testing.T) {
+	draw := func(w, h int, inside func(x, y float64) (bool, float64)) ([]float64, []int32) {
+		rng := rand.New(rand.NewPCG(3, 9))
+		con := make([]float64, w*h)
+		labels := make([]int32, w*h)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				if in, c := inside(float64(x), float64(y)); in {
+					labels[y*w+x] = 1
+					con[y*w+x] = c + 0.01*rng.NormFloat64()
+				}
+			}
+		}
+		return con, labels
+	}
+	run := func(name string, w, h int, necks bool, want int, inside func(x, y float64) (bool, float64)) {
+		t.Helper()
+		con, labels := draw(w, h, inside)
+		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, necks, 1, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref.n != want {
+			t.Errorf("%s: %d objects, want %d", name, ref.n, want)
+		}
+	}
+	for _, th := range []float64{0, 0.3, 0.7, 1.2} {
+		dx, dy := math.Cos(th), math.Sin(th)
+		run(fmt.Sprintf("rod at angle %.1f", th), 80, 80, true, 1, func(x, y float64) (bool, float64) {
+			px, py := x-40.3, y-39.6
+			s := math.Max(-17, math.Min(17, px*dx+py*dy))
+			return math.Hypot(px-s*dx, py-s*dy) <= 5.5, 1
+		})
+	}
+	pair := func(c0, c1 float64, sep float64) func(x, y float64) (bool, float64) {
+		return func(x, y float64) (bool, float64) {
+			switch {
+			case math.Hypot(x-20, y-20) <= 8 && x < 20+sep/2:
+				return true, c0
+			case math.Hypot(x-20-sep, y-20) <= 8:
+				return true, c1
+			case math.Hypot(x-20, y-20) <= 8:
+				return true, c0
+			}
+			return false, 0
+		}
+	}
+	run("shallow neck, contrasts 1 and 0.6", 50, 40, true, 2, pair(1, 0.6, 9.6))
+	run("shallow neck, equal contrasts", 50, 40, true, 1, pair(1, 1, 9.6))
+	run("deep neck, equal contrasts", 50, 40, true, 2, pair(1, 1, 15))
+	run("deep neck, equal contrasts, necks off", 50, 40, false, 1, pair(1, 1, 15))
 }

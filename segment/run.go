@@ -92,6 +92,10 @@ type Params struct {
 
 	Classes    int        // 0: no grouping; >= 2: number of intensity classes
 	Background Background // "", BackgroundDark, BackgroundBright or BackgroundLines
+	// SeamsOnly re-cuts touching objects only along seams of lower or
+	// changing contrast, never at a neck of their shape alone: for lobed
+	// or branched objects that are one object each.
+	SeamsOnly bool
 
 	Workers   int
 	Seed      uint64
@@ -754,7 +758,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			ref, err := refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), p.Workers, p.Seed)
+			ref, err := refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}

@@ -45,6 +45,7 @@ type settings struct {
 	MinArea       int        `json:"min-area"`
 	Classes       int        `json:"classes"`
 	Background    string     `json:"background"`
+	Necks         string     `json:"necks"`
 	PixelSize     float64    `json:"pixel-size"`
 	Unit          string     `json:"unit"`
 	MaxMemory     string     `json:"max-memory"`
@@ -62,11 +63,21 @@ func (s settings) labelsFormat() string {
 }
 
 // sameSettings reports whether two requests segment and write alike: equal
-// but for an unset labels-format, which means png (records of earlier
-// versions lack the key).
+// but for an unset labels-format, which means png, and an unset necks,
+// which means on (records of earlier versions lack the keys).
 func sameSettings(a, b settings) bool {
 	a.LabelsFormat, b.LabelsFormat = a.labelsFormat(), b.labelsFormat()
+	a.Necks, b.Necks = a.necks(), b.necks()
 	return a == b
+}
+
+// necks is whether objects are cut at necks: on unless off was given (""
+// in records of earlier versions, which always cut at necks).
+func (s settings) necks() string {
+	if s.Necks == "" {
+		return "on"
+	}
+	return s.Necks
 }
 
 // Ranges of the parameters that only the command uses (the libraries
@@ -115,6 +126,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.IntVar(&s.MinArea, "min-area", defaults.MinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
 	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
+	fs.StringVar(&s.Necks, "necks", "on", "with --background dark or bright: on = touching objects are also cut apart where their outline is pinched (a neck), off = only along a seam of lower or changing contrast; off suits lobed or branched objects that never touch")
 	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", minPixelSize, maxPixelSize))
 	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", maxUnitLen))
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
@@ -361,6 +373,13 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	case "off":
 	default:
 		return nil, usagef("--grain must be on or off, got %q", s.Grain)
+	}
+	switch s.necks() {
+	case "on":
+	case "off":
+		p.SeamsOnly = true
+	default:
+		return nil, usagef("--necks must be on or off, got %q", s.Necks)
 	}
 	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {
 		return nil, err
