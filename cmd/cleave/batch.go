@@ -4,7 +4,6 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -23,6 +22,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/spf13/pflag"
@@ -169,7 +169,7 @@ func batchFlagSet() (*pflag.FlagSet, *settings, *batchOptions) {
 type batchPlan struct {
 	opts               batchOptions
 	settings           settings
-	res                *resolved
+	res                *pipeline.Options
 	inputDir, out      string // as given
 	realOut, realInput string // symbolic links resolved
 	shardI, shardN     int
@@ -321,7 +321,7 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	}
 	// Resolve with one worker to check the parameters; the real count is
 	// set below.
-	check, err := s.resolve(1)
+	check, err := resolve(*s, 1)
 	if err != nil {
 		return nil, err
 	}
@@ -351,8 +351,8 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if p.all, p.skipped, err = discover(p.realInput, p.realOut, o); err != nil {
 		return nil, err
 	}
-	if s.Planes == planesAll {
-		p.all = planeInputs(p.realInput, p.all, check.load)
+	if s.Planes == pipeline.PlanesAll {
+		p.all = planeInputs(p.realInput, p.all, check.Load)
 	}
 	if p.oldIndex, err = existingIndex(p.out); err != nil {
 		return nil, &usageError{err}
@@ -399,7 +399,7 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions) (*batchPlan, 
 	if p.workers == 0 {
 		p.workers = max(1, cores/p.jobs)
 	}
-	if p.res, err = s.resolve(p.workers); err != nil {
+	if p.res, err = resolve(*s, p.workers); err != nil {
 		return nil, err
 	}
 	return p, nil
@@ -530,7 +530,7 @@ func discover(root, realOut string, o *batchOptions) ([]batchInput, []batchSkip,
 			if rerr != nil {
 				return rerr
 			}
-			skipped = append(skipped, batchSkip{Input: rel, Reason: "folder not read: " + describeErr(err)})
+			skipped = append(skipped, batchSkip{Input: rel, Reason: "folder not read: " + pipeline.DescribeErr(err)})
 			if d != nil && d.IsDir() {
 				return filepath.SkipDir
 			}
@@ -552,7 +552,7 @@ func discover(root, realOut string, o *batchOptions) ([]batchInput, []batchSkip,
 			}
 			return nil
 		}
-		if !isImageName(name) {
+		if !pipeline.IsImageName(name) {
 			return nil
 		}
 		rel, err := relOf(p)
@@ -603,7 +603,7 @@ func notRegular(p string, t fs.FileMode) string {
 			target, _ := os.Readlink(p)
 			return fmt.Sprintf("a symbolic link to %s, which does not exist", target)
 		case err != nil:
-			return "a symbolic link that cannot be followed: " + describeErr(err)
+			return "a symbolic link that cannot be followed: " + pipeline.DescribeErr(err)
 		case st.Mode().IsRegular():
 			return ""
 		}
@@ -631,22 +631,6 @@ func lockOut(dir string, exclusive bool, what string) (*outlock.Lock, error) {
 		return nil, &usageError{err}
 	}
 	return l, err
-}
-
-// describeErr is the system's message of a file error without the path
-// (the caller names the file).
-func describeErr(err error) string {
-	var pe *fs.PathError
-	if errors.As(err, &pe) {
-		return pe.Err.Error()
-	}
-	return err.Error()
-}
-
-// isImageName reports whether a file name has the extension of an image
-// imageio reads (imageio.Extensions), in any case.
-func isImageName(name string) bool {
-	return slices.Contains(imageio.Extensions(), strings.ToLower(filepath.Ext(name)))
 }
 
 // globsAllow applies --include and --exclude to a relative path: a pattern
@@ -732,7 +716,7 @@ func planeInputs(root string, ins []batchInput, load imageio.LoadOptions) []batc
 		n := src.Stack().Planes
 		src.Close()
 		for z := range n {
-			out = append(out, batchInput{Input: in.Input, Stem: planeStem(in.Stem, z, n), Plane: &z})
+			out = append(out, batchInput{Input: in.Input, Stem: pipeline.PlaneStem(in.Stem, z, n), Plane: &z})
 		}
 	}
 	return out
@@ -759,7 +743,7 @@ type batchResult struct {
 // inputs on p.jobs goroutines, then write the manifest and report.
 func (p *batchPlan) execute(ctx context.Context, stderr io.Writer) int {
 	start := time.Now()
-	defer setMemoryLimit(p.res.params.MaxMemory)()
+	defer pipeline.SetMemoryLimit(p.res.Params.MaxMemory)()
 	if err := os.MkdirAll(p.out, 0o755); err != nil {
 		fmt.Fprintf(stderr, "cleave batch: cannot create the output folder: %v\n", err)
 		return exitFail
@@ -967,7 +951,7 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	in := p.all[k]
 	src := filepath.Join(p.inputDir, filepath.FromSlash(in.Input))
 	dir := filepath.Join(p.out, filepath.FromSlash(path.Dir(in.Stem)))
-	set := outputSet{dir: dir, stem: path.Base(in.Stem)}
+	set := pipeline.OutputSet{Dir: dir, Stem: path.Base(in.Stem)}
 	if ctx.Err() != nil {
 		return batchResult{k: k, status: statusNotDone}
 	}
@@ -976,11 +960,11 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	}
 	fail := func(err error) batchResult {
 		err = withFlags(err)
-		rec := &record{Tool: "cleave", Version: version, Status: "failed", Error: err.Error(), Input: inputInfo{Path: src},
+		rec := &pipeline.Record{Tool: "cleave", Version: version, Status: "failed", Error: err.Error(), Input: pipeline.InputInfo{Path: src},
 			Settings: &p.settings, Eigenvalues: []float64{}, SplitNcuts: []float64{}, Seconds: map[string]float64{}}
 		// Reached only when the output folder cannot be made, so no record
 		// can be there; force is off all the same, to replace nothing.
-		if werr := writeRecord(set.path(".json"), rec, false, p.owner()); werr != nil {
+		if werr := pipeline.WriteRecord(set.Path(".json"), rec, false, p.owner()); werr != nil {
 			err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
 		}
 		return batchResult{k: k, status: statusFailed, err: err}
@@ -997,12 +981,12 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	res := p.res
 	if in.Plane != nil {
 		r := *p.res
-		r.selection.Plane = *in.Plane
+		r.Selection.Plane = *in.Plane
 		res = &r
 	}
-	// processImage records a failure in STEM.json itself, unless a file
-	// that cleave did not write stands at that path.
-	rec, err := processImage(ctx, job{path: src, out: set, settings: p.settings, resolved: res, replace: replaceOwn, owner: p.owner()})
+	// pipeline.Process records a failure in STEM.json itself, unless a
+	// file that cleave did not write stands at that path.
+	rec, err := pipeline.Process(ctx, pipeline.Job{Path: src, Out: set, Request: p.settings, Options: res, Replace: pipeline.ReplaceOwn, Owner: p.owner(), Voice: voice()})
 	if err != nil {
 		if ctx.Err() != nil {
 			return batchResult{k: k, status: statusNotDone}
@@ -1013,7 +997,7 @@ func (p *batchPlan) one(ctx context.Context, k int) batchResult {
 	// name, so it is said at once too.
 	var notes []string
 	for _, w := range rec.Warnings {
-		if w.Code == labelWarningCode {
+		if w.Code == pipeline.LabelWarningCode {
 			notes = append(notes, fmt.Sprintf("%s: warning: %s", src, w.Message))
 		}
 	}
@@ -1029,43 +1013,21 @@ func (p *batchPlan) owner() string {
 	return imageio.DefaultTempOwner()
 }
 
-func nonNil(v []float64) []float64 {
-	if v == nil {
-		return []float64{}
-	}
-	return v
-}
-
 // upToDate reports whether the record of set is ok for the same cleave
 // version, the same requested settings and the same input bytes, with
 // every output it lists present.
-func (p *batchPlan) upToDate(src string, set outputSet) bool {
-	rec, err := readRecord(set.path(".json"))
-	if err != nil || rec.Status != "ok" || rec.Version != version || rec.Settings == nil || !sameSettings(*rec.Settings, p.settings) {
+func (p *batchPlan) upToDate(src string, set pipeline.OutputSet) bool {
+	rec, err := pipeline.ReadRecord(set.Path(".json"))
+	if err != nil || rec.Status != "ok" || rec.Version != version || rec.Settings == nil || !pipeline.SameRequest(*rec.Settings, p.settings) {
 		return false
 	}
 	for _, name := range rec.Outputs {
-		if _, err := os.Stat(filepath.Join(set.dir, name)); err != nil {
+		if _, err := os.Stat(filepath.Join(set.Dir, name)); err != nil {
 			return false
 		}
 	}
 	sum, err := fileSHA256(src)
 	return err == nil && sum == rec.Input.SHA256
-}
-
-func readRecord(p string) (*record, error) {
-	data, err := os.ReadFile(p)
-	if err != nil {
-		return nil, err
-	}
-	var rec record
-	if err := json.Unmarshal(data, &rec); err != nil {
-		return nil, fmt.Errorf("%s: not a cleave record: %v", p, err)
-	}
-	if rec.Tool != "cleave" {
-		return nil, fmt.Errorf("%s: not a cleave record", p)
-	}
-	return &rec, nil
 }
 
 func fileSHA256(p string) (string, error) {

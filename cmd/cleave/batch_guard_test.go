@@ -17,6 +17,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"golang.org/x/sys/unix"
 )
@@ -278,7 +279,7 @@ func TestBatchReplacesOnlyItsOwnFiles(t *testing.T) {
 		if _, err := os.Stat(filepath.Join(out, stem+".classes.png")); err == nil {
 			t.Errorf("%s.classes.png stayed after a run without --classes", stem)
 		}
-		rec, err := readRecord(filepath.Join(out, stem+".json"))
+		rec, err := pipeline.ReadRecord(filepath.Join(out, stem+".json"))
 		if err != nil || rec.Status != "ok" || strings.Contains(strings.Join(rec.Outputs, " "), "classes") {
 			t.Errorf("%s record: %v, %+v", stem, err, rec)
 		}
@@ -295,7 +296,7 @@ func TestBatchReplacesOnlyItsOwnFiles(t *testing.T) {
 			t.Errorf("img-02%s of the earlier run stayed beside the failed record", s)
 		}
 	}
-	if rec, err := readRecord(filepath.Join(out, "img-02.json")); err != nil || rec.Status != "failed" || len(rec.Outputs) != 0 {
+	if rec, err := pipeline.ReadRecord(filepath.Join(out, "img-02.json")); err != nil || rec.Status != "failed" || len(rec.Outputs) != 0 {
 		t.Errorf("img-02 record: %v, %+v", err, rec)
 	}
 

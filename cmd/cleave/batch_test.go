@@ -19,6 +19,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 )
@@ -227,7 +228,7 @@ func TestBatchFolderResumeAndReport(t *testing.T) {
 		if r == nil || r[1] != "failed" || !strings.Contains(r[5], b) || !strings.Contains(r[5], wantMsg[b]) {
 			t.Errorf("manifest row for %s: %v", b, r)
 		}
-		rec, err := readRecord(filepath.Join(out, strings.TrimSuffix(b, filepath.Ext(b))+".json"))
+		rec, err := pipeline.ReadRecord(filepath.Join(out, strings.TrimSuffix(b, filepath.Ext(b))+".json"))
 		if err != nil || rec.Status != "failed" || rec.Error != r[5] {
 			t.Errorf("record of %s: %+v, %v", b, rec, err)
 		}
@@ -542,7 +543,7 @@ func TestBatchKillAndResume(t *testing.T) {
 		cmd.Wait()
 		done := 0
 		for _, in := range []string{"img-00", "img-02", "img-04", "img-06", "sub/img-01", "sub/img-03", "sub/img-05", "sub/img-07"} {
-			if rec, err := readRecord(filepath.Join(out, filepath.FromSlash(in)+".json")); err == nil && rec.Status == "ok" {
+			if rec, err := pipeline.ReadRecord(filepath.Join(out, filepath.FromSlash(in)+".json")); err == nil && rec.Status == "ok" {
 				done++
 			}
 		}
@@ -559,15 +560,15 @@ func TestBatchKillAndResume(t *testing.T) {
 		os.WriteFile(filepath.Join(out, ".img-06.overlay.png.tmp-pid1-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, "img-06.labels.png"), []byte("partial"), 0o644)
 		// It announces every output of a PNG run, as processImage does
-		// (the one list, outputSuffixes).
+		// (the one list, pipeline.OutputSuffixes).
 		var announced []string
-		for _, suf := range outputSuffixes {
+		for _, suf := range pipeline.OutputSuffixes {
 			if !strings.HasSuffix(suf, ".tif") {
 				announced = append(announced, "img-06"+suf)
 			}
 		}
-		intent := &record{Tool: "cleave", Version: version, Status: statusWriting, Outputs: announced}
-		if err := writeRecord(filepath.Join(out, "img-06.json"), intent, true, ""); err != nil {
+		intent := &pipeline.Record{Tool: "cleave", Version: version, Status: pipeline.StatusWriting, Outputs: announced}
+		if err := pipeline.WriteRecord(filepath.Join(out, "img-06.json"), intent, true, ""); err != nil {
 			t.Fatal(err)
 		}
 

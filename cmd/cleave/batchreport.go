@@ -21,6 +21,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 )
 
@@ -183,7 +184,7 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 	for _, in := range idx.Inputs {
 		r := manifestRow{Input: in.Input, Stem: in.Stem, Plane: in.Plane, Status: rowPending}
 		p := filepath.Join(dir, filepath.FromSlash(in.Stem)+".json")
-		rec, err := readRecord(p)
+		rec, err := pipeline.ReadRecord(p)
 		switch {
 		case errors.Is(err, fs.ErrNotExist):
 			r.Error = "no record yet"
@@ -191,10 +192,10 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			// Something that is not a cleave record stands where the
 			// record goes (a user's file, a folder): the image cannot be
 			// done until it is moved away.
-			r.Status, r.Error = rowFailed, recordBlocked(p, err)
-		case rec.Version != version || rec.Settings == nil || !sameSettings(*rec.Settings, idx.Settings):
+			r.Status, r.Error = rowFailed, pipeline.RecordBlocked(p, err)
+		case rec.Version != version || rec.Settings == nil || !pipeline.SameRequest(*rec.Settings, idx.Settings):
 			r.Error = "the record is from other parameters or another cleave version"
-		case rec.Status == statusWriting:
+		case rec.Status == pipeline.StatusWriting:
 			r.Error = "the run stopped while the outputs were being written; run the batch again"
 		case rec.Status == "ok":
 			r.Status, r.Regions, r.Objects, r.Seconds = rowOK, rec.Regions, rec.Objects, rec.Seconds["total"]
@@ -203,11 +204,11 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 			}
 			for _, name := range rec.Outputs {
 				switch {
-				case strings.HasSuffix(name, suffixRegions):
+				case strings.HasSuffix(name, pipeline.SuffixRegions):
 					r.Table = path.Join(path.Dir(in.Stem), name)
-				case strings.HasSuffix(name, suffixOutlines):
+				case strings.HasSuffix(name, pipeline.SuffixOutlines):
 					r.Outlines = path.Join(path.Dir(in.Stem), name)
-				case strings.HasSuffix(name, suffixPreview):
+				case strings.HasSuffix(name, pipeline.SuffixPreview):
 					r.Preview = path.Join(path.Dir(in.Stem), name)
 				}
 			}
@@ -228,14 +229,14 @@ func manifestRows(dir string, idx *batchIndex) []manifestRow {
 
 // labelMapOf is the file name of the label map a record lists as written
 // (records of earlier versions lack label_maps: their outputs tell), or "".
-func labelMapOf(rec *record) string {
+func labelMapOf(rec *pipeline.Record) string {
 	for _, m := range rec.LabelMaps {
 		if m.Content == "labels" {
 			return m.File
 		}
 	}
 	for _, name := range rec.Outputs {
-		for _, suf := range labelsSuffixes {
+		for _, suf := range pipeline.LabelsSuffixes {
 			if strings.HasSuffix(name, suf) {
 				return name
 			}
@@ -537,15 +538,15 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHi
 	c := countRows(rows)
 	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped,
 		Date: now.UTC().Format("2006-01-02 15:04 UTC"), Summary: summarize(rows, sizes)}
-	m := idx.Settings.asMap()
+	m := idx.Settings.Map()
 	for _, k := range slices.Sorted(maps.Keys(m)) {
-		d.Params = append(d.Params, reportParam{k, paramText(m[k])})
+		d.Params = append(d.Params, reportParam{k, pipeline.ValueText(m[k])})
 	}
 	for _, r := range rows {
 		if r.Plane != nil {
 			r.Input = fmt.Sprintf("%s, plane %d", r.Input, *r.Plane)
 		}
-		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + suffixOverlay), Record: relURL(r.Stem + suffixRecord), StatusText: r.Status, Class: r.Status}
+		rr := reportRow{manifestRow: r, Overlay: relURL(r.Stem + pipeline.SuffixOverlay), Record: relURL(r.Stem + pipeline.SuffixRecord), StatusText: r.Status, Class: r.Status}
 		if r.Labels != "" {
 			rr.LabelsLink = relURL(r.Labels)
 		}
@@ -574,23 +575,6 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHi
 		}
 	}
 	return reportTemplate.Execute(w, d)
-}
-
-// paramText is a setting's value as the report shows it: text as it is, a
-// channel as its index or name, a number as JSON writes it (so that the
-// report agrees with the params files).
-func paramText(v any) string {
-	switch v := v.(type) {
-	case string:
-		return v
-	case channelArg:
-		if n, ok := v.index(); ok {
-			return strconv.Itoa(n)
-		}
-		return string(v)
-	}
-	b, _ := json.Marshal(v)
-	return string(b)
 }
 
 var reportTemplate = template.Must(template.New("report").Parse(`<!DOCTYPE html>

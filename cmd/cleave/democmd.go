@@ -10,6 +10,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
@@ -102,7 +103,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if o.out == "" {
 		dir, err := os.MkdirTemp("", "cleave-demo-")
 		if err != nil {
-			fmt.Fprintf(stderr, "cleave demo: cannot make a folder under the temporary folder %s: %v (use --out DIR)\n", os.TempDir(), describeErr(err))
+			fmt.Fprintf(stderr, "cleave demo: cannot make a folder under the temporary folder %s: %v (use --out DIR)\n", os.TempDir(), pipeline.DescribeErr(err))
 			return exitFail
 		}
 		o.out = dir

@@ -12,12 +12,14 @@ import (
 // withFlags returns err with the library's parameter names written as
 // this command's flags: the libraries name their parameters (imageio
 // and segment know nothing of flags), and every parameter of theirs that
-// a user sets has a flag of the same name. The result unwraps to err.
+// a user sets has a flag of the same name; a name in backquotes (the
+// pipeline's advice, "choose another `out`") becomes its flag too. The
+// result unwraps to err.
 func withFlags(err error) error {
 	if err == nil {
 		return nil
 	}
-	msg := err.Error()
+	msg := flagQuoted(err.Error())
 	var oe *imageio.OptionError
 	if errors.As(err, &oe) {
 		msg = strings.Replace(msg, oe.Error(), "--"+oe.Error(), 1)

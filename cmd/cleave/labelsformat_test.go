@@ -14,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/imageio"
 )
@@ -121,7 +122,7 @@ func TestSegmentLabelsTIFF(t *testing.T) {
 			t.Errorf("%s: XResolution %v, ResolutionUnit %v; want 20000/1 per centimetre (3)", kind, g.X, g.Unit)
 		}
 	}
-	rec, err := readRecord(filepath.Join(tifOut, "nuclei-1.json"))
+	rec, err := pipeline.ReadRecord(filepath.Join(tifOut, "nuclei-1.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -141,7 +142,7 @@ func TestSegmentLabelsTIFF(t *testing.T) {
 		t.Fatal(err)
 	}
 	runOK(t, "segment", "--params", params, "--out", pxOut, img)
-	rec, err = readRecord(filepath.Join(pxOut, "nuclei-1.json"))
+	rec, err = pipeline.ReadRecord(filepath.Join(pxOut, "nuclei-1.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -175,11 +176,11 @@ func TestSegmentLabelsOverflow(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(out, "checker.labels.png")); err == nil {
 		t.Error("a PNG label map was written for 90000 labels")
 	}
-	rec, err := readRecord(filepath.Join(out, "checker.json"))
+	rec, err := pipeline.ReadRecord(filepath.Join(out, "checker.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rec.Warnings) != 1 || rec.Warnings[0].Code != labelWarningCode || rec.LabelMaps[0].Bits != 32 || rec.LabelMaps[0].Format != "tiff" || rec.LabelMaps[0].MaxLabel != 90000 {
+	if len(rec.Warnings) != 1 || rec.Warnings[0].Code != pipeline.LabelWarningCode || rec.LabelMaps[0].Bits != 32 || rec.LabelMaps[0].Format != "tiff" || rec.LabelMaps[0].MaxLabel != 90000 {
 		t.Errorf("record: warnings %+v, label_maps %+v", rec.Warnings, rec.LabelMaps)
 	}
 	var got []tiffRead

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 )
 
@@ -49,7 +50,7 @@ func TestRecordObjectScale(t *testing.T) {
 				t.Errorf("%d²: record lacks %q", c.size, key)
 			}
 		}
-		var rec record
+		var rec pipeline.Record
 		if err := json.Unmarshal(data, &rec); err != nil {
 			t.Fatal(err)
 		}

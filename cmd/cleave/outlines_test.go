@@ -14,6 +14,7 @@ import (
 	"strconv"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 )
@@ -206,7 +207,7 @@ func TestSegmentOutlinesGeoJSON(t *testing.T) {
 			t.Run(c.out+"/"+stem, func(t *testing.T) {
 				checkGeoJSON(t, filepath.Join(out, stem+".outlines.geojson"), labels, classes, w, h)
 			})
-			rec, err := readRecord(filepath.Join(out, stem+".json"))
+			rec, err := pipeline.ReadRecord(filepath.Join(out, stem+".json"))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -313,7 +314,7 @@ func TestRegionTableColour(t *testing.T) {
 	}
 	for _, row := range recs[1:] {
 		l, _ := strconv.Atoi(row[col["label"]])
-		for c, name := range channelNames {
+		for c, name := range pipeline.ChannelNames {
 			var sum, mn, mx float64 = 0, math.Inf(1), math.Inf(-1)
 			n := 0
 			for i, v := range labels {

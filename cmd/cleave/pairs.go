@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
 // truthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
@@ -50,7 +52,7 @@ func listImageFiles(dir string) ([]string, error) {
 	var files []string
 	for _, e := range ents {
 		if e.Type().IsRegular() || e.Type()&os.ModeSymlink != 0 {
-			if isImageName(e.Name()) && !strings.HasPrefix(e.Name(), ".") {
+			if pipeline.IsImageName(e.Name()) && !strings.HasPrefix(e.Name(), ".") {
 				files = append(files, filepath.Join(dir, e.Name()))
 			}
 		}

@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/render"
 )
@@ -134,7 +135,7 @@ func TestSegmentPictures(t *testing.T) {
 			}
 		}
 	}
-	rec, err := readRecord(filepath.Join(dir, "nuclei-1.json"))
+	rec, err := pipeline.ReadRecord(filepath.Join(dir, "nuclei-1.json"))
 	if err != nil {
 		t.Fatal(err)
 	}

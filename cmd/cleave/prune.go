@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
 // staleOutput is the record of an earlier run in --out whose input is
@@ -58,7 +60,7 @@ func staleOutputs(out string, inputs []batchInput) ([]staleOutput, error) {
 		if current[stem] {
 			return nil
 		}
-		rec, err := readRecord(p)
+		rec, err := pipeline.ReadRecord(p)
 		if err != nil {
 			return nil // not cleave's
 		}
@@ -76,7 +78,7 @@ func staleOutputs(out string, inputs []batchInput) ([]staleOutput, error) {
 		return nil
 	})
 	if err != nil {
-		return nil, fmt.Errorf("cannot look for earlier outputs in %s: %v", out, describeErr(err))
+		return nil, fmt.Errorf("cannot look for earlier outputs in %s: %v", out, pipeline.DescribeErr(err))
 	}
 	slices.SortFunc(stale, func(a, b staleOutput) int { return strings.Compare(a.Record, b.Record) })
 	return stale, nil
@@ -88,11 +90,11 @@ func pruneStale(stale []staleOutput) error {
 	for _, s := range stale {
 		for _, f := range s.Files {
 			if err := os.Remove(f); err != nil && !errors.Is(err, fs.ErrNotExist) {
-				return fmt.Errorf("cannot remove the earlier output %s: %v", f, describeErr(err))
+				return fmt.Errorf("cannot remove the earlier output %s: %v", f, pipeline.DescribeErr(err))
 			}
 		}
 		if err := os.Remove(s.Record); err != nil && !errors.Is(err, fs.ErrNotExist) {
-			return fmt.Errorf("cannot remove the earlier record %s: %v", s.Record, describeErr(err))
+			return fmt.Errorf("cannot remove the earlier record %s: %v", s.Record, pipeline.DescribeErr(err))
 		}
 	}
 	return nil

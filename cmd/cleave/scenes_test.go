@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
@@ -78,7 +79,7 @@ func TestSegmentScenes(t *testing.T) {
 				ot := scenes.OtsuObjects(sc.s, !sc.dark)
 				otsuARI += score.ARI(ot, sc.s.Truth)
 				otsuF1 += score.MatchObjects(ot, sc.s.Truth).F1
-				var rec record
+				var rec pipeline.Record
 				data, err := os.ReadFile(filepath.Join(out, sc.s.Name+".json"))
 				if err != nil {
 					t.Fatal(err)

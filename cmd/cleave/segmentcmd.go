@@ -9,6 +9,7 @@ import (
 	"runtime"
 	"strings"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/spf13/pflag"
 )
 
@@ -112,12 +113,12 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		fmt.Fprintln(stderr, "cleave segment: no image given (run 'cleave segment --help')")
 		return exitUsage
 	}
-	res, err := s.resolve(c.workers)
+	res, err := resolve(*s, c.workers)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 		return exitUsage
 	}
-	defer setMemoryLimit(res.params.MaxMemory)()
+	defer pipeline.SetMemoryLimit(res.Params.MaxMemory)()
 	if c.saveGraph != "" && len(images) > 1 {
 		fmt.Fprintln(stderr, "cleave segment: --save-graph takes one image; give a single IMAGE")
 		return exitUsage
@@ -131,19 +132,19 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		}
 		stems[st] = p
 	}
-	replace := replaceNone
+	replace := pipeline.ReplaceNone
 	if c.force {
-		replace = replaceAny
+		replace = pipeline.ReplaceAny
 	}
-	var jobs []job
+	var jobs []pipeline.Job
 	stacks := map[string][]int{} // --planes all: image -> indices of its jobs
 	for _, p := range images {
-		j := job{path: p, out: outputSet{dir: c.out, stem: stemOf(p)}, settings: *s, resolved: res, replace: replace, saveGraph: c.saveGraph}
-		if s.Planes != planesAll {
+		j := pipeline.Job{Path: p, Out: pipeline.OutputSet{Dir: c.out, Stem: stemOf(p)}, Request: *s, Options: res, Replace: replace, SaveGraph: c.saveGraph, Voice: voice()}
+		if s.Planes != pipeline.PlanesAll {
 			jobs = append(jobs, j)
 			continue
 		}
-		planeJobs, err := expandPlanes(j)
+		planeJobs, err := pipeline.ExpandPlanes(j)
 		if err != nil {
 			fmt.Fprintf(stderr, "cleave segment: %v\n", withFlags(err))
 			return exitFail
@@ -162,14 +163,14 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		return exitFail
 	}
 	failed := 0
-	recs := make([]*record, len(jobs))
+	recs := make([]*pipeline.Record, len(jobs))
 	for k, j := range jobs {
 		if ctx.Err() != nil {
 			fmt.Fprintln(stderr, "cleave segment: interrupted")
 			return exitFail
 		}
-		p := j.path
-		rec, err := processImage(ctx, j)
+		p := j.Path
+		rec, err := pipeline.Process(ctx, j)
 		recs[k] = rec
 		if err != nil {
 			failed++
@@ -179,7 +180,7 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 			}
 			continue
 		}
-		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, j.out.stem)))
+		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, j.Out.Stem)))
 		for _, w := range rec.Warnings {
 			fmt.Fprintf(stderr, "cleave segment: %s: warning: %s\n", p, w.Message)
 		}
@@ -189,9 +190,9 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		if !ok {
 			continue
 		}
-		sum := stackSummaryOf(p, jobs, recs, idx)
+		sum := pipeline.StackSummaryOf(p, jobs, recs, idx)
 		path := filepath.Join(c.out, stemOf(p)+".stack.json")
-		if err := writeStackSummary(path, sum, replace != replaceNone); err != nil {
+		if err := pipeline.WriteStackSummary(path, sum, replace != pipeline.ReplaceNone); err != nil {
 			failed++
 			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 			continue
@@ -209,19 +210,19 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 // without: cleave never replaces its own input. Paths are compared as
 // files (os.SameFile), so links and other spellings of a path count.
 // The --save-graph path may not be one of the outputs either.
-func checkNotInputs(jobs []job) error {
+func checkNotInputs(jobs []pipeline.Job) error {
 	type input struct {
 		path string
 		info os.FileInfo
 	}
 	var inputs []input
 	for _, j := range jobs {
-		if st, err := os.Stat(j.path); err == nil {
-			inputs = append(inputs, input{j.path, st})
+		if st, err := os.Stat(j.Path); err == nil {
+			inputs = append(inputs, input{j.Path, st})
 		}
 	}
 	for _, j := range jobs {
-		for _, out := range j.possibleOutputs() {
+		for _, out := range j.PossibleOutputs() {
 			st, err := os.Stat(out)
 			if err != nil {
 				continue
@@ -229,23 +230,23 @@ func checkNotInputs(jobs []job) error {
 			for _, in := range inputs {
 				if os.SameFile(st, in.info) {
 					what := "output"
-					if out == j.saveGraph {
+					if out == j.SaveGraph {
 						what = "--save-graph file"
 					}
-					return fmt.Errorf("the %s %s of %s is the input image %s; cleave never replaces an input, even with --force: choose another --out or file name", what, out, j.path, in.path)
+					return fmt.Errorf("the %s %s of %s is the input image %s; cleave never replaces an input, even with --force: choose another --out or file name", what, out, j.Path, in.path)
 				}
 			}
 		}
-		if j.saveGraph != "" {
-			if err := checkGraphTarget(j.saveGraph); err != nil {
+		if j.SaveGraph != "" {
+			if err := checkGraphTarget(j.SaveGraph); err != nil {
 				return err
 			}
-			g, _ := filepath.Abs(j.saveGraph)
+			g, _ := filepath.Abs(j.SaveGraph)
 			own := j
-			own.saveGraph = ""
-			for _, out := range own.outputs() {
+			own.SaveGraph = ""
+			for _, out := range own.Outputs() {
 				if o, _ := filepath.Abs(out); o == g {
-					return fmt.Errorf("--save-graph %s is also an output of %s; choose another file name", j.saveGraph, j.path)
+					return fmt.Errorf("--save-graph %s is also an output of %s; choose another file name", j.SaveGraph, j.Path)
 				}
 			}
 		}
@@ -281,7 +282,7 @@ func checkGraphTarget(p string) error {
 const matrixMarketBanner = "%%MatrixMarket"
 
 // summaryLine is the one line per image on stdout.
-func summaryLine(rec *record, prefix string) string {
+func summaryLine(rec *pipeline.Record, prefix string) string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s: %dx%d, %s", rec.Input.Path, rec.Input.Width, rec.Input.Height, plural(rec.Regions, "region"))
 	if v, ok := rec.Params["background"].(string); ok && v != "" {
@@ -295,9 +296,16 @@ func summaryLine(rec *record, prefix string) string {
 }
 
 // plural formats a count with its noun: "1 region", "3 regions".
-func plural(n int, noun string) string {
-	if n == 1 {
-		return "1 " + noun
-	}
-	return fmt.Sprintf("%d %ss", n, noun)
+func plural(n int, noun string) string { return pipeline.Plural(n, noun) }
+
+// voice is how the pipeline words its records and messages for this
+// command: the version, parameter names as flags.
+func voice() pipeline.Voice {
+	return pipeline.Voice{Version: version, Error: withFlags, Message: flagQuoted}
+}
+
+// stemOf is the file name without its extension.
+func stemOf(path string) string {
+	base := filepath.Base(path)
+	return strings.TrimSuffix(base, filepath.Ext(base))
 }

@@ -7,12 +7,11 @@ import (
 	"io"
 	"math"
 	"os"
-	"reflect"
-	"slices"
 	"sort"
 	"strconv"
 	"strings"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/spf13/pflag"
@@ -21,64 +20,7 @@ import (
 // settings are the parameters of one segmentation as the user gives them,
 // by flag or in a --params file. Every field is a flag of the same name
 // (the json tag); "auto" values are resolved per image by segment.Run.
-type settings struct {
-	MaxMegapixels float64    `json:"max-megapixels"`
-	Normalize     string     `json:"normalize"`
-	Flatten       float64    `json:"flatten"`
-	FlattenMode   string     `json:"flatten-mode"`
-	Features      string     `json:"features"`
-	Channel       channelArg `json:"channel"`
-	Plane         int        `json:"plane"`
-	Frame         int        `json:"frame"`
-	Planes        string     `json:"planes"`
-	Superpixels   string     `json:"superpixels"`
-	Compactness   float64    `json:"compactness"`
-	Radius        int        `json:"radius"`
-	SigmaI        string     `json:"sigma-i"`
-	SigmaX        string     `json:"sigma-x"`
-	Contour       string     `json:"contour"`
-	Grain         string     `json:"grain"`
-	Method        string     `json:"method"`
-	Segments      int        `json:"segments"`
-	MaxSegments   int        `json:"max-segments"`
-	MaxNcut       float64    `json:"max-ncut"`
-	MinArea       int        `json:"min-area"`
-	Classes       int        `json:"classes"`
-	Background    string     `json:"background"`
-	Necks         string     `json:"necks"`
-	PixelSize     float64    `json:"pixel-size"`
-	Unit          string     `json:"unit"`
-	MaxMemory     string     `json:"max-memory"`
-	Seed          uint64     `json:"seed"`
-	LabelsFormat  string     `json:"labels-format"`
-}
-
-// labelsFormat is the label map format asked for: png unless tiff was
-// given ("" in records and indexes of earlier versions, which wrote PNG).
-func (s settings) labelsFormat() string {
-	if s.LabelsFormat == "" {
-		return imageio.LabelsPNG
-	}
-	return s.LabelsFormat
-}
-
-// sameSettings reports whether two requests segment and write alike: equal
-// but for an unset labels-format, which means png, and an unset necks,
-// which means on (records of earlier versions lack the keys).
-func sameSettings(a, b settings) bool {
-	a.LabelsFormat, b.LabelsFormat = a.labelsFormat(), b.labelsFormat()
-	a.Necks, b.Necks = a.necks(), b.necks()
-	return a == b
-}
-
-// necks is whether objects are cut at necks: on unless off was given (""
-// in records of earlier versions, which always cut at necks).
-func (s settings) necks() string {
-	if s.Necks == "" {
-		return "on"
-	}
-	return s.Necks
-}
+type settings = pipeline.Request
 
 // Ranges of the parameters that only the command uses (the libraries
 // state theirs: segment.MaxRadius and the rest, imageio.MaxMaxMegapixels).
@@ -86,9 +28,6 @@ const (
 	// minMaxMemory is the least --max-memory: the limit is a size, and a
 	// value that rounds to nothing would otherwise read as "no limit".
 	minMaxMemory = 1 << 20
-	// minPixelSize and maxPixelSize bound --pixel-size so that areas in
-	// unit^2 stay finite and above zero in float64.
-	minPixelSize, maxPixelSize = 1e-9, 1e9
 	// maxWorkers bounds --workers and --jobs: threads beyond this share
 	// the same cores and only cost memory.
 	maxWorkers = 1024
@@ -108,7 +47,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Var(&s.Channel, "channel", "use only this channel of a multi-channel image: an index from 0, or a name the file gives its channels; -1 = a colour image's three colours, else the first channel")
 	fs.IntVar(&s.Plane, "plane", 0, "plane (Z, from 0) of a stack to segment")
 	fs.IntVar(&s.Frame, "frame", 0, "time point (from 0) of a time series to segment")
-	fs.StringVar(&s.Planes, "planes", planesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.*; segment adds a summary STEM.stack.json, batch a plane column in manifest.csv and objects.csv; not for tune) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
+	fs.StringVar(&s.Planes, "planes", pipeline.PlanesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.*; segment adds a summary STEM.stack.json, batch a plane column in manifest.csv and objects.csv; not for tune) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
 	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
 		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
@@ -127,8 +66,8 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
 	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
 	fs.StringVar(&s.Necks, "necks", "on", "with --background dark or bright: on = touching objects are also cut apart where their outline is pinched (a neck), off = only along a seam of lower or changing contrast; off suits lobed or branched objects that never touch")
-	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", minPixelSize, maxPixelSize))
-	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", maxUnitLen))
+	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", pipeline.MinPixelSize, pipeline.MaxPixelSize))
+	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", pipeline.MaxUnitLen))
 	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
 	fs.StringVar(&s.LabelsFormat, "labels-format", imageio.LabelsPNG, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
 	fs.Uint64Var(&s.Seed, "seed", defaults.Seed, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
@@ -136,32 +75,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 
 // paramNames lists the keys a --params file may hold (the json tags of
 // settings), sorted.
-func paramNames() []string {
-	t := reflect.TypeFor[settings]()
-	names := make([]string, t.NumField())
-	for i := range names {
-		names[i] = jsonName(t.Field(i))
-	}
-	slices.Sort(names)
-	return names
-}
-
-// jsonName is the key of a settings field (its json tag).
-func jsonName(f reflect.StructField) string {
-	name, _, _ := strings.Cut(f.Tag.Get("json"), ",")
-	return name
-}
-
-// asMap is every setting under its key (the json tag), the values as they
-// are (encoding/json writes them as it writes the struct).
-func (s settings) asMap() map[string]any {
-	v := reflect.ValueOf(s)
-	m := make(map[string]any, v.NumField())
-	for i := range v.NumField() {
-		m[jsonName(v.Type().Field(i))] = v.Field(i).Interface()
-	}
-	return m
-}
+func paramNames() []string { return pipeline.RequestNames() }
 
 // applyParamsFile reads a JSON object of parameters named like the flags
 // and sets every one the command line did not set (flags given on the
@@ -320,18 +234,10 @@ func parseBytes(name, v string) (int64, error) {
 	return int64(x * mult), nil
 }
 
-// resolved is a settings value turned into the options of each stage.
-type resolved struct {
-	load      imageio.LoadOptions
-	selection imageio.Selection
-	features  imageio.FeatureOptions
-	params    segment.Params
-}
-
-// resolve checks the settings and converts them; every error is a usage
-// error naming the flag.
-func (s settings) resolve(workers int) (*resolved, error) {
-	r := &resolved{}
+// resolve checks the settings and converts them into the pipeline's
+// options; every error is a usage error naming the flag.
+func resolve(s settings, workers int) (*pipeline.Options, error) {
+	r := &pipeline.Options{}
 	if !(s.MaxMegapixels >= imageio.MinMaxMegapixels && s.MaxMegapixels <= imageio.MaxMaxMegapixels) {
 		return nil, usagef("--max-megapixels must be %g (one pixel) to %d, got %v", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels, s.MaxMegapixels)
 	}
@@ -341,20 +247,20 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	if maxDiag := s.MaxMegapixels * 1e6; s.Flatten > maxDiag {
 		return nil, usagef("--flatten %g is larger than the diagonal of any image within --max-megapixels %g (at most %g pixels)", s.Flatten, s.MaxMegapixels, maxDiag)
 	}
-	r.load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
-	ch, ok := s.Channel.index()
+	r.Load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
+	ch, ok := s.Channel.Index()
 	if !ok {
 		ch = 0 // a channel name: one channel
 	}
-	r.features = imageio.FeatureOptions{Space: imageio.ColorSpace(s.Features), Channel: ch, Normalize: imageio.Normalization(s.Normalize), Flatten: s.Flatten, FlattenMode: imageio.FlattenMode(s.FlattenMode)}
-	if err := r.features.Validate(); err != nil {
+	r.Features = imageio.FeatureOptions{Space: imageio.ColorSpace(s.Features), Channel: ch, Normalize: imageio.Normalization(s.Normalize), Flatten: s.Flatten, FlattenMode: imageio.FlattenMode(s.FlattenMode)}
+	if err := r.Features.Validate(); err != nil {
 		return nil, &usageError{err}
 	}
 	sel, err := selectionOf(s)
 	if err != nil {
 		return nil, err
 	}
-	r.selection = sel
+	r.Selection = sel
 	p := segment.Params{
 		Compactness: s.Compactness, Radius: s.Radius, Method: segment.Method(s.Method), Segments: s.Segments,
 		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
@@ -374,7 +280,7 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	default:
 		return nil, usagef("--grain must be on or off, got %q", s.Grain)
 	}
-	switch s.necks() {
+	switch s.NecksAsked() {
 	case "on":
 	case "off":
 		p.SeamsOnly = true
@@ -408,10 +314,10 @@ func (s settings) resolve(workers int) (*resolved, error) {
 	if err := p.Validate(); err != nil {
 		return nil, &usageError{err}
 	}
-	if !(s.PixelSize == 0 || s.PixelSize >= minPixelSize && s.PixelSize <= maxPixelSize) {
-		return nil, usagef("--pixel-size must be 0 (off) or %g to %g, got %v", minPixelSize, maxPixelSize, s.PixelSize)
+	if !(s.PixelSize == 0 || s.PixelSize >= pipeline.MinPixelSize && s.PixelSize <= pipeline.MaxPixelSize) {
+		return nil, usagef("--pixel-size must be 0 (off) or %g to %g, got %v", pipeline.MinPixelSize, pipeline.MaxPixelSize, s.PixelSize)
 	}
-	if f := s.labelsFormat(); f != imageio.LabelsPNG && f != imageio.LabelsTIFF {
+	if f := s.LabelsFormatAsked(); f != imageio.LabelsPNG && f != imageio.LabelsTIFF {
 		return nil, usagef("--labels-format must be png or tiff, got %q", s.LabelsFormat)
 	}
 	if s.Unit != "" || s.PixelSize > 0 {
@@ -419,22 +325,28 @@ func (s settings) resolve(workers int) (*resolved, error) {
 			return nil, err
 		}
 	}
-	r.params = p
+	r.Params = p
+	r.PixelSize, r.Unit = s.PixelSize, s.Unit
+	r.LabelsFormat = s.LabelsFormatAsked()
+	r.EveryPlane = s.Planes == pipeline.PlanesAll
 	return r, nil
 }
 
-// usedParams is the parameter set as used on one image, automatic values
-// resolved, under the flag names: the "params" of the JSON record, and a
-// valid --params file that reproduces the run.
-func usedParams(s settings, p segment.Params) map[string]any {
-	m := s.asMap()
-	m["sigma-i"] = p.SigmaI
-	m["sigma-x"] = p.SigmaX
-	m["superpixels"] = p.Superpixels
-	if p.Grain {
-		m["grain-angle"] = p.GrainModel.Angle * 180 / math.Pi
-		m["grain-share"] = p.GrainModel.Share
-		m["grain-length"] = p.GrainModel.Length
+// selectionOf turns the stack flags into an imageio.Selection.
+func selectionOf(s settings) (imageio.Selection, error) {
+	sel := imageio.Selection{Channel: s.Channel.Selection(), Plane: s.Plane, Frame: s.Frame}
+	if s.Plane < 0 {
+		return sel, usagef("--plane must be a plane index from 0, got %d", s.Plane)
 	}
-	return m
+	if s.Frame < 0 {
+		return sel, usagef("--frame must be a time point index from 0, got %d", s.Frame)
+	}
+	switch s.Planes {
+	case "", pipeline.PlanesOne, pipeline.PlanesAll:
+	case pipeline.PlanesBrightest:
+		sel.Brightest = true
+	default:
+		return sel, usagef("--planes must be one, all or brightest, got %q", s.Planes)
+	}
+	return sel, nil
 }

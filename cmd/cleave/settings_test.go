@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
 func TestParamsFile(t *testing.T) {
@@ -132,7 +133,7 @@ func TestResolveErrors(t *testing.T) {
 	} {
 		_, s, c2, err := parseSegment(append(c.args, "x.png"), nil)
 		if err == nil {
-			_, err = s.resolve(c2.workers)
+			_, err = resolve(*s, c2.workers)
 		}
 		var u *usageError
 		if err == nil || !errors.As(err, &u) || !strings.Contains(err.Error(), c.want) {
@@ -213,18 +214,18 @@ func FuzzParamsFile(f *testing.F) {
 		if err := applyParams(fs, "fuzz.json", data); err != nil {
 			return
 		}
-		r, err := s.resolve(min(c.workers, 2))
+		r, err := resolve(*s, min(c.workers, 2))
 		if err != nil {
 			return
 		}
 		// Keep each run small: the fuzzed values, not the image, are
 		// under test.
-		r.params.MaxMemory = min(r.params.MaxMemory, 64<<20)
-		in, err := loadInput(context.Background(), img, r)
+		r.Params.MaxMemory = min(r.Params.MaxMemory, 64<<20)
+		in, err := pipeline.Load(context.Background(), img, r)
 		if err != nil {
 			return
 		}
-		_, _ = segmentInput(context.Background(), in, r.params)
+		_, _ = pipeline.Segment(context.Background(), in, r.Params)
 	})
 }
 

@@ -38,7 +38,7 @@ func TestUnitValidated(t *testing.T) {
 	for _, u := range []string{"um", "µm", "nm", "mm^2", "px_2", "m/s", "μm"} {
 		_, s, c, err := parseSegment([]string{"--pixel-size", "0.5", "--unit", u, "x.png"}, nil)
 		if err == nil {
-			_, err = s.resolve(c.workers)
+			_, err = resolve(*s, c.workers)
 		}
 		if err != nil {
 			t.Errorf("--unit %q refused: %v", u, err)
@@ -47,7 +47,7 @@ func TestUnitValidated(t *testing.T) {
 	for _, u := range []string{"um,x", "a\nb", "=HYPERLINK(1)", "-um", "@um", "u m", `u"m`, "", "abcdefghijklmnopq"} {
 		_, s, c, err := parseSegment([]string{"--pixel-size", "0.5", "--unit", u, "x.png"}, nil)
 		if err == nil {
-			_, err = s.resolve(c.workers)
+			_, err = resolve(*s, c.workers)
 		}
 		if err == nil || !strings.Contains(err.Error(), "--unit") {
 			t.Errorf("--unit %q: error %v, want one naming --unit", u, err)

@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 )
 
@@ -50,13 +51,13 @@ func readTIFFManifest(t *testing.T) tiffManifest {
 	return m
 }
 
-func readRecordFile(t *testing.T, p string) *record {
+func readRecordFile(t *testing.T, p string) *pipeline.Record {
 	t.Helper()
 	b, err := os.ReadFile(p)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rec record
+	var rec pipeline.Record
 	if err := json.Unmarshal(b, &rec); err != nil {
 		t.Fatal(err)
 	}
@@ -156,7 +157,7 @@ func TestSegmentPlanesAll(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var sum stackSummary
+	var sum pipeline.StackSummary
 	if err := json.Unmarshal(b, &sum); err != nil || sum.Planes != 4 || len(sum.Results) != 4 || sum.Failed != 0 || sum.Results[3].Record != "stack.z003.json" {
 		t.Fatalf("summary %+v (%v)", sum, err)
 	}

@@ -14,6 +14,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment"
@@ -335,14 +336,14 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 			fixed = withParam(fixed, d, t.Space[d])
 		}
 	}
-	loadRes, err := fixed.resolve(t.Workers)
+	loadRes, err := resolve(fixed, t.Workers)
 	if err != nil {
 		return exitUsage, nil, err
 	}
-	if s.Planes == planesAll {
+	if s.Planes == pipeline.PlanesAll {
 		return exitUsage, nil, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
 	}
-	defer setMemoryLimit(loadRes.params.MaxMemory)()
+	defer pipeline.SetMemoryLimit(loadRes.Params.MaxMemory)()
 	if !o.force {
 		for _, n := range tuneOutputs {
 			if p := filepath.Join(o.out, n); exists(p) {
@@ -361,10 +362,10 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
 	var truthMaps []truthMap
-	var images []*loaded
+	var images []*pipeline.Loaded
 	var truths [][]int32
 	for _, p := range pairs {
-		in, err := loadInput(ctx, p.image, loadRes)
+		in, err := pipeline.Load(ctx, p.image, loadRes)
 		if err != nil {
 			return exitFail, nil, fmt.Errorf("%s: %w", p.image, err)
 		}
@@ -373,8 +374,8 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 			return exitFail, nil, fmt.Errorf("truth %w", err)
 		}
 		truthMaps = append(truthMaps, truthMap{Name: p.name, Truth: p.truth, mapReading: reading})
-		if w != in.features.Width || h != in.features.Height {
-			return exitFail, nil, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.features.Width, in.features.Height, p.truth, w, h)
+		if w != in.Features.Width || h != in.Features.Height {
+			return exitFail, nil, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.Features.Width, in.Features.Height, p.truth, w, h)
 		}
 		if err := checkTolerance(o.tolerance, p.truth, w, h); err != nil {
 			return exitUsage, nil, err
@@ -384,16 +385,16 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	t.Objective, t.Timer = tuneObjective(images, truths, o.tolerance), tuneTimer(images)
 	all := t.All()
 
-	br, err := fixed.resolve(1)
+	br, err := resolve(fixed, 1)
 	if err != nil {
 		return exitUsage, nil, err
 	}
-	t.Base = br.params
+	t.Base = br.Params
 	prog := progress.NewTune(stderr, metric)
 	t.Progress = prog
 	defer prog.Finish()
 	prog.Plan(1)
-	baseline, err := t.EvaluateParams(ctx, br.params, "baseline", "baseline")
+	baseline, err := t.EvaluateParams(ctx, br.Params, "baseline", "baseline")
 	if err != nil {
 		return exitFail, nil, err
 	}
@@ -437,7 +438,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	// (the split tree grown at the grid's largest max-ncut serves the
 	// smaller ones exactly).
 	for _, in := range images {
-		in.cache = &segment.Cache{Ceiling: slices.Max(t.Space[tune.MaxNcut].Values)}
+		in.Cache = &segment.Cache{Ceiling: slices.Max(t.Space[tune.MaxNcut].Values)}
 	}
 	gridPts := t.Space.Grid()
 	k := min(o.folds, len(images))
@@ -599,7 +600,7 @@ func withParam(s settings, d tune.Param, ax tune.Axis) settings {
 // paramsFile is best.json: every parameter of the settings (the fixed ones
 // passed through) with the tuned values, numbers where the value is one.
 func paramsFile(space *tune.Space, s *settings, p tune.Point) map[string]any {
-	m := s.asMap()
+	m := s.Map()
 	for _, d := range tune.Params() {
 		switch {
 		case space[d].Auto:

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -79,13 +80,13 @@ func parseSpec(d tune.Param, text string) (tune.Axis, error) {
 // tuneObjective segments the decoded images with a parameter set and
 // scores each against its truth: tune's seam to the pipeline. Each call
 // runs on one thread.
-func tuneObjective(images []*loaded, truths [][]int32, tol float64) tune.Objective {
+func tuneObjective(images []*pipeline.Loaded, truths [][]int32, tol float64) tune.Objective {
 	return func(ctx context.Context, p segment.Params, j int) (tune.Sample, error) {
-		res, err := segmentInput(ctx, images[j], p)
+		res, err := pipeline.Segment(ctx, images[j], p)
 		if err != nil {
 			return tune.Sample{}, withFlags(err)
 		}
-		f := images[j].features
+		f := images[j].Features
 		m, err := score.Compare(ctx, res.Labels, truths[j], f.Width, f.Height, tol)
 		if err != nil {
 			return tune.Sample{}, withFlags(err)
@@ -97,12 +98,12 @@ func tuneObjective(images []*loaded, truths [][]int32, tol float64) tune.Objecti
 // tuneTimer times one segmentation of a decoded image without the
 // search's shared work (its cache), so that the seconds are those of
 // 'cleave segment --params' on the decoded image.
-func tuneTimer(images []*loaded) tune.Timer {
+func tuneTimer(images []*pipeline.Loaded) tune.Timer {
 	return func(ctx context.Context, p segment.Params, j int) (float64, error) {
 		plain := *images[j]
-		plain.cache = nil
+		plain.Cache = nil
 		start := time.Now()
-		_, err := segmentInput(ctx, &plain, p)
+		_, err := pipeline.Segment(ctx, &plain, p)
 		return time.Since(start).Seconds(), withFlags(err)
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/examples/loudskip"
 )
 
@@ -41,7 +42,7 @@ func TestSegmentWarnings(t *testing.T) {
 				t.Fatal(err)
 			}
 			var rec struct {
-				Warnings []warningInfo `json:"warnings"`
+				Warnings []pipeline.WarningInfo `json:"warnings"`
 			}
 			if err := json.Unmarshal(data, &rec); err != nil {
 				t.Fatal(err)
@@ -103,7 +104,7 @@ func TestSegmentWarnsUnusedPages(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var rec record
+	var rec pipeline.Record
 	if err := json.Unmarshal(data, &rec); err != nil {
 		t.Fatal(err)
 	}

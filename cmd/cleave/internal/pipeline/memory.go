@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -41,13 +41,13 @@ type stageEstimate struct {
 // the pipeline for the image whose header is h: decode, features, the
 // stages of segment.Run (segment.EstimateStages) and the outputs. Each
 // includes baseBytes and the arrays of earlier stages still alive.
-func estimateImage(h imageio.Header, r *resolved) []stageEstimate {
+func estimateImage(h imageio.Header, o *Options) []stageEstimate {
 	w, ht := h.Width, h.Height
 	n := float64(w) * float64(ht)
 	imagePlanes := 4 * n * float64(h.Channels)
-	fpeak, fkept := imageio.EstimateFeatureBytes(w, ht, h.Channels, r.features)
+	fpeak, fkept := imageio.EstimateFeatureBytes(w, ht, h.Channels, o.Features)
 	planes := 1
-	if r.features.Space == imageio.SpaceLab {
+	if o.Features.Space == imageio.SpaceLab {
 		planes = 3
 	}
 	base, kept := float64(baseBytes), float64(fkept)
@@ -58,7 +58,7 @@ func estimateImage(h imageio.Header, r *resolved) []stageEstimate {
 		{"decode", satBytes(base + float64(h.DecodeBytes))},
 		{"features", satBytes(base + imagePlanes + float64(fpeak))},
 	}
-	for _, st := range segment.EstimateStages(w, ht, planes, r.params) {
+	for _, st := range segment.EstimateStages(w, ht, planes, o.Params) {
 		est = append(est, stageEstimate{st.Name, satBytes(base + kept + float64(st.Bytes))})
 	}
 	est = append(est, stageEstimate{"outputs", satBytes(base + kept + outputBytesPerPixel*n)})
@@ -84,28 +84,28 @@ func satBytes(x float64) int64 {
 // checkImageMemory refuses an image, from its header and before it is
 // decoded, when a stage is estimated above the memory limit, naming the
 // stage and what to change.
-func checkImageMemory(h imageio.Header, r *resolved) error {
-	limit := r.params.MaxMemory
+func checkImageMemory(h imageio.Header, o *Options) error {
+	limit := o.Params.MaxMemory
 	if limit <= 0 {
 		return nil
 	}
-	for _, e := range estimateImage(h, r) {
+	for _, e := range estimateImage(h, o) {
 		if e.bytes <= limit {
 			continue
 		}
 		hint := "downsample the image"
 		switch {
 		case e.name == "graph" || e.name == "cuts":
-			if r.params.Superpixels == 0 {
+			if o.Params.Superpixels == 0 {
 				hint = "lower radius, or use superpixels (superpixels N)"
 			} else {
 				hint = "use fewer superpixels (superpixels N), or downsample the image"
 			}
-		case e.name == "features" && r.features.Flatten > 0:
+		case e.name == "features" && o.Features.Flatten > 0:
 			hint = "turn off flatten, or downsample the image"
 		}
-		// Parameter names are bare, as in segment's messages: withFlags
-		// writes them as flags.
+		// Parameter names are bare, as in segment's messages (Voice.Error
+		// words them for the command).
 		return fmt.Errorf("%w: %dx%d pixels: the %s stage needs about %s, above max-memory %s; %s, or raise max-memory",
 			segment.ErrMemory, h.Width, h.Height, e.name, segment.FormatBytes(e.bytes), segment.FormatBytes(limit), hint)
 	}
@@ -113,7 +113,7 @@ func checkImageMemory(h imageio.Header, r *resolved) error {
 }
 
 // memoryBudget shares the memory limit between the images processed at
-// once (batch --jobs): each image reserves its estimated peak before it
+// once (batch): each image reserves its estimated peak before it
 // is decoded and waits while the others' reservations leave too little,
 // so that together they stay under the limit.
 type memoryBudget struct {
@@ -182,13 +182,13 @@ func (b *memoryBudget) release(n int64) {
 	b.mu.Unlock()
 }
 
-// setMemoryLimit makes the memory limit the Go runtime's soft limit too
+// SetMemoryLimit makes the memory limit the Go runtime's soft limit too
 // (debug.SetMemoryLimit), so that the garbage collector works harder
 // rather than let the heap grow past it. The estimates keep live data
 // below the limit; the soft limit keeps garbage from adding to it. It
 // returns a function that restores the previous limit (for commands run
 // inside one process, as the tests do).
-func setMemoryLimit(limit int64) (restore func()) {
+func SetMemoryLimit(limit int64) (restore func()) {
 	if limit <= 0 {
 		return func() {}
 	}

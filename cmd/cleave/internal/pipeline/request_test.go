@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"encoding/json"
@@ -11,7 +11,7 @@ import (
 // refused.
 func TestChannelArgJSON(t *testing.T) {
 	for _, tc := range []struct{ in, out string }{{`-1`, `-1`}, {`2`, `2`}, {`"GFP"`, `"GFP"`}, {`"all"`, `-1`}, {`"3"`, `3`}} {
-		var c channelArg
+		var c Channel
 		if err := json.Unmarshal([]byte(tc.in), &c); err != nil {
 			t.Fatalf("%s: %v", tc.in, err)
 		}
@@ -20,11 +20,11 @@ func TestChannelArgJSON(t *testing.T) {
 			t.Fatalf("%s -> %s (%v), want %s", tc.in, b, err, tc.out)
 		}
 	}
-	var c channelArg
+	var c Channel
 	if err := json.Unmarshal([]byte(`-2`), &c); err == nil {
 		t.Fatal("-2 accepted")
 	}
-	if b, _ := json.Marshal(settings{}); !json.Valid(b) {
-		t.Fatal("zero settings do not marshal")
+	if b, _ := json.Marshal(Request{}); !json.Valid(b) {
+		t.Fatal("zero Request does not marshal")
 	}
 }

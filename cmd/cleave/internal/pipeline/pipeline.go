@@ -1,4 +1,4 @@
-package main
+package pipeline
 
 import (
 	"context"
@@ -23,8 +23,8 @@ import (
 	"github.com/cleave-seg/cleave/segment/measure"
 )
 
-// inputInfo describes the input file in the record.
-type inputInfo struct {
+// InputInfo describes the input file in the record.
+type InputInfo struct {
 	Path     string `json:"path"`
 	SHA256   string `json:"sha256"`
 	Format   string `json:"format"`
@@ -39,39 +39,39 @@ type inputInfo struct {
 	SampleType string `json:"sample_type,omitempty"`
 	// Stack describes the channels, planes and time points of a TIFF
 	// and which were segmented.
-	Stack *stackInfo `json:"stack,omitempty"`
+	Stack *StackInfo `json:"stack,omitempty"`
 	// PixelSize is the pixel size of the region table and its source.
-	PixelSize *pixelSizeInfo `json:"pixel_size,omitempty"`
+	PixelSize *PixelSizeInfo `json:"pixel_size,omitempty"`
 	// InvalidPixels counts floating-point pixels that are NaN or
 	// infinite: they join no region (label 0).
 	InvalidPixels int `json:"invalid_pixels,omitempty"`
 }
 
-// record is STEM.json: what was read, what was done, what came out.
-type record struct {
+// Record is STEM.json: what was read, what was done, what came out.
+type Record struct {
 	Tool        string             `json:"tool"`
 	Version     string             `json:"version"`
 	Status      string             `json:"status"`
 	Error       string             `json:"error,omitempty"`
-	Input       inputInfo          `json:"input"`
-	Settings    *settings          `json:"settings,omitempty"` // parameters as requested ("auto" unresolved)
+	Input       InputInfo          `json:"input"`
+	Settings    *Request           `json:"settings,omitempty"` // parameters as requested ("auto" unresolved)
 	Params      map[string]any     `json:"params,omitempty"`   // parameters as used, automatic values resolved
-	Graph       *graphInfo         `json:"graph,omitempty"`
-	ObjectScale *objectScaleInfo   `json:"object_scale,omitempty"`
+	Graph       *GraphInfo         `json:"graph,omitempty"`
+	ObjectScale *ObjectScaleInfo   `json:"object_scale,omitempty"`
 	Eigenvalues []float64          `json:"eigenvalues"`
 	SplitNcuts  []float64          `json:"split_ncuts"`
 	Regions     int                `json:"regions"`
 	Objects     int                `json:"objects"`
-	Warnings    []warningInfo      `json:"warnings"`
+	Warnings    []WarningInfo      `json:"warnings"`
 	Seconds     map[string]float64 `json:"seconds"`
 	Outputs     []string           `json:"outputs,omitempty"`
-	LabelMaps   []labelMapInfo     `json:"label_maps,omitempty"`
+	LabelMaps   []LabelMapInfo     `json:"label_maps,omitempty"`
 }
 
-// labelMapInfo describes one label or class map written: its file, format
+// LabelMapInfo describes one label or class map written: its file, format
 // and sample width, and the resolution its TIFF tags carry (or why they
 // carry none).
-type labelMapInfo struct {
+type LabelMapInfo struct {
 	File     string `json:"file"`
 	Content  string `json:"content"` // "labels" or "classes"
 	Format   string `json:"format"`  // "png" or "tiff"
@@ -88,42 +88,42 @@ type labelMapInfo struct {
 // Output suffixes: STEM + suffix is each file one image's run writes. The
 // label and class maps have one per format.
 var (
-	labelsSuffixes  = map[string]string{imageio.LabelsPNG: ".labels.png", imageio.LabelsTIFF: ".labels.tif"}
-	classesSuffixes = map[string]string{imageio.LabelsPNG: ".classes.png", imageio.LabelsTIFF: ".classes.tif"}
+	LabelsSuffixes  = map[string]string{imageio.LabelsPNG: ".labels.png", imageio.LabelsTIFF: ".labels.tif"}
+	ClassesSuffixes = map[string]string{imageio.LabelsPNG: ".classes.png", imageio.LabelsTIFF: ".classes.tif"}
 )
 
 const (
-	suffixOverlay  = ".overlay.png"
-	suffixPreview  = ".preview.png"
-	suffixRegions  = ".regions.csv"
-	suffixOutlines = ".outlines.geojson"
-	suffixRecord   = ".json"
+	SuffixOverlay  = ".overlay.png"
+	SuffixPreview  = ".preview.png"
+	SuffixRegions  = ".regions.csv"
+	SuffixOutlines = ".outlines.geojson"
+	SuffixRecord   = ".json"
 )
 
-// outputSuffixes are the files processImage may write for one stem, in
+// OutputSuffixes are the files Process may write for one stem, in
 // any format.
-var outputSuffixes = []string{labelsSuffixes[imageio.LabelsPNG], labelsSuffixes[imageio.LabelsTIFF], suffixOverlay, suffixPreview,
-	classesSuffixes[imageio.LabelsPNG], classesSuffixes[imageio.LabelsTIFF], suffixRegions, suffixOutlines, suffixRecord}
+var OutputSuffixes = []string{LabelsSuffixes[imageio.LabelsPNG], LabelsSuffixes[imageio.LabelsTIFF], SuffixOverlay, SuffixPreview,
+	ClassesSuffixes[imageio.LabelsPNG], ClassesSuffixes[imageio.LabelsTIFF], SuffixRegions, SuffixOutlines, SuffixRecord}
 
-// labelsFormatFor is the format the label and class maps of one result are
+// LabelsFormatFor is the format the label and class maps of one result are
 // written in: the one asked for, except that labels above 65535, which a
 // 16-bit PNG cannot hold, are written as a TIFF (32-bit) rather than
 // wrapped around or refused after the work is done. switched reports that
 // case.
-func labelsFormatFor(asked string, maxLabel int32) (format string, switched bool) {
+func LabelsFormatFor(asked string, maxLabel int32) (format string, switched bool) {
 	if asked == imageio.LabelsPNG && maxLabel > imageio.MaxPNGLabel {
 		return imageio.LabelsTIFF, true
 	}
 	return asked, false
 }
 
-// labelWarningCode marks the warning that the label map was written as a
+// LabelWarningCode marks the warning that the label map was written as a
 // TIFF because PNG could not hold its labels.
-const labelWarningCode = "labels-tiff"
+const LabelWarningCode = "labels-tiff"
 
 // encodeLabelMap returns the encoder of one label or class map in format,
 // and fills info (file, format, bits, resolution) for the record.
-func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, workers int, info *labelMapInfo) func(io.Writer) error {
+func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, workers int, info *LabelMapInfo) func(io.Writer) error {
 	info.Format, info.MaxLabel = format, imageio.MaxLabel(labels)
 	if format == imageio.LabelsPNG {
 		info.Bits = 16
@@ -143,34 +143,34 @@ func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, 
 	}
 }
 
-// warningInfo is one finding about the result that the user should check
-// (segment.Warning), its message written with this command's flags.
-type warningInfo struct {
+// WarningInfo is one finding about the result that the user should check
+// (segment.Warning), its message in the command's words (Voice.Message).
+type WarningInfo struct {
 	Code    string `json:"code"`
 	Message string `json:"message"`
 }
 
-// warningsOf converts the library's warnings: every parameter a message
-// names (in backquotes) becomes its flag.
-func warningsOf(ws []segment.Warning) []warningInfo {
-	out := make([]warningInfo, 0, len(ws))
+// warningsOf converts the library's warnings, their messages in the
+// command's words.
+func warningsOf(ws []segment.Warning, v Voice) []WarningInfo {
+	out := make([]WarningInfo, 0, len(ws))
 	for _, w := range ws {
-		out = append(out, warningInfo{Code: w.Code, Message: flagQuoted(w.Message)})
+		out = append(out, WarningInfo{Code: w.Code, Message: v.Msg(w.Message)})
 	}
 	return out
 }
 
-// graphInfo describes the graph that was solved.
-type graphInfo struct {
+// GraphInfo describes the graph that was solved.
+type GraphInfo struct {
 	Kind  string `json:"kind"` // "pixels" or "superpixels"
 	Nodes int    `json:"nodes"`
 	Edges int    `json:"edges"`
 }
 
-// objectScaleInfo is the object scale estimated for the automatic
+// ObjectScaleInfo is the object scale estimated for the automatic
 // superpixel count (segment.Result.ObjectScale): present only when one was
 // estimated; Used tells whether the count followed it.
-type objectScaleInfo struct {
+type ObjectScaleInfo struct {
 	Radius   float64 `json:"radius"`
 	Sigma    float64 `json:"sigma"`
 	Strength float64 `json:"strength"`
@@ -180,68 +180,73 @@ type objectScaleInfo struct {
 	Used     bool    `json:"used"`
 }
 
-// outputSet names the files written for one image.
-type outputSet struct {
-	dir, stem string
+// OutputSet names the files written for one image: Dir/Stem + suffix.
+type OutputSet struct {
+	Dir, Stem string
 }
 
-func (o outputSet) path(suffix string) string { return filepath.Join(o.dir, o.stem+suffix) }
+// Path is the file of one output suffix.
+func (o OutputSet) Path(suffix string) string { return filepath.Join(o.Dir, o.Stem+suffix) }
 
-// replacePolicy says which existing files processImage may replace.
-type replacePolicy int
+// Replace says which existing files Process may replace.
+type Replace int
 
 const (
-	// replaceNone: every output must be new (segment).
-	replaceNone replacePolicy = iota
-	// replaceAny: existing output files are replaced (segment --force).
-	replaceAny
-	// replaceOwn: only files that the image's record lists as outputs
+	// ReplaceNone: every output must be new (segment).
+	ReplaceNone Replace = iota
+	// ReplaceAny: existing output files are replaced (segment, forced).
+	ReplaceAny
+	// ReplaceOwn: only files that the image's record lists as outputs
 	// cleave wrote are replaced; any other file in the way fails the
 	// image (batch).
-	replaceOwn
+	ReplaceOwn
 )
 
-// statusWriting is the status of the record written just before the
+// StatusWriting is the status of the record written just before the
 // outputs: it lists every output of the earlier run and of this one, so
 // that a run killed while writing leaves cleave's files known as
 // cleave's. The final record replaces it.
-const statusWriting = "writing"
+const StatusWriting = "writing"
 
-// job is one image to segment.
-type job struct {
-	path      string
-	out       outputSet
-	settings  settings
-	resolved  *resolved
-	replace   replacePolicy
-	owner     string // owner tag of temporary files (imageio.WriteAtomicAs), "" for the process
-	saveGraph string // Matrix Market path for the top-level W, or ""
+// Job is one image to segment.
+type Job struct {
+	Path    string    // the input image
+	Out     OutputSet // where its outputs go
+	Request Request   // the parameters as asked for, kept in the record
+	Options *Options  // the parameters as the stages take them
+	Replace Replace
+	// Owner is the owner tag of temporary files (imageio.WriteAtomicAs),
+	// "" for the process.
+	Owner string
+	// SaveGraph is a Matrix Market path for the top-level W, or "".
+	SaveGraph string
+	Voice     Voice
 }
 
-// processImage is the one pipeline every command shares: decode, features,
+// Process is the one pipeline every command shares: decode, features,
 // segment, write the label map, overlay, class map, region table and
 // finally the record. It returns the record (also on failure, with the
 // error in it) and the error.
 //
 // What is on disk always matches the record STEM.json: before the outputs
 // are written a record with status "writing" lists them; outputs of an
-// earlier run that this one does not write (a class map after --classes
+// earlier run that this one does not write (a class map after classes
 // was dropped) are removed before the final record; and when the image
-// fails, unless every output had to be new (replaceNone) or the run was
+// fails, unless every output had to be new (ReplaceNone) or the run was
 // cancelled, the earlier outputs are removed and STEM.json records the
 // failure. Which files are cleave's comes from the earlier record.
-func processImage(ctx context.Context, j job) (*record, error) {
+func Process(ctx context.Context, j Job) (*Record, error) {
 	start := time.Now()
-	set := j.settings
-	rec := &record{Tool: "cleave", Version: version, Status: "failed", Input: inputInfo{Path: j.path}, Settings: &set, Warnings: []warningInfo{}, Seconds: map[string]float64{}}
-	recordPath := j.out.path(".json")
-	// own: base names of files in j.out.dir that an earlier record (or this
+	set := j.Request
+	rec := &Record{Tool: "cleave", Version: j.Voice.Version, Status: "failed", Input: InputInfo{Path: j.Path}, Settings: &set, Warnings: []WarningInfo{}, Seconds: map[string]float64{}}
+	recordPath := j.Out.Path(".json")
+	// own: base names of files in j.Out.Dir that an earlier record (or this
 	// run) lists as cleave's outputs for this stem; mayRecord: whether a
 	// failure may be written into STEM.json.
 	own := map[string]bool{}
 	mayRecord := false
-	fail := func(err error) (*record, error) {
-		err = withFlags(fmt.Errorf("%s: %w", j.path, err))
+	fail := func(err error) (*Record, error) {
+		err = j.Voice.Err(fmt.Errorf("%s: %w", j.Path, err))
 		rec.Status, rec.Error = "failed", err.Error()
 		rec.Seconds["total"] = time.Since(start).Seconds()
 		if !mayRecord || ctx.Err() != nil {
@@ -255,13 +260,13 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			if name == filepath.Base(recordPath) {
 				continue
 			}
-			if rerr := os.Remove(filepath.Join(j.out.dir, name)); rerr != nil && !errors.Is(rerr, fs.ErrNotExist) {
+			if rerr := os.Remove(filepath.Join(j.Out.Dir, name)); rerr != nil && !errors.Is(rerr, fs.ErrNotExist) {
 				rec.Outputs = append(rec.Outputs, name)
-				err = fmt.Errorf("%w (and the earlier output %s could not be removed: %v)", err, name, describeErr(rerr))
+				err = fmt.Errorf("%w (and the earlier output %s could not be removed: %v)", err, name, DescribeErr(rerr))
 			}
 		}
 		rec.Eigenvalues, rec.SplitNcuts = nonNil(rec.Eigenvalues), nonNil(rec.SplitNcuts)
-		if werr := writeRecord(recordPath, rec, true, j.owner); werr != nil {
+		if werr := WriteRecord(recordPath, rec, true, j.Owner); werr != nil {
 			err = fmt.Errorf("%w (and the record could not be written: %v)", err, werr)
 		}
 		return rec, err
@@ -282,45 +287,45 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			case err != nil:
 			case st.IsDir():
 				return fmt.Errorf("%s: %w", p, imageio.ErrIsFolder)
-			case j.replace == replaceNone:
-				return fmt.Errorf("output %s already exists (use --force to overwrite)", p)
-			case j.replace == replaceOwn && !own[filepath.Base(p)] && p != recordPath:
-				return fmt.Errorf("%s exists and was not written by cleave (its record %s does not list it); cleave does not replace it: move it away or choose another --out", p, recordPath)
+			case j.Replace == ReplaceNone:
+				return fmt.Errorf("output %s already exists (use `force` to overwrite)", p)
+			case j.Replace == ReplaceOwn && !own[filepath.Base(p)] && p != recordPath:
+				return fmt.Errorf("%s exists and was not written by cleave (its record %s does not list it); cleave does not replace it: move it away or choose another `out`", p, recordPath)
 			}
 		}
 		return nil
 	}
-	if j.replace != replaceNone {
-		prior, err := priorOutputs(j.out)
-		if err != nil && (j.replace == replaceOwn || errors.Is(err, imageio.ErrIsFolder)) {
+	if j.Replace != ReplaceNone {
+		prior, err := priorOutputs(j.Out)
+		if err != nil && (j.Replace == ReplaceOwn || errors.Is(err, imageio.ErrIsFolder)) {
 			return fail(err) // the record's path is not cleave's to write
 		}
 		own, mayRecord = prior, true
 	}
-	if err := checkPaths(j.outputs()); err != nil {
+	if err := checkPaths(j.Outputs()); err != nil {
 		return fail(err)
 	}
-	src, err := openInput(j.path, j.resolved)
+	src, err := openInput(j.Path, j.Options)
 	if err != nil {
 		return fail(err)
 	}
 	defer src.Close()
-	// Images processed at once (batch --jobs) share the memory limit.
-	budget := budgetFor(j.resolved.params.MaxMemory)
-	held, err := budget.acquire(ctx, peakOf(estimateImage(src.Header(), j.resolved)))
+	// Images processed at once (batch jobs) share the memory limit.
+	budget := budgetFor(j.Options.Params.MaxMemory)
+	held, err := budget.acquire(ctx, peakOf(estimateImage(src.Header(), j.Options)))
 	if err != nil {
 		return fail(err)
 	}
 	defer budget.release(held)
-	in, err := loadSourceKeep(ctx, src, j.resolved, true)
+	in, err := loadSourceKeep(ctx, src, j.Options, true)
 	if err != nil {
 		return fail(err)
 	}
-	in.info.Path = j.path
-	rec.Input = in.info
+	in.Info.Path = j.Path
+	rec.Input = in.Info
 	rec.Seconds["decode"], rec.Seconds["features"] = in.decodeSeconds, in.featureSeconds
-	feat := in.features
-	res, err := segmentInput(ctx, in, j.resolved.params)
+	feat := in.Features
+	res, err := Segment(ctx, in, j.Options.Params)
 	if err != nil {
 		return fail(err)
 	}
@@ -328,22 +333,22 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		rec.Seconds[st.Name] += st.Seconds
 	}
 	tick = time.Now()
-	rec.Params = usedParams(j.settings, res.Params)
+	rec.Params = usedParams(j.Request, res.Params)
 	kind := "pixels"
 	if res.Params.Superpixels > 0 {
 		kind = "superpixels"
 	}
-	rec.Graph = &graphInfo{Kind: kind, Nodes: res.Graph.N, Edges: res.Graph.NNZ() / 2}
+	rec.Graph = &GraphInfo{Kind: kind, Nodes: res.Graph.N, Edges: res.Graph.NNZ() / 2}
 	if e := res.ObjectScale; e != nil {
-		rec.ObjectScale = &objectScaleInfo{Radius: e.Radius, Sigma: e.Sigma, Strength: e.Strength, Blobs: e.Blobs, Noise: e.Noise, Found: e.Found, Used: res.ObjectScaleUsed}
+		rec.ObjectScale = &ObjectScaleInfo{Radius: e.Radius, Sigma: e.Sigma, Strength: e.Strength, Blobs: e.Blobs, Noise: e.Noise, Found: e.Found, Used: res.ObjectScaleUsed}
 	}
 	rec.Eigenvalues, rec.SplitNcuts = res.Eigenvalues, res.SplitNcuts
 	if rec.SplitNcuts == nil {
 		rec.SplitNcuts = []float64{}
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
-	rec.Warnings = append(append([]warningInfo{}, stackWarnings(rec.Input, j.settings)...), warningsOf(res.Warnings)...)
-	pixelSize := pixelSizeFor(j.settings, in.calibration)
+	rec.Warnings = append(append([]WarningInfo{}, stackWarnings(rec.Input, j.Options.EveryPlane, j.Voice)...), warningsOf(res.Warnings, j.Voice)...)
+	pixelSize := pixelSizeFor(j.Options.PixelSize, j.Options.Unit, in.calibration)
 	rec.Input.PixelSize = pixelSize
 	tableSize, tableUnit := 0.0, ""
 	if pixelSize != nil {
@@ -360,11 +365,11 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	// The preview and the overlay's tints share one colouring; the
 	// overlay shows a colour image in its colours.
 	palette := render.ColourLabels(res.Labels, w, h)
-	workers := j.resolved.params.Workers
+	workers := j.Options.Params.Workers
 	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true, Workers: workers}
 	if len(in.channels) == 3 {
 		overlay.Colour = in.channels
-		overlay.Lo, overlay.Hi = imageio.ColourWindow(in.channels, j.resolved.params.Workers)
+		overlay.Lo, overlay.Hi = imageio.ColourWindow(in.channels, j.Options.Params.Workers)
 	}
 	type output struct {
 		suffix string
@@ -372,35 +377,35 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	}
 	// Label and class maps share one format; labels that PNG cannot hold
 	// switch both to TIFF, and the record and stderr say so.
-	asked := j.settings.labelsFormat()
-	format, switched := labelsFormatFor(asked, imageio.MaxLabel(res.Labels))
+	asked := j.Options.LabelsFormat
+	format, switched := LabelsFormatFor(asked, imageio.MaxLabel(res.Labels))
 	if switched {
 		also := ""
 		if res.Classes != nil {
-			also = " (and the class map as " + filepath.Base(j.out.path(classesSuffixes[format])) + ")"
+			also = " (and the class map as " + filepath.Base(j.Out.Path(ClassesSuffixes[format])) + ")"
 		}
-		rec.Warnings = append(rec.Warnings, warningInfo{Code: labelWarningCode, Message: fmt.Sprintf(
-			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; --labels-format tiff asks for TIFF from the start",
-			imageio.MaxLabel(res.Labels), imageio.MaxPNGLabel, filepath.Base(j.out.path(labelsSuffixes[format])), filepath.Base(j.out.path(labelsSuffixes[asked])), also)})
-		fallback := []string{j.out.path(labelsSuffixes[format])}
+		rec.Warnings = append(rec.Warnings, WarningInfo{Code: LabelWarningCode, Message: j.Voice.Msg(fmt.Sprintf(
+			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; `labels-format` tiff asks for TIFF from the start",
+			imageio.MaxLabel(res.Labels), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffixes[format])), filepath.Base(j.Out.Path(LabelsSuffixes[asked])), also))})
+		fallback := []string{j.Out.Path(LabelsSuffixes[format])}
 		if res.Classes != nil {
-			fallback = append(fallback, j.out.path(classesSuffixes[format]))
+			fallback = append(fallback, j.Out.Path(ClassesSuffixes[format]))
 		}
 		if err := checkPaths(fallback); err != nil {
 			return fail(err)
 		}
 	}
-	labelMaps := []labelMapInfo{{File: filepath.Base(j.out.path(labelsSuffixes[format])), Content: "labels"}}
+	labelMaps := []LabelMapInfo{{File: filepath.Base(j.Out.Path(LabelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{labelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, workers, &labelMaps[0])},
-		{suffixOverlay, func(wr io.Writer) error {
+		{LabelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, workers, &labelMaps[0])},
+		{SuffixOverlay, func(wr io.Writer) error {
 			return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, overlay)
 		}},
-		{suffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette, workers) }},
+		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette, workers) }},
 	}
 	if res.Classes != nil {
-		labelMaps = append(labelMaps, labelMapInfo{File: filepath.Base(j.out.path(classesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{classesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, workers, &labelMaps[1])})
+		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffixes[format])), Content: "classes"})
+		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
 	rec.LabelMaps = labelMaps
 	planes, planeNames := intensityPlanes(feat.Raw, in.channels)
@@ -415,9 +420,9 @@ func processImage(ctx context.Context, j job) (*record, error) {
 			classOf[r.Label] = r.Class
 		}
 	}
-	outs = append(outs, output{suffixRegions, func(wr io.Writer) error {
+	outs = append(outs, output{SuffixRegions, func(wr io.Writer) error {
 		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: res.Classes != nil, PixelSize: tableSize, Unit: tableUnit})
-	}}, output{suffixOutlines, func(wr io.Writer) error {
+	}}, output{SuffixOutlines, func(wr io.Writer) error {
 		outlines, err := measure.Outlines(res.Labels, w, h)
 		if err != nil {
 			return err
@@ -427,14 +432,14 @@ func processImage(ctx context.Context, j job) (*record, error) {
 	// The record announces the outputs before they are written.
 	written := map[string]bool{filepath.Base(recordPath): true}
 	for _, o := range outs {
-		written[filepath.Base(j.out.path(o.suffix))] = true
+		written[filepath.Base(j.Out.Path(o.suffix))] = true
 	}
 	for name := range written {
 		own[name] = true
 	}
 	intent := *rec
-	intent.Status, intent.Outputs = statusWriting, slices.Sorted(maps.Keys(own))
-	if err := writeRecord(recordPath, &intent, j.replace != replaceNone, j.owner); err != nil {
+	intent.Status, intent.Outputs = StatusWriting, slices.Sorted(maps.Keys(own))
+	if err := WriteRecord(recordPath, &intent, j.Replace != ReplaceNone, j.Owner); err != nil {
 		return fail(err)
 	}
 	mayRecord = true
@@ -444,7 +449,7 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			errs[k] = imageio.WriteAtomicAs(j.out.path(o.suffix), j.replace != replaceNone, j.owner, o.fn)
+			errs[k] = imageio.WriteAtomicAs(j.Out.Path(o.suffix), j.Replace != ReplaceNone, j.Owner, o.fn)
 		}()
 	}
 	wg.Wait()
@@ -452,36 +457,36 @@ func processImage(ctx context.Context, j job) (*record, error) {
 		if errs[k] != nil {
 			return fail(errs[k])
 		}
-		rec.Outputs = append(rec.Outputs, filepath.Base(j.out.path(o.suffix)))
+		rec.Outputs = append(rec.Outputs, filepath.Base(j.Out.Path(o.suffix)))
 	}
-	if j.saveGraph != "" {
-		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", version, j.path, kind, res.Graph.N)
+	if j.SaveGraph != "" {
+		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", j.Voice.Version, j.Path, kind, res.Graph.N)
 		if kind == "pixels" {
 			comment += fmt.Sprintf("; node k is pixel (x, y) = (k mod %d, k div %d)", w, w)
 		} else {
 			comment += "; node k is superpixel k (numbered in raster order of its first pixel)"
 		}
-		if err := imageio.WriteAtomicAs(j.saveGraph, j.replace != replaceNone, j.owner, func(wr io.Writer) error {
+		if err := imageio.WriteAtomicAs(j.SaveGraph, j.Replace != ReplaceNone, j.Owner, func(wr io.Writer) error {
 			return res.Graph.WriteMatrixMarket(wr, comment)
 		}); err != nil {
 			return fail(err)
 		}
 	}
 	// Outputs of an earlier run that this one did not write (a class map
-	// when --classes was dropped) would look current beside the new ones.
+	// when classes were dropped) would look current beside the new ones.
 	for _, name := range slices.Sorted(maps.Keys(own)) {
 		if written[name] {
 			continue
 		}
-		if err := os.Remove(filepath.Join(j.out.dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
-			return fail(fmt.Errorf("cannot remove the earlier output %s: %v", filepath.Join(j.out.dir, name), describeErr(err)))
+		if err := os.Remove(filepath.Join(j.Out.Dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fail(fmt.Errorf("cannot remove the earlier output %s: %v", filepath.Join(j.Out.Dir, name), DescribeErr(err)))
 		}
 		delete(own, name)
 	}
 	lap("write")
 	rec.Status = "ok"
 	rec.Seconds["total"] = time.Since(start).Seconds()
-	if err := writeRecord(recordPath, rec, true, j.owner); err != nil {
+	if err := WriteRecord(recordPath, rec, true, j.Owner); err != nil {
 		return fail(err)
 	}
 	return rec, nil
@@ -493,9 +498,9 @@ func processImage(ctx context.Context, j job) (*record, error) {
 // count. No record: none. A folder, or a file that is not a cleave
 // record, at the record's path is an error (wrapping imageio.ErrIsFolder
 // for a folder).
-func priorOutputs(set outputSet) (map[string]bool, error) {
+func priorOutputs(set OutputSet) (map[string]bool, error) {
 	own := map[string]bool{}
-	p := set.path(".json")
+	p := set.Path(".json")
 	st, err := os.Lstat(p)
 	switch {
 	case errors.Is(err, fs.ErrNotExist):
@@ -505,13 +510,13 @@ func priorOutputs(set outputSet) (map[string]bool, error) {
 	case st.IsDir():
 		return own, fmt.Errorf("%s: %w (it is where the image's record goes)", p, imageio.ErrIsFolder)
 	}
-	rec, err := readRecord(p)
+	rec, err := ReadRecord(p)
 	if err != nil || !st.Mode().IsRegular() {
-		return own, fmt.Errorf("%s exists and is not a record that cleave wrote; cleave does not replace it: move it away or choose another --out", p)
+		return own, fmt.Errorf("%s exists and is not a record that cleave wrote; cleave does not replace it: move it away or choose another `out`", p)
 	}
 	valid := map[string]bool{}
-	for _, s := range outputSuffixes {
-		valid[set.stem+s] = true
+	for _, s := range OutputSuffixes {
+		valid[set.Stem+s] = true
 	}
 	own[filepath.Base(p)] = true
 	for _, name := range rec.Outputs {
@@ -522,46 +527,63 @@ func priorOutputs(set outputSet) (map[string]bool, error) {
 	return own, nil
 }
 
-// recordBlocked says why the record at p could not be read (err from
-// readRecord), as the manifest shows it.
-func recordBlocked(p string, err error) string {
+// RecordBlocked says why the record at p could not be read (err from
+// ReadRecord), as the manifest shows it.
+func RecordBlocked(p string, err error) string {
 	if st, serr := os.Lstat(p); serr == nil && st.IsDir() {
 		return fmt.Sprintf("%s is a folder, where the image's record goes; move it away and run again", p)
 	}
 	if errors.Is(err, fs.ErrPermission) {
-		return fmt.Sprintf("the record %s cannot be read: %v", p, describeErr(err))
+		return fmt.Sprintf("the record %s cannot be read: %v", p, DescribeErr(err))
 	}
 	return fmt.Sprintf("%s is not a record that cleave wrote, so cleave does not replace it; move it away and run again", p)
 }
 
-// outputs lists every file the job writes in the format asked for.
-func (j job) outputs() []string {
-	f := j.settings.labelsFormat()
-	list := []string{j.out.path(labelsSuffixes[f]), j.out.path(suffixOverlay), j.out.path(suffixPreview), j.out.path(suffixRegions), j.out.path(suffixOutlines), j.out.path(suffixRecord)}
-	if j.settings.Classes >= 2 {
-		list = append(list, j.out.path(classesSuffixes[f]))
+// Outputs lists every file the job writes in the format asked for.
+func (j Job) Outputs() []string {
+	f := j.Options.LabelsFormat
+	list := []string{j.Out.Path(LabelsSuffixes[f]), j.Out.Path(SuffixOverlay), j.Out.Path(SuffixPreview), j.Out.Path(SuffixRegions), j.Out.Path(SuffixOutlines), j.Out.Path(SuffixRecord)}
+	if j.Options.Params.Classes >= 2 {
+		list = append(list, j.Out.Path(ClassesSuffixes[f]))
 	}
-	if j.saveGraph != "" {
-		list = append(list, j.saveGraph)
+	if j.SaveGraph != "" {
+		list = append(list, j.SaveGraph)
 	}
 	return list
 }
 
-// possibleOutputs is outputs with the TIFF label and class maps that
-// replace the PNG ones when the labels pass 65535 (labelsFormatFor).
-func (j job) possibleOutputs() []string {
-	list := j.outputs()
-	if j.settings.labelsFormat() == imageio.LabelsPNG {
-		list = append(list, j.out.path(labelsSuffixes[imageio.LabelsTIFF]))
-		if j.settings.Classes >= 2 {
-			list = append(list, j.out.path(classesSuffixes[imageio.LabelsTIFF]))
+// PossibleOutputs is Outputs with the TIFF label and class maps that
+// replace the PNG ones when the labels pass 65535 (LabelsFormatFor).
+func (j Job) PossibleOutputs() []string {
+	list := j.Outputs()
+	if j.Options.LabelsFormat == imageio.LabelsPNG {
+		list = append(list, j.Out.Path(LabelsSuffixes[imageio.LabelsTIFF]))
+		if j.Options.Params.Classes >= 2 {
+			list = append(list, j.Out.Path(ClassesSuffixes[imageio.LabelsTIFF]))
 		}
 	}
 	return list
 }
 
-// writeRecord writes the JSON record atomically.
-func writeRecord(path string, rec *record, force bool, owner string) error {
+// ReadRecord reads the record at p; a file that is not a cleave record is
+// an error.
+func ReadRecord(p string) (*Record, error) {
+	data, err := os.ReadFile(p)
+	if err != nil {
+		return nil, err
+	}
+	var rec Record
+	if err := json.Unmarshal(data, &rec); err != nil {
+		return nil, fmt.Errorf("%s: not a cleave record: %v", p, err)
+	}
+	if rec.Tool != "cleave" {
+		return nil, fmt.Errorf("%s: not a cleave record", p)
+	}
+	return &rec, nil
+}
+
+// WriteRecord writes the JSON record atomically.
+func WriteRecord(path string, rec *Record, force bool, owner string) error {
 	return imageio.WriteAtomicAs(path, force, owner, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
@@ -569,48 +591,43 @@ func writeRecord(path string, rec *record, force bool, owner string) error {
 	})
 }
 
-// stemOf is the file name without its extension.
-func stemOf(path string) string {
-	base := filepath.Base(path)
-	return strings.TrimSuffix(base, filepath.Ext(base))
-}
-
-// loaded is an input image decoded and turned into features, ready to be
+// Loaded is an input image decoded and turned into features, ready to be
 // segmented (possibly many times, as a parameter search does).
-type loaded struct {
-	info           inputInfo
-	features       *imageio.Features
+type Loaded struct {
+	Info     InputInfo
+	Features *imageio.Features
+	// Cache is work shared between runs of the image (tune), or nil.
+	Cache          *segment.Cache
 	decodeSeconds  float64
 	featureSeconds float64
 	calibration    imageio.Calibration // the pixel size the file states
-	cache          *segment.Cache      // work shared between runs (tune), or nil
 	// channels are the colour planes of a three-channel image in its own
-	// units, kept for the region table (processImage); nil otherwise.
+	// units, kept for the region table (Process); nil otherwise.
 	channels [][]float32
 }
 
-// loadInput opens one image file, checks its header against the size and
+// Load opens one image file, checks its header against the size and
 // memory limits, and loads it (loadSource). Errors do not carry the path;
 // callers add it.
-func loadInput(ctx context.Context, path string, r *resolved) (*loaded, error) {
-	src, err := openInput(path, r)
+func Load(ctx context.Context, path string, o *Options) (*Loaded, error) {
+	src, err := openInput(path, o)
 	if err != nil {
 		return nil, err
 	}
 	defer src.Close()
-	return loadSource(ctx, src, r)
+	return loadSource(ctx, src, o)
 }
 
 // openInput opens an image file (regular files only) and refuses it,
 // from its header, when it is above the megapixel limit or when a stage
 // of its processing is estimated above the memory limit. Errors do not
 // carry the path.
-func openInput(path string, r *resolved) (*imageio.Source, error) {
-	src, err := imageio.Open(path, r.load)
+func openInput(path string, o *Options) (*imageio.Source, error) {
+	src, err := imageio.Open(path, o.Load)
 	if err != nil {
 		return nil, stripPath(err, path)
 	}
-	if err := checkImageMemory(src.Header(), r); err != nil {
+	if err := checkImageMemory(src.Header(), o); err != nil {
 		src.Close()
 		return nil, err
 	}
@@ -622,7 +639,7 @@ func openInput(path string, r *resolved) (*imageio.Source, error) {
 func stripPath(err error, path string) error {
 	msg := err.Error()
 	if rest, ok := strings.CutPrefix(msg, path+": "); ok {
-		return &flagged{err, rest}
+		return &pathless{err, rest}
 	}
 	return err
 }
@@ -630,30 +647,30 @@ func stripPath(err error, path string) error {
 // loadSource checksums and decodes an opened image and computes its
 // features. The file is read in steps (never held whole) and the work
 // stops when ctx is done.
-func loadSource(ctx context.Context, src *imageio.Source, r *resolved) (*loaded, error) {
-	return loadSourceKeep(ctx, src, r, false)
+func loadSource(ctx context.Context, src *imageio.Source, o *Options) (*Loaded, error) {
+	return loadSourceKeep(ctx, src, o, false)
 }
 
 // loadSourceKeep is loadSource that, with keepChannels, also keeps the
 // planes of a colour image (loaded.channels) for the region table.
-func loadSourceKeep(ctx context.Context, src *imageio.Source, r *resolved, keepChannels bool) (*loaded, error) {
+func loadSourceKeep(ctx context.Context, src *imageio.Source, o *Options, keepChannels bool) (*Loaded, error) {
 	t0 := time.Now()
 	h := sha256.New()
 	if err := copyContext(ctx, h, src.Contents()); err != nil {
 		return nil, err
 	}
-	in := &loaded{info: inputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}, calibration: src.Stack().Calibration}
-	if err := src.Choose(r.selection); err != nil {
+	in := &Loaded{Info: InputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}, calibration: src.Stack().Calibration}
+	if err := src.Choose(o.Selection); err != nil {
 		return nil, stripPath(err, src.Path())
 	}
 	im, err := src.DecodeContext(ctx)
 	if err != nil {
 		return nil, stripPath(err, src.Path())
 	}
-	in.info.Format, in.info.Width, in.info.Height = im.Format, im.Width, im.Height
-	in.info.Channels, in.info.BitDepth, in.info.HasAlpha, in.info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
-	in.info.SampleType, in.info.Stack = im.SampleType, stackInfoOf(im.Used)
-	fopt := r.features
+	in.Info.Format, in.Info.Width, in.Info.Height = im.Format, im.Width, im.Height
+	in.Info.Channels, in.Info.BitDepth, in.Info.HasAlpha, in.Info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
+	in.Info.SampleType, in.Info.Stack = im.SampleType, stackInfoOf(im.Used)
+	fopt := o.Features
 	fopt.Channel = -1 // Choose chose it: the image holds that channel alone
 	if keepChannels && im.Channels > 1 {
 		in.channels = im.Planes
@@ -663,11 +680,11 @@ func loadSourceKeep(ctx context.Context, src *imageio.Source, r *resolved, keepC
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	in.features, err = imageio.MakeFeaturesContext(ctx, im, fopt, r.params.Workers)
+	in.Features, err = imageio.MakeFeaturesContext(ctx, im, fopt, o.Params.Workers)
 	if err != nil {
 		return nil, err
 	}
-	in.info.InvalidPixels = in.features.InvalidCount
+	in.Info.InvalidPixels = in.Features.InvalidCount
 	in.featureSeconds = time.Since(t1).Seconds()
 	return in, nil
 }
@@ -695,8 +712,18 @@ func copyContext(ctx context.Context, dst io.Writer, src io.Reader) error {
 	}
 }
 
-// segmentInput runs the segmentation of a loaded image with parameters p.
-func segmentInput(ctx context.Context, in *loaded, p segment.Params) (*segment.Result, error) {
-	f := in.features
-	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cache: in.cache, Invalid: f.Invalid}, p)
+// Segment runs the segmentation of a loaded image with parameters p.
+func Segment(ctx context.Context, in *Loaded, p segment.Params) (*segment.Result, error) {
+	f := in.Features
+	return segment.Run(ctx, segment.Input{Width: f.Width, Height: f.Height, Planes: f.Planes, Luminance: f.Planes[0], Cache: in.Cache, Invalid: f.Invalid}, p)
 }
+
+// pathless is an error whose message leaves out the path that the
+// error it wraps names.
+type pathless struct {
+	err error
+	msg string
+}
+
+func (e *pathless) Error() string { return e.msg }
+func (e *pathless) Unwrap() error { return e.err }
