@@ -16,6 +16,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio/scenes"
@@ -98,7 +99,7 @@ func TestBatchOneWriterPerOut(t *testing.T) {
 			first.Process.Signal(syscall.SIGCONT)
 		}
 	}()
-	if _, err := os.Stat(filepath.Join(out, manifestName)); err == nil {
+	if _, err := os.Stat(filepath.Join(out, batch.ManifestName)); err == nil {
 		t.Fatal("the first run finished before it was stopped; the test proves nothing")
 	}
 	tmpBefore := tempFiles(t, out)
@@ -115,7 +116,7 @@ func TestBatchOneWriterPerOut(t *testing.T) {
 	if after := tempFiles(t, out); fmt.Sprint(after) != fmt.Sprint(tmpBefore) {
 		t.Errorf("the refused runs touched the first's temporary files: %v, then %v", tmpBefore, after)
 	}
-	if _, err := os.Stat(filepath.Join(out, manifestName)); err == nil {
+	if _, err := os.Stat(filepath.Join(out, batch.ManifestName)); err == nil {
 		t.Error("a refused run wrote the manifest")
 	}
 	first.Process.Signal(syscall.SIGCONT)
@@ -153,9 +154,9 @@ func TestBatchShardsShareTheLock(t *testing.T) {
 	in, good := makeBatchFolder(t, 2, false)
 	out := filepath.Join(t.TempDir(), "out")
 	os.MkdirAll(filepath.Join(out, "sub"), 0o755)
-	held, err := lockOut(out, false, "shard 1/2 of the test")
+	held, err := outlock.Take(out, false, "shard 1/2 of the test")
 	if err != nil || held.Unsupported != nil {
-		t.Fatalf("lockOut: %v", err)
+		t.Fatalf("outlock.Take: %v", err)
 	}
 	defer held.Release()
 	// Temporary files of shard 1's output sub/img-01: one being written by
@@ -196,11 +197,6 @@ func TestBatchShardsShareTheLock(t *testing.T) {
 	}
 	if rows := readManifest(t, out); rows[good[0]][1] != "ok" || rows[good[1]][1] != "ok" {
 		t.Errorf("rows %v", rows)
-	}
-	// Temporary names carry the shard and the process.
-	p := &batchPlan{shardI: 1, shardN: 2}
-	if want := fmt.Sprintf("shard1of2-pid%d", os.Getpid()); p.owner() != want {
-		t.Errorf("owner %q, want %q", p.owner(), want)
 	}
 }
 
@@ -305,12 +301,12 @@ func TestBatchReplacesOnlyItsOwnFiles(t *testing.T) {
 	fresh := filepath.Join(root, "fresh")
 	os.Mkdir(fresh, 0o755)
 	userCSV := []byte("sample,weight\na,1\n")
-	os.WriteFile(filepath.Join(fresh, manifestName), userCSV, 0o644)
+	os.WriteFile(filepath.Join(fresh, batch.ManifestName), userCSV, 0o644)
 	code, _, stderr = runCleave("batch", "-q", "--out", fresh, in)
 	if code != exitUsage || !strings.Contains(stderr, "manifest.csv exists and was not written by cleave") {
 		t.Errorf("user's manifest.csv: exit %d, %q; want 2 naming it", code, stderr)
 	}
-	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, manifestName)), userCSV) {
+	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, batch.ManifestName)), userCSV) {
 		t.Error("the user's manifest.csv was replaced")
 	}
 	if entries, _ := os.ReadDir(fresh); len(entries) != 1 {
@@ -520,7 +516,7 @@ func TestBatchOutputsIntoInputDir(t *testing.T) {
 	if entries, _ := os.ReadDir(raw); len(entries) != 2 {
 		t.Errorf("%d entries in INPUT_DIR after the refusal, want 2", len(entries))
 	}
-	if _, err := os.Stat(filepath.Join(nest, indexName)); err == nil {
+	if _, err := os.Stat(filepath.Join(nest, batch.IndexName)); err == nil {
 		t.Error("the refused run wrote its index")
 	}
 	// Without --recursive raw/raw is not read, and the outputs of x.png go

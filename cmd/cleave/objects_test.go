@@ -5,14 +5,14 @@ import (
 	"image"
 	"image/color"
 	"image/png"
-	"io"
-	"maps"
 	"os"
 	"path"
 	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
 )
 
 // writeColourDiscs writes a colour PNG: four discs of different hues on a
@@ -52,25 +52,6 @@ func writeColourDiscs(t *testing.T, p string) {
 	}
 }
 
-func TestObjectsColumns(t *testing.T) {
-	cases := []struct {
-		heads [][]string
-		want  string
-	}{
-		{nil, ""},
-		{[][]string{{"a", "b", "c"}}, "a,b,c"},
-		{[][]string{{"a", "b", "c"}, {"a", "b", "x", "c", "y"}}, "a,b,x,c,y"},
-		{[][]string{{"a", "b", "x", "c", "y"}, {"a", "b", "c"}}, "a,b,x,c,y"},
-		{[][]string{{"b", "c"}, {"a", "b", "c"}}, "a,b,c"},
-		{[][]string{{"a", "b"}, {"a", "u", "v"}, {"a", "b", "w"}}, "a,u,v,b,w"},
-	}
-	for _, c := range cases {
-		if got := strings.Join(objectsColumns(c.heads), ","); got != c.want {
-			t.Errorf("objectsColumns(%v) = %s, want %s", c.heads, got, c.want)
-		}
-	}
-}
-
 // objects.csv holds every row of every ok image's region table, cell for
 // cell, under one header even when gray and colour images give tables
 // with different columns; failed images are not in it; --rebuild writes
@@ -95,7 +76,7 @@ func TestBatchObjectsTable(t *testing.T) {
 		}
 	}
 
-	objects := readCSV(t, filepath.Join(out, objectsName))
+	objects := readCSV(t, filepath.Join(out, batch.ObjectsName))
 	head := objects[0]
 	if head[0] != "input" {
 		t.Fatalf("objects.csv starts with column %q, want input", head[0])
@@ -165,25 +146,25 @@ func TestBatchObjectsTable(t *testing.T) {
 		t.Error("no rows of the colour image in objects.csv")
 	}
 
-	report := string(fileBytes(t, filepath.Join(out, reportName)))
+	report := string(fileBytes(t, filepath.Join(out, batch.ReportName)))
 	if !strings.Contains(report, `<a href="./objects.csv">objects.csv</a>`) {
 		t.Error("report.html does not link objects.csv")
 	}
-	idx, err := readBatchIndex(out)
-	if err != nil || !slices.Contains(idx.Files, objectsName) {
+	idx, err := batch.ReadIndex(out)
+	if err != nil || !slices.Contains(idx.Files, batch.ObjectsName) {
 		t.Errorf("the index does not list objects.csv as cleave's: %v, %v", err, idx)
 	}
 
 	// --rebuild writes the same bytes (the file is removed first, so it is
 	// really written again).
-	before := fileBytes(t, filepath.Join(out, objectsName))
-	if err := os.Remove(filepath.Join(out, objectsName)); err != nil {
+	before := fileBytes(t, filepath.Join(out, batch.ObjectsName))
+	if err := os.Remove(filepath.Join(out, batch.ObjectsName)); err != nil {
 		t.Fatal(err)
 	}
 	if code, _, stderr := runCleave("batch", "--rebuild", "-q", out); code != exitFail {
 		t.Fatalf("--rebuild: exit %d, want 1 (the broken files): %s", code, stderr)
 	}
-	if after := fileBytes(t, filepath.Join(out, objectsName)); !bytes.Equal(before, after) {
+	if after := fileBytes(t, filepath.Join(out, batch.ObjectsName)); !bytes.Equal(before, after) {
 		t.Errorf("--rebuild gave other bytes:\n%s\nthen\n%s", before, after)
 	}
 
@@ -193,106 +174,14 @@ func TestBatchObjectsTable(t *testing.T) {
 		t.Fatal(err)
 	}
 	userCSV := []byte("sample,count\na,3\n")
-	if err := os.WriteFile(filepath.Join(fresh, objectsName), userCSV, 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(fresh, batch.ObjectsName), userCSV, 0o644); err != nil {
 		t.Fatal(err)
 	}
 	code, _, stderr = runCleave("batch", "-q", "--out", fresh, in)
 	if code != exitUsage || !strings.Contains(stderr, "objects.csv exists and was not written by cleave") {
 		t.Errorf("user's objects.csv: exit %d, %q; want 2 naming it", code, stderr)
 	}
-	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, objectsName)), userCSV) {
+	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, batch.ObjectsName)), userCSV) {
 		t.Error("the user's objects.csv was replaced")
-	}
-}
-
-// An index of a version that wrote only manifest.csv and report.html (no
-// files list) does not make a user's objects.csv cleave's.
-func TestObjectsNotOwnedByLegacyIndex(t *testing.T) {
-	dir := t.TempDir()
-	for _, name := range []string{manifestName, reportName, objectsName} {
-		if err := os.WriteFile(filepath.Join(dir, name), []byte("x\n"), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	err := checkTopFiles(dir, &batchIndex{Tool: "cleave"})
-	if err == nil || !strings.Contains(err.Error(), objectsName) {
-		t.Errorf("checkTopFiles with an index without files: %v, want a refusal naming %s", err, objectsName)
-	}
-	if err := os.Remove(filepath.Join(dir, objectsName)); err != nil {
-		t.Fatal(err)
-	}
-	if err := checkTopFiles(dir, &batchIndex{Tool: "cleave"}); err != nil {
-		t.Errorf("manifest.csv and report.html of an earlier version: %v, want them taken as cleave's", err)
-	}
-}
-
-// writeObjects neutralizes a text cell and the input path but copies
-// numbers, negative ones included, as they are.
-func TestWriteObjectsCells(t *testing.T) {
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "a.regions.csv"), []byte("label,orientation_deg,note\n1,-45.00,=cmd()\n2,NaN,ok\n"), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(filepath.Join(dir, "b.regions.csv"), []byte("label,area_um2\n1,3.5\n"), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	rows := []manifestRow{
-		{Input: "-a.png", Status: rowOK, Table: "a.regions.csv"},
-		{Input: "b.png", Status: rowOK, Table: "b.regions.csv"},
-		{Input: "c.png", Status: rowFailed},
-	}
-	var buf bytes.Buffer
-	if err := writeObjects(&buf, dir, rows, newSizeHistogram()); err != nil {
-		t.Fatal(err)
-	}
-	// area_um2 follows label in b's table, so it goes right after label.
-	want := "input,label,area_um2,orientation_deg,note\n'-a.png,1,,-45.00,'=cmd()\n'-a.png,2,,NaN,ok\nb.png,1,3.5,,\n"
-	if buf.String() != want {
-		t.Errorf("objects.csv:\n%s\nwant\n%s", buf.String(), want)
-	}
-	// A table that went missing is an error naming it, not a silent gap.
-	if err := os.Remove(filepath.Join(dir, "b.regions.csv")); err != nil {
-		t.Fatal(err)
-	}
-	if err := writeObjects(&buf, dir, rows, newSizeHistogram()); err == nil || !strings.Contains(err.Error(), "b.regions.csv") {
-		t.Errorf("missing table: %v, want an error naming it", err)
-	}
-}
-
-// The size histogram is counted while objects.csv is copied: area_px of
-// every ok table in doubling bins (1 -> bin 0, 3 -> 1, 300 and 511 -> 8);
-// a table without the column adds nothing; a cell that is not a pixel
-// count is kept as the error that stops the report, objects.csv still
-// written.
-func TestWriteObjectsCountsSizes(t *testing.T) {
-	dir := t.TempDir()
-	for name, body := range map[string]string{
-		"a.regions.csv": "label,area_px\n1,1\n2,3\n3,300\n",
-		"b.regions.csv": "label,area_um2\n1,3.5\n",
-		"c.regions.csv": "label,area_px\n1,511\n",
-		"d.regions.csv": "label,area_px\n1,x\n",
-	} {
-		if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	rows := []manifestRow{
-		{Input: "a.png", Status: rowOK, Table: "a.regions.csv"},
-		{Input: "b.png", Status: rowOK, Table: "b.regions.csv"},
-		{Input: "c.png", Status: rowOK, Table: "c.regions.csv"},
-	}
-	h := newSizeHistogram()
-	if err := writeObjects(io.Discard, dir, rows, h); err != nil {
-		t.Fatal(err)
-	}
-	if want := map[int]int{0: 1, 1: 1, 8: 2}; h.Total != 4 || !maps.Equal(h.counts, want) || h.err != nil {
-		t.Errorf("histogram %v total %d err %v; want %v total 4", h.counts, h.Total, h.err, want)
-	}
-	h = newSizeHistogram()
-	if err := writeObjects(io.Discard, dir, append(rows, manifestRow{Input: "d.png", Status: rowOK, Table: "d.regions.csv"}), h); err != nil {
-		t.Fatal(err)
-	}
-	if h.err == nil || !strings.Contains(h.err.Error(), "d.regions.csv") {
-		t.Errorf("bad area_px cell: %v, want an error naming d.regions.csv", h.err)
 	}
 }

@@ -6,7 +6,6 @@ import (
 	"crypto/rand"
 	"encoding/csv"
 	"fmt"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 	"io/fs"
 	"net"
 	"os"
@@ -20,6 +19,9 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
 )
 
 // TestClusterSlurmReal runs the shipped examples/cluster/slurm-array.sh and
@@ -467,7 +469,7 @@ func compareBatchTrees(t *testing.T, want, got string) {
 			continue
 		case name == outlock.Name:
 			continue // the holder: pid, host and start time of the last run
-		case strings.HasSuffix(name, ".json") && name != indexName:
+		case strings.HasSuffix(name, ".json") && name != batch.IndexName:
 			x, y = mustReplace(t, name, secondsJSON, x, ""), mustReplace(t, name, secondsJSON, y, "")
 		case name == "manifest.csv":
 			x, y = blankColumn(t, x, "seconds"), blankColumn(t, y, "seconds")

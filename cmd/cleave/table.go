@@ -2,8 +2,7 @@ package main
 
 import (
 	"errors"
-	"strings"
-
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
@@ -18,14 +17,6 @@ func checkUnit(unit string) error {
 	return nil
 }
 
-// csvText neutralizes a text cell of a CSV table (a file name, a path, an
-// error message) that a spreadsheet would read as a formula: a cell
-// starting with =, +, -, @, a tab or a carriage return gets a leading
-// single quote, as the OWASP guidance on CSV injection recommends. Number
-// cells are never passed through it, so -1.5 stays a number.
-func csvText(s string) string {
-	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
-		return "'" + s
-	}
-	return s
-}
+// csvText neutralizes a text cell of a CSV table that a spreadsheet
+// would read as a formula (batch.CSVText).
+func csvText(s string) string { return batch.CSVText(s) }

@@ -67,10 +67,12 @@ func (r Request) LabelsFormatAsked() string {
 
 // SameRequest reports whether two requests segment and write alike: equal
 // but for an unset labels-format, which means png (records of earlier
-// versions lack the key).
+// versions lack the key), and an unset channel, which means all ("-1",
+// as a record reads back).
 func SameRequest(a, b Request) bool {
 	a.LabelsFormat, b.LabelsFormat = a.LabelsFormatAsked(), b.LabelsFormatAsked()
 	a.Necks, b.Necks = a.NecksAsked(), b.NecksAsked()
+	a.Channel, b.Channel = Channel(a.Channel.String()), Channel(b.Channel.String())
 	return a == b
 }
 

@@ -28,3 +28,29 @@ func TestChannelArgJSON(t *testing.T) {
 		t.Fatal("zero Request does not marshal")
 	}
 }
+
+// Requests that segment alike compare equal: an unset labels format is
+// png and an unset channel is all, as a record of them reads back.
+func TestSameRequest(t *testing.T) {
+	a := Request{Classes: 2}
+	b, err := json.Marshal(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var back Request
+	if err := json.Unmarshal(b, &back); err != nil {
+		t.Fatal(err)
+	}
+	if back == a || !SameRequest(a, back) {
+		t.Errorf("%+v and its record %+v: SameRequest %v", a, back, SameRequest(a, back))
+	}
+	if c := (Request{Classes: 2, LabelsFormat: "png"}); !SameRequest(a, c) {
+		t.Error("unset labels format differs from png")
+	}
+	if c := (Request{Classes: 3}); SameRequest(a, c) {
+		t.Error("other classes compare equal")
+	}
+	if c := (Request{Classes: 2, Channel: "1"}); SameRequest(a, c) {
+		t.Error("channel 1 compares equal to all")
+	}
+}

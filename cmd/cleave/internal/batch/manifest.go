@@ -1,4 +1,4 @@
-package main
+package batch
 
 import (
 	"encoding/csv"
@@ -25,28 +25,29 @@ import (
 	"github.com/cleave-seg/cleave/imageio"
 )
 
-// Files batch writes at the top of --out besides the per-image outputs.
+// Files batch writes at the top of the output folder besides the
+// per-image outputs.
 // The index starts with a dot, and inputs starting with a dot are skipped,
 // so no input's record can take its name.
 const (
-	indexName    = ".cleave-batch.json"
-	manifestName = "manifest.csv"
-	objectsName  = "objects.csv"
-	reportName   = "report.html"
+	IndexName    = ".cleave-batch.json"
+	ManifestName = "manifest.csv"
+	ObjectsName  = "objects.csv"
+	ReportName   = "report.html"
 )
 
-// batchIndex is the list of every input of a batch (all shards) with the
+// Index is the list of every input of a batch (all shards) with the
 // settings: what manifest.csv and report.html are rebuilt from. Every
 // shard of one command writes the same bytes.
-type batchIndex struct {
-	Tool     string       `json:"tool"`
-	Version  string       `json:"version"`
-	InputDir string       `json:"input_dir"`
-	Settings settings     `json:"settings"`
-	Inputs   []batchInput `json:"inputs"`
+type Index struct {
+	Tool     string           `json:"tool"`
+	Version  string           `json:"version"`
+	InputDir string           `json:"input_dir"`
+	Settings pipeline.Request `json:"settings"`
+	Inputs   []Input          `json:"inputs"`
 	// Skipped are the entries of INPUT_DIR named like images that were
 	// not read (manifest status skipped).
-	Skipped []batchSkip `json:"skipped"`
+	Skipped []Skip `json:"skipped"`
 	// Files are the files at the top of the folder, besides the index and
 	// the per-image outputs, that cleave writes there (manifest.csv,
 	// objects.csv and report.html): listed before they are first written,
@@ -58,30 +59,30 @@ type batchIndex struct {
 
 // topFiles are the files an unsharded batch or a rebuild writes at the top
 // of the folder.
-var topFiles = []string{manifestName, objectsName, reportName}
+var topFiles = []string{ManifestName, ObjectsName, ReportName}
 
 // legacyFiles are the top files the versions whose index has no Files
 // wrote (before objects.csv).
-var legacyFiles = []string{manifestName, reportName}
+var legacyFiles = []string{ManifestName, ReportName}
 
-func writeBatchIndex(dir string, idx *batchIndex, owner string) error {
-	return imageio.WriteAtomicAs(filepath.Join(dir, indexName), true, owner, func(w io.Writer) error {
+func writeIndex(dir string, idx *Index, owner string) error {
+	return imageio.WriteAtomicAs(filepath.Join(dir, IndexName), true, owner, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(idx)
 	})
 }
 
-func readBatchIndex(dir string) (*batchIndex, error) {
-	p := filepath.Join(dir, indexName)
+func ReadIndex(dir string) (*Index, error) {
+	p := filepath.Join(dir, IndexName)
 	data, err := os.ReadFile(p)
 	if errors.Is(err, fs.ErrNotExist) {
-		return nil, fmt.Errorf("%s is not the output folder of a batch: %s is missing", dir, indexName)
+		return nil, fmt.Errorf("%s is not the output folder of a batch: %s is missing", dir, IndexName)
 	}
 	if err != nil {
 		return nil, err
 	}
-	var idx batchIndex
+	var idx Index
 	if err := json.Unmarshal(data, &idx); err != nil || idx.Tool != "cleave" {
 		return nil, fmt.Errorf("%s: not a cleave batch index (%v); cleave does not replace it", p, err)
 	}
@@ -95,11 +96,11 @@ func readBatchIndex(dir string) (*batchIndex, error) {
 
 // existingIndex is the index of an earlier batch in dir, or nil when there
 // is none (no folder, or no index in it).
-func existingIndex(dir string) (*batchIndex, error) {
-	if _, err := os.Lstat(filepath.Join(dir, indexName)); errors.Is(err, fs.ErrNotExist) || errors.Is(err, syscall.ENOTDIR) {
+func existingIndex(dir string) (*Index, error) {
+	if _, err := os.Lstat(filepath.Join(dir, IndexName)); errors.Is(err, fs.ErrNotExist) || errors.Is(err, syscall.ENOTDIR) {
 		return nil, nil
 	}
-	return readBatchIndex(dir)
+	return ReadIndex(dir)
 }
 
 // legacyTopFiles are the top files an index of an earlier version (without
@@ -118,7 +119,7 @@ func legacyTopFiles(dir string) []string {
 // report.html in dir
 // is a file that cleave did not write (not listed in the index idx of an
 // earlier run; idx may be nil) or a folder.
-func checkTopFiles(dir string, idx *batchIndex) error {
+func checkTopFiles(dir string, idx *Index) error {
 	own := map[string]bool{}
 	if idx != nil {
 		files := idx.Files
@@ -136,25 +137,25 @@ func checkTopFiles(dir string, idx *batchIndex) error {
 		case err != nil:
 			continue
 		case st.IsDir():
-			return fmt.Errorf("%s is a folder, where batch writes its %s; move it away or choose another --out", p, name)
+			return fmt.Errorf("%s is a folder, where batch writes its %s; move it away or choose another `out`", p, name)
 		case !own[name]:
-			return fmt.Errorf("%s exists and was not written by cleave (the batch index in %s does not list it); cleave does not replace it: move it away or choose another --out", p, dir)
+			return fmt.Errorf("%s exists and was not written by cleave (the batch index in %s does not list it); cleave does not replace it: move it away or choose another `out`", p, dir)
 		}
 	}
 	return nil
 }
 
 // warnUnlocked tells the user that dir could not be locked (see lockOut).
-func warnUnlocked(stderr io.Writer, l *outlock.Lock, dir string) {
+func warnUnlocked(log io.Writer, l *outlock.Lock, dir string) {
 	if l != nil && l.Unsupported != nil {
-		fmt.Fprintf(stderr, "cleave batch: warning: cannot lock %s (%v); make sure no other cleave batch writes into it at the same time\n", dir, l.Unsupported)
+		fmt.Fprintf(log, "cleave batch: warning: cannot lock %s (%v); make sure no other cleave batch writes into it at the same time\n", dir, l.Unsupported)
 	}
 }
 
 // manifestRow is one line of manifest.csv and of the report's table.
 type manifestRow struct {
 	Input, Stem, Status, Error string
-	Plane                      *int // the plane, with --planes all
+	Plane                      *int // the plane, when every plane is an input
 	// Labels is the label map of an ok record, relative to the folder
 	// and slash-separated (its name depends on the format written).
 	Labels string
@@ -178,8 +179,9 @@ const (
 )
 
 // manifestRows reads the record of every input of the index, and adds the
-// skipped entries; rows are sorted by input path.
-func manifestRows(dir string, idx *batchIndex) []manifestRow {
+// skipped entries; rows are sorted by input path. A record is current
+// when it is of cleave version and of the index's settings.
+func manifestRows(dir string, idx *Index, version string) []manifestRow {
 	rows := make([]manifestRow, 0, len(idx.Inputs)+len(idx.Skipped))
 	for _, in := range idx.Inputs {
 		r := manifestRow{Input: in.Input, Stem: in.Stem, Plane: in.Plane, Status: rowPending}
@@ -245,23 +247,26 @@ func labelMapOf(rec *pipeline.Record) string {
 	return ""
 }
 
-type rowCounts struct{ ok, warned, failed, pending, skipped int }
+// Counts are the rows of a manifest by status; Warned counts the ok rows
+// with warnings.
+type Counts struct{ Rows, OK, Warned, Failed, Pending, Skipped int }
 
-func countRows(rows []manifestRow) rowCounts {
-	var c rowCounts
+// CountRows counts the rows of a manifest.
+func CountRows(rows []manifestRow) Counts {
+	c := Counts{Rows: len(rows)}
 	for _, r := range rows {
 		switch r.Status {
 		case rowOK:
-			c.ok++
+			c.OK++
 			if len(r.Warnings) > 0 {
-				c.warned++
+				c.Warned++
 			}
 		case rowFailed:
-			c.failed++
+			c.Failed++
 		case rowSkipped:
-			c.skipped++
+			c.Skipped++
 		default:
-			c.pending++
+			c.Pending++
 		}
 	}
 	return c
@@ -270,9 +275,9 @@ func countRows(rows []manifestRow) rowCounts {
 // writeManifestAndReport rebuilds manifest.csv, objects.csv and
 // report.html in dir from the records of the inputs of idx and their
 // region tables.
-func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manifestRow, error) {
-	rows := manifestRows(dir, idx)
-	if err := imageio.WriteAtomicAs(filepath.Join(dir, manifestName), true, owner, func(w io.Writer) error {
+func writeManifestAndReport(dir string, idx *Index, owner, version string) ([]manifestRow, error) {
+	rows := manifestRows(dir, idx, version)
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, ManifestName), true, owner, func(w io.Writer) error {
 		return writeManifest(w, rows)
 	}); err != nil {
 		return nil, err
@@ -280,19 +285,19 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 	// The size histogram is counted while objects.csv copies the tables,
 	// so each table is read twice (head, rows), not a third time.
 	sizes := newSizeHistogram()
-	if err := imageio.WriteAtomicAs(filepath.Join(dir, objectsName), true, owner, func(w io.Writer) error {
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, ObjectsName), true, owner, func(w io.Writer) error {
 		return writeObjects(w, dir, rows, sizes)
 	}); err != nil {
-		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, objectsName), err)
+		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, ObjectsName), err)
 	}
 	if err := sizes.err; err != nil {
-		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, reportName), err)
+		return nil, fmt.Errorf("%s not written: %w", filepath.Join(dir, ReportName), err)
 	}
 	if sizes.Total == 0 {
 		sizes = nil
 	}
-	if err := imageio.WriteAtomicAs(filepath.Join(dir, reportName), true, owner, func(w io.Writer) error {
-		return writeReport(w, idx, rows, sizes, time.Now())
+	if err := imageio.WriteAtomicAs(filepath.Join(dir, ReportName), true, owner, func(w io.Writer) error {
+		return writeReport(w, idx, rows, sizes, time.Now(), version)
 	}); err != nil {
 		return nil, err
 	}
@@ -300,13 +305,13 @@ func writeManifestAndReport(dir string, idx *batchIndex, owner string) ([]manife
 }
 
 // writeManifest writes the CSV (RFC 4180 quoting by encoding/csv; text
-// cells neutralized by csvText).
+// cells neutralized by CSVText).
 func writeManifest(w io.Writer, rows []manifestRow) error {
 	cw := csv.NewWriter(w)
 	planes := hasPlanes(rows)
 	_ = cw.Write(withPlane(planes, []string{"input", "status", "regions", "objects", "seconds", "error", "warnings", "labels"}, "plane"))
 	for _, r := range rows {
-		rec := []string{csvText(r.Input), r.Status, "", "", "", csvText(r.Error), csvText(strings.Join(r.Warnings, " | ")), csvText(r.Labels)}
+		rec := []string{CSVText(r.Input), r.Status, "", "", "", CSVText(r.Error), CSVText(strings.Join(r.Warnings, " | ")), CSVText(r.Labels)}
 		if r.Status == rowOK {
 			rec[2], rec[3] = strconv.Itoa(r.Regions), strconv.Itoa(r.Objects)
 		}
@@ -394,7 +399,7 @@ func readTableHead(p string) ([]string, error) {
 // columns (objectsColumns; the cells of a column a table lacks are left
 // empty). The tables are read twice (heads first), so the file is
 // streamed however many objects there are. A cell that is not a number
-// is neutralized by csvText like every text cell; numbers are copied as
+// is neutralized by CSVText like every text cell; numbers are copied as
 // they are. Each table's area_px cells are counted into sizes.
 func writeObjects(w io.Writer, dir string, rows []manifestRow, sizes *sizeHistogram) error {
 	var tables []manifestRow
@@ -416,14 +421,14 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow, sizes *sizeHistog
 	pos := make(map[string]int, len(cols))
 	for k, c := range cols {
 		pos[c] = k + lead
-		out = append(out, csvText(c))
+		out = append(out, CSVText(c))
 	}
 	cw := csv.NewWriter(w)
 	if err := cw.Write(out); err != nil {
 		return err
 	}
 	for t, r := range tables {
-		first := withPlane(planes, []string{csvText(r.Input)}, r.planeText())
+		first := withPlane(planes, []string{CSVText(r.Input)}, r.planeText())
 		if err := copyObjects(cw, filepath.Join(dir, filepath.FromSlash(r.Table)), first, heads[t], pos, len(out), sizes); err != nil {
 			return err
 		}
@@ -467,7 +472,7 @@ func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos ma
 		copy(out, first)
 		for k, cell := range rec {
 			if _, err := strconv.ParseFloat(cell, 64); err != nil {
-				cell = csvText(cell)
+				cell = CSVText(cell)
 			}
 			out[pos[head[k]]] = cell
 		}
@@ -534,9 +539,10 @@ type reportSummary struct {
 // overlays themselves, scaled by the browser to 360 pixels wide (no
 // thumbnail files), each a link to the full-size overlay, loaded lazily so
 // that large batches open quickly. now is the date written on it.
-func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHistogram, now time.Time) error {
-	c := countRows(rows)
-	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.skipped, OK: c.ok, Warned: c.warned, Failed: c.failed, Pend: c.pending, Skipped: c.skipped,
+// version is the cleave version the report names.
+func writeReport(w io.Writer, idx *Index, rows []manifestRow, sizes *sizeHistogram, now time.Time, version string) error {
+	c := CountRows(rows)
+	d := reportData{Version: version, InputDir: idx.InputDir, Total: len(rows) - c.Skipped, OK: c.OK, Warned: c.Warned, Failed: c.Failed, Pend: c.Pending, Skipped: c.Skipped,
 		Date: now.UTC().Format("2006-01-02 15:04 UTC"), Summary: summarize(rows, sizes)}
 	m := idx.Settings.Map()
 	for _, k := range slices.Sorted(maps.Keys(m)) {
@@ -560,7 +566,7 @@ func writeReport(w io.Writer, idx *batchIndex, rows []manifestRow, sizes *sizeHi
 			rr.PreviewLink = relURL(r.Preview)
 		}
 		if n := len(r.Warnings); n > 0 {
-			rr.StatusText, rr.Class = "ok, "+plural(n, "warning"), "warned"
+			rr.StatusText, rr.Class = "ok, "+pipeline.Plural(n, "warning"), "warned"
 			d.WarnedRows = append(d.WarnedRows, rr)
 		}
 		if r.Status == rowOK || r.Status == rowFailed {

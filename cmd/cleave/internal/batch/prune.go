@@ -1,4 +1,4 @@
-package main
+package batch
 
 import (
 	"errors"
@@ -14,9 +14,9 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
-// staleOutput is the record of an earlier run in --out whose input is
-// not among this run's inputs (it left the selection: --include,
-// --exclude, the truth-mask rule, or it was deleted), with the files it
+// staleOutput is the record of an earlier run in the output folder whose
+// input is not among this run's inputs (it left the selection: Include,
+// Exclude, the truth-mask rule, or it was deleted), with the files it
 // lists.
 type staleOutput struct {
 	Record string   // path of STEM.json
@@ -29,7 +29,7 @@ type staleOutput struct {
 // index, the lock, temporary files) are passed over; a JSON file that is
 // not a cleave record is not cleave's and is left out. Output names a
 // record lists are taken only as plain names in the record's folder.
-func staleOutputs(out string, inputs []batchInput) ([]staleOutput, error) {
+func staleOutputs(out string, inputs []Input) ([]staleOutput, error) {
 	current := make(map[string]bool, len(inputs))
 	for _, in := range inputs {
 		current[in.Stem] = true
@@ -101,8 +101,8 @@ func pruneStale(stale []staleOutput) error {
 }
 
 // reportStale lists on w the stale outputs (at most ten by name), saying
-// whether they were removed.
-func reportStale(w io.Writer, out string, stale []staleOutput, pruned bool) {
+// whether they were removed, in the words of v.
+func reportStale(w io.Writer, out string, stale []staleOutput, pruned bool, v pipeline.Voice) {
 	if len(stale) == 0 {
 		return
 	}
@@ -120,10 +120,10 @@ func reportStale(w io.Writer, out string, stale []staleOutput, pruned bool) {
 		more = fmt.Sprintf(" and %d more", len(stale)-10)
 	}
 	if pruned {
-		fmt.Fprintf(w, "cleave batch: removed %s of %s no longer selected (--prune): %s%s\n",
-			plural(files, "earlier output"), plural(len(stale), "input"), strings.Join(names, ", "), more)
+		fmt.Fprintf(w, "cleave batch: %s\n", v.Msg(fmt.Sprintf("removed %s of %s no longer selected (`prune`): %s%s",
+			pipeline.Plural(files, "earlier output"), pipeline.Plural(len(stale), "input"), strings.Join(names, ", "), more)))
 		return
 	}
-	fmt.Fprintf(w, "cleave batch: kept %s in %s of %s no longer selected (or gone): %s%s; --prune removes them\n",
-		plural(files, "earlier output"), out, plural(len(stale), "input"), strings.Join(names, ", "), more)
+	fmt.Fprintf(w, "cleave batch: %s\n", v.Msg(fmt.Sprintf("kept %s in %s of %s no longer selected (or gone): %s%s; `prune` removes them",
+		pipeline.Plural(files, "earlier output"), out, pipeline.Plural(len(stale), "input"), strings.Join(names, ", "), more)))
 }
