@@ -389,3 +389,43 @@ func TestLoadAndSegment(t *testing.T) {
 		t.Errorf("too large: %v (want an error without the path)", err)
 	}
 }
+
+// No output may be an input (compared as files, so a link counts), and a
+// graph file may replace only a Matrix Market file, never another output.
+func TestCheckNotInputs(t *testing.T) {
+	dir := t.TempDir()
+	img := filepath.Join(dir, "x.png")
+	writeDisc(t, img, 24, 20)
+	j := Job{Path: img, Out: OutputSet{Dir: dir, Stem: "x"}, Options: testOptions()}
+	if err := CheckNotInputs([]Job{j}); err != nil {
+		t.Fatalf("plain job: %v", err)
+	}
+	// An input named like another's output: y.overlay.png is the input.
+	other := filepath.Join(dir, "y.overlay.png")
+	if err := os.Symlink(img, other); err != nil {
+		t.Fatal(err)
+	}
+	k := Job{Path: other, Out: OutputSet{Dir: dir, Stem: "x"}, Options: testOptions()}
+	err := CheckNotInputs([]Job{j, {Path: img, Out: OutputSet{Dir: dir, Stem: "y"}, Options: testOptions()}, k})
+	if err == nil || !strings.Contains(err.Error(), "cleave never replaces an input, even with `force`") {
+		t.Errorf("an output that is an input: %v", err)
+	}
+	g := j
+	g.SaveGraph = j.Out.Path(SuffixPreview)
+	if err := CheckNotInputs([]Job{g}); err == nil || !strings.Contains(err.Error(), "is also an output") {
+		t.Errorf("graph over an output: %v", err)
+	}
+	g.SaveGraph = filepath.Join(dir, "notes.txt")
+	if err := os.WriteFile(g.SaveGraph, []byte("mine"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := CheckNotInputs([]Job{g}); err == nil || !strings.Contains(err.Error(), "not a Matrix Market file") {
+		t.Errorf("graph over a user's file: %v", err)
+	}
+	if err := os.WriteFile(g.SaveGraph, []byte("%%MatrixMarket matrix coordinate real symmetric\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := CheckNotInputs([]Job{g}); err != nil {
+		t.Errorf("graph over a graph file: %v", err)
+	}
+}
