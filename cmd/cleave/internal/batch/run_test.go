@@ -410,3 +410,60 @@ func TestWriteReport(t *testing.T) {
 		t.Error("a warning was not escaped")
 	}
 }
+
+// A broken input fails alone: its record says why, the others are done;
+// with FailFast the run stops at it, and a cancelled context leaves the
+// inputs not done (a rerun finishes them).
+func TestRunFailures(t *testing.T) {
+	root := t.TempDir()
+	in, out := filepath.Join(root, "in"), filepath.Join(root, "out")
+	writeDisc(t, filepath.Join(in, "b.png"), 8)
+	writeDisc(t, filepath.Join(in, "c.png"), 8)
+	if err := os.WriteFile(filepath.Join(in, "a.png"), []byte("not a PNG"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var log bytes.Buffer
+	c := testConfig(in, out, &log)
+	c.Jobs = 1
+	plan := func(c Config) *Plan {
+		t.Helper()
+		p, err := NewPlan(c)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	oc, err := plan(c).Run(ctx)
+	if err != nil || !oc.Interrupted || oc.NotDone != 3 || oc.Computed+oc.Failed != 0 {
+		t.Errorf("cancelled run: %+v, %v; want interrupted, 3 not done", oc, err)
+	}
+	if rows := readCSV(t, filepath.Join(out, ManifestName)); rows[1][1] != "pending" {
+		t.Errorf("manifest after the cancelled run %v", rows)
+	}
+
+	c.FailFast = true
+	oc, err = plan(c).Run(context.Background())
+	if err != nil || !oc.StoppedEarly || oc.Failed != 1 || oc.Interrupted || oc.NotDone == 0 {
+		t.Errorf("fail-fast run: %+v, %v; want stopped at a.png", oc, err)
+	}
+	c.FailFast = false
+	log.Reset()
+	oc, err = plan(c).Run(context.Background())
+	if err != nil || oc.Failed != 1 || oc.Computed != 2 || oc.NotDone != 0 {
+		t.Errorf("full run: %+v, %v", oc, err)
+	}
+	if !strings.Contains(log.String(), "cleave batch: "+filepath.Join(in, "a.png")+": ") {
+		t.Errorf("the failure is not named on the log: %q", log.String())
+	}
+	rec, err := pipeline.ReadRecord(filepath.Join(out, "a.json"))
+	if err != nil || rec.Status != "failed" || !strings.Contains(rec.Error, "a.png") {
+		t.Errorf("a's record %+v, %v", rec, err)
+	}
+	rows := readCSV(t, filepath.Join(out, ManifestName))
+	if rows[1][0] != "a.png" || rows[1][1] != "failed" || rows[1][5] == "" {
+		t.Errorf("a's manifest row %v", rows[1])
+	}
+}
