@@ -552,14 +552,14 @@ func TestBatchKillAndResume(t *testing.T) {
 		}
 		t.Logf("killed with %d of 8 records written", done)
 		// Stale temporary files (of this version and of earlier ones) and
-		// a broken output under the record that processImage writes
+		// a broken output under the record that pipeline.Process writes
 		// before the outputs (status "writing"), as kill -9 mid-write
 		// would leave them if a renamed file were damaged.
 		os.MkdirAll(out, 0o755)
 		os.WriteFile(filepath.Join(out, ".img-06.labels.png.tmp-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, ".img-06.overlay.png.tmp-pid1-123456"), []byte("partial"), 0o644)
 		os.WriteFile(filepath.Join(out, "img-06.labels.png"), []byte("partial"), 0o644)
-		// It announces every output of a PNG run, as processImage does
+		// It announces every output of a PNG run, as pipeline.Process does
 		// (the one list, pipeline.OutputSuffixes).
 		var announced []string
 		for _, suf := range pipeline.OutputSuffixes {

@@ -324,7 +324,7 @@ func writeManifest(w io.Writer, rows []manifestRow) error {
 	return cw.Error()
 }
 
-// hasPlanes reports rows of the planes of stacks (--planes all): the
+// hasPlanes reports rows of the planes of stacks (every plane on its own): the
 // manifest and objects.csv then have a plane column after the input.
 func hasPlanes(rows []manifestRow) bool {
 	return slices.ContainsFunc(rows, func(r manifestRow) bool { return r.Plane != nil })
@@ -348,7 +348,7 @@ func (r manifestRow) planeText() string {
 
 // objectsColumns is the header of objects.csv after "input": the union of
 // the columns of the region tables heads, in order. Tables differ when
-// their images do (a colour image adds per-channel columns, --classes the
+// their images do (a colour image adds per-channel columns, classes the
 // class column, a pixel size the columns in its unit); a column that an
 // earlier table lacks goes right after the column that precedes it in the
 // first table that has it (the first column of a table, at the front).
@@ -439,7 +439,7 @@ func writeObjects(w io.Writer, dir string, rows []manifestRow, sizes *sizeHistog
 
 // copyObjects writes the rows of the region table at p to cw, each as a
 // row of width cells: the cells of first (the input, and its plane with
-// --planes all), then each cell at the position pos gives its column
+// every plane on its own), then each cell at the position pos gives its column
 // (head is the table's header); the area_px cells go to sizes.
 func copyObjects(cw *csv.Writer, p string, first []string, head []string, pos map[string]int, width int, sizes *sizeHistogram) error {
 	f, err := os.Open(p)

@@ -203,7 +203,7 @@ func NewPlan(c Config) (*Plan, error) {
 	return p, nil
 }
 
-// checkOutDir checks, without writing anything, that --out is or can be
+// checkOutDir checks, without writing anything, that the output folder is or can be
 // made a writable folder, and returns its absolute path with symbolic
 // links resolved (of the part that exists).
 func checkOutDir(out string) (string, error) {
@@ -420,7 +420,7 @@ func lockOut(dir string, exclusive bool, what string) (*outlock.Lock, error) {
 	return l, err
 }
 
-// globsAllow applies --include and --exclude to a relative path: a pattern
+// globsAllow applies Include and Exclude to a relative path: a pattern
 // with a slash matches the whole path, one without matches the name.
 func globsAllow(rel string, include, exclude []string) bool {
 	match := func(g string) bool {
@@ -488,7 +488,7 @@ func (p *Plan) CountMine() string {
 }
 
 // planeInputs makes every plane of each input an input of its own
-// (--planes all), stems STEM.zNNN as cleave segment names them (see
+// (every plane on its own), stems STEM.zNNN as cleave segment names them (see
 // expandPlanes), in plane order. The planes are counted from each file's
 // header (root is the resolved INPUT_DIR). A file that cannot be opened
 // stays one input without a plane: segmenting it fails and records why.
@@ -741,7 +741,7 @@ func (p *Plan) one(ctx context.Context, k int) result {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fail(fmt.Errorf("%s: cannot create the output folder: %w", src, err))
 	}
-	// No output may leave --out, even through a symbolic link placed in it.
+	// No output may leave the output folder, even through a symbolic link placed in it.
 	if real, err := filepath.EvalSymlinks(dir); err != nil {
 		return fail(fmt.Errorf("%s: output folder %s: %w", src, dir, err))
 	} else if abs, _ := filepath.Abs(real); !within(abs, p.realOut) {
@@ -812,8 +812,8 @@ func fileSHA256(p string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// outputDirs are the folders, relative to --out and slash-separated,
-// that hold the outputs of inputs, with the top of --out itself.
+// outputDirs are the folders, relative to the output folder and slash-separated,
+// that hold the outputs of inputs, with its top itself.
 func outputDirs(inputs []Input) []string {
 	dirs := map[string]bool{".": true}
 	for _, in := range inputs {
@@ -822,12 +822,12 @@ func outputDirs(inputs []Input) []string {
 	return slices.Sorted(maps.Keys(dirs))
 }
 
-// removeTempFiles deletes, in the folders dirs of --out (relative,
+// removeTempFiles deletes, in the folders dirs of out (relative,
 // slash-separated), the temporary files that imageio.WriteAtomicAs leaves
 // when a process is killed mid-write, whoever their owner. Only a run that
-// holds the lock on --out alone may call it: then no other process is
+// holds the lock on out alone may call it: then no other process is
 // writing. Only the folders cleave writes into are looked at, so a user's
-// files elsewhere under --out (even an INPUT_DIR inside it) are left
+// files elsewhere under out (even an INPUT_DIR inside it) are left
 // alone.
 func removeTempFiles(out string, dirs []string) error {
 	for _, d := range dirs {

@@ -95,7 +95,7 @@ func (h *sizeHistogram) layout() {
 }
 
 // summarize counts the ok images and their objects (their regions when
-// no image has objects: a run without --background) for the report.
+// no image has objects: a run without a background) for the report.
 func summarize(rows []manifestRow, sizes *sizeHistogram) reportSummary {
 	var counts []int
 	objects := false
