@@ -66,9 +66,9 @@ func (r Request) LabelsFormatAsked() string {
 }
 
 // SameRequest reports whether two requests segment and write alike: equal
-// but for an unset labels-format, which means png (records of earlier
-// versions lack the key), and an unset channel, which means all ("-1",
-// as a record reads back).
+// but for an unset labels-format, which means png, and an unset necks,
+// which means on (records of earlier versions lack the keys), and an
+// unset channel, which means all ("-1", as a record reads back).
 func SameRequest(a, b Request) bool {
 	a.LabelsFormat, b.LabelsFormat = a.LabelsFormatAsked(), b.LabelsFormatAsked()
 	a.Necks, b.Necks = a.NecksAsked(), b.NecksAsked()
