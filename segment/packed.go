@@ -121,7 +121,87 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 		}
 	}
 	fillHoles(group, w, h)
-	return componentsOfGroups(group, w, h, minArea)
+	lab, k := componentsOfGroups(group, w, h, minArea)
+	return joinUnlined(lab, k, w, h)
+}
+
+// joinUnlined merges every object (labels 1..n, 0 lines and background)
+// whose outline runs along other objects directly, with no line pixel
+// between, for at least half its length into the neighbour it shares the
+// longest such stretch with. Objects of a packed field are separated by
+// lines, so an object met directly along most of its outline is a piece
+// of its neighbour: a sliver the cut made beside a line (whose border
+// with the rest of its object lies within a pixel of the line, so the
+// pair test above took it for lined) or a speck of texture. The half is
+// the pair test's own measure. The image border is not outline. Objects
+// are renumbered 1..N in raster order of their first pixel.
+func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
+	if n < 2 {
+		return labels, n
+	}
+	outline := make([]int, n+1)
+	direct := make([]int, n+1)
+	shared := map[uint64]int{}
+	side := func(a, b int32) {
+		if a == b {
+			return
+		}
+		if a > 0 {
+			outline[a]++
+		}
+		if b > 0 {
+			outline[b]++
+		}
+		if a > 0 && b > 0 {
+			direct[a]++
+			direct[b]++
+			shared[pairKey(min(a, b), max(a, b))]++
+		}
+	}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			if x+1 < w {
+				side(labels[i], labels[i+1])
+			}
+			if y+1 < h {
+				side(labels[i], labels[i+w])
+			}
+		}
+	}
+	// Each object with most of its outline unlined goes to its longest
+	// direct neighbour; ties to the smaller label (deterministic).
+	into := make([]int32, n+1)
+	for k, c := range shared {
+		a, b := int32(k>>32), int32(uint32(k))
+		for _, e := range [2][2]int32{{a, b}, {b, a}} {
+			o, nb := e[0], e[1]
+			if 2*direct[o] < outline[o] {
+				continue
+			}
+			if into[o] == 0 || c > shared[pairKey(min(o, into[o]), max(o, into[o]))] || (c == shared[pairKey(min(o, into[o]), max(o, into[o]))] && nb < into[o]) {
+				into[o] = nb
+			}
+		}
+	}
+	f := unionfind.New(n + 1)
+	joined := false
+	for o := int32(1); o <= int32(n); o++ {
+		if into[o] != 0 {
+			f.Union(o, into[o])
+			joined = true
+		}
+	}
+	if !joined {
+		return labels, n
+	}
+	out := make([]int32, len(labels))
+	for i, l := range labels {
+		if l > 0 {
+			out[i] = f.Find(l)
+		}
+	}
+	return withoutLabels(out, n, make([]bool, n+1))
 }
 
 // upperTail is the 99.9th percentile of v (v is not changed).

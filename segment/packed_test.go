@@ -69,3 +69,35 @@ func TestPackedRefusesClasses(t *testing.T) {
 		t.Error("lines with classes: no error")
 	}
 }
+
+// joinUnlined: in a packed field, a piece that meets its neighbour
+// directly (no line pixel between) along most of its outline joins it;
+// two objects with a line between them stay apart. Hand-drawn maps; the
+// expected outcome is the rule's definition.
+func TestJoinUnlined(t *testing.T) {
+	// 12 x 6: objects 1 (left) and 2 (right) separated by a line column
+	// (0) at x = 6; object 3, a 2 x 2 speck inside object 1, touches
+	// only it.
+	w, h := 12, 6
+	labels := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			switch {
+			case x < 6:
+				labels[y*w+x] = 1
+			case x > 6:
+				labels[y*w+x] = 2
+			}
+		}
+	}
+	for _, p := range [][2]int{{2, 2}, {3, 2}, {2, 3}, {3, 3}} {
+		labels[p[1]*w+p[0]] = 3
+	}
+	got, n := joinUnlined(labels, 3, w, h)
+	if n != 2 {
+		t.Fatalf("%d objects, want 2 (the speck joins object 1)", n)
+	}
+	if got[2*w+2] != got[0] || got[0] == got[w-1] {
+		t.Errorf("speck in %d, left object %d, right object %d: want the speck with the left one and the two sides apart", got[2*w+2], got[0], got[w-1])
+	}
+}
