@@ -551,7 +551,13 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// limit, or, in a shape with a neck, through the neck.
 	accept := func(part []int, inA []bool, ncut float64) bool {
 		if ncut <= limit && seamSplit(feat, cw, ch, nodes, part, inA) {
-			return true
+			// Without necks, a seam through a neck is the blur of
+			// the narrow part, not a boundary.
+			if necks {
+				return true
+			}
+			rel, abs := cutNeck(nodes, cw, ch, part, inA)
+			return rel < refineNeck || abs <= neckNoise
 		}
 		if !necked {
 			return false

@@ -264,7 +264,8 @@ func TestRefineCoarseSplitsLargePair(t *testing.T) {
 // digitized) are split when their contrasts differ (refineStep) and kept
 // whole when they are alike and touch with no seam, since nothing then
 // tells them from one lobed object; with necks off (Params.SeamsOnly) a
-// deep neck alone no longer splits a pair of equal discs. Expected
+// deep neck no longer splits a pair of equal discs, alone or with the
+// dip in contrast that blur gives a narrow neck. Expected
 // outcomes are the rules' definitions; shapes are drawn here.
 func TestRefineRodsAndShallowNecks(t *testing.T) {
 	draw := func(w, h int, inside func(x, y float64) (bool, float64)) ([]float64, []int32) {
@@ -317,4 +318,16 @@ func TestRefineRodsAndShallowNecks(t *testing.T) {
 	run("shallow neck, equal contrasts", 50, 40, true, 1, pair(1, 1, 9.6))
 	run("deep neck, equal contrasts", 50, 40, true, 2, pair(1, 1, 15))
 	run("deep neck, equal contrasts, necks off", 50, 40, false, 1, pair(1, 1, 15))
+	// The blur of a narrow neck dims it: a dip in contrast at the neck
+	// is a seam to the cut, which splits there with necks on and not
+	// with necks off.
+	dimmed := func(x, y float64) (bool, float64) {
+		in, c := pair(1, 1, 15)(x, y)
+		if d := math.Abs(x - 27.5); d < 3 {
+			c *= 0.6 + 0.4*d/3
+		}
+		return in, c
+	}
+	run("deep neck dimmed by blur", 50, 40, true, 2, dimmed)
+	run("deep neck dimmed by blur, necks off", 50, 40, false, 1, dimmed)
 }

@@ -93,8 +93,10 @@ type Params struct {
 	Classes    int        // 0: no grouping; >= 2: number of intensity classes
 	Background Background // "", BackgroundDark, BackgroundBright or BackgroundLines
 	// SeamsOnly re-cuts touching objects only along seams of lower or
-	// changing contrast, never at a neck of their shape alone: for lobed
-	// or branched objects that are one object each.
+	// changing contrast, and never at a neck of their shape, whether the
+	// neck alone or the dip in contrast that blur gives a narrow neck
+	// would call for it: for lobed or branched objects that are one
+	// object each.
 	SeamsOnly bool
 
 	Workers   int
