@@ -1,0 +1,194 @@
+#!/usr/bin/python3
+"""Scenes of kinds the project's Go generators do not make, with exact
+instance masks, and their scores beside the classical watershed baseline
+(watershed.py). They check that a rule chosen on imageio/scenes carries
+over to shapes it was not made for. Debian python3-skimage, python3-scipy,
+python3-sklearn.
+
+Kinds: rods (capsules 4-6.5 px in radius, 14-40 px long, half of them
+placed from a pixel of an earlier rod and kept where they do not overlap
+it; bright on dark, blur 1.5 px, uneven light, Poisson and read noise), membrane (packed Voronoi cells whose 2-px boundaries are bright,
+textured interiors), lobes (scikit-image's binary_blobs: lobed shapes that
+never touch, each connected shape one object).
+
+    othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png, .truth.png
+    othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
+
+score chooses the watershed's parameters on CHOOSE_DIR (watershed.py's
+grid for nuclei, or for grains on the inverted image for membrane; '-'
+skips the baseline) and prints object F1, mAP over IoU 0.5:0.95 and ARI
+per scene of REPORT_DIR for the baseline and for each folder of
+NAME.labels.png (e.g. cleave's outputs), then their means.
+"""
+import os
+import sys
+
+import numpy as np
+from skimage import data, filters, io, measure, segmentation
+from sklearn.metrics import adjusted_rand_score
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import watershed as W  # noqa: E402
+
+
+def noise(img, rng, peak, read):
+    img = np.clip(img, 0, None)
+    out = rng.poisson(img * peak) / peak + rng.normal(0, read, img.shape)
+    return out
+
+def save(d, name, img, truth):
+    img = np.clip(img, 0, None)
+    img = (img / max(img.max(), 1e-9) * 60000).astype(np.uint16)
+    io.imsave(os.path.join(d, name + ".png"), img, check_contrast=False)
+    io.imsave(os.path.join(d, name + ".truth.png"), truth.astype(np.uint16), check_contrast=False)
+
+def rods(rng, n=512):
+    truth = np.zeros((n, n), np.int32)
+    lab = 0
+    tries = 0
+    target = rng.integers(25, 45)
+    yy, xx = np.mgrid[0:n, 0:n]
+    while lab < target and tries < 3000:
+        tries += 1
+        L = rng.uniform(14, 40); r = rng.uniform(4, 6.5)
+        th = rng.uniform(0, np.pi)
+        if lab > 0 and rng.random() < 0.5:
+            # Half the rods start from a pixel of an earlier one (they
+            # are kept only where they do not overlap it).
+            ys, xs = np.nonzero(truth == rng.integers(1, lab + 1))
+            k = rng.integers(len(ys)); cy, cx = ys[k], xs[k]
+            cy += (L / 2 + r) * np.sin(th); cx += (L / 2 + r) * np.cos(th)
+        else:
+            cy, cx = rng.uniform(20, n - 20), rng.uniform(20, n - 20)
+        dy, dx = np.sin(th), np.cos(th)
+        # distance from segment
+        py, px = yy - cy, xx - cx
+        t = np.clip(py * dy + px * dx, -L / 2, L / 2)
+        dist = np.hypot(py - t * dy, px - t * dx)
+        m = dist <= r
+        if m.sum() < 30 or (truth[m] > 0).any():
+            continue
+        if m[0].any() or m[-1].any() or m[:, 0].any() or m[:, -1].any():
+            continue
+        lab += 1
+        truth[m] = lab
+    inten = rng.uniform(0.5, 1.0, lab + 1); inten[0] = 0
+    img = inten[truth]
+    img = filters.gaussian(img, 1.5)
+    light = 1 + 0.3 * np.sin(xx / n * np.pi) * np.cos(yy / n * 2)
+    img = img * light + 0.08
+    return noise(img, rng, 200, 0.02), truth
+
+def membrane(rng, n=512):
+    k = rng.integers(60, 140)
+    pts = rng.uniform(0, n, (k, 2))
+    yy, xx = np.mgrid[0:n, 0:n]
+    # Voronoi by nearest seed
+    d = np.full((n, n), np.inf); lab = np.zeros((n, n), np.int32)
+    for i, (py, px) in enumerate(pts):
+        dd = (yy - py) ** 2 + (xx - px) ** 2
+        m = dd < d; d[m] = dd[m]; lab[m] = i + 1
+    b = segmentation.find_boundaries(lab, mode="thick")
+    truth = lab.copy(); truth[b] = 0
+    truth, _, _ = segmentation.relabel_sequential(truth)
+    inten = rng.uniform(0.15, 0.35, truth.max() + 1)
+    img = inten[truth] + 0.05 * filters.gaussian(rng.normal(0, 1, (n, n)), 2) * 10
+    img[b] = rng.uniform(0.6, 1.0)
+    img = filters.gaussian(img, 1.0)
+    light = 1 + 0.25 * np.cos(xx / n * 3 + 1) * np.sin(yy / n * 2 + 0.5)
+    return noise(img * light, rng, 300, 0.02), truth
+
+def lobes(rng, n=512):
+    m = data.binary_blobs(length=n, blob_size_fraction=0.06, volume_fraction=0.25, seed=int(rng.integers(1 << 30)))
+    truth = measure.label(m, connectivity=1)
+    sizes = np.bincount(truth.ravel()); small = sizes < 20; small[0] = False
+    truth[small[truth]] = 0
+    truth, _, _ = segmentation.relabel_sequential(truth)
+    img = filters.gaussian((truth > 0).astype(float) * 0.8 + 0.1, 1.2)
+    return noise(img, rng, 150, 0.03), truth
+
+
+def ious(pred, truth):
+    pred = pred.ravel().astype(np.int64); truth = truth.ravel().astype(np.int64)
+    npred = len(np.unique(pred[pred > 0])); ntrue = len(np.unique(truth[truth > 0]))
+    both = (pred > 0) & (truth > 0)
+    M = truth.max() + 1
+    key = pred[both] * M + truth[both]
+    k, inter = np.unique(key, return_counts=True)
+    pa = np.bincount(pred); ta = np.bincount(truth)
+    iou = inter / (pa[k // M] + ta[k % M] - inter)
+    return iou, npred, ntrue
+
+def scores(pred, truth):
+    iou, npred, ntrue = ious(pred, truth)
+    tp = (iou > 0.5).sum()
+    f1 = 2 * tp / (npred + ntrue) if npred + ntrue else 1.0
+    aps = []
+    for t in np.arange(0.5, 0.951, 0.05):
+        tp = (iou > t).sum(); d = npred + ntrue - tp
+        aps.append(tp / d if d else 1.0)
+    return f1, float(np.mean(aps)), adjusted_rand_score(truth.ravel(), pred.ravel())
+
+def load_set(d):
+    names = sorted(f[:-10] for f in os.listdir(d) if f.endswith(".truth.png"))
+    return [(n, W.load(os.path.join(d, n + ".png")), io.imread(os.path.join(d, n + ".truth.png"))) for n in names]
+
+def choose(kind, data, inv):
+    wk = "grains" if kind == "membrane" else "nuclei"
+    combos = W.grid(wk)
+    sc = np.zeros(len(combos))
+    for _, img, truth in data:
+        if inv: img = 1 - img
+        cache = {}
+        for i, p in enumerate(combos):
+            key = W.mask_key(wk, p)
+            if key not in cache: cache[key] = W.masked(img, wk, p)
+            sm, mask, dist = cache[key]
+            elev = -sm if p.get("elevation") == "intensity" else None
+            lab = W.split(mask, dist, p["markers"], p.get("h", 1), p.get("min_distance", 5), elev)
+            sc[i] += W.object_f1(lab, truth) / len(data)
+    b = int(np.argmax(sc))
+    return wk, combos[b], sc[b]
+
+
+
+def score_main(kind, cdir, rdir, outs):
+    inv = kind == "membrane"
+    if cdir != "-":
+        wk, p, f = choose(kind, load_set(cdir), inv)
+        print("%s: watershed chosen on %s: F1 %.3f %s" % (kind, cdir, f, p))
+    rep = load_set(rdir)
+    tot = {}
+    for n, img, truth in rep:
+        res = {}
+        if cdir != "-":
+            lab = W.segment(1 - img if inv else img, wk, p)
+            res["ws"] = scores(lab, truth)
+        for o in outs:
+            pl = io.imread(os.path.join(o, n + ".labels.png"))
+            res[o] = scores(pl, truth)
+        for k, v in res.items():
+            tot.setdefault(k, []).append(v)
+        print(n, int(truth.max()), " ".join("%s %.3f/%.3f/%.3f" % (os.path.basename(k), *v) for k, v in res.items()))
+    for k, v in tot.items():
+        print("MEAN %-30s F1 %.3f mAP %.3f ARI %.3f" % (k, *np.mean(v, axis=0)))
+
+
+def main():
+    if len(sys.argv) == 6 and sys.argv[1] == "gen":
+        kind, out, seed, count = sys.argv[2], sys.argv[3], int(sys.argv[4]), int(sys.argv[5])
+        os.makedirs(out, exist_ok=True)
+        for s in range(seed, seed + count):
+            rng = np.random.default_rng(s)
+            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes}[kind](rng)
+            save(out, "%s-%d" % (kind, s), img, truth)
+        return 0
+    if len(sys.argv) >= 5 and sys.argv[1] == "score":
+        score_main(sys.argv[2], sys.argv[3], sys.argv[4], sys.argv[5:])
+        return 0
+    sys.stderr.write(__doc__)
+    return 2
+
+
+if __name__ == "__main__":
+    sys.exit(main())
