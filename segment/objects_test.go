@@ -360,3 +360,39 @@ func TestDiffuseRatio(t *testing.T) {
 		}
 	}
 }
+
+// withoutCrumbs: pieces of one group smaller than crumbFraction of the
+// group's largest piece are dropped; the two halves of a split pair (one
+// group each, or comparable pieces of one group) are kept. Hand-made
+// maps; the expected outcome is the rule's definition.
+func TestWithoutCrumbs(t *testing.T) {
+	// Group 0: a piece of 40 px and a crumb of 4 px (below 40/8 = 5);
+	// group 1: pieces of 20 and 6 px (6 is not below 20/8 = 2.5).
+	w, h := 20, 4
+	labels := make([]int32, w*h)
+	group := make([]int32, w*h)
+	for i := range group {
+		group[i] = -1
+	}
+	put := func(l, g int32, x0, x1, y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			for x := x0; x < x1; x++ {
+				labels[y*w+x], group[y*w+x] = l, g
+			}
+		}
+	}
+	put(1, 0, 0, 10, 0, 4)  // 40 px
+	put(2, 0, 11, 13, 0, 2) // 4 px crumb
+	put(3, 1, 14, 19, 0, 4) // 20 px
+	put(4, 1, 11, 14, 2, 4) // 6 px
+	out, n := withoutCrumbs(labels, 4, group)
+	if n != 3 {
+		t.Fatalf("%d objects, want 3", n)
+	}
+	if out[11] != 0 {
+		t.Errorf("the 4 px crumb kept as %d", out[11])
+	}
+	if out[0] == 0 || out[14] == 0 || out[2*w+11] == 0 {
+		t.Errorf("a piece was dropped: %d %d %d", out[0], out[14], out[2*w+11])
+	}
+}
