@@ -188,7 +188,7 @@ func TestEdgeless(t *testing.T) {
 		}
 	}
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	drop := edgeless(labels, 2, &edgeTest{fine: energy, floor: edgeFloor(energy)}, w, h)
+	drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy)}, w, h)
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
 	}
@@ -294,11 +294,11 @@ func TestEdgelessDiffuse(t *testing.T) {
 		}
 	}
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	if drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
+	if drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
 	}
 	coarse := coarseEnergy(lum, w, h, 1)
-	drop := edgeless(labels, 2, &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse}, w, h)
+	drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse}, w, h)
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
 	}
@@ -311,7 +311,7 @@ func TestEdgelessDiffuse(t *testing.T) {
 		field[i] = 0.2
 	}
 	con := contrastMap(lum, field, 2)
-	test := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
+	test := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
 	if drop := edgeless(labels, 2, test, w, h); drop != nil {
 		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)
 	}

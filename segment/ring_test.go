@@ -101,7 +101,7 @@ func TestRingObjects(t *testing.T) {
 	for _, c := range cases {
 		lum, reg, w, h := ringScene(c.contrast, c.blurred)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-		edges := &edgeTest{fine: fine, floor: edgeFloor(fine), coarse: coarseEnergy(lum, w, h, 1)}
+		edges := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarseEnergy(lum, w, h, 1)}
 		bg, obj := int32(0), int32(1)
 		if c.background == "bright" {
 			bg, obj = 1, 0
@@ -120,7 +120,7 @@ func TestRingObjects(t *testing.T) {
 		lum, reg, w, h := ringScene(0.3, true)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 		cls := []int32{0, 0}
-		if !ringObjects(lum, &edgeTest{fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") {
+		if !ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") {
 			t.Errorf("blurred 30 sd without the coarse energy: not an object, so the case above tests nothing")
 		}
 	}
@@ -132,7 +132,7 @@ func TestRingObjects(t *testing.T) {
 	}
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	cls := []int32{0, 0, 1}
-	if ringObjects(lum, &edgeTest{fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") || cls[1] != 0 {
+	if ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") || cls[1] != 0 {
 		t.Errorf("a region touching an object became an object")
 	}
 }

@@ -707,7 +707,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
-			edges := &edgeTest{fine: energy, floor: edgeFloor(energy), coarse: coarseEnergy(in.Luminance, w, h, p.Workers), source: sourceContrast(p.Background)}
+			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy), coarse: coarseEnergy(in.Luminance, w, h, p.Workers), source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
 			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
@@ -766,6 +766,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			res.Labels, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
 			short.merge(ref.short)
+			// Outlines are now drawn at pixel level: their step may lie
+			// a pixel beside them.
+			edges.near = true
 			if drop := edgeless(res.Labels, res.NumObjects, edges, w, h); drop != nil {
 				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
 			}
