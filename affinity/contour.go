@@ -32,11 +32,14 @@ const ContourScale = 1.5
 func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32 {
 	e := make([]float32, w*h)
 	s2 := sigma * sigma
-	gaussianJet(plane, w, h, sigma, workers, func(i int, ix, iy, ixx, iyy, ixy float64) {
-		// Eigenvalue of larger magnitude of [[ixx ixy] [ixy iyy]].
-		m, q := (ixx+iyy)/2, math.Hypot((ixx-iyy)/2, ixy)
-		lam := math.Max(math.Abs(m+q), math.Abs(m-q))
-		e[i] = float32(math.Hypot(sigma*math.Hypot(ix, iy), s2*lam))
+	gaussianJet(plane, w, h, sigma, workers, func(y int, ix, iy, ixx, iyy, ixy []float64) {
+		out := e[y*w : (y+1)*w]
+		for x := range out {
+			// Eigenvalue of larger magnitude of [[ixx ixy] [ixy iyy]].
+			m, q := (ixx[x]+iyy[x])/2, math.Hypot((ixx[x]-iyy[x])/2, ixy[x])
+			lam := math.Max(math.Abs(m+q), math.Abs(m-q))
+			out[x] = float32(math.Hypot(sigma*math.Hypot(ix[x], iy[x]), s2*lam))
+		}
 	})
 	return e
 }
@@ -53,19 +56,31 @@ func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32
 func RidgeStrengths(plane []float32, w, h int, sigma float64, workers int) (dark, bright []float32) {
 	dark, bright = make([]float32, w*h), make([]float32, w*h)
 	s2 := sigma * sigma
-	gaussianJet(plane, w, h, sigma, workers, func(i int, _, _, ixx, iyy, ixy float64) {
-		m, q := (ixx+iyy)/2, math.Hypot((ixx-iyy)/2, ixy)
-		dark[i] = float32(s2 * (m + q))
-		bright[i] = float32(-s2 * (m - q))
+	gaussianJet(plane, w, h, sigma, workers, func(y int, _, _, ixx, iyy, ixy []float64) {
+		for x := y * w; x < (y+1)*w; x++ {
+			j := x - y*w
+			m, q := (ixx[j]+iyy[j])/2, math.Hypot((ixx[j]-iyy[j])/2, ixy[j])
+			dark[x] = float32(s2 * (m + q))
+			bright[x] = float32(-s2 * (m - q))
+		}
 	})
 	return dark, bright
 }
 
-// gaussianJet calls fn for every pixel i with the first and second
-// derivatives of G_σ * I there (separable sampled Gaussian derivatives,
-// edge pixels replicated). fn is called from several goroutines, each
-// pixel once.
-func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(i int, ix, iy, ixx, iyy, ixy float64)) {
+// gaussianJet calls fn for every image row y with the first and second
+// derivatives of G_σ * I along it (ix[x], iy[x], ixx[x], iyy[x], ixy[x]
+// at pixel (x, y); separable sampled Gaussian derivatives, edge pixels
+// replicated). The row slices are reused after fn returns. fn is called
+// from several goroutines, each row once.
+//
+// The separable filter is streamed (the usual line-buffer scheme of
+// separable convolution): each band of jetBandRows rows keeps only the
+// 2r+1 horizontally filtered rows the vertical taps of one output row
+// need, in a ring, so the work memory is O(workers·r·w) instead of three
+// image-sized planes, and a band recomputes the 2r horizontal rows it
+// shares with its neighbours. Every output is the same sum, taken in the
+// same order (taps k = -r..r), as the filter over whole planes.
+func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(y int, ix, iy, ixx, iyy, ixy []float64)) {
 	r := int(math.Ceil(4 * sigma))
 	g0, g1, g2 := make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
 	var sum float64
@@ -93,57 +108,90 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		g2[k] -= m2 * g0[k]
 		g1[k] /= m1
 	}
-	// Horizontal passes: I*g0, I*g1, I*g2 along x.
-	rows := [3][]float32{make([]float32, w*h), make([]float32, w*h), make([]float32, w*h)}
 	kernels := [3][]float64{g0, g1, g2}
-	forBands(h, workers, func(_, y0, y1 int) {
-		for y := y0; y < y1; y++ {
-			line := plane[y*w : (y+1)*w]
-			for f, kern := range kernels {
-				out := rows[f][y*w : (y+1)*w]
-				// Edge-replicated near the ends; the interior needs no
-				// clamping (the same terms in the same order).
-				lo, hi := min(r, w), max(w-r, min(r, w))
-				for x := 0; x < lo; x++ {
-					out[x] = float32(clampedTaps(kern, line, x, r))
+	// horizontal filters image row y with g0, g1 and g2 into out.
+	horizontal := func(y int, out *[3][]float32) {
+		line := plane[y*w : (y+1)*w]
+		for f, kern := range kernels {
+			o := out[f]
+			// Edge-replicated near the ends; the interior needs no
+			// clamping (the same terms in the same order).
+			lo, hi := min(r, w), max(w-r, min(r, w))
+			for x := 0; x < lo; x++ {
+				o[x] = float32(clampedTaps(kern, line, x, r))
+			}
+			for x := lo; x < hi; x++ {
+				var s float64
+				win := line[x-r : x+r+1]
+				for k, v := range win {
+					s += kern[k] * float64(v)
 				}
-				for x := lo; x < hi; x++ {
-					var s float64
-					win := line[x-r : x+r+1]
-					for k, v := range win {
-						s += kern[k] * float64(v)
-					}
-					out[x] = float32(s)
-				}
-				for x := hi; x < w; x++ {
-					out[x] = float32(clampedTaps(kern, line, x, r))
-				}
+				o[x] = float32(s)
+			}
+			for x := hi; x < w; x++ {
+				o[x] = float32(clampedTaps(kern, line, x, r))
 			}
 		}
-	})
-	// Vertical passes.
-	forBands(h, workers, func(_, y0, y1 int) {
-		off := make([]int, 2*r+1)
+	}
+	ring := 2*r + 1
+	type buffers struct {
+		rows [][3][]float32 // ring of horizontally filtered rows; row y in slot y mod ring
+		acc  [5][]float64
+	}
+	nb := (h + jetBandRows - 1) / jetBandRows
+	pool := make(chan *buffers, max(1, min(numWorkers(workers), nb)))
+	for range cap(pool) {
+		b := &buffers{rows: make([][3][]float32, ring)}
+		for i := range b.rows {
+			for f := range b.rows[i] {
+				b.rows[i][f] = make([]float32, w)
+			}
+		}
+		for f := range b.acc {
+			b.acc[f] = make([]float64, w)
+		}
+		pool <- b
+	}
+	forChunks(nb, workers, func(c int) {
+		buf := <-pool
+		defer func() { pool <- buf }()
+		y0, y1 := c*jetBandRows, min(h, (c+1)*jetBandRows)
+		// Rows max(0, y0-r) .. min(h-1, y0+r-1) first, then one more
+		// per output row.
+		for yy := max(0, y0-r); yy < min(h, y0+r); yy++ {
+			horizontal(yy, &buf.rows[yy%ring])
+		}
+		ix, iy, ixx, iyy, ixy := buf.acc[0], buf.acc[1], buf.acc[2], buf.acc[3], buf.acc[4]
 		for y := y0; y < y1; y++ {
+			if y+r < h {
+				horizontal(y+r, &buf.rows[(y+r)%ring])
+			}
+			clear(ix)
+			clear(iy)
+			clear(ixx)
+			clear(iyy)
+			clear(ixy)
 			for k := -r; k <= r; k++ {
-				off[k+r] = min(max(y+k, 0), h-1) * w
-			}
-			for x := 0; x < w; x++ {
-				var ix, iy, ixx, iyy, ixy float64
-				for k := -r; k <= r; k++ {
-					j := off[k+r] + x
-					a, b, d := float64(rows[0][j]), float64(rows[1][j]), float64(rows[2][j])
-					ix += g0[k+r] * b
-					iy += g1[k+r] * a
-					ixx += g0[k+r] * d
-					iyy += g2[k+r] * a
-					ixy += g1[k+r] * b
+				src := &buf.rows[min(max(y+k, 0), h-1)%ring]
+				a, b, d := src[0][:w], src[1][:w], src[2][:w]
+				c0, c1, c2 := g0[k+r], g1[k+r], g2[k+r]
+				for x := range ix {
+					ix[x] += c0 * float64(b[x])
+					iy[x] += c1 * float64(a[x])
+					ixx[x] += c0 * float64(d[x])
+					iyy[x] += c2 * float64(a[x])
+					ixy[x] += c1 * float64(b[x])
 				}
-				fn(y*w+x, ix, iy, ixx, iyy, ixy)
 			}
+			fn(y, ix, iy, ixx, iyy, ixy)
 		}
 	})
 }
+
+// jetBandRows is the number of image rows in one work chunk of
+// gaussianJet: each chunk refilters 2r rows of its neighbours (9% more
+// horizontal work at r = 6), and a 4096-row image gives 32 chunks.
+const jetBandRows = 128
 
 // clampedTaps is Σ_k kern[k+r]·line[clamp(x+k)], k = -r..r, the image
 // edge replicated.

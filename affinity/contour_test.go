@@ -112,3 +112,98 @@ func TestRegionGraphContourCue(t *testing.T) {
 		t.Error("contour without sigma-c: no error")
 	}
 }
+
+// jetPlanes is the Gaussian jet of gaussianJet computed the direct way,
+// three whole horizontally filtered planes and then the vertical taps
+// pixel by pixel (the form gaussianJet had before it was streamed), as
+// the reference of TestGaussianJetStreamed.
+func jetPlanes(plane []float32, w, h int, sigma float64) (out [5][]float64) {
+	r := int(math.Ceil(4 * sigma))
+	g0, g1, g2 := make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
+	var sum float64
+	for k := -r; k <= r; k++ {
+		x := float64(k)
+		g0[k+r] = math.Exp(-x * x / (2 * sigma * sigma))
+		sum += g0[k+r]
+	}
+	s2 := sigma * sigma
+	for k := -r; k <= r; k++ {
+		x := float64(k)
+		g0[k+r] /= sum
+		g1[k+r] = -x / s2 * g0[k+r]
+		g2[k+r] = (x*x/s2 - 1) / s2 * g0[k+r]
+	}
+	var m2, m1 float64
+	for k := -r; k <= r; k++ {
+		m2 += g2[k+r]
+		m1 += -float64(k) * g1[k+r]
+	}
+	for k := range g2 {
+		g2[k] -= m2 * g0[k]
+		g1[k] /= m1
+	}
+	var rows [3][]float32
+	for f, kern := range [3][]float64{g0, g1, g2} {
+		rows[f] = make([]float32, w*h)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				rows[f][y*w+x] = float32(clampedTaps(kern, plane[y*w:(y+1)*w], x, r))
+			}
+		}
+	}
+	for f := range out {
+		out[f] = make([]float64, w*h)
+	}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			var ix, iy, ixx, iyy, ixy float64
+			for k := -r; k <= r; k++ {
+				j := min(max(y+k, 0), h-1)*w + x
+				a, b, d := float64(rows[0][j]), float64(rows[1][j]), float64(rows[2][j])
+				ix += g0[k+r] * b
+				iy += g1[k+r] * a
+				ixx += g0[k+r] * d
+				iyy += g2[k+r] * a
+				ixy += g1[k+r] * b
+			}
+			i := y*w + x
+			out[0][i], out[1][i], out[2][i], out[3][i], out[4][i] = ix, iy, ixx, iyy, ixy
+		}
+	}
+	return out
+}
+
+// The streamed jet (ring of filtered rows per band) equals the direct
+// two-pass filter bit for bit, on images shorter and narrower than the
+// kernel, on band boundaries and across several bands, for 1 and 3
+// workers.
+func TestGaussianJetStreamed(t *testing.T) {
+	for _, c := range []struct {
+		w, h  int
+		sigma float64
+	}{
+		{5, 3, 1.5}, {1, 40, 1.5}, {37, 1, 1.5}, {64, jetBandRows, 1.5},
+		{33, jetBandRows + 1, 1.5}, {50, 2*jetBandRows + 7, 3}, {21, 300, 0.7},
+	} {
+		f := blobImage(uint64(c.w*1000+c.h), c.w, c.h, 0.05)[0]
+		want := jetPlanes(f, c.w, c.h, c.sigma)
+		for _, workers := range []int{1, 3} {
+			var got [5][]float64
+			for k := range got {
+				got[k] = make([]float64, c.w*c.h)
+			}
+			gaussianJet(f, c.w, c.h, c.sigma, workers, func(y int, ix, iy, ixx, iyy, ixy []float64) {
+				for k, row := range [5][]float64{ix, iy, ixx, iyy, ixy} {
+					copy(got[k][y*c.w:(y+1)*c.w], row)
+				}
+			})
+			for k := range got {
+				for i := range got[k] {
+					if got[k][i] != want[k][i] {
+						t.Fatalf("%dx%d σ %v, %d workers: derivative %d at pixel %d: %v, direct filter %v", c.w, c.h, c.sigma, workers, k, i, got[k][i], want[k][i])
+					}
+				}
+			}
+		}
+	}
+}

@@ -60,8 +60,10 @@ const grainMaxLagDivisor = 8
 // result does not depend on workers.
 func EstimateGrain(plane []float32, w, h int, workers int) Grain {
 	gx, gy := make([]float32, w*h), make([]float32, w*h)
-	gaussianJet(plane, w, h, ContourScale, workers, func(i int, ix, iy, _, _, _ float64) {
-		gx[i], gy[i] = float32(ix), float32(iy)
+	gaussianJet(plane, w, h, ContourScale, workers, func(y int, ix, iy, _, _, _ []float64) {
+		for x := range w {
+			gx[y*w+x], gy[y*w+x] = float32(ix[x]), float32(iy[x])
+		}
 	})
 	rows := make([][3]float64, h)
 	forBands(h, workers, func(_, y0, y1 int) {
