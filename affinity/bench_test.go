@@ -1,6 +1,9 @@
 package affinity
 
-import "testing"
+import (
+	"fmt"
+	"testing"
+)
 
 // BenchmarkPixelGraph152x192r5 builds the pixel graph of a 152x192 scene
 // (29k nodes, r = 5: 80 neighbours per interior pixel, 2.3M entries), the
@@ -27,5 +30,26 @@ func BenchmarkSLIC1024x3000(b *testing.B) {
 		if _, _, err := SLIC(f, 1024, 1024, p, 0); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// BenchmarkSLICCamera runs SLIC on camera-sized single-plane scenes with
+// the counts the automatic rule gives generated nuclei frames (about
+// 34,000 superpixels at 4 MP, the cap of 48,000 at 16 MP), on all cores;
+// cpu-s/op is the process's CPU time per call.
+func BenchmarkSLICCamera(b *testing.B) {
+	for _, c := range []struct{ n, count int }{{2048, 34000}, {4096, 48000}} {
+		b.Run(fmt.Sprintf("%dx%d", c.n, c.n), func(b *testing.B) {
+			f := blobImage(8, c.n, c.n, 0.03)
+			p := SLICParams{Count: c.count, Compactness: 20}
+			b.ReportAllocs()
+			c0 := cpuSeconds()
+			for b.Loop() {
+				if _, _, err := SLIC(f, c.n, c.n, p, 0); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+		})
 	}
 }

@@ -59,21 +59,26 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels []int32, n
 		s.update()
 	}
 	expected := w * h / s.k
-	labels, n = enforceConnectivity(s.label, w, h, expected/4)
+	labels, n = enforceConnectivity(s.label, w, h, expected/4, s.dist)
 	return labels, n, nil
 }
 
 // slicState holds the clustering: centres, per-pixel labels and distances,
 // and per-band partial sums for the update step.
 type slicState struct {
-	f          [][]float32
-	w, h, k    int
-	s          float64   // grid step S = sqrt(N/K): window half-size and spatial scale
-	ms         float32   // m² / S²: weight of squared pixel distance
-	cx, cy     []float32 // centre positions
-	cf         []float32 // centre features, k*planes
-	label      []int32
-	dist       []float32
+	f       [][]float32
+	w, h, k int
+	s       float64   // grid step S = sqrt(N/K): window half-size and spatial scale
+	ms      float32   // m² / S²: weight of squared pixel distance
+	cx, cy  []float32 // centre positions
+	cf      []float32 // centre features, k*planes
+	label   []int32
+	// dist holds each pixel's smallest D² so far as the bits of a
+	// float32 (math.Float32bits): D² is never negative or NaN, and on
+	// non-negative floats the order of the bits is the order of the
+	// values, so the assignment compares integers, which the compiler
+	// turns into conditional moves instead of unpredictable branches.
+	dist       []uint32
 	nb         int         // bands
 	bandSums   []float64   // nb blocks of k*(planes+3): count, Σx, Σy, ΣF
 	scratch    [][]float32 // per band: squared x distances in a window row
@@ -114,7 +119,7 @@ func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
 			s.label[y*w+x] = int32(row + x*nx/w)
 		}
 	}
-	s.dist = make([]float32, N)
+	s.dist = make([]uint32, N)
 	s.nb = slicBands(w, h, k)
 	s.sumsStride = k * (planes + 3)
 	s.bandSums = make([]float64, s.nb*s.sumsStride)
@@ -183,8 +188,9 @@ func (s *slicState) assign(b int) {
 	by0, by1 := s.band(b)
 	w := s.w
 	dist := s.dist[by0*w : by1*w]
+	inf := math.Float32bits(float32(math.Inf(1)))
 	for i := range dist {
-		dist[i] = float32(math.Inf(1))
+		dist[i] = inf
 	}
 	planes := len(s.f)
 	dx2 := s.scratch[b]
@@ -210,13 +216,15 @@ func (s *slicState) assign(b int) {
 			if planes == 1 {
 				frow := s.f[0][row : row+len(dx2)]
 				fc := s.cf[c]
+				frow, lrow := frow[:len(dx2)], lrow[:len(dx2)]
 				for x, d2 := range dx2 {
 					d := frow[x] - fc
-					D := d*d + d2 + dy2
-					if D < drow[x] {
-						drow[x] = D
-						lrow[x] = lab
+					D := math.Float32bits(d*d + d2 + dy2)
+					old, l := drow[x], lrow[x]
+					if D < old {
+						old, l = D, lab
 					}
+					drow[x], lrow[x] = old, l
 				}
 				continue
 			}
@@ -227,8 +235,8 @@ func (s *slicState) assign(b int) {
 					d := s.f[pl][row+x] - v
 					D += d * d
 				}
-				if D < drow[x] {
-					drow[x] = D
+				if Db := math.Float32bits(D); Db < drow[x] {
+					drow[x] = Db
 					lrow[x] = lab
 				}
 			}
@@ -237,6 +245,10 @@ func (s *slicState) assign(b int) {
 }
 
 // accumulate sums count, position and features per label over band b.
+// A row is taken in runs of one label: the count and the position sums
+// of a run are integers, exact in float64 (below 2^53), so adding them
+// per run gives the sums of adding them per pixel; the feature sums are
+// still added pixel by pixel in raster order.
 func (s *slicState) accumulate(b int) {
 	y0, y1 := s.band(b)
 	planes := len(s.f)
@@ -246,14 +258,26 @@ func (s *slicState) accumulate(b int) {
 	for y := y0; y < y1; y++ {
 		fy := float64(y)
 		row := y * s.w
-		for x, l := range s.label[row : row+s.w] {
-			a := sums[int(l)*stride : int(l)*stride+stride]
-			a[0]++
-			a[1] += float64(x)
-			a[2] += fy
-			for pl, p := range s.f {
-				a[3+pl] += float64(p[row+x])
+		lab := s.label[row : row+s.w]
+		for x0 := 0; x0 < len(lab); {
+			l := lab[x0]
+			x1 := x0 + 1
+			for x1 < len(lab) && lab[x1] == l {
+				x1++
 			}
+			n := x1 - x0
+			a := sums[int(l)*stride : int(l)*stride+stride]
+			a[0] += float64(n)
+			a[1] += float64((x0 + x1 - 1) * n / 2)
+			a[2] += fy * float64(n)
+			for pl, p := range s.f {
+				acc := a[3+pl]
+				for _, v := range p[row+x0 : row+x1] {
+					acc += float64(v)
+				}
+				a[3+pl] = acc
+			}
+			x0 = x1
 		}
 	}
 }

@@ -8,13 +8,19 @@ package affinity
 // is thereby joined to a connected label; any other piece gets the next
 // new label. New labels are thus numbered in raster order of their first
 // pixel. The piece holding pixel 0 has no labelled neighbour and always
-// keeps its own label. It runs in O(w·h).
-func enforceConnectivity(old []int32, w, h, minSize int) ([]int32, int) {
+// keeps its own label. It runs in O(w·h). scratch, when it holds at
+// least len(old) values, is used for the flood fill's stack (SLIC hands
+// over its distance buffer, no longer needed), else a stack is
+// allocated.
+func enforceConnectivity(old []int32, w, h, minSize int, scratch []uint32) ([]int32, int) {
 	out := make([]int32, len(old))
 	for i := range out {
 		out[i] = -1
 	}
-	stack := make([]int32, 0, len(old))
+	stack := scratch[:0]
+	if cap(stack) < len(old) {
+		stack = make([]uint32, 0, len(old))
+	}
 	n := int32(0)
 	for p := range old {
 		if out[p] >= 0 {
@@ -29,26 +35,26 @@ func enforceConnectivity(old []int32, w, h, minSize int) ([]int32, int) {
 		// Flood fill the piece of old[p] containing p; stack doubles as
 		// the list of the piece's pixels.
 		want := old[p]
-		stack = append(stack[:0], int32(p))
+		stack = append(stack[:0], uint32(p))
 		out[p] = n
 		for k := 0; k < len(stack); k++ {
 			q := int(stack[k])
 			x := q % w
 			if x > 0 && out[q-1] < 0 && old[q-1] == want {
 				out[q-1] = n
-				stack = append(stack, int32(q-1))
+				stack = append(stack, uint32(q-1))
 			}
 			if x < w-1 && out[q+1] < 0 && old[q+1] == want {
 				out[q+1] = n
-				stack = append(stack, int32(q+1))
+				stack = append(stack, uint32(q+1))
 			}
 			if q >= w && out[q-w] < 0 && old[q-w] == want {
 				out[q-w] = n
-				stack = append(stack, int32(q-w))
+				stack = append(stack, uint32(q-w))
 			}
 			if q+w < len(old) && out[q+w] < 0 && old[q+w] == want {
 				out[q+w] = n
-				stack = append(stack, int32(q+w))
+				stack = append(stack, uint32(q+w))
 			}
 		}
 		if len(stack) <= minSize && adj >= 0 {

@@ -224,7 +224,7 @@ func TestEnforceConnectivity(t *testing.T) {
 		0, 2, 3, 1,
 		4, 3, 3, 3,
 	}
-	got, n := enforceConnectivity(old, 4, 3, 0)
+	got, n := enforceConnectivity(old, 4, 3, 0, nil)
 	if n != 5 || !slices.Equal(got, want0) {
 		t.Errorf("minSize 0: got %v (n=%d), want %v", got, n, want0)
 	}
@@ -236,7 +236,7 @@ func TestEnforceConnectivity(t *testing.T) {
 		0, 0, 2, 1,
 		0, 2, 2, 2,
 	}
-	got, n = enforceConnectivity(old, 4, 3, 1)
+	got, n = enforceConnectivity(old, 4, 3, 1, make([]uint32, 12))
 	if n != 3 || !slices.Equal(got, want1) {
 		t.Errorf("minSize 1: got %v (n=%d), want %v", got, n, want1)
 	}
