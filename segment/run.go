@@ -545,9 +545,6 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if err := p.checkNodes(nodes); err != nil {
 		return nil, err
 	}
-	if p.AutoSigmaI {
-		p.SigmaI = affinity.AutoSigmaI(in.Planes, w, h)
-	}
 	if err := checkMemory(w, h, len(in.Planes), p); err != nil {
 		return nil, err
 	}
@@ -559,6 +556,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		err    error
 	)
 	if p.Superpixels == 0 {
+		// σ_I of the pixel graph; the superpixel graph takes its own
+		// from the regions (AutoRegionSigmaI) below, so the pixel
+		// differences (2 per pixel, their median) are not gathered there.
+		if p.AutoSigmaI {
+			p.SigmaI = affinity.AutoSigmaI(in.Planes, w, h)
+		}
 		if p.AutoSigmaX {
 			p.SigmaX = 0.8 * float64(p.Radius)
 		}
