@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"runtime"
 	"slices"
 	"sort"
 )
@@ -413,36 +414,56 @@ func referenceClass(cls []int32, area []float64, C int, background Background) i
 // computed on a coarse grid of about fieldGridCells cells across and
 // interpolated bilinearly. Cells with no masked pixel within reach take the
 // mean of all masked pixels.
+//
+// The cell sums are taken one row of cells at a time on the workers
+// (cells do not straddle rows of cells, so every cell still adds its
+// pixels in raster order), and the mean of all masked pixels, in raster
+// order, only when a cell needs it.
 func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
 	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	sum := make([]float64, gw*gh)
 	cnt := make([]float64, gw*gh)
-	var tot, totN float64
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			if mask[i] {
-				c := (y/cell)*gw + x/cell
-				sum[c] += float64(v[i])
-				cnt[c]++
-				tot += float64(v[i])
-				totN++
+	if workers < 1 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	forEach(gh, workers, func(gy int) {
+		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
+		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
+			row, m := v[y*w:(y+1)*w], mask[y*w:(y+1)*w]
+			for x, in := range m {
+				if in {
+					s[x/cell] += float64(row[x])
+					n[x/cell]++
+				}
 			}
 		}
+	})
+	var totN float64
+	for _, n := range cnt {
+		totN += n // counts: exact
 	}
 	sg := sigma / float64(cell)
 	sum = blurGrid(sum, gw, gh, sg)
 	cnt = blurGrid(cnt, gw, gh, sg)
-	global := tot / math.Max(totN, 1)
+	global := math.NaN() // the mean of all masked pixels, once needed
 	grid := make([]float64, gw*gh)
 	minCnt := 1e-3 * float64(cell*cell)
 	for c := range grid {
 		if cnt[c] > minCnt {
 			grid[c] = sum[c] / cnt[c]
-		} else {
-			grid[c] = global
+			continue
 		}
+		if math.IsNaN(global) {
+			var tot float64
+			for i, in := range mask {
+				if in {
+					tot += float64(v[i])
+				}
+			}
+			global = tot / math.Max(totN, 1)
+		}
+		grid[c] = global
 	}
 	return interpolateGrid(grid, gw, gh, cell, w, h, workers)
 }
