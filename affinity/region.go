@@ -23,16 +23,30 @@ func Summarize(f [][]float32, w, h int, labels []int32, n int) *Regions {
 	for c := range f {
 		r.Mean[c] = make([]float64, n)
 	}
+	// A row is taken in runs of one label: area and coordinate sums of a
+	// run are integers, exact in float64 (below 2^53), so adding them per
+	// run gives what adding them per pixel gives; features are still
+	// added pixel by pixel in raster order.
 	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			l := labels[i]
-			r.Area[l]++
-			r.CX[l] += float64(x)
-			r.CY[l] += float64(y)
-			for c := range f {
-				r.Mean[c][l] += float64(f[c][i])
+		row := labels[y*w : (y+1)*w]
+		for x0 := 0; x0 < w; {
+			l := row[x0]
+			x1 := x0 + 1
+			for x1 < w && row[x1] == l {
+				x1++
 			}
+			n := x1 - x0
+			r.Area[l] += n
+			r.CX[l] += float64((x0 + x1 - 1) * n / 2)
+			r.CY[l] += float64(y * n)
+			for c := range f {
+				acc := r.Mean[c][l]
+				for _, v := range f[c][y*w+x0 : y*w+x1] {
+					acc += float64(v)
+				}
+				r.Mean[c][l] = acc
+			}
+			x0 = x1
 		}
 	}
 	for l := 0; l < n; l++ {

@@ -138,3 +138,39 @@ func TestDropNegligible(t *testing.T) {
 		t.Errorf("%d entries, want 8", g.NNZ())
 	}
 }
+
+// Summarize by runs of one label equals the pixel-by-pixel sums of its
+// definition bit for bit: a SLIC labelling of a blob scene, two planes.
+func TestSummarizeRunsExact(t *testing.T) {
+	const w, h = 97, 61
+	f := blobImage(13, w, h, 0.05)
+	f = append(f, blobImage(14, w, h, 0.05)[0])
+	labels, n, err := SLIC(f, w, h, SLICParams{Count: 60, Compactness: 20}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := Summarize(f, w, h, labels, n)
+	area := make([]float64, n)
+	cx, cy := make([]float64, n), make([]float64, n)
+	mean := [][]float64{make([]float64, n), make([]float64, n)}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			l := labels[y*w+x]
+			area[l]++
+			cx[l] += float64(x)
+			cy[l] += float64(y)
+			for c := range f {
+				mean[c][l] += float64(f[c][y*w+x])
+			}
+		}
+	}
+	for l := 0; l < n; l++ {
+		want := []float64{area[l], cx[l] / area[l], cy[l] / area[l], mean[0][l] / area[l], mean[1][l] / area[l]}
+		have := []float64{float64(got.Area[l]), got.CX[l], got.CY[l], got.Mean[0][l], got.Mean[1][l]}
+		for k := range want {
+			if have[k] != want[k] {
+				t.Fatalf("region %d, value %d (area, cx, cy, mean 0, mean 1): %v, per-pixel sums %v", l, k, have[k], want[k])
+			}
+		}
+	}
+}
