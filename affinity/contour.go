@@ -35,10 +35,14 @@ func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32
 	gaussianJet(plane, w, h, sigma, workers, func(y int, ix, iy, ixx, iyy, ixy []float64) {
 		out := e[y*w : (y+1)*w]
 		for x := range out {
-			// Eigenvalue of larger magnitude of [[ixx ixy] [ixy iyy]].
-			m, q := (ixx[x]+iyy[x])/2, math.Hypot((ixx[x]-iyy[x])/2, ixy[x])
-			lam := math.Max(math.Abs(m+q), math.Abs(m-q))
-			out[x] = float32(math.Hypot(sigma*math.Hypot(ix[x], iy[x]), s2*lam))
+			// Eigenvalue of larger magnitude of [[ixx ixy] [ixy iyy]]:
+			// m ± q with q >= 0, so |λ| = |m| + q. The values are far
+			// from overflow, so the roots need no scaling (math.Hypot).
+			m, d := (ixx[x]+iyy[x])/2, (ixx[x]-iyy[x])/2
+			q := math.Sqrt(d*d + ixy[x]*ixy[x])
+			lam := s2 * (math.Abs(m) + q)
+			g2 := ix[x]*ix[x] + iy[x]*iy[x]
+			out[x] = float32(math.Sqrt(sigma*sigma*g2 + lam*lam))
 		}
 	})
 	return e
@@ -59,7 +63,8 @@ func RidgeStrengths(plane []float32, w, h int, sigma float64, workers int) (dark
 	gaussianJet(plane, w, h, sigma, workers, func(y int, _, _, ixx, iyy, ixy []float64) {
 		for x := y * w; x < (y+1)*w; x++ {
 			j := x - y*w
-			m, q := (ixx[j]+iyy[j])/2, math.Hypot((ixx[j]-iyy[j])/2, ixy[j])
+			m, d := (ixx[j]+iyy[j])/2, (ixx[j]-iyy[j])/2
+			q := math.Sqrt(d*d + ixy[j]*ixy[j])
 			dark[x] = float32(s2 * (m + q))
 			bright[x] = float32(-s2 * (m - q))
 		}
@@ -78,8 +83,11 @@ func RidgeStrengths(plane []float32, w, h int, sigma float64, workers int) (dark
 // 2r+1 horizontally filtered rows the vertical taps of one output row
 // need, in a ring, so the work memory is O(workers·r·w) instead of three
 // image-sized planes, and a band recomputes the 2r horizontal rows it
-// shares with its neighbours. Every output is the same sum, taken in the
-// same order (taps k = -r..r), as the filter over whole planes.
+// shares with its neighbours. The taps at ±k of the even kernels g0, g2
+// and of the odd g1 are folded into one product per pair of pixels,
+// g(k)·(I(+k) ± I(-k)) (common practice for symmetric FIR filters),
+// which halves the products; the sums then differ from the unfolded
+// ones in rounding only.
 func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(y int, ix, iy, ixx, iyy, ixy []float64)) {
 	r := int(math.Ceil(4 * sigma))
 	g0, g1, g2 := make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
@@ -108,29 +116,31 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		g2[k] -= m2 * g0[k]
 		g1[k] /= m1
 	}
-	kernels := [3][]float64{g0, g1, g2}
-	// horizontal filters image row y with g0, g1 and g2 into out.
+	// horizontal filters image row y with g0, g1 and g2 into out. g0 and
+	// g2 are even and g1 is odd, so the taps at ±k are folded: one
+	// product per pair of pixels, g(k)·(I(x+k) ± I(x-k)).
+	lo, hi := min(r, w), max(w-r, min(r, w))
+	edges := edgeColumns(lo, hi, w) // edge-replicated taps there
 	horizontal := func(y int, out *[3][]float32) {
 		line := plane[y*w : (y+1)*w]
-		for f, kern := range kernels {
-			o := out[f]
-			// Edge-replicated near the ends; the interior needs no
-			// clamping (the same terms in the same order).
-			lo, hi := min(r, w), max(w-r, min(r, w))
-			for x := 0; x < lo; x++ {
-				o[x] = float32(clampedTaps(kern, line, x, r))
+		o0, o1, o2 := out[0][:w], out[1][:w], out[2][:w]
+		for _, x := range edges {
+			o0[x] = float32(clampedTaps(g0, line, x, r))
+			o1[x] = float32(clampedTaps(g1, line, x, r))
+			o2[x] = float32(clampedTaps(g2, line, x, r))
+		}
+		for x := lo; x < hi; x++ {
+			c := float64(line[x])
+			s0, s1, s2 := g0[r]*c, 0.0, g2[r]*c
+			left, right := line[x-r:x], line[x+1:x+r+1]
+			for k := 1; k <= r; k++ {
+				a, b := float64(right[k-1]), float64(left[r-k])
+				p, m := a+b, a-b
+				s0 += g0[r+k] * p
+				s1 += g1[r+k] * m
+				s2 += g2[r+k] * p
 			}
-			for x := lo; x < hi; x++ {
-				var s float64
-				win := line[x-r : x+r+1]
-				for k, v := range win {
-					s += kern[k] * float64(v)
-				}
-				o[x] = float32(s)
-			}
-			for x := hi; x < w; x++ {
-				o[x] = float32(clampedTaps(kern, line, x, r))
-			}
+			o0[x], o1[x], o2[x] = float32(s0), float32(s1), float32(s2)
 		}
 	}
 	ring := 2*r + 1
@@ -166,21 +176,34 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			if y+r < h {
 				horizontal(y+r, &buf.rows[(y+r)%ring])
 			}
-			clear(ix)
-			clear(iy)
-			clear(ixx)
-			clear(iyy)
-			clear(ixy)
-			for k := -r; k <= r; k++ {
-				src := &buf.rows[min(max(y+k, 0), h-1)%ring]
+			// Centre row, then the rows at ±k folded as in horizontal.
+			{
+				src := &buf.rows[y%ring]
 				a, b, d := src[0][:w], src[1][:w], src[2][:w]
-				c0, c1, c2 := g0[k+r], g1[k+r], g2[k+r]
+				c0, c2 := g0[r], g2[r]
 				for x := range ix {
-					ix[x] += c0 * float64(b[x])
-					iy[x] += c1 * float64(a[x])
-					ixx[x] += c0 * float64(d[x])
-					iyy[x] += c2 * float64(a[x])
-					ixy[x] += c1 * float64(b[x])
+					ix[x] = c0 * float64(b[x])
+					iy[x] = 0
+					ixx[x] = c0 * float64(d[x])
+					iyy[x] = c2 * float64(a[x])
+					ixy[x] = 0
+				}
+			}
+			for k := 1; k <= r; k++ {
+				up, dn := &buf.rows[max(y-k, 0)%ring], &buf.rows[min(y+k, h-1)%ring]
+				au, bu, du := up[0][:w], up[1][:w], up[2][:w]
+				ad, bd, dd := dn[0][:w], dn[1][:w], dn[2][:w]
+				c0, c1, c2 := g0[r+k], g1[r+k], g2[r+k]
+				for x := range ix {
+					a1, a2 := float64(ad[x]), float64(au[x])
+					b1, b2 := float64(bd[x]), float64(bu[x])
+					ap := a1 + a2
+					bp := b1 + b2
+					ix[x] += c0 * bp
+					iy[x] += c1 * (a1 - a2)
+					ixx[x] += c0 * (float64(dd[x]) + float64(du[x]))
+					iyy[x] += c2 * ap
+					ixy[x] += c1 * (b1 - b2)
 				}
 			}
 			fn(y, ix, iy, ixx, iyy, ixy)
@@ -192,6 +215,19 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 // gaussianJet: each chunk refilters 2r rows of its neighbours (9% more
 // horizontal work at r = 6), and a 4096-row image gives 32 chunks.
 const jetBandRows = 128
+
+// edgeColumns lists the columns 0..lo-1 and hi..w-1, which need the
+// edge-replicated taps.
+func edgeColumns(lo, hi, w int) []int {
+	c := make([]int, 0, lo+w-hi)
+	for x := 0; x < lo; x++ {
+		c = append(c, x)
+	}
+	for x := hi; x < w; x++ {
+		c = append(c, x)
+	}
+	return c
+}
 
 // clampedTaps is Σ_k kern[k+r]·line[clamp(x+k)], k = -r..r, the image
 // edge replicated.
