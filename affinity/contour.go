@@ -41,8 +41,8 @@ func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32
 			m, d := (ixx[x]+iyy[x])/2, (ixx[x]-iyy[x])/2
 			q := math.Sqrt(d*d + ixy[x]*ixy[x])
 			lam := s2 * (math.Abs(m) + q)
-			g2 := ix[x]*ix[x] + iy[x]*iy[x]
-			out[x] = float32(math.Sqrt(sigma*sigma*g2 + lam*lam))
+			grad2 := ix[x]*ix[x] + iy[x]*iy[x]
+			out[x] = float32(math.Sqrt(sigma*sigma*grad2 + lam*lam))
 		}
 	})
 	return e
@@ -131,16 +131,16 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		}
 		for x := lo; x < hi; x++ {
 			c := float64(line[x])
-			s0, s1, s2 := g0[r]*c, 0.0, g2[r]*c
+			t0, t1, t2 := g0[r]*c, 0.0, g2[r]*c
 			left, right := line[x-r:x], line[x+1:x+r+1]
 			for k := 1; k <= r; k++ {
 				a, b := float64(right[k-1]), float64(left[r-k])
 				p, m := a+b, a-b
-				s0 += g0[r+k] * p
-				s1 += g1[r+k] * m
-				s2 += g2[r+k] * p
+				t0 += g0[r+k] * p
+				t1 += g1[r+k] * m
+				t2 += g2[r+k] * p
 			}
-			o0[x], o1[x], o2[x] = float32(s0), float32(s1), float32(s2)
+			o0[x], o1[x], o2[x] = float32(t0), float32(t1), float32(t2)
 		}
 	}
 	ring := 2*r + 1
