@@ -143,13 +143,14 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			o0[x], o1[x], o2[x] = float32(t0), float32(t1), float32(t2)
 		}
 	}
+	workers = numWorkers(workers) // below 1: all cores, as everywhere
 	ring := 2*r + 1
 	type buffers struct {
 		rows [][3][]float32 // ring of horizontally filtered rows; row y in slot y mod ring
 		acc  [5][]float64
 	}
 	nb := (h + jetBandRows - 1) / jetBandRows
-	pool := make(chan *buffers, max(1, min(numWorkers(workers), nb)))
+	pool := make(chan *buffers, max(1, min(workers, nb)))
 	for range cap(pool) {
 		b := &buffers{rows: make([][3][]float32, ring)}
 		for i := range b.rows {
