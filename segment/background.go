@@ -140,20 +140,30 @@ func interpolateGrid(grid []float64, gw, gh, cell, w, h, workers int) []float32 
 		txs[x] = fx - float64(x0)
 		xs[2*x], xs[2*x+1] = min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
 	}
+	// The rows between two rows of cell centres share their horizontal
+	// interpolations (top and bottom); they are computed once per pair
+	// of grid rows in a band, the same values as per pixel.
 	forRowBands(h, workers, func(ya, yb int) {
+		top, bot := make([]float64, w), make([]float64, w)
+		last0, last1 := -1, -1
 		for y := ya; y < yb; y++ {
 			fy := (float64(y)+0.5)/float64(cell) - 0.5
 			y0 := int(math.Floor(fy))
 			ty := fy - float64(y0)
 			y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
-			g0, g1 := grid[y0c*gw:(y0c+1)*gw], grid[y1c*gw:(y1c+1)*gw]
+			if y0c != last0 || y1c != last1 {
+				g0, g1 := grid[y0c*gw:(y0c+1)*gw], grid[y1c*gw:(y1c+1)*gw]
+				for x := range top {
+					tx := txs[x]
+					x0c, x1c := xs[2*x], xs[2*x+1]
+					top[x] = g0[x0c]*(1-tx) + g0[x1c]*tx
+					bot[x] = g1[x0c]*(1-tx) + g1[x1c]*tx
+				}
+				last0, last1 = y0c, y1c
+			}
 			row := out[y*w : (y+1)*w]
 			for x := range row {
-				tx := txs[x]
-				x0c, x1c := xs[2*x], xs[2*x+1]
-				top := g0[x0c]*(1-tx) + g0[x1c]*tx
-				bot := g1[x0c]*(1-tx) + g1[x1c]*tx
-				row[x] = float32(top*(1-ty) + bot*ty)
+				row[x] = float32(top[x]*(1-ty) + bot[x]*ty)
 			}
 		}
 	})

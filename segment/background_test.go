@@ -189,3 +189,38 @@ func TestObjectRadius(t *testing.T) {
 		}
 	}
 }
+
+// interpolateGrid, which interpolates horizontally once per pair of grid
+// rows, equals the bilinear formula evaluated pixel by pixel bit for bit
+// (cells of 1, 5 and 64 pixels, sizes not multiples of the cell, 1 and
+// 3 workers).
+func TestInterpolateGridPerPixel(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13140, 1))
+	for _, c := range []struct{ w, h, cell int }{{7, 5, 1}, {23, 41, 5}, {130, 200, 64}, {300, 70, 64}} {
+		gw, gh := (c.w+c.cell-1)/c.cell, (c.h+c.cell-1)/c.cell
+		grid := make([]float64, gw*gh)
+		for i := range grid {
+			grid[i] = rng.Float64()
+		}
+		for _, workers := range []int{1, 3} {
+			got := interpolateGrid(grid, gw, gh, c.cell, c.w, c.h, workers)
+			for y := 0; y < c.h; y++ {
+				fy := (float64(y)+0.5)/float64(c.cell) - 0.5
+				y0 := int(math.Floor(fy))
+				ty := fy - float64(y0)
+				y0c, y1c := min(max(y0, 0), gh-1), min(max(y0+1, 0), gh-1)
+				for x := 0; x < c.w; x++ {
+					fx := (float64(x)+0.5)/float64(c.cell) - 0.5
+					x0 := int(math.Floor(fx))
+					tx := fx - float64(x0)
+					x0c, x1c := min(max(x0, 0), gw-1), min(max(x0+1, 0), gw-1)
+					top := grid[y0c*gw+x0c]*(1-tx) + grid[y0c*gw+x1c]*tx
+					bot := grid[y1c*gw+x0c]*(1-tx) + grid[y1c*gw+x1c]*tx
+					if want := float32(top*(1-ty) + bot*ty); got[y*c.w+x] != want {
+						t.Fatalf("%dx%d, cell %d, %d workers: pixel (%d, %d) %v, bilinear %v", c.w, c.h, c.cell, workers, x, y, got[y*c.w+x], want)
+					}
+				}
+			}
+		}
+	}
+}
