@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
@@ -155,7 +156,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		}
 		// Each step is the command a user would type, shown with its
 		// output; tune and score hand back their results for the summary.
-		var rep *tuneReport
+		var rep *tuning.Report
 		var mean *score.Report
 		for _, st := range []struct {
 			argv []string

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"io"
 	"math"
 	"os"
@@ -222,14 +223,14 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 		}
 	}
 	args := []string{"--classes", "2", "--background", "dark", "--superpixels", "200", "--sigma-i", "0.01", "--sigma-x", "8", "--max-ncut", "0.15", "--budget", "0", "--folds", "0"}
-	tuneWith := func(truthDir string, extra ...string) (tuneReport, string) {
+	tuneWith := func(truthDir string, extra ...string) (tuning.Report, string) {
 		out := filepath.Join(t.TempDir(), "tuned")
 		stdout := runOK(t, append(append([]string{"tune", "--images", images, "--truth", truthDir, "--out", out}, args...), extra...)...)
 		raw, err := os.ReadFile(filepath.Join(out, "tune.json"))
 		if err != nil {
 			t.Fatal(err)
 		}
-		var rep tuneReport
+		var rep tuning.Report
 		if err := json.Unmarshal(raw, &rep); err != nil {
 			t.Fatal(err)
 		}

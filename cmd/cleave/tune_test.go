@@ -6,6 +6,8 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"errors"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
+	"github.com/cleave-seg/cleave/imageio/render"
 	"image/png"
 	"math"
 	"os"
@@ -132,17 +134,17 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	// The default run had ties to break (measured on these scenes), and
 	// both runs list the same tied settings with the same costs, the
 	// cheapest within 10% chosen.
-	var fa, fb tuneReport
+	var fa, fb tuning.Report
 	for _, x := range []struct {
 		name string
-		rep  *tuneReport
+		rep  *tuning.Report
 	}{{"faster1", &fa}, {"faster2", &fb}} {
 		raw, _ := os.ReadFile(filepath.Join(outs[x.name], "tune.json"))
 		if err := json.Unmarshal(raw, x.rep); err != nil {
 			t.Fatal(err)
 		}
 	}
-	strip := func(ts []tiedSetting) string {
+	strip := func(ts []tuning.TiedSetting) string {
 		var b strings.Builder
 		for _, s := range ts {
 			s.SecondsPerImage = nil
@@ -184,7 +186,7 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	if best["classes"] != 2.0 || best["background"] != "dark" || best["superpixels"] != 300.0 {
 		t.Errorf("fixed settings not passed through: %v", best)
 	}
-	var rep tuneReport
+	var rep tuning.Report
 	raw, _ := os.ReadFile(filepath.Join(outs["1"], "tune.json"))
 	if err := json.Unmarshal(raw, &rep); err != nil {
 		t.Fatal(err)
@@ -223,7 +225,7 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	}
 	defer f.Close()
 	cfg, err := png.DecodeConfig(f)
-	if err != nil || cfg.Width != plotW || cfg.Height != plotH {
+	if err != nil || cfg.Width != render.HeatmapWidth || cfg.Height != render.HeatmapHeight {
 		t.Errorf("tune.png: %v, %dx%d", err, cfg.Width, cfg.Height)
 	}
 }
@@ -311,7 +313,7 @@ func TestTuneChoosesBestRow(t *testing.T) {
 			}
 			extreme = math.Max(extreme, c.sign*v)
 		}
-		var rep tuneReport
+		var rep tuning.Report
 		raw, _ := os.ReadFile(filepath.Join(out, "tune.json"))
 		if err := json.Unmarshal(raw, &rep); err != nil {
 			t.Fatal(err)

@@ -2,8 +2,6 @@ package main
 
 import (
 	"context"
-	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -16,8 +14,7 @@ import (
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
-	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 	"github.com/spf13/pflag"
@@ -184,18 +181,14 @@ func chooseMetric(given, background string) (score.Metric, string, error) {
 	return score.MetricARI, "default without --background: no objects to count", nil
 }
 
-// tuneOutputs are the files tune writes into --out.
-var tuneOutputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
-
 func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	code, _ := tuneArgs(ctx, args, stdout, stderr)
 	return code
 }
 
 // tuneArgs is cleave tune with its arguments: it returns the exit status
-// and, when the search finished, its report (tune.json; the demo's
-// summary).
-func tuneArgs(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *tuneReport) {
+// and, when the search finished, its report (tune.json).
+func tuneArgs(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *tuning.Report) {
 	fs, s, o := tuneFlags()
 	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
 		return code, nil
@@ -210,79 +203,7 @@ func tuneArgs(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	return code, rep
 }
 
-// tuneReport is tune.json.
-type tuneReport struct {
-	Tool            string            `json:"tool"`
-	Version         string            `json:"version"`
-	Metric          score.Metric      `json:"metric"`
-	MetricChoice    string            `json:"metric_chosen_by"`
-	Score           float64           `json:"score"`
-	BestMetrics     *score.Report     `json:"best_mean_metrics"`
-	SecondsPerImage *float64          `json:"seconds_per_image"`
-	Timing          string            `json:"timing"`
-	CostPerImage    *float64          `json:"cost_per_image"`
-	CostModel       string            `json:"cost_model"`
-	TieRelative     float64           `json:"tie_tolerance_relative"`
-	TieBreak        string            `json:"tie_break"`
-	Tied            []tiedSetting     `json:"tied_settings"`
-	GridScore       *float64          `json:"grid_score"`
-	Baseline        *float64          `json:"automatic_score"`
-	BaselineMetrics *score.Report     `json:"automatic_mean_metrics"`
-	CVScore         *float64          `json:"cross_validated_score"`
-	CVFolds         int               `json:"folds"`
-	CVError         string            `json:"cross_validation_error,omitempty"`
-	Folds           []tune.Fold       `json:"fold_results,omitempty"`
-	Best            map[string]string `json:"best"`
-	Space           map[string]any    `json:"search_space"`
-	Widenings       []tune.Widening   `json:"widenings"`
-	Evaluations     int               `json:"evaluations"`
-	GridSize        int               `json:"grid_settings"`
-	Refined         int               `json:"refined_settings"`
-	WidenedSettings int               `json:"widened_settings"`
-	Budget          int               `json:"budget"`
-	Images          []string          `json:"images"`
-	TruthMaps       []truthMap        `json:"truth_maps"`
-	Unpaired        []string          `json:"unpaired_images"`
-	Seconds         float64           `json:"seconds"`
-}
-
-// truthMap says how one truth image was read (readScoreMap): as labels or
-// as a binary mask split into its 8-connected components.
-type truthMap struct {
-	Name  string `json:"name"`
-	Truth string `json:"truth"`
-	mapReading
-}
-
-// tiedSetting is a setting tied with the best: its cost (which decides
-// the tie) and, when timed, its seconds (information only).
-type tiedSetting struct {
-	Params          map[string]string `json:"params"`
-	Score           float64           `json:"score"`
-	CostPerImage    *float64          `json:"cost_per_image"`
-	SecondsPerImage *float64          `json:"seconds_per_image"` // null when not timed
-	Chosen          bool              `json:"chosen"`
-}
-
-// timingNote says how seconds_per_image is measured.
-const timingNote = "median over the images of one segmentation's seconds on one thread (as many at once as --workers), without the search's shared work, decoding excluded; information only, never used for the choice"
-
-// costNote says what cost_per_image is (segCost).
-var costNote = fmt.Sprintf("mean over the images of graph nonzeros x (1 + log2 regions), the work of a balanced recursive two-way cut (object re-cuts not counted); of tied settings within %.0f%% of the lowest cost the smoother is chosen", 100*(tune.CostMargin-1))
-
-// meanOf is the mean of every metric of e over the images, or nil when an
-// image failed.
-func meanOf(e *tune.Evaluation) *score.Report {
-	for _, m := range e.Errs {
-		if m != "" {
-			return nil
-		}
-	}
-	m := score.Mean(e.Reports)
-	return &m
-}
-
-func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, *tuneReport, error) {
+func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, *tuning.Report, error) {
 	start := time.Now()
 	if fs.NArg() > 0 {
 		return exitUsage, nil, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
@@ -313,7 +234,8 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if err != nil {
 		return exitUsage, nil, err
 	}
-	t := &tune.Tuner{Workers: defaultWorkers(o.workers), Metric: metric, SmootherTies: o.tieBreak == "smoother"}
+	cfg := &tuning.Config{Metric: metric, MetricChoice: metricWhy, Tolerance: o.tolerance, Workers: defaultWorkers(o.workers),
+		SmootherTies: o.tieBreak == "smoother", Budget: o.budget, Folds: o.folds, Voice: voice(), Start: start}
 	var given [tune.NumParams]bool
 	for _, d := range tune.Params() {
 		if o.space[d] == "" {
@@ -324,7 +246,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		if err != nil {
 			return exitUsage, nil, err
 		}
-		t.Space[d] = ax
+		cfg.Space[d] = ax
 	}
 	// A searched parameter given as auto or as one value is fixed: the
 	// probe checks the fixed settings now (a wrong --classes is a usage
@@ -332,11 +254,11 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	// centres of the default ranges.
 	fixed := *s
 	for _, d := range tune.Params() {
-		if given[d] && (t.Space[d].Auto || len(t.Space[d].Values) == 1) {
-			fixed = withParam(fixed, d, t.Space[d])
+		if given[d] && (cfg.Space[d].Auto || len(cfg.Space[d].Values) == 1) {
+			fixed = withParam(fixed, d, cfg.Space[d])
 		}
 	}
-	loadRes, err := resolve(fixed, t.Workers)
+	loadRes, err := resolve(fixed, cfg.Workers)
 	if err != nil {
 		return exitUsage, nil, err
 	}
@@ -345,7 +267,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	}
 	defer pipeline.SetMemoryLimit(loadRes.Params.MaxMemory)()
 	if !o.force {
-		for _, n := range tuneOutputs {
+		for _, n := range tuning.Outputs {
 			if p := filepath.Join(o.out, n); exists(p) {
 				return exitFail, nil, fmt.Errorf("output %s already exists (use --force to overwrite)", p)
 			}
@@ -361,213 +283,63 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if len(pairs) == 0 {
 		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
-	var truthMaps []truthMap
-	var images []*pipeline.Loaded
-	var truths [][]int32
+	var tp []tuning.Pair
 	for _, p := range pairs {
-		in, err := pipeline.Load(ctx, p.image, loadRes)
-		if err != nil {
-			return exitFail, nil, fmt.Errorf("%s: %w", p.image, err)
-		}
-		truth, w, h, reading, err := readScoreMap(p.truth, split)
-		if err != nil {
-			return exitFail, nil, fmt.Errorf("truth %w", err)
-		}
-		truthMaps = append(truthMaps, truthMap{Name: p.name, Truth: p.truth, mapReading: reading})
-		if w != in.Features.Width || h != in.Features.Height {
-			return exitFail, nil, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d", p.image, in.Features.Width, in.Features.Height, p.truth, w, h)
-		}
-		if err := checkTolerance(o.tolerance, p.truth, w, h); err != nil {
-			return exitUsage, nil, err
-		}
-		images, truths, t.Names = append(images, in), append(truths, truth), append(t.Names, p.name)
+		tp = append(tp, tuning.Pair{Name: p.name, Image: p.image, Truth: p.truth})
 	}
-	t.Objective, t.Timer = tuneObjective(images, truths, o.tolerance), tuneTimer(images)
-	all := t.All()
-
+	readTruth := func(path string) (tuning.Truth, error) {
+		labels, w, h, r, err := readScoreMap(path, split)
+		return tuning.Truth{Labels: labels, Width: w, Height: h, Kind: r.Kind, Objects: r.Objects}, err
+	}
+	checkTol := func(im *tuning.Image) error {
+		return checkTolerance(o.tolerance, im.Pair.Truth, im.Truth.Width, im.Truth.Height)
+	}
+	cfg.Images, err = tuning.Load(ctx, tp, loadRes, readTruth, checkTol)
+	if err != nil {
+		return exitCode(err), nil, err
+	}
 	br, err := resolve(fixed, 1)
 	if err != nil {
 		return exitUsage, nil, err
 	}
-	t.Base = br.Params
-	prog := progress.NewTune(stderr, metric)
-	t.Progress = prog
-	defer prog.Finish()
-	prog.Plan(1)
-	baseline, err := t.EvaluateParams(ctx, br.Params, "baseline", "baseline")
-	if err != nil {
-		return exitFail, nil, err
-	}
-	prog.Stage("automatic settings")
-	var autoI, autoX []float64
-	for j := range all {
-		if baseline.Errs[j] == "" {
-			autoI, autoX = append(autoI, baseline.Used[j].SigmaI), append(autoX, baseline.Used[j].SigmaX)
-		}
-	}
-	if len(autoI) == 0 {
-		return exitFail, nil, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.Errs[0])
-	}
-	if !given[tune.SigmaI] {
-		a := tune.Median(autoI)
-		t.Space[tune.SigmaI] = tune.DefaultAxis(tune.SigmaI, tune.LogSpaced(a/4, 4*a, 5))
-	}
-	if !given[tune.SigmaX] {
-		b := tune.Median(autoX)
-		t.Space[tune.SigmaX] = tune.DefaultAxis(tune.SigmaX, tune.LogSpaced(b/2, 2*b, 3))
-	}
+	cfg.Base = br.Params
+	// Defaults of the axes not given; sigma-i and sigma-x are left empty,
+	// for tuning.Run to centre on the automatic values.
 	if !given[tune.MaxNcut] {
-		t.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaults.MaxNcut / 2, defaults.MaxNcut})
+		cfg.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaults.MaxNcut / 2, defaults.MaxNcut})
 	}
 	if !given[tune.Radius] {
-		t.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{float64(s.Radius)})
+		cfg.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{float64(s.Radius)})
 	}
 	if !given[tune.Superpixels] {
-		t.Space[tune.Superpixels] = tune.AutoAxis(tune.Superpixels, "auto (default)")
+		cfg.Space[tune.Superpixels] = tune.AutoAxis(tune.Superpixels, "auto (default)")
 		if sp, auto, err := parseAuto("superpixels", s.Superpixels); err == nil && !auto {
-			t.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{sp})
+			cfg.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{sp})
 		}
 	}
 	if !given[tune.Compactness] {
-		t.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
+		cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
 	}
-
-	// Settings share work per image (segment.Cache): the superpixels
-	// between settings of one superpixel count and compactness, and one
-	// recursive bisection between settings that differ only in max-ncut
-	// (the split tree grown at the grid's largest max-ncut serves the
-	// smaller ones exactly).
-	for _, in := range images {
-		in.Cache = &segment.Cache{Ceiling: slices.Max(t.Space[tune.MaxNcut].Values)}
+	cfg.Fixed = s.Map()
+	for _, d := range tune.Params() {
+		cfg.Given[d] = baselineText(*s, d)
 	}
-	gridPts := t.Space.Grid()
-	k := min(o.folds, len(images))
-	searches := 1
-	if k >= 2 {
-		searches += k
-	}
-	prog.Plan(len(gridPts) + searches*o.budget)
-	if _, err := t.Evaluate(ctx, gridPts, "grid"); err != nil {
-		return exitFail, nil, err
-	}
-	prog.Stage("grid")
-	var folds []tune.Fold
-	var cv *float64
-	if k >= 2 {
-		f, v, err := t.CrossValidate(ctx, k, o.budget)
-		if err != nil {
-			return exitFail, nil, err
-		}
-		folds, cv = f, tune.Finite(v)
-	}
-	res, err := t.Search(ctx, all, o.budget, prog.Say)
+	cfg.Unpaired = unpaired
+	prog := progress.NewTune(stderr, metric)
+	cfg.Progress = prog
+	defer prog.Finish()
+	out, err := tuning.Run(ctx, cfg)
 	if err != nil {
 		return exitFail, nil, err
 	}
-	if err := t.TimeTies(ctx, res); err != nil {
+	if err := out.Write(o.out, o.force); err != nil {
 		return exitFail, nil, err
 	}
-	prog.Stage("search")
-	prog.Finish()
-	gridBest, best := res.GridBest, res.Best
-	if math.IsInf(t.Score(best, all), -1) {
-		return exitFail, nil, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
-	}
-	t.Space = res.Space // the ranges as widened, for tune.png and tune.json
-
-	// Outputs.
-	if err := os.MkdirAll(o.out, 0o755); err != nil {
-		return exitFail, nil, fmt.Errorf("cannot create the output folder: %w", err)
-	}
-	bestParams := paramsFile(&t.Space, s, best.Point)
-	bv := t.Value(baseline, all)
-	rep := tuneReport{
-		Tool: "cleave", Version: version, Metric: metric, MetricChoice: metricWhy, Score: t.Value(best, all),
-		BestMetrics: meanOf(best), SecondsPerImage: tune.Finite(t.SecondsPerImage(best, all)), Timing: timingNote,
-		CostPerImage: tune.Finite(t.CostPerImage(best, all)), CostModel: costNote,
-		TieRelative: tune.TieRelative, TieBreak: o.tieBreak, GridScore: tune.Finite(t.Value(gridBest, all)), BaselineMetrics: meanOf(baseline),
-		CVScore: cv, CVFolds: k, Folds: folds, Best: t.Space.Strings(best.Point), Space: map[string]any{},
-		Widenings: res.Widened, GridSize: len(gridPts), Budget: o.budget, Images: t.Names, TruthMaps: truthMaps, Unpaired: unpaired,
-	}
-	if rep.Unpaired == nil {
-		rep.Unpaired = []string{}
-	}
-	if rep.Widenings == nil {
-		rep.Widenings = []tune.Widening{}
-	}
-	for _, e := range res.Ties {
-		rep.Tied = append(rep.Tied, tiedSetting{Params: t.Space.Strings(e.Point), Score: t.Value(e, all),
-			CostPerImage: tune.Finite(t.CostPerImage(e, all)), SecondsPerImage: tune.Finite(t.SecondsPerImage(e, all)), Chosen: e == best})
-	}
-	for _, f := range folds {
-		if f.Error != "" && rep.CVError == "" {
-			rep.CVError = f.Error
-		}
-	}
-	if !math.IsNaN(bv) {
-		rep.Baseline = &bv
-	}
-	if k < 2 {
-		rep.CVFolds = 0
-	}
-	for _, d := range tune.Params() {
-		ax := t.Space[d]
-		if ax.Auto {
-			rep.Space[d.String()] = "auto"
-			continue
-		}
-		n := 0
-		for _, w := range res.Widened {
-			if w.Parameter == d.String() {
-				n++
-			}
-		}
-		rep.Space[d.String()] = map[string]any{"spec": ax.Spec, "grid": ax.Values, "refined": ax.Refinable(), "widened": n}
-	}
-	for _, e := range t.Order {
-		switch e.Stage {
-		case "baseline":
-			continue
-		case "refine":
-			rep.Refined++
-		case "widen":
-			rep.WidenedSettings++
-		}
-		rep.Evaluations++
-	}
-	writes := []struct {
-		name string
-		fn   func(io.Writer) error
-	}{
-		{"best.json", func(w io.Writer) error { return writeJSON(w, bestParams) }},
-		{"tune.csv", func(w io.Writer) error { return writeTuneCSV(w, t, *s, baseline) }},
-		{"tune.png", func(w io.Writer) error { return writeHeatmap(w, t, gridBest, best, all) }},
-	}
-	for _, wr := range writes {
-		if err := imageio.WriteAtomic(filepath.Join(o.out, wr.name), o.force, wr.fn); err != nil {
-			return exitFail, nil, err
-		}
-	}
-	rep.Seconds = time.Since(start).Seconds()
-	if err := imageio.WriteAtomic(filepath.Join(o.out, "tune.json"), o.force, func(w io.Writer) error { return writeJSON(w, rep) }); err != nil {
-		return exitFail, nil, err
-	}
-	tuneSummary(stdout, rep, len(images), o.out)
-	return exitOK, &rep, nil
+	tuneSummary(stdout, out.Report, len(cfg.Images), o.out)
+	return exitOK, &out.Report, nil
 }
 
 func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
-
-func firstError(es []*tune.Evaluation) string {
-	for _, e := range es {
-		for _, m := range e.Errs {
-			if m != "" {
-				return m
-			}
-		}
-	}
-	return "none recorded"
-}
 
 // withParam fixes one searched parameter in a settings value to the
 // single value of its axis, or to auto.
@@ -597,102 +369,6 @@ func withParam(s settings, d tune.Param, ax tune.Axis) settings {
 	return s
 }
 
-// paramsFile is best.json: every parameter of the settings (the fixed ones
-// passed through) with the tuned values, numbers where the value is one.
-func paramsFile(space *tune.Space, s *settings, p tune.Point) map[string]any {
-	m := s.Map()
-	for _, d := range tune.Params() {
-		switch {
-		case space[d].Auto:
-			m[d.String()] = "auto"
-		case d.Integer():
-			m[d.String()] = int64(p[d])
-		default:
-			m[d.String()] = p[d]
-		}
-	}
-	return m
-}
-
-func writeJSON(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
-}
-
-// csvMeans are the metrics whose mean over the images tune.csv lists.
-var csvMeans = []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricBF, score.MetricCovering}
-
-// writeTuneCSV writes every evaluation in the order evaluated: its stage,
-// the parameters, the tuned metric per image, the means, the seconds (with
-// the shared work), for settings timed the median seconds per image, and
-// the mean cost per image (tune.Cost) that breaks ties. The baseline row
-// shows the fixed settings s as given.
-func writeTuneCSV(w io.Writer, t *tune.Tuner, s settings, baseline *tune.Evaluation) error {
-	cw := csv.NewWriter(w)
-	all := t.All()
-	head := []string{"stage"}
-	for _, d := range tune.Params() {
-		head = append(head, d.String())
-	}
-	for _, n := range t.Names {
-		head = append(head, t.Metric.String()+":"+n)
-	}
-	for _, m := range csvMeans {
-		head = append(head, "mean_"+m.String())
-	}
-	head = append(head, "seconds", "seconds_per_image", "cost_per_image", "error")
-	if err := cw.Write(head); err != nil {
-		return err
-	}
-	for _, e := range t.Order {
-		row := []string{e.Stage}
-		for _, d := range tune.Params() {
-			if e == baseline {
-				row = append(row, baselineText(s, d))
-			} else {
-				row = append(row, t.Space.Text(e.Point, d))
-			}
-		}
-		errText := ""
-		for j := range all {
-			if e.Errs[j] != "" {
-				row = append(row, "")
-				if errText == "" {
-					errText = csvText(t.Names[j] + ": " + e.Errs[j])
-				}
-			} else {
-				row = append(row, strconv.FormatFloat(e.Reports[j].Get(t.Metric), 'g', 10, 64))
-			}
-		}
-		for _, m := range csvMeans {
-			var sum float64
-			for j := range all {
-				sum += e.Reports[j].Get(m)
-			}
-			if errText != "" {
-				row = append(row, "")
-			} else {
-				row = append(row, strconv.FormatFloat(sum/float64(len(all)), 'g', 10, 64))
-			}
-		}
-		per := ""
-		if v := t.SecondsPerImage(e, all); !math.IsNaN(v) {
-			per = strconv.FormatFloat(v, 'f', 3, 64)
-		}
-		cost := ""
-		if c := t.CostPerImage(e, all); !math.IsNaN(c) {
-			cost = strconv.FormatFloat(c, 'f', 0, 64)
-		}
-		row = append(row, strconv.FormatFloat(e.Seconds, 'f', 3, 64), per, cost, errText)
-		if err := cw.Write(row); err != nil {
-			return err
-		}
-	}
-	cw.Flush()
-	return cw.Error()
-}
-
 // baselineText is a parameter of the baseline row as given.
 func baselineText(s settings, d tune.Param) string {
 	switch d {
@@ -711,7 +387,7 @@ func baselineText(s settings, d tune.Param) string {
 }
 
 // summary prints the short report on stdout.
-func tuneSummary(w io.Writer, rep tuneReport, nImages int, out string) {
+func tuneSummary(w io.Writer, rep tuning.Report, nImages int, out string) {
 	widened := ""
 	if rep.WidenedSettings > 0 {
 		widened = fmt.Sprintf(" + %d widened", rep.WidenedSettings)
@@ -750,6 +426,9 @@ func tuneSummary(w io.Writer, rep tuneReport, nImages int, out string) {
 	}
 	var parts []string
 	for _, d := range tune.Params() {
+		if _, ok := rep.Best[d.String()]; !ok {
+			continue
+		}
 		parts = append(parts, d.String()+" "+rep.Best[d.String()])
 	}
 	per := "time not measured"

@@ -1,16 +1,11 @@
 package main
 
 import (
-	"context"
 	"math"
 	"runtime"
 	"strconv"
 	"strings"
-	"time"
 
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
-	"github.com/cleave-seg/cleave/segment"
-	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
 
@@ -75,37 +70,6 @@ func parseSpec(d tune.Param, text string) (tune.Axis, error) {
 		}
 	}
 	return tune.NewAxis(d, vals, text), nil
-}
-
-// tuneObjective segments the decoded images with a parameter set and
-// scores each against its truth: tune's seam to the pipeline. Each call
-// runs on one thread.
-func tuneObjective(images []*pipeline.Loaded, truths [][]int32, tol float64) tune.Objective {
-	return func(ctx context.Context, p segment.Params, j int) (tune.Sample, error) {
-		res, err := pipeline.Segment(ctx, images[j], p)
-		if err != nil {
-			return tune.Sample{}, withFlags(err)
-		}
-		f := images[j].Features
-		m, err := score.Compare(ctx, res.Labels, truths[j], f.Width, f.Height, tol)
-		if err != nil {
-			return tune.Sample{}, withFlags(err)
-		}
-		return tune.Sample{Report: m, Cost: tune.Cost(res), Used: res.Params}, nil
-	}
-}
-
-// tuneTimer times one segmentation of a decoded image without the
-// search's shared work (its cache), so that the seconds are those of
-// 'cleave segment --params' on the decoded image.
-func tuneTimer(images []*pipeline.Loaded) tune.Timer {
-	return func(ctx context.Context, p segment.Params, j int) (float64, error) {
-		plain := *images[j]
-		plain.Cache = nil
-		start := time.Now()
-		_, err := pipeline.Segment(ctx, &plain, p)
-		return time.Since(start).Seconds(), withFlags(err)
-	}
 }
 
 // defaultWorkers is the number of concurrent segmentations (0: GOMAXPROCS).

@@ -1,4 +1,4 @@
-package main
+package tuning
 
 import (
 	"fmt"
@@ -7,20 +7,18 @@ import (
 	"math"
 	"strings"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
 
-// Heatmap size in pixels (render's).
-const plotW, plotH = render.HeatmapWidth, render.HeatmapHeight
-
-// heatmapRange is the colour range of tune.png, fixed in advance so that
+// HeatmapRange is the colour range of tune.png, fixed in advance so that
 // a small difference of scores looks small: the metric's whole range 0..1
 // for the scores bounded by 1 (ARI below 0 takes the low end), and for
-// VI (0 best, no fixed top) 0 up to the largest grid value rounded up to
-// 1, 2 or 5 times a power of ten.
-func heatmapRange(metric score.Metric, vmax float64) (lo, hi float64, note string) {
+// VI (0 best, no fixed top) 0 up to the largest grid value vmax rounded
+// up to 1, 2 or 5 times a power of ten.
+func HeatmapRange(metric score.Metric, vmax float64) (lo, hi float64, note string) {
 	if !metric.LowerIsBetter() {
 		return 0, 1, fmt.Sprintf("colour: %s from 0 to 1, its whole range, on the cividis scale", metric)
 	}
@@ -40,7 +38,15 @@ func heatmapRange(metric score.Metric, vmax float64) (lo, hi float64, note strin
 // writeHeatmap draws tune.png: the mean score over the sigma-i x sigma-x
 // grid with the other parameters at the best grid setting, the best grid
 // cell ringed and the refined best crossed (render.Heatmap).
-func writeHeatmap(w io.Writer, t *tune.Tuner, gridBest, best *tune.Evaluation, imgs []int) error {
+func (o *Outcome) writeHeatmap(w io.Writer) error {
+	h := o.heatmap()
+	return png.Encode(w, h.Draw())
+}
+
+// heatmap is tune.png's content.
+func (o *Outcome) heatmap() render.Heatmap {
+	t, gridBest, best := o.tuner, o.gridBest, o.best
+	imgs := t.All()
 	xs, ys := axisValues(t, tune.SigmaI), axisValues(t, tune.SigmaX)
 	h := render.Heatmap{Values: make([][]float64, len(ys))}
 	vmax := math.Inf(-1)
@@ -62,7 +68,7 @@ func writeHeatmap(w io.Writer, t *tune.Tuner, gridBest, best *tune.Evaluation, i
 			}
 		}
 	}
-	h.Lo, h.Hi, h.RangeNote = heatmapRange(t.Metric, vmax)
+	h.Lo, h.Hi, h.RangeNote = HeatmapRange(t.Metric, vmax)
 	for _, x := range xs {
 		h.ColTicks = append(h.ColTicks, tickText(t, tune.SigmaI, x))
 	}
@@ -75,9 +81,12 @@ func writeHeatmap(w io.Writer, t *tune.Tuner, gridBest, best *tune.Evaluation, i
 	if t.Metric.LowerIsBetter() {
 		name += " (lower is better)"
 	}
-	h.Title = fmt.Sprintf("mean %s over %s", name, plural(len(imgs), "image"))
+	h.Title = fmt.Sprintf("mean %s over %s", name, pipeline.Plural(len(imgs), "image"))
 	var fixedParts []string
-	for d := tune.MaxNcut; d < tune.NumParams; d++ {
+	for _, d := range Reported(&t.Space) {
+		if d == tune.SigmaI || d == tune.SigmaX {
+			continue
+		}
 		fixedParts = append(fixedParts, d.String()+" "+tickText(t, d, gridBest.Point[d]))
 	}
 	h.Caption = "at " + strings.Join(fixedParts, ", ")
@@ -88,7 +97,7 @@ func writeHeatmap(w io.Writer, t *tune.Tuner, gridBest, best *tune.Evaluation, i
 		}
 		h.Refined = &[2]float64{pos(best.Point[tune.SigmaI], xs), pos(best.Point[tune.SigmaX], ys)}
 	}
-	return png.Encode(w, h.Draw())
+	return h
 }
 
 // axisValues are the grid values of a heatmap axis (one NaN for auto).

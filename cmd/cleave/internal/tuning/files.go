@@ -1,0 +1,151 @@
+package tuning
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"time"
+
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
+	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/cleave-seg/cleave/segment/tune"
+)
+
+// Outputs are the files Write puts into its folder, in the order written
+// (tune.json last: it holds the seconds of the whole run).
+var Outputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
+
+// Write creates dir when missing and writes best.json, tune.csv, tune.png
+// and tune.json into it, each atomically (imageio.WriteAtomic, replacing
+// an existing file only when force is set). tune.json's seconds are those
+// since Config.Start.
+func (o *Outcome) Write(dir string, force bool) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("cannot create the output folder: %w", err)
+	}
+	writes := []struct {
+		name string
+		fn   func(io.Writer) error
+	}{
+		{"best.json", func(w io.Writer) error { return writeJSON(w, o.ParamsFile()) }},
+		{"tune.csv", o.writeCSV},
+		{"tune.png", o.writeHeatmap},
+	}
+	for _, wr := range writes {
+		if err := imageio.WriteAtomic(filepath.Join(dir, wr.name), force, wr.fn); err != nil {
+			return err
+		}
+	}
+	o.Report.Seconds = time.Since(o.cfg.Start).Seconds()
+	return imageio.WriteAtomic(filepath.Join(dir, "tune.json"), force, func(w io.Writer) error { return writeJSON(w, o.Report) })
+}
+
+// ParamsFile is best.json: every parameter of Config.Fixed with the tuned
+// values, numbers where the value is one, "auto" for an automatic axis,
+// on or off for a switch.
+func (o *Outcome) ParamsFile() map[string]any {
+	m := make(map[string]any, len(o.cfg.Fixed)+int(tune.NumParams))
+	for k, v := range o.cfg.Fixed {
+		m[k] = v
+	}
+	s, p := &o.tuner.Space, o.best.Point
+	for _, d := range tune.Params() {
+		switch {
+		case s[d].Auto:
+			m[d.String()] = "auto"
+		case d.Integer():
+			m[d.String()] = int64(p[d])
+		default:
+			m[d.String()] = p[d]
+		}
+	}
+	return m
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+// csvMeans are the metrics whose mean over the images tune.csv lists.
+var csvMeans = []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricBF, score.MetricCovering}
+
+// writeCSV writes tune.csv: every evaluation in the order evaluated, its
+// stage, the reported parameters, the tuned metric per image, the means,
+// the seconds (with the shared work), for settings timed the median
+// seconds per image, and the mean cost per image (tune.Cost) that breaks
+// ties. The baseline row shows the fixed settings as given
+// (Config.Given).
+func (o *Outcome) writeCSV(w io.Writer) error {
+	t := o.tuner
+	cw := csv.NewWriter(w)
+	all := t.All()
+	params := Reported(&t.Space)
+	head := []string{"stage"}
+	for _, d := range params {
+		head = append(head, d.String())
+	}
+	for _, n := range t.Names {
+		head = append(head, t.Metric.String()+":"+n)
+	}
+	for _, m := range csvMeans {
+		head = append(head, "mean_"+m.String())
+	}
+	head = append(head, "seconds", "seconds_per_image", "cost_per_image", "error")
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	for _, e := range t.Order {
+		row := []string{e.Stage}
+		for _, d := range params {
+			if e == o.baseline {
+				row = append(row, o.cfg.Given[d])
+			} else {
+				row = append(row, t.Space.Text(e.Point, d))
+			}
+		}
+		errText := ""
+		for j := range all {
+			if e.Errs[j] != "" {
+				row = append(row, "")
+				if errText == "" {
+					errText = batch.CSVText(t.Names[j] + ": " + e.Errs[j])
+				}
+			} else {
+				row = append(row, strconv.FormatFloat(e.Reports[j].Get(t.Metric), 'g', 10, 64))
+			}
+		}
+		for _, m := range csvMeans {
+			var sum float64
+			for j := range all {
+				sum += e.Reports[j].Get(m)
+			}
+			if errText != "" {
+				row = append(row, "")
+			} else {
+				row = append(row, strconv.FormatFloat(sum/float64(len(all)), 'g', 10, 64))
+			}
+		}
+		per := ""
+		if v := t.SecondsPerImage(e, all); !math.IsNaN(v) {
+			per = strconv.FormatFloat(v, 'f', 3, 64)
+		}
+		cost := ""
+		if c := t.CostPerImage(e, all); !math.IsNaN(c) {
+			cost = strconv.FormatFloat(c, 'f', 0, 64)
+		}
+		row = append(row, strconv.FormatFloat(e.Seconds, 'f', 3, 64), per, cost, errText)
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
