@@ -6,8 +6,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"errors"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
-	"github.com/cleave-seg/cleave/imageio/render"
+	"fmt"
 	"image/png"
 	"math"
 	"os"
@@ -18,7 +17,9 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -277,6 +278,83 @@ func TestParseSpec(t *testing.T) {
 	}{{tune.SigmaI, "1e-9"}, {tune.SigmaI, "0.1,200"}, {tune.SigmaX, "1:1e7:3"}, {tune.MaxNcut, "0.1,3"}, {tune.Compactness, "20,1e5"}, {tune.Superpixels, "2000000"}} {
 		if _, err := parseSpec(c.d, c.spec); err == nil || !strings.Contains(err.Error(), "outside the range") {
 			t.Errorf("--%s %s: error %v, want one about the range", c.d, c.spec, err)
+		}
+	}
+}
+
+// --necks takes on, off or both; anything else is refused naming the flag.
+func TestParseSpecNecks(t *testing.T) {
+	for spec, want := range map[string][]float64{"on": {tune.On}, "off": {tune.Off}, "on,off": {tune.Off, tune.On}, " off , on ": {tune.Off, tune.On}} {
+		ax, err := parseSpec(tune.Necks, spec)
+		if err != nil || !slices.Equal(ax.Values, want) || ax.Refinable() {
+			t.Errorf("%q: %+v, %v; want %v", spec, ax, err, want)
+		}
+	}
+	for _, bad := range []string{"auto", "1", "on,maybe", "", "yes"} {
+		if _, err := parseSpec(tune.Necks, bad); err == nil || !strings.Contains(err.Error(), "--necks") {
+			t.Errorf("%q: error %v", bad, err)
+		}
+	}
+}
+
+// --necks on,off searches the shape split: tune.csv gains a necks column
+// holding on and off, tune.json lists its grid as on/off (not refined),
+// best.json names the chosen value as a params file gives it; without
+// --necks, or with one value, there is no necks column and best.json
+// holds the value given (default on).
+func TestTuneNecks(t *testing.T) {
+	dir := t.TempDir()
+	writeNuclei(t, dir, 13150, 1, 112)
+	fixed := []string{"--classes", "2", "--background", "dark", "--superpixels", "300", "--sigma-i", "0.02", "--sigma-x", "8",
+		"--max-ncut", "0.15", "--budget", "0", "--folds", "0"}
+	for _, c := range []struct {
+		name   string
+		necks  []string
+		column bool
+		best   []string // the values best.json may hold
+	}{
+		{"searched", []string{"--necks", "on,off"}, true, []string{"on", "off"}},
+		{"default", nil, false, []string{"on"}},
+		{"off", []string{"--necks", "off"}, false, []string{"off"}},
+	} {
+		out := filepath.Join(dir, "tuned-"+c.name)
+		runOK(t, append(append([]string{"tune", "--images", dir, "--truth", dir, "--out", out}, fixed...), c.necks...)...)
+		rows := readCSV(t, filepath.Join(out, "tune.csv"))
+		col := slices.Index(rows[0], "necks")
+		if (col >= 0) != c.column {
+			t.Errorf("%s: tune.csv header %v", c.name, rows[0])
+		}
+		var rep tuning.Report
+		var best map[string]any
+		for name, v := range map[string]any{"tune.json": &rep, "best.json": &best} {
+			raw, err := os.ReadFile(filepath.Join(out, name))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := json.Unmarshal(raw, v); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if !slices.Contains(c.best, fmt.Sprint(best["necks"])) {
+			t.Errorf("%s: best.json necks %v, want one of %v", c.name, best["necks"], c.best)
+		}
+		if !c.column {
+			if _, ok := rep.Space["necks"]; ok || rep.Best["necks"] != "" {
+				t.Errorf("%s: tune.json names necks: %v, %v", c.name, rep.Space["necks"], rep.Best)
+			}
+			continue
+		}
+		var seen []string
+		for _, r := range rows[1:] {
+			seen = append(seen, r[col])
+		}
+		slices.Sort(seen)
+		if !slices.Equal(slices.Compact(seen), []string{"off", "on"}) || len(rows) != 4 {
+			t.Errorf("%s: necks column %v in %d rows, want baseline on, then off and on", c.name, seen, len(rows))
+		}
+		sp, _ := rep.Space["necks"].(map[string]any)
+		if fmt.Sprint(sp["grid"]) != "[off on]" || sp["refined"] != false || rep.Best["necks"] != best["necks"] {
+			t.Errorf("%s: tune.json search space %v, best %v; best.json %v", c.name, sp, rep.Best["necks"], best["necks"])
 		}
 	}
 }

@@ -124,6 +124,7 @@ var searchFlagHelp = [tune.NumParams]string{
 	"pixel-graph radii to search, e.g. 3,5,8 (default 5; matters only with a pixel graph)",
 	"superpixel counts to search, e.g. 800,1500,3000; 0 = pixel graph (default auto)",
 	"SLIC compactness values to search (default 20)",
+	"with --background dark or bright, the shape split of touching objects: on, off, or on,off to search both (on = cut also where the outline is pinched, off = only along seams; default on)",
 }
 
 func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
@@ -320,6 +321,9 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if !given[tune.Compactness] {
 		cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
 	}
+	if !given[tune.Necks] {
+		cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
+	}
 	cfg.Fixed = s.Map()
 	for _, d := range tune.Params() {
 		cfg.Given[d] = baselineText(*s, d)
@@ -365,6 +369,8 @@ func withParam(s settings, d tune.Param, ax tune.Axis) settings {
 		s.Radius = int(v)
 	case tune.Compactness:
 		s.Compactness = v
+	case tune.Necks:
+		s.Necks = tune.OnOff(v)
 	}
 	return s
 }
@@ -382,6 +388,8 @@ func baselineText(s settings, d tune.Param) string {
 		return tune.FormatValue(s.MaxNcut)
 	case tune.Radius:
 		return strconv.Itoa(s.Radius)
+	case tune.Necks:
+		return s.NecksAsked()
 	}
 	return tune.FormatValue(s.Compactness)
 }

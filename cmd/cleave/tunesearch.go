@@ -11,11 +11,26 @@ import (
 
 // parseSpec reads a search axis as tune's flags give it: A:B:N (N values
 // log-spaced from A to B, both included), a list a,b,c, a single value, or
-// auto where the parameter allows it. Every error is a usage error naming
+// auto where the parameter allows it; a switch (--necks) takes on, off or
+// both (on,off). Every error is a usage error naming
 // the flag.
 func parseSpec(d tune.Param, text string) (tune.Axis, error) {
 	name := d.String()
 	t := strings.TrimSpace(text)
+	if d.Switch() {
+		var vals []float64
+		for _, s := range strings.Split(t, ",") {
+			switch strings.TrimSpace(s) {
+			case "on":
+				vals = append(vals, tune.On)
+			case "off":
+				vals = append(vals, tune.Off)
+			default:
+				return tune.Axis{}, usagef("--%s: %q is not on or off (want on, off or on,off)", name, s)
+			}
+		}
+		return tune.NewAxis(d, vals, text), nil
+	}
 	if strings.EqualFold(t, "auto") {
 		if !d.CanBeAuto() {
 			return tune.Axis{}, usagef("--%s cannot be auto", name)

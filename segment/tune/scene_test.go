@@ -50,6 +50,7 @@ func sceneTuner(t *testing.T, workers int) *Tuner {
 	tn.Space[Radius] = DefaultAxis(Radius, []float64{5})
 	tn.Space[Superpixels] = DefaultAxis(Superpixels, []float64{300})
 	tn.Space[Compactness] = DefaultAxis(Compactness, []float64{20})
+	tn.Space[Necks] = DefaultAxis(Necks, []float64{On})
 	return tn
 }
 

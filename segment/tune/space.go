@@ -29,10 +29,20 @@ const (
 	Radius
 	Superpixels
 	Compactness
+	// Necks is the shape split of touching objects: on (1) re-cuts them
+	// through the neck of their joined shape as well as along seams, off
+	// (0) along seams only (segment.Params.SeamsOnly).
+	Necks
 	NumParams
 )
 
-var paramNames = [NumParams]string{"sigma-i", "sigma-x", "max-ncut", "radius", "superpixels", "compactness"}
+// The values of a switch (Param.Switch) in a Point.
+const (
+	Off = 0.0
+	On  = 1.0
+)
+
+var paramNames = [NumParams]string{"sigma-i", "sigma-x", "max-ncut", "radius", "superpixels", "compactness", "necks"}
 
 // String is the parameter's name, as segment.ParamError names it.
 func (d Param) String() string {
@@ -53,6 +63,10 @@ func Params() []Param {
 
 // Integer reports whether the parameter takes whole numbers.
 func (d Param) Integer() bool { return d == Radius || d == Superpixels }
+
+// Switch reports whether the parameter is on or off (Off, On in a Point;
+// "off", "on" in text): never refined or widened, only its values tried.
+func (d Param) Switch() bool { return d == Necks }
 
 // CanBeAuto reports whether segment.Params can leave the parameter to the
 // image (AutoSigmaI, AutoSigmaX, Superpixels < 0).
@@ -76,6 +90,8 @@ func (d Param) Bounds() (lo, hi float64) {
 		return 0, segment.MaxSuperpixels
 	case Compactness:
 		return 0, segment.MaxCompactness
+	case Necks:
+		return Off, On
 	}
 	panic("tune: no bounds for " + d.String())
 }
@@ -95,8 +111,20 @@ type Axis struct {
 }
 
 // Refinable reports whether the pattern search moves this parameter: a
-// continuous parameter with at least two grid values.
-func (a Axis) Refinable() bool { return !a.Param.Integer() && !a.Auto && len(a.Values) > 1 }
+// continuous parameter (not a whole number, not a switch) with at least
+// two grid values.
+func (a Axis) Refinable() bool {
+	return !a.Param.Integer() && !a.Param.Switch() && !a.Auto && len(a.Values) > 1
+}
+
+// Texts are the axis' values as reports print them (Space.Text).
+func (a Axis) Texts() []string {
+	t := make([]string, len(a.Values))
+	for i, v := range a.Values {
+		t[i] = valueText(a.Param, v)
+	}
+	return t
+}
 
 // logStep is the mean spacing of the grid values in log space.
 func (a Axis) logStep() float64 {
@@ -104,11 +132,12 @@ func (a Axis) logStep() float64 {
 	return math.Log(a.Values[n-1]/a.Values[0]) / float64(n-1)
 }
 
-// Round is a value as an axis keeps it: whole for an integer parameter,
-// else rounded to 4 significant digits, so that every evaluated value is
-// short in files and exactly the value a parameters file reproduces.
+// Round is a value as an axis keeps it: whole for an integer parameter or
+// a switch, else rounded to 4 significant digits, so that every evaluated
+// value is short in files and exactly the value a parameters file
+// reproduces.
 func (d Param) Round(v float64) float64 {
-	if d.Integer() {
+	if d.Integer() || d.Switch() {
 		return math.Round(v)
 	}
 	return Sig4(v)
@@ -122,6 +151,23 @@ func Sig4(v float64) float64 {
 
 // FormatValue is the shortest text of v that reads back as v.
 func FormatValue(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// OnOff is the text of a switch's value: "on" for On, else "off".
+func OnOff(v float64) string {
+	if v == On {
+		return "on"
+	}
+	return "off"
+}
+
+// valueText is a value of d as text: on or off for a switch, else the
+// number (FormatValue).
+func valueText(d Param, v float64) string {
+	if d.Switch() {
+		return OnOff(v)
+	}
+	return FormatValue(v)
+}
 
 // NewAxis is the axis of the given values: rounded (Param.Round), sorted,
 // duplicates removed. It does not check the bounds (see Clamped).
@@ -147,14 +193,14 @@ func DefaultAxis(d Param, values []float64) Axis {
 	vals := slices.Clone(values)
 	for i, v := range vals {
 		if !d.Integer() {
-			v = Sig4(v)
+			v = d.Round(v)
 		}
 		vals[i] = min(max(v, lo), hi)
 	}
 	vals = slices.Compact(vals)
 	parts := make([]string, len(vals))
 	for i, v := range vals {
-		parts[i] = FormatValue(v)
+		parts[i] = valueText(d, v)
 	}
 	return Axis{Param: d, Values: vals, Spec: strings.Join(parts, ",") + " (default)"}
 }
@@ -197,12 +243,12 @@ func (s *Space) Grid() []Point {
 }
 
 // Text is the value of parameter d at p as reports print it: "auto" for
-// an automatic axis.
+// an automatic axis, on or off for a switch.
 func (s *Space) Text(p Point, d Param) string {
 	if s[d].Auto {
 		return "auto"
 	}
-	return FormatValue(p[d])
+	return valueText(d, p[d])
 }
 
 // Key identifies a point: the values of the parameters in order.
@@ -257,6 +303,8 @@ func With(ps segment.Params, d Param, v float64, auto bool) segment.Params {
 		ps.Radius = int(v)
 	case Compactness:
 		ps.Compactness = v
+	case Necks:
+		ps.SeamsOnly = v != On
 	}
 	return ps
 }
@@ -264,12 +312,15 @@ func With(ps segment.Params, d Param, v float64, auto bool) segment.Params {
 // smoother orders settings from the smoothest: wider kernels (a larger
 // sigma-x, then a larger sigma-i make affinities vary less), a stricter
 // stop threshold (smaller max-ncut: fewer splits), fewer superpixels, a
-// larger radius, rounder superpixels (larger compactness).
+// larger radius, rounder superpixels (larger compactness); last, necks on
+// before off: when nothing else differs and the scores tie, the truth
+// cannot tell the two apart, and on is the library's default
+// (segment.DefaultParams).
 func smoother(a, b Point) bool {
 	for _, c := range []struct {
 		d    Param
 		sign float64
-	}{{SigmaX, 1}, {SigmaI, 1}, {MaxNcut, -1}, {Superpixels, -1}, {Radius, 1}, {Compactness, 1}} {
+	}{{SigmaX, 1}, {SigmaI, 1}, {MaxNcut, -1}, {Superpixels, -1}, {Radius, 1}, {Compactness, 1}, {Necks, 1}} {
 		if a[c.d] != b[c.d] {
 			return c.sign*(a[c.d]-b[c.d]) > 0
 		}

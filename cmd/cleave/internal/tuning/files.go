@@ -48,7 +48,7 @@ func (o *Outcome) Write(dir string, force bool) error {
 
 // ParamsFile is best.json: every parameter of Config.Fixed with the tuned
 // values, numbers where the value is one, "auto" for an automatic axis,
-// on or off for a switch.
+// "on" or "off" for a switch (as a params file gives necks).
 func (o *Outcome) ParamsFile() map[string]any {
 	m := make(map[string]any, len(o.cfg.Fixed)+int(tune.NumParams))
 	for k, v := range o.cfg.Fixed {
@@ -59,6 +59,8 @@ func (o *Outcome) ParamsFile() map[string]any {
 		switch {
 		case s[d].Auto:
 			m[d.String()] = "auto"
+		case d.Switch():
+			m[d.String()] = tune.OnOff(p[d])
 		case d.Integer():
 			m[d.String()] = int64(p[d])
 		default:

@@ -112,5 +112,8 @@ func tickText(t *tune.Tuner, d tune.Param, v float64) string {
 	if t.Space[d].Auto || math.IsNaN(v) {
 		return "auto"
 	}
+	if d.Switch() {
+		return tune.OnOff(v)
+	}
 	return strings.TrimSuffix(fmt.Sprintf("%.4g", v), ".")
 }

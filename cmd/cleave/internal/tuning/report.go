@@ -89,9 +89,20 @@ func meanOf(e *tune.Evaluation) *score.Report {
 	return &m
 }
 
-// Reported lists the searched parameters the files and the report name.
+// Reported lists the searched parameters the files and the report name:
+// every one but the necks switch, which is named only when both its
+// values are searched, so that a run that keeps it as given writes the
+// files it wrote before the switch could be searched (best.json names it
+// always, as every parameter).
 func Reported(s *tune.Space) []tune.Param {
-	return tune.Params()
+	var ps []tune.Param
+	for _, d := range tune.Params() {
+		if d == tune.Necks && len(s[d].Values) < 2 {
+			continue
+		}
+		ps = append(ps, d)
+	}
+	return ps
 }
 
 // stringsOf are the reported parameters of p as text, by name.
@@ -166,7 +177,11 @@ func newReport(cfg *Config, t *tune.Tuner, res *tune.Result, baseline *tune.Eval
 				n++
 			}
 		}
-		rep.Space[d.String()] = map[string]any{"spec": ax.Spec, "grid": ax.Values, "refined": ax.Refinable(), "widened": n}
+		var grid any = ax.Values
+		if d.Switch() {
+			grid = ax.Texts() // on, off as in a params file
+		}
+		rep.Space[d.String()] = map[string]any{"spec": ax.Spec, "grid": grid, "refined": ax.Refinable(), "widened": n}
 	}
 	for _, e := range t.Order {
 		switch e.Stage {

@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -83,6 +84,7 @@ func testConfig(t *testing.T, pairs []Pair) *Config {
 	cfg.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{5})
 	cfg.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{300})
 	cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{20})
+	cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
 	for d := range tune.NumParams {
 		cfg.Given[d] = "given-" + d.String()
 	}
@@ -177,6 +179,9 @@ func TestRunOnScenes(t *testing.T) {
 	}
 	if len(rows) != rep.Evaluations+2 || rows[1][0] != "baseline" || rows[1][1] != "given-sigma-i" {
 		t.Fatalf("tune.csv: %d rows (want %d), baseline row %v", len(rows), rep.Evaluations+2, rows[1])
+	}
+	if slices.Contains(rows[0], "necks") {
+		t.Errorf("tune.csv names necks, which was not searched: %v", rows[0])
 	}
 	col := map[string]int{}
 	for i, h := range rows[0] {
@@ -277,5 +282,25 @@ func TestHeatmapRange(t *testing.T) {
 func TestRunNoImages(t *testing.T) {
 	if _, err := Run(ctx, &Config{}); err == nil {
 		t.Error("no images accepted")
+	}
+}
+
+// The necks switch is reported (tune.csv, tune.json) only when both its
+// values are searched; the other parameters always.
+func TestReported(t *testing.T) {
+	var s tune.Space
+	s[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
+	if got := Reported(&s); len(got) != int(tune.NumParams)-1 || slices.Contains(got, tune.Necks) {
+		t.Errorf("necks fixed: reported %v", got)
+	}
+	s[tune.Necks] = tune.NewAxis(tune.Necks, []float64{tune.On, tune.Off}, "on,off")
+	if got := Reported(&s); len(got) != int(tune.NumParams) || got[len(got)-1] != tune.Necks {
+		t.Errorf("necks searched: reported %v", got)
+	}
+	m := map[string]string{"sigma-i": "0.1", "necks": "on"}
+	s[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.Off})
+	trim(&s, m)
+	if _, ok := m["necks"]; ok || m["sigma-i"] != "0.1" {
+		t.Errorf("trim: %v", m)
 	}
 }
