@@ -14,6 +14,7 @@ import (
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/outlock"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/spf13/pflag"
 )
@@ -250,7 +251,7 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions, stderr io.Wri
 	}
 	c := batch.Config{InputDir: flags.Arg(0), Out: o.out, Include: o.include, Exclude: o.exclude, Recursive: o.recursive, WithTruths: o.withTruths,
 		FailFast: o.failFast, Quiet: o.quiet, Prune: o.prune, Jobs: o.jobs, Workers: o.workers, ShardI: 0, ShardN: 1,
-		ProgressEvery: o.progressEvery, Request: *s, IsTruth: isTruthName, Voice: voice(), Log: stderr}
+		ProgressEvery: o.progressEvery, Request: *s, IsTruth: scoring.IsTruthName, Voice: voice(), Log: stderr}
 	if o.shard == shardAuto {
 		var err error
 		if c.ShardI, c.ShardN, c.ShardFrom, err = shardFromEnv(os.LookupEnv); err != nil {

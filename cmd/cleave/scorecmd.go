@@ -2,8 +2,7 @@ package main
 
 import (
 	"context"
-	"encoding/csv"
-	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -12,19 +11,14 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/spf13/pflag"
 )
 
 // metricNames are the names of ms (their json keys and columns).
-func metricNames(ms []score.Metric) []string {
-	names := make([]string, len(ms))
-	for i, m := range ms {
-		names[i] = m.String()
-	}
-	return names
-}
+func metricNames(ms []score.Metric) []string { return scoring.MetricNames(ms) }
 
 // defaultTolerance is the boundary matching tolerance in pixels: a choice
 // for images a few hundred pixels wide (Martin, Fowlkes and Malik 2004 scale
@@ -114,28 +108,6 @@ func scoreFlags() (*pflag.FlagSet, *scoreOptions) {
 	return fs, o
 }
 
-// scoredPair is one scored pair.
-type scoredPair struct {
-	Name  string `json:"name"`
-	Pred  string `json:"pred"`
-	Truth string `json:"truth"`
-	score.Report
-	PredMap  mapReading `json:"-"`
-	TruthMap mapReading `json:"-"`
-	// PredMask and TruthMask are set when that side is a binary mask
-	// (absent for label maps, so their JSON is as before).
-	PredMask  *mapReading `json:"pred_map,omitempty"`
-	TruthMask *mapReading `json:"truth_map,omitempty"`
-}
-
-// masksOnly is r when it is a binary mask, else nil (the JSON keys).
-func masksOnly(r mapReading) *mapReading {
-	if r.Kind == readLabels {
-		return nil
-	}
-	return &r
-}
-
 // addSplitMasksFlag registers --split-masks (score and tune).
 func addSplitMasksFlag(fs *pflag.FlagSet, v *string) {
 	fs.StringVar(v, "split-masks", "on", "on: a label image holding only 0 and one other value is a binary mask, and its 8-connected components (sides and corners) are the objects; off: it is scored as it is, one label")
@@ -152,55 +124,15 @@ func parseSplitMasks(v string) (bool, error) {
 	return false, usagef("--split-masks must be on or off, got %q", v)
 }
 
-// How a label image was read for scoring (mapReading.Kind).
-const (
-	readLabels         = "labels"          // a label map: values as they are
-	readMaskComponents = "mask-components" // a binary mask, its 8-connected components numbered 1..n
-	readMaskUnsplit    = "mask-unsplit"    // a binary mask kept as one label (--split-masks off)
-)
-
-// mapReading says how one label image was read: as labels or as a binary
-// mask, and how many objects (labels above 0) were scored.
-type mapReading struct {
-	Kind    string `json:"kind"`
-	Objects int    `json:"objects"`
-}
-
-// describe is the reading in words, for the text output.
-func (r mapReading) describe() string {
+// describe is a reading in words, for the text output.
+func describe(r scoring.Reading) string {
 	switch r.Kind {
-	case readMaskComponents:
+	case scoring.KindMaskComponents:
 		return fmt.Sprintf("a binary mask (0 and one other value): its %s, the 8-connected components, were scored (--split-masks off scores it as one label)", plural(r.Objects, "object"))
-	case readMaskUnsplit:
+	case scoring.KindMaskUnsplit:
 		return "a binary mask (0 and one other value), scored as one label (--split-masks off)"
 	}
 	return fmt.Sprintf("a label map of %s", plural(r.Objects, "object"))
-}
-
-// readScoreMap reads a label image for scoring (imageio.ReadLabels) and,
-// when split is set and it is a binary mask (score.BinaryValue), replaces
-// it by its 8-connected components (score.MaskComponents): hand-drawn
-// annotations and thresholded masks are saved that way, and read as one
-// label they would make every object one.
-func readScoreMap(path string, split bool) ([]int32, int, int, mapReading, error) {
-	labels, w, h, err := imageio.ReadLabels(path)
-	if err != nil {
-		return nil, 0, 0, mapReading{}, err
-	}
-	if _, binary := score.BinaryValue(labels); binary {
-		if !split {
-			return labels, w, h, mapReading{Kind: readMaskUnsplit, Objects: 1}, nil
-		}
-		comp, n := score.MaskComponents(labels, w, h)
-		return comp, w, h, mapReading{Kind: readMaskComponents, Objects: n}, nil
-	}
-	seen := map[int32]bool{}
-	for _, l := range labels {
-		if l != 0 {
-			seen[l] = true
-		}
-	}
-	return labels, w, h, mapReading{Kind: readLabels, Objects: len(seen)}, nil
 }
 
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -239,26 +171,26 @@ func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) 
 		fmt.Fprintf(stderr, "cleave score: truth: %v\n", err)
 		return exitFail, nil
 	}
-	var pairs []pair
+	var pairs []scoring.Pair
 	folders := pst.IsDir()
 	switch {
 	case pst.IsDir() != tst.IsDir():
 		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
 		return exitUsage, nil
 	case folders:
-		var un unpairedFiles
-		if pairs, un, err = pairScore(predArg, truthArg); err != nil {
+		var un scoring.Unpaired
+		if pairs, un, err = scoring.PairPredictions(predArg, truthArg); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
 			return exitFail, nil
 		}
-		if un.count() > 0 && !o.pairedOnly {
+		if un.Count() > 0 && !o.pairedOnly {
 			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", unpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
 			return exitFail, nil
 		}
-		for _, f := range un.noTruth {
+		for _, f := range un.NoTruth {
 			fmt.Fprintf(stderr, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truthArg)
 		}
-		for _, f := range un.noPred {
+		for _, f := range un.NoPred {
 			fmt.Fprintf(stderr, "cleave score: not scored: %s has no prediction in %s\n", f, predArg)
 		}
 		if len(pairs) == 0 {
@@ -266,103 +198,61 @@ func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) 
 			return exitFail, nil
 		}
 	default:
-		pairs = []pair{{name: stemOf(predArg), image: predArg, truth: truthArg}}
+		pairs = []scoring.Pair{{Name: stemOf(predArg), Image: predArg, Truth: truthArg}}
 	}
-	var scored []scoredPair
-	for _, p := range pairs {
-		if ctx.Err() != nil {
-			fmt.Fprintln(stderr, "cleave score: interrupted")
-			return exitFail, nil
-		}
-		m, pr, tr, err := scoreFiles(ctx, p.image, p.truth, o.tolerance, split)
-		if ctx.Err() != nil {
-			fmt.Fprintln(stderr, "cleave score: interrupted")
-			return exitFail, nil
-		}
-		if err != nil {
-			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitCode(err), nil
-		}
-		scored = append(scored, scoredPair{Name: p.name, Pred: p.image, Truth: p.truth, Report: m, PredMap: pr, TruthMap: tr, PredMask: masksOnly(pr), TruthMask: masksOnly(tr)})
+	res, err := scoring.Score(ctx, pairs, o.tolerance, split)
+	switch {
+	case ctx.Err() != nil:
+		fmt.Fprintln(stderr, "cleave score: interrupted")
+		return exitFail, nil
+	case err != nil:
+		err = scoreErr(err)
+		fmt.Fprintf(stderr, "cleave score: %v\n", err)
+		return exitCode(err), nil
 	}
-	all := make([]score.Report, len(scored))
-	for i, s := range scored {
-		all[i] = s.Report
-	}
-	mean := score.Mean(all)
 	if o.csv != "" {
-		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return writeScoreCSV(w, scored, mean, folders) }); err != nil {
+		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return scoring.WriteCSV(w, res, folders) }); err != nil {
 			fmt.Fprintf(stderr, "cleave score: --csv: %v\n", err)
 			return exitFail, nil
 		}
 	}
 	if o.json {
-		enc := json.NewEncoder(stdout)
-		enc.SetIndent("", "  ")
-		var v any = struct {
-			score.Report
-			PredMask  *mapReading `json:"pred_map,omitempty"`
-			TruthMask *mapReading `json:"truth_map,omitempty"`
-		}{scored[0].Report, scored[0].PredMask, scored[0].TruthMask}
-		if folders {
-			v = struct {
-				Pairs []scoredPair `json:"pairs"`
-				Mean  score.Report `json:"mean"`
-			}{scored, mean}
-		}
-		if err := enc.Encode(v); err != nil {
+		if err := scoring.WriteJSON(stdout, res, folders); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
 			return exitFail, nil
 		}
-		return exitOK, &mean
+		return exitOK, &res.Mean
 	}
-	writeScoreTable(stdout, scored, mean, folders, o.tolerance)
-	return exitOK, &mean
+	writeScoreTable(stdout, res.Pairs, res.Mean, folders, o.tolerance)
+	return exitOK, &res.Mean
 }
 
-// scoreFiles reads a prediction and a truth label image (binary masks
-// split into their components when split is set, readScoreMap) and scores
-// them; it returns how each was read.
-func scoreFiles(ctx context.Context, predPath, truthPath string, tol float64, split bool) (m score.Report, pr, tr mapReading, err error) {
-	pred, pw, ph, pr, err := readScoreMap(predPath, split)
-	if err != nil {
-		return score.Report{}, pr, tr, fmt.Errorf("prediction %w", err)
+// scoreErr is an error of scoring in the command's words: a tolerance
+// above an image's diagonal is a usage error naming --tolerance.
+func scoreErr(err error) error {
+	var te *scoring.ToleranceError
+	if errors.As(err, &te) {
+		return &usageError{err}
 	}
-	truth, tw, th, tr, err := readScoreMap(truthPath, split)
-	if err != nil {
-		return score.Report{}, pr, tr, fmt.Errorf("truth %w", err)
-	}
-	if pw != tw || ph != th {
-		return score.Report{}, pr, tr, fmt.Errorf("%s is %dx%d but its truth %s is %dx%d; a prediction and its truth must have the same size", predPath, pw, ph, truthPath, tw, th)
-	}
-	if err := checkTolerance(tol, predPath, pw, ph); err != nil {
-		return score.Report{}, pr, tr, err
-	}
-	m, err = score.Compare(ctx, pred, truth, pw, ph, tol)
-	return m, pr, tr, err
+	return err
 }
 
 // checkTolerance refuses a boundary tolerance above the diagonal of a
-// width x height label map (file path): no two pixels lie farther apart,
-// so a larger tolerance is a mistake, not a stricter or looser score. It
-// is a usage error (exit 2).
+// width x height label map (file path) as a usage error (exit 2).
 func checkTolerance(tol float64, path string, width, height int) error {
-	if diag := math.Hypot(float64(width), float64(height)); tol > diag {
-		return usagef("--tolerance %g is larger than the diagonal of %s (%dx%d: %.0f pixels); give at most %.0f", tol, path, width, height, diag, math.Floor(diag))
-	}
-	return nil
+	return scoreErr(scoring.CheckTolerance(tol, path, width, height))
 }
 
 func fmtMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
 
 // writeScoreTable prints the readable table: metric per line for one pair,
 // a row per pair and the mean for folders.
-func writeScoreTable(w io.Writer, scored []scoredPair, mean score.Report, folders bool, tol float64) {
+func writeScoreTable(w io.Writer, scored []scoring.Scored, mean score.Report, folders bool, tol float64) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	if !folders {
 		fmt.Fprintf(w, "%s vs %s\n", scored[0].Pred, scored[0].Truth)
-		fmt.Fprintf(w, "prediction: %s\n", scored[0].PredMap.describe())
-		fmt.Fprintf(w, "truth:      %s\n", scored[0].TruthMap.describe())
+		fmt.Fprintf(w, "prediction: %s\n", describe(scored[0].PredMap))
+		fmt.Fprintf(w, "truth:      %s\n", describe(scored[0].TruthMap))
 		for _, m := range score.Metrics() {
 			fmt.Fprintf(tw, "%s\t%s\t\n", m, fmtMetric(scored[0].Get(m)))
 		}
@@ -388,12 +278,12 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean score.Report, folder
 	for _, s := range scored {
 		for _, side := range []struct {
 			what string
-			r    mapReading
+			r    scoring.Reading
 		}{{"prediction", s.PredMap}, {"truth", s.TruthMap}} {
 			switch side.r.Kind {
-			case readMaskComponents:
+			case scoring.KindMaskComponents:
 				masks = append(masks, fmt.Sprintf("%s %s: binary mask, %s (8-connected components)", s.Name, side.what, plural(side.r.Objects, "object")))
-			case readMaskUnsplit:
+			case scoring.KindMaskUnsplit:
 				masks = append(masks, fmt.Sprintf("%s %s: binary mask, one label (--split-masks off)", s.Name, side.what))
 			}
 		}
@@ -404,36 +294,15 @@ func writeScoreTable(w io.Writer, scored []scoredPair, mean score.Report, folder
 	fmt.Fprintf(w, "(boundary tolerance %g px; every metric in --json and --csv)\n", tol)
 }
 
-// writeScoreCSV writes one row per pair and, for folders, a final "mean"
-// row; names and paths are neutralized by csvText.
-func writeScoreCSV(w io.Writer, scored []scoredPair, mean score.Report, folders bool) error {
-	cw := csv.NewWriter(w)
-	head := append(append([]string{"name", "pred", "truth"}, metricNames(score.Metrics())...), "pred_map", "pred_objects", "truth_map", "truth_objects")
-	if err := cw.Write(head); err != nil {
-		return err
+// unpairedMessage describes the unpaired files of predDir and truthDir in
+// one line.
+func unpairedMessage(u scoring.Unpaired, predDir, truthDir string) string {
+	var msgs []string
+	if len(u.NoTruth) > 0 {
+		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(u.NoTruth, ", "))
 	}
-	rec := func(name, pred, truth string, m score.Report, pr, tr *mapReading) error {
-		r := []string{csvText(name), csvText(pred), csvText(truth)}
-		for _, v := range m.Values() {
-			r = append(r, strconv.FormatFloat(v, 'g', 17, 64))
-		}
-		if pr != nil {
-			r = append(r, pr.Kind, strconv.Itoa(pr.Objects), tr.Kind, strconv.Itoa(tr.Objects))
-		} else {
-			r = append(r, "", "", "", "")
-		}
-		return cw.Write(r)
+	if len(u.NoPred) > 0 {
+		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(u.NoPred, ", "))
 	}
-	for _, s := range scored {
-		if err := rec(s.Name, s.Pred, s.Truth, s.Report, &s.PredMap, &s.TruthMap); err != nil {
-			return err
-		}
-	}
-	if folders {
-		if err := rec("mean", "", "", mean, nil, nil); err != nil {
-			return err
-		}
-	}
-	cw.Flush()
-	return cw.Error()
+	return strings.Join(msgs, "; ")
 }

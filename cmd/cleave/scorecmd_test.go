@@ -15,6 +15,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -75,8 +76,8 @@ func TestScoreAgainstScikitLearn(t *testing.T) {
 		// mask as 0/1, applies unchanged, and the output says how it was
 		// read.
 		if c.Name == "blocks" {
-			var tm mapReading
-			if err := json.Unmarshal(all["truth_map"], &tm); err != nil || tm.Kind != readMaskComponents || tm.Objects != 1 {
+			var tm scoring.Reading
+			if err := json.Unmarshal(all["truth_map"], &tm); err != nil || tm.Kind != scoring.KindMaskComponents || tm.Objects != 1 {
 				t.Errorf("blocks: truth_map %s; want mask-components, 1 object", all["truth_map"])
 			}
 			delete(all, "truth_map")

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"io"
 	"math"
@@ -58,8 +59,8 @@ func loadMaskReference(t *testing.T) []maskReference {
 
 type scoreJSON struct {
 	score.Report
-	PredMap  mapReading `json:"pred_map"`  // Kind "" when absent: a label map
-	TruthMap mapReading `json:"truth_map"` // likewise
+	PredMap  scoring.Reading `json:"pred_map"`  // Kind "" when absent: a label map
+	TruthMap scoring.Reading `json:"truth_map"` // likewise
 }
 
 func scoreJSONOf(t *testing.T, args ...string) scoreJSON {
@@ -112,11 +113,11 @@ func TestScoreBinaryMasks(t *testing.T) {
 		if math.Abs(got.ARI-c.ARI) > 1e-12 {
 			t.Errorf("%s: ari %.15g; scikit-learn on scikit-image's labels %.15g", c.Name, got.ARI, c.ARI)
 		}
-		if got.TruthMap.Kind != readMaskComponents || got.TruthMap.Objects != c.TruthComp8 {
-			t.Errorf("%s: truth read as %+v; want %s with scikit-image's %d components", c.Name, got.TruthMap, readMaskComponents, c.TruthComp8)
+		if got.TruthMap.Kind != scoring.KindMaskComponents || got.TruthMap.Objects != c.TruthComp8 {
+			t.Errorf("%s: truth read as %+v; want %s with scikit-image's %d components", c.Name, got.TruthMap, scoring.KindMaskComponents, c.TruthComp8)
 		}
-		if c.PredBinary && (got.PredMap.Kind != readMaskComponents || got.PredMap.Objects != *c.PredComp8) {
-			t.Errorf("%s: prediction read as %+v; want %s with scikit-image's %d components", c.Name, got.PredMap, readMaskComponents, *c.PredComp8)
+		if c.PredBinary && (got.PredMap.Kind != scoring.KindMaskComponents || got.PredMap.Objects != *c.PredComp8) {
+			t.Errorf("%s: prediction read as %+v; want %s with scikit-image's %d components", c.Name, got.PredMap, scoring.KindMaskComponents, *c.PredComp8)
 		}
 		if !c.PredBinary && got.PredMap.Kind != "" {
 			t.Errorf("%s: prediction read as %+v; want a label map (no pred_map key)", c.Name, got.PredMap)
@@ -134,7 +135,7 @@ func TestScoreBinaryMasks(t *testing.T) {
 		}
 		// Reference: sklearn adjusted_rand_score on the masks as stored.
 		off := scoreJSONOf(t, "--split-masks", "off", c.predPath, c.truthPath)
-		if math.Abs(off.ARI-c.ARIUnsplit) > 1e-12 || off.TruthMap.Kind != readMaskUnsplit {
+		if math.Abs(off.ARI-c.ARIUnsplit) > 1e-12 || off.TruthMap.Kind != scoring.KindMaskUnsplit {
 			t.Errorf("%s: --split-masks off: ari %.15g (%+v); scikit-learn on the unsplit mask %.15g", c.Name, off.ARI, off.TruthMap, c.ARIUnsplit)
 		}
 	}
@@ -241,14 +242,14 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 	if *got.BestMetrics != *ref.BestMetrics {
 		t.Errorf("mask truth: %+v; its components as labels: %+v", *got.BestMetrics, *ref.BestMetrics)
 	}
-	if len(got.TruthMaps) != 1 || got.TruthMaps[0].Kind != readMaskComponents || got.TruthMaps[0].Objects != n {
+	if len(got.TruthMaps) != 1 || got.TruthMaps[0].Kind != scoring.KindMaskComponents || got.TruthMaps[0].Objects != n {
 		t.Errorf("tune.json truth_maps %+v; want one mask of %d components", got.TruthMaps, n)
 	}
 	if !strings.Contains(stdout, "1 of 1 truth is a binary mask, scored by their 8-connected components") {
 		t.Errorf("stdout does not say the truth was a mask:\n%s", stdout)
 	}
 	off, stdout := tuneWith(masks, "--split-masks", "off")
-	if off.TruthMaps[0].Kind != readMaskUnsplit || !strings.Contains(stdout, "each scored as one label (--split-masks off)") || !(off.BestMetrics.F1 < ref.BestMetrics.F1) {
+	if off.TruthMaps[0].Kind != scoring.KindMaskUnsplit || !strings.Contains(stdout, "each scored as one label (--split-masks off)") || !(off.BestMetrics.F1 < ref.BestMetrics.F1) {
 		t.Errorf("--split-masks off: %+v, f1 %g (with components %g)\n%s", off.TruthMaps, off.BestMetrics.F1, ref.BestMetrics.F1, stdout)
 	}
 }

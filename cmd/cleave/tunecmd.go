@@ -14,6 +14,7 @@ import (
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -274,7 +275,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 			}
 		}
 	}
-	pairs, unpaired, err := pairTune(o.images, o.truth)
+	pairs, unpaired, err := scoring.PairImages(o.images, o.truth)
 	if err != nil {
 		return exitFail, nil, err
 	}
@@ -284,18 +285,11 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if len(pairs) == 0 {
 		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
 	}
-	var tp []tuning.Pair
-	for _, p := range pairs {
-		tp = append(tp, tuning.Pair{Name: p.name, Image: p.image, Truth: p.truth})
-	}
-	readTruth := func(path string) (tuning.Truth, error) {
-		labels, w, h, r, err := readScoreMap(path, split)
-		return tuning.Truth{Labels: labels, Width: w, Height: h, Kind: r.Kind, Objects: r.Objects}, err
-	}
+	readTruth := func(path string) (scoring.Map, error) { return scoring.Read(path, split) }
 	checkTol := func(im *tuning.Image) error {
 		return checkTolerance(o.tolerance, im.Pair.Truth, im.Truth.Width, im.Truth.Height)
 	}
-	cfg.Images, err = tuning.Load(ctx, tp, loadRes, readTruth, checkTol)
+	cfg.Images, err = tuning.Load(ctx, pairs, loadRes, readTruth, checkTol)
 	if err != nil {
 		return exitCode(err), nil, err
 	}
@@ -405,9 +399,9 @@ func tuneSummary(w io.Writer, rep tuning.Report, nImages int, out string) {
 	var split, unsplit []string
 	for _, m := range rep.TruthMaps {
 		switch m.Kind {
-		case readMaskComponents:
+		case scoring.KindMaskComponents:
 			split = append(split, fmt.Sprintf("%s %d", m.Name, m.Objects))
-		case readMaskUnsplit:
+		case scoring.KindMaskUnsplit:
 			unsplit = append(unsplit, m.Name)
 		}
 	}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
@@ -45,12 +46,11 @@ type Report struct {
 }
 
 // TruthMap says how one truth image was read: as labels or as a binary
-// mask split into its components (Truth.Kind).
+// mask, split into its components or not (scoring.Reading).
 type TruthMap struct {
-	Name    string `json:"name"`
-	Truth   string `json:"truth"`
-	Kind    string `json:"kind"`
-	Objects int    `json:"objects"`
+	Name  string `json:"name"`
+	Truth string `json:"truth"`
+	scoring.Reading
 }
 
 // TiedSetting is a setting tied with the best: its cost (which decides
@@ -140,7 +140,7 @@ func newReport(cfg *Config, t *tune.Tuner, res *tune.Result, baseline *tune.Eval
 		Widenings: res.Widened, GridSize: gridSize, Budget: cfg.Budget, Images: t.Names, Unpaired: cfg.Unpaired,
 	}
 	for _, im := range cfg.Images {
-		rep.TruthMaps = append(rep.TruthMaps, TruthMap{Name: im.Name, Truth: im.Pair.Truth, Kind: im.Truth.Kind, Objects: im.Truth.Objects})
+		rep.TruthMaps = append(rep.TruthMaps, TruthMap{Name: im.Name, Truth: im.Pair.Truth, Reading: im.Truth.Reading})
 	}
 	if rep.Unpaired == nil {
 		rep.Unpaired = []string{}

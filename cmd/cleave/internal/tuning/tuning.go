@@ -20,34 +20,24 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
 
-// Pair is an image with its truth file.
-type Pair struct {
-	Name, Image, Truth string
-}
+// Pair is an image with its truth file (scoring.PairImages).
+type Pair = scoring.Pair
 
-// Truth is a truth label map as read for scoring, and how it was read
-// (Kind, e.g. a label map or a binary mask split into its components, and
-// the objects counted), which tune.json reports.
-type Truth struct {
-	Labels        []int32
-	Width, Height int
-	Kind          string
-	Objects       int
-}
-
-// TruthReader reads the truth label map at path.
-type TruthReader func(path string) (Truth, error)
+// TruthReader reads the truth label map at path (scoring.Read, binary
+// masks split or not); how it was read goes into tune.json.
+type TruthReader func(path string) (scoring.Map, error)
 
 // Image is one decoded image with its truth.
 type Image struct {
 	Pair
 	Loaded *pipeline.Loaded
-	Truth  Truth
+	Truth  scoring.Map
 }
 
 // Load decodes every image once (pipeline.Load with opts) and reads its

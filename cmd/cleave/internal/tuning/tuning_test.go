@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment"
@@ -40,11 +41,8 @@ func testOptions() *pipeline.Options {
 // testVoice marks where the command's wording applies.
 var testVoice = pipeline.Voice{Version: "test-1", Message: func(s string) string { return strings.ReplaceAll(s, "`workers`", "WORKERS") }}
 
-// readTruth reads a truth label map as it is.
-func readTruth(path string) (Truth, error) {
-	l, w, h, err := imageio.ReadLabels(path)
-	return Truth{Labels: l, Width: w, Height: h, Kind: "labels", Objects: 1}, err
-}
+// readTruth reads a truth label map, binary masks split.
+func readTruth(path string) (scoring.Map, error) { return scoring.Read(path, true) }
 
 // writeScenes writes generated nuclei scenes (96 x 96, the project's
 // generator with exact truth) as NAME.png and NAME.truth.png and returns

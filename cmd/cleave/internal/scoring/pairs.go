@@ -1,4 +1,4 @@
-package main
+package scoring
 
 import (
 	"fmt"
@@ -10,17 +10,23 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
-// truthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
+// Stem is a file's name without its extension.
+func Stem(path string) string {
+	base := filepath.Base(path)
+	return strings.TrimSuffix(base, filepath.Ext(base))
+}
+
+// TruthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
 // NAME_truth.png all belong to the image NAME.
-var truthSuffixes = []string{".truth", "_mask", "_truth"}
+var TruthSuffixes = []string{".truth", "_mask", "_truth"}
 
-// labelsSuffix marks the label map cleave segment writes (NAME.labels.png).
-const labelsSuffix = ".labels"
+// LabelsSuffix marks the label map cleave segment writes (NAME.labels.png).
+const LabelsSuffix = ".labels"
 
-// trimTruth returns the image name a truth stem belongs to and whether the
+// TrimTruth returns the image name a truth stem belongs to and whether the
 // stem carries a truth suffix.
-func trimTruth(stem string) (string, bool) {
-	for _, s := range truthSuffixes {
+func TrimTruth(stem string) (string, bool) {
+	for _, s := range TruthSuffixes {
 		if n, ok := strings.CutSuffix(stem, s); ok && n != "" {
 			return n, true
 		}
@@ -28,16 +34,16 @@ func trimTruth(stem string) (string, bool) {
 	return stem, false
 }
 
-// isTruthName reports whether a file name (or path) follows the truth-naming
+// IsTruthName reports whether a file name (or path) follows the truth-naming
 // rule of tune and score: its stem is NAME.truth, NAME_mask or NAME_truth.
-func isTruthName(name string) bool {
-	_, ok := trimTruth(stemOf(name))
+func IsTruthName(name string) bool {
+	_, ok := TrimTruth(Stem(name))
 	return ok
 }
 
-// listImageFiles lists the image files of a folder (by extension), sorted
+// ListImageFiles lists the image files of a folder (by extension), sorted
 // by name. It errors when dir is not a readable folder.
-func listImageFiles(dir string) ([]string, error) {
+func ListImageFiles(dir string) ([]string, error) {
 	st, err := os.Stat(dir)
 	if err != nil {
 		return nil, err
@@ -61,9 +67,9 @@ func listImageFiles(dir string) ([]string, error) {
 	return files, nil
 }
 
-// pair is an image (or a prediction) with its truth.
-type pair struct {
-	name, image, truth string
+// Pair is an image (or a prediction) with its truth.
+type Pair struct {
+	Name, Image, Truth string
 }
 
 // truthIndex maps image names to truth files found in dir. A truth file is
@@ -73,13 +79,13 @@ type pair struct {
 // holding NAME.png and NAME.truth.png serves as a truth folder too). Two
 // truth files of the same kind for one name are an error.
 func truthIndex(dir string, plain bool) (map[string]string, error) {
-	files, err := listImageFiles(dir)
+	files, err := ListImageFiles(dir)
 	if err != nil {
 		return nil, fmt.Errorf("truth folder: %w", err)
 	}
 	suffixed, bare := map[string]string{}, map[string]string{}
 	for _, f := range files {
-		name, ok := trimTruth(stemOf(f))
+		name, ok := TrimTruth(Stem(f))
 		idx := suffixed
 		if !ok {
 			if !plain {
@@ -107,12 +113,12 @@ func sameDir(a, b string) bool {
 	return err1 == nil && err2 == nil && os.SameFile(sa, sb)
 }
 
-// pairTune pairs the images of imagesDir with truths in truthDir (tune's
-// rule): image NAME.ext goes with the truth whose stem is NAME, NAME.truth,
+// PairImages pairs the images of imagesDir with truths in truthDir (the
+// rule of tune): image NAME.ext goes with the truth whose stem is NAME, NAME.truth,
 // NAME_mask or NAME_truth. Files with a truth suffix are never images.
 // It returns the pairs sorted by name and the unpaired images.
-func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err error) {
-	files, err := listImageFiles(imagesDir)
+func PairImages(imagesDir, truthDir string) (pairs []Pair, unpaired []string, err error) {
+	files, err := ListImageFiles(imagesDir)
 	if err != nil {
 		return nil, nil, fmt.Errorf("images folder: %w", err)
 	}
@@ -121,12 +127,12 @@ func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err 
 		return nil, nil, err
 	}
 	for _, f := range files {
-		stem := stemOf(f)
-		if isTruthName(f) {
+		stem := Stem(f)
+		if IsTruthName(f) {
 			continue
 		}
 		if t, ok := idx[stem]; ok {
-			pairs = append(pairs, pair{name: stem, image: f, truth: t})
+			pairs = append(pairs, Pair{Name: stem, Image: f, Truth: t})
 		} else {
 			unpaired = append(unpaired, f)
 		}
@@ -134,14 +140,14 @@ func pairTune(imagesDir, truthDir string) (pairs []pair, unpaired []string, err 
 	return pairs, unpaired, nil
 }
 
-// pairScore pairs the predictions in predDir with the truths in truthDir:
+// PairPredictions pairs the predictions in predDir with the truths in truthDir:
 // when predDir holds label maps written by cleave segment (NAME.labels.png)
 // only those are predictions, named NAME; otherwise every image file that is
 // not a truth is, named by its stem. Files unpaired on either side are
 // returned in un (sorted), not as an error: the caller decides.
-func pairScore(predDir, truthDir string) ([]pair, unpairedFiles, error) {
-	var un unpairedFiles
-	files, err := listImageFiles(predDir)
+func PairPredictions(predDir, truthDir string) ([]Pair, Unpaired, error) {
+	var un Unpaired
+	files, err := ListImageFiles(predDir)
 	if err != nil {
 		return nil, un, fmt.Errorf("prediction folder: %w", err)
 	}
@@ -157,20 +163,20 @@ func pairScore(predDir, truthDir string) ([]pair, unpairedFiles, error) {
 	}
 	hasLabels := false
 	for _, f := range files {
-		if strings.HasSuffix(stemOf(f), labelsSuffix) {
+		if strings.HasSuffix(Stem(f), LabelsSuffix) {
 			hasLabels = true
 		}
 	}
 	preds := map[string]string{}
 	for _, f := range files {
-		stem := stemOf(f)
+		stem := Stem(f)
 		name := stem
 		if hasLabels {
 			var ok bool
-			if name, ok = strings.CutSuffix(stem, labelsSuffix); !ok {
+			if name, ok = strings.CutSuffix(stem, LabelsSuffix); !ok {
 				continue
 			}
-		} else if _, isTruth := trimTruth(stem); isTruth {
+		} else if _, isTruth := TrimTruth(stem); isTruth {
 			continue
 		}
 		if prev, dup := preds[name]; dup {
@@ -178,42 +184,29 @@ func pairScore(predDir, truthDir string) ([]pair, unpairedFiles, error) {
 		}
 		preds[name] = f
 	}
-	var pairs []pair
+	var pairs []Pair
 	for name, p := range preds {
 		if t, ok := idx[name]; ok {
-			pairs = append(pairs, pair{name: name, image: p, truth: t})
+			pairs = append(pairs, Pair{Name: name, Image: p, Truth: t})
 		} else {
-			un.noTruth = append(un.noTruth, p)
+			un.NoTruth = append(un.NoTruth, p)
 		}
 	}
 	for name, t := range idx {
 		if _, ok := preds[name]; !ok {
-			un.noPred = append(un.noPred, t)
+			un.NoPred = append(un.NoPred, t)
 		}
 	}
-	sort.Slice(pairs, func(i, j int) bool { return pairs[i].name < pairs[j].name })
-	sort.Strings(un.noTruth)
-	sort.Strings(un.noPred)
+	sort.Slice(pairs, func(i, j int) bool { return pairs[i].Name < pairs[j].Name })
+	sort.Strings(un.NoTruth)
+	sort.Strings(un.NoPred)
 	return pairs, un, nil
 }
 
-// unpairedFiles are the files of score's two folders left without a
-// partner: predictions with no truth and truths with no prediction.
-type unpairedFiles struct {
-	noTruth, noPred []string
+// Unpaired are the files of two folders left without a partner:
+// predictions with no truth and truths with no prediction.
+type Unpaired struct {
+	NoTruth, NoPred []string
 }
 
-func (u unpairedFiles) count() int { return len(u.noTruth) + len(u.noPred) }
-
-// unpairedMessage describes the unpaired files of predDir and truthDir in
-// one line.
-func unpairedMessage(u unpairedFiles, predDir, truthDir string) string {
-	var msgs []string
-	if len(u.noTruth) > 0 {
-		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(u.noTruth, ", "))
-	}
-	if len(u.noPred) > 0 {
-		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(u.noPred, ", "))
-	}
-	return strings.Join(msgs, "; ")
-}
+func (u Unpaired) Count() int { return len(u.NoTruth) + len(u.NoPred) }
