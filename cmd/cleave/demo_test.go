@@ -3,13 +3,17 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
+	"io"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/cleave-seg/cleave/segment/tune"
 )
 
 // The demo end to end: every step succeeds, the scores it prints are those
@@ -117,4 +121,63 @@ func BenchmarkDemo(b *testing.B) {
 func fileExists(p string) bool {
 	_, err := os.Stat(p)
 	return err == nil
+}
+
+// The demo runs tune and segment through typed plans, and prints the
+// command lines that would run them again: parsed as tune's command line,
+// the printed tune line gives the demo's settings, search space and
+// options; and 'cleave segment --params best.json' gives the settings the
+// demo segments with (tuned), on a small tune of one generated scene
+// (seed 13160).
+func TestDemoPlansMatchTheirCommands(t *testing.T) {
+	dir := t.TempDir()
+	writeNuclei(t, dir, 13160, 1, 112)
+	for _, p := range demoScenario() {
+		for _, force := range []bool{false, true} {
+			tunedDir := filepath.Join(dir, p.name+fmt.Sprint(force))
+			line := p.tuneLine(dir, tunedDir, 1, force)
+			fs, s, o := tuneFlags()
+			if err := fs.Parse(line[1:]); err != nil {
+				t.Fatal(err)
+			}
+			plan, err := p.tunePlan(dir, tunedDir, 1, force)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ax, err := parseSpec(tune.MaxNcut, o.space[tune.MaxNcut])
+			if err != nil {
+				t.Fatal(err)
+			}
+			metric, why, _ := chooseMetric(o.metric, s.Background)
+			c := plan.cfg
+			if !reflect.DeepEqual(*s, plan.settings) || !reflect.DeepEqual(ax, c.Space[tune.MaxNcut]) || o.budget != c.Budget || o.folds != c.Folds ||
+				o.force != plan.force || defaultWorkers(o.workers) != c.Workers || metric != c.Metric || why != c.MetricChoice || o.tolerance != c.Tolerance ||
+				(o.tieBreak == "smoother") != c.SmootherTies || o.images != plan.images || o.out != plan.out {
+				t.Errorf("%s: the line %v parses to %+v %+v, the demo's plan is %+v %+v", p.name, line, *s, *o, plan.settings, *c)
+			}
+			for d := range tune.NumParams {
+				if d != tune.MaxNcut && o.space[d] != "" {
+					t.Errorf("%s: the line gives --%s", p.name, d)
+				}
+			}
+			if p.name != "slide" || force {
+				continue
+			}
+			// One tune of the plan (no refinement), then best.json read as
+			// segment reads it.
+			plan.cfg.Budget = 0
+			var out bytes.Buffer
+			code, res, err := runTunePlan(context.Background(), plan, &out, io.Discard)
+			if code != exitOK || err != nil {
+				t.Fatalf("tune: exit %d, %v", code, err)
+			}
+			fs2, seg, _, err := parseSegment([]string{"--params", filepath.Join(tunedDir, "best.json")}, io.Discard)
+			if err != nil || fs2 == nil {
+				t.Fatal(err)
+			}
+			if got := tuned(p.settings(), res); !reflect.DeepEqual(got, *seg) {
+				t.Errorf("tuned settings %+v, segment --params best.json %+v", got, *seg)
+			}
+		}
+	}
 }

@@ -7,13 +7,18 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime"
+	"slices"
 	"strings"
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
+	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment/score"
+	"github.com/cleave-seg/cleave/segment/tune"
 	"github.com/spf13/pflag"
 )
 
@@ -80,12 +85,83 @@ func demoFlags() (*pflag.FlagSet, *demoOptions) {
 	return fs, o
 }
 
-// demoPart is one half of the scenario.
+// demoPart is one half of the scenario: its scenes and the parameters it
+// fixes (two classes on a background, shading correction) and searches
+// (a reduced search: max-ncut fixed, a small budget; folds 0: tune's
+// default).
 type demoPart struct {
-	name, title     string
-	tune, fresh     []*scenes.Scene
-	fixed, search   []string
-	objects, metric string
+	name, title   string
+	tune, fresh   []*scenes.Scene
+	background    string
+	flatten       float64
+	maxNcut       float64
+	budget, folds int
+}
+
+// demoClasses is the number of classes both parts segment into.
+const demoClasses = 2
+
+// settings are the parameters of the part as given: the defaults of
+// every flag, with the part's own.
+func (p *demoPart) settings() settings {
+	s := defaultSettings()
+	s.Classes, s.Background, s.Flatten = demoClasses, p.background, p.flatten
+	return s
+}
+
+// foldsOrDefault is the part's K of the cross-validation.
+func (p *demoPart) foldsOrDefault() int {
+	if p.folds == 0 {
+		return defaultFolds
+	}
+	return p.folds
+}
+
+// tuneLine is the tune command a user would type to run the part's tune
+// again (printed before its output; the demo runs the same plan
+// directly, tunePlan).
+func (p *demoPart) tuneLine(tuneDir, tunedDir string, workers int, force bool) []string {
+	a := []string{"tune", "--images", tuneDir, "--truth", tuneDir, "--out", tunedDir, "--workers", fmt.Sprint(workers)}
+	if force {
+		a = append(a, "--force")
+	}
+	a = append(a, "--classes", fmt.Sprint(demoClasses), "--background", p.background)
+	if p.flatten != 0 {
+		a = append(a, "--flatten", tune.FormatValue(p.flatten))
+	}
+	a = append(a, "--max-ncut", tune.FormatValue(p.maxNcut), "--budget", fmt.Sprint(p.budget))
+	if p.folds != 0 {
+		a = append(a, "--folds", fmt.Sprint(p.folds))
+	}
+	return a
+}
+
+// tunePlan is the part's tune: its settings, the metric tune chooses for
+// them, max-ncut fixed, the rest as tune's defaults.
+func (p *demoPart) tunePlan(tuneDir, tunedDir string, workers int, force bool) (*tunePlan, error) {
+	s := p.settings()
+	metric, why, err := chooseMetric("", s.Background)
+	if err != nil {
+		return nil, err
+	}
+	cfg := &tuning.Config{Metric: metric, MetricChoice: why, Tolerance: defaultTolerance, Workers: defaultWorkers(workers),
+		Budget: p.budget, Folds: p.foldsOrDefault(), Voice: voice(), Start: time.Now()}
+	cfg.Space[tune.MaxNcut] = tune.NewAxis(tune.MaxNcut, []float64{p.maxNcut}, tune.FormatValue(p.maxNcut))
+	return &tunePlan{settings: s, cfg: cfg, split: true, images: tuneDir, truth: tuneDir, out: tunedDir, force: force}, nil
+}
+
+// tuned is the part's settings with the tuned values of out: what
+// 'cleave segment --params best.json' runs with.
+func tuned(s settings, out *tuning.Outcome) settings {
+	for _, d := range tune.Params() {
+		v, auto := out.Setting(d)
+		ax := tune.Axis{Param: d, Values: []float64{v}}
+		if auto {
+			ax = tune.AutoAxis(d, "auto")
+		}
+		s = withParam(s, d, ax)
+	}
+	return s
 }
 
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -143,37 +219,61 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stderr, "cleave demo: %v\n", err)
 			return exitFail
 		}
-		common := []string{"--workers", fmt.Sprint(o.workers)}
-		if o.force {
-			common = append(common, "--force")
-		}
-		tuneArgv := append(append(append([]string{"tune", "--images", tuneDir, "--truth", tuneDir, "--out", tunedDir}, common...), p.fixed...), p.search...)
-		segmentArgv := append(append([]string{"segment", "--params", filepath.Join(tunedDir, "best.json"), "--out", segDir}, common...), scenePaths(newDir, p.fresh)...)
+		// Each step runs through the packages directly, printed as the
+		// command a user would type to run it again, with its output.
 		scoresPath := filepath.Join(dir, "scores.csv")
-		scoreArgv := []string{"score", "--csv", scoresPath, segDir, newDir}
+		tuneLine := p.tuneLine(tuneDir, tunedDir, o.workers, o.force)
+		segmentLine := append([]string{"segment", "--params", filepath.Join(tunedDir, "best.json"), "--out", segDir, "--workers", fmt.Sprint(o.workers)}, scenePaths(newDir, p.fresh)...)
 		if o.force {
-			scoreArgv = append(scoreArgv, "--force")
+			segmentLine = slices.Insert(segmentLine, 7, "--force")
 		}
-		// Each step is the command a user would type, shown with its
-		// output; tune and score hand back their results for the summary.
-		var rep *tuning.Report
+		scoreLine := []string{"score", "--csv", scoresPath, segDir, newDir}
+		if o.force {
+			scoreLine = append(scoreLine, "--force")
+		}
+		var out *tuning.Outcome
 		var mean *score.Report
 		for _, st := range []struct {
-			argv []string
+			line []string
 			run  func(io.Writer) int
 		}{
-			{tuneArgv, func(w io.Writer) (code int) { code, rep = tuneArgs(ctx, tuneArgv[1:], w, stderr); return code }},
-			{segmentArgv, func(w io.Writer) int { return runSegment(ctx, segmentArgv[1:], w, stderr) }},
-			{scoreArgv, func(w io.Writer) (code int) { code, mean = scoreCommand(ctx, scoreArgv[1:], w, stderr); return code }},
+			{tuneLine, func(w io.Writer) int {
+				plan, err := p.tunePlan(tuneDir, tunedDir, o.workers, o.force)
+				if err != nil {
+					tuneError(ctx, err, stderr)
+					return exitCode(err)
+				}
+				code, res, err := runTunePlan(ctx, plan, w, stderr)
+				tuneError(ctx, err, stderr)
+				out = res
+				return code
+			}},
+			{segmentLine, func(w io.Writer) int {
+				workers := o.workers
+				if workers == 0 {
+					workers = runtime.GOMAXPROCS(0)
+				}
+				return segmentFiles(ctx, tuned(p.settings(), out), &commonFlags{out: segDir, force: o.force, workers: workers}, scenePaths(newDir, p.fresh), w, stderr)
+			}},
+			{scoreLine, func(w io.Writer) int {
+				m, err := demoScore(ctx, segDir, newDir, scoresPath, o.force, w)
+				if err != nil {
+					fmt.Fprintf(stderr, "cleave score: %v\n", err)
+					return exitCode(err)
+				}
+				mean = m
+				return exitOK
+			}},
 		} {
-			fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(st.argv, " "))
-			var out bytes.Buffer
-			if code := st.run(&out); code != exitOK {
-				fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", st.argv[0], code)
+			fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(st.line, " "))
+			var buf bytes.Buffer
+			if code := st.run(&buf); code != exitOK {
+				fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", st.line[0], code)
 				return code
 			}
-			fmt.Fprint(stdout, indent(out.String()))
+			fmt.Fprint(stdout, indent(buf.String()))
 		}
+		rep := &out.Report
 		ts := fmt.Sprintf("tuned %s %.4f", rep.Metric, rep.Score)
 		if rep.CVScore != nil {
 			ts += fmt.Sprintf(", cross-validated %.4f", *rep.CVScore)
@@ -192,10 +292,9 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 
 // demoScenario generates the invented inspection day.
 func demoScenario() []demoPart {
+	// A reduced search so that the demo stays quick: max-ncut fixed.
 	slide := demoPart{name: "slide", title: "fluorescent nuclei, tuned on 2 annotated scenes, applied to 3 new ones",
-		fixed: []string{"--classes", "2", "--background", "dark"},
-		// A reduced search so that the demo stays quick: max-ncut fixed.
-		search: []string{"--max-ncut", "0.15", "--budget", "4", "--folds", "2"}}
+		background: "dark", maxNcut: 0.15, budget: 4, folds: 2}
 	for k := 0; k < demoSlideTune+demoSlideNew; k++ {
 		sc := scenes.Nuclei(scenes.NucleiOptions{Width: demoSize, Height: demoSize, Seed: demoSlideSeed + uint64(k)})
 		if k < demoSlideTune {
@@ -207,8 +306,7 @@ func demoScenario() []demoPart {
 		}
 	}
 	plate := demoPart{name: "plate", title: "machined plate under raking light, tuned on 1 annotated scene, applied to 2 new ones",
-		fixed:  []string{"--classes", "2", "--background", "bright", "--flatten", "30"},
-		search: []string{"--max-ncut", "0.15", "--budget", "4"}}
+		background: "bright", flatten: 30, maxNcut: 0.15, budget: 4}
 	for k := 0; k < demoPlateTune+demoPlateNew; k++ {
 		sc := scenes.Plate(scenes.PlateOptions{Width: demoSize, Height: demoSize, Seed: demoPlateSeed + uint64(k)})
 		if k < demoPlateTune {
@@ -233,6 +331,28 @@ func writeScenes(dir string, ss []*scenes.Scene) error {
 		}
 	}
 	return nil
+}
+
+// demoScore scores the label maps in segDir against the truths in
+// truthDir (every file paired), writes the scores to csvPath and prints
+// the table of cleave score; it returns the mean.
+func demoScore(ctx context.Context, segDir, truthDir, csvPath string, force bool, w io.Writer) (*score.Report, error) {
+	pairs, un, err := scoring.PairPredictions(segDir, truthDir)
+	if err != nil {
+		return nil, err
+	}
+	if un.Count() > 0 {
+		return nil, fmt.Errorf("unpaired files: %s", unpairedMessage(un, segDir, truthDir))
+	}
+	res, err := scoring.Score(ctx, pairs, defaultTolerance, true)
+	if err != nil {
+		return nil, scoreErr(err)
+	}
+	if err := imageio.WriteAtomic(csvPath, force, func(w io.Writer) error { return scoring.WriteCSV(w, res, true) }); err != nil {
+		return nil, fmt.Errorf("--csv: %w", err)
+	}
+	writeScoreTable(w, res.Pairs, res.Mean, true, defaultTolerance)
+	return &res.Mean, nil
 }
 
 func scenePaths(dir string, ss []*scenes.Scene) []string {

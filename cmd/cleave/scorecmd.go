@@ -135,57 +135,51 @@ func describe(r scoring.Reading) string {
 	return fmt.Sprintf("a label map of %s", plural(r.Objects, "object"))
 }
 
+// runScore is cleave score.
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	code, _ := scoreCommand(ctx, args, stdout, stderr)
-	return code
-}
-
-// scoreCommand is cleave score: it returns the exit status and, when the
-// pairs were scored, the mean of their scores (the demo's summary).
-func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *score.Report) {
 	fs, o := scoreFlags()
 	if code, done := parseCommand(fs, args, "score", &o.help, scoreHelp, stdout, stderr); done {
-		return code, nil
+		return code
 	}
 	if fs.NArg() != 2 {
 		fmt.Fprintf(stderr, "cleave score: want PRED and TRUTH, got %s (run 'cleave score --help')\n", plural(fs.NArg(), "argument"))
-		return exitUsage, nil
+		return exitUsage
 	}
 	if o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0) {
 		fmt.Fprintf(stderr, "cleave score: --tolerance must be a number of pixels >= 0, got %v\n", o.tolerance)
-		return exitUsage, nil
+		return exitUsage
 	}
 	split, err := parseSplitMasks(o.splitMasks)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: %v\n", err)
-		return exitUsage, nil
+		return exitUsage
 	}
 	predArg, truthArg := fs.Arg(0), fs.Arg(1)
 	pst, err := os.Stat(predArg)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: prediction: %v\n", err)
-		return exitFail, nil
+		return exitFail
 	}
 	tst, err := os.Stat(truthArg)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave score: truth: %v\n", err)
-		return exitFail, nil
+		return exitFail
 	}
 	var pairs []scoring.Pair
 	folders := pst.IsDir()
 	switch {
 	case pst.IsDir() != tst.IsDir():
 		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
-		return exitUsage, nil
+		return exitUsage
 	case folders:
 		var un scoring.Unpaired
 		if pairs, un, err = scoring.PairPredictions(predArg, truthArg); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail, nil
+			return exitFail
 		}
 		if un.Count() > 0 && !o.pairedOnly {
 			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", unpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
-			return exitFail, nil
+			return exitFail
 		}
 		for _, f := range un.NoTruth {
 			fmt.Fprintf(stderr, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truthArg)
@@ -195,7 +189,7 @@ func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) 
 		}
 		if len(pairs) == 0 {
 			fmt.Fprintf(stderr, "cleave score: no prediction in %s pairs with a truth in %s\n", predArg, truthArg)
-			return exitFail, nil
+			return exitFail
 		}
 	default:
 		pairs = []scoring.Pair{{Name: stemOf(predArg), Image: predArg, Truth: truthArg}}
@@ -204,27 +198,27 @@ func scoreCommand(ctx context.Context, args []string, stdout, stderr io.Writer) 
 	switch {
 	case ctx.Err() != nil:
 		fmt.Fprintln(stderr, "cleave score: interrupted")
-		return exitFail, nil
+		return exitFail
 	case err != nil:
 		err = scoreErr(err)
 		fmt.Fprintf(stderr, "cleave score: %v\n", err)
-		return exitCode(err), nil
+		return exitCode(err)
 	}
 	if o.csv != "" {
 		if err := imageio.WriteAtomic(o.csv, o.force, func(w io.Writer) error { return scoring.WriteCSV(w, res, folders) }); err != nil {
 			fmt.Fprintf(stderr, "cleave score: --csv: %v\n", err)
-			return exitFail, nil
+			return exitFail
 		}
 	}
 	if o.json {
 		if err := scoring.WriteJSON(stdout, res, folders); err != nil {
 			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail, nil
+			return exitFail
 		}
-		return exitOK, &res.Mean
+		return exitOK
 	}
 	writeScoreTable(stdout, res.Pairs, res.Mean, folders, o.tolerance)
-	return exitOK, &res.Mean
+	return exitOK
 }
 
 // scoreErr is an error of scoring in the command's words: a tolerance

@@ -113,7 +113,16 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		fmt.Fprintln(stderr, "cleave segment: no image given (run 'cleave segment --help')")
 		return exitUsage
 	}
-	res, err := resolve(*s, c.workers)
+	return segmentFiles(ctx, *s, c, images, stdout, stderr)
+}
+
+// segmentFiles segments images with the parameters s into c.out
+// (c.workers threads per image, at least 1; c.force replaces earlier
+// outputs; c.saveGraph for one image), printing a summary line per image
+// and warnings on stderr; it returns the exit status. The demo runs its
+// segmentation through it too.
+func segmentFiles(ctx context.Context, s settings, c *commonFlags, images []string, stdout, stderr io.Writer) int {
+	res, err := resolve(s, c.workers)
 	if err != nil {
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 		return exitUsage
@@ -139,7 +148,7 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	var jobs []pipeline.Job
 	stacks := map[string][]int{} // --planes all: image -> indices of its jobs
 	for _, p := range images {
-		j := pipeline.Job{Path: p, Out: pipeline.OutputSet{Dir: c.out, Stem: stemOf(p)}, Request: *s, Options: res, Replace: replace, SaveGraph: c.saveGraph, Voice: voice()}
+		j := pipeline.Job{Path: p, Out: pipeline.OutputSet{Dir: c.out, Stem: stemOf(p)}, Request: s, Options: res, Replace: replace, SaveGraph: c.saveGraph, Voice: voice()}
 		if s.Planes != pipeline.PlanesAll {
 			jobs = append(jobs, j)
 			continue

@@ -103,6 +103,9 @@ const (
 	maxFolds  = 100
 )
 
+// defaultFolds is the K of --folds by default.
+const defaultFolds = 3
+
 // tuneOptions are tune's own flags.
 type tuneOptions struct {
 	images, truth, out string
@@ -139,7 +142,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(metricNames(tuneMetrics), ", ")+" (vi is minimized); default f1 with --background, else ari")
 	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
 	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
-	fs.IntVar(&o.folds, "folds", 3, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
+	fs.IntVar(&o.folds, "folds", defaultFolds, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf (0 to the image diagonal)")
 	addSplitMasksFlag(fs, &o.splitMasks)
 	for _, d := range tune.Params() {
@@ -184,71 +187,95 @@ func chooseMetric(given, background string) (score.Metric, string, error) {
 }
 
 func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	code, _ := tuneArgs(ctx, args, stdout, stderr)
+	fs, s, o := tuneFlags()
+	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
+		return code
+	}
+	code, err := tuneCommand(ctx, fs, s, o, stdout, stderr)
+	tuneError(ctx, err, stderr)
 	return code
 }
 
-// tuneArgs is cleave tune with its arguments: it returns the exit status
-// and, when the search finished, its report (tune.json).
-func tuneArgs(ctx context.Context, args []string, stdout, stderr io.Writer) (int, *tuning.Report) {
-	fs, s, o := tuneFlags()
-	if code, done := parseCommand(fs, args, "tune", &o.help, tuneHelp, stdout, stderr); done {
-		return code, nil
-	}
-	code, rep, err := tuneCommand(ctx, fs, s, o, stdout, stderr)
+// tuneError prints tune's error, if any.
+func tuneError(ctx context.Context, err error, stderr io.Writer) {
 	switch {
 	case err != nil && ctx.Err() != nil:
 		fmt.Fprintln(stderr, "cleave tune: interrupted")
 	case err != nil:
 		fmt.Fprintf(stderr, "cleave tune: %v\n", err)
 	}
-	return code, rep
 }
 
-func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, *tuning.Report, error) {
+// tuneCommand maps tune's command line to a tunePlan and runs it.
+func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
 	start := time.Now()
 	if fs.NArg() > 0 {
-		return exitUsage, nil, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
+		return exitUsage, usagef("unexpected arguments %q; give folders with --images and --truth", fs.Args())
 	}
 	switch {
 	case o.images == "":
-		return exitUsage, nil, usagef("--images is required (run 'cleave tune --help')")
+		return exitUsage, usagef("--images is required (run 'cleave tune --help')")
 	case o.truth == "":
-		return exitUsage, nil, usagef("--truth is required")
+		return exitUsage, usagef("--truth is required")
 	case o.out == "":
-		return exitUsage, nil, usagef("--out is required")
+		return exitUsage, usagef("--out is required")
 	case o.tieBreak != "faster" && o.tieBreak != "smoother":
-		return exitUsage, nil, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
+		return exitUsage, usagef("--tie-break must be faster or smoother, got %q", o.tieBreak)
 	case o.budget < 0 || o.budget > maxBudget:
-		return exitUsage, nil, usagef("--budget must be 0 to %d, got %d", maxBudget, o.budget)
+		return exitUsage, usagef("--budget must be 0 to %d, got %d", maxBudget, o.budget)
 	case o.folds < 0 || o.folds > maxFolds:
-		return exitUsage, nil, usagef("--folds must be 0 to %d, got %d", maxFolds, o.folds)
+		return exitUsage, usagef("--folds must be 0 to %d, got %d", maxFolds, o.folds)
 	case o.workers < 0 || o.workers > maxWorkers:
-		return exitUsage, nil, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, o.workers)
+		return exitUsage, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, o.workers)
 	case o.tolerance < 0 || math.IsNaN(o.tolerance) || math.IsInf(o.tolerance, 0):
-		return exitUsage, nil, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
+		return exitUsage, usagef("--tolerance must be a number of pixels >= 0, got %v", o.tolerance)
 	}
 	metric, metricWhy, err := chooseMetric(o.metric, s.Background)
 	if err != nil {
-		return exitUsage, nil, err
+		return exitUsage, err
 	}
 	split, err := parseSplitMasks(o.splitMasks)
 	if err != nil {
-		return exitUsage, nil, err
+		return exitUsage, err
 	}
 	cfg := &tuning.Config{Metric: metric, MetricChoice: metricWhy, Tolerance: o.tolerance, Workers: defaultWorkers(o.workers),
 		SmootherTies: o.tieBreak == "smoother", Budget: o.budget, Folds: o.folds, Voice: voice(), Start: start}
-	var given [tune.NumParams]bool
 	for _, d := range tune.Params() {
 		if o.space[d] == "" {
 			continue
 		}
-		given[d] = true
 		ax, err := parseSpec(d, o.space[d])
 		if err != nil {
-			return exitUsage, nil, err
+			return exitUsage, err
 		}
 		cfg.Space[d] = ax
+	}
+	code, _, err := runTunePlan(ctx, &tunePlan{settings: *s, cfg: cfg, split: split, images: o.images, truth: o.truth, out: o.out, force: o.force}, stdout, stderr)
+	return code, err
+}
+
+// tunePlan is one tune as typed values, from the command line or the
+// demo: the parameters as given (the fixed ones), the tuning
+// configuration with the axes given (an axis with neither values nor
+// Auto was not given and takes its default), how truths are read, the
+// folders and whether outputs may be replaced.
+type tunePlan struct {
+	settings           settings
+	cfg                *tuning.Config
+	split              bool
+	images, truth, out string
+	force              bool
+}
+
+// runTunePlan checks the fixed settings, pairs and decodes the images,
+// fills the default axes, runs the search (tuning.Run), writes the files
+// and prints the summary. It returns the exit status and, when the search
+// finished, its outcome.
+func runTunePlan(ctx context.Context, p *tunePlan, stdout, stderr io.Writer) (int, *tuning.Outcome, error) {
+	s, cfg := &p.settings, p.cfg
+	var given [tune.NumParams]bool
+	for _, d := range tune.Params() {
+		given[d] = cfg.Space[d].Values != nil || cfg.Space[d].Auto
 	}
 	// A searched parameter given as auto or as one value is fixed: the
 	// probe checks the fixed settings now (a wrong --classes is a usage
@@ -268,26 +295,26 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		return exitUsage, nil, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
 	}
 	defer pipeline.SetMemoryLimit(loadRes.Params.MaxMemory)()
-	if !o.force {
+	if !p.force {
 		for _, n := range tuning.Outputs {
-			if p := filepath.Join(o.out, n); exists(p) {
-				return exitFail, nil, fmt.Errorf("output %s already exists (use --force to overwrite)", p)
+			if path := filepath.Join(p.out, n); exists(path) {
+				return exitFail, nil, fmt.Errorf("output %s already exists (use --force to overwrite)", path)
 			}
 		}
 	}
-	pairs, unpaired, err := scoring.PairImages(o.images, o.truth)
+	pairs, unpaired, err := scoring.PairImages(p.images, p.truth)
 	if err != nil {
 		return exitFail, nil, err
 	}
 	for _, u := range unpaired {
-		fmt.Fprintf(stderr, "cleave tune: %s has no truth (want NAME, NAME.truth, NAME_mask or NAME_truth in %s); skipped\n", u, o.truth)
+		fmt.Fprintf(stderr, "cleave tune: %s has no truth (want NAME, NAME.truth, NAME_mask or NAME_truth in %s); skipped\n", u, p.truth)
 	}
 	if len(pairs) == 0 {
-		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", o.images, o.truth)
+		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", p.images, p.truth)
 	}
-	readTruth := func(path string) (scoring.Map, error) { return scoring.Read(path, split) }
+	readTruth := func(path string) (scoring.Map, error) { return scoring.Read(path, p.split) }
 	checkTol := func(im *tuning.Image) error {
-		return checkTolerance(o.tolerance, im.Pair.Truth, im.Truth.Width, im.Truth.Height)
+		return checkTolerance(cfg.Tolerance, im.Pair.Truth, im.Truth.Width, im.Truth.Height)
 	}
 	cfg.Images, err = tuning.Load(ctx, pairs, loadRes, readTruth, checkTol)
 	if err != nil {
@@ -316,25 +343,29 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
 	}
 	if !given[tune.Necks] {
-		cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
+		v := tune.On
+		if s.NecksAsked() == "off" {
+			v = tune.Off
+		}
+		cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{v})
 	}
 	cfg.Fixed = s.Map()
 	for _, d := range tune.Params() {
 		cfg.Given[d] = baselineText(*s, d)
 	}
 	cfg.Unpaired = unpaired
-	prog := progress.NewTune(stderr, metric)
+	prog := progress.NewTune(stderr, cfg.Metric)
 	cfg.Progress = prog
 	defer prog.Finish()
 	out, err := tuning.Run(ctx, cfg)
 	if err != nil {
 		return exitFail, nil, err
 	}
-	if err := out.Write(o.out, o.force); err != nil {
+	if err := out.Write(p.out, p.force); err != nil {
 		return exitFail, nil, err
 	}
-	tuneSummary(stdout, out.Report, len(cfg.Images), o.out)
-	return exitOK, &out.Report, nil
+	tuneSummary(stdout, out.Report, len(cfg.Images), p.out)
+	return exitOK, out, nil
 }
 
 func exists(p string) bool { _, err := os.Lstat(p); return err == nil }

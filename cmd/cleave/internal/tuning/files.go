@@ -46,6 +46,15 @@ func (o *Outcome) Write(dir string, force bool) error {
 	return imageio.WriteAtomic(filepath.Join(dir, "tune.json"), force, func(w io.Writer) error { return writeJSON(w, o.Report) })
 }
 
+// Setting is the chosen value of parameter d, or auto when its axis
+// leaves it to the image.
+func (o *Outcome) Setting(d tune.Param) (v float64, auto bool) {
+	if o.tuner.Space[d].Auto {
+		return 0, true
+	}
+	return o.best.Point[d], false
+}
+
 // ParamsFile is best.json: every parameter of Config.Fixed with the tuned
 // values, numbers where the value is one, "auto" for an automatic axis,
 // "on" or "off" for a switch (as a params file gives necks).
