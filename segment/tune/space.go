@@ -31,7 +31,8 @@ const (
 	Compactness
 	// Necks is the shape split of touching objects: on (1) re-cuts them
 	// through the neck of their joined shape as well as along seams, off
-	// (0) along seams only (segment.Params.SeamsOnly).
+	// (0) only along seams that do not run through a neck
+	// (segment.Params.SeamsOnly).
 	Necks
 	NumParams
 )
