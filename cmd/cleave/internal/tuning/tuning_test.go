@@ -122,7 +122,7 @@ func TestRunOnScenes(t *testing.T) {
 	a := tune.Median(auto)
 	grid := rep.Space["sigma-i"].(map[string]any)["grid"].([]float64)
 	want := tune.DefaultAxis(tune.SigmaI, tune.LogSpaced(a/4, 4*a, 5)).Values
-	if len(grid) != 5 || !equal(grid, want) {
+	if len(grid) != 5 || !slices.Equal(grid, want) {
 		t.Errorf("sigma-i grid %v, want %v around the automatic %v", grid, want, a)
 	}
 	if rep.GridSize != 10 || rep.Evaluations < 10 {
@@ -216,18 +216,6 @@ func TestRunOnScenes(t *testing.T) {
 	if err := out.Write(dir, false); !errors.Is(err, imageio.ErrExists) {
 		t.Errorf("second write without force: %v, want imageio.ErrExists", err)
 	}
-}
-
-func equal(a, b []float64) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // Load refuses a truth of another size, naming both files; check's
