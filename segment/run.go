@@ -633,9 +633,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	} else if p.Method == MethodBisect && in.Cache != nil && p.Segments == 0 {
 		// Everything the graph and the cut depend on except MaxNcut (the
 		// automatic values are resolved by now); Workers never changes
-		// results.
+		// results, and SeamsOnly acts on the objects after the cut.
 		q := p
-		q.MaxNcut, q.Workers = 0, 0
+		q.MaxNcut, q.Workers, q.SeamsOnly = 0, 0, false
 		cut, err = in.Cache.cut(q, p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at

@@ -253,6 +253,8 @@ func TestCacheSameAsDirect(t *testing.T) {
 						p.SigmaI, p.AutoSigmaI = si, false
 					}
 					p.Classes, p.Background = 2, "dark"
+					// SeamsOnly acts after the cut: it shares the tree.
+					p.SeamsOnly = mx == 0.1
 					want, err := Run(context.Background(), c.in, p)
 					if err != nil {
 						t.Fatal(err)
