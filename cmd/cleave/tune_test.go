@@ -154,8 +154,19 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 		}
 		return b.String()
 	}
-	if fa.TieBreak != "faster" || len(fa.Tied) < 2 || fa.CostPerImage == nil || strip(fa.Tied) != strip(fb.Tied) {
+	if fa.TieBreak != "faster" || len(fa.Tied) < 2 || fa.CostPerImage == nil || strip(fa.Tied) != strip(fb.Tied) || fa.AutomaticKept != fb.AutomaticKept {
 		t.Errorf("default tie-break: %q, %d tied settings, cost %v; ties differ between runs: %v", fa.TieBreak, len(fa.Tied), fa.CostPerImage, strip(fa.Tied) != strip(fb.Tied))
+	} else if fa.AutomaticKept {
+		// Every grid setting tied with the automatic ones: those are
+		// kept, and no tied setting is marked chosen.
+		for _, s := range fa.Tied {
+			if s.Chosen {
+				t.Errorf("automatic settings kept, yet tied setting %v marked chosen", s.Params)
+			}
+		}
+		if fa.Baseline == nil || *fa.Baseline != fa.Score || fa.Best["sigma-i"] != "auto" || fa.Best["sigma-x"] != "auto" {
+			t.Errorf("automatic settings kept: score %v, automatic %v, best %v", fa.Score, fa.Baseline, fa.Best)
+		}
 	} else {
 		low := math.Inf(1)
 		for _, s := range fa.Tied {
@@ -202,7 +213,7 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	// Find the best row in tune.csv: its per-image F1.
 	var want float64 = math.NaN()
 	for _, r := range r1[1:] {
-		if r[0] != "baseline" && r[1] == rep.Best["sigma-i"] && r[2] == rep.Best["sigma-x"] && r[3] == rep.Best["max-ncut"] {
+		if rep.AutomaticKept && r[0] == "baseline" || !rep.AutomaticKept && r[0] != "baseline" && r[1] == rep.Best["sigma-i"] && r[2] == rep.Best["sigma-x"] && r[3] == rep.Best["max-ncut"] {
 			want, _ = strconv.ParseFloat(r[7], 64) // f1 of the first image
 		}
 	}

@@ -76,6 +76,11 @@ clock, so best.json is the same on every run. The chosen setting and up to
 many at once as --workers, without the search's shared work: the seconds
 'cleave segment --params' spends per decoded image); the median seconds
 per image is reported as information and never changes the choice.
+The automatic settings (kernel widths each image sets for itself) are
+scored first and kept when no searched setting beats them by more than a
+tie: with a few images many settings tie, and a value chosen among them
+carries over to new images worse (tune.json: automatic_kept; the folds
+of --folds follow the same rule).
 
 %s
 Flags:
@@ -470,7 +475,9 @@ func tuneSummary(w io.Writer, rep tuning.Report, nImages int, out string) {
 	}
 	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
 	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
-	if n := len(rep.Tied); n > 1 {
+	if rep.AutomaticKept {
+		fmt.Fprintf(w, "kept:                the automatic settings: no searched setting beat them by more than a tie (relative %g), and widths each image sets for itself carry over to new images better than a value chosen among ties\n", rep.TieRelative)
+	} else if n := len(rep.Tied); n > 1 {
 		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(tune.CostMargin-1))
 	}
 	for _, wd := range rep.Widenings {

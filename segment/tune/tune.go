@@ -81,6 +81,11 @@ type Tuner struct {
 	// SmootherTies keeps ties on the search's best (the smoother setting)
 	// instead of the cheapest by the cost model.
 	SmootherTies bool
+	// Automatic, when set, is the evaluation of the settings the user
+	// would run without tuning (the kernel widths left to each image):
+	// a search keeps it unless a searched setting beats it by more than
+	// a tie (see Search).
+	Automatic    *Evaluation
 	Objective    Objective
 	Timer        Timer
 	Progress     Progress // nil: none
@@ -427,6 +432,9 @@ type Result struct {
 	Widened  []Widening
 	Ties     []*Evaluation // settings tied with Top (Best first; see chooseFaster)
 	Visited  []*Evaluation
+	// KeptAutomatic: no searched setting beat Tuner.Automatic by more
+	// than a tie, and Best is Tuner.Automatic.
+	KeptAutomatic bool
 }
 
 // Search is the coarse grid then refinement, judged on the images imgs.
@@ -436,7 +444,12 @@ type Result struct {
 // search runs again, at most MaxWidenings times per parameter, and again
 // only while widening improves the score. say, when set, tells the user.
 // Among the settings tied with the best, the cheapest by the cost model is
-// chosen (chooseFaster).
+// chosen (chooseFaster). When Tuner.Automatic is set and that choice does
+// not beat it by more than a tie, the automatic settings are kept: with a
+// few annotated images many settings tie, often at the ends of the
+// ranges, and a fixed value chosen among them generalizes worse than
+// widths each image sets for itself (measured: DEVELOPERS.md, "Measured
+// choices").
 func (t *Tuner) Search(ctx context.Context, imgs []int, budget int, say func(string)) (*Result, error) {
 	r := &Result{Space: cloneSpace(&t.Space)}
 	var step [NumParams]float64
@@ -536,7 +549,24 @@ func (t *Tuner) Search(ctx context.Context, imgs []int, budget int, say func(str
 		stage = "widen"
 	}
 	r.Best, r.Ties = t.chooseFaster(r.Visited, r.Top, imgs)
+	if a := t.Automatic; a != nil && !math.IsInf(t.Score(a, imgs), -1) && !t.improves(r.Best, a, imgs) {
+		r.Best, r.KeptAutomatic = a, true
+	}
 	return r, nil
+}
+
+// PointStrings are the searched parameters of an evaluation as text, by
+// name; the automatic evaluation (Tuner.Automatic) has no point and
+// reads "automatic" for each.
+func (t *Tuner) PointStrings(e *Evaluation) map[string]string {
+	if e != nil && e == t.Automatic {
+		m := map[string]string{}
+		for d := range NumParams {
+			m[d.String()] = "automatic"
+		}
+		return m
+	}
+	return t.Space.Strings(e.Point)
 }
 
 func cloneSpace(s *Space) Space {
@@ -622,8 +652,8 @@ func cmpNaNLast(a, b float64) int {
 // nothing.
 func (t *Tuner) TimeTies(ctx context.Context, r *Result) error {
 	es := r.Ties
-	if len(es) == 0 {
-		es = []*Evaluation{r.Best}
+	if len(es) == 0 || r.KeptAutomatic {
+		es = append([]*Evaluation{r.Best}, r.Ties...)
 	}
 	return t.timeSettings(ctx, es[:min(len(es), MaxTimed)])
 }
@@ -644,6 +674,9 @@ func (t *Tuner) timeSettings(ctx context.Context, es []*Evaluation) error {
 	params := make([]segment.Params, len(todo))
 	for i, e := range todo {
 		params[i] = t.Space.Apply(t.Base, e.Point)
+		if e == t.Automatic {
+			params[i] = t.Base
+		}
 	}
 	secs := make([]float64, len(todo)*nImg)
 	errs := make([]string, len(todo)*nImg)
@@ -756,7 +789,7 @@ func (t *Tuner) CrossValidate(ctx context.Context, k, budget int) ([]Fold, float
 			return nil, 0, err
 		}
 		best := res.Best
-		fr := Fold{Params: t.Space.Strings(best.Point), Train: t.Value(best, train), HeldScore: Finite(t.Value(best, test)), Widened: res.Widened}
+		fr := Fold{Params: t.PointStrings(best), Train: t.Value(best, train), HeldScore: Finite(t.Value(best, test)), Widened: res.Widened}
 		for _, i := range test {
 			fr.Held = append(fr.Held, t.Names[i])
 			held[i] = t.Value(best, []int{i})

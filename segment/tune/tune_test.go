@@ -234,3 +234,56 @@ func TestTuneFoldErrorRecorded(t *testing.T) {
 		t.Errorf("fold holding a: %+v", folds[0])
 	}
 }
+
+// The automatic settings are kept unless a searched setting beats them
+// by more than a tie (Tuner.Automatic): on a plateau of F1 0.9 (every
+// grid setting tied with the automatic one) the search keeps them; where
+// the grid's end and beyond score 0.95 against their 0.9 it takes one of
+// those.
+// The automatic evaluation is made with EvaluateParams (sigma-x 10, off
+// the grid); the objectives are closed forms chosen for the test. The
+// folds of CrossValidate follow the same rule and name the kept setting
+// "automatic".
+func TestTuneKeepsAutomaticOnTies(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		f    func(float64, int) float64
+		kept bool
+	}{
+		{"plateau", func(float64, int) float64 { return 0.9 }, true},
+		{"better at 16", func(sx float64, _ int) float64 {
+			if sx >= 16 {
+				return 0.95
+			}
+			return 0.9
+		}, false},
+	} {
+		tn := synthTuner([]float64{4, 8, 16}, c.f, func(float64, int) float64 { return 1 })
+		p := tn.Base
+		p.SigmaX = 10
+		auto, err := tn.EvaluateParams(ctx, p, "automatic", "baseline")
+		if err != nil {
+			t.Fatal(err)
+		}
+		tn.Automatic = auto
+		res, err := tn.Search(ctx, []int{0, 1}, 0, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.KeptAutomatic != c.kept || (res.Best == auto) != c.kept {
+			t.Errorf("%s: kept %v (best is the automatic: %v), want %v", c.name, res.KeptAutomatic, res.Best == auto, c.kept)
+		}
+		if !c.kept && res.Best.Point[SigmaX] < 16 {
+			t.Errorf("%s: best sigma-x %v, want 16 or above (the range widens past 16)", c.name, res.Best.Point[SigmaX])
+		}
+		folds, _, err := tn.CrossValidate(ctx, 2, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, f := range folds {
+			if got := f.Params["sigma-x"] == "automatic"; got != c.kept {
+				t.Errorf("%s: fold params %v, want automatic %v", c.name, f.Params, c.kept)
+			}
+		}
+	}
+}

@@ -52,7 +52,52 @@ func (o *Outcome) Setting(d tune.Param) (v float64, auto bool) {
 	if o.tuner.Space[d].Auto {
 		return 0, true
 	}
-	return o.best.Point[d], false
+	if !o.kept {
+		return o.best.Point[d], false
+	}
+	if vs := o.tuner.Space[d].Values; len(vs) == 1 {
+		return vs[0], false
+	}
+	return o.cfg.givenValue(d)
+}
+
+// givenValue is parameter d as the automatic settings (Config.Base, what
+// the baseline was scored with) hold it: auto, or its value.
+func (c *Config) givenValue(d tune.Param) (v float64, auto bool) {
+	b := c.Base
+	switch d {
+	case tune.SigmaI:
+		return b.SigmaI, b.AutoSigmaI
+	case tune.SigmaX:
+		return b.SigmaX, b.AutoSigmaX
+	case tune.MaxNcut:
+		return b.MaxNcut, false
+	case tune.Radius:
+		return float64(b.Radius), false
+	case tune.Superpixels:
+		return float64(b.Superpixels), b.Superpixels < 0
+	case tune.Compactness:
+		return b.Compactness, false
+	case tune.Necks:
+		if b.SeamsOnly {
+			return tune.Off, false
+		}
+		return tune.On, false
+	}
+	panic("tuning: no automatic value for " + d.String())
+}
+
+// settingText is the chosen value of d as tune.json and the summary print
+// it.
+func (o *Outcome) settingText(d tune.Param) string {
+	v, auto := o.Setting(d)
+	switch {
+	case auto:
+		return "auto"
+	case d.Switch():
+		return tune.OnOff(v)
+	}
+	return tune.FormatValue(v)
 }
 
 // ParamsFile is best.json: every parameter of Config.Fixed with the tuned
@@ -63,17 +108,17 @@ func (o *Outcome) ParamsFile() map[string]any {
 	for k, v := range o.cfg.Fixed {
 		m[k] = v
 	}
-	s, p := &o.tuner.Space, o.best.Point
 	for _, d := range tune.Params() {
+		v, auto := o.Setting(d)
 		switch {
-		case s[d].Auto:
+		case auto:
 			m[d.String()] = "auto"
 		case d.Switch():
-			m[d.String()] = tune.OnOff(p[d])
+			m[d.String()] = tune.OnOff(v)
 		case d.Integer():
-			m[d.String()] = int64(p[d])
+			m[d.String()] = int64(v)
 		default:
-			m[d.String()] = p[d]
+			m[d.String()] = v
 		}
 	}
 	return m

@@ -91,7 +91,10 @@ func (o *Outcome) heatmap() render.Heatmap {
 	}
 	h.Caption = "at " + strings.Join(fixedParts, ", ")
 	// The refined best at its log position when it left the grid.
-	if best != gridBest && len(xs) > 1 && len(ys) > 1 && !t.Space[tune.SigmaI].Auto && !t.Space[tune.SigmaX].Auto {
+	if o.kept {
+		h.Caption += "; automatic settings kept (none here beat them by more than a tie)"
+	}
+	if best != gridBest && !o.kept && len(xs) > 1 && len(ys) > 1 && !t.Space[tune.SigmaI].Auto && !t.Space[tune.SigmaX].Auto {
 		pos := func(v float64, vs []float64) float64 {
 			return float64(len(vs)-1) * math.Log(v/vs[0]) / math.Log(vs[len(vs)-1]/vs[0])
 		}

@@ -32,17 +32,20 @@ type Report struct {
 	CVError         string            `json:"cross_validation_error,omitempty"`
 	Folds           []tune.Fold       `json:"fold_results,omitempty"`
 	Best            map[string]string `json:"best"`
-	Space           map[string]any    `json:"search_space"`
-	Widenings       []tune.Widening   `json:"widenings"`
-	Evaluations     int               `json:"evaluations"`
-	GridSize        int               `json:"grid_settings"`
-	Refined         int               `json:"refined_settings"`
-	WidenedSettings int               `json:"widened_settings"`
-	Budget          int               `json:"budget"`
-	Images          []string          `json:"images"`
-	TruthMaps       []TruthMap        `json:"truth_maps"`
-	Unpaired        []string          `json:"unpaired_images"`
-	Seconds         float64           `json:"seconds"`
+	// AutomaticKept: no searched setting beat the automatic settings by
+	// more than a tie, so best.json holds them (tune.Tuner.Automatic).
+	AutomaticKept   bool            `json:"automatic_kept"`
+	Space           map[string]any  `json:"search_space"`
+	Widenings       []tune.Widening `json:"widenings"`
+	Evaluations     int             `json:"evaluations"`
+	GridSize        int             `json:"grid_settings"`
+	Refined         int             `json:"refined_settings"`
+	WidenedSettings int             `json:"widened_settings"`
+	Budget          int             `json:"budget"`
+	Images          []string        `json:"images"`
+	TruthMaps       []TruthMap      `json:"truth_maps"`
+	Unpaired        []string        `json:"unpaired_images"`
+	Seconds         float64         `json:"seconds"`
 }
 
 // TruthMap says how one truth image was read: as labels or as a binary

@@ -163,6 +163,9 @@ type Outcome struct {
 	baseline *tune.Evaluation
 	gridBest *tune.Evaluation
 	best     *tune.Evaluation
+	// kept: no searched setting beat the automatic settings by more
+	// than a tie, and best is the baseline (tune.Result.KeptAutomatic).
+	kept bool
 }
 
 // nopProgress is the progress of a run without one.
@@ -210,6 +213,7 @@ func Run(ctx context.Context, cfg *Config) (*Outcome, error) {
 	if len(autoI) == 0 {
 		return nil, fmt.Errorf("no image could be segmented with the default settings: %s", baseline.Errs[0])
 	}
+	t.Automatic = baseline
 	if ax := t.Space[tune.SigmaI]; ax.Values == nil && !ax.Auto {
 		a := tune.Median(autoI)
 		t.Space[tune.SigmaI] = tune.DefaultAxis(tune.SigmaI, tune.LogSpaced(a/SigmaISpread, SigmaISpread*a, SigmaISteps))
@@ -265,8 +269,16 @@ func Run(ctx context.Context, cfg *Config) (*Outcome, error) {
 		return nil, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
 	}
 	t.Space = res.Space // the ranges as widened, for tune.png and tune.json
-	o := &Outcome{cfg: cfg, tuner: t, baseline: baseline, gridBest: res.GridBest, best: res.Best}
+	o := &Outcome{cfg: cfg, tuner: t, baseline: baseline, gridBest: res.GridBest, best: res.Best, kept: res.KeptAutomatic}
 	o.Report = newReport(cfg, t, res, baseline, folds, cv, k, len(gridPts))
+	if o.kept {
+		o.Report.AutomaticKept = true
+		for _, d := range tune.Params() {
+			if _, ok := o.Report.Best[d.String()]; ok {
+				o.Report.Best[d.String()] = o.settingText(d)
+			}
+		}
+	}
 	return o, nil
 }
 
