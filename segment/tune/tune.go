@@ -85,10 +85,10 @@ type Tuner struct {
 	// would run without tuning (the kernel widths left to each image):
 	// a search keeps it unless a searched setting beats it by more than
 	// a tie (see Search).
-	Automatic    *Evaluation
-	Objective    Objective
-	Timer        Timer
-	Progress     Progress // nil: none
+	Automatic *Evaluation
+	Objective Objective
+	Timer     Timer
+	Progress  Progress // nil: none
 
 	cache map[string]*Evaluation
 	// Order lists the evaluations in the order they finished.
