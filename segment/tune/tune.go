@@ -664,22 +664,22 @@ func (t *Tuner) timeSettings(ctx context.Context, es []*Evaluation) error {
 	if t.Timer == nil {
 		return nil
 	}
-	var todo []*Evaluation
+	var pending []*Evaluation
 	for _, e := range es {
 		if e.ImageSeconds == nil {
-			todo = append(todo, e)
+			pending = append(pending, e)
 		}
 	}
 	nImg := t.numImages()
-	params := make([]segment.Params, len(todo))
-	for i, e := range todo {
+	params := make([]segment.Params, len(pending))
+	for i, e := range pending {
 		params[i] = t.Space.Apply(t.Base, e.Point)
 		if e == t.Automatic {
 			params[i] = t.Base
 		}
 	}
-	secs := make([]float64, len(todo)*nImg)
-	errs := make([]string, len(todo)*nImg)
+	secs := make([]float64, len(pending)*nImg)
+	errs := make([]string, len(pending)*nImg)
 	var next atomic.Int64
 	var wg sync.WaitGroup
 	for range min(t.workers(), len(secs)) {
@@ -692,7 +692,7 @@ func (t *Tuner) timeSettings(ctx context.Context, es []*Evaluation) error {
 					return
 				}
 				i, j := k/nImg, k%nImg
-				if todo[i].Errs[j] != "" {
+				if pending[i].Errs[j] != "" {
 					secs[k] = math.NaN()
 					continue
 				}
@@ -708,7 +708,7 @@ func (t *Tuner) timeSettings(ctx context.Context, es []*Evaluation) error {
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	for i, e := range todo {
+	for i, e := range pending {
 		e.ImageSeconds = secs[i*nImg : (i+1)*nImg]
 		for _, m := range errs[i*nImg : (i+1)*nImg] {
 			if m != "" && e.TimeErr == "" {
