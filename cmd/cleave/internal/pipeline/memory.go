@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"os"
 	"runtime/debug"
 	"sync"
 
@@ -188,10 +189,32 @@ func (b *memoryBudget) release(n int64) {
 // below the limit; the soft limit keeps garbage from adding to it. It
 // returns a function that restores the previous limit (for commands run
 // inside one process, as the tests do).
+//
+// Unless the GOGC environment variable says otherwise, the collector also
+// runs when the heap has grown by GCPercent (50) over the live data
+// instead of the runtime's 100: the largest images hold most of their
+// memory in a few big planes, and a collection that falls just after they
+// are allocated lets the heap double. Measured on a 16-megapixel 16-bit
+// frame (nuclei, seed 14300, --classes 2 --background dark, quiet
+// machine, two runs each): peak RSS 1.77-1.92 GB at 100, 1.50 GB at 50,
+// CPU 36.1-36.3 s against 36.2-39.2 s.
 func SetMemoryLimit(limit int64) (restore func()) {
 	if limit <= 0 {
 		return func() {}
 	}
 	prev := debug.SetMemoryLimit(limit)
-	return func() { debug.SetMemoryLimit(prev) }
+	prevGC := -2 // not changed
+	if os.Getenv("GOGC") == "" {
+		prevGC = debug.SetGCPercent(GCPercent)
+	}
+	return func() {
+		debug.SetMemoryLimit(prev)
+		if prevGC != -2 {
+			debug.SetGCPercent(prevGC)
+		}
+	}
 }
+
+// GCPercent is the collector's growth target the computing commands run
+// with (see SetMemoryLimit).
+const GCPercent = 50
