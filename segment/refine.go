@@ -157,6 +157,16 @@ func seamSplit(feat []float32, cw, ch int, nodes, part []int, inA []bool) bool {
 	return seam/seamN < refineSeam*math.Min(sum[1]/cnt[1], sum[2]/cnt[2])
 }
 
+// neckEvident reports whether a split through a neck drop pixels deep
+// (absolute depth, cutNeck or deepestNeck) separates two objects on the
+// evidence it has: a neck deeper than digitization makes (neckNoise)
+// does by itself; a shallower one may be the ridge of a rod and needs a
+// seam in contrast (seamSplit) or sides of different contrast
+// (sidesDiffer) as well. The arguments after drop are seamSplit's.
+func neckEvident(drop float64, feat []float32, cw, ch int, nodes, part []int, inA []bool) bool {
+	return drop > neckNoise || seamSplit(feat, cw, ch, nodes, part, inA) || sidesDiffer(feat, nodes, part, inA)
+}
+
 // refineStep is the least relative difference of mean contrast,
 // |mA - mB| / max(mA, mB), at which the two sides of a split are taken
 // for two objects of different staining. Uneven light changes the
@@ -400,10 +410,7 @@ func neckPieces(g *affinity.Graph, feat []float32, nodes []int, cw, ch int, regi
 		for i, k := range inR {
 			subA[i] = side[nodes[k]] == 1
 		}
-		// A neck no deeper than digitization makes may be the ridge
-		// of a rod: it needs a seam in contrast or sides of different
-		// contrast as well.
-		if nk.drop <= neckNoise && !seamSplit(feat, cw, ch, nodes, inR, subA) && !sidesDiffer(feat, nodes, inR, subA) {
+		if !neckEvident(nk.drop, feat, cw, ch, nodes, inR, subA) {
 			continue
 		}
 		// Ncut of the split within the region: the rest of the object
@@ -562,11 +569,8 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		if !necked {
 			return false
 		}
-		// A neck no deeper than digitization makes (neckNoise) may be
-		// the ridge of a rod: it needs a seam or sides of different
-		// contrast as well.
 		rel, abs := cutNeck(nodes, cw, ch, part, inA)
-		return rel >= refineNeck && (abs > neckNoise || seamSplit(feat, cw, ch, nodes, part, inA) || sidesDiffer(feat, nodes, part, inA))
+		return rel >= refineNeck && neckEvident(abs, feat, cw, ch, nodes, part, inA)
 	}
 	// A part without a neck that is already convex (for instance one
 	// nucleus of a split pair) is not cut again.
