@@ -108,19 +108,8 @@ def lobes(rng, n=512):
     return noise(img, rng, 150, 0.03), truth
 
 
-def ious(pred, truth):
-    pred = pred.ravel().astype(np.int64); truth = truth.ravel().astype(np.int64)
-    npred = len(np.unique(pred[pred > 0])); ntrue = len(np.unique(truth[truth > 0]))
-    both = (pred > 0) & (truth > 0)
-    M = truth.max() + 1
-    key = pred[both] * M + truth[both]
-    k, inter = np.unique(key, return_counts=True)
-    pa = np.bincount(pred); ta = np.bincount(truth)
-    iou = inter / (pa[k // M] + ta[k % M] - inter)
-    return iou, npred, ntrue
-
 def scores(pred, truth):
-    iou, npred, ntrue = ious(pred, truth)
+    iou, npred, ntrue = W.pair_ious(pred, truth)
     tp = (iou > 0.5).sum()
     f1 = 2 * tp / (npred + ntrue) if npred + ntrue else 1.0
     aps = []
@@ -134,22 +123,13 @@ def load_set(d):
     return [(n, W.load(os.path.join(d, n + ".png")), io.imread(os.path.join(d, n + ".truth.png"))) for n in names]
 
 def choose(kind, data, inv):
+    """The watershed's parameters for kind, chosen on data by
+    watershed.py's own search (the grid of nuclei, or of grains on the
+    inverted image for membranes)."""
     wk = "grains" if kind == "membrane" else "nuclei"
-    combos = W.grid(wk)
-    sc = np.zeros(len(combos))
-    for _, img, truth in data:
-        if inv: img = 1 - img
-        cache = {}
-        for i, p in enumerate(combos):
-            key = W.mask_key(wk, p)
-            if key not in cache: cache[key] = W.masked(img, wk, p)
-            sm, mask, dist = cache[key]
-            elev = -sm if p.get("elevation") == "intensity" else None
-            lab = W.split(mask, dist, p["markers"], p.get("h", 1), p.get("min_distance", 5), elev)
-            sc[i] += W.object_f1(lab, truth) / len(data)
+    combos, sc = W.search(wk, [(1 - img if inv else img, truth) for _, img, truth in data])
     b = int(np.argmax(sc))
     return wk, combos[b], sc[b]
-
 
 
 def score_main(kind, cdir, rdir, outs):

@@ -155,21 +155,27 @@ def segment(img, kind, p):
     return split(mask, dist, p["markers"], p.get("h", 1), p.get("min_distance", 5), elev)
 
 
-def object_f1(pred, truth):
-    """F1 of objects matched at IoU > 0.5 (unique by construction)."""
+def pair_ious(pred, truth):
+    """IoU of every overlapping (prediction, truth) object pair, and the
+    object counts of both maps."""
     pred = pred.ravel().astype(np.int64)
     truth = truth.ravel().astype(np.int64)
     npred = len(np.unique(pred[pred > 0]))
     ntrue = len(np.unique(truth[truth > 0]))
-    if npred == 0 and ntrue == 0:
-        return 1.0
     both = (pred > 0) & (truth > 0)
     key = pred[both] * (truth.max() + 1) + truth[both]
     k, inter = np.unique(key, return_counts=True)
     pa = np.bincount(pred)
     ta = np.bincount(truth)
     pl, tl = k // (truth.max() + 1), k % (truth.max() + 1)
-    iou = inter / (pa[pl] + ta[tl] - inter)
+    return inter / (pa[pl] + ta[tl] - inter), npred, ntrue
+
+
+def object_f1(pred, truth):
+    """F1 of objects matched at IoU > 0.5 (unique by construction)."""
+    iou, npred, ntrue = pair_ious(pred, truth)
+    if npred == 0 and ntrue == 0:
+        return 1.0
     tp = int((iou > 0.5).sum())
     return 2 * tp / (npred + ntrue) if npred + ntrue else 0.0
 
@@ -205,6 +211,24 @@ def mask_key(kind, p):
     return tuple((k, p.get(k)) for k in keys)
 
 
+def search(kind, data):
+    """Every combination of the kind's grid and its mean object F1 over
+    data, a list of (image, truth) pairs."""
+    combos = grid(kind)
+    scores = np.zeros(len(combos))
+    for img, truth in data:
+        cache = {}
+        for i, p in enumerate(combos):
+            key = mask_key(kind, p)
+            if key not in cache:
+                cache[key] = masked(img, kind, p)
+            sm, mask, dist = cache[key]
+            elev = -sm if p.get("elevation") == "intensity" else None
+            lab = split(mask, dist, p["markers"], p.get("h", 1), p.get("min_distance", 5), elev)
+            scores[i] += object_f1(lab, truth) / len(data)
+    return combos, scores
+
+
 def choose(kinds, seeds, size, path):
     root = os.path.dirname(os.path.dirname(HERE))
     params = {}
@@ -220,18 +244,7 @@ def choose(kinds, seeds, size, path):
                            cwd=root, check=True, stdout=subprocess.DEVNULL)
             names = sorted(f[:-len(".truth.png")] for f in os.listdir(d) if f.endswith(".truth.png"))
             data = [(load(os.path.join(d, n + ".png")), skio.imread(os.path.join(d, n + ".truth.png"))) for n in names]
-        combos = grid(kind)
-        scores = np.zeros(len(combos))
-        for img, truth in data:
-            cache = {}
-            for i, p in enumerate(combos):
-                key = mask_key(kind, p)
-                if key not in cache:
-                    cache[key] = masked(img, kind, p)
-                sm, mask, dist = cache[key]
-                elev = -sm if p.get("elevation") == "intensity" else None
-                lab = split(mask, dist, p["markers"], p.get("h", 1), p.get("min_distance", 5), elev)
-                scores[i] += object_f1(lab, truth) / len(data)
+        combos, scores = search(kind, data)
         best = int(np.argmax(scores))
         params["kinds"][kind] = {"params": combos[best], "f1": round(float(scores[best]), 4),
                                  "combinations": len(combos)}
