@@ -172,6 +172,7 @@ func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
 	// Each object with most of its outline unlined goes to its longest
 	// direct neighbour; ties to the smaller label (deterministic).
 	into := make([]int32, n+1)
+	longest := make([]int, n+1)
 	for k, c := range shared {
 		a, b := int32(k>>32), int32(uint32(k))
 		for _, e := range [2][2]int32{{a, b}, {b, a}} {
@@ -179,8 +180,8 @@ func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
 			if 2*direct[o] < outline[o] {
 				continue
 			}
-			if into[o] == 0 || c > shared[pairKey(min(o, into[o]), max(o, into[o]))] || (c == shared[pairKey(min(o, into[o]), max(o, into[o]))] && nb < into[o]) {
-				into[o] = nb
+			if c > longest[o] || c == longest[o] && nb < into[o] {
+				into[o], longest[o] = nb, c
 			}
 		}
 	}
