@@ -310,18 +310,7 @@ func fillHoles(group []int32, w, h int) {
 			if !border {
 				piece = append(piece, int32(i))
 			}
-			if x > 0 {
-				visit(i - 1)
-			}
-			if x+1 < w {
-				visit(i + 1)
-			}
-			if y > 0 {
-				visit(i - w)
-			}
-			if y+1 < h {
-				visit(i + w)
-			}
+			neighbours4(i, w, h, visit)
 		}
 		if !border && owner >= 0 {
 			for _, i := range piece {

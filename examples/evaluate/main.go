@@ -93,6 +93,20 @@ func measure(pred, truth []int32) metrics {
 	return metrics{F1: score.MatchObjects(pred, truth).F1, MAP: t.MeanAP(), ARI: t.ARI(), CountErr: ce}
 }
 
+// measureFile scores the label map in path against truth.
+func measureFile(path string, truth []int32) (metrics, error) {
+	labels, _, _, err := imageio.ReadLabels(path)
+	if err != nil {
+		return metrics{}, err
+	}
+	return measure(labels, truth), nil
+}
+
+// cols are the four scores as a table's columns.
+func (m metrics) cols() string {
+	return fmt.Sprintf("%6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
+}
+
 // kindResult is what -json writes per kind: means over the scenes.
 type kindResult struct {
 	Scenes          int      `json:"scenes"`
@@ -268,36 +282,32 @@ func runKind(c *config, kind string) (kindResult, error) {
 	var wsMean, tunedMean metrics
 	w := 1 / float64(c.n)
 	for _, s := range list {
-		labels, _, _, err := imageio.ReadLabels(filepath.Join(out, s.Name+".labels.png"))
+		cl, err := measureFile(filepath.Join(out, s.Name+".labels.png"), s.Truth)
 		if err != nil {
 			return res, err
 		}
-		cl := measure(labels, s.Truth)
 		ot := measure(scenes.OtsuObjects(s, scenes.DarkObjects(kind)), s.Truth)
 		res.Cleave.add(cl, w)
 		res.Otsu.add(ot, w)
 		wsCol := "     -      -      -      -"
 		if wsOK {
-			wl, _, _, err := imageio.ReadLabels(filepath.Join(wsOut, s.Name+".labels.png"))
+			m, err := measureFile(filepath.Join(wsOut, s.Name+".labels.png"), s.Truth)
 			if err != nil {
 				return res, err
 			}
-			m := measure(wl, s.Truth)
 			wsMean.add(m, w)
-			wsCol = fmt.Sprintf("%6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
+			wsCol = m.cols()
 		}
 		tunedCol := ""
 		if c.tune > 0 {
-			tl, _, _, err := imageio.ReadLabels(filepath.Join(tunedOut, s.Name+".labels.png"))
+			m, err := measureFile(filepath.Join(tunedOut, s.Name+".labels.png"), s.Truth)
 			if err != nil {
 				return res, err
 			}
-			m := measure(tl, s.Truth)
 			tunedMean.add(m, w)
-			tunedCol = fmt.Sprintf(" | tuned %6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
+			tunedCol = " | tuned " + m.cols()
 		}
-		fmt.Printf("%-16s %5d | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f%s\n", s.Name, s.Objects,
-			cl.F1, cl.MAP, cl.ARI, cl.CountErr, wsCol, ot.F1, ot.MAP, ot.ARI, ot.CountErr, tunedCol)
+		fmt.Printf("%-16s %5d | %s | %s | %s%s\n", s.Name, s.Objects, cl.cols(), wsCol, ot.cols(), tunedCol)
 	}
 	if wsOK {
 		res.Watershed = &wsMean
@@ -425,15 +435,12 @@ func printSummary(c *config, results map[string]kindResult) {
 		r := results[k]
 		ws := "     -      -      -      -"
 		if r.Watershed != nil {
-			m := r.Watershed
-			ws = fmt.Sprintf("%6.3f %6.3f %6.3f %6.3f", m.F1, m.MAP, m.ARI, m.CountErr)
+			ws = r.Watershed.cols()
 		}
 		tuned := ""
 		if r.Tuned != nil {
-			tuned = fmt.Sprintf(" | tuned %6.3f %6.3f %6.3f %6.3f %7.2f s/im", r.Tuned.F1, r.Tuned.MAP, r.Tuned.ARI, r.Tuned.CountErr, r.TunedSecPerImg)
+			tuned = fmt.Sprintf(" | tuned %s %7.2f s/im", r.Tuned.cols(), r.TunedSecPerImg)
 		}
-		fmt.Printf("%-9s | %6.3f %6.3f %6.3f %6.3f | %s | %6.3f %6.3f %6.3f %6.3f | %7.2f%s\n", k,
-			r.Cleave.F1, r.Cleave.MAP, r.Cleave.ARI, r.Cleave.CountErr, ws,
-			r.Otsu.F1, r.Otsu.MAP, r.Otsu.ARI, r.Otsu.CountErr, r.CleaveSecPerImg, tuned)
+		fmt.Printf("%-9s | %s | %s | %s | %7.2f%s\n", k, r.Cleave.cols(), ws, r.Otsu.cols(), r.CleaveSecPerImg, tuned)
 	}
 }
