@@ -127,7 +127,7 @@ func segmentFiles(ctx context.Context, s settings, c *commonFlags, images []stri
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
 		return exitUsage
 	}
-	defer pipeline.SetMemoryLimit(res.Params.MaxMemory)()
+	defer pipeline.SetCollector(res.Params.MaxMemory)()
 	if c.saveGraph != "" && len(images) > 1 {
 		fmt.Fprintln(stderr, "cleave segment: --save-graph takes one image; give a single IMAGE")
 		return exitUsage

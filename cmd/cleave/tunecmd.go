@@ -299,7 +299,7 @@ func runTunePlan(ctx context.Context, p *tunePlan, stdout, stderr io.Writer) (in
 	if s.Planes == pipeline.PlanesAll {
 		return exitUsage, nil, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
 	}
-	defer pipeline.SetMemoryLimit(loadRes.Params.MaxMemory)()
+	defer pipeline.SetCollector(loadRes.Params.MaxMemory)()
 	if !p.force {
 		for _, n := range tuning.Outputs {
 			if path := filepath.Join(p.out, n); exists(path) {

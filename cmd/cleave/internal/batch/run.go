@@ -555,7 +555,7 @@ func (p *Plan) logf(format string, a ...any) {
 func (p *Plan) Run(ctx context.Context) (Outcome, error) {
 	start := time.Now()
 	var oc Outcome
-	defer pipeline.SetMemoryLimit(p.opts.Params.MaxMemory)()
+	defer pipeline.SetCollector(p.opts.Params.MaxMemory)()
 	if err := os.MkdirAll(p.Out, 0o755); err != nil {
 		return oc, fmt.Errorf("cannot create the output folder: %v", err)
 	}
