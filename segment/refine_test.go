@@ -161,7 +161,7 @@ func TestNeckPiecesBarVersusDiscs(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, regions, _ := neckPieces(g.Subgraph(nodes), feat, nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
+		_, regions, _ := neckPieces(g.Subgraph(nodes), feat, feat, nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
 		return regions
 	}
 	discs, cw, ch := discRow(14, 20, 2)
@@ -330,4 +330,124 @@ func TestRefineRodsAndShallowNecks(t *testing.T) {
 	}
 	run("deep neck dimmed by blur", 50, 40, true, 2, dimmed)
 	run("deep neck dimmed by blur, necks off", 50, 40, false, 1, dimmed)
+}
+
+// cutConcavity on shapes with a known answer (plane geometry): two
+// overlapping discs of radius R whose centres are sep apart, cut along
+// the line through their crossing points, have both ends of the cut at a
+// convexity defect of R - sqrt(R² - (sep/2)²) below the hull's tangent
+// line; digitization moves outline and hull by up to a pixel. A
+// digitized ellipse or capsule cut across its middle has no concavity
+// (below neckNoise at both ends), so concaveCut refuses it.
+func TestCutConcavity(t *testing.T) {
+	split := func(mask []bool, cw int, cut float64) ([]int, []int, []bool) {
+		var nodes, part []int
+		var inA []bool
+		for c, m := range mask {
+			if m {
+				part = append(part, len(nodes))
+				nodes = append(nodes, c)
+				inA = append(inA, float64(c%cw)+0.5 < cut)
+			}
+		}
+		return nodes, part, inA
+	}
+	for _, tc := range []struct{ R, sep float64 }{{12, 18}, {15, 24}, {10, 17}} {
+		mask, cw, ch := discRow(tc.R, tc.sep, 2)
+		nodes, part, inA := split(mask, cw, 3+tc.R+tc.sep/2)
+		want := tc.R - math.Sqrt(tc.R*tc.R-tc.sep*tc.sep/4)
+		shallow, deep := cutConcavity(nodes, cw, ch, part, inA)
+		if math.Abs(shallow-want) > 1 || math.Abs(deep-want) > 1 {
+			t.Errorf("discs R %.0f, centres %.0f apart: ends %.2f and %.2f px deep, want %.2f ± 1", tc.R, tc.sep, shallow, deep, want)
+		}
+		if !concaveCut(nodes, cw, ch, part, inA) {
+			t.Errorf("discs R %.0f, centres %.0f apart: concaveCut false", tc.R, tc.sep)
+		}
+	}
+	convex := map[string]func(x, y float64) bool{
+		"ellipse 20 x 12":  func(x, y float64) bool { return math.Pow((x-30)/20, 2)+math.Pow((y-20)/12, 2) <= 1 },
+		"capsule radius 6": func(x, y float64) bool { return math.Hypot(math.Max(0, math.Abs(x-30)-16), y-20) <= 6 },
+		"tilted ellipse": func(x, y float64) bool {
+			u, v := 0.8*(x-30)+0.6*(y-20), -0.6*(x-30)+0.8*(y-20)
+			return math.Pow(u/22, 2)+math.Pow(v/9, 2) <= 1
+		},
+	}
+	for name, in := range convex {
+		cw, ch := 60, 40
+		mask := make([]bool, cw*ch)
+		for c := range mask {
+			mask[c] = in(float64(c%cw)+0.5, float64(c/cw)+0.5)
+		}
+		nodes, part, inA := split(mask, cw, 30.2)
+		shallow, deep := cutConcavity(nodes, cw, ch, part, inA)
+		if deep > neckNoise || concaveCut(nodes, cw, ch, part, inA) {
+			t.Errorf("%s cut across: ends %.2f and %.2f px deep, want both at most %.0f", name, shallow, deep, neckNoise)
+		}
+	}
+}
+
+// Two bright discs inside a dim halo that joins them into one convex
+// capsule (the glow around touching nuclei) have a deep neck in their
+// half-maximum core (coreDistance) though the capsule's outline has none:
+// for discs of radius R whose centres are sep apart the core's relative
+// neck depth is 1 - sqrt(1 - (sep/2R)²) (plane geometry, as in
+// TestNeckDepthDiscs). A single bright capsule in the same halo has none.
+// Refining splits the pair and keeps the single capsule whole.
+func TestCoreDistanceHaloedPair(t *testing.T) {
+	const w, h, R, sep = 80, 50, 10.0, 17.0
+	halo := func(x, y float64) bool { // the hull of both discs, 4 px wider
+		return math.Hypot(math.Max(0, math.Abs(x-40)-sep/2), y-25) <= R+4
+	}
+	pair := func(x, y float64) bool {
+		return math.Hypot(x-40+sep/2, y-25) <= R || math.Hypot(x-40-sep/2, y-25) <= R
+	}
+	capsule := func(x, y float64) bool { return math.Hypot(math.Max(0, math.Abs(x-40)-sep/2), y-25) <= R }
+	for _, tc := range []struct {
+		name    string
+		bright  func(x, y float64) bool
+		depth   float64 // the core's relative neck depth, 0 for none
+		objects int
+	}{
+		{"two discs radius 10, centres 17 apart", pair, 1 - math.Sqrt(1-math.Pow(sep/(2*R), 2)), 2},
+		{"one capsule radius 10", capsule, 0, 1},
+	} {
+		rng := rand.New(rand.NewPCG(7, 11))
+		con := make([]float64, w*h)
+		labels := make([]int32, w*h)
+		mask := make([]bool, w*h)
+		feat := make([]float32, w*h)
+		for c := range con {
+			x, y := float64(c%w)+0.5, float64(c/w)+0.5
+			switch {
+			case tc.bright(x, y):
+				con[c] = 1
+			case halo(x, y):
+				con[c] = 0.3
+			default:
+				continue
+			}
+			con[c] += 0.01 * rng.NormFloat64()
+			labels[c], mask[c], feat[c] = 1, true, float32(con[c])
+		}
+		d := distanceInside(mask, w, h)
+		if outline := neckDepth(d, w, h); outline > 0.01 {
+			t.Fatalf("%s: the halo's outline has a neck %.3f deep; the test needs a convex one", tc.name, outline)
+		}
+		core := deepestNeck(coreDistance(boxMean3(boxMean3(feat, w, h), w, h), mask, d, w, h), w, h, neckNoise)
+		// Digitization and the 5x5 smoothing move peak and saddle by
+		// about a pixel.
+		if math.Abs(core.depth-tc.depth) > 1.5/R {
+			t.Errorf("%s: core neck %.3f deep (%.2f px), want %.3f ± %.3f", tc.name, core.depth, core.drop, tc.depth, 1.5/R)
+		}
+		if tc.depth > 0 && (core.peakA%w < 40) == (core.peakB%w < 40) {
+			t.Errorf("%s: the core's neck separates pixels %d and %d, not the two discs", tc.name, core.peakA, core.peakB)
+		}
+		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, true, 1, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref.n != tc.objects {
+			t.Errorf("%s: %d objects, want %d", tc.name, ref.n, tc.objects)
+		}
+	}
 }
