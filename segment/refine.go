@@ -511,7 +511,11 @@ func neckPieces(g *affinity.Graph, feat, smooth []float32, nodes []int, cw, ch i
 				nb++
 			}
 		}
-		if nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
+		// A core's neck may also part a sliver of a textured object's
+		// rim from the rest: both sides must be of one order of size,
+		// as withoutCrumbs asks of the pieces of a dim object.
+		sliver := core && float64(min(nb, count-nb)) < crumbFraction*float64(max(nb, count-nb))
+		if sliver || nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
 			continue
 		}
 		inR := make([]int, 0, count)

@@ -13,6 +13,8 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
+	"github.com/cleave-seg/cleave/examples/loudskip"
+	"github.com/cleave-seg/cleave/imageio"
 )
 
 // writeColourDiscs writes a colour PNG: four discs of different hues on a
@@ -183,5 +185,28 @@ func TestBatchObjectsTable(t *testing.T) {
 	}
 	if !bytes.Equal(fileBytes(t, filepath.Join(fresh, batch.ObjectsName)), userCSV) {
 		t.Error("the user's objects.csv was replaced")
+	}
+}
+
+// scikit-image's coins.png (a photograph of 24 coins on a dark ground,
+// counted by eye) comes out as 24 objects, one a coin: the coins' relief
+// makes dips in contrast inside them, which must not part slivers of
+// their rims from them.
+func TestSegmentCoinsCount(t *testing.T) {
+	const img = "/usr/lib/python3/dist-packages/skimage/data/coins.png"
+	if _, err := os.Stat(img); err != nil {
+		loudskip.Skip(t, "scikit-image data not installed (apt-get install -y python3-skimage); the coins were not counted: %v", err)
+	}
+	out := t.TempDir()
+	code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", out, img)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	labels, _, _, err := imageio.ReadLabels(filepath.Join(out, "coins.labels.png"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := slices.Max(labels); n != 24 {
+		t.Errorf("%d objects, want the 24 coins", n)
 	}
 }
