@@ -362,37 +362,43 @@ func TestDiffuseRatio(t *testing.T) {
 }
 
 // withoutCrumbs: pieces of one group smaller than crumbFraction of the
-// group's largest piece are dropped; the two halves of a split pair (one
-// group each, or comparable pieces of one group) are kept. Hand-made
-// maps; the expected outcome is the rule's definition.
+// group's largest piece whose contrast stays below crumbPeak times the
+// group's median are dropped; the two halves of a split pair (one group
+// each, or comparable pieces of one group) and a small piece nearly as
+// bright as its group are kept.
+// Hand-made maps; the expected outcome is the rule's definition.
 func TestWithoutCrumbs(t *testing.T) {
-	// Group 0: a piece of 40 px and a crumb of 4 px (below 40/8 = 5);
-	// group 1: pieces of 20 and 6 px (6 is not below 20/8 = 2.5).
-	w, h := 20, 4
+	// Group 0 (median 1): a piece of 40 px, a dim crumb of 4 px (below
+	// 40/8 = 5) and a bright one of 4 px; group 1: pieces of 20 and
+	// 6 px (6 is not below 20/8 = 2.5).
+	w, h := 20, 6
 	labels := make([]int32, w*h)
 	group := make([]int32, w*h)
+	sm := make([]float32, w*h)
 	for i := range group {
 		group[i] = -1
 	}
-	put := func(l, g int32, x0, x1, y0, y1 int) {
+	put := func(l, g int32, x0, x1, y0, y1 int, c float32) {
 		for y := y0; y < y1; y++ {
 			for x := x0; x < x1; x++ {
-				labels[y*w+x], group[y*w+x] = l, g
+				labels[y*w+x], group[y*w+x], sm[y*w+x] = l, g, c
 			}
 		}
 	}
-	put(1, 0, 0, 10, 0, 4)  // 40 px
-	put(2, 0, 11, 13, 0, 2) // 4 px crumb
-	put(3, 1, 14, 19, 0, 4) // 20 px
-	put(4, 1, 11, 14, 2, 4) // 6 px
-	out, n := withoutCrumbs(labels, 4, group)
-	if n != 3 {
-		t.Fatalf("%d objects, want 3", n)
+	put(1, 0, 0, 10, 0, 4, 1)    // 40 px
+	put(2, 0, 11, 13, 0, 2, 0.6) // 4 px dim crumb
+	put(3, 1, 14, 19, 0, 4, 1)   // 20 px
+	put(4, 1, 11, 14, 2, 4, 0.6) // 6 px
+	put(5, 0, 0, 2, 4, 6, 1.2)   // 4 px, brighter than its group's median
+	median := []float32{1, 1}
+	out, n := withoutCrumbs(labels, 5, group, sm, median)
+	if n != 4 {
+		t.Fatalf("%d objects, want 4", n)
 	}
 	if out[11] != 0 {
 		t.Errorf("the 4 px crumb kept as %d", out[11])
 	}
-	if out[0] == 0 || out[14] == 0 || out[2*w+11] == 0 {
-		t.Errorf("a piece was dropped: %d %d %d", out[0], out[14], out[2*w+11])
+	if out[0] == 0 || out[14] == 0 || out[2*w+11] == 0 || out[4*w] == 0 {
+		t.Errorf("a piece was dropped: %d %d %d %d", out[0], out[14], out[2*w+11], out[4*w])
 	}
 }
