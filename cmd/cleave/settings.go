@@ -5,10 +5,8 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"sort"
-	"strconv"
 	"strings"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
@@ -25,9 +23,6 @@ type settings = pipeline.Request
 // Ranges of the parameters that only the command uses (the libraries
 // state theirs: segment.MaxRadius and the rest, imageio.MaxMaxMegapixels).
 const (
-	// minMaxMemory is the least --max-memory: the limit is a size, and a
-	// value that rounds to nothing would otherwise read as "no limit".
-	minMaxMemory = 1 << 20
 	// maxWorkers bounds --workers and --jobs: threads beyond this share
 	// the same cores and only cost memory.
 	maxWorkers = 1024
@@ -204,156 +199,23 @@ func numericString(name string) bool {
 	return false
 }
 
-// parseAuto reads "auto" or a number.
-func parseAuto(name, v string) (x float64, auto bool, err error) {
-	if strings.EqualFold(strings.TrimSpace(v), "auto") {
-		return 0, true, nil
+// parseAuto reads "auto" or a number (pipeline.ParseAuto) as a usage
+// error naming the flag.
+func parseAuto(name, v string) (float64, bool, error) {
+	x, auto, err := pipeline.ParseAuto(name, v)
+	if err != nil {
+		return 0, false, &usageError{err}
 	}
-	x, err = strconv.ParseFloat(strings.TrimSpace(v), 64)
-	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-		return 0, false, usagef("--%s must be a number or auto, got %q", name, v)
-	}
-	return x, false, nil
-}
-
-// parseBytes reads a size such as 400MB, 512MiB, 8GiB or a plain byte count.
-func parseBytes(name, v string) (int64, error) {
-	s := strings.TrimSpace(v)
-	mult := 1.0
-	units := []struct {
-		suffix string
-		m      float64
-	}{{"KiB", 1 << 10}, {"MiB", 1 << 20}, {"GiB", 1 << 30}, {"TiB", 1 << 40}, {"KB", 1e3}, {"MB", 1e6}, {"GB", 1e9}, {"TB", 1e12}, {"B", 1}}
-	up := strings.ToUpper(s)
-	for _, u := range units {
-		if strings.HasSuffix(up, strings.ToUpper(u.suffix)) {
-			s, mult = strings.TrimSpace(s[:len(s)-len(u.suffix)]), u.m
-			break
-		}
-	}
-	x, err := strconv.ParseFloat(s, 64)
-	if err != nil || !(x > 0) || math.IsInf(x, 0) || x*mult > math.MaxInt64/2 {
-		return 0, usagef("--%s must be a positive size such as 512MiB or 8GiB, got %q", name, v)
-	}
-	if x*mult < 1 {
-		return 0, usagef("--%s %q is less than one byte", name, v)
-	}
-	return int64(x * mult), nil
+	return x, auto, nil
 }
 
 // resolve checks the settings and converts them into the pipeline's
-// options; every error is a usage error naming the flag.
+// options (pipeline.Request.Options); every error is a usage error naming
+// the flag.
 func resolve(s settings, workers int) (*pipeline.Options, error) {
-	r := &pipeline.Options{}
-	if !(s.MaxMegapixels >= imageio.MinMaxMegapixels && s.MaxMegapixels <= imageio.MaxMaxMegapixels) {
-		return nil, usagef("--max-megapixels must be %g (one pixel) to %d, got %v", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels, s.MaxMegapixels)
-	}
-	// No image within --max-megapixels has a diagonal above its pixel
-	// count (a 1 x N image comes closest); the diagonal of each image is
-	// checked once it is known (imageio.MakeFeatures).
-	if maxDiag := s.MaxMegapixels * 1e6; s.Flatten > maxDiag {
-		return nil, usagef("--flatten %g is larger than the diagonal of any image within --max-megapixels %g (at most %g pixels)", s.Flatten, s.MaxMegapixels, maxDiag)
-	}
-	r.Load = imageio.LoadOptions{MaxMegapixels: s.MaxMegapixels}
-	ch, ok := s.Channel.Index()
-	if !ok {
-		ch = 0 // a channel name: one channel
-	}
-	r.Features = imageio.FeatureOptions{Space: imageio.ColorSpace(s.Features), Channel: ch, Normalize: imageio.Normalization(s.Normalize), Flatten: s.Flatten, FlattenMode: imageio.FlattenMode(s.FlattenMode)}
-	if err := r.Features.Validate(); err != nil {
+	o, err := s.Options(workers)
+	if err != nil {
 		return nil, &usageError{err}
 	}
-	sel, err := selectionOf(s)
-	if err != nil {
-		return nil, err
-	}
-	r.Selection = sel
-	p := segment.Params{
-		Compactness: s.Compactness, Radius: s.Radius, Method: segment.Method(s.Method), Segments: s.Segments,
-		MaxSegments: s.MaxSegments, MaxNcut: s.MaxNcut, MinArea: s.MinArea, Classes: s.Classes,
-		Background: segment.Background(s.Background), Workers: workers, Seed: s.Seed,
-	}
-	switch s.Contour {
-	case "on":
-		p.Contour = true
-	case "off":
-	default:
-		return nil, usagef("--contour must be on or off, got %q", s.Contour)
-	}
-	switch s.Grain {
-	case "on":
-		p.Grain = true
-	case "off":
-	default:
-		return nil, usagef("--grain must be on or off, got %q", s.Grain)
-	}
-	switch s.NecksAsked() {
-	case "on":
-	case "off":
-		p.SeamsOnly = true
-	default:
-		return nil, usagef("--necks must be on or off, got %q", s.Necks)
-	}
-	if p.SigmaI, p.AutoSigmaI, err = parseAuto("sigma-i", s.SigmaI); err != nil {
-		return nil, err
-	}
-	if p.SigmaX, p.AutoSigmaX, err = parseAuto("sigma-x", s.SigmaX); err != nil {
-		return nil, err
-	}
-	sp, auto, err := parseAuto("superpixels", s.Superpixels)
-	if err != nil {
-		return nil, err
-	}
-	switch {
-	case auto:
-		p.Superpixels = -1
-	case sp < 0 || sp != math.Trunc(sp) || sp > math.MaxInt32:
-		return nil, usagef("--superpixels must be auto, 0 (pixel graph) or a positive whole number, got %q", s.Superpixels)
-	default:
-		p.Superpixels = int(sp)
-	}
-	if p.MaxMemory, err = parseBytes("max-memory", s.MaxMemory); err != nil {
-		return nil, err
-	}
-	if p.MaxMemory < minMaxMemory {
-		return nil, usagef("--max-memory must be at least 1MiB, got %q", s.MaxMemory)
-	}
-	if err := p.Validate(); err != nil {
-		return nil, &usageError{err}
-	}
-	if !(s.PixelSize == 0 || s.PixelSize >= pipeline.MinPixelSize && s.PixelSize <= pipeline.MaxPixelSize) {
-		return nil, usagef("--pixel-size must be 0 (off) or %g to %g, got %v", pipeline.MinPixelSize, pipeline.MaxPixelSize, s.PixelSize)
-	}
-	if f := s.LabelsFormatAsked(); f != imageio.LabelsPNG && f != imageio.LabelsTIFF {
-		return nil, usagef("--labels-format must be png or tiff, got %q", s.LabelsFormat)
-	}
-	if s.Unit != "" || s.PixelSize > 0 {
-		if err := checkUnit(s.Unit); err != nil {
-			return nil, err
-		}
-	}
-	r.Params = p
-	r.PixelSize, r.Unit = s.PixelSize, s.Unit
-	r.LabelsFormat = s.LabelsFormatAsked()
-	r.EveryPlane = s.Planes == pipeline.PlanesAll
-	return r, nil
-}
-
-// selectionOf turns the stack flags into an imageio.Selection.
-func selectionOf(s settings) (imageio.Selection, error) {
-	sel := imageio.Selection{Channel: s.Channel.Selection(), Plane: s.Plane, Frame: s.Frame}
-	if s.Plane < 0 {
-		return sel, usagef("--plane must be a plane index from 0, got %d", s.Plane)
-	}
-	if s.Frame < 0 {
-		return sel, usagef("--frame must be a time point index from 0, got %d", s.Frame)
-	}
-	switch s.Planes {
-	case "", pipeline.PlanesOne, pipeline.PlanesAll:
-	case pipeline.PlanesBrightest:
-		sel.Brightest = true
-	default:
-		return sel, usagef("--planes must be one, all or brightest, got %q", s.Planes)
-	}
-	return sel, nil
+	return o, nil
 }

@@ -142,19 +142,6 @@ func TestResolveErrors(t *testing.T) {
 	}
 }
 
-func TestParseBytes(t *testing.T) {
-	for in, want := range map[string]int64{"8GiB": 8 << 30, "400MB": 400e6, "512mib": 512 << 20, "1000": 1000, "1.5 GiB": 3 << 29} {
-		if got, err := parseBytes("max-memory", in); err != nil || got != want {
-			t.Errorf("%q: %d, %v; want %d", in, got, err, want)
-		}
-	}
-	for _, in := range []string{"", "0", "-1GiB", "GiB", "1e30GB", "0.5", "0.4B", "1e-20KiB"} {
-		if _, err := parseBytes("max-memory", in); err == nil {
-			t.Errorf("%q accepted", in)
-		}
-	}
-}
-
 func TestUsageExitCodes(t *testing.T) {
 	for _, c := range []struct {
 		args []string
