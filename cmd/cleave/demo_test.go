@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/demo"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -47,22 +49,22 @@ func TestDemo(t *testing.T) {
 		}
 	}
 	var sum float64
-	parts := demoScenario()
-	for _, sc := range parts[0].fresh {
+	parts := demo.Scenario()
+	for _, sc := range parts[0].Fresh {
 		labels, _, _, err := imageio.ReadLabels(filepath.Join(out, "slide", "segmented", sc.Name+".labels.png"))
 		if err != nil {
 			t.Fatal(err)
 		}
 		sum += score.ARI(labels, sc.Truth)
 	}
-	mean := sum / float64(len(parts[0].fresh))
+	mean := sum / float64(len(parts[0].Fresh))
 	line := ""
 	for _, l := range strings.Split(stdout, "\n") {
 		if strings.HasPrefix(l, "slide  3 new scenes") {
 			line = l
 		}
 	}
-	if want := "mean ARI " + strings.TrimSpace(fmtMetric(mean)); !strings.Contains(line, want) {
+	if want := "mean ARI " + strings.TrimSpace(scoring.FormatMetric(mean)); !strings.Contains(line, want) {
 		t.Errorf("summary %q, recomputed %s", line, want)
 	}
 	if mean < 0.85 {
@@ -127,47 +129,45 @@ func fileExists(p string) bool {
 // command lines that would run them again: parsed as tune's command line,
 // the printed tune line gives the demo's settings, search space and
 // options; and 'cleave segment --params best.json' gives the settings the
-// demo segments with (tuned), on a small tune of one generated scene
-// (seed 13160).
+// demo segments with (Outcome.Tuned), on a small tune of one generated
+// scene (seed 13160).
 func TestDemoPlansMatchTheirCommands(t *testing.T) {
 	dir := t.TempDir()
 	writeNuclei(t, dir, 13160, 1, 112)
-	for _, p := range demoScenario() {
+	for _, p := range demo.Scenario() {
 		for _, force := range []bool{false, true} {
-			tunedDir := filepath.Join(dir, p.name+fmt.Sprint(force))
-			line := p.tuneLine(dir, tunedDir, 1, force)
+			tunedDir := filepath.Join(dir, p.Name+fmt.Sprint(force))
+			line := p.TuneLine(dir, tunedDir, 1, force)
 			fs, s, o := tuneFlags()
 			if err := fs.Parse(line[1:]); err != nil {
 				t.Fatal(err)
 			}
-			plan, err := p.tunePlan(dir, tunedDir, 1, force)
-			if err != nil {
-				t.Fatal(err)
-			}
+			c := &demo.Config{Workers: 1, Force: force, Defaults: defaultSettings(), Voice: voice()}
+			plan := p.TunePlan(c, dir, tunedDir, io.Discard)
 			ax, err := parseSpec(tune.MaxNcut, o.space[tune.MaxNcut])
 			if err != nil {
 				t.Fatal(err)
 			}
 			metric, why, _ := chooseMetric(o.metric, s.Background)
-			c := plan.cfg
-			if !reflect.DeepEqual(*s, plan.settings) || !reflect.DeepEqual(ax, c.Space[tune.MaxNcut]) || o.budget != c.Budget || o.folds != c.Folds ||
-				o.force != plan.force || defaultWorkers(o.workers) != c.Workers || metric != c.Metric || why != c.MetricChoice || o.tolerance != c.Tolerance ||
-				(o.tieBreak == "smoother") != c.SmootherTies || o.images != plan.images || o.out != plan.out {
-				t.Errorf("%s: the line %v parses to %+v %+v, the demo's plan is %+v %+v", p.name, line, *s, *o, plan.settings, *c)
+			cfg := plan.Config
+			if !reflect.DeepEqual(*s, plan.Request) || !reflect.DeepEqual(ax, cfg.Space[tune.MaxNcut]) || o.budget != cfg.Budget || o.folds != cfg.Folds ||
+				o.force != plan.Force || defaultWorkers(o.workers) != cfg.Workers || metric != cfg.Metric || why != cfg.MetricChoice || o.tolerance != cfg.Tolerance ||
+				(o.tieBreak == "smoother") != cfg.SmootherTies || o.images != plan.Images || o.out != plan.Out {
+				t.Errorf("%s: the line %v parses to %+v %+v, the demo's plan is %+v %+v", p.Name, line, *s, *o, plan.Request, *cfg)
 			}
 			for d := range tune.NumParams {
 				if d != tune.MaxNcut && o.space[d] != "" {
-					t.Errorf("%s: the line gives --%s", p.name, d)
+					t.Errorf("%s: the line gives --%s", p.Name, d)
 				}
 			}
-			if p.name != "slide" || force {
+			if p.Name != "slide" || force {
 				continue
 			}
 			// One tune of the plan (no refinement), then best.json read as
 			// segment reads it.
-			plan.cfg.Budget = 0
+			plan.Config.Budget = 0
 			var out bytes.Buffer
-			code, res, err := runTunePlan(context.Background(), plan, &out, io.Discard)
+			code, res, err := runTunePlan(context.Background(), plan, &out)
 			if code != exitOK || err != nil {
 				t.Fatalf("tune: exit %d, %v", code, err)
 			}
@@ -175,7 +175,7 @@ func TestDemoPlansMatchTheirCommands(t *testing.T) {
 			if err != nil || fs2 == nil {
 				t.Fatal(err)
 			}
-			if got := tuned(p.settings(), res); !reflect.DeepEqual(got, *seg) {
+			if got := res.Tuned(p.Request(defaultSettings())); !reflect.DeepEqual(got, *seg) {
 				t.Errorf("tuned settings %+v, segment --params best.json %+v", got, *seg)
 			}
 		}

@@ -1,24 +1,15 @@
 package main
 
 import (
-	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
-	"runtime"
-	"slices"
-	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/demo"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
-	"github.com/cleave-seg/cleave/imageio"
-	"github.com/cleave-seg/cleave/imageio/scenes"
-	"github.com/cleave-seg/cleave/segment/score"
-	"github.com/cleave-seg/cleave/segment/tune"
 	"github.com/spf13/pflag"
 )
 
@@ -55,18 +46,8 @@ with their truth. Scores and the place of every output are printed.
 %s
 Flags:
 %s
-%s`, demoSlideTune, demoSlideNew, demoPlateTune, demoPlateNew, demoExample, flagUsages(fs), caution)
+%s`, demo.SlideTune, demo.SlideNew, demo.PlateTune, demo.PlateNew, demoExample, flagUsages(fs), caution)
 }
-
-// The demo's scenario: sizes, counts and seeds (fixed, so the demo prints
-// the same scores every time).
-const (
-	demoSize                    = 256
-	demoSlideTune, demoSlideNew = 2, 3
-	demoPlateTune, demoPlateNew = 1, 2
-	demoSlideSeed               = 4100
-	demoPlateSeed               = 4300
-)
 
 type demoOptions struct {
 	out         string
@@ -83,85 +64,6 @@ func demoFlags() (*pflag.FlagSet, *demoOptions) {
 	fs.IntVar(&o.workers, "workers", 0, fmt.Sprintf("threads (0 = all cores; at most %d); results do not depend on it", maxWorkers))
 	fs.BoolVarP(&o.help, "help", "h", false, "show this help")
 	return fs, o
-}
-
-// demoPart is one half of the scenario: its scenes and the parameters it
-// fixes (two classes on a background, shading correction) and searches
-// (a reduced search: max-ncut fixed, a small budget; folds 0: tune's
-// default).
-type demoPart struct {
-	name, title   string
-	tune, fresh   []*scenes.Scene
-	background    string
-	flatten       float64
-	maxNcut       float64
-	budget, folds int
-}
-
-// demoClasses is the number of classes both parts segment into.
-const demoClasses = 2
-
-// settings are the parameters of the part as given: the defaults of
-// every flag, with the part's own.
-func (p *demoPart) settings() settings {
-	s := defaultSettings()
-	s.Classes, s.Background, s.Flatten = demoClasses, p.background, p.flatten
-	return s
-}
-
-// foldsOrDefault is the part's K of the cross-validation.
-func (p *demoPart) foldsOrDefault() int {
-	if p.folds == 0 {
-		return defaultFolds
-	}
-	return p.folds
-}
-
-// tuneLine is the tune command a user would type to run the part's tune
-// again (printed before its output; the demo runs the same plan
-// directly, tunePlan).
-func (p *demoPart) tuneLine(tuneDir, tunedDir string, workers int, force bool) []string {
-	a := []string{"tune", "--images", tuneDir, "--truth", tuneDir, "--out", tunedDir, "--workers", fmt.Sprint(workers)}
-	if force {
-		a = append(a, "--force")
-	}
-	a = append(a, "--classes", fmt.Sprint(demoClasses), "--background", p.background)
-	if p.flatten != 0 {
-		a = append(a, "--flatten", tune.FormatValue(p.flatten))
-	}
-	a = append(a, "--max-ncut", tune.FormatValue(p.maxNcut), "--budget", fmt.Sprint(p.budget))
-	if p.folds != 0 {
-		a = append(a, "--folds", fmt.Sprint(p.folds))
-	}
-	return a
-}
-
-// tunePlan is the part's tune: its settings, the metric tune chooses for
-// them, max-ncut fixed, the rest as tune's defaults.
-func (p *demoPart) tunePlan(tuneDir, tunedDir string, workers int, force bool) (*tunePlan, error) {
-	s := p.settings()
-	metric, why, err := chooseMetric("", s.Background)
-	if err != nil {
-		return nil, err
-	}
-	cfg := &tuning.Config{Metric: metric, MetricChoice: why, Tolerance: defaultTolerance, Workers: defaultWorkers(workers),
-		Budget: p.budget, Folds: p.foldsOrDefault(), Voice: voice(), Start: time.Now()}
-	cfg.Space[tune.MaxNcut] = tune.NewAxis(tune.MaxNcut, []float64{p.maxNcut}, tune.FormatValue(p.maxNcut))
-	return &tunePlan{settings: s, cfg: cfg, split: true, images: tuneDir, truth: tuneDir, out: tunedDir, force: force}, nil
-}
-
-// tuned is the part's settings with the tuned values of out: what
-// 'cleave segment --params best.json' runs with.
-func tuned(s settings, out *tuning.Outcome) settings {
-	for _, d := range tune.Params() {
-		v, auto := out.Setting(d)
-		ax := tune.Axis{Param: d, Values: []float64{v}}
-		if auto {
-			ax = tune.AutoAxis(d, "auto")
-		}
-		s = withParam(s, d, ax)
-	}
-	return s
 }
 
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -191,181 +93,29 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return exitFail
 	}
 	start := time.Now()
-	parts := demoScenario()
-	type result struct {
-		part       *demoPart
-		ari, f1    float64
-		tuneScore  string
-		scoresPath string
-	}
-	var results []result
-	for i := range parts {
-		p := &parts[i]
-		fmt.Fprintf(stdout, "== %s: %s\n", p.name, p.title)
-		dir := filepath.Join(o.out, p.name)
-		tuneDir, newDir := filepath.Join(dir, "tune"), filepath.Join(dir, "new")
-		tunedDir, segDir := filepath.Join(dir, "tuned"), filepath.Join(dir, "segmented")
-		for _, d := range []string{tuneDir, newDir} {
-			if err := os.MkdirAll(d, 0o755); err != nil {
-				fmt.Fprintf(stderr, "cleave demo: %v\n", err)
-				return exitFail
-			}
+	results, err := demo.Run(ctx, &demo.Config{Out: o.out, Force: o.force, Workers: o.workers, Defaults: defaultSettings(), Voice: voice(), Stdout: stdout, Stderr: stderr}, demo.Scenario())
+	var se *demo.StepError
+	switch {
+	case errors.As(err, &se):
+		code := exitFail
+		if se.Usage {
+			code = exitUsage
 		}
-		if err := writeScenes(tuneDir, p.tune); err != nil {
-			fmt.Fprintf(stderr, "cleave demo: %v\n", err)
-			return exitFail
-		}
-		if err := writeScenes(newDir, p.fresh); err != nil {
-			fmt.Fprintf(stderr, "cleave demo: %v\n", err)
-			return exitFail
-		}
-		// Each step runs through the packages directly, printed as the
-		// command a user would type to run it again, with its output.
-		scoresPath := filepath.Join(dir, "scores.csv")
-		tuneLine := p.tuneLine(tuneDir, tunedDir, o.workers, o.force)
-		segmentLine := append([]string{"segment", "--params", filepath.Join(tunedDir, "best.json"), "--out", segDir, "--workers", fmt.Sprint(o.workers)}, scenePaths(newDir, p.fresh)...)
-		if o.force {
-			segmentLine = slices.Insert(segmentLine, 7, "--force")
-		}
-		scoreLine := []string{"score", "--csv", scoresPath, segDir, newDir}
-		if o.force {
-			scoreLine = append(scoreLine, "--force")
-		}
-		var out *tuning.Outcome
-		var mean *score.Report
-		for _, st := range []struct {
-			line []string
-			run  func(io.Writer) int
-		}{
-			{tuneLine, func(w io.Writer) int {
-				plan, err := p.tunePlan(tuneDir, tunedDir, o.workers, o.force)
-				if err != nil {
-					tuneError(ctx, err, stderr)
-					return exitCode(err)
-				}
-				code, res, err := runTunePlan(ctx, plan, w, stderr)
-				tuneError(ctx, err, stderr)
-				out = res
-				return code
-			}},
-			{segmentLine, func(w io.Writer) int {
-				workers := o.workers
-				if workers == 0 {
-					workers = runtime.GOMAXPROCS(0)
-				}
-				return segmentFiles(ctx, tuned(p.settings(), out), &commonFlags{out: segDir, force: o.force, workers: workers}, scenePaths(newDir, p.fresh), w, stderr)
-			}},
-			{scoreLine, func(w io.Writer) int {
-				m, err := demoScore(ctx, segDir, newDir, scoresPath, o.force, w)
-				if err != nil {
-					fmt.Fprintf(stderr, "cleave score: %v\n", err)
-					return exitCode(err)
-				}
-				mean = m
-				return exitOK
-			}},
-		} {
-			fmt.Fprintf(stdout, "$ cleave %s\n", strings.Join(st.line, " "))
-			var buf bytes.Buffer
-			if code := st.run(&buf); code != exitOK {
-				fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", st.line[0], code)
-				return code
-			}
-			fmt.Fprint(stdout, indent(buf.String()))
-		}
-		rep := &out.Report
-		ts := fmt.Sprintf("tuned %s %.4f", rep.Metric, rep.Score)
-		if rep.CVScore != nil {
-			ts += fmt.Sprintf(", cross-validated %.4f", *rep.CVScore)
-		}
-		results = append(results, result{p, mean.ARI, mean.F1, ts, scoresPath})
-		fmt.Fprintln(stdout)
+		fmt.Fprintf(stderr, "cleave demo: cleave %s failed (exit %d)\n", se.Step, code)
+		return code
+	case err != nil:
+		fmt.Fprintf(stderr, "cleave demo: %v\n", err)
+		return exitFail
 	}
 	fmt.Fprintf(stdout, "== summary (%.1f s)\n", time.Since(start).Seconds())
 	for _, r := range results {
-		fmt.Fprintf(stdout, "%-6s %d new scenes: mean ARI %.4f, object F1 %.4f (%s)\n", r.part.name, len(r.part.fresh), r.ari, r.f1, r.tuneScore)
-		fmt.Fprintf(stdout, "       %s\n", r.scoresPath)
+		ts := fmt.Sprintf("tuned %s %.4f", r.Tuned.Metric, r.Tuned.Score)
+		if r.Tuned.CVScore != nil {
+			ts += fmt.Sprintf(", cross-validated %.4f", *r.Tuned.CVScore)
+		}
+		fmt.Fprintf(stdout, "%-6s %d new scenes: mean ARI %.4f, object F1 %.4f (%s)\n", r.Part.Name, len(r.Part.Fresh), r.Mean.ARI, r.Mean.F1, ts)
+		fmt.Fprintf(stdout, "       %s\n", r.Scores)
 	}
 	fmt.Fprintf(stdout, "outputs: %s/{slide,plate}/{tune,new,tuned,segmented}; overlays in segmented/*.overlay.png, heatmaps in tuned/tune.png\n", o.out)
 	return exitOK
-}
-
-// demoScenario generates the invented inspection day.
-func demoScenario() []demoPart {
-	// A reduced search so that the demo stays quick: max-ncut fixed.
-	slide := demoPart{name: "slide", title: "fluorescent nuclei, tuned on 2 annotated scenes, applied to 3 new ones",
-		background: "dark", maxNcut: 0.15, budget: 4, folds: 2}
-	for k := 0; k < demoSlideTune+demoSlideNew; k++ {
-		sc := scenes.Nuclei(scenes.NucleiOptions{Width: demoSize, Height: demoSize, Seed: demoSlideSeed + uint64(k)})
-		if k < demoSlideTune {
-			sc.Name = fmt.Sprintf("slide-tune-%d", k+1)
-			slide.tune = append(slide.tune, sc)
-		} else {
-			sc.Name = fmt.Sprintf("slide-new-%d", k-demoSlideTune+1)
-			slide.fresh = append(slide.fresh, sc)
-		}
-	}
-	plate := demoPart{name: "plate", title: "machined plate under raking light, tuned on 1 annotated scene, applied to 2 new ones",
-		background: "bright", flatten: 30, maxNcut: 0.15, budget: 4}
-	for k := 0; k < demoPlateTune+demoPlateNew; k++ {
-		sc := scenes.Plate(scenes.PlateOptions{Width: demoSize, Height: demoSize, Seed: demoPlateSeed + uint64(k)})
-		if k < demoPlateTune {
-			sc.Name = fmt.Sprintf("plate-tune-%d", k+1)
-			plate.tune = append(plate.tune, sc)
-		} else {
-			sc.Name = fmt.Sprintf("plate-new-%d", k-demoPlateTune+1)
-			plate.fresh = append(plate.fresh, sc)
-		}
-	}
-	return []demoPart{slide, plate}
-}
-
-// writeScenes writes NAME.png and NAME.truth.png for each scene.
-func writeScenes(dir string, ss []*scenes.Scene) error {
-	for _, s := range ss {
-		if err := scenes.WritePNG(filepath.Join(dir, s.Name+".png"), s.Image()); err != nil {
-			return err
-		}
-		if err := scenes.WritePNG(filepath.Join(dir, s.Name+".truth.png"), s.TruthImage()); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
-// demoScore scores the label maps in segDir against the truths in
-// truthDir (every file paired), writes the scores to csvPath and prints
-// the table of cleave score; it returns the mean.
-func demoScore(ctx context.Context, segDir, truthDir, csvPath string, force bool, w io.Writer) (*score.Report, error) {
-	pairs, un, err := scoring.PairPredictions(segDir, truthDir)
-	if err != nil {
-		return nil, err
-	}
-	if un.Count() > 0 {
-		return nil, fmt.Errorf("unpaired files: %s", unpairedMessage(un, segDir, truthDir))
-	}
-	res, err := scoring.Score(ctx, pairs, defaultTolerance, true)
-	if err != nil {
-		return nil, scoreErr(err)
-	}
-	if err := imageio.WriteAtomic(csvPath, force, func(w io.Writer) error { return scoring.WriteCSV(w, res, true) }); err != nil {
-		return nil, fmt.Errorf("--csv: %w", err)
-	}
-	writeScoreTable(w, res.Pairs, res.Mean, true, defaultTolerance)
-	return &res.Mean, nil
-}
-
-func scenePaths(dir string, ss []*scenes.Scene) []string {
-	var p []string
-	for _, s := range ss {
-		p = append(p, filepath.Join(dir, s.Name+".png"))
-	}
-	return p
-}
-
-func indent(s string) string {
-	if s == "" {
-		return ""
-	}
-	return "  " + strings.ReplaceAll(strings.TrimSuffix(s, "\n"), "\n", "\n  ") + "\n"
 }

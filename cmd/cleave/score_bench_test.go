@@ -1,9 +1,11 @@
 package main
 
 import (
+	"context"
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio/scenes"
+	"github.com/cleave-seg/cleave/segment/score"
 )
 
 // BenchmarkScoreMaps512 is every metric of one 512x512 nuclei truth against
@@ -14,4 +16,10 @@ func BenchmarkScoreMaps512(b *testing.B) {
 	for b.Loop() {
 		scoreMaps(p, t, 512, 512, defaultTolerance)
 	}
+}
+
+// scoreMaps computes every metric of pred against truth (width x height).
+func scoreMaps(pred, truth []int32, width, height int, tol float64) score.Report {
+	m, _ := score.Compare(context.Background(), pred, truth, width, height, tol)
+	return m
 }

@@ -7,10 +7,8 @@ import (
 	"io"
 	"math"
 	"os"
-	"strconv"
-	"strings"
-	"text/tabwriter"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
@@ -20,16 +18,9 @@ import (
 // metricNames are the names of ms (their json keys and columns).
 func metricNames(ms []score.Metric) []string { return scoring.MetricNames(ms) }
 
-// defaultTolerance is the boundary matching tolerance in pixels: a choice
-// for images a few hundred pixels wide (Martin, Fowlkes and Malik 2004 scale
-// theirs with the image diagonal).
-const defaultTolerance = 2
-
-// scoreMaps computes every metric of pred against truth (width x height).
-func scoreMaps(pred, truth []int32, width, height int, tol float64) score.Report {
-	m, _ := score.Compare(context.Background(), pred, truth, width, height, tol)
-	return m
-}
+// defaultTolerance is the boundary matching tolerance in pixels
+// (scoring.DefaultTolerance).
+const defaultTolerance = scoring.DefaultTolerance
 
 const scoreExample = `Example (score cleave's label map of a shipped nuclei scene against its mask):
 
@@ -124,17 +115,6 @@ func parseSplitMasks(v string) (bool, error) {
 	return false, usagef("--split-masks must be on or off, got %q", v)
 }
 
-// describe is a reading in words, for the text output.
-func describe(r scoring.Reading) string {
-	switch r.Kind {
-	case scoring.KindMaskComponents:
-		return fmt.Sprintf("a binary mask (0 and one other value): its %s, the 8-connected components, were scored (--split-masks off scores it as one label)", plural(r.Objects, "object"))
-	case scoring.KindMaskUnsplit:
-		return "a binary mask (0 and one other value), scored as one label (--split-masks off)"
-	}
-	return fmt.Sprintf("a label map of %s", plural(r.Objects, "object"))
-}
-
 // runScore is cleave score.
 func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs, o := scoreFlags()
@@ -178,7 +158,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			return exitFail
 		}
 		if un.Count() > 0 && !o.pairedOnly {
-			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", unpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
+			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", scoring.UnpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
 			return exitFail
 		}
 		for _, f := range un.NoTruth {
@@ -192,7 +172,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			return exitFail
 		}
 	default:
-		pairs = []scoring.Pair{{Name: stemOf(predArg), Image: predArg, Truth: truthArg}}
+		pairs = []scoring.Pair{{Name: pipeline.Stem(predArg), Image: predArg, Truth: truthArg}}
 	}
 	res, err := scoring.Score(ctx, pairs, o.tolerance, split)
 	switch {
@@ -217,7 +197,7 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		}
 		return exitOK
 	}
-	writeScoreTable(stdout, res.Pairs, res.Mean, folders, o.tolerance)
+	scoring.WriteTable(stdout, res, folders, o.tolerance, voice())
 	return exitOK
 }
 
@@ -229,74 +209,4 @@ func scoreErr(err error) error {
 		return &usageError{err}
 	}
 	return err
-}
-
-// checkTolerance refuses a boundary tolerance above the diagonal of a
-// width x height label map (file path) as a usage error (exit 2).
-func checkTolerance(tol float64, path string, width, height int) error {
-	return scoreErr(scoring.CheckTolerance(tol, path, width, height))
-}
-
-func fmtMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
-
-// writeScoreTable prints the readable table: metric per line for one pair,
-// a row per pair and the mean for folders.
-func writeScoreTable(w io.Writer, scored []scoring.Scored, mean score.Report, folders bool, tol float64) {
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	if !folders {
-		fmt.Fprintf(w, "%s vs %s\n", scored[0].Pred, scored[0].Truth)
-		fmt.Fprintf(w, "prediction: %s\n", describe(scored[0].PredMap))
-		fmt.Fprintf(w, "truth:      %s\n", describe(scored[0].TruthMap))
-		for _, m := range score.Metrics() {
-			fmt.Fprintf(tw, "%s\t%s\t\n", m, fmtMetric(scored[0].Get(m)))
-		}
-		tw.Flush()
-		fmt.Fprintf(w, "(boundary tolerance %g px; vi in nats, lower is better; the rest: higher is better, 1 best)\n", tol)
-		return
-	}
-	cols := []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricMeanIoU, score.MetricBF, score.MetricCovering}
-	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(metricNames(cols), "\t"))
-	row := func(name string, m score.Report) {
-		cells := make([]string, len(cols))
-		for i, c := range cols {
-			cells[i] = fmtMetric(m.Get(c))
-		}
-		fmt.Fprintf(tw, "%s\t%s\t\n", name, strings.Join(cells, "\t"))
-	}
-	for _, s := range scored {
-		row(s.Name, s.Report)
-	}
-	row(fmt.Sprintf("mean of %d", len(scored)), mean)
-	tw.Flush()
-	var masks []string
-	for _, s := range scored {
-		for _, side := range []struct {
-			what string
-			r    scoring.Reading
-		}{{"prediction", s.PredMap}, {"truth", s.TruthMap}} {
-			switch side.r.Kind {
-			case scoring.KindMaskComponents:
-				masks = append(masks, fmt.Sprintf("%s %s: binary mask, %s (8-connected components)", s.Name, side.what, plural(side.r.Objects, "object")))
-			case scoring.KindMaskUnsplit:
-				masks = append(masks, fmt.Sprintf("%s %s: binary mask, one label (--split-masks off)", s.Name, side.what))
-			}
-		}
-	}
-	if len(masks) > 0 {
-		fmt.Fprintf(w, "binary masks: %s\n", strings.Join(masks, "; "))
-	}
-	fmt.Fprintf(w, "(boundary tolerance %g px; every metric in --json and --csv)\n", tol)
-}
-
-// unpairedMessage describes the unpaired files of predDir and truthDir in
-// one line.
-func unpairedMessage(u scoring.Unpaired, predDir, truthDir string) string {
-	var msgs []string
-	if len(u.NoTruth) > 0 {
-		msgs = append(msgs, "predictions without a truth (want NAME, NAME.truth, NAME_mask or NAME_truth in "+truthDir+"): "+strings.Join(u.NoTruth, ", "))
-	}
-	if len(u.NoPred) > 0 {
-		msgs = append(msgs, "truths without a prediction in "+predDir+": "+strings.Join(u.NoPred, ", "))
-	}
-	return strings.Join(msgs, "; ")
 }

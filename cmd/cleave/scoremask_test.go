@@ -2,8 +2,6 @@ package main
 
 import (
 	"encoding/json"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"io"
 	"math"
 	"os"
@@ -12,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
 )

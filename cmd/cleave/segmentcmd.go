@@ -2,12 +2,10 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"runtime"
-	"strings"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/spf13/pflag"
@@ -117,115 +115,25 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 }
 
 // segmentFiles segments images with the parameters s into c.out
-// (c.workers threads per image, at least 1; c.force replaces earlier
-// outputs; c.saveGraph for one image), printing a summary line per image
-// and warnings on stderr; it returns the exit status. The demo runs its
-// segmentation through it too.
+// (pipeline.Files: c.workers threads per image, at least 1; c.force
+// replaces earlier outputs; c.saveGraph for one image), printing a
+// summary line per image and warnings on stderr; it returns the exit
+// status.
 func segmentFiles(ctx context.Context, s settings, c *commonFlags, images []string, stdout, stderr io.Writer) int {
-	res, err := resolve(s, c.workers)
-	if err != nil {
+	f := &pipeline.Files{Images: images, Request: s, Workers: c.workers, Out: c.out, Force: c.force, SaveGraph: c.saveGraph, Voice: voice(), Stdout: stdout, Log: stderr}
+	failed, err := f.Run(ctx)
+	var re *pipeline.RequestError
+	switch {
+	case errors.As(err, &re):
+		fmt.Fprintf(stderr, "cleave segment: %v\n", &usageError{re.Err})
+		return exitUsage
+	case err != nil:
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
-		return exitUsage
-	}
-	defer pipeline.SetCollector(res.Params.MaxMemory)()
-	if c.saveGraph != "" && len(images) > 1 {
-		fmt.Fprintln(stderr, "cleave segment: --save-graph takes one image; give a single IMAGE")
-		return exitUsage
-	}
-	stems := map[string]string{}
-	for _, p := range images {
-		st := stemOf(p)
-		if prev, dup := stems[st]; dup {
-			fmt.Fprintf(stderr, "cleave segment: %s and %s would write the same outputs %s.*; segment them into different --out folders\n", prev, p, st)
-			return exitUsage
-		}
-		stems[st] = p
-	}
-	replace := pipeline.ReplaceNone
-	if c.force {
-		replace = pipeline.ReplaceAny
-	}
-	var jobs []pipeline.Job
-	stacks := map[string][]int{} // --planes all: image -> indices of its jobs
-	for _, p := range images {
-		j := pipeline.Job{Path: p, Out: pipeline.OutputSet{Dir: c.out, Stem: stemOf(p)}, Request: s, Options: res, Replace: replace, SaveGraph: c.saveGraph, Voice: voice()}
-		if s.Planes != pipeline.PlanesAll {
-			jobs = append(jobs, j)
-			continue
-		}
-		planeJobs, err := pipeline.ExpandPlanes(j)
-		if err != nil {
-			fmt.Fprintf(stderr, "cleave segment: %v\n", withFlags(err))
-			return exitFail
-		}
-		for range planeJobs {
-			stacks[p] = append(stacks[p], len(jobs))
-			jobs = append(jobs, planeJobs[len(stacks[p])-1])
-		}
-	}
-	if err := pipeline.CheckNotInputs(jobs); err != nil {
-		fmt.Fprintf(stderr, "cleave segment: %v\n", withFlags(err))
-		return exitUsage
-	}
-	if err := os.MkdirAll(c.out, 0o755); err != nil {
-		fmt.Fprintf(stderr, "cleave segment: cannot create the output folder: %v\n", err)
 		return exitFail
-	}
-	failed := 0
-	recs := make([]*pipeline.Record, len(jobs))
-	for k, j := range jobs {
-		if ctx.Err() != nil {
-			fmt.Fprintln(stderr, "cleave segment: interrupted")
-			return exitFail
-		}
-		p := j.Path
-		rec, err := pipeline.Process(ctx, j)
-		recs[k] = rec
-		if err != nil {
-			failed++
-			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
-			if st, serr := os.Stat(p); serr == nil && st.IsDir() {
-				fmt.Fprintf(stderr, "cleave segment: to segment the images in the folder %s, run: cleave batch %s --out %s\n", p, p, c.out)
-			}
-			continue
-		}
-		fmt.Fprintln(stdout, summaryLine(rec, filepath.Join(c.out, j.Out.Stem)))
-		for _, w := range rec.Warnings {
-			fmt.Fprintf(stderr, "cleave segment: %s: warning: %s\n", p, w.Message)
-		}
-	}
-	for _, p := range images {
-		idx, ok := stacks[p]
-		if !ok {
-			continue
-		}
-		sum := pipeline.StackSummaryOf(p, jobs, recs, idx)
-		path := filepath.Join(c.out, stemOf(p)+".stack.json")
-		if err := pipeline.WriteStackSummary(path, sum, replace != pipeline.ReplaceNone); err != nil {
-			failed++
-			fmt.Fprintf(stderr, "cleave segment: %v\n", err)
-			continue
-		}
-		fmt.Fprintf(stdout, "%s: %s segmented, %d failed -> %s\n", p, plural(len(idx), "plane"), sum.Failed, path)
-	}
-	if failed > 0 {
+	case failed > 0:
 		return exitFail
 	}
 	return exitOK
-}
-
-// summaryLine is the one line per image on stdout.
-func summaryLine(rec *pipeline.Record, prefix string) string {
-	var b strings.Builder
-	fmt.Fprintf(&b, "%s: %dx%d, %s", rec.Input.Path, rec.Input.Width, rec.Input.Height, plural(rec.Regions, "region"))
-	if v, ok := rec.Params["background"].(string); ok && v != "" {
-		fmt.Fprintf(&b, ", %s", plural(rec.Objects, "object"))
-	}
-	if n := len(rec.Warnings); n > 0 {
-		fmt.Fprintf(&b, ", %s (see stderr and the record)", plural(n, "warning"))
-	}
-	fmt.Fprintf(&b, ", %.2f s -> %s.*", rec.Seconds["total"], prefix)
-	return b.String()
 }
 
 // plural formats a count with its noun: "1 region", "3 regions".
@@ -235,10 +143,4 @@ func plural(n int, noun string) string { return pipeline.Plural(n, noun) }
 // command: the version, parameter names as flags.
 func voice() pipeline.Voice {
 	return pipeline.Voice{Version: version, Error: withFlags, Message: flagQuoted}
-}
-
-// stemOf is the file name without its extension.
-func stemOf(path string) string {
-	base := filepath.Base(path)
-	return strings.TrimSuffix(base, filepath.Ext(base))
 }

@@ -287,7 +287,7 @@ func TestBadImages(t *testing.T) {
 		if code != exitFail || !strings.Contains(errb.String(), p) {
 			t.Errorf("%s: exit %d, stderr %q", name, code, errb.String())
 		}
-		if _, err := os.Stat(filepath.Join(dir, "out", stemOf(p)+".labels.png")); err == nil {
+		if _, err := os.Stat(filepath.Join(dir, "out", pipeline.Stem(p)+".labels.png")); err == nil {
 			t.Errorf("%s: a label map was written for a broken file", name)
 		}
 	}

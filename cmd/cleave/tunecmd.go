@@ -2,19 +2,15 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/progress"
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -108,9 +104,6 @@ const (
 	maxFolds  = 100
 )
 
-// defaultFolds is the K of --folds by default.
-const defaultFolds = 3
-
 // tuneOptions are tune's own flags.
 type tuneOptions struct {
 	images, truth, out string
@@ -147,7 +140,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(metricNames(tuneMetrics), ", ")+" (vi is minimized); default f1 with --background, else ari")
 	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
 	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
-	fs.IntVar(&o.folds, "folds", defaultFolds, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
+	fs.IntVar(&o.folds, "folds", tuning.DefaultFolds, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
 	fs.Float64Var(&o.tolerance, "tolerance", defaultTolerance, "boundary matching distance in pixels for --metric bf (0 to the image diagonal)")
 	addSplitMasksFlag(fs, &o.splitMasks)
 	for _, d := range tune.Params() {
@@ -174,21 +167,18 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 // tuneMetrics are the metrics tune can maximize (vi: minimize).
 var tuneMetrics = []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI, score.MetricDice, score.MetricBF, score.MetricCovering, score.MetricVI}
 
-// chooseMetric is the --metric given, or the default: object F1 when
-// objects are segmented (--background), ARI otherwise. It returns the
-// metric and why it was chosen.
+// chooseMetric is the --metric given, or the default
+// (tuning.DefaultMetric). It returns the metric and why it was chosen.
 func chooseMetric(given, background string) (score.Metric, string, error) {
-	switch {
-	case given != "":
-		m, err := score.ParseMetric(given)
-		if err != nil || !slices.Contains(tuneMetrics, m) {
-			return 0, "", usagef("--metric must be one of %s, got %q", strings.Join(metricNames(tuneMetrics), ", "), given)
-		}
-		return m, "--metric", nil
-	case background != "":
-		return score.MetricF1, "default with --background: objects counted", nil
+	if given == "" {
+		m, why := tuning.DefaultMetric(background)
+		return m, flagQuoted(why), nil
 	}
-	return score.MetricARI, "default without --background: no objects to count", nil
+	m, err := score.ParseMetric(given)
+	if err != nil || !slices.Contains(tuneMetrics, m) {
+		return 0, "", usagef("--metric must be one of %s, got %q", strings.Join(metricNames(tuneMetrics), ", "), given)
+	}
+	return m, "--metric", nil
 }
 
 func runTune(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -209,6 +199,16 @@ func tuneError(ctx context.Context, err error, stderr io.Writer) {
 	case err != nil:
 		fmt.Fprintf(stderr, "cleave tune: %v\n", err)
 	}
+}
+
+// tuneErr is an error of tuning in the command's words: an error in the
+// fixed settings or the tolerance is a usage error (exit 2).
+func tuneErr(err error) error {
+	var re *pipeline.RequestError
+	if errors.As(err, &re) {
+		return &usageError{re.Err}
+	}
+	return scoreErr(err)
 }
 
 // tuneCommand maps tune's command line to a tunePlan and runs it.
@@ -255,257 +255,18 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 		}
 		cfg.Space[d] = ax
 	}
-	code, _, err := runTunePlan(ctx, &tunePlan{settings: *s, cfg: cfg, split: split, images: o.images, truth: o.truth, out: o.out, force: o.force}, stdout, stderr)
+	code, _, err := runTunePlan(ctx, &tuning.Plan{Request: *s, Config: cfg, Split: split, Images: o.images, Truth: o.truth, Out: o.out, Force: o.force, Log: stderr}, stdout)
 	return code, err
 }
 
-// tunePlan is one tune as typed values, from the command line or the
-// demo: the parameters as given (the fixed ones), the tuning
-// configuration with the axes given (an axis with neither values nor
-// Auto was not given and takes its default), how truths are read, the
-// folders and whether outputs may be replaced.
-type tunePlan struct {
-	settings           settings
-	cfg                *tuning.Config
-	split              bool
-	images, truth, out string
-	force              bool
-}
-
-// runTunePlan checks the fixed settings, pairs and decodes the images,
-// fills the default axes, runs the search (tuning.Run), writes the files
-// and prints the summary. It returns the exit status and, when the search
-// finished, its outcome.
-func runTunePlan(ctx context.Context, p *tunePlan, stdout, stderr io.Writer) (int, *tuning.Outcome, error) {
-	s, cfg := &p.settings, p.cfg
-	var given [tune.NumParams]bool
-	for _, d := range tune.Params() {
-		given[d] = cfg.Space[d].Values != nil || cfg.Space[d].Auto
-	}
-	// A searched parameter given as auto or as one value is fixed: the
-	// probe checks the fixed settings now (a wrong --classes is a usage
-	// error), and the same settings score the baseline and give the
-	// centres of the default ranges.
-	fixed := *s
-	for _, d := range tune.Params() {
-		if given[d] && (cfg.Space[d].Auto || len(cfg.Space[d].Values) == 1) {
-			fixed = withParam(fixed, d, cfg.Space[d])
-		}
-	}
-	loadRes, err := resolve(fixed, cfg.Workers)
+// runTunePlan runs a tune (tuning.Plan.Run) and prints its summary. It
+// returns the exit status and, when the search finished, its outcome.
+func runTunePlan(ctx context.Context, p *tuning.Plan, stdout io.Writer) (int, *tuning.Outcome, error) {
+	out, err := p.Run(ctx)
 	if err != nil {
-		return exitUsage, nil, err
-	}
-	if s.Planes == pipeline.PlanesAll {
-		return exitUsage, nil, usagef("--planes all is for cleave segment and batch; tune reads one plane per image (--planes one with --plane, or brightest)")
-	}
-	defer pipeline.SetCollector(loadRes.Params.MaxMemory)()
-	if !p.force {
-		for _, n := range tuning.Outputs {
-			if path := filepath.Join(p.out, n); exists(path) {
-				return exitFail, nil, fmt.Errorf("output %s already exists (use --force to overwrite)", path)
-			}
-		}
-	}
-	pairs, unpaired, err := scoring.PairImages(p.images, p.truth)
-	if err != nil {
-		return exitFail, nil, err
-	}
-	for _, u := range unpaired {
-		fmt.Fprintf(stderr, "cleave tune: %s has no truth (want NAME, NAME.truth, NAME_mask or NAME_truth in %s); skipped\n", u, p.truth)
-	}
-	if len(pairs) == 0 {
-		return exitFail, nil, fmt.Errorf("no image in %s has a truth in %s", p.images, p.truth)
-	}
-	readTruth := func(path string) (scoring.Map, error) { return scoring.Read(path, p.split) }
-	checkTol := func(im *tuning.Image) error {
-		return checkTolerance(cfg.Tolerance, im.Pair.Truth, im.Truth.Width, im.Truth.Height)
-	}
-	cfg.Images, err = tuning.Load(ctx, pairs, loadRes, readTruth, checkTol)
-	if err != nil {
+		err = tuneErr(err)
 		return exitCode(err), nil, err
 	}
-	br, err := resolve(fixed, 1)
-	if err != nil {
-		return exitUsage, nil, err
-	}
-	cfg.Base = br.Params
-	// Defaults of the axes not given; sigma-i and sigma-x are left empty,
-	// for tuning.Run to centre on the automatic values.
-	if !given[tune.MaxNcut] {
-		cfg.Space[tune.MaxNcut] = tune.DefaultAxis(tune.MaxNcut, []float64{defaults.MaxNcut / 2, defaults.MaxNcut})
-	}
-	if !given[tune.Radius] {
-		cfg.Space[tune.Radius] = tune.DefaultAxis(tune.Radius, []float64{float64(s.Radius)})
-	}
-	if !given[tune.Superpixels] {
-		cfg.Space[tune.Superpixels] = tune.AutoAxis(tune.Superpixels, "auto (default)")
-		if sp, auto, err := parseAuto("superpixels", s.Superpixels); err == nil && !auto {
-			cfg.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{sp})
-		}
-	}
-	if !given[tune.Compactness] {
-		cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{s.Compactness})
-	}
-	if !given[tune.Necks] {
-		v := tune.On
-		if s.NecksAsked() == "off" {
-			v = tune.Off
-		}
-		cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{v})
-	}
-	cfg.Fixed = s.Map()
-	for _, d := range tune.Params() {
-		cfg.Given[d] = baselineText(*s, d)
-	}
-	cfg.Unpaired = unpaired
-	prog := progress.NewTune(stderr, cfg.Metric)
-	cfg.Progress = prog
-	defer prog.Finish()
-	out, err := tuning.Run(ctx, cfg)
-	if err != nil {
-		return exitFail, nil, err
-	}
-	if err := out.Write(p.out, p.force); err != nil {
-		return exitFail, nil, err
-	}
-	tuneSummary(stdout, out.Report, len(cfg.Images), p.out)
+	out.WriteSummary(stdout, p.Out)
 	return exitOK, out, nil
-}
-
-func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
-
-// withParam fixes one searched parameter in a settings value to the
-// single value of its axis, or to auto.
-func withParam(s settings, d tune.Param, ax tune.Axis) settings {
-	v := math.NaN()
-	if !ax.Auto {
-		v = ax.Values[0]
-	}
-	txt := tune.FormatValue(v)
-	if ax.Auto {
-		txt = "auto"
-	}
-	switch d {
-	case tune.SigmaI:
-		s.SigmaI = txt
-	case tune.SigmaX:
-		s.SigmaX = txt
-	case tune.Superpixels:
-		s.Superpixels = txt
-	case tune.MaxNcut:
-		s.MaxNcut = v
-	case tune.Radius:
-		s.Radius = int(v)
-	case tune.Compactness:
-		s.Compactness = v
-	case tune.Necks:
-		s.Necks = tune.OnOff(v)
-	}
-	return s
-}
-
-// baselineText is a parameter of the baseline row as given.
-func baselineText(s settings, d tune.Param) string {
-	switch d {
-	case tune.SigmaI:
-		return strings.TrimSpace(s.SigmaI)
-	case tune.SigmaX:
-		return strings.TrimSpace(s.SigmaX)
-	case tune.Superpixels:
-		return strings.TrimSpace(s.Superpixels)
-	case tune.MaxNcut:
-		return tune.FormatValue(s.MaxNcut)
-	case tune.Radius:
-		return strconv.Itoa(s.Radius)
-	case tune.Necks:
-		return s.NecksAsked()
-	}
-	return tune.FormatValue(s.Compactness)
-}
-
-// summary prints the short report on stdout.
-func tuneSummary(w io.Writer, rep tuning.Report, nImages int, out string) {
-	widened := ""
-	if rep.WidenedSettings > 0 {
-		widened = fmt.Sprintf(" + %d widened", rep.WidenedSettings)
-	}
-	fmt.Fprintf(w, "tuned on %s: %d grid + %d refined%s settings, %.1f s\n", plural(nImages, "image"), rep.GridSize, rep.Refined, widened, rep.Seconds)
-	fmt.Fprintf(w, "metric:              %s (%s)\n", rep.Metric, rep.MetricChoice)
-	var split, unsplit []string
-	for _, m := range rep.TruthMaps {
-		switch m.Kind {
-		case scoring.KindMaskComponents:
-			split = append(split, fmt.Sprintf("%s %d", m.Name, m.Objects))
-		case scoring.KindMaskUnsplit:
-			unsplit = append(unsplit, m.Name)
-		}
-	}
-	if len(split) > 0 {
-		fmt.Fprintf(w, "truth masks:         %d of %s %s, scored by their 8-connected components as objects (%s); --split-masks off scores each as one label\n", len(split), plural(len(rep.TruthMaps), "truth"), isBinaryMasks(len(split)), strings.Join(split, ", "))
-	}
-	if len(unsplit) > 0 {
-		fmt.Fprintf(w, "truth masks:         %d of %s %s, each scored as one label (--split-masks off): %s\n", len(unsplit), plural(len(rep.TruthMaps), "truth"), isBinaryMasks(len(unsplit)), strings.Join(unsplit, ", "))
-	}
-	others := func(m *score.Report) string {
-		if m == nil {
-			return ""
-		}
-		var p []string
-		for _, n := range []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI} {
-			if n != rep.Metric {
-				p = append(p, fmt.Sprintf("%s %.4f", n, m.Get(n)))
-			}
-		}
-		return "; " + strings.Join(p, ", ")
-	}
-	if rep.Baseline != nil {
-		fmt.Fprintf(w, "automatic settings:  mean %s %.4f%s\n", rep.Metric, *rep.Baseline, others(rep.BaselineMetrics))
-	}
-	var parts []string
-	for _, d := range tune.Params() {
-		if _, ok := rep.Best[d.String()]; !ok {
-			continue
-		}
-		parts = append(parts, d.String()+" "+rep.Best[d.String()])
-	}
-	per := "time not measured"
-	if rep.SecondsPerImage != nil {
-		per = fmt.Sprintf("%.3f s per image", *rep.SecondsPerImage)
-	}
-	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
-	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
-	if rep.AutomaticKept {
-		fmt.Fprintf(w, "kept:                the automatic settings: no searched setting beat them by more than a tie (relative %g), and widths each image sets for itself carry over to new images better than a value chosen among ties\n", rep.TieRelative)
-	} else if n := len(rep.Tied); n > 1 {
-		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(tune.CostMargin-1))
-	}
-	for _, wd := range rep.Widenings {
-		fmt.Fprintf(w, "widened:             %s beyond its %s end %s to %s\n", wd.Parameter, wd.Side, tune.FormatValue(wd.Edge), tune.FormatValue(wd.Added))
-	}
-	if rep.CVScore != nil {
-		kind := fmt.Sprintf("%d-fold", rep.CVFolds)
-		if rep.CVFolds == nImages {
-			kind = "leave-one-out"
-		}
-		fmt.Fprintf(w, "cross-validated:     held-out %s %.4f (%s; expect about this on new images)\n", rep.Metric, *rep.CVScore, kind)
-	} else if rep.CVFolds >= 2 {
-		why := rep.CVError
-		if why == "" {
-			why = "a fold's choice failed (see tune.json)"
-		}
-		fmt.Fprintf(w, "cross-validated:     no score: %s\n", why)
-	} else {
-		fmt.Fprintf(w, "cross-validated:     not run (needs --folds >= 2 and at least 2 images)\n")
-	}
-	fmt.Fprintf(w, "wrote %s (best.json, tune.csv, tune.png, tune.json)\n", out)
-	fmt.Fprintf(w, "next: cleave segment --params %s IMAGE...\n", filepath.Join(out, "best.json"))
-}
-
-// isBinaryMasks is the predicate of "N of M truths ...", agreeing with N.
-func isBinaryMasks(n int) string {
-	if n == 1 {
-		return "is a binary mask"
-	}
-	return "are binary masks"
 }

@@ -79,13 +79,10 @@ type Config struct {
 
 // RequestError is an error in what was asked (a folder, an input name,
 // a file of the user's in the way): nothing was written, and the command
-// exits as for wrong usage.
-type RequestError struct{ Err error }
+// exits as for wrong usage. It is the pipeline's.
+type RequestError = pipeline.RequestError
 
-func (e *RequestError) Error() string { return e.Err.Error() }
-func (e *RequestError) Unwrap() error { return e.Err }
-
-func requestf(format string, a ...any) error { return &RequestError{fmt.Errorf(format, a...)} }
+func requestf(format string, a ...any) error { return &RequestError{Err: fmt.Errorf(format, a...)} }
 
 // Plan is a checked batch, ready to run: every input, sorted by relative
 // path, and this task's share of them.
@@ -153,11 +150,11 @@ func NewPlan(c Config) (*Plan, error) {
 		p.All = planeInputs(p.realInput, p.All, p.Options.Load)
 	}
 	if p.oldIndex, err = existingIndex(p.Out); err != nil {
-		return nil, &RequestError{err}
+		return nil, &RequestError{Err: err}
 	}
 	if p.ShardN == 1 {
 		if err := checkTopFiles(p.Out, p.oldIndex); err != nil {
-			return nil, &RequestError{err}
+			return nil, &RequestError{Err: err}
 		}
 	}
 	absOut, _ := filepath.Abs(p.Out)
@@ -415,7 +412,7 @@ func lockOut(dir string, exclusive bool, what string) (*outlock.Lock, error) {
 	l, err := outlock.Take(dir, exclusive, what)
 	var le *outlock.LockedError
 	if errors.As(err, &le) {
-		return nil, &RequestError{err}
+		return nil, &RequestError{Err: err}
 	}
 	return l, err
 }
@@ -857,7 +854,7 @@ func removeTempFiles(out string, dirs []string) error {
 func Rebuild(dir, holder string, v pipeline.Voice, log io.Writer) (Counts, error) {
 	idx, err := ReadIndex(dir)
 	if err != nil {
-		return Counts{}, &RequestError{err}
+		return Counts{}, &RequestError{Err: err}
 	}
 	// No shard may be writing while the temporary files are cleaned up
 	// and the manifest is read from the records.
@@ -868,7 +865,7 @@ func Rebuild(dir, holder string, v pipeline.Voice, log io.Writer) (Counts, error
 	defer lock.Release()
 	warnUnlocked(log, lock, dir)
 	if err := checkTopFiles(dir, idx); err != nil {
-		return Counts{}, &RequestError{err}
+		return Counts{}, &RequestError{Err: err}
 	}
 	idx.Files = topFiles
 	owner := imageio.DefaultTempOwner()

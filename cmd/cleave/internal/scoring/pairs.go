@@ -10,12 +10,6 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
-// Stem is a file's name without its extension.
-func Stem(path string) string {
-	base := filepath.Base(path)
-	return strings.TrimSuffix(base, filepath.Ext(base))
-}
-
 // TruthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
 // NAME_truth.png all belong to the image NAME.
 var TruthSuffixes = []string{".truth", "_mask", "_truth"}
@@ -37,7 +31,7 @@ func TrimTruth(stem string) (string, bool) {
 // IsTruthName reports whether a file name (or path) follows the truth-naming
 // rule of tune and score: its stem is NAME.truth, NAME_mask or NAME_truth.
 func IsTruthName(name string) bool {
-	_, ok := TrimTruth(Stem(name))
+	_, ok := TrimTruth(pipeline.Stem(name))
 	return ok
 }
 
@@ -85,7 +79,7 @@ func truthIndex(dir string, plain bool) (map[string]string, error) {
 	}
 	suffixed, bare := map[string]string{}, map[string]string{}
 	for _, f := range files {
-		name, ok := TrimTruth(Stem(f))
+		name, ok := TrimTruth(pipeline.Stem(f))
 		idx := suffixed
 		if !ok {
 			if !plain {
@@ -127,7 +121,7 @@ func PairImages(imagesDir, truthDir string) (pairs []Pair, unpaired []string, er
 		return nil, nil, err
 	}
 	for _, f := range files {
-		stem := Stem(f)
+		stem := pipeline.Stem(f)
 		if IsTruthName(f) {
 			continue
 		}
@@ -163,13 +157,13 @@ func PairPredictions(predDir, truthDir string) ([]Pair, Unpaired, error) {
 	}
 	hasLabels := false
 	for _, f := range files {
-		if strings.HasSuffix(Stem(f), LabelsSuffix) {
+		if strings.HasSuffix(pipeline.Stem(f), LabelsSuffix) {
 			hasLabels = true
 		}
 	}
 	preds := map[string]string{}
 	for _, f := range files {
-		stem := Stem(f)
+		stem := pipeline.Stem(f)
 		name := stem
 		if hasLabels {
 			var ok bool
