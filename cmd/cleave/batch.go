@@ -7,8 +7,6 @@ import (
 	"io"
 	"os"
 	"path"
-	"path/filepath"
-	"strconv"
 	"strings"
 	"time"
 
@@ -205,12 +203,7 @@ func runRebuild(fs *pflag.FlagSet, o *batchOptions, stderr io.Writer) int {
 		return exitCode(err)
 	}
 	if !o.quiet {
-		skipped := ""
-		if c.Skipped > 0 {
-			skipped = fmt.Sprintf(", %d skipped", c.Skipped)
-		}
-		fmt.Fprintf(stderr, "cleave batch: %s: %d ok, %d failed, %d pending%s -> %s, %s, %s\n", plural(c.Rows-c.Skipped, "input"), c.OK, c.Failed, c.Pending, skipped,
-			filepath.Join(dir, batch.ManifestName), filepath.Join(dir, batch.ObjectsName), filepath.Join(dir, batch.ReportName))
+		fmt.Fprintf(stderr, "cleave batch: %s\n", c.RebuildSummary(dir))
 	}
 	if c.Failed > 0 || c.Pending > 0 {
 		return exitFail
@@ -250,18 +243,11 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions, stderr io.Wri
 		return nil, usagef("--workers must be 0 (automatic) to %d, got %d", maxWorkers, o.workers)
 	}
 	c := batch.Config{InputDir: flags.Arg(0), Out: o.out, Include: o.include, Exclude: o.exclude, Recursive: o.recursive, WithTruths: o.withTruths,
-		FailFast: o.failFast, Quiet: o.quiet, Prune: o.prune, Jobs: o.jobs, Workers: o.workers, ShardI: 0, ShardN: 1,
+		FailFast: o.failFast, Quiet: o.quiet, Prune: o.prune, Jobs: o.jobs, Workers: o.workers,
 		ProgressEvery: o.progressEvery, Request: *s, IsTruth: scoring.IsTruthName, Voice: voice(), Log: stderr}
-	if o.shard == shardAuto {
-		var err error
-		if c.ShardI, c.ShardN, c.ShardFrom, err = shardFromEnv(os.LookupEnv); err != nil {
-			return nil, err
-		}
-	} else if o.shard != "" {
-		var err error
-		if c.ShardI, c.ShardN, err = parseShard(o.shard); err != nil {
-			return nil, err
-		}
+	var err error
+	if c.ShardI, c.ShardN, c.ShardFrom, err = batch.Shard(o.shard, os.LookupEnv); err != nil {
+		return nil, batchErr(err)
 	}
 	if o.prune && c.ShardN > 1 {
 		return nil, usagef("--prune works on the whole folder, so not with --shard %s: run it once, unsharded (or after the shards)", o.shard)
@@ -272,7 +258,6 @@ func planBatch(flags *pflag.FlagSet, s *settings, o *batchOptions, stderr io.Wri
 		}
 	}
 	// Resolved with one worker; the plan sets the count per image.
-	var err error
 	if c.Options, err = resolve(*s, 1); err != nil {
 		return nil, err
 	}
@@ -297,34 +282,7 @@ func executeBatch(ctx context.Context, p *batch.Plan, stderr io.Writer) int {
 		return exitCode(err)
 	}
 	if !p.Quiet {
-		wrote := ""
-		if p.ShardN == 1 {
-			wrote = fmt.Sprintf(" -> %s, %s, %s", filepath.Join(p.Out, batch.ManifestName), filepath.Join(p.Out, batch.ObjectsName), filepath.Join(p.Out, batch.ReportName))
-		}
-		shard := ""
-		if p.ShardN > 1 {
-			shard = fmt.Sprintf(" (shard %d/%d of %d)", p.ShardI, p.ShardN, len(p.All))
-		}
-		if p.ShardFrom != "" {
-			shard = fmt.Sprintf(" (shard %d/%d of %d, from %s)", p.ShardI, p.ShardN, len(p.All), p.ShardFrom)
-		}
-		fmt.Fprintf(stderr, "cleave batch: %s%s: %d computed now, %d already up to date, %d failed", p.CountMine(), shard, oc.Computed, oc.UpToDate, oc.Failed)
-		if oc.NotDone > 0 {
-			fmt.Fprintf(stderr, ", %d not done", oc.NotDone)
-		}
-		if oc.Warned > 0 {
-			fmt.Fprintf(stderr, ", %d with warnings to check (see the report)", oc.Warned)
-		}
-		truths := p.TruthsSkipped()
-		if truths > 0 {
-			fmt.Fprintf(stderr, ", %s skipped", plural(truths, "truth mask"))
-		}
-		if n := len(p.Skipped) - truths; n == 1 {
-			fmt.Fprint(stderr, ", 1 other entry skipped")
-		} else if n > 1 {
-			fmt.Fprintf(stderr, ", %d other entries skipped", n)
-		}
-		fmt.Fprintf(stderr, " in %.1f s%s\n", oc.Seconds, wrote)
+		fmt.Fprintf(stderr, "cleave batch: %s\n", p.Summary(oc))
 		if p.ShardN > 1 {
 			fmt.Fprintf(stderr, "cleave batch: when every shard is done, run: cleave batch --rebuild %s\n", p.Out)
 		}
@@ -340,18 +298,4 @@ func executeBatch(ctx context.Context, p *batch.Plan, stderr io.Writer) int {
 		return exitFail
 	}
 	return exitOK
-}
-
-// parseShard reads "I/N" with 0 <= I < N.
-func parseShard(v string) (i, n int, err error) {
-	a, b, ok := strings.Cut(strings.TrimSpace(v), "/")
-	if ok {
-		var e1, e2 error
-		i, e1 = strconv.Atoi(a)
-		n, e2 = strconv.Atoi(b)
-		if e1 == nil && e2 == nil && n >= 1 && i >= 0 && i < n {
-			return i, n, nil
-		}
-	}
-	return 0, 0, usagef("--shard must be I/N with 0 <= I < N (e.g. 0/4 for the first of four tasks), got %q", v)
 }

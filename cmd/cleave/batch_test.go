@@ -19,6 +19,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/batch"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/examples/loudskip"
 	"github.com/cleave-seg/cleave/imageio/scenes"
@@ -874,9 +875,9 @@ func TestParseShard(t *testing.T) {
 		{"3/3", 0, 0, false}, {"-1/2", 0, 0, false}, {"0/0", 0, 0, false}, {"1", 0, 0, false}, {"1/", 0, 0, false}, {"x/2", 0, 0, false},
 	}
 	for _, c := range cases {
-		i, n, err := parseShard(c.in)
+		i, n, _, err := batch.Shard(c.in, nil)
 		if (err == nil) != c.ok || i != c.i || n != c.n {
-			t.Errorf("parseShard(%q) = %d, %d, %v", c.in, i, n, err)
+			t.Errorf("batch.Shard(%q) = %d, %d, %v", c.in, i, n, err)
 		}
 	}
 }
