@@ -12,6 +12,8 @@ import (
 	"slices"
 	"strings"
 
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/hugepages"
+	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/spf13/pflag"
 )
 
@@ -34,12 +36,23 @@ func (e *usageError) Unwrap() error { return e.err }
 
 func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
 
+// requestErr is err with an error in what was asked (a
+// pipeline.RequestError, which the batch, tuning and scoring packages
+// return too) as a usage error; other errors are left as they are.
+func requestErr(err error) error {
+	var re *pipeline.RequestError
+	if errors.As(err, &re) {
+		return &usageError{re.Err}
+	}
+	return err
+}
+
 func main() {
 	// Only the commands that build graphs and solve eigenproblems gain
 	// from huge pages; help, version and score start without the advice
 	// (and without its large untouched allocation).
 	if len(os.Args) > 1 && slices.Contains([]string{"segment", "batch", "tune", "demo"}, os.Args[1]) {
-		adviseHugePages()
+		hugepages.Advise()
 	}
 	os.Exit(runWithSignals(func(ctx context.Context) int {
 		return run(ctx, os.Args[1:], os.Stdout, os.Stderr)

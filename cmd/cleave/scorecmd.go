@@ -6,9 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/segment/score"
@@ -134,45 +132,11 @@ func runScore(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stderr, "cleave score: %v\n", err)
 		return exitUsage
 	}
-	predArg, truthArg := fs.Arg(0), fs.Arg(1)
-	pst, err := os.Stat(predArg)
+	pairs, folders, err := scoring.PairArgs(fs.Arg(0), fs.Arg(1), o.pairedOnly, stderr, voice())
 	if err != nil {
-		fmt.Fprintf(stderr, "cleave score: prediction: %v\n", err)
-		return exitFail
-	}
-	tst, err := os.Stat(truthArg)
-	if err != nil {
-		fmt.Fprintf(stderr, "cleave score: truth: %v\n", err)
-		return exitFail
-	}
-	var pairs []scoring.Pair
-	folders := pst.IsDir()
-	switch {
-	case pst.IsDir() != tst.IsDir():
-		fmt.Fprintf(stderr, "cleave score: give two files or two folders; %s is a folder and %s is not\n", map[bool]string{true: predArg, false: truthArg}[pst.IsDir()], map[bool]string{true: truthArg, false: predArg}[pst.IsDir()])
-		return exitUsage
-	case folders:
-		var un scoring.Unpaired
-		if pairs, un, err = scoring.PairPredictions(predArg, truthArg); err != nil {
-			fmt.Fprintf(stderr, "cleave score: %v\n", err)
-			return exitFail
-		}
-		if un.Count() > 0 && !o.pairedOnly {
-			fmt.Fprintf(stderr, "cleave score: unpaired files: %s; --paired-only scores the %s that pair up and names the rest\n", scoring.UnpairedMessage(un, predArg, truthArg), plural(len(pairs), "pair"))
-			return exitFail
-		}
-		for _, f := range un.NoTruth {
-			fmt.Fprintf(stderr, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truthArg)
-		}
-		for _, f := range un.NoPred {
-			fmt.Fprintf(stderr, "cleave score: not scored: %s has no prediction in %s\n", f, predArg)
-		}
-		if len(pairs) == 0 {
-			fmt.Fprintf(stderr, "cleave score: no prediction in %s pairs with a truth in %s\n", predArg, truthArg)
-			return exitFail
-		}
-	default:
-		pairs = []scoring.Pair{{Name: pipeline.Stem(predArg), Image: predArg, Truth: truthArg}}
+		err = requestErr(err)
+		fmt.Fprintf(stderr, "cleave score: %v\n", err)
+		return exitCode(err)
 	}
 	res, err := scoring.Score(ctx, pairs, o.tolerance, split)
 	switch {

@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"io"
 	"runtime"
@@ -122,15 +121,12 @@ func runSegment(ctx context.Context, args []string, stdout, stderr io.Writer) in
 func segmentFiles(ctx context.Context, s settings, c *commonFlags, images []string, stdout, stderr io.Writer) int {
 	f := &pipeline.Files{Images: images, Request: s, Workers: c.workers, Out: c.out, Force: c.force, SaveGraph: c.saveGraph, Voice: voice(), Stdout: stdout, Log: stderr}
 	failed, err := f.Run(ctx)
-	var re *pipeline.RequestError
-	switch {
-	case errors.As(err, &re):
-		fmt.Fprintf(stderr, "cleave segment: %v\n", &usageError{re.Err})
-		return exitUsage
-	case err != nil:
+	if err != nil {
+		err = requestErr(err)
 		fmt.Fprintf(stderr, "cleave segment: %v\n", err)
-		return exitFail
-	case failed > 0:
+		return exitCode(err)
+	}
+	if failed > 0 {
 		return exitFail
 	}
 	return exitOK

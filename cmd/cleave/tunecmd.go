@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -10,7 +9,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
@@ -203,13 +201,7 @@ func tuneError(ctx context.Context, err error, stderr io.Writer) {
 
 // tuneErr is an error of tuning in the command's words: an error in the
 // fixed settings or the tolerance is a usage error (exit 2).
-func tuneErr(err error) error {
-	var re *pipeline.RequestError
-	if errors.As(err, &re) {
-		return &usageError{re.Err}
-	}
-	return scoreErr(err)
-}
+func tuneErr(err error) error { return scoreErr(requestErr(err)) }
 
 // tuneCommand maps tune's command line to a tunePlan and runs it.
 func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {

@@ -2,6 +2,7 @@ package scoring
 
 import (
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"sort"
@@ -204,3 +205,48 @@ type Unpaired struct {
 }
 
 func (u Unpaired) Count() int { return len(u.NoTruth) + len(u.NoPred) }
+
+// PairArgs pairs the two arguments of a score: two label images (one
+// pair) or two folders (PairPredictions; folders is true). Unpaired files
+// fail the pairing, naming them, unless pairedOnly: then each is named on
+// log ("cleave score: not scored: ..."). A file and a folder are a
+// *pipeline.RequestError; an argument that cannot be read, unpaired files
+// and folders without a pair are plain errors. v words parameter names.
+func PairArgs(pred, truth string, pairedOnly bool, log io.Writer, v pipeline.Voice) (pairs []Pair, folders bool, err error) {
+	pst, err := os.Stat(pred)
+	if err != nil {
+		return nil, false, fmt.Errorf("prediction: %w", err)
+	}
+	tst, err := os.Stat(truth)
+	if err != nil {
+		return nil, false, fmt.Errorf("truth: %w", err)
+	}
+	folders = pst.IsDir()
+	switch {
+	case pst.IsDir() != tst.IsDir():
+		dir, file := pred, truth
+		if !pst.IsDir() {
+			dir, file = truth, pred
+		}
+		return nil, false, &pipeline.RequestError{Err: fmt.Errorf("give two files or two folders; %s is a folder and %s is not", dir, file)}
+	case !folders:
+		return []Pair{{Name: pipeline.Stem(pred), Image: pred, Truth: truth}}, false, nil
+	}
+	pairs, un, err := PairPredictions(pred, truth)
+	if err != nil {
+		return nil, true, err
+	}
+	if un.Count() > 0 && !pairedOnly {
+		return nil, true, fmt.Errorf("unpaired files: %s; %s scores the %s that pair up and names the rest", UnpairedMessage(un, pred, truth), v.Msg("`paired-only`"), pipeline.Plural(len(pairs), "pair"))
+	}
+	for _, f := range un.NoTruth {
+		fmt.Fprintf(log, "cleave score: not scored: %s has no truth in %s (want NAME, NAME.truth, NAME_mask or NAME_truth)\n", f, truth)
+	}
+	for _, f := range un.NoPred {
+		fmt.Fprintf(log, "cleave score: not scored: %s has no prediction in %s\n", f, pred)
+	}
+	if len(pairs) == 0 {
+		return nil, true, fmt.Errorf("no prediction in %s pairs with a truth in %s", pred, truth)
+	}
+	return pairs, true, nil
+}
