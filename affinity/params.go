@@ -11,7 +11,8 @@ import (
 var ErrParam = errors.New("affinity: invalid parameter")
 
 // ParamError reports a parameter outside its domain. Name is the
-// user-facing name (as the command-line flag spells it), so the message
+// parameter's name as the params files spell it (the command words it
+// as its flag), so the message
 // can be shown as it stands: "sigma-i must be a positive number, got NaN".
 type ParamError struct {
 	Name string // e.g. "sigma-i", "radius"

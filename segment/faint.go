@@ -4,12 +4,9 @@ import "math"
 
 // faintSigmas is k of the faint-object rule of faintObjects. The usual
 // 3 (detectSigmas) assumes Gaussian scores; superpixel scores on mottled
-// stains and grainy metal have much heavier tails, and at 3 (and 5) the
-// rule found spurious objects there (generated stained scenes, seeds
-// 9200-9203: object F1 0.821 -> 0.703 at 3, 0.797 at 5). 7, chosen on
-// those seeds with the clusters, plates, surface and nuclei kinds, left
-// stained and clusters unchanged and found the pits the cut had missed
-// (plates F1 0.933 -> 1.000, surface 0.528 -> 0.745).
+// stains and grainy metal have much heavier tails, where a small k finds
+// spurious objects. Our choice, on the project's generated scenes
+// (DEVELOPERS.md, "Measured choices", gives the measurement).
 const faintSigmas = 7
 
 // faintObjects finds objects the cut left inside the background: a faint

@@ -148,8 +148,7 @@ const (
 	MaxSuperpixels = 1000000
 	// MaxKwaySegments bounds K of the k-way method and MaxSegments: the
 	// eigensolver's work grows with the square of the eigenpairs sought
-	// (measured on scikit-image's coins.png: K = 32 took 0.16 s, 100 took
-	// 4.8 s, 200 took 28 s).
+	// (DEVELOPERS.md, "Measured choices", gives the measurement).
 	MaxKwaySegments = 64
 	// MaxBisectSegments bounds the region limit of the bisect method (a
 	// limit, not work: above the regions a cut finds it is no limit).

@@ -194,7 +194,7 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 
 // Workers bounds the goroutines that decode the strips or tiles of one
 // sample plane (also by GOMAXPROCS); each holds one chunk buffer.
-var Workers = 4
+const Workers = 4
 
 func isInt[T Sample]() bool {
 	var z T

@@ -49,7 +49,8 @@ type Config struct {
 	Quiet            bool // no progress and no skip lines on Log
 	Prune            bool // remove the outputs of inputs no longer selected
 	// Jobs is the images processed at once and Workers the threads per
-	// image; 0 chooses (one image per core, cores / jobs threads).
+	// image; 0 chooses (one image per core, cores / jobs threads; the
+	// cores are GOMAXPROCS, as for every worker count of cleave).
 	Jobs, Workers int
 	// ShardI of ShardN is this task's share: every ShardN-th input from
 	// the ShardI-th (0 of 1: all). ShardFrom names where they were read,
@@ -184,7 +185,7 @@ func NewPlan(c Config) (*Plan, error) {
 			p.Mine = append(p.Mine, k)
 		}
 	}
-	cores := runtime.NumCPU()
+	cores := runtime.GOMAXPROCS(0)
 	p.jobs = c.Jobs
 	if p.jobs == 0 {
 		p.jobs = cores

@@ -40,7 +40,8 @@ type Lock struct {
 }
 
 // LockedError is the refusal when another process holds the lock, with
-// the holders the lock file names.
+// the holders the lock file names. Its message names the folder's
+// parameter in backquotes (`out`), for the command to word as its flag.
 type LockedError struct {
 	Dir     string
 	Holders []string
@@ -53,7 +54,7 @@ func (e *LockedError) Error() string {
 	} else if len(e.Holders) > 1 {
 		who, wait = strings.Join(e.Holders, "; "), "they end (or stop them)"
 	}
-	return fmt.Sprintf("--out %s is in use by %s; wait until %s and run again (a folder takes one batch or rebuild at a time, or any number of shards)", e.Dir, who, wait)
+	return fmt.Sprintf("`out` %s is in use by %s; wait until %s and run again (a folder takes one batch or rebuild at a time, or any number of shards)", e.Dir, who, wait)
 }
 
 // Take takes the lock on dir (which must exist) without waiting:

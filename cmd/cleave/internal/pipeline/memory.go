@@ -194,11 +194,8 @@ func (b *memoryBudget) release(n int64) {
 // runs when the heap has grown by GCPercent (50) over the live data
 // instead of the runtime's 100: the largest images hold most of their
 // memory in a few big planes, and a collection that falls just after they
-// are allocated lets the heap double. Measured on a 16-megapixel 16-bit
-// frame (nuclei, seed 14300, --classes 2 --background dark, quiet
-// machine, two runs each): peak RSS 1.77-1.92 GB at 100, 1.50-1.52 GB at
-// 50; CPU 36.1-36.3 s at 100, 36.2-39.2 s with GOGC=50 in the environment
-// and 38.6-40.5 s with this default.
+// are allocated lets the heap double (DEVELOPERS.md, "Measured choices",
+// gives the measurement).
 func SetCollector(limit int64) (restore func()) {
 	if limit <= 0 {
 		return func() {}
