@@ -26,52 +26,47 @@ const (
 	maxWorkers = 1024
 )
 
-// defaults are the library's default parameters, the flags' defaults.
-var defaults = segment.DefaultParams()
-
-// addParamFlags registers the parameter flags on fs, bound to s.
+// addParamFlags registers the parameter flags on fs, bound to s, with
+// the defaults of pipeline.DefaultRequest.
 func addParamFlags(fs *pflag.FlagSet, s *settings) {
-	fs.Float64Var(&s.MaxMegapixels, "max-megapixels", 100, fmt.Sprintf("refuse images larger than this many megapixels (read from the header, before decoding); %g (one pixel) to %d", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels))
-	fs.StringVar(&s.Normalize, "normalize", "percentile", "intensity normalization: percentile (0.1 and 99.9 percentiles to 0 and 1), range (min..max) or bitdepth")
-	fs.Float64Var(&s.Flatten, "flatten", 0, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off; at most the image diagonal)")
-	fs.StringVar(&s.FlattenMode, "flatten-mode", "divide", "how --flatten removes the background: divide or subtract")
-	fs.StringVar(&s.Features, "features", "gray", "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
-	s.Channel = "-1"
+	d := pipeline.DefaultRequest()
+	fs.Float64Var(&s.MaxMegapixels, "max-megapixels", d.MaxMegapixels, fmt.Sprintf("refuse images larger than this many megapixels (read from the header, before decoding); %g (one pixel) to %d", imageio.MinMaxMegapixels, imageio.MaxMaxMegapixels))
+	fs.StringVar(&s.Normalize, "normalize", d.Normalize, "intensity normalization: percentile (0.1 and 99.9 percentiles to 0 and 1), range (min..max) or bitdepth")
+	fs.Float64Var(&s.Flatten, "flatten", d.Flatten, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off; at most the image diagonal)")
+	fs.StringVar(&s.FlattenMode, "flatten-mode", d.FlattenMode, "how --flatten removes the background: divide or subtract")
+	fs.StringVar(&s.Features, "features", d.Features, "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
+	s.Channel = d.Channel
 	fs.Var(&s.Channel, "channel", "use only this channel of a multi-channel image: an index from 0, or a name the file gives its channels; -1 = a colour image's three colours, else the first channel")
-	fs.IntVar(&s.Plane, "plane", 0, "plane (Z, from 0) of a stack to segment")
-	fs.IntVar(&s.Frame, "frame", 0, "time point (from 0) of a time series to segment")
-	fs.StringVar(&s.Planes, "planes", pipeline.PlanesOne, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.*; segment adds a summary STEM.stack.json, batch a plane column in manifest.csv and objects.csv; not for tune) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
-	fs.StringVar(&s.Superpixels, "superpixels", "auto", fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
+	fs.IntVar(&s.Plane, "plane", d.Plane, "plane (Z, from 0) of a stack to segment")
+	fs.IntVar(&s.Frame, "frame", d.Frame, "time point (from 0) of a time series to segment")
+	fs.StringVar(&s.Planes, "planes", d.Planes, "planes of a stack: one (the --plane), all (each plane segmented on its own, outputs STEM.z007.*; segment adds a summary STEM.stack.json, batch a plane column in manifest.csv and objects.csv; not for tune) or brightest (each pixel's largest value through the planes, a maximum-intensity projection)")
+	fs.StringVar(&s.Superpixels, "superpixels", d.Superpixels, fmt.Sprintf("graph nodes: N SLIC superpixels (at most %d), 0 = one node per pixel, auto = pixels up to %d px, else one superpixel per %d px (%d..%d); "+
 		"on larger frames auto estimates the typical object radius r and gives %d superpixels per object, %d x pixels / (pi r^2), at least %d, at most pixels/%d and %d (without a clear object scale: %d)",
 		segment.MaxSuperpixels, segment.PixelGraphMaxPixels, segment.PixelsPerSuperpixel, segment.MinAutoSuperpixels, segment.MaxAutoSuperpixels,
 		segment.SuperpixelsPerObject, segment.SuperpixelsPerObject, segment.MaxAutoSuperpixels, segment.MinPixelsPerScaledSuperpixel, segment.MaxScaledSuperpixels, segment.MaxAutoSuperpixels))
-	fs.Float64Var(&s.Compactness, "compactness", defaults.Compactness, fmt.Sprintf("SLIC compactness: higher gives rounder superpixels, lower follows edges more closely (above 0, at most %d)", segment.MaxCompactness))
-	fs.IntVar(&s.Radius, "radius", defaults.Radius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
-	fs.StringVar(&s.SigmaI, "sigma-i", "auto", fmt.Sprintf("intensity kernel width in normalized intensity units (0..1), %g to %g, or auto", segment.MinSigmaI, segment.MaxSigmaI))
-	fs.StringVar(&s.SigmaX, "sigma-x", "auto", fmt.Sprintf("spatial kernel width in pixels, %g to %g, or auto (0.8 x radius; 2 x superpixel spacing)", segment.MinSigmaX, segment.MaxSigmaX))
-	fs.StringVar(&s.Contour, "contour", "on", "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
-	fs.StringVar(&s.Grain, "grain", "off", "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
-	fs.StringVar(&s.Method, "method", string(defaults.Method), "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
-	fs.IntVar(&s.Segments, "segments", 0, fmt.Sprintf("bisect: stop at this many regions (0 = no limit, at most %d); kway: K (0 = from the largest eigengap; at most %d and the nodes of the graph)", segment.MaxBisectSegments, segment.MaxKwaySegments))
-	fs.IntVar(&s.MaxSegments, "max-segments", defaults.MaxSegments, fmt.Sprintf("kway with --segments 0: the largest K considered (2 to %d)", segment.MaxKwaySegments))
-	fs.Float64Var(&s.MaxNcut, "max-ncut", defaults.MaxNcut, fmt.Sprintf("bisect: accept a split only when its normalized cut is at most this (above 0, at most %d: no cut exceeds it)", segment.MaxNcutLimit))
-	fs.IntVar(&s.MinArea, "min-area", defaults.MinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
-	fs.IntVar(&s.Classes, "classes", 0, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
-	fs.StringVar(&s.Background, "background", "", "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
-	fs.StringVar(&s.Necks, "necks", "on", "with --background dark or bright: on = touching objects are also cut apart where their outline is pinched (a neck), off = only along a seam of lower or changing contrast that does not run through a neck; off suits lobed or branched objects that never touch")
-	fs.Float64Var(&s.PixelSize, "pixel-size", 0, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", pipeline.MinPixelSize, pipeline.MaxPixelSize))
-	fs.StringVar(&s.Unit, "unit", "", fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", pipeline.MaxUnitLen))
-	fs.StringVar(&s.MaxMemory, "max-memory", "8GiB", "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
-	fs.StringVar(&s.LabelsFormat, "labels-format", imageio.LabelsPNG, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
-	fs.Uint64Var(&s.Seed, "seed", defaults.Seed, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
+	fs.Float64Var(&s.Compactness, "compactness", d.Compactness, fmt.Sprintf("SLIC compactness: higher gives rounder superpixels, lower follows edges more closely (above 0, at most %d)", segment.MaxCompactness))
+	fs.IntVar(&s.Radius, "radius", d.Radius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
+	fs.StringVar(&s.SigmaI, "sigma-i", d.SigmaI, fmt.Sprintf("intensity kernel width in normalized intensity units (0..1), %g to %g, or auto", segment.MinSigmaI, segment.MaxSigmaI))
+	fs.StringVar(&s.SigmaX, "sigma-x", d.SigmaX, fmt.Sprintf("spatial kernel width in pixels, %g to %g, or auto (0.8 x radius; 2 x superpixel spacing)", segment.MinSigmaX, segment.MaxSigmaX))
+	fs.StringVar(&s.Contour, "contour", d.Contour, "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
+	fs.StringVar(&s.Grain, "grain", d.Grain, "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
+	fs.StringVar(&s.Method, "method", d.Method, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
+	fs.IntVar(&s.Segments, "segments", d.Segments, fmt.Sprintf("bisect: stop at this many regions (0 = no limit, at most %d); kway: K (0 = from the largest eigengap; at most %d and the nodes of the graph)", segment.MaxBisectSegments, segment.MaxKwaySegments))
+	fs.IntVar(&s.MaxSegments, "max-segments", d.MaxSegments, fmt.Sprintf("kway with --segments 0: the largest K considered (2 to %d)", segment.MaxKwaySegments))
+	fs.Float64Var(&s.MaxNcut, "max-ncut", d.MaxNcut, fmt.Sprintf("bisect: accept a split only when its normalized cut is at most this (above 0, at most %d: no cut exceeds it)", segment.MaxNcutLimit))
+	fs.IntVar(&s.MinArea, "min-area", d.MinArea, fmt.Sprintf("smallest region or object kept, in pixels (0 to %d); smaller regions merge into a neighbour, smaller objects go to the background", segment.MaxMinArea))
+	fs.IntVar(&s.Classes, "classes", d.Classes, fmt.Sprintf("group regions into this many intensity classes (2 to %d, and at most the nodes of the graph; 0 = off)", segment.MaxClasses))
+	fs.StringVar(&s.Background, "background", d.Background, "with --classes: dark or bright; that class becomes label 0 and the rest split into objects 1..N. lines (without --classes): packed objects that fill the field, separated by thin lines that become label 0")
+	fs.StringVar(&s.Necks, "necks", d.Necks, "with --background dark or bright: on = touching objects are also cut apart where their outline is pinched (a neck), off = only along a seam of lower or changing contrast that does not run through a neck; off suits lobed or branched objects that never touch")
+	fs.Float64Var(&s.PixelSize, "pixel-size", d.PixelSize, fmt.Sprintf("size of one pixel in --unit, for physical areas and diameters in the region table (%g to %g; 0 = the size the file states, from OME-XML, a hyperstack description or the resolution tags, if any)", pipeline.MinPixelSize, pipeline.MaxPixelSize))
+	fs.StringVar(&s.Unit, "unit", d.Unit, fmt.Sprintf("unit of --pixel-size (default um), used in column names: up to %d letters, digits, µ, /, ^ or _; without --pixel-size, the unit the file's own pixel size is converted to (metric lengths)", pipeline.MaxUnitLen))
+	fs.StringVar(&s.MaxMemory, "max-memory", d.MaxMemory, "memory bound of the process: images whose estimated memory (decode, features, graph, cuts, objects, outputs; from the header) is above it are refused, images run at once share it, and it is the runtime's soft memory limit (e.g. 512MiB, 8GiB; at least 1MiB)")
+	fs.StringVar(&s.LabelsFormat, "labels-format", d.LabelsFormat, fmt.Sprintf("file format of the label and class maps: png (16-bit gray; a map with labels above %d is written as a 32-bit TIFF instead, with a warning) or tiff (16-bit, or 32-bit unsigned above %d; with --pixel-size in a length unit, the resolution tags carry it)", imageio.MaxPNGLabel, imageio.MaxPNGLabel))
+	fs.Uint64Var(&s.Seed, "seed", d.Seed, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
 // defaultSettings are the parameters with every flag at its default.
-func defaultSettings() settings {
-	var s settings
-	addParamFlags(pflag.NewFlagSet("defaults", pflag.ContinueOnError), &s)
-	return s
-}
+func defaultSettings() settings { return pipeline.DefaultRequest() }
 
 // paramNames lists the keys a --params file may hold (the json tags of
 // settings), sorted.

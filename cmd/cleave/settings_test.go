@@ -313,3 +313,15 @@ func writeTestPNG(t testing.TB, path string, w, h int) {
 		t.Fatal(err)
 	}
 }
+
+// Every parameter flag defaults to pipeline.DefaultRequest, so a command
+// line that sets nothing asks for the default request.
+func TestFlagDefaultsAreTheDefaultRequest(t *testing.T) {
+	fs, s, _ := segmentFlags()
+	if err := fs.Parse(nil); err != nil {
+		t.Fatal(err)
+	}
+	if want := pipeline.DefaultRequest(); *s != want {
+		t.Errorf("flags give %+v, want %+v", *s, want)
+	}
+}

@@ -61,29 +61,30 @@ func Scenario() []Part {
 	// A reduced search so that the demo stays quick: max-ncut fixed.
 	slide := Part{Name: "slide", Title: "fluorescent nuclei, tuned on 2 annotated scenes, applied to 3 new ones",
 		Background: "dark", MaxNcut: 0.15, Budget: 4, Folds: 2}
-	for k := 0; k < SlideTune+SlideNew; k++ {
-		sc := scenes.Nuclei(scenes.NucleiOptions{Width: Size, Height: Size, Seed: SlideSeed + uint64(k)})
-		if k < SlideTune {
-			sc.Name = fmt.Sprintf("slide-tune-%d", k+1)
-			slide.Tune = append(slide.Tune, sc)
-		} else {
-			sc.Name = fmt.Sprintf("slide-new-%d", k-SlideTune+1)
-			slide.Fresh = append(slide.Fresh, sc)
-		}
-	}
+	slide.generate(SlideTune, SlideNew, func(k int) *scenes.Scene {
+		return scenes.Nuclei(scenes.NucleiOptions{Width: Size, Height: Size, Seed: SlideSeed + uint64(k)})
+	})
 	plate := Part{Name: "plate", Title: "machined plate under raking light, tuned on 1 annotated scene, applied to 2 new ones",
 		Background: "bright", Flatten: 30, MaxNcut: 0.15, Budget: 4}
-	for k := 0; k < PlateTune+PlateNew; k++ {
-		sc := scenes.Plate(scenes.PlateOptions{Width: Size, Height: Size, Seed: PlateSeed + uint64(k)})
-		if k < PlateTune {
-			sc.Name = fmt.Sprintf("plate-tune-%d", k+1)
-			plate.Tune = append(plate.Tune, sc)
+	plate.generate(PlateTune, PlateNew, func(k int) *scenes.Scene {
+		return scenes.Plate(scenes.PlateOptions{Width: Size, Height: Size, Seed: PlateSeed + uint64(k)})
+	})
+	return []Part{slide, plate}
+}
+
+// generate makes the part's scenes gen(0) .. gen(nTune+nNew-1): the first
+// nTune to tune on (NAME-tune-1, ...), the rest new (NAME-new-1, ...).
+func (p *Part) generate(nTune, nNew int, gen func(k int) *scenes.Scene) {
+	for k := range nTune + nNew {
+		sc := gen(k)
+		if k < nTune {
+			sc.Name = fmt.Sprintf("%s-tune-%d", p.Name, k+1)
+			p.Tune = append(p.Tune, sc)
 		} else {
-			sc.Name = fmt.Sprintf("plate-new-%d", k-PlateTune+1)
-			plate.Fresh = append(plate.Fresh, sc)
+			sc.Name = fmt.Sprintf("%s-new-%d", p.Name, k-nTune+1)
+			p.Fresh = append(p.Fresh, sc)
 		}
 	}
-	return []Part{slide, plate}
 }
 
 // Config is one run of the demo.

@@ -15,19 +15,9 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
-	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
-
-// defaults is a request with the command's defaults.
-func defaults() pipeline.Request {
-	p := segment.DefaultParams()
-	return pipeline.Request{MaxMegapixels: 100, Normalize: "percentile", FlattenMode: "divide", Features: "gray", Channel: "-1",
-		Planes: pipeline.PlanesOne, Superpixels: "auto", Compactness: p.Compactness, Radius: p.Radius, SigmaI: "auto", SigmaX: "auto",
-		Contour: "on", Grain: "off", Method: string(p.Method), MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea,
-		Necks: "on", MaxMemory: "8GiB", Seed: p.Seed}
-}
 
 // The scenario has the counts, sizes and names its help promises, and is
 // the same on every call (fixed seeds).
@@ -71,7 +61,7 @@ func TestTuneLineAndPlan(t *testing.T) {
 	if want := "tune --images in --truth in --out out --workers 2 --force --classes 2 --background bright --flatten 30 --max-ncut 0.15 --budget 4"; line != want {
 		t.Errorf("line %q, want %q", line, want)
 	}
-	c := &Config{Workers: 2, Defaults: defaults()}
+	c := &Config{Workers: 2, Defaults: pipeline.DefaultRequest()}
 	plan := p.TunePlan(c, "in", "out", nil)
 	cfg := plan.Config
 	if plan.Request.Classes != Classes || plan.Request.Background != "bright" || plan.Request.Flatten != 30 || cfg.Budget != 4 || cfg.Folds != 3 ||
@@ -105,7 +95,7 @@ func smallPart() Part {
 func TestRun(t *testing.T) {
 	dir := t.TempDir()
 	var out, log bytes.Buffer
-	c := &Config{Out: dir, Workers: 1, Defaults: defaults(), Voice: pipeline.Voice{Version: "test"}, Stdout: &out, Stderr: &log}
+	c := &Config{Out: dir, Workers: 1, Defaults: pipeline.DefaultRequest(), Voice: pipeline.Voice{Version: "test"}, Stdout: &out, Stderr: &log}
 	res, err := Run(context.Background(), c, []Part{smallPart()})
 	if err != nil {
 		t.Fatalf("%v\n%s", err, log.String())

@@ -22,7 +22,7 @@ func TestFiles(t *testing.T) {
 	if err := os.WriteFile(broken, []byte("not a PNG"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	r := defaultRequest()
+	r := DefaultRequest()
 	r.Classes, r.Background = 2, "dark"
 	out := filepath.Join(dir, "out")
 	var stdout, log bytes.Buffer

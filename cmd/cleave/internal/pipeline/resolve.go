@@ -180,3 +180,18 @@ func ParseBytes(name, v string) (int64, error) {
 	}
 	return int64(x * mult), nil
 }
+
+// DefaultRequest is the request that asks for nothing: segment's default
+// parameters (segment.DefaultParams), 100 megapixels at most, percentile
+// normalization, gray features, every channel, one plane, automatic
+// superpixels and kernel widths, intervening contours on, grain off,
+// necks on, an 8 GiB memory bound and PNG label maps. A command's flags
+// take their defaults from it.
+func DefaultRequest() Request {
+	p := segment.DefaultParams()
+	return Request{MaxMegapixels: 100, Normalize: string(imageio.NormalizePercentile), FlattenMode: string(imageio.FlattenDivide),
+		Features: string(imageio.SpaceGray), Channel: "-1", Planes: PlanesOne, Superpixels: "auto", Compactness: p.Compactness,
+		Radius: p.Radius, SigmaI: "auto", SigmaX: "auto", Contour: "on", Grain: "off", Method: string(p.Method),
+		MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea, Necks: "on", MaxMemory: "8GiB",
+		LabelsFormat: imageio.LabelsPNG, Seed: p.Seed}
+}

@@ -24,20 +24,11 @@ func TestParseBytes(t *testing.T) {
 	}
 }
 
-// defaultRequest is a request with the command's defaults.
-func defaultRequest() Request {
-	p := segment.DefaultParams()
-	return Request{MaxMegapixels: 100, Normalize: "percentile", FlattenMode: "divide", Features: "gray", Channel: "-1",
-		Planes: PlanesOne, Superpixels: "auto", Compactness: p.Compactness, Radius: p.Radius, SigmaI: "auto", SigmaX: "auto",
-		Contour: "on", Grain: "off", Method: string(p.Method), MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea,
-		Necks: "on", MaxMemory: "8GiB", Seed: p.Seed}
-}
-
 // Options maps the request to typed options, and each bad value to an
 // error naming its parameter: in backquotes for the checks of the
 // request, by the library's error type for theirs.
 func TestOptions(t *testing.T) {
-	o, err := defaultRequest().Options(3)
+	o, err := DefaultRequest().Options(3)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -45,7 +36,7 @@ func TestOptions(t *testing.T) {
 	if !p.AutoSigmaI || !p.AutoSigmaX || p.Superpixels != -1 || !p.Contour || p.Grain || p.SeamsOnly || p.Workers != 3 || p.MaxMemory != 8<<30 || o.LabelsFormat != imageio.LabelsPNG {
 		t.Errorf("defaults: %+v", o)
 	}
-	r := defaultRequest()
+	r := DefaultRequest()
 	r.SigmaI, r.Superpixels, r.Necks, r.Planes, r.Grain = "0.1", "500", "off", PlanesBrightest, "on"
 	if o, err = r.Options(1); err != nil || o.Params.SigmaI != 0.1 || o.Params.AutoSigmaI || o.Params.Superpixels != 500 || !o.Params.SeamsOnly || !o.Selection.Brightest || !o.Params.Grain {
 		t.Errorf("given: %+v, %v", o, err)
@@ -70,7 +61,7 @@ func TestOptions(t *testing.T) {
 		{"normalize", func(r *Request) { r.Normalize = "zscore" }},
 		{"radius", func(r *Request) { r.Radius = 0 }},
 	} {
-		r := defaultRequest()
+		r := DefaultRequest()
 		c.set(&r)
 		_, err := r.Options(1)
 		var oe *imageio.OptionError

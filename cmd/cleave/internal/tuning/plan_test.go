@@ -11,18 +11,15 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
-	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
 
-// testRequest is a request with the command's defaults, two classes on
-// a dark background and 300 superpixels.
+// testRequest is the default request with two classes on a dark
+// background and 300 superpixels.
 func testRequest() pipeline.Request {
-	p := segment.DefaultParams()
-	return pipeline.Request{MaxMegapixels: 100, Normalize: "percentile", FlattenMode: "divide", Features: "gray", Channel: "-1",
-		Planes: pipeline.PlanesOne, Superpixels: "300", Compactness: p.Compactness, Radius: p.Radius, SigmaI: "auto", SigmaX: "auto",
-		Contour: "on", Grain: "off", Method: string(p.Method), MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea,
-		Classes: 2, Background: "dark", Necks: "on", MaxMemory: "8GiB", Seed: p.Seed}
+	r := pipeline.DefaultRequest()
+	r.Classes, r.Background, r.Superpixels = 2, "dark", "300"
+	return r
 }
 
 // testPlan is a grid-only tune of the scenes in the folder of pairs,
