@@ -185,13 +185,25 @@ func ParseBytes(name, v string) (int64, error) {
 // parameters (segment.DefaultParams), 100 megapixels at most, percentile
 // normalization, gray features, every channel, one plane, automatic
 // superpixels and kernel widths, intervening contours on, grain off,
-// necks on, an 8 GiB memory bound and PNG label maps. A command's flags
+// necks on, segment's memory bound and PNG label maps. A command's flags
 // take their defaults from it.
 func DefaultRequest() Request {
 	p := segment.DefaultParams()
-	return Request{MaxMegapixels: 100, Normalize: string(imageio.NormalizePercentile), FlattenMode: string(imageio.FlattenDivide),
+	return Request{MaxMegapixels: imageio.DefaultMaxMegapixels, Normalize: string(imageio.NormalizePercentile), FlattenMode: string(imageio.FlattenDivide),
 		Features: string(imageio.SpaceGray), Channel: "-1", Planes: PlanesOne, Superpixels: "auto", Compactness: p.Compactness,
 		Radius: p.Radius, SigmaI: "auto", SigmaX: "auto", Contour: "on", Grain: "off", Method: string(p.Method),
-		MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea, Necks: "on", MaxMemory: "8GiB",
+		MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea, Necks: "on", MaxMemory: FormatBytes(p.MaxMemory),
 		LabelsFormat: imageio.LabelsPNG, Seed: p.Seed}
+}
+
+// FormatBytes writes a size as ParseBytes reads it back: in GiB or MiB
+// when it is a whole number of them, else in bytes.
+func FormatBytes(n int64) string {
+	switch {
+	case n > 0 && n%(1<<30) == 0:
+		return strconv.FormatInt(n>>30, 10) + "GiB"
+	case n > 0 && n%(1<<20) == 0:
+		return strconv.FormatInt(n>>20, 10) + "MiB"
+	}
+	return strconv.FormatInt(n, 10)
 }

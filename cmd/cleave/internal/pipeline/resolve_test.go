@@ -12,6 +12,14 @@ import (
 // Sizes: decimal units are powers of 1000, binary ones powers of 1024 (IEC
 // 80000-13); expected values worked by hand.
 func TestParseBytes(t *testing.T) {
+	for _, n := range []int64{8 << 30, 512 << 20, 1000, 3 << 29} {
+		if got, err := ParseBytes("max-memory", FormatBytes(n)); err != nil || got != n {
+			t.Errorf("%d written as %q reads back as %d, %v", n, FormatBytes(n), got, err)
+		}
+	}
+	if FormatBytes(8<<30) != "8GiB" || FormatBytes(1536<<20) != "1536MiB" {
+		t.Errorf("FormatBytes: %q, %q", FormatBytes(8<<30), FormatBytes(1536<<20))
+	}
 	for in, want := range map[string]int64{"8GiB": 8 << 30, "400MB": 400e6, "512mib": 512 << 20, "1000": 1000, "1.5 GiB": 3 << 29} {
 		if got, err := ParseBytes("max-memory", in); err != nil || got != want {
 			t.Errorf("%q: %d, %v; want %d", in, got, err, want)
