@@ -1,20 +1,17 @@
 package scenes
 
 import (
-	"bufio"
-	"fmt"
 	"image"
 	"image/png"
 	"io"
-	"os"
-	"path/filepath"
 
+	"github.com/cleave-seg/cleave/imageio"
 	"golang.org/x/image/tiff"
 )
 
-// WritePNG writes img as a PNG with the best compression, atomically: it
-// encodes into a temporary file in the target directory and renames it
-// over path, so a reader never sees a half-written file.
+// WritePNG writes img as a PNG with the best compression, atomically
+// (imageio.WriteAtomic: a temporary file in the target folder renamed
+// over path), so a reader never sees a half-written file.
 func WritePNG(path string, img image.Image) error {
 	enc := png.Encoder{CompressionLevel: png.BestCompression}
 	return writeAtomic(path, func(w io.Writer) error { return enc.Encode(w, img) })
@@ -28,36 +25,8 @@ func WriteTIFF(path string, img image.Image) error {
 	})
 }
 
-func writeAtomic(path string, encode func(io.Writer) error) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	bw := bufio.NewWriter(f)
-	if err = encode(bw); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err = bw.Flush(); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err = f.Chmod(0o644); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	return nil
+// writeAtomic writes path through imageio.WriteAtomic, replacing an
+// earlier file.
+func writeAtomic(path string, encode func(io.Writer) error) error {
+	return imageio.WriteAtomic(path, true, encode)
 }
