@@ -204,7 +204,7 @@ func tuneError(ctx context.Context, err error, stderr io.Writer) {
 // fixed settings or the tolerance is a usage error (exit 2).
 func tuneErr(err error) error { return scoreErr(requestErr(err)) }
 
-// tuneCommand maps tune's command line to a tunePlan and runs it.
+// tuneCommand maps tune's command line to a tuning.Plan and runs it.
 func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOptions, stdout, stderr io.Writer) (int, error) {
 	start := time.Now()
 	if fs.NArg() > 0 {
