@@ -142,7 +142,7 @@ func TestDemoPlansMatchTheirCommands(t *testing.T) {
 			if err := fs.Parse(line[1:]); err != nil {
 				t.Fatal(err)
 			}
-			c := &demo.Config{Workers: 1, Force: force, Defaults: defaultSettings(), Voice: voice()}
+			c := &demo.Config{Workers: 1, Force: force, Voice: voice()}
 			plan := p.TunePlan(c, dir, tunedDir, io.Discard)
 			ax, err := parseSpec(tune.MaxNcut, o.space[tune.MaxNcut])
 			if err != nil {
@@ -175,7 +175,7 @@ func TestDemoPlansMatchTheirCommands(t *testing.T) {
 			if err != nil || fs2 == nil {
 				t.Fatal(err)
 			}
-			if got := res.Tuned(p.Request(defaultSettings())); !reflect.DeepEqual(got, *seg) {
+			if got := res.Tuned(p.Request()); !reflect.DeepEqual(got, *seg) {
 				t.Errorf("tuned settings %+v, segment --params best.json %+v", got, *seg)
 			}
 		}

@@ -93,7 +93,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return exitFail
 	}
 	start := time.Now()
-	results, err := demo.Run(ctx, &demo.Config{Out: o.out, Force: o.force, Workers: o.workers, Defaults: defaultSettings(), Voice: voice(), Stdout: stdout, Stderr: stderr}, demo.Scenario())
+	results, err := demo.Run(ctx, &demo.Config{Out: o.out, Force: o.force, Workers: o.workers, Voice: voice(), Stdout: stdout, Stderr: stderr}, demo.Scenario())
 	var se *demo.StepError
 	switch {
 	case errors.As(err, &se):

@@ -96,8 +96,6 @@ type Config struct {
 	// Workers is the thread count as asked for (0: GOMAXPROCS), printed
 	// in the command lines as given.
 	Workers int
-	// Defaults are the parameters a command line without any sets.
-	Defaults pipeline.Request
 	// Voice words parameter names and errors as the command does.
 	Voice pipeline.Voice
 	// Stdout takes each step's command line and indented output; Stderr
@@ -105,10 +103,10 @@ type Config struct {
 	Stdout, Stderr io.Writer
 }
 
-// Request is the part's parameters as given: the defaults with the
-// part's own.
-func (p *Part) Request(defaults pipeline.Request) pipeline.Request {
-	r := defaults
+// Request is the part's parameters as given: the defaults
+// (pipeline.DefaultRequest) with the part's own.
+func (p *Part) Request() pipeline.Request {
+	r := pipeline.DefaultRequest()
 	r.Classes, r.Background, r.Flatten = Classes, p.Background, p.Flatten
 	return r
 }
@@ -142,7 +140,7 @@ func (p *Part) TuneLine(tuneDir, tunedDir string, workers int, force bool) []str
 // TunePlan is the part's tune: its parameters, the metric tune chooses
 // for them, max-ncut fixed, the rest as tune's defaults; notes go to log.
 func (p *Part) TunePlan(c *Config, tuneDir, tunedDir string, log io.Writer) *tuning.Plan {
-	r := p.Request(c.Defaults)
+	r := p.Request()
 	metric, why := tuning.DefaultMetric(r.Background)
 	workers := c.Workers
 	if workers < 1 {
@@ -225,7 +223,7 @@ func Run(ctx context.Context, c *Config, parts []Part) ([]Result, error) {
 				if workers < 1 {
 					workers = runtime.GOMAXPROCS(0)
 				}
-				f := &pipeline.Files{Images: newPaths, Request: out.Tuned(p.Request(c.Defaults)), Workers: workers, Out: segDir, Force: c.Force, Voice: c.Voice, Stdout: w, Log: c.Stderr}
+				f := &pipeline.Files{Images: newPaths, Request: out.Tuned(p.Request()), Workers: workers, Out: segDir, Force: c.Force, Voice: c.Voice, Stdout: w, Log: c.Stderr}
 				failed, err := f.Run(ctx)
 				if err == nil && failed > 0 {
 					return errFailed

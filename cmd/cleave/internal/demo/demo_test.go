@@ -61,7 +61,7 @@ func TestTuneLineAndPlan(t *testing.T) {
 	if want := "tune --images in --truth in --out out --workers 2 --force --classes 2 --background bright --flatten 30 --max-ncut 0.15 --budget 4"; line != want {
 		t.Errorf("line %q, want %q", line, want)
 	}
-	c := &Config{Workers: 2, Defaults: pipeline.DefaultRequest()}
+	c := &Config{Workers: 2}
 	plan := p.TunePlan(c, "in", "out", nil)
 	cfg := plan.Config
 	if plan.Request.Classes != Classes || plan.Request.Background != "bright" || plan.Request.Flatten != 30 || cfg.Budget != 4 || cfg.Folds != 3 ||
@@ -95,7 +95,7 @@ func smallPart() Part {
 func TestRun(t *testing.T) {
 	dir := t.TempDir()
 	var out, log bytes.Buffer
-	c := &Config{Out: dir, Workers: 1, Defaults: pipeline.DefaultRequest(), Voice: pipeline.Voice{Version: "test"}, Stdout: &out, Stderr: &log}
+	c := &Config{Out: dir, Workers: 1, Voice: pipeline.Voice{Version: "test"}, Stdout: &out, Stderr: &log}
 	res, err := Run(context.Background(), c, []Part{smallPart()})
 	if err != nil {
 		t.Fatalf("%v\n%s", err, log.String())
