@@ -65,9 +65,6 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.Uint64Var(&s.Seed, "seed", d.Seed, "seed for k-means restarts (--method kway, --classes) and for the random start vectors the eigensolver adds when its coarse levels supply too few; the eigensolver usually starts from the coarse levels alone, and then the seed does not change the cut (any whole number from 0 to 2^64-1)")
 }
 
-// defaultSettings are the parameters with every flag at its default.
-func defaultSettings() settings { return pipeline.DefaultRequest() }
-
 // paramNames lists the keys a --params file may hold (the json tags of
 // settings), sorted.
 func paramNames() []string { return pipeline.RequestNames() }
