@@ -531,9 +531,11 @@ func neckPieces(g *affinity.Graph, feat, smooth []float32, nodes []int, cw, ch i
 		// A core's neck comes from a dip in contrast, so a seam along
 		// it is no further evidence: it needs depth, a step in
 		// contrast or concavities.
-		evident := neckEvident(nk.drop, feat, cw, ch, nodes, inR, subA)
+		var evident bool
 		if core {
 			evident = nk.drop > neckNoise || sidesDiffer(feat, nodes, inR, subA) || concaveCut(nodes, cw, ch, inR, subA)
+		} else {
+			evident = neckEvident(nk.drop, feat, cw, ch, nodes, inR, subA)
 		}
 		if !evident {
 			continue
@@ -797,16 +799,17 @@ func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float6
 const coreLevel = 0.5
 
 // coreEps weighs the region's own distance map into the core's (see
-// coreDistance); small enough that it never reorders core pixels by more
-// than a hundredth of a pixel.
+// coreDistance): it moves a core's peaks and saddles by at most coreEps
+// times the region's half-width (0.2 px for a region 40 px wide).
 const coreEps = 0.01
 
 // coreDistance is the distance map of a region's core, for necks that the
 // blur of touching objects hides: two blurred discs that overlap are
 // joined by a halo whose outline is nearly convex, while their
 // half-maximum cores are pinched or apart. The core is the region's
-// pixels (mask, crop cw x ch) whose smoothed contrast (smooth, a 3x3 mean)
-// is at least coreLevel times the region's refinePercent quantile of it,
+// pixels (mask, crop cw x ch) whose smoothed contrast (smooth; refineOne
+// takes two 3x3 means of the scaled contrast) is at least coreLevel
+// times the region's refinePercent quantile of it,
 // holes filled. It returns dc + coreEps * d with dc the core's distance
 // map and d the region's (distanceInside), so pixels outside the core
 // stay positive and ordered by their distance to the region's border:
