@@ -3,7 +3,6 @@ package imageio
 import (
 	"context"
 	"fmt"
-	"image"
 	"io"
 
 	"github.com/cleave-seg/cleave/imageio/tiffread"
@@ -17,15 +16,16 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32, workers int) e
 	if width <= 0 || height <= 0 || len(labels) != width*height {
 		return fmt.Errorf("label map: %d labels for a %dx%d image", len(labels), width, height)
 	}
-	img := image.NewGray16(image.Rect(0, 0, width, height))
 	for i, l := range labels {
 		if l < 0 || l > 65535 {
 			return fmt.Errorf("label map: label %d at pixel (%d, %d) is outside 0..65535 (16-bit PNG)", l, i%width, i/width)
 		}
-		img.Pix[2*i] = uint8(l >> 8)
-		img.Pix[2*i+1] = uint8(l)
 	}
-	return encodePNGFast(w, img, workers)
+	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 2, depth: 16, ctype: 0, flat: true, rows: func(y0, y1 int, dst []byte) {
+		for i, l := range labels[y0*width : y1*width] {
+			dst[2*i], dst[2*i+1] = uint8(l>>8), uint8(l)
+		}
+	}}, workers)
 }
 
 // ReadLabels reads a label map: any lossless integer image (8- or 16-bit

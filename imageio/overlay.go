@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"slices"
+	"sync"
 
 	"github.com/cleave-seg/cleave/imageio/render"
 )
@@ -202,13 +203,23 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 		}
 		return min(v, 1)
 	}
-	img := image.NewRGBA(image.Rect(0, 0, width, height))
-	const band = 64 // rows per work item
-	forEach((height+band-1)/band, opt.Workers, func(b int) {
-		for y := b * band; y < min(height, (b+1)*band); y++ {
+	// Rows are drawn band by band as the encoder asks for them
+	// (encodePNGRows), into an RGBA band that the numbers crossing it are
+	// drawn on; no image-sized picture is held.
+	var places []NumberPlace
+	if opt.Numbers {
+		places = PlaceNumbers(labels, width, height)
+	}
+	pool := sync.Pool{New: func() any { return new([]byte) }}
+	rows := func(y0, y1 int, dst []byte) {
+		bp := pool.Get().(*[]byte)
+		defer pool.Put(bp)
+		*bp = grow(*bp, 4*width*(y1-y0))
+		img := &image.RGBA{Pix: *bp, Stride: 4 * width, Rect: image.Rect(0, y0, width, y1)}
+		for y := y0; y < y1; y++ {
 			for x := 0; x < width; x++ {
 				i := y*width + x
-				p := img.Pix[4*i : 4*i+4]
+				p := img.Pix[4*(i-y0*width) : 4*(i-y0*width)+4]
 				p[3] = 255
 				if isBoundary(labels, width, height, x, y) {
 					p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
@@ -234,13 +245,18 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 				}
 			}
 		}
-	})
-	if opt.Numbers {
-		for _, n := range PlaceNumbers(labels, width, height) {
-			render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
+		// A number's box with its halo lies inside its own object, so
+		// boxes never overlap and the order of drawing does not matter;
+		// DrawNumber clips to the band.
+		for _, n := range places {
+			_, h := render.NumberSize(int(n.Label), n.Scale)
+			if n.Y-1 < y1 && n.Y+h+1 > y0 {
+				render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
+			}
 		}
+		rgbaToRGB(dst, img.Pix)
 	}
-	return encodePNGFast(w, img, opt.Workers)
+	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, rows: rows}, opt.Workers)
 }
 
 // EncodePreview writes an RGB PNG that shows a label map in colour:
@@ -255,14 +271,13 @@ func EncodePreview(w io.Writer, width, height int, labels []int32, palette *rend
 	if palette == nil {
 		palette = render.ColourLabels(labels, width, height)
 	}
-	img := image.NewRGBA(image.Rect(0, 0, width, height))
-	for i, l := range labels {
-		p := img.Pix[4*i : 4*i+4]
-		p[3] = 255
-		if l > 0 {
-			c := palette.Of(l)
-			p[0], p[1], p[2] = c[0], c[1], c[2]
+	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, flat: true, rows: func(y0, y1 int, dst []byte) {
+		for i, l := range labels[y0*width : y1*width] {
+			var c [3]uint8
+			if l > 0 {
+				c = palette.Of(l)
+			}
+			dst[3*i], dst[3*i+1], dst[3*i+2] = c[0], c[1], c[2]
 		}
-	}
-	return encodePNGFast(w, img, workers)
+	}}, workers)
 }
