@@ -103,7 +103,11 @@ type Features struct {
 	// for gray, three (L*, a*, b*, each /100) for lab of a colour image.
 	Planes [][]float32
 	// Display is the luma, contrast-stretched from its 0.1 and 99.9
-	// percentiles to [0, 1] (no shading correction), for overlays.
+	// percentiles to [0, 1] (no shading correction), for overlays. When
+	// the one feature plane is that very stretch (gray features of the
+	// luma, no shading correction, percentile normalization: the
+	// defaults) Display is Planes[0] itself, not a copy; the planes are
+	// read-only to every stage.
 	Display []float32
 	// Raw is the luma (or the chosen channel) in the image's own units
 	// (e.g. 0..65535), for region tables.
@@ -253,10 +257,16 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 	f := &Features{Width: w, Height: h, Invalid: invalid, InvalidCount: ninvalid}
 	luma := luminance(im, workers)
 
-	f.Display = make([]float32, len(luma))
-	copy(f.Display, luma)
-	lo, hi := percentileRange(f.Display, workers)
-	stretch(f.Display, lo, hi, workers)
+	lo, hi := percentileRange(luma, workers)
+	// The display is the luma stretched from lo to hi; when the feature
+	// plane is the same stretch of the same luma (below), it is that
+	// plane.
+	displayIsFeature := opt.Space != SpaceLab && opt.Flatten == 0 && opt.Channel < 0 && (opt.Normalize == "" || opt.Normalize == NormalizePercentile)
+	if !displayIsFeature {
+		f.Display = make([]float32, len(luma))
+		copy(f.Display, luma)
+		stretch(f.Display, lo, hi, workers)
+	}
 
 	if opt.Channel >= 0 {
 		f.Raw = make([]float32, w*h)
@@ -298,8 +308,9 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 		feat = make([]float32, len(f.Raw))
 		copy(feat, f.Raw)
 	}
-	if opt.Flatten == 0 && opt.Channel < 0 && (opt.Normalize == "" || opt.Normalize == NormalizePercentile) {
+	if displayIsFeature {
 		stretch(feat, lo, hi, workers) // the display's window, already computed from the same luma
+		f.Display = feat
 	} else {
 		normalize(feat, opt.Normalize, im.MaxValue(), workers)
 	}
