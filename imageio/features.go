@@ -322,7 +322,7 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 // image of the given channels, beyond the image's own planes: peak while
 // it runs, and kept, what the returned Features hold. It counts the
 // float32 planes it allocates (4 bytes per pixel each: luminance,
-// display, raw, feature planes) and the shading correction's work
+// display unless it is the feature plane, raw, feature planes) and the shading correction's work
 // (an int window count of 8 bytes and two float32 planes per pixel).
 // Nonsensical sizes give 0.
 func EstimateFeatureBytes(w, h, channels int, opt FeatureOptions) (peak, kept int64) {
@@ -337,6 +337,9 @@ func EstimateFeatureBytes(w, h, channels int, opt FeatureOptions) (peak, kept in
 	kept = 4 * n * (2 + planes) // luminance (the raw plane), display, features
 	if opt.Channel >= 0 {
 		kept += 4 * n
+	}
+	if opt.Space != SpaceLab && opt.Flatten == 0 && opt.Channel < 0 && (opt.Normalize == "" || opt.Normalize == NormalizePercentile) {
+		kept -= 4 * n // the display is the feature plane (MakeFeaturesContext)
 	}
 	peak = kept
 	if opt.Space == SpaceLab {

@@ -20,16 +20,16 @@ const baseBytes = 24 << 20
 
 // outputBytesPerPixel is the memory of the outputs stage beyond the
 // features: the label, region and class maps (12 bytes per pixel), the
-// label and class images and the overlay being encoded at once (16-bit
-// PNG images 2 + 2; a TIFF label map keeps its compressed strips until
-// its header is written, at most 4 + 2 for 32-bit labels; the overlay 4),
-// the region table's row runs (segment/measure, at most 12 per pixel, 8
-// counted: a run per pixel needs a label map of single-pixel rows) and
-// the outlines' edge flags and piece map (1 + 4), the preview being
-// encoded (4) and the colouring of the labels before it (its touching
+// label and class maps being encoded at once (a PNG is drawn band by
+// band; a TIFF label map keeps its compressed strips until its header is
+// written, at most 4 + 2 for 32-bit labels), the region table's row runs
+// (segment/measure, at most 12 per pixel, 8 counted: a run per pixel
+// needs a label map of single-pixel rows) and the outlines' edge flags
+// and piece map (1 + 4), and the colouring of the labels (its touching
 // pairs, 8 bytes each, counted 8: a map of one-pixel objects can reach
-// 32).
-const outputBytesPerPixel = 47
+// 32). The overlay and the preview are drawn, filtered and compressed
+// band by band (imageio), a few megabytes whatever the image's size.
+const outputBytesPerPixel = 39
 
 // stageEstimate is the estimated peak memory of the process during one
 // stage of one image.
