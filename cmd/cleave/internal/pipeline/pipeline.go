@@ -408,24 +408,39 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
 	rec.LabelMaps = labelMaps
+	// The region table is measured while the pictures are encoded (below);
+	// the table and the outlines' classes wait for it.
 	planes, planeNames := intensityPlanes(feat.Raw, in.channels)
-	regions, err := measure.Regions(res.Labels, w, h, planes, res.Classes)
-	if err != nil {
-		return fail(err)
-	}
-	var classOf map[int32]int32
-	if res.Classes != nil {
-		classOf = make(map[int32]int32, len(regions))
-		for _, r := range regions {
-			classOf[r.Label] = r.Class
+	var (
+		regions      []measure.Region
+		regionsErr   error
+		classOf      map[int32]int32
+		regionsReady = make(chan struct{})
+	)
+	measureRegions := func() {
+		defer close(regionsReady)
+		regions, regionsErr = measure.Regions(res.Labels, w, h, planes, res.Classes)
+		if regionsErr == nil && res.Classes != nil {
+			classOf = make(map[int32]int32, len(regions))
+			for _, r := range regions {
+				classOf[r.Label] = r.Class
+			}
 		}
 	}
 	outs = append(outs, output{SuffixRegions, func(wr io.Writer) error {
+		<-regionsReady
+		if regionsErr != nil {
+			return regionsErr
+		}
 		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: res.Classes != nil, PixelSize: tableSize, Unit: tableUnit})
 	}}, output{SuffixOutlines, func(wr io.Writer) error {
 		outlines, err := measure.Outlines(res.Labels, w, h)
 		if err != nil {
 			return err
+		}
+		<-regionsReady
+		if regionsErr != nil {
+			return regionsErr
 		}
 		return measure.WriteGeoJSON(wr, outlines, classOf)
 	}})
@@ -443,6 +458,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		return fail(err)
 	}
 	mayRecord = true
+	go measureRegions()
 	errs := make([]error, len(outs))
 	var wg sync.WaitGroup
 	for k, o := range outs {
