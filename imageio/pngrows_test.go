@@ -278,3 +278,44 @@ func TestAdler32Combine(t *testing.T) {
 		}
 	}
 }
+
+// TestSWARBytes: swarSub, swarAvg and swarAbsSum against their byte-wise
+// definitions on every pair of byte values, in every lane.
+func TestSWARBytes(t *testing.T) {
+	for x := 0; x < 256; x++ {
+		for y := 0; y < 256; y++ {
+			for k := 0; k < 8; k++ {
+				// Lane k holds (x, y); the others hold values of their own
+				// so that carries into or out of lane k would show.
+				var X, Y uint64
+				for j := 0; j < 8; j++ {
+					xv, yv := uint64((x+37*j)&255), uint64((y+91*j)&255)
+					if j == k {
+						xv, yv = uint64(x), uint64(y)
+					}
+					X |= xv << (8 * j)
+					Y |= yv << (8 * j)
+				}
+				sub, avg := swarSub(X, Y), swarAvg(X, Y)
+				want := 0
+				for j := 0; j < 8; j++ {
+					xv, yv := uint8(X>>(8*j)), uint8(Y>>(8*j))
+					if uint8(sub>>(8*j)) != xv-yv {
+						t.Fatalf("swarSub lane %d: %d - %d gave %d", j, xv, yv, uint8(sub>>(8*j)))
+					}
+					if uint8(avg>>(8*j)) != uint8((int(xv)+int(yv))/2) {
+						t.Fatalf("swarAvg lane %d: (%d + %d)/2 gave %d", j, xv, yv, uint8(avg>>(8*j)))
+					}
+					d := int(int8(xv))
+					if d < 0 {
+						d = -d
+					}
+					want += d
+				}
+				if got := swarAbsSum(X); got != want {
+					t.Fatalf("swarAbsSum(%016x) = %d, want %d", X, got, want)
+				}
+			}
+		}
+	}
+}
