@@ -13,8 +13,9 @@ import (
 // frames, the camera-frame case of the speed issue: a 16-bit TIFF nuclei
 // scene (scenes.Generate "nuclei", seed 13600) of 1, 4 and 16 megapixels,
 // `segment --classes 2 --background dark` at the default (automatic)
-// superpixel count, every output written. Set CLEAVE_BENCH_SEED to run
-// another seed.
+// superpixel count, every output written; cpu-s/op is the process's CPU
+// time (user + system) per run, steadier than the wall time on a shared
+// machine. Set CLEAVE_BENCH_SEED to run another seed.
 func BenchmarkSegmentCamera(b *testing.B) {
 	seed := uint64(13600)
 	if s := os.Getenv("CLEAVE_BENCH_SEED"); s != "" {
@@ -35,7 +36,9 @@ func BenchmarkSegmentCamera(b *testing.B) {
 			}
 			args := []string{"segment", "--force", "--classes", "2", "--background", "dark", "--out", filepath.Join(dir, "out"), path}
 			b.ResetTimer()
+			c0 := cpuSeconds()
 			benchRun(b, args)
+			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 		})
 	}
 }
