@@ -81,14 +81,21 @@ func sqDist(a, b []float64) float64 {
 // lloyd runs one seeding and its Lloyd iterations; once ctx is done it
 // returns at its next check with a partial result that the caller
 // discards.
+//
+// Every pass over the points does all it can at once, so a point's row is
+// read once per seeding step and once per iteration (at a million points
+// the passes, not the distances, were the cost): the seeding's distance
+// update also sums the next draw's total, and an iteration's one pass
+// moves the bounds by the previous iteration's centre moves, assigns the
+// point and adds it to its centre's sum. Each sum still runs over the
+// points in ascending order, so every number is the one the separate
+// passes gave (TestLloydMatchesPlain).
 func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, float64) {
 	cent := make([]float64, k*dim)
 	dist := make([]float64, n)
-	pick := func(prob func(i int) float64) int {
-		var tot float64
-		for i := 0; i < n; i++ {
-			tot += prob(i)
-		}
+	// pick draws point i with probability prob(i)/tot, tot = Σ prob(i)
+	// summed in point order by the caller.
+	pick := func(tot float64, prob func(i int) float64) int {
 		if tot <= 0 {
 			return rng.IntN(n)
 		}
@@ -101,21 +108,38 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 		}
 		return n - 1
 	}
-	first := pick(func(i int) float64 { return weightOf(wt, i) })
+	var tot float64
+	if wt == nil {
+		for i := 0; i < n; i++ {
+			tot++
+		}
+	} else {
+		for _, w := range wt {
+			tot += w
+		}
+	}
+	first := pick(tot, func(i int) float64 { return weightOf(wt, i) })
 	copy(cent[:dim], x[first*dim:(first+1)*dim])
+	tot = 0
 	for i := 0; i < n; i++ {
 		dist[i] = sqDist(x[i*dim:(i+1)*dim], cent[:dim])
+		tot += weightOf(wt, i) * dist[i]
 	}
 	for c := 1; c < k; c++ {
 		if ctx.Err() != nil {
 			return nil, math.Inf(1)
 		}
-		j := pick(func(i int) float64 { return weightOf(wt, i) * dist[i] })
+		j := pick(tot, func(i int) float64 { return weightOf(wt, i) * dist[i] })
 		copy(cent[c*dim:(c+1)*dim], x[j*dim:(j+1)*dim])
+		if c == k-1 {
+			break // no further draw needs the distances
+		}
+		tot = 0
 		for i := 0; i < n; i++ {
 			if d := sqDist(x[i*dim:(i+1)*dim], cent[c*dim:(c+1)*dim]); d < dist[i] {
 				dist[i] = d
 			}
+			tot += weightOf(wt, i) * dist[i]
 		}
 	}
 	lab := make([]int32, n)
@@ -137,6 +161,7 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 	lo := make([]float64, n)
 	old := make([]float64, k*dim)
 	move := make([]float64, k)
+	maxMove := 0.0
 	var inertia float64
 	travel := 0.0 // Σ of the largest centre move per iteration
 	for iter := 0; iter < 300; iter++ {
@@ -145,34 +170,50 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 		}
 		changed := false
 		last := iter == 299
+		clear(sum)
+		clear(cnt)
 		for i := 0; i < n; i++ {
 			xi := x[i*dim : (i+1)*dim]
-			if iter > 0 && !last {
-				if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
-					continue
-				}
-				// Tighten the upper bound to the exact distance and test
-				// again (Hamerly's second test).
-				c := int(lab[i])
-				up[i] = math.Sqrt(sqDist(xi, cent[c*dim:(c+1)*dim]))
-				if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
-					continue
-				}
-			}
-			bc, bd, sd := 0, math.Inf(1), math.Inf(1)
-			for c := 0; c < k; c++ {
-				d := sqDist(xi, cent[c*dim:(c+1)*dim])
-				if d < bd {
-					bc, bd, sd = c, d, bd
-				} else if d < sd {
-					sd = d
+			assign := true
+			if iter > 0 {
+				// The previous iteration's centre moves.
+				up[i] += move[lab[i]]
+				lo[i] -= maxMove
+				if !last {
+					if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
+						assign = false
+					} else {
+						// Tighten the upper bound to the exact distance
+						// and test again (Hamerly's second test).
+						c := int(lab[i])
+						up[i] = math.Sqrt(sqDist(xi, cent[c*dim:(c+1)*dim]))
+						assign = !(up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i])
+					}
 				}
 			}
-			if lab[i] != int32(bc) {
-				lab[i] = int32(bc)
-				changed = true
+			if assign {
+				bc, bd, sd := 0, math.Inf(1), math.Inf(1)
+				for c := 0; c < k; c++ {
+					d := sqDist(xi, cent[c*dim:(c+1)*dim])
+					if d < bd {
+						bc, bd, sd = c, d, bd
+					} else if d < sd {
+						sd = d
+					}
+				}
+				if lab[i] != int32(bc) {
+					lab[i] = int32(bc)
+					changed = true
+				}
+				up[i], lo[i] = math.Sqrt(bd), math.Sqrt(sd)
 			}
-			up[i], lo[i] = math.Sqrt(bd), math.Sqrt(sd)
+			c := int(lab[i])
+			w := weightOf(wt, i)
+			cnt[c] += w
+			sc := sum[c*dim : (c+1)*dim]
+			for d, v := range xi {
+				sc[d] += w * v
+			}
 		}
 		if !changed || last {
 			// Lloyd's inertia of this assignment: Σ w_i |x_i - c(lab_i)|²
@@ -186,16 +227,6 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 				break
 			}
 		}
-		clear(sum)
-		clear(cnt)
-		for i := 0; i < n; i++ {
-			c := int(lab[i])
-			w := weightOf(wt, i)
-			cnt[c] += w
-			for d := 0; d < dim; d++ {
-				sum[c*dim+d] += w * x[i*dim+d]
-			}
-		}
 		copy(old, cent)
 		for c := 0; c < k; c++ {
 			if cnt[c] == 0 {
@@ -205,16 +236,12 @@ func lloyd(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *r
 				cent[c*dim+d] = sum[c*dim+d] / cnt[c]
 			}
 		}
-		maxMove := 0.0
+		maxMove = 0
 		for c := 0; c < k; c++ {
 			move[c] = math.Sqrt(sqDist(cent[c*dim:(c+1)*dim], old[c*dim:(c+1)*dim]))
 			maxMove = max(maxMove, move[c])
 		}
 		travel += maxMove
-		for i := 0; i < n; i++ {
-			up[i] += move[lab[i]]
-			lo[i] -= maxMove
-		}
 	}
 	return lab, inertia
 }
