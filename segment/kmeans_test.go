@@ -7,6 +7,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/score"
 )
 
 // TestLloydMatchesPlain checks that lloyd with Hamerly's bounds gives the
@@ -57,7 +59,7 @@ func TestLloydMatchesPlain(t *testing.T) {
 				}
 			}
 			for r := uint64(0); r < 4; r++ {
-				got, gi := lloyd(context.Background(), x, c.n, c.dim, c.k, wt, rand.New(rand.NewPCG(r, 7)))
+				got, _, gi := lloyd(context.Background(), x, c.n, c.dim, c.k, wt, rand.New(rand.NewPCG(r, 7)))
 				want, wi := lloydPlain(context.Background(), x, c.n, c.dim, c.k, wt, rand.New(rand.NewPCG(r, 7)))
 				if !slices.Equal(got, want) || gi != wi {
 					t.Fatalf("restart %d: labels equal %v, inertia %v, plain Lloyd %v", r, slices.Equal(got, want), gi, wi)
@@ -159,38 +161,125 @@ func lloydPlain(ctx context.Context, x []float64, n, dim, k int, wt []float64, r
 	return lab, inertia
 }
 
-// BenchmarkKmeans116k clusters 116,352 unit rows of dimension 6 into 6
-// clusters with kmeansRestarts restarts, the k-way step of the pixel
-// graph of a 384 x 303 image with --segments 6: Hamerly's bounds (hamerly)
-// against plain Lloyd iterations (plain), on the same points.
-func BenchmarkKmeans116k(b *testing.B) {
-	const n, dim, k = 116352, 6, 6
-	rng := rand.New(rand.NewPCG(11005, 1))
+// clusteredRows returns n unit rows of dimension dim around k random
+// centres (Gaussian spread), as k-way clustering normalizes its
+// embedding, and the planted cluster of each row.
+func clusteredRows(n, dim, k int, spread float64, seed uint64) ([]float64, []int32) {
+	rng := rand.New(rand.NewPCG(seed, 1))
 	centres := make([]float64, k*dim)
 	for q := range centres {
 		centres[q] = rng.NormFloat64()
 	}
 	x := make([]float64, n*dim)
+	truth := make([]int32, n)
 	for i := 0; i < n; i++ {
 		row := x[i*dim : (i+1)*dim]
 		g := rng.IntN(k)
+		truth[i] = int32(g)
 		var s float64
 		for d := range row {
-			row[d] = centres[g*dim+d] + 0.4*rng.NormFloat64()
+			row[d] = centres[g*dim+d] + spread*rng.NormFloat64()
 			s += row[d] * row[d]
 		}
 		for d := range row {
 			row[d] /= math.Sqrt(s)
 		}
 	}
+	return x, truth
+}
+
+// TestKmeansSampled checks the sampled restarts (kmeansSampleMin) against
+// the restarts on all points: on planted clusters above the threshold
+// (seeds 13600-13602, chosen for this test), weighted and not, the two
+// partitions agree to ARI >= 0.999 (segment/score's ARI, itself checked
+// against scikit-learn); below the threshold the labels are the full
+// restarts' exactly.
+func TestKmeansSampled(t *testing.T) {
+	for _, c := range []struct {
+		n        int
+		spread   float64
+		weighted bool
+		seed     uint64
+	}{
+		{kmeansSampleMin + 4321, 0.3, false, 13600},
+		{150000, 0.4, true, 13601},
+		{100000, 0.2, false, 13602},
+	} {
+		t.Run(fmt.Sprintf("n%d_s%g_w%v", c.n, c.spread, c.weighted), func(t *testing.T) {
+			const dim, k = 6, 6
+			x, _ := clusteredRows(c.n, dim, k, c.spread, c.seed)
+			var wt []float64
+			if c.weighted {
+				rng := rand.New(rand.NewPCG(c.seed, 2))
+				wt = make([]float64, c.n)
+				for i := range wt {
+					wt[i] = float64(1 + rng.IntN(9))
+				}
+			}
+			got, err := kmeansContext(context.Background(), x, c.n, dim, k, wt, kmeansRestarts, 5, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			full, err := kmeansRun(context.Background(), x, c.n, dim, k, wt, kmeansRestarts, 5, 2, c.n+1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			differ := 0
+			ari := score.ARI(got, full)
+			for i := range got {
+				if got[i] != full[i] {
+					differ++
+				}
+			}
+			if ari < 0.999 {
+				t.Fatalf("sampled restarts against full restarts: ARI %.6f (%d of %d labels differ)", ari, differ, c.n)
+			}
+			// Below the threshold nothing is sampled: the same call gives
+			// the full restarts' labels exactly.
+			m := kmeansSampleMin - 1
+			a, _ := kmeansContext(context.Background(), x[:m*dim], m, dim, k, nil, kmeansRestarts, 5, 2)
+			b, _ := kmeansRun(context.Background(), x[:m*dim], m, dim, k, nil, kmeansRestarts, 5, 2, m+1)
+			if !slices.Equal(a, b) {
+				t.Fatalf("below kmeansSampleMin the labels differ from the full restarts")
+			}
+		})
+	}
+}
+
+// BenchmarkKmeans116k clusters 116,352 unit rows of dimension 6 into 6
+// clusters with kmeansRestarts restarts, the k-way step of the pixel
+// graph of a 384 x 303 image with --segments 6: Hamerly's bounds (hamerly)
+// against plain Lloyd iterations (plain), on the same points, and the
+// whole clustering as kway calls it (sampled: the restarts on a sample
+// of kmeansSample points, then all points; full: the restarts on all
+// points), on two workers.
+func BenchmarkKmeans116k(b *testing.B) {
+	const n, dim, k = 116352, 6, 6
+	x, _ := clusteredRows(n, dim, k, 0.4, 11005)
+	hamerly := func(ctx context.Context, x []float64, n, dim, k int, wt []float64, rng *rand.Rand) ([]int32, float64) {
+		lab, _, in := lloyd(ctx, x, n, dim, k, wt, rng)
+		return lab, in
+	}
 	for _, v := range []struct {
 		name string
 		f    func(context.Context, []float64, int, int, int, []float64, *rand.Rand) ([]int32, float64)
-	}{{"hamerly", lloyd}, {"plain", lloydPlain}} {
+	}{{"hamerly", hamerly}, {"plain", lloydPlain}} {
 		b.Run(v.name, func(b *testing.B) {
 			for i := 0; i < b.N; i++ {
 				for r := uint64(0); r < kmeansRestarts; r++ {
 					v.f(context.Background(), x, n, dim, k, nil, rand.New(rand.NewPCG(1, r)))
+				}
+			}
+		})
+	}
+	for _, v := range []struct {
+		name string
+		min  int
+	}{{"sampled", kmeansSampleMin}, {"full", n + 1}} {
+		b.Run(v.name, func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				if _, err := kmeansRun(context.Background(), x, n, dim, k, nil, kmeansRestarts, 1, 2, v.min); err != nil {
+					b.Fatal(err)
 				}
 			}
 		})
