@@ -354,6 +354,9 @@ func gatherRow(dst []float64, bs []*block, i int) {
 // combineMulti sets outs[t] = [in...] · cs[t] for every t in one pass
 // over the rows; cs[t] is ns×outs[t].m row-major with ns the total width
 // of the inputs. Each output entry is one running sum over ns products.
+// With two or more inputs each row of them is copied before that row of
+// the outputs is written, so an output may share its storage with an
+// input of the same width (LOBPCG updates X, AX, P and AP in place).
 func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 	ns := width(in)
 	// Transpose the coefficient matrices so the inner loop is contiguous.

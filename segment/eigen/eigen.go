@@ -222,6 +222,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 				return nil, err
 			}
 			mg = newMultigrid(levels, workers, cvecs, cvals, wide)
+			mg.pool = pl
 			cnt := min(m, coarsest.n-1)
 			x = pl.get(coarsest.n, cnt)
 			for i := 0; i < coarsest.n; i++ {
@@ -272,12 +273,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 			var pre func(*block) *block
 			if mg != nil {
 				sub := mg.sub(l)
-				pre = func(b *block) *block {
-					x := sub.apply(0, b)
-					out := ol.get(x.m)
-					copy(out.v, x.v)
-					return out
-				}
+				pre = func(b *block) *block { return sub.apply(0, b) }
 			}
 			it := maxIter
 			if l > 0 {

@@ -86,13 +86,20 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	x, ax = xn, axn
 
 	var p, ap *block
-	r := o.get(m)
 	res := make([]float64, m)
 	it := 0
 	for ; ; it++ {
 		if err := o.cancelled(); err != nil {
 			return nil, err
 		}
+		// The residual block and the product's scratch block go back to
+		// the pool while the preconditioner runs, which needs blocks of
+		// the same size (fewer blocks held at once: 50 MB each at a
+		// million nodes).
+		if tmp == nil {
+			tmp = o.get(m)
+		}
+		r := o.get(m)
 		if it > 0 && it%refreshEvery == 0 {
 			// AX and AP are updated by linear combination, so rounding
 			// drifts them away from L X and L P; recompute AX and
@@ -118,6 +125,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			}
 		}
 		if done || it >= maxIter {
+			o.put(r)
 			break
 		}
 		// Residual directions only for the wanted columns still above
@@ -143,6 +151,8 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 				}
 			}
 		})
+		o.put(r, tmp)
+		tmp = nil
 		if precond != nil {
 			pw := precond(w)
 			o.put(w)
@@ -156,13 +166,11 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			w = w2
 		}
 		if w.m == 0 {
+			o.put(w)
 			break
 		}
 		aw := o.get(w.m)
-		if cap(tmp.v) < n*w.m {
-			o.put(tmp)
-			tmp = o.get(w.m)
-		}
+		tmp = o.get(max(m, w.m))
 		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
 
 		basis := []*block{x, w}
@@ -188,9 +196,11 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		}
 		z := smallComplement(cm, ns, m)
 		mp := len(z) / ns
-		old := []*block{x, ax, w, aw, p, ap}
-		xn := o.get(m)
-		axn := o.get(m)
+		// The new blocks overwrite the old ones of the same width in
+		// place (combineMulti reads each row of its inputs before it
+		// writes that row of its outputs); the others are released.
+		old := []*block{w, aw}
+		xn, axn := x, ax
 		// The images A X and A P are either combined from [AX, AW, AP]
 		// (ns products per entry) or recomputed as sparse products (about
 		// nnz/n per entry, at a higher cost each): on sparse graphs such
@@ -198,8 +208,13 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		// exact rather than updated.
 		recompute := 2*len(lv.col) < ns*n
 		if mp > 0 {
-			pn := o.get(mp)
-			apn := o.get(mp)
+			var pn, apn *block
+			if p != nil && p.m == mp {
+				pn, apn = p, ap
+			} else {
+				old = append(old, p, ap)
+				pn, apn = o.get(mp), o.get(mp)
+			}
 			o.combineMulti([]*block{xn, pn}, basis, [][]float64{cm, z})
 			if recompute {
 				lv.applyL(axn, xn, &block{n: n, m: m, v: tmp.v[:n*m]}, o.workers)
@@ -209,6 +224,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 			}
 			p, ap = pn, apn
 		} else {
+			old = append(old, p, ap)
 			o.combine(xn, basis, cm)
 			if recompute {
 				lv.applyL(axn, xn, &block{n: n, m: m, v: tmp.v[:n*m]}, o.workers)
@@ -221,7 +237,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 		o.put(old...)
 		theta = vals[:m]
 	}
-	o.put(tmp, r, ax, p, ap)
+	o.put(tmp, ax, p, ap)
 	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
 }
 
