@@ -161,7 +161,7 @@ func TestNeckPiecesBarVersusDiscs(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, regions, _ := neckPieces(g.Subgraph(nodes), feat, feat, nodes, cw, ch, make([]int32, len(nodes)), 1, nil, 20)
+		_, regions, _ := neckPieces(g.Subgraph(nodes), &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes}, feat, make([]int32, len(nodes)), 1, nil, 20)
 		return regions
 	}
 	discs, cw, ch := discRow(14, 20, 2)
@@ -449,5 +449,75 @@ func TestCoreDistanceHaloedPair(t *testing.T) {
 		if ref.n != tc.objects {
 			t.Errorf("%s: %d objects, want %d", tc.name, ref.n, tc.objects)
 		}
+	}
+}
+
+// cropNoise recovers the standard deviation of white Gaussian noise added
+// to a disc of constant contrast (the median absolute deviation of the
+// 3x3 residual, scaled as its doc states); with about 1,100 interior
+// pixels the estimate's sampling error is a few per cent. A dip of a
+// fifth of the contrast along a cut is a seam (objectCrop.seam). A cut
+// across a uniform bar 10 px wide is taken for a seam by noise alone in
+// at most about seamSigmas' one-sided rate (2.3 %; 5 % allowed over 400
+// draws), where the 2 % test alone would take it about a quarter of the
+// time (the seam's mean has a standard error of σ/√10 = 0.032 at σ = 0.1).
+func TestCropNoiseAndSeam(t *testing.T) {
+	const cw, ch, R = 48, 48, 20.0
+	for _, sigma := range []float64{0.02, 0.05, 0.1} {
+		rng := rand.New(rand.NewPCG(5, uint64(sigma*1000)))
+		feat := make([]float32, cw*ch)
+		var nodes []int
+		for c := range feat {
+			x, y := float64(c%cw)+0.5, float64(c/cw)+0.5
+			if math.Hypot(x-24, y-24) <= R {
+				nodes = append(nodes, c)
+				feat[c] = float32(1 + sigma*rng.NormFloat64())
+			}
+		}
+		got := cropNoise(feat, nodes, cw, ch)
+		if math.Abs(got-sigma) > 0.1*sigma {
+			t.Errorf("noise %.2f: estimated %.4f, want within 10%%", sigma, got)
+		}
+		o := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: got}
+		part := make([]int, len(nodes))
+		inA := make([]bool, len(nodes))
+		for k, c := range nodes {
+			part[k] = k
+			inA[k] = c%cw < 24
+			if x := c % cw; x == 23 || x == 24 {
+				feat[c] *= 0.8
+			}
+		}
+		if !o.seam(part, inA) {
+			t.Errorf("noise %.2f: a dip of 20%% along the cut not taken for a seam", sigma)
+		}
+	}
+	// The bar: 60 x 10 px of contrast 1, cut across its middle.
+	const bw, bh, sigma, draws = 64, 14, 0.1, 400
+	rng := rand.New(rand.NewPCG(9, 10))
+	var nodes []int
+	for c := 0; c < bw*bh; c++ {
+		if x, y := c%bw, c/bw; x >= 2 && x < 62 && y >= 2 && y < 12 {
+			nodes = append(nodes, c)
+		}
+	}
+	part := make([]int, len(nodes))
+	inA := make([]bool, len(nodes))
+	for k, c := range nodes {
+		part[k], inA[k] = k, c%bw < 32
+	}
+	seams := 0
+	for range draws {
+		feat := make([]float32, bw*bh)
+		for _, c := range nodes {
+			feat[c] = float32(1 + sigma*rng.NormFloat64())
+		}
+		o := &objectCrop{feat: feat, cw: bw, ch: bh, nodes: nodes, noise: cropNoise(feat, nodes, bw, bh)}
+		if o.seam(part, inA) {
+			seams++
+		}
+	}
+	if seams > draws/20 {
+		t.Errorf("a cut across a uniform bar taken for a seam in %d of %d noise draws, want at most %d", seams, draws, draws/20)
 	}
 }
