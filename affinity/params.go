@@ -7,30 +7,22 @@ import (
 	"runtime"
 )
 
-// ErrParam is wrapped by every ParamError, for errors.Is.
-var ErrParam = errors.New("affinity: invalid parameter")
-
-// ParamError reports a parameter outside its domain. Name is the
-// parameter's name as the params files spell it (the command words it
-// as its flag), so the message
-// can be shown as it stands: "sigma-i must be a positive number, got NaN".
+// ParamError reports a parameter outside its domain by its name, as the
+// params files spell it, in the way of segment.ParamError and
+// imageio.OptionError (the command words the name as its flag). The
+// message reads as it stands: "sigma-i must be a positive number, got
+// NaN".
 type ParamError struct {
-	Name string // e.g. "sigma-i", "radius"
-	Want string // e.g. "a positive number"
-	Got  string // the offending value, formatted
+	Name    string // e.g. "sigma-i", "radius"
+	Problem string // e.g. "must be a positive number, got NaN"
 }
 
-func (e *ParamError) Error() string {
-	return fmt.Sprintf("%s must be %s, got %s", e.Name, e.Want, e.Got)
-}
-
-// Unwrap makes errors.Is(err, ErrParam) true.
-func (e *ParamError) Unwrap() error { return ErrParam }
+func (e *ParamError) Error() string { return e.Name + " " + e.Problem }
 
 // positive checks that v is finite and > 0.
 func positive(name string, v float64) error {
 	if !(v > 0) || math.IsInf(v, 0) {
-		return &ParamError{Name: name, Want: "a positive number", Got: fmt.Sprint(v)}
+		return &ParamError{name, fmt.Sprintf("must be a positive number, got %v", v)}
 	}
 	return nil
 }
@@ -46,7 +38,7 @@ type PixelParams struct {
 // SigmaI and SigmaX finite and > 0.
 func (p PixelParams) Validate() error {
 	if p.Radius < 1 {
-		return &ParamError{Name: "radius", Want: "at least 1 pixel", Got: fmt.Sprint(p.Radius)}
+		return &ParamError{"radius", fmt.Sprintf("must be at least 1 pixel, got %d", p.Radius)}
 	}
 	if err := positive("sigma-i", p.SigmaI); err != nil {
 		return err
@@ -73,13 +65,13 @@ type SLICParams struct {
 // Compactness finite and > 0, 0 <= Iterations <= 1000.
 func (p SLICParams) Validate() error {
 	if p.Count < 1 {
-		return &ParamError{Name: "superpixels", Want: "at least 1", Got: fmt.Sprint(p.Count)}
+		return &ParamError{"superpixels", fmt.Sprintf("must be at least 1, got %d", p.Count)}
 	}
 	if err := positive("compactness", p.Compactness); err != nil {
 		return err
 	}
 	if p.Iterations < 0 || p.Iterations > 1000 {
-		return &ParamError{Name: "slic-iterations", Want: "between 0 (default 10) and 1000", Got: fmt.Sprint(p.Iterations)}
+		return &ParamError{"slic-iterations", fmt.Sprintf("must be between 0 (default 10) and 1000, got %d", p.Iterations)}
 	}
 	return nil
 }

@@ -238,8 +238,8 @@ func TestPixelParamsValidate(t *testing.T) {
 			t.Errorf("%+v: error %v, want %q", c.p, err, c.want)
 		}
 		var pe *ParamError
-		if !errors.Is(gerr, ErrParam) || !errors.As(gerr, &pe) {
-			t.Errorf("%+v: PixelGraph error %v is not a ParamError", c.p, gerr)
+		if !errors.As(gerr, &pe) || pe.Error() != c.want {
+			t.Errorf("%+v: PixelGraph error %v is not the ParamError %q", c.p, gerr, c.want)
 		}
 	}
 }

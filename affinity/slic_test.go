@@ -196,7 +196,8 @@ func TestSLICParamsValidate(t *testing.T) {
 			}
 			continue
 		}
-		if err == nil || err.Error() != c.want || !errors.Is(serr, ErrParam) {
+		var pe *ParamError
+		if err == nil || err.Error() != c.want || !errors.As(serr, &pe) || pe.Error() != c.want {
 			t.Errorf("%+v: error %v / %v, want %q", c.p, err, serr, c.want)
 		}
 	}
