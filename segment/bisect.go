@@ -101,7 +101,7 @@ type cutOptions struct {
 	stability bool // apply the Fiedler-vector stability test
 	// accept, when set, must also approve a split of a part (nodes of the
 	// whole graph; inA marks side A by position in nodes; ncut is the
-	// split's Ncut, at most Params.MaxNcut).
+	// split's Ncut, at most cutParams.maxNcut).
 	accept func(nodes []int, inA []bool, ncut float64) bool
 	// final, when set, marks a part (nodes of the whole graph) that is not
 	// to be split at all.
@@ -113,14 +113,29 @@ type cutOptions struct {
 	tree bool
 }
 
+// cutParams are the values bisect reads: of Params (Params.cutParams)
+// for the image's cut, its own for the re-cut of single objects.
+type cutParams struct {
+	maxNcut  float64 // largest Ncut of an accepted split
+	minArea  int     // pixels each side of an accepted split holds at least
+	segments int     // region limit (0: none)
+	workers  int     // eigensolver workers (below 1: GOMAXPROCS)
+	seed     uint64  // eigensolver seed
+}
+
+// cutParams returns the values of p that bisect reads.
+func (p Params) cutParams() cutParams {
+	return cutParams{maxNcut: p.MaxNcut, minArea: p.MinArea, segments: p.Segments, workers: p.Workers, seed: p.Seed}
+}
+
 // bisect performs recursive two-way normalized cuts (Shi and Malik 2000,
 // section 3.1): each part's Fiedler vector y = D^-1/2 z_1 of its own
 // subgraph is swept for the split of least Ncut; the split is accepted when
-// that Ncut is at most maxNcut and both sides hold at least minArea pixels.
-// Disconnected parts split into their components at no cost (Ncut 0).
-// The largest open part is split first, and splitting stops once maxRegions
-// regions exist (0: no limit).
-func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutOptions) (*cutResult, error) {
+// that Ncut is at most p.maxNcut and both sides hold at least p.minArea
+// pixels. Disconnected parts split into their components at no cost
+// (Ncut 0). The largest open part is split first, and splitting stops
+// once p.segments regions exist (0: no limit).
+func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o cutOptions) (*cutResult, error) {
 	res := &cutResult{region: make([]int32, g.N)}
 	h := &partHeap{}
 	var final []part
@@ -157,11 +172,11 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		if p.Segments > 0 && regions >= p.Segments {
+		if p.segments > 0 && regions >= p.segments {
 			break
 		}
 		pt := heap.Pop(h).(part)
-		if len(pt.nodes) < 2 || pt.area < 2*p.MinArea || (o.final != nil && o.final(pt.nodes)) {
+		if len(pt.nodes) < 2 || pt.area < 2*p.minArea || (o.final != nil && o.final(pt.nodes)) {
 			final = append(final, pt)
 			continue
 		}
@@ -196,7 +211,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 		if first {
 			k = min(topEigenpairs, sub.N)
 		}
-		opt := eigen.Options{Workers: p.Workers, Seed: p.Seed}
+		opt := eigen.Options{Workers: p.workers, Seed: p.seed}
 		if !first {
 			// Only the order of the Fiedler vector's entries matters to the
 			// sweep, and a residual of splitTol already fixes it far more
@@ -218,12 +233,12 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p Params, o cutO
 		for i := range y {
 			y[i] = z[i] / math.Sqrt(deg[i])
 		}
-		s, ok := sweepSplit(sub, deg, y, subArea, p.MinArea)
+		s, ok := sweepSplit(sub, deg, y, subArea, p.minArea)
 		steady := !o.stability || stable(y)
 		if len(pt.nodes) == g.N {
 			res.root = rootSplit{tried: true, found: ok, ncut: s.ncut, stable: steady}
 		}
-		if !ok || s.ncut > p.MaxNcut || !steady {
+		if !ok || s.ncut > p.maxNcut || !steady {
 			final = append(final, pt)
 			continue
 		}

@@ -113,7 +113,7 @@ func TestBisectTwoCliques(t *testing.T) {
 	}
 	g := mustGraph(t, 2*n, e)
 	p := Params{MaxNcut: 0.2, MinArea: 1, Method: MethodBisect, Workers: 1, Seed: 1}
-	res, err := bisect(context.Background(), g, nil, p, cutOptions{})
+	res, err := bisect(context.Background(), g, nil, p.cutParams(), cutOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -782,7 +782,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		}
 		return solidity(whole, w) > refineSolidity
 	}
-	cut, err := bisect(ctx, sub, nil, Params{MaxNcut: cutLimit, MinArea: minPart, Workers: 1, Seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true})
+	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true})
 	if err != nil {
 		return refineResult{err: err}
 	}

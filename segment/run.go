@@ -638,10 +638,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		cut, err = in.Cache.cut(q, p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
-			return bisect(ctx, g, area, q, cutOptions{stability: stability, tree: true})
+			return bisect(ctx, g, area, q.cutParams(), cutOptions{stability: stability, tree: true})
 		})
 	} else if p.Method == MethodBisect {
-		cut, err = bisect(ctx, g, area, p, cutOptions{stability: stability})
+		cut, err = bisect(ctx, g, area, p.cutParams(), cutOptions{stability: stability})
 	} else {
 		cut, err = kwayComponents(ctx, g, area, p)
 	}

@@ -53,7 +53,7 @@ func TestStalledGraphsSolve(t *testing.T) {
 			}
 			p := defaultParams()
 			p.Workers = 2
-			res, err := bisect(context.Background(), g, nil, p, cutOptions{stability: true})
+			res, err := bisect(context.Background(), g, nil, p.cutParams(), cutOptions{stability: true})
 			if err != nil {
 				t.Fatal(err)
 			}
