@@ -1,7 +1,6 @@
 package eigen
 
 import (
-	"context"
 	"math"
 	"sync"
 
@@ -13,20 +12,10 @@ import (
 // inner products, evaluated in a fixed order), so results do not depend on
 // the number of workers.
 type ops struct {
-	ctx     context.Context // the solve stops when it is done; nil: never
 	lv      *level
 	workers int
 	part    []float64 // scratch for per-chunk partial sums
 	pool    *pool     // block storage shared by all levels of one solve
-}
-
-// cancelled returns the context's error once the solve's context is
-// done, and nil before or without one.
-func (o *ops) cancelled() error {
-	if o.ctx == nil {
-		return nil
-	}
-	return o.ctx.Err()
 }
 
 // get returns an n×m block whose contents are undefined; every caller

@@ -162,7 +162,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 			solvePools.Put(pl)
 		}
 	}()
-	o := &ops{ctx: ctx, lv: lv0, workers: workers, pool: pl}
+	o := &ops{lv: lv0, workers: workers, pool: pl}
 
 	var vals []float64
 	var vecs *block
@@ -269,7 +269,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			ol := &ops{ctx: ctx, lv: levels[l], workers: workers, pool: pl}
+			ol := &ops{lv: levels[l], workers: workers, pool: pl}
 			var pre func(*block) *block
 			if mg != nil {
 				sub := mg.sub(l)
@@ -279,7 +279,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 			if l > 0 {
 				it = min(it, midIter)
 			}
-			r, err := lobpcg(ol, x, want, levelTol(tol, l), it, pre, opt.Seed, wide)
+			r, err := lobpcg(ctx, ol, x, want, levelTol(tol, l), it, pre, opt.Seed, wide)
 			if err != nil {
 				return nil, err
 			}

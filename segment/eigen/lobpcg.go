@@ -1,6 +1,7 @@
 package eigen
 
 import (
+	"context"
 	"errors"
 	"math"
 
@@ -53,8 +54,9 @@ type lobpcgResult struct {
 // residual directions too while a wanted column is unconverged: on dense
 // pixel graphs a wanted pair next to a nearly equal guard otherwise
 // converges only as fast as the guard does through Rayleigh-Ritz (see
-// wideGraph).
-func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block, seed uint64, guards bool) (*lobpcgResult, error) {
+// wideGraph). It checks ctx before each step and returns its error once
+// it is done.
+func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIter int, precond func(*block) *block, seed uint64, guards bool) (*lobpcgResult, error) {
 	lv := o.lv
 	n := lv.n
 	m0 := x.m
@@ -89,7 +91,7 @@ func lobpcg(o *ops, x *block, want int, tol float64, maxIter int, precond func(*
 	res := make([]float64, m)
 	it := 0
 	for ; ; it++ {
-		if err := o.cancelled(); err != nil {
+		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
 		// The residual block and the product's scratch block go back to
