@@ -563,7 +563,7 @@ func TestBatchKillAndResume(t *testing.T) {
 		// It announces every output of a PNG run, as pipeline.Process does
 		// (the one list, pipeline.OutputSuffixes).
 		var announced []string
-		for _, suf := range pipeline.OutputSuffixes {
+		for _, suf := range pipeline.OutputSuffixes() {
 			if !strings.HasSuffix(suf, ".tif") {
 				announced = append(announced, "img-06"+suf)
 			}

@@ -314,7 +314,7 @@ func TestRegionTableColour(t *testing.T) {
 	}
 	for _, row := range recs[1:] {
 		l, _ := strconv.Atoi(row[col["label"]])
-		for c, name := range pipeline.ChannelNames {
+		for c, name := range pipeline.ChannelNames() {
 			var sum, mn, mx float64 = 0, math.Inf(1), math.Inf(-1)
 			n := 0
 			for i, v := range labels {

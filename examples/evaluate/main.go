@@ -139,7 +139,7 @@ type config struct {
 }
 
 func main() {
-	kind := flag.String("kind", "nuclei", "scene family: "+strings.Join(scenes.Kinds, ", ")+", or all")
+	kind := flag.String("kind", "nuclei", "scene family: "+strings.Join(scenes.Kinds(), ", ")+", or all")
 	n := flag.Int("n", 6, "number of scenes per kind")
 	seed := flag.Uint64("seed", 9100, "seed of the first scene; scene k uses seed+k (9000-9004 chose the baseline's parameters: do not report on them)")
 	size := flag.Int("size", 512, "width and height in pixels")
@@ -153,7 +153,7 @@ func main() {
 	flag.Parse()
 	c := config{n: *n, seed: *seed, size: *size, variant: *variant, quality: *quality, keep: *keep, json: *jsonOut, py: *py, extra: flag.Args(), tune: *tuneN, metric: *metric}
 	if *kind == "all" {
-		c.kinds = scenes.Kinds
+		c.kinds = scenes.Kinds()
 	} else {
 		c.kinds = []string{*kind}
 	}
@@ -166,7 +166,7 @@ func main() {
 func run(c *config) error {
 	for _, k := range c.kinds {
 		if _, ok := cleaveFlags[k]; !ok {
-			return fmt.Errorf("-kind %q is not one of %s or all", k, strings.Join(scenes.Kinds, ", "))
+			return fmt.Errorf("-kind %q is not one of %s or all", k, strings.Join(scenes.Kinds(), ", "))
 		}
 	}
 	switch c.variant {

@@ -5,14 +5,14 @@ import (
 	"slices"
 )
 
-// Palette is the set of colours given to labels: twelve hues 30 degrees
+// palette is the set of colours given to labels: twelve hues 30 degrees
 // apart in CIE LCh(ab) (the polar form of CIE 1976 L*a*b*, CIE 15:2004),
 // chroma 48, lightness alternating 58 and 78 so that colours next in hue
 // also differ in lightness, converted to sRGB (D65, IEC 61966-2-1) and
 // clipped to the gamut. The order visits the hues in steps of 150 degrees
 // (5 of the 12), so colours chosen one after another differ strongly.
 // None is near black, the colour of label 0.
-var Palette = makePalette()
+var palette = makePalette()
 
 func makePalette() [][3]uint8 {
 	const n = 12
@@ -60,7 +60,7 @@ func labToSRGB(L, a, b float64) [3]uint8 {
 	return out
 }
 
-// LabelColours gives every label of a label map a colour of Palette.
+// LabelColours gives every label of a label map a colour of palette.
 type LabelColours struct {
 	dense  [][3]uint8 // by label, when the labels are at most the pixel count
 	sparse map[int32][3]uint8
@@ -79,7 +79,7 @@ func (c *LabelColours) Of(l int32) [3]uint8 {
 
 // ColourLabels colours the labels (> 0) of a width x height label map so
 // that labels that touch, side or corner (8-connectivity), get different
-// palette entries whenever fewer than len(Palette) colours are taken by
+// palette entries whenever fewer than len(palette) colours are taken by
 // a label's neighbours: greedy colouring in increasing label order, each
 // label taking, among the colours none of its already-coloured neighbours
 // has, the one used least so far (ties: the earlier palette entry), which
@@ -173,23 +173,23 @@ func ColourLabels(labels []int32, width, height int) *LabelColours {
 		fill[b]++
 	}
 	colour := make([]int, len(ids))
-	used := make([]int, len(Palette))
+	used := make([]int, len(palette))
 	for i := range ids {
-		var taken [16]int // neighbours holding each colour (len(Palette) <= 16)
+		var taken [16]int // neighbours holding each colour (len(palette) <= 16)
 		for _, j := range adj[start[i]:start[i+1]] {
 			if j < i {
 				taken[colour[j]]++
 			}
 		}
 		best := -1
-		for k := range Palette {
+		for k := range palette {
 			if taken[k] == 0 && (best < 0 || used[k] < used[best]) {
 				best = k
 			}
 		}
 		if best < 0 {
 			best = 0
-			for k := range Palette {
+			for k := range palette {
 				if taken[k] < taken[best] {
 					best = k
 				}
@@ -202,12 +202,12 @@ func ColourLabels(labels []int32, width, height int) *LabelColours {
 	if int(maxLabel) <= len(labels) {
 		out.dense = make([][3]uint8, int(maxLabel)+1)
 		for i, l := range ids {
-			out.dense[l] = Palette[colour[i]]
+			out.dense[l] = palette[colour[i]]
 		}
 	} else {
 		out.sparse = make(map[int32][3]uint8, len(ids))
 		for i, l := range ids {
-			out.sparse[l] = Palette[colour[i]]
+			out.sparse[l] = palette[colour[i]]
 		}
 	}
 	return out

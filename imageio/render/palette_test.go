@@ -9,11 +9,11 @@ import (
 // least 60 in 8-bit sRGB Euclidean distance) and none is near black
 // (sum of channels above 200), so no object looks like label 0.
 func TestPaletteDistinct(t *testing.T) {
-	for i, a := range Palette {
+	for i, a := range palette {
 		if int(a[0])+int(a[1])+int(a[2]) < 200 {
 			t.Errorf("colour %d %v is near black", i, a)
 		}
-		for j, b := range Palette[:i] {
+		for j, b := range palette[:i] {
 			d := 0
 			for k := range 3 {
 				d += (int(a[k]) - int(b[k])) * (int(a[k]) - int(b[k]))

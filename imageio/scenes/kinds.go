@@ -2,8 +2,11 @@ package scenes
 
 import "fmt"
 
-// Kinds lists the scene families by the short names the commands use.
-var Kinds = []string{"nuclei", "plates", "clusters", "haze", "stained", "surface", "grains"}
+// Kinds returns the scene families by the short names the commands use;
+// the slice is the caller's.
+func Kinds() []string {
+	return []string{"nuclei", "plates", "clusters", "haze", "stained", "surface", "grains"}
+}
 
 // Generate makes the scene of the named kind with the given size, seed
 // and bit depth, all other options at their defaults. Invalid options are
@@ -35,7 +38,7 @@ func Generate(kind string, width, height int, seed uint64, depth int) (*Scene, e
 		o := GrainsOptions{Width: width, Height: height, Seed: seed, BitDepth: depth}
 		validate, make1 = o.Validate, func() *Scene { return Grains(o) }
 	default:
-		return nil, fmt.Errorf("scenes: unknown kind %q (want one of %v)", kind, Kinds)
+		return nil, fmt.Errorf("scenes: unknown kind %q (want one of %v)", kind, Kinds())
 	}
 	if err := validate(); err != nil {
 		return nil, err

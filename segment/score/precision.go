@@ -1,9 +1,11 @@
 package score
 
-// IoUThresholds are the intersection-over-union levels 0.50, 0.55, ...,
-// 0.95 over which MeanAP averages (Caicedo et al. 2019, Nature Methods:
-// the counting metric of nucleus segmentation benchmarks).
-var IoUThresholds = [10]float64{0.50, 0.55, 0.60, 0.65, 0.70, 0.75, 0.80, 0.85, 0.90, 0.95}
+// IoUThresholds returns the intersection-over-union levels 0.50, 0.55,
+// ..., 0.95 over which MeanAP averages (Caicedo et al. 2019, Nature
+// Methods: the counting metric of nucleus segmentation benchmarks).
+func IoUThresholds() [10]float64 {
+	return [10]float64{0.50, 0.55, 0.60, 0.65, 0.70, 0.75, 0.80, 0.85, 0.90, 0.95}
+}
 
 // AveragePrecision is the object-level precision at one IoU threshold t
 // as defined for instance segmentation by Caicedo et al. (2019):
@@ -20,7 +22,7 @@ func AveragePrecision(pred, truth []int32, t float64) float64 {
 	return Contingency(pred, truth).precisionAt([]float64{t})[0]
 }
 
-// MeanAP is AveragePrecision averaged over IoUThresholds: mAP(0.5:0.95)
+// MeanAP is AveragePrecision averaged over IoUThresholds(): mAP(0.5:0.95)
 // of Caicedo et al. (2019).
 func MeanAP(pred, truth []int32) float64 {
 	return Contingency(pred, truth).MeanAP()
@@ -28,7 +30,8 @@ func MeanAP(pred, truth []int32) float64 {
 
 // MeanAP is MeanAP of the table's two label maps (A predicted, B truth).
 func (t *Table) MeanAP() float64 {
-	ap := t.precisionAt(IoUThresholds[:])
+	levels := IoUThresholds()
+	ap := t.precisionAt(levels[:])
 	var s float64
 	for _, v := range ap {
 		s += v

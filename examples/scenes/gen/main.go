@@ -48,7 +48,7 @@ func generate(args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("gen", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	out := fs.String("out", "", "output directory (created if missing)")
-	kind := fs.String("kind", "nuclei", "scene family: "+strings.Join(scenes.Kinds, ", "))
+	kind := fs.String("kind", "nuclei", "scene family: "+strings.Join(scenes.Kinds(), ", "))
 	n := fs.Int("n", 1, "number of scenes")
 	seed := fs.Uint64("seed", 1, "seed of the first scene; scene k uses seed+k")
 	size := fs.Int("size", 512, "width and height in pixels")
@@ -56,7 +56,7 @@ func generate(args []string, stdout, stderr io.Writer) error {
 	asTIFF := fs.Bool("tiff", false, "write the image as uncompressed TIFF instead of PNG")
 	fs.Usage = func() {
 		fmt.Fprintf(stderr, "gen writes invented synthetic scenes and their 16-bit truth masks.\n\n")
-		fmt.Fprintf(stderr, "usage: gen -out DIR -kind KIND -n N -seed S -size 512 [-tiff]\n\nkinds: %s\n\n", strings.Join(scenes.Kinds, ", "))
+		fmt.Fprintf(stderr, "usage: gen -out DIR -kind KIND -n N -seed S -size 512 [-tiff]\n\nkinds: %s\n\n", strings.Join(scenes.Kinds(), ", "))
 		fs.PrintDefaults()
 		fmt.Fprintf(stderr, "\nexample:\n  go run ./examples/scenes/gen -out /tmp/nuclei -kind nuclei -n 3 -seed 1\n")
 	}
@@ -76,11 +76,11 @@ func generate(args []string, stdout, stderr io.Writer) error {
 		return fmt.Errorf("%w: -n %d outside [1, 10000]", errUsage, *n)
 	}
 	known := false
-	for _, k := range scenes.Kinds {
+	for _, k := range scenes.Kinds() {
 		known = known || k == *kind
 	}
 	if !known {
-		return fmt.Errorf("%w: -kind %q is not one of %s", errUsage, *kind, strings.Join(scenes.Kinds, ", "))
+		return fmt.Errorf("%w: -kind %q is not one of %s", errUsage, *kind, strings.Join(scenes.Kinds(), ", "))
 	}
 	make1 := func(s uint64) (*scenes.Scene, error) {
 		sc, err := scenes.Generate(*kind, *size, *size, s, *depth)

@@ -52,11 +52,11 @@ func TestGenerate(t *testing.T) {
 	}
 }
 
-// TestGenerateKinds: every kind named in scenes.Kinds is accepted and
+// TestGenerateKinds: every kind named in scenes.Kinds() is accepted and
 // written with its truth, identical to the generator's own scene.
 func TestGenerateKinds(t *testing.T) {
 	dir := t.TempDir()
-	for _, kind := range scenes.Kinds {
+	for _, kind := range scenes.Kinds() {
 		var out, errb bytes.Buffer
 		if code := run([]string{"-out", dir, "-kind", kind, "-n", "1", "-seed", "3", "-size", "128", "-depth", "8"}, &out, &errb); code != 0 {
 			t.Fatalf("%s: exit %d: %s", kind, code, errb.String())

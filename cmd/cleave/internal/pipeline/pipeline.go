@@ -100,10 +100,12 @@ const (
 	SuffixRecord   = ".json"
 )
 
-// OutputSuffixes are the files Process may write for one stem, in
-// any format.
-var OutputSuffixes = []string{LabelsSuffixes[imageio.LabelsPNG], LabelsSuffixes[imageio.LabelsTIFF], SuffixOverlay, SuffixPreview,
-	ClassesSuffixes[imageio.LabelsPNG], ClassesSuffixes[imageio.LabelsTIFF], SuffixRegions, SuffixOutlines, SuffixRecord}
+// OutputSuffixes returns the suffixes of the files Process may write for
+// one stem, in any format; the slice is the caller's.
+func OutputSuffixes() []string {
+	return []string{LabelsSuffixes[imageio.LabelsPNG], LabelsSuffixes[imageio.LabelsTIFF], SuffixOverlay, SuffixPreview,
+		ClassesSuffixes[imageio.LabelsPNG], ClassesSuffixes[imageio.LabelsTIFF], SuffixRegions, SuffixOutlines, SuffixRecord}
+}
 
 // LabelsFormatFor is the format the label and class maps of one result are
 // written in: the one asked for, except that labels above 65535, which a
@@ -531,7 +533,7 @@ func priorOutputs(set OutputSet) (map[string]bool, error) {
 		return own, fmt.Errorf("%s exists and is not a record that cleave wrote; cleave does not replace it: move it away or choose another `out`", p)
 	}
 	valid := map[string]bool{}
-	for _, s := range OutputSuffixes {
+	for _, s := range OutputSuffixes() {
 		valid[set.Stem+s] = true
 	}
 	own[filepath.Base(p)] = true

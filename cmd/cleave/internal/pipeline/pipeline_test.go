@@ -96,8 +96,8 @@ func TestProcessWritesWhatItLists(t *testing.T) {
 		if _, err := os.Stat(filepath.Join(j.Out.Dir, name)); err != nil {
 			t.Errorf("listed output %s: %v", name, err)
 		}
-		if !slices.ContainsFunc(OutputSuffixes, func(s string) bool { return name == "disc"+s }) {
-			t.Errorf("output %s has no suffix of OutputSuffixes", name)
+		if !slices.ContainsFunc(OutputSuffixes(), func(s string) bool { return name == "disc"+s }) {
+			t.Errorf("output %s has no suffix of OutputSuffixes()", name)
 		}
 	}
 	onDisk, err := ReadRecord(j.Out.Path(SuffixRecord))

@@ -247,9 +247,10 @@ func CheckUnit(unit string) error {
 	return nil
 }
 
-// ChannelNames names the colour channels of a three-channel image in the
-// region table's columns.
-var ChannelNames = []string{"red", "green", "blue"}
+// ChannelNames returns the names of the colour channels of a
+// three-channel image in the region table's columns; the slice is the
+// caller's.
+func ChannelNames() []string { return []string{"red", "green", "blue"} }
 
 // intensityPlanes are the planes measured in the region table, in the
 // image's own units: the intensity plane (the luma, or the channel
@@ -257,9 +258,9 @@ var ChannelNames = []string{"red", "green", "blue"}
 // column suffixes ("" for the intensity plane).
 func intensityPlanes(raw []float32, channels [][]float32) (planes [][]float32, names []string) {
 	planes, names = [][]float32{raw}, []string{""}
-	if len(channels) == len(ChannelNames) {
+	if rgb := ChannelNames(); len(channels) == len(rgb) {
 		for c, p := range channels {
-			planes, names = append(planes, p), append(names, "_"+ChannelNames[c])
+			planes, names = append(planes, p), append(names, "_"+rgb[c])
 		}
 	}
 	return planes, names

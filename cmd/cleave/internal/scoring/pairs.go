@@ -11,9 +11,9 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 )
 
-// TruthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
+// truthSuffixes mark a ground-truth file: NAME.truth.png, NAME_mask.tif,
 // NAME_truth.png all belong to the image NAME.
-var TruthSuffixes = []string{".truth", "_mask", "_truth"}
+var truthSuffixes = [...]string{".truth", "_mask", "_truth"}
 
 // LabelsSuffix marks the label map cleave segment writes (NAME.labels.png).
 const LabelsSuffix = ".labels"
@@ -21,7 +21,7 @@ const LabelsSuffix = ".labels"
 // TrimTruth returns the image name a truth stem belongs to and whether the
 // stem carries a truth suffix.
 func TrimTruth(stem string) (string, bool) {
-	for _, s := range TruthSuffixes {
+	for _, s := range truthSuffixes {
 		if n, ok := strings.CutSuffix(stem, s); ok && n != "" {
 			return n, true
 		}

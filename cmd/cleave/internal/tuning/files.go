@@ -17,9 +17,10 @@ import (
 	"github.com/cleave-seg/cleave/segment/tune"
 )
 
-// Outputs are the files Write puts into its folder, in the order written
-// (tune.json last: it holds the seconds of the whole run).
-var Outputs = []string{"best.json", "tune.csv", "tune.png", "tune.json"}
+// Outputs returns the files Write puts into its folder, in the order
+// written (tune.json last: it holds the seconds of the whole run); the
+// slice is the caller's.
+func Outputs() []string { return []string{"best.json", "tune.csv", "tune.png", "tune.json"} }
 
 // Write creates dir when missing and writes best.json, tune.csv, tune.png
 // and tune.json into it, each atomically (imageio.WriteAtomic, replacing

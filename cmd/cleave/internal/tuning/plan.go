@@ -77,7 +77,7 @@ func (p *Plan) Run(ctx context.Context) (*Outcome, error) {
 	}
 	defer pipeline.SetCollector(loadOpts.Params.MaxMemory)()
 	if !p.Force {
-		for _, n := range Outputs {
+		for _, n := range Outputs() {
 			if path := filepath.Join(p.Out, n); exists(path) {
 				return nil, fmt.Errorf("output %s already exists (%s)", path, cfg.Voice.Msg("use `force` to overwrite"))
 			}

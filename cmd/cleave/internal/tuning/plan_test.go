@@ -62,7 +62,7 @@ func TestPlanRun(t *testing.T) {
 	if r := o.Tuned(testRequest()); r.SigmaX != "6" || r.MaxNcut != 0.15 {
 		t.Errorf("tuned request %+v", r)
 	}
-	for _, n := range Outputs {
+	for _, n := range Outputs() {
 		if _, err := os.Stat(filepath.Join(out, n)); err != nil {
 			t.Error(err)
 		}

@@ -93,7 +93,7 @@ func (o *Outcome) WriteSummary(w io.Writer, out string) {
 	default:
 		fmt.Fprintf(w, "cross-validated:     not run (%s)\n", v.Msg("needs `folds` >= 2 and at least 2 images"))
 	}
-	fmt.Fprintf(w, "wrote %s (%s)\n", out, strings.Join(Outputs, ", "))
+	fmt.Fprintf(w, "wrote %s (%s)\n", out, strings.Join(Outputs(), ", "))
 	fmt.Fprintf(w, "%s %s IMAGE...\n", v.Msg("next: cleave segment `params`"), filepath.Join(out, "best.json"))
 }
 
