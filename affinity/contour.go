@@ -72,25 +72,14 @@ func RidgeStrengths(plane []float32, w, h int, sigma float64, workers int) (dark
 	return dark, bright
 }
 
-// gaussianJet calls fn for every image row y with the first and second
-// derivatives of G_σ * I along it (ix[x], iy[x], ixx[x], iyy[x], ixy[x]
-// at pixel (x, y); separable sampled Gaussian derivatives, edge pixels
-// replicated). The row slices are reused after fn returns. fn is called
-// from several goroutines, each row once.
-//
-// The separable filter is streamed (the usual line-buffer scheme of
-// separable convolution): each band of jetBandRows rows keeps only the
-// 2r+1 horizontally filtered rows the vertical taps of one output row
-// need, in a ring, so the work memory is O(workers·r·w) instead of three
-// image-sized planes, and a band recomputes the 2r horizontal rows it
-// shares with its neighbours. The taps at ±k of the even kernels g0, g2
-// and of the odd g1 are folded into one product per pair of pixels,
-// g(k)·(I(+k) ± I(-k)) (common practice for symmetric FIR filters),
-// which halves the products; the sums then differ from the unfolded
-// ones in rounding only.
-func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(y int, ix, iy, ixx, iyy, ixy []float64)) {
-	r := int(math.Ceil(4 * sigma))
-	g0, g1, g2 := make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
+// jetKernels returns the radius r = ceil(4σ) and the sampled kernels of
+// gaussianJet, each of 2r+1 taps from -r to r: the Gaussian g0 normalized
+// to sum 1, its first derivative g1 scaled to give slope 1 on a ramp,
+// and its second derivative g2 shifted to sum 0 (a flat image has no
+// curvature).
+func jetKernels(sigma float64) (r int, g0, g1, g2 []float64) {
+	r = int(math.Ceil(4 * sigma))
+	g0, g1, g2 = make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
 	var sum float64
 	for k := -r; k <= r; k++ {
 		x := float64(k)
@@ -116,6 +105,27 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		g2[k] -= m2 * g0[k]
 		g1[k] /= m1
 	}
+	return r, g0, g1, g2
+}
+
+// gaussianJet calls fn for every image row y with the first and second
+// derivatives of G_σ * I along it (ix[x], iy[x], ixx[x], iyy[x], ixy[x]
+// at pixel (x, y); separable sampled Gaussian derivatives, edge pixels
+// replicated). The row slices are reused after fn returns. fn is called
+// from several goroutines, each row once.
+//
+// The separable filter is streamed (the usual line-buffer scheme of
+// separable convolution): each band of jetBandRows rows keeps only the
+// 2r+1 horizontally filtered rows the vertical taps of one output row
+// need, in a ring, so the work memory is O(workers·r·w) instead of three
+// image-sized planes, and a band recomputes the 2r horizontal rows it
+// shares with its neighbours. The taps at ±k of the even kernels g0, g2
+// and of the odd g1 are folded into one product per pair of pixels,
+// g(k)·(I(+k) ± I(-k)) (common practice for symmetric FIR filters),
+// which halves the products; the sums then differ from the unfolded
+// ones in rounding only.
+func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(y int, ix, iy, ixx, iyy, ixy []float64)) {
+	r, g0, g1, g2 := jetKernels(sigma)
 	// horizontal filters image row y with g0, g1 and g2 into out. g0 and
 	// g2 are even and g1 is odd, so the taps at ±k are folded: one
 	// product per pair of pixels, g(k)·(I(x+k) ± I(x-k)).

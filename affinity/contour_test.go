@@ -116,32 +116,10 @@ func TestRegionGraphContourCue(t *testing.T) {
 // jetPlanes is the Gaussian jet of gaussianJet computed the direct way,
 // three whole horizontally filtered planes and then every tap of the
 // vertical filters pixel by pixel, unfolded (the form gaussianJet had
-// before it was streamed), as the reference of TestGaussianJetStreamed.
+// before it was streamed), as the reference of TestGaussianJetStreamed;
+// both take their taps from jetKernels.
 func jetPlanes(plane []float32, w, h int, sigma float64) (out [5][]float64) {
-	r := int(math.Ceil(4 * sigma))
-	g0, g1, g2 := make([]float64, 2*r+1), make([]float64, 2*r+1), make([]float64, 2*r+1)
-	var sum float64
-	for k := -r; k <= r; k++ {
-		x := float64(k)
-		g0[k+r] = math.Exp(-x * x / (2 * sigma * sigma))
-		sum += g0[k+r]
-	}
-	s2 := sigma * sigma
-	for k := -r; k <= r; k++ {
-		x := float64(k)
-		g0[k+r] /= sum
-		g1[k+r] = -x / s2 * g0[k+r]
-		g2[k+r] = (x*x/s2 - 1) / s2 * g0[k+r]
-	}
-	var m2, m1 float64
-	for k := -r; k <= r; k++ {
-		m2 += g2[k+r]
-		m1 += -float64(k) * g1[k+r]
-	}
-	for k := range g2 {
-		g2[k] -= m2 * g0[k]
-		g1[k] /= m1
-	}
+	r, g0, g1, g2 := jetKernels(sigma)
 	var rows [3][]float32
 	for f, kern := range [3][]float64{g0, g1, g2} {
 		rows[f] = make([]float32, w*h)

@@ -76,17 +76,7 @@ func objectsFrom(con []float64, w, h int, reg []int32, n int, cls []int32, bgCla
 		seamSum[k] += con[i] + con[j]
 		seamCnt[k] += 2
 	}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			if x+1 < w {
-				add(i, i+1)
-			}
-			if y+1 < h {
-				add(i, i+w)
-			}
-		}
-	}
+	adjacentPairs(w, h, add)
 	// Union the regions whose shared boundary is not a seam.
 	f := unionfind.New(n)
 	for k, s := range seamSum {
@@ -384,6 +374,24 @@ func dilateSquare(m []bool, w, h, r int) []bool {
 		}
 	}
 	return out
+}
+
+// adjacentPairs calls f(i, j) once for every pair of 4-adjacent pixels
+// of a w x h image, j the right or lower neighbour of i, in raster order
+// of i and the right neighbour first (sums over the pairs are then
+// deterministic).
+func adjacentPairs(w, h int, f func(i, j int)) {
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			if x+1 < w {
+				f(i, i+1)
+			}
+			if y+1 < h {
+				f(i, i+w)
+			}
+		}
+	}
 }
 
 // neighbours4 calls f with each 4-neighbour of pixel i inside the image.
@@ -734,23 +742,15 @@ func joinTouching(con []float64, labels []int32, n, w, h int) ([]int32, int) {
 	}
 	seamSum := map[uint64]float64{}
 	seamCnt := map[uint64]float64{}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			for _, j := range [2]int{i + 1, i + w} {
-				if (j == i+1 && x+1 >= w) || (j == i+w && y+1 >= h) {
-					continue
-				}
-				a, b := labels[i], labels[j]
-				if a == b || a == 0 || b == 0 {
-					continue
-				}
-				k := pairKey(min(a, b), max(a, b))
-				seamSum[k] += con[i] + con[j]
-				seamCnt[k] += 2
-			}
+	adjacentPairs(w, h, func(i, j int) {
+		a, b := labels[i], labels[j]
+		if a == b || a == 0 || b == 0 {
+			return
 		}
-	}
+		k := pairKey(min(a, b), max(a, b))
+		seamSum[k] += con[i] + con[j]
+		seamCnt[k] += 2
+	})
 	if len(seamSum) == 0 {
 		return labels, n
 	}

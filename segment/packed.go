@@ -81,26 +81,21 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 	// Count, per adjacent pair, the border pixel pairs and those on a line.
 	type tally struct{ all, onLine int }
 	pairs := map[uint64]*tally{}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			for _, j := range [2]int{i + 1, i + w} {
-				if (j == i+1 && x+1 >= w) || (j == i+w && y+1 >= h) || reg[i] == reg[j] {
-					continue
-				}
-				k := pairKey(min(reg[i], reg[j]), max(reg[i], reg[j]))
-				c := pairs[k]
-				if c == nil {
-					c = &tally{}
-					pairs[k] = c
-				}
-				c.all++
-				if near[i] || near[j] {
-					c.onLine++
-				}
-			}
+	adjacentPairs(w, h, func(i, j int) {
+		if reg[i] == reg[j] {
+			return
 		}
-	}
+		k := pairKey(min(reg[i], reg[j]), max(reg[i], reg[j]))
+		c := pairs[k]
+		if c == nil {
+			c = &tally{}
+			pairs[k] = c
+		}
+		c.all++
+		if near[i] || near[j] {
+			c.onLine++
+		}
+	})
 	f := unionfind.New(n)
 	keys := make([]uint64, 0, len(pairs))
 	for k := range pairs {
@@ -142,7 +137,8 @@ func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
 	outline := make([]int, n+1)
 	direct := make([]int, n+1)
 	shared := map[uint64]int{}
-	side := func(a, b int32) {
+	adjacentPairs(w, h, func(i, j int) {
+		a, b := labels[i], labels[j]
 		if a == b {
 			return
 		}
@@ -157,18 +153,7 @@ func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
 			direct[b]++
 			shared[pairKey(min(a, b), max(a, b))]++
 		}
-	}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			if x+1 < w {
-				side(labels[i], labels[i+1])
-			}
-			if y+1 < h {
-				side(labels[i], labels[i+w])
-			}
-		}
-	}
+	})
 	// Each object with most of its outline unlined goes to its longest
 	// direct neighbour; ties to the smaller label (deterministic).
 	into := make([]int32, n+1)

@@ -149,9 +149,9 @@ type objectCrop struct {
 // variance 8/9 σ² for white noise, and σ is taken from the median of
 // |r| (the median absolute deviation, 1.4826 for a Gaussian; Hampel
 // 1974). Smooth shading and blurred edges add little to a 3x3 residual.
-func cropNoise(feat []float32, crop []int, cw, ch int) float64 {
+// mean3 is boxMean3 of feat.
+func cropNoise(feat, mean3 []float32, crop []int, cw, ch int) float64 {
 	in := cropMask(crop, cw*ch)
-	sm := boxMean3(feat, cw, ch)
 	var r []float64
 	for _, c := range crop {
 		x, y := c%cw, c/cw
@@ -165,7 +165,7 @@ func cropNoise(feat []float32, crop []int, cw, ch int) float64 {
 			}
 		}
 		if inside {
-			r = append(r, math.Abs(float64(feat[c]-sm[c])))
+			r = append(r, math.Abs(float64(feat[c]-mean3[c])))
 		}
 	}
 	if len(r) == 0 {
@@ -722,8 +722,9 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	for k := range px {
 		feat[nodes[k]] = float32(contrast[k] / scale)
 	}
-	smooth := boxMean3(boxMean3(feat, cw, ch), cw, ch)
-	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, nodes, cw, ch)}
+	mean3 := boxMean3(feat, cw, ch)
+	smooth := boxMean3(mean3, cw, ch)
+	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch)}
 	mask := cropMask(nodes, cw*ch)
 	dist := distanceInside(mask, cw, ch)
 	// The outline's neck, or the half-maximum core's where a halo hides

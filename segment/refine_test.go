@@ -474,7 +474,7 @@ func TestCropNoiseAndSeam(t *testing.T) {
 				feat[c] = float32(1 + sigma*rng.NormFloat64())
 			}
 		}
-		got := cropNoise(feat, nodes, cw, ch)
+		got := cropNoise(feat, boxMean3(feat, cw, ch), nodes, cw, ch)
 		if math.Abs(got-sigma) > 0.1*sigma {
 			t.Errorf("noise %.2f: estimated %.4f, want within 10%%", sigma, got)
 		}
@@ -512,7 +512,7 @@ func TestCropNoiseAndSeam(t *testing.T) {
 		for _, c := range nodes {
 			feat[c] = float32(1 + sigma*rng.NormFloat64())
 		}
-		o := &objectCrop{feat: feat, cw: bw, ch: bh, nodes: nodes, noise: cropNoise(feat, nodes, bw, bh)}
+		o := &objectCrop{feat: feat, cw: bw, ch: bh, nodes: nodes, noise: cropNoise(feat, boxMean3(feat, bw, bh), nodes, bw, bh)}
 		if o.seam(part, inA) {
 			seams++
 		}
