@@ -3,6 +3,7 @@ package segment
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -400,5 +401,80 @@ func TestWithoutCrumbs(t *testing.T) {
 	}
 	if out[0] == 0 || out[14] == 0 || out[2*w+11] == 0 || out[4*w] == 0 {
 		t.Errorf("a piece was dropped: %d %d %d %d", out[0], out[14], out[2*w+11], out[4*w])
+	}
+}
+
+// TestHalfMaxLevel checks the fixed point of halfMaxLevel on two profiles
+// with closed forms.
+//   - A flat disc of height P blurred by a Gaussian of σ = 1.5 px, seen
+//     through a region 4 px wider than the disc: the outline of a blurred
+//     step lies at its half maximum (common practice). For a disc of
+//     radius 12 the level should be near P/2; for radius 6, where half the
+//     disc lies within 1.5 σ of its edge, the level may sit lower but the
+//     outline must stay within 0.5 px of the true edge: the level at
+//     least Φ(-0.5/σ)·P, the blurred step's value 0.5 px outside it. The
+//     region's plain median, which halfMaxLevel replaced, misses that.
+//   - A Gaussian blob exp(-r²/2s²): the area above v grows as ln(P/v), so
+//     the values above L have median sqrt(P·L) and the fixed point
+//     L = sqrt(P·L)/2 is L = P/4 (derived here; no published source).
+func TestHalfMaxLevel(t *testing.T) {
+	const sigma, p = 1.5, 2.0
+	// blurredDisc returns the sorted values of a disc of the radius blurred
+	// by σ over the region of radius+4: each value is the Gaussian-weighted
+	// fraction of the disc around the pixel, summed on a 0.25 px grid.
+	blurredDisc := func(radius float64) []float32 {
+		n := int(2*radius) + 13
+		c := float64(n / 2)
+		var vals []float32
+		for y := 0; y < n; y++ {
+			for x := 0; x < n; x++ {
+				if math.Hypot(float64(x)-c, float64(y)-c) > radius+4 {
+					continue
+				}
+				var sum, wsum float64
+				for v := -4 * sigma; v <= 4*sigma; v += 0.25 {
+					for u := -4 * sigma; u <= 4*sigma; u += 0.25 {
+						g := math.Exp(-(u*u + v*v) / (2 * sigma * sigma))
+						wsum += g
+						if math.Hypot(float64(x)+u-c, float64(y)+v-c) <= radius {
+							sum += g
+						}
+					}
+				}
+				vals = append(vals, float32(p*sum/wsum))
+			}
+		}
+		slices.Sort(vals)
+		return vals
+	}
+	halfPxOut := p * 0.5 * math.Erfc(0.5/sigma/math.Sqrt2) // Φ(-0.5/σ)·P
+	for _, tc := range []struct {
+		radius, lo, hi float64
+	}{
+		{12, 0.45 * p, 0.55 * p},
+		{6, halfPxOut, 0.55 * p},
+	} {
+		vals := blurredDisc(tc.radius)
+		if got := float64(halfMaxLevel(vals)); got < tc.lo || got > tc.hi {
+			t.Errorf("blurred disc of radius %g: level %.3f, want %.3f-%.3f", tc.radius, got, tc.lo, tc.hi)
+		}
+		if plain := float64(tightenLevel * vals[(len(vals)-1)/2]); plain >= tc.lo {
+			t.Errorf("blurred disc of radius %g: half the region's median is %.3f; this test expects it below %.3f (the bias halfMaxLevel removes)", tc.radius, plain, tc.lo)
+		}
+	}
+	var blob []float32
+	for y := -12; y <= 12; y++ {
+		for x := -12; x <= 12; x++ {
+			if r := math.Hypot(float64(x), float64(y)); r <= 12 {
+				blob = append(blob, float32(p*math.Exp(-r*r/(2*4*4))))
+			}
+		}
+	}
+	slices.Sort(blob)
+	if got := halfMaxLevel(blob); math.Abs(float64(got)-p/4) > 0.05*p {
+		t.Errorf("Gaussian blob: level %.3f, want P/4 = %.3f within 5%% of P", got, p/4)
+	}
+	if got := halfMaxLevel(nil); got != 0 {
+		t.Errorf("no values: level %v, want 0", got)
 	}
 }
