@@ -746,15 +746,18 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		shapeWeights(sub, nodes, dist)
 		cutLimit = math.Max(limit, refineNeckNcut)
 	}
-	// A split is made along a seam (a dip in contrast) within the Ncut
-	// limit, or, in a shape with a neck, through the neck.
+	// A split is made within the Ncut limit along a seam (a dip in
+	// contrast) or, with shape cues on, between concavities of the
+	// outline (concaveCut: saturated clumps blurred together have
+	// neither a seam nor a neck, but their outline still dents where
+	// two objects meet); or, in a shape with a neck, through the neck.
 	accept := func(part []int, inA []bool, ncut float64) bool {
-		if ncut <= limit && obj.seam(part, inA) {
+		if ncut <= limit && necks && (obj.seam(part, inA) || concaveCut(nodes, cw, ch, part, inA)) {
+			return true
+		}
+		if ncut <= limit && !necks && obj.seam(part, inA) {
 			// Without necks, a seam through a neck is the blur of
 			// the narrow part, not a boundary.
-			if necks {
-				return true
-			}
 			rel, abs := cutNeck(nodes, cw, ch, part, inA)
 			return rel < refineNeck || abs <= neckNoise
 		}

@@ -521,3 +521,56 @@ func TestCropNoiseAndSeam(t *testing.T) {
 		t.Errorf("a cut across a uniform bar taken for a seam in %d of %d noise draws, want at most %d", seams, draws, draws/20)
 	}
 }
+
+// Three discs of radius 10 whose centres stand on an equilateral
+// triangle of side 13, of contrasts 1, 0.75 and 0.55 (touching nuclei
+// stained unequally, saturated so no seam dims where they meet): the
+// distance map of the union peaks at the clump's centre, so its outline
+// has no neck, and the cut between the discs runs along no dip in
+// contrast, so only the outline's dents where two discs meet,
+// R - sqrt(R² - (13/2)²) = 2.4 px deep (plane geometry), tell that the
+// clump is several objects. With shape cues on, a cut between those
+// dents is accepted (concaveCut) and the clump comes apart; with them
+// off it stays whole.
+func TestRefineSplitsConcaveClump(t *testing.T) {
+	const w, h, R, side = 60, 60, 10.0, 13.0
+	contrast := [3]float64{1, 0.75, 0.55}
+	var centres [3][2]float64
+	for k := range centres {
+		a := 2*math.Pi*float64(k)/3 + 0.2
+		centres[k] = [2]float64{30.3 + side/math.Sqrt(3)*math.Cos(a), 29.6 + side/math.Sqrt(3)*math.Sin(a)}
+	}
+	rng := rand.New(rand.NewPCG(5, 8))
+	con := make([]float64, w*h)
+	labels := make([]int32, w*h)
+	mask := make([]bool, w*h)
+	for c := range con {
+		x, y := float64(c%w), float64(c/w)
+		// Where discs overlap, the nearest centre's contrast.
+		best := -1
+		for k, p := range centres {
+			if d := math.Hypot(x-p[0], y-p[1]); d <= R && (best < 0 || d < math.Hypot(x-centres[best][0], y-centres[best][1])) {
+				best = k
+			}
+		}
+		if best >= 0 {
+			con[c], labels[c], mask[c] = contrast[best]+0.02*rng.NormFloat64(), 1, true
+		}
+	}
+	if d := neckDepth(distanceInside(mask, w, h), w, h); d >= refineNeck {
+		t.Fatalf("the clump's outline has a neck %.3f deep; the test needs none (below %.2f)", d, refineNeck)
+	}
+	for _, tc := range []struct {
+		necks   bool
+		atLeast int
+		atMost  int
+	}{{true, 2, 3}, {false, 1, 1}} {
+		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, tc.necks, 1, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref.n < tc.atLeast || ref.n > tc.atMost {
+			t.Errorf("necks %v: %d objects, want %d-%d", tc.necks, ref.n, tc.atLeast, tc.atMost)
+		}
+	}
+}
