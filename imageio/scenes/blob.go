@@ -242,17 +242,3 @@ func contrastFor(k, photons, illum, bg, read float64) float64 {
 	sd := math.Sqrt(photons*illum*max(bg, 0) + read*read)
 	return k * sd / (photons * illum)
 }
-
-// sampleBilinear reads f (w x h) at the real position (x, y) in pixel
-// units (pixel centres at integer + 0.5), clamping to the edges.
-func sampleBilinear(f []float64, w, h int, x, y float64) float64 {
-	x, y = x-0.5, y-0.5
-	x = min(max(x, 0), float64(w-1))
-	y = min(max(y, 0), float64(h-1))
-	x0, y0 := int(x), int(y)
-	x1, y1 := min(x0+1, w-1), min(y0+1, h-1)
-	fx, fy := x-float64(x0), y-float64(y0)
-	a := f[y0*w+x0]*(1-fx) + f[y0*w+x1]*fx
-	b := f[y1*w+x0]*(1-fx) + f[y1*w+x1]*fx
-	return a*(1-fy) + b*fy
-}

@@ -128,7 +128,7 @@ func newCrack(rng *rand.Rand, fw, fh, scale float64) crack {
 	return c
 }
 
-// anisoNoise returns unit-variance noise correlated over sigmaAlong pixels
+// anisoNoise returns standardized noise (see standardize) correlated over sigmaAlong pixels
 // along the direction theta and sigmaAcross across it: white noise on a
 // grid aligned with theta, blurred separably there and sampled bilinearly
 // at the rotated pixel centres.
@@ -146,57 +146,15 @@ func anisoNoise(rng *rand.Rand, w, h int, theta, sigmaAlong, sigmaAcross float64
 	cx, cy := float64(w)/2, float64(h)/2
 	half := float64(d) / 2
 	out := make([]float64, w*h)
-	var mean, sq float64
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			dx, dy := float64(x)+0.5-cx, float64(y)+0.5-cy
 			u := c*dx + s*dy + half
 			v := -s*dx + c*dy + half
-			f := sampleBilinear(g, d, d, u, v)
-			out[y*w+x] = f
-			mean += f
+			out[y*w+x] = sampleBilinear(g, d, d, u, v)
 		}
 	}
-	mean /= float64(w * h)
-	for _, f := range out {
-		sq += (f - mean) * (f - mean)
-	}
-	sd := math.Sqrt(sq / float64(w*h))
-	if sd == 0 {
-		sd = 1
-	}
-	for i := range out {
-		out[i] = (out[i] - mean) / sd
-	}
-	return out
-}
-
-// blurAxes blurs f by a Gaussian of σx along rows and σy along columns.
-func blurAxes(f []float64, w, h int, sx, sy float64) []float64 {
-	tmp := make([]float64, len(f))
-	kx := gaussKernel(sx)
-	rx := len(kx) / 2
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			var s float64
-			for i, kv := range kx {
-				s += kv * f[y*w+min(max(x+i-rx, 0), w-1)]
-			}
-			tmp[y*w+x] = s
-		}
-	}
-	ky := gaussKernel(sy)
-	ry := len(ky) / 2
-	out := make([]float64, len(f))
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			var s float64
-			for i, kv := range ky {
-				s += kv * tmp[min(max(y+i-ry, 0), h-1)*w+x]
-			}
-			out[y*w+x] = s
-		}
-	}
+	standardize(out)
 	return out
 }
 
