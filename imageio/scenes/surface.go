@@ -128,10 +128,10 @@ func newCrack(rng *rand.Rand, fw, fh, scale float64) crack {
 	return c
 }
 
-// anisoNoise returns standardized noise (see standardize) correlated over sigmaAlong pixels
-// along the direction theta and sigmaAcross across it: white noise on a
-// grid aligned with theta, blurred separably there and sampled bilinearly
-// at the rotated pixel centres.
+// anisoNoise returns standardized noise (see standardize) correlated over
+// sigmaAlong pixels along the direction theta and sigmaAcross across it:
+// white noise on a grid aligned with theta, blurred separably there
+// (blurAxes) and sampled bilinearly at the rotated pixel centres.
 func anisoNoise(rng *rand.Rand, w, h int, theta, sigmaAlong, sigmaAcross float64) []float64 {
 	// The grid covers the image diagonal plus the kernel radius 3σ on
 	// each side, so that no pixel sees the grid's replicated edge.
