@@ -43,63 +43,34 @@ type ClustersOptions struct {
 }
 
 func (o ClustersOptions) withDefaults() ClustersOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.RadiusMin == 0 {
-		o.RadiusMin = 5
-	}
-	if o.RadiusMax == 0 {
-		o.RadiusMax = max(25, o.RadiusMin)
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.RadiusMin = orDefault(o.RadiusMin, 5)
+	o.RadiusMax = orDefault(o.RadiusMax, max(25, o.RadiusMin))
 	o.ClusterFraction = defaultFrac(o.ClusterFraction, 0.6)
 	o.SeamlessFraction = defaultFrac(o.SeamlessFraction, 0.5)
 	o.DimFraction = defaultFrac(o.DimFraction, 0.12)
 	o.DefocusFraction = defaultFrac(o.DefocusFraction, 0.15)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	if o.Photons == 0 {
-		o.Photons = 500
-	}
+	o.Photons = orDefault(o.Photons, 500)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o ClustersOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("clusters", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	switch {
-	case o.Count < 0:
-		return fmt.Errorf("scenes: clusters: Count %d is negative", o.Count)
-	case o.RadiusMin < 3 || o.RadiusMax < o.RadiusMin:
-		return fmt.Errorf("scenes: clusters: RadiusMin %g and RadiusMax %g must satisfy 3 <= RadiusMin <= RadiusMax", o.RadiusMin, o.RadiusMax)
-	case 4*o.RadiusMax+8 > float64(min(o.Width, o.Height)):
-		return fmt.Errorf("scenes: clusters: RadiusMax %g too large for a %dx%d image", o.RadiusMax, o.Width, o.Height)
-	case o.ClusterFraction > 1:
-		return fmt.Errorf("scenes: clusters: ClusterFraction %g exceeds 1", o.ClusterFraction)
-	case o.SeamlessFraction > 1:
-		return fmt.Errorf("scenes: clusters: SeamlessFraction %g exceeds 1", o.SeamlessFraction)
-	case o.DimFraction > 1:
-		return fmt.Errorf("scenes: clusters: DimFraction %g exceeds 1", o.DimFraction)
-	case o.DefocusFraction > 1:
-		return fmt.Errorf("scenes: clusters: DefocusFraction %g exceeds 1", o.DefocusFraction)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: clusters: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: clusters: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
+	const kind = "clusters"
 	r := o.RadiusMin
-	if float64(o.Count)*2*math.Pi*r*r > 0.5*float64(o.Width*o.Height) {
-		return fmt.Errorf("scenes: clusters: Count %d too large for a %dx%d image with RadiusMin %g", o.Count, o.Width, o.Height, o.RadiusMin)
-	}
-	return nil
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkNuclei(kind, o.Count, o.RadiusMin, o.RadiusMax, 3, o.Width, o.Height),
+		checkFraction(kind, "ClusterFraction", o.ClusterFraction),
+		checkFraction(kind, "SeamlessFraction", o.SeamlessFraction),
+		checkFraction(kind, "DimFraction", o.DimFraction),
+		checkFraction(kind, "DefocusFraction", o.DefocusFraction),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+		invalidIf(float64(o.Count)*2*math.Pi*r*r > 0.5*float64(o.Width*o.Height), kind,
+			"Count %d too large for a %dx%d image with RadiusMin %g", o.Count, o.Width, o.Height, o.RadiusMin),
+	)
 }
 
 // Clusters renders a crowded fluorescence field of nuclei, many of them in

@@ -27,41 +27,23 @@ type GrainsOptions struct {
 }
 
 func (o GrainsOptions) withDefaults() GrainsOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	if o.Photons == 0 {
-		o.Photons = 1500
-	}
+	o.Photons = orDefault(o.Photons, 1500)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o GrainsOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("grains", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	switch {
-	case o.Count < 0 || (o.Count > 0 && o.Count < 2):
-		return fmt.Errorf("scenes: grains: Count %d below 2", o.Count)
-	case o.Count > o.Width*o.Height/100:
-		return fmt.Errorf("scenes: grains: Count %d too large for a %dx%d image (at most one grain per 100 pixels)", o.Count, o.Width, o.Height)
-	case o.BoundaryWidth < 0 || o.BoundaryWidth > 8:
-		return fmt.Errorf("scenes: grains: BoundaryWidth %g outside (0, 8]", o.BoundaryWidth)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: grains: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: grains: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
-	return nil
+	const kind = "grains"
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		invalidIf(o.Count < 0 || (o.Count > 0 && o.Count < 2), kind, "Count %d below 2", o.Count),
+		invalidIf(o.Count > o.Width*o.Height/100, kind, "Count %d too large for a %dx%d image (at most one grain per 100 pixels)", o.Count, o.Width, o.Height),
+		invalidIf(o.BoundaryWidth < 0 || o.BoundaryWidth > 8, kind, "BoundaryWidth %g outside (0, 8]", o.BoundaryWidth),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+	)
 }
 
 // Grains renders a densely packed layer of grains (a polished polycrystal,

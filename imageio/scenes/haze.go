@@ -34,59 +34,30 @@ type HazeOptions struct {
 }
 
 func (o HazeOptions) withDefaults() HazeOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.RadiusMin == 0 {
-		o.RadiusMin = 6
-	}
-	if o.RadiusMax == 0 {
-		o.RadiusMax = max(16, o.RadiusMin)
-	}
-	if o.Glow == 0 {
-		o.Glow = 1
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.RadiusMin = orDefault(o.RadiusMin, 6)
+	o.RadiusMax = orDefault(o.RadiusMax, max(16, o.RadiusMin))
+	o.Glow = orDefault(o.Glow, 1)
 	o.FaintFraction = defaultFrac(o.FaintFraction, 0.4)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	if o.Photons == 0 {
-		o.Photons = 300
-	}
+	o.Photons = orDefault(o.Photons, 300)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o HazeOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("haze", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	switch {
-	case o.Count < 0:
-		return fmt.Errorf("scenes: haze: Count %d is negative", o.Count)
-	case o.RadiusMin < 3 || o.RadiusMax < o.RadiusMin:
-		return fmt.Errorf("scenes: haze: RadiusMin %g and RadiusMax %g must satisfy 3 <= RadiusMin <= RadiusMax", o.RadiusMin, o.RadiusMax)
-	case 4*o.RadiusMax+8 > float64(min(o.Width, o.Height)):
-		return fmt.Errorf("scenes: haze: RadiusMax %g too large for a %dx%d image", o.RadiusMax, o.Width, o.Height)
-	case o.Glow < 0 || o.Glow > 100:
-		return fmt.Errorf("scenes: haze: Glow %g outside (0, 100]", o.Glow)
-	case o.FaintFraction > 1:
-		return fmt.Errorf("scenes: haze: FaintFraction %g exceeds 1", o.FaintFraction)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: haze: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: haze: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
+	const kind = "haze"
 	r := (o.RadiusMin + o.RadiusMax) / 2
-	if float64(o.Count)*4*math.Pi*r*r > 0.4*float64(o.Width*o.Height) {
-		return fmt.Errorf("scenes: haze: Count %d too large for a sparse %dx%d field", o.Count, o.Width, o.Height)
-	}
-	return nil
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkNuclei(kind, o.Count, o.RadiusMin, o.RadiusMax, 3, o.Width, o.Height),
+		invalidIf(o.Glow < 0 || o.Glow > 100, kind, "Glow %g outside (0, 100]", o.Glow),
+		checkFraction(kind, "FaintFraction", o.FaintFraction),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+		invalidIf(float64(o.Count)*4*math.Pi*r*r > 0.4*float64(o.Width*o.Height), kind,
+			"Count %d too large for a sparse %dx%d field", o.Count, o.Width, o.Height),
+	)
 }
 
 // Haze renders sparse, dim nuclei in a thick specimen: the light of

@@ -40,81 +40,33 @@ type NucleiOptions struct {
 }
 
 func (o NucleiOptions) withDefaults() NucleiOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.Count == 0 {
-		o.Count = max(1, int(math.Round(34*float64(o.Width*o.Height)/(512*512))))
-	}
-	if o.RadiusMin == 0 {
-		o.RadiusMin = 8
-	}
-	if o.RadiusMax == 0 {
-		o.RadiusMax = max(20, o.RadiusMin)
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.Count = orDefault(o.Count, max(1, int(math.Round(34*float64(o.Width*o.Height)/(512*512)))))
+	o.RadiusMin = orDefault(o.RadiusMin, 8)
+	o.RadiusMax = orDefault(o.RadiusMax, max(20, o.RadiusMin))
 	o.PairFraction = defaultFrac(o.PairFraction, 0.5)
 	o.DimFraction = defaultFrac(o.DimFraction, 0.1)
 	o.Haze = defaultFrac(o.Haze, 0.08)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
-	if o.CornerLevel == 0 {
-		o.CornerLevel = 0.4
-	}
-	if o.Photons == 0 {
-		o.Photons = 800
-	}
+	o.CornerLevel = orDefault(o.CornerLevel, 0.4)
+	o.Photons = orDefault(o.Photons, 800)
 	return o
-}
-
-// defaultFrac maps 0 to def and a negative value to 0.
-func defaultFrac(v, def float64) float64 {
-	switch {
-	case v == 0:
-		return def
-	case v < 0:
-		return 0
-	}
-	return v
 }
 
 // Validate reports the first invalid option, naming it.
 func (o NucleiOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("nuclei", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	switch {
-	case o.Count < 0:
-		return fmt.Errorf("scenes: nuclei: Count %d is negative", o.Count)
-	case o.RadiusMin < 2 || o.RadiusMax < o.RadiusMin:
-		return fmt.Errorf("scenes: nuclei: RadiusMin %g and RadiusMax %g must satisfy 2 <= RadiusMin <= RadiusMax", o.RadiusMin, o.RadiusMax)
-	case 4*o.RadiusMax+8 > float64(min(o.Width, o.Height)):
-		return fmt.Errorf("scenes: nuclei: RadiusMax %g too large for a %dx%d image", o.RadiusMax, o.Width, o.Height)
-	case o.PairFraction > 1:
-		return fmt.Errorf("scenes: nuclei: PairFraction %g exceeds 1", o.PairFraction)
-	case o.DimFraction > 1:
-		return fmt.Errorf("scenes: nuclei: DimFraction %g exceeds 1", o.DimFraction)
-	case o.CornerLevel < 0 || o.CornerLevel > 1:
-		return fmt.Errorf("scenes: nuclei: CornerLevel %g outside (0, 1]", o.CornerLevel)
-	case o.Haze > 1:
-		return fmt.Errorf("scenes: nuclei: Haze %g exceeds 1", o.Haze)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: nuclei: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: nuclei: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
-	// Mean nucleus area π r² with r the mid radius, doubled for spacing,
-	// must fit comfortably in the field.
-	r := (o.RadiusMin + o.RadiusMax) / 2
-	if float64(o.Count)*2*math.Pi*r*r > 0.5*float64(o.Width*o.Height) {
-		return fmt.Errorf("scenes: nuclei: Count %d too large for a %dx%d image with radii %g-%g", o.Count, o.Width, o.Height, o.RadiusMin, o.RadiusMax)
-	}
-	return nil
+	const kind = "nuclei"
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkNuclei(kind, o.Count, o.RadiusMin, o.RadiusMax, 2, o.Width, o.Height),
+		checkFraction(kind, "PairFraction", o.PairFraction),
+		checkFraction(kind, "DimFraction", o.DimFraction),
+		invalidIf(o.CornerLevel < 0 || o.CornerLevel > 1, kind, "CornerLevel %g outside (0, 1]", o.CornerLevel),
+		checkFraction(kind, "Haze", o.Haze),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+		checkCrowding(kind, o.Count, o.RadiusMin, o.RadiusMax, o.Width, o.Height),
+	)
 }
 
 // ellipse is a nucleus outline: centre (cx, cy), semi-axes a, b and the

@@ -33,50 +33,27 @@ type PlateOptions struct {
 }
 
 func (o PlateOptions) withDefaults() PlateOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.Gradient == 0 {
-		o.Gradient = 2.5
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.Gradient = orDefault(o.Gradient, 2.5)
 	o.Grain = defaultFrac(o.Grain, 0.08)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
-	if o.Photons == 0 {
-		o.Photons = 2000
-	}
+	o.Photons = orDefault(o.Photons, 2000)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o PlateOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("plate", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	area := float64(o.Width*o.Height) / (512 * 512)
-	switch {
-	case o.Width < 96 || o.Height < 96:
-		return fmt.Errorf("scenes: plate: size %dx%d below the 96x96 a scratch needs", o.Width, o.Height)
-	case float64(o.Pits) > 60*area:
-		return fmt.Errorf("scenes: plate: Pits %d too many for a %dx%d image", o.Pits, o.Width, o.Height)
-	case o.Scratches > 8:
-		return fmt.Errorf("scenes: plate: Scratches %d exceeds 8", o.Scratches)
-	case o.Gradient < 1 || o.Gradient > 100:
-		return fmt.Errorf("scenes: plate: Gradient %g outside [1, 100]", o.Gradient)
-	case o.Grain > 0.5:
-		return fmt.Errorf("scenes: plate: Grain %g exceeds 0.5", o.Grain)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: plate: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: plate: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
-	return nil
+	const kind = "plate"
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkLineRoom(kind, "scratch", o.Width, o.Height),
+		checkDefectCount(kind, "Pits", o.Pits, o.Width, o.Height),
+		invalidIf(o.Scratches > 8, kind, "Scratches %d exceeds 8", o.Scratches),
+		invalidIf(o.Gradient < 1 || o.Gradient > 100, kind, "Gradient %g outside [1, 100]", o.Gradient),
+		invalidIf(o.Grain > 0.5, kind, "Grain %g exceeds 0.5", o.Grain),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+	)
 }
 
 // pit is a star-shaped blob: radius r(φ) = r0(1 + Σ_k amp_k cos(kφ + ph_k))

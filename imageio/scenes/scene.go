@@ -52,25 +52,6 @@ func (s *Scene) TruthImage() *image.Gray16 {
 	return g
 }
 
-// Size limits shared by the generators' option checks.
-const (
-	minSide = 32
-	maxSide = 8192
-)
-
-func checkGeometry(kind string, w, h, depth int) error {
-	if w < minSide || w > maxSide {
-		return fmt.Errorf("scenes: %s: Width %d out of range [%d, %d]", kind, w, minSide, maxSide)
-	}
-	if h < minSide || h > maxSide {
-		return fmt.Errorf("scenes: %s: Height %d out of range [%d, %d]", kind, h, minSide, maxSide)
-	}
-	if depth != 8 && depth != 16 {
-		return fmt.Errorf("scenes: %s: BitDepth %d is not 8 or 16", kind, depth)
-	}
-	return nil
-}
-
 // newRand returns the scene generator's random source. The second PCG word
 // is a fixed constant so that a scene depends on Seed alone.
 func newRand(seed uint64, stream uint64) *rand.Rand {

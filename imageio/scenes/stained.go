@@ -33,59 +33,28 @@ type StainedOptions struct {
 }
 
 func (o StainedOptions) withDefaults() StainedOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.RadiusMin == 0 {
-		o.RadiusMin = 6
-	}
-	if o.RadiusMax == 0 {
-		o.RadiusMax = max(18, o.RadiusMin)
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.RadiusMin = orDefault(o.RadiusMin, 6)
+	o.RadiusMax = orDefault(o.RadiusMax, max(18, o.RadiusMin))
 	o.ClusterFraction = defaultFrac(o.ClusterFraction, 0.5)
-	if o.Unevenness == 0 {
-		o.Unevenness = 1.7
-	}
+	o.Unevenness = orDefault(o.Unevenness, 1.7)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 6)
-	if o.Photons == 0 {
-		o.Photons = 6000
-	}
+	o.Photons = orDefault(o.Photons, 6000)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o StainedOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("stained", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	switch {
-	case o.Count < 0:
-		return fmt.Errorf("scenes: stained: Count %d is negative", o.Count)
-	case o.RadiusMin < 3 || o.RadiusMax < o.RadiusMin:
-		return fmt.Errorf("scenes: stained: RadiusMin %g and RadiusMax %g must satisfy 3 <= RadiusMin <= RadiusMax", o.RadiusMin, o.RadiusMax)
-	case 4*o.RadiusMax+8 > float64(min(o.Width, o.Height)):
-		return fmt.Errorf("scenes: stained: RadiusMax %g too large for a %dx%d image", o.RadiusMax, o.Width, o.Height)
-	case o.ClusterFraction > 1:
-		return fmt.Errorf("scenes: stained: ClusterFraction %g exceeds 1", o.ClusterFraction)
-	case o.Unevenness < 1 || o.Unevenness > 20:
-		return fmt.Errorf("scenes: stained: Unevenness %g outside [1, 20]", o.Unevenness)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: stained: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: stained: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
-	r := (o.RadiusMin + o.RadiusMax) / 2
-	if float64(o.Count)*2*math.Pi*r*r > 0.5*float64(o.Width*o.Height) {
-		return fmt.Errorf("scenes: stained: Count %d too large for a %dx%d image with radii %g-%g", o.Count, o.Width, o.Height, o.RadiusMin, o.RadiusMax)
-	}
-	return nil
+	const kind = "stained"
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkNuclei(kind, o.Count, o.RadiusMin, o.RadiusMax, 3, o.Width, o.Height),
+		checkFraction(kind, "ClusterFraction", o.ClusterFraction),
+		invalidIf(o.Unevenness < 1 || o.Unevenness > 20, kind, "Unevenness %g outside [1, 20]", o.Unevenness),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+		checkCrowding(kind, o.Count, o.RadiusMin, o.RadiusMax, o.Width, o.Height),
+	)
 }
 
 // Stained renders a brightfield field of nuclei stained with a blue-black

@@ -37,51 +37,27 @@ type SurfaceOptions struct {
 }
 
 func (o SurfaceOptions) withDefaults() SurfaceOptions {
-	if o.Width == 0 {
-		o.Width = 512
-	}
-	if o.Height == 0 {
-		o.Height = 512
-	}
-	if o.BitDepth == 0 {
-		o.BitDepth = 16
-	}
-	if o.Cracks == 0 {
-		o.Cracks = 1
-	}
+	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
+	o.Cracks = orDefault(o.Cracks, 1)
 	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	if o.Photons == 0 {
-		o.Photons = 3000
-	}
+	o.Photons = orDefault(o.Photons, 3000)
 	return o
 }
 
 // Validate reports the first invalid option, naming it.
 func (o SurfaceOptions) Validate() error {
 	o = o.withDefaults()
-	if err := checkGeometry("surface", o.Width, o.Height, o.BitDepth); err != nil {
-		return err
-	}
-	area := float64(o.Width*o.Height) / (512 * 512)
-	switch {
-	case o.Width < 96 || o.Height < 96:
-		return fmt.Errorf("scenes: surface: size %dx%d below the 96x96 a crack needs", o.Width, o.Height)
-	case float64(o.Pits) > 60*area:
-		return fmt.Errorf("scenes: surface: Pits %d too many for a %dx%d image", o.Pits, o.Width, o.Height)
-	case float64(o.Inclusions) > 60*area:
-		return fmt.Errorf("scenes: surface: Inclusions %d too many for a %dx%d image", o.Inclusions, o.Width, o.Height)
-	case o.Cracks > 4:
-		return fmt.Errorf("scenes: surface: Cracks %d exceeds 4", o.Cracks)
-	case o.Grain < 0 || o.Grain > 0.4:
-		return fmt.Errorf("scenes: surface: Grain %g outside [0, 0.4]", o.Grain)
-	case o.Gradient != 0 && (o.Gradient < 1 || o.Gradient > 100):
-		return fmt.Errorf("scenes: surface: Gradient %g outside [1, 100]", o.Gradient)
-	case o.Photons < 10 || o.Photons > 1e6:
-		return fmt.Errorf("scenes: surface: Photons %g outside [10, 1e6]", o.Photons)
-	case o.ReadNoise > 1000:
-		return fmt.Errorf("scenes: surface: ReadNoise %g exceeds 1000", o.ReadNoise)
-	}
-	return nil
+	const kind = "surface"
+	return firstError(
+		checkGeometry(kind, o.Width, o.Height, o.BitDepth),
+		checkLineRoom(kind, "crack", o.Width, o.Height),
+		checkDefectCount(kind, "Pits", o.Pits, o.Width, o.Height),
+		checkDefectCount(kind, "Inclusions", o.Inclusions, o.Width, o.Height),
+		invalidIf(o.Cracks > 4, kind, "Cracks %d exceeds 4", o.Cracks),
+		invalidIf(o.Grain < 0 || o.Grain > 0.4, kind, "Grain %g outside [0, 0.4]", o.Grain),
+		invalidIf(o.Gradient != 0 && (o.Gradient < 1 || o.Gradient > 100), kind, "Gradient %g outside [1, 100]", o.Gradient),
+		checkCamera(kind, o.Photons, o.ReadNoise),
+	)
 }
 
 // crack is a thin curvy line: the points within width(s)/2 of a polyline
