@@ -213,32 +213,3 @@ func clusterSizes(rng *rand.Rand, n int, fraction float64) []int {
 func logNormalRadius(rng *rand.Rand, r, s, lo, hi float64) float64 {
 	return min(hi, max(lo, r*math.Exp(s*rng.NormFloat64())))
 }
-
-// vignette returns the illumination 1 - (1-corner)(d/d_max)² around an
-// optical axis drawn within the central fifth of the field, reaching
-// corner at the farthest corner (a common approximation of vignetting).
-func vignette(rng *rand.Rand, w, h int, corner float64) []float64 {
-	ox := float64(w) * uniform(rng, 0.4, 0.6)
-	oy := float64(h) * uniform(rng, 0.4, 0.6)
-	dmax := 0.0
-	for _, c := range [][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
-		dmax = max(dmax, math.Hypot(c[0]-ox, c[1]-oy))
-	}
-	v := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			d := math.Hypot(float64(x)+0.5-ox, float64(y)+0.5-oy) / dmax
-			v[y*w+x] = 1 - (1-corner)*d*d
-		}
-	}
-	return v
-}
-
-// contrastFor returns the signal s (in units of the brightness scale,
-// electrons = photons·illum·s) whose expected electron count exceeds the
-// local background by k times the background's noise standard deviation
-// sqrt(photons·illum·bg + read²) (shot plus read noise).
-func contrastFor(k, photons, illum, bg, read float64) float64 {
-	sd := math.Sqrt(photons*illum*max(bg, 0) + read*read)
-	return k * sd / (photons * illum)
-}

@@ -112,10 +112,7 @@ func (o ClustersOptions) Validate() error {
 // bounded number of tries is left out. Clusters panics if o.Validate()
 // fails.
 func Clusters(o ClustersOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x636c7573746572) // "cluster"
@@ -216,15 +213,7 @@ func Clusters(o ClustersOptions) *Scene {
 	for i := range electrons {
 		electrons[i] = o.Photons * illum[i] * (sharp[i] + soft[i] + bg[i])
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.6*maxCode/o.Photons, o.ReadNoise)
-	return &Scene{
-		Name:     fmt.Sprintf("clusters-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    pl.truth,
-		Objects:  int(pl.next - 1),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.6, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("clusters-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: pl.truth, Objects: int(pl.next - 1)}
 }

@@ -77,10 +77,7 @@ func (o GrainsOptions) Validate() error {
 // Truth labels are 1..Objects in seed order among the grains kept. Grains
 // panics if o.Validate() fails.
 func Grains(o GrainsOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x677261696e) // "grain"
@@ -202,26 +199,13 @@ func Grains(o GrainsOptions) *Scene {
 	ang := uniform(rng, 0, 2*math.Pi)
 	lx, ly := math.Cos(ang), math.Sin(ang)
 	fall := uniform(rng, 0, 0.25)
-	tmin := math.Min(0, lx*fw) + math.Min(0, ly*fh)
-	tmax := math.Max(0, lx*fw) + math.Max(0, ly*fh)
+	t := rampAlong(w, h, lx, ly)
 	electrons := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			p := y*w + x
-			t := (lx*(float64(x)+0.5) + ly*(float64(y)+0.5) - tmin) / (tmax - tmin)
-			ill := (1 + 0.08*broad[p]) * (1 - fall*t)
-			electrons[p] = o.Photons * ill * signal[p]
-		}
+	for p := range electrons {
+		ill := (1 + 0.08*broad[p]) * (1 - fall*t[p])
+		electrons[p] = o.Photons * ill * signal[p]
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.7*maxCode/o.Photons, o.ReadNoise)
-	return &Scene{
-		Name:     fmt.Sprintf("grains-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    truth,
-		Objects:  int(n),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.7, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("grains-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: truth, Objects: int(n)}
 }

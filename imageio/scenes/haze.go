@@ -86,10 +86,7 @@ func (o HazeOptions) Validate() error {
 // Truth labels are 1..Objects in placement order. Haze panics if
 // o.Validate() fails.
 func Haze(o HazeOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x68617a65) // "haze"
@@ -165,17 +162,8 @@ func Haze(o HazeOptions) *Scene {
 	for i := range electrons {
 		electrons[i] = o.Photons * illum[i] * (signal[i] + haze[i])
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
 	// The haze peaks near 1.6·Glow; keep it and the brightest nuclei in range.
-	gain := 0.3 * maxCode / (o.Photons * max(1, o.Glow))
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, gain, o.ReadNoise)
-	return &Scene{
-		Name:     fmt.Sprintf("haze-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    pl.truth,
-		Objects:  int(pl.next - 1),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.3, o.Photons*max(1, o.Glow), o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("haze-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: pl.truth, Objects: int(pl.next - 1)}
 }

@@ -3,7 +3,6 @@ package scenes
 import (
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 // NucleiOptions configures Nuclei. Zero values select the defaults given in
@@ -151,10 +150,7 @@ type nucleus struct {
 // below Count. Nuclei panics if o.Validate() fails: check options from
 // users with Validate first.
 func Nuclei(o NucleiOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	rng := newRand(o.Seed, 0x6e75636c6569) // "nuclei"
 
@@ -302,33 +298,14 @@ func Nuclei(o NucleiOptions) *Scene {
 
 	// Haze and vignetting.
 	haze := glow(rng, w, h, o.Haze)
-	ox := float64(w) * uniform(rng, 0.4, 0.6)
-	oy := float64(h) * uniform(rng, 0.4, 0.6)
-	dmax := 0.0
-	for _, c := range [][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
-		dmax = max(dmax, math.Hypot(c[0]-ox, c[1]-oy))
-	}
+	illum := vignette(rng, w, h, o.CornerLevel)
 	electrons := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			d := math.Hypot(float64(x)+0.5-ox, float64(y)+0.5-oy) / dmax
-			v := 1 - (1-o.CornerLevel)*d*d
-			i := y*w + x
-			electrons[i] = o.Photons * v * (signal[i] + haze[i])
-		}
+	for i := range electrons {
+		electrons[i] = o.Photons * illum[i] * (signal[i] + haze[i])
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.6*maxCode/o.Photons, o.ReadNoise)
-
-	return &Scene{
-		Name:     fmt.Sprintf("nuclei-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    truth,
-		Objects:  len(placed),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.6, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("nuclei-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: truth, Objects: len(placed)}
 }
 
 // labelPair assigns each candidate pixel to the ellipse with the larger
@@ -395,33 +372,4 @@ func pieces4(lab map[int]int32, w int, l int32) int {
 		}
 	}
 	return n
-}
-
-// glow returns an additive haze field with mean near level: level·(0.4 +
-// 1.2·G/max G), G the sum of three isotropic Gaussians with centres in the
-// field and σ between 15 % and 35 % of the short side.
-func glow(rng *rand.Rand, w, h int, level float64) []float64 {
-	type blob struct{ x, y, s, a float64 }
-	short := float64(min(w, h))
-	var bs [3]blob
-	for i := range bs {
-		bs[i] = blob{uniform(rng, 0, float64(w)), uniform(rng, 0, float64(h)), short * uniform(rng, 0.15, 0.35), uniform(rng, 0.5, 1)}
-	}
-	g := make([]float64, w*h)
-	gmax := 0.0
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			var s float64
-			for _, b := range bs {
-				dx, dy := float64(x)+0.5-b.x, float64(y)+0.5-b.y
-				s += b.a * math.Exp(-(dx*dx+dy*dy)/(2*b.s*b.s))
-			}
-			g[y*w+x] = s
-			gmax = max(gmax, s)
-		}
-	}
-	for i := range g {
-		g[i] = level * (0.4 + 1.2*g[i]/gmax)
-	}
-	return g
 }

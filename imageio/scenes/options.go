@@ -121,3 +121,16 @@ func checkDefectCount(kind, name string, n, w, h int) error {
 	area := float64(w*h) / (512 * 512)
 	return invalidIf(float64(n) > 60*area, kind, "%s %d too many for a %dx%d image", name, n, w, h)
 }
+
+// mustValidate returns o with its defaults filled, or panics with the error
+// of o.Validate: the generators' contract is that options from users are
+// checked with Validate first.
+func mustValidate[O interface {
+	Validate() error
+	withDefaults() O
+}](o O) O {
+	if err := o.Validate(); err != nil {
+		panic(err)
+	}
+	return o.withDefaults()
+}

@@ -132,10 +132,7 @@ func segmentDistance(x, y, ax, ay, bx, by float64) float64 {
 // then pits, in placement order. An object that cannot be placed after a
 // bounded number of tries is left out. Plate panics if o.Validate() fails.
 func Plate(o PlateOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x706c617465) // "plate"
@@ -280,30 +277,15 @@ func Plate(o PlateOptions) *Scene {
 	}
 	refl = blur(refl, w, h, 0.8)
 
-	// Raking light across the field along (lx, ly).
-	tmin := math.Min(0, lx*fw) + math.Min(0, ly*fh)
-	tmax := math.Max(0, lx*fw) + math.Max(0, ly*fh)
+	// The light comes from the +l side: bright there, dark at -l.
+	ill := rakingLight(w, h, lx, ly, o.Gradient)
 	electrons := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			t := (lx*(float64(x)+0.5) + ly*(float64(y)+0.5) - tmin) / (tmax - tmin)
-			// The light comes from the +l side: bright there, dark at -l.
-			ill := math.Pow(o.Gradient, -(1 - t))
-			electrons[y*w+x] = o.Photons * ill * max(refl[y*w+x], 0)
-		}
+	for i := range electrons {
+		electrons[i] = o.Photons * ill[i] * max(refl[i], 0)
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.7*maxCode/o.Photons, o.ReadNoise)
-
-	return &Scene{
-		Name:     fmt.Sprintf("plate-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    truth,
-		Objects:  len(objs),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.7, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("plate-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: truth, Objects: len(objs)}
 }
 
 func minOf(v []float64) float64 {

@@ -74,32 +74,6 @@ func coverage(m float64) float64 {
 	return c
 }
 
-// quantize applies camera noise to an expected photoelectron count e per
-// pixel and converts to digital numbers. Shot noise is Poisson with variance
-// e; it is drawn in its Gaussian approximation N(e, e), good for counts
-// above a few tens (common practice). Read noise adds N(0, read²)
-// electrons. The code is offset + gain·e′, rounded and clipped to the range
-// of the bit depth.
-func quantize(rng *rand.Rand, e []float64, depth int, offset, gain, read float64) []uint16 {
-	maxCode := float64(int(1)<<depth - 1)
-	out := make([]uint16, len(e))
-	for i, ev := range e {
-		if ev < 0 {
-			ev = 0
-		}
-		noisy := ev + math.Sqrt(ev)*rng.NormFloat64() + read*rng.NormFloat64()
-		v := math.Round(offset + gain*noisy)
-		if v < 0 {
-			v = 0
-		}
-		if v > maxCode {
-			v = maxCode
-		}
-		out[i] = uint16(v)
-	}
-	return out
-}
-
 // uniform returns a draw from [lo, hi).
 func uniform(rng *rand.Rand, lo, hi float64) float64 {
 	return lo + (hi-lo)*rng.Float64()

@@ -89,10 +89,7 @@ func (o StainedOptions) Validate() error {
 // Truth labels are 1..Objects in placement order (clusters first).
 // Stained panics if o.Validate() fails.
 func Stained(o StainedOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x737461696e) // "stain"
@@ -207,15 +204,7 @@ func Stained(o StainedOptions) *Scene {
 		tt := (t[i] - tmin) / max(tmax-tmin, 1e-12)
 		electrons[i] = o.Photons * math.Pow(o.Unevenness, -tt) * trans[i]
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.85*maxCode/o.Photons, o.ReadNoise)
-	return &Scene{
-		Name:     fmt.Sprintf("stained-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    pl.truth,
-		Objects:  int(pl.next - 1),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.85, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("stained-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: pl.truth, Objects: int(pl.next - 1)}
 }

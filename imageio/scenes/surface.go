@@ -166,10 +166,7 @@ func anisoNoise(rng *rand.Rand, w, h int, theta, sigmaAlong, sigmaAcross float64
 // Each crack, pit and inclusion is one truth object, labelled in that
 // order. Surface panics if o.Validate() fails.
 func Surface(o SurfaceOptions) *Scene {
-	if err := o.Validate(); err != nil {
-		panic(err)
-	}
-	o = o.withDefaults()
+	o = mustValidate(o)
 	w, h := o.Width, o.Height
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x73757266616365) // "surface"
@@ -310,26 +307,13 @@ func Surface(o SurfaceOptions) *Scene {
 	refl = blur(refl, w, h, 0.9)
 
 	broad := smoothNoise(rng, w, h, 80)
-	tmin := math.Min(0, lx*fw) + math.Min(0, ly*fh)
-	tmax := math.Max(0, lx*fw) + math.Max(0, ly*fh)
+	raking := rakingLight(w, h, lx, ly, gradient)
 	electrons := make([]float64, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			t := (lx*(float64(x)+0.5) + ly*(float64(y)+0.5) - tmin) / (tmax - tmin)
-			ill := math.Pow(gradient, -(1-t)) * (1 + 0.05*broad[i])
-			electrons[i] = o.Photons * ill * max(refl[i], 0)
-		}
+	for i := range electrons {
+		ill := raking[i] * (1 + 0.05*broad[i])
+		electrons[i] = o.Photons * ill * max(refl[i], 0)
 	}
-	maxCode := float64(int(1)<<o.BitDepth - 1)
-	pixels := quantize(rng, electrons, o.BitDepth, 0.02*maxCode, 0.6*maxCode/o.Photons, o.ReadNoise)
-	return &Scene{
-		Name:     fmt.Sprintf("surface-%d", o.Seed),
-		Width:    w,
-		Height:   h,
-		BitDepth: o.BitDepth,
-		Pixels:   pixels,
-		Truth:    truth,
-		Objects:  len(objs),
-	}
+	pixels := expose(rng, electrons, o.BitDepth, 0.6, o.Photons, o.ReadNoise)
+	return &Scene{Name: fmt.Sprintf("surface-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
+		Pixels: pixels, Truth: truth, Objects: len(objs)}
 }
