@@ -100,6 +100,57 @@ func (g group) owner(x, y float64) (i int, m, second float64) {
 	return i, m, second
 }
 
+// hit is one pixel of a group with nonzero coverage, as paint reports it.
+type hit struct {
+	p         int     // flat index y·w + x
+	x, y      float64 // the pixel centre
+	member    int     // the member that owns it (see owner)
+	m, second float64 // its margin and the largest margin of the others
+	cover     float64 // coverage(m), in (0, 1]
+}
+
+// paint calls draw for every pixel of the group's box grown by 2 px that
+// the group covers (coverage of the owner's margin above 0), in row-major
+// order.
+func (g group) paint(w, h int, draw func(hit)) {
+	x0, y0, x1, y1 := g.box(w, h, 2)
+	for y := y0; y <= y1; y++ {
+		for x := x0; x <= x1; x++ {
+			px, py := float64(x)+0.5, float64(y)+0.5
+			i, m, second := g.owner(px, py)
+			c := coverage(m)
+			if c == 0 {
+				continue
+			}
+			draw(hit{p: y*w + x, x: px, y: py, member: i, m: m, second: second, cover: c})
+		}
+	}
+}
+
+// seamFactor is the dimming 1 - (1-level)·exp(-δ²/2) of the contact line
+// between two touching objects at a pixel with margins m and second to
+// their outlines, δ = (m - second)/2 half the margin difference (about the
+// distance in pixels to the shared boundary); 1 where there is no seam
+// (level >= 1) or either margin is -3 px or less (the pixel lies away
+// from the contact).
+func seamFactor(level, m, second float64) float64 {
+	if level >= 1 || m <= -3 || second <= -3 {
+		return 1
+	}
+	d := (m - second) / 2
+	return 1 - (1-level)*math.Exp(-d*d/2)
+}
+
+// grow attaches new members to random earlier ones (see attach) until the
+// group has size members, each of log-normal mean radius around r (σ 0.12,
+// clamped to [lo, hi], see logNormalRadius) with the given irregularity.
+func (g *group) grow(rng *rand.Rand, size int, r, lo, hi, irregular float64) {
+	for len(g.members) < size {
+		a := g.members[rng.IntN(len(g.members))]
+		g.members = append(g.members, attach(rng, a, logNormalRadius(rng, r, 0.12, lo, hi), irregular))
+	}
+}
+
 // placer puts groups into a truth mask without touching earlier ones.
 type placer struct {
 	w, h  int

@@ -147,10 +147,7 @@ func Clusters(o ClustersOptions) *Scene {
 			r := logNormalRadius(rng, rTyp, 0.3, o.RadiusMin, o.RadiusMax)
 			cx, cy := uniform(rng, 0, fw), uniform(rng, 0, fh)
 			g := group{members: []blob{newBlob(rng, cx, cy, logNormalRadius(rng, r, 0.12, o.RadiusMin, o.RadiusMax), 1)}}
-			for len(g.members) < size {
-				a := g.members[rng.IntN(len(g.members))]
-				g.members = append(g.members, attach(rng, a, logNormalRadius(rng, r, 0.12, o.RadiusMin, o.RadiusMax), 1))
-			}
+			g.grow(rng, size, r, o.RadiusMin, o.RadiusMax, 1)
 			seamless := size > 1 && rng.Float64() < o.SeamlessFraction
 			dim := rng.Float64() < o.DimFraction
 			defocus := rng.Float64() < o.DefocusFraction
@@ -187,24 +184,12 @@ func Clusters(o ClustersOptions) *Scene {
 		if gp.defocus {
 			dst = soft
 		}
-		x0, y0, x1, y1 := gp.g.box(w, h, 2)
-		for y := y0; y <= y1; y++ {
-			for x := x0; x <= x1; x++ {
-				px, py := float64(x)+0.5, float64(y)+0.5
-				i, m, second := gp.g.owner(px, py)
-				c := coverage(m)
-				if c == 0 {
-					continue
-				}
-				v := gp.bright[i] * (0.8 + 0.2*math.Tanh(max(m, 0)/(0.3*gp.radius)))
-				v *= 1 + 0.15*texture[y*w+x]
-				if gp.seam < 1 && second > -3 {
-					d := (m - second) / 2
-					v *= 1 - (1-gp.seam)*math.Exp(-d*d/2)
-				}
-				dst[y*w+x] += c * max(v, 0)
-			}
-		}
+		gp.g.paint(w, h, func(q hit) {
+			v := gp.bright[q.member] * (0.8 + 0.2*math.Tanh(max(q.m, 0)/(0.3*gp.radius)))
+			v *= 1 + 0.15*texture[q.p]
+			v *= seamFactor(gp.seam, q.m, q.second)
+			dst[q.p] += q.cover * max(v, 0)
+		})
 	}
 	sharp = blur(sharp, w, h, 1.1)
 	soft = blur(soft, w, h, defocusSigma)

@@ -144,18 +144,10 @@ func Haze(o HazeOptions) *Scene {
 	texture := smoothNoise(rng, w, h, 1.5)
 	signal := make([]float64, w*h)
 	for _, n := range placed {
-		x0, y0, x1, y1 := n.g.box(w, h, 2)
-		for y := y0; y <= y1; y++ {
-			for x := x0; x <= x1; x++ {
-				_, m, _ := n.g.owner(float64(x)+0.5, float64(y)+0.5)
-				c := coverage(m)
-				if c == 0 {
-					continue
-				}
-				v := n.bright * (0.85 + 0.15*math.Tanh(max(m, 0)/3)) * (1 + 0.1*texture[y*w+x])
-				signal[y*w+x] += c * max(v, 0)
-			}
-		}
+		n.g.paint(w, h, func(q hit) {
+			v := n.bright * (0.85 + 0.15*math.Tanh(max(q.m, 0)/3)) * (1 + 0.1*texture[q.p])
+			signal[q.p] += q.cover * max(v, 0)
+		})
 	}
 	signal = blur(signal, w, h, 1.3)
 	electrons := make([]float64, w*h)

@@ -279,10 +279,7 @@ func Nuclei(o NucleiOptions) *Scene {
 					if m2 > m1 {
 						own, m = placed[j], m2
 					}
-					if m1 > -3 && m2 > -3 {
-						d := (m1 - m2) / 2
-						seam = 1 - (1-seamLevel[pairOf[i]])*math.Exp(-d*d/2)
-					}
+					seam = seamFactor(seamLevel[pairOf[i]], m1, m2)
 				}
 				c := coverage(m)
 				if c == 0 {

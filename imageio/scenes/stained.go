@@ -117,10 +117,7 @@ func Stained(o StainedOptions) *Scene {
 		for range tries {
 			r := logNormalRadius(rng, rTyp, 0.25, o.RadiusMin, o.RadiusMax)
 			g := group{members: []blob{newBlob(rng, uniform(rng, 0, fw), uniform(rng, 0, fh), r, 0.8)}}
-			for len(g.members) < size {
-				a := g.members[rng.IntN(len(g.members))]
-				g.members = append(g.members, attach(rng, a, logNormalRadius(rng, r, 0.12, o.RadiusMin, o.RadiusMax), 0.8))
-			}
+			g.grow(rng, size, r, o.RadiusMin, o.RadiusMax, 0.8)
 			nuc := make([]nucleus, size)
 			for k, b := range g.members {
 				n := nucleus{od: uniform(rng, 0.35, 0.9), tex: uniform(rng, 0.03, 0.25)}
@@ -153,28 +150,15 @@ func Stained(o StainedOptions) *Scene {
 	}
 	texture := smoothNoise(rng, w, h, 1)
 	for _, gp := range groups {
-		x0, y0, x1, y1 := gp.g.box(w, h, 2)
-		for y := y0; y <= y1; y++ {
-			for x := x0; x <= x1; x++ {
-				px, py := float64(x)+0.5, float64(y)+0.5
-				i, m, second := gp.g.owner(px, py)
-				c := coverage(m)
-				if c == 0 {
-					continue
-				}
-				n := gp.nuc[i]
-				v := n.od * (1 + 0.15*math.Exp(-m*m/2)) * (1 + n.tex*texture[y*w+x])
-				if n.hasNuc {
-					v += 0.3 * n.od * coverage(n.nucleolus.margin(px, py))
-				}
-				if gp.light < 1 && second > -3 {
-					d := (m - second) / 2
-					v *= 1 - (1-gp.light)*math.Exp(-d*d/2)
-				}
-				p := y*w + x
-				od[p] = (1-c)*od[p] + c*max(v, 0)
+		gp.g.paint(w, h, func(q hit) {
+			n := gp.nuc[q.member]
+			v := n.od * (1 + 0.15*math.Exp(-q.m*q.m/2)) * (1 + n.tex*texture[q.p])
+			if n.hasNuc {
+				v += 0.3 * n.od * coverage(n.nucleolus.margin(q.x, q.y))
 			}
-		}
+			v *= seamFactor(gp.light, q.m, q.second)
+			od[q.p] = (1-q.cover)*od[q.p] + q.cover*max(v, 0)
+		})
 	}
 	trans := make([]float64, w*h)
 	for i, d := range od {
