@@ -339,34 +339,3 @@ func labelPair(truth []int32, w int, pix []int, e1, e2 ellipse, l1, l2 int32) bo
 	}
 	return true
 }
-
-// pieces4 counts the 4-connected pieces of label l in a sparse labelling
-// (pixels absent from the map are background). The count does not depend
-// on the map's iteration order.
-func pieces4(lab map[int]int32, w int, l int32) int {
-	seen := make(map[int]bool)
-	n := 0
-	for p, v := range lab {
-		if v != l || seen[p] {
-			continue
-		}
-		n++
-		stack := []int{p}
-		seen[p] = true
-		for len(stack) > 0 {
-			q := stack[len(stack)-1]
-			stack = stack[:len(stack)-1]
-			x := q % w
-			for _, nb := range []int{q + w, q - w, q + 1, q - 1} {
-				if (nb == q+1 && x == w-1) || (nb == q-1 && x == 0) {
-					continue
-				}
-				if lab[nb] == l && !seen[nb] {
-					seen[nb] = true
-					stack = append(stack, nb)
-				}
-			}
-		}
-	}
-	return n
-}

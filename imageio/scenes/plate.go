@@ -3,6 +3,7 @@ package scenes
 import (
 	"fmt"
 	"math"
+	"slices"
 )
 
 // PlateOptions configures Plate. Zero values select the defaults given in
@@ -56,25 +57,6 @@ func (o PlateOptions) Validate() error {
 	)
 }
 
-// pit is a star-shaped blob: radius r(φ) = r0(1 + Σ_k amp_k cos(kφ + ph_k))
-// for k = 2..4 around the centre (cx, cy).
-type pit struct {
-	cx, cy, r0 float64
-	amp, ph    [3]float64
-}
-
-// margin is r(φ) - d, the signed radial distance from (x, y) to the outline
-// (positive inside), the inside test used for rendering and truth.
-func (p pit) margin(x, y float64) float64 {
-	dx, dy := x-p.cx, y-p.cy
-	phi := math.Atan2(dy, dx)
-	r := 1.0
-	for k := range p.amp {
-		r += p.amp[k] * math.Cos(float64(k+2)*phi+p.ph[k])
-	}
-	return p.r0*r - math.Hypot(dx, dy)
-}
-
 // scratch is a thick polyline: the points within width/2 of the segments
 // joining its vertices.
 type scratch struct {
@@ -86,18 +68,10 @@ type scratch struct {
 func (s scratch) margin(x, y float64) float64 {
 	best := math.Inf(1)
 	for i := 0; i+1 < len(s.xs); i++ {
-		best = min(best, segmentDistance(x, y, s.xs[i], s.ys[i], s.xs[i+1], s.ys[i+1]))
+		_, d := nearestOnSegment(x, y, s.xs[i], s.ys[i], s.xs[i+1], s.ys[i+1])
+		best = min(best, d)
 	}
 	return s.width/2 - best
-}
-
-// segmentDistance is the Euclidean distance from (x, y) to the segment
-// from (ax, ay) to (bx, by).
-func segmentDistance(x, y, ax, ay, bx, by float64) float64 {
-	vx, vy := bx-ax, by-ay
-	t := ((x-ax)*vx + (y-ay)*vy) / (vx*vx + vy*vy)
-	t = max(0, min(1, t))
-	return math.Hypot(x-ax-t*vx, y-ay-t*vy)
 }
 
 // Plate renders a metal inspection plate under raking light: a bright,
@@ -152,43 +126,8 @@ func Plate(o PlateOptions) *Scene {
 	lightAngle := uniform(rng, 0, 2*math.Pi)
 	lx, ly := math.Cos(lightAngle), math.Sin(lightAngle)
 
-	truth := make([]int32, w*h)
-	type object struct {
-		margin func(x, y float64) float64
-		box    [4]int // x0, y0, x1, y1 inclusive
-		shade  func(x, y float64) float64
-	}
-	var objs []object
+	defects := newDefectSet(w, h, false)
 	const tries = 400
-
-	// candidate returns the pixels inside the shape, or nil when it comes
-	// within 2 px of the border.
-	candidate := func(margin func(x, y float64) float64, box [4]int) []int {
-		var pix []int
-		for y := box[1]; y <= box[3]; y++ {
-			for x := box[0]; x <= box[2]; x++ {
-				if margin(float64(x)+0.5, float64(y)+0.5) > 0 {
-					if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
-						return nil
-					}
-					pix = append(pix, y*w+x)
-				}
-			}
-		}
-		return pix
-	}
-	accept := func(margin func(x, y float64) float64, box [4]int, shade func(x, y float64) float64) bool {
-		pix := candidate(margin, box)
-		if len(pix) == 0 || touchesLabelled(truth, w, h, pix, 4) {
-			return false
-		}
-		l := int32(len(objs) + 1)
-		for _, p := range pix {
-			truth[p] = l
-		}
-		objs = append(objs, object{margin, box, shade})
-		return true
-	}
 
 	for range nScr {
 		for range tries {
@@ -205,8 +144,8 @@ func Plate(o PlateOptions) *Scene {
 				s.xs, s.ys = append(s.xs, x), append(s.ys, y)
 			}
 			box := [4]int{
-				int(math.Floor(minOf(s.xs) - s.width)), int(math.Floor(minOf(s.ys) - s.width)),
-				int(math.Ceil(maxOf(s.xs) + s.width)), int(math.Ceil(maxOf(s.ys) + s.width)),
+				int(math.Floor(slices.Min(s.xs) - s.width)), int(math.Floor(slices.Min(s.ys) - s.width)),
+				int(math.Ceil(slices.Max(s.xs) + s.width)), int(math.Ceil(slices.Max(s.ys) + s.width)),
 			}
 			if box[0] < 0 || box[1] < 0 || box[2] >= w || box[3] >= h {
 				continue
@@ -216,15 +155,16 @@ func Plate(o PlateOptions) *Scene {
 			shade := func(x, y float64) float64 {
 				return level * (1 + 0.1*math.Sin((x*lx+y*ly)/period+phase))
 			}
-			if accept(s.margin, box, shade) {
+			if defects.add(defect{s.margin, box, shade}) {
 				break
 			}
 		}
 	}
 	for range nPits {
 		for range tries {
-			p := pit{cx: uniform(rng, 0, fw), cy: uniform(rng, 0, fh), r0: uniform(rng, 4, 15)}
-			for k := range p.amp {
+			// A blob with the harmonics k = 2, 3, 4 only (amp[3:] stay 0).
+			p := blob{cx: uniform(rng, 0, fw), cy: uniform(rng, 0, fh), r0: uniform(rng, 4, 15)}
+			for k := range 3 {
 				p.amp[k] = uniform(rng, 0, 0.12)
 				p.ph[k] = uniform(rng, 0, 2*math.Pi)
 			}
@@ -233,11 +173,8 @@ func Plate(o PlateOptions) *Scene {
 				max(0, int(math.Floor(p.cx-rmax))), max(0, int(math.Floor(p.cy-rmax))),
 				min(w-1, int(math.Ceil(p.cx+rmax))), min(h-1, int(math.Ceil(p.cy+rmax))),
 			}
-			depth := uniform(rng, 0.3, 0.5)
-			shade := func(x, y float64) float64 {
-				return depth * (1 - 0.3*((x-p.cx)*lx+(y-p.cy)*ly)/p.r0)
-			}
-			if accept(p.margin, box, shade) {
+			shade := pitWall(p, uniform(rng, 0.3, 0.5), 0.3, lx, ly)
+			if defects.add(defect{p.margin, box, shade}) {
 				break
 			}
 		}
@@ -262,19 +199,7 @@ func Plate(o PlateOptions) *Scene {
 			refl[y*w+x] = 1 + o.Grain*(0.6*grain[y*w+x]+0.8*s)
 		}
 	}
-	for _, ob := range objs {
-		for y := max(0, ob.box[1]-1); y <= min(h-1, ob.box[3]+1); y++ {
-			for x := max(0, ob.box[0]-1); x <= min(w-1, ob.box[2]+1); x++ {
-				px, py := float64(x)+0.5, float64(y)+0.5
-				c := coverage(ob.margin(px, py))
-				if c == 0 {
-					continue
-				}
-				f := max(0.05, ob.shade(px, py))
-				refl[y*w+x] *= 1 - c*(1-f)
-			}
-		}
-	}
+	defects.darken(refl)
 	refl = blur(refl, w, h, 0.8)
 
 	// The light comes from the +l side: bright there, dark at -l.
@@ -285,21 +210,5 @@ func Plate(o PlateOptions) *Scene {
 	}
 	pixels := expose(rng, electrons, o.BitDepth, 0.7, o.Photons, o.ReadNoise)
 	return &Scene{Name: fmt.Sprintf("plate-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
-		Pixels: pixels, Truth: truth, Objects: len(objs)}
-}
-
-func minOf(v []float64) float64 {
-	m := v[0]
-	for _, x := range v[1:] {
-		m = min(m, x)
-	}
-	return m
-}
-
-func maxOf(v []float64) float64 {
-	m := v[0]
-	for _, x := range v[1:] {
-		m = max(m, x)
-	}
-	return m
+		Pixels: pixels, Truth: defects.truth, Objects: len(defects.list)}
 }

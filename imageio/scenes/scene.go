@@ -78,20 +78,3 @@ func coverage(m float64) float64 {
 func uniform(rng *rand.Rand, lo, hi float64) float64 {
 	return lo + (hi-lo)*rng.Float64()
 }
-
-// touchesLabelled reports whether any pixel of the candidate set (flat
-// indices) lies within margin pixels (Chebyshev distance) of a pixel that
-// truth already assigns to an object.
-func touchesLabelled(truth []int32, w, h int, cand []int, margin int) bool {
-	for _, p := range cand {
-		x, y := p%w, p/w
-		for yy := max(0, y-margin); yy <= min(h-1, y+margin); yy++ {
-			for xx := max(0, x-margin); xx <= min(w-1, x+margin); xx++ {
-				if truth[yy*w+xx] != 0 {
-					return true
-				}
-			}
-		}
-	}
-	return false
-}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 )
 
 // SurfaceOptions configures Surface. Zero values select the defaults given
@@ -72,11 +73,7 @@ type crack struct {
 func (c crack) margin(x, y float64) float64 {
 	best := math.Inf(-1)
 	for i := 0; i+1 < len(c.xs); i++ {
-		ax, ay, bx, by := c.xs[i], c.ys[i], c.xs[i+1], c.ys[i+1]
-		vx, vy := bx-ax, by-ay
-		t := ((x-ax)*vx + (y-ay)*vy) / (vx*vx + vy*vy)
-		t = max(0, min(1, t))
-		d := math.Hypot(x-ax-t*vx, y-ay-t*vy)
+		t, d := nearestOnSegment(x, y, c.xs[i], c.ys[i], c.xs[i+1], c.ys[i+1])
 		best = max(best, c.ws[i]+(c.ws[i+1]-c.ws[i])*t-d)
 	}
 	return best
@@ -190,43 +187,7 @@ func Surface(o SurfaceOptions) *Scene {
 	lightAngle := uniform(rng, 0, 2*math.Pi)
 	lx, ly := math.Cos(lightAngle), math.Sin(lightAngle)
 
-	type object struct {
-		margin func(x, y float64) float64
-		box    [4]int
-		factor func(x, y float64) float64 // reflectance factor inside
-	}
-	var objs []object
-	truth := make([]int32, w*h)
-	accept := func(margin func(x, y float64) float64, box [4]int, factor func(x, y float64) float64) bool {
-		box = [4]int{max(0, box[0]), max(0, box[1]), min(w-1, box[2]), min(h-1, box[3])}
-		var pix []int
-		for y := box[1]; y <= box[3]; y++ {
-			for x := box[0]; x <= box[2]; x++ {
-				if margin(float64(x)+0.5, float64(y)+0.5) > 0 {
-					if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
-						return false
-					}
-					pix = append(pix, y*w+x)
-				}
-			}
-		}
-		if len(pix) == 0 || touchesLabelled(truth, w, h, pix, 4) {
-			return false
-		}
-		lab := make(map[int]int32, len(pix))
-		for _, p := range pix {
-			lab[p] = 1
-		}
-		if pieces4(lab, w, 1) != 1 {
-			return false
-		}
-		l := int32(len(objs) + 1)
-		for _, p := range pix {
-			truth[p] = l
-		}
-		objs = append(objs, object{margin, box, factor})
-		return true
-	}
+	defects := newDefectSet(w, h, true)
 	blobBox := func(b blob) [4]int {
 		r := b.rmax() + 2
 		return [4]int{int(math.Floor(b.cx - r)), int(math.Floor(b.cy - r)), int(math.Ceil(b.cx + r)), int(math.Ceil(b.cy + r))}
@@ -235,12 +196,12 @@ func Surface(o SurfaceOptions) *Scene {
 	for range max(o.Cracks, 0) {
 		for range tries {
 			c := newCrack(rng, fw, fh, math.Sqrt(area))
-			box := [4]int{int(minOf(c.xs)) - 4, int(minOf(c.ys)) - 4, int(maxOf(c.xs)) + 4, int(maxOf(c.ys)) + 4}
+			box := [4]int{int(slices.Min(c.xs)) - 4, int(slices.Min(c.ys)) - 4, int(slices.Max(c.xs)) + 4, int(slices.Max(c.ys)) + 4}
 			level, phase, period := uniform(rng, 0.25, 0.5), uniform(rng, 0, 2*math.Pi), uniform(rng, 15, 40)
 			factor := func(x, y float64) float64 {
 				return level * (1 + 0.2*math.Sin((x+y)/period+phase))
 			}
-			if accept(c.margin, box, factor) {
+			if defects.add(defect{c.margin, box, factor}) {
 				break
 			}
 		}
@@ -248,11 +209,8 @@ func Surface(o SurfaceOptions) *Scene {
 	for range max(nPits, 0) {
 		for range tries {
 			b := newBlob(rng, uniform(rng, 0, fw), uniform(rng, 0, fh), uniform(rng, 1.5, 10), 0.8)
-			depth := uniform(rng, 0.25, 0.55)
-			factor := func(x, y float64) float64 {
-				return depth * (1 - 0.35*((x-b.cx)*lx+(y-b.cy)*ly)/b.r0)
-			}
-			if accept(b.margin, blobBox(b), factor) {
+			factor := pitWall(b, uniform(rng, 0.25, 0.55), 0.35, lx, ly)
+			if defects.add(defect{b.margin, blobBox(b), factor}) {
 				break
 			}
 		}
@@ -265,7 +223,7 @@ func Surface(o SurfaceOptions) *Scene {
 				f = uniform(rng, 1.3, 1.7)
 			}
 			factor := func(x, y float64) float64 { return f }
-			if accept(b.margin, blobBox(b), factor) {
+			if defects.add(defect{b.margin, blobBox(b), factor}) {
 				break
 			}
 		}
@@ -291,19 +249,7 @@ func Surface(o SurfaceOptions) *Scene {
 			refl[i] = 1 + grain*(0.75*along[i]+0.45*mark+0.3*fine[i])/norm
 		}
 	}
-	for _, ob := range objs {
-		for y := max(0, ob.box[1]-1); y <= min(h-1, ob.box[3]+1); y++ {
-			for x := max(0, ob.box[0]-1); x <= min(w-1, ob.box[2]+1); x++ {
-				px, py := float64(x)+0.5, float64(y)+0.5
-				c := coverage(ob.margin(px, py))
-				if c == 0 {
-					continue
-				}
-				f := max(0.05, ob.factor(px, py))
-				refl[y*w+x] *= 1 - c*(1-f)
-			}
-		}
-	}
+	defects.darken(refl)
 	refl = blur(refl, w, h, 0.9)
 
 	broad := smoothNoise(rng, w, h, 80)
@@ -315,5 +261,5 @@ func Surface(o SurfaceOptions) *Scene {
 	}
 	pixels := expose(rng, electrons, o.BitDepth, 0.6, o.Photons, o.ReadNoise)
 	return &Scene{Name: fmt.Sprintf("surface-%d", o.Seed), Width: w, Height: h, BitDepth: o.BitDepth,
-		Pixels: pixels, Truth: truth, Objects: len(objs)}
+		Pixels: pixels, Truth: defects.truth, Objects: len(defects.list)}
 }
