@@ -204,14 +204,8 @@ func (p *placer) place(g *group, minOwn float64) bool {
 			return false
 		}
 	}
-	if len(g.members) > 1 {
-		all := make(map[int]int32, len(lab))
-		for q := range lab {
-			all[q] = 1
-		}
-		if pieces4(all, w, 1) != 1 {
-			return false
-		}
+	if len(g.members) > 1 && !onePiece(pix, w) {
+		return false
 	}
 	if touchesLabelled(p.truth, w, h, pix, p.gap) {
 		return false

@@ -103,6 +103,16 @@ func (e ellipse) radiusAt(phi float64) float64 {
 	return 1 / math.Hypot(c/e.a, s/e.b)
 }
 
+// box returns the pixel box x0, y0, x1, y1 (inclusive, not clipped) of the
+// disc of radius a + pad around the centre, which holds the ellipse
+// (a >= b) grown by pad pixels.
+func (e ellipse) box(pad float64) [4]int {
+	return [4]int{
+		int(math.Floor(e.cx - e.a - pad)), int(math.Floor(e.cy - e.a - pad)),
+		int(math.Ceil(e.cx + e.a + pad)), int(math.Ceil(e.cy + e.a + pad)),
+	}
+}
+
 // nucleus is one placed object with its brightness.
 type nucleus struct {
 	shape      ellipse
@@ -180,18 +190,11 @@ func Nuclei(o NucleiOptions) *Scene {
 	inside := func(es ...ellipse) []int {
 		var pix []int
 		for _, e := range es {
-			x0, x1 := int(math.Floor(e.cx-e.a-1)), int(math.Ceil(e.cx+e.a+1))
-			y0, y1 := int(math.Floor(e.cy-e.a-1)), int(math.Ceil(e.cy+e.a+1))
-			for y := y0; y <= y1; y++ {
-				for x := x0; x <= x1; x++ {
-					if e.margin(float64(x)+0.5, float64(y)+0.5) > 0 {
-						if x < 2 || y < 2 || x >= w-2 || y >= h-2 {
-							return nil
-						}
-						pix = append(pix, y*w+x)
-					}
-				}
+			p, ok := insidePixels(e.margin, e.box(1), w, h)
+			if !ok {
+				return nil
 			}
+			pix = append(pix, p...)
 		}
 		return pix
 	}
@@ -261,13 +264,12 @@ func Nuclei(o NucleiOptions) *Scene {
 		if j >= 0 && j < i {
 			continue // drawn with its partner
 		}
-		x0, x1 := max(0, int(math.Floor(e.cx-e.a-2))), min(w-1, int(math.Ceil(e.cx+e.a+2)))
-		y0, y1 := max(0, int(math.Floor(e.cy-e.a-2))), min(h-1, int(math.Ceil(e.cy+e.a+2)))
+		b := e.box(2)
 		if j >= 0 {
-			f := placed[j].shape
-			x0, x1 = min(x0, max(0, int(math.Floor(f.cx-f.a-2)))), max(x1, min(w-1, int(math.Ceil(f.cx+f.a+2))))
-			y0, y1 = min(y0, max(0, int(math.Floor(f.cy-f.a-2)))), max(y1, min(h-1, int(math.Ceil(f.cy+f.a+2))))
+			f := placed[j].shape.box(2)
+			b = [4]int{min(b[0], f[0]), min(b[1], f[1]), max(b[2], f[2]), max(b[3], f[3])}
 		}
+		x0, y0, x1, y1 := max(0, b[0]), max(0, b[1]), min(w-1, b[2]), min(h-1, b[3])
 		for y := y0; y <= y1; y++ {
 			for x := x0; x <= x1; x++ {
 				px, py := float64(x)+0.5, float64(y)+0.5
