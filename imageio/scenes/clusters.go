@@ -44,14 +44,12 @@ type ClustersOptions struct {
 
 func (o ClustersOptions) withDefaults() ClustersOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
-	o.RadiusMin = orDefault(o.RadiusMin, 5)
-	o.RadiusMax = orDefault(o.RadiusMax, max(25, o.RadiusMin))
+	defaultRadii(&o.RadiusMin, &o.RadiusMax, 5, 25)
 	o.ClusterFraction = defaultFrac(o.ClusterFraction, 0.6)
 	o.SeamlessFraction = defaultFrac(o.SeamlessFraction, 0.5)
 	o.DimFraction = defaultFrac(o.DimFraction, 0.12)
 	o.DefocusFraction = defaultFrac(o.DefocusFraction, 0.15)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	o.Photons = orDefault(o.Photons, 500)
+	defaultCamera(&o.Photons, &o.ReadNoise, 500, 4)
 	return o
 }
 

@@ -28,8 +28,7 @@ type GrainsOptions struct {
 
 func (o GrainsOptions) withDefaults() GrainsOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	o.Photons = orDefault(o.Photons, 1500)
+	defaultCamera(&o.Photons, &o.ReadNoise, 1500, 4)
 	return o
 }
 

@@ -35,12 +35,10 @@ type HazeOptions struct {
 
 func (o HazeOptions) withDefaults() HazeOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
-	o.RadiusMin = orDefault(o.RadiusMin, 6)
-	o.RadiusMax = orDefault(o.RadiusMax, max(16, o.RadiusMin))
+	defaultRadii(&o.RadiusMin, &o.RadiusMax, 6, 16)
 	o.Glow = orDefault(o.Glow, 1)
 	o.FaintFraction = defaultFrac(o.FaintFraction, 0.4)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	o.Photons = orDefault(o.Photons, 300)
+	defaultCamera(&o.Photons, &o.ReadNoise, 300, 4)
 	return o
 }
 

@@ -41,14 +41,12 @@ type NucleiOptions struct {
 func (o NucleiOptions) withDefaults() NucleiOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
 	o.Count = orDefault(o.Count, max(1, int(math.Round(34*float64(o.Width*o.Height)/(512*512)))))
-	o.RadiusMin = orDefault(o.RadiusMin, 8)
-	o.RadiusMax = orDefault(o.RadiusMax, max(20, o.RadiusMin))
+	defaultRadii(&o.RadiusMin, &o.RadiusMax, 8, 20)
 	o.PairFraction = defaultFrac(o.PairFraction, 0.5)
 	o.DimFraction = defaultFrac(o.DimFraction, 0.1)
 	o.Haze = defaultFrac(o.Haze, 0.08)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
 	o.CornerLevel = orDefault(o.CornerLevel, 0.4)
-	o.Photons = orDefault(o.Photons, 800)
+	defaultCamera(&o.Photons, &o.ReadNoise, 800, 3)
 	return o
 }
 

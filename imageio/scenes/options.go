@@ -24,6 +24,20 @@ func defaultFrame(w, h, depth *int) {
 	*depth = orDefault(*depth, 16)
 }
 
+// defaultCamera fills a zero photon count and read noise with the
+// generator's defaults; a negative read noise means none (see defaultFrac).
+func defaultCamera(photons, read *float64, defPhotons, defRead float64) {
+	*read = defaultFrac(*read, defRead)
+	*photons = orDefault(*photons, defPhotons)
+}
+
+// defaultRadii fills zero radius bounds with the generator's defaults; a
+// zero upper bound becomes max(defMax, lower bound).
+func defaultRadii(rmin, rmax *float64, defMin, defMax float64) {
+	*rmin = orDefault(*rmin, defMin)
+	*rmax = orDefault(*rmax, max(defMax, *rmin))
+}
+
 // orDefault returns v, or def when v is the zero value.
 func orDefault[T comparable](v, def T) T {
 	var zero T

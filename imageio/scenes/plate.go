@@ -37,8 +37,7 @@ func (o PlateOptions) withDefaults() PlateOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
 	o.Gradient = orDefault(o.Gradient, 2.5)
 	o.Grain = defaultFrac(o.Grain, 0.08)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 3)
-	o.Photons = orDefault(o.Photons, 2000)
+	defaultCamera(&o.Photons, &o.ReadNoise, 2000, 3)
 	return o
 }
 

@@ -34,12 +34,10 @@ type StainedOptions struct {
 
 func (o StainedOptions) withDefaults() StainedOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
-	o.RadiusMin = orDefault(o.RadiusMin, 6)
-	o.RadiusMax = orDefault(o.RadiusMax, max(18, o.RadiusMin))
+	defaultRadii(&o.RadiusMin, &o.RadiusMax, 6, 18)
 	o.ClusterFraction = defaultFrac(o.ClusterFraction, 0.5)
 	o.Unevenness = orDefault(o.Unevenness, 1.7)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 6)
-	o.Photons = orDefault(o.Photons, 6000)
+	defaultCamera(&o.Photons, &o.ReadNoise, 6000, 6)
 	return o
 }
 

@@ -40,8 +40,7 @@ type SurfaceOptions struct {
 func (o SurfaceOptions) withDefaults() SurfaceOptions {
 	defaultFrame(&o.Width, &o.Height, &o.BitDepth)
 	o.Cracks = orDefault(o.Cracks, 1)
-	o.ReadNoise = defaultFrac(o.ReadNoise, 4)
-	o.Photons = orDefault(o.Photons, 3000)
+	defaultCamera(&o.Photons, &o.ReadNoise, 3000, 4)
 	return o
 }
 
