@@ -21,15 +21,7 @@ func TestGenerate(t *testing.T) {
 	}
 	for _, seed := range []uint64{5, 6} {
 		want := scenes.Nuclei(scenes.NucleiOptions{Width: 128, Height: 128, Seed: seed})
-		f, err := os.Open(filepath.Join(dir, want.Name+".truth.png"))
-		if err != nil {
-			t.Fatal(err)
-		}
-		img, err := png.Decode(f)
-		f.Close()
-		if err != nil {
-			t.Fatal(err)
-		}
+		img := decodePNG(t, filepath.Join(dir, want.Name+".truth.png"))
 		g, ok := img.(*image.Gray16)
 		if !ok {
 			t.Fatalf("truth decoded as %T, want *image.Gray16", img)
@@ -52,6 +44,22 @@ func TestGenerate(t *testing.T) {
 	}
 }
 
+// decodePNG decodes the PNG file at path, failing the test when it cannot
+// be opened or decoded.
+func decodePNG(t *testing.T, path string) image.Image {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return img
+}
+
 // TestGenerateKinds: every kind named in scenes.Kinds() is accepted and
 // written with its truth, identical to the generator's own scene.
 func TestGenerateKinds(t *testing.T) {
@@ -65,15 +73,7 @@ func TestGenerateKinds(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		f, err := os.Open(filepath.Join(dir, want.Name+".png"))
-		if err != nil {
-			t.Fatal(err)
-		}
-		img, err := png.Decode(f)
-		f.Close()
-		if err != nil {
-			t.Fatal(err)
-		}
+		img := decodePNG(t, filepath.Join(dir, want.Name+".png"))
 		g, ok := img.(*image.Gray)
 		if !ok {
 			t.Fatalf("%s: image decoded as %T, want *image.Gray", kind, img)
