@@ -20,11 +20,7 @@ func TestOtsuBaselineWeaknesses(t *testing.T) {
 	var sumARI, sumF1 float64
 	const nNuclei = 5
 	for seed := uint64(1); seed <= nNuclei; seed++ {
-		s := Nuclei(NucleiOptions{Seed: seed})
-		pred := OtsuObjects(s, false)
-		ari := score.ARI(pred, s.Truth)
-		m := score.MatchObjects(pred, s.Truth)
-		t.Logf("nuclei seed %d: objects %d, ARI %.3f, F1 %.3f (TP %d FP %d FN %d)", seed, s.Objects, ari, m.F1, m.TP, m.FP, m.FN)
+		ari, m := scoreOtsu(t, Nuclei(NucleiOptions{Seed: seed}), false)
 		sumARI += ari
 		sumF1 += m.F1
 		if m.F1 >= 0.8 {
@@ -54,11 +50,7 @@ func TestOtsuBaselineWeaknesses(t *testing.T) {
 	sumARI, sumF1 = 0, 0
 	const nPlates = 3
 	for seed := uint64(1); seed <= nPlates; seed++ {
-		s := Plate(PlateOptions{Seed: seed})
-		pred := OtsuObjects(s, true)
-		ari := score.ARI(pred, s.Truth)
-		m := score.MatchObjects(pred, s.Truth)
-		t.Logf("plate seed %d: objects %d, ARI %.3f, F1 %.3f (TP %d FP %d FN %d)", seed, s.Objects, ari, m.F1, m.TP, m.FP, m.FN)
+		ari, m := scoreOtsu(t, Plate(PlateOptions{Seed: seed}), true)
 		sumARI += ari
 		sumF1 += m.F1
 		if ari > 0.3 {
@@ -66,4 +58,15 @@ func TestOtsuBaselineWeaknesses(t *testing.T) {
 		}
 	}
 	t.Logf("plate mean: ARI %.3f, F1 %.3f", sumARI/nPlates, sumF1/nPlates)
+}
+
+// scoreOtsu segments s with the Otsu baseline (OtsuObjects) and returns
+// its ARI and object matching against the truth, logging both.
+func scoreOtsu(t *testing.T, s *Scene, darkObjects bool) (float64, score.ObjectMatch) {
+	t.Helper()
+	pred := OtsuObjects(s, darkObjects)
+	ari := score.ARI(pred, s.Truth)
+	m := score.MatchObjects(pred, s.Truth)
+	t.Logf("%s: objects %d, ARI %.3f, F1 %.3f (TP %d FP %d FN %d)", s.Name, s.Objects, ari, m.F1, m.TP, m.FP, m.FN)
+	return ari, m
 }

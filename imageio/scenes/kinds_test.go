@@ -1,7 +1,7 @@
 package scenes
 
 import (
-	"bytes"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -22,13 +22,7 @@ func TestKindsDeterministic(t *testing.T) {
 				}
 				return s
 			}
-			a, b, c := sceneBytes(gen(7)), sceneBytes(gen(7)), sceneBytes(gen(8))
-			if !bytes.Equal(a, b) {
-				t.Errorf("%s/%d: same seed gave different bytes", kind, depth)
-			}
-			if bytes.Equal(a, c) {
-				t.Errorf("%s/%d: seeds 7 and 8 gave identical bytes", kind, depth)
-			}
+			checkDeterministic(t, fmt.Sprintf("%s/%d", kind, depth), gen)
 		}
 	}
 }
@@ -51,28 +45,7 @@ func TestKindsWellFormed(t *testing.T) {
 			if s.Width != sz[0] || s.Height != sz[1] || len(s.Pixels) != n || len(s.Truth) != n || s.BitDepth != depth {
 				t.Fatalf("%s: got %dx%d depth %d with %d pixels, %d truth; want %dx%d depth %d", kind, s.Width, s.Height, s.BitDepth, len(s.Pixels), len(s.Truth), sz[0], sz[1], depth)
 			}
-			maxv := uint16(1<<depth - 1)
-			for _, v := range s.Pixels {
-				if v > maxv {
-					t.Fatalf("%s: value %d exceeds the %d-bit range", s.Name, v, depth)
-				}
-			}
-			if s.Objects < 1 {
-				t.Errorf("%s %v: no objects", s.Name, sz)
-			}
-			present := make([]int, s.Objects+1)
-			for _, l := range s.Truth {
-				if l < 0 || int(l) > s.Objects {
-					t.Fatalf("%s: label %d outside 0..%d", s.Name, l, s.Objects)
-				}
-				present[l]++
-			}
-			for l := 1; l <= s.Objects; l++ {
-				if present[l] == 0 {
-					t.Errorf("%s %v: label %d empty", s.Name, sz, l)
-				}
-			}
-			if present[0] == 0 {
+			if present := checkLabels(t, s); present[0] == 0 {
 				t.Errorf("%s %v: no background (label 0) pixels", s.Name, sz)
 			}
 		}
@@ -82,10 +55,7 @@ func TestKindsWellFormed(t *testing.T) {
 // TestKindsValidate: invalid options are reported with an error naming the
 // option; the defaults are valid.
 func TestKindsValidate(t *testing.T) {
-	cases := []struct {
-		err  error
-		want string
-	}{
+	checkOptionErrors(t, []optionCase{
 		{ClustersOptions{Width: 10}.Validate(), "Width"},
 		{ClustersOptions{BitDepth: 12}.Validate(), "BitDepth"},
 		{ClustersOptions{Count: -2}.Validate(), "Count"},
@@ -119,12 +89,7 @@ func TestKindsValidate(t *testing.T) {
 		{GrainsOptions{Count: 100000}.Validate(), "Count"},
 		{GrainsOptions{BoundaryWidth: 20}.Validate(), "BoundaryWidth"},
 		{GrainsOptions{ReadNoise: 2000}.Validate(), "ReadNoise"},
-	}
-	for i, c := range cases {
-		if c.err == nil || !strings.Contains(c.err.Error(), c.want) {
-			t.Errorf("case %d: error %v, want one naming %s", i, c.err, c.want)
-		}
-	}
+	})
 	for _, err := range []error{ClustersOptions{}.Validate(), HazeOptions{}.Validate(), StainedOptions{}.Validate(), SurfaceOptions{}.Validate(), GrainsOptions{}.Validate()} {
 		if err != nil {
 			t.Errorf("default options: %v", err)

@@ -34,13 +34,20 @@ func TestDeterminism(t *testing.T) {
 		{"plate8", func(s uint64) *Scene { return Plate(PlateOptions{Width: 200, Height: 300, Seed: s, BitDepth: 8}) }},
 	}
 	for _, g := range gens {
-		a, b, c := sceneBytes(g.make(7)), sceneBytes(g.make(7)), sceneBytes(g.make(8))
-		if !bytes.Equal(a, b) {
-			t.Errorf("%s: same seed gave different bytes", g.name)
-		}
-		if bytes.Equal(a, c) {
-			t.Errorf("%s: seeds 7 and 8 gave identical bytes", g.name)
-		}
+		checkDeterministic(t, g.name, g.make)
+	}
+}
+
+// checkDeterministic fails the test when gen gives different bytes (see
+// sceneBytes) for the same seed twice, or the same bytes for seeds 7 and 8.
+func checkDeterministic(t *testing.T, name string, gen func(seed uint64) *Scene) {
+	t.Helper()
+	a, b, c := sceneBytes(gen(7)), sceneBytes(gen(7)), sceneBytes(gen(8))
+	if !bytes.Equal(a, b) {
+		t.Errorf("%s: same seed gave different bytes", name)
+	}
+	if bytes.Equal(a, c) {
+		t.Errorf("%s: seeds 7 and 8 gave identical bytes", name)
 	}
 }
 
@@ -56,30 +63,38 @@ func TestScenesWellFormed(t *testing.T) {
 		if len(s.Pixels) != n || len(s.Truth) != n {
 			t.Fatalf("%s: %d pixels, %d truth, want %d", s.Name, len(s.Pixels), len(s.Truth), n)
 		}
-		maxv := uint16(1<<s.BitDepth - 1)
-		var hi uint16
-		for _, v := range s.Pixels {
-			hi = max(hi, v)
-		}
-		if hi > maxv {
-			t.Errorf("%s: value %d exceeds %d-bit range", s.Name, hi, s.BitDepth)
-		}
-		if s.Objects < 1 {
-			t.Errorf("%s: no objects", s.Name)
-		}
-		present := make([]int, s.Objects+1)
-		for _, l := range s.Truth {
-			if l < 0 || int(l) > s.Objects {
-				t.Fatalf("%s: label %d outside 0..%d", s.Name, l, s.Objects)
-			}
-			present[l]++
-		}
-		for l := 1; l <= s.Objects; l++ {
-			if present[l] == 0 {
-				t.Errorf("%s: label %d absent", s.Name, l)
-			}
+		checkLabels(t, s)
+	}
+}
+
+// checkLabels fails the test when a pixel of s exceeds the range of its
+// bit depth, s has no object, or its truth holds a label outside
+// 0..Objects or leaves one of 1..Objects empty. It returns the number of
+// pixels of each label.
+func checkLabels(t *testing.T, s *Scene) []int {
+	t.Helper()
+	maxv := uint16(1<<s.BitDepth - 1)
+	for _, v := range s.Pixels {
+		if v > maxv {
+			t.Fatalf("%s: value %d exceeds the %d-bit range", s.Name, v, s.BitDepth)
 		}
 	}
+	if s.Objects < 1 {
+		t.Errorf("%s: no objects", s.Name)
+	}
+	present := make([]int, s.Objects+1)
+	for _, l := range s.Truth {
+		if l < 0 || int(l) > s.Objects {
+			t.Fatalf("%s: label %d outside 0..%d", s.Name, l, s.Objects)
+		}
+		present[l]++
+	}
+	for l := 1; l <= s.Objects; l++ {
+		if present[l] == 0 {
+			t.Errorf("%s: label %d empty", s.Name, l)
+		}
+	}
+	return present
 }
 
 // adjacency returns, for each unordered pair of distinct object labels,
@@ -258,52 +273,49 @@ func TestTruthMatchesRendering(t *testing.T) {
 }
 
 func TestValidate(t *testing.T) {
-	nuclei := []struct {
-		o    NucleiOptions
-		want string // substring naming the parameter
-	}{
-		{NucleiOptions{Width: 10}, "Width"},
-		{NucleiOptions{Height: 100000}, "Height"},
-		{NucleiOptions{BitDepth: 12}, "BitDepth"},
-		{NucleiOptions{Count: -1}, "Count"},
-		{NucleiOptions{Count: 5000}, "Count"},
-		{NucleiOptions{RadiusMin: 10, RadiusMax: 5}, "RadiusMax"},
-		{NucleiOptions{RadiusMax: 200}, "RadiusMax"},
-		{NucleiOptions{PairFraction: 2}, "PairFraction"},
-		{NucleiOptions{DimFraction: 1.5}, "DimFraction"},
-		{NucleiOptions{CornerLevel: 2}, "CornerLevel"},
-		{NucleiOptions{Haze: 3}, "Haze"},
-		{NucleiOptions{Photons: 1}, "Photons"},
-	}
-	for _, c := range nuclei {
-		err := c.o.Validate()
-		if err == nil || !strings.Contains(err.Error(), c.want) {
-			t.Errorf("NucleiOptions%+v: error %v, want one naming %s", c.o, err, c.want)
-		}
-	}
-	plates := []struct {
-		o    PlateOptions
-		want string
-	}{
-		{PlateOptions{Width: 64}, "size"},
-		{PlateOptions{BitDepth: 1}, "BitDepth"},
-		{PlateOptions{Pits: 1000}, "Pits"},
-		{PlateOptions{Scratches: 9}, "Scratches"},
-		{PlateOptions{Gradient: 0.5}, "Gradient"},
-		{PlateOptions{Grain: 0.9}, "Grain"},
-		{PlateOptions{Photons: 5}, "Photons"},
-	}
-	for _, c := range plates {
-		err := c.o.Validate()
-		if err == nil || !strings.Contains(err.Error(), c.want) {
-			t.Errorf("PlateOptions%+v: error %v, want one naming %s", c.o, err, c.want)
-		}
-	}
+	checkOptionErrors(t, []optionCase{
+		{NucleiOptions{Width: 10}.Validate(), "Width"},
+		{NucleiOptions{Height: 100000}.Validate(), "Height"},
+		{NucleiOptions{BitDepth: 12}.Validate(), "BitDepth"},
+		{NucleiOptions{Count: -1}.Validate(), "Count"},
+		{NucleiOptions{Count: 5000}.Validate(), "Count"},
+		{NucleiOptions{RadiusMin: 10, RadiusMax: 5}.Validate(), "RadiusMax"},
+		{NucleiOptions{RadiusMax: 200}.Validate(), "RadiusMax"},
+		{NucleiOptions{PairFraction: 2}.Validate(), "PairFraction"},
+		{NucleiOptions{DimFraction: 1.5}.Validate(), "DimFraction"},
+		{NucleiOptions{CornerLevel: 2}.Validate(), "CornerLevel"},
+		{NucleiOptions{Haze: 3}.Validate(), "Haze"},
+		{NucleiOptions{Photons: 1}.Validate(), "Photons"},
+		{PlateOptions{Width: 64}.Validate(), "size"},
+		{PlateOptions{BitDepth: 1}.Validate(), "BitDepth"},
+		{PlateOptions{Pits: 1000}.Validate(), "Pits"},
+		{PlateOptions{Scratches: 9}.Validate(), "Scratches"},
+		{PlateOptions{Gradient: 0.5}.Validate(), "Gradient"},
+		{PlateOptions{Grain: 0.9}.Validate(), "Grain"},
+		{PlateOptions{Photons: 5}.Validate(), "Photons"},
+	})
 	if err := (NucleiOptions{}).Validate(); err != nil {
 		t.Errorf("default nuclei options: %v", err)
 	}
 	if err := (PlateOptions{}).Validate(); err != nil {
 		t.Errorf("default plate options: %v", err)
+	}
+}
+
+// optionCase is an option check's error and the option it must name.
+type optionCase struct {
+	err  error
+	want string
+}
+
+// checkOptionErrors fails the test for each case whose error is nil or
+// does not name the option.
+func checkOptionErrors(t *testing.T, cases []optionCase) {
+	t.Helper()
+	for i, c := range cases {
+		if c.err == nil || !strings.Contains(c.err.Error(), c.want) {
+			t.Errorf("case %d: error %v, want one naming %s", i, c.err, c.want)
+		}
 	}
 }
 
