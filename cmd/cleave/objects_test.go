@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"image"
 	"image/color"
-	"image/png"
 	"os"
 	"path"
 	"path/filepath"
@@ -42,16 +41,7 @@ func writeColourDiscs(t *testing.T, p string) {
 			img.SetNRGBA(x, y, c)
 		}
 	}
-	f, err := os.Create(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := png.Encode(f, img); err != nil {
-		t.Fatal(err)
-	}
-	if err := f.Close(); err != nil {
-		t.Fatal(err)
-	}
+	writePNGFile(t, p, img)
 }
 
 // objects.csv holds every row of every ok image's region table, cell for

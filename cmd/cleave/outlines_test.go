@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"image"
 	"image/color"
-	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -280,22 +279,7 @@ func TestRegionTableColour(t *testing.T) {
 			img.SetNRGBA(x, y, c)
 		}
 	}
-	p := filepath.Join(dir, "rgb.png")
-	f, err := os.Create(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := png.Encode(f, img); err != nil {
-		t.Fatal(err)
-	}
-	f.Close()
-	if code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", dir, p); code != exitOK {
-		t.Fatalf("exit %d: %s", code, stderr)
-	}
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(dir, "rgb.labels.png"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	labels := segmentRGB(t, dir, img)
 	cf, err := os.Open(filepath.Join(dir, "rgb.regions.csv"))
 	if err != nil {
 		t.Fatal(err)

@@ -30,6 +30,39 @@ func decodePNG(t *testing.T, p string) image.Image {
 	return img
 }
 
+// writePNGFile encodes img as a PNG file at p, failing the test on any
+// error.
+func writePNGFile(t *testing.T, p string, img image.Image) {
+	t.Helper()
+	f, err := os.Create(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := png.Encode(f, img); err != nil {
+		f.Close()
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// segmentRGB writes img as dir/rgb.png, segments it with two classes on a
+// dark background into dir and returns the label map the run wrote.
+func segmentRGB(t *testing.T, dir string, img image.Image) []int32 {
+	t.Helper()
+	p := filepath.Join(dir, "rgb.png")
+	writePNGFile(t, p, img)
+	if code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", dir, p); code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	labels, _, _, err := imageio.ReadLabels(filepath.Join(dir, "rgb.labels.png"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return labels
+}
+
 func rgb8(img image.Image, x, y int) [3]uint8 {
 	r, g, b, _ := img.At(x, y).RGBA()
 	return [3]uint8{uint8(r >> 8), uint8(g >> 8), uint8(b >> 8)}
@@ -164,22 +197,7 @@ func TestOverlayKeepsColour(t *testing.T) {
 			planes[0][y*w+x], planes[1][y*w+x], planes[2][y*w+x] = float32(c.R), float32(c.G), float32(c.B)
 		}
 	}
-	p := filepath.Join(dir, "rgb.png")
-	f, err := os.Create(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := png.Encode(f, img); err != nil {
-		t.Fatal(err)
-	}
-	f.Close()
-	if code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", dir, p); code != exitOK {
-		t.Fatalf("exit %d: %s", code, stderr)
-	}
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(dir, "rgb.labels.png"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	labels := segmentRGB(t, dir, img)
 	lo, hi := imageio.ColourWindow(planes, 1)
 	over := decodePNG(t, filepath.Join(dir, "rgb.overlay.png"))
 	checked := 0
