@@ -167,27 +167,20 @@ func TestFillHoles(t *testing.T) {
 // the hill is marked.
 func TestEdgeless(t *testing.T) {
 	const w, h = 320, 160
-	r := rand.New(rand.NewPCG(9, 9))
-	lum := make([]float32, w*h)
-	labels := make([]int32, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			v := 0.2
-			dx, dy := float64(x-60), float64(y-80)
-			if dx*dx+dy*dy < 15*15 {
-				v = 0.6
-				labels[i] = 1
-			}
-			hx, hy := float64(x-220), float64(y-80)
-			hill := 0.4 * math.Exp(-(hx*hx+hy*hy)/(2*50*50))
-			v += hill
-			if hill > 0.2 {
-				labels[i] = 2
-			}
-			lum[i] = float32(v + 0.03*r.NormFloat64())
+	lum, labels := noisyField(w, h, 9, func(x, y int) (v float64, l int32) {
+		v = 0.2
+		dx, dy := float64(x-60), float64(y-80)
+		if dx*dx+dy*dy < 15*15 {
+			v, l = 0.6, 1
 		}
-	}
+		hx, hy := float64(x-220), float64(y-80)
+		hill := 0.4 * math.Exp(-(hx*hx+hy*hy)/(2*50*50))
+		v += hill
+		if hill > 0.2 {
+			l = 2
+		}
+		return v, l
+	})
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy)}, w, h)
 	if drop == nil || drop[1] || !drop[2] {
@@ -261,6 +254,24 @@ func TestJoinTouching(t *testing.T) {
 	}
 }
 
+// noisyField returns a w x h luminance and label map: scene gives each
+// pixel's noiseless value and label, and the luminance adds Gaussian noise
+// of standard deviation 0.03, drawn in row-major order from a PCG source
+// seeded with (seed, seed).
+func noisyField(w, h int, seed uint64, scene func(x, y int) (float64, int32)) ([]float32, []int32) {
+	r := rand.New(rand.NewPCG(seed, seed))
+	lum := make([]float32, w*h)
+	labels := make([]int32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v, l := scene(x, y)
+			lum[y*w+x] = float32(v + 0.03*r.NormFloat64())
+			labels[y*w+x] = l
+		}
+	}
+	return lum, labels
+}
+
 // A sharp disc and a disc blurred by a Gaussian of σ 8 px, both 0.4 above
 // a background with 3 % noise and labelled where they exceed half their
 // height: both outlines pass the edge floor (the blurred step's slope,
@@ -270,30 +281,24 @@ func TestJoinTouching(t *testing.T) {
 // so only it is marked once the coarse energy is given.
 func TestEdgelessDiffuse(t *testing.T) {
 	const w, h = 200, 100
-	r := rand.New(rand.NewPCG(4, 4))
-	lum := make([]float32, w*h)
-	labels := make([]int32, w*h)
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			v := 0.2
-			dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
-			if dx*dx+dy*dy < 20*20 {
-				v += 0.4
-				labels[i] = 1
-			}
-			// The blurred disc: radius 20, its profile across the rim
-			// the normal CDF of σ 8 (a blurred step, as the rim is
-			// nearly straight at this radius).
-			d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
-			b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
-			v += b
-			if b > 0.2 {
-				labels[i] = 2
-			}
-			lum[i] = float32(v + 0.03*r.NormFloat64())
+	lum, labels := noisyField(w, h, 4, func(x, y int) (v float64, l int32) {
+		v = 0.2
+		dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
+		if dx*dx+dy*dy < 20*20 {
+			v += 0.4
+			l = 1
 		}
-	}
+		// The blurred disc: radius 20, its profile across the rim
+		// the normal CDF of σ 8 (a blurred step, as the rim is
+		// nearly straight at this radius).
+		d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
+		b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
+		v += b
+		if b > 0.2 {
+			l = 2
+		}
+		return v, l
+	})
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	if drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
