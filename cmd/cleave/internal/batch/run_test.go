@@ -47,6 +47,28 @@ func writeDisc(t *testing.T, p string, r int) {
 	}
 }
 
+// mustPlan returns the plan of c, failing the test when NewPlan refuses
+// it.
+func mustPlan(t *testing.T, c Config) *Plan {
+	t.Helper()
+	p, err := NewPlan(c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+// runPlan plans c and runs it to the end, failing the test (with the log
+// written so far) when either step fails.
+func runPlan(t *testing.T, c Config, log *bytes.Buffer) Outcome {
+	t.Helper()
+	oc, err := mustPlan(t, c).Run(context.Background())
+	if err != nil {
+		t.Fatalf("%v\n%s", err, log.String())
+	}
+	return oc
+}
+
 // testVoice words the engine's advice with plain quotes, so that the
 // tests see where the command's wording applies.
 var testVoice = pipeline.Voice{
@@ -188,18 +210,7 @@ func TestRunResume(t *testing.T) {
 	writeDisc(t, filepath.Join(in, "a.png"), 8)
 	writeDisc(t, filepath.Join(in, "b.png"), 10)
 	var log bytes.Buffer
-	run := func(c Config) Outcome {
-		t.Helper()
-		p, err := NewPlan(c)
-		if err != nil {
-			t.Fatal(err)
-		}
-		oc, err := p.Run(context.Background())
-		if err != nil {
-			t.Fatalf("%v\n%s", err, log.String())
-		}
-		return oc
-	}
+	run := func(c Config) Outcome { return runPlan(t, c, &log) }
 	c := testConfig(in, out, &log)
 	if oc := run(c); oc.Computed != 2 || oc.UpToDate != 0 || oc.Failed != 0 || oc.NotDone != 0 {
 		t.Fatalf("first run %+v\n%s", oc, log.String())
@@ -252,19 +263,7 @@ func TestRunCleanup(t *testing.T) {
 	writeDisc(t, filepath.Join(in, "b.png"), 10)
 	var log bytes.Buffer
 	c := testConfig(in, out, &log)
-	runPlan := func(c Config) Outcome {
-		t.Helper()
-		p, err := NewPlan(c)
-		if err != nil {
-			t.Fatal(err)
-		}
-		oc, err := p.Run(context.Background())
-		if err != nil {
-			t.Fatal(err)
-		}
-		return oc
-	}
-	runPlan(c)
+	runPlan(t, c, &log)
 	// The name pattern imageio.WriteAtomicAs gives its temporary files
 	// (imageio.ParseTempName reads it back).
 	killed := filepath.Join(out, ".a.overlay.png.tmp-shard1of2-pid999999-42")
@@ -279,11 +278,11 @@ func TestRunCleanup(t *testing.T) {
 	}
 	shard := c
 	shard.ShardI, shard.ShardN = 0, 2
-	runPlan(shard)
+	runPlan(t, shard, &log)
 	if _, err := os.Stat(killed); err != nil {
 		t.Errorf("a shard removed another's temporary file: %v", err)
 	}
-	runPlan(c)
+	runPlan(t, c, &log)
 	if _, err := os.Stat(killed); !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("an unsharded run left a killed run's temporary file: %v", err)
 	}
@@ -294,7 +293,7 @@ func TestRunCleanup(t *testing.T) {
 	// b leaves the selection: its outputs are kept and listed...
 	log.Reset()
 	c.Exclude = []string{"b.png"}
-	runPlan(c)
+	runPlan(t, c, &log)
 	if !strings.Contains(log.String(), "kept 7 earlier outputs in "+out+" of 1 input no longer selected (or gone): b.*; 'prune' removes them") {
 		t.Errorf("log %q", log.String())
 	}
@@ -304,7 +303,7 @@ func TestRunCleanup(t *testing.T) {
 	// ... and removed with Prune, a's left alone.
 	log.Reset()
 	c.Prune = true
-	runPlan(c)
+	runPlan(t, c, &log)
 	if !strings.Contains(log.String(), "removed 7 earlier outputs of 1 input no longer selected ('prune'): b.*") {
 		t.Errorf("log %q", log.String())
 	}
@@ -330,11 +329,7 @@ func TestRebuild(t *testing.T) {
 	c.ShardN = 3
 	for _, i := range []int{0, 2} {
 		c.ShardI = i
-		p, err := NewPlan(c)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if oc, err := p.Run(context.Background()); err != nil || oc.Computed != 1 {
+		if oc, err := mustPlan(t, c).Run(context.Background()); err != nil || oc.Computed != 1 {
 			t.Fatalf("shard %d: %+v, %v", i, oc, err)
 		}
 	}
@@ -425,14 +420,7 @@ func TestRunFailures(t *testing.T) {
 	var log bytes.Buffer
 	c := testConfig(in, out, &log)
 	c.Jobs = 1
-	plan := func(c Config) *Plan {
-		t.Helper()
-		p, err := NewPlan(c)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return p
-	}
+	plan := func(c Config) *Plan { return mustPlan(t, c) }
 
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
