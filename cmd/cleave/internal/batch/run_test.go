@@ -47,6 +47,18 @@ func writeDisc(t *testing.T, p string, r int) {
 	}
 }
 
+// twoDiscs writes a.png (a disc of radius 8) and b.png (radius 10) into a
+// new input folder and returns it with an output folder beside it, not
+// yet made.
+func twoDiscs(t *testing.T) (in, out string) {
+	t.Helper()
+	root := t.TempDir()
+	in, out = filepath.Join(root, "in"), filepath.Join(root, "out")
+	writeDisc(t, filepath.Join(in, "a.png"), 8)
+	writeDisc(t, filepath.Join(in, "b.png"), 10)
+	return in, out
+}
+
 // mustPlan returns the plan of c, failing the test when NewPlan refuses
 // it.
 func mustPlan(t *testing.T, c Config) *Plan {
@@ -205,10 +217,7 @@ func readCSV(t *testing.T, p string) [][]string {
 // objects table and the report; a rerun finds every record current; a
 // changed input or other parameters are computed again.
 func TestRunResume(t *testing.T) {
-	root := t.TempDir()
-	in, out := filepath.Join(root, "in"), filepath.Join(root, "out")
-	writeDisc(t, filepath.Join(in, "a.png"), 8)
-	writeDisc(t, filepath.Join(in, "b.png"), 10)
+	in, out := twoDiscs(t)
 	var log bytes.Buffer
 	run := func(c Config) Outcome { return runPlan(t, c, &log) }
 	c := testConfig(in, out, &log)
@@ -257,10 +266,7 @@ func TestRunResume(t *testing.T) {
 // inputs no longer selected; Prune removes them. A shard removes no
 // temporary file it does not own.
 func TestRunCleanup(t *testing.T) {
-	root := t.TempDir()
-	in, out := filepath.Join(root, "in"), filepath.Join(root, "out")
-	writeDisc(t, filepath.Join(in, "a.png"), 8)
-	writeDisc(t, filepath.Join(in, "b.png"), 10)
+	in, out := twoDiscs(t)
 	var log bytes.Buffer
 	c := testConfig(in, out, &log)
 	runPlan(t, c, &log)
