@@ -116,10 +116,7 @@ func Clusters(o ClustersOptions) *Scene {
 	rng := newRand(o.Seed, 0x636c7573746572) // "cluster"
 	area := fw * fh / (512 * 512)
 
-	count := o.Count
-	if count == 0 {
-		count = max(1, int(math.Round(float64(30+rng.IntN(51))*area)))
-	}
+	count := countPerField(rng, o.Count, 30, 80, area)
 	rTyp := o.RadiusMin + (o.RadiusMax-o.RadiusMin)*uniform(rng, 0.2, 0.45)
 	// Background and illumination come first: dim groups need them.
 	corner := uniform(rng, 0.5, 0.85)

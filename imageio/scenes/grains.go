@@ -85,10 +85,7 @@ func Grains(o GrainsOptions) *Scene {
 	if count == 0 {
 		count = max(2, int(math.Round(math.Exp(uniform(rng, math.Log(40), math.Log(300)))*area)))
 	}
-	bw := o.BoundaryWidth
-	if bw == 0 {
-		bw = uniform(rng, 1.2, 3)
-	}
+	bw := uniformUnlessSet(rng, o.BoundaryWidth, 1.2, 3)
 
 	spacing := math.Sqrt(fw * fh / float64(count))
 	type seed struct{ x, y, wt float64 }

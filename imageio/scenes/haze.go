@@ -89,10 +89,7 @@ func Haze(o HazeOptions) *Scene {
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x68617a65) // "haze"
 	area := fw * fh / (512 * 512)
-	count := o.Count
-	if count == 0 {
-		count = max(1, int(math.Round(float64(8+rng.IntN(13))*area)))
-	}
+	count := countPerField(rng, o.Count, 8, 20, area)
 
 	illum := vignette(rng, w, h, uniform(rng, 0.6, 0.9))
 	haze := glow(rng, w, h, o.Glow)

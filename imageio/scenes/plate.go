@@ -111,10 +111,7 @@ func Plate(o PlateOptions) *Scene {
 	rng := newRand(o.Seed, 0x706c617465) // "plate"
 	area := fw * fh / (512 * 512)
 
-	nPits := o.Pits
-	if nPits == 0 {
-		nPits = max(1, int(math.Round(float64(5+rng.IntN(5))*area)))
-	}
+	nPits := countPerField(rng, o.Pits, 5, 9, area)
 	nPits = max(nPits, 0)
 	nScr := o.Scratches
 	if nScr == 0 {

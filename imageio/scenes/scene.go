@@ -78,3 +78,22 @@ func coverage(m float64) float64 {
 func uniform(rng *rand.Rand, lo, hi float64) float64 {
 	return lo + (hi-lo)*rng.Float64()
 }
+
+// uniformUnlessSet returns v when it is nonzero (an option set by the
+// caller), else a draw from [lo, hi) (see uniform).
+func uniformUnlessSet(rng *rand.Rand, v, lo, hi float64) float64 {
+	if v != 0 {
+		return v
+	}
+	return uniform(rng, lo, hi)
+}
+
+// countPerField returns n when it is nonzero (an option set by the
+// caller), else a draw uniform in lo..hi per 512² pixels scaled by the
+// field's area in those units, rounded, at least 1.
+func countPerField(rng *rand.Rand, n, lo, hi int, area float64) int {
+	if n != 0 {
+		return n
+	}
+	return max(1, int(math.Round(float64(lo+rng.IntN(hi-lo+1))*area)))
+}

@@ -92,10 +92,7 @@ func Stained(o StainedOptions) *Scene {
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x737461696e) // "stain"
 	area := fw * fh / (512 * 512)
-	count := o.Count
-	if count == 0 {
-		count = max(1, int(math.Round(float64(25+rng.IntN(36))*area)))
-	}
+	count := countPerField(rng, o.Count, 25, 60, area)
 	rTyp := o.RadiusMin + (o.RadiusMax-o.RadiusMin)*uniform(rng, 0.3, 0.55)
 
 	type nucleus struct {

@@ -167,22 +167,10 @@ func Surface(o SurfaceOptions) *Scene {
 	fw, fh := float64(w), float64(h)
 	rng := newRand(o.Seed, 0x73757266616365) // "surface"
 	area := fw * fh / (512 * 512)
-	grain := o.Grain
-	if grain == 0 {
-		grain = uniform(rng, 0.06, 0.12)
-	}
-	gradient := o.Gradient
-	if gradient == 0 {
-		gradient = uniform(rng, 1.5, 3)
-	}
-	nPits := o.Pits
-	if nPits == 0 {
-		nPits = max(1, int(math.Round(float64(4+rng.IntN(9))*area)))
-	}
-	nInc := o.Inclusions
-	if nInc == 0 {
-		nInc = max(1, int(math.Round(float64(3+rng.IntN(8))*area)))
-	}
+	grain := uniformUnlessSet(rng, o.Grain, 0.06, 0.12)
+	gradient := uniformUnlessSet(rng, o.Gradient, 1.5, 3)
+	nPits := countPerField(rng, o.Pits, 4, 12, area)
+	nInc := countPerField(rng, o.Inclusions, 3, 10, area)
 	lightAngle := uniform(rng, 0, 2*math.Pi)
 	lx, ly := math.Cos(lightAngle), math.Sin(lightAngle)
 
