@@ -125,7 +125,7 @@ var searchFlagHelp = [tune.NumParams]string{
 	"pixel-graph radii to search, e.g. 3,5,8 (default 5; matters only with a pixel graph)",
 	"superpixel counts to search, e.g. 800,1500,3000; 0 = pixel graph (default auto)",
 	"SLIC compactness values to search (default 20)",
-	"with --background dark or bright, the shape split of touching objects: on, off, or on,off to search both (on = cut also where the outline is pinched, off = only along seams that do not run through a neck; default on)",
+	"with --background dark or bright, the shape split of touching objects: on, off, or on,off to search both (on = cut also where the outline is pinched or notched, off = only along seams that do not run through a neck; default on)",
 }
 
 func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
