@@ -333,31 +333,35 @@ func concaveCut(nodes []int, cw, ch int, part []int, inA []bool) bool {
 	return shallow > neckNoise && deep > concaveNoise
 }
 
-// refineStep is the least relative difference of mean contrast,
-// |mA - mB| / max(mA, mB), at which the two sides of a split are taken
+// refineStep is the least relative difference of plateau contrast,
+// |pA - pB| / max(pA, pB), at which the two sides of a split are taken
 // for two objects of different staining. Uneven light changes the
 // contrast of one object by a few per cent over its length; touching
 // nuclei commonly differ by more. Our choice (DEVELOPERS.md, "Measured
 // choices").
 const refineStep = 0.1
 
-// differ reports whether the two sides of a split differ in mean scaled
-// contrast by at least refineStep relatively.
+// differ reports whether the two sides of a split differ in scaled
+// contrast by at least refineStep relatively, each side's contrast taken
+// as its plateau (halfMaxLevel, up to the common factor tightenLevel). A
+// side's mean would fall with the share of its pixels on the blurred
+// rim: the cap of a rod cut off at a stub differed from the rest of the
+// same rod by more than refineStep in mean (othershapes rods seed 911).
 func (o *objectCrop) differ(part []int, inA []bool) bool {
-	var sum [2]float64
-	var cnt [2]int
+	var vals [2][]float32
 	for k, v := range part {
 		s := 1
 		if inA[k] {
 			s = 0
 		}
-		sum[s] += float64(o.feat[o.nodes[v]])
-		cnt[s]++
+		vals[s] = append(vals[s], o.feat[o.nodes[v]])
 	}
-	if cnt[0] == 0 || cnt[1] == 0 {
+	if len(vals[0]) == 0 || len(vals[1]) == 0 {
 		return false
 	}
-	a, b := sum[0]/float64(cnt[0]), sum[1]/float64(cnt[1])
+	slices.Sort(vals[0])
+	slices.Sort(vals[1])
+	a, b := float64(halfMaxLevel(vals[0])), float64(halfMaxLevel(vals[1]))
 	hi := math.Max(a, b)
 	return hi > 0 && math.Abs(a-b) >= refineStep*hi
 }
