@@ -75,7 +75,10 @@ The automatic settings (kernel widths each image sets for itself) are
 scored first and kept when no searched setting beats them by more than a
 tie: with a few images many settings tie, and a value chosen among them
 carries over to new images worse (tune.json: automatic_kept; the folds
-of --folds follow the same rule).
+of --folds follow the same rule). They are also kept when the
+cross-validated score (--folds) is no better than theirs: the search's
+choices did not carry over to images they were not chosen on
+(automatic_kept_by: tie or cross-validation).
 
 %s
 Flags:

@@ -287,3 +287,68 @@ func TestTuneKeepsAutomaticOnTies(t *testing.T) {
 		}
 	}
 }
+
+// Validate keeps the automatic settings when the search does not carry
+// over to held-out images. Three images each score F1 1 at a sigma-x of
+// their own (4, 8, 16) and 0.8 at the others; the automatic settings score
+// 0.85 on all. On all three images every grid setting scores 0.867 and
+// beats the automatic ones, but a search without image i never picks i's
+// value, so each held-out image scores 0.8 and the cross-validated score
+// 0.8 is below 0.85: the automatic settings are kept. When every image
+// peaks at 16 the search carries over (cross-validated 1) and its choice
+// stays. (Closed forms chosen for the test.)
+func TestTuneValidateKeepsAutomatic(t *testing.T) {
+	own := []float64{4, 8, 16}
+	for _, c := range []struct {
+		name string
+		peak func(img int) float64
+		kept bool
+	}{
+		{"each image its own value", func(img int) float64 { return own[img] }, true},
+		{"one value for all", func(int) float64 { return 16 }, false},
+	} {
+		f := func(sx float64, img int) float64 {
+			if sx == c.peak(img) {
+				return 1
+			}
+			return 0.8
+		}
+		tn := synthTuner(own, f, func(float64, int) float64 { return 1 })
+		tn.Names = []string{"a", "b", "c"}
+		// The automatic evaluation, off the grid (sigma-x 10): 0.85.
+		tn.Objective = func(obj Objective) Objective {
+			return func(ctx context.Context, p segment.Params, img int) (Sample, error) {
+				if p.SigmaX == 10 {
+					return Sample{Report: score.Report{F1: 0.85}, Cost: 1}, nil
+				}
+				return obj(ctx, p, img)
+			}
+		}(tn.Objective)
+		p := tn.Base
+		p.SigmaX = 10
+		auto, err := tn.EvaluateParams(ctx, p, "automatic", "baseline")
+		if err != nil {
+			t.Fatal(err)
+		}
+		tn.Automatic = auto
+		all := tn.All()
+		_, cv, err := tn.CrossValidate(ctx, 3, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := tn.Search(ctx, all, 0, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.KeptAutomatic {
+			t.Fatalf("%s: the search kept the automatic settings on ties; the test needs a searched setting that beats them (best %v)", c.name, tn.Value(res.Best, all))
+		}
+		tn.Validate(res, cv, all)
+		if res.Unvalidated != c.kept || (res.Best == auto) != c.kept || res.KeptAutomatic != c.kept {
+			t.Errorf("%s: cross-validated %.3f, automatic %.3f: kept %v (unvalidated %v), want %v", c.name, cv, tn.Value(auto, all), res.KeptAutomatic, res.Unvalidated, c.kept)
+		}
+		if c.kept && math.Abs(res.Validated-0.8) > 1e-9 {
+			t.Errorf("%s: Validated %v, want the cross-validated 0.8", c.name, res.Validated)
+		}
+	}
+}

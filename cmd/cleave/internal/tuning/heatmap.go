@@ -91,7 +91,10 @@ func (o *Outcome) heatmap() render.Heatmap {
 	}
 	h.Caption = "at " + strings.Join(fixedParts, ", ")
 	// The refined best at its log position when it left the grid.
-	if o.kept {
+	switch {
+	case o.unvalidated:
+		h.Caption += "; automatic settings kept (the search did not carry over to held-out images)"
+	case o.kept:
 		h.Caption += "; automatic settings kept (none here beat them by more than a tie)"
 	}
 	if best != gridBest && !o.kept && len(xs) > 1 && len(ys) > 1 && !t.Space[tune.SigmaI].Auto && !t.Space[tune.SigmaX].Auto {

@@ -32,9 +32,12 @@ type Report struct {
 	CVError         string            `json:"cross_validation_error,omitempty"`
 	Folds           []tune.Fold       `json:"fold_results,omitempty"`
 	Best            map[string]string `json:"best"`
-	// AutomaticKept: no searched setting beat the automatic settings by
-	// more than a tie, so best.json holds them (tune.Tuner.Automatic).
+	// AutomaticKept: best.json holds the automatic settings
+	// (tune.Tuner.Automatic); KeptBy says why: "tie" (no searched setting
+	// beat them by more than a tie) or "cross-validation" (the
+	// cross-validated score of the search did not, tune.Tuner.Validate).
 	AutomaticKept   bool            `json:"automatic_kept"`
+	KeptBy          string          `json:"automatic_kept_by,omitempty"`
 	Space           map[string]any  `json:"search_space"`
 	Widenings       []tune.Widening `json:"widenings"`
 	Evaluations     int             `json:"evaluations"`

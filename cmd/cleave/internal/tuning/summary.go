@@ -69,7 +69,9 @@ func (o *Outcome) WriteSummary(w io.Writer, out string) {
 	}
 	fmt.Fprintf(w, "best:                mean %s %.4f%s; %s\n", rep.Metric, rep.Score, others(rep.BestMetrics), per)
 	fmt.Fprintf(w, "                     (%s)\n", strings.Join(parts, ", "))
-	if rep.AutomaticKept {
+	if rep.AutomaticKept && rep.KeptBy == "cross-validation" && rep.CVScore != nil && rep.Baseline != nil {
+		fmt.Fprintf(w, "kept:                the automatic settings: the search's choices scored %s %.4f on images they were not chosen on (cross-validated), no better than the automatic settings' %.4f: the best setting on these images is fitted to them\n", rep.Metric, *rep.CVScore, *rep.Baseline)
+	} else if rep.AutomaticKept {
 		fmt.Fprintf(w, "kept:                the automatic settings: no searched setting beat them by more than a tie (relative %g), and widths each image sets for itself carry over to new images better than a value chosen among ties\n", rep.TieRelative)
 	} else if n := len(rep.Tied); n > 1 {
 		fmt.Fprintf(w, "ties:                %d settings tied (within a relative %g); the cheapest by the cost model, or the smoother within %.0f%% of its cost, chosen (see tune.json)\n", n, rep.TieRelative, 100*(tune.CostMargin-1))

@@ -163,9 +163,10 @@ type Outcome struct {
 	baseline *tune.Evaluation
 	gridBest *tune.Evaluation
 	best     *tune.Evaluation
-	// kept: no searched setting beat the automatic settings by more
-	// than a tie, and best is the baseline (tune.Result.KeptAutomatic).
-	kept bool
+	// kept: best is the baseline (tune.Result.KeptAutomatic): no
+	// searched setting beat the automatic settings by more than a tie,
+	// or (unvalidated) the cross-validated score did not.
+	kept, unvalidated bool
 }
 
 // nopProgress is the progress of a run without one.
@@ -260,6 +261,9 @@ func Run(ctx context.Context, cfg *Config) (*Outcome, error) {
 	if err != nil {
 		return nil, err
 	}
+	if cv != nil {
+		t.Validate(res, *cv, all)
+	}
 	if err := t.TimeTies(ctx, res); err != nil {
 		return nil, err
 	}
@@ -269,10 +273,14 @@ func Run(ctx context.Context, cfg *Config) (*Outcome, error) {
 		return nil, fmt.Errorf("every setting failed on some image; first error: %s", firstError(t.Order))
 	}
 	t.Space = res.Space // the ranges as widened, for tune.png and tune.json
-	o := &Outcome{cfg: cfg, tuner: t, baseline: baseline, gridBest: res.GridBest, best: res.Best, kept: res.KeptAutomatic}
+	o := &Outcome{cfg: cfg, tuner: t, baseline: baseline, gridBest: res.GridBest, best: res.Best, kept: res.KeptAutomatic, unvalidated: res.Unvalidated}
 	o.Report = newReport(cfg, t, res, baseline, folds, cv, k, len(gridPts))
 	if o.kept {
 		o.Report.AutomaticKept = true
+		o.Report.KeptBy = "tie"
+		if o.unvalidated {
+			o.Report.KeptBy = "cross-validation"
+		}
 		for _, d := range tune.Params() {
 			if _, ok := o.Report.Best[d.String()]; ok {
 				o.Report.Best[d.String()] = o.settingText(d)
