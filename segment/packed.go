@@ -52,8 +52,8 @@ const noiseFloor = 1e-3
 // line pixel: the cut may split an object where no line runs, and that
 // must not make two objects. Line pixels become background, holes inside
 // an object are filled, and pieces under minArea pixels go to the
-// background. It returns labels 0 (lines) and 1..N in raster order, and
-// N.
+// background, as do fragments (withoutFragments). It returns labels 0
+// (lines) and 1..N in raster order, and N.
 func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int) ([]int32, int) {
 	var (
 		ridge []float32
@@ -117,7 +117,44 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 	}
 	fillHoles(group, w, h)
 	lab, k := componentsOfGroups(group, w, h, minArea)
-	return joinUnlined(lab, k, w, h)
+	lab, k = joinUnlined(lab, k, w, h)
+	return withoutFragments(lab, k)
+}
+
+// withoutFragments sends to the background (the lines) every object of
+// a packed field smaller than crumbFraction of the median object area,
+// and numbers the rest 1..N in raster order. The objects of a packed
+// field are of one order of size; a piece that small is texture that a
+// short spurious ridge cut off a corner of its object (on generated
+// membranes, choice seeds 910-913 of othershapes.py, pieces of 20-65 px
+// against cells of about 2,000; on scikit-image's gravel.png 27 pieces of
+// 20-65 px against a median object of 530). Choice seeds, object F1 before
+// -> after: membranes 0.886 -> 0.917, grains (13700-13707) 0.979 ->
+// 0.998; gravel.png 243 -> 216 objects, the other 216 unchanged. A field
+// whose objects really differ in size by more than eight times (a powder
+// with fines) loses its smallest ones.
+func withoutFragments(labels []int32, n int) ([]int32, int) {
+	if n < 3 {
+		return labels, n
+	}
+	area := make([]int, n+1)
+	for _, l := range labels {
+		area[l]++
+	}
+	sorted := slices.Clone(area[1:])
+	slices.Sort(sorted)
+	median := sorted[(len(sorted)-1)/2]
+	drop := make([]bool, n+1)
+	found := false
+	for l := 1; l <= n; l++ {
+		if float64(area[l]) < crumbFraction*float64(median) {
+			drop[l], found = true, true
+		}
+	}
+	if !found {
+		return labels, n
+	}
+	return withoutLabels(labels, n, drop)
 }
 
 // joinUnlined merges every object (labels 1..n, 0 lines and background)

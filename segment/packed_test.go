@@ -3,6 +3,7 @@ package segment
 import (
 	"context"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/cleave-seg/cleave/segment/score"
@@ -99,5 +100,48 @@ func TestJoinUnlined(t *testing.T) {
 	}
 	if got[2*w+2] != got[0] || got[0] == got[w-1] {
 		t.Errorf("speck in %d, left object %d, right object %d: want the speck with the left one and the two sides apart", got[2*w+2], got[0], got[w-1])
+	}
+}
+
+// withoutFragments on a 4 x 4 mosaic of 10 x 10 tiles (median area 100):
+// a corner piece of 3 x 3 pixels cut off one tile (area 9, under 100/8)
+// goes to the background and the rest are renumbered in raster order; a
+// piece of 4 x 4 (16, above 12.5) stays, and a mosaic of equal tiles is
+// returned unchanged.
+func TestWithoutFragments(t *testing.T) {
+	const w, s = 40, 10
+	mosaic := func(cut int) ([]int32, int) {
+		lab := make([]int32, w*w)
+		n := int32(0)
+		id := map[[2]int]int32{}
+		for y := 0; y < w; y++ {
+			for x := 0; x < w; x++ {
+				k := [2]int{y / s, x / s}
+				if cut > 0 && x >= 15 && x < 15+cut && y >= 15 && y < 15+cut {
+					k = [2]int{-1, -1} // the corner piece of tile (1, 1)
+				}
+				if id[k] == 0 {
+					n++
+					id[k] = n
+				}
+				lab[y*w+x] = id[k]
+			}
+		}
+		return lab, int(n)
+	}
+	for _, c := range []struct {
+		cut, want int
+	}{{0, 16}, {3, 16}, {4, 17}} {
+		lab, n := mosaic(c.cut)
+		out, m := withoutFragments(lab, n)
+		if m != c.want {
+			t.Errorf("corner piece %dx%d: %d objects, want %d", c.cut, c.cut, m, c.want)
+		}
+		if c.cut == 3 && (out[16*w+16] != 0 || out[0] != 1 || out[w*w-1] != 16) {
+			t.Errorf("corner piece 3x3: label %d at the piece (want 0), %d and %d at the field's corners (want 1 and 16)", out[16*w+16], out[0], out[w*w-1])
+		}
+		if c.cut == 0 && !slices.Equal(out, lab) {
+			t.Error("equal tiles: labels changed")
+		}
 	}
 }
