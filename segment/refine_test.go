@@ -479,6 +479,12 @@ func TestCropNoiseAndSeam(t *testing.T) {
 			t.Errorf("noise %.2f: estimated %.4f, want within 10%%", sigma, got)
 		}
 		o := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: got}
+		// The disc's plateau is 1, so its plateau SNR is 1/σ (the
+		// median of noisy values at or above half of it is 1 within a
+		// few thousandths; the noise estimate within 10%).
+		if snr := o.plateauSNR(); math.Abs(snr*sigma-1) > 0.12 {
+			t.Errorf("noise %.2f: plateau SNR %.1f, want %.1f within 12%%", sigma, snr, 1/sigma)
+		}
 		part := make([]int, len(nodes))
 		inA := make([]bool, len(nodes))
 		for k, c := range nodes {
@@ -571,6 +577,25 @@ func TestRefineSplitsConcaveClump(t *testing.T) {
 		}
 		if ref.n < tc.atLeast || ref.n > tc.atMost {
 			t.Errorf("necks %v: %d objects, want %d-%d", tc.necks, ref.n, tc.atLeast, tc.atMost)
+		}
+	}
+}
+
+// sliverSplit: a side under crumbFraction (1/8) of the other is a sliver.
+func TestSliverSplit(t *testing.T) {
+	side := func(a, b int) []bool {
+		in := make([]bool, a+b)
+		for i := range a {
+			in[i] = true
+		}
+		return in
+	}
+	for _, c := range []struct {
+		a, b int
+		want bool
+	}{{10, 100, true}, {12, 100, true}, {13, 100, false}, {50, 50, false}, {100, 12, true}, {0, 5, true}} {
+		if got := sliverSplit(side(c.a, c.b)); got != c.want {
+			t.Errorf("sides %d and %d: sliver %v, want %v", c.a, c.b, got, c.want)
 		}
 	}
 }
