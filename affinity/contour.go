@@ -3,6 +3,8 @@ package affinity
 import (
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // ContourScale is the scale σ (pixels) of the derivative-of-Gaussian
@@ -153,7 +155,7 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			o0[x], o1[x], o2[x] = float32(t0), float32(t1), float32(t2)
 		}
 	}
-	workers = numWorkers(workers) // below 1: all cores, as everywhere
+	workers = parallel.Workers(workers)
 	ring := 2*r + 1
 	type buffers struct {
 		rows [][3][]float32 // ring of horizontally filtered rows; row y in slot y mod ring
@@ -173,7 +175,7 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		}
 		pool <- b
 	}
-	forChunks(nb, workers, func(c int) {
+	parallel.For(nb, workers, func(c int) {
 		buf := <-pool
 		defer func() { pool <- buf }()
 		y0, y1 := c*jetBandRows, min(h, (c+1)*jetBandRows)

@@ -2,6 +2,8 @@ package affinity
 
 import (
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Grain is the directional texture model of a machined surface (grinding
@@ -66,7 +68,7 @@ func EstimateGrain(plane []float32, w, h int, workers int) Grain {
 		}
 	})
 	rows := make([][3]float64, h)
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		for y := y0; y < y1; y++ {
 			var a, b, c float64
 			for i := y * w; i < (y+1)*w; i++ {
@@ -122,7 +124,7 @@ func EstimateGrain(plane []float32, w, h int, workers int) Grain {
 // lies inside the image; 0 when there are none or v vanishes there.
 func alongCorrelation(v []float32, w, h int, dx, dy float64, workers int) float64 {
 	rows := make([][3]float64, h)
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		for y := y0; y < y1; y++ {
 			py := float64(y) + dy
 			if py < 0 || py > float64(h-1) {
@@ -206,7 +208,7 @@ func RemoveGrain(plane []float32, w, h int, g Grain, workers int) []float32 {
 	}
 	out := make([]float32, w*h)
 	c := float32(g.Share)
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		for y := y0; y < y1; y++ {
 			inY := y+oyLo >= 0 && y+oyHi < h
 			for x := 0; x < w; x++ {

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"runtime"
 )
 
 // ParamError reports a parameter outside its domain by its name, as the
@@ -126,12 +125,4 @@ func checkPlanes(f [][]float32, w, h int) error {
 		}
 	}
 	return nil
-}
-
-// numWorkers maps workers < 1 to GOMAXPROCS.
-func numWorkers(workers int) int {
-	if workers < 1 {
-		return runtime.GOMAXPROCS(0)
-	}
-	return workers
 }

@@ -2,6 +2,8 @@ package affinity
 
 import (
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // stencil is the list of neighbour offsets (dx, dy) with 0 < dx²+dy² <= r²,
@@ -146,7 +148,7 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 	const rowsPerChunk = 4
 	nchunks := (h + rowsPerChunk - 1) / rowsPerChunk
 	dropped := make([]int, nchunks)
-	forChunks(nchunks, numWorkers(workers), func(c int) {
+	parallel.For(nchunks, workers, func(c int) {
 		y0, y1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, h)
 		for y := y0; y < y1; y++ {
 			dropped[c] += fillPixelRows(f, w, h, y, st, invI2, rowPtr, col, wt, kept)

@@ -3,6 +3,8 @@ package affinity
 import (
 	"fmt"
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Regions summarizes a labelling of a w x h image into N regions
@@ -76,7 +78,7 @@ const adjRows = 128
 func Adjacency(w, h int, labels []int32, n, workers int) *Graph {
 	nb := (h + adjRows - 1) / adjRows
 	bands := make([]map[uint64]float32, nb)
-	forChunks(nb, numWorkers(workers), func(c int) {
+	parallel.For(nb, workers, func(c int) {
 		counts := make(map[uint64]float32)
 		add := func(a, b int32) {
 			if a > b {

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // ScaleEstimate is the answer of ObjectScale.
@@ -104,7 +106,6 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 	if w < 0 || h < 0 || len(lum) != w*h {
 		panic(fmt.Sprintf("affinity: ObjectScale on %d values for %dx%d", len(lum), w, h))
 	}
-	workers = numWorkers(workers)
 	var none ScaleEstimate
 	kMax := int(math.Floor(4 * math.Log2(float64(min(w, h))/8)))
 	if kMax < 2 {
@@ -411,13 +412,18 @@ func gaussKernel(s float64) []float32 {
 	return out
 }
 
+// bandRows is the number of image rows in one work chunk of the band
+// loops (parallel.Blocks) of scale.go and grain.go; fixed, so the bands
+// depend on the image height only.
+const bandRows = 32
+
 // gaussBlur writes to dst the plane v blurred by a separable sampled
 // Gaussian of standard deviation s pixels, edges reflected. dst may be v;
 // tmp is scratch of the same size.
 func gaussBlur(v, dst, tmp []float32, w, h int, s float64, workers int) {
 	k := gaussKernel(s)
 	r := len(k) - 1
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		pad := make([]float32, w+2*r)
 		src := make([][]float32, 2*r+1)
 		for y := y0; y < y1; y++ {
@@ -433,7 +439,7 @@ func gaussBlur(v, dst, tmp []float32, w, h int, s float64, workers int) {
 			symTaps(tmp[y*w:(y+1)*w], src, k)
 		}
 	})
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		src := make([][]float32, 2*r+1)
 		for y := y0; y < y1; y++ {
 			for j := range src {
@@ -494,7 +500,7 @@ func symTaps(out []float32, src [][]float32, k []float32) {
 // response independent of the level (σ²∇² is dimensionless).
 func normLaplacian(b, dst []float32, w, h int, t float64, workers int) {
 	tf := float32(t / 12)
-	forBands(h, workers, func(_, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
 		pad := make([]float32, w+4)
 		for y := y0; y < y1; y++ {
 			row := b[y*w : (y+1)*w]
@@ -543,7 +549,7 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 	out := make([][]blob, nb)
 	lo, mid, hi := resp[0], resp[1], resp[2]
 	unit := math.Ldexp(1, level) // image pixels per level pixel
-	forBands(h, workers, func(c, y0, y1 int) {
+	parallel.Blocks(h, bandRows, workers, func(c, y0, y1 int) {
 		var found []blob
 		for y := max(y0, 1); y < min(y1, h-1); y++ {
 			row := mid[y*w : (y+1)*w]

@@ -2,6 +2,8 @@ package affinity
 
 import (
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // SLIC partitions a w x h image into compact superpixels by simple linear
@@ -52,10 +54,9 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels []int32, n
 		iters = 10
 	}
 	s := newSLICState(f, w, h, p.Count, p.Compactness/100)
-	workers = numWorkers(workers)
 	for it := 0; it < iters; it++ {
-		forChunks(s.nb, workers, s.assign)
-		forChunks(s.nb, workers, s.accumulate)
+		parallel.For(s.nb, workers, s.assign)
+		parallel.For(s.nb, workers, s.accumulate)
 		s.update()
 	}
 	expected := w * h / s.k

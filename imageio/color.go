@@ -1,6 +1,10 @@
 package imageio
 
-import "math"
+import (
+	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
+)
 
 // Rec. 709 / sRGB luma coefficients (ITU-R BT.709-6, item 3.2; the middle
 // row of the IEC 61966-2-1 RGB-to-XYZ matrix).
@@ -23,7 +27,7 @@ func luminance(im *Image, workers int) []float32 {
 		return out
 	}
 	r, g, b := im.Planes[0], im.Planes[1], im.Planes[2]
-	parallelRange(n, workers, func(lo, hi int) {
+	parallel.Blocks(n, pixelBlock, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			out[i] = float32(lumaR*float64(r[i]) + lumaG*float64(g[i]) + lumaB*float64(b[i]))
 		}
@@ -140,7 +144,7 @@ func labPlanes(im *Image, workers int) [][]float32 {
 	L := make([]float32, n)
 	if im.Channels == 1 {
 		g := im.Planes[0]
-		parallelRange(n, workers, func(lo, hi int) {
+		parallel.Blocks(n, pixelBlock, workers, func(_, lo, hi int) {
 			for i := lo; i < hi; i++ {
 				L[i] = float32(116*labF(linearOf(lin, g[i])) - 16)
 			}
@@ -149,7 +153,7 @@ func labPlanes(im *Image, workers int) [][]float32 {
 	}
 	A, B := make([]float32, n), make([]float32, n)
 	r, g, b := im.Planes[0], im.Planes[1], im.Planes[2]
-	parallelRange(n, workers, func(lo, hi int) {
+	parallel.Blocks(n, pixelBlock, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			l, a, bb := rgbToLab(linearOf(lin, r[i]), linearOf(lin, g[i]), linearOf(lin, b[i]))
 			L[i], A[i], B[i] = float32(l), float32(a), float32(bb)

@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // ColorSpace is the feature space of FeatureOptions.Space.
@@ -288,7 +290,7 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 			lab[0] = L
 		}
 		for _, p := range lab {
-			parallelRange(len(p), workers, func(a, b int) {
+			parallel.Blocks(len(p), pixelBlock, workers, func(_, a, b int) {
 				for i := a; i < b; i++ {
 					p[i] /= 100
 				}

@@ -3,6 +3,8 @@ package imageio
 import (
 	"context"
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // boxWidths returns the widths of n successive box filters whose combined
@@ -96,7 +98,7 @@ func boxRows(src, dst []float32, w, h, r, workers int) {
 		return
 	}
 	inv := 1 / float64(2*r+1)
-	parallelRange(h, workers, func(y0, y1 int) {
+	parallel.Blocks(h, rowBlock, workers, func(_, y0, y1 int) {
 		pad := make([]float32, w+2*r+2) // pad[j] = row[reflect(j-r-1)]
 		for y := y0; y < y1; y++ {
 			row, out := src[y*w:(y+1)*w], dst[y*w:(y+1)*w]
@@ -127,7 +129,7 @@ func boxCols(src, dst []float32, w, h, r, workers int) {
 		return
 	}
 	inv := 1 / float64(2*r+1)
-	parallelRange(w, workers, func(x0, x1 int) {
+	parallel.Blocks(w, colBlock, workers, func(_, x0, x1 int) {
 		s := make([]float64, x1-x0)
 		for j := -r; j <= r; j++ {
 			row := src[reflect(j, h)*w:]
@@ -154,7 +156,7 @@ func boxCols(src, dst []float32, w, h, r, workers int) {
 // order, so the result does not depend on the worker count.
 func meanOf(v []float32, w, h, workers int) float64 {
 	rows := make([]float64, h)
-	parallelRange(h, workers, func(y0, y1 int) {
+	parallel.Blocks(h, rowBlock, workers, func(_, y0, y1 int) {
 		for y := y0; y < y1; y++ {
 			var s float64
 			for _, x := range v[y*w : (y+1)*w] {
@@ -191,7 +193,7 @@ func flatten(ctx context.Context, f []float32, w, h int, R float64, mode Flatten
 	m := meanOf(bg, w, h, workers)
 	out := make([]float32, len(f))
 	if mode == FlattenSubtract {
-		parallelRange(len(f), workers, func(lo, hi int) {
+		parallel.Blocks(len(f), pixelBlock, workers, func(_, lo, hi int) {
 			for i := lo; i < hi; i++ {
 				out[i] = float32(float64(f[i]) - float64(bg[i]) + m)
 			}
@@ -202,7 +204,7 @@ func flatten(ctx context.Context, f []float32, w, h int, R float64, mode Flatten
 		return out, nil
 	}
 	eps := 1e-3 * m
-	parallelRange(len(f), workers, func(lo, hi int) {
+	parallel.Blocks(len(f), pixelBlock, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			out[i] = float32(float64(f[i]) * m / max(float64(bg[i]), eps))
 		}

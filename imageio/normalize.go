@@ -3,6 +3,8 @@ package imageio
 import (
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Percentiles used by the "percentile" normalization and the display plane.
@@ -105,10 +107,10 @@ func orderStats(v []float32, ranks []int, workers int) []float64 {
 // whose high 16 bits equal bucket. Per-worker histograms are added in a
 // fixed order.
 func keyHistogram(v []float32, workers int, low bool, bucket uint32) []int {
-	nw := min(numWorkers(workers), 8)
+	nw := min(parallel.Workers(workers), 8)
 	parts := make([][]int, nw)
 	chunk := (len(v) + nw - 1) / nw
-	forEach(nw, nw, func(p int) {
+	parallel.For(nw, nw, func(p int) {
 		h := make([]int, 65536)
 		part := v[min(p*chunk, len(v)):min((p+1)*chunk, len(v))]
 		if low {
@@ -155,7 +157,7 @@ func stretch(v []float32, lo, hi float64, workers int) {
 		return
 	}
 	s := 1 / (hi - lo)
-	parallelRange(len(v), workers, func(a, b int) {
+	parallel.Blocks(len(v), pixelBlock, workers, func(_, a, b int) {
 		for i := a; i < b; i++ {
 			t := (float64(v[i]) - lo) * s
 			v[i] = float32(min(max(t, 0), 1))

@@ -10,6 +10,7 @@ import (
 	"sync"
 	"sync/atomic"
 
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/klauspost/compress/flate"
 )
 
@@ -73,7 +74,7 @@ const pngDict = 32 << 10
 // choices); only the deflate differs from png.Encoder's.
 func encodePNGRows(w io.Writer, p pngRows, workers int) error {
 	width, height, bpp := p.width, p.height, p.bpp
-	workers = numWorkers(workers)
+	workers = parallel.Workers(workers)
 	sz := 1 + bpp*width // filter byte and the row
 	band := max(1, pngBandBytes/sz)
 	// Rows before a band whose filtered bytes fill the dictionary.

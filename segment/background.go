@@ -2,9 +2,9 @@ package segment
 
 import (
 	"math"
-	"runtime"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Local background mesh (common practice in detecting faint sources on a
@@ -177,13 +177,7 @@ const rowBand = 64
 // image of h rows on at most workers goroutines (workers < 1:
 // GOMAXPROCS). The bands depend on h only, never on the worker count.
 func forRowBands(h, workers int, fn func(y0, y1 int)) {
-	if workers < 1 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	n := (h + rowBand - 1) / rowBand
-	forEach(n, workers, func(c int) {
-		fn(c*rowBand, min(h, (c+1)*rowBand))
-	})
+	parallel.Blocks(h, rowBand, workers, func(_, y0, y1 int) { fn(y0, y1) })
 }
 
 // Weak small scales: ObjectScale's documentation warns that on packed

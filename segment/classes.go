@@ -2,9 +2,10 @@ package segment
 
 import (
 	"math"
-	"runtime"
 	"slices"
 	"sort"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Shading compensation constants (common practice for background
@@ -424,10 +425,7 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int)
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	sum := make([]float64, gw*gh)
 	cnt := make([]float64, gw*gh)
-	if workers < 1 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	forEach(gh, workers, func(gy int) {
+	parallel.For(gh, workers, func(gy int) {
 		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
 		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
 			row, m := v[y*w:(y+1)*w], mask[y*w:(y+1)*w]

@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // kmeans clusters the rows of x (n points of dimension dim, row-major) into k
@@ -82,7 +84,7 @@ func kmeansRun(ctx context.Context, x []float64, n, dim, k int, wt []float64, re
 	labs := make([][]int32, restarts)
 	cents := make([][]float64, restarts)
 	inertia := make([]float64, restarts)
-	forEach(restarts, workers, func(r int) {
+	parallel.For(restarts, workers, func(r int) {
 		rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73+uint64(r)))
 		labs[r], cents[r], inertia[r] = lloyd(ctx, xs, ns, dim, k, ws, rng)
 	})
@@ -115,7 +117,7 @@ func kmeansRun(ctx context.Context, x []float64, n, dim, k int, wt []float64, re
 	}
 	full := make([][]int32, restarts)
 	fullIn := make([]float64, restarts)
-	forEach(restarts, workers, func(r int) {
+	parallel.For(restarts, workers, func(r int) {
 		if same[r] == r {
 			full[r], fullIn[r] = iterate(ctx, x, n, dim, k, wt, cents[r])
 		}

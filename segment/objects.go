@@ -2,12 +2,12 @@ package segment
 
 import (
 	"math"
-	"runtime"
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // contrastMap returns |I/B - 1| per pixel, the contrast against the
@@ -27,11 +27,8 @@ func contrastMapInto(dst []float64, inten, field []float32, workers int) []float
 		con = make([]float64, len(inten))
 	}
 	const band = 1 << 16
-	if workers < 1 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	forEach((len(con)+band-1)/band, workers, func(c int) {
-		for i := c * band; i < min(len(con), (c+1)*band); i++ {
+	parallel.Blocks(len(con), band, workers, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
 			con[i] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
 		}
 	})

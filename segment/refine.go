@@ -4,10 +4,9 @@ import (
 	"context"
 	"math"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Object refinement constants. An object is re-cut on its own pixel graph
@@ -84,7 +83,7 @@ func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32,
 	}
 	// Objects are independent: refine them in parallel, one goroutine per
 	// object at a time, and assemble in label order (deterministic).
-	forEach(n, workers, func(k int) { one(k + 1) })
+	parallel.For(n, workers, func(k int) { one(k + 1) })
 	if err := ctx.Err(); err != nil {
 		return refined{}, err
 	}
@@ -470,27 +469,6 @@ func convexHull(pts [][2]int) [][2]int {
 		hull = append(hull, p)
 	}
 	return hull[:len(hull)-1]
-}
-
-// forEach calls fn(k) for k in [0, n) on up to workers goroutines.
-func forEach(n, workers int, fn func(k int)) {
-	workers = max(1, min(workers, n))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for g := 0; g < workers; g++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				k := int(next.Add(1) - 1)
-				if k >= n {
-					return
-				}
-				fn(k)
-			}
-		}()
-	}
-	wg.Wait()
 }
 
 // elongation returns λ1/λ2, the ratio of the larger to the smaller

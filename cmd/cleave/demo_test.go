@@ -14,6 +14,7 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/demo"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
@@ -151,7 +152,7 @@ func TestDemoPlansMatchTheirCommands(t *testing.T) {
 			metric, why, _ := chooseMetric(o.metric, s.Background)
 			cfg := plan.Config
 			if !reflect.DeepEqual(*s, plan.Request) || !reflect.DeepEqual(ax, cfg.Space[tune.MaxNcut]) || o.budget != cfg.Budget || o.folds != cfg.Folds ||
-				o.force != plan.Force || defaultWorkers(o.workers) != cfg.Workers || metric != cfg.Metric || why != cfg.MetricChoice || o.tolerance != cfg.Tolerance ||
+				o.force != plan.Force || parallel.Workers(o.workers) != cfg.Workers || metric != cfg.Metric || why != cfg.MetricChoice || o.tolerance != cfg.Tolerance ||
 				(o.tieBreak == "smoother") != cfg.SmootherTies || o.images != plan.Images || o.out != plan.Out {
 				t.Errorf("%s: the line %v parses to %+v %+v, the demo's plan is %+v %+v", p.Name, line, *s, *o, plan.Request, *cfg)
 			}

@@ -4,9 +4,9 @@ import (
 	"context"
 	"fmt"
 	"io"
-	"runtime"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/spf13/pflag"
 )
 
@@ -89,9 +89,7 @@ func parseSegment(args []string, stderr io.Writer) (*pflag.FlagSet, *settings, *
 	if c.workers < 0 || c.workers > maxWorkers {
 		return nil, nil, nil, usagef("--workers must be 0 (all cores) to %d, got %d", maxWorkers, c.workers)
 	}
-	if c.workers == 0 {
-		c.workers = runtime.GOMAXPROCS(0)
-	}
+	c.workers = parallel.Workers(c.workers)
 	return fs, s, c, nil
 }
 

@@ -5,12 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"runtime"
 	"slices"
 	"strings"
 	"time"
 
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 	"github.com/spf13/pflag"
@@ -239,7 +239,7 @@ func tuneCommand(ctx context.Context, fs *pflag.FlagSet, s *settings, o *tuneOpt
 	if err != nil {
 		return exitUsage, err
 	}
-	cfg := &tuning.Config{Metric: metric, MetricChoice: metricWhy, Tolerance: o.tolerance, Workers: defaultWorkers(o.workers),
+	cfg := &tuning.Config{Metric: metric, MetricChoice: metricWhy, Tolerance: o.tolerance, Workers: parallel.Workers(o.workers),
 		SmootherTies: o.tieBreak == "smoother", Budget: o.budget, Folds: o.folds, Voice: voice(), Start: start}
 	for _, d := range tune.Params() {
 		if o.space[d] == "" {
@@ -275,12 +275,4 @@ func parseSpec(d tune.Param, text string) (tune.Axis, error) {
 		return ax, &usageError{err}
 	}
 	return ax, nil
-}
-
-// defaultWorkers is the number of concurrent segmentations (0: GOMAXPROCS).
-func defaultWorkers(n int) int {
-	if n > 0 {
-		return n
-	}
-	return runtime.GOMAXPROCS(0)
 }

@@ -13,9 +13,8 @@ import (
 	"io"
 	"math"
 	"runtime"
-	"sync"
-	"sync/atomic"
 
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/klauspost/compress/zstd"
 	"golang.org/x/image/tiff/lzw"
 )
@@ -148,46 +147,39 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 		}
 		return nil
 	}
-	// Chunks are decoded by up to Workers goroutines, each taking the
-	// next chunk number; every chunk writes its own pixels, so the result
-	// does not depend on the order. The error reported is that of the
-	// first failing chunk in file order.
-	workers := max(1, min(Workers, runtime.GOMAXPROCS(0), perPlane))
-	errs := make([]error, perPlane)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			dec := &decoder{p: p}
-			defer dec.close()
-			buf := make([]byte, chunkBytes)
-			var tmp []byte
-			if p.Predictor == predictorFloatingPoint {
-				tmp = make([]byte, rowBytes)
-			}
-			for {
-				c := int(next.Add(1)) - 1
-				if c >= perPlane {
-					return
-				}
-				if err := ctx.Err(); err != nil {
-					errs[c] = err
-					return
-				}
-				if errs[c] = one(dec, buf, tmp, c); errs[c] != nil {
-					next.Store(int64(perPlane)) // stop the others
-					return
-				}
-			}
-		}()
+	// Chunks are decoded by up to Workers goroutines (also bounded by
+	// GOMAXPROCS), each with a decoder and buffers of its own; every chunk
+	// writes its own pixels, so the result does not depend on the order.
+	// The error reported is that of the first failing chunk in file order
+	// (parallel.ForErr).
+	workers := min(Workers, runtime.GOMAXPROCS(0))
+	type scratch struct {
+		dec      *decoder
+		buf, tmp []byte
 	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
+	scr := make([]*scratch, parallel.Goroutines(perPlane, workers))
+	defer func() {
+		for _, sc := range scr {
+			if sc != nil {
+				sc.dec.close()
+			}
+		}
+	}()
+	if err := parallel.ForErr(perPlane, workers, func(g, c int) error {
+		if err := ctx.Err(); err != nil {
 			return err
 		}
+		sc := scr[g]
+		if sc == nil {
+			sc = &scratch{dec: &decoder{p: p}, buf: make([]byte, chunkBytes)}
+			if p.Predictor == predictorFloatingPoint {
+				sc.tmp = make([]byte, rowBytes)
+			}
+			scr[g] = sc
+		}
+		return one(sc.dec, sc.buf, sc.tmp, c)
+	}); err != nil {
+		return err
 	}
 	return ctx.Err()
 }

@@ -4,6 +4,7 @@ import (
 	"math"
 	"sync"
 
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -112,7 +113,7 @@ func (o *ops) colNorms(a *block) []float64 {
 		o.part = make([]float64, nc*m)
 	}
 	part := o.part[:nc*m]
-	parallel(nc, o.workers, func(c int) {
+	parallel.For(nc, o.workers, func(c int) {
 		g := part[c*m : (c+1)*m]
 		clear(g)
 		for i := o.lv.chunks[c]; i < o.lv.chunks[c+1]; i++ {
@@ -149,7 +150,7 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 			ct[q*nb+p] = c[p*ma+q]
 		}
 	}
-	parallel(o.lv.nchunks(), o.workers, func(ch int) {
+	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
 			if len(bs) == 1 {
@@ -249,7 +250,7 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 		o.part = make([]float64, nc*sz)
 	}
 	part := o.part[:nc*sz]
-	parallel(nc, o.workers, func(c int) {
+	parallel.For(nc, o.workers, func(c int) {
 		g := part[c*sz : (c+1)*sz]
 		clear(g)
 		ra := make([]float64, 4*na)
@@ -360,7 +361,7 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 		}
 		cts[t] = ct
 	}
-	parallel(o.lv.nchunks(), o.workers, func(ch int) {
+	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, ns)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
 			if len(in) == 1 {

@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // coarsen builds the next coarser level by heavy-edge matching and the
@@ -136,7 +137,7 @@ func coarsen(lv *level, workers int) *level {
 		cols []int32
 	}
 	free := make(chan *scratch, max(workers, 1))
-	parallel(nch, workers, func(c int) {
+	parallel.For(nch, workers, func(c int) {
 		a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
 		var sc *scratch
 		select {

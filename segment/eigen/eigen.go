@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // DefaultTol is the residual tolerance used when Options.Tol is 0.
@@ -147,7 +148,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 	if maxIter == 0 {
 		maxIter = DefaultMaxIter
 	}
-	workers := numWorkers(opt.Workers)
+	workers := parallel.Workers(opt.Workers)
 	lv0 := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
 	for i, d := range lv0.deg {
 		if !(d > 0) || math.IsInf(d, 0) {

@@ -2,9 +2,8 @@ package eigen
 
 import (
 	"math"
-	"runtime"
-	"sync"
-	"sync/atomic"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // level is one graph of the hierarchy in CSR form. Unlike affinity.Graph it
@@ -75,42 +74,6 @@ func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
 // nchunks is the number of fixed row chunks.
 func (lv *level) nchunks() int { return len(lv.chunks) - 1 }
 
-// parallel runs f(c) for every chunk c on up to workers goroutines.
-// Chunks write disjoint outputs, so scheduling cannot change results.
-func parallel(n, workers int, f func(c int)) {
-	if workers <= 1 || n <= 1 {
-		for c := 0; c < n; c++ {
-			f(c)
-		}
-		return
-	}
-	workers = min(workers, n)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	wg.Add(workers)
-	for w := 0; w < workers; w++ {
-		go func() {
-			defer wg.Done()
-			for {
-				c := int(next.Add(1) - 1)
-				if c >= n {
-					return
-				}
-				f(c)
-			}
-		}()
-	}
-	wg.Wait()
-}
-
-// numWorkers maps w < 1 to GOMAXPROCS, as every parallel loop of cleave does.
-func numWorkers(w int) int {
-	if w <= 0 {
-		return runtime.GOMAXPROCS(0)
-	}
-	return w
-}
-
 // block is an n×m matrix stored row-major: row i is v[i*m : i*m+m]. The
 // sparse product streams each matrix row once for all m columns.
 type block struct {
@@ -128,7 +91,7 @@ func (b *block) row(i int) []float64 { return b.v[i*b.m : i*b.m+b.m] }
 func (lv *level) applyL(y, x, tmp *block, workers int) {
 	m := x.m
 	nc := lv.nchunks()
-	parallel(nc, workers, func(c int) {
+	parallel.For(nc, workers, func(c int) {
 		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
 			si := lv.s[i]
 			xr, tr := x.v[i*m:i*m+m], tmp.v[i*m:i*m+m]
@@ -137,7 +100,7 @@ func (lv *level) applyL(y, x, tmp *block, workers int) {
 			}
 		}
 	})
-	parallel(nc, workers, func(c int) {
+	parallel.For(nc, workers, func(c int) {
 		lv.mulRows(y, x, tmp, lv.chunks[c], lv.chunks[c+1])
 	})
 }

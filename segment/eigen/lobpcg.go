@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -111,7 +112,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 			p, ap = nil, nil
 		}
 		// R = AX - X Θ
-		parallel(lv.nchunks(), o.workers, func(ch int) {
+		parallel.For(lv.nchunks(), o.workers, func(ch int) {
 			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
 				rr, xr, axr := r.v[i*m:i*m+m], x.v[i*m:i*m+m], ax.v[i*m:i*m+m]
 				for q := range rr {
@@ -146,7 +147,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 			}
 		}
 		w := o.get(len(active))
-		parallel(lv.nchunks(), o.workers, func(ch int) {
+		parallel.For(lv.nchunks(), o.workers, func(ch int) {
 			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
 				for t, q := range active {
 					w.v[i*w.m+t] = r.v[i*m+q]

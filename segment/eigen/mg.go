@@ -1,5 +1,7 @@
 package eigen
 
+import "github.com/cleave-seg/cleave/segment/parallel"
+
 // multigrid applies one cycle of an aggregation multigrid method (Golub
 // and Van Loan, section 4.8 on multigrid; Galerkin coarse operators,
 // damped Jacobi smoothing with ω = 0.7) for L x = b on the orthogonal
@@ -117,7 +119,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	xc := &block{n: next.n, m: m, v: sc.xc}
 	res := &block{n: next.n, m: m, v: sc.res}
 	// Pre-smoothing from zero: x = ω D_L^-1 b.
-	parallel(lv.nchunks(), mg.workers, func(c int) {
+	parallel.For(lv.nchunks(), mg.workers, func(c int) {
 		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
 			f := mg.omega / lv.diag[i]
 			for q := 0; q < m; q++ {
@@ -127,7 +129,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	})
 	residual := func() {
 		lv.applyL(r, x, tmp, mg.workers)
-		parallel(lv.nchunks(), mg.workers, func(c int) {
+		parallel.For(lv.nchunks(), mg.workers, func(c int) {
 			for t := lv.chunks[c] * m; t < lv.chunks[c+1]*m; t++ {
 				r.v[t] = b.v[t] - r.v[t]
 			}
@@ -199,7 +201,7 @@ func (mg *multigrid) coarseSolve(b *block) *block {
 // the members of a taken in ascending order.
 func restrict(fine, coarse *level, r, out *block, workers int) {
 	m := r.m
-	parallel(coarse.nchunks(), workers, func(c int) {
+	parallel.For(coarse.nchunks(), workers, func(c int) {
 		for a := coarse.chunks[c]; a < coarse.chunks[c+1]; a++ {
 			dst := out.v[a*m : a*m+m]
 			clear(dst)
@@ -219,7 +221,7 @@ func restrict(fine, coarse *level, r, out *block, workers int) {
 // constant (Shi and Malik's generalized eigenvectors).
 func prolongAdd(fine, coarse *level, zc, x *block, alpha float64, workers int) {
 	m := zc.m
-	parallel(fine.nchunks(), workers, func(c int) {
+	parallel.For(fine.nchunks(), workers, func(c int) {
 		for i := fine.chunks[c]; i < fine.chunks[c+1]; i++ {
 			a := int(fine.agg[i])
 			f := alpha * fine.pz[i]

@@ -4,13 +4,12 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 	"sync/atomic"
 	"time"
 
 	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -114,13 +113,6 @@ const MaxTimed = 4
 // what it cannot tell apart.
 const CostMargin = 1.1
 
-func (t *Tuner) workers() int {
-	if t.Workers > 0 {
-		return t.Workers
-	}
-	return runtime.GOMAXPROCS(0)
-}
-
 func (t *Tuner) numImages() int { return len(t.Names) }
 
 // All is the index of every image.
@@ -200,33 +192,25 @@ func (t *Tuner) run(ctx context.Context, es []*Evaluation, params []segment.Para
 	for i := range left {
 		left[i].Store(int32(nImg))
 	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range min(t.workers(), nTasks) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				k := int(next.Add(1)) - 1
-				if k >= nTasks || ctx.Err() != nil {
-					return
-				}
-				i, j := k/nImg, k%nImg
-				start := time.Now()
-				s, err := t.Objective(ctx, params[i], j)
-				if err != nil {
-					es[i].Errs[j] = err.Error()
-				} else {
-					es[i].Reports[j], es[i].Costs[j], es[i].Used[j] = s.Report, s.Cost, s.Used
-				}
-				secs[k] = time.Since(start).Seconds()
-				if left[i].Add(-1) == 0 && t.Progress != nil {
-					t.Progress.SettingDone(t.Value(es[i], t.All()))
-				}
-			}
-		}()
-	}
-	wg.Wait()
+	// A canceled context starts no further task (parallel.ForErr).
+	_ = parallel.ForErr(nTasks, t.Workers, func(_, k int) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		i, j := k/nImg, k%nImg
+		start := time.Now()
+		s, err := t.Objective(ctx, params[i], j)
+		if err != nil {
+			es[i].Errs[j] = err.Error()
+		} else {
+			es[i].Reports[j], es[i].Costs[j], es[i].Used[j] = s.Report, s.Cost, s.Used
+		}
+		secs[k] = time.Since(start).Seconds()
+		if left[i].Add(-1) == 0 && t.Progress != nil {
+			t.Progress.SettingDone(t.Value(es[i], t.All()))
+		}
+		return nil
+	})
 	if err := ctx.Err(); err != nil {
 		return err
 	}
@@ -713,31 +697,22 @@ func (t *Tuner) timeSettings(ctx context.Context, es []*Evaluation) error {
 	}
 	secs := make([]float64, len(pending)*nImg)
 	errs := make([]string, len(pending)*nImg)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range min(t.workers(), len(secs)) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				k := int(next.Add(1)) - 1
-				if k >= len(secs) || ctx.Err() != nil {
-					return
-				}
-				i, j := k/nImg, k%nImg
-				if pending[i].Errs[j] != "" {
-					secs[k] = math.NaN()
-					continue
-				}
-				s, err := t.Timer(ctx, params[i], j)
-				secs[k] = s
-				if err != nil {
-					errs[k], secs[k] = t.Names[j]+": "+err.Error(), math.NaN()
-				}
-			}
-		}()
-	}
-	wg.Wait()
+	_ = parallel.ForErr(len(secs), t.Workers, func(_, k int) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		i, j := k/nImg, k%nImg
+		if pending[i].Errs[j] != "" {
+			secs[k] = math.NaN()
+			return nil
+		}
+		s, err := t.Timer(ctx, params[i], j)
+		secs[k] = s
+		if err != nil {
+			errs[k], secs[k] = t.Names[j]+": "+err.Error(), math.NaN()
+		}
+		return nil
+	})
 	if err := ctx.Err(); err != nil {
 		return err
 	}

@@ -16,7 +16,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"runtime"
 	"slices"
 	"strings"
 	"time"
@@ -26,6 +25,7 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
+	"github.com/cleave-seg/cleave/segment/parallel"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
@@ -142,10 +142,7 @@ func (p *Part) TuneLine(tuneDir, tunedDir string, workers int, force bool) []str
 func (p *Part) TunePlan(c *Config, tuneDir, tunedDir string, log io.Writer) *tuning.Plan {
 	r := p.Request()
 	metric, why := tuning.DefaultMetric(r.Background)
-	workers := c.Workers
-	if workers < 1 {
-		workers = runtime.GOMAXPROCS(0)
-	}
+	workers := parallel.Workers(c.Workers)
 	cfg := &tuning.Config{Metric: metric, MetricChoice: c.Voice.Msg(why), Tolerance: scoring.DefaultTolerance, Workers: workers,
 		Budget: p.Budget, Folds: p.folds(), Voice: c.Voice, Start: time.Now()}
 	cfg.Space[tune.MaxNcut] = tune.NewAxis(tune.MaxNcut, []float64{p.MaxNcut}, tune.FormatValue(p.MaxNcut))
@@ -219,10 +216,7 @@ func Run(ctx context.Context, c *Config, parts []Part) ([]Result, error) {
 				return err
 			}},
 			{segmentLine, func(w io.Writer) error {
-				workers := c.Workers
-				if workers < 1 {
-					workers = runtime.GOMAXPROCS(0)
-				}
+				workers := parallel.Workers(c.Workers)
 				f := &pipeline.Files{Images: newPaths, Request: out.Tuned(p.Request()), Workers: workers, Out: segDir, Force: c.Force, Voice: c.Voice, Stdout: w, Log: c.Stderr}
 				failed, err := f.Run(ctx)
 				if err == nil && failed > 0 {

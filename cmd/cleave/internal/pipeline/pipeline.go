@@ -14,13 +14,13 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
-	"sync"
 	"time"
 
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment"
 	"github.com/cleave-seg/cleave/segment/measure"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // InputInfo describes the input file in the record.
@@ -461,16 +461,11 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	}
 	mayRecord = true
 	go measureRegions()
+	// Every output is written at once, one goroutine each.
 	errs := make([]error, len(outs))
-	var wg sync.WaitGroup
-	for k, o := range outs {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			errs[k] = imageio.WriteAtomicAs(j.Out.Path(o.suffix), j.Replace != ReplaceNone, j.Owner, o.fn)
-		}()
-	}
-	wg.Wait()
+	parallel.For(len(outs), len(outs), func(k int) {
+		errs[k] = imageio.WriteAtomicAs(j.Out.Path(outs[k].suffix), j.Replace != ReplaceNone, j.Owner, outs[k].fn)
+	})
 	for k, o := range outs {
 		if errs[k] != nil {
 			return fail(errs[k])
