@@ -6,16 +6,18 @@ import (
 	"io"
 
 	"github.com/cleave-seg/cleave/imageio/tiffread"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
-// EncodeLabels writes a label map (row-major, width x height) as a 16-bit
-// gray PNG whose sample values are the labels. A label outside 0..65535 is
-// an error. workers goroutines filter the rows (0: GOMAXPROCS); the bytes
-// do not depend on their number.
-func EncodeLabels(w io.Writer, width, height int, labels []int32, workers int) error {
-	if width <= 0 || height <= 0 || len(labels) != width*height {
-		return fmt.Errorf("label map: %d labels for a %dx%d image", len(labels), width, height)
+// EncodeLabels writes a label map as a 16-bit gray PNG whose sample
+// values are the labels. A label outside 0..65535 is an error. workers
+// goroutines filter the rows (0: GOMAXPROCS); the bytes do not depend on
+// their number.
+func EncodeLabels(w io.Writer, m labelmap.Map, workers int) error {
+	if err := m.Check(); err != nil {
+		return err
 	}
+	labels, width, height := m.Pix, m.Width, m.Height
 	for i, l := range labels {
 		if l < 0 || l > 65535 {
 			return fmt.Errorf("label map: label %d at pixel (%d, %d) is outside 0..65535 (16-bit PNG)", l, i%width, i/width)
@@ -38,44 +40,44 @@ func EncodeLabels(w io.Writer, width, height int, labels []int32, workers int) e
 // is an error rather than its first page.
 // The file is opened as Open does (regular files only, header first,
 // the default megapixel limit).
-func ReadLabels(path string) (labels []int32, width, height int, err error) {
+func ReadLabels(path string) (labelmap.Map, error) {
 	src, err := Open(path, LoadOptions{})
 	if err != nil {
-		return nil, 0, 0, err
+		return labelmap.Map{}, err
 	}
 	defer src.Close()
 	if src.Header().Format == "jpeg" {
-		return nil, 0, 0, fmt.Errorf("%s: a label map cannot be JPEG (lossy compression changes labels)", path)
+		return labelmap.Map{}, fmt.Errorf("%s: a label map cannot be JPEG (lossy compression changes labels)", path)
 	}
 	if src.tiff != nil {
 		if st := src.Stack(); st.Planes*st.Frames > 1 || (st.Channels > 1 && !src.tiff.rgb) {
 			// Reading page 0 alone would score one plane in silence.
-			return nil, 0, 0, fmt.Errorf("%s: a label map is one 2-D image, but this TIFF holds %s, %s and %s; save each plane's labels as a file of its own", path, nOf(st.Channels, "channel"), nOf(st.Planes, "plane"), nOf(st.Frames, "time point"))
+			return labelmap.Map{}, fmt.Errorf("%s: a label map is one 2-D image, but this TIFF holds %s, %s and %s; save each plane's labels as a file of its own", path, nOf(st.Channels, "channel"), nOf(st.Planes, "plane"), nOf(st.Frames, "time point"))
 		}
-		labels, width, height, err = src.tiff.labels()
+		m, err := src.tiff.labels()
 		if err != nil {
-			return nil, 0, 0, fmt.Errorf("%s: %w", path, err)
+			return labelmap.Map{}, fmt.Errorf("%s: %w", path, err)
 		}
-		return labels, width, height, nil
+		return m, nil
 	}
 	im, err := src.Decode()
 	if err != nil {
-		return nil, 0, 0, err
+		return labelmap.Map{}, err
 	}
-	labels, width, height, err = labelsOf(im)
+	m, err := labelsOf(im)
 	if err != nil {
-		return nil, 0, 0, fmt.Errorf("%s: %w", path, err)
+		return labelmap.Map{}, fmt.Errorf("%s: %w", path, err)
 	}
-	return labels, width, height, nil
+	return m, nil
 }
 
 // labelsOf reads the labels of a decoded label image.
-func labelsOf(im *Image) ([]int32, int, int, error) {
+func labelsOf(im *Image) (labelmap.Map, error) {
 	if im.Channels == 3 {
 		r, g, b := im.Planes[0], im.Planes[1], im.Planes[2]
 		for i := range r {
 			if r[i] != g[i] || g[i] != b[i] {
-				return nil, 0, 0, fmt.Errorf("a label map must be a gray integer image, but pixel (%d, %d) has colour (%g, %g, %g)",
+				return labelmap.Map{}, fmt.Errorf("a label map must be a gray integer image, but pixel (%d, %d) has colour (%g, %g, %g)",
 					i%im.Width, i/im.Width, r[i], g[i], b[i])
 			}
 		}
@@ -86,7 +88,7 @@ func labelsOf(im *Image) ([]int32, int, int, error) {
 		labels[i] = int32(v)
 	}
 	binaryMask(labels, int32(im.MaxValue()))
-	return labels, im.Width, im.Height, nil
+	return labelmap.Map{Pix: labels, Width: im.Width, Height: im.Height}, nil
 }
 
 // binaryMask reads a mask whose only values are 0 and top (the largest
@@ -110,38 +112,38 @@ func binaryMask(labels []int32, top int32) {
 // labels reads the first page of a label TIFF as exact integers (its
 // first sample; a colour page must have equal samples). Values must be
 // integers from 0 to 2^31 - 1.
-func (t *tiffSource) labels() ([]int32, int, int, error) {
+func (t *tiffSource) labels() (labelmap.Map, error) {
 	p := t.page
 	n := p.Width * p.Height
 	labels := make([]int32, n)
 	ctx := context.Background()
 	if err := tiffread.ReadSample(ctx, p, 0, labels); err != nil {
-		return nil, 0, 0, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
+		return labelmap.Map{}, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
 	}
 	if t.rgb {
 		other := make([]int32, n)
 		for s := 1; s < 3; s++ {
 			if err := tiffread.ReadSample(ctx, p, s, other); err != nil {
-				return nil, 0, 0, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
+				return labelmap.Map{}, fmt.Errorf("label map: %w", tiffError(err, "pixel data"))
 			}
 			for i := range other {
 				if other[i] != labels[i] {
-					return nil, 0, 0, fmt.Errorf("a label map must be a gray integer image, but pixel (%d, %d) has different colour samples", i%p.Width, i/p.Width)
+					return labelmap.Map{}, fmt.Errorf("a label map must be a gray integer image, but pixel (%d, %d) has different colour samples", i%p.Width, i/p.Width)
 				}
 			}
 		}
 	} else if p.SamplesPerPixel > 1 {
-		return nil, 0, 0, fmt.Errorf("a label map must have one sample per pixel, and this TIFF has %d", p.SamplesPerPixel)
+		return labelmap.Map{}, fmt.Errorf("a label map must have one sample per pixel, and this TIFF has %d", p.SamplesPerPixel)
 	}
 	for i, l := range labels {
 		if l < 0 {
-			return nil, 0, 0, fmt.Errorf("label %d at pixel (%d, %d) is negative; labels are 0 (background) and 1, 2, ...", l, i%p.Width, i/p.Width)
+			return labelmap.Map{}, fmt.Errorf("label %d at pixel (%d, %d) is negative; labels are 0 (background) and 1, 2, ...", l, i%p.Width, i/p.Width)
 		}
 	}
 	if !p.IsFloat() && !p.IsSigned() && p.BitsPerSample <= 16 {
 		binaryMask(labels, int32(1)<<p.BitsPerSample-1)
 	}
-	return labels, p.Width, p.Height, nil
+	return labelmap.Map{Pix: labels, Width: p.Width, Height: p.Height}, nil
 }
 
 // nOf is "1 plane" or "3 planes".

@@ -11,6 +11,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // TestLabelsRoundTrip: EncodeLabels then ReadLabels returns the labels,
@@ -20,13 +22,14 @@ func TestLabelsRoundTrip(t *testing.T) {
 	const w, h = 5, 3
 	labels := []int32{0, 1, 1, 2, 300, 0, 65535, 4, 4, 4, 256, 255, 0, 7, 1}
 	path := filepath.Join(t.TempDir(), "labels.png")
-	if err := WriteAtomic(path, false, func(wr io.Writer) error { return EncodeLabels(wr, w, h, labels, 0) }); err != nil {
+	if err := WriteAtomic(path, false, func(wr io.Writer) error { return EncodeLabels(wr, labelmap.Map{Pix: labels, Width: w, Height: h}, 0) }); err != nil {
 		t.Fatal(err)
 	}
-	got, gw, gh, err := ReadLabels(path)
+	lm, err := ReadLabels(path)
 	if err != nil {
 		t.Fatal(err)
 	}
+	got, gw, gh := lm.Pix, lm.Width, lm.Height
 	if gw != w || gh != h || !slices.Equal(got, labels) {
 		t.Fatalf("read %dx%d %v; want %dx%d %v", gw, gh, got, w, h, labels)
 	}
@@ -63,7 +66,7 @@ func TestEncodeLabelsErrors(t *testing.T) {
 		{2, 2, []int32{0, 1, 2}, "3 labels for a 2x2"},
 		{0, 0, nil, "0x0"},
 	} {
-		err := EncodeLabels(io.Discard, c.w, c.h, c.labels, 0)
+		err := EncodeLabels(io.Discard, labelmap.Map{Pix: c.labels, Width: c.w, Height: c.h}, 0)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%v: got %v; want %q", c.labels, err, c.want)
 		}
@@ -79,10 +82,11 @@ func TestReadLabelsReferenceFiles(t *testing.T) {
 		name   string
 		binary bool
 	}{{"labels16.png", false}, {"mask8.png", true}, {"mask16.tif", true}} {
-		got, w, h, err := ReadLabels(filepath.Join(testdata, c.name))
+		lm, err := ReadLabels(filepath.Join(testdata, c.name))
 		if err != nil {
 			t.Fatal(err)
 		}
+		got, w, h := lm.Pix, lm.Width, lm.Height
 		want := ref[c.name]
 		if w != want.Width || h != want.Height {
 			t.Fatalf("%s: %dx%d; want %dx%d", c.name, w, h, want.Width, want.Height)
@@ -105,7 +109,7 @@ func TestReadLabelsReferenceFiles(t *testing.T) {
 	}
 	for _, name := range []string{"rgb8.png", "orient1.jpg", "notanimage.tif"} {
 		path := filepath.Join(testdata, name)
-		if _, _, _, err := ReadLabels(path); err == nil || !strings.Contains(err.Error(), path) {
+		if _, err := ReadLabels(path); err == nil || !strings.Contains(err.Error(), path) {
 			t.Errorf("%s: got %v; want an error naming the file", name, err)
 		}
 	}
@@ -122,10 +126,11 @@ func TestReadLabelsGrayRGB(t *testing.T) {
 	if err := WriteAtomic(path, false, func(w io.Writer) error { return png.Encode(w, img) }); err != nil {
 		t.Fatal(err)
 	}
-	got, _, _, err := ReadLabels(path)
+	lm, err := ReadLabels(path)
 	if err != nil {
 		t.Fatal(err)
 	}
+	got := lm.Pix
 	if !slices.Equal(got, []int32{0, 5, 9}) {
 		t.Errorf("got %v; want [0 5 9]", got)
 	}
@@ -144,7 +149,7 @@ func TestReadLabelsRefusesStacks(t *testing.T) {
 		{"two-channel.tif", "2 channels, 1 plane and 1 time point"},
 	} {
 		path := filepath.Join(tiffdata, c.file)
-		_, _, _, err := ReadLabels(path)
+		_, err := ReadLabels(path)
 		if err == nil {
 			t.Errorf("%s: read as a label map; want an error", c.file)
 			continue
@@ -154,7 +159,7 @@ func TestReadLabelsRefusesStacks(t *testing.T) {
 		}
 	}
 	// One page of one sample still reads (a 32-bit label TIFF).
-	if _, w, h, err := ReadLabels(filepath.Join(tiffdata, "labels-uint32.tif")); err != nil || w == 0 || h == 0 {
-		t.Errorf("labels-uint32.tif: %dx%d, %v", w, h, err)
+	if m, err := ReadLabels(filepath.Join(tiffdata, "labels-uint32.tif")); err != nil || m.Width == 0 || m.Height == 0 {
+		t.Errorf("labels-uint32.tif: %dx%d, %v", m.Width, m.Height, err)
 	}
 }

@@ -8,6 +8,8 @@ import (
 	"io"
 	"math"
 	"strings"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Label map formats: the names the command's labels-format choice takes.
@@ -20,24 +22,15 @@ const (
 // specification, 11.2.2: sample depth 16).
 const MaxPNGLabel = 65535
 
-// LabelBits is the sample width, 16 or 32 bits, that a TIFF label map of
-// labels needs: 16 when every label fits in 0..65535, else 32 (unsigned).
-func LabelBits(labels []int32) int {
-	for _, l := range labels {
+// LabelBits is the sample width, 16 or 32 bits, that a TIFF label map
+// needs: 16 when every label fits in 0..65535, else 32 (unsigned).
+func LabelBits(m labelmap.Map) int {
+	for _, l := range m.Pix {
 		if l > MaxPNGLabel {
 			return 32
 		}
 	}
 	return 16
-}
-
-// MaxLabel is the largest value in labels (0 for none).
-func MaxLabel(labels []int32) int32 {
-	var m int32
-	for _, l := range labels {
-		m = max(m, l)
-	}
-	return m
 }
 
 // TIFF resolution units (TIFF 6.0, tag 296 ResolutionUnit).
@@ -209,8 +202,7 @@ const compressionDeflate = 8
 // strip is the unit a reader decompresses at once.
 const labelStripBytes = 256 << 10
 
-// EncodeLabelsTIFF writes a label map (row-major, width x height) as a
-// single-page, little-endian baseline TIFF 6.0 gray image: unsigned
+// EncodeLabelsTIFF writes a label map as a single-page, little-endian baseline TIFF 6.0 gray image: unsigned
 // integer samples (SampleFormat 1) of 16 bits, or 32 bits when a label is
 // above 65535 (LabelBits), BlackIsZero, Deflate-compressed strips, and,
 // when res is set, XResolution, YResolution and ResolutionUnit. Every
@@ -218,10 +210,11 @@ const labelStripBytes = 256 << 10
 // back exactly. A negative label, or a file that would pass 4 GiB (the
 // 32-bit offsets of classic TIFF), is an error. It returns the bits per
 // sample written.
-func EncodeLabelsTIFF(w io.Writer, width, height int, labels []int32, res Resolution) (int, error) {
-	if width <= 0 || height <= 0 || len(labels) != width*height {
-		return 0, fmt.Errorf("label map: %d labels for a %dx%d image", len(labels), width, height)
+func EncodeLabelsTIFF(w io.Writer, m labelmap.Map, res Resolution) (int, error) {
+	if err := m.Check(); err != nil {
+		return 0, err
 	}
+	labels, width, height := m.Pix, m.Width, m.Height
 	if width > math.MaxUint32 || height > math.MaxUint32 {
 		return 0, fmt.Errorf("label map: %dx%d is too large for TIFF", width, height)
 	}
@@ -230,7 +223,7 @@ func EncodeLabelsTIFF(w io.Writer, width, height int, labels []int32, res Resolu
 			return 0, fmt.Errorf("label map: label %d at pixel (%d, %d) is negative (TIFF labels are unsigned)", l, i%width, i/width)
 		}
 	}
-	bits := LabelBits(labels)
+	bits := LabelBits(m)
 	bps := bits / 8
 	rowBytes := width * bps
 	rowsPerStrip := max(1, min(height, labelStripBytes/rowBytes))

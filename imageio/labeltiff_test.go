@@ -14,6 +14,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/examples/loudskip"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // debianPython is Debian's interpreter: its python3-tifffile is the
@@ -113,7 +114,7 @@ func TestLabelsTIFFTifffile(t *testing.T) {
 		p := filepath.Join(dir, c.name+".tif")
 		paths = append(paths, p)
 		err := WriteAtomic(p, false, func(wr io.Writer) error {
-			bits, err := EncodeLabelsTIFF(wr, c.w, c.h, c.labels, c.res)
+			bits, err := EncodeLabelsTIFF(wr, labelmap.Map{Pix: c.labels, Width: c.w, Height: c.h}, c.res)
 			if err == nil && bits != c.bits {
 				err = fmt.Errorf("wrote %d bits; want %d", bits, c.bits)
 			}
@@ -265,7 +266,7 @@ func TestEncodeLabelsTIFFErrors(t *testing.T) {
 		{2, 2, []int32{0, 1, 2}, "3 labels for a 2x2"},
 		{0, 0, nil, "0x0"},
 	} {
-		if _, err := EncodeLabelsTIFF(io.Discard, c.w, c.h, c.labels, Resolution{}); err == nil || !strings.Contains(err.Error(), c.want) {
+		if _, err := EncodeLabelsTIFF(io.Discard, labelmap.Map{Pix: c.labels, Width: c.w, Height: c.h}, Resolution{}); err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%v: got %v; want %q", c.labels, err, c.want)
 		}
 	}

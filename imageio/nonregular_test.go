@@ -31,7 +31,7 @@ func TestOpenRefusesNonRegular(t *testing.T) {
 		if !errors.Is(err, ErrNotRegular) || !strings.Contains(err.Error(), kind) || !strings.HasPrefix(err.Error(), path+": ") {
 			t.Errorf("%s: %v; want ErrNotRegular naming the file and %q", path, err, kind)
 		}
-		if _, _, _, err := ReadLabels(path); !errors.Is(err, ErrNotRegular) {
+		if _, err := ReadLabels(path); !errors.Is(err, ErrNotRegular) {
 			t.Errorf("ReadLabels(%s): %v; want ErrNotRegular", path, err)
 		}
 	}

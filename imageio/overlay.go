@@ -9,6 +9,7 @@ import (
 	"sync"
 
 	"github.com/cleave-seg/cleave/imageio/render"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Overlay colours. The boundary colour is a saturated amber, far from any
@@ -107,7 +108,8 @@ type NumberPlace struct {
 // fit) centred on the pixel nearest the centroid, kept only when the box
 // and a one-pixel margin around it (the halo) lie wholly inside the
 // object. Labels are in increasing order.
-func PlaceNumbers(labels []int32, width, height int) []NumberPlace {
+func PlaceNumbers(m labelmap.Map) []NumberPlace {
+	labels, width, height := m.Pix, m.Width, m.Height
 	type acc struct {
 		n      int
 		sx, sy float64
@@ -166,15 +168,16 @@ func PlaceNumbers(labels []int32, width, height int) []NumberPlace {
 
 // isBoundary reports whether pixel (x, y) differs in label from its right or
 // lower neighbour; marking one side only draws boundaries one pixel wide.
-func isBoundary(labels []int32, width, height, x, y int) bool {
-	i := y*width + x
-	return (x+1 < width && labels[i+1] != labels[i]) || (y+1 < height && labels[i+width] != labels[i])
+func isBoundary(m labelmap.Map, x, y int) bool {
+	i := y*m.Width + x
+	return (x+1 < m.Width && m.Pix[i+1] != m.Pix[i]) || (y+1 < m.Height && m.Pix[i+m.Width] != m.Pix[i])
 }
 
 // EncodeOverlay writes an RGB PNG: the image (display values in [0, 1]
 // as gray, or the colour planes of opt), the boundaries between regions
 // of labels one pixel wide in amber, and what opt adds (tints, numbers).
-func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []int32, opt OverlayOptions) error {
+func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOptions) error {
+	labels, width, height := m.Pix, m.Width, m.Height
 	if width <= 0 || height <= 0 || len(display) != width*height || len(labels) != width*height {
 		return fmt.Errorf("overlay: %d display values and %d labels for a %dx%d image", len(display), len(labels), width, height)
 	}
@@ -190,7 +193,7 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 	if opt.Tint {
 		palette = opt.Palette
 		if palette == nil {
-			palette = render.ColourLabels(labels, width, height)
+			palette = render.ColourLabels(m)
 		}
 	}
 	scale := 0.0
@@ -208,7 +211,7 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 	// drawn on; no image-sized picture is held.
 	var places []NumberPlace
 	if opt.Numbers {
-		places = PlaceNumbers(labels, width, height)
+		places = PlaceNumbers(m)
 	}
 	pool := sync.Pool{New: func() any { return new([]byte) }}
 	rows := func(y0, y1 int, dst []byte) {
@@ -221,7 +224,7 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 				i := y*width + x
 				p := img.Pix[4*(i-y0*width) : 4*(i-y0*width)+4]
 				p[3] = 255
-				if isBoundary(labels, width, height, x, y) {
+				if isBoundary(m, x, y) {
 					p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
 					continue
 				}
@@ -264,12 +267,13 @@ func EncodeOverlay(w io.Writer, width, height int, display []float32, labels []i
 // labels that touch differ in colour. palette is that colouring when the
 // caller has it already (nil: computed here). workers goroutines filter
 // the rows (0: GOMAXPROCS); the bytes do not depend on their number.
-func EncodePreview(w io.Writer, width, height int, labels []int32, palette *render.LabelColours, workers int) error {
+func EncodePreview(w io.Writer, m labelmap.Map, palette *render.LabelColours, workers int) error {
+	labels, width, height := m.Pix, m.Width, m.Height
 	if width <= 0 || height <= 0 || len(labels) != width*height {
 		return fmt.Errorf("preview: %d labels for a %dx%d image", len(labels), width, height)
 	}
 	if palette == nil {
-		palette = render.ColourLabels(labels, width, height)
+		palette = render.ColourLabels(m)
 	}
 	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, flat: true, rows: func(y0, y1 int, dst []byte) {
 		for i, l := range labels[y0*width : y1*width] {

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"io"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // BenchmarkEncodeOverlay draws and encodes the overlay (gray image,
@@ -27,7 +29,7 @@ func BenchmarkEncodeOverlay(b *testing.B) {
 			}
 			c0 := cpuSeconds()
 			for b.Loop() {
-				if err := EncodeOverlay(io.Discard, n, n, display, labels, OverlayOptions{Tint: true, Numbers: true}); err != nil {
+				if err := EncodeOverlay(io.Discard, display, labelmap.Map{Pix: labels, Width: n, Height: n}, OverlayOptions{Tint: true, Numbers: true}); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -53,7 +55,7 @@ func BenchmarkEncodeLabels(b *testing.B) {
 		b.Run(fmt.Sprintf("labels/%dx%d", n, n), func(b *testing.B) {
 			c0 := cpuSeconds()
 			for b.Loop() {
-				if err := EncodeLabels(io.Discard, n, n, labels, 0); err != nil {
+				if err := EncodeLabels(io.Discard, labelmap.Map{Pix: labels, Width: n, Height: n}, 0); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -62,7 +64,7 @@ func BenchmarkEncodeLabels(b *testing.B) {
 		b.Run(fmt.Sprintf("preview/%dx%d", n, n), func(b *testing.B) {
 			c0 := cpuSeconds()
 			for b.Loop() {
-				if err := EncodePreview(io.Discard, n, n, labels, nil, 0); err != nil {
+				if err := EncodePreview(io.Discard, labelmap.Map{Pix: labels, Width: n, Height: n}, nil, 0); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio/render"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 func decodeRGB(t *testing.T, buf *bytes.Buffer) image.Image {
@@ -38,7 +39,7 @@ func TestEncodeOverlayGray(t *testing.T) {
 	labels := []int32{0, 0, 3, 3, 0, 0, 3, 3}
 	for _, tint := range []bool{false, true} {
 		var buf bytes.Buffer
-		if err := EncodeOverlay(&buf, w, h, display, labels, OverlayOptions{Tint: tint}); err != nil {
+		if err := EncodeOverlay(&buf, display, labelmap.Map{Pix: labels, Width: w, Height: h}, OverlayOptions{Tint: tint}); err != nil {
 			t.Fatal(err)
 		}
 		img := decodeRGB(t, &buf)
@@ -63,10 +64,10 @@ func TestEncodeOverlayGray(t *testing.T) {
 			}
 		}
 	}
-	if err := EncodeOverlay(io.Discard, 2, 2, make([]float32, 4), make([]int32, 3), OverlayOptions{}); err == nil {
+	if err := EncodeOverlay(io.Discard, make([]float32, 4), labelmap.Map{Pix: make([]int32, 3), Width: 2, Height: 2}, OverlayOptions{}); err == nil {
 		t.Error("mismatched sizes accepted")
 	}
-	if err := EncodeOverlay(io.Discard, 2, 2, make([]float32, 4), make([]int32, 4), OverlayOptions{Colour: [][]float32{{1}, {1}, {1}}}); err == nil {
+	if err := EncodeOverlay(io.Discard, make([]float32, 4), labelmap.Map{Pix: make([]int32, 4), Width: 2, Height: 2}, OverlayOptions{Colour: [][]float32{{1}, {1}, {1}}}); err == nil {
 		t.Error("mismatched colour planes accepted")
 	}
 }
@@ -89,7 +90,7 @@ func TestEncodeOverlayKeepsColour(t *testing.T) {
 	display := make([]float32, w*h)
 	opt := OverlayOptions{Colour: [][]float32{r, g, b}, Lo: 0, Hi: 200}
 	var buf bytes.Buffer
-	if err := EncodeOverlay(&buf, w, h, display, labels, opt); err != nil {
+	if err := EncodeOverlay(&buf, display, labelmap.Map{Pix: labels, Width: w, Height: h}, opt); err != nil {
 		t.Fatal(err)
 	}
 	img := decodeRGB(t, &buf)
@@ -101,11 +102,11 @@ func TestEncodeOverlayKeepsColour(t *testing.T) {
 	}
 	opt.Tint = true
 	buf.Reset()
-	if err := EncodeOverlay(&buf, w, h, display, labels, opt); err != nil {
+	if err := EncodeOverlay(&buf, display, labelmap.Map{Pix: labels, Width: w, Height: h}, opt); err != nil {
 		t.Fatal(err)
 	}
 	img = decodeRGB(t, &buf)
-	p := render.ColourLabels(labels, w, h).Of(1)
+	p := render.ColourLabels(labelmap.Map{Pix: labels, Width: w, Height: h}).Of(1)
 	base := [3]float64{255, 127.5, 0}
 	var want [3]uint32
 	for k := range 3 {
@@ -153,7 +154,7 @@ func TestOverlayNumbers(t *testing.T) {
 	fill(7, 10, 10, 41, 31)    // centroid (25, 20)
 	fill(128, 60, 20, 101, 51) // centroid (80, 35)
 	fill(9, 110, 5, 114, 9)    // 4 x 4: too small
-	places := PlaceNumbers(labels, w, h)
+	places := PlaceNumbers(labelmap.Map{Pix: labels, Width: w, Height: h})
 	if len(places) != 2 || places[0].Label != 7 || places[1].Label != 128 {
 		t.Fatalf("places %+v; want labels 7 and 128", places)
 	}
@@ -171,7 +172,7 @@ func TestOverlayNumbers(t *testing.T) {
 	}
 	display := make([]float32, w*h)
 	var buf bytes.Buffer
-	if err := EncodeOverlay(&buf, w, h, display, labels, OverlayOptions{Numbers: true}); err != nil {
+	if err := EncodeOverlay(&buf, display, labelmap.Map{Pix: labels, Width: w, Height: h}, OverlayOptions{Numbers: true}); err != nil {
 		t.Fatal(err)
 	}
 	img := decodeRGB(t, &buf)
@@ -217,7 +218,7 @@ func TestEncodePreview(t *testing.T) {
 		}
 	}
 	var buf bytes.Buffer
-	if err := EncodePreview(&buf, w, h, labels, nil, 0); err != nil {
+	if err := EncodePreview(&buf, labelmap.Map{Pix: labels, Width: w, Height: h}, nil, 0); err != nil {
 		t.Fatal(err)
 	}
 	img := decodeRGB(t, &buf)
@@ -248,7 +249,7 @@ func TestEncodePreview(t *testing.T) {
 			}
 		}
 	}
-	if err := EncodePreview(io.Discard, 2, 2, make([]int32, 3), nil, 0); err == nil {
+	if err := EncodePreview(io.Discard, labelmap.Map{Pix: make([]int32, 3), Width: 2, Height: 2}, nil, 0); err == nil {
 		t.Error("mismatched sizes accepted")
 	}
 }

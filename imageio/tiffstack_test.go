@@ -154,10 +154,11 @@ func TestCalibrationFromResolution(t *testing.T) {
 func TestReadLabels32BitTIFF(t *testing.T) {
 	vs := tiffVariants(t)
 	for _, name := range []string{"labels-uint32.tif", "labels-int32-zlib.tif"} {
-		labels, w, h, err := ReadLabels(filepath.Join(tiffdata, name))
+		lm, err := ReadLabels(filepath.Join(tiffdata, name))
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
+		labels, w, h := lm.Pix, lm.Width, lm.Height
 		v := vs[name]
 		if w != v.Width || h != v.Height {
 			t.Fatalf("%s: %dx%d", name, w, h)
@@ -170,7 +171,7 @@ func TestReadLabels32BitTIFF(t *testing.T) {
 		}
 	}
 	// A float TIFF with fractions or NaN is not a label map.
-	if _, _, _, err := ReadLabels(filepath.Join(tiffdata, "float32-nan.tif")); err == nil {
+	if _, err := ReadLabels(filepath.Join(tiffdata, "float32-nan.tif")); err == nil {
 		t.Fatal("float32-nan.tif read as labels")
 	}
 }

@@ -52,10 +52,11 @@ func TestDemo(t *testing.T) {
 	var sum float64
 	parts := demo.Scenario()
 	for _, sc := range parts[0].Fresh {
-		labels, _, _, err := imageio.ReadLabels(filepath.Join(out, "slide", "segmented", sc.Name+".labels.png"))
+		lm, err := imageio.ReadLabels(filepath.Join(out, "slide", "segmented", sc.Name+".labels.png"))
 		if err != nil {
 			t.Fatal(err)
 		}
+		labels := lm.Pix
 		sum += score.ARI(labels, sc.Truth)
 	}
 	mean := sum / float64(len(parts[0].Fresh))

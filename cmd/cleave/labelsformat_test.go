@@ -105,10 +105,11 @@ func TestSegmentLabelsTIFF(t *testing.T) {
 	var got []tiffRead
 	pythonJSON(t, "python3-tifffile", readTIFFs, &got, filepath.Join(tifOut, "nuclei-1.labels.tif"), filepath.Join(tifOut, "nuclei-1.classes.tif"))
 	for k, kind := range []string{"labels", "classes"} {
-		want, w, h, err := imageio.ReadLabels(filepath.Join(pngOut, "nuclei-1."+kind+".png"))
+		lm, err := imageio.ReadLabels(filepath.Join(pngOut, "nuclei-1."+kind+".png"))
 		if err != nil {
 			t.Fatal(err)
 		}
+		want, w, h := lm.Pix, lm.Width, lm.Height
 		g := got[k]
 		if g.Dtype != "uint16" || !slices.Equal(g.Shape, []int{h, w}) {
 			t.Fatalf("%s: tifffile read %s %v; want uint16 [%d %d]", kind, g.Dtype, g.Shape, h, w)

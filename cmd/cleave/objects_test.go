@@ -192,10 +192,11 @@ func TestSegmentCoinsCount(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(out, "coins.labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(out, "coins.labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels := lm.Pix
 	if n := slices.Max(labels); n != 24 {
 		t.Errorf("%d objects, want the 24 coins", n)
 	}

@@ -193,15 +193,18 @@ func TestSegmentOutlinesGeoJSON(t *testing.T) {
 			t.Fatalf("exit %d: %s", code, stderr)
 		}
 		for _, stem := range []string{"nuc", "clu"} {
-			labels, w, h, err := imageio.ReadLabels(filepath.Join(out, stem+".labels.png"))
+			lm, err := imageio.ReadLabels(filepath.Join(out, stem+".labels.png"))
 			if err != nil {
 				t.Fatal(err)
 			}
+			labels, w, h := lm.Pix, lm.Width, lm.Height
 			var classes []int32
 			if c.classes {
-				if classes, _, _, err = imageio.ReadLabels(filepath.Join(out, stem+".classes.png")); err != nil {
+				cm, err := imageio.ReadLabels(filepath.Join(out, stem+".classes.png"))
+				if err != nil {
 					t.Fatal(err)
 				}
+				classes = cm.Pix
 			}
 			t.Run(c.out+"/"+stem, func(t *testing.T) {
 				checkGeoJSON(t, filepath.Join(out, stem+".outlines.geojson"), labels, classes, w, h)

@@ -14,6 +14,7 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/render"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 func decodePNG(t *testing.T, p string) image.Image {
@@ -56,11 +57,11 @@ func segmentRGB(t *testing.T, dir string, img image.Image) []int32 {
 	if code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", dir, p); code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(dir, "rgb.labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(dir, "rgb.labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	return labels
+	return lm.Pix
 }
 
 func rgb8(img image.Image, x, y int) [3]uint8 {
@@ -102,10 +103,11 @@ func TestSegmentPictures(t *testing.T) {
 	if code, _, stderr := runCleave("segment", "--classes", "2", "--background", "dark", "--out", dir, in); code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	labels, w, h, err := imageio.ReadLabels(filepath.Join(dir, "nuclei-1.labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(dir, "nuclei-1.labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels, w, h := lm.Pix, lm.Width, lm.Height
 	prev := decodePNG(t, filepath.Join(dir, "nuclei-1.preview.png"))
 	colourOf := map[int32][3]uint8{}
 	for y := range h {
@@ -139,7 +141,7 @@ func TestSegmentPictures(t *testing.T) {
 	}
 	rows := readRegionRows(t, filepath.Join(dir, "nuclei-1.regions.csv"))
 	over := decodePNG(t, filepath.Join(dir, "nuclei-1.overlay.png"))
-	places := imageio.PlaceNumbers(labels, w, h)
+	places := imageio.PlaceNumbers(labelmap.Map{Pix: labels, Width: w, Height: h})
 	if len(places) < len(rows)/2 {
 		t.Errorf("%d of %d objects numbered; want most of them (nuclei of radius 6-12 fit 5 x 7 digits)", len(places), len(rows))
 	}

@@ -67,10 +67,11 @@ func TestSegmentScenes(t *testing.T) {
 			}
 			var ari, f1, otsuARI, otsuF1 float64
 			for k, sc := range c.scenes {
-				labels, w, h, err := imageio.ReadLabels(filepath.Join(out, sc.s.Name+".labels.png"))
+				lm, err := imageio.ReadLabels(filepath.Join(out, sc.s.Name+".labels.png"))
 				if err != nil {
 					t.Fatal(err)
 				}
+				labels, w, h := lm.Pix, lm.Width, lm.Height
 				if w != sc.s.Width || h != sc.s.Height {
 					t.Fatalf("label map %dx%d", w, h)
 				}

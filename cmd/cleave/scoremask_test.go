@@ -13,6 +13,7 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/tuning"
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -79,17 +80,19 @@ func scoreJSONOf(t *testing.T, args ...string) scoreJSON {
 // generator built corner contacts and diagonal strokes.
 func TestMaskComponentsSkimage(t *testing.T) {
 	for _, c := range loadMaskReference(t) {
-		mask, w, h, err := imageio.ReadLabels(c.truthPath)
+		lm, err := imageio.ReadLabels(c.truthPath)
 		if err != nil {
 			t.Fatal(err)
 		}
+		mask, w, h := lm.Pix, lm.Width, lm.Height
 		if _, ok := score.BinaryValue(mask); !ok {
 			t.Fatalf("%s: not read as a binary mask", c.truthPath)
 		}
-		want, _, _, err := imageio.ReadLabels(c.labelledMap)
+		lm, err = imageio.ReadLabels(c.labelledMap)
 		if err != nil {
 			t.Fatal(err)
 		}
+		want := lm.Pix
 		got, n := score.MaskComponents(mask, w, h)
 		if n != c.TruthComp8 || !slices.Equal(got, want) {
 			t.Errorf("%s: %d components; scikit-image's label (connectivity 2) gives %d; maps equal: %v", c.Name, n, c.TruthComp8, slices.Equal(got, want))
@@ -198,10 +201,11 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 	}
 	sc := writeNuclei(t, images, 7400, 1, 224)[0]
 	truthPath := filepath.Join(images, sc.Name+".truth.png")
-	truth, w, h, err := imageio.ReadLabels(truthPath)
+	lm, err := imageio.ReadLabels(truthPath)
 	if err != nil {
 		t.Fatal(err)
 	}
+	truth, w, h := lm.Pix, lm.Width, lm.Height
 	if err := os.Remove(truthPath); err != nil {
 		t.Fatal(err)
 	}
@@ -219,7 +223,9 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 		path   string
 		labels []int32
 	}{{filepath.Join(masks, sc.Name+"_mask.png"), mask}, {filepath.Join(labelled, sc.Name+"_mask.png"), comp}} {
-		if err := imageio.WriteAtomic(f.path, false, func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, f.labels, 0) }); err != nil {
+		if err := imageio.WriteAtomic(f.path, false, func(wr io.Writer) error {
+			return imageio.EncodeLabels(wr, labelmap.Map{Pix: f.labels, Width: w, Height: h}, 0)
+		}); err != nil {
 			t.Fatal(err)
 		}
 	}

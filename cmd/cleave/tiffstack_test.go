@@ -180,10 +180,11 @@ func TestSegmentNaNPixelsLabelZero(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	labels, w, _, err := imageio.ReadLabels(filepath.Join(out, "float32-nan.labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(out, "float32-nan.labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels, w := lm.Pix, lm.Width
 	bad := 0
 	for i := range labels {
 		v := math.Float64frombits(binary.LittleEndian.Uint64(ref[8*i:]))

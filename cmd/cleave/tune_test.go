@@ -222,10 +222,11 @@ func TestTuneReproducesAndIsDeterministic(t *testing.T) {
 	}
 	seg := filepath.Join(dir, "seg")
 	runOK(t, "segment", "--params", filepath.Join(outs["1"], "best.json"), "--out", seg, filepath.Join(dir, sc[0].Name+".png"))
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(seg, sc[0].Name+".labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(seg, sc[0].Name+".labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels := lm.Pix
 	// tune.csv holds 10 significant digits.
 	if got := score.MatchObjects(labels, sc[0].Truth).F1; math.Abs(got-want) > 1e-9 {
 		t.Errorf("segment --params best.json: object F1 %.12g, tune recorded %.12g", got, want)

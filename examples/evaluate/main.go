@@ -95,10 +95,11 @@ func measure(pred, truth []int32) metrics {
 
 // measureFile scores the label map in path against truth.
 func measureFile(path string, truth []int32) (metrics, error) {
-	labels, _, _, err := imageio.ReadLabels(path)
+	lm, err := imageio.ReadLabels(path)
 	if err != nil {
 		return metrics{}, err
 	}
+	labels := lm.Pix
 	return measure(labels, truth), nil
 }
 

@@ -3,6 +3,8 @@ package render
 import (
 	"math"
 	"slices"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // palette is the set of colours given to labels: twelve hues 30 degrees
@@ -77,7 +79,7 @@ func (c *LabelColours) Of(l int32) [3]uint8 {
 	return c.sparse[l]
 }
 
-// ColourLabels colours the labels (> 0) of a width x height label map so
+// ColourLabels colours the labels (> 0) of a label map so
 // that labels that touch, side or corner (8-connectivity), get different
 // palette entries whenever fewer than len(palette) colours are taken by
 // a label's neighbours: greedy colouring in increasing label order, each
@@ -89,7 +91,8 @@ func (c *LabelColours) Of(l int32) [3]uint8 {
 // connected and touch along sides) needs at most four colours (Appel and
 // Haken 1977), so twelve leave room for corner contacts and
 // disconnected labels. The result depends on the map only.
-func ColourLabels(labels []int32, width, height int) *LabelColours {
+func ColourLabels(m labelmap.Map) *LabelColours {
+	labels, width, height := m.Pix, m.Width, m.Height
 	maxLabel := int32(0)
 	for _, l := range labels {
 		maxLabel = max(maxLabel, l)

@@ -3,6 +3,8 @@ package render
 import (
 	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // TestPaletteDistinct: the palette colours are pairwise far apart (at
@@ -51,11 +53,11 @@ func TestColourLabelsNeighbours(t *testing.T) {
 				}
 			}
 		}
-		c := ColourLabels(labels, w, h)
+		c := ColourLabels(labelmap.Map{Pix: labels, Width: w, Height: h})
 		if c.Of(0) != [3]uint8{} {
 			t.Errorf("label 0 has colour %v", c.Of(0))
 		}
-		again := ColourLabels(labels, w, h)
+		again := ColourLabels(labelmap.Map{Pix: labels, Width: w, Height: h})
 		for y := range h {
 			for x := range w {
 				a := labels[y*w+x]
@@ -81,7 +83,7 @@ func TestColourLabelsNeighbours(t *testing.T) {
 // that is not numbered 1..n) are coloured through the map form alike.
 func TestColourLabelsSparse(t *testing.T) {
 	labels := []int32{0, 1 << 30, 1 << 30, 5, 5, 1<<30 + 1}
-	c := ColourLabels(labels, 3, 2)
+	c := ColourLabels(labelmap.Map{Pix: labels, Width: 3, Height: 2})
 	if c.Of(1<<30) == c.Of(5) || c.Of(1<<30) == c.Of(1<<30+1) || c.Of(5) == c.Of(1<<30+1) {
 		t.Errorf("touching sparse labels share a colour: %v %v %v", c.Of(1<<30), c.Of(5), c.Of(1<<30+1))
 	}

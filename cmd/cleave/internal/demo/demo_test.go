@@ -109,10 +109,11 @@ func TestRun(t *testing.T) {
 		}
 	}
 	fresh := smallPart().Fresh[0]
-	labels, _, _, err := imageio.ReadLabels(filepath.Join(dir, "small", "segmented", fresh.Name+".labels.png"))
+	lm, err := imageio.ReadLabels(filepath.Join(dir, "small", "segmented", fresh.Name+".labels.png"))
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels := lm.Pix
 	if ari := score.ARI(labels, fresh.Truth); math.Abs(ari-res[0].Mean.ARI) > 1e-12 {
 		t.Errorf("mean ARI %v, recomputed %v", res[0].Mean.ARI, ari)
 	}

@@ -19,6 +19,7 @@ import (
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/measure"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
@@ -125,11 +126,11 @@ const LabelWarningCode = "labels-tiff"
 
 // encodeLabelMap returns the encoder of one label or class map in format,
 // and fills info (file, format, bits, resolution) for the record.
-func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, unit string, workers int, info *LabelMapInfo) func(io.Writer) error {
-	info.Format, info.MaxLabel = format, imageio.MaxLabel(labels)
+func encodeLabelMap(format string, labels labelmap.Map, pixelSize float64, unit string, workers int, info *LabelMapInfo) func(io.Writer) error {
+	info.Format, info.MaxLabel = format, labels.Max()
 	if format == imageio.LabelsPNG {
 		info.Bits = 16
-		return func(wr io.Writer) error { return imageio.EncodeLabels(wr, w, h, labels, workers) }
+		return func(wr io.Writer) error { return imageio.EncodeLabels(wr, labels, workers) }
 	}
 	info.Bits = imageio.LabelBits(labels)
 	res, why := imageio.ResolutionFor(pixelSize, unit)
@@ -140,7 +141,7 @@ func encodeLabelMap(format string, w, h int, labels []int32, pixelSize float64, 
 		info.ResolutionNote = "no resolution tags: " + why
 	}
 	return func(wr io.Writer) error {
-		_, err := imageio.EncodeLabelsTIFF(wr, w, h, labels, res)
+		_, err := imageio.EncodeLabelsTIFF(wr, labels, res)
 		return err
 	}
 }
@@ -366,7 +367,9 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	// the list of outputs is kept in a fixed order.
 	// The preview and the overlay's tints share one colouring; the
 	// overlay shows a colour image in its colours.
-	palette := render.ColourLabels(res.Labels, w, h)
+	labels := labelmap.Map{Pix: res.Labels, Width: w, Height: h}
+	classes := labelmap.Map{Pix: res.Classes, Width: w, Height: h}
+	palette := render.ColourLabels(labels)
 	workers := j.Options.Params.Workers
 	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true, Workers: workers}
 	if len(in.channels) == 3 {
@@ -380,7 +383,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	// Label and class maps share one format; labels that PNG cannot hold
 	// switch both to TIFF, and the record and stderr say so.
 	asked := j.Options.LabelsFormat
-	format, switched := LabelsFormatFor(asked, imageio.MaxLabel(res.Labels))
+	format, switched := LabelsFormatFor(asked, labels.Max())
 	if switched {
 		also := ""
 		if res.Classes != nil {
@@ -388,7 +391,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		}
 		rec.Warnings = append(rec.Warnings, WarningInfo{Code: LabelWarningCode, Message: j.Voice.Msg(fmt.Sprintf(
 			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; `labels-format` tiff asks for TIFF from the start",
-			imageio.MaxLabel(res.Labels), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffixes[format])), filepath.Base(j.Out.Path(LabelsSuffixes[asked])), also))})
+			labels.Max(), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffixes[format])), filepath.Base(j.Out.Path(LabelsSuffixes[asked])), also))})
 		fallback := []string{j.Out.Path(LabelsSuffixes[format])}
 		if res.Classes != nil {
 			fallback = append(fallback, j.Out.Path(ClassesSuffixes[format]))
@@ -399,15 +402,15 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	}
 	labelMaps := []LabelMapInfo{{File: filepath.Base(j.Out.Path(LabelsSuffixes[format])), Content: "labels"}}
 	outs := []output{
-		{LabelsSuffixes[format], encodeLabelMap(format, w, h, res.Labels, tableSize, tableUnit, workers, &labelMaps[0])},
+		{LabelsSuffixes[format], encodeLabelMap(format, labels, tableSize, tableUnit, workers, &labelMaps[0])},
 		{SuffixOverlay, func(wr io.Writer) error {
-			return imageio.EncodeOverlay(wr, w, h, feat.Display, res.Labels, overlay)
+			return imageio.EncodeOverlay(wr, feat.Display, labels, overlay)
 		}},
-		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, w, h, res.Labels, palette, workers) }},
+		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, labels, palette, workers) }},
 	}
 	if res.Classes != nil {
 		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, w, h, res.Classes, tableSize, tableUnit, workers, &labelMaps[1])})
+		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
 	rec.LabelMaps = labelMaps
 	// The region table is measured while the pictures are encoded (below);

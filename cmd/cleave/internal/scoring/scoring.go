@@ -43,10 +43,11 @@ type Map struct {
 // (score.MaskComponents): hand-drawn annotations and thresholded masks are
 // saved that way, and read as one label they would make every object one.
 func Read(path string, split bool) (Map, error) {
-	labels, w, h, err := imageio.ReadLabels(path)
+	lm, err := imageio.ReadLabels(path)
 	if err != nil {
 		return Map{}, err
 	}
+	labels, w, h := lm.Pix, lm.Width, lm.Height
 	m := Map{Labels: labels, Width: w, Height: h}
 	if _, binary := score.BinaryValue(labels); binary {
 		if !split {
