@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio/scenes"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -20,6 +21,6 @@ func BenchmarkScoreMaps512(b *testing.B) {
 
 // scoreMaps computes every metric of pred against truth (width x height).
 func scoreMaps(pred, truth []int32, width, height int, tol float64) score.Report {
-	m, _ := score.Compare(context.Background(), pred, truth, width, height, tol)
+	m, _ := score.Compare(context.Background(), labelmap.Map{Pix: pred, Width: width, Height: height}, labelmap.Map{Pix: truth, Width: width, Height: height}, tol)
 	return m
 }

@@ -93,9 +93,9 @@ func TestMaskComponentsSkimage(t *testing.T) {
 			t.Fatal(err)
 		}
 		want := lm.Pix
-		got, n := score.MaskComponents(mask, w, h)
-		if n != c.TruthComp8 || !slices.Equal(got, want) {
-			t.Errorf("%s: %d components; scikit-image's label (connectivity 2) gives %d; maps equal: %v", c.Name, n, c.TruthComp8, slices.Equal(got, want))
+		got, n := score.MaskComponents(labelmap.Map{Pix: mask, Width: w, Height: h})
+		if n != c.TruthComp8 || !slices.Equal(got.Pix, want) {
+			t.Errorf("%s: %d components; scikit-image's label (connectivity 2) gives %d; maps equal: %v", c.Name, n, c.TruthComp8, slices.Equal(got.Pix, want))
 		}
 	}
 }
@@ -215,14 +215,14 @@ func TestTuneBinaryMaskTruth(t *testing.T) {
 			mask[i] = 255
 		}
 	}
-	comp, n := score.MaskComponents(mask, w, h)
+	comp, n := score.MaskComponents(labelmap.Map{Pix: mask, Width: w, Height: h})
 	if n < 3 {
 		t.Fatalf("seed 7400: %d nuclei; the test needs several", n)
 	}
 	for _, f := range []struct {
 		path   string
 		labels []int32
-	}{{filepath.Join(masks, sc.Name+"_mask.png"), mask}, {filepath.Join(labelled, sc.Name+"_mask.png"), comp}} {
+	}{{filepath.Join(masks, sc.Name+"_mask.png"), mask}, {filepath.Join(labelled, sc.Name+"_mask.png"), comp.Pix}} {
 		if err := imageio.WriteAtomic(f.path, false, func(wr io.Writer) error {
 			return imageio.EncodeLabels(wr, labelmap.Map{Pix: f.labels, Width: w, Height: h}, 0)
 		}); err != nil {

@@ -3,6 +3,8 @@ package measure
 import (
 	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // benchLabels is a 1024 x 1024 label map of 2000 random discs of radius
@@ -31,7 +33,7 @@ func benchLabels() ([]int32, []float32, int, int) {
 func BenchmarkRegions1024(b *testing.B) {
 	labels, plane, w, h := benchLabels()
 	for b.Loop() {
-		if _, err := Regions(labels, w, h, [][]float32{plane}, nil); err != nil {
+		if _, err := Regions(labelmap.Map{Pix: labels, Width: w, Height: h}, [][]float32{plane}, nil); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -40,7 +42,7 @@ func BenchmarkRegions1024(b *testing.B) {
 func BenchmarkOutlines1024(b *testing.B) {
 	labels, _, w, h := benchLabels()
 	for b.Loop() {
-		if _, err := Outlines(labels, w, h); err != nil {
+		if _, err := Outlines(labelmap.Map{Pix: labels, Width: w, Height: h}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -16,6 +16,8 @@ import (
 	"math"
 	"math/big"
 	"math/bits"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Stats are the intensity statistics of one region on one plane, in the
@@ -142,8 +144,8 @@ var croftonWeights = func() [16]float64 {
 // ErrSize reports inputs whose lengths disagree with the image size.
 var ErrSize = errors.New("measure: size mismatch")
 
-// Regions measures every label > 0 of labels (w x h, row-major; labels
-// <= 0 are background) and returns one Region per label present, in
+// Regions measures every label > 0 of the label map m (labels <= 0 are
+// background) and returns one Region per label present, in
 // ascending label order. planes are intensity planes of the same size in
 // their own units (may be none); classes is a class map of the same size
 // or nil.
@@ -164,7 +166,8 @@ var ErrSize = errors.New("measure: size mismatch")
 //
 // Moments are computed exactly in integer arithmetic and rounded once,
 // so symmetric shapes get exactly zero mixed moment.
-func Regions(labels []int32, w, h int, planes [][]float32, classes []int32) ([]Region, error) {
+func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, error) {
+	labels, w, h := m.Pix, m.Width, m.Height
 	if w <= 0 || h <= 0 || len(labels) != w*h {
 		return nil, fmt.Errorf("%w: %d labels for %d x %d pixels", ErrSize, len(labels), w, h)
 	}

@@ -16,6 +16,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/examples/loudskip"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // TestMain prints the reference checks that could not run where plain
@@ -116,7 +117,7 @@ func near(got, want, tol float64) bool {
 // random labels. Agreement to 1e-9 (relative) or exactly for counts.
 func TestRegionsAgainstSkimage(t *testing.T) {
 	for _, sc := range reference(t) {
-		got, err := Regions(sc.Labels, sc.Width, sc.Height, sc.Planes, sc.Classes)
+		got, err := Regions(labelmap.Map{Pix: sc.Labels, Width: sc.Width, Height: sc.Height}, sc.Planes, sc.Classes)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -188,7 +189,7 @@ func TestRegionsAgainstSkimage(t *testing.T) {
 // perimeter) is 27% too long on the disc.
 func TestPerimeterAgainstTruth(t *testing.T) {
 	for _, sc := range reference(t) {
-		got, err := Regions(sc.Labels, sc.Width, sc.Height, nil, nil)
+		got, err := Regions(labelmap.Map{Pix: sc.Labels, Width: sc.Width, Height: sc.Height}, nil, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -257,7 +258,7 @@ func rasterize(polys []Polygon, w, h int) []int {
 // three in a line), and one polygon per 4-connected piece.
 func checkOutlines(t *testing.T, name string, labels []int32, w, h int) {
 	t.Helper()
-	outs, err := Outlines(labels, w, h)
+	outs, err := Outlines(labelmap.Map{Pix: labels, Width: w, Height: h})
 	if err != nil {
 		t.Fatalf("%s: %v", name, err)
 	}
@@ -385,7 +386,7 @@ func TestOutlinesOnReferenceScenes(t *testing.T) {
 // A lone pixel: its outline is its square, traced from the top right
 // corner, of shoelace area +1 (worked by hand).
 func TestOutlineOnePixel(t *testing.T) {
-	outs, err := Outlines([]int32{0, 0, 0, 0, 3, 0}, 3, 2)
+	outs, err := Outlines(labelmap.Map{Pix: []int32{0, 0, 0, 0, 3, 0}, Width: 3, Height: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -402,16 +403,16 @@ func TestOutlineOnePixel(t *testing.T) {
 
 // Sizes that disagree are errors, not panics.
 func TestBadInput(t *testing.T) {
-	if _, err := Regions([]int32{1, 2}, 3, 1, nil, nil); !errors.Is(err, ErrSize) {
+	if _, err := Regions(labelmap.Map{Pix: []int32{1, 2}, Width: 3, Height: 1}, nil, nil); !errors.Is(err, ErrSize) {
 		t.Errorf("labels of the wrong size: %v", err)
 	}
-	if _, err := Regions([]int32{1, 2}, 2, 1, [][]float32{{1}}, nil); !errors.Is(err, ErrSize) {
+	if _, err := Regions(labelmap.Map{Pix: []int32{1, 2}, Width: 2, Height: 1}, [][]float32{{1}}, nil); !errors.Is(err, ErrSize) {
 		t.Errorf("plane of the wrong size: %v", err)
 	}
-	if _, err := Regions([]int32{1, 2}, 2, 1, nil, []int32{0}); !errors.Is(err, ErrSize) {
+	if _, err := Regions(labelmap.Map{Pix: []int32{1, 2}, Width: 2, Height: 1}, nil, []int32{0}); !errors.Is(err, ErrSize) {
 		t.Errorf("class map of the wrong size: %v", err)
 	}
-	if _, err := Outlines([]int32{1}, 0, 1); !errors.Is(err, ErrSize) {
+	if _, err := Outlines(labelmap.Map{Pix: []int32{1}, Width: 0, Height: 1}); !errors.Is(err, ErrSize) {
 		t.Errorf("zero width: %v", err)
 	}
 }
@@ -422,7 +423,7 @@ func TestBadInput(t *testing.T) {
 // sum 6, count 2.
 func TestNonFiniteIntensities(t *testing.T) {
 	nan, inf := float32(math.NaN()), float32(math.Inf(1))
-	rs, err := Regions([]int32{1, 1, 1, 2, 2}, 5, 1, [][]float32{{2, nan, 4, inf, nan}}, nil)
+	rs, err := Regions(labelmap.Map{Pix: []int32{1, 1, 1, 2, 2}, Width: 5, Height: 1}, [][]float32{{2, nan, 4, inf, nan}}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -443,11 +444,11 @@ func TestNonFiniteIntensities(t *testing.T) {
 func TestSparseLabels(t *testing.T) {
 	small := []int32{1, 1, 0, 2, 0, 2}
 	big := []int32{2000000000, 2000000000, 0, 7, 0, 7}
-	a, err := Regions(small, 3, 2, nil, nil)
+	a, err := Regions(labelmap.Map{Pix: small, Width: 3, Height: 2}, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, err := Regions(big, 3, 2, nil, nil)
+	b, err := Regions(labelmap.Map{Pix: big, Width: 3, Height: 2}, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

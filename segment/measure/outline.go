@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Point is a pixel corner: pixel (x, y) has the corners (x, y),
@@ -34,8 +35,8 @@ var (
 	sideStart  = [4][2]int{{0, 0}, {1, 0}, {1, 1}, {0, 1}}   // start corner, relative to the pixel
 )
 
-// Outlines traces the boundary of every label > 0 of labels (w x h,
-// row-major) along pixel edges and returns one Outline per label, in
+// Outlines traces the boundary of every label > 0 of the label map m
+// along pixel edges and returns one Outline per label, in
 // ascending label order.
 //
 // Method: crack following (the boundary as the edges between a label's
@@ -49,7 +50,8 @@ var (
 // and a hole, or two holes, each a simple closed curve. Rasterizing the
 // polygons back (a pixel is in when its centre is inside by the even-odd
 // rule) gives the label map exactly.
-func Outlines(labels []int32, w, h int) ([]Outline, error) {
+func Outlines(m labelmap.Map) ([]Outline, error) {
+	labels, w, h := m.Pix, m.Width, m.Height
 	if w <= 0 || h <= 0 || len(labels) != w*h {
 		return nil, fmt.Errorf("%w: %d labels for %d x %d pixels", ErrSize, len(labels), w, h)
 	}

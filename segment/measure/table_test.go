@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // WriteTable: the header names the columns asked for and region 1 (two
@@ -12,7 +14,7 @@ import (
 // (common practice against CSV injection) instead of written.
 func TestWriteTable(t *testing.T) {
 	labels := []int32{1, 1, 0, 2}
-	regions, err := Regions(labels, 2, 2, nil, nil)
+	regions, err := Regions(labelmap.Map{Pix: labels, Width: 2, Height: 2}, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

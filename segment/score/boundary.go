@@ -4,6 +4,8 @@ import (
 	"context"
 	"fmt"
 	"math"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // BoundaryMatch is the boundary agreement of a prediction and a truth:
@@ -20,12 +22,13 @@ type BoundaryMatch struct {
 	TruthPixels          int // |B_truth|
 }
 
-// BoundaryPixels marks the boundary pixels of a width x height label map: a
+// BoundaryPixels marks the boundary pixels of a label map: a
 // pixel is on the boundary when one of its 4-neighbours inside the image
 // carries another label. Both sides of an edge between two regions are
 // marked, so a one-pixel shift of an edge is within a tolerance of 1. It
-// panics if len(labels) != width*height.
-func BoundaryPixels(labels []int32, width, height int) []bool {
+// panics if the map's pixels do not fill its width x height.
+func BoundaryPixels(m labelmap.Map) []bool {
+	labels, width, height := m.Pix, m.Width, m.Height
 	if width < 0 || height < 0 || len(labels) != width*height {
 		panic(fmt.Sprintf("score: label map of length %d is not %d x %d", len(labels), width, height))
 	}
@@ -46,7 +49,7 @@ func BoundaryPixels(labels []int32, width, height int) []bool {
 }
 
 // Boundary compares the region boundaries of a predicted and a true label
-// map (width x height, row-major) with a tolerance of tol pixels, after
+// map of the same size with a tolerance of tol pixels, after
 // Martin, Fowlkes and Malik (2004), Learning to detect natural image
 // boundaries using local brightness, color and texture cues, IEEE TPAMI
 // 26(5). Their benchmark pairs boundary pixels one-to-one by a bipartite
@@ -60,25 +63,26 @@ func BoundaryPixels(labels []int32, width, height int) []bool {
 //
 // Degenerate cases follow MatchObjects: a ratio whose denominator is zero is
 // 1 when neither map has a boundary and 0 otherwise; F is 0 when precision
-// and recall are both 0. It panics if the lengths do not match width*height
-// or tol is negative or not finite.
-func Boundary(pred, truth []int32, width, height int, tol float64) BoundaryMatch {
-	m, _ := BoundaryContext(context.Background(), pred, truth, width, height, tol)
+// and recall are both 0. It panics if the maps differ in size, their pixels
+// do not fill it, or tol is negative or not finite.
+func Boundary(pred, truth labelmap.Map, tol float64) BoundaryMatch {
+	m, _ := BoundaryContext(context.Background(), pred, truth, tol)
 	return m
 }
 
 // BoundaryContext is Boundary that stops when ctx is done: it checks ctx
 // every few thousand boundary pixels and returns ctx's error with a zero
 // result.
-func BoundaryContext(ctx context.Context, pred, truth []int32, width, height int, tol float64) (BoundaryMatch, error) {
-	if len(pred) != len(truth) {
-		panic(fmt.Sprintf("score: label maps of different lengths %d and %d", len(pred), len(truth)))
+func BoundaryContext(ctx context.Context, pred, truth labelmap.Map, tol float64) (BoundaryMatch, error) {
+	if !pred.SameSize(truth) || len(pred.Pix) != len(truth.Pix) {
+		panic(fmt.Sprintf("score: label maps of different sizes %dx%d (%d labels) and %dx%d (%d labels)", pred.Width, pred.Height, len(pred.Pix), truth.Width, truth.Height, len(truth.Pix)))
 	}
+	width, height := pred.Width, pred.Height
 	if tol < 0 || math.IsNaN(tol) || math.IsInf(tol, 0) {
 		panic(fmt.Sprintf("score: boundary tolerance %v is not a finite number >= 0", tol))
 	}
-	bp := BoundaryPixels(pred, width, height)
-	bt := BoundaryPixels(truth, width, height)
+	bp := BoundaryPixels(pred)
+	bt := BoundaryPixels(truth)
 	hitP, np, err := within(ctx, bp, bt, width, height, tol)
 	if err != nil {
 		return BoundaryMatch{}, err

@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Hand-worked boundary matches (boundary pixels: a 4-neighbour with another
@@ -54,7 +56,7 @@ func TestBoundaryHandWorked(t *testing.T) {
 		// (0,0) is sqrt 5 from the nearest. F = 2 (2/3)(2/5) / (2/3 + 2/5) = 1/2.
 		{"spots_tol1.5", spotP, spotT, 5, 5, 1.5, 2.0 / 3, 2.0 / 5, 0.5, 3, 5},
 	} {
-		m := Boundary(tc.pred, tc.truth, tc.w, tc.h, tc.tol)
+		m := Boundary(labelmap.Map{Pix: tc.pred, Width: tc.w, Height: tc.h}, labelmap.Map{Pix: tc.truth, Width: tc.w, Height: tc.h}, tc.tol)
 		if !near(m.Precision, tc.p, 1e-15) || !near(m.Recall, tc.r, 1e-15) || !near(m.F, tc.f, 1e-15) ||
 			m.PredPixels != tc.np || m.TruthPixels != tc.nt {
 			t.Errorf("%s: got %+v, want P %v R %v F %v, pixels %d/%d", tc.name, m, tc.p, tc.r, tc.f, tc.np, tc.nt)
@@ -74,16 +76,16 @@ func TestBoundaryIdentities(t *testing.T) {
 		for i, v := range a {
 			ren[i] = 7 - 2*v
 		}
-		if m := Boundary(ren, a, w, h, 0); m.Precision != 1 || m.Recall != 1 || m.F != 1 {
+		if m := Boundary(labelmap.Map{Pix: ren, Width: w, Height: h}, labelmap.Map{Pix: a, Width: w, Height: h}, 0); m.Precision != 1 || m.Recall != 1 || m.F != 1 {
 			t.Errorf("trial %d: renamed self gives %+v, want 1, 1, 1", trial, m)
 		}
 		for _, tol := range []float64{0, 1, 2.5} {
-			ab, ba := Boundary(a, b, w, h, tol), Boundary(b, a, w, h, tol)
+			ab, ba := Boundary(labelmap.Map{Pix: a, Width: w, Height: h}, labelmap.Map{Pix: b, Width: w, Height: h}, tol), Boundary(labelmap.Map{Pix: b, Width: w, Height: h}, labelmap.Map{Pix: a, Width: w, Height: h}, tol)
 			if ab.Precision != ba.Recall || ab.Recall != ba.Precision || ab.F != ba.F {
 				t.Errorf("trial %d tol %v: (a,b) %+v vs (b,a) %+v not swapped", trial, tol, ab, ba)
 			}
 			// A larger tolerance can only match more pixels.
-			wide := Boundary(a, b, w, h, tol+1)
+			wide := Boundary(labelmap.Map{Pix: a, Width: w, Height: h}, labelmap.Map{Pix: b, Width: w, Height: h}, tol+1)
 			if wide.Precision < ab.Precision || wide.Recall < ab.Recall {
 				t.Errorf("trial %d: tol %v gave %+v, tol %v gave less %+v", trial, tol, ab, tol+1, wide)
 			}
@@ -138,7 +140,7 @@ func TestBoundaryPanicsOnBadTolerance(t *testing.T) {
 					t.Errorf("tol %v: no panic", tol)
 				}
 			}()
-			Boundary([]int32{0}, []int32{0}, 1, 1, tol)
+			Boundary(labelmap.Map{Pix: []int32{0}, Width: 1, Height: 1}, labelmap.Map{Pix: []int32{0}, Width: 1, Height: 1}, tol)
 		}()
 	}
 }

@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Boundary matching stops with the context's error once the context is
@@ -16,14 +18,14 @@ func TestBoundaryContextCancel(t *testing.T) {
 		pred[i] = int32(x/17 + 20*(y/13))
 		truth[i] = int32(x/19 + 20*(y/11))
 	}
-	want := Boundary(pred, truth, w, h, 3)
-	got, err := BoundaryContext(context.Background(), pred, truth, w, h, 3)
+	want := Boundary(labelmap.Map{Pix: pred, Width: w, Height: h}, labelmap.Map{Pix: truth, Width: w, Height: h}, 3)
+	got, err := BoundaryContext(context.Background(), labelmap.Map{Pix: pred, Width: w, Height: h}, labelmap.Map{Pix: truth, Width: w, Height: h}, 3)
 	if err != nil || got != want {
 		t.Fatalf("live context: %+v, %v; want %+v", got, err, want)
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
-	if m, err := BoundaryContext(ctx, pred, truth, w, h, 3); !errors.Is(err, context.Canceled) || m != (BoundaryMatch{}) {
+	if m, err := BoundaryContext(ctx, labelmap.Map{Pix: pred, Width: w, Height: h}, labelmap.Map{Pix: truth, Width: w, Height: h}, 3); !errors.Is(err, context.Canceled) || m != (BoundaryMatch{}) {
 		t.Errorf("cancelled: %+v, %v; want a zero result and context.Canceled", m, err)
 	}
 }

@@ -1,5 +1,7 @@
 package score
 
+import "github.com/cleave-seg/cleave/segment/labelmap"
+
 // BinaryValue reports whether labels is a binary mask: exactly two values,
 // 0 and one other, which it returns. A map of one value (all background,
 // or one label everywhere) is not a mask.
@@ -19,7 +21,7 @@ func BinaryValue(labels []int32) (value int32, ok bool) {
 }
 
 // MaskComponents labels the 8-connected components of the pixels of a
-// width x height map that are not 0: each pixel joins the pixels of its
+// label map that are not 0: each pixel joins the pixels of its
 // 3 x 3 neighbourhood (sides and corners), and the components are numbered
 // 1..n in raster order of their first pixel; 0 stays 0. In a binary mask
 // the objects touch nothing but background, so its components are its
@@ -29,11 +31,14 @@ func BinaryValue(labels []int32) (value int32, ok bool) {
 // corner. This is the full connectivity of the 2-D grid (Rosenfeld and
 // Pfaltz 1966, Sequential operations in digital picture processing, JACM
 // 13(4)), the default of scikit-image's measure.label for 2-D images.
-func MaskComponents(labels []int32, width, height int) (comp []int32, n int) {
-	comp = make([]int32, len(labels))
+func MaskComponents(m labelmap.Map) (labelmap.Map, int) {
+	labels, width, height := m.Pix, m.Width, m.Height
+	comp := make([]int32, len(labels))
+	out := labelmap.Map{Pix: comp, Width: width, Height: height}
 	if width <= 0 || height <= 0 || len(labels) != width*height {
-		return comp, 0
+		return out, 0
 	}
+	n := 0
 	var stack []int32
 	for start, l := range labels {
 		if l == 0 || comp[start] != 0 {
@@ -66,5 +71,5 @@ func MaskComponents(labels []int32, width, height int) (comp []int32, n int) {
 			}
 		}
 	}
-	return comp, n
+	return out, n
 }

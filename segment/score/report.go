@@ -3,6 +3,8 @@ package score
 import (
 	"context"
 	"fmt"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Report holds every measure of one prediction against its truth. The json
@@ -104,23 +106,23 @@ func (r Report) Values() []float64 {
 	return v
 }
 
-// Compare computes every measure of pred against truth (width x height
-// label maps; tol is the boundary matching distance in pixels). It stops
-// when ctx is done, between measures and inside the boundary matching (the
+// Compare computes every measure of pred against truth (label maps of one
+// size; tol is the boundary matching distance in pixels). It stops when
+// ctx is done, between measures and inside the boundary matching (the
 // long part), returning ctx's error.
-func Compare(ctx context.Context, pred, truth []int32, width, height int, tol float64) (Report, error) {
+func Compare(ctx context.Context, pred, truth labelmap.Map, tol float64) (Report, error) {
 	if err := ctx.Err(); err != nil {
 		return Report{}, err
 	}
-	t := Contingency(pred, truth)
+	t := Contingency(pred.Pix, truth.Pix)
 	var r Report
 	r.ARI, r.Rand = t.ARI(), t.RandIndex()
 	r.VI, r.VISplit, r.VIMerge = t.VI()
-	r.Dice, r.IoU = Dice(pred, truth)
-	om := MatchObjects(pred, truth)
+	r.Dice, r.IoU = Dice(pred.Pix, truth.Pix)
+	om := MatchObjects(pred.Pix, truth.Pix)
 	r.Precision, r.Recall, r.F1, r.MeanIoU = om.Precision, om.Recall, om.F1, om.MeanIoU
 	r.MAP = t.MeanAP()
-	b, err := BoundaryContext(ctx, pred, truth, width, height, tol)
+	b, err := BoundaryContext(ctx, pred, truth, tol)
 	if err != nil {
 		return Report{}, err
 	}

@@ -7,6 +7,7 @@ import (
 
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -34,7 +35,7 @@ func sceneObjective(t *testing.T, seeds ...uint64) ([]string, Objective) {
 		if err != nil {
 			return Sample{}, err
 		}
-		r, err := score.Compare(ctx, res.Labels, truths[j], inputs[j].Width, inputs[j].Height, 2)
+		r, err := score.Compare(ctx, labelmap.Map{Pix: res.Labels, Width: inputs[j].Width, Height: inputs[j].Height}, labelmap.Map{Pix: truths[j], Width: inputs[j].Width, Height: inputs[j].Height}, 2)
 		return Sample{Report: r, Cost: Cost(res), Used: res.Params}, err
 	}
 }

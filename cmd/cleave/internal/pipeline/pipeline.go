@@ -424,7 +424,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	)
 	measureRegions := func() {
 		defer close(regionsReady)
-		regions, regionsErr = measure.Regions(res.Labels, w, h, planes, res.Classes)
+		regions, regionsErr = measure.Regions(labels, planes, res.Classes)
 		if regionsErr == nil && res.Classes != nil {
 			classOf = make(map[int32]int32, len(regions))
 			for _, r := range regions {
@@ -439,7 +439,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		}
 		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: res.Classes != nil, PixelSize: tableSize, Unit: tableUnit})
 	}}, output{SuffixOutlines, func(wr io.Writer) error {
-		outlines, err := measure.Outlines(res.Labels, w, h)
+		outlines, err := measure.Outlines(labels)
 		if err != nil {
 			return err
 		}

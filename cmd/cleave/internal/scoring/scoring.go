@@ -13,6 +13,7 @@ import (
 	"math"
 
 	"github.com/cleave-seg/cleave/imageio"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -30,10 +31,10 @@ type Reading struct {
 	Objects int    `json:"objects"`
 }
 
-// Map is a label image as read for scoring.
+// Map is a label image as read for scoring: its labels and how they
+// were read.
 type Map struct {
-	Labels        []int32
-	Width, Height int
+	labelmap.Map
 	Reading
 }
 
@@ -47,19 +48,18 @@ func Read(path string, split bool) (Map, error) {
 	if err != nil {
 		return Map{}, err
 	}
-	labels, w, h := lm.Pix, lm.Width, lm.Height
-	m := Map{Labels: labels, Width: w, Height: h}
-	if _, binary := score.BinaryValue(labels); binary {
+	m := Map{Map: lm}
+	if _, binary := score.BinaryValue(lm.Pix); binary {
 		if !split {
 			m.Reading = Reading{Kind: KindMaskUnsplit, Objects: 1}
 			return m, nil
 		}
-		m.Labels, m.Objects = score.MaskComponents(labels, w, h)
+		m.Map, m.Objects = score.MaskComponents(lm)
 		m.Kind = KindMaskComponents
 		return m, nil
 	}
 	seen := map[int32]bool{}
-	for _, l := range labels {
+	for _, l := range lm.Pix {
 		if l != 0 {
 			seen[l] = true
 		}
@@ -134,7 +134,7 @@ func Files(ctx context.Context, predPath, truthPath string, tol float64, split b
 	if err := CheckTolerance(tol, predPath, pred.Width, pred.Height); err != nil {
 		return score.Report{}, pr, tr, err
 	}
-	m, err = score.Compare(ctx, pred.Labels, truth.Labels, pred.Width, pred.Height, tol)
+	m, err = score.Compare(ctx, pred.Map, truth.Map, tol)
 	return m, pr, tr, err
 }
 

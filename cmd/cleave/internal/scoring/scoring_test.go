@@ -52,16 +52,16 @@ func TestRead(t *testing.T) {
 	if err != nil || m.Kind != KindMaskComponents || m.Objects != 2 || m.Width != 6 || m.Height != 4 {
 		t.Fatalf("split: %+v, %v", m.Reading, err)
 	}
-	if m.Labels[0] == 0 || m.Labels[0] != m.Labels[2*6+2] || m.Labels[1*6+5] == m.Labels[0] || m.Labels[1*6+5] != m.Labels[2*6+5] {
-		t.Errorf("components %v", m.Labels)
+	if m.Pix[0] == 0 || m.Pix[0] != m.Pix[2*6+2] || m.Pix[1*6+5] == m.Pix[0] || m.Pix[1*6+5] != m.Pix[2*6+5] {
+		t.Errorf("components %v", m.Pix)
 	}
-	if u, err := Read(mask, false); err != nil || u.Kind != KindMaskUnsplit || u.Objects != 1 || u.Labels[0] != 255 {
+	if u, err := Read(mask, false); err != nil || u.Kind != KindMaskUnsplit || u.Objects != 1 || u.Pix[0] != 255 {
 		t.Errorf("unsplit: %+v, %v", u.Reading, err)
 	}
 	labels := filepath.Join(dir, "labels.png")
 	writeLabels(t, labels, [][]uint16{{0, 3, 3}, {7, 7, 0}})
-	if l, err := Read(labels, true); err != nil || l.Kind != KindLabels || l.Objects != 2 || l.Labels[1] != 3 {
-		t.Errorf("labels: %+v %v, %v", l.Reading, l.Labels, err)
+	if l, err := Read(labels, true); err != nil || l.Kind != KindLabels || l.Objects != 2 || l.Pix[1] != 3 {
+		t.Errorf("labels: %+v %v, %v", l.Reading, l.Pix, err)
 	}
 	if _, err := Read(filepath.Join(dir, "none.png"), true); err == nil || !strings.Contains(err.Error(), "none.png") {
 		t.Errorf("missing file: %v", err)
