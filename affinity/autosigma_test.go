@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // TestAutoSigmaI checks the estimate against its model: for Gaussian noise
@@ -92,14 +94,14 @@ func TestLowerMedian(t *testing.T) {
 func TestAutoRegionSigmaI(t *testing.T) {
 	labels := []int32{0, 0, 1, 1, 2, 2}
 	f := [][]float32{{0.1, 0.1, 0.2, 0.2, 0.6, 0.6}}
-	r := Summarize(f, 6, 1, labels, 3)
-	got := AutoRegionSigmaI(r, Adjacency(6, 1, labels, 3, 2))
+	r := Summarize(f, labelmap.Map{Pix: labels, Width: 6, Height: 1}, 3)
+	got := AutoRegionSigmaI(r, Adjacency(labelmap.Map{Pix: labels, Width: 6, Height: 1}, 3, 2))
 	if math.Abs(got-0.1) > 1e-6 {
 		t.Errorf("sigma-i = %v, want 0.1", got)
 	}
 	// A constant image: every difference 0, spread 0 -> the absolute floor.
 	c := [][]float32{{0.5, 0.5, 0.5, 0.5, 0.5, 0.5}}
-	if got := AutoRegionSigmaI(Summarize(c, 6, 1, labels, 3), Adjacency(6, 1, labels, 3, 2)); got != minSigmaI {
+	if got := AutoRegionSigmaI(Summarize(c, labelmap.Map{Pix: labels, Width: 6, Height: 1}, 3), Adjacency(labelmap.Map{Pix: labels, Width: 6, Height: 1}, 3, 2)); got != minSigmaI {
 		t.Errorf("constant: sigma-i = %v, want the floor %v", got, minSigmaI)
 	}
 }

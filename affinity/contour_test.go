@@ -3,6 +3,8 @@ package affinity
 import (
 	"math"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Closed forms of the scale-normalized Gaussian derivatives (Lindeberg
@@ -82,8 +84,8 @@ func TestRegionGraphContourCue(t *testing.T) {
 			lab[y*w+x] = int32(x / 10) // four columns of regions
 		}
 	}
-	r := Summarize([][]float32{f}, w, h, lab, 4)
-	adj := Adjacency(w, h, lab, 4, 2)
+	r := Summarize([][]float32{f}, labelmap.Map{Pix: lab, Width: w, Height: h}, 4)
+	adj := Adjacency(labelmap.Map{Pix: lab, Width: w, Height: h}, 4, 2)
 	e := EdgeEnergy(f, w, h, ContourScale, 1)
 	plain, err := RegionGraph(r, adj, w, h, RegionParams{SigmaI: 1, SigmaX: 100})
 	if err != nil {

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -17,10 +18,11 @@ type Regions struct {
 }
 
 // Summarize computes area, mean features and centroid of each of the n
-// regions of labels (values 0..n-1). Sums run in raster order in float64,
+// regions of the label map m (values 0..n-1; f holds its feature planes). Sums run in raster order in float64,
 // so the result is deterministic. It panics only on a label outside
 // 0..n-1 (a programmer error: labels come from SLIC or a relabelling).
-func Summarize(f [][]float32, w, h int, labels []int32, n int) *Regions {
+func Summarize(f [][]float32, m labelmap.Map, n int) *Regions {
+	labels, w, h := m.Pix, m.Width, m.Height
 	r := &Regions{N: n, Area: make([]int, n), Mean: make([][]float64, len(f)), CX: make([]float64, n), CY: make([]float64, n)}
 	for c := range f {
 		r.Mean[c] = make([]float64, n)
@@ -66,16 +68,18 @@ func Summarize(f [][]float32, w, h int, labels []int32, n int) *Regions {
 // adjRows is the number of image rows in one band of Adjacency.
 const adjRows = 128
 
-// Adjacency returns the region adjacency graph of a labelling: w_ij is the
-// number of 4-connected pixel pairs (horizontal and vertical unit edges)
-// with one pixel in region i and the other in j, i.e. the length of their
-// shared boundary in pixel edges.
+// Adjacency returns the region adjacency graph of the n regions of the
+// label map m (values 0..n-1): w_ij is the number of 4-connected pixel
+// pairs (horizontal and vertical unit edges) with one pixel in region i
+// and the other in j, i.e. the length of their shared boundary in pixel
+// edges.
 //
 // Bands of adjRows rows (fixed by h alone) are counted on workers
 // goroutines (workers < 1: GOMAXPROCS), each band in a map of its own;
 // the counts are small integers, exact in float32, so merging them in any
 // order gives the same graph.
-func Adjacency(w, h int, labels []int32, n, workers int) *Graph {
+func Adjacency(m labelmap.Map, n, workers int) *Graph {
+	labels, w, h := m.Pix, m.Width, m.Height
 	nb := (h + adjRows - 1) / adjRows
 	bands := make([]map[uint64]float32, nb)
 	parallel.For(nb, workers, func(c int) {

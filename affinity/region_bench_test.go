@@ -3,6 +3,8 @@ package affinity
 import (
 	"fmt"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // BenchmarkAdjacency counts the shared boundaries of a labelling into
@@ -20,7 +22,7 @@ func BenchmarkAdjacency(b *testing.B) {
 				}
 			}
 			for b.Loop() {
-				Adjacency(n, n, lab, nx*nx, 0)
+				Adjacency(labelmap.Map{Pix: lab, Width: n, Height: n}, nx*nx, 0)
 			}
 		})
 	}
@@ -43,7 +45,7 @@ func BenchmarkSummarize(b *testing.B) {
 			f := blobImage(9, n, n, 0.03)
 			c0 := cpuSeconds()
 			for b.Loop() {
-				Summarize(f, n, n, lab, nx*nx)
+				Summarize(f, labelmap.Map{Pix: lab, Width: n, Height: n}, nx*nx)
 			}
 			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 		})

@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // A hand-worked 4x3 labelling:
@@ -18,7 +20,7 @@ import (
 // (2,2)-(3,2) horizontal).
 func TestAdjacencyHand(t *testing.T) {
 	labels := []int32{0, 0, 1, 1, 0, 0, 1, 1, 2, 2, 2, 1}
-	g := Adjacency(4, 3, labels, 3, 2)
+	g := Adjacency(labelmap.Map{Pix: labels, Width: 4, Height: 3}, 3, 2)
 	if err := g.Validate(); err != nil {
 		t.Fatal(err)
 	}
@@ -35,7 +37,7 @@ func TestAdjacencyHand(t *testing.T) {
 func TestSummarizeAndRegionGraph(t *testing.T) {
 	labels := []int32{0, 0, 1, 1, 0, 0, 1, 1, 2, 2, 2, 1}
 	f := [][]float32{{0, 0.2, 1, 1, 0.2, 0, 1, 1, 0.5, 0.5, 0.5, 1}}
-	r := Summarize(f, 4, 3, labels, 3)
+	r := Summarize(f, labelmap.Map{Pix: labels, Width: 4, Height: 3}, 3)
 	// Region 0: pixels (0,0),(1,0),(0,1),(1,1): mean 0.1, centroid (0.5,0.5).
 	if r.Area[0] != 4 || math.Abs(r.Mean[0][0]-0.1) > 1e-7 || r.CX[0] != 0.5 || r.CY[0] != 0.5 {
 		t.Fatalf("region 0: area %d mean %v centroid (%v,%v)", r.Area[0], r.Mean[0][0], r.CX[0], r.CY[0])
@@ -45,7 +47,7 @@ func TestSummarizeAndRegionGraph(t *testing.T) {
 		t.Fatalf("region 1: area %d centroid (%v,%v)", r.Area[1], r.CX[1], r.CY[1])
 	}
 	p := RegionParams{SigmaI: 0.3, SigmaX: 5}
-	g, err := RegionGraph(r, Adjacency(4, 3, labels, 3, 2), 4, 3, p)
+	g, err := RegionGraph(r, Adjacency(labelmap.Map{Pix: labels, Width: 4, Height: 3}, 3, 2), 4, 3, p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -60,7 +62,7 @@ func TestSummarizeAndRegionGraph(t *testing.T) {
 	if got, _ := g.At(0, 1); math.Abs(float64(got)-want) > 1e-6*want {
 		t.Errorf("w01 = %v, want %v", got, want)
 	}
-	if _, err := RegionGraph(r, Adjacency(4, 3, labels, 3, 2), 4, 3, RegionParams{SigmaI: math.NaN(), SigmaX: 1}); err == nil {
+	if _, err := RegionGraph(r, Adjacency(labelmap.Map{Pix: labels, Width: 4, Height: 3}, 3, 2), 4, 3, RegionParams{SigmaI: math.NaN(), SigmaX: 1}); err == nil {
 		t.Error("NaN sigma-i accepted")
 	}
 }
@@ -145,11 +147,12 @@ func TestSummarizeRunsExact(t *testing.T) {
 	const w, h = 97, 61
 	f := blobImage(13, w, h, 0.05)
 	f = append(f, blobImage(14, w, h, 0.05)[0])
-	labels, n, err := SLIC(f, w, h, SLICParams{Count: 60, Compactness: 20}, 1)
+	labelsMap, n, err := SLIC(f, w, h, SLICParams{Count: 60, Compactness: 20}, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
-	got := Summarize(f, w, h, labels, n)
+	labels := labelsMap.Pix
+	got := Summarize(f, labelsMap, n)
 	area := make([]float64, n)
 	cx, cy := make([]float64, n), make([]float64, n)
 	mean := [][]float64{make([]float64, n), make([]float64, n)}

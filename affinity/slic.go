@@ -3,6 +3,7 @@ package affinity
 import (
 	"math"
 
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -42,12 +43,12 @@ import (
 // band order, so the labels are byte-identical for any worker count.
 // It returns a *ParamError for bad parameters and an error for an empty
 // image, planes of the wrong length or non-finite features.
-func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels []int32, n int, err error) {
+func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.Map, n int, err error) {
 	if err := p.Validate(); err != nil {
-		return nil, 0, err
+		return labelmap.Map{}, 0, err
 	}
 	if err := checkPlanes(f, w, h); err != nil {
-		return nil, 0, err
+		return labelmap.Map{}, 0, err
 	}
 	iters := p.Iterations
 	if iters == 0 {
@@ -60,8 +61,8 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels []int32, n
 		s.update()
 	}
 	expected := w * h / s.k
-	labels, n = enforceConnectivity(s.label, w, h, expected/4, s.dist)
-	return labels, n, nil
+	pix, n := enforceConnectivity(s.label, w, h, expected/4, s.dist)
+	return labelmap.Map{Pix: pix, Width: w, Height: h}, n, nil
 }
 
 // slicState holds the clustering: centres, per-pixel labels and distances,

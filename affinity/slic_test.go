@@ -88,10 +88,11 @@ func TestSLICPartition(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			labels, n, err := SLIC(c.f, c.w, c.h, SLICParams{Count: c.count, Compactness: c.compactness}, 2)
+			labelsMap, n, err := SLIC(c.f, c.w, c.h, SLICParams{Count: c.count, Compactness: c.compactness}, 2)
 			if err != nil {
 				t.Fatal(err)
 			}
+			labels := labelsMap.Pix
 			checkPartition(t, labels, c.w, c.h, n)
 			if c.checkCount {
 				// Achanta et al. (2012) produce about K superpixels; allow ±30%.
@@ -121,10 +122,11 @@ func TestSLICStepEdge(t *testing.T) {
 		}
 		f[0][i] = base + 0.1*(v-0.5) // uniform noise, standard deviation 0.029
 	}
-	labels, n, err := SLIC(f, w, h, SLICParams{Count: 300, Compactness: 10}, 2)
+	labelsMap, n, err := SLIC(f, w, h, SLICParams{Count: 300, Compactness: 10}, 2)
 	if err != nil {
 		t.Fatal(err)
 	}
+	labels := labelsMap.Pix
 	straddle := func(labels []int32, n int) int {
 		right := make([]int, n)
 		area := make([]int, n)
@@ -156,15 +158,20 @@ func TestSLICWorkersIdentical(t *testing.T) {
 	for _, planes := range []int{1, 3} {
 		f := noiseImage(uint64(20+planes), 203, 157, planes)
 		p := SLICParams{Count: 250, Compactness: 20, Iterations: 6}
-		want, n1, err := SLIC(f, 203, 157, p, 1)
+		wantMap, n1, err := SLIC(f, 203, 157, p, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
+		if wantMap.Width != 203 || wantMap.Height != 157 || wantMap.Check() != nil {
+			t.Fatalf("planes=%d: label map %dx%d with %d labels, want 203x157", planes, wantMap.Width, wantMap.Height, len(wantMap.Pix))
+		}
+		want := wantMap.Pix
 		for _, workers := range []int{2, 3, 16} {
-			got, n, err := SLIC(f, 203, 157, p, workers)
+			gotMap, n, err := SLIC(f, 203, 157, p, workers)
 			if err != nil {
 				t.Fatal(err)
 			}
+			got := gotMap.Pix
 			if n != n1 || !slices.Equal(got, want) {
 				t.Fatalf("planes=%d workers=%d: labels differ from workers=1", planes, workers)
 			}

@@ -171,7 +171,7 @@ func TestRunReportsObjectScale(t *testing.T) {
 			first = res
 			continue
 		}
-		if *res.ObjectScale != *first.ObjectScale || res.Params.Superpixels != first.Params.Superpixels || !slices.Equal(res.Labels, first.Labels) {
+		if *res.ObjectScale != *first.ObjectScale || res.Params.Superpixels != first.Params.Superpixels || !slices.Equal(res.Labels.Pix, first.Labels.Pix) {
 			t.Errorf("workers %d changed the estimate or the labels", workers)
 		}
 	}

@@ -30,14 +30,14 @@ func ExampleRun() {
 		panic(err)
 	}
 	area, inside := map[int32]int{}, true
-	for i, l := range res.Labels {
+	for i, l := range res.Labels.Pix {
 		area[l]++
 		if l != 0 && lum[i] != 0.9 {
 			inside = false
 		}
 	}
 	fmt.Println("objects:", res.NumObjects)
-	fmt.Println("left object at (10, 14):", res.Labels[14*w+10], "right at (29, 14):", res.Labels[14*w+29])
+	fmt.Println("left object at (10, 14):", res.Labels.At(10, 14), "right at (29, 14):", res.Labels.At(29, 14))
 	fmt.Println("inside the squares:", inside, "at least 95% of each:", area[1] >= 114 && area[2] >= 114)
 	// Output:
 	// objects: 2

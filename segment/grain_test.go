@@ -29,7 +29,7 @@ func TestGrainCacheWorkersInput(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !slices.Equal(got.Labels, want.Labels) || got.NumObjects != want.NumObjects {
+		if !slices.Equal(got.Labels.Pix, want.Labels.Pix) || got.NumObjects != want.NumObjects {
 			t.Errorf("grain %v: %d objects with the cache, %d without", grain, got.NumObjects, want.NumObjects)
 		}
 		p.Workers = 3
@@ -37,7 +37,7 @@ func TestGrainCacheWorkersInput(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !slices.Equal(many.Labels, want.Labels) || many.Params.GrainModel != want.Params.GrainModel {
+		if !slices.Equal(many.Labels.Pix, want.Labels.Pix) || many.Params.GrainModel != want.Params.GrainModel {
 			t.Errorf("grain %v: 3 workers gave %d objects (%+v), 1 worker %d (%+v)", grain, many.NumObjects, many.Params.GrainModel, want.NumObjects, want.Params.GrainModel)
 		}
 		if grain && !(want.Params.GrainModel.Share > 0 && want.Params.GrainModel.Length > 0) {

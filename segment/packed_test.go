@@ -55,7 +55,7 @@ func TestPackedObjects(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		m := score.MatchObjects(res.Labels, truth)
+		m := score.MatchObjects(res.Labels.Pix, truth)
 		if m.F1 < 0.95 {
 			t.Errorf("dark lines %v: %d objects, F1 %.3f (TP %d FP %d FN %d), want F1 >= 0.95", dark, res.NumObjects, m.F1, m.TP, m.FP, m.FN)
 		}

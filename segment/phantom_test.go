@@ -50,7 +50,7 @@ func TestSheppLoganARI(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			ari := score.ARI(res.Regions, regions)
+			ari := score.ARI(res.Regions.Pix, regions)
 			t.Logf("%d regions, ARI %.4f", res.NumRegions, ari)
 			if ari < 0.9 {
 				t.Errorf("ARI %.4f against the phantom's regions, want >= 0.9", ari)
@@ -89,7 +89,7 @@ func TestSheppLoganNoiseFreeObject(t *testing.T) {
 	if res.NumObjects == 0 {
 		t.Fatal("no objects on the noise-free phantom")
 	}
-	if m := score.MatchObjects(res.Labels, head); m.F1 == 0 {
+	if m := score.MatchObjects(res.Labels.Pix, head); m.F1 == 0 {
 		t.Errorf("%d objects, none matches the head (IoU > 0.5)", res.NumObjects)
 	}
 }

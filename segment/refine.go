@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -66,7 +67,8 @@ const (
 // unless necks is false (objects whose lobes are parts of one object).
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
-func refineObjects(ctx context.Context, con []float64, w, h int, labels []int32, n int, maxNcut float64, minPart int, necks bool, workers int, seed uint64) (refined, error) {
+func refineObjects(ctx context.Context, con []float64, objects labelmap.Map, n int, maxNcut float64, minPart int, necks bool, workers int, seed uint64) (refined, error) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	boxes, pixels := objectPixels(labels, w, h, n)
 	results := make([]refineResult, n+1)
 	one := func(l int) {

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // A touching pair of discs with a dim seam, a single disc and a thin bar,
@@ -46,7 +47,7 @@ func TestRefineSplitsTouchingPair(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	at := func(x, y int) int32 { return res.Labels[y*w+x] }
+	at := func(x, y int) int32 { return res.Labels.Pix[y*w+x] }
 	if res.NumObjects != 4 {
 		t.Errorf("%d objects, want 4 (pair split in two, disc, bar)", res.NumObjects)
 	}
@@ -231,7 +232,7 @@ func TestRefineCoarseSplitsLargePair(t *testing.T) {
 		if coarse := area > refineMaxNodes; coarse != (r == 60) {
 			t.Fatalf("r %g: area %d, cap %d: the test no longer covers the path it names", r, area, refineMaxNodes)
 		}
-		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 30, true, 2, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 30, true, 2, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -285,7 +286,7 @@ func TestRefineRodsAndShallowNecks(t *testing.T) {
 	run := func(name string, w, h int, necks bool, want int, inside func(x, y float64) (bool, float64)) {
 		t.Helper()
 		con, labels := draw(w, h, inside)
-		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, necks, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, necks, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -442,7 +443,7 @@ func TestCoreDistanceHaloedPair(t *testing.T) {
 		if tc.depth > 0 && (core.peakA%w < 40) == (core.peakB%w < 40) {
 			t.Errorf("%s: the core's neck separates pixels %d and %d, not the two discs", tc.name, core.peakA, core.peakB)
 		}
-		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, true, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -571,7 +572,7 @@ func TestRefineSplitsConcaveClump(t *testing.T) {
 		atLeast int
 		atMost  int
 	}{{true, 2, 3}, {false, 1, 1}} {
-		ref, err := refineObjects(context.Background(), con, w, h, labels, 1, RefineMaxNcut, 20, tc.necks, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, tc.necks, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}

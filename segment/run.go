@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Method is the cutting method of Params.Method.
@@ -283,9 +284,9 @@ type Stage struct {
 
 // Result is the outcome of Run.
 type Result struct {
-	Labels      []int32 // final label map: regions 1..N, or objects 1..N on background 0
-	Regions     []int32 // regions 1..NumRegions after cleanup
-	Classes     []int32 // class of each pixel 0..C-1 (darkest first); nil without classes
+	Labels      labelmap.Map // final label map: regions 1..N, or objects 1..N on background 0
+	Regions     labelmap.Map // regions 1..NumRegions after cleanup
+	Classes     labelmap.Map // class of each pixel 0..C-1 (darkest first); Pix nil without classes
 	NumRegions  int
 	NumObjects  int // objects when Background is set, else 0
 	Eigenvalues []float64
@@ -571,11 +572,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("graph")
 	} else {
 		compute := func() (*slicEntry, error) {
-			nodeOf, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
+			sp, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
 			if err != nil {
 				return nil, err
 			}
-			return &slicEntry{nodeOf: nodeOf, n: n, sum: affinity.Summarize(in.Planes, w, h, nodeOf, n), adj: affinity.Adjacency(w, h, nodeOf, n, p.Workers)}, nil
+			return &slicEntry{nodeOf: sp.Pix, n: n, sum: affinity.Summarize(in.Planes, sp, n), adj: affinity.Adjacency(sp, n, p.Workers)}, nil
 		}
 		var sp *slicEntry
 		if in.Cache != nil {
@@ -666,14 +667,14 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	nreg := mergeSmall(reg, w, h, cut.regions, p.MinArea)
 	res.NumRegions = nreg
-	res.Regions = make([]int32, npix)
+	res.Regions = labelmap.New(w, h)
 	for i, r := range reg {
-		res.Regions[i] = r + 1
+		res.Regions.Pix[i] = r + 1
 	}
 	res.Labels = res.Regions
 
 	if p.Background == BackgroundLines {
-		res.Labels, res.NumObjects = packedObjects(in.Luminance, w, h, reg, nreg, max(p.MinArea, 1), p.Workers)
+		res.Labels.Pix, res.NumObjects = packedObjects(in.Luminance, w, h, reg, nreg, max(p.MinArea, 1), p.Workers)
 		stage("objects")
 	}
 	if p.Classes >= 2 {
@@ -690,9 +691,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
 		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
-		res.Classes = make([]int32, npix)
+		res.Classes = labelmap.New(w, h)
 		for i, r := range reg {
-			res.Classes[i] = cls[r]
+			res.Classes.Pix[i] = cls[r]
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
@@ -753,7 +754,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 			}
 			for i, r := range reg {
-				res.Classes[i] = cls[r]
+				res.Classes.Pix[i] = cls[r]
 			}
 			obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
@@ -762,19 +763,19 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			ref, err := refineObjects(ctx, con, w, h, obj, nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
+			ref, err := refineObjects(ctx, con, labelmap.Map{Pix: obj, Width: w, Height: h}, nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
-			res.Labels, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
+			res.Labels.Pix, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
 			short.merge(ref.short)
 			// Outlines are now drawn at pixel level: their step may lie
 			// a pixel beside them.
 			edges.near = true
-			if drop := edgeless(res.Labels, res.NumObjects, edges, w, h); drop != nil {
-				res.Labels, res.NumObjects = withoutLabels(res.Labels, res.NumObjects, drop)
+			if drop := edgeless(res.Labels.Pix, res.NumObjects, edges, w, h); drop != nil {
+				res.Labels.Pix, res.NumObjects = withoutLabels(res.Labels.Pix, res.NumObjects, drop)
 			}
-			res.Labels, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, w, h, max(p.MinArea, 1))
+			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels.Pix, res.NumObjects, w, h, max(p.MinArea, 1))
 			stage("objects")
 		} else {
 			stage("classes")
@@ -787,7 +788,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
 	}
 	if !flat { // a blank image has nothing else to say
-		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
+		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels.Pix, res.NumObjects)...)
 	}
 	if w := short.warning(); w != nil {
 		res.Warnings = append(res.Warnings, *w)
@@ -800,7 +801,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 // label map, and numbers what is left consecutively in raster order of
 // first pixels (a region or object made only of invalid pixels is gone).
 func maskInvalid(res *Result, invalid []bool) {
-	same := len(res.Labels) > 0 && len(res.Regions) > 0 && &res.Labels[0] == &res.Regions[0]
+	same := len(res.Labels.Pix) > 0 && len(res.Regions.Pix) > 0 && &res.Labels.Pix[0] == &res.Regions.Pix[0]
 	mask := func(l []int32, n int) ([]int32, int) {
 		out := make([]int32, len(l))
 		for i, v := range l {
@@ -810,18 +811,16 @@ func maskInvalid(res *Result, invalid []bool) {
 		}
 		return withoutLabels(out, n, make([]bool, n+1))
 	}
-	res.Regions, res.NumRegions = mask(res.Regions, res.NumRegions)
+	res.Regions.Pix, res.NumRegions = mask(res.Regions.Pix, res.NumRegions)
 	if same {
 		res.Labels = res.Regions
 		return
 	}
 	n := res.NumObjects
 	if n == 0 {
-		for _, l := range res.Labels {
-			n = max(n, int(l))
-		}
+		n = int(res.Labels.Max())
 	}
-	res.Labels, res.NumObjects = mask(res.Labels, n)
+	res.Labels.Pix, res.NumObjects = mask(res.Labels.Pix, n)
 }
 
 // removeGrain returns the input with the directional texture of its

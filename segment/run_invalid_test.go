@@ -30,9 +30,9 @@ func TestInvalidPixelsJoinNoRegion(t *testing.T) {
 		t.Fatal(err)
 	}
 	seen := map[int32]bool{}
-	for i, l := range res.Labels {
-		if invalid[i] != (l == 0) || invalid[i] != (res.Regions[i] == 0) {
-			t.Fatalf("pixel (%d, %d): invalid %v, label %d, region %d", i%w, i/w, invalid[i], l, res.Regions[i])
+	for i, l := range res.Labels.Pix {
+		if invalid[i] != (l == 0) || invalid[i] != (res.Regions.Pix[i] == 0) {
+			t.Fatalf("pixel (%d, %d): invalid %v, label %d, region %d", i%w, i/w, invalid[i], l, res.Regions.Pix[i])
 		}
 		if l > 0 {
 			seen[l] = true

@@ -68,7 +68,7 @@ func TestRunWorkersIdentical(t *testing.T) {
 					first = res
 					continue
 				}
-				if !slices.Equal(res.Labels, first.Labels) || !slices.Equal(res.Eigenvalues, first.Eigenvalues) {
+				if !slices.Equal(res.Labels.Pix, first.Labels.Pix) || !slices.Equal(res.Eigenvalues, first.Eigenvalues) {
 					t.Fatalf("workers %d changed the result", workers)
 				}
 			}
@@ -263,7 +263,7 @@ func TestCacheSameAsDirect(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
-					if !slices.Equal(got.Regions, want.Regions) || !slices.Equal(got.Labels, want.Labels) ||
+					if !slices.Equal(got.Regions.Pix, want.Regions.Pix) || !slices.Equal(got.Labels.Pix, want.Labels.Pix) ||
 						got.NumRegions != want.NumRegions || got.NumObjects != want.NumObjects {
 						t.Errorf("sigma-i %g, max-ncut %g: %d regions / %d objects with the cache, %d / %d without",
 							si, mx, got.NumRegions, got.NumObjects, want.NumRegions, want.NumObjects)

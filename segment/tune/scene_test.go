@@ -35,7 +35,7 @@ func sceneObjective(t *testing.T, seeds ...uint64) ([]string, Objective) {
 		if err != nil {
 			return Sample{}, err
 		}
-		r, err := score.Compare(ctx, labelmap.Map{Pix: res.Labels, Width: inputs[j].Width, Height: inputs[j].Height}, labelmap.Map{Pix: truths[j], Width: inputs[j].Width, Height: inputs[j].Height}, 2)
+		r, err := score.Compare(ctx, res.Labels, labelmap.Map{Pix: truths[j], Width: inputs[j].Width, Height: inputs[j].Height}, 2)
 		return Sample{Report: r, Cost: Cost(res), Used: res.Params}, err
 	}
 }

@@ -361,14 +361,13 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	if err := ctx.Err(); err != nil {
 		return fail(err)
 	}
-	w, h := feat.Width, feat.Height
+	w := feat.Width
 	// The image outputs are encoded concurrently (PNG compression is the
 	// slow part); each goes to its own file, so order does not matter, and
 	// the list of outputs is kept in a fixed order.
 	// The preview and the overlay's tints share one colouring; the
 	// overlay shows a colour image in its colours.
-	labels := labelmap.Map{Pix: res.Labels, Width: w, Height: h}
-	classes := labelmap.Map{Pix: res.Classes, Width: w, Height: h}
+	labels, classes := res.Labels, res.Classes
 	palette := render.ColourLabels(labels)
 	workers := j.Options.Params.Workers
 	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true, Workers: workers}
@@ -386,14 +385,14 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	format, switched := LabelsFormatFor(asked, labels.Max())
 	if switched {
 		also := ""
-		if res.Classes != nil {
+		if classes.Pix != nil {
 			also = " (and the class map as " + filepath.Base(j.Out.Path(ClassesSuffixes[format])) + ")"
 		}
 		rec.Warnings = append(rec.Warnings, WarningInfo{Code: LabelWarningCode, Message: j.Voice.Msg(fmt.Sprintf(
 			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; `labels-format` tiff asks for TIFF from the start",
 			labels.Max(), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffixes[format])), filepath.Base(j.Out.Path(LabelsSuffixes[asked])), also))})
 		fallback := []string{j.Out.Path(LabelsSuffixes[format])}
-		if res.Classes != nil {
+		if classes.Pix != nil {
 			fallback = append(fallback, j.Out.Path(ClassesSuffixes[format]))
 		}
 		if err := checkPaths(fallback); err != nil {
@@ -408,7 +407,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		}},
 		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, labels, palette, workers) }},
 	}
-	if res.Classes != nil {
+	if classes.Pix != nil {
 		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffixes[format])), Content: "classes"})
 		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
@@ -424,8 +423,8 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	)
 	measureRegions := func() {
 		defer close(regionsReady)
-		regions, regionsErr = measure.Regions(labels, planes, res.Classes)
-		if regionsErr == nil && res.Classes != nil {
+		regions, regionsErr = measure.Regions(labels, planes, classes.Pix)
+		if regionsErr == nil && classes.Pix != nil {
 			classOf = make(map[int32]int32, len(regions))
 			for _, r := range regions {
 				classOf[r.Label] = r.Class
@@ -437,7 +436,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		if regionsErr != nil {
 			return regionsErr
 		}
-		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: res.Classes != nil, PixelSize: tableSize, Unit: tableUnit})
+		return measure.WriteTable(wr, regions, measure.TableOptions{Planes: planeNames, Class: classes.Pix != nil, PixelSize: tableSize, Unit: tableUnit})
 	}}, output{SuffixOutlines, func(wr io.Writer) error {
 		outlines, err := measure.Outlines(labels)
 		if err != nil {

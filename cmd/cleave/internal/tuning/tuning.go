@@ -22,7 +22,6 @@ import (
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/pipeline"
 	"github.com/cleave-seg/cleave/cmd/cleave/internal/scoring"
 	"github.com/cleave-seg/cleave/segment"
-	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
@@ -81,7 +80,7 @@ func Objective(images []*Image, tol float64, v pipeline.Voice) tune.Objective {
 		if err != nil {
 			return tune.Sample{}, v.Err(err)
 		}
-		m, err := score.Compare(ctx, labelmap.Map{Pix: res.Labels, Width: im.Truth.Width, Height: im.Truth.Height}, im.Truth.Map, tol)
+		m, err := score.Compare(ctx, res.Labels, im.Truth.Map, tol)
 		if err != nil {
 			return tune.Sample{}, v.Err(err)
 		}

@@ -19,7 +19,6 @@ import (
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/scenes"
 	"github.com/cleave-seg/cleave/segment"
-	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 	"github.com/cleave-seg/cleave/segment/tune"
 )
@@ -151,7 +150,7 @@ func TestRunOnScenes(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		m, err := score.Compare(ctx, labelmap.Map{Pix: res.Labels, Width: im.Truth.Width, Height: im.Truth.Height}, im.Truth.Map, 2)
+		m, err := score.Compare(ctx, res.Labels, im.Truth.Map, 2)
 		if err != nil {
 			t.Fatal(err)
 		}
