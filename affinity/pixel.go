@@ -141,8 +141,7 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 		rowPtr[i+1] += rowPtr[i]
 	}
 	nnz := rowPtr[n]
-	col := make([]int32, nnz)
-	wt := make([]float32, nnz)
+	g := &Graph{N: n, RowPtr: rowPtr, Col: make([]int32, nnz), Weight: make([]float32, nnz)}
 	kept := make([]int32, n) // entries kept per row (edges may be dropped)
 
 	const rowsPerChunk = 4
@@ -151,14 +150,13 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 	parallel.For(nchunks, workers, func(c int) {
 		y0, y1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, h)
 		for y := y0; y < y1; y++ {
-			dropped[c] += fillPixelRows(f, w, h, y, st, invI2, rowPtr, col, wt, kept)
+			dropped[c] += fillPixelRows(g, f, w, h, y, st, invI2, kept)
 		}
 	})
 	total := 0
 	for _, d := range dropped {
 		total += d
 	}
-	g := &Graph{N: n, RowPtr: rowPtr, Col: col, Weight: wt}
 	if total > 0 {
 		compactRows(g, kept)
 	}
@@ -166,8 +164,10 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 }
 
 // fillPixelRows writes the kept entries of the pixels in image row y at
-// the start of their structural slots and returns how many it dropped.
-func fillPixelRows(f [][]float32, w, h, y int, st *stencil, invI2 float64, rowPtr []int, col []int32, wt []float32, kept []int32) int {
+// the start of their structural slots of g (its RowPtr set, Col and
+// Weight allocated) and returns how many it dropped.
+func fillPixelRows(g *Graph, f [][]float32, w, h, y int, st *stencil, invI2 float64, kept []int32) int {
+	rowPtr, col, wt := g.RowPtr, g.Col, g.Weight
 	dropped := 0
 	f0 := f[0]
 	for x := 0; x < w; x++ {

@@ -61,8 +61,8 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 		s.update()
 	}
 	expected := w * h / s.k
-	pix, n := enforceConnectivity(s.label, w, h, expected/4, s.dist)
-	return labelmap.Map{Pix: pix, Width: w, Height: h}, n, nil
+	labels, n = enforceConnectivity(labelmap.Map{Pix: s.label, Width: w, Height: h}, expected/4, s.dist)
+	return labels, n, nil
 }
 
 // slicState holds the clustering: centres, per-pixel labels and distances,

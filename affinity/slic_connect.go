@@ -1,5 +1,7 @@
 package affinity
 
+import "github.com/cleave-seg/cleave/segment/labelmap"
+
 // enforceConnectivity relabels a clustering so that every label is one
 // 4-connected piece, following the post-processing of Achanta et al.
 // (2012): pieces are flood-filled in raster order; a piece of at most
@@ -8,11 +10,12 @@ package affinity
 // is thereby joined to a connected label; any other piece gets the next
 // new label. New labels are thus numbered in raster order of their first
 // pixel. The piece holding pixel 0 has no labelled neighbour and always
-// keeps its own label. It runs in O(w·h). scratch, when it holds at
+// keeps its own label. It runs in O(pixels). scratch, when it holds at
 // least len(old) values, is used for the flood fill's stack (SLIC hands
 // over its distance buffer, no longer needed), else a stack is
 // allocated.
-func enforceConnectivity(old []int32, w, h, minSize int, scratch []uint32) ([]int32, int) {
+func enforceConnectivity(clusters labelmap.Map, minSize int, scratch []uint32) (labelmap.Map, int) {
+	old, w, h := clusters.Pix, clusters.Width, clusters.Height
 	out := make([]int32, len(old))
 	for i := range out {
 		out[i] = -1
@@ -65,5 +68,5 @@ func enforceConnectivity(old []int32, w, h, minSize int, scratch []uint32) ([]in
 		}
 		n++
 	}
-	return out, int(n)
+	return labelmap.Map{Pix: out, Width: w, Height: h}, int(n)
 }

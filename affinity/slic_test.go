@@ -6,6 +6,8 @@ import (
 	"runtime"
 	"slices"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // checkPartition verifies the SLIC guarantees: every pixel has exactly one
@@ -232,9 +234,9 @@ func TestEnforceConnectivity(t *testing.T) {
 		0, 2, 3, 1,
 		4, 3, 3, 3,
 	}
-	got, n := enforceConnectivity(old, 4, 3, 0, nil)
-	if n != 5 || !slices.Equal(got, want0) {
-		t.Errorf("minSize 0: got %v (n=%d), want %v", got, n, want0)
+	got, n := enforceConnectivity(labelmap.Map{Pix: old, Width: 4, Height: 3}, 0, nil)
+	if n != 5 || !slices.Equal(got.Pix, want0) || got.Width != 4 || got.Height != 3 {
+		t.Errorf("minSize 0: got %v %dx%d (n=%d), want %v 4x3", got.Pix, got.Width, got.Height, n, want0)
 	}
 	// minSize 1: the orphan at (1,1) and the single pixel at (0,2) merge
 	// into their left neighbour's new label (0 and, for (0,2) at x = 0,
@@ -244,9 +246,9 @@ func TestEnforceConnectivity(t *testing.T) {
 		0, 0, 2, 1,
 		0, 2, 2, 2,
 	}
-	got, n = enforceConnectivity(old, 4, 3, 1, make([]uint32, 12))
-	if n != 3 || !slices.Equal(got, want1) {
-		t.Errorf("minSize 1: got %v (n=%d), want %v", got, n, want1)
+	got, n = enforceConnectivity(labelmap.Map{Pix: old, Width: 4, Height: 3}, 1, make([]uint32, 12))
+	if n != 3 || !slices.Equal(got.Pix, want1) {
+		t.Errorf("minSize 1: got %v (n=%d), want %v", got.Pix, n, want1)
 	}
 }
 

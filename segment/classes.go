@@ -5,6 +5,7 @@ import (
 	"slices"
 	"sort"
 
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -70,7 +71,8 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32) {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
 		mv := statsOf(planes, reg, n).mean
@@ -85,13 +87,13 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 	}
 	score := append([]float64(nil), st.mean[0]...)
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
-	if (background == "dark" || background == "bright") && objectShare(cls, reg, w, h, st.area, C, background) > 0.5 {
+	if (background == "dark" || background == "bright") && objectShare(cls, regions, st.area, C, background) > 0.5 {
 		// Objects stand out from a background around them; a first
 		// grouping whose objects include one piece over half the field
 		// has taken uneven background (haze, a glow with dark corners)
 		// for an object. Start again against the local background mesh,
 		// which needs no grouping (see initialScores).
-		initialScores(score, lum, w, h, reg, st.area, radius(), background, workers)
+		initialScores(score, lum, regions, st.area, radius(), background, workers)
 		cls = asBackground(split1D(score, st.area, C, seed), C, background)
 	}
 	for round := 0; round < classRounds; round++ {
@@ -139,7 +141,8 @@ func groupClasses(planes [][]float32, lum []float32, w, h int, reg []int32, n, C
 // as one huge object in every later round. B₀ depends on the image only,
 // so the glow scores near 0 like any other background and the first
 // grouping is already one of objects against their local background.
-func initialScores(score []float64, lum []float32, w, h int, reg []int32, area []float64, radius float64, background Background, workers int) {
+func initialScores(score []float64, lum []float32, regions labelmap.Map, area []float64, radius float64, background Background, workers int) {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	b0 := meshBackground(lum, w, h, meshCell(radius, w, h), workers)
 	sum := make([]float64, len(score))
 	for i, r := range reg {
@@ -508,8 +511,9 @@ func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
 
 // objectShare is the fraction of the image covered by the largest
 // connected piece (4-neighbours) of pixels outside the background class of
-// cls (regions reg of a w x h image, area per region).
-func objectShare(cls []int32, reg []int32, w, h int, area []float64, C int, background Background) float64 {
+// cls (area per region).
+func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, background Background) float64 {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	ref := referenceClass(cls, area, C, background)
 	group := make([]int32, len(reg))
 	for i, r := range reg {

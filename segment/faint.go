@@ -1,6 +1,10 @@
 package segment
 
-import "math"
+import (
+	"math"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
+)
 
 // faintSigmas is k of the faint-object rule of faintObjects. The usual
 // 3 (detectSigmas) assumes Gaussian scores; superpixel scores on mottled
@@ -23,7 +27,8 @@ const faintSigmas = 7
 // stand out, and each connected piece of them (4-neighbours, at least
 // minArea pixels) becomes a new region of the object class next to the
 // background. It returns the updated region map, count and classes.
-func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg []int32, nreg int, cls []int32, bg int32, background Background, minArea int) ([]int32, int, []int32) {
+func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelmap.Map, nreg int, cls []int32, bg int32, background Background, minArea int) (labelmap.Map, int, []int32) {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	sum := make([]float64, nsp)
 	cnt := make([]float64, nsp)
 	inBg := make([]bool, nsp)
@@ -44,7 +49,7 @@ func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg [
 	}
 	// Too few background superpixels to judge a spread.
 	if len(bgScores) < 16 {
-		return reg, nreg, cls
+		return regions, nreg, cls
 	}
 	m := kthSmallest(bgScores, len(bgScores)/2)
 	for i, v := range bgScores {
@@ -65,11 +70,11 @@ func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg [
 		}
 	}
 	if !found {
-		return reg, nreg, cls
+		return regions, nreg, cls
 	}
 	pieces, n := componentsOfGroups(group, w, h, minArea)
 	if n == 0 {
-		return reg, nreg, cls
+		return regions, nreg, cls
 	}
 	out := append([]int32(nil), reg...)
 	for i, l := range pieces {
@@ -81,5 +86,5 @@ func faintObjects(lum, field []float32, w, h int, nodeOf []int32, nsp int, reg [
 	for l := 0; l < n; l++ {
 		cls[nreg+l] = obj
 	}
-	return out, nreg + n, cls
+	return labelmap.Map{Pix: out, Width: w, Height: h}, nreg + n, cls
 }

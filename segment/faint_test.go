@@ -3,6 +3,8 @@ package segment
 import (
 	"math/rand/v2"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // A faint square of 16x16 pixels at 1.1 times a flat background with 5 %
@@ -41,14 +43,14 @@ func TestFaintObjects(t *testing.T) {
 			bg = 1
 		}
 		cls := []int32{bg}
-		out, n, outCls := faintObjects(lum, field, w, h, nodeOf, (w/cell)*(h/cell), reg, 1, cls, bg, background, 20)
+		out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, cls, bg, background, 20)
 		if n != 2 || outCls[1] == bg {
 			t.Fatalf("%s: %d regions, classes %v; want 2 with the new one an object", background, n, outCls)
 		}
 		for y := 0; y < h; y++ {
 			for x := 0; x < w; x++ {
 				in := x >= 64 && x < 80 && y >= 32 && y < 48
-				if got := out[y*w+x] == 1; got != in {
+				if got := out.At(x, y) == 1; got != in {
 					t.Fatalf("%s: pixel (%d,%d) in new region %v, want %v", background, x, y, got, in)
 				}
 			}

@@ -5,8 +5,8 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
-
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // BackgroundLines is the Params.Background value for packed objects:
@@ -54,7 +54,8 @@ const noiseFloor = 1e-3
 // an object are filled, and pieces under minArea pixels go to the
 // background, as do fragments (withoutFragments). It returns labels 0
 // (lines) and 1..N in raster order, and N.
-func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int) ([]int32, int) {
+func packedObjects(lum []float32, regions labelmap.Map, n, minArea, workers int) ([]int32, int) {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	var (
 		ridge []float32
 		t     float64
@@ -117,7 +118,7 @@ func packedObjects(lum []float32, w, h int, reg []int32, n, minArea, workers int
 	}
 	fillHoles(group, w, h)
 	lab, k := componentsOfGroups(group, w, h, minArea)
-	lab, k = joinUnlined(lab, k, w, h)
+	lab, k = joinUnlined(labelmap.Map{Pix: lab, Width: w, Height: h}, k)
 	return withoutFragments(lab, k)
 }
 
@@ -167,7 +168,8 @@ func withoutFragments(labels []int32, n int) ([]int32, int) {
 // pair test above took it for lined) or a speck of texture. The half is
 // the pair test's own measure. The image border is not outline. Objects
 // are renumbered 1..N in raster order of their first pixel.
-func joinUnlined(labels []int32, n, w, h int) ([]int32, int) {
+func joinUnlined(objects labelmap.Map, n int) ([]int32, int) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n < 2 {
 		return labels, n
 	}

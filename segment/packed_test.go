@@ -6,6 +6,7 @@ import (
 	"slices"
 	"testing"
 
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/score"
 )
 
@@ -94,7 +95,7 @@ func TestJoinUnlined(t *testing.T) {
 	for _, p := range [][2]int{{2, 2}, {3, 2}, {2, 3}, {3, 3}} {
 		labels[p[1]*w+p[0]] = 3
 	}
-	got, n := joinUnlined(labels, 3, w, h)
+	got, n := joinUnlined(labelmap.Map{Pix: labels, Width: w, Height: h}, 3)
 	if n != 2 {
 		t.Fatalf("%d objects, want 2 (the speck joins object 1)", n)
 	}

@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // pairKey packs an unordered label pair (a < b) into one map key.
@@ -18,7 +19,8 @@ func pairKey(a, b int32) uint64 {
 // boundaryLengths counts, for every pair of distinct labels, the 4-neighbour
 // pixel pairs that straddle them: the length of their shared boundary in
 // pixel edges.
-func boundaryLengths(lab []int32, w, h int) map[uint64]int {
+func boundaryLengths(labels labelmap.Map) map[uint64]int {
+	lab, w, h := labels.Pix, labels.Width, labels.Height
 	m := make(map[uint64]int)
 	for y := 0; y < h; y++ {
 		row := lab[y*w : (y+1)*w]
@@ -75,9 +77,10 @@ func (h *areaHeap) Pop() any {
 // mergeSmall merges every region of fewer than minArea pixels into the
 // neighbour it shares the longest boundary with (ties: the lower label),
 // smallest region first, until none is left or a small region has no
-// neighbour. lab holds labels 0..n-1 and is rewritten in place, renumbered
-// in raster order. It returns the new count.
-func mergeSmall(lab []int32, w, h, n, minArea int) int {
+// neighbour. regions holds labels 0..n-1 and is rewritten in place,
+// renumbered in raster order. It returns the new count.
+func mergeSmall(regions labelmap.Map, n, minArea int) int {
+	lab := regions.Pix
 	if minArea <= 1 || n <= 1 {
 		return relabel(lab, n)
 	}
@@ -89,7 +92,7 @@ func mergeSmall(lab []int32, w, h, n, minArea int) int {
 	for i := range adj {
 		adj[i] = map[int32]int{}
 	}
-	for k, c := range boundaryLengths(lab, w, h) {
+	for k, c := range boundaryLengths(regions) {
 		a, b := int32(k>>32), int32(uint32(k))
 		adj[a][b] = c
 		adj[b][a] = c

@@ -1,6 +1,10 @@
 package segment
 
-import "math"
+import (
+	"math"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
+)
 
 // Ring rule constants.
 const (
@@ -46,7 +50,8 @@ const (
 // be the dark side of a blurred object's rim), and so are regions whose
 // bounding box exceeds ringMaxShare of the image. It returns whether a
 // region changed class.
-func ringObjects(lum []float32, t *edgeTest, w, h int, reg []int32, cls []int32, bg int32, background Background) bool {
+func ringObjects(lum []float32, t *edgeTest, regions labelmap.Map, cls []int32, bg int32, background Background) bool {
+	w, h, reg := regions.Width, regions.Height, regions.Pix
 	if background != "dark" && background != "bright" {
 		return false
 	}

@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // dilateBox against its definition, checked pixel by pixel by brute force
@@ -107,7 +108,7 @@ func TestRingObjects(t *testing.T) {
 			bg, obj = 1, 0
 		}
 		cls := []int32{bg, bg}
-		changed := ringObjects(lum, edges, w, h, reg, cls, bg, c.background)
+		changed := ringObjects(lum, edges, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, bg, c.background)
 		if got := cls[1] == obj; got != c.want || changed != c.want {
 			t.Errorf("%s: region 1 an object %v (changed %v), want %v", c.name, got, changed, c.want)
 		}
@@ -120,7 +121,7 @@ func TestRingObjects(t *testing.T) {
 		lum, reg, w, h := ringScene(0.3, true)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 		cls := []int32{0, 0}
-		if !ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") {
+		if !ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") {
 			t.Errorf("blurred 30 sd without the coarse energy: not an object, so the case above tests nothing")
 		}
 	}
@@ -132,7 +133,7 @@ func TestRingObjects(t *testing.T) {
 	}
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	cls := []int32{0, 0, 1}
-	if ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h, reg, cls, 0, "dark") || cls[1] != 0 {
+	if ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") || cls[1] != 0 {
 		t.Errorf("a region touching an object became an object")
 	}
 }

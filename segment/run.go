@@ -665,7 +665,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			reg[i] = cut.region[v]
 		}
 	}
-	nreg := mergeSmall(reg, w, h, cut.regions, p.MinArea)
+	regions := labelmap.Map{Pix: reg, Width: w, Height: h}
+	nreg := mergeSmall(regions, cut.regions, p.MinArea)
 	res.NumRegions = nreg
 	res.Regions = labelmap.New(w, h)
 	for i, r := range reg {
@@ -674,7 +675,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	res.Labels = res.Regions
 
 	if p.Background == BackgroundLines {
-		res.Labels.Pix, res.NumObjects = packedObjects(in.Luminance, w, h, reg, nreg, max(p.MinArea, 1), p.Workers)
+		res.Labels.Pix, res.NumObjects = packedObjects(in.Luminance, regions, nreg, max(p.MinArea, 1), p.Workers)
 		stage("objects")
 	}
 	if p.Classes >= 2 {
@@ -690,7 +691,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
-		cls, field := groupClasses(in.Planes, in.Luminance, w, h, reg, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
+		cls, field := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		res.Classes = labelmap.New(w, h)
 		for i, r := range reg {
 			res.Classes.Pix[i] = cls[r]
@@ -745,13 +746,14 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				edges.con = con
 				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
 			}
-			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, w, h, reg, cls, bg, p.Background) {
+			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 			}
 			if nodeOf != nil && p.Classes == 2 {
-				reg, nreg, cls = faintObjects(in.Luminance, field, w, h, nodeOf, g.N, reg, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, g.N, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+				reg = regions.Pix
 			}
 			for i, r := range reg {
 				res.Classes.Pix[i] = cls[r]
