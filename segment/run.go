@@ -790,7 +790,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
 	}
 	if !flat { // a blank image has nothing else to say
-		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels.Pix, res.NumObjects)...)
+		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
 	}
 	if w := short.warning(); w != nil {
 		res.Warnings = append(res.Warnings, *w)

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"github.com/cleave-seg/cleave/segment/eigen"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // Warning is a finding about a result that its user should check before
@@ -121,7 +122,8 @@ func noSplitWarning(p Params, r rootSplit, flat bool) Warning {
 
 // objectWarnings checks the objects of a label map (1..n on background 0):
 // none at all, or one covering more than oneObjectShare of the image.
-func objectWarnings(p Params, labels []int32, n int) []Warning {
+func objectWarnings(p Params, objects labelmap.Map, n int) []Warning {
+	labels := objects.Pix
 	if p.Background == "" {
 		return nil
 	}
