@@ -47,22 +47,10 @@ func For(n, workers int, fn func(c int)) {
 		}
 		return
 	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	wg.Add(g)
-	for range g {
-		go func() {
-			defer wg.Done()
-			for {
-				c := int(next.Add(1) - 1)
-				if c >= n {
-					return
-				}
-				fn(c)
-			}
-		}()
-	}
-	wg.Wait()
+	run(n, g, func(_, c int) bool {
+		fn(c)
+		return true
+	})
 }
 
 // Blocks splits [0, n) into the fixed blocks [c·size, min(n, (c+1)·size))
@@ -94,12 +82,31 @@ func ForErr(n, workers int, fn func(g, c int) error) error {
 		return nil
 	}
 	var (
-		next  atomic.Int64
-		wg    sync.WaitGroup
 		mu    sync.Mutex
 		first = n // the lowest failing chunk so far
 		err   error
 	)
+	run(n, g, func(k, c int) bool {
+		e := fn(k, c)
+		if e == nil {
+			return true
+		}
+		mu.Lock()
+		if c < first {
+			first, err = c, e
+		}
+		mu.Unlock()
+		return false
+	})
+	return err
+}
+
+// run hands the chunks [0, n) out in increasing order through one atomic
+// counter to g goroutines, goroutine k calling fn(k, c), and returns when
+// they are done. Once a call returns false no further chunk is handed out.
+func run(n, g int, fn func(k, c int) bool) {
+	var next atomic.Int64
+	var wg sync.WaitGroup
 	wg.Add(g)
 	for k := range g {
 		go func() {
@@ -109,12 +116,7 @@ func ForErr(n, workers int, fn func(g, c int) error) error {
 				if c >= n {
 					return
 				}
-				if e := fn(k, c); e != nil {
-					mu.Lock()
-					if c < first {
-						first, err = c, e
-					}
-					mu.Unlock()
+				if !fn(k, c) {
 					next.Store(int64(n)) // start no further chunk
 					return
 				}
@@ -122,5 +124,4 @@ func ForErr(n, workers int, fn func(g, c int) error) error {
 		}()
 	}
 	wg.Wait()
-	return err
 }
