@@ -7,6 +7,7 @@ import (
 	"github.com/cleave-seg/cleave/affinity"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -50,7 +51,8 @@ const seamRatio = 0.8
 // dim line between two nuclei pressed together, or the bright ridge between
 // two touching pits. Objects under minArea pixels go to the background.
 // It returns labels 0 (background) and 1..N in raster order, and N.
-func objectsFrom(con []float64, w, h int, reg []int32, n int, cls []int32, bgClass int32, minArea int) ([]int32, int) {
+func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClass int32, minArea int) ([]int32, int) {
+	reg, w, h := regions.Pix, regions.Width, regions.Height
 	regC := make([]float64, n)
 	regA := make([]float64, n)
 	for i, r := range reg {
@@ -164,7 +166,8 @@ const (
 // earlier labels win contested pixels. A dim seam below the level splits
 // a touching pair. The pieces are then relabelled 1..N in raster order;
 // pieces under minArea pixels go to the background.
-func tightenObjects(con []float64, w, h int, labels []int32, n, minArea int) ([]int32, int) {
+func tightenObjects(con []float64, objects labelmap.Map, n, minArea int) ([]int32, int) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	c32 := make([]float32, len(con))
 	for i, v := range con {
 		c32[i] = float32(v)
@@ -639,7 +642,8 @@ func (t *edgeTest) edge(o *outlineEnergy) bool {
 // surroundings has no edge anywhere on its outline, or one as wide as
 // the glow; an object, however faint, has a sharp one. It returns nil
 // when no object is marked.
-func edgeless(labels []int32, n int, t *edgeTest, w, h int) []bool {
+func edgeless(objects labelmap.Map, n int, t *edgeTest) []bool {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n == 0 {
 		return nil
 	}
@@ -704,7 +708,8 @@ func withoutLabels(labels []int32, n int, drop []bool) ([]int32, int) {
 // edges with, or to the background when it touches none (a re-cut can
 // leave a few pixels cut off from both sides of a split), and numbers the
 // objects 1..N in raster order of their first pixel.
-func absorbSmall(labels []int32, n, w, h, minArea int) ([]int32, int) {
+func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	area := make([]int, n+1)
 	for _, l := range labels {
 		area[l]++
@@ -761,7 +766,8 @@ func absorbSmall(labels []int32, n, w, h, minArea int) ([]int32, int) {
 // left apart (a thin scratch found superpixel by superpixel), and a
 // border without a dip in contrast is no boundary between objects.
 // Objects are numbered 1..N in raster order of their first pixel.
-func joinTouching(con []float64, labels []int32, n, w, h int) ([]int32, int) {
+func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n < 2 {
 		return labels, n
 	}

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // twoDiscs renders two discs of radius r at I/B = level on a flat
@@ -66,7 +67,7 @@ func TestTightenObjects(t *testing.T) {
 			labels[y*w+x] = 1
 		}
 	}
-	out, n := tightenObjects(contrastMap(inten, field, 2), w, h, labels, 1, 20)
+	out, n := tightenObjects(contrastMap(inten, field, 2), labelmap.Map{Pix: labels, Width: w, Height: h}, 1, 20)
 	if n != 2 {
 		t.Fatalf("got %d objects, want 2", n)
 	}
@@ -182,7 +183,7 @@ func TestEdgeless(t *testing.T) {
 		return v, l
 	})
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy)}, w, h)
+	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy)})
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
 	}
@@ -203,7 +204,7 @@ func TestAbsorbSmall(t *testing.T) {
 		1, 1, 2, 3, 3, 0,
 		1, 1, 0, 3, 0, 4,
 	}
-	got, n := absorbSmall(labels, 4, w, h, 3)
+	got, n := absorbSmall(labelmap.Map{Pix: labels, Width: w, Height: h}, 4, 3)
 	want := []int32{
 		1, 1, 1, 2, 2, 0,
 		1, 1, 1, 2, 2, 0,
@@ -247,7 +248,7 @@ func TestJoinTouching(t *testing.T) {
 				}
 			}
 		}
-		_, n := joinTouching(con, labels, 2, w, h)
+		_, n := joinTouching(con, labelmap.Map{Pix: labels, Width: w, Height: h}, 2)
 		if n != c.want {
 			t.Errorf("border contrast %v: %d objects, want %d", c.seam, n, c.want)
 		}
@@ -300,11 +301,11 @@ func TestEdgelessDiffuse(t *testing.T) {
 		return v, l
 	})
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	if drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, w, h); drop != nil {
+	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
 	}
 	coarse := coarseEnergy(lum, w, h, 1)
-	drop := edgeless(labels, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse}, w, h)
+	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse})
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
 	}
@@ -318,13 +319,13 @@ func TestEdgelessDiffuse(t *testing.T) {
 	}
 	con := contrastMap(lum, field, 2)
 	test := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
-	if drop := edgeless(labels, 2, test, w, h); drop != nil {
+	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, test); drop != nil {
 		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)
 	}
 	for i := range con {
 		con[i] /= 2 // the contrast halved, the edge energies kept
 	}
-	if drop := edgeless(labels, 2, test, w, h); drop == nil || drop[1] || !drop[2] {
+	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, test); drop == nil || drop[1] || !drop[2] {
 		t.Errorf("at half the contrast: %v, want only the blurred disc (2) marked", drop)
 	}
 }

@@ -714,7 +714,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy), coarse: coarseEnergy(in.Luminance, w, h, p.Workers), source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
-			obj, nobj := objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
+			// objects is an object map of this image.
+			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
+			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
 			// Objects with no edge on their outline, or only a diffuse
 			// one, are shading (a glow, haze): their regions join the
 			// background, which is then estimated again with them. The
@@ -724,7 +726,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// it once the glow is background. What comes back is tested
 			// for an edge again and dropped for good when it has none.
 			for round := 0; round < 2; round++ {
-				drop := edgeless(obj, nobj, edges, w, h)
+				drop := edgeless(objects(obj), nobj, edges)
 				if drop == nil {
 					break
 				}
@@ -744,7 +746,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
-				obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
+				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
 			}
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
 				field = backgroundField()
@@ -758,14 +760,14 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			for i, r := range reg {
 				res.Classes.Pix[i] = cls[r]
 			}
-			obj, nobj = objectsFrom(con, w, h, reg, nreg, cls, bg, p.MinArea)
-			obj, nobj = tightenObjects(con, w, h, obj, nobj, max(p.MinArea, 1))
-			obj, nobj = joinTouching(con, obj, nobj, w, h)
+			obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1))
+			obj, nobj = joinTouching(con, objects(obj), nobj)
 			stage("classes")
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			ref, err := refineObjects(ctx, con, labelmap.Map{Pix: obj, Width: w, Height: h}, nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
+			ref, err := refineObjects(ctx, con, objects(obj), nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
@@ -774,10 +776,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// Outlines are now drawn at pixel level: their step may lie
 			// a pixel beside them.
 			edges.near = true
-			if drop := edgeless(res.Labels.Pix, res.NumObjects, edges, w, h); drop != nil {
+			if drop := edgeless(res.Labels, res.NumObjects, edges); drop != nil {
 				res.Labels.Pix, res.NumObjects = withoutLabels(res.Labels.Pix, res.NumObjects, drop)
 			}
-			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels.Pix, res.NumObjects, w, h, max(p.MinArea, 1))
+			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			stage("objects")
 		} else {
 			stage("classes")
