@@ -1,7 +1,9 @@
 package imageio
 
 import (
+	"context"
 	"math"
+	"slices"
 	"testing"
 )
 
@@ -139,6 +141,34 @@ func TestFlattenRemovesShading(t *testing.T) {
 		}
 		if math.Abs(float64(f0-f1)) > 0.1 || f0 < 0.5 || f1 < 0.5 {
 			t.Errorf("%s: corrected objects %v and %v; want both > 0.5 and within 0.1", c.mode, f0, f1)
+		}
+	}
+}
+
+// TestGaussianBlurWorkersIdentical: on images wider or taller than one
+// row or column block (chunks.go), so that the passes are split, the blur
+// and the flattening are bit-identical for any worker count (the fixed
+// blocks of parallel.Blocks; a property of the code, no reference).
+func TestGaussianBlurWorkersIdentical(t *testing.T) {
+	for _, size := range [][2]int{{colBlock + 37, 9}, {7, rowBlock + 53}} {
+		w, h := size[0], size[1]
+		v := make([]float32, w*h)
+		for i := range v {
+			v[i] = float32((i*7919)%1000) / 7
+		}
+		want := gaussianBlur(v, w, h, 4, 1)
+		wantFlat, err := flatten(context.Background(), v, w, h, 6, FlattenDivide, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, workers := range []int{2, 3, 0} {
+			if got := gaussianBlur(v, w, h, 4, workers); !slices.Equal(got, want) {
+				t.Errorf("%dx%d: blur with %d workers differs from one worker", w, h, workers)
+			}
+			got, err := flatten(context.Background(), v, w, h, 6, FlattenDivide, workers)
+			if err != nil || !slices.Equal(got, wantFlat) {
+				t.Errorf("%dx%d: flatten with %d workers differs from one worker (%v)", w, h, workers, err)
+			}
 		}
 	}
 }
