@@ -30,6 +30,20 @@ func TestSmootherOrder(t *testing.T) {
 	}
 }
 
+// setAutomatic evaluates the tuner's automatic settings as the setting
+// sigma-x 10 (off the grids of these tests) and sets Tuner.Automatic.
+func setAutomatic(t *testing.T, tn *Tuner) *Evaluation {
+	t.Helper()
+	p := tn.Base
+	p.SigmaX = 10
+	auto, err := tn.EvaluateParams(ctx, p, "automatic", "baseline")
+	if err != nil {
+		t.Fatal(err)
+	}
+	tn.Automatic = auto
+	return auto
+}
+
 // synthTuner is a Tuner over sigma-x alone (grid sx, the other parameters
 // fixed) on two images whose object F1 is f(sigma-x) and whose cost model
 // per image is cost(sigma-x, image); every segmentation times 1 s: the
@@ -259,13 +273,7 @@ func TestTuneKeepsAutomaticOnTies(t *testing.T) {
 		}, false},
 	} {
 		tn := synthTuner([]float64{4, 8, 16}, c.f, func(float64, int) float64 { return 1 })
-		p := tn.Base
-		p.SigmaX = 10
-		auto, err := tn.EvaluateParams(ctx, p, "automatic", "baseline")
-		if err != nil {
-			t.Fatal(err)
-		}
-		tn.Automatic = auto
+		auto := setAutomatic(t, tn)
 		res, err := tn.Search(ctx, []int{0, 1}, 0, nil)
 		if err != nil {
 			t.Fatal(err)
@@ -324,13 +332,7 @@ func TestTuneValidateKeepsAutomatic(t *testing.T) {
 				return obj(ctx, p, img)
 			}
 		}(tn.Objective)
-		p := tn.Base
-		p.SigmaX = 10
-		auto, err := tn.EvaluateParams(ctx, p, "automatic", "baseline")
-		if err != nil {
-			t.Fatal(err)
-		}
-		tn.Automatic = auto
+		auto := setAutomatic(t, tn)
 		all := tn.All()
 		_, cv, err := tn.CrossValidate(ctx, 3, 0)
 		if err != nil {
