@@ -224,18 +224,18 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea int) ([]int3
 // tightenLevel times its plateau, the median of the values at or above
 // the level. sorted holds the smoothed contrast of the object's region
 // pixels in ascending order. The region's own median is a biased plateau
-// when much of the region lies on the blurred rim or beyond it: for
-// capsules 4-6.5 px in radius blurred by 1.5 px, half of it put the
-// outline 17% of the area outside the true one (othershapes rods, choice
-// seeds 910-913). The level is therefore found as a fixed point: start
-// at half the median of all values, then take half the median of the
-// values at or above the current level, until it no longer changes. The
-// level only rises (the values above a level have a median at least that
-// of all values) and is bounded by half the largest value; a blurred
-// step of height P contributes its inner half, whose median lies near P
-// for objects wider than the blur, so the outline moves to the step's
-// half maximum. The iteration stops after halfMaxSteps rounds; on four
-// choice scenes (73 objects) it settled after 1-8 rounds, most in 2-4.
+// when much of the region lies on the blurred rim or beyond it: half of
+// it put the outlines of thin blurred rods well outside the true ones.
+// The level is therefore found as a fixed point: start at half the
+// median of all values, then take half the median of the values at or
+// above the current level, until it no longer changes. The level only
+// rises (the values above a level have a median at least that of all
+// values) and is bounded by half the largest value; a blurred step of
+// height P contributes its inner half, whose median lies near P for
+// objects wider than the blur, so the outline moves to the step's half
+// maximum. The iteration stops after halfMaxSteps rounds; in practice it
+// settles in a few. (DEVELOPERS.md, "Measured choices", gives the
+// measurement.)
 func halfMaxLevel(sorted []float32) float32 {
 	if len(sorted) == 0 {
 		return 0

@@ -126,14 +126,10 @@ func packedObjects(lum []float32, regions labelmap.Map, n, minArea, workers int)
 // a packed field smaller than crumbFraction of the median object area,
 // and numbers the rest 1..N in raster order. The objects of a packed
 // field are of one order of size; a piece that small is texture that a
-// short spurious ridge cut off a corner of its object (on generated
-// membranes, choice seeds 910-913 of othershapes.py, pieces of 20-65 px
-// against cells of about 2,000; on scikit-image's gravel.png 27 pieces of
-// 20-65 px against a median object of 530). Choice seeds, object F1 before
-// -> after: membranes 0.886 -> 0.917, grains (13700-13707) 0.979 ->
-// 0.998; gravel.png 243 -> 216 objects, the other 216 unchanged. A field
-// whose objects really differ in size by more than eight times (a powder
-// with fines) loses its smallest ones.
+// short spurious ridge cut off a corner of its object. A field whose
+// objects really differ in size by more than eight times (a powder with
+// fines) loses its smallest ones. Our choice (DEVELOPERS.md, "Measured
+// choices", gives the measurement).
 func withoutFragments(labels []int32, n int) ([]int32, int) {
 	if n < 3 {
 		return labels, n

@@ -327,19 +327,14 @@ func cutConcavity(nodes []int, cw, ch int, part []int, inA []bool) (shallow, dee
 
 // concaveMaxNcut is the Ncut a cut between two notches of the outline
 // (concaveCut) may cost: twice RefineMaxNcut, the limit of a cut along a
-// seam, since the notches are evidence the seam does not need. The best
-// cut of a saturated cluster of four nuclei (clusters seed 13701) cost
-// 0.049. concaveSNR is the least plateau of the object, in noise
+// seam, since the notches are evidence the seam does not need (saturated
+// clusters of three or four nuclei had their best cut above the seam's
+// limit). concaveSNR is the least plateau of the object, in noise
 // deviations of its pixels (objectCrop.plateauSNR), at which notches may
 // carry that dearer cut (below it, the limit of a seam): the half-maximum
-// outline of a faint object wanders with its noise, and the pieces of a
-// glow that the classes took for objects (haze scenes) had 4-9 against
-// 9-16 for nuclei of a cluster scene. Choice seeds, object F1 before -> after: clusters 13700-13712
-// 0.836 -> 0.857 and 13713-13718 0.811 -> 0.817, stained 0.917 -> 0.927
-// and 0.931 -> 0.956, haze 0.666 -> 0.666 and 0.699 -> 0.706, nuclei
-// 0.998 -> 0.993 (two slivers in one pair) and 0.976 -> 0.976, rods
-// unchanged; the same limit without the noise bound cost haze 0.034
-// (glow objects cut into more false objects). Our choices.
+// outline of a faint object wanders with its noise, and glows that the
+// classes took for objects stood less far clear of it than nuclei. Our
+// choices (DEVELOPERS.md, "Measured choices", gives the measurement).
 const (
 	concaveMaxNcut = 2 * RefineMaxNcut
 	concaveSNR     = 10
@@ -356,8 +351,8 @@ func (o *objectCrop) plateauSNR() float64 {
 	return float64(halfMaxLevel(v)) / tightenLevel / math.Max(o.noise, 1e-12)
 }
 
-// sliverSplit reports whether a split (inA marks side A) parts a sliver:
-// a side smaller than crumbFraction of the other.
+// sliverSplit reports whether a split (inA marks side A) parts a sliver
+// (sliver).
 func sliverSplit(inA []bool) bool {
 	na := 0
 	for _, a := range inA {
@@ -365,7 +360,14 @@ func sliverSplit(inA []bool) bool {
 			na++
 		}
 	}
-	return float64(min(na, len(inA)-na)) < crumbFraction*float64(max(na, len(inA)-na))
+	return sliver(na, len(inA)-na)
+}
+
+// sliver reports whether sides of a and b pixels are out of proportion:
+// one smaller than crumbFraction of the other, the share withoutCrumbs
+// asks of the pieces of one dim object.
+func sliver(a, b int) bool {
+	return float64(min(a, b)) < crumbFraction*float64(max(a, b))
 }
 
 // concaveCut reports whether a split's cut (arguments as cutSides) runs
@@ -390,7 +392,7 @@ const refineStep = 0.1
 // as its plateau (halfMaxLevel, up to the common factor tightenLevel). A
 // side's mean would fall with the share of its pixels on the blurred
 // rim: the cap of a rod cut off at a stub differed from the rest of the
-// same rod by more than refineStep in mean (othershapes rods seed 911).
+// same rod by more than refineStep in mean.
 func (o *objectCrop) differ(part []int, inA []bool) bool {
 	var vals [2][]float32
 	for k, v := range part {
@@ -602,8 +604,7 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		// A core's neck may also part a sliver of a textured object's
 		// rim from the rest: both sides must be of one order of size,
 		// as withoutCrumbs asks of the pieces of a dim object.
-		sliver := core && float64(min(nb, count-nb)) < crumbFraction*float64(max(nb, count-nb))
-		if sliver || nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
+		if core && sliver(nb, count-nb) || nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
 			continue
 		}
 		inR := make([]int, 0, count)

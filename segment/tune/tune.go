@@ -557,13 +557,10 @@ func (t *Tuner) Search(ctx context.Context, imgs []int, budget int, say func(str
 // imgs by more than a tie, a setting chosen on a few images was fitted to
 // them; r.Best becomes the automatic evaluation (r.KeptAutomatic,
 // r.Unvalidated). This is the usual guard of model selection by held-out
-// data (common practice). It catches only what the folds see: on 3
-// generated haze scenes (seeds 14807-14809) a search chose sigma-i 0.007
-// and sigma-x 23 (training F1 0.626 against the automatic 0.536); its
-// cross-validated 0.568 beat the automatic, so the choice stood, and on 5
-// new scenes (14810-14814) it scored 0.637 against the automatic
-// settings' 0.704. A NaN cv (a fold failed) or a missing or failed
-// automatic evaluation leaves r as it is.
+// data (common practice); it catches only what the folds see, and with
+// three images they see little (DEVELOPERS.md, "Measured choices"). A NaN
+// cv (a fold failed) or a missing or failed automatic evaluation leaves r
+// as it is.
 func (t *Tuner) Validate(r *Result, cv float64, imgs []int) {
 	a := t.Automatic
 	if a == nil || r.KeptAutomatic || math.IsNaN(cv) || math.IsInf(t.Score(a, imgs), -1) {
