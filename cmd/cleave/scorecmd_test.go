@@ -361,3 +361,34 @@ func TestScoreToleranceBounds(t *testing.T) {
 		}
 	}
 }
+
+// The Metrics section of score's help describes every metric of
+// segment/score by name, so that a metric added there is documented here.
+func TestScoreHelpNamesEveryMetric(t *testing.T) {
+	out := runOK(t, "score", "--help")
+	start := strings.Index(out, "Metrics (natural log for VI):")
+	end := strings.Index(out, "Example (")
+	if start < 0 || end < start {
+		t.Fatalf("score help has no Metrics section before the example:\n%s", out)
+	}
+	// The names are the first column: lines indented by at most 4 spaces,
+	// up to the first gap of two spaces.
+	named := map[string]bool{}
+	for _, line := range strings.Split(out[start:end], "\n")[1:] {
+		body := strings.TrimLeft(line, " ")
+		if body == "" || len(line)-len(body) > 4 {
+			continue
+		}
+		col, _, _ := strings.Cut(body, "  ")
+		for _, n := range strings.Split(col, ",") {
+			if n = strings.TrimSpace(n); n != "" {
+				named[n] = true
+			}
+		}
+	}
+	for _, m := range score.Metrics() {
+		if !named[m.String()] {
+			t.Errorf("score help's Metrics section does not name %q (names there: %v)", m, named)
+		}
+	}
+}

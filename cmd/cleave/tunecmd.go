@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"slices"
 	"strings"
 	"time"
 
@@ -139,7 +138,7 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	fs.StringVar(&o.images, "images", "", "folder of images to tune on")
 	fs.StringVar(&o.truth, "truth", "", "folder of truth label images (may be the --images folder)")
 	fs.StringVarP(&o.out, "out", "o", "", "folder for best.json, tune.csv, tune.png and tune.json (created if missing)")
-	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(metricNames(tuneMetrics), ", ")+" (vi is minimized); default f1 with --background, else ari")
+	fs.StringVar(&o.metric, "metric", "", "score to maximize: "+strings.Join(metricNames(score.Objectives()), ", ")+" (vi is minimized); default f1 with --background, else ari")
 	fs.StringVar(&o.tieBreak, "tie-break", "faster", "among settings tied on --metric: faster (the cheapest by a cost model, graph nonzeros x (1 + log2 regions); of those within 10% of it, the smoother) or smoother (the search's best, the smoother of the ties it compared); neither uses the clock")
 	fs.IntVar(&o.budget, "budget", 8, fmt.Sprintf("most new settings one refinement after the grid evaluates (per search and per widening; 0 = grid only; at most %d)", maxBudget))
 	fs.IntVar(&o.folds, "folds", tuning.DefaultFolds, fmt.Sprintf("K-fold cross-validation over images (leave-one-out with fewer than K images; 0 or 1 = off; at most %d)", maxFolds))
@@ -166,9 +165,6 @@ func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {
 	return fs, s, o
 }
 
-// tuneMetrics are the metrics tune can maximize (vi: minimize).
-var tuneMetrics = []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI, score.MetricDice, score.MetricBF, score.MetricCovering, score.MetricVI}
-
 // chooseMetric is the --metric given, or the default
 // (tuning.DefaultMetric). It returns the metric and why it was chosen.
 func chooseMetric(given, background string) (score.Metric, string, error) {
@@ -177,8 +173,8 @@ func chooseMetric(given, background string) (score.Metric, string, error) {
 		return m, flagQuoted(why), nil
 	}
 	m, err := score.ParseMetric(given)
-	if err != nil || !slices.Contains(tuneMetrics, m) {
-		return 0, "", usagef("--metric must be one of %s, got %q", strings.Join(metricNames(tuneMetrics), ", "), given)
+	if err != nil || !m.Objective() {
+		return 0, "", usagef("--metric must be one of %s, got %q", strings.Join(metricNames(score.Objectives()), ", "), given)
 	}
 	return m, "--metric", nil
 }

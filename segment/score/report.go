@@ -3,6 +3,7 @@ package score
 import (
 	"context"
 	"fmt"
+	"slices"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
 )
@@ -53,9 +54,48 @@ const (
 	numMetrics
 )
 
-var metricNames = [numMetrics]string{"ari", "rand", "vi", "vi_split", "vi_merge", "dice", "iou", "precision", "recall", "f1", "mean_iou", "map", "bf", "bp", "br", "covering"}
+// metricInfo is what the package knows of a metric beside its Report
+// field: its name and the roles a summary or a parameter search gives it.
+type metricInfo struct {
+	name string
+	// lower: smaller values are better (Metric.LowerIsBetter).
+	lower bool
+	// column: 0 when the metric is not one of the few measures a table of
+	// one row per image shows, else its place among them, 1 first
+	// (Metric.Column, Columns).
+	column int
+	// objective: 0 when the metric is not worth optimizing on, else its
+	// place among the objectives, 1 first (Metric.Objective, Objectives).
+	objective int
+	// headline: shown beside whatever objective was optimized
+	// (Metric.Headline).
+	headline bool
+}
 
-// Metrics lists every metric in the order of the Report's fields.
+// metrics is the one list of the metrics' properties. Adding a metric
+// means a Report field, a constant above, an entry here, a pointer in
+// fields and its computation in Compare.
+var metrics = [numMetrics]metricInfo{
+	MetricARI:       {name: "ari", column: 1, objective: 3, headline: true},
+	MetricRand:      {name: "rand"},
+	MetricVI:        {name: "vi", lower: true, column: 2, objective: 7},
+	MetricVISplit:   {name: "vi_split", lower: true},
+	MetricVIMerge:   {name: "vi_merge", lower: true},
+	MetricDice:      {name: "dice", column: 3, objective: 4},
+	MetricIoU:       {name: "iou"},
+	MetricPrecision: {name: "precision"},
+	MetricRecall:    {name: "recall"},
+	MetricF1:        {name: "f1", column: 4, objective: 1, headline: true},
+	MetricMeanIoU:   {name: "mean_iou", column: 6},
+	MetricMAP:       {name: "map", column: 5, objective: 2, headline: true},
+	MetricBF:        {name: "bf", column: 7, objective: 5},
+	MetricBP:        {name: "bp"},
+	MetricBR:        {name: "br"},
+	MetricCovering:  {name: "covering", column: 8, objective: 6},
+}
+
+// Metrics lists every metric in the order of the Report's fields (a new
+// slice on each call).
 func Metrics() []Metric {
 	m := make([]Metric, numMetrics)
 	for i := range m {
@@ -64,25 +104,63 @@ func Metrics() []Metric {
 	return m
 }
 
+// Columns lists the measures a table of one row per image shows
+// (Metric.Column), in its order (a new slice on each call).
+func Columns() []Metric { return ranked(func(i metricInfo) int { return i.column }) }
+
+// Objectives lists the metrics worth optimizing a segmentation on
+// (Metric.Objective), most preferred first (a new slice on each call).
+func Objectives() []Metric { return ranked(func(i metricInfo) int { return i.objective }) }
+
+// ranked lists the metrics of positive rank, by rank.
+func ranked(rank func(metricInfo) int) []Metric {
+	var o []Metric
+	for _, m := range Metrics() {
+		if rank(metrics[m]) > 0 {
+			o = append(o, m)
+		}
+	}
+	slices.SortFunc(o, func(a, b Metric) int { return rank(metrics[a]) - rank(metrics[b]) })
+	return o
+}
+
+// valid reports whether m is one of the constants above.
+func (m Metric) valid() bool { return m >= 0 && m < numMetrics }
+
 // String is the metric's name, the json tag of its Report field.
 func (m Metric) String() string {
-	if m < 0 || m >= numMetrics {
+	if !m.valid() {
 		return fmt.Sprintf("Metric(%d)", int(m))
 	}
-	return metricNames[m]
+	return metrics[m].name
 }
 
 // LowerIsBetter reports whether smaller values of the metric are better
 // (the variation of information and its parts are distances).
-func (m Metric) LowerIsBetter() bool {
-	return m == MetricVI || m == MetricVISplit || m == MetricVIMerge
-}
+func (m Metric) LowerIsBetter() bool { return m.valid() && metrics[m].lower }
+
+// Column reports whether m is one of the measures a table too narrow for
+// all of them shows: the main measure of each family (ARI; VI; Dice;
+// object F1, mAP and the mean IoU of the matches; boundary F; covering).
+func (m Metric) Column() bool { return m.valid() && metrics[m].column > 0 }
+
+// Objective reports whether m is worth optimizing a segmentation's
+// parameters on: a measure of both errors, splits and merges or misses
+// and false alarms. The one-sided parts (precision, recall, bp, br,
+// vi_split, vi_merge) are not, nor are the Rand index (not corrected for
+// chance; ARI is, Hubert and Arabie 1985), the IoU (a function of Dice:
+// IoU = Dice/(2-Dice)) and the mean IoU (of the matched objects only).
+func (m Metric) Objective() bool { return m.valid() && metrics[m].objective > 0 }
+
+// Headline reports whether m is one of the few objectives a one-line
+// summary shows beside the one optimized, in the order of Objectives.
+func (m Metric) Headline() bool { return m.valid() && metrics[m].headline }
 
 // ParseMetric returns the metric of the given name.
 func ParseMetric(name string) (Metric, error) {
-	for i, n := range metricNames {
-		if n == name {
-			return Metric(i), nil
+	for _, m := range Metrics() {
+		if metrics[m].name == name {
+			return m, nil
 		}
 	}
 	return 0, fmt.Errorf("score: unknown metric %q", name)
@@ -149,7 +227,7 @@ func Mean(rs []Report) Report {
 
 // MarshalText encodes the metric as its name.
 func (m Metric) MarshalText() ([]byte, error) {
-	if m < 0 || m >= numMetrics {
+	if !m.valid() {
 		return nil, fmt.Errorf("score: unknown metric %d", int(m))
 	}
 	return []byte(m.String()), nil

@@ -19,9 +19,6 @@ const DefaultTolerance = 2
 // FormatMetric is a measure as the text table prints it: 4 decimals.
 func FormatMetric(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
 
-// tableColumns are the measures of the text table of folders.
-var tableColumns = []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricMeanIoU, score.MetricBF, score.MetricCovering}
-
 // WriteTable prints the scores as a readable table: for one pair (folders
 // false) how each map was read and a measure per line; for folders a row
 // per pair, the mean and the binary masks. tol is the boundary tolerance
@@ -40,10 +37,11 @@ func WriteTable(w io.Writer, r *Result, folders bool, tol float64, v pipeline.Vo
 		fmt.Fprintf(w, "(boundary tolerance %g px; vi in nats, lower is better; the rest: higher is better, 1 best)\n", tol)
 		return
 	}
-	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(MetricNames(tableColumns), "\t"))
+	cols := score.Columns()
+	fmt.Fprintf(tw, "name\t%s\t\n", strings.Join(MetricNames(cols), "\t"))
 	row := func(name string, m score.Report) {
-		cells := make([]string, len(tableColumns))
-		for i, c := range tableColumns {
+		cells := make([]string, len(cols))
+		for i, c := range cols {
 			cells[i] = FormatMetric(m.Get(c))
 		}
 		fmt.Fprintf(tw, "%s\t%s\t\n", name, strings.Join(cells, "\t"))

@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"time"
 
@@ -131,8 +132,12 @@ func writeJSON(w io.Writer, v any) error {
 	return enc.Encode(v)
 }
 
-// csvMeans are the metrics whose mean over the images tune.csv lists.
-var csvMeans = []score.Metric{score.MetricARI, score.MetricVI, score.MetricDice, score.MetricF1, score.MetricMAP, score.MetricBF, score.MetricCovering}
+// csvMeans are the metrics whose mean over the images tune.csv lists:
+// the objectives (score.Metric.Objective) in the order of the Report's
+// fields.
+func csvMeans() []score.Metric {
+	return slices.DeleteFunc(score.Metrics(), func(m score.Metric) bool { return !m.Objective() })
+}
 
 // writeCSV writes tune.csv: every evaluation in the order evaluated, its
 // stage, the reported parameters, the tuned metric per image, the means,
@@ -152,7 +157,8 @@ func (o *Outcome) writeCSV(w io.Writer) error {
 	for _, n := range t.Names {
 		head = append(head, t.Metric.String()+":"+n)
 	}
-	for _, m := range csvMeans {
+	means := csvMeans()
+	for _, m := range means {
 		head = append(head, "mean_"+m.String())
 	}
 	head = append(head, "seconds", "seconds_per_image", "cost_per_image", "error")
@@ -179,7 +185,7 @@ func (o *Outcome) writeCSV(w io.Writer) error {
 				row = append(row, strconv.FormatFloat(e.Reports[j].Get(t.Metric), 'g', 10, 64))
 			}
 		}
-		for _, m := range csvMeans {
+		for _, m := range means {
 			var sum float64
 			for j := range all {
 				sum += e.Reports[j].Get(m)

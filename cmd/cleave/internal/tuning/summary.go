@@ -46,8 +46,8 @@ func (o *Outcome) WriteSummary(w io.Writer, out string) {
 			return ""
 		}
 		var p []string
-		for _, n := range []score.Metric{score.MetricF1, score.MetricMAP, score.MetricARI} {
-			if n != rep.Metric {
+		for _, n := range score.Objectives() {
+			if n.Headline() && n != rep.Metric {
 				p = append(p, fmt.Sprintf("%s %.4f", n, m.Get(n)))
 			}
 		}
