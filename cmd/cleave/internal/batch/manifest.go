@@ -238,8 +238,8 @@ func labelMapOf(rec *pipeline.Record) string {
 		}
 	}
 	for _, name := range rec.Outputs {
-		for _, suf := range pipeline.LabelsSuffixes {
-			if strings.HasSuffix(name, suf) {
+		for _, f := range pipeline.LabelFormats() {
+			if strings.HasSuffix(name, pipeline.LabelsSuffix(f)) {
 				return name
 			}
 		}

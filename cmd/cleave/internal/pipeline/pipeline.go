@@ -87,11 +87,23 @@ type LabelMapInfo struct {
 }
 
 // Output suffixes: STEM + suffix is each file one image's run writes. The
-// label and class maps have one per format.
-var (
-	LabelsSuffixes  = map[string]string{imageio.LabelsPNG: ".labels.png", imageio.LabelsTIFF: ".labels.tif"}
-	ClassesSuffixes = map[string]string{imageio.LabelsPNG: ".classes.png", imageio.LabelsTIFF: ".classes.tif"}
-)
+// label and class maps have one per format (LabelsSuffix, ClassesSuffix).
+
+// LabelFormats are the label map formats (imageio.LabelsPNG, LabelsTIFF).
+func LabelFormats() []string { return []string{imageio.LabelsPNG, imageio.LabelsTIFF} }
+
+// LabelsSuffix is the suffix of the label map in format (LabelFormats).
+func LabelsSuffix(format string) string { return mapSuffix(".labels", format) }
+
+// ClassesSuffix is the suffix of the class map in format (LabelFormats).
+func ClassesSuffix(format string) string { return mapSuffix(".classes", format) }
+
+func mapSuffix(kind, format string) string {
+	if format == imageio.LabelsTIFF {
+		return kind + ".tif"
+	}
+	return kind + ".png"
+}
 
 const (
 	SuffixOverlay  = ".overlay.png"
@@ -104,8 +116,8 @@ const (
 // OutputSuffixes returns the suffixes of the files Process may write for
 // one stem, in any format; the slice is the caller's.
 func OutputSuffixes() []string {
-	return []string{LabelsSuffixes[imageio.LabelsPNG], LabelsSuffixes[imageio.LabelsTIFF], SuffixOverlay, SuffixPreview,
-		ClassesSuffixes[imageio.LabelsPNG], ClassesSuffixes[imageio.LabelsTIFF], SuffixRegions, SuffixOutlines, SuffixRecord}
+	return []string{LabelsSuffix(imageio.LabelsPNG), LabelsSuffix(imageio.LabelsTIFF), SuffixOverlay, SuffixPreview,
+		ClassesSuffix(imageio.LabelsPNG), ClassesSuffix(imageio.LabelsTIFF), SuffixRegions, SuffixOutlines, SuffixRecord}
 }
 
 // LabelsFormatFor is the format the label and class maps of one result are
@@ -386,30 +398,30 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	if switched {
 		also := ""
 		if classes.Pix != nil {
-			also = " (and the class map as " + filepath.Base(j.Out.Path(ClassesSuffixes[format])) + ")"
+			also = " (and the class map as " + filepath.Base(j.Out.Path(ClassesSuffix(format))) + ")"
 		}
 		rec.Warnings = append(rec.Warnings, WarningInfo{Code: LabelWarningCode, Message: j.Voice.Msg(fmt.Sprintf(
 			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; `labels-format` tiff asks for TIFF from the start",
-			labels.Max(), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffixes[format])), filepath.Base(j.Out.Path(LabelsSuffixes[asked])), also))})
-		fallback := []string{j.Out.Path(LabelsSuffixes[format])}
+			labels.Max(), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffix(format))), filepath.Base(j.Out.Path(LabelsSuffix(asked))), also))})
+		fallback := []string{j.Out.Path(LabelsSuffix(format))}
 		if classes.Pix != nil {
-			fallback = append(fallback, j.Out.Path(ClassesSuffixes[format]))
+			fallback = append(fallback, j.Out.Path(ClassesSuffix(format)))
 		}
 		if err := checkPaths(fallback); err != nil {
 			return fail(err)
 		}
 	}
-	labelMaps := []LabelMapInfo{{File: filepath.Base(j.Out.Path(LabelsSuffixes[format])), Content: "labels"}}
+	labelMaps := []LabelMapInfo{{File: filepath.Base(j.Out.Path(LabelsSuffix(format))), Content: "labels"}}
 	outs := []output{
-		{LabelsSuffixes[format], encodeLabelMap(format, labels, tableSize, tableUnit, workers, &labelMaps[0])},
+		{LabelsSuffix(format), encodeLabelMap(format, labels, tableSize, tableUnit, workers, &labelMaps[0])},
 		{SuffixOverlay, func(wr io.Writer) error {
 			return imageio.EncodeOverlay(wr, feat.Display, labels, overlay)
 		}},
 		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, labels, palette, workers) }},
 	}
 	if classes.Pix != nil {
-		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffixes[format])), Content: "classes"})
-		outs = append(outs, output{ClassesSuffixes[format], encodeLabelMap(format, classes, tableSize, tableUnit, workers, &labelMaps[1])})
+		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffix(format))), Content: "classes"})
+		outs = append(outs, output{ClassesSuffix(format), encodeLabelMap(format, classes, tableSize, tableUnit, workers, &labelMaps[1])})
 	}
 	rec.LabelMaps = labelMaps
 	// The region table is measured while the pictures are encoded (below);
@@ -557,9 +569,9 @@ func RecordBlocked(p string, err error) string {
 // Outputs lists every file the job writes in the format asked for.
 func (j Job) Outputs() []string {
 	f := j.Options.LabelsFormat
-	list := []string{j.Out.Path(LabelsSuffixes[f]), j.Out.Path(SuffixOverlay), j.Out.Path(SuffixPreview), j.Out.Path(SuffixRegions), j.Out.Path(SuffixOutlines), j.Out.Path(SuffixRecord)}
+	list := []string{j.Out.Path(LabelsSuffix(f)), j.Out.Path(SuffixOverlay), j.Out.Path(SuffixPreview), j.Out.Path(SuffixRegions), j.Out.Path(SuffixOutlines), j.Out.Path(SuffixRecord)}
 	if j.Options.Params.Classes >= 2 {
-		list = append(list, j.Out.Path(ClassesSuffixes[f]))
+		list = append(list, j.Out.Path(ClassesSuffix(f)))
 	}
 	if j.SaveGraph != "" {
 		list = append(list, j.SaveGraph)
@@ -572,9 +584,9 @@ func (j Job) Outputs() []string {
 func (j Job) PossibleOutputs() []string {
 	list := j.Outputs()
 	if j.Options.LabelsFormat == imageio.LabelsPNG {
-		list = append(list, j.Out.Path(LabelsSuffixes[imageio.LabelsTIFF]))
+		list = append(list, j.Out.Path(LabelsSuffix(imageio.LabelsTIFF)))
 		if j.Options.Params.Classes >= 2 {
-			list = append(list, j.Out.Path(ClassesSuffixes[imageio.LabelsTIFF]))
+			list = append(list, j.Out.Path(ClassesSuffix(imageio.LabelsTIFF)))
 		}
 	}
 	return list
