@@ -57,17 +57,7 @@ func AutoSigmaI(f [][]float32, w, h int) float64 {
 			dist = append(dist, float32(d))
 		}
 	}
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			if x+1 < w {
-				pair(i, i+1)
-			}
-			if y+1 < h {
-				pair(i, i+w)
-			}
-		}
-	}
+	AdjacentPairs(w, h, pair)
 	var spread2 float64
 	for _, pl := range f {
 		lo, hi := math.Inf(1), math.Inf(-1)
@@ -172,4 +162,22 @@ func AutoRegionSigmaI(r *Regions, adj *Graph) float64 {
 		s = max(s, float64(lowerMedian(dist)))
 	}
 	return s
+}
+
+// AdjacentPairs calls f(i, j) once for every pair of 4-adjacent pixels
+// of a w x h image, j the right or lower neighbour of i, in raster order
+// of i and the right neighbour first (sums over the pairs are then
+// deterministic).
+func AdjacentPairs(w, h int, f func(i, j int)) {
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			if x+1 < w {
+				f(i, i+1)
+			}
+			if y+1 < h {
+				f(i, i+w)
+			}
+		}
+	}
 }

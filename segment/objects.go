@@ -75,7 +75,7 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 		seamSum[k] += con[i] + con[j]
 		seamCnt[k] += 2
 	}
-	adjacentPairs(w, h, add)
+	affinity.AdjacentPairs(w, h, add)
 	// Union the regions whose shared boundary is not a seam.
 	f := unionfind.New(n)
 	for k, s := range seamSum {
@@ -413,24 +413,6 @@ func dilateSquare(m []bool, w, h, r int) []bool {
 		}
 	}
 	return out
-}
-
-// adjacentPairs calls f(i, j) once for every pair of 4-adjacent pixels
-// of a w x h image, j the right or lower neighbour of i, in raster order
-// of i and the right neighbour first (sums over the pairs are then
-// deterministic).
-func adjacentPairs(w, h int, f func(i, j int)) {
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			if x+1 < w {
-				f(i, i+1)
-			}
-			if y+1 < h {
-				f(i, i+w)
-			}
-		}
-	}
 }
 
 // neighbours4 calls f with each 4-neighbour of pixel i inside the image.
@@ -784,7 +766,7 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 	}
 	seamSum := map[uint64]float64{}
 	seamCnt := map[uint64]float64{}
-	adjacentPairs(w, h, func(i, j int) {
+	affinity.AdjacentPairs(w, h, func(i, j int) {
 		a, b := labels[i], labels[j]
 		if a == b || a == 0 || b == 0 {
 			return

@@ -82,7 +82,7 @@ func packedObjects(lum []float32, regions labelmap.Map, n, minArea, workers int)
 	// Count, per adjacent pair, the border pixel pairs and those on a line.
 	type tally struct{ all, onLine int }
 	pairs := map[uint64]*tally{}
-	adjacentPairs(w, h, func(i, j int) {
+	affinity.AdjacentPairs(w, h, func(i, j int) {
 		if reg[i] == reg[j] {
 			return
 		}
@@ -172,7 +172,7 @@ func joinUnlined(objects labelmap.Map, n int) ([]int32, int) {
 	outline := make([]int, n+1)
 	direct := make([]int, n+1)
 	shared := map[uint64]int{}
-	adjacentPairs(w, h, func(i, j int) {
+	affinity.AdjacentPairs(w, h, func(i, j int) {
 		a, b := labels[i], labels[j]
 		if a == b {
 			return

@@ -330,7 +330,7 @@ func cutConcavity(nodes []int, cw, ch int, part []int, inA []bool) (shallow, dee
 // seam, since the notches are evidence the seam does not need (saturated
 // clusters of three or four nuclei had their best cut above the seam's
 // limit). concaveSNR is the least plateau of the object, in noise
-// deviations of its pixels (objectCrop.plateauSNR), at which notches may
+// deviations of its pixels (plateauSNR), at which notches may
 // carry that dearer cut (below it, the limit of a seam): the half-maximum
 // outline of a faint object wanders with its noise, and glows that the
 // classes took for objects stood less far clear of it than nuclei. Our
@@ -340,15 +340,11 @@ const (
 	concaveSNR     = 10
 )
 
-// plateauSNR is the object's plateau (halfMaxLevel of its scaled
-// contrast, over tightenLevel) in units of its pixel noise (o.noise).
-func (o *objectCrop) plateauSNR() float64 {
-	v := make([]float32, len(o.nodes))
-	for k, c := range o.nodes {
-		v[k] = o.feat[c]
-	}
-	slices.Sort(v)
-	return float64(halfMaxLevel(v)) / tightenLevel / math.Max(o.noise, 1e-12)
+// plateauSNR is an object's plateau (halfMaxLevel of sorted, its scaled
+// contrast in ascending order, over tightenLevel) in units of its pixel
+// noise.
+func plateauSNR(sorted []float32, noise float64) float64 {
+	return float64(halfMaxLevel(sorted)) / tightenLevel / math.Max(noise, 1e-12)
 }
 
 // sliverSplit reports whether a split (inA marks side A) parts a sliver
@@ -777,9 +773,17 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// Notches may carry a dearer cut on an object that stands clear of
 	// its noise (concaveMaxNcut, concaveSNR).
 	notchLimit := limit
-	if necks && obj.plateauSNR() >= concaveSNR {
-		notchLimit = math.Max(limit, concaveMaxNcut)
-		cutLimit = math.Max(cutLimit, notchLimit)
+	if necks {
+		// The scaled contrast in ascending order: sorted divided by
+		// scale (a monotone map, so no second sort).
+		featSorted := make([]float32, len(sorted))
+		for k, v := range sorted {
+			featSorted[k] = float32(v / scale)
+		}
+		if plateauSNR(featSorted, obj.noise) >= concaveSNR {
+			notchLimit = math.Max(limit, concaveMaxNcut)
+			cutLimit = math.Max(cutLimit, notchLimit)
+		}
 	}
 	// A split is made within the Ncut limit along a seam (a dip in
 	// contrast) or, with shape cues on, between concavities of the
