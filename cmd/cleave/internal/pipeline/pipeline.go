@@ -175,6 +175,23 @@ func warningsOf(ws []segment.Warning, v Voice) []WarningInfo {
 	return out
 }
 
+// colourHint extends a no-objects warning on a colour image that was
+// segmented by its luminance alone with the suggestion to segment by
+// colour: objects that differ from their surroundings in hue more than in
+// brightness (a brown stain beside a blue one) are lost in the luminance.
+func colourHint(ws []segment.Warning, channels int, f imageio.FeatureOptions) []segment.Warning {
+	if channels < 3 || f.Channel >= 0 || f.Space == imageio.SpaceLab {
+		return ws
+	}
+	out := append([]segment.Warning(nil), ws...)
+	for i, w := range out {
+		if w.Code == segment.WarnNoObjects {
+			out[i].Message += "; the image has colour and was segmented by its brightness alone: if the objects differ by colour, try \x60features\x60 lab"
+		}
+	}
+	return out
+}
+
 // GraphInfo describes the graph that was solved.
 type GraphInfo struct {
 	Kind  string `json:"kind"` // "pixels" or "superpixels"
@@ -362,7 +379,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		rec.SplitNcuts = []float64{}
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
-	rec.Warnings = append(append([]WarningInfo{}, stackWarnings(rec.Input, j.Options.EveryPlane, j.Voice)...), warningsOf(res.Warnings, j.Voice)...)
+	rec.Warnings = append(append([]WarningInfo{}, stackWarnings(rec.Input, j.Options.EveryPlane, j.Voice)...), warningsOf(colourHint(res.Warnings, in.Info.Channels, j.Options.Features), j.Voice)...)
 	pixelSize := pixelSizeFor(j.Options.PixelSize, j.Options.Unit, in.calibration)
 	rec.Input.PixelSize = pixelSize
 	tableSize, tableUnit := 0.0, ""

@@ -429,3 +429,40 @@ func TestCheckNotInputs(t *testing.T) {
 		t.Errorf("graph over a graph file: %v", err)
 	}
 }
+
+// colourHint adds the colour suggestion to a no-objects warning only when
+// a colour image was segmented by its luminance: not for gray images, a
+// chosen channel, lab features or other warnings.
+func TestColourHint(t *testing.T) {
+	none := segment.Warning{Code: segment.WarnNoObjects, Message: "no objects found"}
+	one := segment.Warning{Code: segment.WarnOneObject, Message: "object 1 covers 60% of the image"}
+	gray := imageio.FeatureOptions{Space: imageio.SpaceGray, Channel: -1}
+	for _, c := range []struct {
+		name     string
+		channels int
+		f        imageio.FeatureOptions
+		w        segment.Warning
+		hint     bool
+	}{
+		{"colour, luminance", 3, gray, none, true},
+		{"colour with alpha", 4, gray, none, true},
+		{"default space", 3, imageio.FeatureOptions{Channel: -1}, none, true},
+		{"gray image", 1, gray, none, false},
+		{"chosen channel", 3, imageio.FeatureOptions{Space: imageio.SpaceGray, Channel: 1}, none, false},
+		{"lab", 3, imageio.FeatureOptions{Space: imageio.SpaceLab, Channel: -1}, none, false},
+		{"other warning", 3, gray, one, false},
+	} {
+		in := []segment.Warning{c.w}
+		out := colourHint(in, c.channels, c.f)
+		if len(out) != 1 || out[0].Code != c.w.Code {
+			t.Fatalf("%s: got %+v", c.name, out)
+		}
+		got := strings.Contains(out[0].Message, "`features` lab")
+		if got != c.hint || !strings.HasPrefix(out[0].Message, c.w.Message) {
+			t.Errorf("%s: message %q, hint %v, want %v", c.name, out[0].Message, got, c.hint)
+		}
+		if in[0] != c.w {
+			t.Errorf("%s: the caller's warning was changed", c.name)
+		}
+	}
+}
