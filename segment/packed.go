@@ -119,7 +119,104 @@ func packedObjects(lum []float32, regions labelmap.Map, n, minArea, workers int)
 	fillHoles(group, w, h)
 	lab, k := componentsOfGroups(group, w, h, minArea)
 	lab, k = joinUnlined(labelmap.Map{Pix: lab, Width: w, Height: h}, k)
-	return withoutFragments(lab, k)
+	lab, k = withoutFragments(lab, k)
+	return splitEnclosed(labelmap.Map{Pix: lab, Width: w, Height: h}, k, dilateSquare(line, w, h, lineGapRadius))
+}
+
+// lineGapRadius is the half-width, in pixels, of the square by which
+// line pixels are widened when splitEnclosed looks for the pieces lines
+// enclose: a gap of up to 2·lineGapRadius pixels in a detected line
+// (where the ridge strength dips below the threshold, at junctions and
+// faint stretches) closes, as in the usual closing of edge maps (common
+// practice). Our choice (DEVELOPERS.md, "Measured choices", gives the
+// measurement).
+const lineGapRadius = 2
+
+// splitEnclosed splits each object (labels 1..n, 0 lines) that the
+// widened lines wide cut into two or more pieces of at least
+// crumbFraction of the median object area (4-connected pixels of the
+// object outside wide): each such piece becomes an object, and the rest
+// of the object (the band along the widened line, smaller pieces) goes to
+// the piece it reaches first growing breadth-first along 4-neighbours
+// within the object, so the objects' pixels stay what they were. The cut
+// leaves two packed objects in one region when the line between them is
+// too faint, or too broken, for its Ncut to pass the limit; a closed line
+// around each is the evidence the pair test of packedObjects cannot use,
+// since no region border runs along it. Objects are numbered 1..N in
+// raster order.
+func splitEnclosed(objects labelmap.Map, n int, wide []bool) ([]int32, int) {
+	labels, w, h := objects.Pix, objects.Width, objects.Height
+	if n < 1 {
+		return labels, n
+	}
+	minPiece := max(int(crumbFraction*float64(medianArea(labels, n))), 1)
+	group := make([]int32, len(labels))
+	for i, l := range labels {
+		group[i] = -1
+		if l > 0 && !wide[i] {
+			group[i] = l
+		}
+	}
+	piece, np := componentsOfGroups(group, w, h, minPiece)
+	of := make([]int32, np+1) // the object of each piece
+	pieces := make([]int, n+1)
+	for i, c := range piece {
+		if c > 0 && of[c] == 0 {
+			of[c] = labels[i]
+			pieces[labels[i]]++
+		}
+	}
+	if !slices.ContainsFunc(pieces, func(c int) bool { return c > 1 }) {
+		return labels, n
+	}
+	// Objects of one piece keep their label; the pieces of split objects
+	// take labels n+1, n+2, ... and grow over the rest of their object.
+	out := make([]int32, len(labels))
+	queue := make([]int, 0, 1024)
+	next := int32(n)
+	pieceLabel := make([]int32, np+1)
+	for i, l := range labels {
+		switch {
+		case l <= 0:
+		case pieces[l] <= 1:
+			out[i] = l
+		case piece[i] > 0:
+			c := piece[i]
+			if pieceLabel[c] == 0 {
+				next++
+				pieceLabel[c] = next
+			}
+			out[i] = pieceLabel[c]
+			queue = append(queue, i)
+		}
+	}
+	for q := 0; q < len(queue); q++ {
+		i := queue[q]
+		neighbours4(i, w, h, func(j int) {
+			if out[j] == 0 && labels[j] == labels[i] {
+				out[j] = out[i]
+				queue = append(queue, j)
+			}
+		})
+	}
+	return withoutLabels(out, int(next), make([]bool, next+1))
+}
+
+// medianArea is the median area in pixels of the objects 1..n of labels
+// (the lower middle one for even n); 0 when n < 1.
+func medianArea(labels []int32, n int) int {
+	if n < 1 {
+		return 0
+	}
+	area := make([]int, n+1)
+	for _, l := range labels {
+		if l > 0 {
+			area[l]++
+		}
+	}
+	sorted := slices.Clone(area[1:])
+	slices.Sort(sorted)
+	return sorted[(len(sorted)-1)/2]
 }
 
 // withoutFragments sends to the background (the lines) every object of
@@ -138,9 +235,7 @@ func withoutFragments(labels []int32, n int) ([]int32, int) {
 	for _, l := range labels {
 		area[l]++
 	}
-	sorted := slices.Clone(area[1:])
-	slices.Sort(sorted)
-	median := sorted[(len(sorted)-1)/2]
+	median := medianArea(labels, n)
 	drop := make([]bool, n+1)
 	found := false
 	for l := 1; l <= n; l++ {

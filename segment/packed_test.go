@@ -146,3 +146,67 @@ func TestWithoutFragments(t *testing.T) {
 		}
 	}
 }
+
+// splitEnclosed splits an object that a broken line divides when the
+// line's gaps are at most 2·lineGapRadius pixels and both sides are
+// sizeable, and leaves it whole when a gap is wider or a side is a crumb;
+// an object's pixels stay object pixels either way.
+func TestSplitEnclosed(t *testing.T) {
+	const w, h = 60, 30
+	for _, c := range []struct {
+		name  string
+		gap    int // pixels of the line left open
+		corner int // 0: the line runs at x = 30 (open from y = 12); else it closes off the corner x, y < corner (open at the far corner)
+		want   int
+	}{
+		{"no gap: closed by the cut's lines already", 0, 0, 2},
+		{"gap of 2 px", 2, 0, 2},
+		{"gap of 2·lineGapRadius px", 2 * lineGapRadius, 0, 2},
+		{"gap one wider", 2*lineGapRadius + 1, 0, 1},
+		{"corner of 24 x 24 px behind a gapped line", 2, 24, 2},
+		{"crumb: corner of 12 x 12 px, under 1/8 of the object", 2, 12, 1},
+	} {
+		labels := make([]int32, w*h)
+		line := make([]bool, w*h)
+		for i := range labels {
+			labels[i] = 1
+		}
+		if s := c.corner; s > 0 {
+			// An L of line pixels around the corner, open for c.gap
+			// pixels next to its bend at (s, s).
+			for k := 0; k <= s-c.gap; k++ {
+				line[s*w+k], line[k*w+s] = true, true
+			}
+		} else {
+			for y := 0; y < h; y++ {
+				if y < 12 || y >= 12+c.gap {
+					line[y*w+30] = true
+				}
+			}
+		}
+		for i, on := range line {
+			if on {
+				labels[i] = 0
+			}
+		}
+		// The pieces that lines closed off completely are objects of
+		// their own before the split, as packedObjects makes them.
+		group := make([]int32, len(labels))
+		for i, l := range labels {
+			group[i] = l - 1
+		}
+		before, n := componentsOfGroups(group, w, h, 1)
+		got, m := splitEnclosed(labelmap.Map{Pix: before, Width: w, Height: h}, n, dilateSquare(line, w, h, lineGapRadius))
+		if m != c.want {
+			t.Errorf("%s: %d objects, want %d", c.name, m, c.want)
+		}
+		for i := range got {
+			if (got[i] > 0) != (before[i] > 0) || got[i] > int32(m) {
+				t.Fatalf("%s: pixel %d labelled %d, was %d (of %d objects)", c.name, i, got[i], before[i], m)
+			}
+		}
+		if m == 2 && got[0] == got[w*h-1] {
+			t.Errorf("%s: the two sides of the line share a label", c.name)
+		}
+	}
+}
