@@ -9,13 +9,16 @@ Kinds: rods (capsules 4-6.5 px in radius, 14-40 px long, half of them
 placed from a pixel of an earlier rod and kept where they do not overlap
 it; bright on dark, blur 1.5 px, uneven light, Poisson and read noise), membrane (packed Voronoi cells whose 2-px boundaries are bright,
 textured interiors), lobes (scikit-image's binary_blobs: lobed shapes that
-never touch, each connected shape one object).
+never touch, each connected shape one object), specks (150-300 spots of
+radius 1.5-4 px, a third touching another), bodies (large textured cells
+of radius 18-40 px with dark nucleoli, a third touching another).
 
     othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png, .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
 
 score chooses the watershed's parameters on CHOOSE_DIR (watershed.py's
-grid for nuclei, or for grains on the inverted image for membrane; '-'
+grid for nuclei, for grains on the inverted image for membrane, the
+nuclei's with objects down to 5 px and closer peaks for specks; '-'
 skips the baseline) and prints object F1, mAP over IoU 0.5:0.95 and ARI
 per scene of REPORT_DIR for the baseline and for each folder of
 NAME.labels.png (e.g. cleave's outputs), then their means.
@@ -107,6 +110,82 @@ def lobes(rng, n=512):
     img = filters.gaussian((truth > 0).astype(float) * 0.8 + 0.1, 1.2)
     return noise(img, rng, 150, 0.03), truth
 
+def specks(rng, n=512):
+    """Small bright spots (radius 1.5-4 px, 150-300 of them, a third
+    placed touching an earlier one) of unequal brightness on a dim uneven
+    field: puncta, inclusions, fine particles."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    yy, xx = np.mgrid[0:n, 0:n]
+    lab, tries = 0, 0
+    target = rng.integers(150, 300)
+    centres = []
+    while lab < target and tries < 5000:
+        tries += 1
+        r = rng.uniform(1.5, 4)
+        if centres and rng.random() < 0.33:
+            cy, cx, cr = centres[rng.integers(len(centres))]
+            a = rng.uniform(0, 2 * np.pi)
+            cy, cx = cy + (cr + r + 0.5) * np.sin(a), cx + (cr + r + 0.5) * np.cos(a)
+        else:
+            cy, cx = rng.uniform(4, n - 4), rng.uniform(4, n - 4)
+        y0, y1, x0, x1 = int(max(cy - r - 1, 0)), int(min(cy + r + 2, n)), int(max(cx - r - 1, 0)), int(min(cx + r + 2, n))
+        d2 = (yy[y0:y1, x0:x1] - cy) ** 2 + (xx[y0:y1, x0:x1] - cx) ** 2
+        m = d2 <= r * r
+        if m.sum() < 5 or (truth[y0:y1, x0:x1][m] > 0).any():
+            continue
+        lab += 1
+        truth[y0:y1, x0:x1][m] = lab
+        img[y0:y1, x0:x1][m] = rng.uniform(0.35, 1.0)
+        centres.append((cy, cx, r))
+    img = filters.gaussian(img, 0.8)
+    light = 0.12 + 0.06 * np.sin(xx / n * 2.5 + 0.3) * np.cos(yy / n * 1.7)
+    return noise(img + light, rng, 250, 0.02), truth
+
+def bodies(rng, n=512):
+    """Large textured cells (ellipses of radius 18-40 px, aspect up to
+    1.8) with dark nucleoli and granular interiors, a third of them
+    touching an earlier one, bright on dark under uneven light."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    yy, xx = np.mgrid[0:n, 0:n]
+    lab, tries = 0, 0
+    target = rng.integers(15, 35)
+    cells = []
+    while lab < target and tries < 2000:
+        tries += 1
+        a = rng.uniform(18, 40); b = a / rng.uniform(1, 1.8); th = rng.uniform(0, np.pi)
+        if cells and rng.random() < 0.33:
+            cy, cx, ca = cells[rng.integers(len(cells))]
+            ang = rng.uniform(0, 2 * np.pi)
+            cy, cx = cy + (ca + b) * 0.85 * np.sin(ang), cx + (ca + b) * 0.85 * np.cos(ang)
+        else:
+            cy, cx = rng.uniform(0, n), rng.uniform(0, n)
+        u = (xx - cx) * np.cos(th) + (yy - cy) * np.sin(th)
+        v = -(xx - cx) * np.sin(th) + (yy - cy) * np.cos(th)
+        m = (u / a) ** 2 + (v / b) ** 2 <= 1
+        if m.sum() < 200:
+            continue
+        over = truth[m] > 0
+        if over.mean() > 0.08:
+            continue
+        lab += 1
+        m &= truth == 0
+        truth[m] = lab
+        level = rng.uniform(0.4, 0.9)
+        img[m] = level
+        for _ in range(rng.integers(1, 4)):
+            r = rng.uniform(3, 6)
+            k = rng.integers(m.sum())
+            py, px = np.argwhere(m)[k]
+            img[((yy - py) ** 2 + (xx - px) ** 2 <= r * r) & m] = level * 0.55
+        cells.append((cy, cx, a))
+    grain = filters.gaussian(rng.normal(0, 1, (n, n)), 1.5) * 2.5
+    img = img * (1 + 0.25 * grain)
+    img = filters.gaussian(img, 1.5)
+    light = 1 + 0.3 * np.cos(xx / n * 2.2 + 0.7) * np.sin(yy / n * 2.9 + 0.2)
+    return noise(img * light + 0.05, rng, 200, 0.02), truth
+
 
 def scores(pred, truth):
     iou, npred, ntrue = W.pair_ious(pred, truth)
@@ -125,8 +204,11 @@ def load_set(d):
 def choose(kind, data, inv):
     """The watershed's parameters for kind, chosen on data by
     watershed.py's own search (the grid of nuclei, or of grains on the
-    inverted image for membranes)."""
-    wk = "grains" if kind == "membrane" else "nuclei"
+    inverted image for membranes, its own for specks)."""
+    # Specks are a few pixels across: their grid (watershed.py) is the
+    # nuclei's with objects down to 5 px, as cleave's --min-area 5, and
+    # peaks 2 and 3 px apart.
+    wk = {"membrane": "grains", "specks": "specks"}.get(kind, "nuclei")
     combos, sc = W.search(wk, [(1 - img if inv else img, truth) for _, img, truth in data])
     b = int(np.argmax(sc))
     return wk, combos[b], sc[b]
@@ -160,7 +242,7 @@ def main():
         os.makedirs(out, exist_ok=True)
         for s in range(seed, seed + count):
             rng = np.random.default_rng(s)
-            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes}[kind](rng)
+            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "bodies": bodies}[kind](rng)
             save(out, "%s-%d" % (kind, s), img, truth)
         return 0
     if len(sys.argv) >= 5 and sys.argv[1] == "score":

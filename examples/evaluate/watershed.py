@@ -195,10 +195,11 @@ def grid(kind):
                 out.append(dict(mask="tophat", sigma=sigma, radius=radius, factor=factor, min_size=20, elevation="distance", **m))
         return out
     marks = [dict(markers="none")] + [dict(markers="hmax", h=h) for h in (1, 2, 3)]
-    marks += [dict(markers="peak", min_distance=d) for d in (5, 9)]
+    marks += [dict(markers="peak", min_distance=d) for d in ((2, 3, 5) if kind == "specks" else (5, 9))]
     ths = [dict(threshold="otsu")] + [dict(threshold="local", block=b, offset=o) for b, o in ((51, 1), (151, 1), (151, 3))]
     # Pits on a surface can be a few pixels across: allow smaller objects.
-    sizes = (5, 20) if kind == "surface" else (20,)
+    # Specks (othershapes.py) are a few pixels across too.
+    sizes = (5, 20) if kind in ("surface", "specks") else (20,)
     out = []
     for flatten, sigma, th, min_size in itertools.product((0, 40), (1, 2), ths, sizes):
         for m in marks:
