@@ -149,7 +149,11 @@ func splitEnclosed(objects labelmap.Map, n int, wide []bool) ([]int32, int) {
 	if n < 1 {
 		return labels, n
 	}
-	minPiece := max(int(crumbFraction*float64(medianArea(labels, n))), 1)
+	area := make([]int, n+1)
+	for _, l := range labels {
+		area[max(l, 0)]++
+	}
+	minPiece := max(int(crumbFraction*float64(medianArea(area))), 1)
 	group := make([]int32, len(labels))
 	for i, l := range labels {
 		group[i] = -1
@@ -202,17 +206,12 @@ func splitEnclosed(objects labelmap.Map, n int, wide []bool) ([]int32, int) {
 	return withoutLabels(out, int(next), make([]bool, next+1))
 }
 
-// medianArea is the median area in pixels of the objects 1..n of labels
-// (the lower middle one for even n); 0 when n < 1.
-func medianArea(labels []int32, n int) int {
-	if n < 1 {
+// medianArea is the median of area[1:], the areas in pixels of objects
+// 1..n (area[0] is the background's), the lower middle one for even n; 0
+// when there is no object.
+func medianArea(area []int) int {
+	if len(area) < 2 {
 		return 0
-	}
-	area := make([]int, n+1)
-	for _, l := range labels {
-		if l > 0 {
-			area[l]++
-		}
 	}
 	sorted := slices.Clone(area[1:])
 	slices.Sort(sorted)
@@ -235,7 +234,7 @@ func withoutFragments(labels []int32, n int) ([]int32, int) {
 	for _, l := range labels {
 		area[l]++
 	}
-	median := medianArea(labels, n)
+	median := medianArea(area)
 	drop := make([]bool, n+1)
 	found := false
 	for l := 1; l <= n; l++ {

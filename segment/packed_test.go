@@ -154,7 +154,7 @@ func TestWithoutFragments(t *testing.T) {
 func TestSplitEnclosed(t *testing.T) {
 	const w, h = 60, 30
 	for _, c := range []struct {
-		name  string
+		name   string
 		gap    int // pixels of the line left open
 		corner int // 0: the line runs at x = 30 (open from y = 12); else it closes off the corner x, y < corner (open at the far corner)
 		want   int
