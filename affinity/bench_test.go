@@ -53,3 +53,16 @@ func BenchmarkSLICCamera(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkPixelStencilGraph152x192r5 builds the graph of
+// BenchmarkPixelGraph152x192r5 in stencil form (each edge computed once).
+func BenchmarkPixelStencilGraph152x192r5(b *testing.B) {
+	f := blobImage(7, 152, 192, 0.03)
+	p := PixelParams{Radius: 5, SigmaI: 0.1, SigmaX: 4}
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := PixelStencilGraph(f, 152, 192, p, 0); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

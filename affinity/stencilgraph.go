@@ -1,0 +1,277 @@
+package affinity
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"github.com/cleave-seg/cleave/segment/parallel"
+)
+
+// Sparse is W in one of its stored forms: the compressed rows of Graph
+// or the per-offset weights of StencilGraph. It is what the readers of a
+// finished graph need: its size and its Matrix Market export.
+type Sparse interface {
+	// Nodes is the number of nodes n (W is n x n).
+	Nodes() int
+	// NNZ is the number of stored entries (twice the number of edges).
+	NNZ() int
+	// WriteMatrixMarket writes W as Graph.WriteMatrixMarket does.
+	WriteMatrixMarket(w io.Writer, comment string) error
+}
+
+// Nodes returns g.N.
+func (g *Graph) Nodes() int { return g.N }
+
+// StencilGraph is the pixel graph of PixelGraph stored by neighbour
+// offset instead of by compressed rows. The neighbours of a pixel lie at
+// fixed offsets (dx, dy) with 0 < dx² + dy² <= r², so no column index is
+// needed: for each forward offset o (dy > 0, or dy = 0 and dx > 0; the
+// half of the stencil with node index difference lin_o = dy·w + dx > 0),
+// weight[o·n + i] is w_ij of pixel i = y·w + x and its neighbour
+// j = i + lin_o. The backward half is the same numbers read from the
+// neighbour's slot (w_ji = w_ij), so each edge is stored once, 4 bytes,
+// against 16 (two entries of a 4-byte column index and a 4-byte weight)
+// in compressed rows: at r = 5 (80 neighbours) 160 bytes a pixel against
+// about 640. A slot whose neighbour falls outside the image, or whose
+// edge PixelGraph leaves out (kernel argument above maxExpArg), holds 0;
+// every stored weight is positive, so 0 means "no edge" exactly. The
+// weights are computed by the formula of PixelGraph with the same
+// arithmetic, so CSR returns PixelGraph's graph bit for bit. Offsets are
+// kept in ascending order of lin_o; with the backward half taken in
+// descending order first, a row comes out in ascending column order, as
+// in compressed rows.
+type StencilGraph struct {
+	w, h   int
+	dx, dy []int // forward offsets, ascending lin
+	lin    []int
+	weight []float32 // len(dx) * n, offset-major
+	nnz    int
+}
+
+// PixelStencilGraph builds the graph of PixelGraph (same parameters,
+// checks and errors) in stencil form. Rows of the image are computed in
+// parallel on workers goroutines (workers < 1: all cores); each weight is
+// written once by one goroutine, so the result is byte-identical for any
+// worker count.
+func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*StencilGraph, error) {
+	if err := p.Validate(); err != nil {
+		return nil, err
+	}
+	if err := checkPlanes(f, w, h); err != nil {
+		return nil, err
+	}
+	n := w * h
+	st := newStencil(w, h, p.Radius, p.SigmaX)
+	half := len(st.lin) / 2 // the stencil is symmetric: lin ascending, forward half last
+	sg := &StencilGraph{w: w, h: h}
+	sg.dx = make([]int, 0, half)
+	sg.dy = make([]int, 0, half)
+	var spatial []float64
+	for g, dy := range st.dy {
+		if dy < 0 {
+			continue
+		}
+		m := st.m[g]
+		for dx := -m; dx <= m; dx++ {
+			if dy == 0 && dx <= 0 {
+				continue
+			}
+			sg.dx = append(sg.dx, dx)
+			sg.dy = append(sg.dy, dy)
+			sg.lin = append(sg.lin, dy*w+dx)
+			spatial = append(spatial, float64(dx*dx+dy*dy)/(p.SigmaX*p.SigmaX))
+		}
+	}
+	if len(sg.lin) != half {
+		return nil, fmt.Errorf("affinity: internal error: stencil of %d offsets has %d forward ones", len(st.lin), len(sg.lin))
+	}
+	invI2 := math.Min(math.Max(1/(p.SigmaI*p.SigmaI), 1e-30), 1e30)
+	sg.weight = make([]float32, half*n)
+
+	const rowsPerChunk = 4
+	nchunks := (h + rowsPerChunk - 1) / rowsPerChunk
+	kept := make([]int, nchunks)
+	f0 := f[0]
+	parallel.For(nchunks, workers, func(c int) {
+		y0, y1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, h)
+		cnt := 0
+		for o, lin := range sg.lin {
+			dx, dy := sg.dx[o], sg.dy[o]
+			wo := sg.weight[o*n : o*n+n]
+			sp := spatial[o]
+			for y := y0; y < y1 && y+dy < h; y++ {
+				x0, x1 := max(0, -dx), min(w, w-dx)
+				for x := x0; x < x1; x++ {
+					i := y*w + x
+					j := i + lin
+					// The same operations as fillPixelRows for row i.
+					var arg float64
+					if len(f) == 1 {
+						diff := float64(f0[j]) - float64(f0[i])
+						arg = diff*diff*invI2 + sp
+					} else {
+						var d2 float64
+						for _, pl := range f {
+							diff := float64(pl[j]) - float64(pl[i])
+							d2 += diff * diff
+						}
+						arg = d2*invI2 + sp
+					}
+					if arg > maxExpArg {
+						continue
+					}
+					wo[i] = expNeg(arg)
+					cnt++
+				}
+			}
+		}
+		kept[c] = cnt
+	})
+	for _, k := range kept {
+		sg.nnz += 2 * k
+	}
+	return sg, nil
+}
+
+// Nodes returns the number of pixels w·h.
+func (s *StencilGraph) Nodes() int { return s.w * s.h }
+
+// NNZ is the number of entries compressed rows would store (twice the
+// number of edges).
+func (s *StencilGraph) NNZ() int { return s.nnz }
+
+// Size returns the image width and height.
+func (s *StencilGraph) Size() (w, h int) { return s.w, s.h }
+
+// Offsets returns the forward offsets (dx, dy) in ascending order of
+// dy·w + dx. The slices are the graph's own: do not modify them.
+func (s *StencilGraph) Offsets() (dx, dy []int) { return s.dx, s.dy }
+
+// Weights returns the offset-major weights: Weights()[o·n + i] is the
+// weight between pixel i and pixel i + dy_o·w + dx_o, 0 where that
+// neighbour is outside the image or the edge is absent. The slice is the
+// graph's own: do not modify it.
+func (s *StencilGraph) Weights() []float32 { return s.weight }
+
+// Row appends the neighbours of node i and their weights to col and wt
+// in ascending column order, as row i of CSR, and returns both.
+func (s *StencilGraph) Row(i int, col []int32, wt []float32) ([]int32, []float32) {
+	n := s.w * s.h
+	x, y := i%s.w, i/s.w
+	for o := len(s.lin) - 1; o >= 0; o-- {
+		xx, yy := x-s.dx[o], y-s.dy[o]
+		if xx < 0 || xx >= s.w || yy < 0 {
+			continue
+		}
+		j := i - s.lin[o]
+		if v := s.weight[o*n+j]; v != 0 {
+			col = append(col, int32(j))
+			wt = append(wt, v)
+		}
+	}
+	for o, lin := range s.lin {
+		xx, yy := x+s.dx[o], y+s.dy[o]
+		if xx < 0 || xx >= s.w || yy >= s.h {
+			continue
+		}
+		if v := s.weight[o*n+i]; v != 0 {
+			col = append(col, int32(i+lin))
+			wt = append(wt, v)
+		}
+	}
+	return col, wt
+}
+
+// Degrees returns d_i = Σ_j w_ij in float64, summed in ascending column
+// order as Graph.Degrees does.
+func (s *StencilGraph) Degrees() []float64 {
+	n := s.Nodes()
+	d := make([]float64, n)
+	var col []int32
+	var wt []float32
+	for i := range d {
+		col, wt = s.Row(i, col[:0], wt[:0])
+		var sum float64
+		for _, v := range wt {
+			sum += float64(v)
+		}
+		d[i] = sum
+	}
+	return d
+}
+
+// CSR returns the graph in compressed rows: PixelGraph's result for the
+// same image and parameters, bit for bit.
+func (s *StencilGraph) CSR() *Graph {
+	n := s.Nodes()
+	g := &Graph{N: n, RowPtr: make([]int, n+1), Col: make([]int32, 0, s.nnz), Weight: make([]float32, 0, s.nnz)}
+	for i := 0; i < n; i++ {
+		g.Col, g.Weight = s.Row(i, g.Col, g.Weight)
+		g.RowPtr[i+1] = len(g.Col)
+	}
+	return g
+}
+
+// WriteMatrixMarket writes W in the format of Graph.WriteMatrixMarket,
+// byte for byte the same file as the compressed rows would give, without
+// building them.
+func (s *StencilGraph) WriteMatrixMarket(w io.Writer, comment string) error {
+	bw := bufio.NewWriterSize(w, 1<<16)
+	fmt.Fprintln(bw, "%%MatrixMarket matrix coordinate real symmetric")
+	for _, line := range strings.Split(strings.TrimRight(comment, "\n"), "\n") {
+		if line != "" {
+			fmt.Fprintf(bw, "%% %s\n", line)
+		}
+	}
+	n := s.Nodes()
+	fmt.Fprintf(bw, "%d %d %d\n", n, n, s.nnz/2)
+	buf := make([]byte, 0, 64)
+	var col []int32
+	var wt []float32
+	for i := 0; i < n; i++ {
+		col, wt = s.Row(i, col[:0], wt[:0])
+		for p, j := range col {
+			if int(j) >= i {
+				break // the rest is the upper triangle
+			}
+			buf = strconv.AppendInt(buf[:0], int64(i+1), 10)
+			buf = append(buf, ' ')
+			buf = strconv.AppendInt(buf, int64(j+1), 10)
+			buf = append(buf, ' ')
+			buf = strconv.AppendFloat(buf, float64(wt[p]), 'g', -1, 32)
+			buf = append(buf, '\n')
+			bw.Write(buf)
+		}
+	}
+	return bw.Flush()
+}
+
+// EstimateStencilGraphBytes returns the bytes PixelStencilGraph allocates
+// for a w x h image with the given radius: 4 bytes per forward offset and
+// pixel, and the stencil. Nonsensical sizes give 0; results too large for
+// int64 saturate at math.MaxInt64.
+func EstimateStencilGraphBytes(w, h, radius int) int64 {
+	if w < 1 || h < 1 || radius < 1 {
+		return 0
+	}
+	if w > 1<<24 || h > 1<<24 {
+		return math.MaxInt64
+	}
+	r := clampRadius(w, h, radius)
+	ry := min(r, h-1)
+	offsets := 0.0
+	for dy := -ry; dy <= ry; dy++ {
+		offsets += float64(2*groupHalfWidth(r, dy, w) + 1)
+	}
+	offsets-- // dx = dy = 0
+	n := float64(w) * float64(h)
+	b := allocBytes(4*offsets/2*n) + 5*allocBytes(8*offsets) + 16<<10
+	if b >= math.MaxInt64 {
+		return math.MaxInt64
+	}
+	return int64(b)
+}
