@@ -101,13 +101,14 @@ func TestStencilGraphMatchesCSR(t *testing.T) {
 			// Slots of neighbours outside the image hold 0.
 			dx, dy := s.Offsets()
 			wts := s.Weights()
-			n := c.w * c.h
-			for o := range dx {
-				for i := 0; i < n; i++ {
-					x, y := i%c.w, i/c.w
-					out := x+dx[o] < 0 || x+dx[o] >= c.w || y+dy[o] >= c.h
-					if out && wts[o*n+i] != 0 {
-						t.Fatalf("offset (%d,%d) of pixel (%d,%d) outside the image holds %v", dx[o], dy[o], x, y, wts[o*n+i])
+			K := len(dx)
+			for i := 0; i < c.w*c.h; i++ {
+				x, y := i%c.w, i/c.w
+				for o := range dx {
+					xx, yy := x+dx[o], y+dy[o]
+					out := xx < 0 || xx >= c.w || yy < 0 || yy >= c.h
+					if out && wts[i*K+o] != 0 {
+						t.Fatalf("offset (%d,%d) of pixel (%d,%d) outside the image holds %v", dx[o], dy[o], x, y, wts[i*K+o])
 					}
 				}
 			}
@@ -177,8 +178,8 @@ func TestEstimateStencilGraphBytes(t *testing.T) {
 		if got := int64(4 * len(s.Weights())); est < got {
 			t.Errorf("%dx%d r %d: estimate %d below the weights' %d bytes", c.w, c.h, c.r, est, got)
 		}
-		if csr := EstimatePixelGraphBytes(c.w, c.h, c.r); c.w*c.h > 100 && 2*est > csr {
-			t.Errorf("%dx%d r %d: estimate %d not below half of the compressed rows' %d", c.w, c.h, c.r, est, csr)
+		if csr := EstimatePixelGraphBytes(c.w, c.h, c.r); c.w*c.h > 100 && est > csr*6/10 {
+			t.Errorf("%dx%d r %d: estimate %d not below 0.6 of the compressed rows' %d", c.w, c.h, c.r, est, csr)
 		}
 	}
 	if EstimateStencilGraphBytes(0, 5, 5) != 0 {

@@ -25,18 +25,24 @@ func coarsen(lv *level, workers int) *level {
 	// Visit nodes in index order; pair each free node with the free
 	// neighbour of largest normalized weight w_ij/sqrt(d_i d_j), ties to
 	// the earlier stored entry.
+	var cb []int32
+	var wb []float32
 	for i := 0; i < n; i++ {
 		if mate[i] != unmatched {
 			continue
 		}
 		best, bw, wmax := -1, -1.0, 0.0
 		si := lv.s[i]
-		for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
-			j := int(lv.col[p])
+		cols, wts := lv.row(i, cb, wb)
+		if lv.sg != nil {
+			cb, wb = cols, wts
+		}
+		for p, jj := range cols {
+			j := int(jj)
 			if j == i {
 				continue
 			}
-			w := float64(lv.wt[p]) * si * lv.s[j]
+			w := float64(wts[p]) * si * lv.s[j]
 			wmax = max(wmax, w)
 			if mate[j] != unmatched {
 				continue
@@ -68,12 +74,16 @@ func coarsen(lv *level, workers int) *level {
 				continue
 			}
 			best, bw := -1, -1.0
-			for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
-				j := int(lv.col[p])
+			cols, wts := lv.row(i, cb, wb)
+			if lv.sg != nil {
+				cb, wb = cols, wts
+			}
+			for p, jj := range cols {
+				j := int(jj)
 				if j == i {
 					continue
 				}
-				if w := float64(lv.wt[p]) * lv.s[j]; w > bw {
+				if w := float64(wts[p]) * lv.s[j]; w > bw {
 					best, bw = j, w
 				}
 			}
@@ -160,19 +170,25 @@ func coarsen(lv *level, workers int) *level {
 		// append grow the rest.
 		bound := 0
 		for _, u := range lv.mem[lv.memPtr[a0]:lv.memPtr[a1]] {
-			bound += lv.rowPtr[u+1] - lv.rowPtr[u]
+			bound += lv.rowBound(int(u))
 		}
+		var cb []int32
+		var wb []float32
 		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound/2+16), wt: make([]float32, 0, bound/2+16)}
 		for a := a0; a < a1; a++ {
 			cols = cols[:0]
 			for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
-				for p := lv.rowPtr[u]; p < lv.rowPtr[u+1]; p++ {
-					b := agg[lv.col[p]]
+				rc, rw := lv.row(int(u), cb, wb)
+				if lv.sg != nil {
+					cb, wb = rc, rw
+				}
+				for p, j := range rc {
+					b := agg[j]
 					if !seen[b] {
 						seen[b] = true
 						cols = append(cols, b)
 					}
-					acc[b] += float64(lv.wt[p])
+					acc[b] += float64(rw[p])
 				}
 			}
 			for _, b := range cols {

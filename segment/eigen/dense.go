@@ -12,11 +12,17 @@ package eigen
 func denseLevel(lv *level, count int) ([]float64, *block, error) {
 	n := lv.n
 	a := make([]float64, n*n)
+	var cb []int32
+	var wb []float32
 	for i := 0; i < n; i++ {
 		a[i*n+i] = 1
-		for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
-			j := int(lv.col[p])
-			a[i*n+j] -= float64(lv.wt[p]) * lv.s[i] * lv.s[j]
+		cols, wts := lv.row(i, cb, wb)
+		if lv.sg != nil {
+			cb, wb = cols, wts
+		}
+		for p, jj := range cols {
+			j := int(jj)
+			a[i*n+j] -= float64(wts[p]) * lv.s[i] * lv.s[j]
 		}
 	}
 	v := append([]float64(nil), lv.z0...)

@@ -144,18 +144,60 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 	if opt.MaxIter < 0 {
 		return nil, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
 	}
+	return solve(ctx, newLevel(g.N, g.RowPtr, g.Col, g.Weight), k, opt, denseLimit)
+}
+
+// SmallestStencil is SmallestContext on the pixel graph in stencil form
+// (affinity.StencilGraph): the input level's products read the weights
+// per offset and no compressed rows are built. The result is the one
+// SmallestContext gives on g.CSR(), bit for bit: the stencil product
+// adds the same terms in the same order (see stencilOp.mulRows), and
+// everything else (degrees, chunks, coarsening) reads the rows in the
+// same order.
+func SmallestStencil(ctx context.Context, g *affinity.StencilGraph, k int, opt Options) (*Result, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if g == nil {
+		return nil, errors.New("eigen: graph is nil")
+	}
+	n := g.Nodes()
+	if n <= 0 {
+		return nil, fmt.Errorf("eigen: graph has %d nodes", n)
+	}
+	if k < 1 || k > n {
+		return nil, fmt.Errorf("eigen: k = %d out of range 1..%d (number of nodes)", k, n)
+	}
+	limit := denseMax
+	if opt.Tol >= looseTol {
+		limit = denseMaxLoose
+	}
+	return solve(ctx, newStencilLevel(g), k, opt, limit)
+}
+
+// solve is the solver behind both entry points, on the input level lv0.
+func solve(ctx context.Context, lv0 *level, k int, opt Options, denseLimit int) (*Result, error) {
+	tol := opt.Tol
+	if tol == 0 {
+		tol = DefaultTol
+	}
+	if !(tol > 0) || math.IsInf(tol, 0) {
+		return nil, fmt.Errorf("eigen: tolerance %v must be positive and finite", opt.Tol)
+	}
+	if opt.MaxIter < 0 {
+		return nil, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
+	}
 	maxIter := opt.MaxIter
 	if maxIter == 0 {
 		maxIter = DefaultMaxIter
 	}
 	workers := parallel.Workers(opt.Workers)
-	lv0 := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
 	for i, d := range lv0.deg {
 		if !(d > 0) || math.IsInf(d, 0) {
 			return nil, fmt.Errorf("eigen: node %d has degree %v (the graph must be connected with finite weights)", i, d)
 		}
 	}
-	n := g.N
+	n := lv0.n
 	want := k - 1 // eigenpairs wanted besides z0
 	pl := solvePools.Get().(*pool)
 	defer func() {
@@ -190,7 +232,7 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 		// Pixel graphs get the stronger hierarchy of wideGraph; sparse
 		// ones (superpixel and object graphs) keep pairwise aggregation
 		// and the shallow W-cycle.
-		wide := wideGraph(g)
+		wide := wideGraph(lv0)
 		for cur := lv0; cur.n > cmax; {
 			if err := ctx.Err(); err != nil {
 				return nil, err
@@ -316,7 +358,7 @@ func blockSize(want int) int {
 	return want + max(1, (want+1)/6)
 }
 
-// wideGraph reports whether g has at least longRows stored entries per
+// wideGraph reports whether lv has at least longRows stored entries per
 // row on average (a pixel graph; r = 5 gives 80). Such a graph gets instead
 // of the defaults tuned on sparse superpixel-like graphs: levels four
 // times smaller from one to the next (coarsenTwice), a W-cycle with one
@@ -331,7 +373,7 @@ func blockSize(want int) int {
 // a trace of the residuals, seeds not involved: the graphs are images).
 // On superpixel-like graphs the same settings were slower (k = 6 on 3000
 // nodes), so they stay off there.
-func wideGraph(g *affinity.Graph) bool { return len(g.Col) >= longRows*g.N }
+func wideGraph(lv *level) bool { return lv.nnz() >= longRows*lv.n }
 
 // looseTol is the residual target from which the solver takes the cheap
 // path for Fiedler vectors: no refinement on the intermediate levels and

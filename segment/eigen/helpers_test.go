@@ -24,6 +24,28 @@ var coinsParams = affinity.PixelParams{Radius: 5, SigmaI: 0.1, SigmaX: 4}
 // pixel graph.
 func coinsGraph(tb testing.TB) *affinity.Graph {
 	tb.Helper()
+	plane, w, h := coinsPlane(tb)
+	g, err := affinity.PixelGraph([][]float32{plane}, w, h, coinsParams, 0)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return g
+}
+
+// coinsStencil is coinsGraph in stencil form.
+func coinsStencil(tb testing.TB) *affinity.StencilGraph {
+	tb.Helper()
+	plane, w, h := coinsPlane(tb)
+	g, err := affinity.PixelStencilGraph([][]float32{plane}, w, h, coinsParams, 0)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return g
+}
+
+// coinsPlane loads the coins image, intensities / 255.
+func coinsPlane(tb testing.TB) ([]float32, int, int) {
+	tb.Helper()
 	f, err := os.Open(coinsPath)
 	if err != nil {
 		tb.Fatal(err)
@@ -45,11 +67,7 @@ func coinsGraph(tb testing.TB) *affinity.Graph {
 			plane[y*w+x] = float32(gray.Pix[y*gray.Stride+x]) / 255
 		}
 	}
-	g, err := affinity.PixelGraph([][]float32{plane}, w, h, coinsParams, 0)
-	if err != nil {
-		tb.Fatal(err)
-	}
-	return g
+	return plane, w, h
 }
 
 // planarGraph is a superpixel-like graph: n random points in the unit

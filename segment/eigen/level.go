@@ -3,26 +3,31 @@ package eigen
 import (
 	"math"
 
+	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
-// level is one graph of the hierarchy in CSR form. Unlike affinity.Graph it
-// may hold diagonal entries (self loops): a coarse node keeps the weight of
-// the edges inside its aggregate, so that the Galerkin identity
-// Pᵀ (D - W) P = D_c - W_c holds exactly. Degrees are summed from the stored
-// float32 weights in float64, so L z0 = 0 up to rounding at every level.
+// level is one graph of the hierarchy in CSR form, or the input pixel
+// graph in stencil form (sg set, rowPtr, col and wt nil; see
+// stencilOp). Unlike affinity.Graph it may hold diagonal entries (self
+// loops): a coarse node keeps the weight of the edges inside its
+// aggregate, so that the Galerkin identity Pᵀ (D - W) P = D_c - W_c holds
+// exactly. Degrees are summed from the stored float32 weights in float64,
+// so L z0 = 0 up to rounding at every level.
 type level struct {
 	n      int
 	rowPtr []int
 	col    []int32
 	wt     []float32
-	deg    []float64 // d_i = Σ_j w_ij (self loop included)
-	diag   []float64 // L_ii = 1 - w_ii/d_i
-	s      []float64 // d_i^-1/2
-	z0     []float64 // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
-	agg    []int32   // fine node -> node of the next coarser level
-	pz     []float64 // sqrt(d_i / d_c[agg[i]]): the nonzero of row i of Pz
-	memPtr []int     // members of coarse node a: mem[memPtr[a]:memPtr[a+1]], ascending
+	sg     *stencilOp // the stencil form, or nil
+	stored int        // stored entries (len(col) in CSR form)
+	deg    []float64  // d_i = Σ_j w_ij (self loop included)
+	diag   []float64  // L_ii = 1 - w_ii/d_i
+	s      []float64  // d_i^-1/2
+	z0     []float64  // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
+	agg    []int32    // fine node -> node of the next coarser level
+	pz     []float64  // sqrt(d_i / d_c[agg[i]]): the nonzero of row i of Pz
+	memPtr []int      // members of coarse node a: mem[memPtr[a]:memPtr[a+1]], ascending
 	mem    []int32
 	chunks []int // fixed row chunk boundaries (independent of workers)
 }
@@ -33,18 +38,71 @@ type level struct {
 const chunkNNZ = 1 << 15
 
 func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
-	lv := &level{n: n, rowPtr: rowPtr, col: col, wt: wt}
+	lv := &level{n: n, rowPtr: rowPtr, col: col, wt: wt, stored: len(col)}
+	lv.fill(rowPtr)
+	return lv
+}
+
+// newStencilLevel is the level of the input pixel graph g in stencil
+// form: no compressed rows are built. Degrees, chunks and every product
+// come out bit for bit as on newLevel of g.CSR().
+func newStencilLevel(g *affinity.StencilGraph) *level {
+	n := g.Nodes()
+	lv := &level{n: n, sg: newStencilOp(g), stored: g.NNZ()}
+	// Row lengths, as the compressed rows' pointers, for the chunks; a
+	// temporary array of 8 bytes a node.
+	rowPtr := make([]int, n+1)
+	var cb []int32
+	var wb []float32
+	for i := 0; i < n; i++ {
+		cb, wb = lv.row(i, cb, wb)
+		rowPtr[i+1] = rowPtr[i] + len(cb)
+	}
+	lv.fill(rowPtr)
+	return lv
+}
+
+// nnz is the number of stored entries.
+func (lv *level) nnz() int { return lv.stored }
+
+// row returns the columns and weights of row i in ascending column order:
+// slices of the compressed rows, or in stencil form cb and wb refilled.
+func (lv *level) row(i int, cb []int32, wb []float32) ([]int32, []float32) {
+	if lv.sg != nil {
+		return lv.sg.g.Row(i, cb[:0], wb[:0])
+	}
+	return lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]], lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
+}
+
+// rowBound is an upper bound of the length of row i.
+func (lv *level) rowBound(i int) int {
+	if lv.sg != nil {
+		return lv.sg.k
+	}
+	return lv.rowPtr[i+1] - lv.rowPtr[i]
+}
+
+// fill computes the degrees, the diagonal of L, D^-1/2, z0 and the row
+// chunks; rowPtr gives the row lengths.
+func (lv *level) fill(rowPtr []int) {
+	n := lv.n
 	lv.deg = make([]float64, n)
 	lv.s = make([]float64, n)
 	lv.z0 = make([]float64, n)
 	lv.diag = make([]float64, n)
 	var sum float64
+	var cb []int32
+	var wb []float32
 	for i := 0; i < n; i++ {
 		var d, self float64
-		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
-			d += float64(wt[p])
+		col, wt := lv.row(i, cb, wb)
+		if lv.sg != nil {
+			cb, wb = col, wt
+		}
+		for p, v := range wt {
+			d += float64(v)
 			if int(col[p]) == i {
-				self += float64(wt[p])
+				self += float64(v)
 			}
 		}
 		lv.deg[i] = d
@@ -68,7 +126,6 @@ func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
 		lv.chunks = append(lv.chunks, j)
 		i = j
 	}
-	return lv
 }
 
 // nchunks is the number of fixed row chunks.
@@ -101,6 +158,10 @@ func (lv *level) applyL(y, x, tmp *block, workers int) {
 		}
 	})
 	parallel.For(nc, workers, func(c int) {
+		if lv.sg != nil {
+			lv.sg.mulRows(lv.s, y, x, tmp, lv.chunks[c], lv.chunks[c+1])
+			return
+		}
 		lv.mulRows(y, x, tmp, lv.chunks[c], lv.chunks[c+1])
 	})
 }

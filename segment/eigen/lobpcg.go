@@ -209,7 +209,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 		// nnz/n per entry, at a higher cost each): on sparse graphs such
 		// as superpixel graphs the product is the cheaper, and it is
 		// exact rather than updated.
-		recompute := 2*len(lv.col) < ns*n
+		recompute := 2*lv.nnz() < ns*n
 		if mp > 0 {
 			var pn, apn *block
 			if p != nil && p.m == mp {

@@ -141,7 +141,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
 	if (!mg.wAll && l+mg.depth0 >= wDepth) || float64(next.n) > wRatio*float64(lv.n) {
 		gamma, alpha, post = 1, 1, 1
-		if len(lv.col) >= longRows*lv.n {
+		if lv.nnz() >= longRows*lv.n {
 			post = 0
 		}
 	}

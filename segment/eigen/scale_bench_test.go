@@ -22,6 +22,28 @@ import (
 // nodes, the sizes of the pixel-graph speed figures.
 func coinsScaled(tb testing.TB, f int) *affinity.Graph {
 	tb.Helper()
+	plane, w, h := coinsScaledPlane(tb, f)
+	g, err := affinity.PixelGraph([][]float32{plane}, w, h, coinsParams, 0)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return g
+}
+
+// coinsScaledStencil is coinsScaled in stencil form.
+func coinsScaledStencil(tb testing.TB, f int) *affinity.StencilGraph {
+	tb.Helper()
+	plane, w, h := coinsScaledPlane(tb, f)
+	g, err := affinity.PixelStencilGraph([][]float32{plane}, w, h, coinsParams, 0)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return g
+}
+
+// coinsScaledPlane is the enlarged photograph of coinsScaled.
+func coinsScaledPlane(tb testing.TB, f int) ([]float32, int, int) {
+	tb.Helper()
 	fh, err := os.Open(coinsPath)
 	if err != nil {
 		tb.Fatal(err)
@@ -55,11 +77,7 @@ func coinsScaled(tb testing.TB, f int) *affinity.Graph {
 			plane[y*w+x] = float32(v)
 		}
 	}
-	g, err := affinity.PixelGraph([][]float32{plane}, w, h, coinsParams, 0)
-	if err != nil {
-		tb.Fatal(err)
-	}
-	return g
+	return plane, w, h
 }
 
 // heapPeak samples the live heap (runtime/metrics, no stop of the world)

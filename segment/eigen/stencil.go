@@ -1,0 +1,158 @@
+package eigen
+
+import "github.com/cleave-seg/cleave/affinity"
+
+// stencilOp is the product of the input pixel graph in stencil form
+// (affinity.StencilGraph): the neighbours of node i are i + lin_f for the
+// K offsets f in the order of (dy, dx), lin_f = dy_f·w + dx_f, and their
+// weights are the contiguous run wt[i·K : i·K+K]. No column index is
+// loaded: a product reads 4 bytes an entry instead of 8. A slot whose
+// neighbour lies outside the image holds 0 (StencilGraph's invariant),
+// so the offsets need no test except that i + lin_f stay inside 0..n-1
+// (only near the first and last image rows): a neighbour past the left
+// or right edge lands on some node of another image row, and adds 0·t.
+type stencilOp struct {
+	g   *affinity.StencilGraph
+	n   int
+	k   int   // offsets
+	lin []int // index differences, in (dy, dx) order
+	wt  []float32
+	// Rows lo..n-1-hi have every neighbour index i + lin_f in range.
+	lo, hi int
+}
+
+func newStencilOp(g *affinity.StencilGraph) *stencilOp {
+	n := g.Nodes()
+	w, _ := g.Size()
+	dx, dy := g.Offsets()
+	op := &stencilOp{g: g, n: n, k: len(dx), wt: g.Weights(), lin: make([]int, len(dx))}
+	for f := range dx {
+		op.lin[f] = dy[f]*w + dx[f]
+		op.lo, op.hi = max(op.lo, -op.lin[f]), max(op.hi, op.lin[f])
+	}
+	return op
+}
+
+// pairs returns the index differences and weights of row i: all K of
+// them away from the first and last image rows, else those whose
+// neighbour index lies in 0..n-1, filtered into fl and ws. (Where the
+// stencil is as wide as the image, lin is not monotone in the offset
+// order, so these need not be contiguous.)
+func (op *stencilOp) pairs(i int, fl []int, ws []float32) ([]int, []float32) {
+	row := op.wt[i*op.k : i*op.k+op.k]
+	if i >= op.lo && i+op.hi < op.n {
+		return op.lin, row
+	}
+	fl, ws = fl[:0], ws[:0]
+	for f, d := range op.lin {
+		if j := i + d; j >= 0 && j < op.n {
+			fl = append(fl, d)
+			ws = append(ws, row[f])
+		}
+	}
+	return fl, ws
+}
+
+// mulRows computes rows r0..r1-1 of y = x - S W S x given tmp = S x (s:
+// the diagonal of S = D^-1/2), as level.mulRows does on compressed rows
+// and with the same result bit for bit: every column's sum runs over the
+// row's neighbours in ascending order, and the pairs with no edge add
+// 0·t = 0, which leaves a sum unchanged. The single-column pass splits
+// the sum by the parity of the stored entries, as level.mulRows does,
+// so there the absent pairs are skipped.
+func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
+	m := x.m
+	t := tmp.v
+	fl := make([]int, 0, op.k)
+	fw := make([]float32, 0, op.k)
+	for i := r0; i < r1; i++ {
+		lin, ws := op.pairs(i, fl, fw)
+		ws = ws[:len(lin)]
+		si := s[i]
+		yr := y.v[i*m : i*m+m]
+		xr := x.v[i*m : i*m+m]
+		for c0 := 0; c0 < m; {
+			switch rest := m - c0; {
+			case rest >= 6:
+				var a0, a1, a2, a3, a4, a5 float64
+				for f, d := range lin {
+					w := float64(ws[f])
+					j := (i + d) * m
+					q := t[j+c0 : j+c0+6 : j+c0+6]
+					a0 += w * q[0]
+					a1 += w * q[1]
+					a2 += w * q[2]
+					a3 += w * q[3]
+					a4 += w * q[4]
+					a5 += w * q[5]
+				}
+				yr[c0] = xr[c0] - si*a0
+				yr[c0+1] = xr[c0+1] - si*a1
+				yr[c0+2] = xr[c0+2] - si*a2
+				yr[c0+3] = xr[c0+3] - si*a3
+				yr[c0+4] = xr[c0+4] - si*a4
+				yr[c0+5] = xr[c0+5] - si*a5
+				c0 += 6
+			case rest == 5:
+				var a0, a1, a2, a3, a4 float64
+				for f, d := range lin {
+					w := float64(ws[f])
+					j := (i + d) * m
+					q := t[j+c0 : j+c0+5 : j+c0+5]
+					a0 += w * q[0]
+					a1 += w * q[1]
+					a2 += w * q[2]
+					a3 += w * q[3]
+					a4 += w * q[4]
+				}
+				yr[c0] = xr[c0] - si*a0
+				yr[c0+1] = xr[c0+1] - si*a1
+				yr[c0+2] = xr[c0+2] - si*a2
+				yr[c0+3] = xr[c0+3] - si*a3
+				yr[c0+4] = xr[c0+4] - si*a4
+				c0 += 5
+			case rest >= 3:
+				var a0, a1, a2 float64
+				for f, d := range lin {
+					w := float64(ws[f])
+					j := (i + d) * m
+					q := t[j+c0 : j+c0+3 : j+c0+3]
+					a0 += w * q[0]
+					a1 += w * q[1]
+					a2 += w * q[2]
+				}
+				yr[c0] = xr[c0] - si*a0
+				yr[c0+1] = xr[c0+1] - si*a1
+				yr[c0+2] = xr[c0+2] - si*a2
+				c0 += 3
+			case rest == 2:
+				var a0, a1 float64
+				for f, d := range lin {
+					w := float64(ws[f])
+					j := (i + d) * m
+					q := t[j+c0 : j+c0+2 : j+c0+2]
+					a0 += w * q[0]
+					a1 += w * q[1]
+				}
+				yr[c0] = xr[c0] - si*a0
+				yr[c0+1] = xr[c0+1] - si*a1
+				c0 += 2
+			default:
+				// Two partial sums over the stored entries taken
+				// alternately, as level.mulRows.
+				var acc [2]float64
+				par := 0
+				for f, d := range lin {
+					w := ws[f]
+					if w == 0 {
+						continue
+					}
+					acc[par] += float64(w) * t[(i+d)*m+c0]
+					par ^= 1
+				}
+				yr[c0] = xr[c0] - si*(acc[0]+acc[1])
+				c0++
+			}
+		}
+	}
+}

@@ -1,0 +1,275 @@
+package eigen
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+
+	"github.com/cleave-seg/cleave/affinity"
+)
+
+// stencilImage is a test scene of w x h pixels: blocks of 2 x 3 pixels
+// at two levels 0.7 apart plus uniform noise of amplitude 0.3, so that at
+// sigma_I = 0.1 the edges between blocks of different levels (kernel
+// argument above 86) are left out of the graph while every pixel keeps
+// the edges inside its block and to blocks of its own level.
+func stencilImage(seed uint64, w, h int) [][]float32 {
+	rng := rand.New(rand.NewPCG(seed, 3))
+	p := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := 0.3 * rng.Float64()
+			if (x/2+y/3)%2 == 0 {
+				v += 0.7
+			}
+			p[y*w+x] = float32(v)
+		}
+	}
+	return [][]float32{p}
+}
+
+// stencilLevels builds the input level of one image both ways: from the
+// compressed rows (the reference) and from the stencil form.
+func stencilLevels(t testing.TB, w, h, r int, sigmaI float64) (csr, st *level, g *affinity.Graph, sg *affinity.StencilGraph) {
+	t.Helper()
+	f := stencilImage(uint64(w*1000+h*10+r), w, h)
+	p := affinity.PixelParams{Radius: r, SigmaI: sigmaI, SigmaX: 4}
+	g, err := affinity.PixelGraph(f, w, h, p, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sg, err = affinity.PixelStencilGraph(f, w, h, p, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return newLevel(g.N, g.RowPtr, g.Col, g.Weight), newStencilLevel(sg), g, sg
+}
+
+// stencilSizes are the images of the stencil tests: single pixels, rows
+// and columns, radii past the image, pixels near every edge, and images
+// with interior rows whose neighbours are all in range.
+var stencilSizes = []struct{ w, h, r int }{
+	{1, 1, 1}, {2, 1, 1}, {1, 2, 3}, {5, 1, 2}, {1, 6, 5}, {2, 2, 1},
+	{3, 3, 5}, {4, 7, 2}, {7, 4, 3}, {9, 9, 1}, {16, 12, 5}, {12, 16, 5},
+	{23, 19, 4}, {40, 33, 5}, {37, 41, 7},
+}
+
+// TestStencilProductMatchesCSR checks the stencil product L x against the
+// compressed-row product (level.mulRows, the reference) bit for bit, for
+// block widths 1 to 13 (every column grouping of the kernel: 6, 5, 3, 2
+// and the single column split by parity), over radii and image sizes
+// including tiny images and pixels on every edge. Degrees, the diagonal
+// of L and the row chunks must agree too.
+func TestStencilProductMatchesCSR(t *testing.T) {
+	dropped := false
+	for _, c := range stencilSizes {
+		for _, sigmaI := range []float64{0.1, 10} {
+			t.Run(fmt.Sprintf("%dx%d_r%d_s%g", c.w, c.h, c.r, sigmaI), func(t *testing.T) {
+				a, b, g, sg := stencilLevels(t, c.w, c.h, c.r, sigmaI)
+				if a.nnz() != b.nnz() || a.nnz() != g.NNZ() {
+					t.Fatalf("nnz %d and %d, graph %d", a.nnz(), b.nnz(), g.NNZ())
+				}
+				if sg.NNZ() < structuralNNZ(c.w, c.h, c.r) {
+					dropped = true
+				}
+				same := func(u, v float64) bool { return math.Float64bits(u) == math.Float64bits(v) }
+				for i := range a.deg {
+					if !same(a.deg[i], b.deg[i]) || !same(a.diag[i], b.diag[i]) || !same(a.s[i], b.s[i]) {
+						t.Fatalf("node %d: degree %v / %v, diagonal %v / %v", i, a.deg[i], b.deg[i], a.diag[i], b.diag[i])
+					}
+					if !(a.deg[i] > 0) && g.N > 1 {
+						t.Fatalf("node %d is isolated: pick another scene", i)
+					}
+				}
+				if fmt.Sprint(a.chunks) != fmt.Sprint(b.chunks) {
+					t.Fatalf("chunks %v, want %v", b.chunks, a.chunks)
+				}
+				if g.N == 1 {
+					return // no edge: D^-1/2 is undefined
+				}
+				rng := rand.New(rand.NewPCG(uint64(g.N), 5))
+				for m := 1; m <= 13; m++ {
+					x := newBlock(g.N, m)
+					for k := range x.v {
+						x.v[k] = rng.Float64() - 0.5
+					}
+					ya, yb := newBlock(g.N, m), newBlock(g.N, m)
+					a.applyL(ya, x, newBlock(g.N, m), 2)
+					b.applyL(yb, x, newBlock(g.N, m), 3)
+					for k := range ya.v {
+						if math.Float64bits(ya.v[k]) != math.Float64bits(yb.v[k]) {
+							t.Fatalf("m = %d, entry %d: stencil %v, compressed rows %v", m, k, yb.v[k], ya.v[k])
+						}
+					}
+				}
+			})
+		}
+	}
+	if !dropped {
+		t.Error("no case left an edge out: zero slots inside the image went untested")
+	}
+}
+
+// structuralNNZ counts the pixel pairs within distance r of a w x h image.
+func structuralNNZ(w, h, r int) int {
+	n := 0
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			for dy := -r; dy <= r; dy++ {
+				for dx := -r; dx <= r; dx++ {
+					xx, yy := x+dx, y+dy
+					if (dx != 0 || dy != 0) && dx*dx+dy*dy <= r*r && xx >= 0 && xx < w && yy >= 0 && yy < h {
+						n++
+					}
+				}
+			}
+		}
+	}
+	return n
+}
+
+// TestSmallestStencilMatchesCSR checks that the solve on the stencil form
+// returns what the solve on the compressed rows returns, bit for bit:
+// the dense path (tiny images), the coarse-to-fine path on a scene with
+// edges left out, and the coins photograph (whose eigenvalues
+// TestScipyPixelGraph checks against scipy).
+func TestSmallestStencilMatchesCSR(t *testing.T) {
+	type tc struct {
+		name   string
+		g      *affinity.Graph
+		sg     *affinity.StencilGraph
+		k      int
+		tol    float64
+		sigmaI float64
+	}
+	var cases []tc
+	for _, c := range []struct{ w, h, r, k int }{{3, 3, 2, 3}, {8, 8, 2, 4}, {30, 20, 5, 6}, {61, 47, 3, 4}} {
+		_, _, g, sg := stencilLevels(t, c.w, c.h, c.r, 10)
+		cases = append(cases, tc{fmt.Sprintf("%dx%d_r%d", c.w, c.h, c.r), g, sg, c.k, 0, 10})
+	}
+	_, _, g, sg := stencilLevels(t, 64, 48, 5, 0.1)
+	if g.NNZ() >= structuralNNZ(64, 48, 5) {
+		t.Fatal("the scene should leave edges out")
+	}
+	cases = append(cases, tc{"64x48_r5_dropped", g, sg, 6, 0, 0.1})
+	cases = append(cases, tc{"64x48_r5_loose", g, sg, 2, 1e-4, 0.1})
+	cases = append(cases, tc{"coins", coinsGraph(t), coinsStencil(t), 6, 0, 0.1})
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			opt := Options{Tol: c.tol, Workers: 2}
+			want, err := Smallest(c.g, c.k, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, err := SmallestStencil(context.Background(), c.sg, c.k, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.Iterations != want.Iterations {
+				t.Errorf("steps %d, want %d", got.Iterations, want.Iterations)
+			}
+			for q := range want.Values {
+				if math.Float64bits(got.Values[q]) != math.Float64bits(want.Values[q]) || got.Residuals[q] != want.Residuals[q] {
+					t.Errorf("pair %d: λ %v residual %v, want %v and %v", q, got.Values[q], got.Residuals[q], want.Values[q], want.Residuals[q])
+				}
+				for i := range want.Vectors[q] {
+					if math.Float64bits(got.Vectors[q][i]) != math.Float64bits(want.Vectors[q][i]) {
+						t.Fatalf("pair %d entry %d: %v, want %v", q, i, got.Vectors[q][i], want.Vectors[q][i])
+					}
+				}
+			}
+		})
+	}
+}
+
+// TestSmallestStencilErrors checks the argument errors of SmallestStencil.
+func TestSmallestStencilErrors(t *testing.T) {
+	sg := coinsStencil(t)
+	if _, err := SmallestStencil(context.Background(), nil, 2, Options{}); err == nil {
+		t.Error("nil graph: no error")
+	}
+	for _, k := range []int{0, sg.Nodes() + 1} {
+		if _, err := SmallestStencil(context.Background(), sg, k, Options{}); err == nil {
+			t.Errorf("k = %d: no error", k)
+		}
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := SmallestStencil(ctx, sg, 2, Options{}); err != context.Canceled {
+		t.Errorf("cancelled: error %v, want context.Canceled", err)
+	}
+	// An isolated pixel (all its edges left out) has degree 0.
+	f := [][]float32{{0, 0, 0, 0, 1, 0, 0, 0, 0}}
+	iso, err := affinity.PixelStencilGraph(f, 3, 3, affinity.PixelParams{Radius: 1, SigmaI: 0.01, SigmaX: 4}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := SmallestStencil(context.Background(), iso, 2, Options{}); err == nil {
+		t.Error("isolated pixel: no error")
+	}
+}
+
+// BenchmarkApplyLPixel times one product y = L x with a block of 6
+// columns on the coins photograph enlarged twice (116,736 nodes, r = 5),
+// with the graph in compressed rows and in stencil form, one worker:
+//
+//	go test -run '^$' -bench ApplyLPixel ./segment/eigen
+func BenchmarkApplyLPixel(b *testing.B) {
+	for _, form := range []string{"csr", "stencil"} {
+		b.Run(form, func(b *testing.B) {
+			var lv *level
+			if form == "csr" {
+				g := coinsScaled(b, 2)
+				lv = newLevel(g.N, g.RowPtr, g.Col, g.Weight)
+			} else {
+				lv = newStencilLevel(coinsScaledStencil(b, 2))
+			}
+			x, y, tmp := newBlock(lv.n, 6), newBlock(lv.n, 6), newBlock(lv.n, 6)
+			for k := range x.v {
+				x.v[k] = float64(k%7) - 3
+			}
+			b.ResetTimer()
+			for b.Loop() {
+				lv.applyL(y, x, tmp, 1)
+			}
+			b.ReportMetric(float64(lv.nnz())*float64(b.N)/b.Elapsed().Seconds()/1e9, "Gentries/s")
+		})
+	}
+}
+
+// BenchmarkSmallestStencilScaled is BenchmarkSmallestPixelScaled with the
+// input graph in stencil form (SmallestStencil, as segment's k-way cut of
+// the pixel graph calls it):
+//
+//	go test -run '^$' -bench 'SmallestStencilScaled/x6' -benchtime 1x ./segment/eigen
+func BenchmarkSmallestStencilScaled(b *testing.B) {
+	for _, f := range []int{1, 2, 3, 4, 6} {
+		b.Run(fmt.Sprintf("x%d", f), func(b *testing.B) {
+			g := coinsScaledStencil(b, f)
+			b.ResetTimer()
+			var peak uint64
+			steps := 0
+			for i := 0; i < b.N; i++ {
+				b.StopTimer()
+				runtime.GC()
+				stop := heapPeak()
+				b.StartTimer()
+				r, err := SmallestStencil(context.Background(), g, 6, Options{})
+				b.StopTimer()
+				peak = max(peak, stop())
+				b.StartTimer()
+				if err != nil {
+					b.Fatal(err)
+				}
+				steps = r.Iterations
+			}
+			b.ReportMetric(float64(g.Nodes()), "nodes")
+			b.ReportMetric(float64(steps), "steps")
+			b.ReportMetric(float64(peak)/(1<<20), "peak-heap-MiB")
+			b.ReportMetric(float64(peak)/float64(g.Nodes()), "peak-heap-B/node")
+		})
+	}
+}
