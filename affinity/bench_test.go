@@ -66,3 +66,27 @@ func BenchmarkPixelStencilGraph152x192r5(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkPixelGraphMegapixel builds the r = 5 pixel graph of a
+// 912 x 1152 scene (1,050,624 pixels, the largest pixel-graph speed
+// case) in compressed rows and in stencil form:
+//
+//	go test -run '^$' -bench PixelGraphMegapixel -benchtime 3x ./affinity
+func BenchmarkPixelGraphMegapixel(b *testing.B) {
+	f := blobImage(7, 912, 1152, 0.03)
+	p := PixelParams{Radius: 5, SigmaI: 0.1, SigmaX: 4}
+	b.Run("csr", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := PixelGraph(f, 912, 1152, p, 0); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Run("stencil", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := PixelStencilGraph(f, 912, 1152, p, 0); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}

@@ -10,35 +10,67 @@ import (
 // component of node i, numbered 0..n-1 in order of each component's lowest
 // node, so the numbering is deterministic.
 func Components(g *affinity.Graph) (comp []int32, n int) {
-	parent := unionfind.New(g.N)
+	return components(g.N, func(link func(i, j int32)) {
+		for i := 0; i < g.N; i++ {
+			for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
+				if j := g.Col[p]; int(j) > i && g.Weight[p] > 0 {
+					link(int32(i), j)
+				}
+			}
+		}
+	})
+}
+
+// stencilComponents is Components of the pixel graph in stencil form:
+// the same edges (each from its lower node, in ascending order of the
+// other), so the same labels.
+func stencilComponents(s *affinity.StencilGraph) (comp []int32, n int) {
+	N := s.Nodes()
+	w, _ := s.Size()
+	dx, dy := s.Offsets()
+	k := len(dx)
+	wt := s.Weights()
+	return components(N, func(link func(i, j int32)) {
+		for i := 0; i < N; i++ {
+			row := wt[i*k : i*k+k]
+			// The forward offsets (dy > 0, or dy = 0 and dx > 0) are
+			// the second half, in ascending order of the neighbour; a
+			// positive weight is an edge inside the image.
+			for f := k / 2; f < k; f++ {
+				if row[f] > 0 {
+					link(int32(i), int32(i+dy[f]*w+dx[f]))
+				}
+			}
+		}
+	})
+}
+
+// components labels the components of the graph on nn nodes whose edges
+// edges passes to link.
+func components(nn int, edges func(link func(i, j int32))) (comp []int32, n int) {
+	parent := unionfind.New(nn)
 	find := parent.Find
-	size := make([]int32, g.N)
+	size := make([]int32, nn)
 	for i := range size {
 		size[i] = 1
 	}
-	for i := 0; i < g.N; i++ {
-		for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
-			j := g.Col[p]
-			if int(j) <= i || g.Weight[p] <= 0 {
-				continue
-			}
-			a, b := find(int32(i)), find(j)
-			if a == b {
-				continue
-			}
-			if size[a] < size[b] {
-				a, b = b, a
-			}
-			parent[b] = a
-			size[a] += size[b]
+	edges(func(i, j int32) {
+		a, b := find(i), find(j)
+		if a == b {
+			return
 		}
-	}
-	comp = make([]int32, g.N)
-	id := make([]int32, g.N)
+		if size[a] < size[b] {
+			a, b = b, a
+		}
+		parent[b] = a
+		size[a] += size[b]
+	})
+	comp = make([]int32, nn)
+	id := make([]int32, nn)
 	for i := range id {
 		id[i] = -1
 	}
-	for i := 0; i < g.N; i++ {
+	for i := 0; i < nn; i++ {
 		r := find(int32(i))
 		if id[r] < 0 {
 			id[r] = int32(n)

@@ -19,18 +19,27 @@ const kmeansRestarts = 8
 // is chosen from the largest eigengap λ_K - λ_{K-1} for 2 <= K <= maxSegments
 // (von Luxburg 2007, section 8.3). The graph must be connected.
 func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutResult, int, error) {
+	solve := func(m int) (*eigen.Result, error) {
+		return eigen.SmallestContext(ctx, g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+	}
+	return kwayWith(ctx, g.N, solve, area, p)
+}
+
+// kwayWith is kway on a connected graph of n nodes whose m smallest
+// eigenpairs solve returns.
+func kwayWith(ctx context.Context, n int, solve func(m int) (*eigen.Result, error), area []int, p Params) (*cutResult, int, error) {
 	K := p.Segments
 	m := K
 	if K == 0 {
 		m = p.MaxSegments + 1
 	}
-	m = min(m, g.N)
+	m = min(m, n)
 	if err := ctx.Err(); err != nil {
 		return nil, 0, err
 	}
-	ep, err := eigen.SmallestContext(ctx, g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+	ep, err := solve(m)
 	var short shortfall
-	if !short.note(err, ep, 0, g.N) {
+	if !short.note(err, ep, 0, n) {
 		return nil, 0, err
 	}
 	if K == 0 {
@@ -45,9 +54,9 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 			K = m
 		}
 	}
-	K = min(K, g.N)
-	u := make([]float64, g.N*K)
-	for i := 0; i < g.N; i++ {
+	K = min(K, n)
+	u := make([]float64, n*K)
+	for i := 0; i < n; i++ {
 		var s float64
 		for j := 0; j < K; j++ {
 			v := ep.Vectors[j][i]
@@ -60,15 +69,32 @@ func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutRes
 			}
 		}
 	}
-	wt := make([]float64, g.N)
+	wt := make([]float64, n)
 	for i := range wt {
 		wt[i] = float64(nodeArea(area, i))
 	}
-	lab, err := kmeansContext(ctx, u, g.N, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
+	lab, err := kmeansContext(ctx, u, n, K, K, wt, kmeansRestarts, p.Seed, p.Workers)
 	if err != nil {
 		return nil, 0, err
 	}
 	// Renumber clusters by lowest node, drop empty ones.
-	n := relabel(lab, K)
-	return &cutResult{region: lab, regions: n, eigenvalues: ep.Values, short: short}, K, nil
+	nreg := relabel(lab, K)
+	return &cutResult{region: lab, regions: nreg, eigenvalues: ep.Values, short: short}, K, nil
+}
+
+// kwayStencil is kwayComponents on the pixel graph in stencil form. A
+// connected graph (the rule: no edge of a pixel graph is left out unless
+// its ends differ by about 9 sigma_I) is solved in that form; one of
+// several components falls back to compressed rows (the same graph, so
+// the same result), which costs their memory.
+func kwayStencil(ctx context.Context, sg *affinity.StencilGraph, p Params) (*cutResult, error) {
+	n := sg.Nodes()
+	if _, nc := stencilComponents(sg); nc > 1 || n < 2 {
+		return kwayComponents(ctx, sg.CSR(), nil, p)
+	}
+	solve := func(m int) (*eigen.Result, error) {
+		return eigen.SmallestStencil(ctx, sg, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+	}
+	c, _, err := kwayWith(ctx, n, solve, nil, p)
+	return c, err
 }

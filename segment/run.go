@@ -293,8 +293,11 @@ type Result struct {
 	SplitNcuts  []float64
 	ObjectNcuts []float64 // Ncut of every split of an object into touching objects
 	Params      Params    // with automatic values resolved
-	Graph       *affinity.Graph
-	Stages      []Stage
+	// Graph is the top-level affinity matrix: compressed rows
+	// (*affinity.Graph), or for the k-way cut of the pixel graph its
+	// stencil form (*affinity.StencilGraph).
+	Graph  affinity.Sparse
+	Stages []Stage
 	// ObjectScale is the object scale estimated for the automatic
 	// superpixel count (affinity.ObjectScale); nil when none was estimated
 	// (superpixels given, the pixel graph, or a frame small enough for the
@@ -550,7 +553,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	var (
 		g      *affinity.Graph
-		nodeOf []int32 // pixel -> node; nil for the pixel graph
+		sg     *affinity.StencilGraph // the pixel graph of a k-way cut, instead of g
+		nodeOf []int32                // pixel -> node; nil for the pixel graph
 		area   []int
 		energy []float32 // edge energy of the luminance, once computed
 		err    error
@@ -565,7 +569,16 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		if p.AutoSigmaX {
 			p.SigmaX = 0.8 * float64(p.Radius)
 		}
-		g, err = affinity.PixelGraph(in.Planes, w, h, affinity.PixelParams{Radius: p.Radius, SigmaI: p.SigmaI, SigmaX: p.SigmaX}, p.Workers)
+		pp := affinity.PixelParams{Radius: p.Radius, SigmaI: p.SigmaI, SigmaX: p.SigmaX}
+		if p.Method == MethodKway {
+			// The k-way cut reads the graph through the eigensolver and
+			// the connected components only, which take the stencil
+			// form: at r = 5 half the memory of compressed rows (at a
+			// million pixels 336 MB against 646 MB) and no copy.
+			sg, err = affinity.PixelStencilGraph(in.Planes, w, h, pp, p.Workers)
+		} else {
+			g, err = affinity.PixelGraph(in.Planes, w, h, pp, p.Workers)
+		}
 		if err != nil {
 			return nil, err
 		}
@@ -613,7 +626,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		area = sum.Area
 		stage("graph")
 	}
-	res.Graph = g
+	nodes = 0
+	if sg != nil {
+		res.Graph, nodes = sg, sg.Nodes()
+	} else {
+		res.Graph, nodes = g, g.N
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -629,7 +647,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	flat := constant(in.Planes)
 	if flat {
 		// No feature varies: any cut would be purely spatial. One region.
-		cut = &cutResult{region: make([]int32, g.N), regions: 1}
+		cut = &cutResult{region: make([]int32, nodes), regions: 1}
 	} else if p.Method == MethodBisect && in.Cache != nil && p.Segments == 0 {
 		// Everything the graph and the cut depend on except MaxNcut (the
 		// automatic values are resolved by now); Workers never changes
@@ -643,6 +661,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		})
 	} else if p.Method == MethodBisect {
 		cut, err = bisect(ctx, g, area, p.cutParams(), cutOptions{stability: stability})
+	} else if sg != nil {
+		cut, err = kwayStencil(ctx, sg, p)
 	} else {
 		cut, err = kwayComponents(ctx, g, area, p)
 	}
@@ -754,7 +774,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				edges.con = con
 			}
 			if nodeOf != nil && p.Classes == 2 {
-				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, g.N, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 				reg = regions.Pix
 			}
 			for i, r := range reg {

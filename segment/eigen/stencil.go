@@ -38,15 +38,17 @@ func newStencilOp(g *affinity.StencilGraph) *stencilOp {
 // neighbour index lies in 0..n-1, filtered into fl and ws. (Where the
 // stencil is as wide as the image, lin is not monotone in the offset
 // order, so these need not be contiguous.)
-func (op *stencilOp) pairs(i int, fl []int, ws []float32) ([]int, []float32) {
+// The differences are returned multiplied by m (lm: lin·m), the
+// distance between the rows of a block of m columns.
+func (op *stencilOp) pairs(i int, lm, fl []int, ws []float32) ([]int, []float32) {
 	row := op.wt[i*op.k : i*op.k+op.k]
 	if i >= op.lo && i+op.hi < op.n {
-		return op.lin, row
+		return lm, row
 	}
 	fl, ws = fl[:0], ws[:0]
 	for f, d := range op.lin {
 		if j := i + d; j >= 0 && j < op.n {
-			fl = append(fl, d)
+			fl = append(fl, lm[f])
 			ws = append(ws, row[f])
 		}
 	}
@@ -65,20 +67,25 @@ func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
 	t := tmp.v
 	fl := make([]int, 0, op.k)
 	fw := make([]float32, 0, op.k)
+	lm := make([]int, op.k)
+	for f, d := range op.lin {
+		lm[f] = d * m
+	}
 	for i := r0; i < r1; i++ {
-		lin, ws := op.pairs(i, fl, fw)
+		lin, ws := op.pairs(i, lm, fl, fw)
 		ws = ws[:len(lin)]
 		si := s[i]
 		yr := y.v[i*m : i*m+m]
 		xr := x.v[i*m : i*m+m]
 		for c0 := 0; c0 < m; {
+			bi := i*m + c0
 			switch rest := m - c0; {
 			case rest >= 6:
 				var a0, a1, a2, a3, a4, a5 float64
 				for f, d := range lin {
 					w := float64(ws[f])
-					j := (i + d) * m
-					q := t[j+c0 : j+c0+6 : j+c0+6]
+					j := bi + d
+					q := t[j : j+6 : j+6]
 					a0 += w * q[0]
 					a1 += w * q[1]
 					a2 += w * q[2]
@@ -97,8 +104,8 @@ func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
 				var a0, a1, a2, a3, a4 float64
 				for f, d := range lin {
 					w := float64(ws[f])
-					j := (i + d) * m
-					q := t[j+c0 : j+c0+5 : j+c0+5]
+					j := bi + d
+					q := t[j : j+5 : j+5]
 					a0 += w * q[0]
 					a1 += w * q[1]
 					a2 += w * q[2]
@@ -115,8 +122,8 @@ func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
 				var a0, a1, a2 float64
 				for f, d := range lin {
 					w := float64(ws[f])
-					j := (i + d) * m
-					q := t[j+c0 : j+c0+3 : j+c0+3]
+					j := bi + d
+					q := t[j : j+3 : j+3]
 					a0 += w * q[0]
 					a1 += w * q[1]
 					a2 += w * q[2]
@@ -129,8 +136,8 @@ func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
 				var a0, a1 float64
 				for f, d := range lin {
 					w := float64(ws[f])
-					j := (i + d) * m
-					q := t[j+c0 : j+c0+2 : j+c0+2]
+					j := bi + d
+					q := t[j : j+2 : j+2]
 					a0 += w * q[0]
 					a1 += w * q[1]
 				}
@@ -147,7 +154,7 @@ func (op *stencilOp) mulRows(s []float64, y, x, tmp *block, r0, r1 int) {
 					if w == 0 {
 						continue
 					}
-					acc[par] += float64(w) * t[(i+d)*m+c0]
+					acc[par] += float64(w) * t[bi+d]
 					par ^= 1
 				}
 				yr[c0] = xr[c0] - si*(acc[0]+acc[1])

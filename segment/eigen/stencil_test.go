@@ -213,19 +213,23 @@ func TestSmallestStencilErrors(t *testing.T) {
 }
 
 // BenchmarkApplyLPixel times one product y = L x with a block of 6
-// columns on the coins photograph enlarged twice (116,736 nodes, r = 5),
-// with the graph in compressed rows and in stencil form, one worker:
+// columns on the coins photograph enlarged twice and six times (116,736
+// and 1,050,624 nodes, r = 5), with the graph in compressed rows and in
+// stencil form, one worker:
 //
 //	go test -run '^$' -bench ApplyLPixel ./segment/eigen
 func BenchmarkApplyLPixel(b *testing.B) {
-	for _, form := range []string{"csr", "stencil"} {
-		b.Run(form, func(b *testing.B) {
+	for _, c := range []struct {
+		f    int
+		form string
+	}{{2, "csr"}, {2, "stencil"}, {6, "csr"}, {6, "stencil"}} {
+		b.Run(fmt.Sprintf("x%d/%s", c.f, c.form), func(b *testing.B) {
 			var lv *level
-			if form == "csr" {
-				g := coinsScaled(b, 2)
+			if c.form == "csr" {
+				g := coinsScaled(b, c.f)
 				lv = newLevel(g.N, g.RowPtr, g.Col, g.Weight)
 			} else {
-				lv = newStencilLevel(coinsScaledStencil(b, 2))
+				lv = newStencilLevel(coinsScaledStencil(b, c.f))
 			}
 			x, y, tmp := newBlock(lv.n, 6), newBlock(lv.n, 6), newBlock(lv.n, 6)
 			for k := range x.v {

@@ -370,7 +370,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	if res.Params.Superpixels > 0 {
 		kind = "superpixels"
 	}
-	rec.Graph = &GraphInfo{Kind: kind, Nodes: res.Graph.N, Edges: res.Graph.NNZ() / 2}
+	rec.Graph = &GraphInfo{Kind: kind, Nodes: res.Graph.Nodes(), Edges: res.Graph.NNZ() / 2}
 	if e := res.ObjectScale; e != nil {
 		rec.ObjectScale = &ObjectScaleInfo{Radius: e.Radius, Sigma: e.Sigma, Strength: e.Strength, Blobs: e.Blobs, Noise: e.Noise, Found: e.Found, Used: res.ObjectScaleUsed}
 	}
@@ -504,7 +504,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		rec.Outputs = append(rec.Outputs, filepath.Base(j.Out.Path(o.suffix)))
 	}
 	if j.SaveGraph != "" {
-		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", j.Voice.Version, j.Path, kind, res.Graph.N)
+		comment := fmt.Sprintf("cleave %s: top-level affinity matrix W of %s\n%s graph, %d nodes", j.Voice.Version, j.Path, kind, res.Graph.Nodes())
 		if kind == "pixels" {
 			comment += fmt.Sprintf("; node k is pixel (x, y) = (k mod %d, k div %d)", w, w)
 		} else {
