@@ -51,6 +51,7 @@ func (g *Graph) Nodes() int { return g.N }
 type StencilGraph struct {
 	w, h   int
 	dx, dy []int     // the K offsets, in (dy, dx) order
+	lin    []int     // dy*w + dx
 	weight []float32 // node-major: weight[i*K + f]
 	nnz    int
 }
@@ -79,6 +80,7 @@ func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*St
 			if dx != 0 || dy != 0 {
 				sg.dx = append(sg.dx, dx)
 				sg.dy = append(sg.dy, dy)
+				sg.lin = append(sg.lin, dy*w+dx)
 			}
 		}
 	}
@@ -159,15 +161,15 @@ func (s *StencilGraph) Weights() []float32 { return s.weight }
 // Row appends the neighbours of node i and their weights to col and wt
 // in ascending column order, as row i of CSR, and returns both.
 func (s *StencilGraph) Row(i int, col []int32, wt []float32) ([]int32, []float32) {
-	K := len(s.dx)
-	x, y := i%s.w, i/s.w
+	K := len(s.lin)
 	ws := s.weight[i*K : i*K+K]
+	lin := s.lin[:len(ws)]
 	for f, v := range ws {
 		if v == 0 {
 			continue
 		}
 		// A positive weight is an edge inside the image.
-		col = append(col, int32((y+s.dy[f])*s.w+x+s.dx[f]))
+		col = append(col, int32(i+lin[f]))
 		wt = append(wt, v)
 	}
 	return col, wt

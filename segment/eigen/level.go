@@ -52,11 +52,15 @@ func newStencilLevel(g *affinity.StencilGraph) *level {
 	// Row lengths, as the compressed rows' pointers, for the chunks; a
 	// temporary array of 8 bytes a node.
 	rowPtr := make([]int, n+1)
-	var cb []int32
-	var wb []float32
+	k := lv.sg.k
 	for i := 0; i < n; i++ {
-		cb, wb = lv.row(i, cb, wb)
-		rowPtr[i+1] = rowPtr[i] + len(cb)
+		c := 0
+		for _, v := range lv.sg.wt[i*k : i*k+k] {
+			if v != 0 {
+				c++
+			}
+		}
+		rowPtr[i+1] = rowPtr[i] + c
 	}
 	lv.fill(rowPtr)
 	return lv
@@ -91,18 +95,21 @@ func (lv *level) fill(rowPtr []int) {
 	lv.z0 = make([]float64, n)
 	lv.diag = make([]float64, n)
 	var sum float64
-	var cb []int32
-	var wb []float32
 	for i := 0; i < n; i++ {
 		var d, self float64
-		col, wt := lv.row(i, cb, wb)
 		if lv.sg != nil {
-			cb, wb = col, wt
-		}
-		for p, v := range wt {
-			d += float64(v)
-			if int(col[p]) == i {
-				self += float64(v)
+			// No self loops; the absent pairs add 0, which leaves the
+			// sum as over the stored entries.
+			k := lv.sg.k
+			for _, v := range lv.sg.wt[i*k : i*k+k] {
+				d += float64(v)
+			}
+		} else {
+			for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
+				d += float64(lv.wt[p])
+				if int(lv.col[p]) == i {
+					self += float64(lv.wt[p])
+				}
 			}
 		}
 		lv.deg[i] = d
