@@ -44,10 +44,10 @@ func (g *Graph) Nodes() int { return g.N }
 // dx > 0, the other half read from the neighbour's slots) would halve
 // the weights again, but the product then gathers half of every row
 // from K/2 other rows: on the coins photograph enlarged to 116,736 and
-// 1,050,624 nodes such products took 1.3-2.3 times as long as the
-// compressed rows' (weights offset-major or node-major), the full
-// node-major stencil 0.7-0.9 times (a scratch benchmark, one run each
-// on the shared machine).
+// 1,050,624 nodes such products took 1.3-2.9 times as long as the
+// compressed rows' (weights offset-major or node-major), while the full
+// node-major stencil takes about as long as they do (README, "Measured
+// speed and accuracy").
 type StencilGraph struct {
 	w, h   int
 	dx, dy []int     // the K offsets, in (dy, dx) order
@@ -237,30 +237,4 @@ func (s *StencilGraph) WriteMatrixMarket(w io.Writer, comment string) error {
 		}
 	}
 	return bw.Flush()
-}
-
-// EstimateStencilGraphBytes returns the bytes PixelStencilGraph allocates
-// for a w x h image with the given radius: 4 bytes per offset and pixel,
-// and the stencil. Nonsensical sizes give 0; results too large for
-// int64 saturate at math.MaxInt64.
-func EstimateStencilGraphBytes(w, h, radius int) int64 {
-	if w < 1 || h < 1 || radius < 1 {
-		return 0
-	}
-	if w > 1<<24 || h > 1<<24 {
-		return math.MaxInt64
-	}
-	r := clampRadius(w, h, radius)
-	ry := min(r, h-1)
-	offsets := 0.0
-	for dy := -ry; dy <= ry; dy++ {
-		offsets += float64(2*groupHalfWidth(r, dy, w) + 1)
-	}
-	offsets-- // dx = dy = 0
-	n := float64(w) * float64(h)
-	b := allocBytes(4*offsets*n) + 2*allocBytes(8*offsets) + 16<<10
-	if b >= math.MaxInt64 {
-		return math.MaxInt64
-	}
-	return int64(b)
 }

@@ -164,25 +164,3 @@ func TestStencilGraphBadInput(t *testing.T) {
 		}
 	}
 }
-
-// TestEstimateStencilGraphBytes checks the estimate against the weights'
-// size and against the compressed rows' estimate, which it must undercut.
-func TestEstimateStencilGraphBytes(t *testing.T) {
-	for _, c := range []struct{ w, h, r int }{{152, 192, 5}, {10, 10, 1}, {3, 2, 9}} {
-		f := noiseImage(1, c.w, c.h, 1)
-		s, err := PixelStencilGraph(f, c.w, c.h, PixelParams{Radius: c.r, SigmaI: 10, SigmaX: 4}, 1)
-		if err != nil {
-			t.Fatal(err)
-		}
-		est := EstimateStencilGraphBytes(c.w, c.h, c.r)
-		if got := int64(4 * len(s.Weights())); est < got {
-			t.Errorf("%dx%d r %d: estimate %d below the weights' %d bytes", c.w, c.h, c.r, est, got)
-		}
-		if csr := EstimatePixelGraphBytes(c.w, c.h, c.r); c.w*c.h > 100 && est > csr*6/10 {
-			t.Errorf("%dx%d r %d: estimate %d not below 0.6 of the compressed rows' %d", c.w, c.h, c.r, est, csr)
-		}
-	}
-	if EstimateStencilGraphBytes(0, 5, 5) != 0 {
-		t.Error("empty image: want 0")
-	}
-}

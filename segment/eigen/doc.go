@@ -20,4 +20,10 @@
 // targets of 1e-5 and above only the input graph is refined). All
 // reductions run in a fixed order over fixed row chunks, so results are
 // byte-identical for any number of workers.
+//
+// SmallestStencil takes the pixel graph in stencil form
+// (affinity.StencilGraph: weights per neighbour offset, no column
+// indices, half the memory of compressed rows at r = 5); its input level
+// is never copied into compressed rows, and the result is the one
+// Smallest gives on the compressed rows, bit for bit.
 package eigen
