@@ -356,10 +356,10 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, denseLimit int) 
 // collectAfter is the size of a solve's block pool (float64 values) from
 // which the solve ends with a garbage collection: 2^25 values, 256 MiB,
 // about five blocks of 6 columns at a million nodes. At 1,050,624 nodes
-// the pool held about 400 MB and the heap target, set while it was live,
-// let the k-means that follows grow the heap to 1.3 GB with 0.5 GB live
+// the heap target, set while the blocks were live (876 MB), let the
+// k-means that follows grow the heap to 1.3 GB with 0.5 GB live
 // (GODEBUG=gctrace=1); the collection costs one mark of the live heap,
-// mostly pointer-free arrays.
+// mostly pointer-free arrays (DEVELOPERS.md has the figures).
 const collectAfter = 1 << 25
 
 // blockSize is the LOBPCG block width for want eigenpairs: guard vectors
