@@ -173,7 +173,7 @@ func SmallestStencil(ctx context.Context, g *affinity.StencilGraph, k int, opt O
 	if opt.Tol >= looseTol {
 		limit = denseMaxLoose
 	}
-	return solve(ctx, newStencilLevel(g), k, opt, limit)
+	return solve(ctx, newStencilLevel(g, parallel.Workers(opt.Workers)), k, opt, limit)
 }
 
 // solve is the solver behind both entry points, on the input level lv0.

@@ -46,21 +46,34 @@ func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
 // newStencilLevel is the level of the input pixel graph g in stencil
 // form: no compressed rows are built. Degrees, chunks and every product
 // come out bit for bit as on newLevel of g.CSR().
-func newStencilLevel(g *affinity.StencilGraph) *level {
+func newStencilLevel(g *affinity.StencilGraph, workers int) *level {
 	n := g.Nodes()
 	lv := &level{n: n, sg: newStencilOp(g), stored: g.NNZ()}
-	// Row lengths, as the compressed rows' pointers, for the chunks; a
-	// temporary array of 8 bytes a node.
+	// Row lengths, as the compressed rows' pointers, for the chunks (a
+	// temporary array of 8 bytes a node), and the degrees: each row on
+	// its own, in parallel over fixed blocks of rows.
 	rowPtr := make([]int, n+1)
+	lv.deg = make([]float64, n)
 	k := lv.sg.k
-	for i := 0; i < n; i++ {
-		c := 0
-		for _, v := range lv.sg.wt[i*k : i*k+k] {
-			if v != 0 {
-				c++
+	const rowsPerBlock = 4096
+	parallel.For((n+rowsPerBlock-1)/rowsPerBlock, workers, func(b int) {
+		for i := b * rowsPerBlock; i < min((b+1)*rowsPerBlock, n); i++ {
+			c := 0
+			var d float64
+			// The absent pairs add 0, which leaves the sum as over the
+			// stored entries.
+			for _, v := range lv.sg.wt[i*k : i*k+k] {
+				if v != 0 {
+					c++
+				}
+				d += float64(v)
 			}
+			rowPtr[i+1] = c
+			lv.deg[i] = d
 		}
-		rowPtr[i+1] = rowPtr[i] + c
+	})
+	for i := 0; i < n; i++ {
+		rowPtr[i+1] += rowPtr[i]
 	}
 	lv.fill(rowPtr)
 	return lv
@@ -86,11 +99,14 @@ func (lv *level) rowBound(i int) int {
 	return lv.rowPtr[i+1] - lv.rowPtr[i]
 }
 
-// fill computes the degrees, the diagonal of L, D^-1/2, z0 and the row
-// chunks; rowPtr gives the row lengths.
+// fill computes the degrees (in stencil form newStencilLevel has summed
+// them), the diagonal of L, D^-1/2, z0 and the row chunks; rowPtr gives
+// the row lengths.
 func (lv *level) fill(rowPtr []int) {
 	n := lv.n
-	lv.deg = make([]float64, n)
+	if lv.sg == nil {
+		lv.deg = make([]float64, n)
+	}
 	lv.s = make([]float64, n)
 	lv.z0 = make([]float64, n)
 	lv.diag = make([]float64, n)
@@ -98,12 +114,7 @@ func (lv *level) fill(rowPtr []int) {
 	for i := 0; i < n; i++ {
 		var d, self float64
 		if lv.sg != nil {
-			// No self loops; the absent pairs add 0, which leaves the
-			// sum as over the stored entries.
-			k := lv.sg.k
-			for _, v := range lv.sg.wt[i*k : i*k+k] {
-				d += float64(v)
-			}
+			d = lv.deg[i] // newStencilLevel's sums; no self loops
 		} else {
 			for p := lv.rowPtr[i]; p < lv.rowPtr[i+1]; p++ {
 				d += float64(lv.wt[p])

@@ -45,7 +45,7 @@ func stencilLevels(t testing.TB, w, h, r int, sigmaI float64) (csr, st *level, g
 	if err != nil {
 		t.Fatal(err)
 	}
-	return newLevel(g.N, g.RowPtr, g.Col, g.Weight), newStencilLevel(sg), g, sg
+	return newLevel(g.N, g.RowPtr, g.Col, g.Weight), newStencilLevel(sg, 2), g, sg
 }
 
 // stencilSizes are the images of the stencil tests: single pixels, rows
@@ -229,7 +229,7 @@ func BenchmarkApplyLPixel(b *testing.B) {
 				g := coinsScaled(b, c.f)
 				lv = newLevel(g.N, g.RowPtr, g.Col, g.Weight)
 			} else {
-				lv = newStencilLevel(coinsScaledStencil(b, c.f))
+				lv = newStencilLevel(coinsScaledStencil(b, c.f), 1)
 			}
 			x, y, tmp := newBlock(lv.n, 6), newBlock(lv.n, 6), newBlock(lv.n, 6)
 			for k := range x.v {
