@@ -253,8 +253,11 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 	parallel.For(nc, o.workers, func(c int) {
 		g := part[c*sz : (c+1)*sz]
 		clear(g)
-		ra := make([]float64, 4*na)
-		rb := make([]float64, 4*nb)
+		// The gathered rows are needed only for a chunk's last rows
+		// (fewer than four): allocated when first needed, since buffers
+		// for every chunk made the heap grow between collections at a
+		// million nodes.
+		var ra, rb []float64
 		r0, r1 := o.lv.chunks[c], o.lv.chunks[c+1]
 		single := len(as) == 1 && len(bs) == 1
 		for i := r0; i < r1; i += 4 {
@@ -295,6 +298,9 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 				a0, a1, a2, a3 = av[i*na:(i+1)*na], av[(i+1)*na:(i+2)*na], av[(i+2)*na:(i+3)*na], av[(i+3)*na:(i+4)*na]
 				b0, b1, b2, b3 = bv[i*nb:(i+1)*nb], bv[(i+1)*nb:(i+2)*nb], bv[(i+2)*nb:(i+3)*nb], bv[(i+3)*nb:(i+4)*nb]
 			} else {
+				if ra == nil {
+					ra, rb = make([]float64, 4*na), make([]float64, 4*nb)
+				}
 				clear(ra)
 				clear(rb)
 				for t := 0; t < cnt; t++ {

@@ -175,11 +175,14 @@ func (lv *level) applyL(y, x, tmp *block, workers int) {
 			}
 		}
 	})
+	if lv.sg != nil {
+		lm := lv.sg.scaled(m)
+		parallel.For(nc, workers, func(c int) {
+			lv.sg.mulRows(lm, lv.s, y, x, tmp, lv.chunks[c], lv.chunks[c+1])
+		})
+		return
+	}
 	parallel.For(nc, workers, func(c int) {
-		if lv.sg != nil {
-			lv.sg.mulRows(lv.s, y, x, tmp, lv.chunks[c], lv.chunks[c+1])
-			return
-		}
 		lv.mulRows(y, x, tmp, lv.chunks[c], lv.chunks[c+1])
 	})
 }
