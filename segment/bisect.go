@@ -111,6 +111,10 @@ type cutOptions struct {
 	noSpectrum bool
 	// tree records the split tree in cutResult.tree (see cutTree).
 	tree bool
+	// budget, when positive, bounds the nodes of all the parts whose
+	// Fiedler vector is solved for: a part whose solve would pass it is
+	// left whole (the re-cut of single objects, refineWork).
+	budget int
 }
 
 // cutParams are the values bisect reads: of Params (Params.cutParams)
@@ -167,6 +171,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 	}
 	heap.Push(h, newPart(all, -1))
 	regions := 1
+	solved := 0            // nodes of the parts solved so far (cutOptions.budget)
 	first := !o.noSpectrum // the top-level solve records the low spectrum
 	for h.Len() > 0 {
 		if err := ctx.Err(); err != nil {
@@ -207,6 +212,11 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 			regions += nc - 1
 			continue
 		}
+		if o.budget > 0 && solved+sub.N > o.budget {
+			final = append(final, pt)
+			continue
+		}
+		solved += sub.N
 		k := 2
 		if first {
 			k = min(topEigenpairs, sub.N)

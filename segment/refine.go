@@ -84,8 +84,16 @@ func refineObjects(ctx context.Context, con []float64, objects labelmap.Map, n i
 		results[l] = refineCoarse(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, seed)
 	}
 	// Objects are independent: refine them in parallel, one goroutine per
-	// object at a time, and assemble in label order (deterministic).
-	parallel.For(n, workers, func(k int) { one(k + 1) })
+	// object at a time, and assemble in label order (deterministic). The
+	// largest are handed out first (longest processing time first, Graham
+	// 1969): a large object last in label order would otherwise run alone
+	// on one core after the others are done.
+	order := make([]int, n)
+	for k := range order {
+		order[k] = k + 1
+	}
+	slices.SortStableFunc(order, func(a, b int) int { return len(pixels[b]) - len(pixels[a]) })
+	parallel.For(n, workers, func(k int) { one(order[k]) })
 	if err := ctx.Err(); err != nil {
 		return refined{}, err
 	}
@@ -516,6 +524,21 @@ func cropMask(crop []int, n int) []bool {
 	return m
 }
 
+// beyondDigitization reports whether an object has a neck deeper than
+// digitizing a shape leaves: its outline's distance map d a neck of
+// relative depth at least refineNeck, or its half-maximum core's (core,
+// from coreDistance) one of at least refineNeckAlone, among the necks
+// more than neckNoise pixels deep (deepestNeck's floor). The distance
+// along the straight ridge of a digitized rod or bar dips by up to a
+// pixel (neckNoise), which on a bar 35 px wide is a relative depth of
+// 0.06, above refineNeck: without the floor nearly every brick of
+// scikit-image's brick.png (solid bars 30-40 px wide) counted as necked
+// and was re-cut whole. A solid object (solidity above refineSolidity)
+// whose necks are all within digitization is taken as single.
+func beyondDigitization(d, core []float64, cw, ch int) bool {
+	return deepestNeck(d, cw, ch, neckNoise).depth >= refineNeck || deepestNeck(core, cw, ch, neckNoise).depth >= refineNeckAlone
+}
+
 // refineNeckAlone is the least neck depth at which a region is split at
 // its neck without the cut's help (neckPieces). Lower necks occur in
 // single irregular nuclei as often as between touching ones; above it,
@@ -751,10 +774,21 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch)}
 	mask := cropMask(nodes, cw*ch)
 	dist := distanceInside(mask, cw, ch)
+	var core []float64 // the half-maximum core's distance map, when needed
+	coreDist := func() []float64 {
+		if core == nil {
+			core = coreDistance(smooth, mask, dist, cw, ch)
+		}
+		return core
+	}
 	// The outline's neck, or the half-maximum core's where a halo hides
 	// it (held to neckPieces' depth, since the core is noisier).
-	necked := necks && (neckDepth(dist, cw, ch) >= refineNeck || neckDepth(coreDistance(smooth, mask, dist, cw, ch), cw, ch) >= refineNeckAlone)
-	if !necked && solidity(px, w) > refineSolidity {
+	necked := necks && (neckDepth(dist, cw, ch) >= refineNeck || neckDepth(coreDist(), cw, ch) >= refineNeckAlone)
+	solid := solidity(px, w) > refineSolidity
+	if necked && solid && !beyondDigitization(dist, coreDist(), cw, ch) {
+		necked = false
+	}
+	if !necked && solid {
 		return refineResult{regions: 1}
 	}
 	g, err := affinity.PixelGraph([][]float32{feat}, cw, ch, affinity.PixelParams{Radius: refineRadius, SigmaI: refineSigmaI, SigmaX: refineSigmaX}, 1)
@@ -829,7 +863,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		}
 		return solidity(whole, w) > refineSolidity
 	}
-	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true})
+	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true, budget: refineWork * len(px)})
 	if err != nil {
 		return refineResult{err: err}
 	}
@@ -840,28 +874,66 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	return refineResult{region: region, regions: regions, splits: splits, short: cut.short}
 }
 
-// refineMaxNodes caps the work spent re-cutting one object: its pixel
-// graph has at most about this many nodes, so the object stages cost at
-// most a fixed amount per object and, summed, grow linearly with the
-// objects' area. The touching clusters refinement is for (two to a
-// handful of objects) stay below it on the scenes the project measures
-// (a cluster of four nuclei of radius 25 px is about 7,900 px); what
-// exceeds it is usually a structure (a vessel tree, or the background
-// taken for an object under the wrong polarity) whose full-resolution
-// cut costs seconds per object.
-const refineMaxNodes = 10000
+// The work of re-cutting one object is capped in three ways, so that the
+// object stages cost at most a fixed amount per object and, summed, grow
+// linearly with the objects' area (DEVELOPERS.md, "Measured choices",
+// gives the measurements):
+//
+//   - refineMaxNodes: an object of up to this many pixels is re-cut on its
+//     own pixel graph, one node a pixel. The touching clusters refinement
+//     is for (two to a handful of objects) stay below it on the scenes the
+//     project measures (a cluster of four nuclei of radius 25 px is about
+//     7,900 px); what exceeds it is usually a structure (a vessel tree, or
+//     the background taken for an object under the wrong polarity).
+//   - refineCoarseNodes: such a larger object is re-cut on a grid coarse
+//     enough to give it at most about this many nodes (refineCoarse). Its
+//     re-cut can only find its gross divisions, and at 10,000 nodes one
+//     such structure took 0.2-0.4 s, about as long as the whole rest of
+//     the pipeline on a 512 x 512 photograph.
+//   - refineWork: the recursive bisection of one object solves parts of at
+//     most refineWork times its node count n in total (cutOptions.budget).
+//     A split into balanced halves costs the part's nodes at each level,
+//     so a cluster of P objects costs n (log2 P + 1) with the failed tries
+//     on its P pieces: 2n for a pair, 3n for four, 4n for eight (the
+//     handful maxNeckSplits also allows). A cut that only peels a small
+//     piece off solves nearly all n nodes again at each split; the budget
+//     stops it after about refineWork splits.
+//
+// The whole re-cut of one object thus solves at most refineWork x
+// refineMaxNodes = 40,000 nodes in all, and a solve costs about a
+// constant per node (the multilevel eigensolver takes a few steps on the
+// input graph at the loose target splitTol).
+const (
+	refineMaxNodes    = 10000
+	refineCoarseNodes = 2500
+	refineWork        = 4
+)
+
+// coarseStep is the integer step s of the grid refineCoarse re-cuts an
+// object of area pixels on: 1 up to refineMaxNodes, above it the least s
+// with area/s² <= refineCoarseNodes.
+func coarseStep(area int) int {
+	if area <= refineMaxNodes {
+		return 1
+	}
+	s := 1
+	for area > refineCoarseNodes*s*s {
+		s++
+	}
+	return s
+}
 
 // refineCoarse re-cuts an object of more than refineMaxNodes pixels on a
-// grid coarsened by the integer step s = ceil(sqrt(area/refineMaxNodes)):
-// a cell of s x s pixels is a node when any of its pixels belongs to the
-// object, with the mean contrast of those pixels, and every pixel takes
-// the region of its cell. The graph then has at most about
-// refineMaxNodes nodes (a few more where the outline cuts cells), so the
-// work per object is bounded; the cut follows seams at the resolution of
-// s pixels, which for objects this large is a small fraction of their
-// size. minPart is scaled by 1/s² (at least 1).
+// grid coarsened by the integer step s = coarseStep(area): a cell of
+// s x s pixels is a node when any of its pixels belongs to the object,
+// with the mean contrast of those pixels, and every pixel takes the
+// region of its cell. The graph then has about area/s² <=
+// refineCoarseNodes nodes (a few more where the outline cuts cells), so
+// the work per object is bounded; the cut follows seams at the
+// resolution of s pixels, which for objects this large is a small
+// fraction of their size. minPart is scaled by 1/s² (at least 1).
 func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
-	s := int(math.Ceil(math.Sqrt(float64(len(px)) / refineMaxNodes)))
+	s := coarseStep(len(px))
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	gw, gh := (cw+s-1)/s, (ch+s-1)/s
 	sum := make([]float64, gw*gh)
