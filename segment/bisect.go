@@ -23,6 +23,9 @@ type cutResult struct {
 	short shortfall
 	// root is what the first two-way cut of the whole graph found.
 	root rootSplit
+	// solved is the number of nodes of all the parts whose Fiedler
+	// vector was solved for (at most cutOptions.budget when it is set).
+	solved int
 }
 
 // part is a set of graph nodes (ascending) awaiting a decision.
@@ -288,6 +291,7 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 		}
 	}
 	res.regions = len(final)
+	res.solved = solved
 	if tr != nil {
 		tr.leafOf = make([]int32, g.N)
 		for _, pt := range final {

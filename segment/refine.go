@@ -534,10 +534,21 @@ func cropMask(crop []int, n int) []bool {
 // 0.06, above refineNeck: without the floor nearly every brick of
 // scikit-image's brick.png (solid bars 30-40 px wide) counted as necked
 // and was re-cut whole. A solid object (solidity above refineSolidity)
-// whose necks are all within digitization is taken as single.
+// whose necks are all within digitization is taken as single when it is
+// also a bar (barElongation): a blob has no long ridge to dip, and two
+// heavily overlapping nuclei can be solid with a neck of less than a
+// pixel yet be parted by a seam or a step in contrast (generated stained
+// scenes, choice seed 13721: object F1 0.925 -> 0.891 when every solid
+// blob was gated).
 func beyondDigitization(d, core []float64, cw, ch int) bool {
 	return deepestNeck(d, cw, ch, neckNoise).depth >= refineNeck || deepestNeck(core, cw, ch, neckNoise).depth >= refineNeckAlone
 }
+
+// barElongation is the least elongation (elongation: (L/W)² for a bar of
+// length L and width W) of a bar, at least three times longer than wide:
+// more than any pair of discs reaches (two touching discs have 5), less
+// than the bricks of brick.png (12-16).
+const barElongation = 9
 
 // refineNeckAlone is the least neck depth at which a region is split at
 // its neck without the cut's help (neckPieces). Lower necks occur in
@@ -785,7 +796,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// it (held to neckPieces' depth, since the core is noisier).
 	necked := necks && (neckDepth(dist, cw, ch) >= refineNeck || neckDepth(coreDist(), cw, ch) >= refineNeckAlone)
 	solid := solidity(px, w) > refineSolidity
-	if necked && solid && !beyondDigitization(dist, coreDist(), cw, ch) {
+	if necked && solid && elongation(px, w) >= barElongation && !beyondDigitization(dist, coreDist(), cw, ch) {
 		necked = false
 	}
 	if !necked && solid {
@@ -874,7 +885,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	return refineResult{region: region, regions: regions, splits: splits, short: cut.short}
 }
 
-// The work of re-cutting one object is capped in three ways, so that the
+// The work of re-cutting one object is capped in two ways, so that the
 // object stages cost at most a fixed amount per object and, summed, grow
 // linearly with the objects' area (DEVELOPERS.md, "Measured choices",
 // gives the measurements):
@@ -885,11 +896,8 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     project measures (a cluster of four nuclei of radius 25 px is about
 //     7,900 px); what exceeds it is usually a structure (a vessel tree, or
 //     the background taken for an object under the wrong polarity).
-//   - refineCoarseNodes: such a larger object is re-cut on a grid coarse
-//     enough to give it at most about this many nodes (refineCoarse). Its
-//     re-cut can only find its gross divisions, and at 10,000 nodes one
-//     such structure took 0.2-0.4 s, about as long as the whole rest of
-//     the pipeline on a 512 x 512 photograph.
+//     A larger object is re-cut on a grid coarse enough to give it at
+//     most about this many nodes (refineCoarse).
 //   - refineWork: the recursive bisection of one object solves parts of at
 //     most refineWork times its node count n in total (cutOptions.budget).
 //     A split into balanced halves costs the part's nodes at each level,
@@ -904,20 +912,15 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 // constant per node (the multilevel eigensolver takes a few steps on the
 // input graph at the loose target splitTol).
 const (
-	refineMaxNodes    = 10000
-	refineCoarseNodes = 2500
-	refineWork        = 4
+	refineMaxNodes = 10000
+	refineWork     = 4
 )
 
 // coarseStep is the integer step s of the grid refineCoarse re-cuts an
-// object of area pixels on: 1 up to refineMaxNodes, above it the least s
-// with area/s² <= refineCoarseNodes.
+// object of area pixels on: the least s with area/s² <= refineMaxNodes.
 func coarseStep(area int) int {
-	if area <= refineMaxNodes {
-		return 1
-	}
 	s := 1
-	for area > refineCoarseNodes*s*s {
+	for area > refineMaxNodes*s*s {
 		s++
 	}
 	return s
@@ -928,7 +931,7 @@ func coarseStep(area int) int {
 // s x s pixels is a node when any of its pixels belongs to the object,
 // with the mean contrast of those pixels, and every pixel takes the
 // region of its cell. The graph then has about area/s² <=
-// refineCoarseNodes nodes (a few more where the outline cuts cells), so
+// refineMaxNodes nodes (a few more where the outline cuts cells), so
 // the work per object is bounded; the cut follows seams at the
 // resolution of s pixels, which for objects this large is a small
 // fraction of their size. minPart is scaled by 1/s² (at least 1).

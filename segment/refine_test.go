@@ -606,3 +606,141 @@ func TestSliverSplit(t *testing.T) {
 		}
 	}
 }
+
+// coarseStep: objects up to refineMaxNodes are re-cut at full resolution;
+// above, the step is the least integer s with area/s² <= refineMaxNodes
+// (the definition; values worked by hand).
+func TestCoarseStep(t *testing.T) {
+	for _, c := range []struct{ area, want int }{
+		{1, 1},
+		{refineMaxNodes, 1},
+		{refineMaxNodes + 1, 2},
+		{4 * refineMaxNodes, 2},
+		{4*refineMaxNodes + 1, 3},
+		{90615, 4},    // scikit-image's camera.png, its largest object: 90,615 / 16 = 5,663; / 9 = 10,068
+		{1 << 24, 41}, // 16,777,216 / 1,681 = 9,980; / 1,600 = 10,486
+	} {
+		s := coarseStep(c.area)
+		if s != c.want {
+			t.Errorf("coarseStep(%d) = %d, want %d", c.area, s, c.want)
+		}
+		if c.area > refineMaxNodes*s*s {
+			t.Errorf("area %d at step %d leaves %d nodes, above refineMaxNodes", c.area, s, c.area/(s*s))
+		}
+	}
+}
+
+// The bisection's work budget (cutOptions.budget, refineWork): on a
+// string of 12 cliques of 10 nodes joined in a row by weak edges, the
+// unbounded bisection finds all 12 (common practice: weakly joined
+// cliques are the textbook case of the normalized cut, Shi and Malik
+// 2000); with a budget the nodes of all solved parts stay within it,
+// fewer cliques are parted the smaller it is, and the largest parts are
+// split first, so every region is a union of whole cliques.
+func TestBisectBudget(t *testing.T) {
+	const k, m = 12, 10
+	var e []affinity.Edge
+	for c := 0; c < k; c++ {
+		for i := 0; i < m; i++ {
+			for j := i + 1; j < m; j++ {
+				e = append(e, affinity.Edge{I: c*m + i, J: c*m + j, W: 1})
+			}
+		}
+		if c > 0 {
+			e = append(e, affinity.Edge{I: c*m - 1, J: c * m, W: 0.01})
+		}
+	}
+	g := mustGraph(t, k*m, e)
+	n := k * m
+	prev := k + 1
+	for _, c := range []struct {
+		budget   int
+		regionsA int // at least
+		regionsB int // at most
+	}{
+		{0, k, k},
+		{8 * n, 2, k},
+		{4 * n, 2, k},
+		{2 * n, 2, k},
+		{n, 1, 2}, // the whole graph only: one split
+	} {
+		res, err := bisect(context.Background(), g, nil, cutParams{maxNcut: 0.2, minArea: 1, workers: 1, seed: 1}, cutOptions{noSpectrum: true, budget: c.budget})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.budget > 0 && res.solved > c.budget {
+			t.Errorf("budget %d: %d nodes solved", c.budget, res.solved)
+		}
+		if res.regions < c.regionsA || res.regions > c.regionsB || res.regions > prev {
+			t.Errorf("budget %d: %d regions, want %d to %d and at most the %d of a larger budget", c.budget, res.regions, c.regionsA, c.regionsB, prev)
+		}
+		if c.budget == 0 && res.solved <= 4*n {
+			t.Errorf("unbounded: %d nodes solved, the budgets below would not bind", res.solved)
+		}
+		prev = res.regions
+		for c0 := 0; c0 < k; c0++ {
+			for i := 1; i < m; i++ {
+				if res.region[c0*m+i] != res.region[c0*m] {
+					t.Errorf("budget %d: clique %d parted", c.budget, c0)
+				}
+			}
+		}
+	}
+}
+
+// beyondDigitization (refineOne applies it to solid bars,
+// barElongation): digitized solid bars (the bricks of a wall, rods)
+// have only the dips of their ridge, at most neckNoise deep, whatever
+// their width and angle, while two discs of radius 12 whose centres are
+// 1.6 R apart have a neck of 12 (1 - sqrt(1 - 0.64)) = 4.8 px (plane
+// geometry) and a relative depth of 0.35 once digitized, far beyond. Without the floor
+// some of the bars count as necked (a dip of 0.45 px on the narrow bar is
+// a relative depth of 0.08).
+func TestBeyondDigitization(t *testing.T) {
+	unfloored := 0
+	for _, c := range []struct {
+		name   string
+		w, h   int
+		inside func(x, y float64) bool
+		want   bool
+	}{
+		{"bar 35 x 120 at 0.2 rad", 160, 160, bar(80.3, 79.6, 0.2, 60, 17.5), false},
+		{"bar 35 x 120 at 1.3 rad", 160, 160, bar(80.3, 79.6, 1.3, 60, 17.5), false},
+		{"bar 30 x 100 at 0.7 rad", 160, 160, bar(80.1, 80.4, 0.7, 50, 15), false},
+		{"bar 11 x 60 at 0.4 rad", 100, 100, bar(50.2, 49.7, 0.4, 30, 5.5), false},
+		{"two discs of radius 12, 1.6 R apart", 70, 40, func(x, y float64) bool {
+			return math.Hypot(x-20, y-20) <= 12 || math.Hypot(x-39.2, y-20) <= 12
+		}, true},
+	} {
+		mask := make([]bool, c.w*c.h)
+		smooth := make([]float32, c.w*c.h)
+		for y := 0; y < c.h; y++ {
+			for x := 0; x < c.w; x++ {
+				if c.inside(float64(x), float64(y)) {
+					mask[y*c.w+x] = true
+					smooth[y*c.w+x] = 1
+				}
+			}
+		}
+		d := distanceInside(mask, c.w, c.h)
+		if !c.want && deepestNeck(d, c.w, c.h, 0).depth >= refineNeck {
+			unfloored++ // necked by refineNeck alone
+		}
+		if got := beyondDigitization(d, coreDistance(smooth, mask, d, c.w, c.h), c.w, c.h); got != c.want {
+			t.Errorf("%s: beyondDigitization %v, want %v (deepest neck %+v)", c.name, got, c.want, deepestNeck(d, c.w, c.h, 0))
+		}
+	}
+	if unfloored == 0 {
+		t.Error("no bar has a relative neck depth of refineNeck without the floor: the test no longer shows what the floor does")
+	}
+}
+
+// bar is a rectangle of half-length l and half-width r centred on
+// (cx, cy) at angle th.
+func bar(cx, cy, th, l, r float64) func(x, y float64) bool {
+	dx, dy := math.Cos(th), math.Sin(th)
+	return func(x, y float64) bool {
+		px, py := x-cx, y-cy
+		return math.Abs(px*dx+py*dy) <= l && math.Abs(-px*dy+py*dx) <= r
+	}
+}
