@@ -199,22 +199,72 @@ func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, erro
 
 // Subgraph returns the graph induced by nodes (distinct, in range): node k
 // of the result is nodes[k], and an edge is kept when both ends are in the
-// set. Rows stay sorted when nodes is ascending.
+// set. Rows stay sorted when nodes is ascending. The position of each
+// node in the result is looked up in a slice over the span of nodes when
+// that span is at most subgraphDense times their number (the parts of a
+// recursive cut, the pixels of one object), in a map otherwise; a row is
+// sorted only when its entries come out of order. The result is the same
+// either way.
 func (g *Graph) Subgraph(nodes []int) *Graph {
-	pos := make(map[int32]int32, len(nodes))
-	for k, v := range nodes {
-		pos[int32(v)] = int32(k)
-	}
 	s := &Graph{N: len(nodes), RowPtr: make([]int, len(nodes)+1)}
+	if len(nodes) == 0 {
+		return s
+	}
+	lo, hi := nodes[0], nodes[0]
+	stored := 0
+	for _, v := range nodes {
+		lo, hi = min(lo, v), max(hi, v)
+		stored += g.RowPtr[v+1] - g.RowPtr[v]
+	}
+	s.Col = make([]int32, 0, stored)
+	s.Weight = make([]float32, 0, stored)
+	var dense []int32
+	var pos map[int32]int32
+	if hi-lo+1 <= subgraphDense*len(nodes) {
+		dense = make([]int32, hi-lo+1)
+		for i := range dense {
+			dense[i] = -1
+		}
+		for k, v := range nodes {
+			dense[v-lo] = int32(k)
+		}
+	} else {
+		pos = make(map[int32]int32, len(nodes))
+		for k, v := range nodes {
+			pos[int32(v)] = int32(k)
+		}
+	}
 	for k, v := range nodes {
+		start := len(s.Col)
+		ordered := true
 		for p := g.RowPtr[v]; p < g.RowPtr[v+1]; p++ {
-			if q, ok := pos[g.Col[p]]; ok {
-				s.Col = append(s.Col, q)
-				s.Weight = append(s.Weight, g.Weight[p])
+			q, ok := int32(-1), false
+			if dense != nil {
+				if c := int(g.Col[p]) - lo; c >= 0 && c < len(dense) {
+					q = dense[c]
+					ok = q >= 0
+				}
+			} else {
+				q, ok = pos[g.Col[p]]
 			}
+			if !ok {
+				continue
+			}
+			if n := len(s.Col); n > start && q < s.Col[n-1] {
+				ordered = false
+			}
+			s.Col = append(s.Col, q)
+			s.Weight = append(s.Weight, g.Weight[p])
 		}
 		s.RowPtr[k+1] = len(s.Col)
-		sortRow(s.Col[s.RowPtr[k]:], s.Weight[s.RowPtr[k]:])
+		if !ordered {
+			sortRow(s.Col[start:], s.Weight[start:])
+		}
 	}
 	return s
 }
+
+// subgraphDense bounds the span of Subgraph's nodes, in multiples of
+// their number, up to which their positions are kept in a slice (4 bytes
+// a node of the span) instead of a map.
+const subgraphDense = 8

@@ -3,6 +3,7 @@ package affinity
 import (
 	"bytes"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -109,6 +110,74 @@ func TestSubgraph(t *testing.T) {
 	}
 	if w, _ := s.At(1, 2); w != 3 {
 		t.Errorf("w(2,3) = %v", w)
+	}
+}
+
+// Subgraph against its definition, the induced subgraph (w_kl of the
+// result = w of nodes[k], nodes[l] in the input, sorted rows), on random
+// graphs and node sets whose positions take both lookups (a slice over a
+// narrow span, a map over a wide one), ascending and shuffled.
+func TestSubgraphInduced(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 4))
+	const n = 400
+	var e []Edge
+	for i := 0; i < n; i++ {
+		for k := 0; k < 6; k++ {
+			if j := rng.IntN(n); j != i {
+				e = append(e, Edge{I: i, J: j, W: float32(1 + rng.IntN(9))})
+			}
+		}
+	}
+	g, err := FromEdges(n, e)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name     string
+		lo, span int
+		pick     float64 // share of the span taken
+		shuffle  bool
+	}{
+		{"dense span, ascending", 100, 120, 0.5, false},
+		{"dense span, shuffled", 100, 120, 0.5, true},
+		{"wide span, ascending", 0, n, 0.05, false},
+		{"wide span, shuffled", 0, n, 0.05, true},
+		{"all nodes", 0, n, 1, false},
+	} {
+		var nodes []int
+		for v := c.lo; v < c.lo+c.span; v++ {
+			if rng.Float64() < c.pick {
+				nodes = append(nodes, v)
+			}
+		}
+		if c.shuffle {
+			rng.Shuffle(len(nodes), func(a, b int) { nodes[a], nodes[b] = nodes[b], nodes[a] })
+		}
+		s := g.Subgraph(nodes)
+		if err := s.Validate(); err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		count := 0
+		for k, u := range nodes {
+			for l, v := range nodes {
+				want, okW := g.At(u, v)
+				got, okG := s.At(k, l)
+				if okW != okG || want != got {
+					t.Fatalf("%s: w(%d,%d) = %v %v, want %v %v", c.name, k, l, got, okG, want, okW)
+				}
+				if okW {
+					count++
+				}
+			}
+			for p := s.RowPtr[k] + 1; p < s.RowPtr[k+1]; p++ {
+				if s.Col[p] <= s.Col[p-1] {
+					t.Fatalf("%s: row %d not sorted", c.name, k)
+				}
+			}
+		}
+		if count != s.NNZ() {
+			t.Errorf("%s: %d stored entries, %d edges", c.name, s.NNZ(), count)
+		}
 	}
 }
 

@@ -150,6 +150,44 @@ type objectCrop struct {
 	cw, ch int
 	nodes  []int
 	noise  float64
+	whole  *objectShape // the whole object's distance maps, when known
+}
+
+// objectShape holds the distance maps of a whole object (mask, crop
+// cw x ch) and their deepest necks, each computed once: refineOne tests
+// them before the cut, and neckPieces again when the cut left the object
+// whole.
+type objectShape struct {
+	mask     []bool
+	smooth   []float32
+	cw, ch   int
+	dist     []float64 // distanceInside of mask
+	distNeck *neck
+	core     []float64 // coreDistance
+	coreNeck *neck
+}
+
+// outline returns the object's distance map and its deepest neck
+// (deepestNeck, no floor).
+func (s *objectShape) outline() ([]float64, neck) {
+	if s.distNeck == nil {
+		nk := deepestNeck(s.dist, s.cw, s.ch, 0)
+		s.distNeck = &nk
+	}
+	return s.dist, *s.distNeck
+}
+
+// halfMax returns the distance map of the object's half-maximum core
+// (coreDistance) and its deepest neck.
+func (s *objectShape) halfMax() ([]float64, neck) {
+	if s.core == nil {
+		s.core = coreDistance(s.smooth, s.mask, s.dist, s.cw, s.ch)
+	}
+	if s.coreNeck == nil {
+		nk := deepestNeck(s.core, s.cw, s.ch, 0)
+		s.coreNeck = &nk
+	}
+	return s.core, *s.coreNeck
 }
 
 // cropNoise estimates the standard deviation of the pixel noise of feat
@@ -614,13 +652,27 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		if count < 2*minPart {
 			continue
 		}
-		d := distanceInside(mask, cw, ch)
-		nk := deepestNeck(d, cw, ch, 0)
+		// The whole object (the cut left it in one piece): its maps
+		// are known.
+		whole := count == len(nodes) && o.whole != nil
+		var d []float64
+		var nk neck
+		if whole {
+			d, nk = o.whole.outline()
+		} else {
+			d = distanceInside(mask, cw, ch)
+			nk = deepestNeck(d, cw, ch, 0)
+		}
 		core := false
 		if nk.depth < refineNeckAlone {
 			core = true
-			d = coreDistance(smooth, mask, d, cw, ch)
-			if nk = deepestNeck(d, cw, ch, 0); nk.depth < refineNeckAlone {
+			if whole {
+				d, nk = o.whole.halfMax()
+			} else {
+				d = coreDistance(smooth, mask, d, cw, ch)
+				nk = deepestNeck(d, cw, ch, 0)
+			}
+			if nk.depth < refineNeckAlone {
 				continue
 			}
 		}
@@ -782,19 +834,22 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	}
 	mean3 := boxMean3(feat, cw, ch)
 	smooth := boxMean3(mean3, cw, ch)
-	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch)}
 	mask := cropMask(nodes, cw*ch)
 	dist := distanceInside(mask, cw, ch)
-	var core []float64 // the half-maximum core's distance map, when needed
+	shape := &objectShape{mask: mask, smooth: smooth, cw: cw, ch: ch, dist: dist}
+	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape}
 	coreDist := func() []float64 {
-		if core == nil {
-			core = coreDistance(smooth, mask, dist, cw, ch)
-		}
-		return core
+		d, _ := shape.halfMax()
+		return d
 	}
 	// The outline's neck, or the half-maximum core's where a halo hides
 	// it (held to neckPieces' depth, since the core is noisier).
-	necked := necks && (neckDepth(dist, cw, ch) >= refineNeck || neckDepth(coreDist(), cw, ch) >= refineNeckAlone)
+	_, outlineNeck := shape.outline()
+	necked := necks && outlineNeck.depth >= refineNeck
+	if necks && !necked {
+		_, coreNeck := shape.halfMax()
+		necked = coreNeck.depth >= refineNeckAlone
+	}
 	solid := solidity(px, w) > refineSolidity
 	if necked && solid && elongation(px, w) >= barElongation && !beyondDigitization(dist, coreDist(), cw, ch) {
 		necked = false
