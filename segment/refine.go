@@ -641,27 +641,34 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 	for made := 0; len(queue) > 0 && made < maxNeckSplits; {
 		r := queue[0]
 		queue = queue[1:]
-		mask := make([]bool, cw*ch)
-		count := 0
+		var rc []int // the region's crop pixels
 		for k, c := range nodes {
 			if region[k] == r {
-				mask[c] = true
-				count++
+				rc = append(rc, c)
 			}
 		}
+		count := len(rc)
 		if count < 2*minPart {
 			continue
 		}
-		// The whole object (the cut left it in one piece): its maps
-		// are known.
+		// The region's maps on its own bounding box b (partDistance),
+		// or for the whole object (the cut left it in one piece) the
+		// maps refineOne made.
 		whole := count == len(nodes) && o.whole != nil
+		b := partBox{0, 0, cw, ch}
+		var mask []bool
 		var d []float64
 		var nk neck
 		if whole {
+			mask = o.whole.mask
 			d, nk = o.whole.outline()
 		} else {
-			d = distanceInside(mask, cw, ch)
-			nk = deepestNeck(d, cw, ch, 0)
+			d, b = partDistance(rc, cw)
+			mask = make([]bool, b.w*b.h)
+			for _, c := range rc {
+				mask[b.at(c, cw)] = true
+			}
+			nk = deepestNeck(d, b.w, b.h, 0)
 		}
 		core := false
 		if nk.depth < refineNeckAlone {
@@ -669,17 +676,21 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 			if whole {
 				d, nk = o.whole.halfMax()
 			} else {
-				d = coreDistance(smooth, mask, d, cw, ch)
-				nk = deepestNeck(d, cw, ch, 0)
+				sm := make([]float32, b.w*b.h)
+				for _, c := range rc {
+					sm[b.at(c, cw)] = smooth[c]
+				}
+				d = coreDistance(sm, mask, d, b.w, b.h)
+				nk = deepestNeck(d, b.w, b.h, 0)
 			}
 			if nk.depth < refineNeckAlone {
 				continue
 			}
 		}
-		side := splitAtNeck(d, cw, ch, nk)
+		side := splitAtNeck(d, b.w, b.h, nk)
 		nb := 0
-		for c, sd := range side {
-			if sd == 2 && mask[c] {
+		for i, sd := range side {
+			if sd == 2 && mask[i] {
 				nb++
 			}
 		}
@@ -697,7 +708,7 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		}
 		subA := make([]bool, len(inR))
 		for i, k := range inR {
-			subA[i] = side[nodes[k]] == 1
+			subA[i] = side[b.at(nodes[k], cw)] == 1
 		}
 		// A core's neck comes from a dip in contrast, so a seam along
 		// it is no further evidence: it needs depth, a step in
@@ -714,7 +725,7 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		splits = append(splits, Ncut(g.Subgraph(inR), subA))
 		nr := int32(regions)
 		for k, c := range nodes {
-			if region[k] == r && side[c] == 2 {
+			if region[k] == r && side[b.at(c, cw)] == 2 {
 				region[k] = nr
 			}
 		}
@@ -753,13 +764,14 @@ func shapeWeights(g *affinity.Graph, nodes []int, dist []float64) {
 // zeros when the split leaves no pinch.
 func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) (rel, abs float64) {
 	crop, side := cutSides(nodes, cw*ch, part, inA)
-	d := distanceInside(cropMask(crop, cw*ch), cw, ch)
+	d, b := partDistance(crop, cw)
 	var peak [3]float64
 	saddle := 0.0
 	for _, c := range crop {
-		peak[side[c]] = max(peak[side[c]], d[c])
+		dc := d[b.at(c, cw)]
+		peak[side[c]] = max(peak[side[c]], dc)
 		if onCut(side, cw, ch, c) {
-			saddle = max(saddle, d[c])
+			saddle = max(saddle, dc)
 		}
 	}
 	lo := min(peak[1], peak[2])
@@ -767,6 +779,35 @@ func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) (rel, abs float64)
 		return 0, 0
 	}
 	return (lo - saddle) / (lo - 0.5), lo - saddle
+}
+
+// partBox is the bounding box of a part of an object's crop: its top
+// left corner (x0, y0) in the crop and its size w x h.
+type partBox struct{ x0, y0, w, h int }
+
+// at returns the index in the box of crop pixel c (crop cw wide).
+func (b partBox) at(c, cw int) int { return (c/cw-b.y0)*b.w + c%cw - b.x0 }
+
+// partDistance returns distanceInside of a part (crop pixels of a crop cw
+// wide, at least one) computed on the part's own bounding box, and the
+// box. The distances are those of the part in the whole crop: every pixel
+// outside the box is outside the part, and the nearest outside pixel of a
+// pixel in the box is at least as near on the box's outside frame as
+// beyond it. The work is the box's area, not the crop's, so the tests of
+// the many parts of one re-cut cost in all about the object's area at
+// each level of the cut.
+func partDistance(crop []int, cw int) ([]float64, partBox) {
+	x0, y0, x1, y1 := crop[0]%cw, crop[0]/cw, crop[0]%cw, crop[0]/cw
+	for _, c := range crop {
+		x, y := c%cw, c/cw
+		x0, y0, x1, y1 = min(x0, x), min(y0, y), max(x1, x), max(y1, y)
+	}
+	b := partBox{x0, y0, x1 - x0 + 1, y1 - y0 + 1}
+	mask := make([]bool, b.w*b.h)
+	for _, c := range crop {
+		mask[b.at(c, cw)] = true
+	}
+	return distanceInside(mask, b.w, b.h), b
 }
 
 // cutSides returns the crop pixel of each node of part (indexes of nodes,
@@ -920,8 +961,10 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		for k, v := range part {
 			crop[k] = nodes[v]
 		}
-		if necked && neckDepth(distanceInside(cropMask(crop, cw*ch), cw, ch), cw, ch) >= refineNeck {
-			return false
+		if necked {
+			if d, b := partDistance(crop, cw); neckDepth(d, b.w, b.h) >= refineNeck {
+				return false
+			}
 		}
 		whole := make([]int, len(part))
 		for k, v := range part {
