@@ -569,11 +569,12 @@ func cropMask(crop []int, n int) []bool {
 // more than neckNoise pixels deep (deepestNeck's floor). The distance
 // along the straight ridge of a digitized rod or bar dips by up to a
 // pixel (neckNoise), which on a bar 35 px wide is a relative depth of
-// 0.06, above refineNeck: without the floor nearly every brick of
-// scikit-image's brick.png (solid bars 30-40 px wide) counted as necked
-// and was re-cut whole. A solid object (solidity above refineSolidity)
-// whose necks are all within digitization is taken as single when it is
-// also a bar (barElongation): a blob has no long ridge to dip, and two
+// 0.06, above refineNeck: without the floor 29 of the 76 objects of
+// scikit-image's brick.png (bright background) that were re-cut, solid
+// bricks 30-40 px wide, counted as necked by such dips alone and were cut
+// whole. A solid object (solidity above refineSolidity) whose necks are
+// all within digitization is taken as single when it is also a bar
+// (barElongation): a blob has no long ridge to dip, and two
 // heavily overlapping nuclei can be solid with a neck of less than a
 // pixel yet be parted by a seam or a step in contrast (generated stained
 // scenes, choice seed 13721: object F1 0.925 -> 0.891 when every solid
@@ -585,7 +586,8 @@ func beyondDigitization(d, core []float64, cw, ch int) bool {
 // barElongation is the least elongation (elongation: (L/W)² for a bar of
 // length L and width W) of a bar, at least three times longer than wide:
 // more than any pair of discs reaches (two touching discs have 5), less
-// than the bricks of brick.png (12-16).
+// than the bricks of scikit-image's brick.png that counted as necked
+// (9.3-15.7).
 const barElongation = 9
 
 // refineNeckAlone is the least neck depth at which a region is split at
