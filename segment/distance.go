@@ -144,21 +144,33 @@ type neck struct {
 // pixels deep (absolute depth p - s), with the peak pixels of its two
 // pieces.
 func deepestNeck(d []float64, cw, ch int, floor float64) neck {
-	var order []int
+	return deepestNecks(d, cw, ch, floor)[0]
+}
+
+// deepestNecks is deepestNeck for several floors at once, from one
+// flood.
+func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
+	// The inside pixels with their distance beside them (the sort then
+	// compares values in place instead of looking them up).
+	type pixel struct {
+		d float64
+		i int
+	}
+	var order []pixel
 	for i, v := range d {
 		if v > 0 {
-			order = append(order, i)
+			order = append(order, pixel{v, i})
 		}
 	}
 	// Descending distance, ties by index: deterministic.
-	slices.SortFunc(order, func(a, b int) int {
+	slices.SortFunc(order, func(a, b pixel) int {
 		switch {
-		case d[a] > d[b]:
+		case a.d > b.d:
 			return -1
-		case d[a] < d[b]:
+		case a.d < b.d:
 			return 1
 		}
-		return a - b
+		return a.i - b.i
 	})
 	parent := make(unionfind.Forest, len(d))
 	for i := range parent {
@@ -166,8 +178,12 @@ func deepestNeck(d []float64, cw, ch int, floor float64) neck {
 	}
 	top := make([]int32, len(d)) // root -> its peak pixel
 	find := parent.Find
-	best := neck{peakA: -1, peakB: -1}
-	for _, i := range order {
+	best := make([]neck, len(floors))
+	for f := range best {
+		best[f] = neck{peakA: -1, peakB: -1}
+	}
+	for _, o := range order {
+		i := o.i
 		parent[i] = int32(i)
 		top[i] = int32(i)
 		x, y := i%cw, i/cw
@@ -188,9 +204,12 @@ func deepestNeck(d []float64, cw, ch int, floor float64) neck {
 				// The lower of the two pieces ends here, at saddle d[i].
 				pa, pb := d[top[a]], d[top[b]]
 				lo := min(pa, pb)
-				if p := lo - 0.5; p > 0 && lo-d[i] > floor {
-					if r := (lo - d[i]) / p; r > best.depth {
-						best = neck{depth: r, drop: lo - d[i], peakA: int(top[a]), peakB: int(top[b])}
+				if p := lo - 0.5; p > 0 {
+					r := (lo - d[i]) / p
+					for f, floor := range floors {
+						if lo-d[i] > floor && r > best[f].depth {
+							best[f] = neck{depth: r, drop: lo - d[i], peakA: int(top[a]), peakB: int(top[b])}
+						}
 					}
 				}
 				if pa >= pb {

@@ -158,36 +158,35 @@ type objectCrop struct {
 // them before the cut, and neckPieces again when the cut left the object
 // whole.
 type objectShape struct {
-	mask     []bool
-	smooth   []float32
-	cw, ch   int
-	dist     []float64 // distanceInside of mask
-	distNeck *neck
-	core     []float64 // coreDistance
-	coreNeck *neck
+	mask      []bool
+	smooth    []float32
+	cw, ch    int
+	dist      []float64 // distanceInside of mask
+	distNecks []neck    // deepestNecks of dist, floors 0 and neckNoise
+	core      []float64 // coreDistance
+	coreNecks []neck
 }
 
 // outline returns the object's distance map and its deepest neck
-// (deepestNeck, no floor).
-func (s *objectShape) outline() ([]float64, neck) {
-	if s.distNeck == nil {
-		nk := deepestNeck(s.dist, s.cw, s.ch, 0)
-		s.distNeck = &nk
+// (deepestNeck) with no floor and with the floor neckNoise.
+func (s *objectShape) outline() ([]float64, neck, neck) {
+	if s.distNecks == nil {
+		s.distNecks = deepestNecks(s.dist, s.cw, s.ch, 0, neckNoise)
 	}
-	return s.dist, *s.distNeck
+	return s.dist, s.distNecks[0], s.distNecks[1]
 }
 
 // halfMax returns the distance map of the object's half-maximum core
-// (coreDistance) and its deepest neck.
-func (s *objectShape) halfMax() ([]float64, neck) {
+// (coreDistance) and its deepest neck with no floor and with the floor
+// neckNoise.
+func (s *objectShape) halfMax() ([]float64, neck, neck) {
 	if s.core == nil {
 		s.core = coreDistance(s.smooth, s.mask, s.dist, s.cw, s.ch)
 	}
-	if s.coreNeck == nil {
-		nk := deepestNeck(s.core, s.cw, s.ch, 0)
-		s.coreNeck = &nk
+	if s.coreNecks == nil {
+		s.coreNecks = deepestNecks(s.core, s.cw, s.ch, 0, neckNoise)
 	}
-	return s.core, *s.coreNeck
+	return s.core, s.coreNecks[0], s.coreNecks[1]
 }
 
 // cropNoise estimates the standard deviation of the pixel noise of feat
@@ -563,9 +562,9 @@ func cropMask(crop []int, n int) []bool {
 }
 
 // beyondDigitization reports whether an object has a neck deeper than
-// digitizing a shape leaves: its outline's distance map d a neck of
-// relative depth at least refineNeck, or its half-maximum core's (core,
-// from coreDistance) one of at least refineNeckAlone, among the necks
+// digitizing a shape leaves: its outline's distance map a neck of
+// relative depth at least refineNeck, or its half-maximum core's
+// (coreDistance) one of at least refineNeckAlone, among the necks
 // more than neckNoise pixels deep (deepestNeck's floor). The distance
 // along the straight ridge of a digitized rod or bar dips by up to a
 // pixel (neckNoise), which on a bar 35 px wide is a relative depth of
@@ -579,8 +578,12 @@ func cropMask(crop []int, n int) []bool {
 // pixel yet be parted by a seam or a step in contrast (generated stained
 // scenes, choice seed 13721: object F1 0.925 -> 0.891 when every solid
 // blob was gated).
-func beyondDigitization(d, core []float64, cw, ch int) bool {
-	return deepestNeck(d, cw, ch, neckNoise).depth >= refineNeck || deepestNeck(core, cw, ch, neckNoise).depth >= refineNeckAlone
+func (s *objectShape) beyondDigitization() bool {
+	if _, _, nk := s.outline(); nk.depth >= refineNeck {
+		return true
+	}
+	_, _, nk := s.halfMax()
+	return nk.depth >= refineNeckAlone
 }
 
 // barElongation is the least elongation (elongation: (L/W)² for a bar of
@@ -663,7 +666,7 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		var nk neck
 		if whole {
 			mask = o.whole.mask
-			d, nk = o.whole.outline()
+			d, nk, _ = o.whole.outline()
 		} else {
 			d, b = partDistance(rc, cw)
 			mask = make([]bool, b.w*b.h)
@@ -676,7 +679,7 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		if nk.depth < refineNeckAlone {
 			core = true
 			if whole {
-				d, nk = o.whole.halfMax()
+				d, nk, _ = o.whole.halfMax()
 			} else {
 				sm := make([]float32, b.w*b.h)
 				for _, c := range rc {
@@ -881,20 +884,16 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	dist := distanceInside(mask, cw, ch)
 	shape := &objectShape{mask: mask, smooth: smooth, cw: cw, ch: ch, dist: dist}
 	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape}
-	coreDist := func() []float64 {
-		d, _ := shape.halfMax()
-		return d
-	}
 	// The outline's neck, or the half-maximum core's where a halo hides
 	// it (held to neckPieces' depth, since the core is noisier).
-	_, outlineNeck := shape.outline()
+	_, outlineNeck, _ := shape.outline()
 	necked := necks && outlineNeck.depth >= refineNeck
 	if necks && !necked {
-		_, coreNeck := shape.halfMax()
+		_, coreNeck, _ := shape.halfMax()
 		necked = coreNeck.depth >= refineNeckAlone
 	}
 	solid := solidity(px, w) > refineSolidity
-	if necked && solid && elongation(px, w) >= barElongation && !beyondDigitization(dist, coreDist(), cw, ch) {
+	if necked && solid && elongation(px, w) >= barElongation && !shape.beyondDigitization() {
 		necked = false
 	}
 	if !necked && solid {

@@ -726,7 +726,8 @@ func TestBeyondDigitization(t *testing.T) {
 		if !c.want && deepestNeck(d, c.w, c.h, 0).depth >= refineNeck {
 			unfloored++ // necked by refineNeck alone
 		}
-		if got := beyondDigitization(d, coreDistance(smooth, mask, d, c.w, c.h), c.w, c.h); got != c.want {
+		shape := &objectShape{mask: mask, smooth: smooth, cw: c.w, ch: c.h, dist: d}
+		if got := shape.beyondDigitization(); got != c.want {
 			t.Errorf("%s: beyondDigitization %v, want %v (deepest neck %+v)", c.name, got, c.want, deepestNeck(d, c.w, c.h, 0))
 		}
 	}
