@@ -128,7 +128,7 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 	}
 	n := w * h
 	st := newStencil(w, h, p.Radius, p.SigmaX)
-	invI2 := math.Min(math.Max(1/(p.SigmaI*p.SigmaI), 1e-30), 1e30)
+	invI2 := invSigma2(p.SigmaI)
 
 	// Structural row pointers: every in-image stencil neighbour.
 	rowPtr := make([]int, n+1)
@@ -161,6 +161,13 @@ func PixelGraph(f [][]float32, w, h int, p PixelParams, workers int) (*Graph, er
 		compactRows(g, kept)
 	}
 	return g, nil
+}
+
+// invSigma2 is 1/σ² clamped to [1e-30, 1e30], so that no product with
+// it can be NaN (PixelGraph's doc comment says why that changes no
+// stored weight).
+func invSigma2(sigma float64) float64 {
+	return math.Min(math.Max(1/(sigma*sigma), 1e-30), 1e30)
 }
 
 // fillPixelRows writes the kept entries of the pixels in image row y at

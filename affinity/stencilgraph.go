@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"fmt"
 	"io"
-	"math"
 	"strconv"
 	"strings"
 
@@ -88,7 +87,7 @@ func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*St
 		return nil, fmt.Errorf("affinity: internal error: stencil of %d offsets listed as %d", K, len(sg.dx))
 	}
 	half := K / 2 // offsets half.. are the forward ones; K-1-f mirrors f
-	invI2 := math.Min(math.Max(1/(p.SigmaI*p.SigmaI), 1e-30), 1e30)
+	invI2 := invSigma2(p.SigmaI)
 	sg.weight = make([]float32, K*n)
 
 	const rowsPerChunk = 4

@@ -114,38 +114,58 @@ func Smallest(g *affinity.Graph, k int, opt Options) (*Result, error) {
 // coarsening checks ctx before each level and LOBPCG before each step,
 // and ctx's error is returned with no result.
 func SmallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options) (*Result, error) {
-	limit := denseMax
+	return smallestContext(ctx, g, k, opt, denseLimit(opt))
+}
+
+// denseLimit is the dense crossover for opt's residual target: denseMax,
+// or denseMaxLoose at loose targets.
+func denseLimit(opt Options) int {
 	if opt.Tol >= looseTol {
-		limit = denseMaxLoose
+		return denseMaxLoose
 	}
-	return smallestContext(ctx, g, k, opt, limit)
+	return denseMax
 }
 
-// smallest is Smallest with the dense crossover as a parameter.
-func smallest(g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, error) {
-	return smallestContext(context.Background(), g, k, opt, denseLimit)
+// resolved returns opt with the defaults in place of a zero Tol and
+// MaxIter, or an error for a tolerance that is not positive and finite or
+// a negative MaxIter.
+func (opt Options) resolved() (Options, error) {
+	tol := opt.Tol
+	if tol == 0 {
+		tol = DefaultTol
+	}
+	if !(tol > 0) || math.IsInf(tol, 0) {
+		return opt, fmt.Errorf("eigen: tolerance %v must be positive and finite", opt.Tol)
+	}
+	if opt.MaxIter < 0 {
+		return opt, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
+	}
+	if opt.MaxIter == 0 {
+		opt.MaxIter = DefaultMaxIter
+	}
+	opt.Tol = tol
+	return opt, nil
 }
 
-// smallestContext is SmallestContext with the dense crossover as a
+// smallest is Smallest with the dense crossover limit as a parameter.
+func smallest(g *affinity.Graph, k int, opt Options, limit int) (*Result, error) {
+	return smallestContext(context.Background(), g, k, opt, limit)
+}
+
+// smallestContext is SmallestContext with the dense crossover limit as a
 // parameter.
-func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options, denseLimit int) (*Result, error) {
+func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options, limit int) (*Result, error) {
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	if err := check(g, k); err != nil {
 		return nil, err
 	}
-	tol := opt.Tol
-	if tol == 0 {
-		tol = DefaultTol
+	opt, err := opt.resolved()
+	if err != nil {
+		return nil, err
 	}
-	if !(tol > 0) || math.IsInf(tol, 0) {
-		return nil, fmt.Errorf("eigen: tolerance %v must be positive and finite", opt.Tol)
-	}
-	if opt.MaxIter < 0 {
-		return nil, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
-	}
-	return solve(ctx, newLevel(g.N, g.RowPtr, g.Col, g.Weight), k, opt, denseLimit)
+	return solve(ctx, newLevel(g.N, g.RowPtr, g.Col, g.Weight), k, opt, limit)
 }
 
 // SmallestStencil is SmallestContext on the pixel graph in stencil form
@@ -169,29 +189,18 @@ func SmallestStencil(ctx context.Context, g *affinity.StencilGraph, k int, opt O
 	if k < 1 || k > n {
 		return nil, fmt.Errorf("eigen: k = %d out of range 1..%d (number of nodes)", k, n)
 	}
-	limit := denseMax
-	if opt.Tol >= looseTol {
-		limit = denseMaxLoose
+	limit := denseLimit(opt)
+	opt, err := opt.resolved()
+	if err != nil {
+		return nil, err
 	}
 	return solve(ctx, newStencilLevel(g, parallel.Workers(opt.Workers)), k, opt, limit)
 }
 
-// solve is the solver behind both entry points, on the input level lv0.
-func solve(ctx context.Context, lv0 *level, k int, opt Options, denseLimit int) (*Result, error) {
-	tol := opt.Tol
-	if tol == 0 {
-		tol = DefaultTol
-	}
-	if !(tol > 0) || math.IsInf(tol, 0) {
-		return nil, fmt.Errorf("eigen: tolerance %v must be positive and finite", opt.Tol)
-	}
-	if opt.MaxIter < 0 {
-		return nil, fmt.Errorf("eigen: MaxIter %d must not be negative", opt.MaxIter)
-	}
-	maxIter := opt.MaxIter
-	if maxIter == 0 {
-		maxIter = DefaultMaxIter
-	}
+// solve is the solver behind both entry points, on the input level lv0;
+// opt is resolved (Options.resolved).
+func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Result, error) {
+	tol, maxIter := opt.Tol, opt.MaxIter
 	workers := parallel.Workers(opt.Workers)
 	for i, d := range lv0.deg {
 		if !(d > 0) || math.IsInf(d, 0) {
@@ -222,7 +231,7 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, denseLimit int) 
 	// fit in the complement of z0; beyond that, solve densely.
 	m := blockSize(want)
 	pl.unit = n * max(m, k)
-	if n <= denseLimit || 3*m >= n-1 || want == 0 {
+	if n <= limit || 3*m >= n-1 || want == 0 {
 		if want > 0 {
 			v, z, err := denseLevel(lv0, want)
 			if err != nil {

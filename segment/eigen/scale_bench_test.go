@@ -122,27 +122,35 @@ func BenchmarkSmallestPixelScaled(b *testing.B) {
 	for _, f := range []int{1, 2, 3, 4, 6} {
 		b.Run(fmt.Sprintf("x%d", f), func(b *testing.B) {
 			g := coinsScaled(b, f)
-			b.ResetTimer()
-			var peak uint64
-			steps := 0
-			for i := 0; i < b.N; i++ {
-				b.StopTimer()
-				runtime.GC()
-				stop := heapPeak()
-				b.StartTimer()
-				r, err := Smallest(g, 6, Options{})
-				b.StopTimer()
-				peak = max(peak, stop())
-				b.StartTimer()
-				if err != nil {
-					b.Fatal(err)
-				}
-				steps = r.Iterations
-			}
-			b.ReportMetric(float64(g.N), "nodes")
-			b.ReportMetric(float64(steps), "steps")
-			b.ReportMetric(float64(peak)/(1<<20), "peak-heap-MiB")
-			b.ReportMetric(float64(peak)/float64(g.N), "peak-heap-B/node")
+			benchSolve(b, g.N, func() (*Result, error) { return Smallest(g, 6, Options{}) })
 		})
 	}
+}
+
+// benchSolve times solve b.N times on a graph of the given nodes, a
+// collection before each run, and reports the LOBPCG steps of the last
+// run and the peak of the live heap (sampled by heapPeak) in MiB and per
+// node.
+func benchSolve(b *testing.B, nodes int, solve func() (*Result, error)) {
+	b.ResetTimer()
+	var peak uint64
+	steps := 0
+	for i := 0; i < b.N; i++ {
+		b.StopTimer()
+		runtime.GC()
+		stop := heapPeak()
+		b.StartTimer()
+		r, err := solve()
+		b.StopTimer()
+		peak = max(peak, stop())
+		b.StartTimer()
+		if err != nil {
+			b.Fatal(err)
+		}
+		steps = r.Iterations
+	}
+	b.ReportMetric(float64(nodes), "nodes")
+	b.ReportMetric(float64(steps), "steps")
+	b.ReportMetric(float64(peak)/(1<<20), "peak-heap-MiB")
+	b.ReportMetric(float64(peak)/float64(nodes), "peak-heap-B/node")
 }

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -253,27 +252,7 @@ func BenchmarkSmallestStencilScaled(b *testing.B) {
 	for _, f := range []int{1, 2, 3, 4, 6} {
 		b.Run(fmt.Sprintf("x%d", f), func(b *testing.B) {
 			g := coinsScaledStencil(b, f)
-			b.ResetTimer()
-			var peak uint64
-			steps := 0
-			for i := 0; i < b.N; i++ {
-				b.StopTimer()
-				runtime.GC()
-				stop := heapPeak()
-				b.StartTimer()
-				r, err := SmallestStencil(context.Background(), g, 6, Options{})
-				b.StopTimer()
-				peak = max(peak, stop())
-				b.StartTimer()
-				if err != nil {
-					b.Fatal(err)
-				}
-				steps = r.Iterations
-			}
-			b.ReportMetric(float64(g.Nodes()), "nodes")
-			b.ReportMetric(float64(steps), "steps")
-			b.ReportMetric(float64(peak)/(1<<20), "peak-heap-MiB")
-			b.ReportMetric(float64(peak)/float64(g.Nodes()), "peak-heap-B/node")
+			benchSolve(b, g.Nodes(), func() (*Result, error) { return SmallestStencil(context.Background(), g, 6, Options{}) })
 		})
 	}
 }
