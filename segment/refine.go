@@ -981,6 +981,9 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	if necked {
 		region, regions, splits = neckPieces(sub, obj, smooth, region, regions, splits, minPart)
 	}
+	if necks {
+		region, regions, splits = peakPieces(sub, obj, region, regions, splits, minPart)
+	}
 	return refineResult{region: region, regions: regions, splits: splits, short: cut.short}
 }
 

@@ -745,3 +745,54 @@ func bar(cx, cy, th, l, r float64) func(x, y float64) bool {
 		return math.Abs(px*dx+py*dy) <= l && math.Abs(-px*dy+py*dx) <= r
 	}
 }
+
+// Small spots pressed together (puncta of radius 3 px, blurred, joined
+// by their halos) are split at the dip between their maxima
+// (peakPieces); a single spot, and a short thin rod whose contrast
+// ripples by 5 % along it, stay whole. The spots are drawn here as
+// Gaussians of σ = 1.5 px (a disc of radius 3 blurred); the expected
+// counts are the rule's definition.
+func TestRefineSmallSpots(t *testing.T) {
+	type spot struct{ x, y, peak float64 }
+	run := func(name string, want int, value func(x, y float64) float64) {
+		t.Helper()
+		const w, h = 40, 30
+		rng := rand.New(rand.NewPCG(8, 13))
+		con := make([]float64, w*h)
+		labels := make([]int32, w*h)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				if v := value(float64(x), float64(y)); v > 0.3 {
+					labels[y*w+x] = 1
+					con[y*w+x] = v + 0.02*rng.NormFloat64()
+				}
+			}
+		}
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 5, true, 1, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if ref.n != want {
+			t.Errorf("%s: %d objects, want %d", name, ref.n, want)
+		}
+	}
+	spots := func(s ...spot) func(x, y float64) float64 {
+		return func(x, y float64) float64 {
+			v := 0.0
+			for _, p := range s {
+				v += p.peak * math.Exp(-((x-p.x)*(x-p.x)+(y-p.y)*(y-p.y))/(2*1.5*1.5))
+			}
+			return v
+		}
+	}
+	run("two equal spots 5 px apart", 2, spots(spot{17, 15, 1}, spot{22, 15, 1}))
+	run("bright and dim spot 5.5 px apart", 2, spots(spot{17, 15, 1}, spot{22.5, 15, 0.6}))
+	run("three spots in a row", 3, spots(spot{12, 15, 1}, spot{17.5, 15, 0.8}, spot{23, 15, 1}))
+	run("one spot", 1, spots(spot{20, 15, 1}))
+	run("thin rod rippling 5 %", 1, func(x, y float64) float64 {
+		if x < 8 || x > 32 || math.Abs(y-15) > 2.5 {
+			return 0
+		}
+		return 0.8 * (1 + 0.05*math.Sin(x))
+	})
+}
