@@ -2,6 +2,7 @@ package segment
 
 import (
 	"encoding/json"
+	"math"
 	"math/rand/v2"
 	"os/exec"
 	"path/filepath"
@@ -117,4 +118,104 @@ func TestBasinsSkimage(t *testing.T) {
 			t.Errorf("image %d (%dx%d, h %.1f): %d basins, skimage %d h-maxima", k, images[k].W, images[k].H, images[k].Hgt, n, res.Maxima[k])
 		}
 	}
+}
+
+// TestLogFilter compares logFilter with -σ² times
+// scipy.ndimage.gaussian_laplace (zero padding, truncated at 3σ; Debian's
+// python3-scipy, testdata/peaks/log_check.py) on a random crop, and its
+// noise gain with the standard deviation of the filtered white noise
+// measured on a large field.
+func TestLogFilter(t *testing.T) {
+	const w, h = 23, 17
+	rng := rand.New(rand.NewPCG(5, 6))
+	f := make([]float32, w*h)
+	for i := range f {
+		f[i] = float32(rng.Float64())
+	}
+	for _, sigma := range []float64{0.9, 1.5, 2} {
+		got, _ := logFilter(f, w, h, sigma)
+		const py = "/usr/bin/python3"
+		if err := exec.Command(py, "-c", "import scipy.ndimage").Run(); err != nil {
+			loudskip.Skip(t, "Debian python3-scipy not installed (apt-get install -y python3-scipy); logFilter cross-check did not run")
+		}
+		in, _ := json.Marshal(map[string]any{"w": w, "h": h, "v": f, "sigma": sigma})
+		cmd := exec.Command(py, filepath.Join("..", "testdata", "peaks", "log_check.py"))
+		cmd.Stdin = strings.NewReader(string(in))
+		out, err := cmd.Output()
+		if err != nil {
+			t.Fatal(err)
+		}
+		var res struct{ Log []float64 }
+		if err := json.Unmarshal(out, &res); err != nil || len(res.Log) != len(got) {
+			t.Fatalf("log_check.py output %q: %v", out, err)
+		}
+		for i, want := range res.Log {
+			if math.Abs(float64(got[i])-want) > 1e-5 {
+				t.Fatalf("σ %g pixel %d: %g, scipy %g", sigma, i, got[i], want)
+			}
+		}
+	}
+	// Noise gain: white noise of standard deviation 1 on a 200 x 200
+	// field, inner pixels only (no padding effects).
+	const n = 200
+	noise := make([]float32, n*n)
+	for i := range noise {
+		noise[i] = float32(rng.NormFloat64())
+	}
+	out, gain := logFilter(noise, n, n, 1.5)
+	var s2 float64
+	var m int
+	for y := 10; y < n-10; y++ {
+		for x := 10; x < n-10; x++ {
+			s2 += float64(out[y*n+x]) * float64(out[y*n+x])
+			m++
+		}
+	}
+	if sd := math.Sqrt(s2 / float64(m)); math.Abs(sd-gain) > 0.05*gain {
+		t.Errorf("filtered noise sd %.4f, gain %.4f", sd, gain)
+	}
+}
+
+// TestShoulderBasins runs the Laplacian-of-Gaussian fallback on its own:
+// a dim spot (peak 0.45) 5 px beside a bright one (Gaussians of σ = 1.5
+// px, the object drawn above 0.3) is parted from it; a dumbbell of two
+// equal discs of even contrast, whose filtered outline also has two
+// maxima, is not (its sides do not differ in contrast, objectCrop.differ).
+// Expected outcomes are the function's definition.
+func TestShoulderBasins(t *testing.T) {
+	const w, h = 24, 16
+	run := func(name string, want int, value func(x, y float64) float64) {
+		t.Helper()
+		rng := rand.New(rand.NewPCG(8, 13))
+		feat := make([]float32, w*h)
+		var nodes []int
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				if v := value(float64(x), float64(y)); v > 0.3 {
+					feat[y*w+x] = float32(v + 0.01*rng.NormFloat64())
+					nodes = append(nodes, y*w+x)
+				}
+			}
+		}
+		o := &objectCrop{feat: feat, cw: w, ch: h, nodes: nodes, noise: 0.01}
+		inR := make([]int, len(nodes))
+		for k := range inR {
+			inR[k] = k
+		}
+		d, b := partDistance(nodes, w)
+		if _, n := shoulderBasins(o, nodes, inR, d, b, 5); n != want {
+			t.Errorf("%s: %d basins, want %d", name, n, want)
+		}
+	}
+	gauss := func(x, y, cx, cy float64) float64 {
+		return math.Exp(-((x-cx)*(x-cx) + (y-cy)*(y-cy)) / (2 * 1.5 * 1.5))
+	}
+	run("dim spot beside a bright one", 2, func(x, y float64) float64 { return gauss(x, y, 9, 8) + 0.45*gauss(x, y, 14, 8) })
+	run("one spot", 1, func(x, y float64) float64 { return gauss(x, y, 11, 8) })
+	run("even dumbbell", 1, func(x, y float64) float64 {
+		if math.Hypot(x-8, y-8) <= 3.2 || math.Hypot(x-15, y-8) <= 3.2 || (x >= 8 && x <= 15 && math.Abs(y-8) <= 1) {
+			return 0.8
+		}
+		return 0
+	})
 }
