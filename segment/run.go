@@ -698,6 +698,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		res.Labels.Pix, res.NumObjects = packedObjects(in.Luminance, regions, nreg, max(p.MinArea, 1), p.Workers)
 		stage("objects")
 	}
+	objectClassPixels := 0 // pixels outside the background class, when objects are sought
 	if p.Classes >= 2 {
 		// The object scale is estimated only if the class grouping needs
 		// the background mesh, and not again when the automatic
@@ -779,6 +780,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			for i, r := range reg {
 				res.Classes.Pix[i] = cls[r]
+				if cls[r] != bg {
+					objectClassPixels++
+				}
 			}
 			obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
 			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1))
@@ -812,7 +816,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		res.Warnings = append(res.Warnings, noSplitWarning(p, cut.root, flat))
 	}
 	if !flat { // a blank image has nothing else to say
-		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects)...)
+		res.Warnings = append(res.Warnings, objectWarnings(p, res.Labels, res.NumObjects, objectClassPixels)...)
 	}
 	if w := short.warning(); w != nil {
 		res.Warnings = append(res.Warnings, *w)

@@ -122,16 +122,22 @@ func noSplitWarning(p Params, r rootSplit, flat bool) Warning {
 
 // objectWarnings checks the objects of a label map (1..n on background 0):
 // none at all, or one covering more than oneObjectShare of the image.
-func objectWarnings(p Params, objects labelmap.Map, n int) []Warning {
+// classPixels is the number of pixels the classes put outside the
+// background class: with none, no region looked like an object; with
+// some and still no object, the pieces were too small or were taken for
+// shading.
+func objectWarnings(p Params, objects labelmap.Map, n, classPixels int) []Warning {
 	labels := objects.Pix
 	if p.Background == "" {
 		return nil
 	}
 	if n == 0 {
 		w := Warning{Code: WarnNoObjects}
-		switch p.Background {
-		case BackgroundLines:
+		switch {
+		case p.Background == BackgroundLines:
 			w.Message = "no objects found: no closed network of thin dark or bright lines separates the field into pieces; packed objects separated by wider gaps may segment better with \x60classes\x60 2 and a \x60background\x60 of dark or bright"
+		case classPixels > 0:
+			w.Message = fmt.Sprintf("no objects found: %d pixels fell outside the %s background class, but in pieces smaller than \x60min-area\x60 (%d pixels) or with no edge on their outline (taken for shading); for small objects lower \x60min-area\x60", classPixels, p.Background, max(p.MinArea, 1))
 		default:
 			other := BackgroundDark
 			if p.Background == BackgroundDark {

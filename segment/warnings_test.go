@@ -50,10 +50,22 @@ func ramp(w, h int) Input {
 	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
 }
 
+// stripes alternates rows of 0.2 and 0.8 (noise of standard deviation
+// 0.01): bright objects one row high, each w pixels.
+func stripes(w, h int) Input {
+	rng := rand.New(rand.NewPCG(8, 8))
+	f := make([]float32, w*h)
+	for i := range f {
+		f[i] = float32(0.2 + 0.6*float64(i/w%2) + 0.01*rng.NormFloat64())
+	}
+	return Input{Width: w, Height: h, Planes: [][]float32{f}, Luminance: f}
+}
+
 // Each situation a user must be told about gets its warning, and a clean
 // result gets none. The situations are constructed so the outcome is
 // known: no split of a ramp has Ncut 1e-9, a ramp has no object
-// brighter than its surroundings, a disc of radius 0.45 w covers
+// brighter than its surroundings, rows one pixel high are smaller than a
+// min-area of 60, a disc of radius 0.45 w covers
 // 64% of the image, a bright disc taken with background bright leaves the
 // dark surroundings as one object over the whole field, and the discs of
 // discs() are a plain success.
@@ -70,6 +82,7 @@ func TestRunWarnings(t *testing.T) {
 		{"one big disc", noiseWithDisc(96, 96, 0.02, 0.45, 3), func(p *Params) { p.Classes, p.Background = 2, BackgroundDark }, []string{WarnOneObject}},
 		{"wrong polarity", noiseWithDisc(96, 96, 0.02, 0.2, 4), func(p *Params) { p.Classes, p.Background = 2, BackgroundBright }, []string{WarnOneObject}},
 		{"ramp as objects", ramp(80, 80), func(p *Params) { p.Classes, p.Background = 2, BackgroundDark }, []string{WarnNoObjects}},
+		{"objects under min-area", stripes(40, 40), func(p *Params) { p.Classes, p.Background, p.MinArea = 2, BackgroundDark, 60 }, []string{WarnNoObjects}},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			p := defaultParams()
@@ -83,6 +96,12 @@ func TestRunWarnings(t *testing.T) {
 				t.Fatalf("warnings %v, want %v (regions %d, objects %d): %+v", got, c.want, res.NumRegions, res.NumObjects, res.Warnings)
 			}
 			for _, w := range res.Warnings {
+				// The bright rows are found but every one is smaller
+				// than min-area: the message says so, not that every
+				// region was background.
+				if c.name == "objects under min-area" && !strings.Contains(w.Message, "800 pixels fell outside the dark background class") {
+					t.Errorf("%s: %s", w.Code, w.Message)
+				}
 				if w.Message == "" {
 					t.Errorf("%s: empty message", w.Code)
 				}
