@@ -120,9 +120,11 @@ const peakRadius = 2 * refineRadius
 // peakPieces splits each region of one object's cut (region, regions as
 // refineOne has them; nil for one region) whose distance map peaks at
 // most peakRadius into the basins of its significant maxima (basins) of
-// the 3x3 mean of the scaled contrast: a maximum counts when its dynamic
-// exceeds seamSigmas standard deviations of that mean (o.noise/3 for
-// white noise) and refineStep of its height (the relative step differ
+// the scaled contrast's 3x3 mean over the region (maskedMean3), or failing
+// that of its Laplacian of Gaussian (shoulderBasins): a maximum counts
+// when its dynamic exceeds seamSigmas standard deviations of that mean
+// (o.noise/3 for white noise, away from the region's edge) and refineStep
+// of its height (the relative step differ
 // asks of two sides), and each basin keeps minPart pixels. Small spots
 // pressed together (puncta, fine particles) show one bright maximum
 // each with a dip between them, which is what a seam is at that scale.
@@ -164,7 +166,7 @@ func peakPieces(g *affinity.Graph, o *objectCrop, region []int32, regions int, s
 			// A dim spot on the flank of a bright one has no maximum
 			// of its own; the band-pass of a Laplacian of Gaussian
 			// gives it one (blob detection, Lindeberg 1998).
-			lab, n = shoulderBasins(o, rc, inR, d, b, minPart)
+			lab, n = shoulderBasins(o, rc, inR, mask, d, b, minPart)
 		}
 		if n < 2 {
 			continue
@@ -250,8 +252,8 @@ func allCompact(area []int, peak []float64) bool {
 }
 
 // shoulderBasins partitions a small region of an object's cut (crop
-// pixels rc, node indices inR, its distance map d on box b, as in
-// peakPieces) into the basins of the significant maxima of the scaled
+// pixels rc, node indices inR, its mask and distance map d on box b, as
+// in peakPieces) into the basins of the significant maxima of the scaled
 // contrast's scale-normalized Laplacian of Gaussian, -σ²∇²(G_σ * f), at
 // σ = half the region's inscribed radius, so that a lobe about as wide as
 // the region's widest gives an extremum of its own (the response peaks
@@ -265,15 +267,13 @@ func allCompact(area []int, peak []float64) bool {
 // standard deviations of the filtered noise (o.noise times the kernel's
 // L2 norm) and refineStep of the peak. It returns the basins as basins
 // does, or n < 2 for no split.
-func shoulderBasins(o *objectCrop, rc, inR []int, d []float64, b partBox, minPart int) ([]int32, int) {
+func shoulderBasins(o *objectCrop, rc, inR []int, mask []bool, d []float64, b partBox, minPart int) ([]int32, int) {
 	cw := o.cw
+	// The whole object's contrast on the box: the filter sees the
+	// neighbouring regions of the cut, not a hole where they are.
 	f := make([]float32, b.w*b.h)
 	for y := 0; y < b.h; y++ {
 		copy(f[y*b.w:(y+1)*b.w], o.feat[(y+b.y0)*cw+b.x0:(y+b.y0)*cw+b.x0+b.w])
-	}
-	mask := make([]bool, b.w*b.h)
-	for _, c := range rc {
-		mask[b.at(c, cw)] = true
 	}
 	v, gain := logFilter(f, b.w, b.h, slices.Max(d)/2)
 	lab, n := basins(v, mask, b.w, b.h, float32(seamSigmas*o.noise*gain), refineStep, minPart)
@@ -291,9 +291,9 @@ func shoulderBasins(o *objectCrop, rc, inR []int, d []float64, b partBox, minPar
 
 // logFilter returns the scale-normalized Laplacian of Gaussian
 // -σ²∇²(G_σ * f) of a w x h crop (0 beyond it; separable sampled kernels
-// G_σ and its second derivative, truncated at 3σ as scipy.ndimage does) and its noise gain: the
-// L2 norm of the 2-D kernel, the factor that takes the standard deviation
-// of white noise in f to that of the output.
+// G_σ and its second derivative, truncated at 3σ as scipy.ndimage does)
+// and its noise gain: the L2 norm of the 2-D kernel, the factor that
+// takes the standard deviation of white noise in f to that of the output.
 func logFilter(f []float32, w, h int, sigma float64) ([]float32, float64) {
 	r := int(3*sigma + 0.5) // as scipy.ndimage truncates at 3σ
 	n := 2*r + 1

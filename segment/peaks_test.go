@@ -203,7 +203,11 @@ func TestShoulderBasins(t *testing.T) {
 			inR[k] = k
 		}
 		d, b := partDistance(nodes, w)
-		if _, n := shoulderBasins(o, nodes, inR, d, b, 5); n != want {
+		mask := make([]bool, b.w*b.h)
+		for _, c := range nodes {
+			mask[b.at(c, w)] = true
+		}
+		if _, n := shoulderBasins(o, nodes, inR, mask, d, b, 5); n != want {
 			t.Errorf("%s: %d basins, want %d", name, n, want)
 		}
 	}
