@@ -305,8 +305,10 @@ func noiseCV(lum, field []float32, ref []bool) (c float64, ok bool) {
 
 // kthSmallest returns the k-th smallest value of v (0-based), reordering
 // v: Hoare's selection (quickselect) with the median of three as pivot,
-// linear time on average, the same value a full sort would give.
-func kthSmallest(v []float64, k int) float64 {
+// linear time on average, the same value a full sort would give. On
+// float32 values it selects the element it would select on their float64
+// conversions (exact, and in the same order).
+func kthSmallest[T float32 | float64](v []T, k int) T {
 	lo, hi := 0, len(v)-1
 	for lo < hi {
 		mid := lo + (hi-lo)/2

@@ -68,14 +68,14 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 	seamCnt := map[uint64]float64{}
 	add := func(i, j int) {
 		a, b := reg[i], reg[j]
-		if a == b || cls[a] == bgClass || cls[b] == bgClass {
+		if cls[a] == bgClass || cls[b] == bgClass {
 			return
 		}
 		k := pairKey(a, b)
 		seamSum[k] += con[i] + con[j]
 		seamCnt[k] += 2
 	}
-	affinity.AdjacentPairs(w, h, add)
+	adjacentDiffering(reg, w, h, add)
 	// Union the regions whose shared boundary is not a seam.
 	f := unionfind.New(n)
 	for k, s := range seamSum {
@@ -86,61 +86,105 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 		}
 		f.Union(a, b)
 	}
+	root := make([]int32, n)
+	for r := range root {
+		root[r] = f.Find(int32(r))
+	}
 	group := make([]int32, len(reg))
 	for i, r := range reg {
 		if cls[r] == bgClass {
 			group[i] = -1
 		} else {
-			group[i] = f.Find(r)
+			group[i] = root[r]
 		}
 	}
 	return componentsOfGroups(group, w, h, minArea)
 }
 
+// adjacentDiffering calls f(i, j) for the pairs of 4-adjacent pixels of
+// lab (w x h) with different values, in the order of
+// affinity.AdjacentPairs (raster order of i, the right neighbour before
+// the one below), so that sums gathered over the pairs are the same to
+// the last bit; pairs of equal values, most of an image, cost no call.
+func adjacentDiffering(lab []int32, w, h int, f func(i, j int)) {
+	for y := 0; y < h; y++ {
+		row := lab[y*w : (y+1)*w]
+		var below []int32
+		if y+1 < h {
+			below = lab[(y+1)*w : (y+2)*w]
+		}
+		for x, a := range row {
+			if x+1 < w && row[x+1] != a {
+				f(y*w+x, y*w+x+1)
+			}
+			if below != nil && below[x] != a {
+				f(y*w+x, (y+1)*w+x)
+			}
+		}
+	}
+}
+
 // componentsOfGroups labels the 4-connected pieces of pixels sharing the
 // same group (group < 0 is background) as 1..N in raster order; pieces under
-// minArea pixels become background.
+// minArea pixels become background. One flood a piece gives each pixel
+// its piece, numbered in raster order of the piece's first pixel, and
+// the pieces' sizes; a second pass renumbers the kept pieces in place.
 func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 	lab := make([]int32, len(group))
 	for i := range lab {
 		lab[i] = -1
 	}
-	stack := make([]int, 0, 256)
-	var pieces [][]int
-	for s := range group {
-		if group[s] < 0 || lab[s] >= 0 {
+	stack := make([]int32, 0, 256)
+	var size []int32
+	for s, g := range group {
+		if g < 0 || lab[s] >= 0 {
 			continue
 		}
-		id := int32(len(pieces))
-		g := group[s]
+		id := int32(len(size))
 		lab[s] = id
-		stack = append(stack[:0], s)
-		var members []int
+		stack = append(stack[:0], int32(s))
+		var count int32
 		for len(stack) > 0 {
-			i := stack[len(stack)-1]
+			i := int(stack[len(stack)-1])
 			stack = stack[:len(stack)-1]
-			members = append(members, i)
-			neighbours4(i, w, h, func(j int) {
-				if group[j] == g && lab[j] < 0 {
-					lab[j] = id
-					stack = append(stack, j)
-				}
-			})
+			count++
+			x := i % w
+			if x > 0 && group[i-1] == g && lab[i-1] < 0 {
+				lab[i-1] = id
+				stack = append(stack, int32(i-1))
+			}
+			if x+1 < w && group[i+1] == g && lab[i+1] < 0 {
+				lab[i+1] = id
+				stack = append(stack, int32(i+1))
+			}
+			if i >= w && group[i-w] == g && lab[i-w] < 0 {
+				lab[i-w] = id
+				stack = append(stack, int32(i-w))
+			}
+			if i+w < len(group) && group[i+w] == g && lab[i+w] < 0 {
+				lab[i+w] = id
+				stack = append(stack, int32(i+w))
+			}
 		}
-		pieces = append(pieces, members)
+		size = append(size, count)
 	}
-	out := make([]int32, len(group))
-	n := 0
-	for _, m := range pieces { // pieces are already in raster order of their first pixel
-		if len(m) < minArea {
-			continue
-		}
-		n++
-		for _, i := range m {
-			out[i] = int32(n)
+	// Pieces are already in raster order of their first pixel.
+	num := make([]int32, len(size))
+	n := int32(0)
+	for id, c := range size {
+		if int(c) >= minArea {
+			n++
+			num[id] = n
 		}
 	}
-	return out, n
+	for i, l := range lab {
+		if l < 0 {
+			lab[i] = 0
+		} else {
+			lab[i] = num[l]
+		}
+	}
+	return lab, int(n)
 }
 
 // Boundary tightening constants: an object's outline is redrawn where its
@@ -165,33 +209,48 @@ const (
 // or above it within tightenReach pixels (chessboard distance), where
 // earlier labels win contested pixels. A dim seam below the level splits
 // a touching pair. The pieces are then relabelled 1..N in raster order;
-// pieces under minArea pixels go to the background.
-func tightenObjects(con []float64, objects labelmap.Map, n, minArea int) ([]int32, int) {
+// pieces under minArea pixels go to the background. The smoothing and
+// the objects' levels run on workers goroutines (workers < 1:
+// GOMAXPROCS); the result does not depend on their number.
+func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	c32 := make([]float32, len(con))
-	for i, v := range con {
-		c32[i] = float32(v)
-	}
-	sm := boxMean3(c32, w, h)
-	boxes, pixels := objectPixels(labels, w, h, n)
-	vals := make([][]float32, n+1)
-	for l, px := range pixels {
-		for _, i := range px {
-			vals[l] = append(vals[l], sm[i])
+	parallel.Blocks(len(con), 1<<16, workers, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			c32[i] = float32(con[i])
 		}
-	}
+	})
+	sm := boxMean3Workers(c32, w, h, workers)
+	c32 = nil
+	boxes, pixels := objectPixels(labels, w, h, n)
+	// Each object's median and outline level from its own values, on
+	// workers goroutines; the outlines are then drawn in label order,
+	// since earlier labels win contested pixels.
+	median := make([]float32, n) // of group l-1
+	level := make([]float32, n+1)
+	parallel.For(n, workers, func(k int) {
+		l := k + 1
+		px := pixels[l]
+		if len(px) == 0 {
+			return
+		}
+		vals := make([]float32, len(px))
+		for q, i := range px {
+			vals[q] = sm[i]
+		}
+		slices.Sort(vals)
+		median[l-1] = vals[(len(vals)-1)/2]
+		level[l] = halfMaxLevel(vals)
+	})
 	group := make([]int32, len(labels))
 	for i, l := range labels {
 		group[i] = l - 1 // -1: background
 	}
-	median := make([]float32, n) // of group l-1
 	for l := 1; l <= n; l++ {
-		if len(vals[l]) == 0 {
+		if len(pixels[l]) == 0 {
 			continue
 		}
-		slices.Sort(vals[l])
-		median[l-1] = vals[l][(len(vals[l])-1)/2]
-		level := halfMaxLevel(vals[l])
+		level := level[l]
 		b := boxes[l]
 		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
 		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
@@ -318,7 +377,9 @@ func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) (
 // fillHoles gives every background piece (group < 0, 4-connected) that
 // does not reach the image border and borders a single group to that
 // group: the holes a contrast level leaves in grainy or unevenly lit
-// objects. Filled masks are common practice for counted objects.
+// objects. Filled masks are common practice for counted objects. A
+// filled piece touches no other background piece (they would be one), so
+// the order of the pieces does not matter.
 func fillHoles(group []int32, w, h int) {
 	seen := make([]bool, len(group))
 	// Pixel indices fit in int32 (images are capped far below 2^31
@@ -326,6 +387,7 @@ func fillHoles(group []int32, w, h int) {
 	// hole, so the large background piece, which reaches the border, is
 	// not listed.
 	var stack, piece []int32
+	n := len(group)
 	for s := range group {
 		if group[s] >= 0 || seen[s] {
 			continue
@@ -335,29 +397,47 @@ func fillHoles(group []int32, w, h int) {
 		piece = piece[:0]
 		border := false
 		owner := int32(-1) // -1: none yet, -2: several
-		visit := func(j int) {
-			if g := group[j]; g >= 0 {
-				if owner == -1 {
-					owner = g
-				} else if owner != g {
-					owner = -2
-				}
-			} else if !seen[j] {
-				seen[j] = true
-				stack = append(stack, int32(j))
-			}
-		}
 		for len(stack) > 0 {
 			i := int(stack[len(stack)-1])
 			stack = stack[:len(stack)-1]
-			x, y := i%w, i/w
-			if x == 0 || y == 0 || x == w-1 || y == h-1 {
+			x := i % w
+			if x == 0 || i < w || x == w-1 || i+w >= n {
 				border = true
 			}
 			if !border {
 				piece = append(piece, int32(i))
 			}
-			neighbours4(i, w, h, visit)
+			// The 4-neighbours inside the image: left, right, up, down.
+			for k, j := range [4]int{i - 1, i + 1, i - w, i + w} {
+				switch k {
+				case 0:
+					if x == 0 {
+						continue
+					}
+				case 1:
+					if x+1 >= w {
+						continue
+					}
+				case 2:
+					if i < w {
+						continue
+					}
+				case 3:
+					if i+w >= n {
+						continue
+					}
+				}
+				if g := group[j]; g >= 0 {
+					if owner == -1 {
+						owner = g
+					} else if owner != g {
+						owner = -2
+					}
+				} else if !seen[j] {
+					seen[j] = true
+					stack = append(stack, int32(j))
+				}
+			}
 		}
 		if !border && owner >= 0 {
 			for _, i := range piece {
@@ -371,8 +451,42 @@ func fillHoles(group []int32, w, h int) {
 // border).
 func boxMean3(v []float32, w, h int) []float32 {
 	out := make([]float32, len(v))
-	for y := 0; y < h; y++ {
+	boxMean3Rows(v, out, w, h, 0, h)
+	return out
+}
+
+// boxMean3Workers is boxMean3 on bands of rows run on workers goroutines
+// (workers < 1: GOMAXPROCS); every pixel is computed alone, so the result
+// is boxMean3's bit for bit.
+func boxMean3Workers(v []float32, w, h, workers int) []float32 {
+	out := make([]float32, len(v))
+	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(v, out, w, h, y0, y1) })
+	return out
+}
+
+// boxMean3Rows writes the 3x3 means of rows y0..y1-1 of v into out. Each
+// sum adds the window's values row by row, left to right, as one loop
+// over the shrunk window would; pixels whose window lies inside the image
+// take the unrolled sum.
+func boxMean3Rows(v, out []float32, w, h, y0, y1 int) {
+	for y := y0; y < y1; y++ {
+		inner := y > 0 && y < h-1
 		for x := 0; x < w; x++ {
+			if inner && x > 0 && x < w-1 {
+				a, b, c := v[(y-1)*w+x-1:(y-1)*w+x+2], v[y*w+x-1:y*w+x+2], v[(y+1)*w+x-1:(y+1)*w+x+2]
+				var s float32
+				s += a[0]
+				s += a[1]
+				s += a[2]
+				s += b[0]
+				s += b[1]
+				s += b[2]
+				s += c[0]
+				s += c[1]
+				s += c[2]
+				out[y*w+x] = s / 9
+				continue
+			}
 			var s float32
 			var c int
 			for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
@@ -384,7 +498,6 @@ func boxMean3(v []float32, w, h int) []float32 {
 			out[y*w+x] = s / float32(c)
 		}
 	}
-	return out
 }
 
 // dilateSquare returns m dilated by a (2r+1)x(2r+1) square (separable
@@ -635,13 +748,7 @@ func edgeless(objects labelmap.Map, n int, t *edgeTest) []bool {
 			continue
 		}
 		outline[l].addPixel(t, i)
-		edge := false
-		neighbours4(i, w, h, func(j int) {
-			if labels[j] != l {
-				edge = true
-			}
-		})
-		if edge {
+		if onOutline(labels, i, w, h) {
 			outline[l].add(t, i)
 		}
 	}
@@ -657,13 +764,23 @@ func edgeless(objects labelmap.Map, n int, t *edgeTest) []bool {
 	return drop
 }
 
-// edgeFloor is edgeRatio times the median of the edge energy.
+// onOutline reports whether pixel i of lab (w x h) has a 4-neighbour
+// inside the image with another value.
+func onOutline(lab []int32, i, w, h int) bool {
+	l, x := lab[i], i%w
+	return (x > 0 && lab[i-1] != l) || (x+1 < w && lab[i+1] != l) || (i >= w && lab[i-w] != l) || (i+w < w*h && lab[i+w] != l)
+}
+
+// edgeFloor is edgeRatio times the median of the edge energy: the
+// element of rank len/2 in ascending order (kthSmallest's). It is
+// selected on the float32 values themselves (their order is that of the
+// float64 values they convert to exactly), in half the memory of a
+// float64 copy.
 func edgeFloor(energy []float32) float64 {
-	all := make([]float64, len(energy))
-	for i, v := range energy {
-		all[i] = float64(v)
+	if len(energy) == 0 {
+		return 0
 	}
-	return edgeRatio * kthSmallest(all, len(all)/2)
+	return edgeRatio * float64(kthSmallest(slices.Clone(energy), len(energy)/2))
 }
 
 // withoutLabels sends the marked objects to the background and numbers
@@ -766,9 +883,9 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 	}
 	seamSum := map[uint64]float64{}
 	seamCnt := map[uint64]float64{}
-	affinity.AdjacentPairs(w, h, func(i, j int) {
+	adjacentDiffering(labels, w, h, func(i, j int) {
 		a, b := labels[i], labels[j]
-		if a == b || a == 0 || b == 0 {
+		if a == 0 || b == 0 {
 			return
 		}
 		k := pairKey(min(a, b), max(a, b))
@@ -790,10 +907,14 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 			f.Union(a, b)
 		}
 	}
+	root := make([]int32, n+1)
+	for l := range root {
+		root[l] = f.Find(int32(l))
+	}
 	out := make([]int32, len(labels))
 	for i, l := range labels {
 		if l > 0 {
-			out[i] = f.Find(l)
+			out[i] = root[l]
 		}
 	}
 	return withoutLabels(out, n, make([]bool, n+1))

@@ -67,7 +67,7 @@ func TestTightenObjects(t *testing.T) {
 			labels[y*w+x] = 1
 		}
 	}
-	out, n := tightenObjects(contrastMap(inten, field, 2), labelmap.Map{Pix: labels, Width: w, Height: h}, 1, 20)
+	out, n := tightenObjects(contrastMap(inten, field, 2), labelmap.Map{Pix: labels, Width: w, Height: h}, 1, 20, 2)
 	if n != 2 {
 		t.Fatalf("got %d objects, want 2", n)
 	}

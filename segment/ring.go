@@ -69,18 +69,19 @@ func ringObjects(lum []float32, t *edgeTest, regions labelmap.Map, cls []int32, 
 		x0[r], y0[r], x1[r], y1[r] = w, h, -1, -1
 	}
 	touches := make([]bool, n)
-	for i, r := range reg {
-		x, y := i%w, i/w
-		x0[r], y0[r] = min(x0[r], x), min(y0[r], y)
-		x1[r], y1[r] = max(x1[r], x), max(y1[r], y)
-		if cls[r] != bg {
-			continue
-		}
-		neighbours4(i, w, h, func(j int) {
-			if cls[reg[j]] != bg {
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			r := reg[i]
+			x0[r], y0[r] = min(x0[r], x), min(y0[r], y)
+			x1[r], y1[r] = max(x1[r], x), max(y1[r], y)
+			if cls[r] != bg || touches[r] {
+				continue
+			}
+			if (x > 0 && cls[reg[i-1]] != bg) || (x+1 < w && cls[reg[i+1]] != bg) || (y > 0 && cls[reg[i-w]] != bg) || (y+1 < h && cls[reg[i+w]] != bg) {
 				touches[r] = true
 			}
-		})
+		}
 	}
 	maxBox := ringMaxShare * float64(w*h)
 	changed := false
@@ -104,13 +105,7 @@ func ringObjects(lum []float32, t *edgeTest, regions labelmap.Map, cls []int32, 
 				case reg[i] == int32(r):
 					inside = append(inside, float64(lum[i]))
 					outline.addPixel(t, i)
-					edge := false
-					neighbours4(i, w, h, func(j int) {
-						if reg[j] != int32(r) {
-							edge = true
-						}
-					})
-					if edge {
+					if onOutline(reg, i, w, h) {
 						outline.add(t, i)
 					}
 				case near[(y-by0)*bw+x-bx0] && cls[reg[i]] == bg:

@@ -688,14 +688,17 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	regions := labelmap.Map{Pix: reg, Width: w, Height: h}
 	nreg := mergeSmall(regions, cut.regions, p.MinArea)
 	res.NumRegions = nreg
-	res.Regions = labelmap.New(w, h)
-	for i, r := range reg {
-		res.Regions.Pix[i] = r + 1
-	}
-	res.Labels = res.Regions
+	// The result's region map is reg itself, numbered from 1 once
+	// nothing reads it any more (below, before maskInvalid), rather than
+	// a second plane held through the class and object stages; the
+	// label map is the region map unless objects are drawn.
+	reg0 := reg
+	labelsAreRegions := true
+	res.Labels = labelmap.Map{Width: w, Height: h}
 
 	if p.Background == BackgroundLines {
 		res.Labels.Pix, res.NumObjects = packedObjects(in.Luminance, regions, nreg, max(p.MinArea, 1), p.Workers)
+		labelsAreRegions = false
 		stage("objects")
 	}
 	objectClassPixels := 0 // pixels outside the background class, when objects are sought
@@ -713,9 +716,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
 		cls, field := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
-		res.Classes = labelmap.New(w, h)
-		for i, r := range reg {
-			res.Classes.Pix[i] = cls[r]
+		if p.Background == "" {
+			res.Classes = labelmap.New(w, h)
+			for i, r := range reg {
+				res.Classes.Pix[i] = cls[r]
+			}
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
@@ -778,6 +783,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 				reg = regions.Pix
 			}
+			// The class map is made only now, from the final classes:
+			// one plane less through the stages above.
+			res.Classes = labelmap.New(w, h)
 			for i, r := range reg {
 				res.Classes.Pix[i] = cls[r]
 				if cls[r] != bg {
@@ -785,7 +793,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				}
 			}
 			obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
-			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1))
+			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1), p.Workers)
 			obj, nobj = joinTouching(con, objects(obj), nobj)
 			stage("classes")
 			if err := ctx.Err(); err != nil {
@@ -796,6 +804,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				return nil, err
 			}
 			res.Labels.Pix, res.NumObjects, res.ObjectNcuts = ref.labels, ref.n, ref.splits
+			labelsAreRegions = false
 			short.merge(ref.short)
 			// Outlines are now drawn at pixel level: their step may lie
 			// a pixel beside them.
@@ -808,6 +817,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		} else {
 			stage("classes")
 		}
+	}
+	for i := range reg0 {
+		reg0[i]++
+	}
+	res.Regions = labelmap.Map{Pix: reg0, Width: w, Height: h}
+	if labelsAreRegions {
+		res.Labels = res.Regions
 	}
 	if in.Invalid != nil && len(in.Invalid) == npix {
 		maskInvalid(res, in.Invalid)

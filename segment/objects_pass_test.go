@@ -1,0 +1,174 @@
+package segment
+
+import (
+	"math/rand/v2"
+	"testing"
+)
+
+// The whole-image passes of the object stages, checked against plain
+// definitions written here (worked by hand, common practice): the 3x3
+// mean as a loop over the window shrunk at the border, the 4-connected
+// pieces of equal group by a breadth-first search, holes as background
+// pieces that reach no border and touch one group.
+
+// randomGroups is a w x h map of groups -1..k-1 in blobs: each pixel
+// copies its upper or left neighbour with probability 0.8.
+func randomGroups(rng *rand.Rand, w, h, k int) []int32 {
+	g := make([]int32, w*h)
+	for i := range g {
+		x, y := i%w, i/w
+		switch {
+		case x > 0 && rng.Float64() < 0.4:
+			g[i] = g[i-1]
+		case y > 0 && rng.Float64() < 0.67:
+			g[i] = g[i-w]
+		default:
+			g[i] = int32(rng.IntN(k+1)) - 1
+		}
+	}
+	return g
+}
+
+func TestBoxMean3WorkersMatchesWindowLoop(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, sz := range [][2]int{{1, 1}, {1, 7}, {7, 1}, {2, 2}, {3, 3}, {17, 9}, {64, 300}} {
+		w, h := sz[0], sz[1]
+		v := make([]float32, w*h)
+		for i := range v {
+			v[i] = rng.Float32()
+		}
+		for _, workers := range []int{1, 2, 5} {
+			got := boxMean3Workers(v, w, h, workers)
+			for y := 0; y < h; y++ {
+				for x := 0; x < w; x++ {
+					var s float32
+					var c int
+					for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
+						for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
+							s += v[yy*w+xx]
+							c++
+						}
+					}
+					if want := s / float32(c); got[y*w+x] != want {
+						t.Fatalf("%dx%d workers %d: (%d,%d) = %v, want %v", w, h, workers, x, y, got[y*w+x], want)
+					}
+				}
+			}
+		}
+	}
+}
+
+func TestComponentsOfGroupsMatchesSearch(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := range 30 {
+		w, h := 1+rng.IntN(40), 1+rng.IntN(40)
+		g := randomGroups(rng, w, h, 3)
+		minArea := trial % 6
+		got, n := componentsOfGroups(g, w, h, minArea)
+		// Breadth-first search from each unlabelled pixel in raster order.
+		piece := make([]int, w*h)
+		for i := range piece {
+			piece[i] = -1
+		}
+		var members [][]int
+		for s := range g {
+			if g[s] < 0 || piece[s] >= 0 {
+				continue
+			}
+			id := len(members)
+			queue := []int{s}
+			piece[s] = id
+			for q := 0; q < len(queue); q++ {
+				i := queue[q]
+				x, y := i%w, i/w
+				for _, d := range [4][2]int{{-1, 0}, {1, 0}, {0, -1}, {0, 1}} {
+					xx, yy := x+d[0], y+d[1]
+					if xx < 0 || yy < 0 || xx >= w || yy >= h {
+						continue
+					}
+					j := yy*w + xx
+					if g[j] == g[i] && piece[j] < 0 {
+						piece[j] = id
+						queue = append(queue, j)
+					}
+				}
+			}
+			members = append(members, queue)
+		}
+		want := make([]int32, w*h)
+		m := 0
+		for _, mem := range members {
+			if len(mem) < minArea {
+				continue
+			}
+			m++
+			for _, i := range mem {
+				want[i] = int32(m)
+			}
+		}
+		if n != m {
+			t.Fatalf("trial %d: %d pieces, want %d", trial, n, m)
+		}
+		for i := range want {
+			if got[i] != want[i] {
+				t.Fatalf("trial %d: pixel %d label %d, want %d", trial, i, got[i], want[i])
+			}
+		}
+	}
+}
+
+func TestFillHolesMatchesDefinition(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for trial := range 30 {
+		w, h := 1+rng.IntN(30), 1+rng.IntN(30)
+		g := randomGroups(rng, w, h, 2)
+		want := append([]int32(nil), g...)
+		// Background pieces (group -1) by componentsOfGroups over a
+		// mask, judged one by one.
+		bgMask := make([]int32, w*h)
+		for i, v := range g {
+			bgMask[i] = -1
+			if v < 0 {
+				bgMask[i] = 0
+			}
+		}
+		lab, n := componentsOfGroups(bgMask, w, h, 0)
+		for p := int32(1); p <= int32(n); p++ {
+			border, owner := false, int32(-1)
+			for i, l := range lab {
+				if l != p {
+					continue
+				}
+				x, y := i%w, i/w
+				if x == 0 || y == 0 || x == w-1 || y == h-1 {
+					border = true
+				}
+				for _, j := range []int{i - 1, i + 1, i - w, i + w} {
+					if j < 0 || j >= w*h || (j == i-1 && x == 0) || (j == i+1 && x == w-1) {
+						continue
+					}
+					if v := g[j]; v >= 0 {
+						if owner == -1 {
+							owner = v
+						} else if owner != v {
+							owner = -2
+						}
+					}
+				}
+			}
+			if !border && owner >= 0 {
+				for i, l := range lab {
+					if l == p {
+						want[i] = owner
+					}
+				}
+			}
+		}
+		fillHoles(g, w, h)
+		for i := range want {
+			if g[i] != want[i] {
+				t.Fatalf("trial %d (%dx%d): pixel %d group %d, want %d", trial, w, h, i, g[i], want[i])
+			}
+		}
+	}
+}
