@@ -76,10 +76,14 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 	if n == 0 {
 		return regions, nreg, cls
 	}
-	out := append([]int32(nil), reg...)
+	// The new region map is written over the pieces' map (a plane less
+	// than a copy of reg).
+	out := pieces
 	for i, l := range pieces {
 		if l > 0 {
 			out[i] = int32(nreg) + l - 1
+		} else {
+			out[i] = reg[i]
 		}
 	}
 	cls = append(cls, make([]int32, n)...)

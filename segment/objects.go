@@ -622,8 +622,30 @@ const sourceRatio = 2
 // (√(6² + 0.5²) ≈ 6.02); the reduced image costs an eighth (a quarter of
 // the pixels, kernels half as long).
 func coarseEnergy(lum []float32, w, h, workers int) []float32 {
+	e2, cw := coarseEnergyBlocks(lum, w, h, workers)
+	if cw == 0 {
+		return e2
+	}
+	out := make([]float32, w*h)
+	forRowBands(h, workers, func(ya, yb int) {
+		for y := ya; y < yb; y++ {
+			src, dst := e2[(y/2)*cw:(y/2+1)*cw], out[y*w:(y+1)*w]
+			for x := range dst {
+				dst[x] = src[x/2]
+			}
+		}
+	})
+	return out
+}
+
+// coarseEnergyBlocks is coarseEnergy before it is read back at each
+// pixel: the energy of the 2x2 blocks, (w+1)/2 blocks a row, and that
+// row width; or, for images under 4 pixels on a side, the energy of every
+// pixel and 0. Pixel (x, y) reads block (x/2, y/2) (edgeTest.coarseAt): a
+// quarter of the memory of the pixel map, the same values.
+func coarseEnergyBlocks(lum []float32, w, h, workers int) ([]float32, int) {
 	if w < 4 || h < 4 {
-		return affinity.EdgeEnergy(lum, w, h, diffuseScale, workers)
+		return affinity.EdgeEnergy(lum, w, h, diffuseScale, workers), 0
 	}
 	w2, h2 := (w+1)/2, (h+1)/2
 	small := make([]float32, w2*h2)
@@ -636,17 +658,7 @@ func coarseEnergy(lum []float32, w, h, workers int) []float32 {
 			}
 		}
 	})
-	e2 := affinity.EdgeEnergy(small, w2, h2, diffuseScale/2, workers)
-	out := make([]float32, w*h)
-	forRowBands(h, workers, func(ya, yb int) {
-		for y := ya; y < yb; y++ {
-			src, dst := e2[(y/2)*w2:(y/2+1)*w2], out[y*w:(y+1)*w]
-			for x := range dst {
-				dst[x] = src[x/2]
-			}
-		}
-	})
-	return out
+	return affinity.EdgeEnergy(small, w2, h2, diffuseScale/2, workers), w2
 }
 
 // edgeTest decides whether an outline carries an edge: the median of the
@@ -661,9 +673,12 @@ type edgeTest struct {
 	// (fineNear) instead of at it.
 	near         bool
 	fine, coarse []float32
-	floor        float64
-	con          []float64
-	source       float64
+	// coarseW is the row width of coarse when it holds the energy of
+	// 2x2 blocks (coarseEnergyBlocks); 0 when coarse is a pixel map.
+	coarseW int
+	floor   float64
+	con     []float64
+	source  float64
 }
 
 // sourceContrast is the contrast |I/B - 1| of an object sourceRatio
@@ -702,7 +717,7 @@ func (t *edgeTest) fineNear(i int) float64 {
 func (o *outlineEnergy) add(t *edgeTest, i int) {
 	o.fine = append(o.fine, t.fineNear(i))
 	if t.coarse != nil {
-		o.coarse = append(o.coarse, float64(t.coarse[i]))
+		o.coarse = append(o.coarse, float64(t.coarseAt(i)))
 	}
 }
 
@@ -710,6 +725,14 @@ func (o *outlineEnergy) addPixel(t *edgeTest, i int) {
 	if t.con != nil {
 		o.con = append(o.con, t.con[i])
 	}
+}
+
+// coarseAt is the coarse energy at pixel i.
+func (t *edgeTest) coarseAt(i int) float32 {
+	if t.coarseW == 0 {
+		return t.coarse[i]
+	}
+	return t.coarse[(i/t.w/2)*t.coarseW+(i%t.w)/2]
 }
 
 func (o *outlineEnergy) reset() { o.fine, o.coarse, o.con = o.fine[:0], o.coarse[:0], o.con[:0] }

@@ -172,3 +172,25 @@ func TestFillHolesMatchesDefinition(t *testing.T) {
 		}
 	}
 }
+
+// The coarse energy read from its 2x2 blocks (edgeTest.coarseAt) is the
+// pixel map coarseEnergy gives, pixel for pixel, at even and odd sizes
+// and below the 4-pixel side where no blocks are made.
+func TestCoarseEnergyBlocksMatchPixelMap(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 10))
+	for _, sz := range [][2]int{{3, 9}, {9, 3}, {16, 12}, {17, 13}, {40, 31}} {
+		w, h := sz[0], sz[1]
+		lum := make([]float32, w*h)
+		for i := range lum {
+			lum[i] = rng.Float32()
+		}
+		full := coarseEnergy(lum, w, h, 2)
+		blocks, cw := coarseEnergyBlocks(lum, w, h, 2)
+		et := &edgeTest{w: w, h: h, coarse: blocks, coarseW: cw}
+		for i := range full {
+			if got := et.coarseAt(i); got != full[i] {
+				t.Fatalf("%dx%d pixel %d: %v, want %v", w, h, i, got, full[i])
+			}
+		}
+	}
+}
