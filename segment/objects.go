@@ -377,72 +377,100 @@ func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) (
 // fillHoles gives every background piece (group < 0, 4-connected) that
 // does not reach the image border and borders a single group to that
 // group: the holes a contrast level leaves in grainy or unevenly lit
-// objects. Filled masks are common practice for counted objects. A
-// filled piece touches no other background piece (they would be one), so
-// the order of the pieces does not matter.
+// objects. Filled masks are common practice for counted objects.
+//
+// The pieces are found on the runs of background pixels of each row
+// (run-length labelling, common practice for binary images): a run joins
+// the runs of the row above that it overlaps, so the work is one scan of
+// the image plus the runs, and only the pieces that reach no border have
+// the pixels around them looked at. A filled piece touches no other
+// background piece (they would be one), so the order of the pieces does
+// not matter.
 func fillHoles(group []int32, w, h int) {
-	seen := make([]bool, len(group))
-	// Pixel indices fit in int32 (images are capped far below 2^31
-	// pixels); a piece's pixels are kept only while it may still be a
-	// hole, so the large background piece, which reaches the border, is
-	// not listed.
-	var stack, piece []int32
-	n := len(group)
-	for s := range group {
-		if group[s] >= 0 || seen[s] {
+	type run struct{ y, x0, x1 int } // background pixels x0..x1 of row y
+	var runs []run
+	rowStart := make([]int32, h+1)
+	for y := 0; y < h; y++ {
+		rowStart[y] = int32(len(runs))
+		row := group[y*w : (y+1)*w]
+		for x := 0; x < w; {
+			if row[x] >= 0 {
+				x++
+				continue
+			}
+			x0 := x
+			for x < w && row[x] < 0 {
+				x++
+			}
+			runs = append(runs, run{y, x0, x - 1})
+		}
+	}
+	rowStart[h] = int32(len(runs))
+	if len(runs) == 0 {
+		return
+	}
+	f := unionfind.New(len(runs))
+	for y := 1; y < h; y++ {
+		a, aEnd, b, bEnd := rowStart[y-1], rowStart[y], rowStart[y], rowStart[y+1]
+		for a < aEnd && b < bEnd {
+			ra, rb := runs[a], runs[b]
+			if ra.x1 >= rb.x0 && rb.x1 >= ra.x0 {
+				f.Union(a, b)
+			}
+			if ra.x1 < rb.x1 {
+				a++
+			} else {
+				b++
+			}
+		}
+	}
+	root := make([]int32, len(runs))
+	border := make([]bool, len(runs)) // by root
+	for k, r := range runs {
+		root[k] = f.Find(int32(k))
+		if r.y == 0 || r.y == h-1 || r.x0 == 0 || r.x1 == w-1 {
+			border[root[k]] = true
+		}
+	}
+	owner := make([]int32, len(runs)) // by root: -1 none yet, -2 several
+	for k := range owner {
+		owner[k] = -1
+	}
+	note := func(q int32, g int32) {
+		if g < 0 {
+			return
+		}
+		switch owner[q] {
+		case -1:
+			owner[q] = g
+		case -2, g:
+		default:
+			owner[q] = -2
+		}
+	}
+	for k, r := range runs {
+		q := root[k]
+		if border[q] || owner[q] == -2 {
 			continue
 		}
-		seen[s] = true
-		stack = append(stack[:0], int32(s))
-		piece = piece[:0]
-		border := false
-		owner := int32(-1) // -1: none yet, -2: several
-		for len(stack) > 0 {
-			i := int(stack[len(stack)-1])
-			stack = stack[:len(stack)-1]
-			x := i % w
-			if x == 0 || i < w || x == w-1 || i+w >= n {
-				border = true
-			}
-			if !border {
-				piece = append(piece, int32(i))
-			}
-			// The 4-neighbours inside the image: left, right, up, down.
-			for k, j := range [4]int{i - 1, i + 1, i - w, i + w} {
-				switch k {
-				case 0:
-					if x == 0 {
-						continue
-					}
-				case 1:
-					if x+1 >= w {
-						continue
-					}
-				case 2:
-					if i < w {
-						continue
-					}
-				case 3:
-					if i+w >= n {
-						continue
-					}
-				}
-				if g := group[j]; g >= 0 {
-					if owner == -1 {
-						owner = g
-					} else if owner != g {
-						owner = -2
-					}
-				} else if !seen[j] {
-					seen[j] = true
-					stack = append(stack, int32(j))
-				}
-			}
+		// A run of a piece that reaches no border lies inside the image
+		// with a group pixel at each end and rows above and below.
+		i := r.y * w
+		note(q, group[i+r.x0-1])
+		note(q, group[i+r.x1+1])
+		for x := r.x0; x <= r.x1; x++ {
+			note(q, group[i-w+x])
+			note(q, group[i+w+x])
 		}
-		if !border && owner >= 0 {
-			for _, i := range piece {
-				group[i] = owner
-			}
+	}
+	for k, r := range runs {
+		q := root[k]
+		if border[q] || owner[q] < 0 {
+			continue
+		}
+		row := group[r.y*w : (r.y+1)*w]
+		for x := r.x0; x <= r.x1; x++ {
+			row[x] = owner[q]
 		}
 	}
 }
