@@ -126,63 +126,68 @@ func adjacentDiffering(lab []int32, w, h int, f func(i, j int)) {
 
 // componentsOfGroups labels the 4-connected pieces of pixels sharing the
 // same group (group < 0 is background) as 1..N in raster order; pieces under
-// minArea pixels become background. One flood a piece gives each pixel
-// its piece, numbered in raster order of the piece's first pixel, and
-// the pieces' sizes; a second pass renumbers the kept pieces in place.
+// minArea pixels become background. Two scans of the image (the classical
+// two-pass labelling, Rosenfeld and Pfaltz 1966): the first gives each
+// run of equal group in a row a provisional label and joins it to the
+// runs of the same group above it that it touches; the second numbers
+// the pieces in raster order of their first pixel.
 func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 	lab := make([]int32, len(group))
-	for i := range lab {
-		lab[i] = -1
-	}
-	stack := make([]int32, 0, 256)
-	var size []int32
-	for s, g := range group {
-		if g < 0 || lab[s] >= 0 {
-			continue
+	var f unionfind.Forest
+	for y := 0; y < h; y++ {
+		row, out := group[y*w:(y+1)*w], lab[y*w:(y+1)*w]
+		var above, labAbove []int32
+		if y > 0 {
+			above, labAbove = group[(y-1)*w:y*w], lab[(y-1)*w:y*w]
 		}
-		id := int32(len(size))
-		lab[s] = id
-		stack = append(stack[:0], int32(s))
-		var count int32
-		for len(stack) > 0 {
-			i := int(stack[len(stack)-1])
-			stack = stack[:len(stack)-1]
-			count++
-			x := i % w
-			if x > 0 && group[i-1] == g && lab[i-1] < 0 {
-				lab[i-1] = id
-				stack = append(stack, int32(i-1))
+		for x, g := range row {
+			if g < 0 {
+				out[x] = -1
+				continue
 			}
-			if x+1 < w && group[i+1] == g && lab[i+1] < 0 {
-				lab[i+1] = id
-				stack = append(stack, int32(i+1))
+			left := x > 0 && row[x-1] == g
+			if left {
+				out[x] = out[x-1]
+			} else {
+				out[x] = int32(len(f))
+				f = append(f, int32(len(f)))
 			}
-			if i >= w && group[i-w] == g && lab[i-w] < 0 {
-				lab[i-w] = id
-				stack = append(stack, int32(i-w))
-			}
-			if i+w < len(group) && group[i+w] == g && lab[i+w] < 0 {
-				lab[i+w] = id
-				stack = append(stack, int32(i+w))
+			// The run above is joined once, at its first pixel over this
+			// run (or this run's first pixel).
+			if above != nil && above[x] == g && !(left && above[x-1] == g) {
+				f.Union(out[x], labAbove[x])
 			}
 		}
-		size = append(size, count)
 	}
-	// Pieces are already in raster order of their first pixel.
-	num := make([]int32, len(size))
+	if len(f) == 0 {
+		return lab, 0
+	}
+	root := make([]int32, len(f))
+	for k := range root {
+		root[k] = f.Find(int32(k))
+	}
+	size := make([]int, len(f)) // by root
+	for _, l := range lab {
+		if l >= 0 {
+			size[root[l]]++
+		}
+	}
+	num := make([]int32, len(f)) // by root: 0 not met yet, -1 under minArea
 	n := int32(0)
-	for id, c := range size {
-		if int(c) >= minArea {
-			n++
-			num[id] = n
-		}
-	}
 	for i, l := range lab {
 		if l < 0 {
 			lab[i] = 0
-		} else {
-			lab[i] = num[l]
+			continue
 		}
+		q := root[l]
+		if num[q] == 0 {
+			num[q] = -1
+			if size[q] >= minArea {
+				n++
+				num[q] = n
+			}
+		}
+		lab[i] = max(num[q], 0)
 	}
 	return lab, int(n)
 }
