@@ -3,7 +3,6 @@ package segment
 import (
 	"container/heap"
 	"math"
-	"slices"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
@@ -150,28 +149,9 @@ func deepestNeck(d []float64, cw, ch int, floor float64) neck {
 // deepestNecks is deepestNeck for several floors at once, from one
 // flood.
 func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
-	// The inside pixels with their distance beside them (the sort then
-	// compares values in place instead of looking them up).
-	type pixel struct {
-		d float64
-		i int
-	}
-	var order []pixel
-	for i, v := range d {
-		if v > 0 {
-			order = append(order, pixel{v, i})
-		}
-	}
-	// Descending distance, ties by index: deterministic.
-	slices.SortFunc(order, func(a, b pixel) int {
-		switch {
-		case a.d > b.d:
-			return -1
-		case a.d < b.d:
-			return 1
-		}
-		return a.i - b.i
-	})
+	// The inside pixels by descending distance, ties by index:
+	// deterministic (floodOrder).
+	order := floodOrder(d)
 	parent := make(unionfind.Forest, len(d))
 	for i := range parent {
 		parent[i] = -1 // not flooded yet
@@ -183,7 +163,7 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 		best[f] = neck{peakA: -1, peakB: -1}
 	}
 	for _, o := range order {
-		i := o.i
+		i := int(o)
 		parent[i] = int32(i)
 		top[i] = int32(i)
 		x, y := i%cw, i/cw
@@ -276,4 +256,50 @@ func (q *floodQueue) Pop() any {
 	x := q.pix[len(q.pix)-1]
 	q.pix = q.pix[:len(q.pix)-1]
 	return x
+}
+
+// floodOrder returns the pixels i with d[i] > 0 in descending order of
+// d, ties by ascending index. For positive floats the IEEE 754 bit
+// patterns order as the values do, so the pixels are sorted by the
+// complement of d's bits with an LSD radix sort (Knuth, TAOCP vol. 3,
+// section 5.2.5), eight bits a pass, stable, from index order: ties keep
+// ascending indices. Passes over a byte that every key shares are
+// skipped.
+func floodOrder(d []float64) []int32 {
+	var order []int32
+	for i, v := range d {
+		if v > 0 {
+			order = append(order, int32(i))
+		}
+	}
+	if len(order) < 2 {
+		return order
+	}
+	key := func(i int32) uint64 { return ^math.Float64bits(d[i]) }
+	and, or := ^uint64(0), uint64(0)
+	for _, i := range order {
+		k := key(i)
+		and &= k
+		or |= k
+	}
+	tmp := make([]int32, len(order))
+	for shift := uint(0); shift < 64; shift += 8 {
+		if (and>>shift)&0xff == (or>>shift)&0xff {
+			continue // every key has this byte
+		}
+		var count [257]int
+		for _, i := range order {
+			count[(key(i)>>shift)&0xff+1]++
+		}
+		for b := 1; b <= 256; b++ {
+			count[b] += count[b-1]
+		}
+		for _, i := range order {
+			b := (key(i) >> shift) & 0xff
+			tmp[count[b]] = i
+			count[b]++
+		}
+		order, tmp = tmp, order
+	}
+	return order
 }

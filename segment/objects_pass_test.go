@@ -1,7 +1,9 @@
 package segment
 
 import (
+	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -191,6 +193,46 @@ func TestCoarseEnergyBlocksMatchPixelMap(t *testing.T) {
 			if got := et.coarseAt(i); got != full[i] {
 				t.Fatalf("%dx%d pixel %d: %v, want %v", w, h, i, got, full[i])
 			}
+		}
+	}
+}
+
+// floodOrder is the order of a sort by descending value, ties by
+// ascending index (slices.SortFunc with that comparison, the standard
+// library as reference), on maps with many ties and on random values.
+func TestFloodOrderMatchesSort(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	for trial := range 40 {
+		n := rng.IntN(3000)
+		d := make([]float64, n)
+		for i := range d {
+			switch trial % 3 {
+			case 0: // distance-map values: square roots of small integers
+				d[i] = math.Sqrt(float64(rng.IntN(60)))
+			case 1:
+				d[i] = rng.Float64()*50 - 5
+			default: // one value, or none inside
+				d[i] = float64(trial%2) * 2.5
+			}
+		}
+		var want []int32
+		for i, v := range d {
+			if v > 0 {
+				want = append(want, int32(i))
+			}
+		}
+		slices.SortFunc(want, func(a, b int32) int {
+			switch {
+			case d[a] > d[b]:
+				return -1
+			case d[a] < d[b]:
+				return 1
+			}
+			return int(a - b)
+		})
+		got := floodOrder(d)
+		if !slices.Equal(got, want) {
+			t.Fatalf("trial %d: order differs from the sort", trial)
 		}
 	}
 }
