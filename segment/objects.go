@@ -160,6 +160,7 @@ func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
 		}
 	}
 	if len(f) == 0 {
+		clear(lab) // all background
 		return lab, 0
 	}
 	root := make([]int32, len(f))

@@ -65,6 +65,11 @@ func TestComponentsOfGroupsMatchesSearch(t *testing.T) {
 	for trial := range 30 {
 		w, h := 1+rng.IntN(40), 1+rng.IntN(40)
 		g := randomGroups(rng, w, h, 3)
+		if trial%10 == 9 { // all background
+			for i := range g {
+				g[i] = -1
+			}
+		}
 		minArea := trial % 6
 		got, n := componentsOfGroups(g, w, h, minArea)
 		// Breadth-first search from each unlabelled pixel in raster order.
