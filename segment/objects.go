@@ -220,14 +220,10 @@ const (
 // GOMAXPROCS); the result does not depend on their number.
 func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
-	c32 := make([]float32, len(con))
-	parallel.Blocks(len(con), 1<<16, workers, func(_, lo, hi int) {
-		for i := lo; i < hi; i++ {
-			c32[i] = float32(con[i])
-		}
-	})
-	sm := boxMean3Workers(c32, w, h, workers)
-	c32 = nil
+	// The 3x3 mean of the contrast in float32, read from con directly
+	// (no float32 copy of it).
+	sm := make([]float32, len(con))
+	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(con, sm, w, h, y0, y1) })
 	boxes, pixels := objectPixels(labels, w, h, n)
 	// Each object's median and outline level from its own values, on
 	// workers goroutines; the outlines are then drawn in label order,
@@ -348,7 +344,7 @@ const (
 // group) every piece smaller than crumbFraction of the largest piece of
 // the same group whose smoothed contrast sm stays below crumbPeak times
 // median[g], the median contrast of its group g, and numbers the rest
-// 1..N in raster order.
+// 1..N in raster order, in place.
 func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) ([]int32, int) {
 	if n < 2 {
 		return labels, n
@@ -377,7 +373,7 @@ func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) (
 	if !dropped {
 		return labels, n
 	}
-	return withoutLabels(labels, n, drop)
+	return relabelInto(labels, labels, n, drop)
 }
 
 // fillHoles gives every background piece (group < 0, 4-connected) that
@@ -489,35 +485,27 @@ func boxMean3(v []float32, w, h int) []float32 {
 	return out
 }
 
-// boxMean3Workers is boxMean3 on bands of rows run on workers goroutines
-// (workers < 1: GOMAXPROCS); every pixel is computed alone, so the result
-// is boxMean3's bit for bit.
-func boxMean3Workers(v []float32, w, h, workers int) []float32 {
-	out := make([]float32, len(v))
-	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(v, out, w, h, y0, y1) })
-	return out
-}
-
-// boxMean3Rows writes the 3x3 means of rows y0..y1-1 of v into out. Each
+// boxMean3Rows writes the 3x3 means of rows y0..y1-1 of v, each value
+// taken as float32 first, into out. Each
 // sum adds the window's values row by row, left to right, as one loop
 // over the shrunk window would; pixels whose window lies inside the image
 // take the unrolled sum.
-func boxMean3Rows(v, out []float32, w, h, y0, y1 int) {
+func boxMean3Rows[T float32 | float64](v []T, out []float32, w, h, y0, y1 int) {
 	for y := y0; y < y1; y++ {
 		inner := y > 0 && y < h-1
 		for x := 0; x < w; x++ {
 			if inner && x > 0 && x < w-1 {
 				a, b, c := v[(y-1)*w+x-1:(y-1)*w+x+2], v[y*w+x-1:y*w+x+2], v[(y+1)*w+x-1:(y+1)*w+x+2]
 				var s float32
-				s += a[0]
-				s += a[1]
-				s += a[2]
-				s += b[0]
-				s += b[1]
-				s += b[2]
-				s += c[0]
-				s += c[1]
-				s += c[2]
+				s += float32(a[0])
+				s += float32(a[1])
+				s += float32(a[2])
+				s += float32(b[0])
+				s += float32(b[1])
+				s += float32(b[2])
+				s += float32(c[0])
+				s += float32(c[1])
+				s += float32(c[2])
 				out[y*w+x] = s / 9
 				continue
 			}
@@ -525,7 +513,7 @@ func boxMean3Rows(v, out []float32, w, h, y0, y1 int) {
 			var c int
 			for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
 				for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
-					s += v[yy*w+xx]
+					s += float32(v[yy*w+xx])
 					c++
 				}
 			}
@@ -843,20 +831,27 @@ func edgeFloor(energy []float32) float64 {
 // withoutLabels sends the marked objects to the background and numbers
 // the rest 1..N in raster order of their first pixel.
 func withoutLabels(labels []int32, n int, drop []bool) ([]int32, int) {
-	out := make([]int32, len(labels))
+	return relabelInto(make([]int32, len(labels)), labels, n, drop)
+}
+
+// relabelInto is withoutLabels written into dst, which may be labels itself
+// (each pixel's new label depends on its old one only): for maps the
+// caller made and no longer needs, a plane less.
+func relabelInto(dst, labels []int32, n int, drop []bool) ([]int32, int) {
 	id := make([]int32, n+1)
 	var m int32
 	for i, l := range labels {
 		if l <= 0 || drop[l] {
+			dst[i] = 0
 			continue
 		}
 		if id[l] == 0 {
 			m++
 			id[l] = m
 		}
-		out[i] = id[l]
+		dst[i] = id[l]
 	}
-	return out, int(m)
+	return dst, int(m)
 }
 
 // absorbSmall gives every object (labels 1..n, 0 background) under
@@ -911,7 +906,7 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 			out[i] = target[l]
 		}
 	}
-	return withoutLabels(out, n, drop)
+	return relabelInto(out, out, n, drop)
 }
 
 // joinTouching merges objects (labels 1..n, 0 background) that touch
@@ -974,5 +969,5 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 			out[i] = root[l]
 		}
 	}
-	return withoutLabels(out, n, make([]bool, n+1))
+	return relabelInto(out, out, n, make([]bool, n+1))
 }

@@ -31,23 +31,27 @@ func randomGroups(rng *rand.Rand, w, h, k int) []int32 {
 	return g
 }
 
-func TestBoxMean3WorkersMatchesWindowLoop(t *testing.T) {
+// The 3x3 means tightenObjects takes of the float64 contrast on row
+// bands (boxMean3Rows) are the window loop's over the values rounded to
+// float32, whatever the number of workers.
+func TestBoxMean3RowsMatchesWindowLoop(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, sz := range [][2]int{{1, 1}, {1, 7}, {7, 1}, {2, 2}, {3, 3}, {17, 9}, {64, 300}} {
 		w, h := sz[0], sz[1]
-		v := make([]float32, w*h)
+		v := make([]float64, w*h)
 		for i := range v {
-			v[i] = rng.Float32()
+			v[i] = rng.Float64()
 		}
 		for _, workers := range []int{1, 2, 5} {
-			got := boxMean3Workers(v, w, h, workers)
+			got := make([]float32, w*h)
+			forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(v, got, w, h, y0, y1) })
 			for y := 0; y < h; y++ {
 				for x := 0; x < w; x++ {
 					var s float32
 					var c int
 					for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
 						for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
-							s += v[yy*w+xx]
+							s += float32(v[yy*w+xx])
 							c++
 						}
 					}
