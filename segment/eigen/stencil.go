@@ -75,6 +75,81 @@ func (op *stencilOp) filter(i int, lm, fl []int, ws []float32) ([]int, []float32
 // (buffers per chunk, about 2,500 chunks at a million nodes, made the
 // heap grow between collections during the solve).
 func (op *stencilOp) mulRows(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
+	if stencilAVX && op.k > 0 {
+		// Rows lo..n-1-hi need no filtering: AVX kernels there.
+		if a, b := max(r0, op.lo), min(r1, op.n-op.hi); a < b {
+			op.mulRowsGo(lm, s, y, x, tmp, r0, a)
+			op.mulRowsAVX(lm, s, y, x, tmp, a, b)
+			op.mulRowsGo(lm, s, y, x, tmp, b, r1)
+			return
+		}
+	}
+	op.mulRowsGo(lm, s, y, x, tmp, r0, r1)
+}
+
+// mulRowsAVX is mulRows on rows r0..r1-1, all in range (inRange), with
+// the kernels of stencil_amd64.s. The columns are grouped as mulRowsGo
+// groups them, so that the same columns take the single-column pass
+// split by parity; a group of 5 is computed as 4 columns and the last 2
+// of them, a group of 3 as its first 2 and last 2 (the column computed
+// twice gets the same value twice). Each kernel's lane does the Go
+// loop's operations in its order, so the result is mulRowsGo's bit for
+// bit (TestStencilProductMatchesCSR, TestStencilAVXMatchesGo).
+func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
+	m, k := x.m, op.k
+	rows := r1 - r0
+	kern := func(f func(*float64, *int, int, *float32, *float64, *float64, *float64, int, int), c int) {
+		b := r0*m + c
+		f(&tmp.v[b], &lm[0], k, &op.wt[r0*k], &s[r0], &x.v[b], &y.v[b], m, rows)
+	}
+	for c0 := 0; c0 < m; {
+		switch rest := m - c0; {
+		case rest >= 6:
+			kern(stencilRows6, c0)
+			c0 += 6
+		case rest == 5:
+			kern(stencilRows4, c0)
+			kern(stencilRows2, c0+3)
+			c0 += 5
+		case rest >= 3:
+			kern(stencilRows2, c0)
+			kern(stencilRows2, c0+1)
+			c0 += 3
+		case rest == 2:
+			kern(stencilRows2, c0)
+			c0 += 2
+		default:
+			for i := r0; i < r1; i++ {
+				op.single(lm, op.wt[i*k:i*k+k], s[i], y, x, tmp, i, c0)
+			}
+			c0++
+		}
+	}
+}
+
+// single is the single-column pass of mulRowsGo for column c of row i
+// (lin and ws the row's scaled differences and weights): two partial
+// sums over the stored entries taken alternately, as level.mulRows.
+func (op *stencilOp) single(lin []int, ws []float32, si float64, y, x, tmp *block, i, c int) {
+	m := x.m
+	t := tmp.v
+	bi := i*m + c
+	ws = ws[:len(lin)]
+	var acc [2]float64
+	par := 0
+	for f, d := range lin {
+		w := ws[f]
+		if w == 0 {
+			continue
+		}
+		acc[par] += float64(w) * t[bi+d]
+		par ^= 1
+	}
+	y.v[bi] = x.v[bi] - si*(acc[0]+acc[1])
+}
+
+// mulRowsGo is mulRows in Go alone.
+func (op *stencilOp) mulRowsGo(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
 	m := x.m
 	t := tmp.v
 	k := op.k
@@ -158,19 +233,7 @@ func (op *stencilOp) mulRows(lm []int, s []float64, y, x, tmp *block, r0, r1 int
 				yr[c0+1] = xr[c0+1] - si*a1
 				c0 += 2
 			default:
-				// Two partial sums over the stored entries taken
-				// alternately, as level.mulRows.
-				var acc [2]float64
-				par := 0
-				for f, d := range lin {
-					w := ws[f]
-					if w == 0 {
-						continue
-					}
-					acc[par] += float64(w) * t[bi+d]
-					par ^= 1
-				}
-				yr[c0] = xr[c0] - si*(acc[0]+acc[1])
+				op.single(lin, ws, si, y, x, tmp, i, c0)
 				c0++
 			}
 		}

@@ -1,0 +1,299 @@
+//go:build !purego
+
+#include "textflag.h"
+
+// The stencil product's interior rows with AVX (see stencil_amd64.go).
+// For each row i of rows, with the pointers advanced by one row each time:
+//
+//	acc[c] = Σ_f float64(ws[f]) · t[lm[f] + c]   (f = 0..k-1 in order)
+//	y[c]   = x[c] - s · acc[c]
+//
+// for the W columns c of the group (W = 6, 4 or 2). Every lane does the
+// scalar code's operations in its order (one multiply, then one add, per
+// f; no fused multiply-add), so the result is the Go loop's bit for bit.
+// Rows are taken two at a time, their sums independent chains.
+
+// func stencilRows6(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·stencilRows6(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ lm+8(FP), DI
+	MOVQ k+16(FP), CX
+	MOVQ ws+24(FP), R8
+	MOVQ s+32(FP), R9
+	MOVQ x+40(FP), R10
+	MOVQ y+48(FP), R11
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+	LEAQ (R8)(CX*4), DX
+
+pair6:
+	CMPQ R13, $2
+	JLT  single6
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y5, Y5, Y5
+	VXORPD Y6, Y6, Y6
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin6p
+
+loop6p:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VBROADCASTSS (DX)(BX*4), X3
+	VCVTPS2PD X3, Y3
+	VMULPD (AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULPD 32(AX), X2, X7
+	VADDPD X7, X1, X1
+	VMULPD (AX)(R12*1), Y3, Y8
+	VADDPD Y8, Y5, Y5
+	VMULPD 32(AX)(R12*1), X3, X9
+	VADDPD X9, X6, X6
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop6p
+
+fin6p:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD (R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, (R11)
+	VMULPD X10, X1, X1
+	VMOVUPD 32(R10), X12
+	VSUBPD X1, X12, X12
+	VMOVUPD X12, 32(R11)
+	VBROADCASTSD 8(R9), Y10
+	VMULPD Y10, Y5, Y5
+	VMOVUPD (R10)(R12*1), Y11
+	VSUBPD Y5, Y11, Y11
+	VMOVUPD Y11, (R11)(R12*1)
+	VMULPD X10, X6, X6
+	VMOVUPD 32(R10)(R12*1), X12
+	VSUBPD X6, X12, X12
+	VMOVUPD X12, 32(R11)(R12*1)
+	LEAQ (SI)(R12*2), SI
+	LEAQ (R10)(R12*2), R10
+	LEAQ (R11)(R12*2), R11
+	ADDQ $16, R9
+	LEAQ (DX)(CX*4), R8
+	LEAQ (R8)(CX*4), DX
+	SUBQ $2, R13
+	JMP  pair6
+
+single6:
+	TESTQ R13, R13
+	JEQ  done6
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin6s
+
+loop6s:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD (AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULPD 32(AX), X2, X7
+	VADDPD X7, X1, X1
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop6s
+
+fin6s:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD (R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, (R11)
+	VMULPD X10, X1, X1
+	VMOVUPD 32(R10), X12
+	VSUBPD X1, X12, X12
+	VMOVUPD X12, 32(R11)
+
+done6:
+	VZEROUPPER
+	RET
+
+// func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·stencilRows4(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ lm+8(FP), DI
+	MOVQ k+16(FP), CX
+	MOVQ ws+24(FP), R8
+	MOVQ s+32(FP), R9
+	MOVQ x+40(FP), R10
+	MOVQ y+48(FP), R11
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+	LEAQ (R8)(CX*4), DX
+
+pair4:
+	CMPQ R13, $2
+	JLT  single4
+	VXORPD Y0, Y0, Y0
+	VXORPD Y5, Y5, Y5
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin4p
+
+loop4p:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VBROADCASTSS (DX)(BX*4), X3
+	VCVTPS2PD X3, Y3
+	VMULPD (AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULPD (AX)(R12*1), Y3, Y8
+	VADDPD Y8, Y5, Y5
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop4p
+
+fin4p:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD (R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, (R11)
+	VBROADCASTSD 8(R9), Y10
+	VMULPD Y10, Y5, Y5
+	VMOVUPD (R10)(R12*1), Y11
+	VSUBPD Y5, Y11, Y11
+	VMOVUPD Y11, (R11)(R12*1)
+	LEAQ (SI)(R12*2), SI
+	LEAQ (R10)(R12*2), R10
+	LEAQ (R11)(R12*2), R11
+	ADDQ $16, R9
+	LEAQ (DX)(CX*4), R8
+	LEAQ (R8)(CX*4), DX
+	SUBQ $2, R13
+	JMP  pair4
+
+single4:
+	TESTQ R13, R13
+	JEQ  done4
+	VXORPD Y0, Y0, Y0
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin4s
+
+loop4s:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD (AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop4s
+
+fin4s:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD (R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, (R11)
+
+done4:
+	VZEROUPPER
+	RET
+
+// func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·stencilRows2(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ lm+8(FP), DI
+	MOVQ k+16(FP), CX
+	MOVQ ws+24(FP), R8
+	MOVQ s+32(FP), R9
+	MOVQ x+40(FP), R10
+	MOVQ y+48(FP), R11
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+	LEAQ (R8)(CX*4), DX
+
+pair2:
+	CMPQ R13, $2
+	JLT  single2
+	VXORPD X0, X0, X0
+	VXORPD X5, X5, X5
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin2p
+
+loop2p:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, X2
+	VBROADCASTSS (DX)(BX*4), X3
+	VCVTPS2PD X3, X3
+	VMULPD (AX), X2, X4
+	VADDPD X4, X0, X0
+	VMULPD (AX)(R12*1), X3, X8
+	VADDPD X8, X5, X5
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop2p
+
+fin2p:
+	VMOVDDUP (R9), X10
+	VMULPD X10, X0, X0
+	VMOVUPD (R10), X11
+	VSUBPD X0, X11, X11
+	VMOVUPD X11, (R11)
+	VMOVDDUP 8(R9), X10
+	VMULPD X10, X5, X5
+	VMOVUPD (R10)(R12*1), X11
+	VSUBPD X5, X11, X11
+	VMOVUPD X11, (R11)(R12*1)
+	LEAQ (SI)(R12*2), SI
+	LEAQ (R10)(R12*2), R10
+	LEAQ (R11)(R12*2), R11
+	ADDQ $16, R9
+	LEAQ (DX)(CX*4), R8
+	LEAQ (R8)(CX*4), DX
+	SUBQ $2, R13
+	JMP  pair2
+
+single2:
+	TESTQ R13, R13
+	JEQ  done2
+	VXORPD X0, X0, X0
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin2s
+
+loop2s:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, X2
+	VMULPD (AX), X2, X4
+	VADDPD X4, X0, X0
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop2s
+
+fin2s:
+	VMOVDDUP (R9), X10
+	VMULPD X10, X0, X0
+	VMOVUPD (R10), X11
+	VSUBPD X0, X11, X11
+	VMOVUPD X11, (R11)
+
+done2:
+	VZEROUPPER
+	RET
