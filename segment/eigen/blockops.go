@@ -150,6 +150,7 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 			ct[q*nb+p] = c[p*ma+q]
 		}
 	}
+	avx := useAVX && ma > 0 && nb > 0
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
@@ -157,6 +158,10 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 				s = bs[0].v[i*nb : i*nb+nb]
 			} else {
 				gatherRow(s, bs, i)
+			}
+			if avx {
+				combineRow(&a.v[i*ma], ma, &s[0], nb, &c[0], 1)
+				continue
 			}
 			dotRows(a.v[i*ma:i*ma+ma], s, ct, true)
 		}
@@ -260,6 +265,23 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 		var ra, rb []float64
 		r0, r1 := o.lv.chunks[c], o.lv.chunks[c+1]
 		single := len(as) == 1 && len(bs) == 1
+		if full := (r1 - r0) / 4; useAVX && full > 0 {
+			// The groups of four rows in the AVX kernel, pair of blocks
+			// by pair of blocks: each entry of g belongs to one pair, so
+			// it gets the same additions in the same order as below.
+			offA := 0
+			for _, ab := range as {
+				offB := 0
+				for _, bb := range bs {
+					if ab.m > 0 && bb.m > 0 {
+						gramRows4(&g[offA*nb+offB], nb, &ab.v[r0*ab.m], ab.m, &bb.v[r0*bb.m], bb.m, full)
+					}
+					offB += bb.m
+				}
+				offA += ab.m
+			}
+			r0 += 4 * full
+		}
 		for i := r0; i < r1; i += 4 {
 			cnt := min(4, r1-i)
 			if !single && cnt == 4 {
@@ -366,6 +388,38 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 			}
 		}
 		cts[t] = ct
+	}
+	if mc := width(outs); useAVX && ns > 0 && mc > 0 {
+		// All outputs at once in the AVX kernel, from the coefficient
+		// matrices side by side (ns × mc), through one row of scratch:
+		// each output entry is the same running sum as in dotRows.
+		cc := make([]float64, ns*mc)
+		off := 0
+		for t, c := range cs {
+			mt := outs[t].m
+			for p := 0; p < ns; p++ {
+				copy(cc[p*mc+off:p*mc+off+mt], c[p*mt:p*mt+mt])
+			}
+			off += mt
+		}
+		parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
+			s := make([]float64, ns)
+			row := make([]float64, mc)
+			for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
+				if len(in) == 1 {
+					s = in[0].v[i*ns : i*ns+ns]
+				} else {
+					gatherRow(s, in, i)
+				}
+				combineRow(&row[0], mc, &s[0], ns, &cc[0], 0)
+				off := 0
+				for _, out := range outs {
+					copy(out.v[i*out.m:(i+1)*out.m], row[off:off+out.m])
+					off += out.m
+				}
+			}
+		})
+		return
 	}
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, ns)

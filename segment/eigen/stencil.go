@@ -75,7 +75,7 @@ func (op *stencilOp) filter(i int, lm, fl []int, ws []float32) ([]int, []float32
 // (buffers per chunk, about 2,500 chunks at a million nodes, made the
 // heap grow between collections during the solve).
 func (op *stencilOp) mulRows(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
-	if stencilAVX && op.k > 0 {
+	if useAVX && op.k > 0 {
 		// Rows lo..n-1-hi need no filtering: AVX kernels there.
 		if a, b := max(r0, op.lo), min(r1, op.n-op.hi); a < b {
 			op.mulRowsGo(lm, s, y, x, tmp, r0, a)

@@ -2,9 +2,10 @@
 
 package eigen
 
-// stencilAVX is false off amd64 (or with the purego tag): the stencil
-// product runs in Go alone.
-var stencilAVX = false
+// useAVX is false off amd64 (or with the purego tag): the products and
+// block operations run in Go alone, and the kernels below are never
+// called.
+var useAVX = false
 
 func stencilRows6(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
@@ -15,5 +16,13 @@ func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float6
 }
 
 func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, groups int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int) {
 	panic("eigen: no AVX kernel on this platform")
 }

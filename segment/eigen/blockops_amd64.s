@@ -1,0 +1,340 @@
+//go:build !purego
+
+#include "textflag.h"
+
+// gramRows4 adds to the na x nb matrix g (row stride gs) the products of
+// groups of four consecutive rows of a (width ma, used as na = ma rows of
+// g) and b (width mb):
+//
+//	g[p][q] += a0[p]·b0[q] + a1[p]·b1[q] + a2[p]·b2[q] + a3[p]·b3[q]
+//
+// evaluated left to right as the Go loop of gramMulti does, for groups
+// groups, a and b advancing four rows each time. Lanes run over q; each
+// does the scalar code's roundings (no fused multiply-add).
+//
+// func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, groups int)
+TEXT ·gramRows4(SB), NOSPLIT, $16-56
+	MOVQ dst+0(FP), DX
+	MOVQ gs+8(FP), R10
+	SHLQ $3, R10
+	MOVQ a+16(FP), SI
+	MOVQ ma+24(FP), R8
+	MOVQ b+32(FP), DI
+	MOVQ mb+40(FP), R9
+	MOVQ groups+48(FP), R13
+	MOVQ R8, R11
+	SHLQ $3, R11
+	MOVQ R9, R12
+	SHLQ $3, R12
+
+group:
+	TESTQ R13, R13
+	JEQ  done
+	// The group's start of g and a, kept in the frame.
+	XORQ BX, BX
+	MOVQ DX, 0(SP)
+	MOVQ SI, 8(SP)
+
+prow:
+	CMPQ BX, R8
+	JGE  pdone
+	VBROADCASTSD (SI), Y0
+	VBROADCASTSD (SI)(R11*1), Y1
+	LEAQ (SI)(R11*2), AX
+	VBROADCASTSD (AX), Y2
+	VBROADCASTSD (AX)(R11*1), Y3
+	XORQ CX, CX
+
+q4:
+	LEAQ 4(CX), AX
+	CMPQ AX, R9
+	JGT  q2
+	LEAQ (DI)(CX*8), AX
+	VMULPD (AX), Y0, Y4
+	VMULPD (AX)(R12*1), Y1, Y5
+	VADDPD Y5, Y4, Y4
+	LEAQ (AX)(R12*2), AX
+	VMULPD (AX), Y2, Y5
+	VADDPD Y5, Y4, Y4
+	VMULPD (AX)(R12*1), Y3, Y5
+	VADDPD Y5, Y4, Y4
+	VMOVUPD (DX)(CX*8), Y6
+	VADDPD Y4, Y6, Y6
+	VMOVUPD Y6, (DX)(CX*8)
+	ADDQ $4, CX
+	JMP  q4
+
+q2:
+	LEAQ 2(CX), AX
+	CMPQ AX, R9
+	JGT  q1
+	LEAQ (DI)(CX*8), AX
+	VMULPD (AX), X0, X4
+	VMULPD (AX)(R12*1), X1, X5
+	VADDPD X5, X4, X4
+	LEAQ (AX)(R12*2), AX
+	VMULPD (AX), X2, X5
+	VADDPD X5, X4, X4
+	VMULPD (AX)(R12*1), X3, X5
+	VADDPD X5, X4, X4
+	VMOVUPD (DX)(CX*8), X6
+	VADDPD X4, X6, X6
+	VMOVUPD X6, (DX)(CX*8)
+	ADDQ $2, CX
+
+q1:
+	CMPQ CX, R9
+	JGE  qdone
+	LEAQ (DI)(CX*8), AX
+	VMULSD (AX), X0, X4
+	VMULSD (AX)(R12*1), X1, X5
+	VADDSD X5, X4, X4
+	LEAQ (AX)(R12*2), AX
+	VMULSD (AX), X2, X5
+	VADDSD X5, X4, X4
+	VMULSD (AX)(R12*1), X3, X5
+	VADDSD X5, X4, X4
+	VMOVSD (DX)(CX*8), X6
+	VADDSD X4, X6, X6
+	VMOVSD X6, (DX)(CX*8)
+
+qdone:
+	ADDQ $8, SI
+	ADDQ R10, DX
+	INCQ BX
+	JMP  prow
+
+pdone:
+	MOVQ 8(SP), SI
+	MOVQ 0(SP), DX
+	LEAQ (SI)(R11*4), SI
+	LEAQ (DI)(R12*4), DI
+	DECQ R13
+	JMP  group
+
+done:
+	VZEROUPPER
+	RET
+
+// combineRow sets dst[q] = Σ_p s[p]·c[p·mc + q] for q = 0..mc-1, or
+// subtracts the sum from dst[q] when sub is not 0: the Go loop of
+// dotRows (one running sum a column, over p in order, from +0), with
+// lanes over q in groups of 12, 8, 6, 4, 2 and 1 columns.
+//
+// func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
+TEXT ·combineRow(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ mc+8(FP), R8
+	MOVQ s+16(FP), SI
+	MOVQ ns+24(FP), R9
+	MOVQ c+32(FP), DX
+	MOVQ sub+40(FP), R10
+	MOVQ R8, R11
+	SHLQ $3, R11
+	XORQ CX, CX
+
+w12:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $12
+	JLT  w8
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w12l:
+	CMPQ BX, R9
+	JGE  w12f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), Y8, Y11
+	VADDPD Y11, Y1, Y1
+	VMULPD 64(AX), Y8, Y12
+	VADDPD Y12, Y2, Y2
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w12l
+w12f:
+	TESTQ R10, R10
+	JNE  w12s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	VMOVUPD Y2, 64(DI)(CX*8)
+	JMP  w12n
+w12s:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y5
+	VSUBPD Y1, Y5, Y5
+	VMOVUPD Y5, 32(DI)(CX*8)
+	VMOVUPD 64(DI)(CX*8), Y6
+	VSUBPD Y2, Y6, Y6
+	VMOVUPD Y6, 64(DI)(CX*8)
+w12n:
+	ADDQ $12, CX
+	JMP  w12
+w8:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $8
+	JLT  w6
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w8l:
+	CMPQ BX, R9
+	JGE  w8f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), Y8, Y11
+	VADDPD Y11, Y1, Y1
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w8l
+w8f:
+	TESTQ R10, R10
+	JNE  w8s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	JMP  w8n
+w8s:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y5
+	VSUBPD Y1, Y5, Y5
+	VMOVUPD Y5, 32(DI)(CX*8)
+w8n:
+	ADDQ $8, CX
+	JMP  w8
+w6:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $6
+	JLT  w4
+	VXORPD Y0, Y0, Y0
+	VXORPD X1, X1, X1
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w6l:
+	CMPQ BX, R9
+	JGE  w6f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), X8, X11
+	VADDPD X11, X1, X1
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w6l
+w6f:
+	TESTQ R10, R10
+	JNE  w6s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD X1, 32(DI)(CX*8)
+	JMP  w6n
+w6s:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), X5
+	VSUBPD X1, X5, X5
+	VMOVUPD X5, 32(DI)(CX*8)
+w6n:
+	ADDQ $6, CX
+	JMP  w6
+w4:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $4
+	JLT  w2
+	VXORPD Y0, Y0, Y0
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w4l:
+	CMPQ BX, R9
+	JGE  w4f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w4l
+w4f:
+	TESTQ R10, R10
+	JNE  w4s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	JMP  w4n
+w4s:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+w4n:
+	ADDQ $4, CX
+	JMP  w4
+w2:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $2
+	JLT  w1
+	VXORPD X0, X0, X0
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w2l:
+	CMPQ BX, R9
+	JGE  w2f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), X8, X10
+	VADDPD X10, X0, X0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w2l
+w2f:
+	TESTQ R10, R10
+	JNE  w2s
+	VMOVUPD X0, 0(DI)(CX*8)
+	JMP  w2n
+w2s:
+	VMOVUPD 0(DI)(CX*8), X4
+	VSUBPD X0, X4, X4
+	VMOVUPD X4, 0(DI)(CX*8)
+w2n:
+	ADDQ $2, CX
+	JMP  w2
+w1:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $1
+	JLT  done
+	VXORPD X0, X0, X0
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w1l:
+	CMPQ BX, R9
+	JGE  w1f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULSD 0(AX), X8, X10
+	VADDSD X10, X0, X0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w1l
+w1f:
+	TESTQ R10, R10
+	JNE  w1s
+	VMOVSD X0, 0(DI)(CX*8)
+	JMP  w1n
+w1s:
+	VMOVSD 0(DI)(CX*8), X4
+	VSUBSD X0, X4, X4
+	VMOVSD X4, 0(DI)(CX*8)
+w1n:
+	ADDQ $1, CX
+	JMP  w1
+done:
+	VZEROUPPER
+	RET

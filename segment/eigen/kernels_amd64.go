@@ -1,0 +1,44 @@
+//go:build !purego
+
+package eigen
+
+import "golang.org/x/sys/cpu"
+
+// useAVX reports whether the AVX kernels of stencil_amd64.s and
+// blockops_amd64.s run (the stencil product's interior rows, the groups
+// of four rows of gramMulti, the rows of combineMulti and subMul): 256-bit
+// packed float64 multiplies and adds, each lane doing the Go loop's
+// operations in its order (no fused multiply-add), so the results are
+// the Go code's bit for bit; they only run faster.
+var useAVX = cpu.X86.HasAVX
+
+// stencilRows6, stencilRows4 and stencilRows2 compute, for rows
+// consecutive rows starting at the pointers, y[c] = x[c] - s·Σ_f ws[f]·t[lm[f]+c]
+// for 6, 4 or 2 columns c; stride is the block width m (the distance
+// between rows in t, x and y), k the number of offsets (ws advances by k
+// a row, s by one). Every t[lm[f]+c] read must lie inside the block.
+//
+//go:noescape
+func stencilRows6(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+// gramRows4 is the AVX kernel of gramMulti (blockops_amd64.s): for
+// groups groups of four consecutive rows of a (width ma) and b (width
+// mb), dst[p·gs + q] += a0[p]·b0[q] + a1[p]·b1[q] + a2[p]·b2[q] + a3[p]·b3[q],
+// the Go loop's operations in its order. It runs where useAVX is set.
+//
+//go:noescape
+func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, groups int)
+
+// combineRow is the AVX kernel of dotRows with the coefficients
+// untransposed (blockops_amd64.s): dst[q] = Σ_p s[p]·c[p·mc + q] for q =
+// 0..mc-1 (ns terms p, in order, from +0), subtracted from dst[q] instead
+// when sub is not 0.
+//
+//go:noescape
+func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
