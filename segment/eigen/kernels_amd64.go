@@ -42,3 +42,17 @@ func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, gro
 //
 //go:noescape
 func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
+
+// csrRows6, csrRows4 and csrRows2 are the kernels of the compressed-row
+// product (level.mulRowsAVX; stencil_amd64.s): for rows rows from the
+// pointers, y[c] = x[c] - s·Σ_p wt[p]·t[col[p]·stride + c] over p =
+// rowPtr[i]..rowPtr[i+1]-1, for 6, 4 or 2 columns c.
+//
+//go:noescape
+func csrRows6(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func csrRows4(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)

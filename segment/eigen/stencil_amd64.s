@@ -297,3 +297,166 @@ fin2s:
 done2:
 	VZEROUPPER
 	RET
+
+// The compressed-row product of the coarse levels (level.mulRows) in
+// AVX: for rows rows from the pointers, one row at a time,
+//
+//	y[c] = x[c] - s · Σ_p float64(wt[p]) · t[col[p]·stride + c]
+//
+// over p = rowPtr[i]..rowPtr[i+1]-1 in order, for the W columns c of
+// the group (t points at the group's first column), each lane doing the
+// Go loop's operations in its order.
+
+// func csrRows6(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows6(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+row6:
+	TESTQ R13, R13
+	JEQ  done6
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+
+inner6:
+	CMPQ BX, CX
+	JGE  fin6
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VBROADCASTSS (R9)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD (SI)(AX*1), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULPD 32(SI)(AX*1), X2, X5
+	VADDPD X5, X1, X1
+	INCQ BX
+	JMP  inner6
+
+fin6:
+	VBROADCASTSD (R10), Y6
+	VMULPD Y6, Y0, Y0
+	VMOVUPD (R11), Y7
+	VSUBPD Y0, Y7, Y7
+	VMOVUPD Y7, (DX)
+	VMULPD X6, X1, X1
+	VMOVUPD 32(R11), X8
+	VSUBPD X1, X8, X8
+	VMOVUPD X8, 32(DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  row6
+
+done6:
+	VZEROUPPER
+	RET
+
+// func csrRows4(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows4(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+row4:
+	TESTQ R13, R13
+	JEQ  done4
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD Y0, Y0, Y0
+
+inner4:
+	CMPQ BX, CX
+	JGE  fin4
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VBROADCASTSS (R9)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD (SI)(AX*1), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	INCQ BX
+	JMP  inner4
+
+fin4:
+	VBROADCASTSD (R10), Y6
+	VMULPD Y6, Y0, Y0
+	VMOVUPD (R11), Y7
+	VSUBPD Y0, Y7, Y7
+	VMOVUPD Y7, (DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  row4
+
+done4:
+	VZEROUPPER
+	RET
+
+// func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows2(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+row2:
+	TESTQ R13, R13
+	JEQ  done2
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD X0, X0, X0
+
+inner2:
+	CMPQ BX, CX
+	JGE  fin2
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VBROADCASTSS (R9)(BX*4), X2
+	VCVTPS2PD X2, X2
+	VMULPD (SI)(AX*1), X2, X4
+	VADDPD X4, X0, X0
+	INCQ BX
+	JMP  inner2
+
+fin2:
+	VMOVDDUP (R10), X6
+	VMULPD X6, X0, X0
+	VMOVUPD (R11), X7
+	VSUBPD X0, X7, X7
+	VMOVUPD X7, (DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  row2
+
+done2:
+	VZEROUPPER
+	RET

@@ -257,18 +257,30 @@ func BenchmarkSmallestStencilScaled(b *testing.B) {
 	}
 }
 
-// TestStencilAVXMatchesGo checks the AVX kernels of the stencil product
-// (stencil_amd64.s) against the Go loop bit for bit on the coins pixel
-// graph, for block widths 1 to 13 (every column grouping, including the
-// groups of 5 and 3 computed with overlapping kernels), with values of
-// both signs, zeros and signed zeros in the block. Where the kernels are
+// TestStencilAVXMatchesGo checks the AVX kernels of the products
+// (stencil_amd64.s) against the Go loops bit for bit on the coins pixel
+// graph in stencil form and in compressed rows and on its first coarse
+// level (self loops, rows of every length), for block widths 1 to 13
+// (every column grouping, including the groups of 5 and 3 computed with
+// overlapping kernels), with values of both signs, zeros and signed
+// zeros in the block. Where the kernels are
 // not available (another architecture, no AVX, the purego tag) there is
 // nothing to compare and the test says so.
 func TestStencilAVXMatchesGo(t *testing.T) {
 	if !useAVX {
 		t.Skip("no AVX kernels on this machine or build: the stencil product runs in Go alone")
 	}
-	lv := newStencilLevel(coinsStencil(t), 2)
+	g := coinsGraph(t)
+	csr := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
+	for _, lv := range []*level{newStencilLevel(coinsStencil(t), 2), csr, coarsen(csr, 2)} {
+		applyAVXMatchesGo(t, lv)
+	}
+}
+
+// applyAVXMatchesGo compares lv.applyL with and without the AVX kernels
+// bit for bit for block widths 1 to 13.
+func applyAVXMatchesGo(t *testing.T, lv *level) {
+	t.Helper()
 	rng := rand.New(rand.NewPCG(3, 9))
 	for m := 1; m <= 13; m++ {
 		x := newBlock(lv.n, m)
@@ -289,7 +301,7 @@ func TestStencilAVXMatchesGo(t *testing.T) {
 		useAVX = true
 		for k := range ya.v {
 			if math.Float64bits(ya.v[k]) != math.Float64bits(yb.v[k]) {
-				t.Fatalf("m = %d, entry %d: AVX %v, Go %v", m, k, ya.v[k], yb.v[k])
+				t.Fatalf("%d nodes, m = %d, entry %d: AVX %v, Go %v", lv.n, m, k, ya.v[k], yb.v[k])
 			}
 		}
 	}
