@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 
@@ -135,6 +136,39 @@ func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*St
 		sg.nnz += 2 * k
 	}
 	return sg, nil
+}
+
+// EstimateStencilGraphBytes returns the peak number of bytes
+// PixelStencilGraph allocates for a w x h image with the given radius:
+// the K float32 weights of every pixel (4·K bytes a node, K the offsets
+// of the radius, every slot stored whether or not its edge is kept), the
+// offsets (three arrays of K ints, the last grown by appending), the
+// stencil of PixelGraph and the per-chunk counts. The feature planes are
+// the caller's and not included. Nonsensical sizes give 0; sides above
+// 2^24 pixels and results too large for int64 saturate at math.MaxInt64.
+func EstimateStencilGraphBytes(w, h, radius int) int64 {
+	if w < 1 || h < 1 || radius < 1 {
+		return 0
+	}
+	if w > 1<<24 || h > 1<<24 {
+		return math.MaxInt64
+	}
+	r := clampRadius(w, h, radius)
+	ry := min(r, h-1)
+	k := -1.0 // dx = dy = 0 is no offset
+	for dy := -ry; dy <= ry; dy++ {
+		k += float64(2*groupHalfWidth(r, dy, w) + 1)
+	}
+	n := float64(w) * float64(h)
+	groups := float64(2*ry + 2)
+	b := allocBytes(4*k*n) + // the weights
+		2*allocBytes(8*k) + 2*allocBytes(8*k) + // dx, dy; lin grown by append
+		2*allocBytes(8*k) + 3*allocBytes(8*groups) + // PixelGraph's stencil
+		allocBytes(8*float64((h+3)/4)) + 8<<10 // per-chunk counts, headers, closures, slack
+	if b >= math.MaxInt64 {
+		return math.MaxInt64
+	}
+	return int64(b)
 }
 
 // Nodes returns the number of pixels w·h.

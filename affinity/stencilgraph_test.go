@@ -3,6 +3,8 @@ package affinity
 import (
 	"bytes"
 	"fmt"
+	"math"
+	"runtime"
 	"strings"
 	"testing"
 )
@@ -162,5 +164,38 @@ func TestStencilGraphBadInput(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
 		}
+	}
+}
+
+// TestEstimateStencilGraphBytes: the estimate covers what the build of
+// the stencil form allocates (runtime.MemStats.TotalAlloc) and is not far
+// above it, and it is about half of the compressed rows' estimate at
+// r = 5 (4 bytes an entry against 8, with every slot counted).
+func TestEstimateStencilGraphBytes(t *testing.T) {
+	for _, c := range []struct{ w, h, r int }{{152, 192, 5}, {64, 40, 1}, {30, 30, 12}, {7, 300, 5}} {
+		f := blobImage(3, c.w, c.h, 0.02)
+		var m0, m1 runtime.MemStats
+		runtime.GC()
+		runtime.ReadMemStats(&m0)
+		_, err := PixelStencilGraph(f, c.w, c.h, PixelParams{Radius: c.r, SigmaI: 0.1, SigmaX: 4}, 1)
+		runtime.ReadMemStats(&m1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		used := int64(m1.TotalAlloc - m0.TotalAlloc)
+		est := EstimateStencilGraphBytes(c.w, c.h, c.r)
+		if used > est || float64(used) < 0.8*float64(est) {
+			t.Errorf("%dx%d r=%d: allocated %d bytes, estimate %d", c.w, c.h, c.r, used, est)
+		}
+		t.Logf("%dx%d r=%d: allocated %d bytes, estimate %d", c.w, c.h, c.r, used, est)
+	}
+	if r := float64(EstimateStencilGraphBytes(1152, 912, 5)) / float64(EstimatePixelGraphBytes(1152, 912, 5)); r < 0.45 || r > 0.55 {
+		t.Errorf("stencil over compressed rows at 1152 x 912, r = 5: %.3f, want about 0.5", r)
+	}
+	if EstimateStencilGraphBytes(0, 5, 5) != 0 || EstimateStencilGraphBytes(5, 5, 0) != 0 {
+		t.Error("empty sizes should estimate 0")
+	}
+	if EstimateStencilGraphBytes(1<<25, 1<<25, 5) != math.MaxInt64 {
+		t.Error("huge size should saturate")
 	}
 }

@@ -40,6 +40,19 @@ const (
 	objectBytesPerPixel = 96
 )
 
+// stencilLevelBytes is, per node, what the eigensolver keeps besides the
+// graph and its blocks when it works on the pixel graph in stencil form
+// (the k-way cut): the input level's arrays (degree, diagonal, D^-1/2,
+// z0 and the interpolation weights, 8 bytes each, the aggregate and
+// member lists, 4 each, the row lengths while the level is built, 8:
+// 64 bytes) and the coarse levels in compressed rows, summed per input
+// node: on the coins photograph enlarged to 1,050,624 nodes the first
+// coarse level had 262,694 nodes and 9.0 M entries (8 bytes each, about
+// 85 bytes an input node with its arrays), the deeper ones a quarter of
+// that each (113 bytes in all), rounded up. No copy of the input graph
+// is made (segment/eigen, SmallestStencil).
+const stencilLevelBytes = 192
+
 // eigenBlocks is the number of n x m float64 blocks a LOBPCG solve holds
 // at once (X, AX, R, W, AW, P, AP, their next values and scratch;
 // segment/eigen/lobpcg.go), counted with room for the pool's spares.
@@ -81,7 +94,15 @@ func EstimateStages(w, h, planes int, p Params) []StageBytes {
 		before += grainBytesPerPixel * npix
 	}
 	var graph, csr, nodes float64
-	if sp == 0 {
+	// The k-way cut of the pixel graph builds it in stencil form
+	// (affinity.PixelStencilGraph, half the bytes of compressed rows at
+	// r = 5) and solves on it without a copy.
+	stencil := sp == 0 && p.Method == MethodKway
+	if stencil {
+		csr = float64(affinity.EstimateStencilGraphBytes(w, h, p.Radius))
+		nodes = npix
+		graph = before + csr
+	} else if sp == 0 {
 		csr = float64(affinity.EstimatePixelGraphBytes(w, h, p.Radius))
 		nodes = npix
 		graph = before + csr
@@ -103,14 +124,23 @@ func EstimateStages(w, h, planes int, p Params) []StageBytes {
 	}
 	// Cuts: the graph, the solver's copy of it (level 0) and its coarser
 	// levels (together about as large again), per-node level arrays,
-	// a subgraph of a part, and the LOBPCG blocks of the widest solve.
+	// a subgraph of a part, and the LOBPCG blocks of the widest solve;
+	// in stencil form the graph, the levels of stencilLevelBytes and the
+	// blocks. The k-way solve asks for Segments pairs, or MaxSegments+1
+	// when the count is chosen from the eigengap (kwayWith).
 	k := topEigenpairs
 	if p.Method == MethodKway {
-		k = max(p.Segments, p.MaxSegments+1)
+		k = p.Segments
+		if k == 0 {
+			k = p.MaxSegments + 1
+		}
 	}
 	want := k - 1
 	m := float64(want+max(1, (want+1)/6)) + 1 // the block (eigen's blockSize) and z0
 	cuts := before + 4*csr + nodes*80 + eigenBlocks*8*m*nodes + regionBytesPerPixel*npix
+	if stencil {
+		cuts = before + csr + nodes*stencilLevelBytes + eigenBlocks*8*m*nodes + regionBytesPerPixel*npix
+	}
 	est := []StageBytes{{"graph", sat(graph)}, {"cuts", sat(cuts)}}
 	if p.Classes >= 2 || p.Background == BackgroundLines {
 		obj := before + csr + regionBytesPerPixel*npix + objectBytesPerPixel*npix
