@@ -12,9 +12,9 @@ import "golang.org/x/sys/cpu"
 // the Go code's bit for bit; they only run faster.
 var useAVX = cpu.X86.HasAVX
 
-// stencilRows6, stencilRows4 and stencilRows2 compute, for rows
+// stencilRows6, stencilRows5, stencilRows3 and stencilRows2 compute, for rows
 // consecutive rows starting at the pointers, y[c] = x[c] - s·Σ_f ws[f]·t[lm[f]+c]
-// for 6, 4 or 2 columns c; stride is the block width m (the distance
+// for 6, 5, 3 or 2 columns c; stride is the block width m (the distance
 // between rows in t, x and y), k the number of offsets (ws advances by k
 // a row, s by one). Every t[lm[f]+c] read must lie inside the block.
 //
@@ -22,7 +22,10 @@ var useAVX = cpu.X86.HasAVX
 func stencilRows6(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
 
 //go:noescape
-func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+func stencilRows5(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func stencilRows3(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
 
 //go:noescape
 func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
@@ -43,16 +46,19 @@ func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, gro
 //go:noescape
 func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
 
-// csrRows6, csrRows4 and csrRows2 are the kernels of the compressed-row
+// csrRows6, csrRows5, csrRows3 and csrRows2 are the kernels of the compressed-row
 // product (level.mulRowsAVX; stencil_amd64.s): for rows rows from the
 // pointers, y[c] = x[c] - s·Σ_p wt[p]·t[col[p]·stride + c] over p =
-// rowPtr[i]..rowPtr[i+1]-1, for 6, 4 or 2 columns c.
+// rowPtr[i]..rowPtr[i+1]-1, for 6, 5, 3 or 2 columns c.
 //
 //go:noescape
 func csrRows6(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
 
 //go:noescape
-func csrRows4(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+func csrRows5(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+//go:noescape
+func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
 
 //go:noescape
 func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)

@@ -11,10 +11,6 @@ func stencilRows6(t *float64, lm *int, k int, ws *float32, s *float64, x *float6
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
-	panic("eigen: no AVX kernel on this platform")
-}
-
 func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
@@ -31,10 +27,22 @@ func csrRows6(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func csrRows4(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+func stencilRows5(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func stencilRows3(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func csrRows5(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }

@@ -289,9 +289,8 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 }
 
 // mulRowsAVX is mulRows with the kernels of stencil_amd64.s, the columns
-// grouped as mulRows groups them (a group of 5 as 4 columns and the last
-// 2, a group of 3 as its first 2 and last 2; the single column in Go),
-// so the result is mulRows' bit for bit.
+// grouped as mulRows groups them (6, 5, 3 and 2 columns in the kernels,
+// the single column in Go), so the result is mulRows' bit for bit.
 func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 	m := x.m
 	rows := r1 - r0
@@ -305,12 +304,10 @@ func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 			kern(csrRows6, c0)
 			c0 += 6
 		case rest == 5:
-			kern(csrRows4, c0)
-			kern(csrRows2, c0+3)
+			kern(csrRows5, c0)
 			c0 += 5
 		case rest >= 3:
-			kern(csrRows2, c0)
-			kern(csrRows2, c0+1)
+			kern(csrRows3, c0)
 			c0 += 3
 		case rest == 2:
 			kern(csrRows2, c0)

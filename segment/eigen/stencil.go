@@ -88,13 +88,11 @@ func (op *stencilOp) mulRows(lm []int, s []float64, y, x, tmp *block, r0, r1 int
 }
 
 // mulRowsAVX is mulRows on rows r0..r1-1, all in range (inRange), with
-// the kernels of stencil_amd64.s. The columns are grouped as mulRowsGo
-// groups them, so that the same columns take the single-column pass
-// split by parity; a group of 5 is computed as 4 columns and the last 2
-// of them, a group of 3 as its first 2 and last 2 (the column computed
-// twice gets the same value twice). Each kernel's lane does the Go
-// loop's operations in its order, so the result is mulRowsGo's bit for
-// bit (TestStencilProductMatchesCSR, TestStencilAVXMatchesGo).
+// the kernels of stencil_amd64.s (groups of 6, 5, 3 and 2 columns). The
+// columns are grouped as mulRowsGo groups them, so that the same columns
+// take the single-column pass split by parity. Each kernel's lane does
+// the Go loop's operations in its order, so the result is mulRowsGo's
+// bit for bit (TestStencilProductMatchesCSR, TestStencilAVXMatchesGo).
 func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
 	m, k := x.m, op.k
 	rows := r1 - r0
@@ -108,12 +106,10 @@ func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 
 			kern(stencilRows6, c0)
 			c0 += 6
 		case rest == 5:
-			kern(stencilRows4, c0)
-			kern(stencilRows2, c0+3)
+			kern(stencilRows5, c0)
 			c0 += 5
 		case rest >= 3:
-			kern(stencilRows2, c0)
-			kern(stencilRows2, c0+1)
+			kern(stencilRows3, c0)
 			c0 += 3
 		case rest == 2:
 			kern(stencilRows2, c0)

@@ -8,7 +8,7 @@
 //	acc[c] = Σ_f float64(ws[f]) · t[lm[f] + c]   (f = 0..k-1 in order)
 //	y[c]   = x[c] - s · acc[c]
 //
-// for the W columns c of the group (W = 6, 4 or 2). Every lane does the
+// for the W columns c of the group (W = 6, 5, 3 or 2). Every lane does the
 // scalar code's operations in its order (one multiply, then one add, per
 // f; no fused multiply-add), so the result is the Go loop's bit for bit.
 // Rows are taken two at a time, their sums independent chains.
@@ -119,94 +119,6 @@ fin6s:
 	VMOVUPD X12, 32(R11)
 
 done6:
-	VZEROUPPER
-	RET
-
-// func stencilRows4(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
-TEXT ·stencilRows4(SB), NOSPLIT, $0-72
-	MOVQ t+0(FP), SI
-	MOVQ lm+8(FP), DI
-	MOVQ k+16(FP), CX
-	MOVQ ws+24(FP), R8
-	MOVQ s+32(FP), R9
-	MOVQ x+40(FP), R10
-	MOVQ y+48(FP), R11
-	MOVQ stride+56(FP), R12
-	SHLQ $3, R12
-	MOVQ rows+64(FP), R13
-	LEAQ (R8)(CX*4), DX
-
-pair4:
-	CMPQ R13, $2
-	JLT  single4
-	VXORPD Y0, Y0, Y0
-	VXORPD Y5, Y5, Y5
-	XORQ BX, BX
-	TESTQ CX, CX
-	JEQ  fin4p
-
-loop4p:
-	MOVQ (DI)(BX*8), AX
-	LEAQ (SI)(AX*8), AX
-	VBROADCASTSS (R8)(BX*4), X2
-	VCVTPS2PD X2, Y2
-	VBROADCASTSS (DX)(BX*4), X3
-	VCVTPS2PD X3, Y3
-	VMULPD (AX), Y2, Y4
-	VADDPD Y4, Y0, Y0
-	VMULPD (AX)(R12*1), Y3, Y8
-	VADDPD Y8, Y5, Y5
-	INCQ BX
-	CMPQ BX, CX
-	JLT  loop4p
-
-fin4p:
-	VBROADCASTSD (R9), Y10
-	VMULPD Y10, Y0, Y0
-	VMOVUPD (R10), Y11
-	VSUBPD Y0, Y11, Y11
-	VMOVUPD Y11, (R11)
-	VBROADCASTSD 8(R9), Y10
-	VMULPD Y10, Y5, Y5
-	VMOVUPD (R10)(R12*1), Y11
-	VSUBPD Y5, Y11, Y11
-	VMOVUPD Y11, (R11)(R12*1)
-	LEAQ (SI)(R12*2), SI
-	LEAQ (R10)(R12*2), R10
-	LEAQ (R11)(R12*2), R11
-	ADDQ $16, R9
-	LEAQ (DX)(CX*4), R8
-	LEAQ (R8)(CX*4), DX
-	SUBQ $2, R13
-	JMP  pair4
-
-single4:
-	TESTQ R13, R13
-	JEQ  done4
-	VXORPD Y0, Y0, Y0
-	XORQ BX, BX
-	TESTQ CX, CX
-	JEQ  fin4s
-
-loop4s:
-	MOVQ (DI)(BX*8), AX
-	LEAQ (SI)(AX*8), AX
-	VBROADCASTSS (R8)(BX*4), X2
-	VCVTPS2PD X2, Y2
-	VMULPD (AX), Y2, Y4
-	VADDPD Y4, Y0, Y0
-	INCQ BX
-	CMPQ BX, CX
-	JLT  loop4s
-
-fin4s:
-	VBROADCASTSD (R9), Y10
-	VMULPD Y10, Y0, Y0
-	VMOVUPD (R10), Y11
-	VSUBPD Y0, Y11, Y11
-	VMOVUPD Y11, (R11)
-
-done4:
 	VZEROUPPER
 	RET
 
@@ -363,55 +275,6 @@ done6:
 	VZEROUPPER
 	RET
 
-// func csrRows4(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
-TEXT ·csrRows4(SB), NOSPLIT, $0-72
-	MOVQ t+0(FP), SI
-	MOVQ rowPtr+8(FP), DI
-	MOVQ col+16(FP), R8
-	MOVQ wt+24(FP), R9
-	MOVQ s+32(FP), R10
-	MOVQ x+40(FP), R11
-	MOVQ y+48(FP), DX
-	MOVQ stride+56(FP), R12
-	SHLQ $3, R12
-	MOVQ rows+64(FP), R13
-
-row4:
-	TESTQ R13, R13
-	JEQ  done4
-	MOVQ (DI), BX
-	MOVQ 8(DI), CX
-	VXORPD Y0, Y0, Y0
-
-inner4:
-	CMPQ BX, CX
-	JGE  fin4
-	MOVLQSX (R8)(BX*4), AX
-	IMULQ R12, AX
-	VBROADCASTSS (R9)(BX*4), X2
-	VCVTPS2PD X2, Y2
-	VMULPD (SI)(AX*1), Y2, Y4
-	VADDPD Y4, Y0, Y0
-	INCQ BX
-	JMP  inner4
-
-fin4:
-	VBROADCASTSD (R10), Y6
-	VMULPD Y6, Y0, Y0
-	VMOVUPD (R11), Y7
-	VSUBPD Y0, Y7, Y7
-	VMOVUPD Y7, (DX)
-	ADDQ $8, DI
-	ADDQ $8, R10
-	ADDQ R12, R11
-	ADDQ R12, DX
-	DECQ R13
-	JMP  row4
-
-done4:
-	VZEROUPPER
-	RET
-
 // func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
 TEXT ·csrRows2(SB), NOSPLIT, $0-72
 	MOVQ t+0(FP), SI
@@ -458,5 +321,335 @@ fin2:
 	JMP  row2
 
 done2:
+	VZEROUPPER
+	RET
+
+// func stencilRows5(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·stencilRows5(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ lm+8(FP), DI
+	MOVQ k+16(FP), CX
+	MOVQ ws+24(FP), R8
+	MOVQ s+32(FP), R9
+	MOVQ x+40(FP), R10
+	MOVQ y+48(FP), R11
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+	LEAQ (R8)(CX*4), DX
+
+pair5:
+	CMPQ R13, $2
+	JLT  single5
+	VXORPD Y0, Y0, Y0
+	VXORPD X1, X1, X1
+	VXORPD Y5, Y5, Y5
+	VXORPD X6, X6, X6
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin5p
+
+loop5p:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VBROADCASTSS (DX)(BX*4), X3
+	VCVTPS2PD X3, Y3
+	VMULPD 0(AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULSD 32(AX), X2, X7
+	VADDSD X7, X1, X1
+	VMULPD 0(AX)(R12*1), Y3, Y8
+	VADDPD Y8, Y5, Y5
+	VMULSD 32(AX)(R12*1), X3, X9
+	VADDSD X9, X6, X6
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop5p
+
+fin5p:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD 0(R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, 0(R11)
+	VMULSD X10, X1, X1
+	VMOVSD 32(R10), X12
+	VSUBSD X1, X12, X12
+	VMOVSD X12, 32(R11)
+	VBROADCASTSD 8(R9), Y10
+	VMULPD Y10, Y5, Y5
+	VMOVUPD 0(R10)(R12*1), Y11
+	VSUBPD Y5, Y11, Y11
+	VMOVUPD Y11, 0(R11)(R12*1)
+	VMULSD X10, X6, X6
+	VMOVSD 32(R10)(R12*1), X12
+	VSUBSD X6, X12, X12
+	VMOVSD X12, 32(R11)(R12*1)
+	LEAQ (SI)(R12*2), SI
+	LEAQ (R10)(R12*2), R10
+	LEAQ (R11)(R12*2), R11
+	ADDQ $16, R9
+	LEAQ (DX)(CX*4), R8
+	LEAQ (R8)(CX*4), DX
+	SUBQ $2, R13
+	JMP  pair5
+
+single5:
+	TESTQ R13, R13
+	JEQ  done5
+	VXORPD Y0, Y0, Y0
+	VXORPD X1, X1, X1
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin5s
+
+loop5s:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD 0(AX), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULSD 32(AX), X2, X7
+	VADDSD X7, X1, X1
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop5s
+
+fin5s:
+	VBROADCASTSD (R9), Y10
+	VMULPD Y10, Y0, Y0
+	VMOVUPD 0(R10), Y11
+	VSUBPD Y0, Y11, Y11
+	VMOVUPD Y11, 0(R11)
+	VMULSD X10, X1, X1
+	VMOVSD 32(R10), X12
+	VSUBSD X1, X12, X12
+	VMOVSD X12, 32(R11)
+
+done5:
+	VZEROUPPER
+	RET
+
+// func csrRows5(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows5(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+crow5:
+	TESTQ R13, R13
+	JEQ  cdone5
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD Y0, Y0, Y0
+	VXORPD X1, X1, X1
+
+cinner5:
+	CMPQ BX, CX
+	JGE  cfin5
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VBROADCASTSS (R9)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD 0(SI)(AX*1), Y2, Y4
+	VADDPD Y4, Y0, Y0
+	VMULSD 32(SI)(AX*1), X2, X5
+	VADDSD X5, X1, X1
+	INCQ BX
+	JMP  cinner5
+
+cfin5:
+	VBROADCASTSD (R10), Y6
+	VMULPD Y6, Y0, Y0
+	VMOVUPD 0(R11), Y7
+	VSUBPD Y0, Y7, Y7
+	VMOVUPD Y7, 0(DX)
+	VMULSD X6, X1, X1
+	VMOVSD 32(R11), X8
+	VSUBSD X1, X8, X8
+	VMOVSD X8, 32(DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  crow5
+
+cdone5:
+	VZEROUPPER
+	RET
+
+// func stencilRows3(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·stencilRows3(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ lm+8(FP), DI
+	MOVQ k+16(FP), CX
+	MOVQ ws+24(FP), R8
+	MOVQ s+32(FP), R9
+	MOVQ x+40(FP), R10
+	MOVQ y+48(FP), R11
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+	LEAQ (R8)(CX*4), DX
+
+pair3:
+	CMPQ R13, $2
+	JLT  single3
+	VXORPD X0, X0, X0
+	VXORPD X1, X1, X1
+	VXORPD X5, X5, X5
+	VXORPD X6, X6, X6
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin3p
+
+loop3p:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VBROADCASTSS (DX)(BX*4), X3
+	VCVTPS2PD X3, Y3
+	VMULPD 0(AX), X2, X4
+	VADDPD X4, X0, X0
+	VMULSD 16(AX), X2, X7
+	VADDSD X7, X1, X1
+	VMULPD 0(AX)(R12*1), X3, X8
+	VADDPD X8, X5, X5
+	VMULSD 16(AX)(R12*1), X3, X9
+	VADDSD X9, X6, X6
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop3p
+
+fin3p:
+	VBROADCASTSD (R9), Y10
+	VMULPD X10, X0, X0
+	VMOVUPD 0(R10), X11
+	VSUBPD X0, X11, X11
+	VMOVUPD X11, 0(R11)
+	VMULSD X10, X1, X1
+	VMOVSD 16(R10), X12
+	VSUBSD X1, X12, X12
+	VMOVSD X12, 16(R11)
+	VBROADCASTSD 8(R9), Y10
+	VMULPD X10, X5, X5
+	VMOVUPD 0(R10)(R12*1), X11
+	VSUBPD X5, X11, X11
+	VMOVUPD X11, 0(R11)(R12*1)
+	VMULSD X10, X6, X6
+	VMOVSD 16(R10)(R12*1), X12
+	VSUBSD X6, X12, X12
+	VMOVSD X12, 16(R11)(R12*1)
+	LEAQ (SI)(R12*2), SI
+	LEAQ (R10)(R12*2), R10
+	LEAQ (R11)(R12*2), R11
+	ADDQ $16, R9
+	LEAQ (DX)(CX*4), R8
+	LEAQ (R8)(CX*4), DX
+	SUBQ $2, R13
+	JMP  pair3
+
+single3:
+	TESTQ R13, R13
+	JEQ  done3
+	VXORPD X0, X0, X0
+	VXORPD X1, X1, X1
+	XORQ BX, BX
+	TESTQ CX, CX
+	JEQ  fin3s
+
+loop3s:
+	MOVQ (DI)(BX*8), AX
+	LEAQ (SI)(AX*8), AX
+	VBROADCASTSS (R8)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD 0(AX), X2, X4
+	VADDPD X4, X0, X0
+	VMULSD 16(AX), X2, X7
+	VADDSD X7, X1, X1
+	INCQ BX
+	CMPQ BX, CX
+	JLT  loop3s
+
+fin3s:
+	VBROADCASTSD (R9), Y10
+	VMULPD X10, X0, X0
+	VMOVUPD 0(R10), X11
+	VSUBPD X0, X11, X11
+	VMOVUPD X11, 0(R11)
+	VMULSD X10, X1, X1
+	VMOVSD 16(R10), X12
+	VSUBSD X1, X12, X12
+	VMOVSD X12, 16(R11)
+
+done3:
+	VZEROUPPER
+	RET
+
+// func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows3(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+crow3:
+	TESTQ R13, R13
+	JEQ  cdone3
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD X0, X0, X0
+	VXORPD X1, X1, X1
+
+cinner3:
+	CMPQ BX, CX
+	JGE  cfin3
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VBROADCASTSS (R9)(BX*4), X2
+	VCVTPS2PD X2, Y2
+	VMULPD 0(SI)(AX*1), X2, X4
+	VADDPD X4, X0, X0
+	VMULSD 16(SI)(AX*1), X2, X5
+	VADDSD X5, X1, X1
+	INCQ BX
+	JMP  cinner3
+
+cfin3:
+	VBROADCASTSD (R10), Y6
+	VMULPD X6, X0, X0
+	VMOVUPD 0(R11), X7
+	VSUBPD X0, X7, X7
+	VMOVUPD X7, 0(DX)
+	VMULSD X6, X1, X1
+	VMOVSD 16(R11), X8
+	VSUBSD X1, X8, X8
+	VMOVSD X8, 16(DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  crow3
+
+cdone3:
 	VZEROUPPER
 	RET

@@ -261,8 +261,8 @@ func BenchmarkSmallestStencilScaled(b *testing.B) {
 // (stencil_amd64.s) against the Go loops bit for bit on the coins pixel
 // graph in stencil form and in compressed rows and on its first coarse
 // level (self loops, rows of every length), for block widths 1 to 13
-// (every column grouping, including the groups of 5 and 3 computed with
-// overlapping kernels), with values of both signs, zeros and signed
+// (every column grouping: the kernels of 6, 5, 3 and 2 columns and the
+// single column in Go), with values of both signs, zeros and signed
 // zeros in the block. Where the kernels are
 // not available (another architecture, no AVX, the purego tag) there is
 // nothing to compare and the test says so.
