@@ -33,22 +33,39 @@ func coarsen(lv *level, workers int) *level {
 		}
 		best, bw, wmax := -1, -1.0, 0.0
 		si := lv.s[i]
-		cols, wts := lv.row(i, cb, wb)
-		if lv.sg != nil {
-			cb, wb = cols, wts
-		}
-		for p, jj := range cols {
-			j := int(jj)
-			if j == i {
-				continue
+		if sg := lv.sg; sg != nil {
+			// The stencil's slots in order: its neighbours in ascending
+			// order, as the compressed rows give them (a slot holding 0
+			// is no edge, and every neighbour outside the image is 0).
+			for f, v := range sg.wt[i*sg.k : i*sg.k+sg.k] {
+				if v == 0 {
+					continue
+				}
+				j := i + sg.lin[f]
+				w := float64(v) * si * lv.s[j]
+				wmax = max(wmax, w)
+				if mate[j] != unmatched {
+					continue
+				}
+				if w > bw {
+					best, bw = j, w
+				}
 			}
-			w := float64(wts[p]) * si * lv.s[j]
-			wmax = max(wmax, w)
-			if mate[j] != unmatched {
-				continue
-			}
-			if w > bw {
-				best, bw = j, w
+		} else {
+			cols, wts := lv.row(i, cb, wb)
+			for p, jj := range cols {
+				j := int(jj)
+				if j == i {
+					continue
+				}
+				w := float64(wts[p]) * si * lv.s[j]
+				wmax = max(wmax, w)
+				if mate[j] != unmatched {
+					continue
+				}
+				if w > bw {
+					best, bw = j, w
+				}
 			}
 		}
 		if best >= 0 && bw >= strongFraction*wmax {
@@ -178,10 +195,22 @@ func coarsen(lv *level, workers int) *level {
 		for a := a0; a < a1; a++ {
 			cols = cols[:0]
 			for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
-				rc, rw := lv.row(int(u), cb, wb)
-				if lv.sg != nil {
-					cb, wb = rc, rw
+				if sg := lv.sg; sg != nil {
+					// The stencil's slots in order, as in matching.
+					for f, v := range sg.wt[int(u)*sg.k : int(u)*sg.k+sg.k] {
+						if v == 0 {
+							continue
+						}
+						b := agg[int(u)+sg.lin[f]]
+						if !seen[b] {
+							seen[b] = true
+							cols = append(cols, b)
+						}
+						acc[b] += float64(v)
+					}
+					continue
 				}
+				rc, rw := lv.row(int(u), cb, wb)
 				for p, j := range rc {
 					b := agg[j]
 					if !seen[b] {
