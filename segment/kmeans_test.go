@@ -285,3 +285,85 @@ func BenchmarkKmeans116k(b *testing.B) {
 		})
 	}
 }
+
+// TestKmeansSampledRenumbered checks that iterating the sample's end
+// points once per partition (their centres put in one order,
+// canonicalOrder) gives the partition that iterating every restart's end
+// point as it came gives (the former rule, written out here): on planted
+// clusters (seeds 13850-13852, chosen for this test), weighted and not,
+// the two label maps are equal up to the numbering of the clusters.
+func TestKmeansSampledRenumbered(t *testing.T) {
+	for _, c := range []struct {
+		n        int
+		spread   float64
+		weighted bool
+		seed     uint64
+	}{
+		{kmeansSampleMin + 999, 0.3, false, 13850},
+		{70000, 0.5, true, 13851},
+		{90000, 0.8, false, 13852},
+	} {
+		t.Run(fmt.Sprintf("n%d_s%g_w%v", c.n, c.spread, c.weighted), func(t *testing.T) {
+			const dim, k = 6, 6
+			x, _ := clusteredRows(c.n, dim, k, c.spread, c.seed)
+			var wt []float64
+			if c.weighted {
+				rng := rand.New(rand.NewPCG(c.seed, 2))
+				wt = make([]float64, c.n)
+				for i := range wt {
+					wt[i] = float64(1 + rng.IntN(9))
+				}
+			}
+			got, err := kmeansContext(context.Background(), x, c.n, dim, k, wt, kmeansRestarts, 5, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// The former rule: the sample, the restarts on it, every
+			// end point with distinct centres (as numbered) iterated on
+			// all points, the least inertia (ties to the lower restart).
+			stride := (c.n + kmeansSample - 1) / kmeansSample
+			ns := (c.n + stride - 1) / stride
+			xs := make([]float64, ns*dim)
+			var ws []float64
+			if wt != nil {
+				ws = make([]float64, ns)
+			}
+			for s := 0; s < ns; s++ {
+				copy(xs[s*dim:(s+1)*dim], x[s*stride*dim:(s*stride+1)*dim])
+				if wt != nil {
+					ws[s] = wt[s*stride]
+				}
+			}
+			var want []int32
+			best := math.Inf(1)
+			var seen [][]float64
+			distinct := 0
+			for r := 0; r < kmeansRestarts; r++ {
+				rng := rand.New(rand.NewPCG(5, 0x6b6d65616e73+uint64(r)))
+				_, cent, _ := lloyd(context.Background(), xs, ns, dim, k, ws, rng)
+				if slices.ContainsFunc(seen, func(s []float64) bool { return slices.Equal(s, cent) }) {
+					continue
+				}
+				seen = append(seen, slices.Clone(cent))
+				distinct++
+				lab, in := iterate(context.Background(), x, c.n, dim, k, wt, cent)
+				if in < best {
+					want, best = lab, in
+				}
+			}
+			// Equal up to numbering: a one-to-one map of the labels.
+			fw, bw := map[int32]int32{}, map[int32]int32{}
+			for i := range got {
+				a, b := got[i], want[i]
+				if m, ok := fw[a]; ok && m != b {
+					t.Fatalf("point %d: label %d maps to %d and %d", i, a, m, b)
+				}
+				if m, ok := bw[b]; ok && m != a {
+					t.Fatalf("point %d: label %d comes from %d and %d", i, b, m, a)
+				}
+				fw[a], bw[b] = b, a
+			}
+			t.Logf("%d restarts with distinct numbered centres", distinct)
+		})
+	}
+}
