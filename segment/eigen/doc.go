@@ -26,4 +26,10 @@
 // indices, half the memory of compressed rows at r = 5); its input level
 // is never copied into compressed rows, and the result is the one
 // Smallest gives on the compressed rows, bit for bit.
+//
+// On amd64 with AVX the sparse products and the dense block operations
+// of LOBPCG run in assembly kernels (stencil_amd64.s, blockops_amd64.s)
+// that do, lane by lane, the Go loops' multiplies and adds in their
+// order, without fused multiply-adds: the results are the Go code's bit
+// for bit, on any machine. The purego build tag leaves them out.
 package eigen
