@@ -150,7 +150,28 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 			ct[q*nb+p] = c[p*ma+q]
 		}
 	}
-	avx := useAVX && ma > 0 && nb > 0
+	if useAVX && ma > 0 && nb > 0 {
+		segs := nonEmpty(bs)
+		parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
+			acc := make([]float64, ma)
+			for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
+				// Input by input, the sums carried in acc: the same
+				// additions as over the inputs' row side by side.
+				var ini *float64
+				for t, sg := range segs {
+					m := sg.b.m
+					row := &sg.b.v[i*m]
+					if t == len(segs)-1 {
+						combineRow(&a.v[i*ma], ma, row, m, &c[sg.off*ma], 1, ini)
+						break
+					}
+					combineRow(&acc[0], ma, row, m, &c[sg.off*ma], 0, ini)
+					ini = &acc[0]
+				}
+			}
+		})
+		return
+	}
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
@@ -159,13 +180,29 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 			} else {
 				gatherRow(s, bs, i)
 			}
-			if avx {
-				combineRow(&a.v[i*ma], ma, &s[0], nb, &c[0], 1)
-				continue
-			}
 			dotRows(a.v[i*ma:i*ma+ma], s, ct, true)
 		}
 	})
+}
+
+// segment is a block of nonzero width among several taken side by side,
+// with off its first column among them.
+type segment struct {
+	b   *block
+	off int
+}
+
+// nonEmpty lists the blocks of bs of nonzero width with their offsets.
+func nonEmpty(bs []*block) []segment {
+	var segs []segment
+	off := 0
+	for _, b := range bs {
+		if b.m > 0 {
+			segs = append(segs, segment{b, off})
+		}
+		off += b.m
+	}
+	return segs
 }
 
 // deflate removes the null-vector component: a = (I - z0 z0ᵀ) a.
@@ -392,7 +429,8 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 	if mc := width(outs); useAVX && ns > 0 && mc > 0 {
 		// All outputs at once in the AVX kernel, from the coefficient
 		// matrices side by side (ns × mc), through one row of scratch:
-		// each output entry is the same running sum as in dotRows.
+		// each output entry is the same running sum as in dotRows, and
+		// no input row is gathered.
 		cc := make([]float64, ns*mc)
 		off := 0
 		for t, c := range cs {
@@ -402,16 +440,19 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 			}
 			off += mt
 		}
+		segs := nonEmpty(in)
 		parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
-			s := make([]float64, ns)
 			row := make([]float64, mc)
 			for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-				if len(in) == 1 {
-					s = in[0].v[i*ns : i*ns+ns]
-				} else {
-					gatherRow(s, in, i)
+				// Input by input, the sums carried in row: the same
+				// additions as over the inputs' row side by side. Each
+				// input row is read before any output row is written.
+				var ini *float64
+				for _, sg := range segs {
+					m := sg.b.m
+					combineRow(&row[0], mc, &sg.b.v[i*m], m, &cc[sg.off*mc], 0, ini)
+					ini = &row[0]
 				}
-				combineRow(&row[0], mc, &s[0], ns, &cc[0], 0)
 				off := 0
 				for _, out := range outs {
 					copy(out.v[i*out.m:(i+1)*out.m], row[off:off+out.m])

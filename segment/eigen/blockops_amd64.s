@@ -116,19 +116,23 @@ done:
 	VZEROUPPER
 	RET
 
-// combineRow sets dst[q] = Σ_p s[p]·c[p·mc + q] for q = 0..mc-1, or
-// subtracts the sum from dst[q] when sub is not 0: the Go loop of
-// dotRows (one running sum a column, over p in order, from +0), with
-// lanes over q in groups of 12, 8, 6, 4, 2 and 1 columns.
+// combineRow sets dst[q] = a_q + Σ_p s[p]·c[p·mc + q] for q = 0..mc-1,
+// or subtracts that from dst[q] when sub is not 0: the Go loop of
+// dotRows (one running sum a column, over p in order), with lanes over q
+// in groups of 12, 8, 6, 4, 2 and 1 columns. The sums start from a_q =
+// ini[q] when ini is not nil, else from +0: a sum over several inputs is
+// made by calls that each continue the previous one's stored sums,
+// exactly as one pass over the inputs side by side.
 //
-// func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
-TEXT ·combineRow(SB), NOSPLIT, $0-48
+// func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int, ini *float64)
+TEXT ·combineRow(SB), NOSPLIT, $0-56
 	MOVQ dst+0(FP), DI
 	MOVQ mc+8(FP), R8
 	MOVQ s+16(FP), SI
 	MOVQ ns+24(FP), R9
 	MOVQ c+32(FP), DX
 	MOVQ sub+40(FP), R10
+	MOVQ ini+48(FP), R12
 	MOVQ R8, R11
 	SHLQ $3, R11
 	XORQ CX, CX
@@ -138,9 +142,17 @@ w12:
 	SUBQ CX, AX
 	CMPQ AX, $12
 	JLT  w8
+	TESTQ R12, R12
+	JNE  w12i
 	VXORPD Y0, Y0, Y0
 	VXORPD Y1, Y1, Y1
 	VXORPD Y2, Y2, Y2
+	JMP  w12z
+w12i:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), Y1
+	VMOVUPD 64(R12)(CX*8), Y2
+w12z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w12l:
@@ -181,8 +193,15 @@ w8:
 	SUBQ CX, AX
 	CMPQ AX, $8
 	JLT  w6
+	TESTQ R12, R12
+	JNE  w8i
 	VXORPD Y0, Y0, Y0
 	VXORPD Y1, Y1, Y1
+	JMP  w8z
+w8i:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), Y1
+w8z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w8l:
@@ -217,8 +236,15 @@ w6:
 	SUBQ CX, AX
 	CMPQ AX, $6
 	JLT  w4
+	TESTQ R12, R12
+	JNE  w6i
 	VXORPD Y0, Y0, Y0
 	VXORPD X1, X1, X1
+	JMP  w6z
+w6i:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), X1
+w6z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w6l:
@@ -253,7 +279,13 @@ w4:
 	SUBQ CX, AX
 	CMPQ AX, $4
 	JLT  w2
+	TESTQ R12, R12
+	JNE  w4i
 	VXORPD Y0, Y0, Y0
+	JMP  w4z
+w4i:
+	VMOVUPD 0(R12)(CX*8), Y0
+w4z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w4l:
@@ -282,7 +314,13 @@ w2:
 	SUBQ CX, AX
 	CMPQ AX, $2
 	JLT  w1
+	TESTQ R12, R12
+	JNE  w2i
 	VXORPD X0, X0, X0
+	JMP  w2z
+w2i:
+	VMOVUPD 0(R12)(CX*8), X0
+w2z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w2l:
@@ -311,7 +349,13 @@ w1:
 	SUBQ CX, AX
 	CMPQ AX, $1
 	JLT  done
+	TESTQ R12, R12
+	JNE  w1i
 	VXORPD X0, X0, X0
+	JMP  w1z
+w1i:
+	VMOVSD 0(R12)(CX*8), X0
+w1z:
 	LEAQ (DX)(CX*8), AX
 	XORQ BX, BX
 w1l:

@@ -39,12 +39,13 @@ func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float6
 func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, groups int)
 
 // combineRow is the AVX kernel of dotRows with the coefficients
-// untransposed (blockops_amd64.s): dst[q] = Σ_p s[p]·c[p·mc + q] for q =
-// 0..mc-1 (ns terms p, in order, from +0), subtracted from dst[q] instead
-// when sub is not 0.
+// untransposed (blockops_amd64.s): dst[q] = a_q + Σ_p s[p]·c[p·mc + q]
+// for q = 0..mc-1 (ns terms p, in order), subtracted from dst[q] instead
+// when sub is not 0; a_q = ini[q] when ini is not nil (the stored sums of
+// a call over the inputs before), else +0.
 //
 //go:noescape
-func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int)
+func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int, ini *float64)
 
 // csrRows6, csrRows5, csrRows3 and csrRows2 are the kernels of the compressed-row
 // product (level.mulRowsAVX; stencil_amd64.s): for rows rows from the

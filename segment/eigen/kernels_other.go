@@ -19,7 +19,7 @@ func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, gro
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int) {
+func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int, ini *float64) {
 	panic("eigen: no AVX kernel on this platform")
 }
 

@@ -312,8 +312,8 @@ func applyAVXMatchesGo(t *testing.T, lv *level) {
 // blockops_amd64.s) against the Go loops bit for bit, on the chunks of
 // the coins pixel graph (409 rows and fewer, so every chunk ends with
 // rows outside the groups of four), for blocks of widths 1 to 13 taken
-// one and several at a time, with zeros and signed zeros among the
-// values.
+// one and several at a time (one of them empty), with zeros and signed
+// zeros among the values.
 func TestBlockKernelsAVXMatchGo(t *testing.T) {
 	if !useAVX {
 		t.Skip("no AVX kernels on this machine or build: the block operations run in Go alone")
@@ -359,7 +359,7 @@ func TestBlockKernelsAVXMatchGo(t *testing.T) {
 		defer func() { useAVX = true }()
 		return avx, f()
 	}
-	for _, ws := range [][]int{{1}, {2}, {3}, {4}, {5}, {6}, {7}, {12}, {13}, {6, 6}, {6, 5, 3}, {1, 2}, {4, 6, 2}} {
+	for _, ws := range [][]int{{1}, {2}, {3}, {4}, {5}, {6}, {7}, {12}, {13}, {6, 6}, {6, 5, 3}, {1, 2}, {4, 6, 2}, {6, 0, 3}} {
 		var in []*block
 		ns := 0
 		for _, w := range ws {
