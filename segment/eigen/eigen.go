@@ -300,11 +300,14 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 				if tol >= looseTol {
 					smooth = 1
 				}
+				lv, m := levels[l], x.m
 				for sm := 0; sm < smooth; sm++ {
-					levels[l].applyL(lx, x, tmp, workers)
-					for t := range x.v {
-						x.v[t] -= 0.7 * lx.v[t]
-					}
+					lv.applyL(lx, x, tmp, workers)
+					parallel.For(lv.nchunks(), workers, func(c int) {
+						for t := lv.chunks[c] * m; t < lv.chunks[c+1]*m; t++ {
+							x.v[t] -= 0.7 * lx.v[t]
+						}
+					})
 				}
 				pl.put(lx, tmp)
 			}

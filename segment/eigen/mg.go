@@ -165,12 +165,14 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	prolongAdd(lv, next, xc, x, alpha, mg.workers)
 	for s := 0; s < post; s++ {
 		residual()
-		for i := 0; i < n; i++ {
-			f := mg.omega / lv.diag[i]
-			for q := 0; q < m; q++ {
-				x.v[i*m+q] += f * r.v[i*m+q]
+		parallel.For(lv.nchunks(), mg.workers, func(c int) {
+			for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
+				f := mg.omega / lv.diag[i]
+				for q := 0; q < m; q++ {
+					x.v[i*m+q] += f * r.v[i*m+q]
+				}
 			}
-		}
+		})
 	}
 	// No deflation here: Pz maps z0 of the coarse level to z0 of the fine
 	// one and L z0 = 0, so null-vector components only pass upwards, and
