@@ -243,12 +243,15 @@ func coarsen(lv *level, workers int) *level {
 	if nch == 1 {
 		c = newLevel(nc, rowPtr, outs[0].col, outs[0].wt)
 	} else {
-		col := make([]int32, 0, total)
-		wt := make([]float32, 0, total)
-		for _, co := range outs {
-			col = append(col, co.col...)
-			wt = append(wt, co.wt...)
-		}
+		// The chunks' rows copied to their places in parallel (at a
+		// million nodes the serial copy was 0.2 s of the first level).
+		col := make([]int32, total)
+		wt := make([]float32, total)
+		parallel.For(nch, workers, func(ch int) {
+			at := rowPtr[min(ch*rowsPerChunk, nc)]
+			copy(col[at:], outs[ch].col)
+			copy(wt[at:], outs[ch].wt)
+		})
 		c = newLevel(nc, rowPtr, col, wt)
 	}
 	lv.pz = make([]float64, n)
