@@ -208,14 +208,7 @@ func TestKmeansSampled(t *testing.T) {
 		t.Run(fmt.Sprintf("n%d_s%g_w%v", c.n, c.spread, c.weighted), func(t *testing.T) {
 			const dim, k = 6, 6
 			x, _ := clusteredRows(c.n, dim, k, c.spread, c.seed)
-			var wt []float64
-			if c.weighted {
-				rng := rand.New(rand.NewPCG(c.seed, 2))
-				wt = make([]float64, c.n)
-				for i := range wt {
-					wt[i] = float64(1 + rng.IntN(9))
-				}
-			}
+			wt := plantedWeights(c.n, c.seed, c.weighted)
 			got, err := kmeansContext(context.Background(), x, c.n, dim, k, wt, kmeansRestarts, 5, 2)
 			if err != nil {
 				t.Fatal(err)
@@ -306,14 +299,7 @@ func TestKmeansSampledRenumbered(t *testing.T) {
 		t.Run(fmt.Sprintf("n%d_s%g_w%v", c.n, c.spread, c.weighted), func(t *testing.T) {
 			const dim, k = 6, 6
 			x, _ := clusteredRows(c.n, dim, k, c.spread, c.seed)
-			var wt []float64
-			if c.weighted {
-				rng := rand.New(rand.NewPCG(c.seed, 2))
-				wt = make([]float64, c.n)
-				for i := range wt {
-					wt[i] = float64(1 + rng.IntN(9))
-				}
-			}
+			wt := plantedWeights(c.n, c.seed, c.weighted)
 			got, err := kmeansContext(context.Background(), x, c.n, dim, k, wt, kmeansRestarts, 5, 2)
 			if err != nil {
 				t.Fatal(err)
@@ -366,4 +352,18 @@ func TestKmeansSampledRenumbered(t *testing.T) {
 			t.Logf("%d restarts with distinct numbered centres", distinct)
 		})
 	}
+}
+
+// plantedWeights returns integer weights 1..9 for n points (seeded), or
+// nil when not weighted.
+func plantedWeights(n int, seed uint64, weighted bool) []float64 {
+	if !weighted {
+		return nil
+	}
+	rng := rand.New(rand.NewPCG(seed, 2))
+	wt := make([]float64, n)
+	for i := range wt {
+		wt[i] = float64(1 + rng.IntN(9))
+	}
+	return wt
 }

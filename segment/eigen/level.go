@@ -270,22 +270,27 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 				yr[c0+1] = xr[c0+1] - si*a1
 				c0 += 2
 			default:
-				// One column: two partial sums (even and odd entries)
-				// keep the additions from waiting on each other.
-				var a0, a1 float64
-				p := 0
-				for ; p+2 <= len(cols); p += 2 {
-					a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
-					a1 += float64(wts[p+1]) * t[int(cols[p+1])*m+c0]
-				}
-				if p < len(cols) {
-					a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
-				}
-				yr[c0] = xr[c0] - si*(a0+a1)
+				yr[c0] = xr[c0] - si*oneColumn(cols, wts, t, m, c0)
 				c0++
 			}
 		}
 	}
+}
+
+// oneColumn is the sum over a row's entries (columns cols, weights wts)
+// of the weight times column c0 of the m-column block t: two partial sums
+// (even and odd entries) keep the additions from waiting on each other.
+func oneColumn(cols []int32, wts []float32, t []float64, m, c0 int) float64 {
+	var a0, a1 float64
+	p := 0
+	for ; p+2 <= len(cols); p += 2 {
+		a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
+		a1 += float64(wts[p+1]) * t[int(cols[p+1])*m+c0]
+	}
+	if p < len(cols) {
+		a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
+	}
+	return a0 + a1
 }
 
 // mulRowsAVX is mulRows with the kernels of stencil_amd64.s, the columns
@@ -313,21 +318,10 @@ func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 			kern(csrRows2, c0)
 			c0 += 2
 		default:
-			t := tmp.v
 			for i := r0; i < r1; i++ {
 				cols := lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]]
 				wts := lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
-				wts = wts[:len(cols)]
-				var a0, a1 float64
-				p := 0
-				for ; p+2 <= len(cols); p += 2 {
-					a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
-					a1 += float64(wts[p+1]) * t[int(cols[p+1])*m+c0]
-				}
-				if p < len(cols) {
-					a0 += float64(wts[p]) * t[int(cols[p])*m+c0]
-				}
-				y.v[i*m+c0] = x.v[i*m+c0] - lv.s[i]*(a0+a1)
+				y.v[i*m+c0] = x.v[i*m+c0] - lv.s[i]*oneColumn(cols, wts[:len(cols)], tmp.v, m, c0)
 			}
 			c0++
 		}
