@@ -4,12 +4,11 @@ import (
 	"context"
 	"runtime"
 	"runtime/debug"
-	"runtime/metrics"
-	"sync"
 	"testing"
 	"time"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/internal/heappeak"
 )
 
 // TestEstimateStagesStencil: the memory estimate of the k-way cut of the
@@ -54,30 +53,10 @@ func TestEstimateStagesStencil(t *testing.T) {
 	in := Input{Width: w, Height: h, Planes: f, Luminance: f[0]}
 	defer debug.SetGCPercent(debug.SetGCPercent(10))
 	runtime.GC()
-	sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
-	metrics.Read(sample)
-	base := sample[0].Value.Uint64()
-	var peak uint64
-	done := make(chan struct{})
-	var wg sync.WaitGroup
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		tk := time.NewTicker(time.Millisecond)
-		defer tk.Stop()
-		for {
-			metrics.Read(sample)
-			peak = max(peak, sample[0].Value.Uint64())
-			select {
-			case <-done:
-				return
-			case <-tk.C:
-			}
-		}
-	}()
+	base := heappeak.Live()
+	stop := heappeak.Watch(time.Millisecond)
 	res, err := Run(context.Background(), in, p)
-	close(done)
-	wg.Wait()
+	peak := stop()
 	if err != nil {
 		t.Fatal(err)
 	}

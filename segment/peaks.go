@@ -5,13 +5,14 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
 
 // basins partitions the masked pixels of a crop (cw x ch) into the
 // catchment basins of the significant maxima of v, by flooding from the
 // top (watershed by immersion, Vincent and Soille 1991, here on -v): the
 // pixels are taken in descending order of v (ties by index) and merged
-// with their 4-neighbours' components (union-find). Where two components
+// with their 4-neighbours' components (unionfind.Forest). Where two components
 // meet at a pixel of value s, the lower one (by peak) stays apart if its
 // dynamic, its peak minus s (Grimaud 1992), exceeds both h and rel times
 // its peak, and it holds at least minSize pixels; otherwise it joins the
@@ -34,20 +35,13 @@ func basins(v []float32, mask []bool, cw, ch int, h, rel float32, minSize int) (
 		}
 		return a - b
 	})
-	parent := make([]int32, len(v))
+	parent := make(unionfind.Forest, len(v)) // -1: not flooded yet
 	for i := range parent {
 		parent[i] = -1
 	}
 	peak := make([]float32, len(v))
 	size := make([]int, len(v))
 	apart := make([]bool, len(v))
-	find := func(i int32) int32 {
-		for parent[i] != i {
-			parent[i] = parent[parent[i]]
-			i = parent[i]
-		}
-		return i
-	}
 	higher := func(a, b int32) int { // peaks descending, then index
 		switch {
 		case peak[a] > peak[b]:
@@ -66,7 +60,7 @@ func basins(v []float32, mask []bool, cw, ch int, h, rel float32, minSize int) (
 			if xx < 0 || yy < 0 || xx >= cw || yy >= ch || parent[yy*cw+xx] < 0 {
 				continue
 			}
-			if r := find(int32(yy*cw + xx)); !slices.Contains(roots, r) {
+			if r := parent.Find(int32(yy*cw + xx)); !slices.Contains(roots, r) {
 				roots = append(roots, r)
 			}
 		}
@@ -94,7 +88,7 @@ func basins(v []float32, mask []bool, cw, ch int, h, rel float32, minSize int) (
 		if parent[c] < 0 {
 			continue
 		}
-		r := find(int32(c))
+		r := parent.Find(int32(c))
 		l, ok := id[r]
 		if !ok {
 			l = int32(len(id))

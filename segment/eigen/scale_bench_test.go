@@ -7,12 +7,11 @@ import (
 	"math"
 	"os"
 	"runtime"
-	"runtime/metrics"
-	"sync"
 	"testing"
 	"time"
 
 	"github.com/cleave-seg/cleave/affinity"
+	"github.com/cleave-seg/cleave/segment/internal/heappeak"
 )
 
 // coinsScaled returns the coins pixel graph (r = 5, sigma_I = 0.1,
@@ -80,34 +79,9 @@ func coinsScaledPlane(tb testing.TB, f int) ([]float32, int, int) {
 	return plane, w, h
 }
 
-// heapPeak samples the live heap (runtime/metrics, no stop of the world)
-// every 2 ms until stop is called, which returns the largest value seen.
-func heapPeak() (stop func() uint64) {
-	sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
-	var peak uint64
-	done := make(chan struct{})
-	var wg sync.WaitGroup
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		t := time.NewTicker(2 * time.Millisecond)
-		defer t.Stop()
-		for {
-			metrics.Read(sample)
-			peak = max(peak, sample[0].Value.Uint64())
-			select {
-			case <-done:
-				return
-			case <-t.C:
-			}
-		}
-	}()
-	return func() uint64 {
-		close(done)
-		wg.Wait()
-		return peak
-	}
-}
+// heapPeak samples the live heap every 2 ms until stop is called, which
+// returns the largest value seen (heappeak.Watch).
+func heapPeak() (stop func() uint64) { return heappeak.Watch(2 * time.Millisecond) }
 
 // BenchmarkSmallestPixelScaled solves for the 6 smallest eigenpairs
 // (tol 1e-6) of the coins pixel graph enlarged 1, 2, 3, 4 and 6 times
