@@ -144,7 +144,14 @@ func peakPieces(g *affinity.Graph, o *objectCrop, region []int32, regions int, s
 		if len(rc) < 2*minPart {
 			continue
 		}
-		d, b := partDistance(rc, cw)
+		// The whole object's distance map is known already (refineOne).
+		var d []float64
+		var b partBox
+		if o.whole != nil && len(rc) == len(nodes) {
+			d, b = o.whole.dist, partBox{0, 0, cw, o.ch}
+		} else {
+			d, b = partDistance(rc, cw)
+		}
 		if slices.Max(d) > peakRadius {
 			continue
 		}
