@@ -270,9 +270,15 @@ func (o *objectCrop) evident(drop float64, part []int, inA []bool) bool {
 // coreEvident is evident for a neck of the half-maximum core
 // (coreDistance): the core's neck comes from a dip in contrast, so a seam
 // along it is no further evidence; it needs depth, a step in contrast or
-// concavities.
+// concavities. The core's outline is a level set of the noisy contrast
+// and wanders by about a pixel more than the object's outline, so its
+// neck must be deeper than concaveNoise, as a concavity of a blurred
+// outline must: a dark inclusion in a single cell (a nucleolus) dents
+// its core by up to about a pixel (othershapes.py bodies, choice seed
+// 1104: an isolated cell cut in two through its nucleolus by a core neck
+// of just over 1 px, which passed the former floor neckNoise).
 func (o *objectCrop) coreEvident(drop float64, part []int, inA []bool) bool {
-	return drop > neckNoise || o.differ(part, inA) || concaveCut(o.nodes, o.cw, o.ch, part, inA)
+	return drop > concaveNoise || o.differ(part, inA) || concaveCut(o.nodes, o.cw, o.ch, part, inA)
 }
 
 // concaveNoise is the least convexity defect (cutConcavity) taken for a

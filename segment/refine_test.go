@@ -796,3 +796,47 @@ func TestRefineSmallSpots(t *testing.T) {
 		return 0.8 * (1 + 0.05*math.Sin(x))
 	})
 }
+
+// A split through a neck of the half-maximum core (coreEvident) of a
+// uniform disc of radius 12 cut straight down its middle: the sides are
+// alike (no step in contrast) and the cut ends on the convex outline (no
+// concavity), so only the neck's depth can carry it. A core neck 1.5 px
+// deep is within what the noisy half-maximum outline wanders
+// (concaveNoise) and is refused; one 2.5 px deep is taken. Darkening one
+// side by half (a step in contrast, differ) carries even a shallow neck.
+func TestCoreEvidentFloor(t *testing.T) {
+	const cw, ch, R = 30, 30, 12.0
+	rng := rand.New(rand.NewPCG(3, 4))
+	var nodes []int
+	for c := 0; c < cw*ch; c++ {
+		if math.Hypot(float64(c%cw)-14.5, float64(c/cw)-14.5) <= R {
+			nodes = append(nodes, c)
+		}
+	}
+	feat := make([]float32, cw*ch)
+	for _, c := range nodes {
+		feat[c] = float32(1 + 0.05*rng.NormFloat64())
+	}
+	o := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: 0.05}
+	part := make([]int, len(nodes))
+	inA := make([]bool, len(nodes))
+	for k, c := range nodes {
+		part[k], inA[k] = k, c%cw < 15
+	}
+	for _, tc := range []struct {
+		drop float64
+		want bool
+	}{{0.5, false}, {1.5, false}, {2.5, true}} {
+		if got := o.coreEvident(tc.drop, part, inA); got != tc.want {
+			t.Errorf("uniform disc, core neck %.1f px deep: evident %v, want %v", tc.drop, got, tc.want)
+		}
+	}
+	for k, c := range nodes {
+		if inA[k] {
+			feat[c] *= 0.5
+		}
+	}
+	if !o.coreEvident(0.5, part, inA) {
+		t.Error("disc with one half at half the contrast, core neck 0.5 px deep: not evident, want evident (a step in contrast)")
+	}
+}

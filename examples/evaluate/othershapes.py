@@ -11,7 +11,10 @@ it; bright on dark, blur 1.5 px, uneven light, Poisson and read noise), membrane
 textured interiors), lobes (scikit-image's binary_blobs: lobed shapes that
 never touch, each connected shape one object), specks (150-300 spots of
 radius 1.5-4 px, a third touching another), bodies (large textured cells
-of radius 18-40 px with dark nucleoli, a third touching another).
+of radius 18-40 px with dark nucleoli, a third touching another), sizes
+(domed nuclei of radius 4-30 px in one field, a third touching another),
+hollow (discs of radius 7-22 px with a bright rim and a dim interior, a
+quarter touching another; the mask is the filled disc).
 
     othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png, .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
@@ -186,6 +189,87 @@ def bodies(rng, n=512):
     light = 1 + 0.3 * np.cos(xx / n * 2.2 + 0.7) * np.sin(yy / n * 2.9 + 0.2)
     return noise(img * light + 0.05, rng, 200, 0.02), truth
 
+def sizes(rng, n=512):
+    """Round and oval nuclei whose radii span 4-30 px in one field (drawn
+    log-uniformly), a third touching an earlier one, each with its own
+    brightness and a domed profile, blur 1.2 px, uneven light: one field
+    with objects of very different scales."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    yy, xx = np.mgrid[0:n, 0:n]
+    lab, tries = 0, 0
+    target = rng.integers(25, 60)
+    cells = []
+    while lab < target and tries < 4000:
+        tries += 1
+        a = float(np.exp(rng.uniform(np.log(4), np.log(30))))
+        b = a / rng.uniform(1, 1.5); th = rng.uniform(0, np.pi)
+        if cells and rng.random() < 0.33:
+            cy, cx, ca = cells[rng.integers(len(cells))]
+            ang = rng.uniform(0, 2 * np.pi)
+            cy, cx = cy + (ca + b) * 0.9 * np.sin(ang), cx + (ca + b) * 0.9 * np.cos(ang)
+        else:
+            cy, cx = rng.uniform(a, n - a), rng.uniform(a, n - a)
+        y0, y1 = int(max(cy - a - 2, 0)), int(min(cy + a + 3, n))
+        x0, x1 = int(max(cx - a - 2, 0)), int(min(cx + a + 3, n))
+        if y1 <= y0 or x1 <= x0:
+            continue
+        u = (xx[y0:y1, x0:x1] - cx) * np.cos(th) + (yy[y0:y1, x0:x1] - cy) * np.sin(th)
+        v = -(xx[y0:y1, x0:x1] - cx) * np.sin(th) + (yy[y0:y1, x0:x1] - cy) * np.cos(th)
+        q = (u / a) ** 2 + (v / b) ** 2
+        m = q <= 1
+        if m.sum() < 30:
+            continue
+        sub = truth[y0:y1, x0:x1]
+        if (sub[m] > 0).mean() > 0.05:
+            continue
+        m &= sub == 0
+        lab += 1
+        sub[m] = lab
+        img[y0:y1, x0:x1][m] = rng.uniform(0.35, 1.0) * (1 - 0.35 * q[m])
+        cells.append((cy, cx, a))
+    img = filters.gaussian(img, 1.2)
+    light = 1 + 0.3 * np.sin(xx / n * 2.1 + 0.4) * np.cos(yy / n * 1.3)
+    return noise(img * light + 0.06, rng, 200, 0.02), truth
+
+def hollow(rng, n=512):
+    """Ring-like objects: discs of radius 7-22 px whose 2-4 px rim is
+    bright and whose interior is at 25-50 % of the rim (vesicles, shells,
+    stained envelopes), a quarter touching an earlier one, blur 1 px,
+    uneven light. The mask is the filled disc."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    yy, xx = np.mgrid[0:n, 0:n]
+    lab, tries = 0, 0
+    target = rng.integers(20, 45)
+    cells = []
+    while lab < target and tries < 4000:
+        tries += 1
+        r = rng.uniform(7, 22)
+        if cells and rng.random() < 0.25:
+            cy, cx, cr = cells[rng.integers(len(cells))]
+            ang = rng.uniform(0, 2 * np.pi)
+            cy, cx = cy + (cr + r + 0.5) * np.sin(ang), cx + (cr + r + 0.5) * np.cos(ang)
+        else:
+            cy, cx = rng.uniform(r, n - r), rng.uniform(r, n - r)
+        y0, y1 = int(max(cy - r - 2, 0)), int(min(cy + r + 3, n))
+        x0, x1 = int(max(cx - r - 2, 0)), int(min(cx + r + 3, n))
+        if y1 <= y0 or x1 <= x0:
+            continue
+        d = np.hypot(yy[y0:y1, x0:x1] - cy, xx[y0:y1, x0:x1] - cx)
+        m = d <= r
+        sub = truth[y0:y1, x0:x1]
+        if m.sum() < 30 or (sub[m] > 0).any():
+            continue
+        lab += 1
+        sub[m] = lab
+        rim = rng.uniform(2, 4); level = rng.uniform(0.5, 1.0)
+        img[y0:y1, x0:x1][m] = np.where(d[m] >= r - rim, level, level * rng.uniform(0.25, 0.5))
+        cells.append((cy, cx, r))
+    img = filters.gaussian(img, 1.0)
+    light = 1 + 0.25 * np.cos(xx / n * 1.9 + 0.2) * np.sin(yy / n * 2.4 + 0.9)
+    return noise(img * light + 0.07, rng, 200, 0.02), truth
+
 
 def scores(pred, truth):
     iou, npred, ntrue = W.pair_ious(pred, truth)
@@ -242,7 +326,7 @@ def main():
         os.makedirs(out, exist_ok=True)
         for s in range(seed, seed + count):
             rng = np.random.default_rng(s)
-            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "bodies": bodies}[kind](rng)
+            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "bodies": bodies, "sizes": sizes, "hollow": hollow}[kind](rng)
             save(out, "%s-%d" % (kind, s), img, truth)
         return 0
     if len(sys.argv) >= 5 and sys.argv[1] == "score":
