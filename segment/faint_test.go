@@ -57,3 +57,46 @@ func TestFaintObjects(t *testing.T) {
 		}
 	}
 }
+
+// A dim square on a dark field near zero, the case the softened score is
+// for: background 0.003 with pixel noise 0.006 (normalized units), the
+// square 16x16 at five times the background, 8x8 superpixels. A
+// superpixel mean has noise 0.006/8 = 0.00075, a quarter of the
+// background itself, so log(Ī/B̄) spreads by about 0.25 and the square's
+// log 5 = 1.6 stands only about 6.4 of those spreads out, short of
+// faintSigmas; softened by c = 0.006 the background's scores spread by
+// about 0.083 and the square's log(0.021/0.009) = 0.85 stands about 10
+// out (Gaussian arithmetic). The square becomes one object region and
+// nothing else does.
+func TestFaintObjectsNearZeroField(t *testing.T) {
+	const w, h, cell = 128, 128, 8
+	r := rand.New(rand.NewPCG(9, 2))
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	nodeOf := make([]int32, w*h)
+	reg := make([]int32, w*h)
+	square := func(x, y int) bool { return x >= 64 && x < 80 && y >= 32 && y < 48 }
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			v := 0.003
+			if square(x, y) {
+				v = 0.015
+			}
+			lum[i] = float32(v + 0.006*r.NormFloat64())
+			field[i] = 0.003
+			nodeOf[i] = int32((y/cell)*(w/cell) + x/cell)
+		}
+	}
+	out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, []int32{0}, 0, BackgroundDark, 20)
+	if n != 2 || outCls[1] == 0 {
+		t.Fatalf("%d regions, classes %v; want 2 with the new one an object", n, outCls)
+	}
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			if got := out.At(x, y) == 1; got != square(x, y) {
+				t.Fatalf("pixel (%d,%d) in new region %v, want %v", x, y, got, square(x, y))
+			}
+		}
+	}
+}
