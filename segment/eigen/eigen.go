@@ -73,6 +73,17 @@ type Options struct {
 	// Seed seeds the random vectors used when the coarse levels supply
 	// fewer start vectors than the block needs.
 	Seed uint64
+	// Start, when set, replaces the coarse-to-fine start of the LOBPCG
+	// solve on the input graph: vectors of length N in the coordinates of
+	// L's eigenvectors z (for instance a parent graph's eigenvectors
+	// restricted to this subgraph's nodes, see segment's bisection). The
+	// block starts from the Rayleigh-Ritz vectors of their span with z0
+	// removed (Knyazev 2001 starts LOBPCG from any block; the closer its
+	// span to the wanted eigenvectors, the fewer steps), topped up with
+	// random vectors when the span is narrower than the block; the
+	// multilevel preconditioner is built as without it. Graphs solved
+	// densely ignore it. The result meets Tol either way.
+	Start [][]float64
 }
 
 // Result holds the k smallest eigenpairs of L.
@@ -208,6 +219,16 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 		}
 	}
 	n := lv0.n
+	for q, v := range opt.Start {
+		if len(v) != n {
+			return nil, fmt.Errorf("eigen: start vector %d has length %d, want %d (the number of nodes)", q, len(v), n)
+		}
+		for _, f := range v {
+			if math.IsNaN(f) || math.IsInf(f, 0) {
+				return nil, fmt.Errorf("eigen: start vector %d has a non-finite entry", q)
+			}
+		}
+	}
 	want := k - 1 // eigenpairs wanted besides z0
 	pl := solvePools.Get().(*pool)
 	defer func() {
@@ -290,8 +311,16 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 		} else {
 			x = newBlock(coarsest.n, 0)
 		}
-		for l := len(levels) - 1; l >= 0; l-- {
-			if l < len(levels)-1 {
+		top := len(levels) - 1
+		if len(opt.Start) > 0 {
+			// A start of the caller's replaces the coarse levels' vectors:
+			// only the input level is solved.
+			pl.put(x)
+			x = ritzStart(o, opt.Start, m, opt.Seed)
+			top = 0
+		}
+		for l := top; l >= 0; l-- {
+			if l < top {
 				xc := x
 				x = prolong(levels[l], levels[l+1], xc, workers, pl)
 				pl.put(xc)
@@ -311,7 +340,7 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 				}
 				pl.put(lx, tmp)
 			}
-			if l == len(levels)-1 && len(levels) > 1 {
+			if l == top && l == len(levels)-1 && len(levels) > 1 {
 				continue // exact dense solution of the coarsest level
 			}
 			if l > 0 && 3*m >= levels[l].n-1 {

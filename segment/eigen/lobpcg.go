@@ -354,3 +354,50 @@ func vnorm(a []float64) float64 { return math.Sqrt(vdot(a, a)) }
 
 // refreshEvery is the step interval at which L X is recomputed.
 const refreshEvery = 10
+
+// ritzStart is the start block of width m made from the caller's vectors
+// (Options.Start; each of length n): their span with z0 removed,
+// orthonormalized (svqb, dropping dependent directions), topped up with
+// random vectors when narrower than m, and rotated to its Rayleigh-Ritz
+// vectors, of which the m of least Ritz value are kept (the
+// Rayleigh-Ritz procedure, Golub and Van Loan section 8.1). lobpcg
+// orthonormalizes the block again and repeats the procedure on it.
+func ritzStart(o *ops, start [][]float64, m int, seed uint64) *block {
+	n, s := o.lv.n, len(start)
+	x := o.get(s)
+	for q, v := range start {
+		for i := 0; i < n; i++ {
+			x.v[i*s+q] = v[i]
+		}
+	}
+	o.deflate(x)
+	xo, _ := o.svqb(x, 1e-12)
+	o.put(x)
+	if xo.m < m {
+		xf := fillRandom(xo, m, seed)
+		o.put(xo)
+		o.deflate(xf)
+		xo, _ = o.svqb(xf, 1e-12)
+	}
+	if xo.m <= m {
+		return xo
+	}
+	w := xo.m
+	ax, tmp := o.get(w), o.get(w)
+	o.lv.applyL(ax, xo, tmp, o.workers)
+	_, c, err := symEig(w, o.gram(xo, ax))
+	o.put(ax, tmp)
+	if err != nil {
+		// No rotation: lobpcg's own Rayleigh-Ritz step takes the whole
+		// span instead (a wider block, the same result within Tol).
+		return xo
+	}
+	cm := make([]float64, w*m)
+	for i := 0; i < w; i++ {
+		copy(cm[i*m:i*m+m], c[i*w:i*w+m])
+	}
+	out := o.get(m)
+	o.combine(out, []*block{xo}, cm)
+	o.put(xo)
+	return out
+}
