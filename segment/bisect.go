@@ -33,6 +33,10 @@ type part struct {
 	nodes []int
 	area  int
 	id    int32 // node of the split tree (see cutTree)
+	// start holds, when the parent's solve found more than the Fiedler
+	// pair, the parent's vectors y_q = D^-1/2 z_q (q >= 1) at this part's
+	// nodes: the start of the part's own solve (eigen.Options.Start).
+	start [][]float64
 }
 
 type partHeap []part
@@ -225,6 +229,21 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 			k = min(topEigenpairs, sub.N)
 		}
 		opt := eigen.Options{Workers: p.workers, Seed: p.seed}
+		if pt.start != nil {
+			// The parent's low eigenvectors, restricted to the part and
+			// scaled by the part's own degrees (z = D^1/2 y), span nearly
+			// the part's low eigenvectors when the split cut off a small
+			// piece: the part's solve starts from them (warmStart).
+			deg := sub.Degrees()
+			opt.Start = make([][]float64, len(pt.start))
+			for q, y := range pt.start {
+				z := make([]float64, sub.N)
+				for i := range z {
+					z[i] = y[i] * math.Sqrt(deg[i])
+				}
+				opt.Start[q] = z
+			}
+		}
 		if !first {
 			// Only the order of the Fiedler vector's entries matters to the
 			// sweep, and a residual of splitTol already fixes it far more
@@ -272,8 +291,15 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 				b = append(b, i)
 			}
 		}
-		heap.Push(h, newPart(a, pt.id))
-		heap.Push(h, newPart(b, pt.id))
+		pa, pb := newPart(a, pt.id), newPart(b, pt.id)
+		if vecs := handedOn(ep.Vectors, opt.Start); vecs != nil {
+			if big := max(len(a), len(b)); float64(big) >= warmShare*float64(len(pt.nodes)) {
+				ya, yb := warmStart(vecs, deg, inA, len(a) > len(b), len(b) > len(a))
+				pa.start, pb.start = ya, yb
+			}
+		}
+		heap.Push(h, pa)
+		heap.Push(h, pb)
 		if tr != nil {
 			tr.ncut[pt.id] = s.ncut
 			tr.order = append(tr.order, pt.id)
@@ -303,6 +329,57 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 		res.tree = tr
 	}
 	return res, nil
+}
+
+// warmShare is the least share of a part's nodes that the larger side of
+// its split must keep to be handed the part's vectors as the start of
+// its own solve (part.start): when the split cuts off a small piece, the
+// low eigenvectors of what is left are nearly those of the part
+// restricted to it (a perturbation of a few rows of L), so its solve
+// starts there instead of from its coarse levels, at the same residual
+// target. A side of a balanced split has low eigenvectors of its own
+// and starts from its coarse levels as before.
+const warmShare = 0.9
+
+// handedOn returns the vectors a solved part hands on to the larger side
+// of its split (warmShare): those of the top-level solve (more than the
+// Fiedler pair, topEigenpairs), or, for a part that started from such
+// vectors itself (start, in its z coordinates), its Fiedler vector and
+// then its start, at most topEigenpairs-1 in all; nil otherwise.
+func handedOn(vecs [][]float64, start [][]float64) [][]float64 {
+	if len(vecs) > 2 {
+		return vecs[1:]
+	}
+	if len(start) == 0 || len(vecs) < 2 {
+		return nil
+	}
+	out := [][]float64{vecs[1]}
+	return append(out, start[:min(len(start), topEigenpairs-2)]...)
+}
+
+// warmStart splits vectors z_q of a part (vecs, in the part's node order;
+// deg its degrees) between the two sides of its split (inA) as y_q =
+// D^-1/2 z_q at each side's nodes, in their order, for the sides marked
+// (toA, toB; nil for the other).
+func warmStart(vecs [][]float64, deg []float64, inA []bool, toA, toB bool) (a, b [][]float64) {
+	for _, z := range vecs {
+		var ya, yb []float64
+		for i, v := range z {
+			y := v / math.Sqrt(deg[i])
+			if inA[i] && toA {
+				ya = append(ya, y)
+			} else if !inA[i] && toB {
+				yb = append(yb, y)
+			}
+		}
+		if toA {
+			a = append(a, ya)
+		}
+		if toB {
+			b = append(b, yb)
+		}
+	}
+	return a, b
 }
 
 // cutTree is the split tree of one recursive bisection. Every part is a
