@@ -744,6 +744,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// objects is an object map of this image.
 			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
 			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+			// fresh: obj is objectsFrom of the current contrast map,
+			// regions and classes, so the object map below needs no
+			// second pass when nothing has changed them since.
+			fresh := true
 			// Objects with no edge on their outline, or only a diffuse
 			// one, are shading (a glow, haze): their regions join the
 			// background, which is then estimated again with them. The
@@ -757,6 +761,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				if drop == nil {
 					break
 				}
+				fresh = false
 				dropped := make([]bool, nreg)
 				for i, l := range obj {
 					if drop[l] {
@@ -774,15 +779,23 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+				fresh = true
 			}
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
+				fresh = false
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 			}
 			if nodeOf != nil && p.Classes == 2 {
+				before := nreg
+				// faintObjects adds regions when it finds faint objects and
+				// leaves everything as it was otherwise.
 				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
 				reg = regions.Pix
+				if nreg != before {
+					fresh = false
+				}
 			}
 			// The class map is made only now, from the final classes:
 			// one plane less through the stages above.
@@ -793,7 +806,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					objectClassPixels++
 				}
 			}
-			obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+			if !fresh {
+				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+			}
 			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1), p.Workers)
 			obj, nobj = joinTouching(con, objects(obj), nobj)
 			stage("classes")
