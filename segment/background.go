@@ -189,9 +189,9 @@ const (
 	scaleWeakStrength = 20
 )
 
-// objectRadius is the typical object radius of an ObjectScale estimate,
+// ObjectRadius is the typical object radius of an ObjectScale estimate,
 // or 0 when there is none: not found, or a weak small scale.
-func objectRadius(sc affinity.ScaleEstimate) float64 {
+func ObjectRadius(sc affinity.ScaleEstimate) float64 {
 	if !sc.Found || (sc.Radius < scaleWeakRadius && sc.Strength < scaleWeakStrength) {
 		return 0
 	}

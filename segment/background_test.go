@@ -185,8 +185,8 @@ func TestObjectRadius(t *testing.T) {
 		{affinity.ScaleEstimate{Found: true, Radius: 11, Strength: 12}, 11},
 	}
 	for _, c := range cases {
-		if got := objectRadius(c.sc); got != c.want {
-			t.Errorf("objectRadius(%+v) = %v, want %v", c.sc, got, c.want)
+		if got := ObjectRadius(c.sc); got != c.want {
+			t.Errorf("ObjectRadius(%+v) = %v, want %v", c.sc, got, c.want)
 		}
 	}
 }

@@ -711,9 +711,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				return 0
 			}
 			if res.ObjectScale != nil {
-				return objectRadius(*res.ObjectScale)
+				return ObjectRadius(*res.ObjectScale)
 			}
-			return objectRadius(objectScaleOf(in, p.Grain, p.Workers))
+			return ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
 		cls, field := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		if p.Background == "" {

@@ -46,14 +46,12 @@ import (
 )
 
 // cleaveFlags is the one table of `cleave segment` flags recommended per
-// kind. Engine work changes it here. The haze scenes' --flatten 30 is
-// three times their nuclei's radius (about 10 px, the record's
-// object_scale), as the README's table of flags says.
+// kind. Engine work changes it here.
 var cleaveFlags = map[string][]string{
 	"nuclei":   {"--classes", "2", "--background", "dark"},
 	"plates":   {"--classes", "2", "--background", "bright", "--flatten", "30"},
 	"clusters": {"--classes", "2", "--background", "dark"},
-	"haze":     {"--classes", "2", "--background", "dark", "--flatten", "30", "--flatten-mode", "subtract"},
+	"haze":     {"--classes", "2", "--background", "dark", "--flatten-radii", "3", "--flatten-mode", "subtract"},
 	"stained":  {"--classes", "2", "--background", "bright"},
 	"surface":  {"--classes", "2", "--background", "bright", "--flatten", "30", "--grain", "on"},
 	"grains":   {"--background", "lines"},

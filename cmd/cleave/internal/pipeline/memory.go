@@ -46,7 +46,11 @@ func estimateImage(h imageio.Header, o *Options) []stageEstimate {
 	w, ht := h.Width, h.Height
 	n := float64(w) * float64(ht)
 	imagePlanes := 4 * n * float64(h.Channels)
-	fpeak, fkept := imageio.EstimateFeatureBytes(w, ht, h.Channels, o.Features)
+	fo := o.Features
+	if o.FlattenRadii > 0 {
+		fo.Flatten = 1 // a scale chosen per image: its planes are those of any scale
+	}
+	fpeak, fkept := imageio.EstimateFeatureBytes(w, ht, h.Channels, fo)
 	planes := 1
 	if o.Features.Space == imageio.SpaceLab {
 		planes = 3
@@ -102,7 +106,7 @@ func checkImageMemory(h imageio.Header, o *Options) error {
 			} else {
 				hint = "use fewer superpixels (superpixels N), or downsample the image"
 			}
-		case e.name == "features" && o.Features.Flatten > 0:
+		case e.name == "features" && (o.Features.Flatten > 0 || o.FlattenRadii > 0):
 			hint = "turn off flatten, or downsample the image"
 		}
 		// Parameter names are bare, as in segment's messages (Voice.Error

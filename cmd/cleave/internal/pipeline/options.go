@@ -11,7 +11,12 @@ type Options struct {
 	Load      imageio.LoadOptions
 	Selection imageio.Selection
 	Features  imageio.FeatureOptions
-	Params    segment.Params
+	// FlattenRadii, when above 0, sets Features.Flatten of each image to
+	// this many times its object radius, estimated on its unflattened
+	// luminance (affinity.ObjectScale); an image with no object scale is
+	// not flattened.
+	FlattenRadii float64
+	Params       segment.Params
 	// PixelSize is the size of one pixel in Unit for the region table
 	// (0: the size the file states, converted to Unit when both are
 	// metric lengths); Unit "" is DefaultUnit with a PixelSize, else the

@@ -10,12 +10,14 @@ import (
 	"io"
 	"io/fs"
 	"maps"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
 	"strings"
 	"time"
 
+	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/imageio"
 	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment"
@@ -46,6 +48,12 @@ type InputInfo struct {
 	// InvalidPixels counts floating-point pixels that are NaN or
 	// infinite: they join no region (label 0).
 	InvalidPixels int `json:"invalid_pixels,omitempty"`
+	// Flatten is the shading-correction scale in pixels that
+	// flatten-radii chose for this image (its object radius times
+	// flatten-radii), 0 when it was not flattened; FlattenRadius is the
+	// object radius it was taken from. Absent without flatten-radii.
+	Flatten       float64 `json:"flatten,omitempty"`
+	FlattenRadius float64 `json:"flatten_radius,omitempty"`
 }
 
 // Record is STEM.json: what was read, what was done, what came out.
@@ -131,6 +139,10 @@ func LabelsFormatFor(asked string, maxLabel int32) (format string, switched bool
 	}
 	return asked, false
 }
+
+// WarnNotFlattened marks the warning that flatten-radii found no object
+// scale and left the image unflattened.
+const WarnNotFlattened = "not-flattened"
 
 // LabelWarningCode marks the warning that the label map was written as a
 // TIFF because PNG could not hold its labels.
@@ -380,6 +392,10 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	}
 	rec.Regions, rec.Objects = res.NumRegions, res.NumObjects
 	rec.Warnings = append(append([]WarningInfo{}, stackWarnings(rec.Input, j.Options.EveryPlane, j.Voice)...), warningsOf(colourHint(res.Warnings, in.Info.Channels, j.Options.Features), j.Voice)...)
+	if j.Options.FlattenRadii > 0 && rec.Input.Flatten == 0 {
+		rec.Warnings = append(rec.Warnings, WarningInfo{Code: WarnNotFlattened, Message: j.Voice.Msg(
+			"no object scale was found in the image, so \x60flatten-radii\x60 left it unflattened; give the scale in pixels with \x60flatten\x60")})
+	}
 	pixelSize := pixelSizeFor(j.Options.PixelSize, j.Options.Unit, in.calibration)
 	rec.Input.PixelSize = pixelSize
 	tableSize, tableUnit := 0.0, ""
@@ -724,6 +740,12 @@ func loadSourceKeep(ctx context.Context, src *imageio.Source, o *Options, keepCh
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
+	if o.FlattenRadii > 0 {
+		if fopt.Flatten, in.Info.FlattenRadius, err = flattenScale(ctx, im, fopt, o.FlattenRadii, o.Params.Workers); err != nil {
+			return nil, err
+		}
+		in.Info.Flatten = fopt.Flatten
+	}
 	in.Features, err = imageio.MakeFeaturesContext(ctx, im, fopt, o.Params.Workers)
 	if err != nil {
 		return nil, err
@@ -731,6 +753,29 @@ func loadSourceKeep(ctx context.Context, src *imageio.Source, o *Options, keepCh
 	in.Info.InvalidPixels = in.Features.InvalidCount
 	in.featureSeconds = time.Since(t1).Seconds()
 	return in, nil
+}
+
+// flattenScale returns the shading-correction scale for im under
+// flatten-radii k: k times the object radius that affinity.ObjectScale
+// finds on the image's unflattened luminance (the features of fopt
+// without flattening), capped at the image's diagonal, and that radius;
+// 0, 0 when it finds none, or only the weak small scale of packed
+// boundaries or texture (segment.ObjectRadius): the image is then not
+// flattened, and the record warns. The scale estimate is the one the automatic
+// superpixel count makes, so a blob detector at the objects' own size
+// sets the background's scale instead of a number fitted to one kind of
+// scene.
+func flattenScale(ctx context.Context, im *imageio.Image, fopt imageio.FeatureOptions, k float64, workers int) (scale, radius float64, err error) {
+	fopt.Flatten = 0
+	f, err := imageio.MakeFeaturesContext(ctx, im, fopt, workers)
+	if err != nil {
+		return 0, 0, err
+	}
+	r := segment.ObjectRadius(affinity.ObjectScale(f.Planes[0], f.Width, f.Height, workers))
+	if r <= 0 {
+		return 0, 0, nil
+	}
+	return min(k*r, math.Hypot(float64(f.Width), float64(f.Height))), r, nil
 }
 
 // copyContext copies src to dst in steps of 1 MiB, stopping when ctx is

@@ -20,6 +20,7 @@ type Request struct {
 	MaxMegapixels float64 `json:"max-megapixels"`
 	Normalize     string  `json:"normalize"`
 	Flatten       float64 `json:"flatten"`
+	FlattenRadii  float64 `json:"flatten-radii"`
 	FlattenMode   string  `json:"flatten-mode"`
 	Features      string  `json:"features"`
 	Channel       Channel `json:"channel"`

@@ -16,6 +16,10 @@ import (
 // limit".
 const MinMaxMemory = 1 << 20
 
+// MaxFlattenRadii bounds Request.FlattenRadii: a background smoothed
+// over a hundred object radii is as flat as the image's own shading gets.
+const MaxFlattenRadii = 100
+
 // Options checks the request and converts it into the pipeline's typed
 // options, segmentations running on workers threads. Every error is in
 // what was asked: the imageio.OptionError or segment.ParamError of the
@@ -33,6 +37,13 @@ func (r Request) Options(workers int) (*Options, error) {
 	if maxDiag := r.MaxMegapixels * 1e6; r.Flatten > maxDiag {
 		return nil, fmt.Errorf("`flatten` %g is larger than the diagonal of any image within `max-megapixels` %g (at most %g pixels)", r.Flatten, r.MaxMegapixels, maxDiag)
 	}
+	if !(r.FlattenRadii >= 0 && r.FlattenRadii <= MaxFlattenRadii) {
+		return nil, fmt.Errorf("`flatten-radii` must be 0 (off) to %d object radii, got %v", MaxFlattenRadii, r.FlattenRadii)
+	}
+	if r.FlattenRadii > 0 && r.Flatten > 0 {
+		return nil, fmt.Errorf("give one of `flatten` (%g pixels) and `flatten-radii` (%g object radii), not both", r.Flatten, r.FlattenRadii)
+	}
+	o.FlattenRadii = r.FlattenRadii
 	o.Load = imageio.LoadOptions{MaxMegapixels: r.MaxMegapixels}
 	ch, ok := r.Channel.Index()
 	if !ok {
