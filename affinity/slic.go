@@ -56,8 +56,13 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 	}
 	s := newSLICState(f, w, h, p.Count, p.Compactness/100)
 	for it := 0; it < iters; it++ {
-		parallel.For(s.nb, workers, s.assign)
-		parallel.For(s.nb, workers, s.accumulate)
+		s.windows()
+		// A band's sums need only its own labels: each band is summed
+		// right after it is assigned, while its rows are in cache.
+		parallel.For(s.nb, workers, func(b int) {
+			s.assign(b)
+			s.accumulate(b)
+		})
 		s.update()
 	}
 	expected := w * h / s.k
@@ -85,6 +90,7 @@ type slicState struct {
 	bandSums   []float64   // nb blocks of k*(planes+3): count, Σx, Σy, ΣF
 	scratch    [][]float32 // per band: squared x distances in a window row
 	sumsStride int
+	win        [][4]int32 // each centre's window (window), set by windows
 }
 
 func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
@@ -183,7 +189,19 @@ func (s *slicState) window(c int) (x0, x1, y0, y1 int) {
 	return
 }
 
-// assign is the assignment step for band b. Centres are visited in index
+// windows sets win to every centre's window, once an iteration instead
+// of once a band.
+func (s *slicState) windows() {
+	if s.win == nil {
+		s.win = make([][4]int32, s.k)
+	}
+	for c := range s.win {
+		x0, x1, y0, y1 := s.window(c)
+		s.win[c] = [4]int32{int32(x0), int32(x1), int32(y0), int32(y1)}
+	}
+}
+
+// assign is the assignment step for band b (windows set). Centres are visited in index
 // order and a pixel moves only to a strictly nearer centre, so the result
 // is that of one sequential pass.
 func (s *slicState) assign(b int) {
@@ -196,9 +214,9 @@ func (s *slicState) assign(b int) {
 	}
 	planes := len(s.f)
 	dx2 := s.scratch[b]
-	for c := 0; c < s.k; c++ {
-		x0, x1, y0, y1 := s.window(c)
-		y0, y1 = max(y0, by0), min(y1, by1-1)
+	for c, wc := range s.win {
+		x0, x1 := int(wc[0]), int(wc[1])
+		y0, y1 := max(int(wc[2]), by0), min(int(wc[3]), by1-1)
 		if y0 > y1 || x0 > x1 {
 			continue
 		}
@@ -218,6 +236,10 @@ func (s *slicState) assign(b int) {
 			if planes == 1 {
 				frow := s.f[0][row : row+len(dx2)]
 				fc := s.cf[c]
+				if useAVX2 {
+					slicRowAVX2(&frow[0], &dx2[0], &drow[0], &lrow[0], len(dx2), fc, dy2, lab)
+					continue
+				}
 				frow, lrow := frow[:len(dx2)], lrow[:len(dx2)]
 				for x, d2 := range dx2 {
 					d := frow[x] - fc

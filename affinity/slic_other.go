@@ -1,0 +1,11 @@
+//go:build !amd64 || purego
+
+package affinity
+
+// useAVX2 is false off amd64 (or with the purego tag): SLIC's assignment
+// runs in Go alone and slicRowAVX2 is never called.
+var useAVX2 = false
+
+func slicRowAVX2(f *float32, dx2 *float32, dist *uint32, lab *int32, n int, fc float32, dy2 float32, label int32) {
+	panic("affinity: no AVX2 kernel on this platform")
+}
