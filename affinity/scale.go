@@ -453,8 +453,24 @@ func gaussBlur(v, dst, tmp []float32, w, h int, s float64, workers int) {
 
 // symTaps writes out[x] = k[0]·src[r][x] + Σ_j k[j]·(src[r-j][x] +
 // src[r+j][x]), two taps per sweep so each output is loaded and stored
-// fewer times.
+// fewer times; out must not overlap a row of src. Where useAVX2 is set
+// (r >= 1, at least eight outputs) symTapsAVX2 does the same operations
+// in the same order, eight outputs at a time in registers.
 func symTaps(out []float32, src [][]float32, k []float32) {
+	r := len(k) - 1
+	n := len(out)
+	if useAVX2 && r >= 1 && n >= 8 {
+		for _, s := range src {
+			_ = s[n-1] // every row holds the n sources the kernel reads
+		}
+		symTapsAVX2(&out[0], &src[0], &k[0], r, n)
+		return
+	}
+	symTapsGo(out, src, k)
+}
+
+// symTapsGo is symTaps in Go.
+func symTapsGo(out []float32, src [][]float32, k []float32) {
 	r := len(k) - 1
 	n := len(out)
 	c := src[r][:n]
@@ -497,7 +513,9 @@ func symTaps(out []float32, src [][]float32, k []float32) {
 // the frequencies of a blob of σ ≈ 1.2 pixels is well under 1%, where the
 // five-point Laplacian is about 6% low, so the response does not jump
 // where the pyramid changes level. t = σ² in level pixels makes the
-// response independent of the level (σ²∇² is dimensionless).
+// response independent of the level (σ²∇² is dimensionless). Where
+// useAVX2 is set the rows of eight pixels or more go to normLapAVX2, the
+// same operations in the same order.
 func normLaplacian(b, dst []float32, w, h int, t float64, workers int) {
 	tf := float32(t / 12)
 	parallel.Blocks(h, bandRows, workers, func(_, y0, y1 int) {
@@ -512,14 +530,25 @@ func normLaplacian(b, dst []float32, w, h int, t float64, workers int) {
 			u2, u1 := b[ra*w:(ra+1)*w], b[rb*w:(rb+1)*w]
 			d1, d2 := b[rc*w:(rc+1)*w], b[rd*w:(rd+1)*w]
 			out := dst[y*w : (y+1)*w]
-			n := len(out)
-			l2, l1, c, r1, r2 := pad[0:n], pad[1:1+n], pad[2:2+n], pad[3:3+n], pad[4:4+n]
-			u2, u1, d1, d2 = u2[:n], u1[:n], d1[:n], d2[:n]
-			for x := range out {
-				out[x] = tf * (16*(l1[x]+r1[x]+u1[x]+d1[x]) - (l2[x] + r2[x] + u2[x] + d2[x]) - 60*c[x])
+			if useAVX2 && w >= 8 {
+				normLapAVX2(&out[0], &pad[0], &u2[0], &u1[0], &d1[0], &d2[0], tf, w)
+				continue
 			}
+			normLapRow(out, pad, u2, u1, d1, d2, tf)
 		}
 	})
+}
+
+// normLapRow is one row of normLaplacian in Go: pad is the row with two
+// reflected pixels on each side, u2, u1, d1, d2 the rows two and one
+// above and one and two below.
+func normLapRow(out, pad, u2, u1, d1, d2 []float32, tf float32) {
+	n := len(out)
+	l2, l1, c, r1, r2 := pad[0:n], pad[1:1+n], pad[2:2+n], pad[3:3+n], pad[4:4+n]
+	u2, u1, d1, d2 = u2[:n], u1[:n], d1[:n], d2[:n]
+	for x := range out {
+		out[x] = tf * (16*(l1[x]+r1[x]+u1[x]+d1[x]) - (l2[x] + r2[x] + u2[x] + d2[x]) - 60*c[x])
+	}
 }
 
 // halve writes to out every second pixel of every second row of v (the

@@ -23,3 +23,24 @@ var useAVX2 = cpu.X86.HasAVX2
 //
 //go:noescape
 func slicRowAVX2(f *float32, dx2 *float32, dist *uint32, lab *int32, n int, fc float32, dy2 float32, label int32)
+
+// symTapsAVX2 is the AVX2 kernel of symTaps (scale_amd64.s) for n >= 8
+// outputs: out[x] for x = 0..n-1 from the 2r+1 rows src[0..2r] (r >= 1)
+// and the half kernel k[0..r], each lane doing symTaps' operations in
+// its order (no fused multiply-add), eight outputs at a time, the last
+// eight ending at n (they may overlap the ones before and are computed
+// again to the same values; out must not overlap a source row).
+//
+//go:noescape
+func symTapsAVX2(out *float32, src *[]float32, k *float32, r int, n int)
+
+// normLapAVX2 is the AVX2 kernel of one row of normLaplacian
+// (scale_amd64.s) for n >= 8 outputs: pad holds the row with two
+// reflected pixels on each side (n+4 values), u2, u1, d1, d2 the rows two
+// and one above and one and two below; each lane does the Go loop's
+// operations in its order, eight outputs at a time, the last eight ending
+// at n (computed again to the same values where they overlap; out must
+// not overlap an input).
+//
+//go:noescape
+func normLapAVX2(out *float32, pad *float32, u2 *float32, u1 *float32, d1 *float32, d2 *float32, tf float32, n int)

@@ -98,3 +98,98 @@ func TestSLICAVX2Identical(t *testing.T) {
 		}
 	}
 }
+
+// TestSymTapsAVX2MatchesGo checks the AVX2 kernel of symTaps against
+// symTapsGo bit for bit for kernel radii 1 to 9 (odd and even, so the
+// pair loop and the single last tap) and rows of 8 to 41 outputs (the
+// overlapping last group of eight), with values of both signs, zeros and
+// a signed zero.
+func TestSymTapsAVX2MatchesGo(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("no AVX2 kernel on this machine or build: the blurs run in Go alone")
+	}
+	rng := rand.New(rand.NewPCG(6, 13))
+	for r := 1; r <= 9; r++ {
+		k := gaussKernel(float64(r) / 3) // radius ceil(3σ) = r
+		if len(k) != r+1 {
+			t.Fatalf("gaussKernel(%d/3) has %d taps, want %d", r, len(k), r+1)
+		}
+		for n := 8; n <= 41; n++ {
+			src := make([][]float32, 2*r+1)
+			for j := range src {
+				src[j] = make([]float32, n)
+				for x := range src[j] {
+					switch (x + j) % 11 {
+					case 0:
+						src[j][x] = 0
+					case 1:
+						src[j][x] = float32(math.Copysign(0, -1))
+					default:
+						src[j][x] = float32(rng.Float64()*2 - 0.5)
+					}
+				}
+			}
+			want, got := make([]float32, n), make([]float32, n+1)
+			got[n] = 42 // a sentinel the kernel must not write
+			symTapsGo(want, src, k)
+			symTapsAVX2(&got[0], &src[0], &k[0], r, n)
+			if got[n] != 42 {
+				t.Fatalf("r = %d, n = %d: the kernel wrote past the row", r, n)
+			}
+			for x := range want {
+				if math.Float32bits(got[x]) != math.Float32bits(want[x]) {
+					t.Fatalf("r = %d, n = %d, x = %d: kernel %v, Go %v", r, n, x, got[x], want[x])
+				}
+			}
+		}
+	}
+}
+
+// TestObjectScaleAVX2Identical runs ObjectScale with and without the
+// AVX2 blur kernel on a scene of disks and checks that the estimates
+// are the same.
+func TestObjectScaleAVX2Identical(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("no AVX2 kernel on this machine or build: the blurs run in Go alone")
+	}
+	f := blobImage(23, 301, 257, 0.04)[0]
+	a := ObjectScale(f, 301, 257, 2)
+	useAVX2 = false
+	b := ObjectScale(f, 301, 257, 2)
+	useAVX2 = true
+	if a != b || !a.Found {
+		t.Fatalf("with AVX2 %+v, without %+v (want equal and found)", a, b)
+	}
+}
+
+// TestNormLapAVX2MatchesGo checks the AVX2 row kernel of normLaplacian
+// against normLapRow bit for bit on rows of 8 to 41 pixels.
+func TestNormLapAVX2MatchesGo(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("no AVX2 kernel on this machine or build: the Laplacian runs in Go alone")
+	}
+	rng := rand.New(rand.NewPCG(7, 17))
+	row := func(n int) []float32 {
+		v := make([]float32, n)
+		for i := range v {
+			v[i] = float32(rng.Float64()*1.5 - 0.25)
+		}
+		return v
+	}
+	for n := 8; n <= 41; n++ {
+		pad, u2, u1, d1, d2 := row(n+4), row(n), row(n), row(n), row(n)
+		tf := float32(rng.Float64() * 3)
+		want, got := make([]float32, n), make([]float32, n+1)
+		got[n] = 42
+		normLapRow(want, pad, u2, u1, d1, d2, tf)
+		normLapAVX2(&got[0], &pad[0], &u2[0], &u1[0], &d1[0], &d2[0], tf, n)
+		if got[n] != 42 {
+			t.Fatalf("n = %d: the kernel wrote past the row", n)
+		}
+		for x := range want {
+			if math.Float32bits(got[x]) != math.Float32bits(want[x]) {
+				t.Fatalf("n = %d, x = %d: kernel %v, Go %v", n, x, got[x], want[x])
+			}
+		}
+	}
+}

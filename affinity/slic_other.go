@@ -9,3 +9,11 @@ var useAVX2 = false
 func slicRowAVX2(f *float32, dx2 *float32, dist *uint32, lab *int32, n int, fc float32, dy2 float32, label int32) {
 	panic("affinity: no AVX2 kernel on this platform")
 }
+
+func symTapsAVX2(out *float32, src *[]float32, k *float32, r int, n int) {
+	panic("affinity: no AVX2 kernel on this platform")
+}
+
+func normLapAVX2(out *float32, pad *float32, u2 *float32, u1 *float32, d1 *float32, d2 *float32, tf float32, n int) {
+	panic("affinity: no AVX2 kernel on this platform")
+}
