@@ -125,7 +125,10 @@ func jetKernels(sigma float64) (r int, g0, g1, g2 []float64) {
 // and of the odd g1 are folded into one product per pair of pixels,
 // g(k)·(I(+k) ± I(-k)) (common practice for symmetric FIR filters),
 // which halves the products; the sums then differ from the unfolded
-// ones in rounding only.
+// ones in rounding only. Where useAVX2 is set the interior of each
+// horizontal pass (at least four pixels) and each vertical pass (rows of
+// at least four pixels) go to jetHAVX2 and jetVAVX2, four pixels at a
+// time with the same operations in the same order.
 func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(y int, ix, iy, ixx, iyy, ixy []float64)) {
 	r, g0, g1, g2 := jetKernels(sigma)
 	// horizontal filters image row y with g0, g1 and g2 into out. g0 and
@@ -133,6 +136,11 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 	// product per pair of pixels, g(k)·(I(x+k) ± I(x-k)).
 	lo, hi := min(r, w), max(w-r, min(r, w))
 	edges := edgeColumns(lo, hi, w) // edge-replicated taps there
+	// coef holds g0, g1, g2 at offset k = 0..r, the kernels' layout.
+	coef := make([]float64, 0, 3*(r+1))
+	for k := 0; k <= r; k++ {
+		coef = append(coef, g0[r+k], g1[r+k], g2[r+k])
+	}
 	horizontal := func(y int, out *[3][]float32) {
 		line := plane[y*w : (y+1)*w]
 		o0, o1, o2 := out[0][:w], out[1][:w], out[2][:w]
@@ -140,6 +148,10 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 			o0[x] = float32(clampedTaps(g0, line, x, r))
 			o1[x] = float32(clampedTaps(g1, line, x, r))
 			o2[x] = float32(clampedTaps(g2, line, x, r))
+		}
+		if useAVX2 && r >= 1 && hi-lo >= 4 {
+			jetHAVX2(&line[lo], &coef[0], r, &o0[lo], &o1[lo], &o2[lo], hi-lo)
+			return
 		}
 		for x := lo; x < hi; x++ {
 			c := float64(line[x])
@@ -160,6 +172,7 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 	type buffers struct {
 		rows [][3][]float32 // ring of horizontally filtered rows; row y in slot y mod ring
 		acc  [5][]float64
+		tbl  []*float32 // the rows above and below of jetVAVX2
 	}
 	nb := (h + jetBandRows - 1) / jetBandRows
 	pool := make(chan *buffers, max(1, min(workers, nb)))
@@ -173,6 +186,7 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		for f := range b.acc {
 			b.acc[f] = make([]float64, w)
 		}
+		b.tbl = make([]*float32, 6*r)
 		pool <- b
 	}
 	parallel.For(nb, workers, func(c int) {
@@ -188,6 +202,18 @@ func gaussianJet(plane []float32, w, h int, sigma float64, workers int, fn func(
 		for y := y0; y < y1; y++ {
 			if y+r < h {
 				horizontal(y+r, &buf.rows[(y+r)%ring])
+			}
+			if useAVX2 && r >= 1 && w >= 4 {
+				for k := 1; k <= r; k++ {
+					up, dn := &buf.rows[max(y-k, 0)%ring], &buf.rows[min(y+k, h-1)%ring]
+					t := buf.tbl[6*(k-1) : 6*k]
+					t[0], t[1], t[2] = &up[0][0], &up[1][0], &up[2][0]
+					t[3], t[4], t[5] = &dn[0][0], &dn[1][0], &dn[2][0]
+				}
+				src := &buf.rows[y%ring]
+				jetVAVX2(&src[0][0], &src[1][0], &src[2][0], &buf.tbl[0], &coef[0], r, &ix[0], &iy[0], &ixx[0], &iyy[0], &ixy[0], w)
+				fn(y, ix, iy, ixx, iyy, ixy)
+				continue
 			}
 			// Centre row, then the rows at ±k folded as in horizontal.
 			{

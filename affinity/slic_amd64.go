@@ -44,3 +44,19 @@ func symTapsAVX2(out *float32, src *[]float32, k *float32, r int, n int)
 //
 //go:noescape
 func normLapAVX2(out *float32, pad *float32, u2 *float32, u1 *float32, d1 *float32, d2 *float32, tf float32, n int)
+
+// jetHAVX2 is the AVX2 kernel of gaussianJet's horizontal pass
+// (contour_amd64.s) for n >= 4 outputs at line[0..n-1], which reads
+// line[-r..n-1+r]; coef holds g0(k), g1(k), g2(k) for k = 0..r (the kernels'
+// taps at offset k), r >= 1. Each lane does the Go loop's operations in
+// its order.
+//
+//go:noescape
+func jetHAVX2(line *float32, coef *float64, r int, o0 *float32, o1 *float32, o2 *float32, n int)
+
+// jetVAVX2 is the AVX2 kernel of gaussianJet's vertical pass for n >= 4
+// pixels: a, b, d the centre's horizontally filtered rows, tbl the six
+// rows (a, b, d above, then below) of each k = 1..r, coef as for jetHAVX2.
+//
+//go:noescape
+func jetVAVX2(a *float32, b *float32, d *float32, tbl **float32, coef *float64, r int, ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, n int)
