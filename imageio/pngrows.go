@@ -316,7 +316,8 @@ func (c *idatWriter) Write(p []byte) (int, error) {
 // best so far; here the sum is checked every 64 bytes, which gives the
 // same verdict (the sums only grow), and the bytes are filtered and
 // summed eight at a time in the lanes of a uint64 (swarSub, swarAvg,
-// swarAbsSum), Paeth's predictor without branches on the data.
+// swarAbsSum), Paeth's predictor without branches on the data, sixteen
+// bytes at a time in paethAVX2 where usePaethAVX2 is set.
 func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 	const (
 		ftNone = iota
@@ -350,29 +351,12 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 		sum += abs8(cdat4[i])
 	}
 	for i0 := bpp; i0 < n && sum < best; i0 += 64 {
-		i1 := min(n, i0+64)
-		a, b, c, cur, out := cdat0[i0-bpp:i1-bpp], pdat[i0:i1], pdat[i0-bpp:i1-bpp], cdat0[i0:i1], cdat4[i0:i1]
-		a, b, c, cur = a[:len(out)], b[:len(out)], c[:len(out)], cur[:len(out)]
-		for i := range out {
-			// Paeth (PNG specification, section 9.4): of a, b, c the one
-			// nearest a + b - c, ties to a, then b.
-			av, bv, cv := int(a[i]), int(b[i]), int(c[i])
-			pa, pb := bv-cv, av-cv
-			pc := pa + pb
-			ma, mb, mc := pa>>63, pb>>63, pc>>63
-			pa, pb, pc = (pa^ma)-ma, (pb^mb)-mb, (pc^mc)-mc
-			r := cv
-			if pb <= pc {
-				r = bv
-			}
-			if pa <= min(pb, pc) {
-				r = av
-			}
-			d := int8(int(cur[i]) - r)
-			out[i] = byte(d)
-			m := int(d) >> 63
-			sum += (int(d) ^ m) - m
+		i, i1 := i0, min(n, i0+64)
+		if m := (i1 - i) &^ 15; usePaethAVX2 && m > 0 {
+			sum += paethAVX2(&cdat0[i], &cdat0[i-bpp], &pdat[i], &pdat[i-bpp], &cdat4[i], m)
+			i += m
 		}
+		sum += paethRow(cdat0[i-bpp:i1-bpp], pdat[i:i1], pdat[i-bpp:i1-bpp], cdat0[i:i1], cdat4[i:i1])
 	}
 	if sum < best {
 		best, filter = sum, ftPaeth
@@ -440,6 +424,35 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 		filter = ftAverage
 	}
 	return filter
+}
+
+// paethRow writes out[i] = cur[i] - paeth(a[i], b[i], c[i]) and returns
+// the sum of |out[i]| read as int8 (a: the bytes bpp to the left, b:
+// above, c: above and to the left).
+func paethRow(a, b, c, cur, out []byte) int {
+	a, b, c, cur = a[:len(out)], b[:len(out)], c[:len(out)], cur[:len(out)]
+	sum := 0
+	for i := range out {
+		// Paeth (PNG specification, section 9.4): of a, b, c the one
+		// nearest a + b - c, ties to a, then b.
+		av, bv, cv := int(a[i]), int(b[i]), int(c[i])
+		pa, pb := bv-cv, av-cv
+		pc := pa + pb
+		ma, mb, mc := pa>>63, pb>>63, pc>>63
+		pa, pb, pc = (pa^ma)-ma, (pb^mb)-mb, (pc^mc)-mc
+		r := cv
+		if pb <= pc {
+			r = bv
+		}
+		if pa <= min(pb, pc) {
+			r = av
+		}
+		d := int8(int(cur[i]) - r)
+		out[i] = byte(d)
+		m := int(d) >> 63
+		sum += (int(d) ^ m) - m
+	}
+	return sum
 }
 
 // SWAR ("SIMD within a register") on the eight bytes of a uint64, after
