@@ -298,8 +298,8 @@ func interveningContour(energy []float32, w, h int, r *Regions, adj *Graph) []fl
 			var m float32
 			for s := 0; s <= steps; s++ {
 				t := float64(s) / float64(steps)
-				x := min(max(int(math.Round(ax+t*(bx-ax))), 0), w-1)
-				y := min(max(int(math.Round(ay+t*(by-ay))), 0), h-1)
+				x := min(max(roundIndex(ax+t*(bx-ax)), 0), w-1)
+				y := min(max(roundIndex(ay+t*(by-ay)), 0), h-1)
 				m = max(m, energy[y*w+x])
 			}
 			ic[q] = m
@@ -317,6 +317,20 @@ func interveningContour(energy []float32, w, h int, r *Regions, adj *Graph) []fl
 		}
 	}
 	return ic
+}
+
+// roundIndex is int(math.Round(v)) (half away from zero) without its
+// call for 0 <= v < 2^53: int(v) truncates, and v - trunc(v) is exact
+// there; other values go to math.Round.
+func roundIndex(v float64) int {
+	if !(v >= 0 && v < 1<<53) {
+		return int(math.Round(v))
+	}
+	t := int(v)
+	if v-float64(t) >= 0.5 {
+		t++
+	}
+	return t
 }
 
 // AutoSigmaContour sets the width σ_C of the intervening-contour factor

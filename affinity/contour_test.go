@@ -2,6 +2,7 @@ package affinity
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
@@ -199,6 +200,27 @@ func TestGaussianJetStreamed(t *testing.T) {
 				}
 			}
 			first = got
+		}
+	}
+}
+
+// TestRoundIndexMatchesRound checks roundIndex against
+// int(math.Round(v)) on halves and their neighbours up to 5000, random
+// values, negative values and values beyond 2^53.
+func TestRoundIndexMatchesRound(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 27))
+	var vs []float64
+	for q := -20; q <= 10000; q++ {
+		v := float64(q) / 2
+		vs = append(vs, v, math.Nextafter(v, -1e9), math.Nextafter(v, 1e9))
+	}
+	for range 100000 {
+		vs = append(vs, rng.Float64()*4096)
+	}
+	vs = append(vs, 1<<53, 1<<53+2, 1e17, -1e17, math.Copysign(0, -1))
+	for _, v := range vs {
+		if got, want := roundIndex(v), int(math.Round(v)); got != want {
+			t.Fatalf("roundIndex(%v) = %d, math.Round gives %d", v, got, want)
 		}
 	}
 }

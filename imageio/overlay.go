@@ -229,22 +229,28 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 					continue
 				}
 				var base [3]float64
+				tinted := palette != nil && labels[i] > 0
 				if colour {
 					for k := range 3 {
 						base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
 					}
 				} else {
 					g := 255 * unit(float64(display[i]))
+					if !tinted {
+						v := round8(g)
+						p[0], p[1], p[2] = v, v, v
+						continue
+					}
 					base = [3]float64{g, g, g}
 				}
-				if palette != nil && labels[i] > 0 {
+				if tinted {
 					c := palette.Of(labels[i])
 					for k := range 3 {
 						base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
 					}
 				}
 				for k := range 3 {
-					p[k] = uint8(math.Round(base[k]))
+					p[k] = round8(base[k])
 				}
 			}
 		}
@@ -260,6 +266,17 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 		rgbaToRGB(dst, img.Pix)
 	}
 	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, rows: rows}, opt.Workers)
+}
+
+// round8 is uint8(math.Round(v)) for 0 <= v < 255.5 (half away from
+// zero): int(v) truncates, and v - trunc(v) is exact for such v, so
+// comparing it with 0.5 rounds as math.Round does, without its call.
+func round8(v float64) uint8 {
+	t := uint8(v)
+	if v-float64(t) >= 0.5 {
+		t++
+	}
+	return t
 }
 
 // EncodePreview writes an RGB PNG that shows a label map in colour:

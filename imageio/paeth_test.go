@@ -2,6 +2,7 @@ package imageio
 
 import (
 	"bytes"
+	"math"
 	"math/rand/v2"
 	"testing"
 )
@@ -98,5 +99,28 @@ func TestPNGFilterAVX2Identical(t *testing.T) {
 	}
 	if chosen[4] == 0 {
 		t.Fatalf("no row chose Paeth (%v): the kernel's result was never used", chosen)
+	}
+}
+
+// TestRound8MatchesRound checks round8 against uint8(math.Round(v)) on
+// every half and quarter step of 0..255.25, the floats just beside each
+// half, and random values in [0, 255.5).
+func TestRound8MatchesRound(t *testing.T) {
+	rng := rand.New(rand.NewPCG(10, 25))
+	var vs []float64
+	for q := 0; q <= 4*255+1; q++ {
+		v := float64(q) / 4
+		vs = append(vs, v, math.Nextafter(v, 0), math.Nextafter(v, 256))
+	}
+	for range 100000 {
+		vs = append(vs, rng.Float64()*255.5)
+	}
+	for _, v := range vs {
+		if v < 0 || v >= 255.5 {
+			continue
+		}
+		if got, want := round8(v), uint8(math.Round(v)); got != want {
+			t.Fatalf("round8(%v) = %d, math.Round gives %d", v, got, want)
+		}
 	}
 }
