@@ -56,7 +56,6 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 	}
 	s := newSLICState(f, w, h, p.Count, p.Compactness/100)
 	for it := 0; it < iters; it++ {
-		s.windows()
 		// A band's sums need only its own labels: each band is summed
 		// right after it is assigned, while its rows are in cache.
 		parallel.For(s.nb, workers, func(b int) {
@@ -90,7 +89,10 @@ type slicState struct {
 	bandSums   []float64   // nb blocks of k*(planes+3): count, Σx, Σy, ΣF
 	scratch    [][]float32 // per band: squared x distances in a window row
 	sumsStride int
-	win        [][4]int32 // each centre's window (window), set by windows
+	// span holds, per band, the least and the largest label whose sums
+	// accumulate wrote (least > largest: none); the band's entries
+	// outside it are zero.
+	span [][2]int32
 }
 
 func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
@@ -131,6 +133,10 @@ func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
 	s.nb = slicBands(w, h, k)
 	s.sumsStride = k * (planes + 3)
 	s.bandSums = make([]float64, s.nb*s.sumsStride)
+	s.span = make([][2]int32, s.nb)
+	for b := range s.span {
+		s.span[b] = [2]int32{int32(k), -1}
+	}
 	s.scratch = make([][]float32, s.nb)
 	for b := range s.scratch {
 		s.scratch[b] = make([]float32, 0, scratchLen(w, s.s))
@@ -189,19 +195,7 @@ func (s *slicState) window(c int) (x0, x1, y0, y1 int) {
 	return
 }
 
-// windows sets win to every centre's window, once an iteration instead
-// of once a band.
-func (s *slicState) windows() {
-	if s.win == nil {
-		s.win = make([][4]int32, s.k)
-	}
-	for c := range s.win {
-		x0, x1, y0, y1 := s.window(c)
-		s.win[c] = [4]int32{int32(x0), int32(x1), int32(y0), int32(y1)}
-	}
-}
-
-// assign is the assignment step for band b (windows set). Centres are visited in index
+// assign is the assignment step for band b. Centres are visited in index
 // order and a pixel moves only to a strictly nearer centre, so the result
 // is that of one sequential pass.
 func (s *slicState) assign(b int) {
@@ -214,9 +208,9 @@ func (s *slicState) assign(b int) {
 	}
 	planes := len(s.f)
 	dx2 := s.scratch[b]
-	for c, wc := range s.win {
-		x0, x1 := int(wc[0]), int(wc[1])
-		y0, y1 := max(int(wc[2]), by0), min(int(wc[3]), by1-1)
+	for c := 0; c < s.k; c++ {
+		x0, x1, y0, y1 := s.window(c)
+		y0, y1 = max(y0, by0), min(y1, by1-1)
 		if y0 > y1 || x0 > x1 {
 			continue
 		}
@@ -278,7 +272,13 @@ func (s *slicState) accumulate(b int) {
 	planes := len(s.f)
 	stride := planes + 3
 	sums := s.bandSums[b*s.sumsStride : (b+1)*s.sumsStride]
-	clear(sums)
+	// Zero what the last iteration wrote: a band meets the labels of a
+	// few rows of centres, not all of them.
+	lo, hi := s.span[b][0], s.span[b][1]
+	if lo <= hi {
+		clear(sums[int(lo)*stride : (int(hi)+1)*stride])
+	}
+	lo, hi = int32(s.k), -1
 	for y := y0; y < y1; y++ {
 		fy := float64(y)
 		row := y * s.w
@@ -291,6 +291,7 @@ func (s *slicState) accumulate(b int) {
 			}
 			n := x1 - x0
 			a := sums[int(l)*stride : int(l)*stride+stride]
+			lo, hi = min(lo, l), max(hi, l)
 			a[0] += float64(n)
 			a[1] += float64((x0 + x1 - 1) * n / 2)
 			a[2] += fy * float64(n)
@@ -304,10 +305,15 @@ func (s *slicState) accumulate(b int) {
 			x0 = x1
 		}
 	}
+	s.span[b] = [2]int32{lo, hi}
 }
 
 // update moves every non-empty cluster's centre to the mean of its pixels,
-// adding band sums in band order. An empty cluster keeps its centre.
+// adding band sums in band order. An empty cluster keeps its centre. A
+// band whose span does not hold a label adds nothing to it: its entries
+// there are +0, and adding +0 changes no total (a total starts at +0 and
+// is never -0), so every total is the sum over all bands in band order,
+// bit for bit.
 func (s *slicState) update() {
 	planes := len(s.f)
 	stride := planes + 3
@@ -315,6 +321,9 @@ func (s *slicState) update() {
 	for c := 0; c < s.k; c++ {
 		clear(acc)
 		for b := 0; b < s.nb; b++ {
+			if sp := s.span[b]; int32(c) < sp[0] || int32(c) > sp[1] {
+				continue
+			}
 			a := s.bandSums[b*s.sumsStride+c*stride : b*s.sumsStride+(c+1)*stride]
 			for i, v := range a {
 				acc[i] += v
