@@ -208,7 +208,14 @@ func (s *slicState) assign(b int) {
 	}
 	planes := len(s.f)
 	dx2 := s.scratch[b]
+	fb0, fb1 := float64(by0), float64(by1-1)
 	for c := 0; c < s.k; c++ {
+		// A centre whose window ends above the band (floor(cy+S) <=
+		// cy+S < by0) or starts below it (ceil(cy-S) >= cy-S > by1-1)
+		// is passed over before window's roundings.
+		if cy := float64(s.cy[c]); cy+s.s < fb0 || cy-s.s > fb1 {
+			continue
+		}
 		x0, x1, y0, y1 := s.window(c)
 		y0, y1 = max(y0, by0), min(y1, by1-1)
 		if y0 > y1 || x0 > x1 {
