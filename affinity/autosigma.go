@@ -81,11 +81,16 @@ func AutoSigmaI(f [][]float32, w, h int) float64 {
 }
 
 // lowerMedian returns the element of rank (len-1)/2 of v (non-negative,
-// finite values) in O(len): a histogram of 4096 bins locates the bin that
-// holds that rank, and only the values of that bin are sorted. v is
-// reordered.
+// finite values) in O(len) (rankValue). v is reordered.
 func lowerMedian(v []float32) float32 {
-	k := (len(v) - 1) / 2
+	return rankValue(v, (len(v)-1)/2)
+}
+
+// rankValue returns the element of rank k (0-based: v[k] once v is
+// sorted) of v, non-negative finite values, 0 <= k < len(v), in O(len): a
+// histogram of 4096 bins locates the bin that holds that rank, and only
+// the values of that bin are sorted. v is reordered.
+func rankValue(v []float32, k int) float32 {
 	var top float32
 	for _, x := range v {
 		top = max(top, x)

@@ -372,8 +372,7 @@ func pixelNoise(v []float32, w, h int) float64 {
 	if len(d) == 0 {
 		return 0
 	}
-	slices.Sort(d)
-	return 1.4826 * float64(d[len(d)/2]) / math.Sqrt2
+	return 1.4826 * float64(rankValue(d, len(d)/2)) / math.Sqrt2
 }
 
 // mirror maps i into [0, n) by reflection about the edges (d c b a | a b c
