@@ -166,13 +166,6 @@ func PlaceNumbers(m labelmap.Map) []NumberPlace {
 	return out
 }
 
-// isBoundary reports whether pixel (x, y) differs in label from its right or
-// lower neighbour; marking one side only draws boundaries one pixel wide.
-func isBoundary(m labelmap.Map, x, y int) bool {
-	i := y*m.Width + x
-	return (x+1 < m.Width && m.Pix[i+1] != m.Pix[i]) || (y+1 < m.Height && m.Pix[i+m.Width] != m.Pix[i])
-}
-
 // EncodeOverlay writes an RGB PNG: the image (display values in [0, 1]
 // as gray, or the colour planes of opt), the boundaries between regions
 // of labels one pixel wide in amber, and what opt adds (tints, numbers).
@@ -220,22 +213,32 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 		*bp = grow(*bp, 4*width*(y1-y0))
 		img := &image.RGBA{Pix: *bp, Stride: 4 * width, Rect: image.Rect(0, y0, width, y1)}
 		for y := y0; y < y1; y++ {
-			for x := 0; x < width; x++ {
-				i := y*width + x
-				p := img.Pix[4*(i-y0*width) : 4*(i-y0*width)+4]
+			row := labels[y*width : (y+1)*width]
+			var below []int32 // the next row's labels; nil on the last row
+			if y+1 < height {
+				below = labels[(y+1)*width : (y+2)*width]
+			}
+			gray := display[y*width : (y+1)*width]
+			out := img.Pix[4*(y-y0)*width : 4*(y-y0+1)*width]
+			for x, l := range row {
+				p := out[4*x : 4*x+4 : 4*x+4]
 				p[3] = 255
-				if isBoundary(m, x, y) {
+				// A boundary pixel differs in label from its right or
+				// lower neighbour; marking one side only draws
+				// boundaries one pixel wide.
+				if (x+1 < width && row[x+1] != l) || (below != nil && below[x] != l) {
 					p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
 					continue
 				}
 				var base [3]float64
-				tinted := palette != nil && labels[i] > 0
+				tinted := palette != nil && l > 0
 				if colour {
+					i := y*width + x
 					for k := range 3 {
 						base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
 					}
 				} else {
-					g := 255 * unit(float64(display[i]))
+					g := 255 * unit(float64(gray[x]))
 					if !tinted {
 						v := round8(g)
 						p[0], p[1], p[2] = v, v, v
@@ -244,7 +247,7 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 					base = [3]float64{g, g, g}
 				}
 				if tinted {
-					c := palette.Of(labels[i])
+					c := palette.Of(l)
 					for k := range 3 {
 						base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
 					}
