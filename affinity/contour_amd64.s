@@ -3,7 +3,7 @@
 #include "textflag.h"
 
 // gaussianJet's separable passes with AVX2 (see jetHAVX2 and jetVAVX2 in
-// slic_amd64.go): four pixels at a time in float64 lanes, the float32
+// kernels_amd64.go): four pixels at a time in float64 lanes, the float32
 // samples widened exactly (VCVTPS2PD) and the horizontal results rounded
 // to float32 as the Go conversion rounds them (VCVTPD2PS, to nearest),
 // each lane doing the Go loops' multiplies and adds in their order (no

@@ -2,7 +2,7 @@
 
 #include "textflag.h"
 
-// symTaps with AVX2 (see symTapsAVX2 in slic_amd64.go). For the eight
+// symTaps with AVX2 (see symTapsAVX2 in kernels_amd64.go). For the eight
 // outputs at byte offset BX, with c = src[r], a_j = src[r-j], b_j = src[r+j]:
 //
 //	o = k0·c + k1·(a_1 + b_1)
@@ -111,7 +111,7 @@ done:
 	VZEROUPPER
 	RET
 
-// normLaplacian's row with AVX2 (see normLapAVX2 in slic_amd64.go): for
+// normLaplacian's row with AVX2 (see normLapAVX2 in kernels_amd64.go): for
 // the eight outputs at byte offset BX, with l2, l1, c, r1, r2 the padded
 // row at offsets 0..4 and u2, u1, d1, d2 the rows above and below,
 //

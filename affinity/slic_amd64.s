@@ -2,7 +2,7 @@
 
 #include "textflag.h"
 
-// SLIC's single-plane assignment row with AVX2 (see slic_amd64.go). Every
+// SLIC's single-plane assignment row with AVX2 (see kernels_amd64.go). Every
 // lane does the Go loop's operations in its order: d = f - fc, d·d, + dx2,
 // + dy2 (no fused multiply-add); the bits of D and of the stored distance
 // are compared as signed 32-bit integers, which orders them as the Go

@@ -2,8 +2,9 @@
 
 package affinity
 
-// useAVX2 is false off amd64 (or with the purego tag): SLIC's assignment
-// runs in Go alone and slicRowAVX2 is never called.
+// useAVX2 is false off amd64 (or with the purego tag): SLIC, the
+// object-scale estimate and the Gaussian jet run in Go alone, and the
+// kernels below are never called.
 var useAVX2 = false
 
 func slicRowAVX2(f *float32, dx2 *float32, dist *uint32, lab *int32, n int, fc float32, dy2 float32, label int32) {

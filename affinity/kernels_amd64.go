@@ -4,15 +4,19 @@ package affinity
 
 import "golang.org/x/sys/cpu"
 
-// useAVX2 reports whether slicRowAVX2 (slic_amd64.s) runs the
-// single-plane assignment rows of SLIC: 256-bit packed float32 arithmetic
-// doing the Go loop's operations in its order (a subtraction, a multiply,
-// then two adds; no fused multiply-add) and the comparison of the bits of
-// D² as 32-bit integers, so every label and distance is the Go loop's bit
-// for bit (TestSLICRowAVX2MatchesGo).
+// useAVX2 reports whether the AVX2 kernels run: SLIC's single-plane
+// assignment rows (slicRowAVX2, slic_amd64.s), the object-scale
+// estimate's blurs and Laplacian rows (symTapsAVX2, normLapAVX2,
+// scale_amd64.s) and the Gaussian jet's passes (jetHAVX2, jetVAVX2,
+// contour_amd64.s). Each lane does the Go loop's operations in its order,
+// with no fused multiply-add, so every result is the Go code's bit for
+// bit (kernels_test.go); with the purego tag or off amd64 the Go loops
+// run alone (kernels_other.go).
 var useAVX2 = cpu.X86.HasAVX2
 
-// slicRowAVX2 is the AVX2 kernel of slicState.assign on one plane: for
+// slicRowAVX2 is the AVX2 kernel of slicState.assign on one plane
+// (slic_amd64.s): the floats D² and the stored distances' bits are
+// compared as 32-bit integers, as the Go loop does; for
 // x = 0..n-1 (n >= 1),
 //
 //	D = (f[x] - fc)² + dx2[x] + dy2,
