@@ -363,14 +363,23 @@ func pixelNoise(v []float32, w, h int) float64 {
 	}
 	step := max(1, (w-1)*h/(1<<17))
 	d := make([]float32, 0, (w-1)*h/step+w)
+	finite := true
 	for y := 0; y < h; y += step {
 		row := v[y*w : (y+1)*w]
 		for x := 1; x < w; x++ {
-			d = append(d, float32(math.Abs(float64(row[x])-float64(row[x-1]))))
+			a := float32(math.Abs(float64(row[x]) - float64(row[x-1])))
+			finite = finite && a <= math.MaxFloat32 // false for NaN and +Inf
+			d = append(d, a)
 		}
 	}
 	if len(d) == 0 {
 		return 0
+	}
+	if !finite {
+		// rankValue needs finite values; the sorted order (NaN first)
+		// is the rank's meaning here.
+		slices.Sort(d)
+		return 1.4826 * float64(d[len(d)/2]) / math.Sqrt2
 	}
 	return 1.4826 * float64(rankValue(d, len(d)/2)) / math.Sqrt2
 }
