@@ -30,12 +30,18 @@ const ContourScale = 1.5
 // replaced by the first derivative. The σ and σ² factors are Lindeberg's
 // scale normalization, which makes E comparable to intensity steps.
 // Borders replicate the edge pixels. Rows are processed in fixed chunks,
-// so the result does not depend on workers.
+// so the result does not depend on workers. Where useAVX2 is set the
+// rows of E are computed by edgeRowAVX2, the same operations in the same
+// order.
 func EdgeEnergy(plane []float32, w, h int, sigma float64, workers int) []float32 {
 	e := make([]float32, w*h)
 	s2 := sigma * sigma
 	gaussianJet(plane, w, h, sigma, workers, func(y int, ix, iy, ixx, iyy, ixy []float64) {
 		out := e[y*w : (y+1)*w]
+		if useAVX2 && w >= 4 {
+			edgeRowAVX2(&ix[0], &iy[0], &ixx[0], &iyy[0], &ixy[0], &out[0], s2, sigma*sigma, w)
+			return
+		}
 		for x := range out {
 			// Eigenvalue of larger magnitude of [[ixx ixy] [ixy iyy]]:
 			// m ± q with q >= 0, so |λ| = |m| + q. The values are far

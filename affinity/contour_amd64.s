@@ -189,3 +189,81 @@ vk:
 vdone:
 	VZEROUPPER
 	RET
+
+// EdgeEnergy's row with AVX2 (see edgeRowAVX2 in kernels_amd64.go): per
+// lane, as the Go loop,
+//
+//	m = (ixx + iyy)·0.5, d = (ixx - iyy)·0.5, q = sqrt(d·d + ixy·ixy)
+//	lam = s2·(|m| + q), g = ix·ix + iy·iy, out = float32(sqrt(ss·g + lam·lam))
+//
+// (x·0.5 is x/2 exactly; VSQRTPD rounds as math.Sqrt does). The last four
+// outputs end at n and may overlap the ones before.
+
+DATA edgeConst<>+0(SB)/8, $0.5
+DATA edgeConst<>+8(SB)/8, $0x7fffffffffffffff
+GLOBL edgeConst<>(SB), RODATA|NOPTR, $16
+
+// func edgeRowAVX2(ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, out *float32, s2 float64, ss float64, n int)
+TEXT ·edgeRowAVX2(SB), NOSPLIT, $0-72
+	MOVQ ix+0(FP), SI
+	MOVQ iy+8(FP), DI
+	MOVQ ixx+16(FP), R8
+	MOVQ iyy+24(FP), R9
+	MOVQ ixy+32(FP), R10
+	MOVQ out+40(FP), R11
+	VBROADCASTSD s2+48(FP), Y12
+	VBROADCASTSD ss+56(FP), Y13
+	VBROADCASTSD edgeConst<>+0(SB), Y14
+	VBROADCASTSD edgeConst<>+8(SB), Y15
+	MOVQ n+64(FP), CX
+	SUBQ $4, CX
+	SHLQ $2, CX // float32 byte offset of the last four
+	XORQ BX, BX
+
+echunk:
+	CMPQ BX, CX
+	JGT etail
+	XORQ DX, DX
+	JMP ebody
+
+etail:
+	LEAQ 16(CX), AX
+	CMPQ BX, AX
+	JEQ edone
+	MOVQ CX, BX
+	MOVQ $1, DX
+
+ebody:
+	VMOVUPD (R8)(BX*2), Y0 // ixx
+	VMOVUPD (R9)(BX*2), Y1 // iyy
+	VADDPD Y1, Y0, Y2
+	VMULPD Y14, Y2, Y2 // m
+	VSUBPD Y1, Y0, Y3
+	VMULPD Y14, Y3, Y3 // d
+	VMULPD Y3, Y3, Y3 // d·d
+	VMOVUPD (R10)(BX*2), Y4
+	VMULPD Y4, Y4, Y4 // ixy·ixy
+	VADDPD Y4, Y3, Y3
+	VSQRTPD Y3, Y3 // q
+	VANDPD Y15, Y2, Y2 // |m|
+	VADDPD Y3, Y2, Y2
+	VMULPD Y2, Y12, Y2 // lam = s2·(|m| + q)
+	VMOVUPD (SI)(BX*2), Y5
+	VMULPD Y5, Y5, Y5 // ix·ix
+	VMOVUPD (DI)(BX*2), Y6
+	VMULPD Y6, Y6, Y6 // iy·iy
+	VADDPD Y6, Y5, Y5 // g
+	VMULPD Y5, Y13, Y5 // ss·g
+	VMULPD Y2, Y2, Y2 // lam·lam
+	VADDPD Y2, Y5, Y5
+	VSQRTPD Y5, Y5
+	VCVTPD2PSY Y5, X5
+	VMOVUPS X5, (R11)(BX*1)
+	TESTQ DX, DX
+	JNZ edone
+	ADDQ $16, BX
+	JMP echunk
+
+edone:
+	VZEROUPPER
+	RET

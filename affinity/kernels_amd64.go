@@ -7,8 +7,8 @@ import "golang.org/x/sys/cpu"
 // useAVX2 reports whether the AVX2 kernels run: SLIC's single-plane
 // assignment rows (slicRowAVX2, slic_amd64.s), the object-scale
 // estimate's blurs and Laplacian rows (symTapsAVX2, normLapAVX2,
-// scale_amd64.s) and the Gaussian jet's passes (jetHAVX2, jetVAVX2,
-// contour_amd64.s). Each lane does the Go loop's operations in its order,
+// scale_amd64.s), the Gaussian jet's passes and the edge energy's rows
+// (jetHAVX2, jetVAVX2, edgeRowAVX2, contour_amd64.s). Each lane does the Go loop's operations in its order,
 // with no fused multiply-add, so every result is the Go code's bit for
 // bit (kernels_test.go); with the purego tag or off amd64 the Go loops
 // run alone (kernels_other.go).
@@ -64,3 +64,12 @@ func jetHAVX2(line *float32, coef *float64, r int, o0 *float32, o1 *float32, o2 
 //
 //go:noescape
 func jetVAVX2(a *float32, b *float32, d *float32, tbl **float32, coef *float64, r int, ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, n int)
+
+// edgeRowAVX2 is the AVX2 kernel of EdgeEnergy's row (contour_amd64.s)
+// for n >= 4 pixels: from the jet's rows, out = float32(sqrt(ss·(ix² +
+// iy²) + lam²)) with lam = s2·(|m| + sqrt(d² + ixy²)), m and d half the
+// sum and the difference of ixx and iyy, the Go loop's operations in its
+// order; s2 and ss are σ² (the same product twice in the Go loop).
+//
+//go:noescape
+func edgeRowAVX2(ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, out *float32, s2 float64, ss float64, n int)

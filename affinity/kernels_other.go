@@ -26,3 +26,7 @@ func jetHAVX2(line *float32, coef *float64, r int, o0 *float32, o1 *float32, o2 
 func jetVAVX2(a *float32, b *float32, d *float32, tbl **float32, coef *float64, r int, ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, n int) {
 	panic("affinity: no AVX2 kernel on this platform")
 }
+
+func edgeRowAVX2(ix *float64, iy *float64, ixx *float64, iyy *float64, ixy *float64, out *float32, s2 float64, ss float64, n int) {
+	panic("affinity: no AVX2 kernel on this platform")
+}
