@@ -48,6 +48,17 @@ def save(d, name, img, truth):
     io.imsave(os.path.join(d, name + ".png"), img, check_contrast=False)
     io.imsave(os.path.join(d, name + ".truth.png"), truth.astype(np.uint16), check_contrast=False)
 
+def place(rng, placed, share, reach, lo, hi):
+    """Centre of a new object: with probability share beside one of placed
+    (centre y, x and radius r each), reach(r) from its centre in a random
+    direction, else uniform on [lo, hi) in both axes."""
+    if placed and rng.random() < share:
+        cy, cx, cr = placed[rng.integers(len(placed))]
+        a = rng.uniform(0, 2 * np.pi)
+        d = reach(cr)
+        return cy + d * np.sin(a), cx + d * np.cos(a)
+    return rng.uniform(lo, hi), rng.uniform(lo, hi)
+
 def rods(rng, n=512):
     truth = np.zeros((n, n), np.int32)
     lab = 0
@@ -126,12 +137,7 @@ def specks(rng, n=512):
     while lab < target and tries < 5000:
         tries += 1
         r = rng.uniform(1.5, 4)
-        if centres and rng.random() < 0.33:
-            cy, cx, cr = centres[rng.integers(len(centres))]
-            a = rng.uniform(0, 2 * np.pi)
-            cy, cx = cy + (cr + r + 0.5) * np.sin(a), cx + (cr + r + 0.5) * np.cos(a)
-        else:
-            cy, cx = rng.uniform(4, n - 4), rng.uniform(4, n - 4)
+        cy, cx = place(rng, centres, 0.33, lambda cr: cr + r + 0.5, 4, n - 4)
         y0, y1, x0, x1 = int(max(cy - r - 1, 0)), int(min(cy + r + 2, n)), int(max(cx - r - 1, 0)), int(min(cx + r + 2, n))
         d2 = (yy[y0:y1, x0:x1] - cy) ** 2 + (xx[y0:y1, x0:x1] - cx) ** 2
         m = d2 <= r * r
@@ -158,12 +164,7 @@ def bodies(rng, n=512):
     while lab < target and tries < 2000:
         tries += 1
         a = rng.uniform(18, 40); b = a / rng.uniform(1, 1.8); th = rng.uniform(0, np.pi)
-        if cells and rng.random() < 0.33:
-            cy, cx, ca = cells[rng.integers(len(cells))]
-            ang = rng.uniform(0, 2 * np.pi)
-            cy, cx = cy + (ca + b) * 0.85 * np.sin(ang), cx + (ca + b) * 0.85 * np.cos(ang)
-        else:
-            cy, cx = rng.uniform(0, n), rng.uniform(0, n)
+        cy, cx = place(rng, cells, 0.33, lambda ca: (ca + b) * 0.85, 0, n)
         u = (xx - cx) * np.cos(th) + (yy - cy) * np.sin(th)
         v = -(xx - cx) * np.sin(th) + (yy - cy) * np.cos(th)
         m = (u / a) ** 2 + (v / b) ** 2 <= 1
@@ -204,12 +205,7 @@ def sizes(rng, n=512):
         tries += 1
         a = float(np.exp(rng.uniform(np.log(4), np.log(30))))
         b = a / rng.uniform(1, 1.5); th = rng.uniform(0, np.pi)
-        if cells and rng.random() < 0.33:
-            cy, cx, ca = cells[rng.integers(len(cells))]
-            ang = rng.uniform(0, 2 * np.pi)
-            cy, cx = cy + (ca + b) * 0.9 * np.sin(ang), cx + (ca + b) * 0.9 * np.cos(ang)
-        else:
-            cy, cx = rng.uniform(a, n - a), rng.uniform(a, n - a)
+        cy, cx = place(rng, cells, 0.33, lambda ca: (ca + b) * 0.9, a, n - a)
         y0, y1 = int(max(cy - a - 2, 0)), int(min(cy + a + 3, n))
         x0, x1 = int(max(cx - a - 2, 0)), int(min(cx + a + 3, n))
         if y1 <= y0 or x1 <= x0:
@@ -246,12 +242,7 @@ def hollow(rng, n=512):
     while lab < target and tries < 4000:
         tries += 1
         r = rng.uniform(7, 22)
-        if cells and rng.random() < 0.25:
-            cy, cx, cr = cells[rng.integers(len(cells))]
-            ang = rng.uniform(0, 2 * np.pi)
-            cy, cx = cy + (cr + r + 0.5) * np.sin(ang), cx + (cr + r + 0.5) * np.cos(ang)
-        else:
-            cy, cx = rng.uniform(r, n - r), rng.uniform(r, n - r)
+        cy, cx = place(rng, cells, 0.25, lambda cr: cr + r + 0.5, r, n - r)
         y0, y1 = int(max(cy - r - 2, 0)), int(min(cy + r + 3, n))
         x0, x1 = int(max(cx - r - 2, 0)), int(min(cx + r + 3, n))
         if y1 <= y0 or x1 <= x0:
