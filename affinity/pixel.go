@@ -1,6 +1,7 @@
 package affinity
 
 import (
+	"fmt"
 	"math"
 
 	"github.com/cleave-seg/cleave/segment/parallel"
@@ -302,4 +303,80 @@ func abs(a int) int {
 		return -a
 	}
 	return a
+}
+
+// PixelSubgraph is the graph PixelGraph(f, w, h, p, workers) induces on
+// nodes (pixel indices y*w + x, strictly ascending): node k of the result
+// is pixel nodes[k], and an edge of the pixel graph is kept when both its
+// ends are in nodes, with the same weight bits and rows in the same
+// (ascending) order as PixelGraph followed by Graph.Subgraph. It is built
+// from the stencil of the listed pixels alone, so its cost is the nodes'
+// count times the stencil's size, not the image's: the re-cut of one
+// object (whose pixels may fill a small share of their bounding box) uses
+// it. It returns a *ParamError for bad parameters and an error for an
+// empty image, planes of the wrong length, non-finite features or nodes
+// that are out of range or not strictly ascending.
+func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph, error) {
+	if err := p.Validate(); err != nil {
+		return nil, err
+	}
+	if err := checkPlanes(f, w, h); err != nil {
+		return nil, err
+	}
+	for k, i := range nodes {
+		if i < 0 || i >= w*h || (k > 0 && i <= nodes[k-1]) {
+			return nil, fmt.Errorf("affinity: subgraph node %d (%d) out of range [0, %d) or not ascending", k, i, w*h)
+		}
+	}
+	st := newStencil(w, h, p.Radius, p.SigmaX)
+	invI2 := invSigma2(p.SigmaI)
+	index := make([]int32, w*h)
+	for i := range index {
+		index[i] = -1
+	}
+	for k, i := range nodes {
+		index[i] = int32(k)
+	}
+	g := &Graph{N: len(nodes), RowPtr: make([]int, len(nodes)+1)}
+	// Capacity: the stored entries of a compact object (most of a
+	// stencil a node); append grows it where needed.
+	g.Col = make([]int32, 0, len(nodes)*len(st.lin))
+	g.Weight = make([]float32, 0, len(nodes)*len(st.lin))
+	f0 := f[0]
+	for k, i := range nodes {
+		x, y := i%w, i/w
+		for gr, dy := range st.dy {
+			if y+dy < 0 || y+dy >= h {
+				continue
+			}
+			a, b := st.span(gr, x, w)
+			for o := a; o < b; o++ {
+				j := i + st.lin[o]
+				q := index[j]
+				if q < 0 {
+					continue
+				}
+				// PixelGraph's arithmetic, in its order (fillPixelRows).
+				var arg float64
+				if len(f) == 1 {
+					diff := float64(f0[j]) - float64(f0[i])
+					arg = diff*diff*invI2 + st.spatial[o]
+				} else {
+					var d2 float64
+					for _, pl := range f {
+						diff := float64(pl[j]) - float64(pl[i])
+						d2 += diff * diff
+					}
+					arg = d2*invI2 + st.spatial[o]
+				}
+				if arg > maxExpArg {
+					continue
+				}
+				g.Col = append(g.Col, q)
+				g.Weight = append(g.Weight, expNeg(arg))
+			}
+		}
+		g.RowPtr[k+1] = len(g.Col)
+	}
+	return g, nil
 }

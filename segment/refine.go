@@ -869,7 +869,11 @@ type refineResult struct {
 // raster order in an image w pixels wide, b their bounding box, and
 // contrast[k] the contrast of pixel px[k].
 func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
-	if len(px) < 2*minPart || elongation(px, w) > refineElongation {
+	if len(px) < 2*minPart {
+		return refineResult{regions: 1}
+	}
+	elong := elongation(px, w)
+	if elong > refineElongation {
 		return refineResult{regions: 1}
 	}
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
@@ -899,19 +903,20 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		necked = coreNeck.depth >= refineNeckAlone
 	}
 	solid := solidity(px, w) > refineSolidity
-	if necked && solid && elongation(px, w) >= barElongation && !shape.beyondDigitization() {
+	if necked && solid && elong >= barElongation && !shape.beyondDigitization() {
 		necked = false
 	}
 	if !necked && solid {
 		return refineResult{regions: 1}
 	}
-	g, err := affinity.PixelGraph([][]float32{feat}, cw, ch, affinity.PixelParams{Radius: refineRadius, SigmaI: refineSigmaI, SigmaX: refineSigmaX}, 1)
+	// The crop's pixel graph induced on the object's pixels, built from
+	// them alone (the crop's other pixels may be most of it). nodes is
+	// ascending (px is in raster order), so the subgraph's node k is
+	// pixel px[k].
+	sub, err := affinity.PixelSubgraph([][]float32{feat}, cw, ch, nodes, affinity.PixelParams{Radius: refineRadius, SigmaI: refineSigmaI, SigmaX: refineSigmaX})
 	if err != nil {
 		return refineResult{err: err}
 	}
-	// nodes is ascending (px is in raster order), so the subgraph's node
-	// k is pixel px[k].
-	sub := g.Subgraph(nodes)
 	limit := refineLimit(maxNcut, len(px))
 	cutLimit := limit
 	if necked {
