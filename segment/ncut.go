@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -50,11 +51,7 @@ type split struct {
 // nil means 1 each). ok is false when no split is admissible.
 func sweepSplit(g *affinity.Graph, deg []float64, y []float64, area []int, minArea int) (s split, ok bool) {
 	n := g.N
-	order := make([]int32, n)
-	for i := range order {
-		order[i] = int32(i)
-	}
-	sort.SliceStable(order, func(a, b int) bool { return y[order[a]] < y[order[b]] })
+	order := sweepOrder(y)
 	pos := make([]int32, n)
 	for k, i := range order {
 		pos[i] = int32(k)
@@ -97,6 +94,46 @@ func sweepSplit(g *affinity.Graph, deg []float64, y []float64, area []int, minAr
 		return split{}, false
 	}
 	return split{order: order, at: bestAt, ncut: best}, true
+}
+
+// sweepOrder returns the node indices sorted by y ascending, ties by
+// index: the order a stable sort of 0..n-1 by y gives. For y without NaN
+// it sorts (value, index) pairs with an unstable sort whose tie-break
+// on the index makes the result that same unique order; a y with a NaN
+// (which is neither less nor greater than anything) takes the stable
+// sort itself, whose result then depends on the algorithm.
+func sweepOrder(y []float64) []int32 {
+	order := make([]int32, len(y))
+	for i := range order {
+		order[i] = int32(i)
+	}
+	for _, v := range y {
+		if math.IsNaN(v) {
+			sort.SliceStable(order, func(a, b int) bool { return y[order[a]] < y[order[b]] })
+			return order
+		}
+	}
+	type key struct {
+		y float64
+		i int32
+	}
+	keys := make([]key, len(y))
+	for i, v := range y {
+		keys[i] = key{v, int32(i)}
+	}
+	slices.SortFunc(keys, func(a, b key) int {
+		if a.y < b.y {
+			return -1
+		}
+		if a.y > b.y {
+			return 1
+		}
+		return int(a.i - b.i)
+	})
+	for k, c := range keys {
+		order[k] = c.i
+	}
+	return order
 }
 
 func nodeArea(area []int, i int) int {

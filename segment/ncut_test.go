@@ -4,6 +4,8 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"slices"
+	"sort"
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -206,5 +208,35 @@ func TestComponents(t *testing.T) {
 	}
 	if comp[0] != comp[2] || comp[4] != comp[5] || comp[3] == comp[0] || comp[3] == comp[4] {
 		t.Errorf("components %v", comp)
+	}
+}
+
+// TestSweepOrderStable checks sweepOrder against the standard library's
+// stable sort (sort.SliceStable of 0..n-1 by y, the order sweepSplit
+// used before): the same order on random vectors with many ties and
+// signed zeros.
+func TestSweepOrderStable(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13950, 1))
+	for trial := 0; trial < 60; trial++ {
+		n := 1 + rng.IntN(3000)
+		y := make([]float64, n)
+		levels := 1 + rng.IntN(50) // few levels: many ties
+		for i := range y {
+			y[i] = float64(rng.IntN(levels)) - float64(levels)/2
+			if trial%3 == 0 {
+				y[i] = rng.NormFloat64()
+			}
+			if y[i] == 0 && rng.IntN(2) == 0 {
+				y[i] = math.Copysign(0, -1)
+			}
+		}
+		want := make([]int32, n)
+		for i := range want {
+			want[i] = int32(i)
+		}
+		sort.SliceStable(want, func(a, b int) bool { return y[want[a]] < y[want[b]] })
+		if got := sweepOrder(y); !slices.Equal(got, want) {
+			t.Fatalf("trial %d (n = %d): sweepOrder differs from sort.SliceStable", trial, n)
+		}
 	}
 }
