@@ -342,7 +342,6 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 	// stencil a node); append grows it where needed.
 	g.Col = make([]int32, 0, len(nodes)*len(st.lin))
 	g.Weight = make([]float32, 0, len(nodes)*len(st.lin))
-	f0 := f[0]
 	for k, i := range nodes {
 		x, y := i%w, i/w
 		for gr, dy := range st.dy {
@@ -356,19 +355,7 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 				if q < 0 {
 					continue
 				}
-				// PixelGraph's arithmetic, in its order (fillPixelRows).
-				var arg float64
-				if len(f) == 1 {
-					diff := float64(f0[j]) - float64(f0[i])
-					arg = diff*diff*invI2 + st.spatial[o]
-				} else {
-					var d2 float64
-					for _, pl := range f {
-						diff := float64(pl[j]) - float64(pl[i])
-						d2 += diff * diff
-					}
-					arg = d2*invI2 + st.spatial[o]
-				}
+				arg := weightArg(f, i, j, invI2, st.spatial[o])
 				if arg > maxExpArg {
 					continue
 				}
@@ -379,4 +366,21 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 		g.RowPtr[k+1] = len(g.Col)
 	}
 	return g, nil
+}
+
+// weightArg is the exponent of the affinity of pixels i and j of planes f
+// at an offset whose spatial term is spatial: |F_i - F_j|²/σ_I² +
+// spatial (invI2 = 1/σ_I²), in the order of fillPixelRows' operations, so
+// that PixelSubgraph and the stencil graph store its weights bit for bit.
+func weightArg(f [][]float32, i, j int, invI2, spatial float64) float64 {
+	if len(f) == 1 {
+		diff := float64(f[0][j]) - float64(f[0][i])
+		return diff*diff*invI2 + spatial
+	}
+	var d2 float64
+	for _, pl := range f {
+		diff := float64(pl[j]) - float64(pl[i])
+		d2 += diff * diff
+	}
+	return d2*invI2 + spatial
 }

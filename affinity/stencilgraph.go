@@ -94,7 +94,6 @@ func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*St
 	const rowsPerChunk = 4
 	nchunks := (h + rowsPerChunk - 1) / rowsPerChunk
 	kept := make([]int, nchunks)
-	f0 := f[0]
 	parallel.For(nchunks, workers, func(c int) {
 		y0, y1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, h)
 		cnt := 0
@@ -107,19 +106,7 @@ func PixelStencilGraph(f [][]float32, w, h int, p PixelParams, workers int) (*St
 						continue
 					}
 					j := i + dy*w + dx
-					// The same operations as fillPixelRows for row i.
-					var arg float64
-					if len(f) == 1 {
-						diff := float64(f0[j]) - float64(f0[i])
-						arg = diff*diff*invI2 + st.spatial[o]
-					} else {
-						var d2 float64
-						for _, pl := range f {
-							diff := float64(pl[j]) - float64(pl[i])
-							d2 += diff * diff
-						}
-						arg = d2*invI2 + st.spatial[o]
-					}
+					arg := weightArg(f, i, j, invI2, st.spatial[o])
 					if arg > maxExpArg {
 						continue
 					}
