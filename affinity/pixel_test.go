@@ -9,16 +9,19 @@ import (
 	"testing"
 )
 
+// hand3x3 is the 3x3 image whose weights the hand-worked tests check.
+var hand3x3 = []float32{
+	0, 0.5, 1,
+	0.5, 0.5, 0,
+	1, 0, 0.25,
+}
+
 // TestPixelGraphHand3x3 checks rows of a 3x3 image against weights worked
 // out by hand from the formula of Shi and Malik (2000), eq. (11):
 // w_ij = exp(-|F_i-F_j|²/sigma_I²) exp(-|X_i-X_j|²/sigma_X²) = exp(-(a+b)).
 // With sigma_I = 0.5, a = 4 (F_i-F_j)²; with sigma_X = 1, b = dx²+dy².
 func TestPixelGraphHand3x3(t *testing.T) {
-	img := []float32{
-		0, 0.5, 1,
-		0.5, 0.5, 0,
-		1, 0, 0.25,
-	}
+	img := hand3x3
 	g, err := PixelGraph([][]float32{img}, 3, 3, PixelParams{Radius: 2, SigmaI: 0.5, SigmaX: 1}, 1)
 	if err != nil {
 		t.Fatal(err)

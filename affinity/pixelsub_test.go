@@ -14,11 +14,7 @@ import (
 // a = 4 (F_i-F_j)² (sigma_I = 0.5) and b = dx²+dy² (sigma_X = 1), on the
 // pixels {0, 2, 4, 8}: node 0 is pixel 0, 1 pixel 2, 2 pixel 4, 3 pixel 8.
 func TestPixelSubgraphHand3x3(t *testing.T) {
-	img := []float32{
-		0, 0.5, 1,
-		0.5, 0.5, 0,
-		1, 0, 0.25,
-	}
+	img := hand3x3
 	g, err := PixelSubgraph([][]float32{img}, 3, 3, []int{0, 2, 4, 8}, PixelParams{Radius: 2, SigmaI: 0.5, SigmaX: 1})
 	if err != nil {
 		t.Fatal(err)
