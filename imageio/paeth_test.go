@@ -50,13 +50,15 @@ func TestPaethAVX2MatchesGo(t *testing.T) {
 }
 
 // TestPNGFilterAVX2Identical filters rows of RGB (bpp 3), 16-bit gray
-// (bpp 2) and gray (bpp 1) with and without the Paeth kernel and checks
-// the chosen filter and the filtered bytes.
+// (bpp 2) and gray (bpp 1) with and without the AVX2 kernels (Paeth and
+// the other four candidates) and checks the chosen filter and the
+// filtered bytes.
 func TestPNGFilterAVX2Identical(t *testing.T) {
 	if !usePaethAVX2 {
 		t.Skip("no AVX2 kernel on this machine or build: the Paeth filter runs in Go alone")
 	}
 	rng := rand.New(rand.NewPCG(9, 23))
+	avx2Filters := useFilterAVX2
 	chosen := map[int]int{}
 	for _, bpp := range []int{1, 2, 3, 6} {
 		for _, px := range []int{2, 6, 21, 22, 43, 260, 1000} {
@@ -87,18 +89,20 @@ func TestPNGFilterAVX2Identical(t *testing.T) {
 					return f, cr[f]
 				}
 				fa, ra := run()
-				usePaethAVX2 = false
+				usePaethAVX2, useFilterAVX2 = false, false
 				fb, rb := run()
-				usePaethAVX2 = true
+				usePaethAVX2, useFilterAVX2 = true, avx2Filters
 				if fa != fb || !bytes.Equal(ra, rb) {
-					t.Fatalf("bpp %d, n %d, trial %d: filter %d with the kernel, %d without, or bytes differ", bpp, n, trial, fa, fb)
+					t.Fatalf("bpp %d, n %d, trial %d: filter %d with the kernels, %d without, or bytes differ", bpp, n, trial, fa, fb)
 				}
 				chosen[fa]++
 			}
 		}
 	}
-	if chosen[4] == 0 {
-		t.Fatalf("no row chose Paeth (%v): the kernel's result was never used", chosen)
+	for f, name := range []string{"None", "Sub", "Up", "Average", "Paeth"} {
+		if chosen[f] == 0 {
+			t.Fatalf("no row chose %s (%v): that kernel's result was never used", name, chosen)
+		}
 	}
 }
 

@@ -317,7 +317,9 @@ func (c *idatWriter) Write(p []byte) (int, error) {
 // same verdict (the sums only grow), and the bytes are filtered and
 // summed eight at a time in the lanes of a uint64 (swarSub, swarAvg,
 // swarAbsSum), Paeth's predictor without branches on the data, sixteen
-// bytes at a time in paethAVX2 where usePaethAVX2 is set.
+// bytes at a time in paethAVX2 where usePaethAVX2 is set; where
+// useFilterAVX2 is set the other four candidates run thirty-two bytes at
+// a time in subAbsAVX2, absSumAVX2 and avgAbsAVX2 (filter_amd64.s).
 func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 	const (
 		ftNone = iota
@@ -333,6 +335,10 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 
 	// Up: x - above.
 	sum, i := 0, 0
+	if m := n &^ 31; useFilterAVX2 && m > 0 {
+		sum = subAbsAVX2(&cdat0[0], &pdat[0], &cdat2[0], m)
+		i = m
+	}
 	for ; i+8 <= n; i += 8 {
 		d := swarSub(le.Uint64(cdat0[i:]), le.Uint64(pdat[i:]))
 		le.PutUint64(cdat2[i:], d)
@@ -367,6 +373,10 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 	for i0 := 0; i0 < n && sum < best; i0 += 64 {
 		i1 := min(n, i0+64)
 		i := i0
+		if m := (i1 - i) &^ 31; useFilterAVX2 && m > 0 {
+			sum += absSumAVX2(&cdat0[i], m)
+			i += m
+		}
 		for ; i+8 <= i1; i += 8 {
 			sum += swarAbsSum(le.Uint64(cdat0[i:]))
 		}
@@ -387,6 +397,10 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 	for i0 := bpp; i0 < n && sum < best; i0 += 64 {
 		i1 := min(n, i0+64)
 		i := i0
+		if m := (i1 - i) &^ 31; useFilterAVX2 && m > 0 {
+			sum += subAbsAVX2(&cdat0[i], &cdat0[i-bpp], &cdat1[i], m)
+			i += m
+		}
 		for ; i+8 <= i1; i += 8 {
 			d := swarSub(le.Uint64(cdat0[i:]), le.Uint64(cdat0[i-bpp:]))
 			le.PutUint64(cdat1[i:], d)
@@ -410,6 +424,10 @@ func pngFilter(cr *[5][]byte, pr []byte, bpp int) int {
 	for i0 := bpp; i0 < n && sum < best; i0 += 64 {
 		i1 := min(n, i0+64)
 		i := i0
+		if m := (i1 - i) &^ 31; useFilterAVX2 && m > 0 {
+			sum += avgAbsAVX2(&cdat0[i], &cdat0[i-bpp], &pdat[i], &cdat3[i], m)
+			i += m
+		}
 		for ; i+8 <= i1; i += 8 {
 			d := swarSub(le.Uint64(cdat0[i:]), swarAvg(le.Uint64(cdat0[i-bpp:]), le.Uint64(pdat[i:])))
 			le.PutUint64(cdat3[i:], d)
