@@ -6,7 +6,6 @@ import (
 	"io"
 	"math"
 	"slices"
-	"sync"
 
 	"github.com/cleave-seg/cleave/imageio/render"
 	"github.com/cleave-seg/cleave/segment/labelmap"
@@ -193,82 +192,120 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 	if opt.Hi > opt.Lo {
 		scale = 1 / (opt.Hi - opt.Lo)
 	}
-	unit := func(v float64) float64 {
-		if !(v >= 0) { // also NaN
-			return 0
-		}
-		return min(v, 1)
-	}
 	// Rows are drawn band by band as the encoder asks for them
-	// (encodePNGRows), into an RGBA band that the numbers crossing it are
-	// drawn on; no image-sized picture is held.
+	// (encodePNGRows), straight into its RGB rows; no image-sized picture
+	// is held. The numbers crossing a band are drawn on a small RGBA copy
+	// of their box, copied back.
 	var places []NumberPlace
 	if opt.Numbers {
 		places = PlaceNumbers(m)
 	}
-	pool := sync.Pool{New: func() any { return new([]byte) }}
 	rows := func(y0, y1 int, dst []byte) {
-		bp := pool.Get().(*[]byte)
-		defer pool.Put(bp)
-		*bp = grow(*bp, 4*width*(y1-y0))
-		img := &image.RGBA{Pix: *bp, Stride: 4 * width, Rect: image.Rect(0, y0, width, y1)}
 		for y := y0; y < y1; y++ {
 			row := labels[y*width : (y+1)*width]
 			var below []int32 // the next row's labels; nil on the last row
 			if y+1 < height {
 				below = labels[(y+1)*width : (y+2)*width]
 			}
-			gray := display[y*width : (y+1)*width]
-			out := img.Pix[4*(y-y0)*width : 4*(y-y0+1)*width]
-			for x, l := range row {
-				p := out[4*x : 4*x+4 : 4*x+4]
-				p[3] = 255
-				// A boundary pixel differs in label from its right or
-				// lower neighbour; marking one side only draws
-				// boundaries one pixel wide.
-				if (x+1 < width && row[x+1] != l) || (below != nil && below[x] != l) {
-					p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
-					continue
-				}
-				var base [3]float64
-				tinted := palette != nil && l > 0
-				if colour {
-					i := y*width + x
-					for k := range 3 {
-						base[k] = 255 * unit((float64(opt.Colour[k][i])-opt.Lo)*scale)
-					}
-				} else {
-					g := 255 * unit(float64(gray[x]))
-					if !tinted {
-						v := round8(g)
-						p[0], p[1], p[2] = v, v, v
-						continue
-					}
-					base = [3]float64{g, g, g}
-				}
-				if tinted {
-					c := palette.Of(l)
-					for k := range 3 {
-						base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
-					}
-				}
-				for k := range 3 {
-					p[k] = round8(base[k])
-				}
+			out := dst[3*(y-y0)*width : 3*(y-y0+1)*width]
+			if colour {
+				colourRow(out, row, below, opt, y*width, scale, palette)
+			} else {
+				grayRow(out, row, below, display[y*width:(y+1)*width], palette)
 			}
 		}
 		// A number's box with its halo lies inside its own object, so
 		// boxes never overlap and the order of drawing does not matter;
-		// DrawNumber clips to the band.
+		// DrawNumber clips to the box, which is clipped to the band.
 		for _, n := range places {
-			_, h := render.NumberSize(int(n.Label), n.Scale)
-			if n.Y-1 < y1 && n.Y+h+1 > y0 {
-				render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
+			w, h := render.NumberSize(int(n.Label), n.Scale)
+			box := image.Rect(n.X-1, n.Y-1, n.X+w+1, n.Y+h+1).Intersect(image.Rect(0, y0, width, y1))
+			if box.Empty() {
+				continue
+			}
+			img := image.NewRGBA(box)
+			for y := box.Min.Y; y < box.Max.Y; y++ {
+				src := dst[3*((y-y0)*width+box.Min.X) : 3*((y-y0)*width+box.Max.X)]
+				pix := img.Pix[img.PixOffset(box.Min.X, y):]
+				for x := range box.Dx() {
+					pix[4*x], pix[4*x+1], pix[4*x+2], pix[4*x+3] = src[3*x], src[3*x+1], src[3*x+2], 255
+				}
+			}
+			render.DrawNumber(img, int(n.Label), n.X, n.Y, n.Scale, numberInk, numberOutline)
+			for y := box.Min.Y; y < box.Max.Y; y++ {
+				rgbaToRGB(dst[3*((y-y0)*width+box.Min.X):3*((y-y0)*width+box.Max.X)], img.Pix[img.PixOffset(box.Min.X, y):img.PixOffset(box.Max.X, y)])
 			}
 		}
-		rgbaToRGB(dst, img.Pix)
 	}
 	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, rows: rows}, opt.Workers)
+}
+
+// unit clamps v to [0, 1]; NaN gives 0.
+func unit(v float64) float64 {
+	if !(v >= 0) { // also NaN
+		return 0
+	}
+	return min(v, 1)
+}
+
+// isBoundary reports whether pixel x of row (label l) differs in label
+// from its right or lower neighbour (below: the next row, nil on the
+// last): marking one side only draws boundaries one pixel wide.
+func isBoundary(row, below []int32, x int, l int32) bool {
+	return (x+1 < len(row) && row[x+1] != l) || (below != nil && below[x] != l)
+}
+
+// grayRow draws one overlay row of a gray display plane into out (RGB):
+// boundary pixels amber, others the display value as gray, blended with
+// the label's colour (weight tintAlpha) for labels > 0 when palette is
+// set.
+func grayRow(out []byte, row, below []int32, gray []float32, palette *render.LabelColours) {
+	out = out[:3*len(row)]
+	gray = gray[:len(row)]
+	for x, l := range row {
+		p := out[3*x : 3*x+3 : 3*x+3]
+		if isBoundary(row, below, x, l) {
+			p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
+			continue
+		}
+		g := 255 * unit(float64(gray[x]))
+		if palette == nil || l <= 0 {
+			v := round8(g)
+			p[0], p[1], p[2] = v, v, v
+			continue
+		}
+		c := palette.Of(l)
+		for k := range 3 {
+			p[k] = round8((1-tintAlpha)*g + tintAlpha*float64(c[k]))
+		}
+	}
+}
+
+// colourRow is grayRow for a colour picture: each channel of pixel i0 +
+// x mapped by the window opt.Lo..opt.Hi (scale = 1 / (Hi - Lo), 0 for an
+// empty window) to 0..255.
+func colourRow(out []byte, row, below []int32, opt OverlayOptions, i0 int, scale float64, palette *render.LabelColours) {
+	out = out[:3*len(row)]
+	for x, l := range row {
+		p := out[3*x : 3*x+3 : 3*x+3]
+		if isBoundary(row, below, x, l) {
+			p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
+			continue
+		}
+		var base [3]float64
+		for k := range 3 {
+			base[k] = 255 * unit((float64(opt.Colour[k][i0+x])-opt.Lo)*scale)
+		}
+		if palette != nil && l > 0 {
+			c := palette.Of(l)
+			for k := range 3 {
+				base[k] = (1-tintAlpha)*base[k] + tintAlpha*float64(c[k])
+			}
+		}
+		for k := range 3 {
+			p[k] = round8(base[k])
+		}
+	}
 }
 
 // round8 is uint8(math.Round(v)) for 0 <= v < 255.5 (half away from
