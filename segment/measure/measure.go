@@ -182,15 +182,22 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 	idx := newIndex(labels)
 	var accs []*acc
 	np := len(planes)
-	// Pass 1: area, box, border, class, intensity extremes and sums,
-	// row runs.
+	// Pass 1, over the label map in runs of one label along a row: area,
+	// box, border, class, intensity extremes and sums (pixel by pixel in
+	// raster order), row spans.
 	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			l := labels[i]
+		row := labels[y*w : (y+1)*w]
+		for x := 0; x < w; {
+			l := row[x]
+			e := x + 1
+			for e < w && row[e] == l {
+				e++
+			}
 			if l <= 0 {
+				x = e
 				continue
 			}
+			i0 := y*w + x
 			k := idx.get(l)
 			if k < 0 {
 				k = len(accs)
@@ -200,34 +207,42 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 					a.stats[c].Min, a.stats[c].Max = math.Inf(1), math.Inf(-1)
 				}
 				if classes != nil {
-					a.class = classes[i]
+					a.class = classes[i0]
 				}
 				accs = append(accs, a)
 			}
 			a := accs[k]
-			a.area++
-			a.x0, a.x1, a.y1 = min(a.x0, x), max(a.x1, x), y
-			if x == 0 || y == 0 || x == w-1 || y == h-1 {
+			a.area += e - x
+			a.x0, a.x1, a.y1 = min(a.x0, x), max(a.x1, e-1), y
+			if x == 0 || y == 0 || e == w || y == h-1 {
 				a.border = true
 			}
-			if classes != nil && classes[i] != a.class {
-				a.mixed = true
+			if classes != nil && !a.mixed {
+				for _, c := range classes[i0 : i0+e-x] {
+					if c != a.class {
+						a.mixed = true
+						break
+					}
+				}
 			}
 			for c, p := range planes {
-				v := float64(p[i])
-				if math.IsNaN(v) || math.IsInf(v, 0) {
-					continue
-				}
 				s := &a.stats[c]
-				s.Count++
-				s.Sum += v
-				s.Min, s.Max = math.Min(s.Min, v), math.Max(s.Max, v)
+				for _, f := range p[i0 : i0+e-x] {
+					v := float64(f)
+					if math.IsNaN(v) || math.IsInf(v, 0) {
+						continue
+					}
+					s.Count++
+					s.Sum += v
+					s.Min, s.Max = math.Min(s.Min, v), math.Max(s.Max, v)
+				}
 			}
 			if n := len(a.runs); n > 0 && a.runs[n-1].y == int32(y) {
-				a.runs[n-1].b = int32(x)
+				a.runs[n-1].b = int32(e - 1)
 			} else {
-				a.runs = append(a.runs, run{int32(y), int32(x), int32(x)})
+				a.runs = append(a.runs, run{int32(y), int32(x), int32(e - 1)})
 			}
+			x = e
 		}
 	}
 	for _, a := range accs {
@@ -240,40 +255,47 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 			s.Mean = s.Sum / float64(s.Count)
 		}
 	}
-	// Pass 2: moments about the box corner, squared deviations.
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			l := labels[i]
-			if l <= 0 {
-				continue
-			}
-			a := accs[idx.get(l)]
-			dx, dy := uint64(x-a.x0), uint64(y-a.y0)
-			a.sx.add(dx)
-			a.sy.add(dy)
-			a.sxx.add(dx * dx)
-			a.syy.add(dy * dy)
-			a.sxy.add(dx * dy)
-			for c, p := range planes {
-				if v := float64(p[i]); !math.IsNaN(v) && !math.IsInf(v, 0) {
-					d := v - a.stats[c].Mean
-					a.dev[c] += d * d
+	// Pass 2, region by region over its row spans (raster order, so the
+	// squared deviations are added in the order of a raster scan):
+	// moments about the box corner, squared deviations.
+	for _, a := range accs {
+		for _, r := range a.runs {
+			y := int(r.y)
+			row := labels[y*w : (y+1)*w]
+			dy := uint64(y - a.y0)
+			for x := int(r.a); x <= int(r.b); x++ {
+				if row[x] != a.label {
+					continue // another label inside the span
+				}
+				dx := uint64(x - a.x0)
+				a.sx.add(dx)
+				a.sy.add(dy)
+				a.sxx.add(dx * dx)
+				a.syy.add(dy * dy)
+				a.sxy.add(dx * dy)
+				for c, p := range planes {
+					if v := float64(p[y*w+x]); !math.IsNaN(v) && !math.IsInf(v, 0) {
+						d := v - a.stats[c].Mean
+						a.dev[c] += d * d
+					}
 				}
 			}
 		}
 	}
 	// Crofton perimeter: every 2 x 2 block of the image surrounded by
-	// background; (x, y) is its bottom-right pixel.
-	at := func(x, y int) int32 {
-		if x < 0 || y < 0 || x >= w || y >= h {
-			return 0
-		}
-		return labels[y*w+x]
-	}
+	// background, in raster order of its bottom-right pixel (x, y): the
+	// rows y - 1 and y are copied with a background column on either
+	// side, so block x is columns x and x + 1 of the copies.
+	above, below := make([]int32, w+2), make([]int32, w+2)
 	for y := 0; y <= h; y++ {
+		above, below = below, above
+		if y < h {
+			copy(below[1:w+1], labels[y*w:(y+1)*w])
+		} else {
+			clear(below)
+		}
 		for x := 0; x <= w; x++ {
-			br, tr, bl, tl := at(x, y), at(x, y-1), at(x-1, y), at(x-1, y-1)
+			br, tr, bl, tl := below[x+1], above[x+1], below[x], above[x]
 			if br == tr && br == bl && br == tl {
 				continue
 			}
@@ -293,7 +315,7 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 		}
 	}
 	if classes != nil {
-		majorityClasses(accs, idx, labels, classes)
+		majorityClasses(accs, labels, classes, w)
 	}
 	// Ascending label order.
 	order := idx.order(accs)

@@ -1,9 +1,9 @@
 package measure
 
 import (
-	"cmp"
 	"math"
 	"math/big"
+	"math/bits"
 	"slices"
 	"sort"
 )
@@ -57,26 +57,22 @@ func (x *index) order(accs []*acc) []*acc {
 }
 
 // majorityClasses gives each region whose pixels disagree on their class
-// the class most of them hold (the smallest on a tie).
-func majorityClasses(accs []*acc, idx *index, labels, classes []int32) {
-	counts := map[*acc]map[int32]int{}
+// the class most of them hold (the smallest on a tie), counting over the
+// row spans of those regions alone.
+func majorityClasses(accs []*acc, labels, classes []int32, w int) {
 	for _, a := range accs {
-		if a.mixed {
-			counts[a] = map[int32]int{}
-		}
-	}
-	if len(counts) == 0 {
-		return
-	}
-	for i, l := range labels {
-		if l <= 0 {
+		if !a.mixed {
 			continue
 		}
-		if c, ok := counts[accs[idx.get(l)]]; ok {
-			c[classes[i]]++
+		c := map[int32]int{}
+		for _, r := range a.runs {
+			i0 := int(r.y) * w
+			for i := i0 + int(r.a); i <= i0+int(r.b); i++ {
+				if labels[i] == a.label {
+					c[classes[i]]++
+				}
+			}
 		}
-	}
-	for a, c := range counts {
 		best, bn := int32(0), -1
 		for cl, n := range c {
 			if n > bn || (n == bn && cl < best) {
@@ -100,18 +96,22 @@ func (a *acc) finish() Region {
 		r.Circularity = 4 * math.Pi * n / (a.perim * a.perim)
 	}
 	// Exact central moments times A: A Sxx - Sx^2 and so on.
-	N := big.NewInt(int64(a.area))
-	sx, sy := a.sx.big(), a.sy.big()
-	r.CentroidX = float64(a.x0) + ratio(sx, N)
-	r.CentroidY = float64(a.y0) + ratio(sy, N)
-	central := func(s2 u128, s, t *big.Int) *big.Int {
-		v := new(big.Int).Mul(N, s2.big())
-		return v.Sub(v, new(big.Int).Mul(s, t))
+	cx, cy, p, s, q, ok := a.smallMoments()
+	if !ok {
+		N := big.NewInt(int64(a.area))
+		sx, sy := a.sx.big(), a.sy.big()
+		cx, cy = ratio(sx, N), ratio(sy, N)
+		central := func(s2 u128, s, t *big.Int) *big.Int {
+			v := new(big.Int).Mul(N, s2.big())
+			return v.Sub(v, new(big.Int).Mul(s, t))
+		}
+		cxx, cyy, cxy := central(a.sxx, sx, sx), central(a.syy, sy, sy), central(a.sxy, sx, sy)
+		NN := new(big.Int).Mul(N, N)
+		// The covariance matrix [[p, q], [q, s]] of the pixel coordinates.
+		p, s, q = ratio(cxx, NN), ratio(cyy, NN), ratio(cxy, NN)
 	}
-	cxx, cyy, cxy := central(a.sxx, sx, sx), central(a.syy, sy, sy), central(a.sxy, sx, sy)
-	NN := new(big.Int).Mul(N, N)
-	// The covariance matrix [[p, q], [q, s]] of the pixel coordinates.
-	p, s, q := ratio(cxx, NN), ratio(cyy, NN), ratio(cxy, NN)
+	r.CentroidX = float64(a.x0) + cx
+	r.CentroidY = float64(a.y0) + cy
 	mid, rad := (p+s)/2, math.Hypot((p-s)/2, q)
 	l1, l2 := max(mid+rad, 0), max(mid-rad, 0)
 	r.MajorAxis, r.MinorAxis = 4*math.Sqrt(l1), 4*math.Sqrt(l2)
@@ -129,6 +129,46 @@ func (a *acc) finish() Region {
 	r.Solidity = n / float64(r.ConvexArea)
 	r.FeretMax = maxDistance(convexHull(crackMidpoints(rows, a.y0))) / 2
 	return r
+}
+
+// exactFloat is the largest integer below which every integer is a
+// float64 (2^53).
+const exactFloat = 1 << 53
+
+// smallMoments is the centroid offsets Sx / A, Sy / A and the covariance
+// entries p = (A Sxx - Sx^2) / A^2, s = (A Syy - Sy^2) / A^2 and q = (A
+// Sxy - Sx Sy) / A^2 of the region, as ratio rounds them, when every
+// product fits in 64 bits and every numerator and denominator is below
+// 2^53 (ok): the integers are then exact in float64 and one IEEE 754
+// division rounds their quotient to the nearest float64, ties to even,
+// which is what big.Rat's Float64 gives. ok is false otherwise (large
+// regions), for the exact path.
+func (a *acc) smallMoments() (cx, cy, p, s, q float64, ok bool) {
+	n := uint64(a.area)
+	if a.sx.hi|a.sy.hi|a.sxx.hi|a.syy.hi|a.sxy.hi != 0 || n >= 1<<26 {
+		return 0, 0, 0, 0, 0, false
+	}
+	central := func(s2, u, v uint64) (int64, bool) {
+		h1, l1 := bits.Mul64(n, s2)
+		h2, l2 := bits.Mul64(u, v)
+		if h1 != 0 || h2 != 0 || l1 >= 1<<63 || l2 >= 1<<63 {
+			return 0, false
+		}
+		d := int64(l1) - int64(l2)
+		if d <= -exactFloat || d >= exactFloat {
+			return 0, false
+		}
+		return d, true
+	}
+	sx, sy := a.sx.lo, a.sy.lo
+	cxx, ok1 := central(a.sxx.lo, sx, sx)
+	cyy, ok2 := central(a.syy.lo, sy, sy)
+	cxy, ok3 := central(a.sxy.lo, sx, sy)
+	if !ok1 || !ok2 || !ok3 || sx >= exactFloat || sy >= exactFloat {
+		return 0, 0, 0, 0, 0, false
+	}
+	N, NN := float64(n), float64(n*n) // n < 2^26: n^2 < 2^52
+	return float64(sx) / N, float64(sy) / N, float64(cxx) / NN, float64(cyy) / NN, float64(cxy) / NN, true
 }
 
 // ratio is num / den rounded to float64 (den > 0).
@@ -161,15 +201,41 @@ func cross(o, a, b pt) int64 { return (a.x-o.x)*(b.y-o.y) - (a.y-o.y)*(b.x-o.x) 
 // convexHull is Andrew's monotone chain (Andrew 1979, "Another efficient
 // algorithm for convex hulls in two dimensions", Information Processing
 // Letters 9:216-219) in exact integer arithmetic: the hull's vertices
-// without collinear points, in order.
+// without collinear points, in order. The points of a region lie on few
+// rows, so instead of a sort by coordinates only the leftmost and
+// rightmost point of each row are kept (the others lie between them and
+// are never vertices), which lists them in order of (y, x) with one pass
+// over the points; the chain runs along y, giving the same vertices as a
+// run along x, in the other turning direction.
 func convexHull(ps []pt) []pt {
-	slices.SortFunc(ps, func(a, b pt) int {
-		if a.x != b.x {
-			return cmp.Compare(a.x, b.x)
+	if len(ps) == 0 {
+		return ps
+	}
+	y0, y1 := ps[0].y, ps[0].y
+	for _, p := range ps {
+		y0, y1 = min(y0, p.y), max(y1, p.y)
+	}
+	n := int(y1 - y0 + 1)
+	ext := make([]int64, 2*n) // per row: the smallest x, the largest x
+	for k := 0; k < n; k++ {
+		ext[2*k], ext[2*k+1] = math.MaxInt64, math.MinInt64
+	}
+	for _, p := range ps {
+		k := 2 * int(p.y-y0)
+		ext[k], ext[k+1] = min(ext[k], p.x), max(ext[k+1], p.x)
+	}
+	sorted := ps[:0] // the extremes use no more room than the points
+	for k := 0; k < n; k++ {
+		lo, hi := ext[2*k], ext[2*k+1]
+		if lo > hi {
+			continue
 		}
-		return cmp.Compare(a.y, b.y)
-	})
-	ps = slices.Compact(ps)
+		sorted = append(sorted, pt{lo, y0 + int64(k)})
+		if hi > lo {
+			sorted = append(sorted, pt{hi, y0 + int64(k)})
+		}
+	}
+	ps = sorted
 	if len(ps) < 3 {
 		return ps
 	}
