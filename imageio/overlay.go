@@ -113,25 +113,58 @@ func PlaceNumbers(m labelmap.Map) []NumberPlace {
 		n      int
 		sx, sy float64
 	}
-	sums := map[int32]*acc{}
-	for i, l := range labels {
-		if l <= 0 {
-			continue
-		}
-		a := sums[l]
-		if a == nil {
-			a = &acc{}
-			sums[l] = a
-		}
-		a.n++
-		a.sx += float64(i % width)
-		a.sy += float64(i / width)
+	// The sums are of integers below 2^53, exact in float64 in any order,
+	// so they are added a run of one label along a row at a time. Labels
+	// up to the pixel count are looked up in a table, larger ones in a
+	// map.
+	maxLabel := int32(0)
+	for _, l := range labels {
+		maxLabel = max(maxLabel, l)
 	}
-	ids := make([]int32, 0, len(sums))
-	for l := range sums {
-		ids = append(ids, l)
+	var dense []*acc
+	if int64(maxLabel) <= int64(len(labels)) {
+		dense = make([]*acc, int(maxLabel)+1)
+	}
+	sums := map[int32]*acc{}
+	var ids []int32
+	for y := range height {
+		row := labels[y*width : (y+1)*width]
+		for x := 0; x < width; {
+			l, e := row[x], x+1
+			for e < width && row[e] == l {
+				e++
+			}
+			if l > 0 {
+				var a *acc
+				if dense != nil {
+					a = dense[l]
+				} else {
+					a = sums[l]
+				}
+				if a == nil {
+					a = &acc{}
+					if dense != nil {
+						dense[l] = a
+					} else {
+						sums[l] = a
+					}
+					ids = append(ids, l)
+				}
+				n := e - x
+				a.n += n
+				a.sx += float64((x + e - 1) * n / 2) // x + (x+1) + ... + (e-1)
+				a.sy += float64(y * n)
+			}
+			x = e
+		}
 	}
 	slices.Sort(ids)
+	of := func(l int32) *acc {
+		if dense != nil {
+			return dense[l]
+		}
+		return sums[l]
+	}
 	inside := func(l int32, x0, y0, w, h int) bool {
 		if x0 < 0 || y0 < 0 || x0+w > width || y0+h > height {
 			return false
@@ -147,7 +180,7 @@ func PlaceNumbers(m labelmap.Map) []NumberPlace {
 	}
 	var out []NumberPlace
 	for _, l := range ids {
-		a := sums[l]
+		a := of(l)
 		cx, cy := a.sx/float64(a.n), a.sy/float64(a.n)
 		for _, s := range []int{NumberScale(width, height), 1} {
 			w, h := render.NumberSize(int(l), s)

@@ -7,6 +7,7 @@ import (
 	"image/png"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/cleave-seg/cleave/imageio/render"
@@ -132,6 +133,100 @@ func TestOverlayRowsMatchPicture(t *testing.T) {
 					}
 				}
 			}
+		}
+	}
+}
+
+// placeNumbersOld is PlaceNumbers as it was before its sums were taken
+// run by run (commit 2d5ecb5), kept verbatim for
+// TestPlaceNumbersMatchesFormer.
+func placeNumbersOld(m labelmap.Map) []NumberPlace {
+	labels, width, height := m.Pix, m.Width, m.Height
+	type acc struct {
+		n      int
+		sx, sy float64
+	}
+	sums := map[int32]*acc{}
+	for i, l := range labels {
+		if l <= 0 {
+			continue
+		}
+		a := sums[l]
+		if a == nil {
+			a = &acc{}
+			sums[l] = a
+		}
+		a.n++
+		a.sx += float64(i % width)
+		a.sy += float64(i / width)
+	}
+	ids := make([]int32, 0, len(sums))
+	for l := range sums {
+		ids = append(ids, l)
+	}
+	slices.Sort(ids)
+	inside := func(l int32, x0, y0, w, h int) bool {
+		if x0 < 0 || y0 < 0 || x0+w > width || y0+h > height {
+			return false
+		}
+		for y := y0; y < y0+h; y++ {
+			for _, v := range labels[y*width+x0 : y*width+x0+w] {
+				if v != l {
+					return false
+				}
+			}
+		}
+		return true
+	}
+	var out []NumberPlace
+	for _, l := range ids {
+		a := sums[l]
+		cx, cy := a.sx/float64(a.n), a.sy/float64(a.n)
+		for _, s := range []int{NumberScale(width, height), 1} {
+			w, h := render.NumberSize(int(l), s)
+			x0 := int(math.Round(cx)) - w/2
+			y0 := int(math.Round(cy)) - h/2
+			if inside(l, x0-1, y0-1, w+2, h+2) {
+				out = append(out, NumberPlace{Label: l, X: x0, Y: y0, Scale: s, CX: cx, CY: cy})
+				break
+			}
+			if s == 1 {
+				break
+			}
+		}
+	}
+	return out
+}
+
+// TestPlaceNumbersMatchesFormer checks PlaceNumbers against
+// placeNumbersOld on random discs: small and large labels (the table and
+// the map), negative labels, numbers at scales 1 and 2.
+func TestPlaceNumbersMatchesFormer(t *testing.T) {
+	rng := rand.New(rand.NewPCG(6, 60))
+	for trial := range 9 {
+		w, h := 100+rng.IntN(1300), 100+rng.IntN(700)
+		labels := make([]int32, w*h)
+		for k := range 60 {
+			cx, cy, r := rng.IntN(w), rng.IntN(h), 2+rng.IntN(40)
+			l := int32(k + 1)
+			if trial%3 == 1 && k%5 == 0 {
+				l = -l
+			}
+			if trial%3 == 2 {
+				l = int32(2_000_000_000 - k*7)
+			}
+			for y := max(cy-r, 0); y < min(cy+r+1, h); y++ {
+				for x := max(cx-r, 0); x < min(cx+r+1, w); x++ {
+					if (x-cx)*(x-cx)+(y-cy)*(y-cy) <= r*r {
+						labels[y*w+x] = l
+					}
+				}
+			}
+		}
+		m := labelmap.Map{Pix: labels, Width: w, Height: h}
+		got, want := PlaceNumbers(m), placeNumbersOld(m)
+		if len(want) == 0 || !slices.Equal(got, want) {
+			t.Fatalf("trial %d (%dx%d): places\n%v\nformerly\n%v", trial, w, h, got, want)
 		}
 	}
 }

@@ -125,21 +125,34 @@ func ColourLabels(m labelmap.Map) *LabelColours {
 		slices.Sort(ids)
 	}
 	// Touching pairs (a < b), found on the right, lower, lower-left and
-	// lower-right neighbours of each pixel.
+	// lower-right neighbours of each pixel of a label > 0. A pair found
+	// again right after itself (along a shared border) is not appended
+	// twice; the sort and compaction below remove the other repeats.
 	var pairs [][2]int32
+	last := [2]int32{-1, -1}
 	add := func(a, b int32) {
-		if a > 0 && b > 0 && a != b {
-			pairs = append(pairs, [2]int32{min(a, b), max(a, b)})
+		if b > 0 && a != b {
+			p := [2]int32{min(a, b), max(a, b)}
+			if p != last {
+				pairs = append(pairs, p)
+				last = p
+			}
 		}
 	}
 	for y := range height {
 		row := labels[y*width : (y+1)*width]
+		var next []int32
+		if y+1 < height {
+			next = labels[(y+1)*width : (y+2)*width]
+		}
 		for x, l := range row {
+			if l <= 0 {
+				continue
+			}
 			if x+1 < width {
 				add(l, row[x+1])
 			}
-			if y+1 < height {
-				next := labels[(y+1)*width : (y+2)*width]
+			if next != nil {
 				add(l, next[x])
 				if x > 0 {
 					add(l, next[x-1])

@@ -101,3 +101,41 @@ func TestNumberSize(t *testing.T) {
 		}
 	}
 }
+
+// TestColourLabelsMatchesFormer checks ColourLabels against
+// colourLabelsOld (the former scan, palette_old_test.go): the same colour
+// for every label on random maps of touching discs, with negative
+// labels, and with sparse huge labels (the map form).
+func TestColourLabelsMatchesFormer(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 34))
+	for trial := range 12 {
+		w, h := 40+rng.IntN(200), 30+rng.IntN(200)
+		labels := make([]int32, w*h)
+		for k := range 10 + rng.IntN(200) {
+			cx, cy, r := rng.IntN(w), rng.IntN(h), 1+rng.IntN(15)
+			l := int32(k + 1)
+			switch trial % 3 {
+			case 1:
+				if k%7 == 0 {
+					l = -l
+				}
+			case 2:
+				l = int32(1_000_000_000 + rng.IntN(1000))
+			}
+			for y := max(cy-r, 0); y < min(cy+r+1, h); y++ {
+				for x := max(cx-r, 0); x < min(cx+r+1, w); x++ {
+					if (x-cx)*(x-cx)+(y-cy)*(y-cy) <= r*r {
+						labels[y*w+x] = l
+					}
+				}
+			}
+		}
+		m := labelmap.Map{Pix: labels, Width: w, Height: h}
+		got, want := ColourLabels(m), colourLabelsOld(m)
+		for _, l := range labels {
+			if got.Of(l) != want.Of(l) {
+				t.Fatalf("trial %d: label %d coloured %v, formerly %v", trial, l, got.Of(l), want.Of(l))
+			}
+		}
+	}
+}
