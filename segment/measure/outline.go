@@ -64,23 +64,47 @@ func Outlines(m labelmap.Map) ([]Outline, error) {
 	parent := make(unionfind.Forest, w*h)
 	find := parent.Find
 	union := parent.Union
+	// The sides of a pixel are those of sideNormal: top, right, bottom,
+	// left. Union links to the smaller root, so a piece's root is its
+	// first pixel in raster order whatever unions built it, and the union
+	// with the pixel above is left out where the pixels to the left and
+	// above-left already join the two.
+	for i := range parent {
+		parent[i] = int32(i)
+	}
 	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			l := labels[i]
-			parent[i] = int32(i)
+		row := labels[y*w : (y+1)*w]
+		var up, down []int32
+		if y > 0 {
+			up = labels[(y-1)*w : y*w]
+		}
+		if y+1 < h {
+			down = labels[(y+1)*w : (y+2)*w]
+		}
+		for x, l := range row {
 			if l <= 0 {
 				continue
 			}
-			for s := range 4 {
-				if !same(x+sideNormal[s][0], y+sideNormal[s][1], l) {
-					edges[i] |= 1 << s
-				}
+			i := y*w + x
+			var e uint8
+			left, above := x > 0 && row[x-1] == l, up != nil && up[x] == l
+			if !above {
+				e |= 1
 			}
-			if x > 0 && labels[i-1] == l {
+			if x+1 == w || row[x+1] != l {
+				e |= 2
+			}
+			if down == nil || down[x] != l {
+				e |= 4
+			}
+			if !left {
+				e |= 8
+			}
+			edges[i] = e
+			if left {
 				union(int32(i), int32(i-1))
 			}
-			if y > 0 && labels[i-w] == l {
+			if above && !(left && up[x-1] == l) {
 				union(int32(i), int32(i-w))
 			}
 		}
@@ -104,8 +128,8 @@ func Outlines(m labelmap.Map) ([]Outline, error) {
 				for edges[i]&(1<<s) == 0 {
 					s++
 				}
-				pts, pix := traceRing(labels, edges, w, x, y, s, same)
-				splitRing(pts, pix, emit)
+				pts, pix, contact := traceRing(labels, edges, w, x, y, s, same)
+				splitRing(pts, pix, contact, emit)
 			}
 		}
 	}
@@ -161,12 +185,12 @@ func Outlines(m labelmap.Map) ([]Outline, error) {
 
 // traceRing follows one ring from side s of pixel (x, y), clearing the
 // edges it runs along, and returns the corners where it turns (cyclic
-// order) with, for each corner, the pixel whose edge ends there.
-func traceRing(labels []int32, edges []uint8, w, x, y, s int, same func(x, y int, l int32) bool) ([]Point, []int32) {
+// order) with, for each corner, the pixel whose edge ends there, and
+// whether it turned round a corner contact (two pixels of the label
+// meeting only at a corner): only there can a ring pass a corner twice.
+func traceRing(labels []int32, edges []uint8, w, x, y, s int, same func(x, y int, l int32) bool) (pts []Point, pix []int32, contact bool) {
 	l := labels[y*w+x]
 	x0, y0, s0 := x, y, s
-	var pts []Point
-	var pix []int32
 	for {
 		i := y*w + x
 		edges[i] &^= 1 << s
@@ -176,6 +200,7 @@ func traceRing(labels []int32, edges []uint8, w, x, y, s int, same func(x, y int
 		switch {
 		case !same(x+d[0], y+d[1], l):
 			// Turn right, round this pixel (also at a corner contact).
+			contact = contact || same(x+d[0]+nrm[0], y+d[1]+nrm[1], l)
 			s = (s + 1) % 4
 			pts, pix = append(pts, end), append(pix, int32(i))
 		case !same(x+d[0]+nrm[0], y+d[1]+nrm[1], l):
@@ -186,15 +211,17 @@ func traceRing(labels []int32, edges []uint8, w, x, y, s int, same func(x, y int
 			pts, pix = append(pts, end), append(pix, int32(i))
 		}
 		if x == x0 && y == y0 && s == s0 {
-			return pts, pix
+			return pts, pix, contact
 		}
 	}
 }
 
 // splitRing cuts a closed ring of corners at the corners it passes twice
 // into simple rings and hands each to emit (with, for each corner, the
-// pixel of the edge that ends there).
-func splitRing(pts []Point, pix []int32, emit func([]Point, []int32)) {
+// pixel of the edge that ends there). Without a corner contact (contact
+// false, see traceRing) no corner repeats and the ring is emitted whole,
+// from its smallest corner.
+func splitRing(pts []Point, pix []int32, contact bool, emit func([]Point, []int32)) {
 	// Start at the smallest corner (top row, then left), which a ring
 	// passes once: passing a corner twice uses all four of its edges,
 	// one of them going up from it.
@@ -205,6 +232,10 @@ func splitRing(pts []Point, pix []int32, emit func([]Point, []int32)) {
 		}
 	}
 	n := len(pts)
+	if !contact {
+		emit(append(pts[k:n:n], pts[:k]...), append(pix[k:n:n], pix[:k]...))
+		return
+	}
 	seen := map[Point]int{}
 	var path []Point
 	var ppix []int32

@@ -144,3 +144,49 @@ func TestConvexHullMatchesSorted(t *testing.T) {
 		}
 	}
 }
+
+// TestOutlinesMatchFormer checks Outlines against outlinesOld (the former
+// first pass, outline_old_test.go): the same polygons in the same order
+// on random discs and scattered pixels (pieces meeting at corners, holes,
+// several pieces of one label), negative labels and one region.
+func TestOutlinesMatchFormer(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 4))
+	for trial := range 8 {
+		w, h := 20+rng.IntN(300), 20+rng.IntN(300)
+		labels := make([]int32, w*h)
+		for k := range 5 + rng.IntN(80) {
+			cx, cy, r := rng.IntN(w), rng.IntN(h), 1+rng.IntN(25)
+			l := int32(k%9 + 1)
+			if trial%2 == 1 && k%6 == 0 {
+				l = -l
+			}
+			for y := max(cy-r, 0); y < min(cy+r+1, h); y++ {
+				for x := max(cx-r, 0); x < min(cx+r+1, w); x++ {
+					if d := (x-cx)*(x-cx) + (y-cy)*(y-cy); d <= r*r && (trial%3 != 2 || d >= r*r/4) {
+						labels[y*w+x] = l
+					}
+				}
+			}
+		}
+		for range w * h / 30 {
+			labels[rng.IntN(w*h)] = int32(rng.IntN(4))
+		}
+		if trial == 7 {
+			for i := range labels {
+				labels[i] = 3
+			}
+		}
+		m := labelmap.Map{Pix: labels, Width: w, Height: h}
+		got, err := Outlines(m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want, err := outlinesOld(m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(want) == 0 || fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Fatalf("trial %d (%dx%d): %d outlines, formerly %d, or their polygons differ", trial, w, h, len(got), len(want))
+		}
+	}
+}
