@@ -273,12 +273,16 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, rows: rows}, opt.Workers)
 }
 
-// unit clamps v to [0, 1]; NaN gives 0.
+// unit clamps v to [0, 1]; NaN gives 0. (Past the first test v is not
+// NaN, and a comparison with 1 does what min(v, 1) does.)
 func unit(v float64) float64 {
 	if !(v >= 0) { // also NaN
 		return 0
 	}
-	return min(v, 1)
+	if v > 1 {
+		return 1
+	}
+	return v
 }
 
 // isBoundary reports whether pixel x of row (label l) differs in label
@@ -366,12 +370,21 @@ func EncodePreview(w io.Writer, m labelmap.Map, palette *render.LabelColours, wo
 		palette = render.ColourLabels(m)
 	}
 	return encodePNGRows(w, pngRows{width: width, height: height, bpp: 3, depth: 8, ctype: 2, flat: true, rows: func(y0, y1 int, dst []byte) {
-		for i, l := range labels[y0*width : y1*width] {
+		// A run of one label has one colour, looked up once.
+		src := labels[y0*width : y1*width]
+		for i := 0; i < len(src); {
+			l, e := src[i], i+1
+			for e < len(src) && src[e] == l {
+				e++
+			}
 			var c [3]uint8
 			if l > 0 {
 				c = palette.Of(l)
 			}
-			dst[3*i], dst[3*i+1], dst[3*i+2] = c[0], c[1], c[2]
+			for j := i; j < e; j++ {
+				dst[3*j], dst[3*j+1], dst[3*j+2] = c[0], c[1], c[2]
+			}
+			i = e
 		}
 	}}, workers)
 }

@@ -230,3 +230,50 @@ func TestPlaceNumbersMatchesFormer(t *testing.T) {
 		}
 	}
 }
+
+// TestPreviewRunsMatchPalette checks every pixel of the preview, decoded
+// by the standard library's image/png, against the colour of its label
+// (render.ColourLabels; black for 0 and negative labels) on random discs
+// large enough for several bands of rows.
+func TestPreviewRunsMatchPalette(t *testing.T) {
+	rng := rand.New(rand.NewPCG(50, 2))
+	w, h := 900, 700
+	labels := make([]int32, w*h)
+	for k := range 80 {
+		cx, cy, r := rng.IntN(w), rng.IntN(h), 2+rng.IntN(60)
+		l := int32(k + 1)
+		if k%9 == 0 {
+			l = -l
+		}
+		for y := max(cy-r, 0); y < min(cy+r+1, h); y++ {
+			for x := max(cx-r, 0); x < min(cx+r+1, w); x++ {
+				if (x-cx)*(x-cx)+(y-cy)*(y-cy) <= r*r {
+					labels[y*w+x] = l
+				}
+			}
+		}
+	}
+	m := labelmap.Map{Pix: labels, Width: w, Height: h}
+	palette := render.ColourLabels(m)
+	var buf bytes.Buffer
+	if err := EncodePreview(&buf, m, palette, 0); err != nil {
+		t.Fatal(err)
+	}
+	img, err := png.Decode(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for y := range h {
+		for x := range w {
+			l := labels[y*w+x]
+			var want [3]uint8
+			if l > 0 {
+				want = palette.Of(l)
+			}
+			r, g, b, _ := img.At(x, y).RGBA()
+			if got := [3]uint8{uint8(r >> 8), uint8(g >> 8), uint8(b >> 8)}; got != want {
+				t.Fatalf("pixel (%d, %d), label %d: %v, want %v", x, y, l, got, want)
+			}
+		}
+	}
+}
