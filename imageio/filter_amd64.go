@@ -29,3 +29,10 @@ func absSumAVX2(x *byte, n int) int
 //
 //go:noescape
 func avgAbsAVX2(cur, left, above, out *byte, n int) int
+
+// grayBytesAVX2 writes dst[i] = round8(255 * unit(float64(src[i]))) for
+// i = 0..n-1, n a positive multiple of 8: the untinted gray of the
+// overlay (TestGrayBytesAVX2MatchesGo).
+//
+//go:noescape
+func grayBytesAVX2(src *float32, dst *byte, n int)

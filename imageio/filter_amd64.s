@@ -106,3 +106,50 @@ avgloop:
 	MOVQ AX, ret+40(FP)
 	VZEROUPPER
 	RET
+
+// The gray of the overlay, eight samples at a time: each float32 widened
+// to float64 (exact), clamped to [0, 1] by VMAXPD against 0 (which gives
+// 0 for NaN, its second operand) and VMINPD against 1, times 255 (exact:
+// 24 by 8 significant bits), plus 0.5 (exact from 0.25 up, and below it
+// the sum stays under 1), truncated: round8's rounding, half away from
+// zero.
+
+// func grayBytesAVX2(src *float32, dst *byte, n int)
+TEXT ·grayBytesAVX2(SB), NOSPLIT, $0-24
+	MOVQ src+0(FP), SI
+	MOVQ dst+8(FP), DI
+	MOVQ n+16(FP), CX
+	XORQ BX, BX
+	VXORPD Y15, Y15, Y15 // 0
+	MOVQ $0x3ff0000000000000, AX // 1.0
+	VMOVQ AX, X14
+	VBROADCASTSD X14, Y14
+	MOVQ $0x406fe00000000000, AX // 255.0
+	VMOVQ AX, X13
+	VBROADCASTSD X13, Y13
+	MOVQ $0x3fe0000000000000, AX // 0.5
+	VMOVQ AX, X12
+	VBROADCASTSD X12, Y12
+
+grayloop:
+	VCVTPS2PD (SI)(BX*4), Y0
+	VCVTPS2PD 16(SI)(BX*4), Y1
+	VMAXPD Y15, Y0, Y0 // v > 0 ? v : 0 (0 for NaN)
+	VMAXPD Y15, Y1, Y1
+	VMINPD Y14, Y0, Y0 // v < 1 ? v : 1
+	VMINPD Y14, Y1, Y1
+	VMULPD Y13, Y0, Y0
+	VMULPD Y13, Y1, Y1
+	VADDPD Y12, Y0, Y0
+	VADDPD Y12, Y1, Y1
+	VCVTTPD2DQY Y0, X0
+	VCVTTPD2DQY Y1, X1
+	VPACKSSDW X1, X0, X0
+	VPACKUSWB X0, X0, X0
+	VMOVQ X0, (DI)(BX*1)
+	ADDQ $8, BX
+	CMPQ BX, CX
+	JLT grayloop
+
+	VZEROUPPER
+	RET

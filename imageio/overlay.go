@@ -234,6 +234,10 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 		places = PlaceNumbers(m)
 	}
 	rows := func(y0, y1 int, dst []byte) {
+		var levels []byte
+		if !colour {
+			levels = make([]byte, width)
+		}
 		for y := y0; y < y1; y++ {
 			row := labels[y*width : (y+1)*width]
 			var below []int32 // the next row's labels; nil on the last row
@@ -244,7 +248,7 @@ func EncodeOverlay(w io.Writer, display []float32, m labelmap.Map, opt OverlayOp
 			if colour {
 				colourRow(out, row, below, opt, y*width, scale, palette)
 			} else {
-				grayRow(out, row, below, display[y*width:(y+1)*width], palette)
+				grayRow(out, row, below, display[y*width:(y+1)*width], palette, levels)
 			}
 		}
 		// A number's box with its halo lies inside its own object, so
@@ -296,21 +300,36 @@ func isBoundary(row, below []int32, x int, l int32) bool {
 // boundary pixels amber, others the display value as gray, blended with
 // the label's colour (weight tintAlpha) for labels > 0 when palette is
 // set.
-func grayRow(out []byte, row, below []int32, gray []float32, palette *render.LabelColours) {
+//
+// With useFilterAVX2 the untinted grays of the row come from
+// grayBytesAVX2 into levels (len(row) bytes), the same bytes.
+func grayRow(out []byte, row, below []int32, gray []float32, palette *render.LabelColours, levels []byte) {
 	out = out[:3*len(row)]
 	gray = gray[:len(row)]
+	m := 0
+	if useFilterAVX2 {
+		levels = levels[:len(row)]
+		if m = len(row) &^ 7; m > 0 {
+			grayBytesAVX2(&gray[0], &levels[0], m)
+		}
+	}
 	for x, l := range row {
 		p := out[3*x : 3*x+3 : 3*x+3]
 		if isBoundary(row, below, x, l) {
 			p[0], p[1], p[2] = boundaryRGB[0], boundaryRGB[1], boundaryRGB[2]
 			continue
 		}
-		g := 255 * unit(float64(gray[x]))
 		if palette == nil || l <= 0 {
-			v := round8(g)
+			var v uint8
+			if x < m {
+				v = levels[x]
+			} else {
+				v = round8(255 * unit(float64(gray[x])))
+			}
 			p[0], p[1], p[2] = v, v, v
 			continue
 		}
+		g := 255 * unit(float64(gray[x]))
 		c := palette.Of(l)
 		for k := range 3 {
 			p[k] = round8((1-tintAlpha)*g + tintAlpha*float64(c[k]))

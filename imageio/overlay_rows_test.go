@@ -78,11 +78,12 @@ func overlayPicture(display []float32, m labelmap.Map, opt OverlayOptions) *imag
 
 // TestOverlayRowsMatchPicture encodes overlays of random discs (numbers
 // at scales 1 and 2, gray and colour, tinted or not, NaN and
-// out-of-range display values, sizes that split into several bands)
-// and checks every pixel, decoded by the standard library's image/png,
+// out-of-range display values, sizes that split into several bands),
+// with and without the AVX2 kernels, and checks every pixel, decoded by the standard library's image/png,
 // against overlayPicture.
 func TestOverlayRowsMatchPicture(t *testing.T) {
 	rng := rand.New(rand.NewPCG(77, 5))
+	avx2 := useFilterAVX2 // the AVX2 kernels where the machine has them, and the Go loops
 	for _, size := range [][2]int{{97, 61}, {700, 650}, {1300, 420}} {
 		w, h := size[0], size[1]
 		labels := make([]int32, w*h)
@@ -114,22 +115,27 @@ func TestOverlayRowsMatchPicture(t *testing.T) {
 			{Colour: colour, Lo: 100, Hi: 3900, Tint: true, Numbers: true},
 			{Colour: colour, Lo: 5, Hi: 5},
 		} {
-			name := fmt.Sprintf("%dx%d tint %v colour %v", w, h, opt.Tint, opt.Colour != nil)
-			var buf bytes.Buffer
-			if err := EncodeOverlay(&buf, display, m, opt); err != nil {
-				t.Fatal(err)
-			}
-			got, err := png.Decode(&buf)
-			if err != nil {
-				t.Fatalf("%s: image/png: %v", name, err)
-			}
-			want := overlayPicture(display, m, opt)
-			for y := range h {
-				for x := range w {
-					r, g, b, _ := got.At(x, y).RGBA()
-					p := want.Pix[want.PixOffset(x, y):]
-					if uint8(r>>8) != p[0] || uint8(g>>8) != p[1] || uint8(b>>8) != p[2] {
-						t.Fatalf("%s: pixel (%d, %d) is (%d, %d, %d), the picture's (%d, %d, %d)", name, x, y, r>>8, g>>8, b>>8, p[0], p[1], p[2])
+			for _, kernels := range []bool{avx2, false} {
+				name := fmt.Sprintf("%dx%d tint %v colour %v kernels %v", w, h, opt.Tint, opt.Colour != nil, kernels)
+				useFilterAVX2 = kernels
+				var buf bytes.Buffer
+				err := EncodeOverlay(&buf, display, m, opt)
+				useFilterAVX2 = avx2
+				if err != nil {
+					t.Fatal(err)
+				}
+				got, err := png.Decode(&buf)
+				if err != nil {
+					t.Fatalf("%s: image/png: %v", name, err)
+				}
+				want := overlayPicture(display, m, opt)
+				for y := range h {
+					for x := range w {
+						r, g, b, _ := got.At(x, y).RGBA()
+						p := want.Pix[want.PixOffset(x, y):]
+						if uint8(r>>8) != p[0] || uint8(g>>8) != p[1] || uint8(b>>8) != p[2] {
+							t.Fatalf("%s: pixel (%d, %d) is (%d, %d, %d), the picture's (%d, %d, %d)", name, x, y, r>>8, g>>8, b>>8, p[0], p[1], p[2])
+						}
 					}
 				}
 			}

@@ -23,3 +23,5 @@ func absSumAVX2(x *byte, n int) int { panic("imageio: no AVX2 kernel on this pla
 func avgAbsAVX2(cur, left, above, out *byte, n int) int {
 	panic("imageio: no AVX2 kernel on this platform")
 }
+
+func grayBytesAVX2(src *float32, dst *byte, n int) { panic("imageio: no AVX2 kernel on this platform") }
