@@ -144,7 +144,7 @@ func TestOverlayRowsMatchPicture(t *testing.T) {
 }
 
 // placeNumbersOld is PlaceNumbers as it was before its sums were taken
-// run by run (commit 2d5ecb5), kept verbatim for
+// run by run (as on main at 608075e), kept verbatim for
 // TestPlaceNumbersMatchesFormer.
 func placeNumbersOld(m labelmap.Map) []NumberPlace {
 	labels, width, height := m.Pix, m.Width, m.Height

@@ -1,7 +1,7 @@
 package render
 
 // ColourLabels as it was before its scan for touching pairs skipped the
-// background and repeated pairs (commit 2d5ecb5), kept verbatim for
+// background and repeated pairs (as on main at 608075e), kept verbatim for
 // TestColourLabelsMatchesFormer.
 
 import (

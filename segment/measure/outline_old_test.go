@@ -2,7 +2,7 @@ package measure
 
 // Outlines as it was before its first pass read rows and left out
 // redundant unions and its rings were split only at corner contacts
-// (commit 6cd06ea), kept verbatim for
+// (as on main at 608075e), kept verbatim for
 // TestOutlinesMatchFormer.
 
 import (

@@ -1,7 +1,7 @@
 package measure
 
 // The region measurements as they were computed before the single pass
-// over the label map with per-run moments (commit 48b279d): kept here
+// over the label map with per-run moments (as on main at 608075e): kept here
 // verbatim so that TestRegionsMatchFormerPasses can check the new code
 // against them value for value.
 
