@@ -16,29 +16,18 @@ var hand3x3 = []float32{
 	1, 0, 0.25,
 }
 
-// TestPixelGraphHand3x3 checks rows of a 3x3 image against weights worked
-// out by hand from the formula of Shi and Malik (2000), eq. (11):
-// w_ij = exp(-|F_i-F_j|²/sigma_I²) exp(-|X_i-X_j|²/sigma_X²) = exp(-(a+b)).
-// With sigma_I = 0.5, a = 4 (F_i-F_j)²; with sigma_X = 1, b = dx²+dy².
-func TestPixelGraphHand3x3(t *testing.T) {
-	img := hand3x3
-	g, err := PixelGraph([][]float32{img}, 3, 3, PixelParams{Radius: 2, SigmaI: 0.5, SigmaX: 1}, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e := math.Exp
-	cases := []struct {
-		node int
-		cols []int32
-		want []float64
-	}{
-		// (0,0)=0: (1,0) a=1 b=1; (2,0) a=4 b=4; (0,1) a=1 b=1; (1,1) a=1 b=2; (0,2) a=4 b=4.
-		{0, []int32{1, 2, 3, 4, 6}, []float64{e(-2), e(-8), e(-2), e(-3), e(-8)}},
-		// (1,1)=0.5: diagonal neighbours b=2, edge neighbours b=1; nothing at distance 2 fits.
-		{4, []int32{0, 1, 2, 3, 5, 6, 7, 8}, []float64{e(-3), e(-1), e(-3), e(-1), e(-2), e(-3), e(-2), e(-2.25)}},
-		// (2,2)=0.25: (2,0) a=2.25 b=4; (1,1) a=0.25 b=2; (2,1) a=0.25 b=1; (0,2) a=2.25 b=4; (1,2) a=0.25 b=1.
-		{8, []int32{2, 4, 5, 6, 7}, []float64{e(-6.25), e(-2.25), e(-1.25), e(-6.25), e(-1.25)}},
-	}
+// handRow is one row of a graph worked out by hand: its node, columns
+// and weights.
+type handRow struct {
+	node int
+	cols []int32
+	want []float64
+}
+
+// checkHandRows compares rows of g with hand-worked ones (weights to a
+// relative 1e-7, float32 storage) and validates g.
+func checkHandRows(t *testing.T, g *Graph, cases []handRow) {
+	t.Helper()
 	for _, c := range cases {
 		lo, hi := g.RowPtr[c.node], g.RowPtr[c.node+1]
 		if got := g.Col[lo:hi]; !equalInt32(got, c.cols) {
@@ -54,6 +43,28 @@ func TestPixelGraphHand3x3(t *testing.T) {
 	if err := g.Validate(); err != nil {
 		t.Fatal(err)
 	}
+}
+
+// TestPixelGraphHand3x3 checks rows of a 3x3 image against weights worked
+// out by hand from the formula of Shi and Malik (2000), eq. (11):
+// w_ij = exp(-|F_i-F_j|²/sigma_I²) exp(-|X_i-X_j|²/sigma_X²) = exp(-(a+b)).
+// With sigma_I = 0.5, a = 4 (F_i-F_j)²; with sigma_X = 1, b = dx²+dy².
+func TestPixelGraphHand3x3(t *testing.T) {
+	img := hand3x3
+	g, err := PixelGraph([][]float32{img}, 3, 3, PixelParams{Radius: 2, SigmaI: 0.5, SigmaX: 1}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := math.Exp
+	cases := []handRow{
+		// (0,0)=0: (1,0) a=1 b=1; (2,0) a=4 b=4; (0,1) a=1 b=1; (1,1) a=1 b=2; (0,2) a=4 b=4.
+		{0, []int32{1, 2, 3, 4, 6}, []float64{e(-2), e(-8), e(-2), e(-3), e(-8)}},
+		// (1,1)=0.5: diagonal neighbours b=2, edge neighbours b=1; nothing at distance 2 fits.
+		{4, []int32{0, 1, 2, 3, 5, 6, 7, 8}, []float64{e(-3), e(-1), e(-3), e(-1), e(-2), e(-3), e(-2), e(-2.25)}},
+		// (2,2)=0.25: (2,0) a=2.25 b=4; (1,1) a=0.25 b=2; (2,1) a=0.25 b=1; (0,2) a=2.25 b=4; (1,2) a=0.25 b=1.
+		{8, []int32{2, 4, 5, 6, 7}, []float64{e(-6.25), e(-2.25), e(-1.25), e(-6.25), e(-1.25)}},
+	}
+	checkHandRows(t, g, cases)
 }
 
 func equalInt32(a, b []int32) bool {

@@ -20,11 +20,7 @@ func TestPixelSubgraphHand3x3(t *testing.T) {
 		t.Fatal(err)
 	}
 	e := math.Exp
-	cases := []struct {
-		node int
-		cols []int32
-		want []float64
-	}{
+	cases := []handRow{
 		// pixel 0 (0,0)=0: pixel 2 a=4 b=4; pixel 4 a=1 b=2; pixel 8 is at distance sqrt(8) > 2.
 		{0, []int32{1, 2}, []float64{e(-8), e(-3)}},
 		// pixel 4 (1,1)=0.5: pixels 0, 2 a=1 b=2; pixel 8 a=0.25 b=2.
@@ -32,21 +28,7 @@ func TestPixelSubgraphHand3x3(t *testing.T) {
 		// pixel 8 (2,2)=0.25: pixel 2 a=2.25 b=4; pixel 4 a=0.25 b=2.
 		{3, []int32{1, 2}, []float64{e(-6.25), e(-2.25)}},
 	}
-	for _, c := range cases {
-		lo, hi := g.RowPtr[c.node], g.RowPtr[c.node+1]
-		if got := g.Col[lo:hi]; !equalInt32(got, c.cols) {
-			t.Errorf("row %d columns %v, want %v", c.node, got, c.cols)
-			continue
-		}
-		for k, want := range c.want {
-			if got := float64(g.Weight[lo+k]); relErr(got, want) > 1e-7 {
-				t.Errorf("w(%d,%d) = %.9g, want %.9g", c.node, c.cols[k], got, want)
-			}
-		}
-	}
-	if err := g.Validate(); err != nil {
-		t.Fatal(err)
-	}
+	checkHandRows(t, g, cases)
 }
 
 // TestPixelSubgraphMatchesSubgraph checks that PixelSubgraph gives, bit
