@@ -208,8 +208,8 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 		yr := y.v[i*m : i*m+m]
 		xr := x.v[i*m : i*m+m]
 		for c0 := 0; c0 < m; {
-			switch rest := m - c0; {
-			case rest >= 6:
+			switch columnGroup(m - c0) {
+			case 6:
 				var a0, a1, a2, a3, a4, a5 float64
 				for p, j := range cols {
 					w := float64(wts[p])
@@ -228,7 +228,7 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 				yr[c0+4] = xr[c0+4] - si*a4
 				yr[c0+5] = xr[c0+5] - si*a5
 				c0 += 6
-			case rest == 5:
+			case 5:
 				var a0, a1, a2, a3, a4 float64
 				for p, j := range cols {
 					w := float64(wts[p])
@@ -245,7 +245,7 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 				yr[c0+3] = xr[c0+3] - si*a3
 				yr[c0+4] = xr[c0+4] - si*a4
 				c0 += 5
-			case rest >= 3:
+			case 3:
 				var a0, a1, a2 float64
 				for p, j := range cols {
 					w := float64(wts[p])
@@ -258,7 +258,7 @@ func (lv *level) mulRows(y, x, tmp *block, r0, r1 int) {
 				yr[c0+1] = xr[c0+1] - si*a1
 				yr[c0+2] = xr[c0+2] - si*a2
 				c0 += 3
-			case rest == 2:
+			case 2:
 				var a0, a1 float64
 				for p, j := range cols {
 					w := float64(wts[p])
@@ -293,6 +293,25 @@ func oneColumn(cols []int32, wts []float32, t []float64, m, c0 int) float64 {
 	return a0 + a1
 }
 
+// columnGroup is the width of the next group of columns a product takes
+// at once when rest columns remain: 6 while at least 6 remain, then 5,
+// 3 (for 3 or 4), 2 and 1. The Go loops and the AVX kernels of both
+// layouts (compressed rows, stencil) group by it, so their sums are the
+// same bit for bit.
+func columnGroup(rest int) int {
+	switch {
+	case rest >= 6:
+		return 6
+	case rest == 5:
+		return 5
+	case rest >= 3:
+		return 3
+	case rest == 2:
+		return 2
+	}
+	return 1
+}
+
 // mulRowsAVX is mulRows with the kernels of stencil_amd64.s, the columns
 // grouped as mulRows groups them (6, 5, 3 and 2 columns in the kernels,
 // the single column in Go), so the result is mulRows' bit for bit.
@@ -304,17 +323,17 @@ func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 		f(&tmp.v[c], &lv.rowPtr[r0], &lv.col[0], &lv.wt[0], &lv.s[r0], &x.v[b], &y.v[b], m, rows)
 	}
 	for c0 := 0; c0 < m; {
-		switch rest := m - c0; {
-		case rest >= 6:
+		switch columnGroup(m - c0) {
+		case 6:
 			kern(csrRows6, c0)
 			c0 += 6
-		case rest == 5:
+		case 5:
 			kern(csrRows5, c0)
 			c0 += 5
-		case rest >= 3:
+		case 3:
 			kern(csrRows3, c0)
 			c0 += 3
-		case rest == 2:
+		case 2:
 			kern(csrRows2, c0)
 			c0 += 2
 		default:

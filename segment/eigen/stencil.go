@@ -101,17 +101,17 @@ func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 
 		f(&tmp.v[b], &lm[0], k, &op.wt[r0*k], &s[r0], &x.v[b], &y.v[b], m, rows)
 	}
 	for c0 := 0; c0 < m; {
-		switch rest := m - c0; {
-		case rest >= 6:
+		switch columnGroup(m - c0) {
+		case 6:
 			kern(stencilRows6, c0)
 			c0 += 6
-		case rest == 5:
+		case 5:
 			kern(stencilRows5, c0)
 			c0 += 5
-		case rest >= 3:
+		case 3:
 			kern(stencilRows3, c0)
 			c0 += 3
-		case rest == 2:
+		case 2:
 			kern(stencilRows2, c0)
 			c0 += 2
 		default:
@@ -163,8 +163,8 @@ func (op *stencilOp) mulRowsGo(lm []int, s []float64, y, x, tmp *block, r0, r1 i
 		xr := x.v[i*m : i*m+m]
 		for c0 := 0; c0 < m; {
 			bi := i*m + c0
-			switch rest := m - c0; {
-			case rest >= 6:
+			switch columnGroup(m - c0) {
+			case 6:
 				var a0, a1, a2, a3, a4, a5 float64
 				for f, d := range lin {
 					w := float64(ws[f])
@@ -184,7 +184,7 @@ func (op *stencilOp) mulRowsGo(lm []int, s []float64, y, x, tmp *block, r0, r1 i
 				yr[c0+4] = xr[c0+4] - si*a4
 				yr[c0+5] = xr[c0+5] - si*a5
 				c0 += 6
-			case rest == 5:
+			case 5:
 				var a0, a1, a2, a3, a4 float64
 				for f, d := range lin {
 					w := float64(ws[f])
@@ -202,7 +202,7 @@ func (op *stencilOp) mulRowsGo(lm []int, s []float64, y, x, tmp *block, r0, r1 i
 				yr[c0+3] = xr[c0+3] - si*a3
 				yr[c0+4] = xr[c0+4] - si*a4
 				c0 += 5
-			case rest >= 3:
+			case 3:
 				var a0, a1, a2 float64
 				for f, d := range lin {
 					w := float64(ws[f])
@@ -216,7 +216,7 @@ func (op *stencilOp) mulRowsGo(lm []int, s []float64, y, x, tmp *block, r0, r1 i
 				yr[c0+1] = xr[c0+1] - si*a1
 				yr[c0+2] = xr[c0+2] - si*a2
 				c0 += 3
-			case rest == 2:
+			case 2:
 				var a0, a1 float64
 				for f, d := range lin {
 					w := float64(ws[f])
