@@ -188,6 +188,15 @@ func clusteredRows(n, dim, k int, spread float64, seed uint64) ([]float64, []int
 	return x, truth
 }
 
+// plantedCase is a set of planted clusters for the sampled k-means tests:
+// n points, the clusters' spread, weighted points or not, and the seed.
+type plantedCase struct {
+	n        int
+	spread   float64
+	weighted bool
+	seed     uint64
+}
+
 // TestKmeansSampled checks the sampled restarts (kmeansSampleMin) against
 // the restarts on all points: on planted clusters above the threshold
 // (seeds 13600-13602, chosen for this test), weighted and not, the two
@@ -195,12 +204,7 @@ func clusteredRows(n, dim, k int, spread float64, seed uint64) ([]float64, []int
 // against scikit-learn); below the threshold the labels are the full
 // restarts' exactly.
 func TestKmeansSampled(t *testing.T) {
-	for _, c := range []struct {
-		n        int
-		spread   float64
-		weighted bool
-		seed     uint64
-	}{
+	for _, c := range []plantedCase{
 		{kmeansSampleMin + 4321, 0.3, false, 13600},
 		{150000, 0.4, true, 13601},
 		{100000, 0.2, false, 13602},
@@ -286,12 +290,7 @@ func BenchmarkKmeans116k(b *testing.B) {
 // clusters (seeds 13850-13852, chosen for this test), weighted and not,
 // the two label maps are equal up to the numbering of the clusters.
 func TestKmeansSampledRenumbered(t *testing.T) {
-	for _, c := range []struct {
-		n        int
-		spread   float64
-		weighted bool
-		seed     uint64
-	}{
+	for _, c := range []plantedCase{
 		{kmeansSampleMin + 999, 0.3, false, 13850},
 		{70000, 0.5, true, 13851},
 		{90000, 0.8, false, 13852},
