@@ -14,17 +14,26 @@ radius 1.5-4 px, a third touching another), bodies (large textured cells
 of radius 18-40 px with dark nucleoli, a third touching another), sizes
 (domed nuclei of radius 4-30 px in one field, a third touching another),
 hollow (discs of radius 7-22 px with a bright rim and a dim interior, a
-quarter touching another; the mask is the filled disc).
+quarter touching another; the mask is the filled disc), defocus (nuclei
+each blurred by its own 0.7-7 px, some edges very soft; the mask is the
+nucleus in focus), jpeg (domed nuclei saved as an 8-bit JPEG at quality
+60-80, NAME.jpg), elongated (packed ellipses of aspect 2-4 at random
+orientations, most touching), chromatin (nuclei with textured chromatin
+and bright foci), lowcount (nuclei 2-3 noise standard deviations above a
+background of 6-15 photons, raw 16-bit counts on an offset of 100), pits
+(dark inclusions in a polished metal section: bright grains with dark
+grain boundaries and an etch texture; the mask holds the inclusions).
 
-    othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png, .truth.png
+    othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png (jpeg: .jpg), .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
 
 score chooses the watershed's parameters on CHOOSE_DIR (watershed.py's
 grid for nuclei, for grains on the inverted image for membrane, the
-nuclei's with objects down to 5 px and closer peaks for specks; '-'
-skips the baseline) and prints object F1, mAP over IoU 0.5:0.95 and ARI
-per scene of REPORT_DIR for the baseline and for each folder of
-NAME.labels.png (e.g. cleave's outputs), then their means.
+nuclei's with objects down to 5 px and closer peaks for specks, surface's
+(inverted, objects down to 5 px) for pits; '-' skips the baseline) and
+prints object F1, mAP over IoU 0.5:0.95 and ARI per scene of REPORT_DIR
+for the baseline and for each folder of NAME.labels.png (e.g. cleave's
+outputs), then their means.
 """
 import os
 import sys
@@ -33,6 +42,8 @@ import numpy as np
 from skimage import data, filters, io, measure, segmentation
 from sklearn.metrics import adjusted_rand_score
 
+# No __pycache__ beside the scripts in the repository.
+sys.dont_write_bytecode = True
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import watershed as W  # noqa: E402
 
@@ -42,10 +53,24 @@ def noise(img, rng, peak, read):
     out = rng.poisson(img * peak) / peak + rng.normal(0, read, img.shape)
     return out
 
-def save(d, name, img, truth):
+def save(d, name, img, truth, fmt="png16", quality=75):
+    """DIR/NAME.png (16-bit, the maximum at 60000; fmt "counts": the
+    values rounded as they are, a camera's raw counts) or DIR/NAME.jpg
+    (fmt "jpg": 8-bit, the maximum at 250, JPEG at quality), and the
+    instance labels DIR/NAME.truth.png."""
     img = np.clip(img, 0, None)
-    img = (img / max(img.max(), 1e-9) * 60000).astype(np.uint16)
-    io.imsave(os.path.join(d, name + ".png"), img, check_contrast=False)
+    if fmt == "jpg":
+        img = np.clip(np.round(img / max(img.max(), 1e-9) * 250), 0, 255).astype(np.uint8)
+        io.imsave(os.path.join(d, name + ".jpg"), img, check_contrast=False, quality=int(quality))
+    else:
+        if fmt == "counts":
+            # Written by Pillow as 16-bit (mode I;16): imsave stores a
+            # uint16 image whose values fit a byte as an 8-bit PNG.
+            from PIL import Image
+            Image.fromarray(np.clip(np.round(img), 0, 65535).astype(np.uint16)).save(os.path.join(d, name + ".png"))
+        else:
+            img = (img / max(img.max(), 1e-9) * 60000).astype(np.uint16)
+            io.imsave(os.path.join(d, name + ".png"), img, check_contrast=False)
     io.imsave(os.path.join(d, name + ".truth.png"), truth.astype(np.uint16), check_contrast=False)
 
 def place(rng, placed, share, reach, lo, hi):
@@ -262,6 +287,164 @@ def hollow(rng, n=512):
     return noise(img * light + 0.07, rng, 200, 0.02), truth
 
 
+def ellipse(rng, truth, cells, target, share, arange, aspect, tries_max, over_max):
+    """Place up to target ellipses (half-axis a drawn by arange(rng), b =
+    a / aspect(rng), random orientation) into truth, a share of them
+    beside an earlier one (its centre 0.85 x (the earlier one's a + its
+    own b) away, so most touch or overlap a little); an ellipse under 30
+    px, or overlapping earlier ones by more than over_max of its area, is
+    dropped, else it keeps only its free pixels.
+    Yields (label, box slices, mask in the box, q = the ellipse's
+    normalized squared radius in the box) for each one placed."""
+    n = truth.shape[0]
+    lab, tries = int(truth.max()), 0
+    while lab < target and tries < tries_max:
+        tries += 1
+        a = arange(rng); b = a / aspect(rng); th = rng.uniform(0, np.pi)
+        cy, cx = place(rng, cells, share, lambda ca: (ca + b) * 0.85, a, n - a)
+        y0, y1 = int(max(cy - a - 2, 0)), int(min(cy + a + 3, n))
+        x0, x1 = int(max(cx - a - 2, 0)), int(min(cx + a + 3, n))
+        if y1 <= y0 or x1 <= x0:
+            continue
+        yy, xx = np.mgrid[y0:y1, x0:x1]
+        u = (xx - cx) * np.cos(th) + (yy - cy) * np.sin(th)
+        v = -(xx - cx) * np.sin(th) + (yy - cy) * np.cos(th)
+        q = (u / a) ** 2 + (v / b) ** 2
+        m = q <= 1
+        if m.sum() < 30:
+            continue
+        sub = truth[y0:y1, x0:x1]
+        if (sub[m] > 0).mean() > over_max:
+            continue
+        m &= sub == 0
+        lab += 1
+        sub[m] = lab
+        cells.append((cy, cx, a))
+        yield lab, (slice(y0, y1), slice(x0, x1)), m, q
+
+def defocus(rng, n=512):
+    """Nuclei (radius 8-18 px, aspect up to 1.4, a third touching an
+    earlier one) each out of focus by its own blur, 0.7-7 px drawn
+    log-uniformly, so some edges are sharp and some very soft; brightness
+    0.3-1.0, uneven light. The mask is the nucleus in focus."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    cells = []
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(25, 50), 0.33,
+                                  lambda r: r.uniform(8, 18), lambda r: r.uniform(1, 1.4), 4000, 0.05):
+        s = float(np.exp(rng.uniform(np.log(0.7), np.log(7))))
+        one = np.zeros((n, n))
+        one[box][m] = rng.uniform(0.3, 1.0)
+        # Blur this nucleus alone, on its box widened by 4 sigma.
+        g = int(4 * s) + 1
+        y0, y1 = max(box[0].start - g, 0), min(box[0].stop + g, n)
+        x0, x1 = max(box[1].start - g, 0), min(box[1].stop + g, n)
+        img[y0:y1, x0:x1] += filters.gaussian(one[y0:y1, x0:x1], s)
+    yy, xx = np.mgrid[0:n, 0:n]
+    light = 1 + 0.25 * np.sin(xx / n * 2.3 + 0.5) * np.cos(yy / n * 1.6)
+    return noise(img * light + 0.06, rng, 200, 0.02), truth
+
+def jpeg(rng, n=512):
+    """Domed nuclei (radius 6-16 px, aspect up to 1.5, a third touching an
+    earlier one), blur 1.2 px, uneven light, saved as an 8-bit JPEG at
+    quality 60-80 (the .jpg beside the .truth.png), as a microscope's
+    snapshot or a web image."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    cells = []
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 60), 0.33,
+                                  lambda r: r.uniform(6, 16), lambda r: r.uniform(1, 1.5), 4000, 0.05):
+        img[box][m] = rng.uniform(0.35, 1.0) * (1 - 0.35 * q[m])
+    img = filters.gaussian(img, 1.2)
+    yy, xx = np.mgrid[0:n, 0:n]
+    light = 1 + 0.3 * np.cos(xx / n * 1.8 + 0.3) * np.sin(yy / n * 2.2 + 0.6)
+    return noise(img * light + 0.06, rng, 300, 0.015), truth
+
+def elongated(rng, n=512):
+    """Elongated cells: ellipses of half-length 12-26 px and aspect 2-4 at
+    random orientations, packed (60 % placed beside an earlier one, up to
+    8 % overlap, the later cell losing it), each with its own brightness
+    and a domed profile, blur 1.2 px, uneven light."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    cells = []
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(40, 80), 0.6,
+                                  lambda r: r.uniform(12, 26), lambda r: r.uniform(2, 4), 6000, 0.08):
+        img[box][m] = rng.uniform(0.4, 1.0) * (1 - 0.3 * q[m])
+    img = filters.gaussian(img, 1.2)
+    yy, xx = np.mgrid[0:n, 0:n]
+    light = 1 + 0.25 * np.sin(xx / n * 2.6 + 0.2) * np.cos(yy / n * 1.9 + 0.4)
+    return noise(img * light + 0.06, rng, 200, 0.02), truth
+
+def chromatin(rng, n=512):
+    """Nuclei (radius 10-22 px, aspect up to 1.5, a third touching an
+    earlier one) with textured chromatin (their level times 1 + 0.45 x
+    smoothed noise at 1.5 px, clipped at 0.15) and 2-8 bright foci of
+    radius 1-2.5 px at 1.6-2.6 times the level, blur 1 px, uneven light."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    cells = []
+    tex = filters.gaussian(rng.normal(0, 1, (n, n)), 1.5)
+    tex = np.clip(1 + 0.45 * tex / tex.std(), 0.15, None)
+    yy, xx = np.mgrid[0:n, 0:n]
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(20, 45), 0.33,
+                                  lambda r: r.uniform(10, 22), lambda r: r.uniform(1, 1.5), 4000, 0.05):
+        level = rng.uniform(0.3, 0.8)
+        img[box][m] = level * tex[box][m]
+        ys, xs = np.nonzero(m)
+        for _ in range(rng.integers(2, 9)):
+            k = rng.integers(len(ys)); r = rng.uniform(1, 2.5)
+            f = ((yy[box] - yy[box][ys[k], xs[k]]) ** 2 + (xx[box] - xx[box][ys[k], xs[k]]) ** 2 <= r * r) & m
+            img[box][f] = level * rng.uniform(1.6, 2.6)
+    img = filters.gaussian(img, 1.0)
+    light = 1 + 0.25 * np.cos(xx / n * 2.0 + 0.9) * np.sin(yy / n * 2.7 + 0.1)
+    return noise(img * light + 0.05, rng, 200, 0.02), truth
+
+def lowcount(rng, n=512):
+    """A dim exposure: nuclei (radius 7-16 px, aspect up to 1.4, a quarter
+    touching an earlier one) only 2-3 noise standard deviations above a
+    background of 6-15 photons (Poisson noise plus a read noise of 1.5),
+    blur 1 px, saved as raw 16-bit counts on a camera offset of 100."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    cells = []
+    bg = rng.uniform(6, 15)
+    sd = np.sqrt(bg + 1.5 ** 2)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(25, 50), 0.25,
+                                  lambda r: r.uniform(7, 16), lambda r: r.uniform(1, 1.4), 4000, 0.05):
+        img[box][m] = rng.uniform(2, 3) * sd
+    img = filters.gaussian(img, 1.0)
+    return noise(img + bg, rng, 1, 1.5) + 100, truth
+
+def pits(rng, n=512):
+    """Dark pits and inclusions in a polished metal section on a bright
+    field: Voronoi grains (40-90 px across) of unequal brightness with a
+    fine etch texture and 1-px dark grain boundaries, and 30-70 dark
+    inclusions (round of radius 3-8 px, or stringers of aspect 2-3; at
+    least 30 px each), darker than the boundaries, some on a boundary, a
+    fifth placed beside another; blur 0.8 px, light falling off 20 % across the field. The
+    mask holds the inclusions only."""
+    yy, xx = np.mgrid[0:n, 0:n]
+    k = rng.integers(30, 80)
+    pts = rng.uniform(0, n, (k, 2))
+    d = np.full((n, n), np.inf); grain = np.zeros((n, n), np.int32)
+    for i, (py, px) in enumerate(pts):
+        dd = (yy - py) ** 2 + (xx - px) ** 2
+        m = dd < d; d[m] = dd[m]; grain[m] = i + 1
+    img = rng.uniform(0.72, 0.92, k + 1)[grain]
+    img = img + 0.03 * filters.gaussian(rng.normal(0, 1, (n, n)), 1.0) * 5
+    img[segmentation.find_boundaries(grain, mode="inner")] = rng.uniform(0.5, 0.6)
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.2,
+                                  lambda r: r.uniform(3, 8),
+                                  lambda r: r.uniform(2, 3) if r.random() < 0.3 else r.uniform(1, 1.3), 4000, 0.05):
+        img[box][m] = rng.uniform(0.08, 0.35) * (0.8 + 0.2 * q[m])
+    img = filters.gaussian(img, 0.8)
+    light = 1 - 0.2 * (xx * np.cos(0.6) + yy * np.sin(0.6)) / n
+    return noise(img * light, rng, 400, 0.01), truth
+
+
 def scores(pred, truth):
     iou, npred, ntrue = W.pair_ious(pred, truth)
     tp = (iou > 0.5).sum()
@@ -272,9 +455,14 @@ def scores(pred, truth):
         aps.append(tp / d if d else 1.0)
     return f1, float(np.mean(aps)), adjusted_rand_score(truth.ravel(), pred.ravel())
 
+def image_of(d, n):
+    """DIR/NAME.png, or DIR/NAME.jpg when there is no PNG (kind jpeg)."""
+    p = os.path.join(d, n + ".png")
+    return p if os.path.exists(p) else os.path.join(d, n + ".jpg")
+
 def load_set(d):
     names = sorted(f[:-10] for f in os.listdir(d) if f.endswith(".truth.png"))
-    return [(n, W.load(os.path.join(d, n + ".png")), io.imread(os.path.join(d, n + ".truth.png"))) for n in names]
+    return [(n, W.load(image_of(d, n)), io.imread(os.path.join(d, n + ".truth.png"))) for n in names]
 
 def choose(kind, data, inv):
     """The watershed's parameters for kind, chosen on data by
@@ -283,7 +471,9 @@ def choose(kind, data, inv):
     # Specks are a few pixels across: their grid (watershed.py) is the
     # nuclei's with objects down to 5 px, as cleave's --min-area 5, and
     # peaks 2 and 3 px apart.
-    wk = {"membrane": "grains", "specks": "specks"}.get(kind, "nuclei")
+    # Pits are dark on bright and a few pixels across: the grid of
+    # surface (watershed.py inverts the image and allows 5-px objects).
+    wk = {"membrane": "grains", "specks": "specks", "pits": "surface"}.get(kind, "nuclei")
     combos, sc = W.search(wk, [(1 - img if inv else img, truth) for _, img, truth in data])
     b = int(np.argmax(sc))
     return wk, combos[b], sc[b]
@@ -311,14 +501,22 @@ def score_main(kind, cdir, rdir, outs):
         print("MEAN %-30s F1 %.3f mAP %.3f ARI %.3f" % (k, *np.mean(v, axis=0)))
 
 
+KINDS = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "bodies": bodies,
+         "sizes": sizes, "hollow": hollow, "defocus": defocus, "jpeg": jpeg, "elongated": elongated,
+         "chromatin": chromatin, "lowcount": lowcount, "pits": pits}
+
+
 def main():
     if len(sys.argv) == 6 and sys.argv[1] == "gen":
         kind, out, seed, count = sys.argv[2], sys.argv[3], int(sys.argv[4]), int(sys.argv[5])
         os.makedirs(out, exist_ok=True)
         for s in range(seed, seed + count):
             rng = np.random.default_rng(s)
-            img, truth = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "bodies": bodies, "sizes": sizes, "hollow": hollow}[kind](rng)
-            save(out, "%s-%d" % (kind, s), img, truth)
+            img, truth = KINDS[kind](rng)
+            if kind == "jpeg":
+                save(out, "%s-%d" % (kind, s), img, truth, "jpg", rng.integers(60, 81))
+            else:
+                save(out, "%s-%d" % (kind, s), img, truth, "counts" if kind == "lowcount" else "png16")
         return 0
     if len(sys.argv) >= 5 and sys.argv[1] == "score":
         score_main(sys.argv[2], sys.argv[3], sys.argv[4], sys.argv[5:])
