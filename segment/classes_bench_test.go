@@ -3,8 +3,10 @@ package segment
 import (
 	"fmt"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
+	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
@@ -110,5 +112,32 @@ func BenchmarkObjectPasses(b *testing.B) {
 			}
 			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 		})
+	}
+}
+
+// BenchmarkEdgeFloor is the floor of the fine edge energy (edgeRatio
+// times its median) on the energy of benchField's plane at 1, 4 and 16
+// megapixels: "select" is edgeFloor (medianFloat32's histograms, all
+// cores), "copy" the former selection (kthSmallest on a copy, one core),
+// which gives the same value. cpu-s/op is the process's CPU time per
+// call; B/op shows the copy.
+func BenchmarkEdgeFloor(b *testing.B) {
+	for _, n := range []int{1024, 2048, 4096} {
+		lum, _ := benchField(n, n)
+		energy := affinity.EdgeEnergy(lum, n, n, affinity.ContourScale, 0)
+		for _, how := range []string{"select", "copy"} {
+			b.Run(fmt.Sprintf("%dx%d/%s", n, n, how), func(b *testing.B) {
+				b.ReportAllocs()
+				c0 := cpuSeconds()
+				for b.Loop() {
+					if how == "select" {
+						edgeFloor(energy, 0)
+					} else {
+						_ = edgeRatio * float64(kthSmallest(slices.Clone(energy), len(energy)/2))
+					}
+				}
+				b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+			})
+		}
 	}
 }

@@ -1,6 +1,7 @@
 package segment
 
 import (
+	"errors"
 	"math"
 	"slices"
 
@@ -819,13 +820,91 @@ func onOutline(lab []int32, i, w, h int) bool {
 // edgeFloor is edgeRatio times the median of the edge energy: the
 // element of rank len/2 in ascending order (kthSmallest's). It is
 // selected on the float32 values themselves (their order is that of the
-// float64 values they convert to exactly), in half the memory of a
-// float64 copy.
-func edgeFloor(energy []float32) float64 {
+// float64 values they convert to exactly), by medianFloat32 on workers.
+func edgeFloor(energy []float32, workers int) float64 {
 	if len(energy) == 0 {
 		return 0
 	}
-	return edgeRatio * float64(kthSmallest(slices.Clone(energy), len(energy)/2))
+	return edgeRatio * float64(medianFloat32(energy, workers))
+}
+
+// selectBlock is the number of values each chunk of medianFloat32's
+// histogram passes counts (fixed; the counts are integers, exact in any
+// order, so neither the chunks nor the worker count change the result).
+const selectBlock = 1 << 18
+
+// medianFloat32 returns the element of rank len(v)/2 of v in ascending
+// order, the value kthSmallest(v, len(v)/2) returns, without reordering
+// or copying v. When no value is negative, -0 or NaN, the IEEE 754 bit
+// patterns of the values order them as their values do (a non-negative
+// float32's bits, read as an unsigned integer, grow with it; common
+// practice, the layout of IEEE 754-2008 section 3.4), so the rank is
+// found by counting: a histogram of the upper 16 bits finds the bucket
+// holding the rank, a histogram of the lower 16 bits of that bucket's
+// values finds the value, each goroutine counting blocks of v into its
+// own histogram and the histograms added up afterwards. Otherwise (a
+// negative value, -0 or NaN, where the order of bits and values part)
+// it falls back to kthSmallest on a copy.
+func medianFloat32(v []float32, workers int) float32 {
+	k := len(v) / 2
+	nb := (len(v) + selectBlock - 1) / selectBlock
+	hist := make([][]uint32, parallel.Goroutines(nb, workers))
+	for g := range hist {
+		hist[g] = make([]uint32, 1<<16)
+	}
+	errOrder := errors.New("order of bits and values differ")
+	count := func(pass func(h []uint32, x []float32) bool) error {
+		return parallel.ForErr(nb, workers, func(g, c int) error {
+			if !pass(hist[g], v[c*selectBlock:min(len(v), (c+1)*selectBlock)]) {
+				return errOrder
+			}
+			return nil
+		})
+	}
+	err := count(func(h []uint32, x []float32) bool {
+		for _, f := range x {
+			b := math.Float32bits(f)
+			if b >= 0x7f800001 { // sign bit set (negative, -0) or NaN
+				return false
+			}
+			h[b>>16]++
+		}
+		return true
+	})
+	if err != nil {
+		return kthSmallest(slices.Clone(v), k)
+	}
+	top, below := rankBucket(hist, k)
+	for _, h := range hist {
+		clear(h)
+	}
+	count(func(h []uint32, x []float32) bool {
+		for _, f := range x {
+			if b := math.Float32bits(f); b>>16 == top {
+				h[b&0xffff]++
+			}
+		}
+		return true
+	})
+	low, _ := rankBucket(hist, k-below)
+	return math.Float32frombits(top<<16 | low)
+}
+
+// rankBucket adds up the histograms hs (of equal length) and returns the
+// bucket that holds rank k (0-based, in bucket order) with the count of
+// the buckets before it.
+func rankBucket(hs [][]uint32, k int) (bucket uint32, below int) {
+	for b := range hs[0] {
+		n := 0
+		for _, h := range hs {
+			n += int(h[b])
+		}
+		if below+n > k {
+			return uint32(b), below
+		}
+		below += n
+	}
+	panic("segment: rank beyond the histograms")
 }
 
 // withoutLabels sends the marked objects to the background and numbers

@@ -183,7 +183,7 @@ func TestEdgeless(t *testing.T) {
 		return v, l
 	})
 	energy := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy)})
+	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, 1)})
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("edgeless = %v, want only the hill (2) marked", drop)
 	}
@@ -301,11 +301,11 @@ func TestEdgelessDiffuse(t *testing.T) {
 		return v, l
 	})
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}); drop != nil {
+	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1)}); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
 	}
 	coarse := coarseEnergy(lum, w, h, 1)
-	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse})
+	drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse})
 	if drop == nil || drop[1] || !drop[2] {
 		t.Fatalf("with the coarse energy: %v, want only the blurred disc (2) marked", drop)
 	}
@@ -318,7 +318,7 @@ func TestEdgelessDiffuse(t *testing.T) {
 		field[i] = 0.2
 	}
 	con := contrastMap(lum, field, 2)
-	test := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarse, con: con, source: sourceContrast("dark")}
+	test := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse, con: con, source: sourceContrast("dark")}
 	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, test); drop != nil {
 		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)
 	}
@@ -482,5 +482,86 @@ func TestHalfMaxLevel(t *testing.T) {
 	}
 	if got := halfMaxLevel(nil); got != 0 {
 		t.Errorf("no values: level %v, want 0", got)
+	}
+}
+
+// TestMedianFloat32 checks the histogram selection of edgeFloor against
+// the element of rank len/2 of a copy sorted by Go's slices.Sort (the
+// standard library's), on sizes around the block of the histogram
+// passes, with ties, zeros, +Inf and subnormals, for 1, 2 and 3
+// workers; and, where bits and values order differently (negative
+// values, -0, NaN), against kthSmallest on a copy, the selection it
+// falls back to (what edgeFloor computed before).
+func TestMedianFloat32(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13970, 1))
+	uniform := func(n int) []float32 {
+		v := make([]float32, n)
+		for i := range v {
+			v[i] = rng.Float32() * 3
+		}
+		return v
+	}
+	ties := func(n int) []float32 {
+		v := make([]float32, n)
+		for i := range v {
+			v[i] = float32(rng.IntN(5)) / 4
+		}
+		return v
+	}
+	special := func(n int) []float32 {
+		v := uniform(n)
+		for i := range v {
+			switch rng.IntN(6) {
+			case 0:
+				v[i] = 0
+			case 1:
+				v[i] = float32(math.Inf(1))
+			case 2:
+				v[i] = math.Float32frombits(uint32(rng.IntN(1 << 23))) // subnormal
+			}
+		}
+		return v
+	}
+	withBits := func(b uint32) func(int) []float32 {
+		return func(n int) []float32 {
+			v := uniform(n)
+			v[rng.IntN(n)] = math.Float32frombits(b)
+			return v
+		}
+	}
+	sizes := []int{1, 2, 3, 100, selectBlock - 1, selectBlock, selectBlock + 1, 3*selectBlock + 7}
+	for _, tc := range []struct {
+		name     string
+		make     func(int) []float32
+		fallback bool
+	}{
+		{"uniform", uniform, false},
+		{"ties", ties, false},
+		{"zeros, +Inf, subnormals", special, false},
+		{"a negative value", withBits(math.Float32bits(-0.5)), true},
+		{"-0", withBits(0x80000000), true},
+		{"NaN", withBits(0x7fc00000), true},
+	} {
+		for _, n := range sizes {
+			v := tc.make(n)
+			orig := slices.Clone(v)
+			var want float32
+			if tc.fallback {
+				want = kthSmallest(slices.Clone(v), n/2)
+			} else {
+				s := slices.Clone(v)
+				slices.Sort(s)
+				want = s[n/2]
+			}
+			for _, workers := range []int{1, 2, 3} {
+				got := medianFloat32(v, workers)
+				if math.Float32bits(got) != math.Float32bits(want) {
+					t.Errorf("%s, n=%d, workers %d: %v (bits %#x), want %v (bits %#x)", tc.name, n, workers, got, math.Float32bits(got), want, math.Float32bits(want))
+				}
+			}
+			if !slices.Equal(v, orig) && !tc.fallback {
+				t.Errorf("%s, n=%d: the values were changed", tc.name, n)
+			}
+		}
 	}
 }

@@ -102,7 +102,7 @@ func TestRingObjects(t *testing.T) {
 	for _, c := range cases {
 		lum, reg, w, h := ringScene(c.contrast, c.blurred)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
-		edges := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine), coarse: coarseEnergy(lum, w, h, 1)}
+		edges := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarseEnergy(lum, w, h, 1)}
 		bg, obj := int32(0), int32(1)
 		if c.background == "bright" {
 			bg, obj = 1, 0
@@ -121,7 +121,7 @@ func TestRingObjects(t *testing.T) {
 		lum, reg, w, h := ringScene(0.3, true)
 		fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 		cls := []int32{0, 0}
-		if !ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") {
+		if !ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") {
 			t.Errorf("blurred 30 sd without the coarse energy: not an object, so the case above tests nothing")
 		}
 	}
@@ -133,7 +133,7 @@ func TestRingObjects(t *testing.T) {
 	}
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	cls := []int32{0, 0, 1}
-	if ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") || cls[1] != 0 {
+	if ringObjects(lum, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1)}, labelmap.Map{Pix: reg, Width: w, Height: h}, cls, 0, "dark") || cls[1] != 0 {
 		t.Errorf("a region touching an object became an object")
 	}
 }

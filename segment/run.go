@@ -738,7 +738,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
 			coarse, coarseW := coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
-			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
+			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, p.Workers), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
 			// objects is an object map of this image.
