@@ -87,7 +87,7 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 	}
 	score := append([]float64(nil), st.mean[0]...)
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
-	if (background == "dark" || background == "bright") && objectShare(cls, regions, st.area, C, background) > 0.5 {
+	if (background == "dark" || background == "bright") && objectShare(cls, regions, st.area, C, background, workers) > 0.5 {
 		// Objects stand out from a background around them; a first
 		// grouping whose objects include one piece over half the field
 		// has taken uneven background (haze, a glow with dark corners)
@@ -514,7 +514,7 @@ func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
 // objectShare is the fraction of the image covered by the largest
 // connected piece (4-neighbours) of pixels outside the background class of
 // cls (area per region).
-func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, background Background) float64 {
+func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, background Background, workers int) float64 {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	ref := referenceClass(cls, area, C, background)
 	group := make([]int32, len(reg))
@@ -524,7 +524,7 @@ func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, backg
 			group[i] = 0
 		}
 	}
-	lab, n := componentsOfGroups(group, w, h, 0)
+	lab, n := componentsOfGroups(group, w, h, 0, workers)
 	size := make([]int, n+1)
 	for _, l := range lab {
 		size[l]++

@@ -45,7 +45,7 @@ const faintSigmas = 7
 // piece of them (4-neighbours, at least minArea pixels) becomes a new
 // region of the object class next to the background. It returns the
 // updated region map, count and classes.
-func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelmap.Map, nreg int, cls []int32, bg int32, background Background, minArea int) (labelmap.Map, int, []int32) {
+func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelmap.Map, nreg int, cls []int32, bg int32, background Background, minArea, workers int) (labelmap.Map, int, []int32) {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	// The luminance is in normalized units (0 to 1); a thousandth of
 	// that range bounds c from below, as ObjectScale's noise, so that a
@@ -96,7 +96,7 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 	if !found {
 		return regions, nreg, cls
 	}
-	pieces, n := componentsOfGroups(group, w, h, minArea)
+	pieces, n := componentsOfGroups(group, w, h, minArea, workers)
 	if n == 0 {
 		return regions, nreg, cls
 	}

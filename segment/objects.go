@@ -52,7 +52,7 @@ const seamRatio = 0.8
 // dim line between two nuclei pressed together, or the bright ridge between
 // two touching pits. Objects under minArea pixels go to the background.
 // It returns labels 0 (background) and 1..N in raster order, and N.
-func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClass int32, minArea int) ([]int32, int) {
+func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClass int32, minArea, workers int) ([]int32, int) {
 	reg, w, h := regions.Pix, regions.Width, regions.Height
 	regC := make([]float64, n)
 	regA := make([]float64, n)
@@ -99,7 +99,7 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 			group[i] = root[r]
 		}
 	}
-	return componentsOfGroups(group, w, h, minArea)
+	return componentsOfGroups(group, w, h, minArea, workers)
 }
 
 // adjacentDiffering calls f(i, j) for the pairs of 4-adjacent pixels of
@@ -127,70 +127,111 @@ func adjacentDiffering(lab []int32, w, h int, f func(i, j int)) {
 
 // componentsOfGroups labels the 4-connected pieces of pixels sharing the
 // same group (group < 0 is background) as 1..N in raster order; pieces under
-// minArea pixels become background. Two scans of the image (the classical
-// two-pass labelling, Rosenfeld and Pfaltz 1966): the first gives each
-// run of equal group in a row a provisional label and joins it to the
-// runs of the same group above it that it touches; the second numbers
-// the pieces in raster order of their first pixel.
-func componentsOfGroups(group []int32, w, h, minArea int) ([]int32, int) {
+// minArea pixels become background. The classical two-pass labelling
+// (Rosenfeld and Pfaltz 1966) on bands of rowBand rows at once: the first
+// pass gives each run of equal group in a band's row a provisional label
+// and joins it to the runs of the same group above it in the band that it
+// touches, each band on its own forest (union by the smaller label, so a
+// set's root is its first run); the forests are put end to end in band
+// order and the runs that touch across a band's first row joined; the
+// second pass numbers the pieces in the order of their roots, which is
+// the raster order of their first pixels (provisional labels grow in
+// raster order: within a band as the runs are met, across bands by the
+// bands' offsets), and writes the numbers. The bands are fixed, so the
+// result does not depend on workers; it is the one-band labelling's.
+func componentsOfGroups(group []int32, w, h, minArea, workers int) ([]int32, int) {
 	lab := make([]int32, len(group))
-	var f unionfind.Forest
-	for y := 0; y < h; y++ {
-		row, out := group[y*w:(y+1)*w], lab[y*w:(y+1)*w]
-		var above, labAbove []int32
-		if y > 0 {
-			above, labAbove = group[(y-1)*w:y*w], lab[(y-1)*w:y*w]
+	nb := (h + rowBand - 1) / rowBand
+	forests := make([]unionfind.Forest, nb)
+	sizes := make([][]int, nb) // band -> pixels of each provisional label
+	parallel.Blocks(h, rowBand, workers, func(b, y0, y1 int) {
+		var f unionfind.Forest
+		var size []int
+		for y := y0; y < y1; y++ {
+			row, out := group[y*w:(y+1)*w], lab[y*w:(y+1)*w]
+			var above, labAbove []int32
+			if y > y0 {
+				above, labAbove = group[(y-1)*w:y*w], lab[(y-1)*w:y*w]
+			}
+			for x, g := range row {
+				if g < 0 {
+					out[x] = -1
+					continue
+				}
+				left := x > 0 && row[x-1] == g
+				if left {
+					out[x] = out[x-1]
+				} else {
+					out[x] = int32(len(f))
+					f = append(f, int32(len(f)))
+					size = append(size, 0)
+				}
+				size[out[x]]++
+				// The run above is joined once, at its first pixel over this
+				// run (or this run's first pixel).
+				if above != nil && above[x] == g && !(left && above[x-1] == g) {
+					f.Union(out[x], labAbove[x])
+				}
+			}
 		}
-		for x, g := range row {
-			if g < 0 {
-				out[x] = -1
-				continue
-			}
-			left := x > 0 && row[x-1] == g
-			if left {
-				out[x] = out[x-1]
-			} else {
-				out[x] = int32(len(f))
-				f = append(f, int32(len(f)))
-			}
-			// The run above is joined once, at its first pixel over this
-			// run (or this run's first pixel).
-			if above != nil && above[x] == g && !(left && above[x-1] == g) {
-				f.Union(out[x], labAbove[x])
-			}
-		}
+		forests[b], sizes[b] = f, size
+	})
+	off := make([]int32, nb+1) // band -> its first provisional label
+	for b, f := range forests {
+		off[b+1] = off[b] + int32(len(f))
 	}
-	if len(f) == 0 {
+	total := int(off[nb])
+	if total == 0 {
 		clear(lab) // all background
 		return lab, 0
 	}
-	root := make([]int32, len(f))
-	for k := range root {
-		root[k] = f.Find(int32(k))
-	}
-	size := make([]int, len(f)) // by root
-	for _, l := range lab {
-		if l >= 0 {
-			size[root[l]]++
+	f := make(unionfind.Forest, 0, total)
+	for b, fb := range forests {
+		for _, parent := range fb {
+			f = append(f, parent+off[b])
 		}
 	}
-	num := make([]int32, len(f)) // by root: 0 not met yet, -1 under minArea
-	n := int32(0)
-	for i, l := range lab {
-		if l < 0 {
-			lab[i] = 0
-			continue
-		}
-		q := root[l]
-		if num[q] == 0 {
-			num[q] = -1
-			if size[q] >= minArea {
-				n++
-				num[q] = n
+	for b := 1; b < nb; b++ {
+		y := b * rowBand
+		row, above := group[y*w:(y+1)*w], group[(y-1)*w:y*w]
+		out, labAbove := lab[y*w:(y+1)*w], lab[(y-1)*w:y*w]
+		for x, g := range row {
+			if g >= 0 && above[x] == g && !(x > 0 && row[x-1] == g && above[x-1] == g) {
+				f.Union(out[x]+off[b], labAbove[x]+off[b-1])
 			}
 		}
-		lab[i] = max(num[q], 0)
 	}
+	root := make([]int32, total)
+	size := make([]int, total) // by root
+	for b, sb := range sizes {
+		for k, c := range sb {
+			l := off[b] + int32(k)
+			root[l] = f.Find(l)
+			size[root[l]] += c
+		}
+	}
+	// num is the piece number of each provisional label, 0 under minArea;
+	// a root comes before the other labels of its set.
+	num := make([]int32, total)
+	n := int32(0)
+	for l, r := range root {
+		if r != int32(l) {
+			num[l] = num[r]
+		} else if size[l] >= minArea {
+			n++
+			num[l] = n
+		}
+	}
+	parallel.Blocks(h, rowBand, workers, func(b, y0, y1 int) {
+		o := off[b]
+		for i := y0 * w; i < y1*w; i++ {
+			if l := lab[i]; l < 0 {
+				lab[i] = 0
+			} else {
+				lab[i] = num[o+l]
+			}
+		}
+	})
 	return lab, int(n)
 }
 
@@ -278,7 +319,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		}
 	}
 	fillHoles(group, w, h)
-	out, m := componentsOfGroups(group, w, h, minArea)
+	out, m := componentsOfGroups(group, w, h, minArea, workers)
 	return withoutCrumbs(out, m, group, sm, median)
 }
 

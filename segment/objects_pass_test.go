@@ -1,6 +1,7 @@
 package segment
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -59,18 +60,44 @@ func TestBoxMean3RowsMatchesWindowLoop(t *testing.T) {
 	}
 }
 
+// TestComponentsOfGroupsMatchesSearch checks the labelling against a
+// breadth-first search from each unlabelled pixel in raster order: small
+// random maps in one band of rows, and maps of up to four bands (random
+// groups, and columns with gaps, whose pieces run across the bands and
+// join below them), for 1, 2 and 3 workers.
 func TestComponentsOfGroupsMatchesSearch(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
-	for trial := range 30 {
+	for trial := range 50 {
 		w, h := 1+rng.IntN(40), 1+rng.IntN(40)
+		if trial >= 30 {
+			h = rowBand - 2 + rng.IntN(3*rowBand)
+		}
 		g := randomGroups(rng, w, h, 3)
+		if trial >= 40 { // columns of two groups, a few gaps
+			for i := range g {
+				g[i] = int32(i % w / 3 % 2)
+				if rng.IntN(50) == 0 {
+					g[i] = -1
+				}
+			}
+		}
 		if trial%10 == 9 { // all background
 			for i := range g {
 				g[i] = -1
 			}
 		}
 		minArea := trial % 6
-		got, n := componentsOfGroups(g, w, h, minArea)
+		for _, workers := range []int{1, 2, 3} {
+			checkComponentsOfGroups(t, fmt.Sprintf("trial %d, workers %d", trial, workers), g, w, h, minArea, workers)
+		}
+	}
+}
+
+func checkComponentsOfGroups(t *testing.T, name string, g []int32, w, h, minArea, workers int) {
+	t.Helper()
+	{
+		trial := name
+		got, n := componentsOfGroups(g, w, h, minArea, workers)
 		// Breadth-first search from each unlabelled pixel in raster order.
 		piece := make([]int, w*h)
 		for i := range piece {
@@ -113,11 +140,11 @@ func TestComponentsOfGroupsMatchesSearch(t *testing.T) {
 			}
 		}
 		if n != m {
-			t.Fatalf("trial %d: %d pieces, want %d", trial, n, m)
+			t.Fatalf("%s: %d pieces, want %d", trial, n, m)
 		}
 		for i := range want {
 			if got[i] != want[i] {
-				t.Fatalf("trial %d: pixel %d label %d, want %d", trial, i, got[i], want[i])
+				t.Fatalf("%s: pixel %d label %d, want %d", trial, i, got[i], want[i])
 			}
 		}
 	}
@@ -138,7 +165,7 @@ func TestFillHolesMatchesDefinition(t *testing.T) {
 				bgMask[i] = 0
 			}
 		}
-		lab, n := componentsOfGroups(bgMask, w, h, 0)
+		lab, n := componentsOfGroups(bgMask, w, h, 0, 1)
 		for p := int32(1); p <= int32(n); p++ {
 			border, owner := false, int32(-1)
 			for i, l := range lab {

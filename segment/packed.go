@@ -117,10 +117,10 @@ func packedObjects(lum []float32, regions labelmap.Map, n, minArea, workers int)
 		}
 	}
 	fillHoles(group, w, h)
-	lab, k := componentsOfGroups(group, w, h, minArea)
+	lab, k := componentsOfGroups(group, w, h, minArea, workers)
 	lab, k = joinUnlined(labelmap.Map{Pix: lab, Width: w, Height: h}, k)
 	lab, k = withoutFragments(lab, k)
-	return splitEnclosed(labelmap.Map{Pix: lab, Width: w, Height: h}, k, dilateSquare(line, w, h, lineGapRadius))
+	return splitEnclosed(labelmap.Map{Pix: lab, Width: w, Height: h}, k, dilateSquare(line, w, h, lineGapRadius), workers)
 }
 
 // lineGapRadius is the half-width, in pixels, of the square by which
@@ -144,7 +144,7 @@ const lineGapRadius = 2
 // around each is the evidence the pair test of packedObjects cannot use,
 // since no region border runs along it. Objects are numbered 1..N in
 // raster order.
-func splitEnclosed(objects labelmap.Map, n int, wide []bool) ([]int32, int) {
+func splitEnclosed(objects labelmap.Map, n int, wide []bool, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n < 1 {
 		return labels, n
@@ -161,7 +161,7 @@ func splitEnclosed(objects labelmap.Map, n int, wide []bool) ([]int32, int) {
 			group[i] = l
 		}
 	}
-	piece, np := componentsOfGroups(group, w, h, minPiece)
+	piece, np := componentsOfGroups(group, w, h, minPiece, workers)
 	of := make([]int32, np+1) // the object of each piece
 	pieces := make([]int, n+1)
 	for i, c := range piece {

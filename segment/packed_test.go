@@ -195,8 +195,8 @@ func TestSplitEnclosed(t *testing.T) {
 		for i, l := range labels {
 			group[i] = l - 1
 		}
-		before, n := componentsOfGroups(group, w, h, 1)
-		got, m := splitEnclosed(labelmap.Map{Pix: before, Width: w, Height: h}, n, dilateSquare(line, w, h, lineGapRadius))
+		before, n := componentsOfGroups(group, w, h, 1, 1)
+		got, m := splitEnclosed(labelmap.Map{Pix: before, Width: w, Height: h}, n, dilateSquare(line, w, h, lineGapRadius), 1)
 		if m != c.want {
 			t.Errorf("%s: %d objects, want %d", c.name, m, c.want)
 		}

@@ -751,7 +751,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			edges.con = con
 			// objects is an object map of this image.
 			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
-			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			// fresh: obj is objectsFrom of the current contrast map,
 			// regions and classes, so the object map below needs no
 			// second pass when nothing has changed them since.
@@ -786,7 +786,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
-				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 				fresh = true
 			}
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
@@ -799,7 +799,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				before := nreg
 				// faintObjects adds regions when it finds faint objects and
 				// leaves everything as it was otherwise.
-				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1))
+				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1), p.Workers)
 				reg = regions.Pix
 				if nreg != before {
 					fresh = false
@@ -815,7 +815,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				}
 			}
 			if !fresh {
-				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea)
+				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			}
 			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1), p.Workers)
 			obj, nobj = joinTouching(con, objects(obj), nobj)
