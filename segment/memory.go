@@ -141,16 +141,6 @@ func EstimateStages(w, h, planes int, p Params) []StageBytes {
 	if stencil {
 		cuts = before + csr + nodes*stencilLevelBytes + eigenBlocks*8*m*nodes + regionBytesPerPixel*npix
 	}
-	if p.Classes >= 2 && p.Background != "" {
-		// The object stages' edge inputs are computed while the cut is
-		// solved (startEdgeInputs): the coarse energy of the half-size
-		// image with its working planes, and the fine energy with its
-		// own when the contour cue has not made it already.
-		cuts += (1 + contourBytesPerPixel/4) * npix
-		if sp == 0 || !p.Contour {
-			cuts += contourBytesPerPixel * npix
-		}
-	}
 	est := []StageBytes{{"graph", sat(graph)}, {"cuts", sat(cuts)}}
 	if p.Classes >= 2 || p.Background == BackgroundLines {
 		obj := before + csr + regionBytesPerPixel*npix + objectBytesPerPixel*npix
