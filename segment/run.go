@@ -636,17 +636,6 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		return nil, err
 	}
 
-	// The edge energies of the object stages and the fine energy's
-	// floor depend on the luminance alone: they are computed while the
-	// cut is solved (its small sparse products leave a core idle much
-	// of the time), and waited for where the object stages begin, or
-	// on the way out.
-	var edgeWork *edgeInputs
-	if p.Classes >= 2 && p.Background != "" {
-		edgeWork = startEdgeInputs(in.Luminance, w, h, energy, p.Workers)
-		defer edgeWork.wait()
-	}
-
 	// Cuts.
 	var cut *cutResult
 	// With packed objects, a cut that runs where no line does is undone
@@ -745,8 +734,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if field == nil {
 				field = backgroundField()
 			}
-			ei := edgeWork.wait()
-			edges := &edgeTest{w: w, h: h, fine: ei.fine, floor: ei.floor, coarse: ei.coarse, coarseW: ei.coarseW, source: sourceContrast(p.Background)}
+			if energy == nil {
+				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+			}
+			coarse, coarseW := coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
+			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, p.Workers), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
 			// objects is an object map of this image.
@@ -993,40 +985,4 @@ func constant(planes [][]float32) bool {
 		}
 	}
 	return true
-}
-
-// edgeInputs are what the object stages' edge test reads of the
-// luminance alone: the fine edge energy (at affinity.ContourScale), its
-// floor (edgeFloor) and the coarse energy in 2x2 blocks
-// (coarseEnergyBlocks). startEdgeInputs computes them on a goroutine of
-// its own; wait returns them once they are done (any number of times).
-type edgeInputs struct {
-	done    chan struct{}
-	fine    []float32
-	floor   float64
-	coarse  []float32
-	coarseW int
-}
-
-// startEdgeInputs starts computing the edgeInputs of lum (w x h) on
-// workers; fine, when not nil, is the fine energy already computed.
-// The values are those computed in line: each function's result does
-// not depend on when or beside what it runs.
-func startEdgeInputs(lum []float32, w, h int, fine []float32, workers int) *edgeInputs {
-	e := &edgeInputs{done: make(chan struct{}), fine: fine}
-	go func() {
-		defer close(e.done)
-		if e.fine == nil {
-			e.fine = affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, workers)
-		}
-		e.coarse, e.coarseW = coarseEnergyBlocks(lum, w, h, workers)
-		e.floor = edgeFloor(e.fine, workers)
-	}()
-	return e
-}
-
-// wait returns e once its values are computed.
-func (e *edgeInputs) wait() *edgeInputs {
-	<-e.done
-	return e
 }
