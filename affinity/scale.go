@@ -459,6 +459,23 @@ func gaussBlur(v, dst, tmp []float32, w, h int, s float64, workers int) {
 	})
 }
 
+// GaussianSmooth returns the plane v (w*h values, row-major) smoothed by
+// a separable sampled Gaussian of standard deviation s pixels (taps to
+// ceil(3s), normalized to sum 1), edges reflected (v[-1-i] = v[i], the
+// "reflect" mode of scipy.ndimage), on at most workers goroutines. v is
+// not written. It panics if len(v) != w*h (programmer error).
+func GaussianSmooth(v []float32, w, h int, s float64, workers int) []float32 {
+	if w < 0 || h < 0 || len(v) != w*h {
+		panic(fmt.Sprintf("affinity: GaussianSmooth on %d values for %dx%d", len(v), w, h))
+	}
+	dst := make([]float32, len(v))
+	if len(v) == 0 {
+		return dst
+	}
+	gaussBlur(v, dst, make([]float32, len(v)), w, h, s, workers)
+	return dst
+}
+
 // symTaps writes out[x] = k[0]·src[r][x] + Σ_j k[j]·(src[r-j][x] +
 // src[r+j][x]), two taps per sweep so each output is loaded and stored
 // fewer times; out must not overlap a row of src. Where useAVX2 is set

@@ -64,8 +64,9 @@ const eigenBlocks = 16
 // estimate, SLIC, the contour cue and the region graph), the cuts (the
 // graph, the eigensolver's levels and blocks, the region maps) and, with
 // Classes and Background set, the objects. Each stage counts the arrays
-// of earlier stages still alive then; the caller's input planes are not
-// included. An automatic superpixel count is taken at its largest
+// of earlier stages still alive then (the smoothed copy of the planes
+// too, when smoothing is asked for or left to the image); the caller's
+// input planes are not included. An automatic superpixel count is taken at its largest
 // possible value. Nonsensical sizes give nil; sums too large for int64
 // saturate at math.MaxInt64.
 func EstimateStages(w, h, planes int, p Params) []StageBytes {
@@ -92,6 +93,11 @@ func EstimateStages(w, h, planes int, p Params) []StageBytes {
 	before := 0.0 // alive from earlier stages
 	if p.Grain {
 		before += grainBytesPerPixel * npix
+	}
+	if p.AutoSmooth || p.Smooth > 0 {
+		// The smoothed planes and luminance (smoothInput), counted
+		// whether or not the image turns out to need them.
+		before += 4 * (P + 1) * npix
 	}
 	var graph, csr, nodes float64
 	// The k-way cut of the pixel graph builds it in stencil form

@@ -31,6 +31,7 @@ func TestEstimateStagesStencil(t *testing.T) {
 	p.Method = MethodKway
 	p.Segments = 6
 	p.Workers = 2
+	p.AutoSmooth = false // the graph stage then holds the graph alone
 	bytesOf := func(p Params, stage string) int64 {
 		for _, st := range EstimateStages(w, h, 1, p) {
 			if st.Name == stage {

@@ -84,6 +84,12 @@ type Params struct {
 	// GrainModel is the model measured on the image, resolved by Run.
 	Grain      bool
 	GrainModel affinity.Grain
+	// Smooth is the standard deviation, in pixels, of a Gaussian that
+	// smooths the feature planes and the luminance before the graph is
+	// built (0: none); with AutoSmooth, Run chooses it from the image's
+	// noise and object scale (autoSmooth) and reports it here.
+	Smooth     float64
+	AutoSmooth bool
 
 	Method      Method  // MethodBisect or MethodKway
 	Segments    int     // bisect: region limit (0 none); kway: K (0 from the eigengap)
@@ -110,13 +116,13 @@ type Params struct {
 // count and both kernel widths left to the image, compactness 20, a
 // pixel-graph radius of 5, recursive bisection up to a normalized cut of
 // 0.15, regions and objects of at least 20 pixels, no classes, the
-// intervening-contour cue on, seed 1, an 8 GiB memory bound and all
+// intervening-contour cue on, smoothing left to the image, seed 1, an 8 GiB memory bound and all
 // cores. They were chosen on the project's generated nuclei and plate
 // scenes (DEVELOPERS.md lists the seeds). MaxSegments (12) matters only
 // to the k-way method.
 func DefaultParams() Params {
 	return Params{
-		Superpixels: -1, Compactness: 20, Radius: 5, AutoSigmaI: true, AutoSigmaX: true, Contour: true,
+		Superpixels: -1, Compactness: 20, Radius: 5, AutoSigmaI: true, AutoSigmaX: true, Contour: true, AutoSmooth: true,
 		Method: MethodBisect, MaxSegments: 12, MaxNcut: 0.15, MinArea: 20, Seed: 1, MaxMemory: 8 << 30,
 	}
 }
@@ -135,6 +141,10 @@ const (
 	// weight between distinct pixels is 0, above a million pixels every
 	// spatial weight is 1 on any image cleave accepts.
 	MinSigmaX, MaxSigmaX = 0.01, 1e6
+	// MinSmooth and MaxSmooth bound a fixed Smooth (pixels; 0 is off):
+	// below a tenth of a pixel the sampled kernel is all but the identity,
+	// and above 50 pixels it blurs away any object cleave could outline.
+	MinSmooth, MaxSmooth = 0.1, 50.0
 	// MaxRadius bounds Radius: the pixel graph has about pi r^2 neighbours
 	// per pixel (12,900 at 64), beyond any useful kernel.
 	MaxRadius = 64
@@ -194,6 +204,9 @@ func (p Params) Validate() error {
 		if err := within("sigma-x", p.SigmaX, MinSigmaX, MaxSigmaX); err != nil {
 			return err
 		}
+	}
+	if !p.AutoSmooth && p.Smooth != 0 && !(p.Smooth >= MinSmooth && p.Smooth <= MaxSmooth) {
+		return &ParamError{"smooth", fmt.Sprintf("must be 0 (none) or %g to %g, got %v", MinSmooth, MaxSmooth, p.Smooth)}
 	}
 	if p.Superpixels > MaxSuperpixels {
 		return &ParamError{"superpixels", fmt.Sprintf("must be at most %d, got %d", MaxSuperpixels, p.Superpixels)}
@@ -347,7 +360,7 @@ type Cache struct {
 
 	mu    sync.Mutex
 	cuts  map[Params]*cutEntry
-	slics map[[3]float64]*slicEntry
+	slics map[[4]float64]*slicEntry
 
 	// scales holds the object scale without (0) and with (1) grain
 	// removal, each estimated once.
@@ -419,8 +432,8 @@ func (c *Cache) cut(key Params, t float64, grow func(at float64) (*cutResult, er
 
 // superpixels returns the superpixels of the input for (count,
 // compactness, grain removed or not), computing them with compute once.
-func (c *Cache) superpixels(count int, compactness float64, grain bool, compute func() (*slicEntry, error)) (*slicEntry, error) {
-	key := [3]float64{float64(count), compactness, 0}
+func (c *Cache) superpixels(count int, compactness float64, grain bool, smooth float64, compute func() (*slicEntry, error)) (*slicEntry, error) {
+	key := [4]float64{float64(count), compactness, 0, smooth}
 	if grain {
 		key[2] = 1
 	}
@@ -445,17 +458,30 @@ func (c *Cache) superpixels(count int, compactness float64, grain bool, compute 
 // estimated once per Cache and grain setting: in is the input after grain
 // removal when grain is set), and whether the count followed it.
 func autoCount(in Input, grain bool, workers int) (count int, est *affinity.ScaleEstimate, used bool) {
-	w, h := in.Width, in.Height
-	npix := w * h
+	if !countNeedsScale(in.Width * in.Height) {
+		return autoCountWith(in.Width*in.Height, nil)
+	}
+	e := objectScaleOf(in, grain, workers)
+	return autoCountWith(in.Width*in.Height, &e)
+}
+
+// countNeedsScale reports whether the automatic node count of an image
+// of npix pixels follows its object scale (autoCount).
+func countNeedsScale(npix int) bool {
+	return npix > PixelGraphMaxPixels && npix/PixelsPerSuperpixel > MaxAutoSuperpixels
+}
+
+// autoCountWith is autoCount with the object scale already estimated
+// (est; nil when countNeedsScale is false).
+func autoCountWith(npix int, est *affinity.ScaleEstimate) (count int, _ *affinity.ScaleEstimate, used bool) {
 	switch {
 	case npix <= PixelGraphMaxPixels:
 		return 0, nil, false
-	case npix/PixelsPerSuperpixel <= MaxAutoSuperpixels:
+	case !countNeedsScale(npix):
 		return max(npix/PixelsPerSuperpixel, MinAutoSuperpixels), nil, false
 	}
-	e := objectScaleOf(in, grain, workers)
-	count, used = autoSuperpixels(npix, e)
-	return count, &e, used
+	count, used = autoSuperpixels(npix, *est)
+	return count, est, used
 }
 
 // objectScaleOf estimates the object scale of the input's luminance
@@ -531,12 +557,28 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("grain")
 	}
 
+	// The object scale, when the smoothing or the node count asks for
+	// it, is estimated on the image before smoothing.
+	if p.AutoSmooth || (p.Superpixels < 0 && countNeedsScale(npix)) {
+		est := objectScaleOf(in, p.Grain, p.Workers)
+		res.ObjectScale = &est
+		stage("scale")
+	}
+	if p.AutoSmooth {
+		p.Smooth = autoSmooth(*res.ObjectScale)
+	}
+	if p.Smooth > 0 {
+		in = smoothInput(in, p.Smooth, p.Workers)
+		stage("smooth")
+	}
+
 	// Graph.
 	if p.Superpixels < 0 {
-		p.Superpixels, res.ObjectScale, res.ObjectScaleUsed = autoCount(in, p.Grain, p.Workers)
-		if res.ObjectScale != nil {
-			stage("scale")
+		est := res.ObjectScale
+		if !countNeedsScale(npix) {
+			est = nil
 		}
+		p.Superpixels, _, res.ObjectScaleUsed = autoCountWith(npix, est)
 	}
 	if p.Superpixels >= npix {
 		p.Superpixels = 0
@@ -593,7 +635,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		var sp *slicEntry
 		if in.Cache != nil {
-			sp, err = in.Cache.superpixels(p.Superpixels, p.Compactness, p.Grain, compute)
+			sp, err = in.Cache.superpixels(p.Superpixels, p.Compactness, p.Grain, p.Smooth, compute)
 		} else {
 			sp, err = compute()
 		}

@@ -49,6 +49,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.IntVar(&s.Radius, "radius", d.Radius, fmt.Sprintf("pixel graph: join pixels up to this distance (pixels, 1 to %d)", segment.MaxRadius))
 	fs.StringVar(&s.SigmaI, "sigma-i", d.SigmaI, fmt.Sprintf("intensity kernel width in normalized intensity units (0..1), %g to %g, or auto", segment.MinSigmaI, segment.MaxSigmaI))
 	fs.StringVar(&s.SigmaX, "sigma-x", d.SigmaX, fmt.Sprintf("spatial kernel width in pixels, %g to %g, or auto (0.8 x radius; 2 x superpixel spacing)", segment.MinSigmaX, segment.MaxSigmaX))
+	fs.StringVar(&s.Smooth, "smooth", d.Smooth, fmt.Sprintf("Gaussian smoothing of the image before the graph, in pixels: auto (only where the typical object stands less than %d noise standard deviations above its surroundings, just enough to reach that, at most a fifth of the object radius; the value used is in the record), 0 = none, or %g to %g", segment.SmoothSNR, segment.MinSmooth, segment.MaxSmooth))
 	fs.StringVar(&s.Contour, "contour", d.Contour, "superpixel graph: on = affinities also fall across edges and thin boundary lines between nodes (intervening contour), off = intensity and distance only")
 	fs.StringVar(&s.Grain, "grain", d.Grain, "machined surfaces: on = a directional texture (grinding or milling marks) is measured along its dominant orientation and subtracted before the graph is built, so grain lines are not taken for defects; off = features as they are")
 	fs.StringVar(&s.Method, "method", d.Method, "bisect (recursive two-way cuts) or kway (k-way spectral clustering)")
@@ -134,7 +135,7 @@ func applyParams(fs *pflag.FlagSet, path string, data []byte) error {
 // ("auto" or a value).
 func numericString(name string) bool {
 	switch name {
-	case "sigma-i", "sigma-x", "superpixels":
+	case "sigma-i", "sigma-x", "superpixels", "smooth":
 		return true
 	}
 	return false

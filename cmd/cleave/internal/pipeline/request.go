@@ -32,6 +32,7 @@ type Request struct {
 	Radius        int     `json:"radius"`
 	SigmaI        string  `json:"sigma-i"`
 	SigmaX        string  `json:"sigma-x"`
+	Smooth        string  `json:"smooth"`
 	Contour       string  `json:"contour"`
 	Grain         string  `json:"grain"`
 	Method        string  `json:"method"`

@@ -80,6 +80,9 @@ func (r Request) Options(workers int) (*Options, error) {
 	if p.SigmaX, p.AutoSigmaX, err = ParseAuto("sigma-x", r.SigmaX); err != nil {
 		return nil, err
 	}
+	if p.Smooth, p.AutoSmooth, err = ParseAuto("smooth", r.Smooth); err != nil {
+		return nil, err
+	}
 	sp, auto, err := ParseAuto("superpixels", r.Superpixels)
 	if err != nil {
 		return nil, err
@@ -195,14 +198,14 @@ func ParseBytes(name, v string) (int64, error) {
 // DefaultRequest is the request that asks for nothing: segment's default
 // parameters (segment.DefaultParams), 100 megapixels at most, percentile
 // normalization, gray features, every channel, one plane, automatic
-// superpixels and kernel widths, intervening contours on, grain off,
+// superpixels, kernel widths and smoothing, intervening contours on, grain off,
 // necks on, segment's memory bound and PNG label maps. A command's flags
 // take their defaults from it.
 func DefaultRequest() Request {
 	p := segment.DefaultParams()
 	return Request{MaxMegapixels: imageio.DefaultMaxMegapixels, Normalize: string(imageio.NormalizePercentile), FlattenMode: string(imageio.FlattenDivide),
 		Features: string(imageio.SpaceGray), Channel: "-1", Planes: PlanesOne, Superpixels: "auto", Compactness: p.Compactness,
-		Radius: p.Radius, SigmaI: "auto", SigmaX: "auto", Contour: "on", Grain: "off", Method: string(p.Method),
+		Radius: p.Radius, SigmaI: "auto", SigmaX: "auto", Smooth: "auto", Contour: "on", Grain: "off", Method: string(p.Method),
 		MaxSegments: p.MaxSegments, MaxNcut: p.MaxNcut, MinArea: p.MinArea, Necks: "on", MaxMemory: FormatBytes(p.MaxMemory),
 		LabelsFormat: imageio.LabelsPNG, Seed: p.Seed}
 }

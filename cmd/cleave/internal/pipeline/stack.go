@@ -273,6 +273,7 @@ func usedParams(r Request, p segment.Params) map[string]any {
 	m := r.Map()
 	m["sigma-i"] = p.SigmaI
 	m["sigma-x"] = p.SigmaX
+	m["smooth"] = p.Smooth
 	m["superpixels"] = p.Superpixels
 	if p.Grain {
 		m["grain-angle"] = p.GrainModel.Angle * 180 / math.Pi
