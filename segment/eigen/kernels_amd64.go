@@ -63,3 +63,12 @@ func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 
 //go:noescape
 func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+// csrRows1 is the single column of the compressed-row product
+// (stencil_amd64.s): for rows rows from the pointers, y = x - s·(a0 + a1)
+// with a0 the sum of wt[p]·t[col[p]·stride] over the row's even entries p
+// (counted from the row's first) and a1 over its odd ones, each in order:
+// oneColumn's operations, bit for bit.
+//
+//go:noescape
+func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)

@@ -46,3 +46,7 @@ func csrRows5(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
+
+func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}

@@ -313,8 +313,9 @@ func columnGroup(rest int) int {
 }
 
 // mulRowsAVX is mulRows with the kernels of stencil_amd64.s, the columns
-// grouped as mulRows groups them (6, 5, 3 and 2 columns in the kernels,
-// the single column in Go), so the result is mulRows' bit for bit.
+// grouped as mulRows groups them (6, 5, 3, 2 and 1 columns; the single
+// column's kernel keeps oneColumn's even and odd sums), so the result is
+// mulRows' bit for bit.
 func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 	m := x.m
 	rows := r1 - r0
@@ -337,11 +338,7 @@ func (lv *level) mulRowsAVX(y, x, tmp *block, r0, r1 int) {
 			kern(csrRows2, c0)
 			c0 += 2
 		default:
-			for i := r0; i < r1; i++ {
-				cols := lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]]
-				wts := lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
-				y.v[i*m+c0] = x.v[i*m+c0] - lv.s[i]*oneColumn(cols, wts[:len(cols)], tmp.v, m, c0)
-			}
+			kern(csrRows1, c0)
 			c0++
 		}
 	}

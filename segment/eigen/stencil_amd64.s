@@ -653,3 +653,72 @@ cfin3:
 cdone3:
 	VZEROUPPER
 	RET
+
+// The compressed-row product's single column (see oneColumn): for each
+// row, the even and odd entries are summed in the two lanes of X0 (lane
+// 0 the sum a0 over entries 0, 2, 4, ..., lane 1 a1 over 1, 3, 5, ...,
+// each a multiply then an add per entry, as the Go loop does), an odd
+// last entry goes to lane 0, and y = x - s·(a0 + a1).
+//
+// func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+TEXT ·csrRows1(SB), NOSPLIT, $0-72
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R9
+	MOVQ s+32(FP), R10
+	MOVQ x+40(FP), R11
+	MOVQ y+48(FP), DX
+	MOVQ stride+56(FP), R12
+	SHLQ $3, R12
+	MOVQ rows+64(FP), R13
+
+row1:
+	TESTQ R13, R13
+	JEQ  done1
+	MOVQ (DI), BX
+	MOVQ 8(DI), CX
+	VXORPD X0, X0, X0
+	LEAQ -1(CX), R15 // pairs while BX < CX-1
+
+pairs1:
+	CMPQ BX, R15
+	JGE  tail1
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	MOVLQSX 4(R8)(BX*4), R14
+	IMULQ R12, R14
+	VMOVSD (SI)(AX*1), X3
+	VMOVHPD (SI)(R14*1), X3, X3
+	VCVTPS2PD (R9)(BX*4), X2
+	VMULPD X3, X2, X4
+	VADDPD X4, X0, X0
+	ADDQ $2, BX
+	JMP  pairs1
+
+tail1:
+	CMPQ BX, CX
+	JGE  fin1
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ R12, AX
+	VMOVSS (R9)(BX*4), X2
+	VCVTSS2SD X2, X2, X2
+	VMULSD (SI)(AX*1), X2, X4
+	VADDSD X4, X0, X0
+
+fin1:
+	VUNPCKHPD X0, X0, X1
+	VADDSD X1, X0, X0
+	VMULSD (R10), X0, X0
+	VMOVSD (R11), X7
+	VSUBSD X0, X7, X7
+	VMOVSD X7, (DX)
+	ADDQ $8, DI
+	ADDQ $8, R10
+	ADDQ R12, R11
+	ADDQ R12, DX
+	DECQ R13
+	JMP  row1
+
+done1:
+	RET
