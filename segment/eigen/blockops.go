@@ -15,8 +15,9 @@ import (
 type ops struct {
 	lv      *level
 	workers int
-	part    []float64 // scratch for per-chunk partial sums
-	pool    *pool     // block storage shared by all levels of one solve
+	part    []float64   // scratch for per-chunk partial sums
+	pool    *pool       // block storage shared by all levels of one solve
+	sums    [][]float64 // combineMulti's running sums, one a goroutine
 }
 
 // get returns an n×m block whose contents are undefined; every caller
@@ -441,24 +442,50 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 			off += mt
 		}
 		segs := nonEmpty(in)
-		parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
-			row := make([]float64, mc)
-			for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-				// Input by input, the sums carried in row: the same
-				// additions as over the inputs' row side by side. Each
-				// input row is read before any output row is written.
-				var ini *float64
-				for _, sg := range segs {
-					m := sg.b.m
-					combineRow(&row[0], mc, &sg.b.v[i*m], m, &cc[sg.off*mc], 0, ini)
-					ini = &row[0]
-				}
-				off := 0
-				for _, out := range outs {
-					copy(out.v[i*out.m:(i+1)*out.m], row[off:off+out.m])
-					off += out.m
-				}
+		// Each goroutine carries the sums of a chunk's rows in a
+		// scratch of rows x mc (held by o between calls): input by
+		// input over all the chunk's rows (combineRows, one call an
+		// input), then the outputs written, so every input row is
+		// still read before that row of any output is written.
+		nc := o.lv.nchunks()
+		rowsMax := 0
+		for ch := 0; ch < nc; ch++ {
+			rowsMax = max(rowsMax, o.lv.chunks[ch+1]-o.lv.chunks[ch])
+		}
+		ng := parallel.Goroutines(nc, o.workers)
+		for len(o.sums) < ng {
+			o.sums = append(o.sums, nil)
+		}
+		for g := 0; g < ng; g++ {
+			if cap(o.sums[g]) < rowsMax*mc {
+				o.sums[g] = make([]float64, rowsMax*mc)
 			}
+		}
+		_ = parallel.ForErr(nc, o.workers, func(g, ch int) error {
+			r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
+			if r1 <= r0 {
+				return nil
+			}
+			sums := o.sums[g][:(r1-r0)*mc]
+			var ini *float64
+			for _, sg := range segs {
+				m := sg.b.m
+				combineRows(&sums[0], mc, &sg.b.v[r0*m], m, m, &cc[sg.off*mc], 0, ini, r1-r0)
+				ini = &sums[0]
+			}
+			off := 0
+			for _, out := range outs {
+				mo := out.m
+				dst := out.v[r0*mo : r1*mo]
+				for i := 0; i < r1-r0; i++ {
+					d, src := dst[i*mo:i*mo+mo], sums[i*mc+off:i*mc+off+mo]
+					for q, v := range src {
+						d[q] = v
+					}
+				}
+				off += mo
+			}
+			return nil
 		})
 		return
 	}

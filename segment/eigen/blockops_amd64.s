@@ -382,3 +382,283 @@ w1n:
 done:
 	VZEROUPPER
 	RET
+
+// combineRows is combineRow on rows consecutive rows: for r = 0..rows-1
+// it does combineRow(dst + r·mc, mc, s + r·sstride, ns, c, sub, ini + r·mc)
+// (ini nil for every row when it is nil), the sums of every row in
+// combineRow's order, so the results are its bit for bit without a call
+// a row.
+//
+// func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)
+TEXT ·combineRows(SB), NOSPLIT, $0-72
+	MOVQ dst+0(FP), DI
+	MOVQ mc+8(FP), R8
+	MOVQ s+16(FP), SI
+	MOVQ ns+24(FP), R9
+	MOVQ sstride+32(FP), R14
+	SHLQ $3, R14
+	MOVQ c+40(FP), DX
+	MOVQ sub+48(FP), R10
+	MOVQ ini+56(FP), R12
+	MOVQ rows+64(FP), R13
+	MOVQ R8, R11
+	SHLQ $3, R11
+
+rowr:
+	TESTQ R13, R13
+	JEQ  finr
+	XORQ CX, CX
+w12r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $12
+	JLT  w8r
+	TESTQ R12, R12
+	JNE  w12ir
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	JMP  w12zr
+w12ir:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), Y1
+	VMOVUPD 64(R12)(CX*8), Y2
+w12zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w12lr:
+	CMPQ BX, R9
+	JGE  w12fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), Y8, Y11
+	VADDPD Y11, Y1, Y1
+	VMULPD 64(AX), Y8, Y12
+	VADDPD Y12, Y2, Y2
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w12lr
+w12fr:
+	TESTQ R10, R10
+	JNE  w12sr
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	VMOVUPD Y2, 64(DI)(CX*8)
+	JMP  w12nr
+w12sr:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y5
+	VSUBPD Y1, Y5, Y5
+	VMOVUPD Y5, 32(DI)(CX*8)
+	VMOVUPD 64(DI)(CX*8), Y6
+	VSUBPD Y2, Y6, Y6
+	VMOVUPD Y6, 64(DI)(CX*8)
+w12nr:
+	ADDQ $12, CX
+	JMP  w12r
+w8r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $8
+	JLT  w6r
+	TESTQ R12, R12
+	JNE  w8ir
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	JMP  w8zr
+w8ir:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), Y1
+w8zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w8lr:
+	CMPQ BX, R9
+	JGE  w8fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), Y8, Y11
+	VADDPD Y11, Y1, Y1
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w8lr
+w8fr:
+	TESTQ R10, R10
+	JNE  w8sr
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	JMP  w8nr
+w8sr:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y5
+	VSUBPD Y1, Y5, Y5
+	VMOVUPD Y5, 32(DI)(CX*8)
+w8nr:
+	ADDQ $8, CX
+	JMP  w8r
+w6r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $6
+	JLT  w4r
+	TESTQ R12, R12
+	JNE  w6ir
+	VXORPD Y0, Y0, Y0
+	VXORPD X1, X1, X1
+	JMP  w6zr
+w6ir:
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 32(R12)(CX*8), X1
+w6zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w6lr:
+	CMPQ BX, R9
+	JGE  w6fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD 32(AX), X8, X11
+	VADDPD X11, X1, X1
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w6lr
+w6fr:
+	TESTQ R10, R10
+	JNE  w6sr
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD X1, 32(DI)(CX*8)
+	JMP  w6nr
+w6sr:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+	VMOVUPD 32(DI)(CX*8), X5
+	VSUBPD X1, X5, X5
+	VMOVUPD X5, 32(DI)(CX*8)
+w6nr:
+	ADDQ $6, CX
+	JMP  w6r
+w4r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $4
+	JLT  w2r
+	TESTQ R12, R12
+	JNE  w4ir
+	VXORPD Y0, Y0, Y0
+	JMP  w4zr
+w4ir:
+	VMOVUPD 0(R12)(CX*8), Y0
+w4zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w4lr:
+	CMPQ BX, R9
+	JGE  w4fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), Y8, Y10
+	VADDPD Y10, Y0, Y0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w4lr
+w4fr:
+	TESTQ R10, R10
+	JNE  w4sr
+	VMOVUPD Y0, 0(DI)(CX*8)
+	JMP  w4nr
+w4sr:
+	VMOVUPD 0(DI)(CX*8), Y4
+	VSUBPD Y0, Y4, Y4
+	VMOVUPD Y4, 0(DI)(CX*8)
+w4nr:
+	ADDQ $4, CX
+	JMP  w4r
+w2r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $2
+	JLT  w1r
+	TESTQ R12, R12
+	JNE  w2ir
+	VXORPD X0, X0, X0
+	JMP  w2zr
+w2ir:
+	VMOVUPD 0(R12)(CX*8), X0
+w2zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w2lr:
+	CMPQ BX, R9
+	JGE  w2fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULPD 0(AX), X8, X10
+	VADDPD X10, X0, X0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w2lr
+w2fr:
+	TESTQ R10, R10
+	JNE  w2sr
+	VMOVUPD X0, 0(DI)(CX*8)
+	JMP  w2nr
+w2sr:
+	VMOVUPD 0(DI)(CX*8), X4
+	VSUBPD X0, X4, X4
+	VMOVUPD X4, 0(DI)(CX*8)
+w2nr:
+	ADDQ $2, CX
+	JMP  w2r
+w1r:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $1
+	JLT  doner
+	TESTQ R12, R12
+	JNE  w1ir
+	VXORPD X0, X0, X0
+	JMP  w1zr
+w1ir:
+	VMOVSD 0(R12)(CX*8), X0
+w1zr:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+w1lr:
+	CMPQ BX, R9
+	JGE  w1fr
+	VBROADCASTSD (SI)(BX*8), Y8
+	VMULSD 0(AX), X8, X10
+	VADDSD X10, X0, X0
+	ADDQ R11, AX
+	INCQ BX
+	JMP  w1lr
+w1fr:
+	TESTQ R10, R10
+	JNE  w1sr
+	VMOVSD X0, 0(DI)(CX*8)
+	JMP  w1nr
+w1sr:
+	VMOVSD 0(DI)(CX*8), X4
+	VSUBSD X0, X4, X4
+	VMOVSD X4, 0(DI)(CX*8)
+w1nr:
+	ADDQ $1, CX
+	JMP  w1r
+doner:
+	ADDQ R11, DI
+	ADDQ R14, SI
+	TESTQ R12, R12
+	JEQ  nextr
+	ADDQ R11, R12
+nextr:
+	DECQ R13
+	JMP  rowr
+finr:
+	VZEROUPPER
+	RET

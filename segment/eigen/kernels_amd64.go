@@ -72,3 +72,10 @@ func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 //
 //go:noescape
 func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+// combineRows is combineRow on rows consecutive rows (blockops_amd64.s):
+// row r takes dst and ini (when not nil) advanced by r·mc values and s
+// by r·sstride, each row's sums in combineRow's order.
+//
+//go:noescape
+func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)

@@ -50,3 +50,7 @@ func csrRows3(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
+
+func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}

@@ -313,7 +313,8 @@ func applyAVXMatchesGo(t *testing.T, lv *level) {
 // the coins pixel graph (409 rows and fewer, so every chunk ends with
 // rows outside the groups of four), for blocks of widths 1 to 13 taken
 // one and several at a time (one of them empty), with zeros and signed
-// zeros among the values.
+// zeros among the values; combineMulti also in place (its first output
+// the first input), as LOBPCG calls it.
 func TestBlockKernelsAVXMatchGo(t *testing.T) {
 	if !useAVX {
 		t.Skip("no AVX kernels on this machine or build: the block operations run in Go alone")
@@ -393,6 +394,24 @@ func TestBlockKernelsAVXMatchGo(t *testing.T) {
 				return all
 			})
 			same("combineMulti "+name+fmt.Sprint(mcs), a, b)
+		}
+		if w := ws[0]; w > 0 && len(ws) > 1 {
+			// In place, as LOBPCG calls it: the first output is the
+			// first input of several (each input row must be read
+			// before that row of an output is written; the Go loop
+			// reads a single input's rows where they lie, so LOBPCG
+			// never combines one input in place).
+			cs := [][]float64{coef(ns, w), coef(ns, 2)}
+			a, b := both(func() []float64 {
+				var cl []*block
+				for _, bl := range in {
+					cl = append(cl, &block{n: bl.n, m: bl.m, v: append([]float64(nil), bl.v...)})
+				}
+				outs := []*block{cl[0], newBlock(lv.n, 2)}
+				o.combineMulti(outs, cl, cs)
+				return append(append([]float64(nil), outs[0].v...), outs[1].v...)
+			})
+			same("combineMulti in place "+name, a, b)
 		}
 		for _, ma := range []int{1, 4, 6, 7} {
 			c := coef(ns, ma)
