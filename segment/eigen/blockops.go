@@ -17,7 +17,7 @@ type ops struct {
 	workers int
 	part    []float64   // scratch for per-chunk partial sums
 	pool    *pool       // block storage shared by all levels of one solve
-	sums    [][]float64 // combineMulti's running sums, one a goroutine
+	sums    [][]float64 // running sums of combineMulti and subMul, one a goroutine (rowSums)
 }
 
 // get returns an n×m block whose contents are undefined; every caller
@@ -153,24 +153,24 @@ func (o *ops) subMul(a *block, bs []*block, c []float64) {
 	}
 	if useAVX && ma > 0 && nb > 0 {
 		segs := nonEmpty(bs)
-		parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
-			acc := make([]float64, ma)
-			for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-				// Input by input, the sums carried in acc: the same
-				// additions as over the inputs' row side by side.
-				var ini *float64
-				for t, sg := range segs {
-					m := sg.b.m
-					row := &sg.b.v[i*m]
-					if t == len(segs)-1 {
-						combineRow(&a.v[i*ma], ma, row, m, &c[sg.off*ma], 1, ini)
-						break
-					}
-					combineRow(&acc[0], ma, row, m, &c[sg.off*ma], 0, ini)
-					ini = &acc[0]
+		// Input by input over a chunk's rows (combineRows), the sums
+		// carried in a scratch of rows x ma (o.rowSums) and the last
+		// input's subtracted from a: the same additions, row by row,
+		// as over the inputs' rows side by side.
+		nc := o.lv.nchunks()
+		_ = parallel.ForErr(nc, o.workers, o.rowSums(ma, func(g, ch int, sums []float64) {
+			r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
+			var ini *float64
+			for t, sg := range segs {
+				m := sg.b.m
+				if t == len(segs)-1 {
+					combineRows(&a.v[r0*ma], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 1, ini, r1-r0)
+					break
 				}
+				combineRows(&sums[0], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 0, ini, r1-r0)
+				ini = &sums[0]
 			}
-		})
+		}))
 		return
 	}
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
@@ -194,6 +194,35 @@ type segment struct {
 }
 
 // nonEmpty lists the blocks of bs of nonzero width with their offsets.
+// rowSums returns the body of a parallel.ForErr over o's row chunks
+// that calls fn on every non-empty chunk with a scratch of the chunk's
+// rows x w values for the goroutine g running it (contents undefined).
+// The scratch is held by o between calls, so the block operations of a
+// solve allocate it once.
+func (o *ops) rowSums(w int, fn func(g, ch int, sums []float64)) func(g, ch int) error {
+	nc := o.lv.nchunks()
+	rowsMax := 0
+	for ch := 0; ch < nc; ch++ {
+		rowsMax = max(rowsMax, o.lv.chunks[ch+1]-o.lv.chunks[ch])
+	}
+	ng := parallel.Goroutines(nc, o.workers)
+	for len(o.sums) < ng {
+		o.sums = append(o.sums, nil)
+	}
+	for g := 0; g < ng; g++ {
+		if cap(o.sums[g]) < rowsMax*w {
+			o.sums[g] = make([]float64, rowsMax*w)
+		}
+	}
+	return func(g, ch int) error {
+		r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
+		if r1 > r0 {
+			fn(g, ch, o.sums[g][:(r1-r0)*w])
+		}
+		return nil
+	}
+}
+
 func nonEmpty(bs []*block) []segment {
 	var segs []segment
 	off := 0
@@ -429,7 +458,7 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 	}
 	if mc := width(outs); useAVX && ns > 0 && mc > 0 {
 		// All outputs at once in the AVX kernel, from the coefficient
-		// matrices side by side (ns × mc), through one row of scratch:
+		// matrices side by side (ns × mc), through a scratch of sums:
 		// each output entry is the same running sum as in dotRows, and
 		// no input row is gathered.
 		cc := make([]float64, ns*mc)
@@ -442,31 +471,14 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 			off += mt
 		}
 		segs := nonEmpty(in)
-		// Each goroutine carries the sums of a chunk's rows in a
-		// scratch of rows x mc (held by o between calls): input by
-		// input over all the chunk's rows (combineRows, one call an
-		// input), then the outputs written, so every input row is
-		// still read before that row of any output is written.
+		// The sums of a chunk's rows are carried in a scratch of rows
+		// x mc (o.rowSums), input by input over all the chunk's rows
+		// (combineRows, one call an input), then the outputs written,
+		// so every input row is still read before that row of any
+		// output is written.
 		nc := o.lv.nchunks()
-		rowsMax := 0
-		for ch := 0; ch < nc; ch++ {
-			rowsMax = max(rowsMax, o.lv.chunks[ch+1]-o.lv.chunks[ch])
-		}
-		ng := parallel.Goroutines(nc, o.workers)
-		for len(o.sums) < ng {
-			o.sums = append(o.sums, nil)
-		}
-		for g := 0; g < ng; g++ {
-			if cap(o.sums[g]) < rowsMax*mc {
-				o.sums[g] = make([]float64, rowsMax*mc)
-			}
-		}
-		_ = parallel.ForErr(nc, o.workers, func(g, ch int) error {
+		_ = parallel.ForErr(nc, o.workers, o.rowSums(mc, func(g, ch int, sums []float64) {
 			r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
-			if r1 <= r0 {
-				return nil
-			}
-			sums := o.sums[g][:(r1-r0)*mc]
 			var ini *float64
 			for _, sg := range segs {
 				m := sg.b.m
@@ -485,8 +497,7 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 				}
 				off += mo
 			}
-			return nil
-		})
+		}))
 		return
 	}
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {

@@ -38,15 +38,6 @@ func stencilRows2(t *float64, lm *int, k int, ws *float32, s *float64, x *float6
 //go:noescape
 func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, groups int)
 
-// combineRow is the AVX kernel of dotRows with the coefficients
-// untransposed (blockops_amd64.s): dst[q] = a_q + Σ_p s[p]·c[p·mc + q]
-// for q = 0..mc-1 (ns terms p, in order), subtracted from dst[q] instead
-// when sub is not 0; a_q = ini[q] when ini is not nil (the stored sums of
-// a call over the inputs before), else +0.
-//
-//go:noescape
-func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int, ini *float64)
-
 // csrRows6, csrRows5, csrRows3 and csrRows2 are the kernels of the compressed-row
 // product (level.mulRowsAVX; stencil_amd64.s): for rows rows from the
 // pointers, y[c] = x[c] - s·Σ_p wt[p]·t[col[p]·stride + c] over p =
@@ -73,9 +64,13 @@ func csrRows2(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 //go:noescape
 func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int)
 
-// combineRows is combineRow on rows consecutive rows (blockops_amd64.s):
-// row r takes dst and ini (when not nil) advanced by r·mc values and s
-// by r·sstride, each row's sums in combineRow's order.
+// combineRows is the AVX kernel of dotRows with the coefficients
+// untransposed, on consecutive rows (blockops_amd64.s): for rows rows r,
+// with dst and ini (when not nil) advanced by r·mc values and s by
+// r·sstride, dst[q] = a_q + Σ_p s[p]·c[p·mc + q] for q = 0..mc-1 (ns
+// terms p, in order), subtracted from dst[q] instead when sub is not 0;
+// a_q = ini[q] when ini is not nil (the stored sums of a call over the
+// inputs before), else +0.
 //
 //go:noescape
 func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)

@@ -19,10 +19,6 @@ func gramRows4(dst *float64, gs int, a *float64, ma int, b *float64, mb int, gro
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func combineRow(dst *float64, mc int, s *float64, ns int, c *float64, sub int, ini *float64) {
-	panic("eigen: no AVX kernel on this platform")
-}
-
 func csrRows6(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *float64, y *float64, stride int, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
