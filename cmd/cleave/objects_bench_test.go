@@ -16,7 +16,8 @@ import (
 // python3-skimage) on which the object stages took the largest share of
 // the time before their work per object was capped (segment/refine.go,
 // refineWork and the constants beside it), with the background each was
-// segmented against.
+// segmented against; the last two were among the largest shares after
+// it (the speed issue's list of 3 December 2026).
 var photographs = []struct{ background, file string }{
 	{"bright", "brick.png"},
 	{"dark", "chessboard_GRAY.png"},
@@ -27,6 +28,8 @@ var photographs = []struct{ background, file string }{
 	{"bright", "astronaut.png"},
 	{"bright", "logo.png"},
 	{"bright", "camera.png"},
+	{"dark", "chessboard_RGB.png"},
+	{"dark", "microaneurysms.png"},
 }
 
 // BenchmarkObjectsPhotographs is the whole command, `segment --classes 2
