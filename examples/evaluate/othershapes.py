@@ -344,18 +344,23 @@ def defocus(rng, n=512):
     light = 1 + 0.25 * np.sin(xx / n * 2.3 + 0.5) * np.cos(yy / n * 1.6)
     return noise(img * light + 0.06, rng, 200, 0.02), truth
 
+def domed(rng, n, target, share, arange, aspect, tries_max, over_max, lo, dome):
+    """Domed cells placed by ellipse (its arguments): each at a level
+    drawn from [lo, 1) falling by dome toward its rim, blurred 1.2 px.
+    Returns the image and the truth."""
+    truth = np.zeros((n, n), np.int32)
+    img = np.zeros((n, n))
+    for lab, box, m, q in ellipse(rng, truth, [], target, share, arange, aspect, tries_max, over_max):
+        img[box][m] = rng.uniform(lo, 1.0) * (1 - dome * q[m])
+    return filters.gaussian(img, 1.2), truth
+
 def jpeg(rng, n=512):
     """Domed nuclei (radius 6-16 px, aspect up to 1.5, a third touching an
     earlier one), blur 1.2 px, uneven light, saved as an 8-bit JPEG at
     quality 60-80 (the .jpg beside the .truth.png), as a microscope's
     snapshot or a web image."""
-    truth = np.zeros((n, n), np.int32)
-    img = np.zeros((n, n))
-    cells = []
-    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 60), 0.33,
-                                  lambda r: r.uniform(6, 16), lambda r: r.uniform(1, 1.5), 4000, 0.05):
-        img[box][m] = rng.uniform(0.35, 1.0) * (1 - 0.35 * q[m])
-    img = filters.gaussian(img, 1.2)
+    img, truth = domed(rng, n, rng.integers(30, 60), 0.33, lambda r: r.uniform(6, 16),
+                       lambda r: r.uniform(1, 1.5), 4000, 0.05, 0.35, 0.35)
     yy, xx = np.mgrid[0:n, 0:n]
     light = 1 + 0.3 * np.cos(xx / n * 1.8 + 0.3) * np.sin(yy / n * 2.2 + 0.6)
     return noise(img * light + 0.06, rng, 300, 0.015), truth
@@ -365,13 +370,8 @@ def elongated(rng, n=512):
     random orientations, packed (60 % placed beside an earlier one, up to
     8 % overlap, the later cell losing it), each with its own brightness
     and a domed profile, blur 1.2 px, uneven light."""
-    truth = np.zeros((n, n), np.int32)
-    img = np.zeros((n, n))
-    cells = []
-    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(40, 80), 0.6,
-                                  lambda r: r.uniform(12, 26), lambda r: r.uniform(2, 4), 6000, 0.08):
-        img[box][m] = rng.uniform(0.4, 1.0) * (1 - 0.3 * q[m])
-    img = filters.gaussian(img, 1.2)
+    img, truth = domed(rng, n, rng.integers(40, 80), 0.6, lambda r: r.uniform(12, 26),
+                       lambda r: r.uniform(2, 4), 6000, 0.08, 0.4, 0.3)
     yy, xx = np.mgrid[0:n, 0:n]
     light = 1 + 0.25 * np.sin(xx / n * 2.6 + 0.2) * np.cos(yy / n * 1.9 + 0.4)
     return noise(img * light + 0.06, rng, 200, 0.02), truth
