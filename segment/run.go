@@ -431,7 +431,8 @@ func (c *Cache) cut(key Params, t float64, grow func(at float64) (*cutResult, er
 }
 
 // superpixels returns the superpixels of the input for (count,
-// compactness, grain removed or not), computing them with compute once.
+// compactness, grain removed or not, smoothing), computing them with
+// compute once.
 func (c *Cache) superpixels(count int, compactness float64, grain bool, smooth float64, compute func() (*slicEntry, error)) (*slicEntry, error) {
 	key := [4]float64{float64(count), compactness, 0, smooth}
 	if grain {
