@@ -459,11 +459,13 @@ func (c *Cache) superpixels(count int, compactness float64, grain bool, smooth f
 // estimated once per Cache and grain setting: in is the input after grain
 // removal when grain is set), and whether the count followed it.
 func autoCount(in Input, grain bool, workers int) (count int, est *affinity.ScaleEstimate, used bool) {
-	if !countNeedsScale(in.Width * in.Height) {
-		return autoCountWith(in.Width*in.Height, nil)
+	npix := in.Width * in.Height
+	if countNeedsScale(npix) {
+		e := objectScaleOf(in, grain, workers)
+		est = &e
 	}
-	e := objectScaleOf(in, grain, workers)
-	return autoCountWith(in.Width*in.Height, &e)
+	count, used = autoCountWith(npix, est)
+	return count, est, used
 }
 
 // countNeedsScale reports whether the automatic node count of an image
@@ -473,16 +475,15 @@ func countNeedsScale(npix int) bool {
 }
 
 // autoCountWith is autoCount with the object scale already estimated
-// (est; nil when countNeedsScale is false).
-func autoCountWith(npix int, est *affinity.ScaleEstimate) (count int, _ *affinity.ScaleEstimate, used bool) {
+// (est; read only when countNeedsScale holds).
+func autoCountWith(npix int, est *affinity.ScaleEstimate) (count int, used bool) {
 	switch {
 	case npix <= PixelGraphMaxPixels:
-		return 0, nil, false
+		return 0, false
 	case !countNeedsScale(npix):
-		return max(npix/PixelsPerSuperpixel, MinAutoSuperpixels), nil, false
+		return max(npix/PixelsPerSuperpixel, MinAutoSuperpixels), false
 	}
-	count, used = autoSuperpixels(npix, *est)
-	return count, est, used
+	return autoSuperpixels(npix, *est)
 }
 
 // objectScaleOf estimates the object scale of the input's luminance
@@ -575,11 +576,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 
 	// Graph.
 	if p.Superpixels < 0 {
-		est := res.ObjectScale
-		if !countNeedsScale(npix) {
-			est = nil
-		}
-		p.Superpixels, _, res.ObjectScaleUsed = autoCountWith(npix, est)
+		p.Superpixels, res.ObjectScaleUsed = autoCountWith(npix, res.ObjectScale)
 	}
 	if p.Superpixels >= npix {
 		p.Superpixels = 0
