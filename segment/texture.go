@@ -41,6 +41,17 @@ const (
 	// textureMinPixels is the least number of deep pixels fineTexture
 	// needs: several per pixel of the Gaussian's width.
 	textureMinPixels = 24
+	// textureMaxLow is the largest share of an object's deep pixels
+	// below its half-maximum level for its spread to count as texture.
+	// Grain on one body leaves the body above half its plateau almost
+	// everywhere (othershapes.py chromatin, choice seeds 1320-1323: at
+	// most 0.15 of the deep pixels, median 0.01); where a quarter or
+	// more fall below it, background or gaps between bodies show
+	// through (scikit-image's chessboard_GRAY.png, `--background
+	// bright`: an object of dark squares joined at their corners
+	// around light ones, 0.50), and the steps between them are no
+	// texture. Our choice between the two.
+	textureMaxLow = 0.25
 )
 
 // fineTexture is the spread of an object's smoothed contrast at scales
@@ -58,9 +69,10 @@ const (
 // domes, light falling off across a field, so the residual is grain; the
 // deep pixels keep a blurred rim's curvature out. An object less than
 // 2ρ deep (D < 2ρ) is too small for grain at ρ to be told from its own
-// shape (a clump of specks of radius 3 px reads as grain), and an object
-// with fewer than textureMinPixels deep pixels or no positive plateau
-// gives 0.
+// shape (a clump of specks of radius 3 px reads as grain). An object
+// with fewer than textureMinPixels deep pixels, a share of at least
+// textureMaxLow of them below half its plateau (tightenLevel times it),
+// or no positive plateau gives 0.
 func fineTexture(smooth []float32, nodes []int, dist []float64, cw, ch int, plateau float64) float64 {
 	if !(plateau > 0) {
 		return 0
@@ -73,13 +85,16 @@ func fineTexture(smooth []float32, nodes []int, dist []float64, cw, ch int, plat
 		return 0
 	}
 	inner := math.Max(3, depth/3)
-	var deep int
+	var deep, low int
 	for _, c := range nodes {
 		if dist[c] >= inner {
 			deep++
+			if float64(smooth[c]) < tightenLevel*plateau {
+				low++
+			}
 		}
 	}
-	if deep < textureMinPixels {
+	if deep < textureMinPixels || float64(low) >= textureMaxLow*float64(deep) {
 		return 0
 	}
 	f := make([]float32, cw*ch)

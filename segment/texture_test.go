@@ -16,7 +16,10 @@ import (
 // A·cos(2πx/6) on a flat disc take the values ±A, ±A/2 on integer x,
 // so the residual's median absolute deviation is A/2 after the
 // Gaussian of 3 px has taken out all but exp(-2π²·9/36) = 0.7 % of them
-// (the Gaussian's transfer function): 1.4826·0.993·A/2 = 0.736·A.
+// (the Gaussian's transfer function): 1.4826·0.993·A/2 = 0.736·A. A
+// disc 5 px deep is too small to tell grain from shape, and a
+// checkerboard of squares at the plateau and at 0 has half its inside
+// below the half maximum (textureMaxLow): both read 0.
 func TestFineTexture(t *testing.T) {
 	const cw, ch, cx, cy, r = 64, 64, 32.0, 32.0, 20.0
 	tests := []struct {
@@ -30,6 +33,8 @@ func TestFineTexture(t *testing.T) {
 		{"dome", r, func(x, y float64) float64 { return 1 - 0.5*((x-cx)*(x-cx)+(y-cy)*(y-cy))/(r*r) }, 0, 0.01},
 		{"stripes of period 6 px, A = 0.3", r, func(x, y float64) float64 { return 1 + 0.3*math.Cos(2*math.Pi*x/6) }, 0.736 * 0.3, 0.015},
 		{"stripes on a disc 5 px deep (too small)", 5, func(x, y float64) float64 { return 1 + 0.3*math.Cos(2*math.Pi*x/6) }, 0, 0},
+		// half the inside at 0: bodies with gaps between them, no grain
+		{"squares of 8 px, 1 and 0", r, func(x, y float64) float64 { return float64((int(x)/8 + int(y)/8) % 2) }, 0, 0},
 	}
 	for _, tc := range tests {
 		smooth := make([]float32, cw*ch)
