@@ -28,14 +28,10 @@ type regionStats struct {
 
 func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 	st := regionStats{area: make([]float64, n), mean: make([][]float64, len(planes))}
-	for _, r := range reg {
-		st.area[r]++
-	}
+	countLabels(reg, st.area)
 	for c, pl := range planes {
 		s := make([]float64, n)
-		for i, r := range reg {
-			s[r] += float64(pl[i])
-		}
+		sumLabels(reg, pl, s, nil)
 		for r := range s {
 			if st.area[r] > 0 {
 				s[r] /= st.area[r]
@@ -111,9 +107,7 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 		}
 		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
 		sum := make([]float64, n)
-		for i, r := range reg {
-			sum[r] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
-		}
+		sumRatioLabels(reg, lum, field, sum)
 		for r := range score {
 			if st.area[r] > 0 {
 				score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
@@ -145,9 +139,7 @@ func initialScores(score []float64, lum []float32, regions labelmap.Map, area []
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	b0 := meshBackground(lum, w, h, meshCell(radius, w, h), workers)
 	sum := make([]float64, len(score))
-	for i, r := range reg {
-		sum[r] += float64(lum[i]) / math.Max(float64(b0[i]), fieldFloor)
-	}
+	sumRatioLabels(reg, lum, b0, sum)
 	for r := range score {
 		if area[r] > 0 {
 			score[r] = math.Log(math.Max(sum[r]/area[r], scoreFloor))
@@ -216,8 +208,8 @@ func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg 
 	st := statsOf([][]float32{lum}, reg, n)
 	sum := make([]float64, n)
 	ref := make([]bool, len(reg))
+	sumRatioLabels(reg, lum, field, sum)
 	for i, r := range reg {
-		sum[r] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
 		ref[i] = cls[r] == bg
 	}
 	score := make([]float64, n)

@@ -56,10 +56,7 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 	reg, w, h := regions.Pix, regions.Width, regions.Height
 	regC := make([]float64, n)
 	regA := make([]float64, n)
-	for i, r := range reg {
-		regC[r] += con[i]
-		regA[r]++
-	}
+	sumLabels(reg, con, regC, regA)
 	for r := range regC {
 		if regA[r] > 0 {
 			regC[r] /= regA[r]
@@ -1044,10 +1041,7 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 	}
 	mean := make([]float64, n+1)
 	cnt := make([]float64, n+1)
-	for i, l := range labels {
-		mean[l] += con[i]
-		cnt[l]++
-	}
+	sumLabels(labels, con, mean, cnt)
 	for l := range mean {
 		if cnt[l] > 0 {
 			mean[l] /= cnt[l]

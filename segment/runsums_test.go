@@ -1,0 +1,151 @@
+package segment
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// runLabels returns a label map of n pixels in runs of random length
+// (1 to maxRun) over labels 0..k-1, as a region map has them.
+func runLabels(rng *rand.Rand, n, k, maxRun int) []int32 {
+	out := make([]int32, 0, n)
+	for len(out) < n {
+		l := int32(rng.IntN(k))
+		for range min(1+rng.IntN(maxRun), n-len(out)) {
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+// sameBits reports whether a and b hold the same float64 bit patterns,
+// any NaN matching any NaN.
+func sameBits(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if math.IsNaN(a[i]) && math.IsNaN(b[i]) {
+			continue
+		}
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			return false
+		}
+	}
+	return true
+}
+
+// TestRunSumsMatchPixelLoop checks the run-wise sums against the
+// pixel-by-pixel loops they replace, bit for bit: random label maps
+// with runs of 1 to 40 pixels, values of mixed magnitude (so that the
+// order of the additions shows in the rounding), fields with values
+// below the floor, zeros, NaN and infinities.
+func TestRunSumsMatchPixelLoop(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15030, 1))
+	for _, tc := range []struct{ n, k, maxRun int }{{1, 1, 1}, {17, 3, 1}, {1000, 7, 40}, {50000, 300, 25}} {
+		labels := runLabels(rng, tc.n, tc.k, tc.maxRun)
+		lum := make([]float32, tc.n)
+		field := make([]float32, tc.n)
+		con := make([]float64, tc.n)
+		for i := range lum {
+			lum[i] = float32(rng.Float64() * math.Pow(10, float64(rng.IntN(7)-3)))
+			con[i] = rng.NormFloat64() * math.Pow(10, float64(rng.IntN(9)-4))
+			switch rng.IntN(12) {
+			case 2, 3:
+				if rng.IntN(2000) == 0 { // rare: one poisons its label's sum
+					field[i] = float32(math.NaN())
+					if rng.IntN(2) == 0 {
+						field[i] = float32(math.Inf(1 - 2*rng.IntN(2)))
+					}
+					break
+				}
+				field[i] = 1
+			case 0:
+				field[i] = 0
+			case 1:
+				field[i] = float32(rng.Float64() * fieldFloor)
+			default:
+				field[i] = float32(rng.Float64() * 3)
+			}
+		}
+		// The former loops.
+		wantArea := make([]float64, tc.k)
+		wantLum := make([]float64, tc.k)
+		wantCon := make([]float64, tc.k)
+		wantRatio := make([]float64, tc.k)
+		for i, l := range labels {
+			wantArea[l]++
+			wantLum[l] += float64(lum[i])
+			wantCon[l] += con[i]
+		}
+		pixelRatioSums(labels, lum, field, wantRatio)
+		area := make([]float64, tc.k)
+		countLabels(labels, area)
+		sumLum := make([]float64, tc.k)
+		sumLabels(labels, lum, sumLum, nil)
+		sumCon, area2 := make([]float64, tc.k), make([]float64, tc.k)
+		sumLabels(labels, con, sumCon, area2)
+		ratio := make([]float64, tc.k)
+		sumRatioLabels(labels, lum, field, ratio)
+		for _, c := range []struct {
+			name      string
+			got, want []float64
+		}{{"countLabels", area, wantArea}, {"sumLabels float32", sumLum, wantLum}, {"sumLabels float64", sumCon, wantCon},
+			{"sumLabels area", area2, wantArea}, {"sumRatioLabels", ratio, wantRatio}} {
+			if !sameBits(c.got, c.want) {
+				t.Errorf("n=%d k=%d: %s differs from the pixel loop:\n got  %v\n want %v", tc.n, tc.k, c.name, c.got, c.want)
+			}
+		}
+	}
+}
+
+// TestFloorFieldIsMax checks floorField against math.Max(f, fieldFloor)
+// on the values where the two could part: NaN, infinities, signed zeros,
+// the floor itself and its neighbours.
+func TestFloorFieldIsMax(t *testing.T) {
+	for _, f := range []float64{math.NaN(), math.Inf(1), math.Inf(-1), 0, math.Copysign(0, -1), fieldFloor,
+		math.Nextafter(fieldFloor, 0), math.Nextafter(fieldFloor, 1), -1, 1e-300, 7} {
+		got, want := floorField(f), math.Max(f, fieldFloor)
+		if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Errorf("floorField(%v) = %v, math.Max gives %v", f, got, want)
+		}
+	}
+}
+
+// pixelRatioSums is the loop sumRatioLabels replaced, pixel by pixel.
+func pixelRatioSums(labels []int32, lum, field []float32, sum []float64) {
+	for i, l := range labels {
+		sum[l] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
+	}
+}
+
+// BenchmarkRegionSums is one pass of the class stage's region sums of
+// I/B (sumRatioLabels; groupClasses makes one a round) on a map of
+// 12 x 12 pixel regions (runs of 12 pixels, about those of superpixels
+// of 130-150 px) at 4 and 16 megapixels: "runs" the run-wise sums,
+// "pixels" the former pixel-by-pixel loop, which gives the same sums.
+func BenchmarkRegionSums(b *testing.B) {
+	for _, n := range []int{2048, 4096} {
+		lum, mask := benchField(n, n)
+		field := smoothField(lum, mask, n, n, float64(n)/fieldScale, 0)
+		per := (n + 11) / 12
+		labels := make([]int32, n*n)
+		for i := range labels {
+			labels[i] = int32((i/n/12)*per + i%n/12)
+		}
+		sum := make([]float64, per*per)
+		for _, c := range []struct {
+			name string
+			fn   func([]int32, []float32, []float32, []float64)
+		}{{"runs", sumRatioLabels}, {"pixels", pixelRatioSums}} {
+			b.Run(fmt.Sprintf("%s/%dx%d", c.name, n, n), func(b *testing.B) {
+				for b.Loop() {
+					clear(sum)
+					c.fn(labels, lum, field, sum)
+				}
+			})
+		}
+	}
+}
