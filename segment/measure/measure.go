@@ -226,16 +226,7 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 				}
 			}
 			for c, p := range planes {
-				s := &a.stats[c]
-				for _, f := range p[i0 : i0+e-x] {
-					v := float64(f)
-					if math.IsNaN(v) || math.IsInf(v, 0) {
-						continue
-					}
-					s.Count++
-					s.Sum += v
-					s.Min, s.Max = math.Min(s.Min, v), math.Max(s.Max, v)
-				}
+				a.stats[c].addRun(p[i0 : i0+e-x])
 			}
 			if n := len(a.runs); n > 0 && a.runs[n-1].y == int32(y) {
 				a.runs[n-1].b = int32(e - 1)
@@ -274,7 +265,7 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 				a.syy.add(dy * dy)
 				a.sxy.add(dx * dy)
 				for c, p := range planes {
-					if v := float64(p[y*w+x]); !math.IsNaN(v) && !math.IsInf(v, 0) {
+					if v := float64(p[y*w+x]); finite(v) {
 						d := v - a.stats[c].Mean
 						a.dev[c] += d * d
 					}
@@ -324,4 +315,43 @@ func Regions(m labelmap.Map, planes [][]float32, classes []int32) ([]Region, err
 		out = append(out, a.finish())
 	}
 	return out, nil
+}
+
+// addRun adds the finite values of vals, in order, to the count, sum,
+// least and largest value of s. They are carried in locals through the
+// run and stored once at its end: the same operations in the same order
+// as adding them to s one by one, so the same bits.
+func (s *Stats) addRun(vals []float32) {
+	count, sum, lo, hi := s.Count, s.Sum, s.Min, s.Max
+	for _, f := range vals {
+		v := float64(f)
+		if !finite(v) {
+			continue
+		}
+		count++
+		sum += v
+		lo, hi = minNumber(lo, v), maxNumber(hi, v)
+	}
+	s.Count, s.Sum, s.Min, s.Max = count, sum, lo, hi
+}
+
+// finite reports whether v is neither NaN nor infinite.
+func finite(v float64) bool { return math.Abs(v) <= math.MaxFloat64 }
+
+// minNumber is math.Min(a, b) for a and b not NaN, without the call:
+// the lesser, and -0 for a pair of zeros of either sign.
+func minNumber(a, b float64) float64 {
+	if b < a || b == a && math.Signbit(b) {
+		return b
+	}
+	return a
+}
+
+// maxNumber is math.Max(a, b) for a and b not NaN, without the call:
+// the greater, and +0 for a pair of zeros of either sign.
+func maxNumber(a, b float64) float64 {
+	if b > a || b == a && !math.Signbit(b) {
+		return b
+	}
+	return a
 }
