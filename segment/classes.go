@@ -518,9 +518,7 @@ func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, backg
 	}
 	lab, n := componentsOfGroups(group, w, h, 0, workers)
 	size := make([]int, n+1)
-	for _, l := range lab {
-		size[l]++
-	}
+	countLabels(lab, size)
 	big := 0
 	for l := 1; l <= n; l++ {
 		big = max(big, size[l])

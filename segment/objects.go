@@ -979,9 +979,7 @@ func relabelInto(dst, labels []int32, n int, drop []bool) ([]int32, int) {
 func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	area := make([]int, n+1)
-	for _, l := range labels {
-		area[l]++
-	}
+	countLabels(labels, area)
 	target := make([]int32, n+1)
 	small := false
 	for l := 1; l <= n; l++ {

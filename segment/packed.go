@@ -231,9 +231,7 @@ func withoutFragments(labels []int32, n int) ([]int32, int) {
 		return labels, n
 	}
 	area := make([]int, n+1)
-	for _, l := range labels {
-		area[l]++
-	}
+	countLabels(labels, area)
 	median := medianArea(area)
 	drop := make([]bool, n+1)
 	found := false

@@ -45,12 +45,15 @@ func relabel(lab []int32, n int) int {
 		id[i] = -1
 	}
 	k := int32(0)
-	for i, l := range lab {
+	for i := 0; i < len(lab); {
+		j := runEnd(lab, i)
+		l := lab[i]
 		if id[l] < 0 {
 			id[l] = k
 			k++
 		}
-		lab[i] = id[l]
+		fillRun(lab[i:j], id[l])
+		i = j
 	}
 	return int(k)
 }
@@ -85,9 +88,7 @@ func mergeSmall(regions labelmap.Map, n, minArea int) int {
 		return relabel(lab, n)
 	}
 	area := make([]int, n)
-	for _, l := range lab {
-		area[l]++
-	}
+	countLabels(lab, area)
 	adj := make([]map[int32]int, n)
 	for i := range adj {
 		adj[i] = map[int32]int{}
@@ -147,8 +148,10 @@ func mergeSmall(regions labelmap.Map, n, minArea int) int {
 	}
 	// into links each merged region towards the one that took it in:
 	// a forest whose roots are the regions left.
-	for i, l := range lab {
-		lab[i] = unionfind.Forest(into).Find(l)
+	for i := 0; i < len(lab); {
+		j := runEnd(lab, i)
+		fillRun(lab[i:j], unionfind.Forest(into).Find(lab[i]))
+		i = j
 	}
 	return relabel(lab, n)
 }

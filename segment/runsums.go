@@ -24,10 +24,10 @@ func runEnd(labels []int32, i int) int {
 }
 
 // countLabels adds to area[l] the number of pixels of each label l.
-func countLabels(labels []int32, area []float64) {
+func countLabels[T int | float64](labels []int32, area []T) {
 	for i := 0; i < len(labels); {
 		j := runEnd(labels, i)
-		area[labels[i]] += float64(j - i)
+		area[labels[i]] += T(j - i)
 		i = j
 	}
 }
@@ -75,4 +75,12 @@ func floorField(f float64) float64 {
 		return fieldFloor
 	}
 	return f
+}
+
+// fillRun sets every label of run to l (a run of one label renumbered
+// at once: the same labels as renumbering it pixel by pixel).
+func fillRun(run []int32, l int32) {
+	for k := range run {
+		run[k] = l
+	}
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -83,6 +84,14 @@ func TestRunSumsMatchPixelLoop(t *testing.T) {
 		pixelRatioSums(labels, lum, field, wantRatio)
 		area := make([]float64, tc.k)
 		countLabels(labels, area)
+		counts, wantCounts := make([]int, tc.k), make([]int, tc.k)
+		countLabels(labels, counts)
+		for _, l := range labels {
+			wantCounts[l]++
+		}
+		if !slices.Equal(counts, wantCounts) {
+			t.Errorf("n=%d k=%d: countLabels on ints %v, want %v", tc.n, tc.k, counts, wantCounts)
+		}
 		sumLum := make([]float64, tc.k)
 		sumLabels(labels, lum, sumLum, nil)
 		sumCon, area2 := make([]float64, tc.k), make([]float64, tc.k)
@@ -146,6 +155,31 @@ func BenchmarkRegionSums(b *testing.B) {
 					c.fn(labels, lum, field, sum)
 				}
 			})
+		}
+	}
+}
+
+// TestRelabelRuns checks relabel, which renumbers run by run, against
+// renumbering pixel by pixel in raster order of first appearance.
+func TestRelabelRuns(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15031, 1))
+	for _, k := range []int{1, 5, 200} {
+		lab := runLabels(rng, 20000, k, 30)
+		want := slices.Clone(lab)
+		id := make([]int32, k)
+		for i := range id {
+			id[i] = -1
+		}
+		next := int32(0)
+		for i, l := range want {
+			if id[l] < 0 {
+				id[l] = next
+				next++
+			}
+			want[i] = id[l]
+		}
+		if n := relabel(lab, k); n != int(next) || !slices.Equal(lab, want) {
+			t.Errorf("k=%d: relabel gives %d labels, want %d; maps equal: %v", k, n, next, slices.Equal(lab, want))
 		}
 	}
 }
