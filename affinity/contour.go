@@ -286,43 +286,60 @@ func clampedTaps(kern []float64, line []float32, x, r int) float64 {
 	return s
 }
 
-// interveningContour returns, for every edge of adj (a region adjacency
-// graph in CSR order), the largest edge energy on the straight segment
-// between the two regions' centroids, sampled every half pixel: the
-// intervening-contour cue of Leung and Malik (1998, Contour continuity in
-// region based image segmentation, ECCV) on region centroids.
-func interveningContour(energy []float32, w, h int, r *Regions, adj *Graph) []float32 {
+// InterveningContour returns, for every entry of adj (a region
+// adjacency graph in CSR order), the largest edge energy on the straight
+// segment between the two regions' centroids, sampled every half pixel:
+// the intervening-contour cue of Leung and Malik (1998, Contour
+// continuity in region based image segmentation, ECCV) on region
+// centroids. Both copies of an edge hold the same value. The rows are
+// shared among workers goroutines (below 1: GOMAXPROCS); every value is
+// computed alone, so the result is the same for any worker count. The
+// superpixel path computes it once for AutoSigmaContour's width and
+// RegionGraph's weights (RegionParams.ContourIC).
+func InterveningContour(energy []float32, w, h int, r *Regions, adj *Graph, workers int) []float32 {
 	ic := make([]float32, len(adj.Col))
-	for i := 0; i < adj.N; i++ {
-		for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
-			j := int(adj.Col[q])
-			if j < i {
-				continue // filled from the other copy below
-			}
-			ax, ay, bx, by := r.CX[i], r.CY[i], r.CX[j], r.CY[j]
-			steps := int(math.Ceil(2*math.Hypot(bx-ax, by-ay))) + 1
-			var m float32
-			for s := 0; s <= steps; s++ {
-				t := float64(s) / float64(steps)
-				x := min(max(roundIndex(ax+t*(bx-ax)), 0), w-1)
-				y := min(max(roundIndex(ay+t*(by-ay)), 0), h-1)
-				m = max(m, energy[y*w+x])
-			}
-			ic[q] = m
-		}
-	}
-	// Mirror to the lower-triangle copies (rows are sorted).
-	for i := 0; i < adj.N; i++ {
-		for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
-			j := int(adj.Col[q])
-			if j < i {
-				row := adj.Col[adj.RowPtr[j]:adj.RowPtr[j+1]]
-				k, _ := slices.BinarySearch(row, int32(i))
-				ic[q] = ic[adj.RowPtr[j]+k]
+	parallel.Blocks(adj.N, contourRows, workers, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
+				if j := int(adj.Col[q]); j >= i {
+					ic[q] = segmentMax(energy, w, h, r.CX[i], r.CY[i], r.CX[j], r.CY[j])
+				}
 			}
 		}
-	}
+	})
+	// Mirror to the lower-triangle copies (rows are sorted), once every
+	// upper one is set.
+	parallel.Blocks(adj.N, contourRows, workers, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
+				if j := int(adj.Col[q]); j < i {
+					row := adj.Col[adj.RowPtr[j]:adj.RowPtr[j+1]]
+					k, _ := slices.BinarySearch(row, int32(i))
+					ic[q] = ic[adj.RowPtr[j]+k]
+				}
+			}
+		}
+	})
 	return ic
+}
+
+// contourRows is the number of adjacency rows (regions) in one parallel
+// block of InterveningContour: a few thousand segments.
+const contourRows = 512
+
+// segmentMax is the largest energy on the segment from (ax, ay) to
+// (bx, by), sampled every half pixel at the nearest pixel (clamped to
+// the image).
+func segmentMax(energy []float32, w, h int, ax, ay, bx, by float64) float32 {
+	steps := int(math.Ceil(2*math.Hypot(bx-ax, by-ay))) + 1
+	var m float32
+	for s := 0; s <= steps; s++ {
+		t := float64(s) / float64(steps)
+		x := min(max(roundIndex(ax+t*(bx-ax)), 0), w-1)
+		y := min(max(roundIndex(ay+t*(by-ay)), 0), h-1)
+		m = max(m, energy[y*w+x])
+	}
+	return m
 }
 
 // roundIndex is int(math.Round(v)) (half away from zero) without its
@@ -348,9 +365,14 @@ func roundIndex(v float64) int {
 // that energy is then cut apart (factor exp(-4) at twice σ_C). It returns
 // a positive value (at least 1e-3) for any input.
 func AutoSigmaContour(energy []float32, w, h int, r *Regions, adj *Graph) float64 {
-	ic := interveningContour(energy, w, h, r, adj)
+	return SigmaContourOf(InterveningContour(energy, w, h, r, adj, 1))
+}
+
+// SigmaContourOf is AutoSigmaContour from the intervening contour ic of
+// the adjacency's entries (InterveningContour), which it leaves as it is.
+func SigmaContourOf(ic []float32) float64 {
 	if len(ic) == 0 {
 		return minSigmaI
 	}
-	return max(2*float64(lowerMedian(ic)), minSigmaI)
+	return max(2*float64(lowerMedian(slices.Clone(ic))), minSigmaI)
 }

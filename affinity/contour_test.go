@@ -3,6 +3,7 @@ package affinity
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
@@ -222,5 +223,76 @@ func TestRoundIndexMatchesRound(t *testing.T) {
 		if got, want := roundIndex(v), int(math.Round(v)); got != want {
 			t.Fatalf("roundIndex(%v) = %d, math.Round gives %d", v, got, want)
 		}
+	}
+}
+
+// TestInterveningContourOnce checks the intervening contour computed once
+// for the superpixel path: InterveningContour gives the same values on
+// 1, 2 and 7 workers, with both copies of every edge equal and each the
+// largest energy on the centroids' segment (segmentMax); SigmaContourOf
+// leaves its input as it is and gives AutoSigmaContour's width; and
+// RegionGraph with the values handed in (RegionParams.ContourIC) gives
+// the weights it computes without them, bit for bit. On SLIC superpixels
+// of a noisy image of discs (more than one parallel block of rows).
+func TestInterveningContourOnce(t *testing.T) {
+	const w, h = 256, 192
+	rng := rand.New(rand.NewPCG(15032, 1))
+	f := make([]float32, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			v := 0.2 + 0.05*rng.NormFloat64()
+			if dx, dy := x%40-20, y%40-20; dx*dx+dy*dy < 150 {
+				v += 0.5
+			}
+			f[y*w+x] = float32(v)
+		}
+	}
+	sp, n, err := SLIC([][]float32{f}, w, h, SLICParams{Count: 1500, Compactness: 20}, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := Summarize([][]float32{f}, sp, n)
+	adj := Adjacency(sp, n, 2)
+	if adj.N <= contourRows {
+		t.Fatalf("%d regions: the test needs more than one block of %d", adj.N, contourRows)
+	}
+	e := EdgeEnergy(f, w, h, ContourScale, 2)
+	ic := InterveningContour(e, w, h, r, adj, 1)
+	for _, workers := range []int{2, 7} {
+		if got := InterveningContour(e, w, h, r, adj, workers); !slices.Equal(got, ic) {
+			t.Errorf("%d workers: values differ from one worker's", workers)
+		}
+	}
+	for i := 0; i < adj.N; i++ {
+		for q := adj.RowPtr[i]; q < adj.RowPtr[i+1]; q++ {
+			a, b := i, int(adj.Col[q])
+			if b < a {
+				a, b = b, a // the upper copy's segment, from the lower index
+			}
+			if want := segmentMax(e, w, h, r.CX[a], r.CY[a], r.CX[b], r.CY[b]); ic[q] != want {
+				t.Fatalf("edge %d-%d: %v, segment maximum %v", i, adj.Col[q], ic[q], want)
+			}
+		}
+	}
+	kept := slices.Clone(ic)
+	sc := SigmaContourOf(ic)
+	if !slices.Equal(ic, kept) {
+		t.Error("SigmaContourOf changed its input")
+	}
+	if want := AutoSigmaContour(e, w, h, r, adj); sc != want {
+		t.Errorf("SigmaContourOf %v, AutoSigmaContour %v", sc, want)
+	}
+	p := RegionParams{SigmaI: 0.2, SigmaX: 20, Contour: e, SigmaC: sc}
+	plain, err := RegionGraph(r, adj, w, h, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.ContourIC = ic
+	handed, err := RegionGraph(r, adj, w, h, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(plain.RowPtr, handed.RowPtr) || !slices.Equal(plain.Col, handed.Col) || !slices.Equal(plain.Weight, handed.Weight) {
+		t.Error("RegionGraph with ContourIC differs from RegionGraph computing it")
 	}
 }

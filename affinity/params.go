@@ -84,6 +84,11 @@ type RegionParams struct {
 	// factor exp(-IC²/SigmaC²) of each weight (see RegionGraph).
 	Contour []float32
 	SigmaC  float64
+	// ContourIC, when it has one value per entry of the adjacency
+	// graph, is InterveningContour of Contour over it, computed once by
+	// a caller that also took SigmaC from it (SigmaContourOf); otherwise
+	// RegionGraph computes it.
+	ContourIC []float32
 }
 
 // Validate reports the first parameter outside its domain: both sigmas

@@ -170,7 +170,10 @@ func RegionGraph(r *Regions, adj *Graph, w, h int, p RegionParams) (*Graph, erro
 	}
 	var ic []float32
 	if p.Contour != nil {
-		ic = interveningContour(p.Contour, w, h, r, adj)
+		ic = p.ContourIC
+		if len(ic) != len(adj.Col) {
+			ic = InterveningContour(p.Contour, w, h, r, adj, 1)
+		}
 	}
 	invC2 := 1 / (p.SigmaC * p.SigmaC)
 	g := &Graph{N: adj.N, RowPtr: adj.RowPtr, Col: adj.Col, Weight: make([]float32, len(adj.Weight))}

@@ -656,7 +656,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		if p.Contour {
 			energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			rp.Contour = energy
-			p.SigmaC = affinity.AutoSigmaContour(rp.Contour, w, h, sum, adj)
+			// The intervening contour of every edge, once for σ_C and
+			// the weights (affinity.AutoSigmaContour's width).
+			rp.ContourIC = affinity.InterveningContour(energy, w, h, sum, adj, p.Workers)
+			p.SigmaC = affinity.SigmaContourOf(rp.ContourIC)
 			rp.SigmaC = p.SigmaC
 		}
 		g, err = affinity.RegionGraph(sum, adj, w, h, rp)
