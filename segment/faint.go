@@ -55,11 +55,12 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 	bsum := make([]float64, nsp)
 	cnt := make([]float64, nsp)
 	inBg := make([]bool, nsp)
-	for i, k := range nodeOf {
-		sum[k] += float64(lum[i])
-		bsum[k] += float64(field[i])
-		cnt[k]++
-		inBg[k] = cls[reg[i]] == bg
+	sumLabels(nodeOf, lum, sum, cnt)
+	sumLabels(nodeOf, field, bsum, nil)
+	for i := 0; i < len(nodeOf); {
+		j := runEnd(nodeOf, i)
+		inBg[nodeOf[i]] = cls[reg[j-1]] == bg // the run's last pixel, as the pixel loop left it
+		i = j
 	}
 	score := make([]float64, nsp)
 	var bgScores []float64

@@ -69,18 +69,23 @@ func ringObjects(lum []float32, t *edgeTest, regions labelmap.Map, cls []int32, 
 		x0[r], y0[r], x1[r], y1[r] = w, h, -1, -1
 	}
 	touches := make([]bool, n)
+	// Row by row in runs of one region: a run widens its region's box
+	// once, and its pixels are tested for an object neighbour only
+	// while the region is a background one not yet known to touch one.
 	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			i := y*w + x
-			r := reg[i]
-			x0[r], y0[r] = min(x0[r], x), min(y0[r], y)
-			x1[r], y1[r] = max(x1[r], x), max(y1[r], y)
-			if cls[r] != bg || touches[r] {
-				continue
+		row := reg[y*w : (y+1)*w]
+		for xa := 0; xa < w; {
+			xb := runEnd(row, xa)
+			r := row[xa]
+			x0[r], y0[r] = min(x0[r], xa), min(y0[r], y)
+			x1[r], y1[r] = max(x1[r], xb-1), max(y1[r], y)
+			for x := xa; x < xb && cls[r] == bg && !touches[r]; x++ {
+				i := y*w + x
+				if (x > 0 && cls[reg[i-1]] != bg) || (x+1 < w && cls[reg[i+1]] != bg) || (y > 0 && cls[reg[i-w]] != bg) || (y+1 < h && cls[reg[i+w]] != bg) {
+					touches[r] = true
+				}
 			}
-			if (x > 0 && cls[reg[i-1]] != bg) || (x+1 < w && cls[reg[i+1]] != bg) || (y > 0 && cls[reg[i-w]] != bg) || (y+1 < h && cls[reg[i+w]] != bg) {
-				touches[r] = true
-			}
+			xa = xb
 		}
 	}
 	maxBox := ringMaxShare * float64(w*h)
