@@ -1,0 +1,130 @@
+package segment
+
+import (
+	"math"
+	"slices"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
+)
+
+// outshone returns drop[l] true for every object l (labels 1..n, 0
+// background) that does not stand out from its own surround: some
+// background pixel within tightenReach pixels (chessboard distance) of
+// it, and of no other object, has a smoothed contrast of the object's
+// sign at least the object's plateau. It returns nil when nothing is
+// dropped.
+//
+// The contrast is the signed s = I/B - 1 against the background field B
+// (kept above fieldFloor), smoothed by the 3x3 mean as tightenObjects
+// smooths it; an object's sign is that of its summed s, its plateau P
+// is halfMaxLevel of its smoothed values divided by tightenLevel (the
+// plateau its outline was drawn at half of). An object is a part of
+// the image that is stronger than what surrounds it (its outline is
+// where its contrast falls to half its plateau); a piece whose
+// neighbourhood holds background at its own plateau or above was left
+// by the class map, not by a fall of contrast. This is what a thin line
+// gives when its superpixels are classed by their mean: a superpixel
+// whose border runs along a dark grain boundary is dark enough to be
+// an object, the straddling ones around it are not, and the stretch is
+// taken for an object while the same line, as dark or darker, goes on
+// as background a pixel or two beyond its ends. The surround of an
+// object excludes pixels that are as near another object, whose rim
+// may be brighter than a dim neighbour's plateau.
+func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
+	if n == 0 {
+		return nil
+	}
+	labels, w, h := objects.Pix, objects.Width, objects.Height
+	s := make([]float32, len(lum))
+	parallel.Blocks(len(s), 1<<16, workers, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			s[i] = float32(float64(lum[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+		}
+	})
+	sm := make([]float32, len(s))
+	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(s, sm, w, h, y0, y1) })
+	lo, hi := labelRange(labels, w, h, tightenReach)
+	boxes, pixels := objectPixels(labels, w, h, n)
+	drop := make([]bool, n+1)
+	any := false
+	for l := 1; l <= n; l++ {
+		px := pixels[l]
+		if len(px) == 0 {
+			continue
+		}
+		var sum float64
+		for _, i := range px {
+			sum += float64(s[i])
+		}
+		sign := float32(1)
+		if sum < 0 {
+			sign = -1
+		}
+		vals := make([]float32, len(px))
+		for q, i := range px {
+			vals[q] = sign * sm[i]
+		}
+		slices.Sort(vals)
+		plateau := halfMaxLevel(vals) / tightenLevel
+		b := boxes[l]
+		count := 0
+		for y := max(b.y0-tightenReach, 0); y <= min(b.y1+tightenReach, h-1); y++ {
+			for x := max(b.x0-tightenReach, 0); x <= min(b.x1+tightenReach, w-1); x++ {
+				i := y*w + x
+				if labels[i] != 0 || lo[i] != int32(l) || hi[i] != int32(l) {
+					continue
+				}
+				if sign*sm[i] >= plateau {
+					count++
+				}
+			}
+		}
+		if count > 0 {
+			drop[l], any = true, true
+		}
+	}
+	if !any {
+		return nil
+	}
+	return drop
+}
+
+// labelRange returns, for every pixel, the smallest and the largest
+// object label (0 background ignored) within r pixels in chessboard
+// distance, 0 for both where there is none: a separable running minimum
+// and maximum over (2r+1)x(2r+1) windows (common practice for
+// rectangular structuring elements). A pixel near one object only has
+// lo = hi = its label.
+func labelRange(labels []int32, w, h, r int) (lo, hi []int32) {
+	const none = math.MaxInt32
+	tlo := make([]int32, len(labels))
+	thi := make([]int32, len(labels))
+	for y := 0; y < h; y++ {
+		row := labels[y*w : (y+1)*w]
+		for x := 0; x < w; x++ {
+			mn, mx := int32(none), int32(0)
+			for xx := max(x-r, 0); xx <= min(x+r, w-1); xx++ {
+				if v := row[xx]; v > 0 {
+					mn, mx = min(mn, v), max(mx, v)
+				}
+			}
+			tlo[y*w+x], thi[y*w+x] = mn, mx
+		}
+	}
+	lo = make([]int32, len(labels))
+	hi = make([]int32, len(labels))
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			mn, mx := int32(none), int32(0)
+			for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
+				mn, mx = min(mn, tlo[yy*w+x]), max(mx, thi[yy*w+x])
+			}
+			if mx == 0 {
+				mn = 0
+			}
+			lo[y*w+x], hi[y*w+x] = mn, mx
+		}
+	}
+	return lo, hi
+}

@@ -1,0 +1,154 @@
+package segment
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
+)
+
+// lineScene is a bright field (I = B = 1) crossed by a dark horizontal
+// line two pixels wide (rows 20 and 21) at I = 1 - line, with a dark disc
+// of radius 5 at I = 1 - disc centred on the line at x = 60, and a
+// bright square (I = 1.5) of 6 x 6 pixels above the line at x = 20..25,
+// rows 12..17. It returns the image, the field, and an object map in
+// which object 1 is the stretch x = 10..29 of the line (both rows), and
+// object 2 is the disc.
+func lineScene(line, disc float32) (lum, field []float32, obj labelmap.Map) {
+	const w, h = 90, 40
+	lum = make([]float32, w*h)
+	field = make([]float32, w*h)
+	obj = labelmap.New(w, h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			field[i] = 1
+			lum[i] = 1
+			if y == 20 || y == 21 {
+				lum[i] = 1 - line
+				if x >= 10 && x <= 29 {
+					obj.Pix[i] = 1
+				}
+			}
+			if y >= 12 && y <= 17 && x >= 20 && x <= 25 {
+				lum[i] = 1.5
+			}
+			if math.Hypot(float64(x)-60, float64(y)-20.5) <= 5 {
+				lum[i] = 1 - disc
+				obj.Pix[i] = 2
+			}
+		}
+	}
+	return lum, field, obj
+}
+
+// TestOutshoneLineStretch: worked by hand. On the line two pixels wide
+// at contrast c, every line pixel away from the ends and the disc has 6
+// line pixels in its 3x3 window, so its smoothed contrast is 6c/9 = 2c/3
+// whether it belongs to the stretch or not; halfMaxLevel of the stretch
+// (its 40 values, 32 of them at 2c/3 and the 8 at its ends, where the
+// window holds the line beyond too, at 2c/3 as well) is c/3, so its
+// plateau is 2c/3 and the line beyond its ends, background, reaches it:
+// the stretch is dropped. The disc (contrast 0.8 against the line's 0.3)
+// is kept: the line leaving it has a smoothed contrast of at most 0.2,
+// far below its plateau. The bright square beside the stretch has the
+// opposite sign and does not count.
+func TestOutshoneLineStretch(t *testing.T) {
+	lum, field, obj := lineScene(0.3, 0.8)
+	drop := outshone(lum, field, obj, 2, 1)
+	if drop == nil || !drop[1] {
+		t.Fatalf("the stretch of line was kept (drop %v)", drop)
+	}
+	if drop[2] {
+		t.Errorf("the disc on the line was dropped")
+	}
+}
+
+// TestOutshoneKeepsIsolated: with no line (c = 0) neither object has
+// background of its sign around it at its plateau, and nothing is
+// dropped (nil), also with noise of a twentieth of the disc's contrast
+// on every pixel: the 3x3 mean of the background's noise stays far below
+// the disc's plateau.
+func TestOutshoneKeepsIsolated(t *testing.T) {
+	lum, field, obj := lineScene(0, 0.8)
+	// The stretch has no contrast of its own here; give it one, a
+	// shallow dark bar, so that it is an object of its own.
+	for i, l := range obj.Pix {
+		if l == 1 {
+			lum[i] = 0.7
+		}
+	}
+	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+		t.Errorf("isolated objects dropped: %v", drop)
+	}
+	rng := rand.New(rand.NewPCG(1, 2))
+	for i := range lum {
+		lum[i] += float32(rng.NormFloat64() * 0.04)
+	}
+	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+		t.Errorf("isolated objects dropped under noise: %v", drop)
+	}
+}
+
+// TestOutshoneNeighbourRim: a dim object beside a bright one, the pixels
+// between them (background) brighter than the dim one's plateau but
+// within reach of both objects: they are the bright one's rim, not the
+// dim one's surround, and the dim object stays.
+func TestOutshoneNeighbourRim(t *testing.T) {
+	const w, h = 40, 20
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	obj := labelmap.New(w, h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			field[i], lum[i] = 1, 1
+			switch {
+			case y >= 5 && y < 15 && x >= 5 && x < 15: // bright object
+				lum[i], obj.Pix[i] = 3, 1
+			case y >= 5 && y < 15 && x >= 15 && x < 17: // its rim, background
+				lum[i] = 2
+			case y >= 5 && y < 15 && x >= 17 && x < 27: // dim object
+				lum[i], obj.Pix[i] = 1.4, 2
+			}
+		}
+	}
+	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+		t.Errorf("objects dropped beside a brighter rim: %v", drop)
+	}
+}
+
+// TestLabelRange against the definition, the least and greatest label
+// within chessboard distance r, by brute force on random sparse labels.
+func TestLabelRange(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	const w, h = 23, 17
+	labels := make([]int32, w*h)
+	for i := range labels {
+		if rng.IntN(9) == 0 {
+			labels[i] = int32(1 + rng.IntN(5))
+		}
+	}
+	for _, r := range []int{0, 1, 3} {
+		lo, hi := labelRange(labels, w, h, r)
+		for y := 0; y < h; y++ {
+			for x := 0; x < w; x++ {
+				var mn, mx int32 = math.MaxInt32, 0
+				for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
+					for xx := max(x-r, 0); xx <= min(x+r, w-1); xx++ {
+						if v := labels[yy*w+xx]; v > 0 {
+							mn, mx = min(mn, v), max(mx, v)
+						}
+					}
+				}
+				if mx == 0 {
+					mn = 0
+				}
+				if lo[y*w+x] != mn || hi[y*w+x] != mx {
+					t.Fatalf("r %d at (%d,%d): %d..%d, want %d..%d", r, x, y, lo[y*w+x], hi[y*w+x], mn, mx)
+				}
+			}
+		}
+	}
+}
