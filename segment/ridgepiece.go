@@ -10,27 +10,31 @@ import (
 
 // outshone returns drop[l] true for every object l (labels 1..n, 0
 // background) that does not stand out from its own surround: some
-// background pixel within tightenReach pixels (chessboard distance) of
-// it, and of no other object, has a smoothed contrast of the object's
-// sign at least the object's plateau. It returns nil when nothing is
-// dropped.
+// background pixel of its surround has a smoothed contrast of the
+// object's sign at least the object's plateau. It returns nil when
+// nothing is dropped.
 //
 // The contrast is the signed s = I/B - 1 against the background field B
 // (kept above fieldFloor), smoothed by the 3x3 mean as tightenObjects
 // smooths it; an object's sign is that of its summed s, its plateau P
 // is halfMaxLevel of its smoothed values divided by tightenLevel (the
-// plateau its outline was drawn at half of). An object is a part of
-// the image that is stronger than what surrounds it (its outline is
-// where its contrast falls to half its plateau); a piece whose
-// neighbourhood holds background at its own plateau or above was left
+// plateau its outline was drawn at half of). Its surround is the
+// background within tightenReach pixels of it (chessboard distance) but
+// not next to any object, and not within tightenReach of another
+// object: the pixels next to its outline hold its own blurred rim (a
+// bright rim around a dim interior, as hollow cells have, is above the
+// plateau there), and those near another object that object's rim,
+// which may be brighter than a dim neighbour's plateau.
+//
+// An object is a part of the image stronger than what surrounds it: its
+// outline is where its contrast falls to half its plateau. A piece
+// whose surround holds background at its plateau or above was bounded
 // by the class map, not by a fall of contrast. This is what a thin line
 // gives when its superpixels are classed by their mean: a superpixel
-// whose border runs along a dark grain boundary is dark enough to be
-// an object, the straddling ones around it are not, and the stretch is
+// whose border runs along a dark grain boundary is dark enough to be an
+// object, the straddling ones around it are not, and the stretch is
 // taken for an object while the same line, as dark or darker, goes on
-// as background a pixel or two beyond its ends. The surround of an
-// object excludes pixels that are as near another object, whose rim
-// may be brighter than a dim neighbour's plateau.
+// as background beyond its ends. (DEVELOPERS.md, "Measured choices".)
 func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
 	if n == 0 {
 		return nil
@@ -45,6 +49,7 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 	sm := make([]float32, len(s))
 	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(s, sm, w, h, y0, y1) })
 	lo, hi := labelRange(labels, w, h, tightenReach)
+	_, next := labelRange(labels, w, h, 1) // next[i] > 0: i is next to an object
 	boxes, pixels := objectPixels(labels, w, h, n)
 	drop := make([]bool, n+1)
 	any := false
@@ -72,7 +77,7 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 		for y := max(b.y0-tightenReach, 0); y <= min(b.y1+tightenReach, h-1); y++ {
 			for x := max(b.x0-tightenReach, 0); x <= min(b.x1+tightenReach, w-1); x++ {
 				i := y*w + x
-				if labels[i] != 0 || lo[i] != int32(l) || hi[i] != int32(l) {
+				if labels[i] != 0 || lo[i] != int32(l) || hi[i] != int32(l) || next[i] != 0 {
 					continue
 				}
 				if sign*sm[i] >= plateau {

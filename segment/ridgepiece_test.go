@@ -152,3 +152,38 @@ func TestLabelRange(t *testing.T) {
 		}
 	}
 }
+
+// TestOutshoneOwnRim: a hollow object of 20 x 20 pixels, a bright rim
+// one pixel wide (I = 3) around a dim interior of 18 x 18 (I = 1.3) on a
+// field of 1, with its blur outside: a ring one pixel wide at I = 1.8
+// next to its outline (background). By hand (checked with scipy's
+// uniform_filter): 256 of its 400 smoothed values, the interior beyond
+// the rim's reach, are 0.3, so its plateau is 0.3; the ring next to it
+// has smoothed contrasts of 0.49 to 0.93, above it; one pixel farther out
+// they are at most 3 x 0.8 / 9 = 0.27, below it. The ring is the
+// object's own rim, not its surround, and the object stays; a surround
+// that began next to the outline dropped it.
+func TestOutshoneOwnRim(t *testing.T) {
+	const w, h = 40, 40
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	obj := labelmap.New(w, h)
+	in := func(x, y, lo, hi int) bool { return x >= lo && x <= hi && y >= lo && y <= hi }
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			field[i], lum[i] = 1, 1
+			switch {
+			case in(x, y, 11, 28):
+				lum[i], obj.Pix[i] = 1.3, 1
+			case in(x, y, 10, 29):
+				lum[i], obj.Pix[i] = 3, 1
+			case in(x, y, 9, 30):
+				lum[i] = 1.8
+			}
+		}
+	}
+	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+		t.Errorf("a hollow object dropped for its own blurred rim")
+	}
+}
