@@ -50,12 +50,28 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(s, sm, w, h, y0, y1) })
 	lo, hi := labelRange(labels, w, h, tightenReach)
 	_, next := labelRange(labels, w, h, 1) // next[i] > 0: i is next to an object
+	// thick[l]: some pixel of l has a (2 thinReach+1)-square of l's
+	// pixels around it (the image border counting as l's).
+	lo2, hi2 := labelRange(labels, w, h, thinReach)
+	bg := make([]int32, len(labels))
+	for i, l := range labels {
+		if l == 0 {
+			bg[i] = 1
+		}
+	}
+	_, nearBg := labelRange(bg, w, h, thinReach)
+	thick := make([]bool, n+1)
+	for i, l := range labels {
+		if l > 0 && lo2[i] == l && hi2[i] == l && nearBg[i] == 0 {
+			thick[l] = true
+		}
+	}
 	boxes, pixels := objectPixels(labels, w, h, n)
 	drop := make([]bool, n+1)
 	any := false
 	for l := 1; l <= n; l++ {
 		px := pixels[l]
-		if len(px) == 0 {
+		if len(px) == 0 || thick[l] {
 			continue
 		}
 		var sum float64
@@ -94,6 +110,10 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 	}
 	return drop
 }
+
+// thinReach: objects with a pixel thinReach pixels (chessboard) from
+// the background are thick, and outshone leaves them alone.
+const thinReach = 2
 
 // labelRange returns, for every pixel, the smallest and the largest
 // object label (0 background ignored) within r pixels in chessboard
