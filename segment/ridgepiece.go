@@ -8,7 +8,8 @@ import (
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
-// outshone returns drop[l] true for every object l (labels 1..n, 0
+// outshone returns drop[l] true for every thin object l (labels 1..n, 0
+// background; no pixel of it thinReach pixels, chessboard, from the
 // background) that does not stand out from its own surround: some
 // background pixel of its surround has a smoothed contrast of the
 // object's sign at least the object's plateau. It returns nil when
@@ -34,7 +35,11 @@ import (
 // whose border runs along a dark grain boundary is dark enough to be an
 // object, the straddling ones around it are not, and the stretch is
 // taken for an object while the same line, as dark or darker, goes on
-// as background beyond its ends. (DEVELOPERS.md, "Measured choices".)
+// as background beyond its ends. Only thin objects are judged: a
+// thick one with background above its plateau beside it is mostly an
+// object whose outline left part of it out (a coin of scikit-image's
+// coins.png), which dropping would not mend. (DEVELOPERS.md, "Measured
+// choices".)
 func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
 	if n == 0 {
 		return nil

@@ -153,37 +153,72 @@ func TestLabelRange(t *testing.T) {
 	}
 }
 
-// TestOutshoneOwnRim: a hollow object of 20 x 20 pixels, a bright rim
-// one pixel wide (I = 3) around a dim interior of 18 x 18 (I = 1.3) on a
-// field of 1, with its blur outside: a ring one pixel wide at I = 1.8
-// next to its outline (background). By hand (checked with scipy's
-// uniform_filter): 256 of its 400 smoothed values, the interior beyond
-// the rim's reach, are 0.3, so its plateau is 0.3; the ring next to it
-// has smoothed contrasts of 0.49 to 0.93, above it; one pixel farther out
-// they are at most 3 x 0.8 / 9 = 0.27, below it. The ring is the
-// object's own rim, not its surround, and the object stays; a surround
-// that began next to the outline dropped it.
+// TestOutshoneOwnRim: a thin object, a bar of 4 x 20 pixels whose two
+// long edges are bright (I = 3) and whose middle two rows are dim (I =
+// 1.3), on a field of 1, with its blur outside: a ring one pixel wide at
+// I = 1.8 next to its outline (background). By hand (checked with
+// scipy's uniform_filter): its plateau (halfMaxLevel of its smoothed
+// contrasts over tightenLevel) is 0.87; along its long sides the ring's
+// smoothed contrast is (3 x 0.8 + 3 x 2) / 9 = 0.93, above it; one pixel
+// farther out at most 3 x 0.8 / 9 = 0.27. The ring is the object's own
+// rim, not its surround, and the object stays; a surround that began
+// next to the outline dropped it.
 func TestOutshoneOwnRim(t *testing.T) {
-	const w, h = 40, 40
+	const w, h = 40, 20
 	lum := make([]float32, w*h)
 	field := make([]float32, w*h)
 	obj := labelmap.New(w, h)
-	in := func(x, y, lo, hi int) bool { return x >= lo && x <= hi && y >= lo && y <= hi }
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
 			field[i], lum[i] = 1, 1
 			switch {
-			case in(x, y, 11, 28):
+			case x >= 10 && x <= 29 && (y == 9 || y == 10):
 				lum[i], obj.Pix[i] = 1.3, 1
-			case in(x, y, 10, 29):
+			case x >= 10 && x <= 29 && (y == 8 || y == 11):
 				lum[i], obj.Pix[i] = 3, 1
-			case in(x, y, 9, 30):
+			case x >= 9 && x <= 30 && y >= 7 && y <= 12:
 				lum[i] = 1.8
 			}
 		}
 	}
 	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
-		t.Errorf("a hollow object dropped for its own blurred rim")
+		t.Errorf("a thin object dropped for its own blurred rim")
+	}
+}
+
+// TestOutshoneThick: a disc of radius 8 (I = 1.5) beside a brighter
+// background patch (I = 2.5, 6 x 6 pixels two pixels from it): the
+// patch is above the disc's plateau, but the disc has pixels more than
+// thinReach from the background, so it is no stretch of a thin line (an
+// object whose outline left part of it as background, as a coin of
+// scikit-image's coins.png had) and stays. Without the disc's thickness
+// it would go (checked by a thin bar in the same place).
+func TestOutshoneThick(t *testing.T) {
+	const w, h = 40, 40
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	obj := labelmap.New(w, h)
+	bar := labelmap.New(w, h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			field[i], lum[i] = 1, 1
+			if math.Hypot(float64(x)-15, float64(y)-20) <= 8 {
+				lum[i], obj.Pix[i] = 1.5, 1
+				if y >= 19 && y <= 21 {
+					bar.Pix[i] = 1
+				}
+			}
+			if x >= 25 && x <= 30 && y >= 17 && y <= 22 {
+				lum[i] = 2.5
+			}
+		}
+	}
+	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+		t.Errorf("a thick object dropped")
+	}
+	if drop := outshone(lum, field, bar, 1, 1); drop == nil {
+		t.Errorf("a thin bar with a brighter patch beside it kept")
 	}
 }
