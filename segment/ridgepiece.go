@@ -11,9 +11,11 @@ import (
 // outshone returns drop[l] true for every thin object l (labels 1..n, 0
 // background; no pixel of it thinReach pixels, chessboard, from the
 // background) that does not stand out from its own surround: some
-// background pixel of its surround has a smoothed contrast of the
-// object's sign at least the object's plateau. It returns nil when
-// nothing is dropped.
+// background pixel of its surround, reached from the object through
+// background at or above its outline level (tightenLevel times its
+// plateau), has a smoothed contrast of the object's sign at least the
+// object's plateau: the structure goes on out of the object as strong
+// as in it. It returns nil when nothing is dropped.
 //
 // The contrast is the signed s = I/B - 1 against the background field B
 // (kept above fieldFloor), smoothed by the 3x3 mean as tightenObjects
@@ -35,7 +37,9 @@ import (
 // whose border runs along a dark grain boundary is dark enough to be an
 // object, the straddling ones around it are not, and the stretch is
 // taken for an object while the same line, as dark or darker, goes on
-// as background beyond its ends. Only thin objects are judged: a
+// as background beyond its ends. The path above the outline level
+// keeps apart what merely lies near: a letter of printed text beside
+// another letter, across paper, is not judged by it. Only thin objects are judged: a
 // thick one with background above its plateau beside it is mostly an
 // object whose outline left part of it out (a coin of scikit-image's
 // coins.png), which dropping would not mend. (DEVELOPERS.md, "Measured
@@ -93,18 +97,34 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 		}
 		slices.Sort(vals)
 		plateau := halfMaxLevel(vals) / tightenLevel
+		level := tightenLevel * plateau
 		b := boxes[l]
+		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
+		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
+		bw := x1 - x0 + 1
+		seen := make([]bool, bw*(y1-y0+1))
+		queue := append([]int(nil), px...)
+		for _, i := range px {
+			seen[(i/w-y0)*bw+i%w-x0] = true
+		}
 		count := 0
-		for y := max(b.y0-tightenReach, 0); y <= min(b.y1+tightenReach, h-1); y++ {
-			for x := max(b.x0-tightenReach, 0); x <= min(b.x1+tightenReach, w-1); x++ {
-				i := y*w + x
-				if labels[i] != 0 || lo[i] != int32(l) || hi[i] != int32(l) || next[i] != 0 {
-					continue
+		for len(queue) > 0 {
+			i := queue[len(queue)-1]
+			queue = queue[:len(queue)-1]
+			neighbours4(i, w, h, func(j int) {
+				x, y := j%w, j/w
+				if x < x0 || x > x1 || y < y0 || y > y1 || seen[(y-y0)*bw+x-x0] {
+					return
 				}
-				if sign*sm[i] >= plateau {
+				if labels[j] != 0 || lo[j] != int32(l) || hi[j] != int32(l) || sign*sm[j] < level {
+					return
+				}
+				seen[(y-y0)*bw+x-x0] = true
+				queue = append(queue, j)
+				if next[j] == 0 && sign*sm[j] >= plateau {
 					count++
 				}
-			}
+			})
 		}
 		if count > 0 {
 			drop[l], any = true, true
