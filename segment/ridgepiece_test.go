@@ -222,3 +222,41 @@ func TestOutshoneThick(t *testing.T) {
 		t.Errorf("a thin bar with a brighter patch beside it kept")
 	}
 }
+
+// TestOutshoneAcrossGap: two dark bars three pixels high on a bright
+// field, like strokes of two letters: the object (I = 0.4, contrast 0.6)
+// and, two pixels below it across paper a little brighter than the
+// field (I = 1.1), a darker bar left as background (I = 0). By hand
+// (checked with scipy's uniform_filter): the object's plateau is 0.4,
+// its outline level 0.2; the dark bar's row three pixels from the
+// object has a smoothed contrast of (-0.1 + 1 + 1)/3 = 0.63, above the
+// plateau, but the paper's row next to the object has (0.6 - 0.1 -
+// 0.1)/3 = 0.13, below the level, so the dark bar is not reached from
+// the object and the object stays; counting every pixel near it dropped
+// it.
+func TestOutshoneAcrossGap(t *testing.T) {
+	const w, h = 40, 30
+	lum := make([]float32, w*h)
+	field := make([]float32, w*h)
+	obj := labelmap.New(w, h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			field[i], lum[i] = 1, 1
+			if x < 10 || x >= 30 {
+				continue
+			}
+			switch {
+			case y >= 10 && y <= 12:
+				lum[i], obj.Pix[i] = 0.4, 1
+			case y >= 13 && y <= 14:
+				lum[i] = 1.1
+			case y >= 15 && y <= 17:
+				lum[i] = 0
+			}
+		}
+	}
+	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+		t.Errorf("a bar dropped for a darker one across a gap")
+	}
+}
