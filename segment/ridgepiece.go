@@ -39,11 +39,11 @@ import (
 // taken for an object while the same line, as dark or darker, goes on
 // as background beyond its ends. The path above the outline level
 // keeps apart what merely lies near: a letter of printed text beside
-// another letter, across paper, is not judged by it. Only thin objects are judged: a
-// thick one with background above its plateau beside it is mostly an
-// object whose outline left part of it out (a coin of scikit-image's
-// coins.png), which dropping would not mend. (DEVELOPERS.md, "Measured
-// choices".)
+// another letter, across paper, is not judged by it. Only thin objects
+// are judged: a thick one with background above its plateau beside it
+// is mostly an object whose outline left part of it out (a coin of
+// scikit-image's coins.png), which dropping would not mend.
+// (DEVELOPERS.md, "Measured choices".)
 func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
 	if n == 0 {
 		return nil
