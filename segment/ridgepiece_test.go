@@ -65,6 +65,26 @@ func TestOutshoneLineStretch(t *testing.T) {
 	}
 }
 
+// TestOutshoneFrame: the same stretch of line, moved to touch the left
+// edge of the frame (x = 0..19, the line going on beyond x = 19 as
+// before), is kept: an object cut by the frame is not judged.
+func TestOutshoneFrame(t *testing.T) {
+	lum, field, obj := lineScene(0.3, 0.8)
+	for i, l := range obj.Pix {
+		if l == 1 {
+			obj.Pix[i] = 0
+		}
+	}
+	for _, y := range []int{20, 21} {
+		for x := range 20 {
+			obj.Pix[y*obj.Width+x] = 1
+		}
+	}
+	if drop := outshone(lum, field, obj, 2, 1); drop != nil && drop[1] {
+		t.Errorf("the stretch cut by the frame was dropped")
+	}
+}
+
 // TestOutshoneKeepsIsolated: with no line (c = 0) neither object has
 // background of its sign around it at its plateau, and nothing is
 // dropped (nil), also with noise of a twentieth of the disc's contrast
