@@ -127,13 +127,7 @@ func TestRefineNoisyPairAndDisc(t *testing.T) {
 		}
 		return con
 	}
-	refine := func(con []float64, lab []int32) int {
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: lab, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return ref.n
-	}
+	refine := func(con []float64, lab []int32) int { return refinedCount(t, con, lab, w, h) }
 	singles, pairs := 0, 0
 	for d := range draws {
 		rng := rand.New(rand.NewPCG(13, uint64(d)))
@@ -171,6 +165,17 @@ func TestRefineNoisyPairAndDisc(t *testing.T) {
 	if pairs > 0 {
 		t.Errorf("the noisy pair did not come out as two in %d of %d draws, want none", pairs, draws)
 	}
+}
+
+// refinedCount is the number of objects refineObjects makes of the one
+// object lab == 1 with contrast con (w x h), at the default limits.
+func refinedCount(t *testing.T, con []float64, lab []int32, w, h int) int {
+	t.Helper()
+	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: lab, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return ref.n
 }
 
 // blurMasked blurs con by a Gaussian of 1 px (3 px each way, borders

@@ -8,6 +8,16 @@ import (
 	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
+// flatScene is a w x h field at I = B = 1 and an empty object map.
+func flatScene(w, h int) (lum, field []float32, obj labelmap.Map) {
+	lum = make([]float32, w*h)
+	field = make([]float32, w*h)
+	for i := range lum {
+		lum[i], field[i] = 1, 1
+	}
+	return lum, field, labelmap.New(w, h)
+}
+
 // lineScene is a bright field (I = B = 1) crossed by a dark horizontal
 // line two pixels wide (rows 20 and 21) at I = 1 - line, with a dark disc
 // of radius 5 at I = 1 - disc centred on the line at x = 60, and a
@@ -17,14 +27,10 @@ import (
 // object 2 is the disc.
 func lineScene(line, disc float32) (lum, field []float32, obj labelmap.Map) {
 	const w, h = 90, 40
-	lum = make([]float32, w*h)
-	field = make([]float32, w*h)
-	obj = labelmap.New(w, h)
+	lum, field, obj = flatScene(w, h)
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			field[i] = 1
-			lum[i] = 1
 			if y == 20 || y == 21 {
 				lum[i] = 1 - line
 				if x >= 10 && x <= 29 {
@@ -117,13 +123,10 @@ func TestOutshoneKeepsIsolated(t *testing.T) {
 // dim one's surround, and the dim object stays.
 func TestOutshoneNeighbourRim(t *testing.T) {
 	const w, h = 40, 20
-	lum := make([]float32, w*h)
-	field := make([]float32, w*h)
-	obj := labelmap.New(w, h)
+	lum, field, obj := flatScene(w, h)
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			field[i], lum[i] = 1, 1
 			switch {
 			case y >= 5 && y < 15 && x >= 5 && x < 15: // bright object
 				lum[i], obj.Pix[i] = 3, 1
@@ -185,13 +188,10 @@ func TestLabelRange(t *testing.T) {
 // next to the outline dropped it.
 func TestOutshoneOwnRim(t *testing.T) {
 	const w, h = 40, 20
-	lum := make([]float32, w*h)
-	field := make([]float32, w*h)
-	obj := labelmap.New(w, h)
+	lum, field, obj := flatScene(w, h)
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			field[i], lum[i] = 1, 1
 			switch {
 			case x >= 10 && x <= 29 && (y == 9 || y == 10):
 				lum[i], obj.Pix[i] = 1.3, 1
@@ -216,14 +216,11 @@ func TestOutshoneOwnRim(t *testing.T) {
 // it would go (checked by a thin bar in the same place).
 func TestOutshoneThick(t *testing.T) {
 	const w, h = 40, 40
-	lum := make([]float32, w*h)
-	field := make([]float32, w*h)
-	obj := labelmap.New(w, h)
+	lum, field, obj := flatScene(w, h)
 	bar := labelmap.New(w, h)
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			field[i], lum[i] = 1, 1
 			if math.Hypot(float64(x)-15, float64(y)-20) <= 8 {
 				lum[i], obj.Pix[i] = 1.5, 1
 				if y >= 19 && y <= 21 {
@@ -256,13 +253,10 @@ func TestOutshoneThick(t *testing.T) {
 // it.
 func TestOutshoneAcrossGap(t *testing.T) {
 	const w, h = 40, 30
-	lum := make([]float32, w*h)
-	field := make([]float32, w*h)
-	obj := labelmap.New(w, h)
+	lum, field, obj := flatScene(w, h)
 	for y := 0; y < h; y++ {
 		for x := 0; x < w; x++ {
 			i := y*w + x
-			field[i], lum[i] = 1, 1
 			if x < 10 || x >= 30 {
 				continue
 			}

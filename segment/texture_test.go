@@ -1,12 +1,9 @@
 package segment
 
 import (
-	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
-
-	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // TestFineTexture checks fineTexture on closed forms. A flat disc and a
@@ -67,13 +64,7 @@ func TestFineTexture(t *testing.T) {
 // pair came out wrong in 5.
 func TestRefineTexturedDisc(t *testing.T) {
 	const w, h, draws = 72, 72, 20
-	refine := func(con []float64, lab []int32) int {
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: lab, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return ref.n
-	}
+	refine := func(con []float64, lab []int32) int { return refinedCount(t, con, lab, w, h) }
 	make1 := func(rng *rand.Rand, inside func(x, y float64) bool) ([]float64, []int32) {
 		grain := smoothNoise(rng, w, h, 1.2)
 		con := make([]float64, w*h)
