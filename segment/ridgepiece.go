@@ -5,7 +5,6 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
-	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // outshone returns drop[l] true for every thin object l (labels 1..n, 0
@@ -48,48 +47,64 @@ import (
 // whole (scikit-image's astronaut.png, `--classes 2 --background dark`:
 // four of the flag's stars cut by the left edge were dropped).
 // (DEVELOPERS.md, "Measured choices".)
-func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
+func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 	if n == 0 {
 		return nil
 	}
 	labels, w, h := objects.Pix, objects.Width, objects.Height
-	s := make([]float32, len(lum))
-	parallel.Blocks(len(s), 1<<16, workers, func(_, lo, hi int) {
-		for i := lo; i < hi; i++ {
-			s[i] = float32(float64(lum[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+	// The signed contrast and its 3x3 mean (as boxMean3Rows takes it) are
+	// computed only at the pixels looked at: the thin objects and their
+	// surrounds are a small part of the frame.
+	contrast := func(i int) float32 {
+		return float32(float64(lum[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+	}
+	smoothed := func(i int) float32 {
+		x, y := i%w, i/w
+		var s float32
+		var c int
+		for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
+			for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
+				s += contrast(yy*w + xx)
+				c++
+			}
 		}
-	})
-	sm := make([]float32, len(s))
-	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(s, sm, w, h, y0, y1) })
-	lo, hi := labelRange(labels, w, h, tightenReach)
-	_, next := labelRange(labels, w, h, 1) // next[i] > 0: i is next to an object
-	// thick[l]: some pixel of l has a (2 thinReach+1)-square of l's
-	// pixels around it (the image border counting as l's).
-	lo2, hi2 := labelRange(labels, w, h, thinReach)
-	bg := make([]int32, len(labels))
+		return s / float32(c)
+	}
+	// Each object's pixels are gathered from its box when it is judged,
+	// not all held at once (a 16 MP frame has millions of them).
+	boxes := make([]box, n+1)
+	for i := range boxes {
+		boxes[i] = box{w, h, -1, -1}
+	}
 	for i, l := range labels {
-		if l == 0 {
-			bg[i] = 1
+		if l > 0 {
+			x, y := i%w, i/w
+			b := &boxes[l]
+			b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
 		}
 	}
-	_, nearBg := labelRange(bg, w, h, thinReach)
-	thick := make([]bool, n+1)
-	for i, l := range labels {
-		if l > 0 && lo2[i] == l && hi2[i] == l && nearBg[i] == 0 {
-			thick[l] = true
-		}
-	}
-	boxes, pixels := objectPixels(labels, w, h, n)
 	drop := make([]bool, n+1)
 	any := false
+	var px []int
 	for l := 1; l <= n; l++ {
-		px := pixels[l]
-		if len(px) == 0 || thick[l] {
+		b := boxes[l]
+		if b.x1 < 0 || b.x0 == 0 || b.y0 == 0 || b.x1 == w-1 || b.y1 == h-1 {
+			continue // none, or cut by the frame (see above)
+		}
+		px = px[:0]
+		for y := b.y0; y <= b.y1; y++ {
+			for x := b.x0; x <= b.x1; x++ {
+				if labels[y*w+x] == int32(l) {
+					px = append(px, y*w+x)
+				}
+			}
+		}
+		if thick(labels, w, h, px) {
 			continue
 		}
 		var sum float64
 		for _, i := range px {
-			sum += float64(s[i])
+			sum += float64(contrast(i))
 		}
 		sign := float32(1)
 		if sum < 0 {
@@ -97,15 +112,11 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 		}
 		vals := make([]float32, len(px))
 		for q, i := range px {
-			vals[q] = sign * sm[i]
+			vals[q] = sign * smoothed(i)
 		}
 		slices.Sort(vals)
 		plateau := halfMaxLevel(vals) / tightenLevel
 		level := tightenLevel * plateau
-		b := boxes[l]
-		if b.x0 == 0 || b.y0 == 0 || b.x1 == w-1 || b.y1 == h-1 {
-			continue // cut by the frame: see outshone
-		}
 		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
 		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
 		bw := x1 - x0 + 1
@@ -120,15 +131,21 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 			queue = queue[:len(queue)-1]
 			neighbours4(i, w, h, func(j int) {
 				x, y := j%w, j/w
-				if x < x0 || x > x1 || y < y0 || y > y1 || seen[(y-y0)*bw+x-x0] {
+				if x < x0 || x > x1 || y < y0 || y > y1 || seen[(y-y0)*bw+x-x0] || labels[j] != 0 {
 					return
 				}
-				if labels[j] != 0 || lo[j] != int32(l) || hi[j] != int32(l) || sign*sm[j] < level {
+				// Background within tightenReach of this object only,
+				// at or above its outline level.
+				if lo, hi := labelsNear(labels, w, h, j, tightenReach); lo != int32(l) || hi != int32(l) {
+					return
+				}
+				v := sign * smoothed(j)
+				if v < level {
 					return
 				}
 				seen[(y-y0)*bw+x-x0] = true
 				queue = append(queue, j)
-				if next[j] == 0 && sign*sm[j] >= plateau {
+				if _, next := labelsNear(labels, w, h, j, 1); next == 0 && v >= plateau {
 					count++
 				}
 			})
@@ -143,45 +160,48 @@ func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool
 	return drop
 }
 
-// thinReach: objects with a pixel thinReach pixels (chessboard) from
-// the background are thick, and outshone leaves them alone.
-const thinReach = 2
-
-// labelRange returns, for every pixel, the smallest and the largest
-// object label (0 background ignored) within r pixels in chessboard
-// distance, 0 for both where there is none: a separable running minimum
-// and maximum over (2r+1)x(2r+1) windows (common practice for
-// rectangular structuring elements). A pixel near one object only has
-// lo = hi = its label.
-func labelRange(labels []int32, w, h, r int) (lo, hi []int32) {
-	const none = math.MaxInt32
-	tlo := make([]int32, len(labels))
-	thi := make([]int32, len(labels))
-	for y := 0; y < h; y++ {
-		row := labels[y*w : (y+1)*w]
-		for x := 0; x < w; x++ {
-			mn, mx := int32(none), int32(0)
-			for xx := max(x-r, 0); xx <= min(x+r, w-1); xx++ {
-				if v := row[xx]; v > 0 {
-					mn, mx = min(mn, v), max(mx, v)
+// thick reports whether some pixel of the object (its pixels px) has a
+// (2 thinReach+1)-square of the object's pixels around it, the image
+// border counting as the object's.
+func thick(labels []int32, w, h int, px []int) bool {
+	l := labels[px[0]]
+	for _, i := range px {
+		x, y := i%w, i/w
+		inside := true
+		for yy := max(y-thinReach, 0); yy <= min(y+thinReach, h-1) && inside; yy++ {
+			for xx := max(x-thinReach, 0); xx <= min(x+thinReach, w-1); xx++ {
+				if labels[yy*w+xx] != l {
+					inside = false
+					break
 				}
 			}
-			tlo[y*w+x], thi[y*w+x] = mn, mx
+		}
+		if inside {
+			return true
 		}
 	}
-	lo = make([]int32, len(labels))
-	hi = make([]int32, len(labels))
-	for y := 0; y < h; y++ {
-		for x := 0; x < w; x++ {
-			mn, mx := int32(none), int32(0)
-			for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
-				mn, mx = min(mn, tlo[yy*w+x]), max(mx, thi[yy*w+x])
+	return false
+}
+
+// labelsNear returns the smallest and the largest object label (0
+// background ignored) within r pixels of pixel i in chessboard distance,
+// 0 for both where there is none.
+func labelsNear(labels []int32, w, h, i, r int) (lo, hi int32) {
+	x, y := i%w, i/w
+	lo = math.MaxInt32
+	for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
+		for _, v := range labels[yy*w+max(x-r, 0) : yy*w+min(x+r, w-1)+1] {
+			if v > 0 {
+				lo, hi = min(lo, v), max(hi, v)
 			}
-			if mx == 0 {
-				mn = 0
-			}
-			lo[y*w+x], hi[y*w+x] = mn, mx
 		}
+	}
+	if hi == 0 {
+		lo = 0
 	}
 	return lo, hi
 }
+
+// thinReach: objects with a pixel thinReach pixels (chessboard) from
+// the background are thick, and outshone leaves them alone.
+const thinReach = 2

@@ -62,7 +62,7 @@ func lineScene(line, disc float32) (lum, field []float32, obj labelmap.Map) {
 // opposite sign and does not count.
 func TestOutshoneLineStretch(t *testing.T) {
 	lum, field, obj := lineScene(0.3, 0.8)
-	drop := outshone(lum, field, obj, 2, 1)
+	drop := outshone(lum, field, obj, 2)
 	if drop == nil || !drop[1] {
 		t.Fatalf("the stretch of line was kept (drop %v)", drop)
 	}
@@ -86,7 +86,7 @@ func TestOutshoneFrame(t *testing.T) {
 			obj.Pix[y*obj.Width+x] = 1
 		}
 	}
-	if drop := outshone(lum, field, obj, 2, 1); drop != nil && drop[1] {
+	if drop := outshone(lum, field, obj, 2); drop != nil && drop[1] {
 		t.Errorf("the stretch cut by the frame was dropped")
 	}
 }
@@ -105,14 +105,14 @@ func TestOutshoneKeepsIsolated(t *testing.T) {
 			lum[i] = 0.7
 		}
 	}
-	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 2); drop != nil {
 		t.Errorf("isolated objects dropped: %v", drop)
 	}
 	rng := rand.New(rand.NewPCG(1, 2))
 	for i := range lum {
 		lum[i] += float32(rng.NormFloat64() * 0.04)
 	}
-	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 2); drop != nil {
 		t.Errorf("isolated objects dropped under noise: %v", drop)
 	}
 }
@@ -137,41 +137,37 @@ func TestOutshoneNeighbourRim(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 2, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 2); drop != nil {
 		t.Errorf("objects dropped beside a brighter rim: %v", drop)
 	}
 }
 
-// TestLabelRange against the definition, the least and greatest label
-// within chessboard distance r, by brute force on random sparse labels.
-func TestLabelRange(t *testing.T) {
-	rng := rand.New(rand.NewPCG(3, 4))
-	const w, h = 23, 17
+// TestLabelsNear, worked by hand on a 5 x 5 map with label 2 at (0,0),
+// 5 at (4,4) and 3 at (2,1): the least and greatest label within
+// chessboard distance r of a pixel, 0 and 0 where there is none.
+func TestLabelsNear(t *testing.T) {
+	const w, h = 5, 5
 	labels := make([]int32, w*h)
-	for i := range labels {
-		if rng.IntN(9) == 0 {
-			labels[i] = int32(1 + rng.IntN(5))
-		}
+	labels[0*w+0], labels[4*w+4], labels[1*w+2] = 2, 5, 3
+	tests := []struct {
+		x, y, r int
+		lo, hi  int32
+	}{
+		{0, 0, 0, 2, 2},
+		{1, 0, 0, 0, 0},
+		{1, 0, 1, 2, 3},
+		{4, 0, 1, 0, 0},
+		{3, 3, 1, 5, 5},
+		{2, 2, 1, 3, 3},
+		{2, 2, 2, 2, 5},
+		{0, 4, 1, 0, 0},
+		{0, 4, 3, 3, 3},
+		{0, 4, 4, 2, 5},
 	}
-	for _, r := range []int{0, 1, 3} {
-		lo, hi := labelRange(labels, w, h, r)
-		for y := 0; y < h; y++ {
-			for x := 0; x < w; x++ {
-				var mn, mx int32 = math.MaxInt32, 0
-				for yy := max(y-r, 0); yy <= min(y+r, h-1); yy++ {
-					for xx := max(x-r, 0); xx <= min(x+r, w-1); xx++ {
-						if v := labels[yy*w+xx]; v > 0 {
-							mn, mx = min(mn, v), max(mx, v)
-						}
-					}
-				}
-				if mx == 0 {
-					mn = 0
-				}
-				if lo[y*w+x] != mn || hi[y*w+x] != mx {
-					t.Fatalf("r %d at (%d,%d): %d..%d, want %d..%d", r, x, y, lo[y*w+x], hi[y*w+x], mn, mx)
-				}
-			}
+	for _, tc := range tests {
+		lo, hi := labelsNear(labels, w, h, tc.y*w+tc.x, tc.r)
+		if lo != tc.lo || hi != tc.hi {
+			t.Errorf("(%d,%d) r %d: %d..%d, want %d..%d", tc.x, tc.y, tc.r, lo, hi, tc.lo, tc.hi)
 		}
 	}
 }
@@ -202,7 +198,7 @@ func TestOutshoneOwnRim(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1); drop != nil {
 		t.Errorf("a thin object dropped for its own blurred rim")
 	}
 }
@@ -232,10 +228,10 @@ func TestOutshoneThick(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1); drop != nil {
 		t.Errorf("a thick object dropped")
 	}
-	if drop := outshone(lum, field, bar, 1, 1); drop == nil {
+	if drop := outshone(lum, field, bar, 1); drop == nil {
 		t.Errorf("a thin bar with a brighter patch beside it kept")
 	}
 }
@@ -270,7 +266,7 @@ func TestOutshoneAcrossGap(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1); drop != nil {
 		t.Errorf("a bar dropped for a darker one across a gap")
 	}
 }

@@ -874,7 +874,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
-			if drop := outshone(in.Luminance, field, res.Labels, res.NumObjects, p.Workers); drop != nil {
+			if drop := outshone(in.Luminance, field, res.Labels, res.NumObjects); drop != nil {
 				res.Labels.Pix, res.NumObjects = withoutLabels(res.Labels.Pix, res.NumObjects, drop)
 			}
 			stage("objects")
