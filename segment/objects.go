@@ -253,7 +253,11 @@ const (
 // keeps its pixels at or above that level and gains background pixels at
 // or above it within tightenReach pixels (chessboard distance), where
 // earlier labels win contested pixels. A dim seam below the level splits
-// a touching pair. The pieces are then relabelled 1..N in raster order;
+// a touching pair. The interior of a textured object is judged on a
+// Gaussian mean (texturedInterior), and dim objects the region holds
+// beside a bright one are outlined at their own half maximum
+// (dimMembers; the rest of the object's level is then taken without
+// them). The pieces are then relabelled 1..N in raster order;
 // pieces under minArea pixels go to the background. The smoothing and
 // the objects' levels run on workers goroutines (workers < 1:
 // GOMAXPROCS); the result does not depend on their number.
@@ -270,6 +274,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 	median := make([]float32, n) // of group l-1
 	level := make([]float32, n+1)
 	inner := make([]interior, n+1)
+	dims := make([][]member, n+1)
 	parallel.For(n, workers, func(k int) {
 		l := k + 1
 		px := pixels[l]
@@ -283,7 +288,26 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		slices.Sort(vals)
 		median[l-1] = vals[(len(vals)-1)/2]
 		level[l] = halfMaxLevel(vals)
-		inner[l] = texturedInterior(sm, con, px, boxes[l], w, h, level[l])
+		g := cropGaussian(con, boxes[l], w, h, textureFill)
+		inner[l] = texturedInterior(sm, g, px, boxes[l], w, h, level[l])
+		dims[l] = dimMembers(sm, g, px, boxes[l], w, h, level[l], minArea)
+		if len(dims[l]) > 0 {
+			// The object's own level, without its members' pixels.
+			taken := map[int]bool{}
+			for _, m := range dims[l] {
+				for _, i := range m.pix {
+					taken[i] = true
+				}
+			}
+			vals = vals[:0]
+			for _, i := range px {
+				if !taken[i] {
+					vals = append(vals, sm[i])
+				}
+			}
+			slices.Sort(vals)
+			level[l] = halfMaxLevel(vals)
+		}
 	})
 	group := make([]int32, len(labels))
 	for i, l := range labels {
@@ -324,6 +348,22 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 				group[i] = int32(l - 1)
 			}
 		}
+		// Dim members take their pixels, innermost first, as objects
+		// of their own (new groups after the n objects').
+		first := int32(len(median))
+		for _, m := range dims[l] {
+			id := int32(len(median))
+			median = append(median, m.median)
+			for _, i := range m.pix {
+				if group[i] >= first {
+					continue
+				}
+				group[i] = -1
+				if sm[i] >= m.level {
+					group[i] = id
+				}
+			}
+		}
 	}
 	fillHoles(group, w, h)
 	out, m := componentsOfGroups(group, w, h, minArea, workers)
@@ -340,7 +380,8 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 // 0.003, the other kinds nothing. Our choice. A Gaussian of 2 px over
 // the whole frame instead (not just textured interiors) took chromatin
 // to 0.965 / 0.717 but specks from 0.853 to 0.396 and plates from 1.000
-// to 0.958: outlines need the 3x3 mean.
+// to 0.958: outlines need the 3x3 mean. dimMembers floods the same
+// Gaussian mean.
 const textureFill = 2.0
 
 // interior lists the pixels deep inside a textured object (frame
@@ -361,13 +402,13 @@ type interior struct {
 // on the double 3x3 mean over its region, plateau level/tightenLevel,
 // above textureLimit), the pixels at least 2 textureFill deep in its
 // region (distanceInside) are judged instead on the Gaussian mean of
-// the contrast con at textureFill, which averages the grain out; beyond
+// the contrast, g (cropGaussian at textureFill), which averages the grain out; beyond
 // two standard deviations less than 2.3 % of the Gaussian's weight lies
 // outside the region (the one-sided normal tail), so the background
 // around the object does not pull that mean down. Pixels nearer the
 // outline keep the 3x3 test, which holds outlines to the pixel. An
 // untextured object gives the zero interior.
-func texturedInterior(sm []float32, con []float64, px []int, b box, w, h int, level float32) interior {
+func texturedInterior(sm []float32, g gaussCrop, px []int, b box, w, h int, level float32) interior {
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	nodes := make([]int, len(px))
 	feat := make([]float32, cw*ch)
@@ -379,25 +420,11 @@ func texturedInterior(sm []float32, con []float64, px []int, b box, w, h int, le
 	if fineTexture(boxMean3(feat, cw, ch), nodes, dist, cw, ch, float64(level)/tightenLevel) <= textureLimit {
 		return interior{}
 	}
-	// The Gaussian mean on the box grown by three standard deviations
-	// (the kernel's reach), so the frame's reflected border is far from
-	// the deep pixels unless the object touches it.
-	m := int(math.Ceil(3 * textureFill))
-	x0, y0 := max(b.x0-m, 0), max(b.y0-m, 0)
-	x1, y1 := min(b.x1+m, w-1), min(b.y1+m, h-1)
-	gw, gh := x1-x0+1, y1-y0+1
-	g := make([]float32, gw*gh)
-	for y := y0; y <= y1; y++ {
-		for x := x0; x <= x1; x++ {
-			g[(y-y0)*gw+x-x0] = float32(con[y*w+x])
-		}
-	}
-	g = affinity.GaussianSmooth(g, gw, gh, textureFill, 1)
 	var in interior
 	for k, i := range px {
 		if dist[nodes[k]] >= 2*textureFill {
 			in.pix = append(in.pix, i)
-			in.keep = append(in.keep, g[(i/w-y0)*gw+i%w-x0] >= level)
+			in.keep = append(in.keep, g.at(i, w) >= level)
 		}
 	}
 	return in

@@ -244,7 +244,8 @@ func TestTightenTexturedDisc(t *testing.T) {
 			vals[k] = sm[i]
 		}
 		slices.Sort(vals)
-		if in := texturedInterior(sm, con, px, box{36 - 18, 36 - 18, 36 + 18, 36 + 18}, w, h, halfMaxLevel(vals)); len(in.pix) > 0 {
+		b := box{36 - 18, 36 - 18, 36 + 18, 36 + 18}
+		if in := texturedInterior(sm, cropGaussian(con, b, w, h, textureFill), px, b, w, h, halfMaxLevel(vals)); len(in.pix) > 0 {
 			engaged++
 		}
 		out, n := tightenObjects(con, labelmap.Map{Pix: region, Width: w, Height: h}, 1, 20, 1)
