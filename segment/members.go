@@ -30,8 +30,9 @@ type member struct {
 // the upper level sets, as in the morphological dynamics of Grimaud 1992,
 // "A new measure of contrast: the dynamics", Proc. SPIE 1769; cited from
 // memory): its pixels are
-// taken in decreasing order of the Gaussian mean g of the contrast at
-// textureFill (crop pixels beyond the region ignored), each joining the
+// taken in decreasing order of the Gaussian mean of the contrast at
+// textureFill (gauss, the region's cropGaussian; crop pixels beyond the
+// region ignored), each joining the
 // 4-connected components of those taken before, with union-find. When
 // two components meet at a pixel of value s, the one with the lower peak
 // p is a member when
@@ -51,11 +52,12 @@ type member struct {
 // are returned innermost first: a member found inside a larger one keeps
 // its pixels (callers give each pixel to the first member holding it).
 // px are the region's pixels (frame indices), b its box, w x h the frame.
-func dimMembers(sm []float32, g gaussCrop, px []int, b box, w, h int, level float32, minArea int) []member {
+func dimMembers(sm []float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32, minArea int) []member {
 	plateau := float64(level) / tightenLevel
 	if len(px) < 2*minArea || !(plateau > 0) {
 		return nil
 	}
+	g := gauss()
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	at := make([]int32, cw*ch) // crop pixel -> index in px, or -1
 	for i := range at {

@@ -288,9 +288,16 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		slices.Sort(vals)
 		median[l-1] = vals[(len(vals)-1)/2]
 		level[l] = halfMaxLevel(vals)
-		g := cropGaussian(con, boxes[l], w, h, textureFill)
-		inner[l] = texturedInterior(sm, g, px, boxes[l], w, h, level[l])
-		dims[l] = dimMembers(sm, g, px, boxes[l], w, h, level[l], minArea)
+		// The Gaussian mean of the contrast over the object's box, made
+		// once and only when a rule below needs it.
+		var g gaussCrop
+		gauss := func() gaussCrop {
+			if g.v == nil {
+				g = cropGaussian(con, boxes[l], w, h, textureFill)
+			}
+			return g
+		}
+		dims[l] = dimMembers(sm, gauss, px, boxes[l], w, h, level[l], minArea)
 		if len(dims[l]) > 0 {
 			// The object's own level, without its members' pixels.
 			taken := map[int]bool{}
@@ -308,6 +315,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			slices.Sort(vals)
 			level[l] = halfMaxLevel(vals)
 		}
+		inner[l] = texturedInterior(sm, gauss, px, boxes[l], w, h, level[l])
 	})
 	group := make([]int32, len(labels))
 	for i, l := range labels {
@@ -395,20 +403,20 @@ type interior struct {
 // tightenObjects. The 3x3 mean sm of the contrast follows grain finer
 // than the object (the dark gaps between chromatin foci), and where the
 // object's plateau is near its outline level that grain crosses the
-// level: the level then cuts the object into crumbs of foci, which come
-// out as several objects or none (othershapes.py chromatin, a dim
-// textured nucleus beside a bright one). For an object (pixels px, box
-// b, outline level at level) whose fine spread is textured (fineTexture
-// on the double 3x3 mean over its region, plateau level/tightenLevel,
-// above textureLimit), the pixels at least 2 textureFill deep in its
-// region (distanceInside) are judged instead on the Gaussian mean of
-// the contrast, g (cropGaussian at textureFill), which averages the grain out; beyond
-// two standard deviations less than 2.3 % of the Gaussian's weight lies
-// outside the region (the one-sided normal tail), so the background
-// around the object does not pull that mean down. Pixels nearer the
-// outline keep the 3x3 test, which holds outlines to the pixel. An
-// untextured object gives the zero interior.
-func texturedInterior(sm []float32, g gaussCrop, px []int, b box, w, h int, level float32) interior {
+// level: where the grain runs low in a band across the object, the
+// level cuts it in two or into crumbs of foci (othershapes.py
+// chromatin). For an object (pixels px, box b, outline level at level)
+// whose fine spread is textured (fineTexture on the double 3x3 mean over
+// its region, plateau level/tightenLevel, above textureLimit), the
+// pixels at least 2 textureFill deep in its region (distanceInside) are
+// judged instead on the Gaussian mean of the contrast (gauss, the
+// object's cropGaussian at textureFill), which averages the grain out;
+// beyond two standard deviations less than 2.3 % of the Gaussian's
+// weight lies outside the region (the one-sided normal tail), so the
+// background around the object does not pull that mean down. Pixels
+// nearer the outline keep the 3x3 test, which holds outlines to the
+// pixel. An untextured object gives the zero interior.
+func texturedInterior(sm []float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32) interior {
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	nodes := make([]int, len(px))
 	feat := make([]float32, cw*ch)
@@ -420,6 +428,7 @@ func texturedInterior(sm []float32, g gaussCrop, px []int, b box, w, h int, leve
 	if fineTexture(boxMean3(feat, cw, ch), nodes, dist, cw, ch, float64(level)/tightenLevel) <= textureLimit {
 		return interior{}
 	}
+	g := gauss()
 	var in interior
 	for k, i := range px {
 		if dist[nodes[k]] >= 2*textureFill {
