@@ -130,7 +130,17 @@ func medianFilter3(g []float64, gw, gh int) []float64 {
 // run on workers goroutines (workers < 1: GOMAXPROCS); every pixel is
 // computed alone, so the result does not depend on the worker count.
 func interpolateGrid(grid []float64, gw, gh, cell, w, h, workers int) []float32 {
-	out := make([]float32, w*h)
+	return interpolateGridInto(nil, grid, gw, gh, cell, w, h, workers)
+}
+
+// interpolateGridInto is interpolateGrid written into dst when it holds
+// w·h values (a plane the caller no longer needs), else into a new
+// slice; it returns the plane. Every pixel is overwritten.
+func interpolateGridInto(dst []float32, grid []float64, gw, gh, cell, w, h, workers int) []float32 {
+	out := dst
+	if len(out) != w*h {
+		out = make([]float32, w*h)
+	}
 	// The horizontal weights are the same on every row.
 	xs := make([]int, 2*w)
 	txs := make([]float64, w)

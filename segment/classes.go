@@ -92,20 +92,18 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 		initialScores(score, lum, regions, st.area, radius(), background, workers)
 		cls = asBackground(split1D(score, st.area, C, seed), C, background)
 	}
+	// The mask and the field of one round are written over the last
+	// round's (fewer frame-sized allocations; every value is rewritten).
+	var mask []bool
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
-		mask := make([]bool, len(reg))
-		found := false
-		for i, r := range reg {
-			if cls[r] == ref {
-				mask[i] = true
-				found = true
-			}
+		if mask == nil {
+			mask = make([]bool, len(reg))
 		}
-		if !found {
+		if !maskOfClass(mask, reg, cls, ref, workers) {
 			return cls, nil
 		}
-		field = smoothField(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
+		field = smoothFieldInto(field, lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
 		sum := make([]float64, n)
 		sumRatioLabels(reg, lum, field, sum)
 		for r := range score {
@@ -124,6 +122,24 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 		cls = next
 	}
 	return cls, nil
+}
+
+// maskOfClass sets mask[i] to whether pixel i's region (reg) is of class
+// c (cls per region), in fixed blocks of pixels on workers goroutines,
+// and reports whether any pixel is. Every value of mask is written.
+func maskOfClass(mask []bool, reg, cls []int32, c int32, workers int) bool {
+	const block = 1 << 16
+	found := make([]bool, (len(reg)+block-1)/block)
+	parallel.Blocks(len(reg), block, workers, func(b, lo, hi int) {
+		m, any := mask[lo:hi], false
+		for k, r := range reg[lo:hi] {
+			in := cls[r] == c
+			m[k] = in
+			any = any || in
+		}
+		found[b] = any
+	})
+	return slices.Contains(found, true)
 }
 
 // initialScores sets score[r] to log of the mean over region r of I/B₀,
@@ -418,6 +434,14 @@ func referenceClass(cls []int32, area []float64, C int, background Background) i
 // pixels in raster order), and the mean of all masked pixels, in raster
 // order, only when a cell needs it.
 func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
+	return smoothFieldInto(nil, v, mask, w, h, sigma, workers)
+}
+
+// smoothFieldInto is smoothField written into dst when it holds w·h
+// values (a field the caller no longer needs; it must not be v), else
+// into a new slice; it returns the field. Every pixel is overwritten, so
+// the result is smoothField's.
+func smoothFieldInto(dst, v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
 	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	sum := make([]float64, gw*gh)
@@ -460,7 +484,7 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int)
 		}
 		grid[c] = global
 	}
-	return interpolateGrid(grid, gw, gh, cell, w, h, workers)
+	return interpolateGridInto(dst, grid, gw, gh, cell, w, h, workers)
 }
 
 // blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,

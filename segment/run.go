@@ -10,6 +10,7 @@ import (
 
 	"github.com/cleave-seg/cleave/affinity"
 	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Method is the cutting method of Params.Method.
@@ -767,12 +768,16 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
+			// backgroundField is the field of the current background
+			// class, written over the last field (which every caller
+			// replaces with it) and through one mask plane.
+			var mask []bool
 			backgroundField := func() []float32 {
-				mask := make([]bool, npix)
-				for i, r := range reg {
-					mask[i] = cls[r] == bg
+				if mask == nil {
+					mask = make([]bool, npix)
 				}
-				return smoothField(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
+				maskOfClass(mask, reg, cls, bg, p.Workers)
+				return smoothFieldInto(field, in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
 			}
 			if field == nil {
 				field = backgroundField()
@@ -840,20 +845,17 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					fresh = false
 				}
 			}
-			// The class map is made only now, from the final classes:
-			// one plane less through the stages above.
-			res.Classes = labelmap.New(w, h)
-			for i, r := range reg {
-				res.Classes.Pix[i] = cls[r]
-				if cls[r] != bg {
-					objectClassPixels++
-				}
-			}
 			if !fresh {
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			}
 			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1), p.Workers)
 			obj, nobj = joinTouching(con, objects(obj), nobj)
+			// The class map is made only now, from the final classes
+			// (the object passes above leave reg and cls as they are):
+			// one plane less through the stages above, the tightening's
+			// the largest live set of the class stage.
+			res.Classes = labelmap.New(w, h)
+			objectClassPixels = classMap(res.Classes.Pix, reg, cls, bg, p.Workers)
 			stage("classes")
 			if err := ctx.Err(); err != nil {
 				return nil, err
@@ -903,6 +905,29 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	res.Params = p
 	return res, nil
+}
+
+// classMap writes the class of each pixel's region (cls[reg[i]]) into
+// out, in fixed blocks of pixels on workers goroutines, and returns the
+// number of pixels outside class bg.
+func classMap(out, reg, cls []int32, bg int32, workers int) int {
+	const block = 1 << 16
+	counts := make([]int, (len(reg)+block-1)/block)
+	parallel.Blocks(len(reg), block, workers, func(b, lo, hi int) {
+		o, n := out[lo:hi], 0
+		for k, r := range reg[lo:hi] {
+			o[k] = cls[r]
+			if cls[r] != bg {
+				n++
+			}
+		}
+		counts[b] = n
+	})
+	n := 0
+	for _, c := range counts {
+		n += c
+	}
+	return n
 }
 
 // maskInvalid gives the invalid pixels label 0 in the regions and the
