@@ -533,14 +533,14 @@ func blurGrid(g []float64, gw, gh int, sigma float64) []float64 {
 func objectShare(cls []int32, regions labelmap.Map, area []float64, C int, background Background, workers int) float64 {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	ref := referenceClass(cls, area, C, background)
-	group := make([]int32, len(reg))
-	for i, r := range reg {
-		group[i] = -1
-		if cls[r] != ref {
-			group[i] = 0
+	group := make([]int32, len(cls)) // per region
+	for r, c := range cls {
+		group[r] = -1
+		if c != ref {
+			group[r] = 0
 		}
 	}
-	lab, n := componentsOfGroups(group, w, h, 0, workers)
+	lab, n := componentsOfRegions(reg, group, w, h, 0, workers)
 	size := make([]int, n+1)
 	countLabels(lab, size)
 	big := 0

@@ -85,19 +85,21 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 	if background == "bright" {
 		sign, obj = -1, bg-1
 	}
-	group := make([]int32, len(reg))
+	// The group of each superpixel: 0 where it stands out, else -1 (a
+	// superpixel with no pixel is never in inBg).
+	group := make([]int32, nsp)
 	found := false
-	for i, k := range nodeOf {
-		group[i] = -1
+	for k := range group {
+		group[k] = -1
 		if inBg[k] && sign*(score[k]-m) > t {
-			group[i] = 0
+			group[k] = 0
 			found = true
 		}
 	}
 	if !found {
 		return regions, nreg, cls
 	}
-	pieces, n := componentsOfGroups(group, w, h, minArea, workers)
+	pieces, n := componentsOfRegions(nodeOf, group, w, h, minArea, workers)
 	if n == 0 {
 		return regions, nreg, cls
 	}

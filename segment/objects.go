@@ -84,19 +84,15 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 		}
 		f.Union(a, b)
 	}
-	root := make([]int32, n)
-	for r := range root {
-		root[r] = f.Find(int32(r))
-	}
-	group := make([]int32, len(reg))
-	for i, r := range reg {
-		if cls[r] == bgClass {
-			group[i] = -1
-		} else {
-			group[i] = root[r]
+	// The group of a region: its set's root, -1 for the background.
+	group := make([]int32, n)
+	for r := range group {
+		group[r] = -1
+		if cls[r] != bgClass {
+			group[r] = f.Find(int32(r))
 		}
 	}
-	return componentsOfGroups(group, w, h, minArea, workers)
+	return componentsOfRegions(reg, group, w, h, minArea, workers)
 }
 
 // adjacentDiffering calls f(i, j) for the pairs of 4-adjacent pixels of
@@ -137,19 +133,53 @@ func adjacentDiffering(lab []int32, w, h int, f func(i, j int)) {
 // bands' offsets), and writes the numbers. The bands are fixed, so the
 // result does not depend on workers; it is the one-band labelling's.
 func componentsOfGroups(group []int32, w, h, minArea, workers int) ([]int32, int) {
-	lab := make([]int32, len(group))
+	return componentsOfGroupsInto(nil, group, w, h, minArea, workers)
+}
+
+// componentsOfGroupsInto is componentsOfGroups written into dst when it
+// holds w·h values (a plane the caller no longer needs; not group), else
+// into a new slice. Every value of dst is written.
+func componentsOfGroupsInto(dst, group []int32, w, h, minArea, workers int) ([]int32, int) {
+	return groupComponents(dst, func(y int, _ []int32) []int32 { return group[y*w : (y+1)*w] }, w, h, minArea, workers)
+}
+
+// componentsOfRegions is componentsOfGroups of the group plane
+// table[reg[i]] (reg a region map, table a group per region, < 0 for
+// background), without that plane: each band makes the group rows it
+// reads from reg as it goes. The result is componentsOfGroups'.
+func componentsOfRegions(reg, table []int32, w, h, minArea, workers int) ([]int32, int) {
+	return groupComponents(nil, func(y int, buf []int32) []int32 {
+		for x, r := range reg[y*w : (y+1)*w] {
+			buf[x] = table[r]
+		}
+		return buf
+	}, w, h, minArea, workers)
+}
+
+// groupComponents is componentsOfGroups with the group rows given by
+// rowOf(y, buf): row y of the group plane, in buf (w values, which rowOf
+// may fill and return) or in a slice of its own; two rows asked for one
+// after the other with different bufs are both valid until the next call.
+func groupComponents(dst []int32, rowOf func(y int, buf []int32) []int32, w, h, minArea, workers int) ([]int32, int) {
+	lab := dst
+	if len(lab) != w*h {
+		lab = make([]int32, w*h)
+	}
 	nb := (h + rowBand - 1) / rowBand
 	forests := make([]unionfind.Forest, nb)
 	sizes := make([][]int, nb) // band -> pixels of each provisional label
 	parallel.Blocks(h, rowBand, workers, func(b, y0, y1 int) {
 		var f unionfind.Forest
 		var size []int
+		bufs := [2][]int32{make([]int32, w), make([]int32, w)}
+		var prev []int32 // the group row above y
 		for y := y0; y < y1; y++ {
-			row, out := group[y*w:(y+1)*w], lab[y*w:(y+1)*w]
+			row, out := rowOf(y, bufs[y&1]), lab[y*w:(y+1)*w]
 			var above, labAbove []int32
 			if y > y0 {
-				above, labAbove = group[(y-1)*w:y*w], lab[(y-1)*w:y*w]
+				above, labAbove = prev, lab[(y-1)*w:y*w]
 			}
+			prev = row
 			for x, g := range row {
 				if g < 0 {
 					out[x] = -1
@@ -188,9 +218,10 @@ func componentsOfGroups(group []int32, w, h, minArea, workers int) ([]int32, int
 			f = append(f, parent+off[b])
 		}
 	}
+	bufs := [2][]int32{make([]int32, w), make([]int32, w)}
 	for b := 1; b < nb; b++ {
 		y := b * rowBand
-		row, above := group[y*w:(y+1)*w], group[(y-1)*w:y*w]
+		row, above := rowOf(y, bufs[0]), rowOf(y-1, bufs[1])
 		out, labAbove := lab[y*w:(y+1)*w], lab[(y-1)*w:y*w]
 		for x, g := range row {
 			if g >= 0 && above[x] == g && !(x > 0 && row[x-1] == g && above[x-1] == g) {
@@ -260,7 +291,8 @@ const (
 // them). The pieces are then relabelled 1..N in raster order;
 // pieces under minArea pixels go to the background. The smoothing and
 // the objects' levels run on workers goroutines (workers < 1:
-// GOMAXPROCS); the result does not depend on their number.
+// GOMAXPROCS); the result does not depend on their number. The result
+// is written over objects.Pix, which the caller must no longer need.
 func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	// The 3x3 mean of the contrast in float32, read from con directly
@@ -374,7 +406,8 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		}
 	}
 	fillHoles(group, w, h)
-	out, m := componentsOfGroups(group, w, h, minArea, workers)
+	// labels is read no more: the pieces are written over it.
+	out, m := componentsOfGroupsInto(labels, group, w, h, minArea, workers)
 	return withoutCrumbs(out, m, group, sm, median)
 }
 

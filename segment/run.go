@@ -870,14 +870,16 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// Outlines are now drawn at pixel level: their step may lie
 			// a pixel beside them.
 			edges.near = true
+			// The drops below renumber the label map in place (it is
+			// the refinement's own).
 			if drop := edgeless(res.Labels, res.NumObjects, edges); drop != nil {
-				res.Labels.Pix, res.NumObjects = withoutLabels(res.Labels.Pix, res.NumObjects, drop)
+				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
 			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
 			if drop := outshone(in.Luminance, field, res.Labels, res.NumObjects); drop != nil {
-				res.Labels.Pix, res.NumObjects = withoutLabels(res.Labels.Pix, res.NumObjects, drop)
+				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
 			stage("objects")
 		} else {
