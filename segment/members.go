@@ -45,14 +45,14 @@ type member struct {
 //     dimmer than the object the level was drawn for;
 //   - it has at least minArea pixels.
 //
-// Its own level is halfMaxLevel of the 3x3 means sm over its pixels, as
+// Its own level is halfMaxLevel of the 3x3 means sm(i) over its pixels, as
 // for any object (tightenObjects then takes the level of the rest of the
 // region without the members' pixels, since a large dim member pulls the
 // region's plateau down and the bright object's outline out). Members
 // are returned innermost first: a member found inside a larger one keeps
 // its pixels (callers give each pixel to the first member holding it).
 // px are the region's pixels (frame indices), b its box, w x h the frame.
-func dimMembers(sm []float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32, minArea int) []member {
+func dimMembers(sm func(i int) float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32, minArea int) []member {
 	plateau := float64(level) / tightenLevel
 	if len(px) < 2*minArea || !(plateau > 0) {
 		return nil
@@ -126,12 +126,12 @@ func dimMembers(sm []float32, gauss func() gaussCrop, px []int, b box, w, h int,
 
 // memberOf makes a member of the region pixels ks (indices into px): its
 // frame pixels and the level and median of sm over them.
-func memberOf(ks []int32, px []int, sm []float32) member {
+func memberOf(ks []int32, px []int, sm func(i int) float32) member {
 	m := member{pix: make([]int, len(ks))}
 	vals := make([]float32, len(ks))
 	for q, k := range ks {
 		m.pix[q] = px[k]
-		vals[q] = sm[px[k]]
+		vals[q] = sm(px[k])
 	}
 	slices.Sort(m.pix)
 	slices.Sort(vals)

@@ -288,17 +288,19 @@ const (
 // Gaussian mean (texturedInterior), and dim objects the region holds
 // beside a bright one are outlined at their own half maximum
 // (dimMembers; the rest of the object's level is then taken without
-// them). The pieces are then relabelled 1..N in raster order;
-// pieces under minArea pixels go to the background. The smoothing and
-// the objects' levels run on workers goroutines (workers < 1:
-// GOMAXPROCS); the result does not depend on their number. The result
-// is written over objects.Pix, which the caller must no longer need.
+// them). The pieces are then relabelled 1..N in raster order; pieces
+// under minArea pixels go to the background. The objects' levels run on
+// workers goroutines (workers < 1: GOMAXPROCS); the result does not
+// depend on their number. The result is written over objects.Pix, which
+// the caller must no longer need.
+//
+// The 3x3 mean is taken only at the pixels looked at (mean3At: the
+// objects' own pixels, the background within reach of them, the pieces'
+// pixels), not as a plane over the whole image: the same values, a
+// frame-sized plane less at the class stage's largest live set.
 func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
-	// The 3x3 mean of the contrast in float32, read from con directly
-	// (no float32 copy of it).
-	sm := make([]float32, len(con))
-	forRowBands(h, workers, func(y0, y1 int) { boxMean3Rows(con, sm, w, h, y0, y1) })
+	sm := func(i int) float32 { return mean3At(con, w, h, i%w, i/w) }
 	boxes, pixels := objectPixels(labels, w, h, n)
 	// Each object's median and outline level from its own values, on
 	// workers goroutines; the outlines are then drawn in label order,
@@ -315,7 +317,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		}
 		vals := make([]float32, len(px))
 		for q, i := range px {
-			vals[q] = sm[i]
+			vals[q] = sm(i)
 		}
 		slices.Sort(vals)
 		median[l-1] = vals[(len(vals)-1)/2]
@@ -341,7 +343,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			vals = vals[:0]
 			for _, i := range px {
 				if !taken[i] {
-					vals = append(vals, sm[i])
+					vals = append(vals, sm(i))
 				}
 			}
 			slices.Sort(vals)
@@ -373,10 +375,14 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			for x := x0; x <= x1; x++ {
 				k, i := (y-y0)*bw+x-x0, y*w+x
 				switch {
-				case own[k] && sm[i] < level:
-					group[i] = -1
-				case near[k] && labels[i] == 0 && group[i] < 0 && sm[i] >= level:
-					group[i] = int32(l - 1)
+				case own[k]:
+					if mean3At(con, w, h, x, y) < level {
+						group[i] = -1
+					}
+				case near[k] && labels[i] == 0 && group[i] < 0:
+					if mean3At(con, w, h, x, y) >= level {
+						group[i] = int32(l - 1)
+					}
 				}
 			}
 		}
@@ -399,7 +405,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 					continue
 				}
 				group[i] = -1
-				if sm[i] >= m.level {
+				if sm(i) >= m.level {
 					group[i] = id
 				}
 			}
@@ -433,12 +439,12 @@ type interior struct {
 }
 
 // texturedInterior decides the interior of a textured object for
-// tightenObjects. The 3x3 mean sm of the contrast follows grain finer
-// than the object (the dark gaps between chromatin foci), and where the
-// object's plateau is near its outline level that grain crosses the
-// level: where the grain runs low in a band across the object, the
-// level cuts it in two or into crumbs of foci (othershapes.py
-// chromatin). For an object (pixels px, box b, outline level at level)
+// tightenObjects. The 3x3 mean of the contrast (sm(i) at pixel i)
+// follows grain finer than the object (the dark gaps between chromatin
+// foci), and where the object's plateau is near its outline level that
+// grain crosses the level: where the grain runs low in a band across the
+// object, the level cuts it in two or into crumbs of foci
+// (othershapes.py chromatin). For an object (pixels px, box b, outline level at level)
 // whose fine spread is textured (fineTexture on the double 3x3 mean over
 // its region, plateau level/tightenLevel, above textureLimit), the
 // pixels at least 2 textureFill deep in its region (distanceInside) are
@@ -449,13 +455,13 @@ type interior struct {
 // background around the object does not pull that mean down. Pixels
 // nearer the outline keep the 3x3 test, which holds outlines to the
 // pixel. An untextured object gives the zero interior.
-func texturedInterior(sm []float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32) interior {
+func texturedInterior(sm func(i int) float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32) interior {
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	nodes := make([]int, len(px))
 	feat := make([]float32, cw*ch)
 	for k, i := range px {
 		nodes[k] = (i/w-b.y0)*cw + i%w - b.x0
-		feat[nodes[k]] = sm[i]
+		feat[nodes[k]] = sm(i)
 	}
 	dist := distanceInside(cropMask(nodes, cw*ch), cw, ch)
 	if fineTexture(boxMean3(feat, cw, ch), nodes, dist, cw, ch, float64(level)/tightenLevel) <= textureLimit {
@@ -535,8 +541,9 @@ const (
 // group) every piece smaller than crumbFraction of the largest piece of
 // the same group whose smoothed contrast sm stays below crumbPeak times
 // median[g], the median contrast of its group g, and numbers the rest
-// 1..N in raster order, in place.
-func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) ([]int32, int) {
+// 1..N in raster order, in place. sm(i) is the smoothed contrast at
+// pixel i.
+func withoutCrumbs(labels []int32, n int, group []int32, sm func(i int) float32, median []float32) ([]int32, int) {
 	if n < 2 {
 		return labels, n
 	}
@@ -547,7 +554,7 @@ func withoutCrumbs(labels []int32, n int, group []int32, sm, median []float32) (
 		if l > 0 {
 			area[l]++
 			of[l] = group[i]
-			peak[l] = max(peak[l], sm[i])
+			peak[l] = max(peak[l], sm(i))
 		}
 	}
 	largest := map[int32]int{}
@@ -711,6 +718,23 @@ func boxMean3Rows[T float32 | float64](v []T, out []float32, w, h, y0, y1 int) {
 			out[y*w+x] = s / float32(c)
 		}
 	}
+}
+
+// mean3At is the 3x3 mean of v at pixel (x, y) of a w x h image, each
+// value taken as float32 first, summed row by row and left to right over
+// the window shrunk at the border: boxMean3Rows' value at that pixel, to
+// the bit (its unrolled inner sum adds in this order too).
+func mean3At(v []float64, w, h, x, y int) float32 {
+	var s float32
+	var c int
+	for yy := max(y-1, 0); yy <= min(y+1, h-1); yy++ {
+		row := v[yy*w : (yy+1)*w]
+		for xx := max(x-1, 0); xx <= min(x+1, w-1); xx++ {
+			s += float32(row[xx])
+			c++
+		}
+	}
+	return s / float32(c)
 }
 
 // dilateSquare returns m dilated by a (2r+1)x(2r+1) square (separable

@@ -267,3 +267,24 @@ func TestFloodOrderMatchesSort(t *testing.T) {
 		}
 	}
 }
+
+// mean3At, the 3x3 mean at one pixel that tightenObjects takes where it
+// looks, is boxMean3Rows' plane to the bit at every pixel, border
+// pixels included.
+func TestMean3AtMatchesBoxMean3Rows(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 6))
+	for _, sz := range [][2]int{{1, 1}, {1, 7}, {7, 1}, {2, 2}, {3, 3}, {17, 9}, {64, 300}} {
+		w, h := sz[0], sz[1]
+		v := make([]float64, w*h)
+		for i := range v {
+			v[i] = rng.ExpFloat64() * math.Pow(10, float64(rng.IntN(7)-3))
+		}
+		want := make([]float32, w*h)
+		boxMean3Rows(v, want, w, h, 0, h)
+		for i := range want {
+			if got := mean3At(v, w, h, i%w, i/w); got != want[i] {
+				t.Fatalf("%dx%d: (%d,%d) = %v, want %v", w, h, i%w, i/w, got, want[i])
+			}
+		}
+	}
+}

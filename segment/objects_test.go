@@ -398,7 +398,7 @@ func TestWithoutCrumbs(t *testing.T) {
 	put(4, 1, 11, 14, 2, 4, 0.6) // 6 px
 	put(5, 0, 0, 2, 4, 6, 1.2)   // 4 px, brighter than its group's median
 	median := []float32{1, 1}
-	out, n := withoutCrumbs(labels, 5, group, sm, median)
+	out, n := withoutCrumbs(labels, 5, group, func(i int) float32 { return sm[i] }, median)
 	if n != 4 {
 		t.Fatalf("%d objects, want 4", n)
 	}

@@ -245,7 +245,7 @@ func TestTightenTexturedDisc(t *testing.T) {
 		}
 		slices.Sort(vals)
 		b := box{36 - 18, 36 - 18, 36 + 18, 36 + 18}
-		if in := texturedInterior(sm, func() gaussCrop { return cropGaussian(con, b, w, h, textureFill) }, px, b, w, h, halfMaxLevel(vals)); len(in.pix) > 0 {
+		if in := texturedInterior(func(i int) float32 { return sm[i] }, func() gaussCrop { return cropGaussian(con, b, w, h, textureFill) }, px, b, w, h, halfMaxLevel(vals)); len(in.pix) > 0 {
 			engaged++
 		}
 		out, n := tightenObjects(con, labelmap.Map{Pix: region, Width: w, Height: h}, 1, 20, 1)
