@@ -67,7 +67,7 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // grouping (callers reuse it); otherwise field is nil.
 // With several feature planes (CIE Lab) the region mean vectors are grouped
 // by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32) {
+func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32, grid *fieldGrid) {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
@@ -79,7 +79,7 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			}
 		}
 		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed, 1)
-		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil
+		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil, nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
@@ -101,9 +101,10 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			mask = make([]bool, len(reg))
 		}
 		if !maskOfClass(mask, reg, cls, ref, workers) {
-			return cls, nil
+			return cls, nil, nil
 		}
-		field = smoothFieldInto(field, lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
+		grid = smoothFieldGrid(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
+		field = grid.plane(field, workers)
 		sum := make([]float64, n)
 		sumRatioLabels(reg, lum, field, sum)
 		for r := range score {
@@ -117,11 +118,11 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			next = noiseBound(next, score, lum, field, mask, background)
 		}
 		if slices.Equal(next, cls) {
-			return cls, field // field was estimated from this very grouping
+			return cls, field, grid // field was estimated from this very grouping
 		}
 		cls = next
 	}
-	return cls, nil
+	return cls, nil, nil
 }
 
 // maskOfClass sets mask[i] to whether pixel i's region (reg) is of class
@@ -442,6 +443,27 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int)
 // into a new slice; it returns the field. Every pixel is overwritten, so
 // the result is smoothField's.
 func smoothFieldInto(dst, v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
+	return smoothFieldGrid(v, mask, w, h, sigma, workers).plane(dst, workers)
+}
+
+// fieldGrid is a smooth field before its interpolation: the gw x gh grid
+// of cell values (cell pixels each) that interpolateGrid spreads over the
+// w x h image. A caller that needs the field again much later keeps the
+// grid instead of the plane: plane gives the same values again.
+type fieldGrid struct {
+	grid               []float64
+	gw, gh, cell, w, h int
+}
+
+// plane is the field over the image (interpolateGridInto, into dst when
+// it holds w·h values).
+func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
+	return interpolateGridInto(dst, g.grid, g.gw, g.gh, g.cell, g.w, g.h, workers)
+}
+
+// smoothFieldGrid is smoothField's grid (see there), not yet
+// interpolated.
+func smoothFieldGrid(v []float32, mask []bool, w, h int, sigma float64, workers int) *fieldGrid {
 	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
 	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
 	sum := make([]float64, gw*gh)
@@ -484,7 +506,7 @@ func smoothFieldInto(dst, v []float32, mask []bool, w, h int, sigma float64, wor
 		}
 		grid[c] = global
 	}
-	return interpolateGridInto(dst, grid, gw, gh, cell, w, h, workers)
+	return &fieldGrid{grid: grid, gw: gw, gh: gh, cell: cell, w: w, h: h}
 }
 
 // blurGrid convolves a gw x gh grid with a separable Gaussian of σ cells,

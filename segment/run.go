@@ -759,7 +759,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			return ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
-		cls, field := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
+		cls, field, fieldG := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		if p.Background == "" {
 			res.Classes = labelmap.New(w, h)
 			for i, r := range reg {
@@ -777,7 +777,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					mask = make([]bool, npix)
 				}
 				maskOfClass(mask, reg, cls, bg, p.Workers)
-				return smoothFieldInto(field, in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
+				fieldG = smoothFieldGrid(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
+				return fieldG.plane(field, p.Workers)
 			}
 			if field == nil {
 				field = backgroundField()
@@ -835,6 +836,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
 			}
+			if !fresh {
+				// The object map is made again below: not held
+				// through the faint objects' search.
+				obj = nil
+			}
 			if nodeOf != nil && p.Classes == 2 {
 				before := nreg
 				// faintObjects adds regions when it finds faint objects and
@@ -845,6 +851,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					fresh = false
 				}
 			}
+			// Nothing reads the field plane again before outshone, at the
+			// end of the objects stage: it is dropped through the
+			// tightening and the re-cut (the class stage's largest live
+			// set) and made again from its grid there, the same values.
+			field = nil
 			if !fresh {
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			}
@@ -878,6 +889,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
+			field = fieldG.plane(nil, p.Workers)
 			if drop := outshone(in.Luminance, field, res.Labels, res.NumObjects); drop != nil {
 				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
