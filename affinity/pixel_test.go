@@ -263,6 +263,11 @@ func TestPixelGraphBadInput(t *testing.T) {
 	good := make([]float32, 12)
 	bad := make([]float32, 12)
 	bad[7] = float32(math.NaN())
+	// Infinities, and a largest finite value that must pass (checkPlanes
+	// tests v - v != 0: NaN for NaN and ±Inf only, IEEE 754).
+	posInf, negInf, huge := make([]float32, 12), make([]float32, 12), make([]float32, 12)
+	posInf[5], negInf[11], huge[2] = float32(math.Inf(1)), float32(math.Inf(-1)), math.MaxFloat32
+	huge[3] = -math.MaxFloat32
 	cases := []struct {
 		name string
 		f    [][]float32
@@ -275,12 +280,17 @@ func TestPixelGraphBadInput(t *testing.T) {
 		{"zero width", [][]float32{{}}, 0, 3, "empty"},
 		{"negative height", [][]float32{{}}, 3, -1, "empty"},
 		{"NaN feature", [][]float32{bad}, 4, 3, "non-finite value NaN at pixel (3,1)"},
+		{"+Inf feature", [][]float32{good, posInf}, 4, 3, "plane 1 has a non-finite value +Inf at pixel (1,1)"},
+		{"-Inf feature", [][]float32{negInf}, 4, 3, "non-finite value -Inf at pixel (3,2)"},
 	}
 	for _, c := range cases {
 		_, err := PixelGraph(c.f, c.w, c.h, p, 1)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
 		}
+	}
+	if err := checkPlanes([][]float32{huge}, 4, 3); err != nil {
+		t.Errorf("largest finite values refused: %v", err)
 	}
 }
 

@@ -54,7 +54,7 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 	if iters == 0 {
 		iters = 10
 	}
-	s := newSLICState(f, w, h, p.Count, p.Compactness/100)
+	s := newSLICState(f, w, h, p.Count, p.Compactness/100, workers)
 	for it := 0; it < iters; it++ {
 		// A band's sums need only its own labels: each band is summed
 		// right after it is assigned, while its rows are in cache.
@@ -95,7 +95,7 @@ type slicState struct {
 	span [][2]int32
 }
 
-func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
+func newSLICState(f [][]float32, w, h, count int, m float64, workers int) *slicState {
 	N := w * h
 	count = max(1, min(count, N/4))
 	step := math.Sqrt(float64(N) / float64(count))
@@ -121,14 +121,22 @@ func newSLICState(f [][]float32, w, h, count int, m float64) *slicState {
 		}
 	}
 	// Start from the grid cells, so that a pixel no window reaches in the
-	// first iteration still has a label.
+	// first iteration still has a label: pixel (x, y) in cell
+	// (y·ny/h)·nx + x·nx/w, the column part looked up per x.
 	s.label = make([]int32, N)
-	for y := 0; y < h; y++ {
-		row := y * ny / h * nx
-		for x := 0; x < w; x++ {
-			s.label[y*w+x] = int32(row + x*nx/w)
-		}
+	col := make([]int32, w)
+	for x := range col {
+		col[x] = int32(x * nx / w)
 	}
+	parallel.Blocks(h, 64, workers, func(_, y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			row := int32(y * ny / h * nx)
+			out := s.label[y*w : (y+1)*w]
+			for x, c := range col {
+				out[x] = row + c
+			}
+		}
+	})
 	s.dist = make([]uint32, N)
 	s.nb = slicBands(w, h, k)
 	s.sumsStride = k * (planes + 3)
