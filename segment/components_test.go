@@ -45,3 +45,46 @@ func TestComponentsOfRegionsMatchesGroupPlane(t *testing.T) {
 		}
 	}
 }
+
+// maskOfClass and classMap, on blocks of pixels on the workers, give the
+// plain loops' mask, class map and counts (worked by hand: one pixel at
+// a time, cls[reg[i]]), on maps of one block and of several.
+func TestMaskOfClassAndClassMap(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 7))
+	for _, sz := range [][2]int{{1, 1}, {7, 5}, {300, 300}, {513, 257}} {
+		w, h := sz[0], sz[1]
+		reg := randomGroups(rng, w, h, 50)
+		for i := range reg {
+			reg[i]++ // regions 0..50
+		}
+		cls := make([]int32, 51)
+		for r := range cls {
+			cls[r] = int32(rng.IntN(3))
+		}
+		for _, c := range []int32{0, 1, 2, 3} { // 3: no region of that class
+			wantMask, wantAny := make([]bool, len(reg)), false
+			wantMap, wantOut := make([]int32, len(reg)), 0
+			for i, r := range reg {
+				wantMask[i] = cls[r] == c
+				wantAny = wantAny || wantMask[i]
+				wantMap[i] = cls[r]
+				if cls[r] != c {
+					wantOut++
+				}
+			}
+			for _, workers := range []int{1, 3} {
+				mask := make([]bool, len(reg))
+				for i := range mask {
+					mask[i] = rng.IntN(2) == 0 // stale values
+				}
+				if got := maskOfClass(mask, reg, cls, c, workers); got != wantAny || !slices.Equal(mask, wantMask) {
+					t.Fatalf("%dx%d class %d workers %d: maskOfClass found %v, want %v (masks equal: %v)", w, h, c, workers, got, wantAny, slices.Equal(mask, wantMask))
+				}
+				out := make([]int32, len(reg))
+				if n := classMap(out, reg, cls, c, workers); n != wantOut || !slices.Equal(out, wantMap) {
+					t.Fatalf("%dx%d class %d workers %d: classMap counted %d outside, want %d (maps equal: %v)", w, h, c, workers, n, wantOut, slices.Equal(out, wantMap))
+				}
+			}
+		}
+	}
+}

@@ -863,8 +863,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			obj, nobj = joinTouching(con, objects(obj), nobj)
 			// The class map is made only now, from the final classes
 			// (the object passes above leave reg and cls as they are):
-			// one plane less through the stages above, the tightening's
-			// the largest live set of the class stage.
+			// one plane less through those passes, where the class
+			// stage's live set is largest.
 			res.Classes = labelmap.New(w, h)
 			objectClassPixels = classMap(res.Classes.Pix, reg, cls, bg, p.Workers)
 			stage("classes")
