@@ -818,6 +818,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 						dropped[reg[i]] = true
 					}
 				}
+				// The object map is stale from here (the classes
+				// changed): dropped before the field and the contrast are
+				// made again, and made again only where it is read.
+				obj = nil
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
