@@ -369,10 +369,16 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	rec.Input = in.Info
 	rec.Seconds["decode"], rec.Seconds["features"] = in.decodeSeconds, in.featureSeconds
 	feat := in.Features
+	// The raw plane is read only by the region table, after segmenting:
+	// it is held packed meanwhile (16-bit samples when they hold it
+	// exactly), half a plane less through the class stage.
+	raw := packPlane(feat.Raw, j.Options.Params.Workers)
+	feat.Raw = nil
 	res, err := Segment(ctx, in, j.Options.Params)
 	if err != nil {
 		return fail(err)
 	}
+	feat.Raw = raw.plane(j.Options.Params.Workers)
 	for _, st := range res.Stages {
 		rec.Seconds[st.Name] += st.Seconds
 	}
