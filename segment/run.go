@@ -790,6 +790,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, p.Workers), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
 			con := contrastMap(in.Luminance, field, p.Workers)
 			edges.con = con
+			// The field plane is held only while it is read (the
+			// contrast map, rejudge, the faint objects, outshone) and
+			// made again from its grid (fieldG, the same values) where it
+			// is read later: one plane less through the edge tests and
+			// the object maps.
+			field = nil
 			// objects is an object map of this image.
 			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
 			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
@@ -831,14 +837,17 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
+				field = nil
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 				fresh = true
 			}
+			field = nil
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
 				fresh = false
 				field = backgroundField()
 				con = contrastMapInto(con, in.Luminance, field, p.Workers)
 				edges.con = con
+				field = nil
 			}
 			if !fresh {
 				// The object map is made again below: not held
@@ -847,6 +856,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			if nodeOf != nil && p.Classes == 2 {
 				before := nreg
+				field = fieldG.plane(nil, p.Workers)
 				// faintObjects adds regions when it finds faint objects and
 				// leaves everything as it was otherwise.
 				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1), p.Workers)
