@@ -156,8 +156,8 @@ func (g gaussCrop) at(i, w int) float32 { return g.v[(i/w-g.y0)*g.gw+i%w-g.x0] }
 // the object touches the frame.
 func cropGaussian(con []float64, b box, w, h int, s float64) gaussCrop {
 	m := int(math.Ceil(3 * s))
-	x0, y0 := max(b.x0-m, 0), max(b.y0-m, 0)
-	x1, y1 := min(b.x1+m, w-1), min(b.y1+m, h-1)
+	g0 := b.grown(m, w, h)
+	x0, y0, x1, y1 := g0.x0, g0.y0, g0.x1, g0.y1
 	gw, gh := x1-x0+1, y1-y0+1
 	g := make([]float32, gw*gh)
 	for y := y0; y <= y1; y++ {

@@ -361,8 +361,8 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		}
 		level := level[l]
 		b := boxes[l]
-		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
-		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
+		r := b.grown(tightenReach, w, h)
+		x0, y0, x1, y1 := r.x0, r.y0, r.x1, r.y1
 		bw, bh := x1-x0+1, y1-y0+1
 		own := make([]bool, bw*bh)
 		for y := y0; y <= y1; y++ {
@@ -784,6 +784,11 @@ func neighbours4(i, w, h int, f func(j int)) {
 
 // box is an inclusive pixel bounding box.
 type box struct{ x0, y0, x1, y1 int }
+
+// grown is b grown by m pixels on every side, clipped to a w x h frame.
+func (b box) grown(m, w, h int) box {
+	return box{max(b.x0-m, 0), max(b.y0-m, 0), min(b.x1+m, w-1), min(b.y1+m, h-1)}
+}
 
 // objectPixels returns, for labels 1..n (0 background), each object's
 // bounding box and its pixels in raster order (index 0 unused).

@@ -117,8 +117,8 @@ func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 		slices.Sort(vals)
 		plateau := halfMaxLevel(vals) / tightenLevel
 		level := tightenLevel * plateau
-		x0, y0 := max(b.x0-tightenReach, 0), max(b.y0-tightenReach, 0)
-		x1, y1 := min(b.x1+tightenReach, w-1), min(b.y1+tightenReach, h-1)
+		r := b.grown(tightenReach, w, h)
+		x0, y0, x1, y1 := r.x0, r.y0, r.x1, r.y1
 		bw := x1 - x0 + 1
 		seen := make([]bool, bw*(y1-y0+1))
 		queue := append([]int(nil), px...)
