@@ -315,10 +315,13 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		if len(px) == 0 {
 			return
 		}
-		vals := make([]float32, len(px))
+		// The 3x3 means of the object's pixels, taken once for the
+		// rules below.
+		own := make([]float32, len(px))
 		for q, i := range px {
-			vals[q] = sm(i)
+			own[q] = sm(i)
 		}
+		vals := slices.Clone(own)
 		slices.Sort(vals)
 		median[l-1] = vals[(len(vals)-1)/2]
 		level[l] = halfMaxLevel(vals)
@@ -331,25 +334,25 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			}
 			return g
 		}
-		dims[l] = dimMembers(sm, gauss, px, boxes[l], w, h, level[l], minArea)
+		dims[l] = dimMembers(own, gauss, px, boxes[l], w, level[l], minArea)
 		if len(dims[l]) > 0 {
 			// The object's own level, without its members' pixels.
-			taken := map[int]bool{}
+			taken := make([]bool, len(px))
 			for _, m := range dims[l] {
-				for _, i := range m.pix {
-					taken[i] = true
+				for _, k := range m.ks {
+					taken[k] = true
 				}
 			}
 			vals = vals[:0]
-			for _, i := range px {
-				if !taken[i] {
-					vals = append(vals, sm(i))
+			for k, v := range own {
+				if !taken[k] {
+					vals = append(vals, v)
 				}
 			}
 			slices.Sort(vals)
 			level[l] = halfMaxLevel(vals)
 		}
-		inner[l] = texturedInterior(sm, gauss, px, boxes[l], w, h, level[l])
+		inner[l] = texturedInterior(own, gauss, px, boxes[l], w, level[l])
 	})
 	group := make([]int32, len(labels))
 	for i, l := range labels {
@@ -394,18 +397,15 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 				group[i] = int32(l - 1)
 			}
 		}
-		// Dim members take their pixels, innermost first, as objects
-		// of their own (new groups after the n objects').
-		first := int32(len(median))
+		// Dim members take their pixels as objects of their own (new
+		// groups after the n objects').
 		for _, m := range dims[l] {
 			id := int32(len(median))
 			median = append(median, m.median)
-			for _, i := range m.pix {
-				if group[i] >= first {
-					continue
-				}
+			for q, k := range m.ks {
+				i := pixels[l][k]
 				group[i] = -1
-				if sm(i) >= m.level {
+				if m.vals[q] >= m.level {
 					group[i] = id
 				}
 			}
@@ -439,29 +439,29 @@ type interior struct {
 }
 
 // texturedInterior decides the interior of a textured object for
-// tightenObjects. The 3x3 mean of the contrast (sm(i) at pixel i)
-// follows grain finer than the object (the dark gaps between chromatin
-// foci), and where the object's plateau is near its outline level that
-// grain crosses the level: where the grain runs low in a band across the
-// object, the level cuts it in two or into crumbs of foci
-// (othershapes.py chromatin). For an object (pixels px, box b, outline level at level)
-// whose fine spread is textured (fineTexture on the double 3x3 mean over
-// its region, plateau level/tightenLevel, above textureLimit), the
-// pixels at least 2 textureFill deep in its region (distanceInside) are
-// judged instead on the Gaussian mean of the contrast (gauss, the
-// object's cropGaussian at textureFill), which averages the grain out;
-// beyond two standard deviations less than 2.3 % of the Gaussian's
-// weight lies outside the region (the one-sided normal tail), so the
-// background around the object does not pull that mean down. Pixels
-// nearer the outline keep the 3x3 test, which holds outlines to the
-// pixel. An untextured object gives the zero interior.
-func texturedInterior(sm func(i int) float32, gauss func() gaussCrop, px []int, b box, w, h int, level float32) interior {
+// tightenObjects. The 3x3 mean of the contrast follows grain finer than
+// the object (the dark gaps between chromatin foci), and where the
+// object's plateau is near its outline level that grain crosses the
+// level: where the grain runs low in a band across the object, the level
+// cuts it in two or into crumbs of foci (othershapes.py chromatin). For
+// an object (pixels px, ascending, with 3x3 means own; box b; outline
+// level at level) whose fine spread is textured (fineTexture on the
+// double 3x3 mean over its region, plateau level/tightenLevel, above
+// textureLimit), the pixels at least 2 textureFill deep in its region
+// (distanceInside) are judged instead on the Gaussian mean of the
+// contrast (gauss, the object's cropGaussian at textureFill), which
+// averages the grain out; beyond two standard deviations less than 2.3 %
+// of the Gaussian's weight lies outside the region (the one-sided normal
+// tail), so the background around the object does not pull that mean
+// down. Pixels nearer the outline keep the 3x3 test, which holds
+// outlines to the pixel. An untextured object gives the zero interior.
+func texturedInterior(own []float32, gauss func() gaussCrop, px []int, b box, w int, level float32) interior {
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	nodes := make([]int, len(px))
 	feat := make([]float32, cw*ch)
 	for k, i := range px {
 		nodes[k] = (i/w-b.y0)*cw + i%w - b.x0
-		feat[nodes[k]] = sm(i)
+		feat[nodes[k]] = own[k]
 	}
 	dist := distanceInside(cropMask(nodes, cw*ch), cw, ch)
 	if fineTexture(boxMean3(feat, cw, ch), nodes, dist, cw, ch, float64(level)/tightenLevel) <= textureLimit {

@@ -239,13 +239,14 @@ func TestTightenTexturedDisc(t *testing.T) {
 				px = append(px, i)
 			}
 		}
-		vals := make([]float32, len(px))
+		own := make([]float32, len(px))
 		for k, i := range px {
-			vals[k] = sm[i]
+			own[k] = sm[i]
 		}
+		vals := slices.Clone(own)
 		slices.Sort(vals)
 		b := box{36 - 18, 36 - 18, 36 + 18, 36 + 18}
-		if in := texturedInterior(func(i int) float32 { return sm[i] }, func() gaussCrop { return cropGaussian(con, b, w, h, textureFill) }, px, b, w, h, halfMaxLevel(vals)); len(in.pix) > 0 {
+		if in := texturedInterior(own, func() gaussCrop { return cropGaussian(con, b, w, h, textureFill) }, px, b, w, halfMaxLevel(vals)); len(in.pix) > 0 {
 			engaged++
 		}
 		out, n := tightenObjects(con, labelmap.Map{Pix: region, Width: w, Height: h}, 1, 20, 1)
