@@ -35,13 +35,16 @@ type member struct {
 // such saddle), and it holds at least minArea pixels. Every basin but
 // the one of the highest peak whose peak is below the region's plateau
 // (level/tightenLevel: dimmer than the object the level was drawn for)
-// is a member. Its own level is halfMaxLevel of the 3x3 means over its
+// is a member. Where the flooding finds a single basin, the region's
+// shape may still part a dim member from the rest (neckMember). A
+// member's own level is halfMaxLevel of the 3x3 means over its
 // pixels, as for any object (tightenObjects then takes the level of the
 // rest of the region without the members' pixels, since a large dim
 // member pulls the region's plateau down and the bright object's outline
 // out). px are the region's pixels (frame indices, ascending), own their
-// 3x3 means, b the region's box, w the frame's width.
-func dimMembers(own []float32, gauss func() gaussCrop, px []int, b box, w int, level float32, minArea int) []member {
+// 3x3 means, sm the 3x3 mean at any pixel, b the region's box, w x h the
+// frame.
+func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, px []int, b box, w, h int, level float32, minArea int) []member {
 	plateau := level / tightenLevel
 	if len(px) < 2*minArea || !(plateau > 0) {
 		return nil
@@ -56,7 +59,7 @@ func dimMembers(own []float32, gauss func() gaussCrop, px []int, b box, w int, l
 	}
 	lab, n := basins(v, mask, cw, ch, 0, tightenLevel, minArea)
 	if n < 2 {
-		return nil
+		return neckMember(own, sm, px, mask, b, w, h, level, minArea)
 	}
 	peak := make([]float32, n)
 	for c, l := range lab {
@@ -84,6 +87,83 @@ func dimMembers(own []float32, gauss func() gaussCrop, px []int, b box, w int, l
 		}
 	}
 	return found
+}
+
+// neckMember finds a dim member that the region's shape parts from the
+// rest where its contrast does not (dimMembers): a pale textured nucleus
+// pressed against a bright one has no saddle of its own in the Gaussian
+// mean, since the bright one's slope runs over it, yet the class map
+// outlines the pair as two discs joined at a neck. The region (mask over
+// box b, pixels px with 3x3 means own) is split at the deepest neck of
+// its distance map (deepestNeck, more than neckNoise pixels deep and of
+// relative depth at least refineNeck) by the two-marker watershed of the
+// distance transform (splitAtNeck). A side is a member when it holds at
+// least minArea pixels and its median 3x3 mean lies below the region's
+// outline level: that level would drop most of it, so it is outlined at
+// its own half maximum instead. A side at or above the level is part of
+// the bright object however the shape runs; the split is only ever asked
+// where the intensity has already found no member. A member's own
+// outline level (half its plateau) must lie above the median 3x3 mean
+// of the background around the region (sm at the pixels within
+// tightenReach of the region's box that are not the region's), or that
+// outline would not part it from the background: a superpixel of
+// background noise that the class map hung on an object's side is no
+// member.
+func neckMember(own []float32, sm func(i int) float32, px []int, mask []bool, b box, w, h int, level float32, minArea int) []member {
+	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
+	d := distanceInside(mask, cw, ch)
+	nk := deepestNeck(d, cw, ch, neckNoise)
+	if nk.peakA < 0 || nk.depth < refineNeck {
+		return nil
+	}
+	side := splitAtNeck(d, cw, ch, nk)
+	var parts [3][]int32
+	for k, i := range px {
+		s := side[(i/w-b.y0)*cw+i%w-b.x0]
+		parts[s] = append(parts[s], int32(k))
+	}
+	var found []member
+	surround := float32(-1)
+	for _, ks := range parts[1:] {
+		if len(ks) < minArea || len(ks) == len(px) {
+			continue
+		}
+		m := memberOf(ks, own)
+		if m.median >= level {
+			continue
+		}
+		if surround < 0 {
+			surround = surroundMedian(sm, mask, b, w, h)
+		}
+		if m.level > surround {
+			found = append(found, m)
+		}
+	}
+	if len(found) == 2 { // both sides dim: the level is not theirs to fall below
+		return nil
+	}
+	return found
+}
+
+// surroundMedian is the median of sm over the pixels of box b grown by
+// tightenReach (clipped to the w x h frame) outside the region mask
+// (over b), 0 when there are none.
+func surroundMedian(sm func(i int) float32, mask []bool, b box, w, h int) float32 {
+	g := b.grown(tightenReach, w, h)
+	cw := b.x1 - b.x0 + 1
+	var v []float32
+	for y := g.y0; y <= g.y1; y++ {
+		for x := g.x0; x <= g.x1; x++ {
+			if x >= b.x0 && x <= b.x1 && y >= b.y0 && y <= b.y1 && mask[(y-b.y0)*cw+x-b.x0] {
+				continue
+			}
+			v = append(v, sm(y*w+x))
+		}
+	}
+	if len(v) == 0 {
+		return 0
+	}
+	return kthSmallest(v, (len(v)-1)/2)
 }
 
 // memberOf makes a member of the region pixels ks (indices into the

@@ -17,7 +17,10 @@ import (
 // wholly below the region's outline level (half the bright plateau), and
 // only its own half-maximum outline (dimMembers) finds it; a large dim
 // disc pulls the region's plateau down, so the bright disc's outline was
-// drawn too wide until its level was taken without its member. Without
+// drawn too wide until its level was taken without its member. A dim
+// disc pressed against a bright one has no saddle of its own (the bright
+// disc's blurred slope runs over it); the neck of the region's outline
+// parts it (neckMember; without it that case gave 1 object). Without
 // dimMembers the small dim disc was lost and the bright disc beside the
 // large one had IoU 0.649 (the first case passed either way). A single
 // blurred disc with a wide, noisy halo must stay one object: its halo
@@ -35,6 +38,7 @@ func TestTightenDimMember(t *testing.T) {
 		{"dim disc at 0.35 beside a bright one, blur 2 px", []disc{{25, 25, 11, 1}, {52, 25, 10, 0.35}}, 2},
 		{"dim disc at 0.4, blur 3.5 px", []disc{{25, 25, 11, 1}, {54, 25, 10, 0.4}}, 3.5},
 		{"small dim disc at 0.3, blur 1.5 px", []disc{{25, 25, 12, 1}, {49, 25, 6, 0.3}}, 1.5},
+		{"dim disc at 0.3 pressed against a bright one, blur 2 px", []disc{{25, 25, 11, 1}, {45, 25, 10, 0.3}}, 2},
 		{"single disc, blur 4 px", []disc{{45, 25, 12, 1}}, 4},
 	}
 	for _, tc := range tests {

@@ -334,7 +334,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			}
 			return g
 		}
-		dims[l] = dimMembers(own, gauss, px, boxes[l], w, level[l], minArea)
+		dims[l] = dimMembers(own, gauss, sm, px, boxes[l], w, h, level[l], minArea)
 		if len(dims[l]) > 0 {
 			// The object's own level, without its members' pixels.
 			taken := make([]bool, len(px))
@@ -1208,7 +1208,12 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 // joinTouching merges objects (labels 1..n, 0 background) that touch
 // without a seam between them, by the rule of objectsFrom: the mean
 // contrast con over the pixels on both sides of their shared border is
-// at least seamRatio times the weaker object's mean contrast. Redrawn
+// at least seamRatio times the weaker object's mean contrast, and the
+// weaker object's mean is at least tightenLevel of the stronger's: a
+// step to below half the brighter object's contrast is a border with no
+// dip (a dim object pressed against a bright one, whose blurred edge
+// runs over the border; tightenObjects outlined it apart, dimMembers).
+// Redrawn
 // outlines can bridge the gap between pieces of one object that the cut
 // left apart (a thin scratch found superpixel by superpixel), and a
 // border without a dip in contrast is no boundary between objects.
@@ -1248,7 +1253,8 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 	f := unionfind.New(n + 1)
 	for _, k := range keys {
 		a, b := int32(k>>32), int32(uint32(k))
-		if seamSum[k]/seamCnt[k] >= seamRatio*math.Min(mean[a], mean[b]) {
+		lo, hi := math.Min(mean[a], mean[b]), math.Max(mean[a], mean[b])
+		if seamSum[k]/seamCnt[k] >= seamRatio*lo && lo >= tightenLevel*hi {
 			f.Union(a, b)
 		}
 	}

@@ -223,7 +223,10 @@ func TestAbsorbSmall(t *testing.T) {
 // Two labelled halves of one bright bar touch with no dip in contrast
 // and become one object; the same halves with the two border columns
 // dimmed to 0.3 of the bar's contrast (below seamRatio = 0.8 of it, the
-// rule of objectsFrom) stay two.
+// rule of objectsFrom) stay two. A step is a border too: a right half at
+// 0.4 of the left's contrast (below tightenLevel of it, a dim object
+// pressed against a bright one) stays apart with no dip at the border,
+// one at 0.6 joins.
 func TestJoinTouching(t *testing.T) {
 	const w, h = 12, 4
 	labels := make([]int32, w*h)
@@ -236,21 +239,23 @@ func TestJoinTouching(t *testing.T) {
 		}
 	}
 	for _, c := range []struct {
-		seam float64
-		want int
-	}{{1, 1}, {0.3, 2}} {
+		seam, right float64
+		want        int
+	}{{1, 1, 1}, {0.3, 1, 2}, {-1, 0.4, 2}, {-1, 0.6, 1}} { // seam -1: none
 		con := make([]float64, w*h)
 		for i, l := range labels {
-			if l > 0 {
+			switch {
+			case l > 0 && c.seam >= 0 && (i%w == 5 || i%w == 6):
+				con[i] = c.seam
+			case l == 1:
 				con[i] = 1
-				if x := i % w; x == 5 || x == 6 {
-					con[i] = c.seam
-				}
+			case l == 2:
+				con[i] = c.right
 			}
 		}
 		_, n := joinTouching(con, labelmap.Map{Pix: labels, Width: w, Height: h}, 2)
 		if n != c.want {
-			t.Errorf("border contrast %v: %d objects, want %d", c.seam, n, c.want)
+			t.Errorf("border contrast %v, right half %v: %d objects, want %d", c.seam, c.right, n, c.want)
 		}
 	}
 }
