@@ -2,7 +2,6 @@ package segment
 
 import (
 	"math"
-	"slices"
 
 	"github.com/cleave-seg/cleave/affinity"
 )
@@ -128,9 +127,16 @@ func medianOf(v []float64) float64 {
 	if n == 0 {
 		return math.NaN()
 	}
-	slices.Sort(v)
+	// Selection instead of a sort: kthSmallest leaves the values below
+	// the upper middle one before it, so the lower middle one is their
+	// largest (the same values a sort gives, in linear time).
+	hi := kthSmallest(v, n/2)
 	if n%2 == 1 {
-		return v[n/2]
+		return hi
 	}
-	return (v[n/2-1] + v[n/2]) / 2
+	lo := v[0]
+	for _, x := range v[1 : n/2] {
+		lo = max(lo, x)
+	}
+	return (lo + hi) / 2
 }

@@ -280,3 +280,39 @@ func float32s(v []float64) []float32 {
 	}
 	return out
 }
+
+// TestMedianOfSelection checks medianOf, which selects instead of
+// sorting, against the median of the sorted values (the middle value,
+// or the mean of the two middle ones for an even count: the definition
+// numpy.median uses) on random values with ties, negative zeros and
+// odd and even counts.
+func TestMedianOfSelection(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, n := range []int{1, 2, 3, 4, 5, 10, 11, 64, 255, 1000, 1001} {
+		for rep := 0; rep < 20; rep++ {
+			v := make([]float64, n)
+			for i := range v {
+				switch rng.IntN(4) {
+				case 0:
+					v[i] = float64(rng.IntN(5)) // ties
+				case 1:
+					v[i] = math.Copysign(0, -1)
+				default:
+					v[i] = rng.NormFloat64()
+				}
+			}
+			s := slices.Clone(v)
+			slices.Sort(s)
+			want := s[n/2]
+			if n%2 == 0 {
+				want = (s[n/2-1] + s[n/2]) / 2
+			}
+			if got := medianOf(slices.Clone(v)); got != want {
+				t.Fatalf("n %d: medianOf %v, sorted median %v", n, got, want)
+			}
+		}
+	}
+	if !math.IsNaN(medianOf(nil)) {
+		t.Error("medianOf of no values is not NaN")
+	}
+}
