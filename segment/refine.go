@@ -953,9 +953,10 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	for k, i := range px {
 		nodes[k] = (i/w-b.y0)*cw + i%w - b.x0
 	}
+	// The scale is a quantile of the contrast: selected here, and the
+	// values sorted only for an object that goes on to be cut (below).
 	sorted := slices.Clone(contrast)
-	slices.Sort(sorted)
-	scale := math.Max(sorted[int(refinePercent*float64(len(sorted)-1))], 1e-6)
+	scale := math.Max(kthSmallest(sorted, int(refinePercent*float64(len(sorted)-1))), 1e-6)
 	feat := make([]float32, cw*ch)
 	for k := range px {
 		feat[nodes[k]] = float32(contrast[k] / scale)
@@ -965,15 +966,6 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	mask := cropMask(nodes, cw*ch)
 	dist := distanceInside(mask, cw, ch)
 	shape := &objectShape{mask: mask, smooth: smooth, cw: cw, ch: ch, dist: dist}
-	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape}
-	// The scaled contrast in ascending order: sorted divided by scale (a
-	// monotone map, so no second sort).
-	featSorted := make([]float32, len(sorted))
-	for k, v := range sorted {
-		featSorted[k] = float32(v / scale)
-	}
-	obj.plateau = float64(halfMaxLevel(featSorted)) / tightenLevel
-	obj.texture = fineTexture(smooth, nodes, dist, cw, ch, obj.plateau)
 	// The outline's neck, or the half-maximum core's where a halo hides
 	// it (held to neckPieces' depth, since the core is noisier).
 	_, outlineNeck, _ := shape.outline()
@@ -989,6 +981,18 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	if !necked && solid {
 		return refineResult{regions: 1}
 	}
+	// What only the cut's tests read (the noise, the plateau, the
+	// texture) is measured once the object is to be cut.
+	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape}
+	// The scaled contrast in ascending order: sorted divided by scale (a
+	// monotone map, so no second sort).
+	slices.Sort(sorted)
+	featSorted := make([]float32, len(sorted))
+	for k, v := range sorted {
+		featSorted[k] = float32(v / scale)
+	}
+	obj.plateau = float64(halfMaxLevel(featSorted)) / tightenLevel
+	obj.texture = fineTexture(smooth, nodes, dist, cw, ch, obj.plateau)
 	// The crop's pixel graph induced on the object's pixels, built from
 	// them alone (the crop's other pixels may be most of it). nodes is
 	// ascending (px is in raster order), so the subgraph's node k is
