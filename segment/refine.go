@@ -1076,8 +1076,8 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	return refineResult{region: region, regions: regions, splits: splits, short: cut.short}
 }
 
-// The work of re-cutting one object is capped in two ways, so that the
-// object stages cost at most a fixed amount per object and, summed, grow
+// The work of re-cutting one object is capped, so that the object
+// stages cost at most a fixed amount per object and, summed, grow
 // linearly with the objects' area (DEVELOPERS.md, "Measured choices",
 // gives the measurements):
 //
@@ -1085,10 +1085,15 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     own pixel graph, one node a pixel. The touching clusters refinement
 //     is for (two to a handful of objects) stay below it on the scenes the
 //     project measures (a cluster of four nuclei of radius 25 px is about
-//     7,900 px); what exceeds it is usually a structure (a vessel tree, or
-//     the background taken for an object under the wrong polarity).
-//     A larger object is re-cut on a grid coarse enough to give it at
-//     most about this many nodes (refineCoarse).
+//     7,900 px); what exceeds it is usually a structure (a vessel tree, a
+//     machine's frame, or the background taken for an object under the
+//     wrong polarity), whose parts are large.
+//   - refineCoarseNodes: a larger object is re-cut on a grid coarse enough
+//     to give it at most about this many nodes (refineCoarse, coarseStep),
+//     a quarter of the largest re-cut at full resolution: such structures
+//     made most of the re-cut's work on scikit-image's photographs, and
+//     on the generated scenes only a few cells of othershapes.py bodies
+//     were that large (their scores rose a little).
 //   - refineWork: the recursive bisection of one object solves parts of at
 //     most refineWork times its node count n in total (cutOptions.budget).
 //     A split into balanced halves costs the part's nodes at each level,
@@ -1098,20 +1103,30 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     piece off solves nearly all n nodes again at each split; the budget
 //     stops it after about refineWork splits.
 //
-// The whole re-cut of one object thus solves at most refineWork x
-// refineMaxNodes = 40,000 nodes in all, and a solve costs about a
-// constant per node (the multilevel eigensolver takes a few steps on the
-// input graph at the loose target splitTol).
+// The cap on the work per object: its re-cut solves parts of at most
+// refineWork x n nodes in all, with n at most refineMaxNodes = 10,000
+// (40,000 nodes solved) for an object re-cut at full resolution and
+// about refineCoarseNodes = 2,500 (10,000 nodes solved; a few more nodes
+// where the outline cuts cells) for a larger one, and a solve costs about
+// a constant per node (the multilevel eigensolver takes a few steps on
+// the input graph at the loose target splitTol). The shape tests beside
+// the solves (distance maps, necks, the split tests of each part) are
+// linear in the part's size or its bounding box.
 const (
-	refineMaxNodes = 10000
-	refineWork     = 4
+	refineMaxNodes    = 10000
+	refineCoarseNodes = 2500
+	refineWork        = 4
 )
 
-// coarseStep is the integer step s of the grid refineCoarse re-cuts an
-// object of area pixels on: the least s with area/s² <= refineMaxNodes.
+// coarseStep is the integer step s of the grid an object of area pixels
+// is re-cut on: 1 up to refineMaxNodes pixels, above that the least s
+// with area/s² <= refineCoarseNodes.
 func coarseStep(area int) int {
-	s := 1
-	for area > refineMaxNodes*s*s {
+	if area <= refineMaxNodes {
+		return 1
+	}
+	s := 2
+	for area > refineCoarseNodes*s*s {
 		s++
 	}
 	return s
@@ -1122,7 +1137,7 @@ func coarseStep(area int) int {
 // s x s pixels is a node when any of its pixels belongs to the object,
 // with the mean contrast of those pixels, and every pixel takes the
 // region of its cell. The graph then has about area/s² <=
-// refineMaxNodes nodes (a few more where the outline cuts cells), so
+// refineCoarseNodes nodes (a few more where the outline cuts cells), so
 // the work per object is bounded; the cut follows seams at the
 // resolution of s pixels, which for objects this large is a small
 // fraction of their size. minPart is scaled by 1/s² (at least 1).

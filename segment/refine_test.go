@@ -191,7 +191,7 @@ func TestNeckPiecesBarVersusDiscs(t *testing.T) {
 
 // An object above refineMaxNodes pixels is cut on a coarsened grid
 // (refineCoarse): two touching discs of radius 60 px (together about
-// 22,000 px, so a step of 2) with a dim seam between them still come
+// 22,200 px, so a step of 3) with a dim seam between them still come
 // apart along the seam, and every pixel of each disc away from the seam
 // lands in that disc's piece. The same pair at half the size (below the
 // cap, cut at full resolution) splits the same way.
@@ -608,24 +608,27 @@ func TestSliverSplit(t *testing.T) {
 }
 
 // coarseStep: objects up to refineMaxNodes are re-cut at full resolution;
-// above, the step is the least integer s with area/s² <= refineMaxNodes
-// (the definition; values worked by hand).
+// above, the step is the least integer s with area/s² <=
+// refineCoarseNodes (the definition; values worked by hand).
 func TestCoarseStep(t *testing.T) {
 	for _, c := range []struct{ area, want int }{
 		{1, 1},
 		{refineMaxNodes, 1},
-		{refineMaxNodes + 1, 2},
-		{4 * refineMaxNodes, 2},
-		{4*refineMaxNodes + 1, 3},
-		{90615, 4},    // scikit-image's camera.png, its largest object: 90,615 / 16 = 5,663; / 9 = 10,068
-		{1 << 24, 41}, // 16,777,216 / 1,681 = 9,980; / 1,600 = 10,486
+		{refineMaxNodes + 1, 3}, // 10,001 / 4 = 2,500.25; / 9 = 1,111
+		{4 * refineCoarseNodes * 4, 4},
+		{4*refineCoarseNodes*4 + 1, 5},
+		{90615, 7},    // scikit-image's camera.png, its largest object: 90,615 / 49 = 1,849; / 36 = 2,517
+		{1 << 24, 82}, // 16,777,216 / 6,724 = 2,495; / 6,561 = 2,557
 	} {
 		s := coarseStep(c.area)
 		if s != c.want {
 			t.Errorf("coarseStep(%d) = %d, want %d", c.area, s, c.want)
 		}
-		if c.area > refineMaxNodes*s*s {
-			t.Errorf("area %d at step %d leaves %d nodes, above refineMaxNodes", c.area, s, c.area/(s*s))
+		if s > 1 && c.area > refineCoarseNodes*s*s {
+			t.Errorf("area %d at step %d leaves %d nodes, above refineCoarseNodes", c.area, s, c.area/(s*s))
+		}
+		if s > 1 && c.area <= refineCoarseNodes*(s-1)*(s-1) && s > 2 {
+			t.Errorf("area %d: step %d, but %d already leaves at most refineCoarseNodes", c.area, s, s-1)
 		}
 	}
 }
