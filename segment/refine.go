@@ -1062,7 +1062,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		}
 		return solidity(whole, w) > refineSolidity
 	}
-	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true, budget: refineWork * len(px)})
+	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true, budget: refineBudget(len(px))})
 	if err != nil {
 		return refineResult{err: err}
 	}
@@ -1102,10 +1102,18 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     handful maxNeckSplits also allows). A cut that only peels a small
 //     piece off solves nearly all n nodes again at each split; the budget
 //     stops it after about refineWork splits.
+//   - refineMaxWork: and at most this many nodes in all, whatever n. It
+//     binds only above refineMaxWork/refineWork = 5,000 nodes, where it
+//     still pays for the first two levels of a cluster of four up to
+//     refineMaxNodes (2n: the cluster of four nuclei of radius 25 px
+//     above, about 7,900 px, is parted into four; TestRefineFourCluster),
+//     and stops the shredding of large ragged shapes (on the photographs
+//     such objects, 5,000-10,000 px cut into ten to twenty pieces, each
+//     solved four times their nodes).
 //
 // The cap on the work per object: its re-cut solves parts of at most
-// refineWork x n nodes in all, with n at most refineMaxNodes = 10,000
-// (40,000 nodes solved) for an object re-cut at full resolution and
+// min(refineWork x n, refineMaxWork) = 20,000 nodes in all, with n at most
+// refineMaxNodes = 10,000 for an object re-cut at full resolution and
 // about refineCoarseNodes = 2,500 (10,000 nodes solved; a few more nodes
 // where the outline cuts cells) for a larger one, and a solve costs about
 // a constant per node (the multilevel eigensolver takes a few steps on
@@ -1116,7 +1124,15 @@ const (
 	refineMaxNodes    = 10000
 	refineCoarseNodes = 2500
 	refineWork        = 4
+	refineMaxWork     = 20000
 )
+
+// refineBudget is the most nodes the recursive bisection of an object of
+// n nodes may solve in all (cutOptions.budget): refineWork n, at most
+// refineMaxWork.
+func refineBudget(n int) int {
+	return min(refineWork*n, refineMaxWork)
+}
 
 // coarseStep is the integer step s of the grid an object of area pixels
 // is re-cut on: 1 up to refineMaxNodes pixels, above that the least s

@@ -843,3 +843,74 @@ func TestCoreEvidentFloor(t *testing.T) {
 		t.Error("disc with one half at half the contrast, core neck 0.5 px deep: not evident, want evident (a step in contrast)")
 	}
 }
+
+// The cap on the re-cut's work (refineBudget: refineWork n, at most
+// refineMaxWork) still pays for the first two levels of a cluster of
+// four up to refineMaxNodes. Four 44 x 44 px blocks of contrast 1 in a
+// square, parted by a dim cross 3 px wide (contrast 0.6, wider than the
+// graph's reach), make a pixel graph of 8,281 nodes as the re-cut builds it (refineRadius,
+// refineSigmaI, refineSigmaX): weakly joined parts, the textbook case of
+// the normalized cut (Shi and Malik 2000); sides of at least half a
+// block keep the blocks themselves whole. Within the budget the
+// bisection parts all four blocks (the root and both halves, 2n nodes
+// solved); with half the cap it parts only two, so the test would see a
+// cap too small for a cluster of four.
+func TestRefineFourCluster(t *testing.T) {
+	const b, sw = 44, 3 // block side, cross width (beyond the graph's reach)
+	w := 2*b + sw
+	feat := make([]float32, w*w)
+	block := make([]int, w*w) // 0 on the cross, 1-4 in the blocks
+	var nodes []int
+	for y := 0; y < w; y++ {
+		for x := 0; x < w; x++ {
+			i := y*w + x
+			nodes = append(nodes, i)
+			if x >= b && x < b+sw || y >= b && y < b+sw {
+				feat[i] = 0.6
+				continue
+			}
+			feat[i] = 1
+			block[i] = 1 + x/(b+sw) + 2*(y/(b+sw))
+		}
+	}
+	g, err := affinity.PixelSubgraph([][]float32{feat}, w, w, nodes, affinity.PixelParams{Radius: refineRadius, SigmaI: refineSigmaI, SigmaX: refineSigmaX})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if 4*g.N <= refineMaxWork || g.N > refineMaxNodes {
+		t.Fatalf("%d nodes: the cap does not bind or the object would be coarsened; the test no longer covers its case", g.N)
+	}
+	for _, c := range []struct {
+		budget, want int
+	}{
+		{refineBudget(g.N), 4},
+		{refineMaxWork / 2, 2},
+	} {
+		res, err := bisect(context.Background(), g, nil, cutParams{maxNcut: RefineMaxNcut, minArea: b * b / 2, workers: 1, seed: 1}, cutOptions{noSpectrum: true, budget: c.budget})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.solved > c.budget {
+			t.Errorf("budget %d: %d nodes solved", c.budget, res.solved)
+		}
+		// Count the blocks' regions; every block must lie in one region.
+		regionOf := map[int]int32{}
+		seen := map[int32]bool{}
+		for i, k := range block {
+			if k == 0 {
+				continue
+			}
+			r, ok := regionOf[k]
+			if !ok {
+				regionOf[k] = res.region[i]
+				seen[res.region[i]] = true
+			} else if r != res.region[i] {
+				t.Fatalf("budget %d: block %d parted", c.budget, k)
+			}
+		}
+		t.Logf("budget %d: %d regions, %d solved, splits %v", c.budget, res.regions, res.solved, res.splitNcuts)
+		if len(seen) != c.want {
+			t.Errorf("budget %d: the four blocks in %d regions, want %d", c.budget, len(seen), c.want)
+		}
+	}
+}

@@ -17,7 +17,8 @@ import (
 // the time before their work per object was capped (segment/refine.go,
 // refineWork and the constants beside it), with the background each was
 // segmented against; the last two were among the largest shares after
-// it (the speed issue's list of 3 December 2026).
+// it (the speed issue's list of 3 December 2026), and the last one among
+// the largest on 4 December 2026 (branch obj7).
 var photographs = []struct{ background, file string }{
 	{"bright", "brick.png"},
 	{"dark", "chessboard_GRAY.png"},
@@ -30,6 +31,7 @@ var photographs = []struct{ background, file string }{
 	{"bright", "camera.png"},
 	{"dark", "chessboard_RGB.png"},
 	{"dark", "microaneurysms.png"},
+	{"bright", "motorcycle_left.png"},
 }
 
 // BenchmarkObjectsPhotographs is the whole command, `segment --classes 2
