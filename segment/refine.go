@@ -1092,8 +1092,8 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     to give it at most about this many nodes (refineCoarse, coarseStep),
 //     a quarter of the largest re-cut at full resolution: such structures
 //     made most of the re-cut's work on scikit-image's photographs, and
-//     on the generated scenes only a few cells of othershapes.py bodies
-//     were that large (their scores rose a little).
+//     of the generated choice scenes only three othershapes.py bodies
+//     scenes held objects that large (bodies F1 0.945 -> 0.947).
 //   - refineWork: the recursive bisection of one object solves parts of at
 //     most refineWork times its node count n in total (cutOptions.budget).
 //     A split into balanced halves costs the part's nodes at each level,
@@ -1104,12 +1104,12 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 //     stops it after about refineWork splits.
 //   - refineMaxWork: and at most this many nodes in all, whatever n. It
 //     binds only above refineMaxWork/refineWork = 5,000 nodes, where it
-//     still pays for the first two levels of a cluster of four up to
-//     refineMaxNodes (2n: the cluster of four nuclei of radius 25 px
-//     above, about 7,900 px, is parted into four; TestRefineFourCluster),
-//     and stops the shredding of large ragged shapes (on the photographs
-//     such objects, 5,000-10,000 px cut into ten to twenty pieces, each
-//     solved four times their nodes).
+//     still pays for the first two levels of a balanced cluster of four up
+//     to refineMaxNodes (about 2n: four blocks of 8,281 nodes in all are
+//     parted into four, TestRefineFourCluster), and stops the shredding
+//     of large ragged shapes (on the photographs such objects of
+//     5,000-10,000 px were cut into ten to twenty pieces, solving four
+//     times their nodes).
 //
 // The cap on the work per object: its re-cut solves parts of at most
 // min(refineWork x n, refineMaxWork) = 20,000 nodes in all, with n at most
@@ -1117,9 +1117,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 // about refineCoarseNodes = 2,500 (10,000 nodes solved; a few more nodes
 // where the outline cuts cells) for a larger one, and a solve costs about
 // a constant per node (the multilevel eigensolver takes a few steps on
-// the input graph at the loose target splitTol). The shape tests beside
-// the solves (distance maps, necks, the split tests of each part) are
-// linear in the part's size or its bounding box.
+// the input graph at the loose target splitTol).
 const (
 	refineMaxNodes    = 10000
 	refineCoarseNodes = 2500
