@@ -141,6 +141,21 @@ func interpolateGridInto(dst []float32, grid []float64, gw, gh, cell, w, h, work
 	if len(out) != w*h {
 		out = make([]float32, w*h)
 	}
+	forGridRows(grid, gw, gh, cell, w, h, workers, func(y int, top, bot []float64, ty float64) {
+		row := out[y*w : (y+1)*w]
+		for x := range row {
+			row[x] = float32(top[x]*(1-ty) + bot[x]*ty)
+		}
+	})
+	return out
+}
+
+// forGridRows calls fn(y, top, bot, ty) for every image row y of
+// interpolateGrid, in bands of rows on workers goroutines: the field at
+// pixel (x, y) is float32(top[x]·(1-ty) + bot[x]·ty), top and bottom the
+// horizontal interpolations of the two rows of cell centres about y.
+// fn must not keep top or bot.
+func forGridRows(grid []float64, gw, gh, cell, w, h, workers int, fn func(y int, top, bot []float64, ty float64)) {
 	// The horizontal weights are the same on every row.
 	xs := make([]int, 2*w)
 	txs := make([]float64, w)
@@ -171,13 +186,9 @@ func interpolateGridInto(dst []float32, grid []float64, gw, gh, cell, w, h, work
 				}
 				last0, last1 = y0c, y1c
 			}
-			row := out[y*w : (y+1)*w]
-			for x := range row {
-				row[x] = float32(top[x]*(1-ty) + bot[x]*ty)
-			}
+			fn(y, top, bot, ty)
 		}
 	})
-	return out
 }
 
 // rowBand is the number of image rows in one work chunk of forRowBands.

@@ -464,22 +464,105 @@ func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 // smoothFieldGrid is smoothField's grid (see there), not yet
 // interpolated.
 func smoothFieldGrid(v []float32, mask []bool, w, h int, sigma float64, workers int) *fieldGrid {
-	cell := max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
-	gw, gh := (w+cell-1)/cell, (h+cell-1)/cell
+	cell, gw, gh := fieldCells(w, h)
 	sum := make([]float64, gw*gh)
 	cnt := make([]float64, gw*gh)
 	parallel.For(gh, workers, func(gy int) {
 		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
 		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
 			row, m := v[y*w:(y+1)*w], mask[y*w:(y+1)*w]
-			for x, in := range m {
-				if in {
-					s[x/cell] += float64(row[x])
-					n[x/cell]++
+			// One cell of the row at a time, its sum held in a local:
+			// the same additions in the same order as per pixel.
+			for cx := range s {
+				x0, x1 := cx*cell, min(w, (cx+1)*cell)
+				acc, k := s[cx], n[cx]
+				for x, in := range m[x0:x1] {
+					if in {
+						acc += float64(row[x0+x])
+						k++
+					}
 				}
+				s[cx], n[cx] = acc, k
 			}
 		}
 	})
+	return finishFieldGrid(sum, cnt, gw, gh, cell, w, h, sigma, func() float64 {
+		var tot float64
+		for i, in := range mask {
+			if in {
+				tot += float64(v[i])
+			}
+		}
+		return tot
+	})
+}
+
+// smoothFieldGridOfClass is smoothFieldGrid with the mask of the pixels
+// whose region (reg) is of class c (cls per region) read from the
+// region map directly, without a mask plane: each row is taken in runs of
+// one region, a run of class c added cell by cell, pixel by pixel. Every
+// cell adds its pixels in raster order as smoothFieldGrid does, so the
+// grid is the same bit for bit.
+func smoothFieldGridOfClass(v []float32, reg, cls []int32, c int32, w, h int, sigma float64, workers int) *fieldGrid {
+	cell, gw, gh := fieldCells(w, h)
+	sum := make([]float64, gw*gh)
+	cnt := make([]float64, gw*gh)
+	parallel.For(gh, workers, func(gy int) {
+		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
+		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
+			row, rr := v[y*w:(y+1)*w], reg[y*w:(y+1)*w]
+			for x0 := 0; x0 < w; {
+				x1 := runEnd(rr, x0)
+				if cls[rr[x0]] == c {
+					addCells(s, n, row, x0, x1, cell)
+				}
+				x0 = x1
+			}
+		}
+	})
+	return finishFieldGrid(sum, cnt, gw, gh, cell, w, h, sigma, func() float64 {
+		var tot float64
+		for i := 0; i < len(reg); {
+			j := runEnd(reg, i)
+			if cls[reg[i]] == c {
+				for _, x := range v[i:j] {
+					tot += float64(x)
+				}
+			}
+			i = j
+		}
+		return tot
+	})
+}
+
+// addCells adds row[x0:x1] to the cell sums s (cell pixels a cell,
+// pixel by pixel in order) and the count of each cell's pixels to n.
+func addCells(s, n []float64, row []float32, x0, x1, cell int) {
+	for x0 < x1 {
+		cx := x0 / cell
+		e := min(x1, (cx+1)*cell)
+		acc := s[cx]
+		for _, x := range row[x0:e] {
+			acc += float64(x)
+		}
+		s[cx] = acc
+		n[cx] += float64(e - x0) // counts: exact
+		x0 = e
+	}
+}
+
+// fieldCells is the cell size of smoothFieldGrid's grid and its gw x gh
+// cells for a w x h image.
+func fieldCells(w, h int) (cell, gw, gh int) {
+	cell = max(1, (max(w, h)+fieldGridCells-1)/fieldGridCells)
+	return cell, (w + cell - 1) / cell, (h + cell - 1) / cell
+}
+
+// finishFieldGrid turns the cell sums and counts of masked pixels into
+// the field's grid: both blurred (normalized convolution), their quotient
+// where the blurred count is above a thousandth of a cell, else the mean
+// of all masked pixels (total() their sum, called once if needed).
+func finishFieldGrid(sum, cnt []float64, gw, gh, cell, w, h int, sigma float64, total func() float64) *fieldGrid {
 	var totN float64
 	for _, n := range cnt {
 		totN += n // counts: exact
@@ -496,13 +579,7 @@ func smoothFieldGrid(v []float32, mask []bool, w, h int, sigma float64, workers 
 			continue
 		}
 		if math.IsNaN(global) {
-			var tot float64
-			for i, in := range mask {
-				if in {
-					tot += float64(v[i])
-				}
-			}
-			global = tot / math.Max(totN, 1)
+			global = total() / math.Max(totN, 1)
 		}
 		grid[c] = global
 	}

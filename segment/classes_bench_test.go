@@ -77,6 +77,61 @@ func BenchmarkContrastMap(b *testing.B) {
 	}
 }
 
+// benchRegions returns benchField's regions at w x h: the background
+// region 0 and each bright square a region of its own, the squares of
+// class 1 and the background of class 0.
+func benchRegions(w, h int, mask []bool) ([]int32, []int32) {
+	reg := make([]int32, w*h)
+	per := (w + 39) / 40
+	for i := range reg {
+		if !mask[i] {
+			reg[i] = int32(1 + (i/w/40)*per + i%w/40)
+		}
+	}
+	cls := make([]int32, 1+per*((h+39)/40))
+	for r := 1; r < len(cls); r++ {
+		cls[r] = 1
+	}
+	return reg, cls
+}
+
+// BenchmarkBackgroundRound is one round of the class stage's background
+// field and contrast map on benchField's regions at 1, 4 and 16
+// megapixels, all cores: "plane" is the former round (maskOfClass into a
+// mask plane, smoothFieldGrid over it, the field plane, contrastMapInto),
+// "grid" the round Run makes now (smoothFieldGridOfClass from the region
+// map, contrastOfGrid from the grid); both give the same map
+// (TestContrastOfGridMatchesPlane). cpu-s/op is the process's CPU time
+// per round.
+func BenchmarkBackgroundRound(b *testing.B) {
+	for _, n := range []int{1024, 2048, 4096} {
+		lum, mask0 := benchField(n, n)
+		reg, cls := benchRegions(n, n, mask0)
+		sigma := float64(n) / fieldScale
+		b.Run(fmt.Sprintf("plane/%dx%d", n, n), func(b *testing.B) {
+			mask := make([]bool, n*n)
+			var field []float32
+			var con []float64
+			c0 := cpuSeconds()
+			for b.Loop() {
+				maskOfClass(mask, reg, cls, 0, 0)
+				field = smoothFieldGrid(lum, mask, n, n, sigma, 0).plane(field, 0)
+				con = contrastMapInto(con, lum, field, 0)
+			}
+			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+		})
+		b.Run(fmt.Sprintf("grid/%dx%d", n, n), func(b *testing.B) {
+			var con []float64
+			c0 := cpuSeconds()
+			for b.Loop() {
+				g := smoothFieldGridOfClass(lum, reg, cls, 0, n, n, sigma, 0)
+				con = contrastOfGrid(con, lum, g, 0)
+			}
+			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+		})
+	}
+}
+
 // BenchmarkObjectPasses is the whole-image passes of the object stages
 // on benchField's grid of squares (each square a region and an object;
 // the contrast |I/B - 1| against the background field): objectsFrom

@@ -149,3 +149,106 @@ func TestRejudge(t *testing.T) {
 		t.Errorf("classes %v, want %v", cls, want)
 	}
 }
+
+// fieldCase is a region map with classes for the field tests: regions
+// are horizontal runs of random length on random rows, so runs start and
+// end anywhere across the grid's cells, and class c covers a share of
+// them (none, or a band of rows only, so that cells far from it take the
+// global mean).
+type fieldCase struct {
+	name     string
+	w, h     int
+	regions  int
+	share    float64 // fraction of regions of class 0
+	bandOnly bool    // class 0 only in the top tenth of the rows
+}
+
+func (fc fieldCase) make(seed uint64) (lum []float32, reg, cls []int32) {
+	rng := rand.New(rand.NewPCG(seed, 7))
+	lum = make([]float32, fc.w*fc.h)
+	// Values over many orders of magnitude: float64 sums of float32
+	// values of one magnitude are exact in any order, and the tests
+	// must see the order of the additions.
+	for i := range lum {
+		lum[i] = float32((0.2 + 0.6*rng.Float64()) * math.Pow(10, -float64(rng.IntN(9))))
+	}
+	reg = make([]int32, fc.w*fc.h)
+	for i := 0; i < len(reg); {
+		l := int32(rng.IntN(fc.regions))
+		n := 1 + rng.IntN(3*fc.w/2)
+		for k := i; k < min(len(reg), i+n); k++ {
+			reg[k] = l
+		}
+		i += n
+	}
+	cls = make([]int32, fc.regions)
+	for r := range cls {
+		if rng.Float64() >= fc.share {
+			cls[r] = 1
+		}
+	}
+	if fc.bandOnly {
+		for i := fc.w * fc.h / 10; i < len(reg); i++ {
+			if cls[reg[i]] == 0 {
+				reg[i] = int32(fc.regions - 1)
+			}
+		}
+		cls[fc.regions-1] = 1
+	}
+	return lum, reg, cls
+}
+
+var fieldCases = []fieldCase{
+	{"square", 256, 256, 40, 0.6, false},
+	{"ragged", 333, 190, 25, 0.5, false},
+	{"tall", 70, 641, 12, 0.3, false},
+	{"band", 500, 500, 30, 0.7, true},
+	{"none", 128, 96, 10, 0, false},
+	{"tiny", 5, 3, 3, 0.5, false},
+}
+
+// TestFieldGridOfClassMatchesMask checks smoothFieldGridOfClass (runs of
+// one region read from the region map) against smoothFieldGrid over the
+// mask that maskOfClass writes, the plain per-pixel form: every grid value
+// equal bit for bit, on one worker and on three.
+func TestFieldGridOfClassMatchesMask(t *testing.T) {
+	for _, fc := range fieldCases {
+		lum, reg, cls := fc.make(15300)
+		sigma := float64(max(fc.w, fc.h)) / fieldScale
+		mask := make([]bool, len(reg))
+		maskOfClass(mask, reg, cls, 0, 1)
+		want := smoothFieldGrid(lum, mask, fc.w, fc.h, sigma, 1)
+		for _, workers := range []int{1, 3} {
+			got := smoothFieldGridOfClass(lum, reg, cls, 0, fc.w, fc.h, sigma, workers)
+			if got.gw != want.gw || got.gh != want.gh || got.cell != want.cell {
+				t.Fatalf("%s: grid %dx%d cell %d, want %dx%d cell %d", fc.name, got.gw, got.gh, got.cell, want.gw, want.gh, want.cell)
+			}
+			for c := range want.grid {
+				if math.Float64bits(got.grid[c]) != math.Float64bits(want.grid[c]) {
+					t.Fatalf("%s, %d workers: cell %d = %v, want %v", fc.name, workers, c, got.grid[c], want.grid[c])
+				}
+			}
+		}
+	}
+}
+
+// TestContrastOfGridMatchesPlane checks contrastOfGrid against
+// contrastMapInto over the grid's interpolated plane: the same map bit
+// for bit, on one worker and on three.
+func TestContrastOfGridMatchesPlane(t *testing.T) {
+	for _, fc := range fieldCases {
+		lum, reg, cls := fc.make(15301)
+		g := smoothFieldGridOfClass(lum, reg, cls, 0, fc.w, fc.h, float64(max(fc.w, fc.h))/fieldScale, 1)
+		// A few field values below fieldFloor, so the floor is taken.
+		g.grid[0] = fieldFloor / 4
+		want := contrastMap(lum, g.plane(nil, 1), 1)
+		for _, workers := range []int{1, 3} {
+			got := contrastOfGrid(nil, lum, g, workers)
+			for i := range want {
+				if math.Float64bits(got[i]) != math.Float64bits(want[i]) {
+					t.Fatalf("%s, %d workers: pixel %d = %v, want %v", fc.name, workers, i, got[i], want[i])
+				}
+			}
+		}
+	}
+}

@@ -32,7 +32,26 @@ func contrastMapInto(dst []float64, inten, field []float32, workers int) []float
 	const band = 1 << 16
 	parallel.Blocks(len(con), band, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
-			con[i] = math.Abs(float64(inten[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+			con[i] = math.Abs(float64(inten[i])/floorField(float64(field[i])) - 1)
+		}
+	})
+	return con
+}
+
+// contrastOfGrid is contrastMapInto against the field of grid g (the
+// plane g.plane would give, each value made as interpolateGrid makes it
+// and read at once): the same map bit for bit, without a field plane.
+func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, workers int) []float64 {
+	con := dst
+	if len(con) != len(inten) {
+		con = make([]float64, len(inten))
+	}
+	w := g.w
+	forGridRows(g.grid, g.gw, g.gh, g.cell, w, g.h, workers, func(y int, top, bot []float64, ty float64) {
+		c, in := con[y*w:(y+1)*w], inten[y*w:(y+1)*w]
+		for x := range c {
+			f := float32(top[x]*(1-ty) + bot[x]*ty)
+			c[x] = math.Abs(float64(in[x])/floorField(float64(f)) - 1)
 		}
 	})
 	return con

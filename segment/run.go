@@ -768,34 +768,28 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		if p.Background != "" {
 			bg := referenceClass(cls, nil, p.Classes, p.Background)
-			// backgroundField is the field of the current background
-			// class, written over the last field (which every caller
-			// replaces with it) and through one mask plane.
-			var mask []bool
-			backgroundField := func() []float32 {
-				if mask == nil {
-					mask = make([]bool, npix)
-				}
-				maskOfClass(mask, reg, cls, bg, p.Workers)
-				fieldG = smoothFieldGrid(in.Luminance, mask, w, h, float64(max(w, h))/fieldScale, p.Workers)
-				return fieldG.plane(field, p.Workers)
+			// backgroundField makes fieldG the field of the current
+			// background class, read from the region map (no mask
+			// plane); the contrast map is made from the grid directly
+			// (contrastOfGrid, the values of contrastMap against
+			// fieldG.plane) and the plane only where it is read
+			// (rejudge, the faint objects, outshone).
+			backgroundField := func() {
+				fieldG = smoothFieldGridOfClass(in.Luminance, reg, cls, bg, w, h, float64(max(w, h))/fieldScale, p.Workers)
 			}
+			// groupClasses' field plane, when it has one, is
+			// fieldG.plane: dropped, the contrast map made from the grid.
 			if field == nil {
-				field = backgroundField()
+				backgroundField()
 			}
+			field = nil
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
 			coarse, coarseW := coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
 			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, p.Workers), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
-			con := contrastMap(in.Luminance, field, p.Workers)
+			con := contrastOfGrid(nil, in.Luminance, fieldG, p.Workers)
 			edges.con = con
-			// The field plane is held only while it is read (the
-			// contrast map, rejudge, the faint objects, outshone) and
-			// made again from its grid (fieldG, the same values) where it
-			// is read later: one plane less through the edge tests and
-			// the object maps.
-			field = nil
 			// objects is an object map of this image.
 			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
 			obj, nobj := objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
@@ -828,26 +822,29 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				// changed): dropped before the field and the contrast are
 				// made again, and made again only where it is read.
 				obj = nil
-				field = backgroundField()
-				con = contrastMapInto(con, in.Luminance, field, p.Workers)
+				backgroundField()
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
 				edges.con = con
-				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 || !rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background) {
+				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 {
 					break
 				}
-				field = backgroundField()
-				con = contrastMapInto(con, in.Luminance, field, p.Workers)
-				edges.con = con
+				field = fieldG.plane(nil, p.Workers)
+				changed := rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background)
 				field = nil
+				if !changed {
+					break
+				}
+				backgroundField()
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
+				edges.con = con
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 				fresh = true
 			}
-			field = nil
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
 				fresh = false
-				field = backgroundField()
-				con = contrastMapInto(con, in.Luminance, field, p.Workers)
+				backgroundField()
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
 				edges.con = con
-				field = nil
 			}
 			if !fresh {
 				// The object map is made again below: not held
