@@ -2,6 +2,7 @@ package imageio
 
 import (
 	"math"
+	"slices"
 
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
@@ -16,16 +17,21 @@ const (
 
 // luminance returns Y' = 0.2126 R + 0.7152 G + 0.0722 B applied to the
 // stored (gamma-encoded) samples, in the image's own units; a gray image's
-// plane is copied as is. Applying the coefficients to encoded values gives
+// plane is returned as is (see below). Applying the coefficients to encoded values gives
 // luma, not linear-light luminance: it keeps the perceptual spacing of the
 // stored levels, which is what the intensity kernel compares.
 func luminance(im *Image, workers int) []float32 {
 	n := im.Width * im.Height
-	out := make([]float32, n)
 	if im.Channels == 1 {
-		copy(out, im.Planes[0])
-		return out
+		// The image's own plane, when it is a slice of its own (not a
+		// window on a larger buffer that it would keep alive): read only
+		// here and by every caller of MakeFeatures.
+		if p := im.Planes[0]; cap(p) == n {
+			return p
+		}
+		return slices.Clone(im.Planes[0][:n])
 	}
+	out := make([]float32, n)
 	r, g, b := im.Planes[0], im.Planes[1], im.Planes[2]
 	parallel.Blocks(n, pixelBlock, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {

@@ -112,7 +112,9 @@ type Features struct {
 	// read-only to every stage.
 	Display []float32
 	// Raw is the luma (or the chosen channel) in the image's own units
-	// (e.g. 0..65535), for region tables.
+	// (e.g. 0..65535), for region tables. For a one-channel image it is
+	// the image's own plane, not a copy (read-only, as the planes are),
+	// when that plane is a slice of its own.
 	Raw []float32
 	// Invalid marks the pixels whose samples are not numbers (NaN or
 	// infinite floating-point samples), nil when there are none. Their
@@ -306,16 +308,19 @@ func MakeFeaturesContext(ctx context.Context, im *Image, opt FeatureOptions, wor
 		if feat, err = flatten(ctx, f.Raw, w, h, opt.Flatten, mode, workers); err != nil {
 			return nil, err
 		}
+	} else if displayIsFeature {
+		// The display's window, already computed from the same luma,
+		// applied while the plane is copied.
+		feat = make([]float32, len(f.Raw))
+		stretchInto(feat, f.Raw, lo, hi, workers)
+		f.Display = feat
+		f.Planes = [][]float32{feat}
+		return f, nil
 	} else {
 		feat = make([]float32, len(f.Raw))
 		copy(feat, f.Raw)
 	}
-	if displayIsFeature {
-		stretch(feat, lo, hi, workers) // the display's window, already computed from the same luma
-		f.Display = feat
-	} else {
-		normalize(feat, opt.Normalize, im.MaxValue(), workers)
-	}
+	normalize(feat, opt.Normalize, im.MaxValue(), workers)
 	f.Planes = [][]float32{feat}
 	return f, nil
 }

@@ -152,15 +152,22 @@ func minMax(v []float32) (float64, float64) {
 // in place. When hi <= lo every value becomes 0 (a constant image carries
 // no contrast; this avoids a division by zero).
 func stretch(v []float32, lo, hi float64, workers int) {
+	stretchInto(v, v, lo, hi, workers)
+}
+
+// stretchInto is stretch of src written into dst (of src's length; dst
+// may be src): the same values, in one pass.
+func stretchInto(dst, src []float32, lo, hi float64, workers int) {
 	if !(hi > lo) {
-		clear(v)
+		clear(dst)
 		return
 	}
 	s := 1 / (hi - lo)
-	parallel.Blocks(len(v), pixelBlock, workers, func(_, a, b int) {
-		for i := a; i < b; i++ {
-			t := (float64(v[i]) - lo) * s
-			v[i] = float32(min(max(t, 0), 1))
+	parallel.Blocks(len(src), pixelBlock, workers, func(_, a, b int) {
+		d := dst[a:b]
+		for i, v := range src[a:b] {
+			t := (float64(v) - lo) * s
+			d[i] = float32(min(max(t, 0), 1))
 		}
 	})
 }

@@ -163,7 +163,7 @@ func BenchmarkObjectPasses(b *testing.B) {
 			for b.Loop() {
 				obj, nobj := objectsFrom(con, regions, nreg, cls, 0, 20, 0)
 				obj, nobj = tightenObjects(con, labelmap.Map{Pix: obj, Width: n, Height: n}, nobj, 20, 0)
-				joinTouching(con, labelmap.Map{Pix: obj, Width: n, Height: n}, nobj)
+				joinTouching(con, labelmap.Map{Pix: obj, Width: n, Height: n}, nobj, 0)
 			}
 			b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 		})

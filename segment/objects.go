@@ -82,18 +82,12 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 			regC[r] /= regA[r]
 		}
 	}
-	seamSum := map[uint64]float64{}
-	seamCnt := map[uint64]float64{}
-	add := func(i, j int) {
-		a, b := reg[i], reg[j]
+	seamSum, seamCnt := seamSums(reg, w, h, con, func(a, b int32) (uint64, bool) {
 		if cls[a] == bgClass || cls[b] == bgClass {
-			return
+			return 0, false
 		}
-		k := pairKey(a, b)
-		seamSum[k] += con[i] + con[j]
-		seamCnt[k] += 2
-	}
-	adjacentDiffering(reg, w, h, add)
+		return pairKey(a, b), true
+	}, workers)
 	// Union the regions whose shared boundary is not a seam.
 	f := unionfind.New(n)
 	for k, s := range seamSum {
@@ -121,7 +115,46 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 // the one below), so that sums gathered over the pairs are the same to
 // the last bit; pairs of equal values, most of an image, cost no call.
 func adjacentDiffering(lab []int32, w, h int, f func(i, j int)) {
-	for y := 0; y < h; y++ {
+	adjacentDifferingRows(lab, w, h, 0, h, f)
+}
+
+// seamSums adds con[i] + con[j] to sum[k] and 2 to cnt[k] for the pairs
+// of 4-adjacent pixels (i, j) of lab (w x h) with different labels a, b
+// that key(a, b) gives a key k (ok) for. The pairs are found on bands of
+// rowBand rows on workers goroutines, each band listing its pairs' keys
+// and values in adjacentDiffering's order, and the lists are added up in
+// band order: every sum adds its values in adjacentDiffering's order,
+// the sums of one pass over the pairs bit for bit.
+func seamSums(lab []int32, w, h int, con []float64, key func(a, b int32) (uint64, bool), workers int) (sum, cnt map[uint64]float64) {
+	type part struct {
+		k uint64
+		v float64
+	}
+	nb := (h + rowBand - 1) / rowBand
+	parts := make([][]part, nb)
+	parallel.Blocks(h, rowBand, workers, func(b, y0, y1 int) {
+		var ps []part
+		adjacentDifferingRows(lab, w, h, y0, y1, func(i, j int) {
+			if k, ok := key(lab[i], lab[j]); ok {
+				ps = append(ps, part{k, con[i] + con[j]})
+			}
+		})
+		parts[b] = ps
+	})
+	sum, cnt = map[uint64]float64{}, map[uint64]float64{}
+	for _, ps := range parts {
+		for _, p := range ps {
+			sum[p.k] += p.v
+			cnt[p.k] += 2
+		}
+	}
+	return sum, cnt
+}
+
+// adjacentDifferingRows is adjacentDiffering for the pairs whose first
+// pixel lies in rows y0 to y1-1.
+func adjacentDifferingRows(lab []int32, w, h, y0, y1 int, f func(i, j int)) {
+	for y := y0; y < y1; y++ {
 		row := lab[y*w : (y+1)*w]
 		var below []int32
 		if y+1 < h {
@@ -1277,8 +1310,9 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 // outlines can bridge the gap between pieces of one object that the cut
 // left apart (a thin scratch found superpixel by superpixel), and a
 // border without a dip in contrast is no boundary between objects.
-// Objects are numbered 1..N in raster order of their first pixel.
-func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
+// Objects are numbered 1..N in raster order of their first pixel. The
+// border sums are gathered on workers goroutines (seamSums).
+func joinTouching(con []float64, objects labelmap.Map, n, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n < 2 {
 		return labels, n
@@ -1291,17 +1325,12 @@ func joinTouching(con []float64, objects labelmap.Map, n int) ([]int32, int) {
 			mean[l] /= cnt[l]
 		}
 	}
-	seamSum := map[uint64]float64{}
-	seamCnt := map[uint64]float64{}
-	adjacentDiffering(labels, w, h, func(i, j int) {
-		a, b := labels[i], labels[j]
+	seamSum, seamCnt := seamSums(labels, w, h, con, func(a, b int32) (uint64, bool) {
 		if a == 0 || b == 0 {
-			return
+			return 0, false
 		}
-		k := pairKey(min(a, b), max(a, b))
-		seamSum[k] += con[i] + con[j]
-		seamCnt[k] += 2
-	})
+		return pairKey(min(a, b), max(a, b)), true
+	}, workers)
 	if len(seamSum) == 0 {
 		return labels, n
 	}

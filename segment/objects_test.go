@@ -253,7 +253,7 @@ func TestJoinTouching(t *testing.T) {
 				con[i] = c.right
 			}
 		}
-		_, n := joinTouching(con, labelmap.Map{Pix: labels, Width: w, Height: h}, 2)
+		_, n := joinTouching(con, labelmap.Map{Pix: labels, Width: w, Height: h}, 2, 1)
 		if n != c.want {
 			t.Errorf("border contrast %v, right half %v: %d objects, want %d", c.seam, c.right, n, c.want)
 		}
@@ -566,6 +566,64 @@ func TestMedianFloat32(t *testing.T) {
 			}
 			if !slices.Equal(v, orig) && !tc.fallback {
 				t.Errorf("%s, n=%d: the values were changed", tc.name, n)
+			}
+		}
+	}
+}
+
+// TestSeamSumsMatchOnePass checks seamSums (pairs found on bands of rows
+// on the workers, added in band order) against one pass of
+// adjacentDiffering adding each pair as it comes, the plain form: every
+// sum and count equal bit for bit, on one worker and on three, on label
+// maps taller than a band with contrasts over many orders of magnitude
+// (float64 sums of values of one magnitude would hide the order).
+func TestSeamSumsMatchOnePass(t *testing.T) {
+	for _, tc := range []struct {
+		name   string
+		w, h   int
+		labels int
+	}{
+		{"wide", 300, 200, 20},
+		{"tall", 37, 700, 9},
+		{"one row", 50, 1, 5},
+		{"one label", 40, 150, 1},
+	} {
+		rng := rand.New(rand.NewPCG(15302, uint64(tc.w)))
+		lab := make([]int32, tc.w*tc.h)
+		for i := 0; i < len(lab); {
+			l := int32(rng.IntN(tc.labels))
+			n := 1 + rng.IntN(2*tc.w)
+			for k := i; k < min(len(lab), i+n); k++ {
+				lab[k] = l
+			}
+			i += n
+		}
+		con := make([]float64, len(lab))
+		for i := range con {
+			con[i] = rng.Float64() * math.Pow(10, -float64(rng.IntN(12)))
+		}
+		key := func(a, b int32) (uint64, bool) {
+			if a == 0 || b == 0 {
+				return 0, false
+			}
+			return pairKey(min(a, b), max(a, b)), true
+		}
+		wantSum, wantCnt := map[uint64]float64{}, map[uint64]float64{}
+		adjacentDiffering(lab, tc.w, tc.h, func(i, j int) {
+			if k, ok := key(lab[i], lab[j]); ok {
+				wantSum[k] += con[i] + con[j]
+				wantCnt[k] += 2
+			}
+		})
+		for _, workers := range []int{1, 3} {
+			sum, cnt := seamSums(lab, tc.w, tc.h, con, key, workers)
+			if len(sum) != len(wantSum) || len(cnt) != len(wantCnt) {
+				t.Fatalf("%s, %d workers: %d sums, %d counts, want %d", tc.name, workers, len(sum), len(cnt), len(wantSum))
+			}
+			for k, v := range wantSum {
+				if math.Float64bits(sum[k]) != math.Float64bits(v) || cnt[k] != wantCnt[k] {
+					t.Fatalf("%s, %d workers: pair %x sum %v count %v, want %v and %v", tc.name, workers, k, sum[k], cnt[k], v, wantCnt[k])
+				}
 			}
 		}
 	}

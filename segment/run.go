@@ -725,9 +725,12 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	if nodeOf == nil {
 		copy(reg, cut.region)
 	} else {
-		for i, v := range nodeOf {
-			reg[i] = cut.region[v]
-		}
+		parallel.Blocks(npix, pixelBlock, p.Workers, func(_, lo, hi int) {
+			r := reg[lo:hi]
+			for k, v := range nodeOf[lo:hi] {
+				r[k] = cut.region[v]
+			}
+		})
 	}
 	regions := labelmap.Map{Pix: reg, Width: w, Height: h}
 	nreg := mergeSmall(regions, cut.regions, p.MinArea)
@@ -871,7 +874,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			}
 			obj, nobj = tightenObjects(con, objects(obj), nobj, max(p.MinArea, 1), p.Workers)
-			obj, nobj = joinTouching(con, objects(obj), nobj)
+			obj, nobj = joinTouching(con, objects(obj), nobj, p.Workers)
 			// The class map is made only now, from the final classes
 			// (the object passes above leave reg and cls as they are):
 			// one plane less through those passes, where the class
@@ -909,9 +912,11 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			stage("classes")
 		}
 	}
-	for i := range reg0 {
-		reg0[i]++
-	}
+	parallel.Blocks(len(reg0), pixelBlock, p.Workers, func(_, lo, hi int) {
+		for i := range reg0[lo:hi] {
+			reg0[lo+i]++
+		}
+	})
 	res.Regions = labelmap.Map{Pix: reg0, Width: w, Height: h}
 	if labelsAreRegions {
 		res.Labels = res.Regions
@@ -931,6 +936,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	res.Params = p
 	return res, nil
 }
+
+// pixelBlock is the number of pixels in one work chunk of Run's
+// per-pixel passes (a fixed chunking: results never depend on workers).
+const pixelBlock = 1 << 16
 
 // classMap writes the class of each pixel's region (cls[reg[i]]) into
 // out, in fixed blocks of pixels on workers goroutines, and returns the

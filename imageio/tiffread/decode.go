@@ -95,6 +95,9 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 	exact := isInt[T]()
 	// one decodes chunk number c (row-major within the sample plane)
 	// with a worker's decoder and buffers.
+	workers := min(Workers, runtime.GOMAXPROCS(0))
+	// rowsParallel: the chunks alone would leave workers idle.
+	rowsParallel := parallel.Goroutines(perPlane, workers) < workers
 	one := func(dec *decoder, buf, tmp []byte, c int) error {
 		cy, cx := c/across, c%across
 		k := c
@@ -132,27 +135,44 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 			return fmt.Errorf("strip or tile %d: %w", k, err)
 		}
 		w := min(p.ChunkWidth, p.Width-x0)
-		for r := 0; r < rows && y0+r < p.Height; r++ {
-			row := buf[r*rowBytes : (r+1)*rowBytes]
-			switch p.Predictor {
-			case predictorHorizontal:
-				undoHorizontal(row, spc, bps, f.Order)
-			case predictorFloatingPoint:
-				undoFloatingPoint(row, tmp, spc, bps)
+		rows = min(rows, p.Height-y0)
+		convert := func(tmp []byte, r0, r1 int) error {
+			for r := r0; r < r1; r++ {
+				row := buf[r*rowBytes : (r+1)*rowBytes]
+				switch p.Predictor {
+				case predictorHorizontal:
+					undoHorizontal(row, spc, bps, f.Order)
+				case predictorFloatingPoint:
+					undoFloatingPoint(row, tmp, spc, bps)
+				}
+				y := y0 + r
+				if err := convertRow(dst[y*p.Width+x0:y*p.Width+x0+w], row, spc*bps, si*bps, p, exact); err != nil {
+					return fmt.Errorf("pixel (%d, %d): %w", x0, y, err)
+				}
 			}
-			y := y0 + r
-			if err := convertRow(dst[y*p.Width+x0:y*p.Width+x0+w], row, spc*bps, si*bps, p, exact); err != nil {
-				return fmt.Errorf("pixel (%d, %d): %w", x0, y, err)
-			}
+			return nil
 		}
-		return nil
+		if !rowsParallel {
+			return convert(tmp, 0, rows)
+		}
+		// Fewer chunks than workers (one strip holding the whole
+		// page, say): the chunk's rows are converted in fixed blocks
+		// on the workers, each row alone, and the error is that of
+		// the first failing row, as in one pass (parallel.ForErr).
+		nb := (rows + rowBlock - 1) / rowBlock
+		tmps := make([][]byte, parallel.Goroutines(nb, workers))
+		return parallel.ForErr(nb, workers, func(g, b int) error {
+			if tmps[g] == nil && p.Predictor == predictorFloatingPoint {
+				tmps[g] = make([]byte, rowBytes)
+			}
+			return convert(tmps[g], b*rowBlock, min(rows, (b+1)*rowBlock))
+		})
 	}
 	// Chunks are decoded by up to Workers goroutines (also bounded by
 	// GOMAXPROCS), each with a decoder and buffers of its own; every chunk
 	// writes its own pixels, so the result does not depend on the order.
 	// The error reported is that of the first failing chunk in file order
 	// (parallel.ForErr).
-	workers := min(Workers, runtime.GOMAXPROCS(0))
 	type scratch struct {
 		dec      *decoder
 		buf, tmp []byte
@@ -187,6 +207,11 @@ func ReadSample[T Sample](ctx context.Context, p *Page, s int, dst []T) error {
 // Workers bounds the goroutines that decode the strips or tiles of one
 // sample plane (also by GOMAXPROCS); each holds one chunk buffer.
 const Workers = 4
+
+// rowBlock is the number of rows of a chunk converted as one work item
+// when a page has fewer chunks than workers (a variable only so that the
+// tests can take blocks smaller than their images).
+var rowBlock = 64
 
 func isInt[T Sample]() bool {
 	var z T

@@ -87,6 +87,20 @@ func openFile(t *testing.T, name string) (*File, func()) {
 // tolerance make.py records, the difference allowed between two JPEG
 // decoders' inverse transforms and colour conversions).
 func TestVariantsMatchTifffile(t *testing.T) {
+	checkVariants(t)
+}
+
+// TestVariantsRowBlocks is TestVariantsMatchTifffile with the rows of a
+// page with fewer strips or tiles than workers converted in blocks of 3
+// rows on the workers (rowBlock; 64 otherwise, more than these files'
+// 29 rows): the same values as tifffile's.
+func TestVariantsRowBlocks(t *testing.T) {
+	defer func(b int) { rowBlock = b }(rowBlock)
+	rowBlock = 3
+	checkVariants(t)
+}
+
+func checkVariants(t *testing.T) {
 	files := manifest(t)
 	names := make([]string, 0, len(files))
 	for n := range files {
