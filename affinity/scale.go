@@ -111,7 +111,7 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 	if kMax < 2 {
 		return none
 	}
-	img, lo, hi := finiteCopy(lum)
+	img, lo, hi := finiteCopy(lum, workers)
 	if !(hi > lo) {
 		return none
 	}
@@ -321,22 +321,40 @@ func trimmedLogMean(bs []blob) float64 {
 
 // finiteCopy returns v, or when it holds non-finite values a copy with
 // them replaced by the mean of the finite ones, and the range of the finite
-// values.
-func finiteCopy(v []float32) (out []float32, lo, hi float64) {
-	lo, hi = math.Inf(1), math.Inf(-1)
-	var sum float64
-	var n, bad int
-	for _, x := range v {
-		if f := float64(x); !math.IsNaN(f) && !math.IsInf(f, 0) {
-			lo, hi = min(lo, f), max(hi, f)
-			sum += f
-			n++
-		} else {
-			bad++
+// values. The range and the count of non-finite values are taken in fixed
+// blocks on workers goroutines (minima and maxima do not depend on the
+// order); the mean, only when needed, in one pass in index order.
+func finiteCopy(v []float32, workers int) (out []float32, lo, hi float64) {
+	const block = 1 << 16
+	nb := (len(v) + block - 1) / block
+	los, his := make([]float64, nb), make([]float64, nb)
+	bads := make([]int, nb)
+	parallel.Blocks(len(v), block, workers, func(b, a, e int) {
+		lo, hi, bad := math.Inf(1), math.Inf(-1), 0
+		for _, x := range v[a:e] {
+			if f := float64(x); !math.IsNaN(f) && !math.IsInf(f, 0) {
+				lo, hi = min(lo, f), max(hi, f)
+			} else {
+				bad++
+			}
 		}
+		los[b], his[b], bads[b] = lo, hi, bad
+	})
+	lo, hi = math.Inf(1), math.Inf(-1)
+	bad := 0
+	for b := range los {
+		lo, hi, bad = min(lo, los[b]), max(hi, his[b]), bad+bads[b]
 	}
 	if bad == 0 {
 		return v, lo, hi
+	}
+	var sum float64
+	var n int
+	for _, x := range v {
+		if f := float64(x); !math.IsNaN(f) && !math.IsInf(f, 0) {
+			sum += f
+			n++
+		}
 	}
 	out = slices.Clone(v)
 	{

@@ -12,6 +12,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -300,5 +301,66 @@ func writePNG(t *testing.T, path string, img image.Image) {
 	}
 	if err := f.Close(); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// TestFiniteCopyBlocks checks finiteCopy (range and non-finite count on
+// blocks of workers) against one plain pass in index order: the same
+// range, the input itself when every value is finite, and otherwise a
+// copy with each non-finite value replaced by the mean of the finite
+// ones, bit for bit, on one worker and on three, over several blocks.
+func TestFiniteCopyBlocks(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15303, 1))
+	n := 3<<16 + 17
+	finite := make([]float32, n)
+	for i := range finite {
+		finite[i] = float32(rng.NormFloat64() * math.Pow(10, float64(rng.IntN(7)-3)))
+	}
+	finite[n-1] = float32(math.Copysign(0, -1))
+	mixed := slices.Clone(finite)
+	for _, i := range []int{0, 5, 1 << 16, 2<<16 + 3, n - 2} {
+		mixed[i] = float32(math.NaN())
+	}
+	mixed[70000] = float32(math.Inf(1))
+	mixed[70001] = float32(math.Inf(-1))
+	allBad := []float32{float32(math.NaN()), float32(math.Inf(1))}
+	for _, c := range []struct {
+		name string
+		v    []float32
+	}{{"finite", finite}, {"mixed", mixed}, {"no finite value", allBad}} {
+		// The plain pass.
+		lo, hi := math.Inf(1), math.Inf(-1)
+		var sum float64
+		var good int
+		for _, x := range c.v {
+			if f := float64(x); !math.IsNaN(f) && !math.IsInf(f, 0) {
+				lo, hi, sum, good = min(lo, f), max(hi, f), sum+f, good+1
+			}
+		}
+		mean := float32(0)
+		if good > 0 {
+			mean = float32(sum / float64(good))
+		}
+		for _, workers := range []int{1, 3} {
+			out, glo, ghi := finiteCopy(c.v, workers)
+			if math.Float64bits(glo) != math.Float64bits(lo) || math.Float64bits(ghi) != math.Float64bits(hi) {
+				t.Fatalf("%s, %d workers: range %v..%v, want %v..%v", c.name, workers, glo, ghi, lo, hi)
+			}
+			if good == len(c.v) {
+				if &out[0] != &c.v[0] {
+					t.Fatalf("%s, %d workers: a copy of an all-finite input", c.name, workers)
+				}
+				continue
+			}
+			for i, x := range c.v {
+				want := x
+				if f := float64(x); math.IsNaN(f) || math.IsInf(f, 0) {
+					want = mean
+				}
+				if math.Float32bits(out[i]) != math.Float32bits(want) {
+					t.Fatalf("%s, %d workers: value %d = %v, want %v", c.name, workers, i, out[i], want)
+				}
+			}
+		}
 	}
 }

@@ -1311,7 +1311,9 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 // left apart (a thin scratch found superpixel by superpixel), and a
 // border without a dip in contrast is no boundary between objects.
 // Objects are numbered 1..N in raster order of their first pixel. The
-// border sums are gathered on workers goroutines (seamSums).
+// border sums are gathered on workers goroutines (seamSums). The new
+// labels are written over objects.Pix (the caller's map, which it no
+// longer needs: a plane less), which is returned.
 func joinTouching(con []float64, objects labelmap.Map, n, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	if n < 2 {
@@ -1351,11 +1353,10 @@ func joinTouching(con []float64, objects labelmap.Map, n, workers int) ([]int32,
 	for l := range root {
 		root[l] = f.Find(int32(l))
 	}
-	out := make([]int32, len(labels))
 	for i, l := range labels {
 		if l > 0 {
-			out[i] = root[l]
+			labels[i] = root[l]
 		}
 	}
-	return relabelInto(out, out, n, make([]bool, n+1))
+	return relabelInto(labels, labels, n, make([]bool, n+1))
 }

@@ -253,7 +253,7 @@ func TestJoinTouching(t *testing.T) {
 				con[i] = c.right
 			}
 		}
-		_, n := joinTouching(con, labelmap.Map{Pix: labels, Width: w, Height: h}, 2, 1)
+		_, n := joinTouching(con, labelmap.Map{Pix: slices.Clone(labels), Width: w, Height: h}, 2, 1)
 		if n != c.want {
 			t.Errorf("border contrast %v, right half %v: %d objects, want %d", c.seam, c.right, n, c.want)
 		}
