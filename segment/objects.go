@@ -1074,16 +1074,42 @@ func (o *outlineEnergy) reset() { o.fine, o.coarse, o.con = o.fine[:0], o.coarse
 
 // edge reports whether the outline o carries an edge (see edgeTest).
 func (t *edgeTest) edge(o *outlineEnergy) bool {
-	if len(o.fine) == 0 {
+	switch t.outlineVerdict(o) {
+	case edgeFound:
 		return true
+	case edgeMissing:
+		return false
+	}
+	return t.sourceEdge(o)
+}
+
+// The verdicts of outlineVerdict.
+const (
+	edgeFound    = iota // the outline carries an edge
+	edgeMissing         // it does not
+	edgeIfSource        // a diffuse edge: an edge if the object is a source (sourceEdge)
+)
+
+// outlineVerdict is edge's answer from the outline's energies alone; a
+// diffuse edge (edgeIfSource) is left to the object's median contrast,
+// which edge then reads from o.con (sourceEdge).
+func (t *edgeTest) outlineVerdict(o *outlineEnergy) int {
+	if len(o.fine) == 0 {
+		return edgeFound
 	}
 	f := kthSmallest(o.fine, len(o.fine)/2)
 	if f < t.floor {
-		return false
+		return edgeMissing
 	}
 	if t.coarse == nil || len(o.coarse) == 0 || kthSmallest(o.coarse, len(o.coarse)/2) <= diffuseRatio*f {
-		return true
+		return edgeFound
 	}
+	return edgeIfSource
+}
+
+// sourceEdge is edge's answer for a diffuse edge: whether the median
+// contrast of the object's pixels (o.con) stands above t.source.
+func (t *edgeTest) sourceEdge(o *outlineEnergy) bool {
 	return len(o.con) > 0 && kthSmallest(o.con, len(o.con)/2) > t.source
 }
 
@@ -1100,19 +1126,44 @@ func edgeless(objects labelmap.Map, n int, t *edgeTest) []bool {
 	if n == 0 {
 		return nil
 	}
+	// The outline's energies first; the contrast of every pixel of an
+	// object only for the objects whose outline leaves the answer to it
+	// (a diffuse edge: edgeIfSource), in a second pass. The median is
+	// a value of the same pixels either way.
 	outline := make([]outlineEnergy, n+1)
 	for i, l := range labels {
-		if l <= 0 {
+		if l > 0 && onOutline(labels, i, w, h) {
+			outline[l].add(t, i)
+		}
+	}
+	verdict := make([]int8, n+1)
+	var source []bool // objects whose verdict is edgeIfSource
+	for l := 1; l <= n; l++ {
+		if len(outline[l].fine) == 0 {
 			continue
 		}
-		outline[l].addPixel(t, i)
-		if onOutline(labels, i, w, h) {
-			outline[l].add(t, i)
+		verdict[l] = int8(t.outlineVerdict(&outline[l]))
+		if verdict[l] == edgeIfSource {
+			if source == nil {
+				source = make([]bool, n+1)
+			}
+			source[l] = true
+		}
+	}
+	if source != nil {
+		for i, l := range labels {
+			if l > 0 && source[l] {
+				outline[l].addPixel(t, i)
+			}
 		}
 	}
 	var drop []bool
 	for l := 1; l <= n; l++ {
-		if len(outline[l].fine) > 0 && !t.edge(&outline[l]) {
+		if len(outline[l].fine) == 0 {
+			continue
+		}
+		edge := verdict[l] == edgeFound || verdict[l] == edgeIfSource && t.sourceEdge(&outline[l])
+		if !edge {
 			if drop == nil {
 				drop = make([]bool, n+1)
 			}

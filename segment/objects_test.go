@@ -628,3 +628,86 @@ func TestSeamSumsMatchOnePass(t *testing.T) {
 		}
 	}
 }
+
+// TestEdgelessMatchesOnePass checks edgeless (the contrast of an
+// object's pixels gathered only when its outline leaves the answer to
+// it) against the former single pass that gathered every object's
+// contrast and asked edge: the same objects marked, on the scene of
+// TestEdgelessDiffuse cut into more objects (quarters of the discs, the
+// background pieces) at several contrast scales.
+func TestEdgelessMatchesOnePass(t *testing.T) {
+	const w, h = 200, 100
+	lum, labels := noisyField(w, h, 4, func(x, y int) (v float64, l int32) {
+		v = 0.2
+		dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
+		if dx*dx+dy*dy < 20*20 {
+			v += 0.4
+			l = 1
+		}
+		d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
+		b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
+		v += b
+		if b > 0.2 {
+			l = 2
+		}
+		if x%100 >= 50 && l > 0 {
+			l += 2 // the discs' right halves: objects 3 and 4
+		}
+		if l == 0 && y >= 80 {
+			l = 5 // a strip of background
+		}
+		return v, l
+	})
+	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
+	coarse := coarseEnergy(lum, w, h, 1)
+	field := make([]float32, w*h)
+	for i := range field {
+		field[i] = 0.2
+	}
+	onePass := func(test *edgeTest) []bool {
+		outline := make([]outlineEnergy, 6)
+		for i, l := range labels {
+			if l <= 0 {
+				continue
+			}
+			outline[l].addPixel(test, i)
+			if onOutline(labels, i, w, h) {
+				outline[l].add(test, i)
+			}
+		}
+		var drop []bool
+		for l := 1; l <= 5; l++ {
+			if len(outline[l].fine) > 0 && !test.edge(&outline[l]) {
+				if drop == nil {
+					drop = make([]bool, 6)
+				}
+				drop[l] = true
+			}
+		}
+		return drop
+	}
+	marked := 0
+	for _, scale := range []float64{0.25, 0.5, 1, 2} {
+		con := contrastMap(lum, field, 1)
+		for i := range con {
+			con[i] *= scale
+		}
+		for _, test := range []*edgeTest{
+			{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1)},
+			{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse},
+			{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse, con: con, source: sourceContrast("dark")},
+		} {
+			want := onePass(test)
+			got := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 5, test)
+			if !slices.Equal(got, want) {
+				t.Fatalf("contrast x%v, coarse %v, con %v: %v, want %v", scale, test.coarse != nil, test.con != nil, got, want)
+			}
+			if want != nil {
+				marked++
+			}
+		}
+	}
+	if marked == 0 {
+		t.Fatal("no case marks an object: the comparison sees only empty answers")
+	}
+}
