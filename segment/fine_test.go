@@ -65,3 +65,70 @@ func TestTightenSmallDisc(t *testing.T) {
 		}
 	}
 }
+
+// TestCloseGrainNotches: closeGrainNotches fills a notch 2 px wide and 4
+// px deep cut into a disc's rim (the closing by a square of radius
+// textureFill = 2 fills gaps up to 4 px wide, common practice in
+// morphology), takes no pixel outside the region or of another object,
+// and leaves a gap of 2 px between two halves of one group open: the
+// closing would bridge two pieces the level had parted.
+func TestCloseGrainNotches(t *testing.T) {
+	const w, h = 40, 40
+	b := box{0, 0, w - 1, h - 1}
+	t.Run("notch", func(t *testing.T) {
+		group := make([]int32, w*h)
+		region := make([]bool, w*h)
+		var notch []int
+		for i := range group {
+			x, y := float64(i%w), float64(i/w)
+			group[i] = -1
+			if math.Hypot(x-20, y-20) <= 12 {
+				region[i] = true
+				group[i] = 0
+				if x >= 19 && x <= 20 && y <= 12 { // the notch, from the top rim down 4 px
+					group[i] = -1
+					notch = append(notch, i)
+				}
+			}
+		}
+		group[20*w+20] = 1 // a pixel of another object inside
+		region[5*w+5] = true
+		closeGrainNotches(group, region, 0, b, w)
+		for _, i := range notch {
+			if i/w > 8 && group[i] != 0 { // the rim's own row may stay open where the disc curves
+				t.Errorf("notch pixel (%d,%d) left open", i%w, i/w)
+			}
+		}
+		if group[20*w+20] != 1 {
+			t.Errorf("another object's pixel taken")
+		}
+		if group[5*w+5] != -1 {
+			t.Errorf("a region pixel away from the object taken")
+		}
+		if group[0] != -1 {
+			t.Errorf("a pixel outside the region taken")
+		}
+	})
+	t.Run("seam", func(t *testing.T) {
+		group := make([]int32, w*h)
+		region := make([]bool, w*h)
+		for i := range group {
+			x, y := i%w, i/w
+			group[i] = -1
+			if x >= 8 && x <= 31 && y >= 10 && y <= 29 {
+				region[i] = true
+				if x < 19 || x > 20 { // halves parted by a seam 2 px wide
+					group[i] = 0
+				}
+			}
+		}
+		closeGrainNotches(group, region, 0, b, w)
+		for y := 10; y <= 29; y++ {
+			for x := 19; x <= 20; x++ {
+				if group[y*w+x] != -1 {
+					t.Fatalf("seam pixel (%d,%d) taken: the closing bridged two pieces", x, y)
+				}
+			}
+		}
+	})
+}
