@@ -42,8 +42,8 @@ type member struct {
 // rest of the region without the members' pixels, since a large dim
 // member pulls the region's plateau down and the bright object's outline
 // out). px are the region's pixels (frame indices, ascending), own their
-// 3x3 means, sm the 3x3 mean at any pixel, b the region's box, w x h the
-// frame.
+// 3x3 means (their contrasts for a small object, fineRadius), sm the same
+// at any pixel, b the region's box, w x h the frame.
 func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, px []int, b box, w, h int, level float32, minArea int) []member {
 	plateau := level / tightenLevel
 	if len(px) < 2*minArea || !(plateau > 0) {

@@ -400,7 +400,11 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			}
 			return g
 		}
-		dims[l] = dimMembers(own, gauss, sm, px, boxes[l], w, h, level[l], minArea)
+		at := sm // the values own holds, at any pixel
+		if fine[l] {
+			at = func(i int) float32 { return float32(con[i]) }
+		}
+		dims[l] = dimMembers(own, gauss, at, px, boxes[l], w, h, level[l], minArea)
 		if len(dims[l]) > 0 {
 			// The object's own level, without its members' pixels.
 			taken := make([]bool, len(px))
