@@ -464,72 +464,65 @@ func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 // smoothFieldGrid is smoothField's grid (see there), not yet
 // interpolated.
 func smoothFieldGrid(v []float32, mask []bool, w, h int, sigma float64, workers int) *fieldGrid {
-	cell, gw, gh := fieldCells(w, h)
-	sum := make([]float64, gw*gh)
-	cnt := make([]float64, gw*gh)
-	parallel.For(gh, workers, func(gy int) {
-		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
-		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
-			row, m := v[y*w:(y+1)*w], mask[y*w:(y+1)*w]
-			// One cell of the row at a time, its sum held in a local:
-			// the same additions in the same order as per pixel.
-			for cx := range s {
-				x0, x1 := cx*cell, min(w, (cx+1)*cell)
-				acc, k := s[cx], n[cx]
-				for x, in := range m[x0:x1] {
-					if in {
-						acc += float64(row[x0+x])
-						k++
-					}
-				}
-				s[cx], n[cx] = acc, k
+	return fieldGridOfRuns(v, w, h, sigma, workers, func(y int, f func(x0, x1 int)) {
+		m := mask[y*w : (y+1)*w]
+		for x0 := 0; x0 < w; {
+			x1 := x0 + 1
+			for x1 < w && m[x1] == m[x0] {
+				x1++
 			}
-		}
-	})
-	return finishFieldGrid(sum, cnt, gw, gh, cell, w, h, sigma, func() float64 {
-		var tot float64
-		for i, in := range mask {
-			if in {
-				tot += float64(v[i])
+			if m[x0] {
+				f(x0, x1)
 			}
+			x0 = x1
 		}
-		return tot
 	})
 }
 
 // smoothFieldGridOfClass is smoothFieldGrid with the mask of the pixels
 // whose region (reg) is of class c (cls per region) read from the
 // region map directly, without a mask plane: each row is taken in runs of
-// one region, a run of class c added cell by cell, pixel by pixel. Every
-// cell adds its pixels in raster order as smoothFieldGrid does, so the
-// grid is the same bit for bit.
+// one region. Every cell adds its pixels in raster order as
+// smoothFieldGrid does, so the grid is the same bit for bit.
 func smoothFieldGridOfClass(v []float32, reg, cls []int32, c int32, w, h int, sigma float64, workers int) *fieldGrid {
+	return fieldGridOfRuns(v, w, h, sigma, workers, func(y int, f func(x0, x1 int)) {
+		rr := reg[y*w : (y+1)*w]
+		for x0 := 0; x0 < w; {
+			x1 := runEnd(rr, x0)
+			if cls[rr[x0]] == c {
+				f(x0, x1)
+			}
+			x0 = x1
+		}
+	})
+}
+
+// fieldGridOfRuns is the field's grid over the pixels that runs names:
+// runs(y, f) calls f(x0, x1) for each run [x0, x1) of row y's masked
+// pixels, left to right. Each cell's sum adds its pixels one by one in
+// raster order (addCells), on row bands of workers goroutines, and the
+// mean of all masked pixels, when finishFieldGrid asks for it, adds them
+// in raster order too: the grid does not depend on how the mask is read.
+func fieldGridOfRuns(v []float32, w, h int, sigma float64, workers int, runs func(y int, f func(x0, x1 int))) *fieldGrid {
 	cell, gw, gh := fieldCells(w, h)
 	sum := make([]float64, gw*gh)
 	cnt := make([]float64, gw*gh)
 	parallel.For(gh, workers, func(gy int) {
 		s, n := sum[gy*gw:(gy+1)*gw], cnt[gy*gw:(gy+1)*gw]
 		for y := gy * cell; y < min(h, (gy+1)*cell); y++ {
-			row, rr := v[y*w:(y+1)*w], reg[y*w:(y+1)*w]
-			for x0 := 0; x0 < w; {
-				x1 := runEnd(rr, x0)
-				if cls[rr[x0]] == c {
-					addCells(s, n, row, x0, x1, cell)
-				}
-				x0 = x1
-			}
+			row := v[y*w : (y+1)*w]
+			runs(y, func(x0, x1 int) { addCells(s, n, row, x0, x1, cell) })
 		}
 	})
 	return finishFieldGrid(sum, cnt, gw, gh, cell, w, h, sigma, func() float64 {
 		var tot float64
-		for i := 0; i < len(reg); {
-			j := runEnd(reg, i)
-			if cls[reg[i]] == c {
-				for _, x := range v[i:j] {
+		for y := 0; y < h; y++ {
+			row := v[y*w : (y+1)*w]
+			runs(y, func(x0, x1 int) {
+				for _, x := range row[x0:x1] {
 					tot += float64(x)
 				}
-			}
-			i = j
+			})
 		}
 		return tot
 	})
