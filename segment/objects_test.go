@@ -278,6 +278,28 @@ func noisyField(w, h int, seed uint64, scene func(x, y int) (float64, int32)) ([
 	return lum, labels
 }
 
+// sharpAndBlurredDisc is the scene of TestEdgelessDiffuse on 200 x 100
+// pixels: the value and label of pixel (x, y), a sharp disc of radius 20
+// at (50,50) labelled 1 and, at (150,50), a disc of radius 20 whose
+// profile across the rim is the normal CDF of σ 8 (a blurred step, as
+// the rim is nearly straight at this radius), labelled 2 where it
+// exceeds half its height, both 0.4 above a background of 0.2.
+func sharpAndBlurredDisc(x, y int) (v float64, l int32) {
+	v = 0.2
+	dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
+	if dx*dx+dy*dy < 20*20 {
+		v += 0.4
+		l = 1
+	}
+	d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
+	b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
+	v += b
+	if b > 0.2 {
+		l = 2
+	}
+	return v, l
+}
+
 // A sharp disc and a disc blurred by a Gaussian of σ 8 px, both 0.4 above
 // a background with 3 % noise and labelled where they exceed half their
 // height: both outlines pass the edge floor (the blurred step's slope,
@@ -287,24 +309,7 @@ func noisyField(w, h int, seed uint64, scene func(x, y int) (float64, int32)) ([
 // so only it is marked once the coarse energy is given.
 func TestEdgelessDiffuse(t *testing.T) {
 	const w, h = 200, 100
-	lum, labels := noisyField(w, h, 4, func(x, y int) (v float64, l int32) {
-		v = 0.2
-		dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
-		if dx*dx+dy*dy < 20*20 {
-			v += 0.4
-			l = 1
-		}
-		// The blurred disc: radius 20, its profile across the rim
-		// the normal CDF of σ 8 (a blurred step, as the rim is
-		// nearly straight at this radius).
-		d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
-		b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
-		v += b
-		if b > 0.2 {
-			l = 2
-		}
-		return v, l
-	})
+	lum, labels := noisyField(w, h, 4, sharpAndBlurredDisc)
 	fine := affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, 1)
 	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1)}); drop != nil {
 		t.Fatalf("without the coarse energy: %v marked, want none", drop)
@@ -638,18 +643,7 @@ func TestSeamSumsMatchOnePass(t *testing.T) {
 func TestEdgelessMatchesOnePass(t *testing.T) {
 	const w, h = 200, 100
 	lum, labels := noisyField(w, h, 4, func(x, y int) (v float64, l int32) {
-		v = 0.2
-		dx, dy := float64(x)+0.5-50, float64(y)+0.5-50
-		if dx*dx+dy*dy < 20*20 {
-			v += 0.4
-			l = 1
-		}
-		d := math.Hypot(float64(x)+0.5-150, float64(y)+0.5-50)
-		b := 0.4 * 0.5 * (1 + math.Erf((20-d)/(8*math.Sqrt2)))
-		v += b
-		if b > 0.2 {
-			l = 2
-		}
+		v, l = sharpAndBlurredDisc(x, y)
 		if x%100 >= 50 && l > 0 {
 			l += 2 // the discs' right halves: objects 3 and 4
 		}
