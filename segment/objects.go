@@ -444,22 +444,22 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 			}
 		}
 		near := dilateSquare(own, bw, bh, tightenReach)
+		// The value judged at (x, y): the 3x3 mean, or for a small
+		// object the contrast itself.
+		value := func(x, y int) float32 { return mean3At(con, w, h, x, y) }
+		if fine[l] {
+			value = func(x, y int) float32 { return float32(con[y*w+x]) }
+		}
 		for y := y0; y <= y1; y++ {
 			for x := x0; x <= x1; x++ {
 				k, i := (y-y0)*bw+x-x0, y*w+x
-				v := func() float32 {
-					if fine[l] {
-						return float32(con[i])
-					}
-					return mean3At(con, w, h, x, y)
-				}
 				switch {
 				case own[k]:
-					if v() < level {
+					if value(x, y) < level {
 						group[i] = -1
 					}
 				case near[k] && labels[i] == 0 && group[i] < 0:
-					if v() >= level {
+					if value(x, y) >= level {
 						group[i] = int32(l - 1)
 					}
 				}
