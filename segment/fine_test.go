@@ -3,6 +3,7 @@ package segment
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -71,7 +72,10 @@ func TestTightenSmallDisc(t *testing.T) {
 // textureFill = 2 fills gaps up to 4 px wide, common practice in
 // morphology), takes no pixel outside the region or of another object,
 // and leaves a gap of 2 px between two halves of one group open: the
-// closing would bridge two pieces the level had parted.
+// closing would bridge two pieces the level had parted. A bar pinched
+// by two such notches facing each other keeps them: closed, its neck
+// (relative depth 0.6) would be gone, and that neck is where the re-cut
+// parts two objects.
 func TestCloseGrainNotches(t *testing.T) {
 	const w, h = 40, 40
 	b := box{0, 0, w - 1, h - 1}
@@ -107,6 +111,26 @@ func TestCloseGrainNotches(t *testing.T) {
 		}
 		if group[0] != -1 {
 			t.Errorf("a pixel outside the region taken")
+		}
+	})
+	t.Run("pinched", func(t *testing.T) {
+		group := make([]int32, w*h)
+		region := make([]bool, w*h)
+		for i := range group {
+			x, y := i%w, i/w
+			group[i] = -1
+			if x >= 5 && x <= 34 && y >= 10 && y <= 29 {
+				region[i] = true
+				group[i] = 0
+				if x >= 19 && x <= 20 && (y <= 15 || y >= 24) { // notches 6 px deep from both sides
+					group[i] = -1
+				}
+			}
+		}
+		before := slices.Clone(group)
+		closeGrainNotches(group, region, 0, b, w)
+		if !slices.Equal(group, before) {
+			t.Errorf("the pinched bar's notches were closed")
 		}
 	})
 	t.Run("seam", func(t *testing.T) {

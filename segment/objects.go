@@ -591,7 +591,9 @@ func texturedInterior(own []float32, gauss func() gaussCrop, px []int, b box, w 
 // closing adds is taken when it lies in the object's region (region,
 // over r) and in no other object, unless the pixels it joins are pieces
 // the level had parted: the closing fills notches and holes, but never
-// bridges a dim seam between two touching objects.
+// bridges a dim seam between two touching objects. Nor does it smooth
+// away a neck deep enough for neckPieces (pinched): the object is then
+// left as it was.
 func closeGrainNotches(group []int32, region []bool, g int32, r box, w int) {
 	bw, bh := r.x1-r.x0+1, r.y1-r.y0+1
 	kept := make([]bool, bw*bh)
@@ -634,11 +636,31 @@ func closeGrainNotches(group []int32, region []bool, g int32, r box, w int) {
 			}
 		}
 	}
+	closedMask := slices.Clone(kept)
 	for k, ok := range add {
 		if ok && !joins[c1[k]] {
+			closedMask[k] = true
+		}
+	}
+	// A closing also fills the narrow end of the wedge between two
+	// touching objects: where it would take away a neck the re-cut
+	// splits at on its own, the object is left as the level drew it.
+	if pinched(kept, bw, bh) && !pinched(closedMask, bw, bh) {
+		return
+	}
+	for k, in := range closedMask {
+		if in && !kept[k] {
 			group[(k/bw+r.y0)*w+k%bw+r.x0] = g
 		}
 	}
+}
+
+// pinched reports whether a mask (w x h) has a neck that neckPieces
+// splits at without the cut's help: relative depth at least
+// refineNeckAlone among those more than neckNoise pixels deep.
+func pinched(mask []bool, w, h int) bool {
+	nk := deepestNeck(distanceInside(mask, w, h), w, h, neckNoise)
+	return nk.peakA >= 0 && nk.depth >= refineNeckAlone
 }
 
 // halfMaxLevel returns the level at which an object's outline is drawn:
