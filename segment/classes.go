@@ -424,28 +424,6 @@ func referenceClass(cls []int32, area []float64, C int, background Background) i
 	return best
 }
 
-// smoothField estimates a smooth field from the pixels where mask is true by
-// normalized convolution with a Gaussian of standard deviation sigma pixels,
-// computed on a coarse grid of about fieldGridCells cells across and
-// interpolated bilinearly. Cells with no masked pixel within reach take the
-// mean of all masked pixels.
-//
-// The cell sums are taken one row of cells at a time on the workers
-// (cells do not straddle rows of cells, so every cell still adds its
-// pixels in raster order), and the mean of all masked pixels, in raster
-// order, only when a cell needs it.
-func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
-	return smoothFieldInto(nil, v, mask, w, h, sigma, workers)
-}
-
-// smoothFieldInto is smoothField written into dst when it holds w·h
-// values (a field the caller no longer needs; it must not be v), else
-// into a new slice; it returns the field. Every pixel is overwritten, so
-// the result is smoothField's.
-func smoothFieldInto(dst, v []float32, mask []bool, w, h int, sigma float64, workers int) []float32 {
-	return smoothFieldGrid(v, mask, w, h, sigma, workers).plane(dst, workers)
-}
-
 // fieldGrid is a smooth field before its interpolation: the gw x gh grid
 // of cell values (cell pixels each) that interpolateGrid spreads over the
 // w x h image. A caller that needs the field again much later keeps the
@@ -461,8 +439,15 @@ func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 	return interpolateGridInto(dst, g.grid, g.gw, g.gh, g.cell, g.w, g.h, workers)
 }
 
-// smoothFieldGrid is smoothField's grid (see there), not yet
-// interpolated.
+// smoothFieldGrid estimates a smooth field from the pixels where mask is
+// true by normalized convolution with a Gaussian of standard deviation
+// sigma pixels, computed on a coarse grid of about fieldGridCells cells
+// across (the grid, to be interpolated bilinearly by plane). Cells with
+// no masked pixel within reach take the mean of all masked pixels. The
+// cell sums are taken one row of cells at a time on the workers (cells
+// do not straddle rows of cells, so every cell still adds its pixels in
+// raster order), and the mean of all masked pixels, in raster order,
+// only when a cell needs it.
 func smoothFieldGrid(v []float32, mask []bool, w, h int, sigma float64, workers int) *fieldGrid {
 	return fieldGridOfRuns(v, w, h, sigma, workers, func(y int, f func(x0, x1 int)) {
 		m := mask[y*w : (y+1)*w]

@@ -13,34 +13,14 @@ import (
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
-// contrastMap returns |I/B - 1| per pixel, the contrast against the
-// background field B (kept above fieldFloor) that the object stages judge
-// by.
-func contrastMap(inten, field []float32, workers int) []float64 {
-	return contrastMapInto(nil, inten, field, workers)
-}
-
-// contrastMapInto is contrastMap written into dst when it has the length
-// of inten (a map the caller no longer needs), else into a new slice; it
-// returns the map. Bands of pixels run on workers goroutines (workers <
-// 1: GOMAXPROCS); each pixel is computed alone.
-func contrastMapInto(dst []float64, inten, field []float32, workers int) []float64 {
-	con := dst
-	if len(con) != len(inten) {
-		con = make([]float64, len(inten))
-	}
-	const band = 1 << 16
-	parallel.Blocks(len(con), band, workers, func(_, lo, hi int) {
-		for i := lo; i < hi; i++ {
-			con[i] = math.Abs(float64(inten[i])/floorField(float64(field[i])) - 1)
-		}
-	})
-	return con
-}
-
-// contrastOfGrid is contrastMapInto against the field of grid g (the
-// plane g.plane would give, each value made as interpolateGrid makes it
-// and read at once): the same map bit for bit, without a field plane.
+// contrastOfGrid returns |I/B - 1| per pixel, the contrast against the
+// background field B (kept above fieldFloor) that the object stages
+// judge by, B the field of grid g: each value made as interpolateGrid
+// makes it and read at once, so the map is the one a field plane
+// (g.plane) would give, bit for bit, without that plane. It is written
+// into dst when dst has the length of inten (a map the caller no longer
+// needs), else into a new slice; rows run on workers goroutines
+// (workers < 1: GOMAXPROCS).
 func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, workers int) []float64 {
 	con := dst
 	if len(con) != len(inten) {
@@ -67,7 +47,7 @@ const seamRatio = 0.8
 // connected piece (4-neighbours) of non-background pixels is an object,
 // except that neighbouring pixels of two different regions are joined only
 // when the boundary between those regions is not a seam. A seam is a
-// boundary whose mean contrast con = |I/B - 1| (contrastMap) is below
+// boundary whose mean contrast con = |I/B - 1| (contrastOfGrid) is below
 // seamRatio times the mean contrast of the weaker of the two regions: the
 // dim line between two nuclei pressed together, or the bright ridge between
 // two touching pits. Objects under minArea pixels go to the background.
@@ -1092,7 +1072,7 @@ func coarseEnergyBlocks(lum []float32, w, h, workers int) ([]float32, int) {
 // fine edge energy over its pixels reaches floor (edgeFloor), and, when
 // coarse (the energy at diffuseScale) is known, the edge is not diffuse:
 // median coarse / median fine is at most diffuseRatio, unless the
-// object's median contrast con = |I/B - 1| (contrastMap, when set)
+// object's median contrast con = |I/B - 1| (contrastOfGrid, when set)
 // exceeds source (sourceContrast): the object is then a source.
 type edgeTest struct {
 	w, h int

@@ -774,8 +774,8 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// backgroundField makes fieldG the field of the current
 			// background class, read from the region map (no mask
 			// plane); the contrast map is made from the grid directly
-			// (contrastOfGrid, the values of contrastMap against
-			// fieldG.plane) and the plane only where it is read
+			// (contrastOfGrid, the values a field plane would give)
+			// and the plane only where it is read
 			// (rejudge, the faint objects, outshone).
 			backgroundField := func() {
 				fieldG = smoothFieldGridOfClass(in.Luminance, reg, cls, bg, w, h, float64(max(w, h))/fieldScale, p.Workers)
