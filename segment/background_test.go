@@ -161,7 +161,7 @@ func TestGroupClassesHaze(t *testing.T) {
 	const w, h = 256, 256
 	lum, reg, n := hazeRegions(w, h)
 	for _, radius := range []float64{0, 6} {
-		cls, _, _ := groupClasses([][]float32{lum}, lum, labelmap.Map{Pix: reg, Width: w, Height: h}, n, 2, "dark", func() float64 { return radius }, 1, 2)
+		cls, _ := groupClasses([][]float32{lum}, lum, labelmap.Map{Pix: reg, Width: w, Height: h}, n, 2, "dark", func() float64 { return radius }, 1, 2)
 		want := []int32{0, 0, 1, 1, 1, 1}
 		for r := range want {
 			if cls[r] != want[r] {

@@ -63,11 +63,12 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // cannot be objects are clamped to the background's level
 // (backgroundSide); radius gives the image's typical object radius in
 // pixels (affinity.ObjectScale), 0 when unknown, and is called only when
-// the mesh is needed. When the grouping settles, field is B of the final
-// grouping (callers reuse it); otherwise field is nil.
-// With several feature planes (CIE Lab) the region mean vectors are grouped
-// by area-weighted k-means without shading compensation, and field is nil.
-func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, field []float32, grid *fieldGrid) {
+// the mesh is needed. When the grouping settles, grid is the grid of B
+// of the final grouping (callers reuse it; its plane is B); otherwise
+// grid is nil. With several feature planes (CIE Lab) the region mean
+// vectors are grouped by area-weighted k-means without shading
+// compensation, and grid is nil.
+func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, grid *fieldGrid) {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
 	st := statsOf([][]float32{lum}, reg, n)
 	if len(planes) > 1 {
@@ -79,7 +80,7 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			}
 		}
 		cls := kmeans(x, n, len(planes), C, st.area, kmeansRestarts, seed, 1)
-		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil, nil
+		return asBackground(orderClasses(cls, st.mean[0], st.area, C), C, background), nil
 	}
 	score := append([]float64(nil), st.mean[0]...)
 	cls = asBackground(split1D(score, st.area, C, seed), C, background)
@@ -95,13 +96,14 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 	// The mask and the field of one round are written over the last
 	// round's (fewer frame-sized allocations; every value is rewritten).
 	var mask []bool
+	var field []float32
 	for round := 0; round < classRounds; round++ {
 		ref := referenceClass(cls, st.area, C, background)
 		if mask == nil {
 			mask = make([]bool, len(reg))
 		}
 		if !maskOfClass(mask, reg, cls, ref, workers) {
-			return cls, nil, nil
+			return cls, nil
 		}
 		grid = smoothFieldGrid(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
 		field = grid.plane(field, workers)
@@ -118,11 +120,11 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			next = noiseBound(next, score, lum, field, mask, background)
 		}
 		if slices.Equal(next, cls) {
-			return cls, field, grid // field was estimated from this very grouping
+			return cls, grid // the field was estimated from this very grouping
 		}
 		cls = next
 	}
-	return cls, nil, nil
+	return cls, nil
 }
 
 // maskOfClass sets mask[i] to whether pixel i's region (reg) is of class

@@ -762,7 +762,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			return ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
 		}
-		cls, field, fieldG := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
+		cls, fieldG := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		if p.Background == "" {
 			res.Classes = labelmap.New(w, h)
 			for i, r := range reg {
@@ -774,18 +774,15 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			// backgroundField makes fieldG the field of the current
 			// background class, read from the region map (no mask
 			// plane); the contrast map is made from the grid directly
-			// (contrastOfGrid, the values a field plane would give)
-			// and the plane only where it is read
-			// (rejudge, the faint objects, outshone).
+			// (contrastOfGrid, the values a field plane would give),
+			// and the plane only for the call that reads it (rejudge,
+			// the faint objects, outshone), not held between them.
 			backgroundField := func() {
 				fieldG = smoothFieldGridOfClass(in.Luminance, reg, cls, bg, w, h, float64(max(w, h))/fieldScale, p.Workers)
 			}
-			// groupClasses' field plane, when it has one, is
-			// fieldG.plane: dropped, the contrast map made from the grid.
-			if field == nil {
+			if fieldG == nil {
 				backgroundField()
 			}
-			field = nil
 			if energy == nil {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
 			}
@@ -831,10 +828,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 {
 					break
 				}
-				field = fieldG.plane(nil, p.Workers)
-				changed := rejudge(cls, dropped, in.Luminance, field, reg, bg, p.Background)
-				field = nil
-				if !changed {
+				if !rejudge(cls, dropped, in.Luminance, fieldG.plane(nil, p.Workers), reg, bg, p.Background) {
 					break
 				}
 				backgroundField()
@@ -856,20 +850,14 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			}
 			if nodeOf != nil && p.Classes == 2 {
 				before := nreg
-				field = fieldG.plane(nil, p.Workers)
 				// faintObjects adds regions when it finds faint objects and
 				// leaves everything as it was otherwise.
-				regions, nreg, cls = faintObjects(in.Luminance, field, nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1), p.Workers)
+				regions, nreg, cls = faintObjects(in.Luminance, fieldG.plane(nil, p.Workers), nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1), p.Workers)
 				reg = regions.Pix
 				if nreg != before {
 					fresh = false
 				}
 			}
-			// Nothing reads the field plane again before outshone, at the
-			// end of the objects stage: it is dropped through the
-			// tightening and the re-cut (the class stage's largest live
-			// set) and made again from its grid there, the same values.
-			field = nil
 			if !fresh {
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 			}
@@ -903,8 +891,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
-			field = fieldG.plane(nil, p.Workers)
-			if drop := outshone(in.Luminance, field, res.Labels, res.NumObjects); drop != nil {
+			if drop := outshone(in.Luminance, fieldG.plane(nil, p.Workers), res.Labels, res.NumObjects); drop != nil {
 				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
 			stage("objects")
@@ -945,9 +932,8 @@ const pixelBlock = 1 << 16
 // out, in fixed blocks of pixels on workers goroutines, and returns the
 // number of pixels outside class bg.
 func classMap(out, reg, cls []int32, bg int32, workers int) int {
-	const block = 1 << 16
-	counts := make([]int, (len(reg)+block-1)/block)
-	parallel.Blocks(len(reg), block, workers, func(b, lo, hi int) {
+	counts := make([]int, (len(reg)+pixelBlock-1)/pixelBlock)
+	parallel.Blocks(len(reg), pixelBlock, workers, func(b, lo, hi int) {
 		o, n := out[lo:hi], 0
 		for k, r := range reg[lo:hi] {
 			o[k] = cls[r]
