@@ -113,20 +113,27 @@ func TestCloseGrainNotches(t *testing.T) {
 			t.Errorf("a pixel outside the region taken")
 		}
 	})
-	t.Run("pinched", func(t *testing.T) {
+	// bar returns a region over the rectangle [x0, x1] x [10, 29] whose
+	// pixels are the object's (group 0) except where cut says not.
+	bar := func(x0, x1 int, cut func(x, y int) bool) ([]int32, []bool) {
 		group := make([]int32, w*h)
 		region := make([]bool, w*h)
 		for i := range group {
 			x, y := i%w, i/w
 			group[i] = -1
-			if x >= 5 && x <= 34 && y >= 10 && y <= 29 {
+			if x >= x0 && x <= x1 && y >= 10 && y <= 29 {
 				region[i] = true
-				group[i] = 0
-				if x >= 19 && x <= 20 && (y <= 15 || y >= 24) { // notches 6 px deep from both sides
-					group[i] = -1
+				if !cut(x, y) {
+					group[i] = 0
 				}
 			}
 		}
+		return group, region
+	}
+	t.Run("pinched", func(t *testing.T) {
+		group, region := bar(5, 34, func(x, y int) bool {
+			return x >= 19 && x <= 20 && (y <= 15 || y >= 24) // notches 6 px deep from both sides
+		})
 		before := slices.Clone(group)
 		closeGrainNotches(group, region, 0, b, w)
 		if !slices.Equal(group, before) {
@@ -134,18 +141,9 @@ func TestCloseGrainNotches(t *testing.T) {
 		}
 	})
 	t.Run("seam", func(t *testing.T) {
-		group := make([]int32, w*h)
-		region := make([]bool, w*h)
-		for i := range group {
-			x, y := i%w, i/w
-			group[i] = -1
-			if x >= 8 && x <= 31 && y >= 10 && y <= 29 {
-				region[i] = true
-				if x < 19 || x > 20 { // halves parted by a seam 2 px wide
-					group[i] = 0
-				}
-			}
-		}
+		group, region := bar(8, 31, func(x, _ int) bool {
+			return x >= 19 && x <= 20 // halves parted by a seam 2 px wide
+		})
 		closeGrainNotches(group, region, 0, b, w)
 		for y := 10; y <= 29; y++ {
 			for x := 19; x <= 20; x++ {
