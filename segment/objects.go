@@ -617,10 +617,14 @@ func closeGrainNotches(group []int32, region []bool, g int32, r box, w int) {
 		}
 	}
 	closedMask := slices.Clone(kept)
+	added := false
 	for k, ok := range add {
 		if ok && !joins[c1[k]] {
-			closedMask[k] = true
+			closedMask[k], added = true, true
 		}
+	}
+	if !added {
+		return
 	}
 	// A closing also fills the narrow end of the wedge between two
 	// touching objects: where it would take away a neck the re-cut
