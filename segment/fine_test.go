@@ -154,3 +154,72 @@ func TestCloseGrainNotches(t *testing.T) {
 		}
 	})
 }
+
+// TestFillPockets: fillPockets fills the dark centre of a textured
+// nucleus whose level drew it as a ring open on one side (othershapes.py
+// chromatin 1381 at (430,382): a ring of 0.99 enclosure, cut into five
+// pieces by the re-cut until it was filled), but not the wedge between
+// two overlapping discs of one piece (enclosed along about two thirds of
+// its border: filled, the neck the re-cut parts them at would be gone),
+// nor a pixel of another object inside the ring or outside the region.
+// (Convex hulls and hole filling are common practice; the cases are
+// ours.)
+func TestFillPockets(t *testing.T) {
+	const w, h = 50, 50
+	b := box{0, 0, w - 1, h - 1}
+	t.Run("open ring", func(t *testing.T) {
+		group := make([]int32, w*h)
+		region := make([]bool, w*h)
+		var centre []int
+		for i := range group {
+			x, y := float64(i%w), float64(i/w)
+			d := math.Hypot(x-25, y-25)
+			group[i] = -1
+			if d <= 16 {
+				region[i] = true
+				switch {
+				case d > 8 && !(y < 25 && math.Abs(x-25) <= 1): // the ring, open 3 px wide at the top
+					group[i] = 0
+				case d <= 7:
+					centre = append(centre, i)
+				}
+			}
+		}
+		group[25*w+25] = 1 // a pixel of another object inside
+		fillPockets(group, region, 0, b, w)
+		open := 0
+		for _, i := range centre {
+			if group[i] != 0 && i != 25*w+25 {
+				open++
+			}
+		}
+		if open > 0 {
+			t.Errorf("%d of the ring's %d centre pixels left open", open, len(centre))
+		}
+		if group[25*w+25] != 1 {
+			t.Errorf("another object's pixel taken")
+		}
+		if group[0] != -1 {
+			t.Errorf("a pixel outside the region taken")
+		}
+	})
+	t.Run("wedge", func(t *testing.T) {
+		group := make([]int32, w*h)
+		region := make([]bool, w*h)
+		for i := range group {
+			x, y := float64(i%w), float64(i/w)
+			group[i] = -1
+			if x >= 4 && x <= 46 && y >= 12 && y <= 38 {
+				region[i] = true
+			}
+			if math.Hypot(x-15, y-25) <= 10 || math.Hypot(x-34, y-25) <= 10 {
+				group[i] = 0
+			}
+		}
+		before := slices.Clone(group)
+		fillPockets(group, region, 0, b, w)
+		if !slices.Equal(group, before) {
+			t.Errorf("the wedges between two overlapping discs were filled")
+		}
+	})
+}

@@ -32,18 +32,25 @@ type member struct {
 // p - s > tightenLevel·p, that is s < tightenLevel·p (the saddle lies
 // below its half maximum, so its half-maximum outline closes around it
 // alone; a shoulder on a brighter object's slope, or its halo, has no
-// such saddle), and it holds at least minArea pixels. Every basin but
-// the one of the highest peak whose peak is below the region's plateau
-// (level/tightenLevel: dimmer than the object the level was drawn for)
-// is a member. Where the flooding finds a single basin, the region's
-// shape may still part a dim member from the rest (neckMember). A
-// member's own level is halfMaxLevel of the 3x3 means over its
-// pixels, as for any object (tightenObjects then takes the level of the
-// rest of the region without the members' pixels, since a large dim
-// member pulls the region's plateau down and the bright object's outline
-// out). px are the region's pixels (frame indices, ascending), own their
-// 3x3 means (their contrasts for a small object, fineRadius), sm the same
-// at any pixel, b the region's box, w x h the frame.
+// such saddle), and it holds at least minArea pixels. A basin other than
+// the one of the highest peak is a member when its peak is below the
+// region's plateau (level/tightenLevel: dimmer than the object the
+// level was drawn for), or when it is textured (texturedBasin) and the
+// level lies above its median: the bright foci of a pale textured
+// nucleus reach the plateau of its bright neighbour, but the level
+// would keep only those foci, as crumbs (othershapes.py chromatin). Such
+// a member's own level must lie above the background around the region
+// (surroundMedian), as neckMember asks. Within every basin that is no
+// member, its shape may still part a dim member from the rest
+// (neckMember): a pale nucleus pressed against a bright one has no
+// saddle of its own. A member's own level is halfMaxLevel of the 3x3
+// means over its pixels, as for any object (tightenObjects then takes
+// the level of the rest of the region without the members' pixels,
+// since a large dim member pulls the region's plateau down and the
+// bright object's outline out). px are the region's pixels (frame
+// indices, ascending), own their 3x3 means (their contrasts for a small
+// object, fineRadius), sm the same at any pixel, b the region's box, w x
+// h the frame.
 func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, px []int, b box, w, h int, level float32, minArea int) []member {
 	plateau := level / tightenLevel
 	if len(px) < 2*minArea || !(plateau > 0) {
@@ -57,9 +64,16 @@ func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, p
 		c := (i/w-b.y0)*cw + i%w - b.x0
 		v[c], mask[c] = g.at(i, w), true
 	}
+	surround := float32(-1)
+	around := func() float32 {
+		if surround < 0 {
+			surround = surroundMedian(sm, mask, b, w, h)
+		}
+		return surround
+	}
 	lab, n := basins(v, mask, cw, ch, 0, tightenLevel, minArea)
 	if n < 2 {
-		return neckMember(own, sm, px, mask, b, w, h, level, minArea)
+		return neckMember(own, px, mask, around, b, w, level, minArea)
 	}
 	peak := make([]float32, n)
 	for c, l := range lab {
@@ -74,42 +88,60 @@ func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, p
 		}
 	}
 	byBasin := make([][]int32, n)
-	for k, i := range px { // ascending, so each member's ks is too
-		l := lab[(i/w-b.y0)*cw+i%w-b.x0]
-		if l != top && peak[l] < plateau {
+	for k, i := range px { // ascending, so each basin's ks is too
+		if l := lab[(i/w-b.y0)*cw+i%w-b.x0]; l >= 0 {
 			byBasin[l] = append(byBasin[l], int32(k))
 		}
 	}
 	var found []member
-	for _, ks := range byBasin {
-		if len(ks) > 0 {
-			found = append(found, memberOf(ks, own))
+	for l, ks := range byBasin {
+		if len(ks) == 0 {
+			continue
+		}
+		if int32(l) != top {
+			m := memberOf(ks, own)
+			if peak[l] < plateau || m.median < level && texturedBasin(ks, own, px, b, w, m.level) && m.level > around() {
+				found = append(found, m)
+				continue
+			}
+		}
+		basinPx := make([]int, len(ks))
+		basinOwn := make([]float32, len(ks))
+		basinMask := make([]bool, cw*ch)
+		for q, k := range ks {
+			basinPx[q], basinOwn[q] = px[k], own[k]
+			basinMask[(px[k]/w-b.y0)*cw+px[k]%w-b.x0] = true
+		}
+		for _, m := range neckMember(basinOwn, basinPx, basinMask, around, b, w, level, minArea) {
+			for q, k := range m.ks {
+				m.ks[q] = ks[k] // the basin's index, back to the region's
+			}
+			found = append(found, m)
 		}
 	}
 	return found
 }
 
-// neckMember finds a dim member that the region's shape parts from the
-// rest where its contrast does not (dimMembers): a pale textured nucleus
-// pressed against a bright one has no saddle of its own in the Gaussian
-// mean, since the bright one's slope runs over it, yet the class map
-// outlines the pair as two discs joined at a neck. The region (mask over
-// box b, pixels px with 3x3 means own) is split at the deepest neck of
-// its distance map (deepestNeck, more than neckNoise pixels deep and of
-// relative depth at least refineNeck) by the two-marker watershed of the
-// distance transform (splitAtNeck). A side is a member when it holds at
-// least minArea pixels and its median 3x3 mean lies below the region's
-// outline level: that level would drop most of it, so it is outlined at
-// its own half maximum instead. A side at or above the level is part of
-// the bright object however the shape runs; the split is only ever asked
-// where the intensity has already found no member. A member's own
-// outline level (half its plateau) must lie above the median 3x3 mean
-// of the background around the region (sm at the pixels within
-// tightenReach of the region's box that are not the region's), or that
-// outline would not part it from the background: a superpixel of
-// background noise that the class map hung on an object's side is no
-// member.
-func neckMember(own []float32, sm func(i int) float32, px []int, mask []bool, b box, w, h int, level float32, minArea int) []member {
+// neckMember finds a dim member that the shape of a region, or of one of
+// its basins, parts from the rest where its contrast does not
+// (dimMembers): a pale textured nucleus pressed against a bright one has
+// no saddle of its own in the Gaussian mean, since the bright one's
+// slope runs over it, yet the class map outlines the pair as two discs
+// joined at a neck. The part (mask over box b, pixels px with 3x3 means
+// own) is split at the deepest neck of its distance map (deepestNeck,
+// more than neckNoise pixels deep and of relative depth at least
+// refineNeck) by the two-marker watershed of the distance transform
+// (splitAtNeck). A side is a member when it holds at least minArea
+// pixels and its median 3x3 mean lies below the region's outline level:
+// that level would drop most of it, so it is outlined at its own half
+// maximum instead. A side at or above the level is part of the bright
+// object however the shape runs; the split is only ever asked where the
+// intensity has already found no member. A member's own outline level
+// (half its plateau) must lie above around(), the median 3x3 mean of the
+// background around the region (surroundMedian), or that outline would
+// not part it from the background: a superpixel of background noise
+// that the class map hung on an object's side is no member.
+func neckMember(own []float32, px []int, mask []bool, around func() float32, b box, w int, level float32, minArea int) []member {
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	d := distanceInside(mask, cw, ch)
 	nk := deepestNeck(d, cw, ch, neckNoise)
@@ -123,19 +155,11 @@ func neckMember(own []float32, sm func(i int) float32, px []int, mask []bool, b 
 		parts[s] = append(parts[s], int32(k))
 	}
 	var found []member
-	surround := float32(-1)
 	for _, ks := range parts[1:] {
 		if len(ks) < minArea || len(ks) == len(px) {
 			continue
 		}
-		m := memberOf(ks, own)
-		if m.median >= level {
-			continue
-		}
-		if surround < 0 {
-			surround = surroundMedian(sm, mask, b, w, h)
-		}
-		if m.level > surround {
+		if m := memberOf(ks, own); m.median < level && m.level > around() {
 			found = append(found, m)
 		}
 	}
@@ -207,4 +231,18 @@ func cropGaussian(con []float64, b box, w, h int, s float64) gaussCrop {
 		}
 	}
 	return gaussCrop{affinity.GaussianSmooth(g, gw, gh, s, 1), x0, y0, gw}
+}
+
+// texturedBasin reports whether the region pixels ks (indices into px,
+// with 3x3 means own) are textured on their own plateau,
+// level/tightenLevel: pixelTexture above textureLimit, the test
+// tightenObjects puts to a whole object.
+func texturedBasin(ks []int32, own []float32, px []int, b box, w int, level float32) bool {
+	sub := make([]int, len(ks))
+	vals := make([]float32, len(ks))
+	for q, k := range ks {
+		sub[q], vals[q] = px[k], own[k]
+	}
+	tex, _, _ := pixelTexture(vals, sub, b, w, float64(level)/tightenLevel)
+	return tex > textureLimit
 }
