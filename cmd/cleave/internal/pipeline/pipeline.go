@@ -362,6 +362,8 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		return fail(err)
 	}
 	defer budget.release(held)
+	hdr := src.Header()
+	defer frameCollector(hdr.Width * hdr.Height)()
 	in, err := loadSourceKeep(ctx, src, j.Options, true)
 	if err != nil {
 		return fail(err)
