@@ -739,6 +739,63 @@ func TestBeyondDigitization(t *testing.T) {
 	}
 }
 
+// TestSingleElongated: singleElongated takes as one object a short rod
+// whose outline digitization dents by a pixel on one side (elongation
+// about 6, 6 px deep) and solid bars however thin, but not two touching
+// discs (a neck deeper than a pixel), nor two specks of radius 3 px 7
+// px apart (elongation 6.1, a neck within digitization, but under
+// fineRadius deep), nor a disc (elongation 1). The
+// elongations are second moments (pairElongation); the cases are ours.
+func TestSingleElongated(t *testing.T) {
+	capsule := func(cx, cy, half, r float64) func(x, y float64) bool {
+		return func(x, y float64) bool {
+			px, py := x-cx, y-cy
+			s := math.Max(-half, math.Min(half, px))
+			return math.Hypot(px-s, py) <= r
+		}
+	}
+	dented := func(in func(x, y float64) bool, cx, cy, r float64) func(x, y float64) bool {
+		return func(x, y float64) bool {
+			return in(x, y) && !(math.Abs(x-cx) < 3 && y-cy > r-1)
+		}
+	}
+	for _, c := range []struct {
+		name   string
+		w, h   int
+		inside func(x, y float64) bool
+		want   bool
+	}{
+		{"short rod dented by a pixel", 60, 40, dented(capsule(30.2, 19.7, 9, 6), 30.2, 19.7, 6), true},
+		{"solid bar 11 x 60", 100, 100, bar(50.2, 49.7, 0.4, 30, 5.5), true},
+		{"solid bar 7 x 60 along x", 100, 100, bar(50.2, 49.7, 0, 30, 3.5), true},
+		{"two touching discs of radius 8", 60, 40, func(x, y float64) bool {
+			return math.Hypot(x-20, y-20) <= 8 || math.Hypot(x-36, y-20) <= 8
+		}, false},
+		{"two specks of radius 3, 7 px apart", 40, 20, func(x, y float64) bool {
+			return math.Hypot(x-15.2, y-9.7) <= 3 || math.Hypot(x-22.2, y-9.7) <= 3
+		}, false},
+		{"disc of radius 10", 40, 40, func(x, y float64) bool { return math.Hypot(x-20.2, y-19.7) <= 10 }, false},
+	} {
+		mask := make([]bool, c.w*c.h)
+		smooth := make([]float32, c.w*c.h)
+		var px []int
+		for y := 0; y < c.h; y++ {
+			for x := 0; x < c.w; x++ {
+				if c.inside(float64(x), float64(y)) {
+					mask[y*c.w+x] = true
+					smooth[y*c.w+x] = 1
+					px = append(px, y*c.w+x)
+				}
+			}
+		}
+		shape := &objectShape{mask: mask, smooth: smooth, cw: c.w, ch: c.h, dist: distanceInside(mask, c.w, c.h)}
+		solid, elong := solidity(px, c.w) > refineSolidity, elongation(px, c.w)
+		if got := shape.singleElongated(solid, elong); got != c.want {
+			t.Errorf("%s (solid %v, elongation %.2f): singleElongated %v, want %v", c.name, solid, elong, got, c.want)
+		}
+	}
+}
+
 // bar is a rectangle of half-length l and half-width r centred on
 // (cx, cy) at angle th.
 func bar(cx, cy, th, l, r float64) func(x, y float64) bool {
