@@ -162,6 +162,7 @@ func (b *memoryBudget) acquire(ctx context.Context, n int64) (int64, error) {
 		b.mu.Lock()
 		if b.free >= n {
 			b.free -= n
+			collector.follow(b.total, b.total-b.free)
 			b.mu.Unlock()
 			return n, nil
 		}
@@ -182,6 +183,7 @@ func (b *memoryBudget) release(n int64) {
 	}
 	b.mu.Lock()
 	b.free += n
+	collector.follow(b.total, b.total-b.free)
 	close(b.wake)
 	b.wake = make(chan struct{})
 	b.mu.Unlock()
@@ -199,7 +201,10 @@ func (b *memoryBudget) release(n int64) {
 // instead of the runtime's 100: the largest images hold most of their
 // memory in a few big planes, and a collection that falls just after they
 // are allocated lets the heap double (DEVELOPERS.md, "Measured choices",
-// gives the measurement).
+// gives the measurement). While images hold a share of the budget
+// (acquire) the target follows their estimates (gcPercentFor): small
+// images run with a larger one, so that the collector does not run a
+// dozen times an image.
 func SetCollector(limit int64) (restore func()) {
 	if limit <= 0 {
 		return func() {}
@@ -208,8 +213,10 @@ func SetCollector(limit int64) (restore func()) {
 	prevGC := -2 // not changed
 	if os.Getenv("GOGC") == "" {
 		prevGC = debug.SetGCPercent(GCPercent)
+		collector.start(GCPercent)
 	}
 	return func() {
+		collector.stop()
 		debug.SetMemoryLimit(prev)
 		if prevGC != -2 {
 			debug.SetGCPercent(prevGC)
@@ -218,59 +225,130 @@ func SetCollector(limit int64) (restore func()) {
 }
 
 // GCPercent is the collector's growth target the computing commands run
-// with (see SetCollector).
+// with (see SetCollector), the least gcPercentFor gives.
 const GCPercent = 50
 
 // FrameGCPercent is the collector's growth target while a frame of at
-// least collectAfterSegmentPixels (4 megapixels) is processed (see
-// frameCollector).
+// least collectAfterSegmentPixels (4 megapixels) is processed, whatever
+// gcPercentFor gives for the images in flight (see frameCollector).
 const FrameGCPercent = 25
 
-// frameTarget counts the large frames being processed at once (batch
-// jobs), so that the first lowers the collector's target and the last
-// puts it back.
-var frameTarget struct {
-	mu   sync.Mutex
-	n    int
-	prev int
-}
-
-// frameCollector lowers the collector's growth target to FrameGCPercent
+// frameCollector holds the collector's growth target at FrameGCPercent
 // while a frame of npix pixels, at least collectAfterSegmentPixels, is
-// processed, unless the GOGC environment variable is set; it returns the
-// function that ends the hold. With a target of p percent the heap grows
-// to at most (1 + p/100) times the live data found by the last
-// collection (the Go runtime's pacer, runtime/debug.SetGCPercent). A
-// large frame's live heap is mostly pointer-free planes, which the
-// collector marks without scanning them, so the extra collections cost
-// little next to the frame's per-pixel work, while the garbage between
-// two collections is whole planes: on the 16 MP nuclei frame (seed
-// 15111) the largest heap in GODEBUG=gctrace=1 was 845 MB over 563 MB
-// live at 50 and 700 MB at 25, peak RSS 977,056-994,668 KiB against
-// 806,416-816,332 KiB, CPU time unchanged. Small images keep GCPercent:
-// on 110 choice scenes of 512 x 512 a target of 25 took 0-9 % more CPU
-// time and 10 took 18-23 % more, each collection's fixed cost counting
-// there (DEVELOPERS.md, "Measured choices").
+// processed and SetCollector's settings are in place (not with GOGC set
+// in the environment); it returns the function that ends the hold, and
+// the target then follows the images in flight again (gcTarget). With a
+// target of p percent the heap grows to at most (1 + p/100) times the
+// live data found by the last collection (the Go runtime's pacer,
+// runtime/debug.SetGCPercent). A large frame's live heap is mostly
+// pointer-free planes, which the collector marks without scanning them,
+// so the extra collections cost little next to the frame's per-pixel
+// work, while the garbage between two collections is whole planes: on
+// the 16 MP nuclei frame (seed 15111) the largest heap in
+// GODEBUG=gctrace=1 was 845 MB over 563 MB live at 50 and 700 MB at 25,
+// peak RSS 977,056-994,668 KiB against 806,416-816,332 KiB, CPU time
+// unchanged. Small images do better the other way (gcPercentFor): on 110
+// choice scenes of 512 x 512 a target of 25 took 0-9 % more CPU time
+// than 50 and 10 took 18-23 % more, each collection's fixed cost
+// counting there (DEVELOPERS.md, "Measured choices").
 func frameCollector(npix int) (end func()) {
-	if npix < collectAfterSegmentPixels || os.Getenv("GOGC") != "" {
+	if npix < collectAfterSegmentPixels {
 		return func() {}
 	}
-	t := &frameTarget
-	t.mu.Lock()
-	if t.n == 0 {
-		t.prev = debug.SetGCPercent(FrameGCPercent)
-	}
-	t.n++
-	t.mu.Unlock()
+	collector.frame(1)
 	var once sync.Once
-	return func() {
-		once.Do(func() {
-			t.mu.Lock()
-			t.n--
-			if t.n == 0 {
-				debug.SetGCPercent(t.prev)
-			}
-			t.mu.Unlock()
-		})
+	return func() { once.Do(func() { collector.frame(-1) }) }
+}
+
+// gcPercentMax is the most gcPercentFor gives. On the batch benchmark's
+// 200 images of 512 x 512 pixels (--jobs 2) the CPU time an image fell
+// from 0.20-0.22 s at 50 to 0.20 at 100, 0.19-0.20 at 200, 0.18 at 400
+// and 0.18 at 800 (peak resident memory 54, 69, 93-109, 134-172 and 283
+// MB; GOGC set in the environment, the machine shared at load 5-13).
+const gcPercentMax = 400
+
+// gcPercentFor is the collector's growth target while the images being
+// processed are estimated to hold held bytes (their peak estimates less
+// baseBytes, as acquire reserves them) of a budget of total bytes: the
+// target at which the heap may grow by a sixteenth of the memory limit,
+// 100·(total+baseBytes)/16 / (baseBytes+held) percent of the estimated
+// live memory, clamped to [GCPercent, gcPercentMax]. The estimates are
+// upper bounds of the live heap, so the heap grows by at most a
+// sixteenth of the limit between collections where the target is above
+// GCPercent (and the soft memory limit holds it under the limit in any
+// case). With the default limit (8 GiB) two 512 x 512 images with
+// --classes 2 (73 MiB estimated each, 122 MiB with the process's own)
+// get 400, one 1024 x 1024 image 278, two 149, one 2048 x 2048 image
+// (616 MiB) 83 and a 4096 x 4096 one GCPercent. The collector's work is
+// mostly a fixed cost a collection (stacks, roots, the sweep, the
+// scavenger returning pages that the next image touches again), which
+// the small heaps of small images pay many times an image: 12 times an
+// image on the batch benchmark at 50.
+func gcPercentFor(total, held int64) int {
+	limit := float64(total) + baseBytes
+	p := 100 * (limit / 16) / (float64(held) + baseBytes)
+	return int(min(max(p, GCPercent), gcPercentMax))
+}
+
+// collector is the growth target while SetCollector's settings are in
+// place and GOGC is unset: the budget's acquire and release set it from
+// the images in flight (follow).
+var collector gcTarget
+
+// gcTarget sets the collector's growth target (debug.SetGCPercent) from
+// the memory the images in flight hold, or to FrameGCPercent while a
+// large frame is processed, calling the runtime only when the target
+// changes.
+type gcTarget struct {
+	mu          sync.Mutex
+	on          bool  // SetCollector's settings are in place
+	percent     int   // the target set last
+	total, held int64 // the budget and what the images in flight hold of it (follow)
+	frames      int   // large frames being processed (frameCollector)
+}
+
+func (c *gcTarget) start(percent int) {
+	c.mu.Lock()
+	c.on, c.percent = true, percent
+	c.mu.Unlock()
+}
+
+func (c *gcTarget) stop() {
+	c.mu.Lock()
+	c.on = false
+	c.mu.Unlock()
+}
+
+// follow sets the target for held bytes of a budget of total bytes
+// (gcPercentFor) when SetCollector's settings are in place.
+func (c *gcTarget) follow(total, held int64) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	c.total, c.held = total, held
+	c.apply()
+}
+
+// frame counts a large frame in (d = 1) or out (d = -1) and sets the
+// target.
+func (c *gcTarget) frame(d int) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	c.frames += d
+	c.apply()
+}
+
+// apply sets the target, c.mu held: FrameGCPercent while a large frame
+// is processed, gcPercentFor otherwise.
+func (c *gcTarget) apply() {
+	if !c.on {
+		return
+	}
+	p := gcPercentFor(c.total, c.held)
+	if c.frames > 0 {
+		p = FrameGCPercent
+	}
+	if p != c.percent {
+		debug.SetGCPercent(p)
+		c.percent = p
 	}
 }
