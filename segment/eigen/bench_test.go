@@ -145,3 +145,51 @@ func BenchmarkSmallestSuperpixel3000K6(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkBlockCombine times the dense block combinations of one LOBPCG
+// step of the top-level superpixel solve (k = 6, block width 6) on a
+// superpixel-like graph of 3500 nodes, one worker: combineMulti forming
+// the new X and P (width 6 each) from [X, W, P] (width 18), subMul
+// removing [X, P] from a residual block of width 5, and combine of a
+// width-6 block (svqb's rotation). On amd64 they run in the AVX kernel
+// combineRows.
+func BenchmarkBlockCombine(b *testing.B) {
+	g := planarGraph(3500, 7)
+	lv := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
+	o := &ops{lv: lv, workers: 1}
+	rng := rand.New(rand.NewPCG(5, 1))
+	fill := func(v []float64) []float64 {
+		for k := range v {
+			v[k] = rng.Float64() - 0.5
+		}
+		return v
+	}
+	blk := func(m int) *block {
+		x := newBlock(lv.n, m)
+		fill(x.v)
+		return x
+	}
+	x, w, p := blk(6), blk(6), blk(6)
+	in := []*block{x, w, p}
+	outs := []*block{newBlock(lv.n, 6), newBlock(lv.n, 6)}
+	cs := [][]float64{fill(make([]float64, 18*6)), fill(make([]float64, 18*6))}
+	r := blk(5)
+	cxp := fill(make([]float64, 12*5))
+	rot := fill(make([]float64, 6*6))
+	rotOut := newBlock(lv.n, 6)
+	b.Run("combineMulti18to12", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			o.combineMulti(outs, in, cs)
+		}
+	})
+	b.Run("subMul12into5", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			o.subMul(r, []*block{x, p}, cxp)
+		}
+	})
+	b.Run("combine6to6", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			o.combine(rotOut, []*block{w}, rot)
+		}
+	})
+}

@@ -126,6 +126,14 @@ done:
 // continue the previous one's stored sums, exactly as one pass over the
 // inputs side by side.
 //
+// Rows are taken two at a time while two are left (pairr), each lane
+// group then carrying the sums of both rows: the coefficients are loaded
+// once for the two, and the two rows' additions, which do not depend on
+// each other, fill the adder's latency that one row's chain of additions
+// over p leaves idle (a row of width 6 took about as long as one of
+// width 12). Every sum is the same chain of operations as for one row.
+// The second row's s is in R10, so sub is read from the frame there.
+//
 // func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)
 TEXT ·combineRows(SB), NOSPLIT, $0-72
 	MOVQ dst+0(FP), DI
@@ -144,6 +152,8 @@ TEXT ·combineRows(SB), NOSPLIT, $0-72
 rowr:
 	TESTQ R13, R13
 	JEQ  finr
+	CMPQ R13, $2
+	JGE  pairr
 	XORQ CX, CX
 w12r:
 	MOVQ R8, AX
@@ -395,6 +405,369 @@ doner:
 	ADDQ R11, R12
 nextr:
 	DECQ R13
+	JMP  rowr
+pairr:
+	LEAQ (SI)(R14*1), R10 // s of the second row (sub is read from the frame)
+	XORQ CX, CX
+p12:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $12
+	JLT  p8
+	TESTQ R12, R12
+	JNE  p12i
+	VXORPD Y0, Y0, Y0
+	VXORPD Y3, Y3, Y3
+	VXORPD Y1, Y1, Y1
+	VXORPD Y4, Y4, Y4
+	VXORPD Y2, Y2, Y2
+	VXORPD Y5, Y5, Y5
+	JMP  p12z
+p12i:
+	LEAQ (R12)(R11*1), AX
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 0(AX)(CX*8), Y3
+	VMOVUPD 32(R12)(CX*8), Y1
+	VMOVUPD 32(AX)(CX*8), Y4
+	VMOVUPD 64(R12)(CX*8), Y2
+	VMOVUPD 64(AX)(CX*8), Y5
+p12z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p12l:
+	CMPQ BX, R9
+	JGE  p12f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVUPD 0(AX), Y12
+	VMOVUPD 32(AX), Y13
+	VMOVUPD 64(AX), Y14
+	VMULPD Y12, Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD Y13, Y8, Y11
+	VADDPD Y11, Y1, Y1
+	VMULPD Y14, Y8, Y15
+	VADDPD Y15, Y2, Y2
+	VMULPD Y12, Y9, Y10
+	VADDPD Y10, Y3, Y3
+	VMULPD Y13, Y9, Y11
+	VADDPD Y11, Y4, Y4
+	VMULPD Y14, Y9, Y15
+	VADDPD Y15, Y5, Y5
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p12l
+p12f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p12s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y3, 0(AX)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	VMOVUPD Y4, 32(AX)(CX*8)
+	VMOVUPD Y2, 64(DI)(CX*8)
+	VMOVUPD Y5, 64(AX)(CX*8)
+	JMP  p12n
+p12s:
+	VMOVUPD 0(DI)(CX*8), Y6
+	VSUBPD Y0, Y6, Y6
+	VMOVUPD Y6, 0(DI)(CX*8)
+	VMOVUPD 0(AX)(CX*8), Y6
+	VSUBPD Y3, Y6, Y6
+	VMOVUPD Y6, 0(AX)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y6
+	VSUBPD Y1, Y6, Y6
+	VMOVUPD Y6, 32(DI)(CX*8)
+	VMOVUPD 32(AX)(CX*8), Y6
+	VSUBPD Y4, Y6, Y6
+	VMOVUPD Y6, 32(AX)(CX*8)
+	VMOVUPD 64(DI)(CX*8), Y6
+	VSUBPD Y2, Y6, Y6
+	VMOVUPD Y6, 64(DI)(CX*8)
+	VMOVUPD 64(AX)(CX*8), Y6
+	VSUBPD Y5, Y6, Y6
+	VMOVUPD Y6, 64(AX)(CX*8)
+p12n:
+	ADDQ $12, CX
+	JMP  p12
+p8:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $8
+	JLT  p6
+	TESTQ R12, R12
+	JNE  p8i
+	VXORPD Y0, Y0, Y0
+	VXORPD Y3, Y3, Y3
+	VXORPD Y1, Y1, Y1
+	VXORPD Y4, Y4, Y4
+	JMP  p8z
+p8i:
+	LEAQ (R12)(R11*1), AX
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 0(AX)(CX*8), Y3
+	VMOVUPD 32(R12)(CX*8), Y1
+	VMOVUPD 32(AX)(CX*8), Y4
+p8z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p8l:
+	CMPQ BX, R9
+	JGE  p8f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVUPD 0(AX), Y12
+	VMOVUPD 32(AX), Y13
+	VMULPD Y12, Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD Y13, Y8, Y11
+	VADDPD Y11, Y1, Y1
+	VMULPD Y12, Y9, Y10
+	VADDPD Y10, Y3, Y3
+	VMULPD Y13, Y9, Y11
+	VADDPD Y11, Y4, Y4
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p8l
+p8f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p8s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y3, 0(AX)(CX*8)
+	VMOVUPD Y1, 32(DI)(CX*8)
+	VMOVUPD Y4, 32(AX)(CX*8)
+	JMP  p8n
+p8s:
+	VMOVUPD 0(DI)(CX*8), Y6
+	VSUBPD Y0, Y6, Y6
+	VMOVUPD Y6, 0(DI)(CX*8)
+	VMOVUPD 0(AX)(CX*8), Y6
+	VSUBPD Y3, Y6, Y6
+	VMOVUPD Y6, 0(AX)(CX*8)
+	VMOVUPD 32(DI)(CX*8), Y6
+	VSUBPD Y1, Y6, Y6
+	VMOVUPD Y6, 32(DI)(CX*8)
+	VMOVUPD 32(AX)(CX*8), Y6
+	VSUBPD Y4, Y6, Y6
+	VMOVUPD Y6, 32(AX)(CX*8)
+p8n:
+	ADDQ $8, CX
+	JMP  p8
+p6:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $6
+	JLT  p4
+	TESTQ R12, R12
+	JNE  p6i
+	VXORPD Y0, Y0, Y0
+	VXORPD Y3, Y3, Y3
+	VXORPD X1, X1, X1
+	VXORPD X4, X4, X4
+	JMP  p6z
+p6i:
+	LEAQ (R12)(R11*1), AX
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 0(AX)(CX*8), Y3
+	VMOVUPD 32(R12)(CX*8), X1
+	VMOVUPD 32(AX)(CX*8), X4
+p6z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p6l:
+	CMPQ BX, R9
+	JGE  p6f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVUPD 0(AX), Y12
+	VMOVUPD 32(AX), X13
+	VMULPD Y12, Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD X13, X8, X11
+	VADDPD X11, X1, X1
+	VMULPD Y12, Y9, Y10
+	VADDPD Y10, Y3, Y3
+	VMULPD X13, X9, X11
+	VADDPD X11, X4, X4
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p6l
+p6f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p6s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y3, 0(AX)(CX*8)
+	VMOVUPD X1, 32(DI)(CX*8)
+	VMOVUPD X4, 32(AX)(CX*8)
+	JMP  p6n
+p6s:
+	VMOVUPD 0(DI)(CX*8), Y6
+	VSUBPD Y0, Y6, Y6
+	VMOVUPD Y6, 0(DI)(CX*8)
+	VMOVUPD 0(AX)(CX*8), Y6
+	VSUBPD Y3, Y6, Y6
+	VMOVUPD Y6, 0(AX)(CX*8)
+	VMOVUPD 32(DI)(CX*8), X6
+	VSUBPD X1, X6, X6
+	VMOVUPD X6, 32(DI)(CX*8)
+	VMOVUPD 32(AX)(CX*8), X6
+	VSUBPD X4, X6, X6
+	VMOVUPD X6, 32(AX)(CX*8)
+p6n:
+	ADDQ $6, CX
+	JMP  p6
+p4:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $4
+	JLT  p2
+	TESTQ R12, R12
+	JNE  p4i
+	VXORPD Y0, Y0, Y0
+	VXORPD Y3, Y3, Y3
+	JMP  p4z
+p4i:
+	LEAQ (R12)(R11*1), AX
+	VMOVUPD 0(R12)(CX*8), Y0
+	VMOVUPD 0(AX)(CX*8), Y3
+p4z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p4l:
+	CMPQ BX, R9
+	JGE  p4f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVUPD 0(AX), Y12
+	VMULPD Y12, Y8, Y10
+	VADDPD Y10, Y0, Y0
+	VMULPD Y12, Y9, Y10
+	VADDPD Y10, Y3, Y3
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p4l
+p4f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p4s
+	VMOVUPD Y0, 0(DI)(CX*8)
+	VMOVUPD Y3, 0(AX)(CX*8)
+	JMP  p4n
+p4s:
+	VMOVUPD 0(DI)(CX*8), Y6
+	VSUBPD Y0, Y6, Y6
+	VMOVUPD Y6, 0(DI)(CX*8)
+	VMOVUPD 0(AX)(CX*8), Y6
+	VSUBPD Y3, Y6, Y6
+	VMOVUPD Y6, 0(AX)(CX*8)
+p4n:
+	ADDQ $4, CX
+	JMP  p4
+p2:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $2
+	JLT  p1
+	TESTQ R12, R12
+	JNE  p2i
+	VXORPD X0, X0, X0
+	VXORPD X3, X3, X3
+	JMP  p2z
+p2i:
+	LEAQ (R12)(R11*1), AX
+	VMOVUPD 0(R12)(CX*8), X0
+	VMOVUPD 0(AX)(CX*8), X3
+p2z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p2l:
+	CMPQ BX, R9
+	JGE  p2f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVUPD 0(AX), X12
+	VMULPD X12, X8, X10
+	VADDPD X10, X0, X0
+	VMULPD X12, X9, X10
+	VADDPD X10, X3, X3
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p2l
+p2f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p2s
+	VMOVUPD X0, 0(DI)(CX*8)
+	VMOVUPD X3, 0(AX)(CX*8)
+	JMP  p2n
+p2s:
+	VMOVUPD 0(DI)(CX*8), X6
+	VSUBPD X0, X6, X6
+	VMOVUPD X6, 0(DI)(CX*8)
+	VMOVUPD 0(AX)(CX*8), X6
+	VSUBPD X3, X6, X6
+	VMOVUPD X6, 0(AX)(CX*8)
+p2n:
+	ADDQ $2, CX
+	JMP  p2
+p1:
+	MOVQ R8, AX
+	SUBQ CX, AX
+	CMPQ AX, $1
+	JLT  pdoner
+	TESTQ R12, R12
+	JNE  p1i
+	VXORPD X0, X0, X0
+	VXORPD X3, X3, X3
+	JMP  p1z
+p1i:
+	LEAQ (R12)(R11*1), AX
+	VMOVSD 0(R12)(CX*8), X0
+	VMOVSD 0(AX)(CX*8), X3
+p1z:
+	LEAQ (DX)(CX*8), AX
+	XORQ BX, BX
+p1l:
+	CMPQ BX, R9
+	JGE  p1f
+	VBROADCASTSD (SI)(BX*8), Y8
+	VBROADCASTSD (R10)(BX*8), Y9
+	VMOVSD 0(AX), X12
+	VMULSD X12, X8, X10
+	VADDSD X10, X0, X0
+	VMULSD X12, X9, X10
+	VADDSD X10, X3, X3
+	ADDQ R11, AX
+	INCQ BX
+	JMP  p1l
+p1f:
+	LEAQ (DI)(R11*1), AX
+	CMPQ sub+48(FP), $0
+	JNE  p1s
+	VMOVSD X0, 0(DI)(CX*8)
+	VMOVSD X3, 0(AX)(CX*8)
+	JMP  p1n
+p1s:
+	VMOVSD 0(DI)(CX*8), X6
+	VSUBSD X0, X6, X6
+	VMOVSD X6, 0(DI)(CX*8)
+	VMOVSD 0(AX)(CX*8), X6
+	VSUBSD X3, X6, X6
+	VMOVSD X6, 0(AX)(CX*8)
+p1n:
+	ADDQ $1, CX
+	JMP  p1
+pdoner:
+	LEAQ (DI)(R11*2), DI
+	LEAQ (SI)(R14*2), SI
+	TESTQ R12, R12
+	JEQ  pnextr
+	LEAQ (R12)(R11*2), R12
+pnextr:
+	MOVQ sub+48(FP), R10
+	SUBQ $2, R13
 	JMP  rowr
 finr:
 	VZEROUPPER

@@ -413,7 +413,7 @@ func TestBlockKernelsAVXMatchGo(t *testing.T) {
 			})
 			same("combineMulti in place "+name, a, b)
 		}
-		for _, ma := range []int{1, 4, 6, 7} {
+		for _, ma := range []int{1, 2, 4, 6, 7, 8, 12, 13} {
 			c := coef(ns, ma)
 			base := blk(ma)
 			a, b := both(func() []float64 {
