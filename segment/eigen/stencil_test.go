@@ -426,3 +426,74 @@ func TestBlockKernelsAVXMatchGo(t *testing.T) {
 		}
 	}
 }
+
+// TestCombineRowsAgainstLoop checks the combineRows kernel directly
+// against the running sums it documents (one sum a column, over p in
+// order, from ini or +0, stored or subtracted), bit for bit, for 0 to 5
+// rows (the pairs of rows and the single last row), widths 1 to 13, rows
+// of s wider than ns (sstride > ns) and values with signed zeros.
+func TestCombineRowsAgainstLoop(t *testing.T) {
+	if !useAVX {
+		t.Skip("no AVX kernels on this machine or build")
+	}
+	rng := rand.New(rand.NewPCG(8, 3))
+	val := func(k int) float64 {
+		switch k % 11 {
+		case 0:
+			return 0
+		case 1:
+			return math.Copysign(0, -1)
+		}
+		return rng.Float64() - 0.5
+	}
+	fill := func(n int) []float64 {
+		v := make([]float64, n)
+		for k := range v {
+			v[k] = val(k)
+		}
+		return v
+	}
+	for rows := 0; rows <= 5; rows++ {
+		for mc := 1; mc <= 13; mc++ {
+			for _, ns := range []int{1, 2, 5, 18} {
+				for _, sub := range []int{0, 1} {
+					for _, withIni := range []bool{false, true} {
+						sstride := ns + 1
+						s := fill(max(1, rows*sstride))
+						c := fill(ns * mc)
+						ini := fill(max(1, rows*mc))
+						dst0 := fill(max(1, rows*mc))
+						want := append([]float64(nil), dst0...)
+						for r := 0; r < rows; r++ {
+							for q := 0; q < mc; q++ {
+								var a float64
+								if withIni {
+									a = ini[r*mc+q]
+								}
+								for p := 0; p < ns; p++ {
+									a += s[r*sstride+p] * c[p*mc+q]
+								}
+								if sub != 0 {
+									want[r*mc+q] -= a
+								} else {
+									want[r*mc+q] = a
+								}
+							}
+						}
+						got := append([]float64(nil), dst0...)
+						var ip *float64
+						if withIni {
+							ip = &ini[0]
+						}
+						combineRows(&got[0], mc, &s[0], ns, sstride, &c[0], sub, ip, rows)
+						for k := range want {
+							if math.Float64bits(got[k]) != math.Float64bits(want[k]) {
+								t.Fatalf("rows %d, mc %d, ns %d, sub %d, ini %v: entry %d is %v, want %v", rows, mc, ns, sub, withIni, k, got[k], want[k])
+							}
+						}
+					}
+				}
+			}
+		}
+	}
+}
