@@ -98,19 +98,21 @@ func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, p
 		if len(ks) == 0 {
 			continue
 		}
+		basinPx := make([]int, len(ks))
+		basinOwn := make([]float32, len(ks))
+		for q, k := range ks {
+			basinPx[q], basinOwn[q] = px[k], own[k]
+		}
 		if int32(l) != top {
 			m := memberOf(ks, own)
-			if peak[l] < plateau || m.median < level && texturedBasin(ks, own, px, b, w, m.level) && m.level > around() {
+			if peak[l] < plateau || m.median < level && m.level > around() && texturedBasin(basinOwn, basinPx, b, w, m.level) {
 				found = append(found, m)
 				continue
 			}
 		}
-		basinPx := make([]int, len(ks))
-		basinOwn := make([]float32, len(ks))
 		basinMask := make([]bool, cw*ch)
-		for q, k := range ks {
-			basinPx[q], basinOwn[q] = px[k], own[k]
-			basinMask[(px[k]/w-b.y0)*cw+px[k]%w-b.x0] = true
+		for _, i := range basinPx {
+			basinMask[(i/w-b.y0)*cw+i%w-b.x0] = true
 		}
 		for _, m := range neckMember(basinOwn, basinPx, basinMask, around, b, w, level, minArea) {
 			for q, k := range m.ks {
@@ -233,16 +235,11 @@ func cropGaussian(con []float64, b box, w, h int, s float64) gaussCrop {
 	return gaussCrop{affinity.GaussianSmooth(g, gw, gh, s, 1), x0, y0, gw}
 }
 
-// texturedBasin reports whether the region pixels ks (indices into px,
-// with 3x3 means own) are textured on their own plateau,
-// level/tightenLevel: pixelTexture above textureLimit, the test
-// tightenObjects puts to a whole object.
-func texturedBasin(ks []int32, own []float32, px []int, b box, w int, level float32) bool {
-	sub := make([]int, len(ks))
-	vals := make([]float32, len(ks))
-	for q, k := range ks {
-		sub[q], vals[q] = px[k], own[k]
-	}
-	tex, _, _ := pixelTexture(vals, sub, b, w, float64(level)/tightenLevel)
+// texturedBasin reports whether the pixels px (frame indices of a
+// w-wide frame, within box b) with 3x3 means own are textured on their
+// own plateau, level/tightenLevel: pixelTexture above textureLimit, the
+// test tightenObjects puts to a whole object.
+func texturedBasin(own []float32, px []int, b box, w int, level float32) bool {
+	tex, _, _ := pixelTexture(own, px, b, w, float64(level)/tightenLevel)
 	return tex > textureLimit
 }
