@@ -14,7 +14,8 @@ import (
 // by Felzenszwalb and Huttenlocher's lower envelope of parabolas, one pass
 // over the columns and one over the rows (Felzenszwalb and Huttenlocher
 // 2012, Distance transforms of sampled functions, Theory of Computing 8),
-// in O(cw·ch).
+// in O(cw·ch); on the binary mask the column pass reduces to two scans of
+// each column.
 func distanceInside(mask []bool, cw, ch int) []float64 {
 	// Pad by one pixel of outside on every side so that the crop border
 	// counts as outside.
@@ -33,13 +34,28 @@ func distanceInside(mask []bool, cw, ch int) []float64 {
 	out := make([]float64, n)
 	v := make([]int, n)
 	z := make([]float64, n+1)
-	for x := 0; x < pw; x++ { // columns
-		for y := 0; y < ph; y++ {
-			buf[y] = f[y*pw+x]
+	// The column pass on a binary f (0 outside, inf inside) is the
+	// squared distance to the nearest outside pixel of the column: two
+	// scans, down and up, give it exactly (the padding rows are outside,
+	// so every column has one), as the lower envelope would.
+	gap := make([]int, ph)
+	for x := 1; x < pw-1; x++ { // columns; the padding columns stay 0
+		last := 0
+		for y := 1; y < ph; y++ {
+			if f[y*pw+x] == 0 {
+				last = y
+			}
+			gap[y] = y - last
 		}
-		envelope(buf[:ph], out[:ph], v, z)
-		for y := 0; y < ph; y++ {
-			f[y*pw+x] = out[y]
+		next := ph - 1
+		for y := ph - 2; y > 0; y-- {
+			i := y*pw + x
+			if f[i] == 0 {
+				next = y
+				continue
+			}
+			g := min(gap[y], next-y)
+			f[i] = float64(g * g)
 		}
 	}
 	for y := 0; y < ph; y++ { // rows
@@ -166,6 +182,7 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 		i := int(o)
 		parent[i] = int32(i)
 		top[i] = int32(i)
+		ri := int32(i) // the root of i's piece, kept through the unions below
 		x, y := i%cw, i/cw
 		for dy := -1; dy <= 1; dy++ {
 			for dx := -1; dx <= 1; dx++ {
@@ -177,7 +194,7 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 				if parent[j] < 0 {
 					continue
 				}
-				a, b := find(int32(i)), find(int32(j))
+				a, b := ri, find(int32(j))
 				if a == b {
 					continue
 				}
@@ -196,6 +213,7 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 					parent[b] = a
 				} else {
 					parent[a] = b
+					ri = b
 				}
 			}
 		}
@@ -263,43 +281,53 @@ func (q *floodQueue) Pop() any {
 // patterns order as the values do, so the pixels are sorted by the
 // complement of d's bits with an LSD radix sort (Knuth, TAOCP vol. 3,
 // section 5.2.5), eight bits a pass, stable, from index order: ties keep
-// ascending indices. Passes over a byte that every key shares are
-// skipped.
+// ascending indices. Each key is read from d once and moved with its
+// pixel, and the eight byte histograms are counted in one pass over the
+// keys; passes over a byte that every key shares are skipped.
 func floodOrder(d []float64) []int32 {
-	var order []int32
+	type entry struct {
+		key uint64
+		pix int32
+	}
+	var keys []entry
 	for i, v := range d {
 		if v > 0 {
-			order = append(order, int32(i))
+			keys = append(keys, entry{^math.Float64bits(v), int32(i)})
 		}
 	}
-	if len(order) < 2 {
-		return order
+	if len(keys) == 0 {
+		return nil
 	}
-	key := func(i int32) uint64 { return ^math.Float64bits(d[i]) }
-	and, or := ^uint64(0), uint64(0)
-	for _, i := range order {
-		k := key(i)
-		and &= k
-		or |= k
+	var count [8][256]int
+	for _, e := range keys {
+		k := e.key
+		for b := range count {
+			count[b][k&0xff]++
+			k >>= 8
+		}
 	}
-	tmp := make([]int32, len(order))
-	for shift := uint(0); shift < 64; shift += 8 {
-		if (and>>shift)&0xff == (or>>shift)&0xff {
+	tmp := make([]entry, len(keys))
+	for b := range count {
+		c := &count[b]
+		if c[(keys[0].key>>(8*b))&0xff] == len(keys) {
 			continue // every key has this byte
 		}
-		var count [257]int
-		for _, i := range order {
-			count[(key(i)>>shift)&0xff+1]++
+		sum := 0
+		for v, n := range c {
+			c[v] = sum
+			sum += n
 		}
-		for b := 1; b <= 256; b++ {
-			count[b] += count[b-1]
+		shift := uint(8 * b)
+		for _, e := range keys {
+			v := (e.key >> shift) & 0xff
+			tmp[c[v]] = e
+			c[v]++
 		}
-		for _, i := range order {
-			b := (key(i) >> shift) & 0xff
-			tmp[count[b]] = i
-			count[b]++
-		}
-		order, tmp = tmp, order
+		keys, tmp = tmp, keys
+	}
+	order := make([]int32, len(keys))
+	for k, e := range keys {
+		order[k] = e.pix
 	}
 	return order
 }
