@@ -174,6 +174,13 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 	}
 	top := make([]int32, len(d)) // root -> its peak pixel
 	find := parent.Find
+	// The 8 neighbours in raster order (the order the pieces merge in).
+	nbX := [8]int8{-1, 0, 1, -1, 1, -1, 0, 1}
+	nbY := [8]int8{-1, -1, -1, 0, 0, 1, 1, 1}
+	var nb [8]int
+	for k := range nb {
+		nb[k] = int(nbY[k])*cw + int(nbX[k])
+	}
 	best := make([]neck, len(floors))
 	for f := range best {
 		best[f] = neck{peakA: -1, peakB: -1}
@@ -184,37 +191,38 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 		top[i] = int32(i)
 		ri := int32(i) // the root of i's piece, kept through the unions below
 		x, y := i%cw, i/cw
-		for dy := -1; dy <= 1; dy++ {
-			for dx := -1; dx <= 1; dx++ {
-				xx, yy := x+dx, y+dy
-				if (dx == 0 && dy == 0) || xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+		interior := x > 0 && y > 0 && x < cw-1 && y < ch-1
+		for k, off := range nb {
+			if !interior {
+				xx, yy := x+int(nbX[k]), y+int(nbY[k])
+				if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
 					continue
 				}
-				j := yy*cw + xx
-				if parent[j] < 0 {
-					continue
-				}
-				a, b := ri, find(int32(j))
-				if a == b {
-					continue
-				}
-				// The lower of the two pieces ends here, at saddle d[i].
-				pa, pb := d[top[a]], d[top[b]]
-				lo := min(pa, pb)
-				if p := lo - 0.5; p > 0 {
-					r := (lo - d[i]) / p
-					for f, floor := range floors {
-						if lo-d[i] > floor && r > best[f].depth {
-							best[f] = neck{depth: r, drop: lo - d[i], peakA: int(top[a]), peakB: int(top[b])}
-						}
+			}
+			j := i + off
+			if parent[j] < 0 {
+				continue
+			}
+			a, b := ri, find(int32(j))
+			if a == b {
+				continue
+			}
+			// The lower of the two pieces ends here, at saddle d[i].
+			pa, pb := d[top[a]], d[top[b]]
+			lo := min(pa, pb)
+			if p := lo - 0.5; p > 0 {
+				r := (lo - d[i]) / p
+				for f, floor := range floors {
+					if lo-d[i] > floor && r > best[f].depth {
+						best[f] = neck{depth: r, drop: lo - d[i], peakA: int(top[a]), peakB: int(top[b])}
 					}
 				}
-				if pa >= pb {
-					parent[b] = a
-				} else {
-					parent[a] = b
-					ri = b
-				}
+			}
+			if pa >= pb {
+				parent[b] = a
+			} else {
+				parent[a] = b
+				ri = b
 			}
 		}
 	}
@@ -283,8 +291,13 @@ func (q *floodQueue) Pop() any {
 // section 5.2.5), eight bits a pass, stable, from index order: ties keep
 // ascending indices. Each key is read from d once and moved with its
 // pixel, and the eight byte histograms are counted in one pass over the
-// keys; passes over a byte that every key shares are skipped.
+// keys; passes over a byte that every key shares are skipped. A map
+// whose values are all square roots of integers (distanceInside's) is
+// ordered by floodOrderRadii instead.
 func floodOrder(d []float64) []int32 {
+	if order, ok := floodOrderRadii(d); ok {
+		return order
+	}
 	type entry struct {
 		key uint64
 		pix int32
@@ -330,4 +343,56 @@ func floodOrder(d []float64) []int32 {
 		order[k] = e.pix
 	}
 	return order
+}
+
+// floodOrderRadii is floodOrder for a map whose positive values are all
+// square roots of integers m (the Euclidean distances between pixel
+// centres that distanceInside returns): a counting sort on m (Knuth,
+// TAOCP vol. 3, section 5.2), stable from index order, in one pass to
+// count and one to place. The square root is monotone and, rounded
+// correctly (IEEE 754), takes distinct integers below 2^52 to distinct
+// values, so the order and its ties are floodOrder's. It reports false,
+// and returns nothing, when a value is not such a root or the largest m
+// exceeds 4 (len(d) + 64), where the counts would cost more than the
+// radix passes.
+func floodOrderRadii(d []float64) ([]int32, bool) {
+	limit := 4 * (len(d) + 64)
+	sq := make([]int32, len(d))
+	n, top := 0, 0
+	for i, v := range d {
+		if !(v > 0) {
+			continue
+		}
+		if v*v > float64(limit) {
+			return nil, false
+		}
+		m := int(v*v + 0.5)
+		if math.Sqrt(float64(m)) != v {
+			return nil, false
+		}
+		sq[i] = int32(m)
+		top = max(top, m)
+		n++
+	}
+	if n == 0 {
+		return nil, true
+	}
+	start := make([]int, top+2)
+	for i, v := range d {
+		if v > 0 {
+			start[top-int(sq[i])+1]++ // descending m
+		}
+	}
+	for k := 1; k < len(start); k++ {
+		start[k] += start[k-1]
+	}
+	order := make([]int32, n)
+	for i, v := range d {
+		if v > 0 {
+			k := top - int(sq[i])
+			order[start[k]] = int32(i)
+			start[k]++
+		}
+	}
+	return order, true
 }

@@ -230,16 +230,19 @@ func TestCoarseEnergyBlocksMatchPixelMap(t *testing.T) {
 
 // floodOrder is the order of a sort by descending value, ties by
 // ascending index (slices.SortFunc with that comparison, the standard
-// library as reference), on maps with many ties and on random values.
+// library as reference), on maps with many ties and on random values,
+// by the counting sort of small roots and by the radix sort.
 func TestFloodOrderMatchesSort(t *testing.T) {
 	rng := rand.New(rand.NewPCG(11, 12))
 	for trial := range 40 {
 		n := rng.IntN(3000)
 		d := make([]float64, n)
 		for i := range d {
-			switch trial % 3 {
+			switch trial % 4 {
 			case 0: // distance-map values: square roots of small integers
 				d[i] = math.Sqrt(float64(rng.IntN(60)))
+			case 3: // square roots of integers too large to count (radix)
+				d[i] = math.Sqrt(float64(rng.IntN(1 << 30)))
 			case 1:
 				d[i] = rng.Float64()*50 - 5
 			default: // one value, or none inside
@@ -264,6 +267,11 @@ func TestFloodOrderMatchesSort(t *testing.T) {
 		got := floodOrder(d)
 		if !slices.Equal(got, want) {
 			t.Fatalf("trial %d: order differs from the sort", trial)
+		}
+		// The counting sort of the distance maps' values (floodOrderRadii)
+		// takes the small roots and leaves the others to the radix sort.
+		if _, ok := floodOrderRadii(d); ok != (trial%4 == 0 || len(want) == 0) {
+			t.Fatalf("trial %d: floodOrderRadii ok = %v", trial, ok)
 		}
 	}
 }

@@ -1270,8 +1270,7 @@ func coreDistance(smooth []float32, mask []bool, d []float64, cw, ch int) []floa
 	if len(vals) == 0 {
 		return d
 	}
-	slices.Sort(vals)
-	level := coreLevel * vals[int(refinePercent*float64(len(vals)-1))]
+	level := coreLevel * kthSmallest(vals, int(refinePercent*float64(len(vals)-1)))
 	group := make([]int32, len(mask))
 	for c, in := range mask {
 		group[c] = -1
