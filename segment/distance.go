@@ -1,7 +1,6 @@
 package segment
 
 import (
-	"container/heap"
 	"math"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
@@ -238,12 +237,12 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 // neck separates. It returns side 1 or 2 per pixel (0 outside).
 func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
 	side := make([]uint8, len(d))
-	q := &floodQueue{d: d}
+	q := floodQueue{d: d}
 	side[n.peakA], side[n.peakB] = 1, 2
-	heap.Push(q, n.peakA)
-	heap.Push(q, n.peakB)
-	for q.Len() > 0 {
-		i := heap.Pop(q).(int)
+	q.push(int32(n.peakA))
+	q.push(int32(n.peakB))
+	for len(q.pix) > 0 {
+		i := int(q.pop())
 		x, y := i%cw, i/cw
 		for dy := -1; dy <= 1; dy++ {
 			for dx := -1; dx <= 1; dx++ {
@@ -254,7 +253,7 @@ func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
 				j := yy*cw + xx
 				if d[j] > 0 && side[j] == 0 {
 					side[j] = side[i]
-					heap.Push(q, j)
+					q.push(int32(j))
 				}
 			}
 		}
@@ -262,26 +261,59 @@ func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
 	return side
 }
 
-// floodQueue orders pixels by descending distance, then ascending index.
+// floodQueue is a binary heap of pixels (Williams 1964), highest
+// distance first, then lowest index: a strict total order, so the pixels
+// come out in one order whatever the heap's layout.
 type floodQueue struct {
 	d   []float64
-	pix []int
+	pix []int32
 }
 
-func (q *floodQueue) Len() int { return len(q.pix) }
-func (q *floodQueue) Less(a, b int) bool {
-	da, db := q.d[q.pix[a]], q.d[q.pix[b]]
+// before reports whether pixel a comes out before pixel b.
+func (q *floodQueue) before(a, b int32) bool {
+	da, db := q.d[a], q.d[b]
 	if da != db {
 		return da > db
 	}
-	return q.pix[a] < q.pix[b]
+	return a < b
 }
-func (q *floodQueue) Swap(a, b int) { q.pix[a], q.pix[b] = q.pix[b], q.pix[a] }
-func (q *floodQueue) Push(x any)    { q.pix = append(q.pix, x.(int)) }
-func (q *floodQueue) Pop() any {
-	x := q.pix[len(q.pix)-1]
-	q.pix = q.pix[:len(q.pix)-1]
-	return x
+
+func (q *floodQueue) push(p int32) {
+	q.pix = append(q.pix, p)
+	h := q.pix
+	for c := len(h) - 1; c > 0; {
+		up := (c - 1) / 2
+		if !q.before(h[c], h[up]) {
+			break
+		}
+		h[c], h[up] = h[up], h[c]
+		c = up
+	}
+}
+
+func (q *floodQueue) pop() int32 {
+	h := q.pix
+	top := h[0]
+	last := len(h) - 1
+	h[0] = h[last]
+	h = h[:last]
+	q.pix = h
+	for c := 0; ; {
+		l := 2*c + 1
+		if l >= len(h) {
+			break
+		}
+		m := l
+		if r := l + 1; r < len(h) && q.before(h[r], h[l]) {
+			m = r
+		}
+		if !q.before(h[m], h[c]) {
+			break
+		}
+		h[c], h[m] = h[m], h[c]
+		c = m
+	}
+	return top
 }
 
 // floodOrder returns the pixels i with d[i] > 0 in descending order of

@@ -3,6 +3,7 @@ package segment
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -198,6 +199,53 @@ func TestNeckNoiseBoundsDigitizedCapsules(t *testing.T) {
 		plane := R * (1 - math.Sqrt(1-0.64))
 		if nk.peakA < 0 || nk.drop > plane+1 {
 			t.Errorf("discs R=%v, centres 1.6 R apart: neck %.2f px deep above the floor %v, want at most %.2f + 1", R, nk.drop, neckNoise, plane)
+		}
+	}
+}
+
+// floodQueue pops pixels by descending distance, ties by ascending
+// index: each pop is the first of the pixels pushed and not yet popped
+// in the order of slices.SortFunc with that comparison (the standard
+// library as reference), with pushes and pops interleaved as a flood
+// makes them.
+func TestFloodQueueOrder(t *testing.T) {
+	r := rand.New(rand.NewPCG(21, 22))
+	for trial := range 30 {
+		n := 1 + r.IntN(300)
+		d := make([]float64, n)
+		for i := range d {
+			d[i] = math.Sqrt(float64(r.IntN(1 + trial)))
+		}
+		first := func(a, b int32) int {
+			switch {
+			case d[a] > d[b]:
+				return -1
+			case d[a] < d[b]:
+				return 1
+			}
+			return int(a - b)
+		}
+		q := floodQueue{d: d}
+		var in []int32 // pushed, not popped
+		check := func() {
+			want := slices.MinFunc(in, first)
+			if got := q.pop(); got != want {
+				t.Fatalf("trial %d: popped %d, want %d", trial, got, want)
+			}
+			in = slices.DeleteFunc(in, func(p int32) bool { return p == want })
+		}
+		for _, i := range r.Perm(n) {
+			q.push(int32(i))
+			in = append(in, int32(i))
+			if r.IntN(3) == 0 {
+				check()
+			}
+		}
+		for len(in) > 0 {
+			check()
+		}
+		if len(q.pix) != 0 {
+			t.Fatalf("trial %d: %d pixels left", trial, len(q.pix))
 		}
 	}
 }
