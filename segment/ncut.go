@@ -2,7 +2,6 @@ package segment
 
 import (
 	"math"
-	"slices"
 	"sort"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -98,8 +97,8 @@ func sweepSplit(g *affinity.Graph, deg []float64, y []float64, area []int, minAr
 
 // sweepOrder returns the node indices sorted by y ascending, ties by
 // index: the order a stable sort of 0..n-1 by y gives. For y without NaN
-// it sorts (value, index) pairs with an unstable sort whose tie-break
-// on the index makes the result that same unique order; a y with a NaN
+// it radix-sorts the values from index order, which gives that same
+// unique order; a y with a NaN
 // (which is neither less nor greater than anything) takes the stable
 // sort itself, whose result then depends on the algorithm.
 func sweepOrder(y []float64) []int32 {
@@ -113,25 +112,56 @@ func sweepOrder(y []float64) []int32 {
 			return order
 		}
 	}
-	type key struct {
-		y float64
-		i int32
+	// An LSD radix sort (Knuth, TAOCP vol. 3, section 5.2.5) of the
+	// values' bit patterns, mapped so that unsigned order is numeric
+	// order (negative values complemented, the sign bit set on the
+	// others, -0 taken as +0), eight bits a pass and stable from index
+	// order, so ties keep ascending indices; the eight byte histograms
+	// are counted in one pass, and passes over a byte every key shares
+	// are skipped.
+	type entry struct {
+		key uint64
+		i   int32
 	}
-	keys := make([]key, len(y))
+	keys := make([]entry, len(y))
+	var count [8][256]int
 	for i, v := range y {
-		keys[i] = key{v, int32(i)}
+		if v == 0 {
+			v = 0 // -0 as +0: they compare equal
+		}
+		u := math.Float64bits(v)
+		if u>>63 != 0 {
+			u = ^u
+		} else {
+			u |= 1 << 63
+		}
+		keys[i] = entry{u, int32(i)}
+		for b := range count {
+			count[b][u&0xff]++
+			u >>= 8
+		}
 	}
-	slices.SortFunc(keys, func(a, b key) int {
-		if a.y < b.y {
-			return -1
+	tmp := make([]entry, len(keys))
+	for b := range count {
+		c := &count[b]
+		if len(keys) == 0 || c[(keys[0].key>>(8*b))&0xff] == len(keys) {
+			continue
 		}
-		if a.y > b.y {
-			return 1
+		sum := 0
+		for v, n := range c {
+			c[v] = sum
+			sum += n
 		}
-		return int(a.i - b.i)
-	})
-	for k, c := range keys {
-		order[k] = c.i
+		shift := uint(8 * b)
+		for _, e := range keys {
+			v := (e.key >> shift) & 0xff
+			tmp[c[v]] = e
+			c[v]++
+		}
+		keys, tmp = tmp, keys
+	}
+	for k, e := range keys {
+		order[k] = e.i
 	}
 	return order
 }
