@@ -319,60 +319,28 @@ func (q *floodQueue) pop() int32 {
 // floodOrder returns the pixels i with d[i] > 0 in descending order of
 // d, ties by ascending index. For positive floats the IEEE 754 bit
 // patterns order as the values do, so the pixels are sorted by the
-// complement of d's bits with an LSD radix sort (Knuth, TAOCP vol. 3,
-// section 5.2.5), eight bits a pass, stable, from index order: ties keep
-// ascending indices. Each key is read from d once and moved with its
-// pixel, and the eight byte histograms are counted in one pass over the
-// keys; passes over a byte that every key shares are skipped. A map
+// complement of d's bits (radixSortKeyed), stable from index order:
+// ties keep ascending indices. Each key is read from d once and moved
+// with its pixel. A map
 // whose values are all square roots of integers (distanceInside's) is
 // ordered by floodOrderRadii instead.
 func floodOrder(d []float64) []int32 {
 	if order, ok := floodOrderRadii(d); ok {
 		return order
 	}
-	type entry struct {
-		key uint64
-		pix int32
-	}
-	var keys []entry
+	var keys []keyed
 	for i, v := range d {
 		if v > 0 {
-			keys = append(keys, entry{^math.Float64bits(v), int32(i)})
+			keys = append(keys, keyed{^math.Float64bits(v), int32(i)})
 		}
 	}
 	if len(keys) == 0 {
 		return nil
 	}
-	var count [8][256]int
-	for _, e := range keys {
-		k := e.key
-		for b := range count {
-			count[b][k&0xff]++
-			k >>= 8
-		}
-	}
-	tmp := make([]entry, len(keys))
-	for b := range count {
-		c := &count[b]
-		if c[(keys[0].key>>(8*b))&0xff] == len(keys) {
-			continue // every key has this byte
-		}
-		sum := 0
-		for v, n := range c {
-			c[v] = sum
-			sum += n
-		}
-		shift := uint(8 * b)
-		for _, e := range keys {
-			v := (e.key >> shift) & 0xff
-			tmp[c[v]] = e
-			c[v]++
-		}
-		keys, tmp = tmp, keys
-	}
+	keys = radixSortKeyed(keys)
 	order := make([]int32, len(keys))
 	for k, e := range keys {
-		order[k] = e.pix
+		order[k] = e.idx
 	}
 	return order
 }
@@ -427,4 +395,49 @@ func floodOrderRadii(d []float64) ([]int32, bool) {
 		}
 	}
 	return order, true
+}
+
+// keyed is a sort key and the index it belongs to (radixSortKeyed).
+type keyed struct {
+	key uint64
+	idx int32
+}
+
+// radixSortKeyed sorts keys by key, stably, with an LSD radix sort
+// (Knuth, TAOCP vol. 3, section 5.2.5) of eight bits a pass; the eight
+// byte histograms are counted in one pass over the keys, and a pass over
+// a byte that every key shares is skipped. It returns the sorted keys,
+// in keys' array or in one of its own length.
+func radixSortKeyed(keys []keyed) []keyed {
+	if len(keys) == 0 {
+		return keys
+	}
+	var count [8][256]int
+	for _, e := range keys {
+		k := e.key
+		for b := range count {
+			count[b][k&0xff]++
+			k >>= 8
+		}
+	}
+	tmp := make([]keyed, len(keys))
+	for b := range count {
+		c := &count[b]
+		if c[(keys[0].key>>(8*b))&0xff] == len(keys) {
+			continue // every key has this byte
+		}
+		sum := 0
+		for v, n := range c {
+			c[v] = sum
+			sum += n
+		}
+		shift := uint(8 * b)
+		for _, e := range keys {
+			v := (e.key >> shift) & 0xff
+			tmp[c[v]] = e
+			c[v]++
+		}
+		keys, tmp = tmp, keys
+	}
+	return keys
 }

@@ -112,19 +112,11 @@ func sweepOrder(y []float64) []int32 {
 			return order
 		}
 	}
-	// An LSD radix sort (Knuth, TAOCP vol. 3, section 5.2.5) of the
-	// values' bit patterns, mapped so that unsigned order is numeric
-	// order (negative values complemented, the sign bit set on the
-	// others, -0 taken as +0), eight bits a pass and stable from index
-	// order, so ties keep ascending indices; the eight byte histograms
-	// are counted in one pass, and passes over a byte every key shares
-	// are skipped.
-	type entry struct {
-		key uint64
-		i   int32
-	}
-	keys := make([]entry, len(y))
-	var count [8][256]int
+	// The values' bit patterns, mapped so that unsigned order is
+	// numeric order (negative values complemented, the sign bit set on
+	// the others, -0 taken as +0), radix-sorted (radixSortKeyed) from
+	// index order, so ties keep ascending indices.
+	keys := make([]keyed, len(y))
 	for i, v := range y {
 		if v == 0 {
 			v = 0 // -0 as +0: they compare equal
@@ -135,33 +127,10 @@ func sweepOrder(y []float64) []int32 {
 		} else {
 			u |= 1 << 63
 		}
-		keys[i] = entry{u, int32(i)}
-		for b := range count {
-			count[b][u&0xff]++
-			u >>= 8
-		}
+		keys[i] = keyed{u, int32(i)}
 	}
-	tmp := make([]entry, len(keys))
-	for b := range count {
-		c := &count[b]
-		if len(keys) == 0 || c[(keys[0].key>>(8*b))&0xff] == len(keys) {
-			continue
-		}
-		sum := 0
-		for v, n := range c {
-			c[v] = sum
-			sum += n
-		}
-		shift := uint(8 * b)
-		for _, e := range keys {
-			v := (e.key >> shift) & 0xff
-			tmp[c[v]] = e
-			c[v]++
-		}
-		keys, tmp = tmp, keys
-	}
-	for k, e := range keys {
-		order[k] = e.i
+	for k, e := range radixSortKeyed(keys) {
+		order[k] = e.idx
 	}
 	return order
 }
