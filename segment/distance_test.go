@@ -216,15 +216,7 @@ func TestFloodQueueOrder(t *testing.T) {
 		for i := range d {
 			d[i] = math.Sqrt(float64(r.IntN(1 + trial)))
 		}
-		first := func(a, b int32) int {
-			switch {
-			case d[a] > d[b]:
-				return -1
-			case d[a] < d[b]:
-				return 1
-			}
-			return int(a - b)
-		}
+		first := floodFirst(d)
 		q := floodQueue{d: d}
 		var in []int32 // pushed, not popped
 		check := func() {
@@ -247,5 +239,19 @@ func TestFloodQueueOrder(t *testing.T) {
 		if len(q.pix) != 0 {
 			t.Fatalf("trial %d: %d pixels left", trial, len(q.pix))
 		}
+	}
+}
+
+// floodFirst compares two pixels of d in flood order: the larger value
+// first, ties by ascending index (floodOrder's and floodQueue's order).
+func floodFirst(d []float64) func(a, b int32) int {
+	return func(a, b int32) int {
+		switch {
+		case d[a] > d[b]:
+			return -1
+		case d[a] < d[b]:
+			return 1
+		}
+		return int(a - b)
 	}
 }

@@ -255,15 +255,7 @@ func TestFloodOrderMatchesSort(t *testing.T) {
 				want = append(want, int32(i))
 			}
 		}
-		slices.SortFunc(want, func(a, b int32) int {
-			switch {
-			case d[a] > d[b]:
-				return -1
-			case d[a] < d[b]:
-				return 1
-			}
-			return int(a - b)
-		})
+		slices.SortFunc(want, floodFirst(d))
 		got := floodOrder(d)
 		if !slices.Equal(got, want) {
 			t.Fatalf("trial %d: order differs from the sort", trial)
