@@ -26,18 +26,30 @@ type regionStats struct {
 	mean [][]float64 // [plane][region]
 }
 
-func statsOf(planes [][]float32, reg []int32, n int) regionStats {
+// statsOf returns the pixel count and the mean of each plane of every
+// region of reg (labels 0..n-1). The pixel count and each plane's sums
+// are separate passes over the label map, run side by side on up to
+// workers goroutines (workers < 1: GOMAXPROCS): each pass adds in raster
+// order into its own totals, so every total is the one a single pass
+// gives, for any worker count.
+func statsOf(planes [][]float32, reg []int32, n, workers int) regionStats {
 	st := regionStats{area: make([]float64, n), mean: make([][]float64, len(planes))}
-	countLabels(reg, st.area)
-	for c, pl := range planes {
-		s := make([]float64, n)
-		sumLabels(reg, pl, s, nil)
+	for c := range planes {
+		st.mean[c] = make([]float64, n)
+	}
+	parallel.For(1+len(planes), workers, func(k int) {
+		if k == 0 {
+			countLabels(reg, st.area)
+			return
+		}
+		sumLabels(reg, planes[k-1], st.mean[k-1], nil)
+	})
+	for _, s := range st.mean {
 		for r := range s {
 			if st.area[r] > 0 {
 				s[r] /= st.area[r]
 			}
 		}
-		st.mean[c] = s
 	}
 	return st
 }
@@ -70,9 +82,9 @@ func statsOf(planes [][]float32, reg []int32, n int) regionStats {
 // compensation, and grid is nil.
 func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C int, background Background, radius func() float64, seed uint64, workers int) (cls []int32, grid *fieldGrid) {
 	w, h, reg := regions.Width, regions.Height, regions.Pix
-	st := statsOf([][]float32{lum}, reg, n)
+	st := statsOf([][]float32{lum}, reg, n, workers)
 	if len(planes) > 1 {
-		mv := statsOf(planes, reg, n).mean
+		mv := statsOf(planes, reg, n, workers).mean
 		x := make([]float64, n*len(planes))
 		for r := 0; r < n; r++ {
 			for c := range planes {
@@ -219,18 +231,29 @@ func asBackground(cls []int32, C int, background Background) []int32 {
 // glow (they were one object without an edge on its outline as a whole);
 // against a field that now follows the glow it stands out again, while
 // the glow scores near 0. It reports whether any region changed.
-func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg int32, background Background) bool {
+func rejudge(cls []int32, dropped []bool, lum, field []float32, reg []int32, bg int32, background Background, workers int) bool {
 	if background != "dark" && background != "bright" {
 		return false
 	}
 	n := len(cls)
-	st := statsOf([][]float32{lum}, reg, n)
 	sum := make([]float64, n)
 	ref := make([]bool, len(reg))
-	sumRatioLabels(reg, lum, field, sum)
-	for i, r := range reg {
-		ref[i] = cls[r] == bg
-	}
+	// The region statistics, the score sums and the background mask are
+	// independent passes over the label map, run side by side (each as
+	// one pass would make it, for any worker count).
+	var st regionStats
+	parallel.For(3, workers, func(k int) {
+		switch k {
+		case 0:
+			st = statsOf([][]float32{lum}, reg, n, workers)
+		case 1:
+			sumRatioLabels(reg, lum, field, sum)
+		default:
+			for i, r := range reg {
+				ref[i] = cls[r] == bg
+			}
+		}
+	})
 	score := make([]float64, n)
 	for r := range score {
 		if st.area[r] > 0 {

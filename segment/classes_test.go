@@ -142,7 +142,7 @@ func TestRejudge(t *testing.T) {
 	}
 	cls := []int32{0, 0, 0, 0}
 	dropped := []bool{false, true, true, false}
-	if !rejudge(cls, dropped, lum, field, reg, 0, "dark") {
+	if !rejudge(cls, dropped, lum, field, reg, 0, "dark", 0) {
 		t.Fatal("rejudge changed nothing")
 	}
 	if want := []int32{0, 0, 1, 0}; cls[0] != want[0] || cls[1] != want[1] || cls[2] != want[2] || cls[3] != want[3] {

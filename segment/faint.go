@@ -6,6 +6,7 @@ import (
 	"github.com/cleave-seg/cleave/affinity"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // faintSigmas is k of the faint-object rule of faintObjects. The usual
@@ -55,13 +56,23 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 	bsum := make([]float64, nsp)
 	cnt := make([]float64, nsp)
 	inBg := make([]bool, nsp)
-	sumLabels(nodeOf, lum, sum, cnt)
-	sumLabels(nodeOf, field, bsum, nil)
-	for i := 0; i < len(nodeOf); {
-		j := runEnd(nodeOf, i)
-		inBg[nodeOf[i]] = cls[reg[j-1]] == bg // the run's last pixel, as the pixel loop left it
-		i = j
-	}
+	// Three independent passes over the superpixel map, run side by
+	// side: each adds (or writes) in raster order into its own slices,
+	// so the totals are those of one pass, for any worker count.
+	parallel.For(3, workers, func(k int) {
+		switch k {
+		case 0:
+			sumLabels(nodeOf, lum, sum, cnt)
+		case 1:
+			sumLabels(nodeOf, field, bsum, nil)
+		default:
+			for i := 0; i < len(nodeOf); {
+				j := runEnd(nodeOf, i)
+				inBg[nodeOf[i]] = cls[reg[j-1]] == bg // the run's last pixel, as the pixel loop left it
+				i = j
+			}
+		}
+	})
 	score := make([]float64, nsp)
 	var bgScores []float64
 	for k := range score {

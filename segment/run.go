@@ -828,7 +828,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 {
 					break
 				}
-				if !rejudge(cls, dropped, in.Luminance, fieldG.plane(nil, p.Workers), reg, bg, p.Background) {
+				if !rejudge(cls, dropped, in.Luminance, fieldG.plane(nil, p.Workers), reg, bg, p.Background, p.Workers) {
 					break
 				}
 				backgroundField()

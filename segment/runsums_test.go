@@ -183,3 +183,69 @@ func TestRelabelRuns(t *testing.T) {
 		}
 	}
 }
+
+// TestStatsOfAnyWorkers checks statsOf, whose count and plane sums run
+// side by side, against the pixel-by-pixel loop in raster order (count,
+// sum, then sum / count) bit for bit, for 1 to 4 workers and two planes.
+func TestStatsOfAnyWorkers(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15120, 1))
+	const n, k = 30000, 40
+	labels := runLabels(rng, n, k, 25)
+	planes := [][]float32{make([]float32, n), make([]float32, n)}
+	for _, pl := range planes {
+		for i := range pl {
+			pl[i] = float32(rng.Float64())
+		}
+	}
+	area := make([]float64, k)
+	for _, l := range labels {
+		area[l]++
+	}
+	want := make([][]float64, len(planes))
+	for c, pl := range planes {
+		want[c] = make([]float64, k)
+		for i, l := range labels {
+			want[c][l] += float64(pl[i])
+		}
+		for r := range want[c] {
+			if area[r] > 0 {
+				want[c][r] /= area[r]
+			}
+		}
+	}
+	for workers := 1; workers <= 4; workers++ {
+		st := statsOf(planes, labels, k, workers)
+		if !sameBits(st.area, area) {
+			t.Errorf("workers=%d: areas %v, want %v", workers, st.area, area)
+		}
+		for c := range planes {
+			if !sameBits(st.mean[c], want[c]) {
+				t.Errorf("workers=%d plane %d: means %v, want %v", workers, c, st.mean[c], want[c])
+			}
+		}
+	}
+}
+
+// BenchmarkStatsOf is the region statistics of the class stage (pixel
+// count and mean luminance per region, statsOf) on a map of 12 x 12
+// pixel regions at 4 and 16 megapixels, on one worker and on all cores
+// (the count and the sums side by side; the same totals).
+func BenchmarkStatsOf(b *testing.B) {
+	for _, n := range []int{2048, 4096} {
+		lum, _ := benchField(n, n)
+		per := (n + 11) / 12
+		labels := make([]int32, n*n)
+		for i := range labels {
+			labels[i] = int32((i/n/12)*per + i%n/12)
+		}
+		for _, workers := range []int{1, 0} {
+			b.Run(fmt.Sprintf("workers%d/%dx%d", workers, n, n), func(b *testing.B) {
+				c0 := cpuSeconds()
+				for b.Loop() {
+					statsOf([][]float32{lum}, labels, per*per, workers)
+				}
+				b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+			})
+		}
+	}
+}
