@@ -56,18 +56,27 @@ func objectsFrom(con []float64, regions labelmap.Map, n int, cls []int32, bgClas
 	reg, w, h := regions.Pix, regions.Width, regions.Height
 	regC := make([]float64, n)
 	regA := make([]float64, n)
-	sumLabels(reg, con, regC, regA)
+	// The regions' contrast sums (one pass in raster order) run beside
+	// the seam sums (on the workers): independent passes, each giving
+	// what it gives alone, for any worker count.
+	var seamSum, seamCnt map[uint64]float64
+	parallel.For(2, workers, func(k int) {
+		if k == 0 {
+			sumLabels(reg, con, regC, regA)
+			return
+		}
+		seamSum, seamCnt = seamSums(reg, w, h, con, func(a, b int32) (uint64, bool) {
+			if cls[a] == bgClass || cls[b] == bgClass {
+				return 0, false
+			}
+			return pairKey(a, b), true
+		}, workers)
+	})
 	for r := range regC {
 		if regA[r] > 0 {
 			regC[r] /= regA[r]
 		}
 	}
-	seamSum, seamCnt := seamSums(reg, w, h, con, func(a, b int32) (uint64, bool) {
-		if cls[a] == bgClass || cls[b] == bgClass {
-			return 0, false
-		}
-		return pairKey(a, b), true
-	}, workers)
 	// Union the regions whose shared boundary is not a seam.
 	f := unionfind.New(n)
 	for k, s := range seamSum {
