@@ -2,8 +2,8 @@ package affinity
 
 import (
 	"fmt"
+	"github.com/cleave-seg/cleave/imageio/noise"
 	"math"
-	"slices"
 )
 
 // minSigmaI is the smallest sigma_I AutoSigmaI returns, in normalized
@@ -81,42 +81,9 @@ func AutoSigmaI(f [][]float32, w, h int) float64 {
 }
 
 // lowerMedian returns the element of rank (len-1)/2 of v (non-negative,
-// finite values) in O(len) (rankValue). v is reordered.
+// finite values) in O(len) (noise.Rank). v is reordered.
 func lowerMedian(v []float32) float32 {
-	return rankValue(v, (len(v)-1)/2)
-}
-
-// rankValue returns the element of rank k (0-based: v[k] once v is
-// sorted) of v, non-negative finite values, 0 <= k < len(v), in O(len): a
-// histogram of 4096 bins locates the bin that holds that rank, and only
-// the values of that bin are sorted. v is reordered.
-func rankValue(v []float32, k int) float32 {
-	var top float32
-	for _, x := range v {
-		top = max(top, x)
-	}
-	if top == 0 {
-		return 0
-	}
-	const bins = 4096
-	scale := float64(bins) / float64(top)
-	bin := func(x float32) int { return min(int(float64(x)*scale), bins-1) }
-	var hist [bins]int
-	for _, x := range v {
-		hist[bin(x)]++
-	}
-	b, below := 0, 0
-	for ; below+hist[b] <= k; b++ {
-		below += hist[b]
-	}
-	in := v[:0]
-	for _, x := range v {
-		if bin(x) == b {
-			in = append(in, x)
-		}
-	}
-	slices.Sort(in)
-	return in[k-below]
+	return noise.Rank(v, (len(v)-1)/2)
 }
 
 // AutoRegionSigmaI estimates sigma_I of the superpixel graph the same way

@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 
+	"github.com/cleave-seg/cleave/imageio/noise"
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -69,9 +70,12 @@ const (
 // of principal curvatures above 10, Lowe 2004) are not blobs. A blob is a
 // candidate when its response is at least 5 times the standard deviation that white pixel noise of
 // standard deviation s produces in R at that scale, s/(σ√(2π)) (the
-// integral of (σ²∇²G_σ)² over the plane is 1/(2πσ²)); s is estimated from
-// the median absolute difference of adjacent pixels, s = 1.4826·median/√2
-// (common practice). Strength is the median signal-to-noise ratio of the kept
+// integral of (σ²∇²G_σ)² over the plane is 1/(2πσ²)); s is the noise of
+// the blob's cell of 32 x 32 pixels, estimated from the median absolute
+// difference of adjacent pixels there, s = 1.4826·median/√2 (common
+// practice; noise.Local). Photon noise grows with the signal: under a
+// bright glow one image-wide s made noise there look like a field of small
+// blobs, whose median Strength hid dim nuclei in the dark beside it. Strength is the median signal-to-noise ratio of the kept
 // blobs; Found is false (Radius 0) when nothing stands out: a flat image,
 // pure noise, or an image smaller than 12 pixels on a side.
 //
@@ -115,8 +119,11 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 	if !(hi > lo) {
 		return none
 	}
-	noise := max(pixelNoise(img, w, h), 1e-3*(hi-lo))
-	none.Noise = noise
+	sd := max(pixelNoise(img, w, h), 1e-3*(hi-lo))
+	none.Noise = sd
+	// Blobs are judged against the noise around them (photon noise
+	// changes across a field under uneven light; noise.Local).
+	local := noise.Local(img, w, h, 1e-3*(hi-lo), workers)
 
 	// Level L holds the image blurred to σ_(4L) and subsampled by 2^L; it
 	// computes σ_k for k = 4L..4L+5 and looks for extrema at 4L+1..4L+4
@@ -156,7 +163,7 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 			}
 			if d := k - 1; d >= max(1, kFirst+1) && d <= min(4*level+4, kMax-1) {
 				r3 := [3][]float32{resp[0][:ln], resp[1][:ln], resp[2][:ln]}
-				cands = append(cands, scaleExtrema(r3, bl, rsig, d, lw, lh, level, noise, workers)...)
+				cands = append(cands, scaleExtrema(r3, bl, rsig, d, lw, lh, level, local, workers)...)
 			}
 		}
 		if !more {
@@ -164,7 +171,7 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 		}
 		lw, lh = (lw+1)/2, (lh+1)/2
 	}
-	return summarizeBlobs(cands, noise)
+	return summarizeBlobs(cands, sd)
 }
 
 // blob is one scale-space extremum of |R|.
@@ -371,36 +378,9 @@ func finiteCopy(v []float32, workers int) (out []float32, lo, hi float64) {
 	return out, lo, hi
 }
 
-// pixelNoise estimates the standard deviation of white pixel noise as
-// 1.4826·median|Δ|/√2 over horizontally adjacent pairs, taken from at most
-// about 2^17 pairs on evenly spaced rows (the median absolute deviation,
-// common practice; a difference of two noisy pixels has variance 2s²).
-func pixelNoise(v []float32, w, h int) float64 {
-	if w < 2 {
-		return 0
-	}
-	step := max(1, (w-1)*h/(1<<17))
-	d := make([]float32, 0, (w-1)*h/step+w)
-	finite := true
-	for y := 0; y < h; y += step {
-		row := v[y*w : (y+1)*w]
-		for x := 1; x < w; x++ {
-			a := float32(math.Abs(float64(row[x]) - float64(row[x-1])))
-			finite = finite && a <= math.MaxFloat32 // false for NaN and +Inf
-			d = append(d, a)
-		}
-	}
-	if len(d) == 0 {
-		return 0
-	}
-	if !finite {
-		// rankValue needs finite values; the sorted order (NaN first)
-		// is the rank's meaning here.
-		slices.Sort(d)
-		return 1.4826 * float64(d[len(d)/2]) / math.Sqrt2
-	}
-	return 1.4826 * float64(rankValue(d, len(d)/2)) / math.Sqrt2
-}
+// pixelNoise is noise.Pixel: the standard deviation of white pixel noise
+// from the median absolute difference of adjacent pixels.
+func pixelNoise(v []float32, w, h int) float64 { return noise.Pixel(v, w, h) }
 
 // mirror maps i into [0, n) by reflection about the edges (d c b a | a b c
 // d), the "reflect" boundary of scipy.ndimage.
@@ -609,14 +589,16 @@ func halve(v []float32, w, h int, out []float32) {
 
 // scaleExtrema finds the pixels of resp[1] (scale index d) where |R| beats
 // its 26 neighbours in space and scale and the signal-to-noise ratio is at
-// least scaleMinZ, away from a one-pixel border. Ties are broken by raster
-// order (strictly larger than earlier neighbours, at least as large as
-// later ones). Bands are merged in order.
-func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, level int, noise float64, workers int) []blob {
+// least scaleMinZ, away from a one-pixel border; the noise is that of
+// the pixel's cell in local. Ties are broken by raster order
+// (strictly larger than earlier neighbours, at least as large as later
+// ones). Bands are merged in order.
+func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, level int, local *noise.Field, workers int) []blob {
 	if w < 3 || h < 3 {
 		return nil
 	}
-	thr := float32(scaleMinZ * noiseResp(noise, rsig[1]))
+	// The threshold on |R| for a noise level of 1; times the local noise.
+	unitThr := scaleMinZ * noiseResp(1, rsig[1])
 	nb := (h + bandRows - 1) / bandRows
 	out := make([][]blob, nb)
 	lo, mid, hi := resp[0], resp[1], resp[2]
@@ -625,9 +607,11 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 		var found []blob
 		for y := max(y0, 1); y < min(y1, h-1); y++ {
 			row := mid[y*w : (y+1)*w]
+			nrow := local.Row(int(float64(y) * unit))
 			for x := 1; x < w-1; x++ {
 				v := abs32(row[x])
-				if v < thr {
+				sx := nrow[local.Col(int(float64(x)*unit))]
+				if float64(v) < unitThr*sx {
 					continue
 				}
 				i := y*w + x
@@ -644,7 +628,7 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 					val = b - 0.25*(a-cc)*off
 				}
 				s := math.Exp2((float64(d) + off) / 4)
-				found = append(found, blob{sigma: s, resp: val, z: val / noiseResp(noise, s), x: float64(x) * unit, y: float64(y) * unit, dark: row[x] > 0})
+				found = append(found, blob{sigma: s, resp: val, z: val / noiseResp(sx, s), x: float64(x) * unit, y: float64(y) * unit, dark: row[x] > 0})
 			}
 		}
 		out[c] = found
