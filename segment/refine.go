@@ -463,6 +463,25 @@ func sliverSplit(inA []bool) bool {
 	return sliver(na, len(inA)-na)
 }
 
+// isLine reports whether a shape of area pixels whose distance map peaks
+// at p is a line: thin (p < fineRadius) and long (area above
+// lineAspect·π·p²; a bar of width 2p and length L has area 2pL, so L
+// above 4π·p ≈ 12.6 p, about six widths). A crack, a scratch or a fibre two or
+// three pixels wide has a cheap cut anywhere across it (a few edges), and
+// its darkness and width vary along it, so seams, dents and necks are
+// found all along and the re-cut cut it into short pieces (othershapes.py
+// machined, choice seed 1604: a crack of 8 pieces). Touching nuclei,
+// specks and rods are compact or thick.
+func isLine(area int, p float64) bool {
+	return p < fineRadius && float64(area) > lineAspect*math.Pi*p*p
+}
+
+// lineAspect is the least area of a line in units of πp², p its peak
+// distance from the border: twice neckAspect, the bound on a neck
+// split's sides, so that a pair of shapes neckPieces would still take
+// for objects (elongated cells of aspect up to 4) is no line. Our choice.
+const lineAspect = 2 * neckAspect
+
 // sliver reports whether sides of a and b pixels are out of proportion:
 // one smaller than crumbFraction of the other, the share withoutCrumbs
 // asks of the pieces of one dim object.
@@ -1016,6 +1035,9 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	if necks && !necked {
 		_, coreNeck, _ := shape.halfMax()
 		necked = coreNeck.depth >= refineNeckAlone
+	}
+	if isLine(len(px), slices.Max(dist)) {
+		return refineResult{regions: 1}
 	}
 	solid := solidity(px, w) > refineSolidity
 	if necked && shape.singleElongated(solid, elong) {

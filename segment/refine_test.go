@@ -971,3 +971,51 @@ func TestRefineFourCluster(t *testing.T) {
 		}
 	}
 }
+
+// TestRefineKeepsLines: a crack (a random walk of 60 2-px steps whose
+// heading turns by a normal 0.35 rad a step, 1.5 px about its path, with
+// a contrast that changes along it, as a crack's under grain does) is one
+// object to the re-cut. Its turns dent the outline and its width varies
+// with digitization: without the line rule (isLine) the re-cut cut it
+// into 8 pieces. A pair of discs of radius 8 is no line.
+func TestRefineKeepsLines(t *testing.T) {
+	const w, h = 200, 200
+	rng := rand.New(rand.NewPCG(5, 5))
+	con := make([]float64, w*h)
+	labels := make([]int32, w*h)
+	x, y, head := 100.0, 100.0, 0.3
+	for step := 0; step < 60; step++ {
+		head += 0.35 * rng.NormFloat64()
+		x, y = x+2*math.Cos(head), y+2*math.Sin(head)
+		c := 0.6 + 0.4*math.Sin(float64(step)/5)
+		for py := int(y) - 3; py <= int(y)+3; py++ {
+			for px := int(x) - 3; px <= int(x)+3; px++ {
+				if px >= 0 && px < w && py >= 0 && py < h && math.Hypot(float64(px)-x, float64(py)-y) <= 1.5 {
+					labels[py*w+px] = 1
+					con[py*w+px] = c + 0.02*rng.NormFloat64()
+				}
+			}
+		}
+	}
+	mask := make([]bool, w*h)
+	area := 0
+	for i, l := range labels {
+		mask[i] = l == 1
+		if l == 1 {
+			area++
+		}
+	}
+	if p := slices.Max(distanceInside(mask, w, h)); !isLine(area, p) {
+		t.Fatalf("the crack (area %d, peak distance %.2f) is not a line to isLine", area, p)
+	}
+	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ref.n != 1 {
+		t.Errorf("crack: %d objects, want 1", ref.n)
+	}
+	if isLine(402, 8) { // two discs of radius 8: area 2π·64
+		t.Error("two discs of radius 8 count as a line")
+	}
+}
