@@ -114,6 +114,12 @@ func noSplitWarning(p Params, r rootSplit, flat bool) Warning {
 		w.Message = fmt.Sprintf("the image came out as one region: the best two-way split found has Ncut %.3g, above the limit %.3g (\x60max-ncut\x60); raise \x60max-ncut\x60 above %.3g, or lower \x60sigma-i\x60 so that smaller contrasts count", r.ncut, p.MaxNcut, r.ncut)
 	case !r.stable:
 		w.Message = fmt.Sprintf("the image came out as one region: the best two-way split (Ncut %.3g) was refused because the cut vector changes smoothly, with no clear place to cut (gradual shading, or one texture over the whole field); for uneven light try \x60flatten\x60, for low contrast lower \x60sigma-i\x60", r.ncut)
+		if p.Background != "lines" {
+			// A field packed with touching objects (scikit-image's
+			// gravel.png) is one texture to the whole-image cut; the
+			// packed mode parts it along the lines between them.
+			w.Message += "; if the field is packed with touching objects (grains, gravel, a cell monolayer), \x60background\x60 lines parts it along the lines between them"
+		}
 	default:
 		w.Message = "the image came out as one region: the only splits found left pieces smaller than \x60min-area\x60, which were merged back; lower \x60min-area\x60"
 	}

@@ -161,3 +161,18 @@ func TestShortfallNote(t *testing.T) {
 func buildPixelGraphForTest(in Input) (*affinity.Graph, error) {
 	return affinity.PixelGraph(in.Planes, in.Width, in.Height, affinity.PixelParams{Radius: 5, SigmaI: 0.3, SigmaX: 4}, 1)
 }
+
+// TestNoSplitWarningPackedHint: a whole-image cut refused by the
+// stability test points to the packed mode, unless it is already on.
+func TestNoSplitWarningPackedHint(t *testing.T) {
+	r := rootSplit{tried: true, found: true, ncut: 0.01, stable: false}
+	for _, c := range []struct {
+		bg   Background
+		want bool
+	}{{BackgroundDark, true}, {BackgroundBright, true}, {"", true}, {BackgroundLines, false}} {
+		w := noSplitWarning(Params{Background: c.bg, MaxNcut: 0.15}, r, false)
+		if got := strings.Contains(w.Message, "background` lines"); got != c.want {
+			t.Errorf("background %q: hint %v, want %v (%s)", c.bg, got, c.want, w.Message)
+		}
+	}
+}
