@@ -23,6 +23,14 @@ and bright foci), lowcount (nuclei 2-3 noise standard deviations above a
 background of 6-15 photons, raw 16-bit counts on an offset of 100), pits
 (dark inclusions in a polished metal section: bright grains with dark
 grain boundaries and an etch texture; the mask holds the inclusions).
+Four more stand beside the Go kinds where cleave was weakest, modelled
+independently of them: brightfield (dark nuclei by Beer-Lambert
+absorption on a vignetted bright field, pale cytoplasm around half of
+them), tiles (packed grains of a warped Laguerre tessellation, boundaries
+of varying width and darkness; no background), glowing (sparse nuclei
+2.5-6 noise deviations above broad glows, photon noise) and machined
+(directional grain under raking light, pits with a lit lip, dark and
+bright inclusions, a crack; the mask holds pits, inclusions and crack).
 
     othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png (jpeg: .jpg), .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
@@ -30,7 +38,9 @@ grain boundaries and an etch texture; the mask holds the inclusions).
 score chooses the watershed's parameters on CHOOSE_DIR (watershed.py's
 grid for nuclei, for grains on the inverted image for membrane, the
 nuclei's with objects down to 5 px and closer peaks for specks, surface's
-(inverted, objects down to 5 px) for pits; '-' skips the baseline) and
+(inverted, objects down to 5 px) for pits and machined, stained's for
+brightfield, grains' for tiles, haze's for glowing; '-' skips the
+baseline) and
 prints object F1, mAP over IoU 0.5:0.95 and ARI per scene of REPORT_DIR
 for the baseline and for each folder of NAME.labels.png (e.g. cleave's
 outputs), then their means.
