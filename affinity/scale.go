@@ -75,7 +75,8 @@ const (
 // difference of adjacent pixels there, s = 1.4826·median/√2 (common
 // practice; noise.Local). Photon noise grows with the signal: under a
 // bright glow one image-wide s made noise there look like a field of small
-// blobs, whose median Strength hid dim nuclei in the dark beside it. Strength is the median signal-to-noise ratio of the kept
+// blobs, whose median Strength hid dim nuclei in the dark beside it.
+// Strength itself is in units of the image-wide noise. Strength is the median signal-to-noise ratio of the kept
 // blobs; Found is false (Radius 0) when nothing stands out: a flat image,
 // pure noise, or an image smaller than 12 pixels on a side.
 //
@@ -163,7 +164,7 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 			}
 			if d := k - 1; d >= max(1, kFirst+1) && d <= min(4*level+4, kMax-1) {
 				r3 := [3][]float32{resp[0][:ln], resp[1][:ln], resp[2][:ln]}
-				cands = append(cands, scaleExtrema(r3, bl, rsig, d, lw, lh, level, local, workers)...)
+				cands = append(cands, scaleExtrema(r3, bl, rsig, d, lw, lh, level, local, sd, workers)...)
 			}
 		}
 		if !more {
@@ -589,11 +590,13 @@ func halve(v []float32, w, h int, out []float32) {
 
 // scaleExtrema finds the pixels of resp[1] (scale index d) where |R| beats
 // its 26 neighbours in space and scale and the signal-to-noise ratio is at
-// least scaleMinZ, away from a one-pixel border; the noise is that of
-// the pixel's cell in local. Ties are broken by raster order
+// least scaleMinZ against the noise of the pixel's cell in local, away
+// from a one-pixel border. A blob's z is its response over the noise sd
+// of the whole image (Strength, which the pre-smoothing reads as the
+// image's signal-to-noise ratio, keeps its meaning). Ties are broken by raster order
 // (strictly larger than earlier neighbours, at least as large as later
 // ones). Bands are merged in order.
-func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, level int, local *noise.Field, workers int) []blob {
+func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, level int, local *noise.Field, sd float64, workers int) []blob {
 	if w < 3 || h < 3 {
 		return nil
 	}
@@ -628,7 +631,7 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 					val = b - 0.25*(a-cc)*off
 				}
 				s := math.Exp2((float64(d) + off) / 4)
-				found = append(found, blob{sigma: s, resp: val, z: val / noiseResp(sx, s), x: float64(x) * unit, y: float64(y) * unit, dark: row[x] > 0})
+				found = append(found, blob{sigma: s, resp: val, z: val / noiseResp(sd, s), x: float64(x) * unit, y: float64(y) * unit, dark: row[x] > 0})
 			}
 		}
 		out[c] = found
