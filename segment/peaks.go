@@ -150,7 +150,8 @@ func peakPieces(g *affinity.Graph, o *objectCrop, region []int32, regions int, s
 		if o.whole != nil && len(rc) == len(nodes) {
 			d, b = o.whole.dist, partBox{0, 0, cw, o.ch}
 		} else {
-			d, b = partDistance(rc, cw)
+			pm := o.part(inR)
+			d, b = pm.d, pm.b
 		}
 		if slices.Max(d) > peakRadius {
 			continue

@@ -197,6 +197,9 @@ type objectCrop struct {
 	nodes  []int
 	noise  float64
 	whole  *objectShape // the whole object's distance maps, when known
+	// parts holds the distance maps of the parts of the object's cut
+	// computed so far (nil: computed each time they are asked for).
+	parts *partMaps
 	// plateau is the object's plateau of scaled contrast (halfMaxLevel
 	// over tightenLevel) and texture its fine spread over the plateau
 	// (fineTexture); both 0 when unknown.
@@ -781,10 +784,11 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 	for made := 0; len(queue) > 0 && made < maxNeckSplits; {
 		r := queue[0]
 		queue = queue[1:]
-		var rc []int // the region's crop pixels
+		var rc, inR []int // the region's crop pixels and node indexes
 		for k, c := range nodes {
 			if region[k] == r {
 				rc = append(rc, c)
+				inR = append(inR, k)
 			}
 		}
 		count := len(rc)
@@ -803,12 +807,12 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 			mask = o.whole.mask
 			d, nk, _ = o.whole.outline()
 		} else {
-			d, b = partDistance(rc, cw)
+			pm := o.part(inR)
+			d, b, nk = pm.d, pm.b, pm.neck()
 			mask = make([]bool, b.w*b.h)
 			for _, c := range rc {
 				mask[b.at(c, cw)] = true
 			}
-			nk = deepestNeck(d, b.w, b.h, 0)
 		}
 		core := false
 		if nk.depth < refineNeckAlone {
@@ -844,12 +848,6 @@ func neckPieces(g *affinity.Graph, o *objectCrop, smooth []float32, region []int
 		// as withoutCrumbs asks of the pieces of a dim object.
 		if core && sliver(nb, count-nb) || nb < minPart || count-nb < minPart || !compactSide(count-nb, d[nk.peakA]) || !compactSide(nb, d[nk.peakB]) {
 			continue
-		}
-		inR := make([]int, 0, count)
-		for k := range nodes {
-			if region[k] == r {
-				inR = append(inR, k)
-			}
 		}
 		subA := make([]bool, len(inR))
 		for i, k := range inR {
@@ -908,8 +906,14 @@ func shapeWeights(g *affinity.Graph, nodes []int, dist []float64) {
 // as in neckDepth and the absolute depth min(pA, pB) - s in pixels, or
 // zeros when the split leaves no pinch.
 func cutNeck(nodes []int, cw, ch int, part []int, inA []bool) (rel, abs float64) {
+	d, b := partDistance(cropOf(nodes, part), cw)
+	return cutNeckOn(d, b, nodes, cw, ch, part, inA)
+}
+
+// cutNeckOn is cutNeck with the part's distance map d on its box b
+// (partDistance of the part) given.
+func cutNeckOn(d []float64, b partBox, nodes []int, cw, ch int, part []int, inA []bool) (rel, abs float64) {
 	crop, side := cutSides(nodes, cw*ch, part, inA)
-	d, b := partDistance(crop, cw)
 	var peak [3]float64
 	saddle := 0.0
 	for _, c := range crop {
@@ -953,6 +957,85 @@ func partDistance(crop []int, cw int) ([]float64, partBox) {
 		mask[b.at(c, cw)] = true
 	}
 	return distanceInside(mask, b.w, b.h), b
+}
+
+// cropOf returns the crop pixel of each node of part (indexes of nodes,
+// the crop pixel of each object pixel).
+func cropOf(nodes, part []int) []int {
+	crop := make([]int, len(part))
+	for k, v := range part {
+		crop[k] = nodes[v]
+	}
+	return crop
+}
+
+// partMaps keeps, during one object's re-cut, the distance map
+// (partDistance) of each part of the object asked for and its deepest
+// neck with no floor (deepestNeck), so that the tests which look at the
+// same part (the bisection's final test, a split's neck test, neckPieces
+// and peakPieces) compute them once. A part is a set of the object's
+// nodes (indexes of nodes, ascending); the maps are a function of the set
+// alone, so results are those of computing them each time.
+type partMaps struct {
+	nodes []int // crop pixel of each object node
+	cw    int   // crop width
+	// byFirst lists the parts known, by their first node: two parts of
+	// one re-cut with the same first node are told apart by comparing
+	// their nodes.
+	byFirst map[int][]*partMap
+}
+
+// partMap is one part's entry in partMaps.
+type partMap struct {
+	part    []int
+	d       []float64
+	b       partBox
+	nk      neck
+	hasNeck bool
+}
+
+// newPartMaps returns an empty partMaps for an object's nodes (crop
+// pixels, crop cw wide).
+func newPartMaps(nodes []int, cw int) *partMaps {
+	return &partMaps{nodes: nodes, cw: cw, byFirst: map[int][]*partMap{}}
+}
+
+// add records the distance map d on box b of part (not copied: neither
+// may change afterwards).
+func (m *partMaps) add(part []int, d []float64, b partBox) *partMap {
+	e := &partMap{part: part, d: d, b: b}
+	m.byFirst[part[0]] = append(m.byFirst[part[0]], e)
+	return e
+}
+
+// get returns the entry of part (at least one node), computing its
+// distance map the first time.
+func (m *partMaps) get(part []int) *partMap {
+	for _, e := range m.byFirst[part[0]] {
+		if slices.Equal(e.part, part) {
+			return e
+		}
+	}
+	d, b := partDistance(cropOf(m.nodes, part), m.cw)
+	return m.add(slices.Clone(part), d, b)
+}
+
+// part returns the entry of part (indexes of o.nodes) from o.parts, or
+// computed afresh when o keeps none.
+func (o *objectCrop) part(part []int) *partMap {
+	if o.parts != nil {
+		return o.parts.get(part)
+	}
+	d, b := partDistance(cropOf(o.nodes, part), o.cw)
+	return &partMap{part: part, d: d, b: b}
+}
+
+// neck returns the part's deepest neck with no floor (deepestNeck).
+func (e *partMap) neck() neck {
+	if !e.hasNeck {
+		e.nk, e.hasNeck = deepestNeck(e.d, e.b.w, e.b.h, 0), true
+	}
+	return e.nk
 }
 
 // cutSides returns the crop pixel of each node of part (indexes of nodes,
@@ -1048,7 +1131,13 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	}
 	// What only the cut's tests read (the noise, the plateau, the
 	// texture) is measured once the object is to be cut.
-	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape}
+	obj := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, noise: cropNoise(feat, mean3, nodes, cw, ch), whole: shape, parts: newPartMaps(nodes, cw)}
+	// The whole object's distance map is dist: its box is the crop.
+	all := make([]int, len(nodes))
+	for k := range all {
+		all[k] = k
+	}
+	obj.parts.add(all, dist, partBox{0, 0, cw, ch})
 	// The scaled contrast in ascending order: sorted divided by scale (a
 	// monotone map, so no second sort).
 	slices.Sort(sorted)
@@ -1097,13 +1186,15 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		if ncut <= limit && !necks && obj.seam(part, inA) {
 			// Without necks, a seam through a neck is the blur of
 			// the narrow part, not a boundary.
-			rel, abs := cutNeck(nodes, cw, ch, part, inA)
+			pm := obj.part(part)
+			rel, abs := cutNeckOn(pm.d, pm.b, nodes, cw, ch, part, inA)
 			return rel < refineNeck || abs <= neckNoise
 		}
 		if !necked {
 			return false
 		}
-		rel, abs := cutNeck(nodes, cw, ch, part, inA)
+		pm := obj.part(part)
+		rel, abs := cutNeckOn(pm.d, pm.b, nodes, cw, ch, part, inA)
 		return rel >= refineNeck && obj.evident(abs, part, inA)
 	}
 	// A part without a neck that is already convex (for instance one
@@ -1112,14 +1203,8 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		if len(part) == len(px) {
 			return false // the object itself passed the tests above
 		}
-		crop := make([]int, len(part))
-		for k, v := range part {
-			crop[k] = nodes[v]
-		}
-		if necked {
-			if d, b := partDistance(crop, cw); neckDepth(d, b.w, b.h) >= refineNeck {
-				return false
-			}
+		if necked && obj.part(part).neck().depth >= refineNeck {
+			return false
 		}
 		whole := make([]int, len(part))
 		for k, v := range part {

@@ -1019,3 +1019,71 @@ func TestRefineKeepsLines(t *testing.T) {
 		t.Error("two discs of radius 8 count as a line")
 	}
 }
+
+// TestPartMapsAsAfresh checks the memo of part distance maps (partMaps)
+// against computing them each time: for parts of two touching discs
+// (the whole, each half, and the left half less a node, three parts with
+// the same first node) the entry's map, box and deepest neck are those of
+// partDistance and deepestNeck, a part asked for again is the same
+// entry, and neckPieces splits the discs the same way with the memo as
+// without it.
+func TestPartMapsAsAfresh(t *testing.T) {
+	mask, cw, ch := discRow(14, 20, 2)
+	var nodes []int
+	for c, m := range mask {
+		if m {
+			nodes = append(nodes, c)
+		}
+	}
+	var all, left, right []int
+	for k, c := range nodes {
+		all = append(all, k)
+		if c%cw < cw/2 {
+			left = append(left, k)
+		} else {
+			right = append(right, k)
+		}
+	}
+	parts := [][]int{all, left, right, left[:len(left)-1]}
+	m := newPartMaps(nodes, cw)
+	for round := 0; round < 2; round++ {
+		var seen []*partMap
+		for i, part := range parts {
+			e := m.get(part)
+			d, b := partDistance(cropOf(nodes, part), cw)
+			if !slices.Equal(e.d, d) || e.b != b {
+				t.Fatalf("part %d: memo map or box %v differs from partDistance's %v", i, e.b, b)
+			}
+			if nk := deepestNeck(d, b.w, b.h, 0); e.neck() != nk {
+				t.Errorf("part %d: memo neck %+v, deepestNeck %+v", i, e.neck(), nk)
+			}
+			for j, o := range seen {
+				if o == e {
+					t.Errorf("parts %d and %d share one entry", j, i)
+				}
+			}
+			seen = append(seen, e)
+		}
+		// The whole, the left half and the half less a node all start
+		// at node 0.
+		if n := len(m.byFirst[left[0]]); n != 3 {
+			t.Errorf("round %d: %d entries under node 0, want 3 (no new entry when asked again)", round, n)
+		}
+	}
+	feat := make([]float32, cw*ch)
+	g, err := affinity.PixelGraph([][]float32{feat}, cw, ch, affinity.PixelParams{Radius: 1, SigmaI: 1, SigmaX: 1}, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sub := g.Subgraph(nodes)
+	run := func(parts *partMaps) ([]int32, int) {
+		o := &objectCrop{feat: feat, cw: cw, ch: ch, nodes: nodes, parts: parts}
+		region, regions, _ := neckPieces(sub, o, feat, make([]int32, len(nodes)), 1, nil, 20)
+		return region, regions
+	}
+	r0, n0 := run(nil)
+	r1, n1 := run(newPartMaps(nodes, cw))
+	if n0 != 2 || n1 != n0 || !slices.Equal(r0, r1) {
+		t.Errorf("neckPieces: %d regions without the memo, %d with it (want 2, the same map)", n0, n1)
+	}
+}

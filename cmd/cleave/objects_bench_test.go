@@ -17,8 +17,9 @@ import (
 // the time before their work per object was capped (segment/refine.go,
 // refineWork and the constants beside it), with the background each was
 // segmented against; the last two were among the largest shares after
-// it (the speed issue's list of 3 December 2026), and the last one among
-// the largest on 4 December 2026 (branch obj7).
+// it (the speed issue's list of 3 December 2026), motorcycle_left among
+// the largest on 4 December 2026 (branch obj7), and bw_text (bright), the
+// largest share of all at main 6a3663d (branch photo3).
 var photographs = []struct{ background, file string }{
 	{"bright", "brick.png"},
 	{"dark", "chessboard_GRAY.png"},
@@ -32,6 +33,7 @@ var photographs = []struct{ background, file string }{
 	{"dark", "chessboard_RGB.png"},
 	{"dark", "microaneurysms.png"},
 	{"bright", "motorcycle_left.png"},
+	{"bright", "bw_text.png"},
 }
 
 // BenchmarkObjectsPhotographs is the whole command, `segment --classes 2
