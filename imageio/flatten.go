@@ -216,7 +216,7 @@ func flatten(ctx context.Context, f []float32, w, h int, R float64, mode Flatten
 	out := make([]float32, len(f))
 	if mode == FlattenSubtract {
 		sg := noise.Pixel(f, w, h)
-		if !(sg > 0) {
+		if !(sg > 0) || math.IsInf(sg, 0) {
 			parallel.Blocks(len(f), pixelBlock, workers, func(_, lo, hi int) {
 				for i := lo; i < hi; i++ {
 					out[i] = float32(float64(f[i]) - float64(bg[i]) + m)

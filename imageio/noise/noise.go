@@ -90,7 +90,10 @@ func Local(v []float32, w, h int, floor float64, workers int) *Field {
 			for y := y0; y < y1; y++ {
 				row := v[y*w : (y+1)*w]
 				for x := max(x0, 1); x < x1; x++ {
-					d = append(d, float32(math.Abs(float64(row[x])-float64(row[x-1]))))
+					// A difference beyond float32's range (samples near
+					// ±3.4e38) is held at its largest value: Rank needs
+					// finite values.
+					d = append(d, float32(min(math.Abs(float64(row[x])-float64(row[x-1])), math.MaxFloat32)))
 				}
 			}
 			s := floor

@@ -115,3 +115,23 @@ func TestSmooth(t *testing.T) {
 		t.Errorf("Row/Col at (70, 39): %g, want 7", got)
 	}
 }
+
+// TestLocalExtremes: samples near float32's limits make differences
+// beyond its range; Local holds them at the largest float32 and neither
+// panics nor returns a value that is not a number.
+func TestLocalExtremes(t *testing.T) {
+	const w, h = 40, 40
+	v := make([]float32, w*h)
+	for i := range v {
+		v[i] = math.MaxFloat32
+		if i%2 == 1 {
+			v[i] = -math.MaxFloat32
+		}
+	}
+	f := Local(v, w, h, 0, 1)
+	for i, s := range f.S {
+		if math.IsNaN(s) || math.IsInf(s, 0) || s <= 0 {
+			t.Fatalf("cell %d: %g", i, s)
+		}
+	}
+}
