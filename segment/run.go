@@ -625,12 +625,28 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		stage("graph")
 	} else {
+		// The edge energy reads the luminance alone: it is made on a
+		// goroutine of its own while the superpixels are made, whose
+		// serial passes (the centre updates between SLIC's iterations,
+		// the connectivity pass, the region sums) leave a core idle.
+		// Its values do not depend on when it runs.
+		var energyC chan []float32
+		if p.Contour {
+			lum := in.Luminance
+			energyC = make(chan []float32, 1)
+			go func() { energyC <- affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, p.Workers) }()
+		}
 		compute := func() (*slicEntry, error) {
 			sp, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
 			if err != nil {
 				return nil, err
 			}
-			return &slicEntry{nodeOf: sp.Pix, n: n, sum: affinity.Summarize(in.Planes, sp, n), adj: affinity.Adjacency(sp, n, p.Workers)}, nil
+			// Summarize (one pass in raster order) beside Adjacency
+			// (parallel bands): both only read the labels.
+			sumC := make(chan *affinity.Regions, 1)
+			go func() { sumC <- affinity.Summarize(in.Planes, sp, n) }()
+			adj := affinity.Adjacency(sp, n, p.Workers)
+			return &slicEntry{nodeOf: sp.Pix, n: n, sum: <-sumC, adj: adj}, nil
 		}
 		var sp *slicEntry
 		if in.Cache != nil {
@@ -655,7 +671,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		}
 		rp := affinity.RegionParams{SigmaI: p.SigmaI, SigmaX: p.SigmaX}
 		if p.Contour {
-			energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+			energy = <-energyC
 			rp.Contour = energy
 			// The intervening contour of every edge, once for σ_C and
 			// the weights (affinity.AutoSigmaContour's width).
