@@ -142,12 +142,18 @@ func interpolateGridInto(dst []float32, grid []float64, gw, gh, cell, w, h, work
 		out = make([]float32, w*h)
 	}
 	forGridRows(grid, gw, gh, cell, w, h, workers, func(y int, top, bot []float64, ty float64) {
-		row := out[y*w : (y+1)*w]
-		for x := range row {
-			row[x] = float32(top[x]*(1-ty) + bot[x]*ty)
-		}
+		interpolateRow(out[y*w:(y+1)*w], top, bot, ty)
 	})
 	return out
+}
+
+// interpolateRow sets row[x] = float32(top[x]·(1-ty) + bot[x]·ty), one
+// row of interpolateGrid (forGridRows).
+func interpolateRow(row []float32, top, bot []float64, ty float64) {
+	top, bot = top[:len(row)], bot[:len(row)]
+	for x := range row {
+		row[x] = float32(top[x]*(1-ty) + bot[x]*ty)
+	}
 }
 
 // forGridRows calls fn(y, top, bot, ty) for every image row y of

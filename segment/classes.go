@@ -118,9 +118,8 @@ func groupClasses(planes [][]float32, lum []float32, regions labelmap.Map, n, C 
 			return cls, nil
 		}
 		grid = smoothFieldGrid(lum, mask, w, h, float64(max(w, h))/fieldScale, workers)
-		field = grid.plane(field, workers)
 		sum := make([]float64, n)
-		sumRatioLabels(reg, lum, field, sum)
+		field = grid.planeRatioSums(field, lum, reg, sum, workers)
 		for r := range score {
 			if st.area[r] > 0 {
 				score[r] = math.Log(math.Max(sum[r]/st.area[r], scoreFloor))
@@ -462,6 +461,42 @@ type fieldGrid struct {
 // it holds w·h values).
 func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 	return interpolateGridInto(dst, g.grid, g.gw, g.gh, g.cell, g.w, g.h, workers)
+}
+
+// planeRatioSums is the plane of g (into dst when it holds w·h values)
+// and, added into sum, the region sums of lum / max(field, fieldFloor)
+// over reg in raster order: sumRatioLabels(reg, lum, plane, sum). The
+// plane's bands of rows (forRowBands) are made on the workers while the
+// calling goroutine adds the bands in order, each once it is complete:
+// the serial sums no longer wait for the whole plane. A run of one label
+// across two bands is added in two pieces, the total stored and loaded
+// again between them, which are the same additions in the same order;
+// so the sums are bit for bit sumRatioLabels' on the finished plane.
+func (g *fieldGrid) planeRatioSums(dst []float32, lum []float32, reg []int32, sum []float64, workers int) []float32 {
+	w, h := g.w, g.h
+	out := dst
+	if len(out) != w*h {
+		out = make([]float32, w*h)
+	}
+	nb := (h + rowBand - 1) / rowBand
+	ready := make([]chan struct{}, nb)
+	for b := range ready {
+		ready[b] = make(chan struct{})
+	}
+	go forGridRows(g.grid, g.gw, g.gh, g.cell, w, h, workers, func(y int, top, bot []float64, ty float64) {
+		interpolateRow(out[y*w:(y+1)*w], top, bot, ty)
+		// forRowBands takes the rows of a band in order: the band is
+		// complete with its last row.
+		if y == h-1 || (y+1)%rowBand == 0 {
+			close(ready[y/rowBand])
+		}
+	})
+	for b := range ready {
+		<-ready[b]
+		lo, hi := b*rowBand*w, min(h, (b+1)*rowBand)*w
+		sumRatioLabels(reg[lo:hi], lum[lo:hi], out[lo:hi], sum)
+	}
+	return out
 }
 
 // smoothFieldGrid estimates a smooth field from the pixels where mask is

@@ -252,3 +252,40 @@ func TestContrastOfGridMatchesPlane(t *testing.T) {
 		}
 	}
 }
+
+// TestPlaneRatioSumsMatchesPlane checks planeRatioSums (the plane made
+// in bands on the workers, the ratio sums added band by band as the
+// bands are done) against the plane made whole and sumRatioLabels over
+// it: the same plane and every region's sum bit for bit, on one worker
+// and on three, into a new plane and over an old one, with heights that
+// are and are not multiples of the band (rowBand) and below it.
+func TestPlaneRatioSumsMatchesPlane(t *testing.T) {
+	for _, fc := range fieldCases {
+		lum, reg, cls := fc.make(15302)
+		g := smoothFieldGridOfClass(lum, reg, cls, 0, fc.w, fc.h, float64(max(fc.w, fc.h))/fieldScale, 1)
+		g.grid[0] = fieldFloor / 4 // a few field values below the floor
+		n := int(slices.Max(reg)) + 1
+		plane := g.plane(nil, 1)
+		want := make([]float64, n)
+		for r := range want {
+			want[r] = float64(r) / 7 // sums are added to what is there
+		}
+		start := slices.Clone(want)
+		sumRatioLabels(reg, lum, plane, want)
+		for _, workers := range []int{1, 3} {
+			for _, dst := range [][]float32{nil, make([]float32, len(lum))} {
+				got := slices.Clone(start)
+				out := g.planeRatioSums(dst, lum, reg, got, workers)
+				if !slices.Equal(out, plane) {
+					t.Fatalf("%s, %d workers: the plane differs from plane()", fc.name, workers)
+				}
+				if dst != nil && &out[0] != &dst[0] {
+					t.Fatalf("%s: the plane was not written into dst", fc.name)
+				}
+				if !sameBits(got, want) {
+					t.Fatalf("%s, %d workers: sums %v, want %v", fc.name, workers, got, want)
+				}
+			}
+		}
+	}
+}
