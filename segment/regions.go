@@ -2,6 +2,7 @@ package segment
 
 import (
 	"container/heap"
+	"slices"
 	"sort"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
@@ -89,6 +90,14 @@ func mergeSmall(regions labelmap.Map, n, minArea int) int {
 	}
 	area := make([]int, n)
 	countLabels(lab, area)
+	// Only a region of 1 to minArea-1 pixels merges (an empty label has
+	// no neighbour, and nothing merges into a region unless it is taken
+	// from the heap): with none, every label stays and the boundary
+	// lengths (a map entry per boundary pixel pair, one pass over the
+	// map) are not needed.
+	if !slices.ContainsFunc(area, func(a int) bool { return a > 0 && a < minArea }) {
+		return relabel(lab, n)
+	}
 	adj := make([]map[int32]int, n)
 	for i := range adj {
 		adj[i] = map[int32]int{}
