@@ -696,6 +696,27 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		return nil, err
 	}
 
+	// What the class stage reads of the image alone, the edge energy of
+	// 2x2 blocks and the fine energy's floor, is made beside the cut
+	// (whose eigensolve runs its coarse levels and the sweep on one
+	// core) rather than after it; only when the fine energy is already
+	// made (the contour cue), so no plane is held through the cut that
+	// was not held before.
+	type imageEdges struct {
+		coarse  []float32
+		coarseW int
+		floor   float64
+	}
+	var edgesC chan imageEdges
+	if p.Classes >= 2 && p.Background != "" && energy != nil {
+		edgesC = make(chan imageEdges, 1)
+		lum, fine := in.Luminance, energy
+		go func() {
+			c, cw := coarseEnergyBlocks(lum, w, h, p.Workers)
+			edgesC <- imageEdges{c, cw, edgeFloor(fine, p.Workers)}
+		}()
+	}
+
 	// Cuts.
 	var cut *cutResult
 	// With packed objects, a cut that runs where no line does is undone
@@ -799,11 +820,15 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if fieldG == nil {
 				backgroundField()
 			}
-			if energy == nil {
+			var ie imageEdges
+			if edgesC != nil {
+				ie = <-edgesC
+			} else {
 				energy = affinity.EdgeEnergy(in.Luminance, w, h, affinity.ContourScale, p.Workers)
+				ie.coarse, ie.coarseW = coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
+				ie.floor = edgeFloor(energy, p.Workers)
 			}
-			coarse, coarseW := coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
-			edges := &edgeTest{w: w, h: h, fine: energy, floor: edgeFloor(energy, p.Workers), coarse: coarse, coarseW: coarseW, source: sourceContrast(p.Background)}
+			edges := &edgeTest{w: w, h: h, fine: energy, floor: ie.floor, coarse: ie.coarse, coarseW: ie.coarseW, source: sourceContrast(p.Background)}
 			con := contrastOfGrid(nil, in.Luminance, fieldG, p.Workers)
 			edges.con = con
 			// objects is an object map of this image.
