@@ -62,7 +62,7 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 			s.assign(b)
 			s.accumulate(b)
 		})
-		s.update(workers)
+		s.update()
 	}
 	expected := w * h / s.k
 	labels, n = enforceConnectivity(labelmap.Map{Pix: s.label, Width: w, Height: h}, expected/4, s.dist)
@@ -329,25 +329,11 @@ func (s *slicState) accumulate(b int) {
 // there are +0, and adding +0 changes no total (a total starts at +0 and
 // is never -0), so every total is the sum over all bands in band order,
 // bit for bit.
-func (s *slicState) update(workers int) {
+func (s *slicState) update() {
 	planes := len(s.f)
 	stride := planes + 3
-	// Each centre's totals are its own: centres are taken in blocks on
-	// the workers, every total still added over the bands in band order.
-	parallel.Blocks(s.k, updateBlock, workers, func(_, c0, c1 int) {
-		s.updateCentres(c0, c1, make([]float64, stride))
-	})
-}
-
-// updateBlock is the number of centres in one block of update.
-const updateBlock = 2048
-
-// updateCentres is update for the centres c0..c1-1, acc a scratch of
-// planes+3 values.
-func (s *slicState) updateCentres(c0, c1 int, acc []float64) {
-	planes := len(s.f)
-	stride := planes + 3
-	for c := c0; c < c1; c++ {
+	acc := make([]float64, stride)
+	for c := 0; c < s.k; c++ {
 		clear(acc)
 		for b := 0; b < s.nb; b++ {
 			if sp := s.span[b]; int32(c) < sp[0] || int32(c) > sp[1] {

@@ -746,27 +746,18 @@ func loadSource(ctx context.Context, src *imageio.Source, o *Options) (*Loaded, 
 // planes of a colour image (loaded.channels) for the region table.
 func loadSourceKeep(ctx context.Context, src *imageio.Source, o *Options, keepChannels bool) (*Loaded, error) {
 	t0 := time.Now()
-	// The checksum reads the file on a goroutine of its own, beside the
-	// decoder (each reads at offsets of its own: concurrent ReadAt calls
-	// are allowed on the source); its error, when there is one, is still
-	// the one returned, as when the file was checksummed first.
 	h := sha256.New()
-	hashed := make(chan error, 1)
-	go func() { hashed <- copyContext(ctx, h, src.Contents()) }()
-	calibration := src.Stack().Calibration
-	im, err := func() (*imageio.Image, error) {
-		if err := src.Choose(o.Selection); err != nil {
-			return nil, err
-		}
-		return src.DecodeContext(ctx)
-	}()
-	if herr := <-hashed; herr != nil {
-		return nil, herr
+	if err := copyContext(ctx, h, src.Contents()); err != nil {
+		return nil, err
 	}
+	in := &Loaded{Info: InputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}, calibration: src.Stack().Calibration}
+	if err := src.Choose(o.Selection); err != nil {
+		return nil, stripPath(err, src.Path())
+	}
+	im, err := src.DecodeContext(ctx)
 	if err != nil {
 		return nil, stripPath(err, src.Path())
 	}
-	in := &Loaded{Info: InputInfo{SHA256: hex.EncodeToString(h.Sum(nil))}, calibration: calibration}
 	in.Info.Format, in.Info.Width, in.Info.Height = im.Format, im.Width, im.Height
 	in.Info.Channels, in.Info.BitDepth, in.Info.HasAlpha, in.Info.Pages = im.Channels, im.BitDepth, im.HasAlpha, im.Pages
 	in.Info.SampleType, in.Info.Stack = im.SampleType, stackInfoOf(im.Used)
