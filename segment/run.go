@@ -700,8 +700,9 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	// 2x2 blocks and the fine energy's floor, is made beside the cut
 	// (whose eigensolve runs its coarse levels and the sweep on one
 	// core) rather than after it; only when the fine energy is already
-	// made (the contour cue), so no plane is held through the cut that
-	// was not held before.
+	// made (the contour cue): the fine plane is then held through the
+	// cut anyway, and the blocks' energy (a quarter plane, 16 MB at 16
+	// MP) is what is held there in addition.
 	type imageEdges struct {
 		coarse  []float32
 		coarseW int
