@@ -76,9 +76,10 @@ const (
 // practice; noise.Local). Photon noise grows with the signal: under a
 // bright glow one image-wide s made noise there look like a field of small
 // blobs, whose median Strength hid dim nuclei in the dark beside it.
-// Strength itself is in units of the image-wide noise. Strength is the median signal-to-noise ratio of the kept
-// blobs; Found is false (Radius 0) when nothing stands out: a flat image,
-// pure noise, or an image smaller than 12 pixels on a side.
+// Strength is the median signal-to-noise ratio of the kept blobs, in
+// units of the image-wide noise (noise.Pixel); Found is false (Radius 0)
+// when nothing stands out: a flat image, pure noise, or an image smaller
+// than 12 pixels on a side.
 //
 // Blob extrema nested inside a blob of at least twice their scale whose
 // response is at least half theirs are dropped (texture inside an object,
@@ -120,7 +121,7 @@ func ObjectScale(lum []float32, w, h int, workers int) ScaleEstimate {
 	if !(hi > lo) {
 		return none
 	}
-	sd := max(pixelNoise(img, w, h), 1e-3*(hi-lo))
+	sd := max(noise.Pixel(img, w, h), 1e-3*(hi-lo))
 	none.Noise = sd
 	// Blobs are judged against the noise around them (photon noise
 	// changes across a field under uneven light; noise.Local).
@@ -379,10 +380,6 @@ func finiteCopy(v []float32, workers int) (out []float32, lo, hi float64) {
 	return out, lo, hi
 }
 
-// pixelNoise is noise.Pixel: the standard deviation of white pixel noise
-// from the median absolute difference of adjacent pixels.
-func pixelNoise(v []float32, w, h int) float64 { return noise.Pixel(v, w, h) }
-
 // mirror maps i into [0, n) by reflection about the edges (d c b a | a b c
 // d), the "reflect" boundary of scipy.ndimage.
 func mirror(i, n int) int {
@@ -600,21 +597,29 @@ func scaleExtrema(resp [3][]float32, blur []float32, rsig [3]float64, d, w, h, l
 	if w < 3 || h < 3 {
 		return nil
 	}
-	// The threshold on |R| for a noise level of 1; times the local noise.
+	// The threshold on |R| for a noise level of 1, times each cell's
+	// noise; the cell column of every level column, found once.
 	unitThr := scaleMinZ * noiseResp(1, rsig[1])
 	nb := (h + bandRows - 1) / bandRows
 	out := make([][]blob, nb)
 	lo, mid, hi := resp[0], resp[1], resp[2]
 	unit := math.Ldexp(1, level) // image pixels per level pixel
+	colOf := make([]int32, w)
+	for x := range colOf {
+		colOf[x] = int32(local.Col(int(float64(x) * unit)))
+	}
 	parallel.Blocks(h, bandRows, workers, func(c, y0, y1 int) {
 		var found []blob
+		thr := make([]float32, local.GW)
 		for y := max(y0, 1); y < min(y1, h-1); y++ {
 			row := mid[y*w : (y+1)*w]
 			nrow := local.Row(int(float64(y) * unit))
+			for k, s := range nrow {
+				thr[k] = float32(unitThr * s)
+			}
 			for x := 1; x < w-1; x++ {
 				v := abs32(row[x])
-				sx := nrow[local.Col(int(float64(x)*unit))]
-				if float64(v) < unitThr*sx {
+				if v < thr[colOf[x]] {
 					continue
 				}
 				i := y*w + x
