@@ -34,7 +34,7 @@ func addParamFlags(fs *pflag.FlagSet, s *settings) {
 	fs.StringVar(&s.Normalize, "normalize", d.Normalize, "intensity normalization: percentile (0.1 and 99.9 percentiles to 0 and 1), range (min..max) or bitdepth")
 	fs.Float64Var(&s.Flatten, "flatten", d.Flatten, "shading correction: divide by a smooth background estimated at this scale in pixels (0 = off; at most the image diagonal)")
 	fs.Float64Var(&s.FlattenRadii, "flatten-radii", d.FlattenRadii, fmt.Sprintf("shading correction at this many object radii, the radius estimated on each image (its record gives it); instead of --flatten; 0 = off, at most %d", pipeline.MaxFlattenRadii))
-	fs.StringVar(&s.FlattenMode, "flatten-mode", d.FlattenMode, "how --flatten and --flatten-radii remove the background: divide or subtract")
+	fs.StringVar(&s.FlattenMode, "flatten-mode", d.FlattenMode, "how --flatten and --flatten-radii remove the background: divide, or subtract (which also brings the noise to one level across the field)")
 	fs.StringVar(&s.Features, "features", d.Features, "features the graph is built on: gray (luminance) or lab (CIE L*a*b*)")
 	s.Channel = d.Channel
 	fs.Var(&s.Channel, "channel", "use only this channel of a multi-channel image: an index from 0, or a name the file gives its channels; -1 = a colour image's three colours, else the first channel")
