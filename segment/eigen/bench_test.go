@@ -193,3 +193,24 @@ func BenchmarkBlockCombine(b *testing.B) {
 		}
 	})
 }
+
+// BenchmarkSmallSolves is one sub-part split of segment's re-cut of a
+// single object: the Fiedler pair (k = 2) at residual 1e-4 on one worker,
+// on object pixel graphs (objectGraph) of about 40, 130, 400 and 1500
+// nodes. The re-cut makes hundreds of such solves per photograph
+// (scikit-image's bw_text.png: 367 solves of 129 nodes on average), so
+// the cost per call (allocations, building the levels) matters as much
+// as the arithmetic; run with -benchmem.
+func BenchmarkSmallSolves(b *testing.B) {
+	for _, rad := range []float64{2.6, 4.8, 8, 16} {
+		g := objectGraph(b, rad)
+		b.Run(fmt.Sprintf("n=%d", g.N), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := Smallest(g, 2, Options{Tol: 1e-4, Workers: 1}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

@@ -5,7 +5,6 @@ import (
 	"sync"
 
 	"github.com/cleave-seg/cleave/segment/parallel"
-	"gonum.org/v1/gonum/mat"
 )
 
 // ops bundles the dense block kernels of one level. Every reduction over
@@ -15,28 +14,31 @@ import (
 type ops struct {
 	lv      *level
 	workers int
-	part    []float64   // scratch for per-chunk partial sums
-	pool    *pool       // block storage shared by all levels of one solve
-	sums    [][]float64 // running sums of combineMulti and subMul, one a goroutine (rowSums)
+	pool    *pool // block storage and scratch shared by all levels of one solve
 }
 
 // get returns an n×m block whose contents are undefined; every caller
 // overwrites it completely. Reusing storage keeps the garbage collector
 // out of the iteration.
 func (o *ops) get(m int) *block {
-	if o.pool == nil {
-		o.pool = new(pool)
-	}
-	return o.pool.get(o.lv.n, m)
+	return o.pl().get(o.lv.n, m)
 }
 
 // put releases the storage of blocks that are no longer used.
 func (o *ops) put(bs ...*block) {
+	o.pl().put(bs...)
+}
+
+// pl returns o's pool, made on first use.
+func (o *ops) pl() *pool {
 	if o.pool == nil {
 		o.pool = new(pool)
 	}
-	o.pool.put(bs...)
+	return o.pool
 }
+
+// floats returns n zeroed values of scratch (pool.floats).
+func (o *ops) floats(n int) []float64 { return o.pl().floats(n) }
 
 // pool recycles block storage. Contents of a recycled block are whatever
 // its last user left, so callers of get overwrite every entry (or clear
@@ -50,6 +52,65 @@ type pool struct {
 	// the coarse levels serve the finer ones (on the coins pixel graph
 	// this halved the block storage of a solve).
 	unit int
+	// part holds the per-chunk partial sums of the reductions (gramMulti,
+	// colNorms) and sums the running sums of combineMulti and subMul, one
+	// a goroutine (rowSums): scratch of the solve's levels, one at a time.
+	part []float64
+	sums [][]float64
+	// scratch is the small dense work of a solve (Gram matrices,
+	// coefficients, the dense eigenproblems and coarse levels of small
+	// graphs), handed out by floats and valid until the solve ends
+	// (release): a re-cut of one object makes hundreds of small solves,
+	// where allocating these cost as much as the arithmetic.
+	scratch arena
+}
+
+// arena hands out slices of a slab in turn; release makes the whole slab
+// free again. A request that does not fit starts a new slab (the slices
+// of the old one stay valid), so a pool reused from solve to solve
+// settles on one slab large enough for a whole solve.
+type arena struct {
+	slab  []float64
+	used  int // values of slab handed out
+	total int // values handed out since the last release
+	want  int // the most a solve took (at most arenaKeep)
+}
+
+// arenaMax is the largest request served from the arena; larger ones
+// (the coarsest level of a stalled coarsening, up to 1000 nodes) are
+// allocated on their own.
+const arenaMax = 1 << 14
+
+// arenaKeep is the largest slab an arena keeps between solves (float64
+// values, 4 MiB).
+const arenaKeep = 1 << 19
+
+// floats returns n zeroed values, valid until release.
+func (p *pool) floats(n int) []float64 {
+	if p == nil || n > arenaMax {
+		return make([]float64, n)
+	}
+	a := &p.scratch
+	if a.used+n > len(a.slab) {
+		a.slab = make([]float64, max(2*len(a.slab), a.want, n, 1024))
+		a.used = 0
+	}
+	s := a.slab[a.used : a.used+n : a.used+n]
+	a.used += n
+	a.total += n
+	clear(s)
+	return s
+}
+
+// release makes the arena's storage free for the next solve; no slice
+// handed out by floats may be used after it.
+func (p *pool) release() {
+	a := &p.scratch
+	a.want = min(max(a.want, a.total), arenaKeep)
+	if len(a.slab) > arenaKeep {
+		a.slab = nil
+	}
+	a.used, a.total = 0, 0
 }
 
 // get returns an n×m block backed by the smallest free slice that fits,
@@ -106,24 +167,20 @@ func (o *ops) gram(a, b *block) []float64 {
 	return o.gramMulti([]*block{a}, []*block{b})
 }
 
-// colNorms returns the Euclidean norm of every column of a.
+// colNorms returns the Euclidean norm of every column of a (scratch of
+// the solve, see pool.floats).
 func (o *ops) colNorms(a *block) []float64 {
 	m := a.m
 	nc := o.lv.nchunks()
-	if cap(o.part) < nc*m {
-		o.part = make([]float64, nc*m)
-	}
-	part := o.part[:nc*m]
-	parallel.For(nc, o.workers, func(c int) {
-		g := part[c*m : (c+1)*m]
-		clear(g)
-		for i := o.lv.chunks[c]; i < o.lv.chunks[c+1]; i++ {
-			for q, y := range a.v[i*m : i*m+m] {
-				g[q] += y * y
-			}
+	part := o.partSums(nc * m)
+	if serial(nc, o.workers) {
+		for c := 0; c < nc; c++ {
+			o.normsChunk(a, part, c)
 		}
-	})
-	out := make([]float64, m)
+	} else {
+		parallel.For(nc, o.workers, func(c int) { o.normsChunk(a, part, c) })
+	}
+	out := o.floats(m)
 	for c := 0; c < nc; c++ {
 		for q, v := range part[c*m : (c+1)*m] {
 			out[q] += v
@@ -133,6 +190,29 @@ func (o *ops) colNorms(a *block) []float64 {
 		out[q] = math.Sqrt(out[q])
 	}
 	return out
+}
+
+// normsChunk sets part's entries of chunk c to the sums of squares of
+// a's columns over the chunk's rows.
+func (o *ops) normsChunk(a *block, part []float64, c int) {
+	m := a.m
+	g := part[c*m : (c+1)*m]
+	clear(g)
+	for i := o.lv.chunks[c]; i < o.lv.chunks[c+1]; i++ {
+		for q, y := range a.v[i*m : i*m+m] {
+			g[q] += y * y
+		}
+	}
+}
+
+// partSums returns the pool's scratch for n per-chunk partial sums
+// (contents undefined).
+func (o *ops) partSums(n int) []float64 {
+	p := o.pl()
+	if cap(p.part) < n {
+		p.part = make([]float64, n)
+	}
+	return p.part[:n]
 }
 
 // combine sets out = Σ_t in[t] · C[rows of t] where C is ns×mc row-major
@@ -145,45 +225,66 @@ func (o *ops) combine(out *block, in []*block, c []float64) {
 func (o *ops) subMul(a *block, bs []*block, c []float64) {
 	ma := a.m
 	nb := width(bs)
+	if useAVX && ma > 0 && nb > 0 {
+		var buf [4]segment
+		segs := nonEmpty(buf[:0], bs)
+		// Input by input over a chunk's rows (combineRows), the sums
+		// carried in a scratch of rows x ma (o.rowSums) and the last
+		// input's subtracted from a: the same additions, row by row,
+		// as over the inputs' rows side by side.
+		nc := o.lv.nchunks()
+		sums := o.rowSums(ma)
+		if serial(nc, o.workers) {
+			for ch := 0; ch < nc; ch++ {
+				o.subMulChunk(a, segs, c, sums[0], ch)
+			}
+			return
+		}
+		ha, hs := heapBlock(a), heapSegments(segs)
+		_ = parallel.ForErr(nc, o.workers, func(g, ch int) error {
+			o.subMulChunk(ha, hs, c, sums[g], ch)
+			return nil
+		})
+		return
+	}
 	ct := make([]float64, ma*nb)
 	for p := 0; p < nb; p++ {
 		for q := 0; q < ma; q++ {
 			ct[q*nb+p] = c[p*ma+q]
 		}
 	}
-	if useAVX && ma > 0 && nb > 0 {
-		segs := nonEmpty(bs)
-		// Input by input over a chunk's rows (combineRows), the sums
-		// carried in a scratch of rows x ma (o.rowSums) and the last
-		// input's subtracted from a: the same additions, row by row,
-		// as over the inputs' rows side by side.
-		nc := o.lv.nchunks()
-		_ = parallel.ForErr(nc, o.workers, o.rowSums(ma, func(g, ch int, sums []float64) {
-			r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
-			var ini *float64
-			for t, sg := range segs {
-				m := sg.b.m
-				if t == len(segs)-1 {
-					combineRows(&a.v[r0*ma], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 1, ini, r1-r0)
-					break
-				}
-				combineRows(&sums[0], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 0, ini, r1-r0)
-				ini = &sums[0]
-			}
-		}))
-		return
-	}
+	ha, hb := heapBlock(a), heapBlocks(bs)
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, nb)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			if len(bs) == 1 {
-				s = bs[0].v[i*nb : i*nb+nb]
+			if len(hb) == 1 {
+				s = hb[0].v[i*nb : i*nb+nb]
 			} else {
-				gatherRow(s, bs, i)
+				gatherRow(s, hb, i)
 			}
-			dotRows(a.v[i*ma:i*ma+ma], s, ct, true)
+			dotRows(ha.v[i*ma:i*ma+ma], s, ct, true)
 		}
 	})
+}
+
+// subMulChunk is subMul's AVX path on the rows of chunk ch, with sums
+// the scratch of the goroutine running it (at least rows x a.m values).
+func (o *ops) subMulChunk(a *block, segs []segment, c []float64, sums []float64, ch int) {
+	r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
+	if r1 <= r0 {
+		return
+	}
+	ma := a.m
+	var ini *float64
+	for t, sg := range segs {
+		m := sg.b.m
+		if t == len(segs)-1 {
+			combineRows(&a.v[r0*ma], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 1, ini, r1-r0)
+			break
+		}
+		combineRows(&sums[0], ma, &sg.b.v[r0*m], m, m, &c[sg.off*ma], 0, ini, r1-r0)
+		ini = &sums[0]
+	}
 }
 
 // segment is a block of nonzero width among several taken side by side,
@@ -193,59 +294,80 @@ type segment struct {
 	off int
 }
 
-// nonEmpty lists the blocks of bs of nonzero width with their offsets.
-// rowSums returns the body of a parallel.ForErr over o's row chunks
-// that calls fn on every non-empty chunk with a scratch of the chunk's
-// rows x w values for the goroutine g running it (contents undefined).
-// The scratch is held by o between calls, so the block operations of a
-// solve allocate it once.
-func (o *ops) rowSums(w int, fn func(g, ch int, sums []float64)) func(g, ch int) error {
+// rowSums returns scratch of the largest chunk's rows x w values for each
+// goroutine that a parallel.ForErr over o's row chunks runs (contents
+// undefined), held by the pool so that the block operations of a solve
+// allocate it once.
+func (o *ops) rowSums(w int) [][]float64 {
 	nc := o.lv.nchunks()
 	rowsMax := 0
 	for ch := 0; ch < nc; ch++ {
 		rowsMax = max(rowsMax, o.lv.chunks[ch+1]-o.lv.chunks[ch])
 	}
-	ng := parallel.Goroutines(nc, o.workers)
-	for len(o.sums) < ng {
-		o.sums = append(o.sums, nil)
+	ng := max(1, parallel.Goroutines(nc, o.workers))
+	p := o.pl()
+	for len(p.sums) < ng {
+		p.sums = append(p.sums, nil)
 	}
 	for g := 0; g < ng; g++ {
-		if cap(o.sums[g]) < rowsMax*w {
-			o.sums[g] = make([]float64, rowsMax*w)
+		if cap(p.sums[g]) < rowsMax*w {
+			p.sums[g] = make([]float64, rowsMax*w)
 		}
 	}
-	return func(g, ch int) error {
-		r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
-		if r1 > r0 {
-			fn(g, ch, o.sums[g][:(r1-r0)*w])
-		}
-		return nil
-	}
+	return p.sums
 }
 
-func nonEmpty(bs []*block) []segment {
-	var segs []segment
+// nonEmpty appends to dst the blocks of bs of nonzero width with their
+// offsets.
+func nonEmpty(dst []segment, bs []*block) []segment {
 	off := 0
 	for _, b := range bs {
 		if b.m > 0 {
-			segs = append(segs, segment{b, off})
+			dst = append(dst, segment{b, off})
 		}
 		off += b.m
 	}
-	return segs
+	return dst
+}
+
+// heapBlock, heapBlocks and heapSegments copy the block headers a
+// parallel loop's closure captures, so that only the parallel path moves
+// them to the heap: a closure handed to parallel.For escapes, and with
+// it everything it refers to, while the serial path (serial) keeps the
+// callers' headers and slices of them on the stack.
+func heapBlock(b *block) *block {
+	c := *b
+	return &c
+}
+
+func heapBlocks(bs []*block) []*block {
+	out := make([]*block, len(bs))
+	for i, b := range bs {
+		out[i] = heapBlock(b)
+	}
+	return out
+}
+
+func heapSegments(segs []segment) []segment {
+	out := make([]segment, len(segs))
+	for i, sg := range segs {
+		out[i] = segment{heapBlock(sg.b), sg.off}
+	}
+	return out
 }
 
 // deflate removes the null-vector component: a = (I - z0 z0ᵀ) a.
 func (o *ops) deflate(a *block) {
-	z := &block{n: o.lv.n, m: 1, v: o.lv.z0}
-	o.subMul(a, []*block{z}, o.gram(z, a))
+	z := block{n: o.lv.n, m: 1, v: o.lv.z0}
+	o.subMul(a, []*block{&z}, o.gram(&z, a))
 }
 
 // orthogonalize makes w orthogonal to the orthonormal blocks in (block
 // classical Gram-Schmidt, applied twice: "twice is enough", Golub and
 // Van Loan section 5.2).
 func (o *ops) orthogonalize(w *block, in ...*block) {
-	var qs []*block
+	var buf [4]*block
+	qs := buf[:0]
 	for _, q := range in {
 		if q != nil && q.m > 0 {
 			qs = append(qs, q)
@@ -270,38 +392,38 @@ func (o *ops) svqb(w *block, drop float64) (*block, []float64) {
 		return w, nil
 	}
 	g := o.gram(w, w)
-	dscale := make([]float64, m)
+	dscale := o.floats(m)
 	for i := 0; i < m; i++ {
 		if d := g[i*m+i]; d > 0 {
 			dscale[i] = 1 / math.Sqrt(d)
 		}
 	}
-	sym := mat.NewSymDense(m, nil)
+	// The upper triangle of ΔGΔ, zeros below: the array gonum's
+	// mat.EigenSym factorizes (eigSym).
+	vecs := o.floats(m * m)
 	for i := 0; i < m; i++ {
 		for j := i; j < m; j++ {
-			sym.SetSym(i, j, dscale[i]*g[i*m+j]*dscale[j])
+			vecs[i*m+j] = dscale[i] * g[i*m+j] * dscale[j]
 		}
 	}
-	var es mat.EigenSym
-	if !es.Factorize(sym, true) {
+	vals, ok := o.pl().eigSym(m, vecs)
+	if !ok {
 		return &block{n: w.n, m: 0}, nil
 	}
-	vals := es.Values(nil)
-	var vecs mat.Dense
-	es.VectorsTo(&vecs)
 	lmax := vals[m-1]
-	var keep []int
+	var buf [16]int
+	keep := buf[:0]
 	for j := m - 1; j >= 0; j-- {
 		if vals[j] > drop*lmax && vals[j] > 0 {
 			keep = append(keep, j)
 		}
 	}
 	k := len(keep)
-	t := make([]float64, m*k)
+	t := o.floats(m * k)
 	for q, j := range keep {
 		f := 1 / math.Sqrt(vals[j])
 		for i := 0; i < m; i++ {
-			t[i*k+q] = dscale[i] * vecs.At(i, j) * f
+			t[i*k+q] = dscale[i] * vecs[i*m+j] * f
 		}
 	}
 	out := o.get(k)
@@ -314,22 +436,44 @@ func (o *ops) svqb(w *block, drop float64) (*block, []float64) {
 // entry of the result is loaded and stored once per four products; the
 // grouping is fixed by the chunk boundaries, so the order of additions
 // does not depend on the worker count.
+//
+// The result is scratch of the solve (pool.floats).
 func (o *ops) gramMulti(as, bs []*block) []float64 {
 	na, nb := width(as), width(bs)
 	nc := o.lv.nchunks()
 	sz := na * nb
-	if cap(o.part) < nc*sz {
-		o.part = make([]float64, nc*sz)
+	part := o.partSums(nc * sz)
+	if serial(nc, o.workers) {
+		// The gathered rows of the chunks' last rows from the scratch
+		// (the parallel path allocates them in the chunks that need them).
+		ra, rb := o.floats(4*na), o.floats(4*nb)
+		for c := 0; c < nc; c++ {
+			o.gramChunk(as, bs, part, ra, rb, c)
+		}
+	} else {
+		ha, hb := heapBlocks(as), heapBlocks(bs)
+		parallel.For(nc, o.workers, func(c int) { o.gramChunk(ha, hb, part, nil, nil, c) })
 	}
-	part := o.part[:nc*sz]
-	parallel.For(nc, o.workers, func(c int) {
+	out := o.floats(sz)
+	for c := 0; c < nc; c++ {
+		for t, v := range part[c*sz : (c+1)*sz] {
+			out[t] += v
+		}
+	}
+	return out
+}
+
+// gramChunk sets part's entries of chunk c to the chunk's rows' share of
+// [as...]ᵀ [bs...]. ra and rb (4·na and 4·nb values) hold the gathered
+// rows of the chunk's last rows (fewer than four); when nil they are
+// allocated if needed, since buffers for every chunk made the heap grow
+// between collections at a million nodes.
+func (o *ops) gramChunk(as, bs []*block, part, ra, rb []float64, c int) {
+	na, nb := width(as), width(bs)
+	sz := na * nb
+	{
 		g := part[c*sz : (c+1)*sz]
 		clear(g)
-		// The gathered rows are needed only for a chunk's last rows
-		// (fewer than four): allocated when first needed, since buffers
-		// for every chunk made the heap grow between collections at a
-		// million nodes.
-		var ra, rb []float64
 		r0, r1 := o.lv.chunks[c], o.lv.chunks[c+1]
 		single := len(as) == 1 && len(bs) == 1
 		if full := (r1 - r0) / 4; useAVX && full > 0 {
@@ -390,6 +534,7 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 				if ra == nil {
 					ra, rb = make([]float64, 4*na), make([]float64, 4*nb)
 				}
+				ra, rb = ra[:4*na], rb[:4*nb]
 				clear(ra)
 				clear(rb)
 				for t := 0; t < cnt; t++ {
@@ -409,14 +554,7 @@ func (o *ops) gramMulti(as, bs []*block) []float64 {
 				}
 			}
 		}
-	})
-	out := make([]float64, sz)
-	for c := 0; c < nc; c++ {
-		for t, v := range part[c*sz : (c+1)*sz] {
-			out[t] += v
-		}
 	}
-	return out
 }
 
 func width(bs []*block) int {
@@ -444,6 +582,42 @@ func gatherRow(dst []float64, bs []*block, i int) {
 // input of the same width (LOBPCG updates X, AX, P and AP in place).
 func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 	ns := width(in)
+	if mc := width(outs); useAVX && ns > 0 && mc > 0 {
+		// All outputs at once in the AVX kernel, from the coefficient
+		// matrices side by side (ns × mc), through a scratch of sums:
+		// each output entry is the same running sum as in dotRows, and
+		// no input row is gathered.
+		cc := o.floats(ns * mc)
+		off := 0
+		for t, c := range cs {
+			mt := outs[t].m
+			for p := 0; p < ns; p++ {
+				copy(cc[p*mc+off:p*mc+off+mt], c[p*mt:p*mt+mt])
+			}
+			off += mt
+		}
+		var buf [4]segment
+		segs := nonEmpty(buf[:0], in)
+		// The sums of a chunk's rows are carried in a scratch of rows
+		// x mc (o.rowSums), input by input over all the chunk's rows
+		// (combineRows, one call an input), then the outputs written,
+		// so every input row is still read before that row of any
+		// output is written.
+		nc := o.lv.nchunks()
+		sums := o.rowSums(mc)
+		if serial(nc, o.workers) {
+			for ch := 0; ch < nc; ch++ {
+				o.combineChunk(outs, segs, cc, sums[0], ch)
+			}
+			return
+		}
+		ho, hs := heapBlocks(outs), heapSegments(segs)
+		_ = parallel.ForErr(nc, o.workers, func(g, ch int) error {
+			o.combineChunk(ho, hs, cc, sums[g], ch)
+			return nil
+		})
+		return
+	}
 	// Transpose the coefficient matrices so the inner loop is contiguous.
 	cts := make([][]float64, len(cs))
 	for t, c := range cs {
@@ -456,64 +630,50 @@ func (o *ops) combineMulti(outs []*block, in []*block, cs [][]float64) {
 		}
 		cts[t] = ct
 	}
-	if mc := width(outs); useAVX && ns > 0 && mc > 0 {
-		// All outputs at once in the AVX kernel, from the coefficient
-		// matrices side by side (ns × mc), through a scratch of sums:
-		// each output entry is the same running sum as in dotRows, and
-		// no input row is gathered.
-		cc := make([]float64, ns*mc)
-		off := 0
-		for t, c := range cs {
-			mt := outs[t].m
-			for p := 0; p < ns; p++ {
-				copy(cc[p*mc+off:p*mc+off+mt], c[p*mt:p*mt+mt])
-			}
-			off += mt
-		}
-		segs := nonEmpty(in)
-		// The sums of a chunk's rows are carried in a scratch of rows
-		// x mc (o.rowSums), input by input over all the chunk's rows
-		// (combineRows, one call an input), then the outputs written,
-		// so every input row is still read before that row of any
-		// output is written.
-		nc := o.lv.nchunks()
-		_ = parallel.ForErr(nc, o.workers, o.rowSums(mc, func(g, ch int, sums []float64) {
-			r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
-			var ini *float64
-			for _, sg := range segs {
-				m := sg.b.m
-				combineRows(&sums[0], mc, &sg.b.v[r0*m], m, m, &cc[sg.off*mc], 0, ini, r1-r0)
-				ini = &sums[0]
-			}
-			off := 0
-			for _, out := range outs {
-				mo := out.m
-				dst := out.v[r0*mo : r1*mo]
-				for i := 0; i < r1-r0; i++ {
-					d, src := dst[i*mo:i*mo+mo], sums[i*mc+off:i*mc+off+mo]
-					for q, v := range src {
-						d[q] = v
-					}
-				}
-				off += mo
-			}
-		}))
-		return
-	}
+	ho, hi := heapBlocks(outs), heapBlocks(in)
 	parallel.For(o.lv.nchunks(), o.workers, func(ch int) {
 		s := make([]float64, ns)
 		for i := o.lv.chunks[ch]; i < o.lv.chunks[ch+1]; i++ {
-			if len(in) == 1 {
-				s = in[0].v[i*ns : i*ns+ns]
+			if len(hi) == 1 {
+				s = hi[0].v[i*ns : i*ns+ns]
 			} else {
-				gatherRow(s, in, i)
+				gatherRow(s, hi, i)
 			}
-			for t, out := range outs {
+			for t, out := range ho {
 				mc := out.m
 				dotRows(out.v[i*mc:i*mc+mc], s, cts[t], false)
 			}
 		}
 	})
+}
+
+// combineChunk is combineMulti's AVX path on the rows of chunk ch: cc
+// holds the coefficient matrices side by side, sums is the scratch of
+// the goroutine running it (at least rows x width(outs) values).
+func (o *ops) combineChunk(outs []*block, segs []segment, cc, sums []float64, ch int) {
+	r0, r1 := o.lv.chunks[ch], o.lv.chunks[ch+1]
+	if r1 <= r0 {
+		return
+	}
+	mc := width(outs)
+	var ini *float64
+	for _, sg := range segs {
+		m := sg.b.m
+		combineRows(&sums[0], mc, &sg.b.v[r0*m], m, m, &cc[sg.off*mc], 0, ini, r1-r0)
+		ini = &sums[0]
+	}
+	off := 0
+	for _, out := range outs {
+		mo := out.m
+		dst := out.v[r0*mo : r1*mo]
+		for i := 0; i < r1-r0; i++ {
+			d, src := dst[i*mo:i*mo+mo], sums[i*mc+off:i*mc+off+mo]
+			for q, v := range src {
+				d[q] = v
+			}
+		}
+		off += mo
+	}
 }
 
 // dotRows sets dst[q] = s · ct[q*len(s):(q+1)*len(s)] (or subtracts it

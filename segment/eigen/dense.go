@@ -8,10 +8,11 @@ package eigen
 // of the complement. B = U Λ Uᵀ by gonum's mat.EigenSym and the
 // eigenvectors are z = H [0; u]. H L H is formed by the rank-two update of
 // Golub and Van Loan (section 8.3.1): p = β L v, q = p - (β/2)(vᵀp) v,
-// H L H = L - v qᵀ - q vᵀ.
-func denseLevel(lv *level, count int) ([]float64, *block, error) {
+// H L H = L - v qᵀ - q vᵀ. The work arrays and the eigenvalues are
+// scratch of pl (pool.floats), the vectors a block of pl.
+func denseLevel(pl *pool, lv *level, count int) ([]float64, *block, error) {
 	n := lv.n
-	a := make([]float64, n*n)
+	a := pl.floats(n * n)
 	var cb []int32
 	var wb []float32
 	for i := 0; i < n; i++ {
@@ -25,33 +26,34 @@ func denseLevel(lv *level, count int) ([]float64, *block, error) {
 			a[i*n+j] -= float64(wts[p]) * lv.s[i] * lv.s[j]
 		}
 	}
-	v := append([]float64(nil), lv.z0...)
+	v := pl.floats(n)
+	copy(v, lv.z0)
 	v[0] += 1
 	beta := 2 / vdot(v, v)
-	p := make([]float64, n)
+	p := pl.floats(n)
 	for i := 0; i < n; i++ {
 		p[i] = beta * vdot(a[i*n:i*n+n], v)
 	}
 	half := 0.5 * beta * vdot(v, p)
-	q := make([]float64, n)
+	q := pl.floats(n)
 	for i := range q {
 		q[i] = p[i] - half*v[i]
 	}
 	nb := n - 1
-	b := make([]float64, nb*nb)
+	b := pl.floats(nb * nb)
 	for i := 1; i < n; i++ {
 		for j := 1; j < n; j++ {
 			b[(i-1)*nb+j-1] = a[i*n+j] - v[i]*q[j] - q[i]*v[j]
 		}
 	}
-	vals, u, err := symEig(nb, b)
+	vals, u, err := pl.symEig(nb, b)
 	if err != nil {
 		return nil, nil, err
 	}
 	if count < 0 {
 		count = nb
 	}
-	out := newBlock(n, count)
+	out := pl.get(n, count)
 	for c := 0; c < count; c++ {
 		// z = H [0; u] = y - β v (vᵀ y), y = [0; u].
 		var vty float64

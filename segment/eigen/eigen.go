@@ -211,8 +211,6 @@ func SmallestStencil(ctx context.Context, g *affinity.StencilGraph, k int, opt O
 // solve is the solver behind both entry points, on the input level lv0;
 // opt is resolved (Options.resolved).
 func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Result, error) {
-	tol, maxIter := opt.Tol, opt.MaxIter
-	workers := parallel.Workers(opt.Workers)
 	for i, d := range lv0.deg {
 		if !(d > 0) || math.IsInf(d, 0) {
 			return nil, fmt.Errorf("eigen: node %d has degree %v (the graph must be connected with finite weights)", i, d)
@@ -229,9 +227,9 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 			}
 		}
 	}
-	want := k - 1 // eigenpairs wanted besides z0
 	pl := solvePools.Get().(*pool)
 	defer func() {
+		pl.release()
 		if sz := pl.size(); sz <= poolKeep {
 			solvePools.Put(pl)
 		} else if sz >= collectAfter {
@@ -242,6 +240,17 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 			runtime.GC()
 		}
 	}()
+	return solveIn(ctx, lv0, k, opt, limit, pl)
+}
+
+// solveIn is solve with its block storage and scratch from pl, which
+// holds no block in use and whose arena is released (pool.release): the
+// result does not depend on what pl's storage holds (TestPooledAsFresh).
+func solveIn(ctx context.Context, lv0 *level, k int, opt Options, limit int, pl *pool) (*Result, error) {
+	tol, maxIter := opt.Tol, opt.MaxIter
+	workers := parallel.Workers(opt.Workers)
+	n := lv0.n
+	want := k - 1 // eigenpairs wanted besides z0
 	o := &ops{lv: lv0, workers: workers, pool: pl}
 
 	var vals []float64
@@ -254,7 +263,7 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 	pl.unit = n * max(m, k)
 	if n <= limit || 3*m >= n-1 || want == 0 {
 		if want > 0 {
-			v, z, err := denseLevel(lv0, want)
+			v, z, err := denseLevel(pl, lv0, want)
 			if err != nil {
 				return nil, err
 			}
@@ -297,7 +306,7 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 			coarsest = lv0
 		}
 		if len(levels) > 1 {
-			cvals, cvecs, err := denseLevel(coarsest, -1)
+			cvals, cvecs, err := denseLevel(pl, coarsest, -1)
 			if err != nil {
 				return nil, err
 			}
@@ -308,6 +317,7 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 			for i := 0; i < coarsest.n; i++ {
 				copy(x.v[i*cnt:i*cnt+cnt], cvecs.v[i*cvecs.m:i*cvecs.m+cnt])
 			}
+			pl.put(cvecs)
 		} else {
 			x = newBlock(coarsest.n, 0)
 		}
@@ -329,14 +339,17 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 				if tol >= looseTol {
 					smooth = 1
 				}
-				lv, m := levels[l], x.m
+				lv := levels[l]
 				for sm := 0; sm < smooth; sm++ {
 					lv.applyL(lx, x, tmp, workers)
-					parallel.For(lv.nchunks(), workers, func(c int) {
-						for t := lv.chunks[c] * m; t < lv.chunks[c+1]*m; t++ {
-							x.v[t] -= 0.7 * lx.v[t]
-						}
-					})
+					if serial(lv.nchunks(), workers) {
+						jacobiRows(x, lx, 0, lv.n)
+					} else {
+						hx, hl := heapBlock(x), heapBlock(lx)
+						parallel.For(lv.nchunks(), workers, func(c int) {
+							jacobiRows(hx, hl, lv.chunks[c], lv.chunks[c+1])
+						})
+					}
 				}
 				pl.put(lx, tmp)
 			}
@@ -392,6 +405,15 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 	pl.put(vecs)
 	res.Iterations = iters
 	return res, convErr
+}
+
+// jacobiRows sets rows r0..r1-1 of x to x - 0.7 lx (one damped Jacobi
+// step on an interpolated block, lx = L x).
+func jacobiRows(x, lx *block, r0, r1 int) {
+	m := x.m
+	for t := r0 * m; t < r1*m; t++ {
+		x.v[t] -= 0.7 * lx.v[t]
+	}
 }
 
 // collectAfter is the size of a solve's block pool (float64 values) from

@@ -162,29 +162,52 @@ func (b *block) row(i int) []float64 { return b.v[i*b.m : i*b.m+b.m] }
 
 // applyL sets y = L x = x - D^-1/2 W D^-1/2 x for a block x. tmp must have
 // the shape of x; it receives D^-1/2 x. Rows are independent, so the
-// result does not depend on the worker count.
+// result does not depend on the worker count. When one goroutine would
+// run the chunks (serial) the rows are taken in one call, with no
+// closure made: the re-cut's many small solves run on one worker.
 func (lv *level) applyL(y, x, tmp *block, workers int) {
-	m := x.m
 	nc := lv.nchunks()
-	parallel.For(nc, workers, func(c int) {
-		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
-			si := lv.s[i]
-			xr, tr := x.v[i*m:i*m+m], tmp.v[i*m:i*m+m]
-			for j := range tr {
-				tr[j] = si * xr[j]
-			}
+	if serial(nc, workers) {
+		lv.scaleRows(tmp, x, 0, lv.n)
+		if lv.sg != nil {
+			lv.sg.mulRows(lv.sg.scaled(x.m), lv.s, y, x, tmp, 0, lv.n)
+			return
 		}
+		lv.mulRows(y, x, tmp, 0, lv.n)
+		return
+	}
+	hy, hx, ht := heapBlock(y), heapBlock(x), heapBlock(tmp)
+	parallel.For(nc, workers, func(c int) {
+		lv.scaleRows(ht, hx, lv.chunks[c], lv.chunks[c+1])
 	})
 	if lv.sg != nil {
-		lm := lv.sg.scaled(m)
+		lm := lv.sg.scaled(x.m)
 		parallel.For(nc, workers, func(c int) {
-			lv.sg.mulRows(lm, lv.s, y, x, tmp, lv.chunks[c], lv.chunks[c+1])
+			lv.sg.mulRows(lm, lv.s, hy, hx, ht, lv.chunks[c], lv.chunks[c+1])
 		})
 		return
 	}
 	parallel.For(nc, workers, func(c int) {
-		lv.mulRows(y, x, tmp, lv.chunks[c], lv.chunks[c+1])
+		lv.mulRows(hy, hx, ht, lv.chunks[c], lv.chunks[c+1])
 	})
+}
+
+// serial reports whether parallel.For would run nc chunks on the calling
+// goroutine alone (parallel.Goroutines at most 1): the callers then loop
+// themselves, since a closure handed to parallel.For is allocated on the
+// heap at every call.
+func serial(nc, workers int) bool { return parallel.Goroutines(nc, workers) <= 1 }
+
+// scaleRows sets rows r0..r1-1 of tmp to D^-1/2 x.
+func (lv *level) scaleRows(tmp, x *block, r0, r1 int) {
+	m := x.m
+	for i := r0; i < r1; i++ {
+		si := lv.s[i]
+		xr, tr := x.v[i*m:i*m+m], tmp.v[i*m:i*m+m]
+		for j := range tr {
+			tr[j] = si * xr[j]
+		}
+	}
 }
 
 // mulRows computes rows r0..r1-1 of y = x - S W S x given tmp = S x.

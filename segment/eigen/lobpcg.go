@@ -6,31 +6,52 @@ import (
 	"math"
 
 	"github.com/cleave-seg/cleave/segment/parallel"
-	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/lapack"
+	lapackgonum "gonum.org/v1/gonum/lapack/gonum"
 )
 
 // symEig returns the eigenvalues (ascending) and eigenvectors (row-major
 // n×n, column j belongs to value j) of the symmetric matrix whose upper
-// triangle is in a (row-major n×n), by gonum's mat.EigenSym.
-func symEig(n int, a []float64) ([]float64, []float64, error) {
+// triangle is in a (row-major n×n), symmetrized as (a_ij + a_ji)/2, as
+// gonum's mat.EigenSym computes them (eigSym). Both are scratch of p
+// (pool.floats).
+func (p *pool) symEig(n int, a []float64) ([]float64, []float64, error) {
 	if n == 0 {
 		return nil, nil, nil
 	}
-	sym := mat.NewSymDense(n, nil)
+	s := p.floats(n * n)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {
-			sym.SetSym(i, j, 0.5*(a[i*n+j]+a[j*n+i]))
+			s[i*n+j] = 0.5 * (a[i*n+j] + a[j*n+i])
 		}
 	}
-	var es mat.EigenSym
-	if !es.Factorize(sym, true) {
+	vals, ok := p.eigSym(n, s)
+	if !ok {
 		return nil, nil, errors.New("eigen: dense symmetric eigensolver did not converge")
 	}
-	vals := es.Values(nil)
-	var v mat.Dense
-	es.VectorsTo(&v)
-	return vals, append([]float64(nil), v.RawMatrix().Data...), nil
+	return vals, s, nil
 }
+
+// eigSym factorizes the symmetric matrix whose upper triangle is in a
+// (row-major n×n, zeros below) by LAPACK's Dsyev in gonum's
+// implementation, the routine, arguments, array and workspace size
+// (queried) that gonum's mat.EigenSym.Factorize gives it, so the results
+// are Factorize's bit for bit (TestEigSymAsGonum) without its
+// allocations. It returns the eigenvalues ascending, with the
+// eigenvectors overwriting a (column j belongs to value j), and false
+// when the iteration did not converge.
+func (p *pool) eigSym(n int, a []float64) ([]float64, bool) {
+	w := p.floats(n)
+	query := p.floats(1)
+	lapackImpl.Dsyev(lapack.EVCompute, blas.Upper, n, a, n, w, query, -1)
+	lwork := int(query[0])
+	work := p.floats(lwork)
+	return w, lapackImpl.Dsyev(lapack.EVCompute, blas.Upper, n, a, n, w, work, lwork)
+}
+
+// lapackImpl is gonum's LAPACK, the one mat.EigenSym calls.
+var lapackImpl lapackgonum.Implementation
 
 // lobpcgResult is the refined block of one level.
 type lobpcgResult struct {
@@ -78,7 +99,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 	lv.applyL(ax, x, tmp, o.workers)
 	// Initial Rayleigh-Ritz on span X.
 	h := o.gram(x, ax)
-	theta, c, err := symEig(m, h)
+	theta, c, err := o.pl().symEig(m, h)
 	if err != nil {
 		return nil, err
 	}
@@ -89,7 +110,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 	x, ax = xn, axn
 
 	var p, ap *block
-	res := make([]float64, m)
+	var res []float64
 	it := 0
 	for ; ; it++ {
 		if err := ctx.Err(); err != nil {
@@ -112,14 +133,14 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 			p, ap = nil, nil
 		}
 		// R = AX - X Θ
-		parallel.For(lv.nchunks(), o.workers, func(ch int) {
-			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
-				rr, xr, axr := r.v[i*m:i*m+m], x.v[i*m:i*m+m], ax.v[i*m:i*m+m]
-				for q := range rr {
-					rr[q] = axr[q] - theta[q]*xr[q]
-				}
-			}
-		})
+		if serial(lv.nchunks(), o.workers) {
+			residualRows(r, x, ax, theta, 0, n)
+		} else {
+			hr, hx, hax, th := heapBlock(r), heapBlock(x), heapBlock(ax), theta
+			parallel.For(lv.nchunks(), o.workers, func(ch int) {
+				residualRows(hr, hx, hax, th, lv.chunks[ch], lv.chunks[ch+1])
+			})
+		}
 		res = o.colNorms(r)
 		done := true
 		for q := 0; q < want; q++ {
@@ -135,7 +156,8 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 		// the tolerance: the guard columns improve through Rayleigh-Ritz
 		// alone, which costs fewer products than it loses in steps
 		// (measured on the coins pixel graph).
-		var active []int
+		var activeBuf [16]int
+		active := activeBuf[:0]
 		for q := 0; q < want; q++ {
 			if !(res[q] <= tol) {
 				active = append(active, q)
@@ -147,13 +169,14 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 			}
 		}
 		w := o.get(len(active))
-		parallel.For(lv.nchunks(), o.workers, func(ch int) {
-			for i := lv.chunks[ch]; i < lv.chunks[ch+1]; i++ {
-				for t, q := range active {
-					w.v[i*w.m+t] = r.v[i*m+q]
-				}
-			}
-		})
+		if serial(lv.nchunks(), o.workers) {
+			gatherColumns(w, r, active, 0, n)
+		} else {
+			hw, hr, ha := heapBlock(w), heapBlock(r), append([]int(nil), active...)
+			parallel.For(lv.nchunks(), o.workers, func(ch int) {
+				gatherColumns(hw, hr, ha, lv.chunks[ch], lv.chunks[ch+1])
+			})
+		}
 		o.put(r, tmp)
 		tmp = nil
 		if precond != nil {
@@ -176,8 +199,9 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 		tmp = o.get(max(m, w.m))
 		lv.applyL(aw, w, &block{n: n, m: w.m, v: tmp.v[:n*w.m]}, o.workers)
 
-		basis := []*block{x, w}
-		abasis := []*block{ax, aw}
+		var basisBuf, abasisBuf [3]*block
+		basis := append(basisBuf[:0], x, w)
+		abasis := append(abasisBuf[:0], ax, aw)
 		if p != nil && p.m > 0 {
 			basis = append(basis, p)
 			abasis = append(abasis, ap)
@@ -187,22 +211,23 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 			ns += b.m
 		}
 		g := o.gramBlocks(basis, abasis)
-		vals, vecs, err := symEig(ns, g)
+		vals, vecs, err := o.pl().symEig(ns, g)
 		if err != nil {
 			return nil, err
 		}
 		// C = first m eigenvectors (ns×m); Z = C with its X rows zeroed,
 		// made orthogonal to C and orthonormal in the small space.
-		cm := make([]float64, ns*m)
+		cm := o.floats(ns * m)
 		for i := 0; i < ns; i++ {
 			copy(cm[i*m:i*m+m], vecs[i*ns:i*ns+m])
 		}
-		z := smallComplement(cm, ns, m)
+		z := smallComplement(o.pl(), cm, ns, m)
 		mp := len(z) / ns
 		// The new blocks overwrite the old ones of the same width in
 		// place (combineMulti reads each row of its inputs before it
 		// writes that row of its outputs); the others are released.
-		old := []*block{w, aw}
+		var oldBuf [4]*block
+		old := append(oldBuf[:0], w, aw)
 		xn, axn := x, ax
 		// The images A X and A P are either combined from [AX, AW, AP]
 		// (ns products per entry) or recomputed as sparse products (about
@@ -244,6 +269,27 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 	return &lobpcgResult{x: x, theta: append([]float64(nil), theta...), residuals: res, iters: it}, nil
 }
 
+// residualRows sets rows r0..r1-1 of r to AX - X Θ.
+func residualRows(r, x, ax *block, theta []float64, r0, r1 int) {
+	m := r.m
+	for i := r0; i < r1; i++ {
+		rr, xr, axr := r.v[i*m:i*m+m], x.v[i*m:i*m+m], ax.v[i*m:i*m+m]
+		for q := range rr {
+			rr[q] = axr[q] - theta[q]*xr[q]
+		}
+	}
+}
+
+// gatherColumns sets rows r0..r1-1 of w to the columns active of r.
+func gatherColumns(w, r *block, active []int, r0, r1 int) {
+	m := r.m
+	for i := r0; i < r1; i++ {
+		for t, q := range active {
+			w.v[i*w.m+t] = r.v[i*m+q]
+		}
+	}
+}
+
 // gramBlocks returns G = Sᵀ (A S) for S = [X, W, P] and A S = [AX, AW,
 // AP]: the X-X block from Xᵀ AX (symmetrized), the others from one fused
 // pass Sᵀ [AW, AP], mirrored by symmetry. The X-X block is diag(θ) in
@@ -255,7 +301,7 @@ func lobpcg(ctx context.Context, o *ops, x *block, want int, tol float64, maxIte
 func (o *ops) gramBlocks(basis, abasis []*block) []float64 {
 	ns := width(basis)
 	m := basis[0].m
-	g := make([]float64, ns*ns)
+	g := o.floats(ns * ns)
 	xx := o.gram(basis[0], abasis[0])
 	for a := 0; a < m; a++ {
 		for b := 0; b < m; b++ {
@@ -281,12 +327,12 @@ func (o *ops) gramBlocks(basis, abasis []*block) []float64 {
 // (ns×m, orthonormal columns) with the first m rows (the X block) set to
 // zero, orthogonalized against C twice and orthonormalized, dropping
 // directions that vanish.
-func smallComplement(c []float64, ns, m int) []float64 {
-	z := make([]float64, ns*m)
+func smallComplement(pl *pool, c []float64, ns, m int) []float64 {
+	z := pl.floats(ns * m)
 	copy(z[m*m:], c[m*m:])
 	for pass := 0; pass < 2; pass++ {
 		// z -= C (Cᵀ z)
-		ctz := make([]float64, m*m)
+		ctz := pl.floats(m * m)
 		for i := 0; i < ns; i++ {
 			for a := 0; a < m; a++ {
 				for b := 0; b < m; b++ {
@@ -305,9 +351,10 @@ func smallComplement(c []float64, ns, m int) []float64 {
 	// Orthonormalize the columns of z by modified Gram-Schmidt with
 	// reorthogonalization (Golub and Van Loan section 5.2), dropping
 	// columns that fall below 1e-10 of their original norm.
-	var cols [][]float64
+	var colsBuf [16][]float64
+	cols := colsBuf[:0]
 	for b := 0; b < m; b++ {
-		v := make([]float64, ns)
+		v := pl.floats(ns)
 		for i := 0; i < ns; i++ {
 			v[i] = z[i*m+b]
 		}
@@ -333,7 +380,7 @@ func smallComplement(c []float64, ns, m int) []float64 {
 		cols = append(cols, v)
 	}
 	mp := len(cols)
-	out := make([]float64, ns*mp)
+	out := pl.floats(ns * mp)
 	for b, v := range cols {
 		for i := 0; i < ns; i++ {
 			out[i*mp+b] = v[i]
@@ -385,14 +432,14 @@ func ritzStart(o *ops, start [][]float64, m int, seed uint64) *block {
 	w := xo.m
 	ax, tmp := o.get(w), o.get(w)
 	o.lv.applyL(ax, xo, tmp, o.workers)
-	_, c, err := symEig(w, o.gram(xo, ax))
+	_, c, err := o.pl().symEig(w, o.gram(xo, ax))
 	o.put(ax, tmp)
 	if err != nil {
 		// No rotation: lobpcg's own Rayleigh-Ritz step takes the whole
 		// span instead (a wider block, the same result within Tol).
 		return xo
 	}
-	cm := make([]float64, w*m)
+	cm := o.floats(w * m)
 	for i := 0; i < w; i++ {
 		copy(cm[i*m:i*m+m], c[i*w:i*w+m])
 	}

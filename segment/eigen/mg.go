@@ -36,6 +36,9 @@ type multigrid struct {
 type mgScratch struct {
 	x, r, tmp   []float64 // fine size
 	rc, xc, res []float64 // coarse size
+	// block headers of x, r and tmp, so that apply allocates none
+	bx, br, btmp block
+	bc           block // coarseSolve's result
 }
 
 // With wide set (graphs of at least longRows entries per row, coarsened
@@ -74,9 +77,11 @@ func (mg *multigrid) sub(l int) *multigrid {
 	return &s
 }
 
-func grow(buf []float64, n int) []float64 {
+// grow returns buf resliced to n values, or new storage when it is
+// shorter: scratch of pl (pool.floats) when pl is set.
+func grow(pl *pool, buf []float64, n int) []float64 {
 	if cap(buf) < n {
-		return make([]float64, n)
+		return pl.floats(n)
 	}
 	return buf[:n]
 }
@@ -105,37 +110,23 @@ func (mg *multigrid) apply(l int, b *block) *block {
 		x, r, tmp = mg.pool.get(n, m), mg.pool.get(n, m), mg.pool.get(n, m)
 		defer mg.pool.put(r, tmp)
 	} else {
-		sc.x = grow(sc.x, n*m)
-		sc.r = grow(sc.r, n*m)
-		sc.tmp = grow(sc.tmp, n*m)
-		x = &block{n: n, m: m, v: sc.x}
-		r = &block{n: n, m: m, v: sc.r}
-		tmp = &block{n: n, m: m, v: sc.tmp}
+		sc.x = grow(mg.pool, sc.x, n*m)
+		sc.r = grow(mg.pool, sc.r, n*m)
+		sc.tmp = grow(mg.pool, sc.tmp, n*m)
+		sc.bx = block{n: n, m: m, v: sc.x}
+		sc.br = block{n: n, m: m, v: sc.r}
+		sc.btmp = block{n: n, m: m, v: sc.tmp}
+		x, r, tmp = &sc.bx, &sc.br, &sc.btmp
 	}
-	sc.rc = grow(sc.rc, next.n*m)
-	sc.xc = grow(sc.xc, next.n*m)
-	sc.res = grow(sc.res, next.n*m)
+	sc.rc = grow(mg.pool, sc.rc, next.n*m)
+	sc.xc = grow(mg.pool, sc.xc, next.n*m)
+	sc.res = grow(mg.pool, sc.res, next.n*m)
 	rc := &block{n: next.n, m: m, v: sc.rc}
 	xc := &block{n: next.n, m: m, v: sc.xc}
 	res := &block{n: next.n, m: m, v: sc.res}
 	// Pre-smoothing from zero: x = ω D_L^-1 b.
-	parallel.For(lv.nchunks(), mg.workers, func(c int) {
-		for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
-			f := mg.omega / lv.diag[i]
-			for q := 0; q < m; q++ {
-				x.v[i*m+q] = f * b.v[i*m+q]
-			}
-		}
-	})
-	residual := func() {
-		lv.applyL(r, x, tmp, mg.workers)
-		parallel.For(lv.nchunks(), mg.workers, func(c int) {
-			for t := lv.chunks[c] * m; t < lv.chunks[c+1]*m; t++ {
-				r.v[t] = b.v[t] - r.v[t]
-			}
-		})
-	}
-	residual()
+	mg.rows(lv, jacobiFromZero, x, b)
+	mg.residual(lv, r, x, b, tmp)
 	restrict(lv, next, r, rc, mg.workers)
 	clear(xc.v)
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
@@ -151,7 +142,8 @@ func (mg *multigrid) apply(l int, b *block) *block {
 			if l+1 == len(mg.levels)-1 {
 				break // the coarsest solve is exact
 			}
-			next.applyL(res, xc, &block{n: next.n, m: m, v: tmp.v[:next.n*m]}, mg.workers)
+			tc := block{n: next.n, m: m, v: tmp.v[:next.n*m]}
+			next.applyL(res, xc, &tc, mg.workers)
 			for t := range res.v {
 				res.v[t] = rc.v[t] - res.v[t]
 			}
@@ -164,15 +156,8 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	}
 	prolongAdd(lv, next, xc, x, alpha, mg.workers)
 	for s := 0; s < post; s++ {
-		residual()
-		parallel.For(lv.nchunks(), mg.workers, func(c int) {
-			for i := lv.chunks[c]; i < lv.chunks[c+1]; i++ {
-				f := mg.omega / lv.diag[i]
-				for q := 0; q < m; q++ {
-					x.v[i*m+q] += f * r.v[i*m+q]
-				}
-			}
-		})
+		mg.residual(lv, r, x, b, tmp)
+		mg.rows(lv, jacobiAdd, x, r)
 	}
 	// No deflation here: Pz maps z0 of the coarse level to z0 of the fine
 	// one and L z0 = 0, so null-vector components only pass upwards, and
@@ -180,12 +165,67 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	return x
 }
 
+// residual sets r = b - L x on level lv (tmp: scratch of x's shape).
+func (mg *multigrid) residual(lv *level, r, x, b, tmp *block) {
+	lv.applyL(r, x, tmp, mg.workers)
+	mg.rows(lv, residualFrom, r, b)
+}
+
+// The row operations of a cycle (mgRows): the pre-smoothing from zero x =
+// ω D_L^-1 b, the residual r = b - L x (given L x in r) and the
+// post-smoothing x += ω D_L^-1 r.
+const (
+	jacobiFromZero = iota
+	residualFrom
+	jacobiAdd
+)
+
+// rows applies the row operation op (jacobiFromZero, residualFrom or
+// jacobiAdd) to dst from src over lv's rows, on the calling goroutine
+// when one goroutine would run the chunks (serial).
+func (mg *multigrid) rows(lv *level, op int, dst, src *block) {
+	if serial(lv.nchunks(), mg.workers) {
+		mgRows(lv, mg.omega, op, dst, src, 0, lv.n)
+		return
+	}
+	hd, hs, omega := heapBlock(dst), heapBlock(src), mg.omega
+	parallel.For(lv.nchunks(), mg.workers, func(c int) {
+		mgRows(lv, omega, op, hd, hs, lv.chunks[c], lv.chunks[c+1])
+	})
+}
+
+// mgRows is rows on rows r0..r1-1.
+func mgRows(lv *level, omega float64, op int, dst, src *block, r0, r1 int) {
+	m := dst.m
+	switch op {
+	case jacobiFromZero:
+		for i := r0; i < r1; i++ {
+			f := omega / lv.diag[i]
+			for q := 0; q < m; q++ {
+				dst.v[i*m+q] = f * src.v[i*m+q]
+			}
+		}
+	case residualFrom:
+		for t := r0 * m; t < r1*m; t++ {
+			dst.v[t] = src.v[t] - dst.v[t]
+		}
+	case jacobiAdd:
+		for i := r0; i < r1; i++ {
+			f := omega / lv.diag[i]
+			for q := 0; q < m; q++ {
+				dst.v[i*m+q] += f * src.v[i*m+q]
+			}
+		}
+	}
+}
+
 // coarseSolve applies the pseudo-inverse of the coarsest L.
 func (mg *multigrid) coarseSolve(b *block) *block {
 	n, m := b.n, b.m
 	sc := &mg.scratch[len(mg.levels)-1]
-	sc.x = grow(sc.x, n*m)
-	x := &block{n: n, m: m, v: sc.x}
+	sc.x = grow(mg.pool, sc.x, n*m)
+	sc.bc = block{n: n, m: m, v: sc.x}
+	x := &sc.bc
 	clear(x.v)
 	for a := 0; a < n; a++ {
 		xa := x.v[a*m : a*m+m]
@@ -202,38 +242,58 @@ func (mg *multigrid) coarseSolve(b *block) *block {
 // restrict computes r_c = Pzᵀ r: r_c[a] = Σ_{i in a} sqrt(d_i/d_c[a]) r_i,
 // the members of a taken in ascending order.
 func restrict(fine, coarse *level, r, out *block, workers int) {
-	m := r.m
+	if serial(coarse.nchunks(), workers) {
+		restrictRows(fine, r, out, 0, coarse.n)
+		return
+	}
+	hr, ho := heapBlock(r), heapBlock(out)
 	parallel.For(coarse.nchunks(), workers, func(c int) {
-		for a := coarse.chunks[c]; a < coarse.chunks[c+1]; a++ {
-			dst := out.v[a*m : a*m+m]
-			clear(dst)
-			for _, i := range fine.mem[fine.memPtr[a]:fine.memPtr[a+1]] {
-				f := fine.pz[i]
-				src := r.v[int(i)*m : int(i)*m+m]
-				for q, v := range src {
-					dst[q] += f * v
-				}
+		restrictRows(fine, hr, ho, coarse.chunks[c], coarse.chunks[c+1])
+	})
+}
+
+// restrictRows is restrict on the coarse rows a0..a1-1.
+func restrictRows(fine *level, r, out *block, a0, a1 int) {
+	m := r.m
+	for a := a0; a < a1; a++ {
+		dst := out.v[a*m : a*m+m]
+		clear(dst)
+		for _, i := range fine.mem[fine.memPtr[a]:fine.memPtr[a+1]] {
+			f := fine.pz[i]
+			src := r.v[int(i)*m : int(i)*m+m]
+			for q, v := range src {
+				dst[q] += f * v
 			}
 		}
-	})
+	}
 }
 
 // prolongAdd adds alpha · Pz zc to x: x_i += alpha sqrt(d_i/d_c[a]) zc[a]
 // for i in aggregate a, i.e. y = D^-1/2 z is interpolated piecewise
 // constant (Shi and Malik's generalized eigenvectors).
 func prolongAdd(fine, coarse *level, zc, x *block, alpha float64, workers int) {
-	m := zc.m
+	if serial(fine.nchunks(), workers) {
+		prolongRows(fine, zc, x, alpha, 0, fine.n)
+		return
+	}
+	hz, hx := heapBlock(zc), heapBlock(x)
 	parallel.For(fine.nchunks(), workers, func(c int) {
-		for i := fine.chunks[c]; i < fine.chunks[c+1]; i++ {
-			a := int(fine.agg[i])
-			f := alpha * fine.pz[i]
-			src := zc.v[a*m : a*m+m]
-			dst := x.v[i*m : i*m+m]
-			for q, v := range src {
-				dst[q] += f * v
-			}
-		}
+		prolongRows(fine, hz, hx, alpha, fine.chunks[c], fine.chunks[c+1])
 	})
+}
+
+// prolongRows is prolongAdd on the fine rows r0..r1-1.
+func prolongRows(fine *level, zc, x *block, alpha float64, r0, r1 int) {
+	m := zc.m
+	for i := r0; i < r1; i++ {
+		a := int(fine.agg[i])
+		f := alpha * fine.pz[i]
+		src := zc.v[a*m : a*m+m]
+		dst := x.v[i*m : i*m+m]
+		for q, v := range src {
+			dst[q] += f * v
+		}
+	}
 }
 
 // wDepth is the number of top levels cycled as a W-cycle (two coarse
