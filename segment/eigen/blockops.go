@@ -62,37 +62,42 @@ type pool struct {
 	// graphs), handed out by floats and valid until the solve ends
 	// (release): a re-cut of one object makes hundreds of small solves,
 	// where allocating these cost as much as the arithmetic.
-	scratch arena
+	scratch arena[float64]
+	// intScratch, int32Scratch and float32Scratch hold the levels of
+	// small graphs (degrees, aggregates, coarse rows): scratch of the
+	// solve like the above.
+	intScratch     arena[int]
+	int32Scratch   arena[int32]
+	float32Scratch arena[float32]
 }
 
 // arena hands out slices of a slab in turn; release makes the whole slab
 // free again. A request that does not fit starts a new slab (the slices
 // of the old one stay valid), so a pool reused from solve to solve
 // settles on one slab large enough for a whole solve.
-type arena struct {
-	slab  []float64
+type arena[T any] struct {
+	slab  []T
 	used  int // values of slab handed out
 	total int // values handed out since the last release
 	want  int // the most a solve took (at most arenaKeep)
 }
 
-// arenaMax is the largest request served from the arena; larger ones
-// (the coarsest level of a stalled coarsening, up to 1000 nodes) are
-// allocated on their own.
+// arenaMax is the largest request served from an arena; larger ones (the
+// coarsest level of a stalled coarsening, up to 1000 nodes, and the
+// levels of large graphs) are allocated on their own.
 const arenaMax = 1 << 14
 
-// arenaKeep is the largest slab an arena keeps between solves (float64
-// values, 4 MiB).
+// arenaKeep is the largest slab an arena keeps between solves (values).
 const arenaKeep = 1 << 19
 
-// floats returns n zeroed values, valid until release.
-func (p *pool) floats(n int) []float64 {
-	if p == nil || n > arenaMax {
-		return make([]float64, n)
+// take returns n zeroed values, valid until release; a nil arena
+// allocates them.
+func (a *arena[T]) take(n int) []T {
+	if a == nil || n > arenaMax {
+		return make([]T, n)
 	}
-	a := &p.scratch
 	if a.used+n > len(a.slab) {
-		a.slab = make([]float64, max(2*len(a.slab), a.want, n, 1024))
+		a.slab = make([]T, max(2*len(a.slab), a.want, n, 1024))
 		a.used = 0
 	}
 	s := a.slab[a.used : a.used+n : a.used+n]
@@ -102,15 +107,52 @@ func (p *pool) floats(n int) []float64 {
 	return s
 }
 
-// release makes the arena's storage free for the next solve; no slice
-// handed out by floats may be used after it.
-func (p *pool) release() {
-	a := &p.scratch
+// release makes the arena's storage free for the next solve.
+func (a *arena[T]) release() {
 	a.want = min(max(a.want, a.total), arenaKeep)
 	if len(a.slab) > arenaKeep {
 		a.slab = nil
 	}
 	a.used, a.total = 0, 0
+}
+
+// floats, ints, int32s and float32s return n zeroed values of the pool's
+// arenas, valid until release; a nil pool allocates them.
+func (p *pool) floats(n int) []float64 {
+	if p == nil {
+		return make([]float64, n)
+	}
+	return p.scratch.take(n)
+}
+
+func (p *pool) ints(n int) []int {
+	if p == nil {
+		return make([]int, n)
+	}
+	return p.intScratch.take(n)
+}
+
+func (p *pool) int32s(n int) []int32 {
+	if p == nil {
+		return make([]int32, n)
+	}
+	return p.int32Scratch.take(n)
+}
+
+func (p *pool) float32s(n int) []float32 {
+	if p == nil {
+		return make([]float32, n)
+	}
+	return p.float32Scratch.take(n)
+}
+
+// release makes the arenas' storage free for the next solve; no slice
+// they handed out may be used after it.
+func (p *pool) release() {
+	p.scratch.release()
+	p.intScratch.release()
+	p.int32Scratch.release()
+	p.float32Scratch.release()
 }
 
 // get returns an n×m block backed by the smallest free slice that fits,

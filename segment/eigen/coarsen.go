@@ -15,10 +15,14 @@ import (
 // are kept, the interpolation z = D^1/2 P D_c^-1/2 z_c has orthonormal
 // columns and L_c = Pzᵀ L Pz: coarse eigenvalues are upper bounds of the
 // fine ones (Cauchy interlacing). Returns nil when matching stalls.
-func coarsen(lv *level, workers int) *level {
+func coarsen(lv *level, workers int) *level { return coarsenIn(lv, workers, nil) }
+
+// coarsenIn is coarsen with the arrays of small levels from pl's arenas
+// (pool.ints and the like; nil: allocated).
+func coarsenIn(lv *level, workers int, pl *pool) *level {
 	n := lv.n
 	const unmatched = -1
-	mate := make([]int32, n)
+	mate := pl.int32s(n)
 	for i := range mate {
 		mate[i] = unmatched
 	}
@@ -75,7 +79,7 @@ func coarsen(lv *level, workers int) *level {
 		}
 	}
 	// Representatives: a pair is led by its smaller node.
-	parent := make(unionfind.Forest, n)
+	parent := unionfind.Forest(pl.int32s(n))
 	singles := 0
 	for i := range parent {
 		parent[i] = min(int32(i), mate[i])
@@ -111,8 +115,8 @@ func coarsen(lv *level, workers int) *level {
 			}
 		}
 	}
-	agg := make([]int32, n)
-	id := make([]int32, n)
+	agg := pl.int32s(n)
+	id := pl.int32s(n)
 	for i := range id {
 		id[i] = -1
 	}
@@ -130,106 +134,75 @@ func coarsen(lv *level, workers int) *level {
 	}
 	lv.agg = agg
 	// Members of each aggregate in ascending node order.
-	lv.memPtr = make([]int, nc+1)
+	lv.memPtr = pl.ints(nc + 1)
 	for _, a := range agg {
 		lv.memPtr[a+1]++
 	}
 	for a := 0; a < nc; a++ {
 		lv.memPtr[a+1] += lv.memPtr[a]
 	}
-	lv.mem = make([]int32, n)
-	fill := append([]int(nil), lv.memPtr[:nc]...)
+	lv.mem = pl.int32s(n)
+	fill := pl.ints(nc)
+	copy(fill, lv.memPtr[:nc])
 	for i, a := range agg {
 		lv.mem[fill[a]] = int32(i)
 		fill[a]++
 	}
 
 	// Galerkin product, rows in fixed chunks built independently.
-	const rowsPerChunk = 2048
 	nch := (nc + rowsPerChunk - 1) / rowsPerChunk
-	type chunkOut struct {
-		cnt []int
-		col []int32
-		wt  []float32
-	}
-	outs := make([]chunkOut, nch)
-	// Dense accumulators over the coarse columns, one per running
-	// goroutine (at most workers at a time), reused from chunk to chunk:
-	// every row clears what it touched. One per chunk made the
-	// allocations grow with the square of the size (1.2 GB of garbage
-	// at a million nodes).
-	type scratch struct {
-		acc  []float64
-		seen []bool
-		cols []int32
-	}
-	free := make(chan *scratch, max(workers, 1))
-	parallel.For(nch, workers, func(c int) {
-		a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
-		var sc *scratch
-		select {
-		case sc = <-free:
-		default:
-			sc = &scratch{acc: make([]float64, nc), seen: make([]bool, nc)}
+	var outBuf [1]chunkOut
+	var outs []chunkOut
+	if serial(nch, workers) {
+		// On the calling goroutine: one scratch, and the chunks' rows
+		// from pl's arenas with room for the members' rows (a bound of
+		// the coarse rows' entries), so that nothing grows.
+		if nch == 1 {
+			outs = outBuf[:]
+		} else {
+			outs = make([]chunkOut, nch)
 		}
-		defer func() {
+		sc := galerkinScratch{acc: pl.floats(nc), seen: pl.int32s(nc), cols: pl.int32s(nc)[:0]}
+		for c := range outs {
+			a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
+			bound := memberEntries(lv, a0, a1)
+			co := chunkOut{cnt: pl.ints(a1 - a0)[:0], col: pl.int32s(bound)[:0], wt: pl.float32s(bound)[:0]}
+			galerkinRows(lv, agg, a0, a1, &sc, &co)
+			outs[c] = co
+		}
+	} else {
+		pouts := make([]chunkOut, nch)
+		// Dense accumulators over the coarse columns, one per running
+		// goroutine (at most workers at a time), reused from chunk to
+		// chunk: every row clears what it touched. One per chunk made
+		// the allocations grow with the square of the size (1.2 GB of
+		// garbage at a million nodes).
+		free := make(chan *galerkinScratch, max(workers, 1))
+		parallel.For(nch, workers, func(c int) {
+			a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
+			var sc *galerkinScratch
 			select {
-			case free <- sc:
+			case sc = <-free:
 			default:
+				sc = &galerkinScratch{acc: make([]float64, nc), seen: make([]int32, nc)}
 			}
-		}()
-		// acc accumulates the current row; cols lists the columns it
-		// touched in order of first appearance.
-		acc, seen, cols := sc.acc, sc.seen, sc.cols[:0]
-		defer func() { sc.cols = cols }()
-		// The members' row lengths bound the coarse row's; coarse rows
-		// merge neighbours, so start from half the bound and let
-		// append grow the rest.
-		bound := 0
-		for _, u := range lv.mem[lv.memPtr[a0]:lv.memPtr[a1]] {
-			bound += lv.rowBound(int(u))
-		}
-		var cb []int32
-		var wb []float32
-		co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound/2+16), wt: make([]float32, 0, bound/2+16)}
-		for a := a0; a < a1; a++ {
-			cols = cols[:0]
-			for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
-				if sg := lv.sg; sg != nil {
-					// The stencil's slots in order, as in matching.
-					for f, v := range sg.wt[int(u)*sg.k : int(u)*sg.k+sg.k] {
-						if v == 0 {
-							continue
-						}
-						b := agg[int(u)+sg.lin[f]]
-						if !seen[b] {
-							seen[b] = true
-							cols = append(cols, b)
-						}
-						acc[b] += float64(v)
-					}
-					continue
+			defer func() {
+				select {
+				case free <- sc:
+				default:
 				}
-				rc, rw := lv.row(int(u), cb, wb)
-				for p, j := range rc {
-					b := agg[j]
-					if !seen[b] {
-						seen[b] = true
-						cols = append(cols, b)
-					}
-					acc[b] += float64(rw[p])
-				}
-			}
-			for _, b := range cols {
-				co.col = append(co.col, b)
-				co.wt = append(co.wt, float32(acc[b]))
-				acc[b], seen[b] = 0, false
-			}
-			co.cnt = append(co.cnt, len(cols))
-		}
-		outs[c] = co
-	})
-	rowPtr := make([]int, nc+1)
+			}()
+			// The members' row lengths bound the coarse row's; coarse
+			// rows merge neighbours, so start from half the bound and
+			// let append grow the rest.
+			bound := memberEntries(lv, a0, a1)
+			co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound/2+16), wt: make([]float32, 0, bound/2+16)}
+			galerkinRows(lv, agg, a0, a1, sc, &co)
+			pouts[c] = co
+		})
+		outs = pouts
+	}
+	rowPtr := pl.ints(nc + 1)
 	total := 0
 	a := 0
 	for _, co := range outs {
@@ -241,7 +214,7 @@ func coarsen(lv *level, workers int) *level {
 	}
 	var c *level
 	if nch == 1 {
-		c = newLevel(nc, rowPtr, outs[0].col, outs[0].wt)
+		c = newLevelIn(pl, nc, rowPtr, outs[0].col, outs[0].wt)
 	} else {
 		// The chunks' rows copied to their places in parallel (at a
 		// million nodes the serial copy was 0.2 s of the first level).
@@ -252,13 +225,91 @@ func coarsen(lv *level, workers int) *level {
 			copy(col[at:], outs[ch].col)
 			copy(wt[at:], outs[ch].wt)
 		})
-		c = newLevel(nc, rowPtr, col, wt)
+		c = newLevelIn(pl, nc, rowPtr, col, wt)
 	}
-	lv.pz = make([]float64, n)
+	lv.pz = pl.floats(n)
 	for i, a := range agg {
 		lv.pz[i] = math.Sqrt(lv.deg[i] / c.deg[a])
 	}
 	return c
+}
+
+// rowsPerChunk is the number of coarse rows of a chunk of the Galerkin
+// product.
+const rowsPerChunk = 2048
+
+// chunkOut is the coarse rows a0..a1-1 of a chunk of the Galerkin
+// product: their lengths and their entries in order.
+type chunkOut struct {
+	cnt []int
+	col []int32
+	wt  []float32
+}
+
+// galerkinScratch is a dense accumulator over the coarse columns (acc),
+// the marks of the columns a row touched (seen, 0 or 1) and their list
+// in order of first appearance (cols); every row clears what it touched.
+type galerkinScratch struct {
+	acc  []float64
+	seen []int32
+	cols []int32
+}
+
+// memberEntries is the number of stored entries of the rows of the
+// members of coarse nodes a0..a1-1 (an upper bound of their coarse
+// rows' entries).
+func memberEntries(lv *level, a0, a1 int) int {
+	bound := 0
+	for _, u := range lv.mem[lv.memPtr[a0]:lv.memPtr[a1]] {
+		bound += lv.rowBound(int(u))
+	}
+	return bound
+}
+
+// galerkinRows appends to co the coarse rows a0..a1-1 of W_c = Pᵀ W P:
+// each the sum of its members' rows, the columns mapped by agg, in order
+// of first appearance (the members in ascending order, each row's
+// entries in order).
+func galerkinRows(lv *level, agg []int32, a0, a1 int, sc *galerkinScratch, co *chunkOut) {
+	acc, seen, cols := sc.acc, sc.seen, sc.cols[:0]
+	var cb []int32
+	var wb []float32
+	for a := a0; a < a1; a++ {
+		cols = cols[:0]
+		for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
+			if sg := lv.sg; sg != nil {
+				// The stencil's slots in order, as in matching.
+				for f, v := range sg.wt[int(u)*sg.k : int(u)*sg.k+sg.k] {
+					if v == 0 {
+						continue
+					}
+					b := agg[int(u)+sg.lin[f]]
+					if seen[b] == 0 {
+						seen[b] = 1
+						cols = append(cols, b)
+					}
+					acc[b] += float64(v)
+				}
+				continue
+			}
+			rc, rw := lv.row(int(u), cb, wb)
+			for p, j := range rc {
+				b := agg[j]
+				if seen[b] == 0 {
+					seen[b] = 1
+					cols = append(cols, b)
+				}
+				acc[b] += float64(rw[p])
+			}
+		}
+		for _, b := range cols {
+			co.col = append(co.col, b)
+			co.wt = append(co.wt, float32(acc[b]))
+			acc[b], seen[b] = 0, 0
+		}
+		co.cnt = append(co.cnt, len(cols))
+	}
+	sc.cols = cols
 }
 
 // prolong interpolates a coarse block to the fine level: z_i =
@@ -285,12 +336,12 @@ const strongFraction = 0.3
 // aggregation matrix, and the second level's W_c = P2ᵀ P1ᵀ W P1 P2 is the
 // Galerkin operator of the folded aggregation. Returns the first coarse
 // level alone when the second matching stalls, nil when the first does.
-func coarsenTwice(lv *level, workers int) *level {
-	c1 := coarsen(lv, workers)
+func coarsenTwice(lv *level, workers int, pl *pool) *level {
+	c1 := coarsenIn(lv, workers, pl)
 	if c1 == nil {
 		return nil
 	}
-	c2 := coarsen(c1, workers)
+	c2 := coarsenIn(c1, workers, pl)
 	if c2 == nil {
 		return c1
 	}
@@ -298,14 +349,15 @@ func coarsenTwice(lv *level, workers int) *level {
 	for i, a := range lv.agg {
 		lv.agg[i] = c1.agg[a]
 	}
-	lv.memPtr = make([]int, nc+1)
+	lv.memPtr = pl.ints(nc + 1)
 	for _, a := range lv.agg {
 		lv.memPtr[a+1]++
 	}
 	for a := 0; a < nc; a++ {
 		lv.memPtr[a+1] += lv.memPtr[a]
 	}
-	fill := append([]int(nil), lv.memPtr[:nc]...)
+	fill := pl.ints(nc)
+	copy(fill, lv.memPtr[:nc])
 	for i, a := range lv.agg {
 		lv.mem[fill[a]] = int32(i)
 		fill[a]++

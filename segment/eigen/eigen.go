@@ -176,7 +176,9 @@ func smallestContext(ctx context.Context, g *affinity.Graph, k int, opt Options,
 	if err != nil {
 		return nil, err
 	}
-	return solve(ctx, newLevel(g.N, g.RowPtr, g.Col, g.Weight), k, opt, limit)
+	pl := takePool()
+	defer givePool(pl)
+	return solve(ctx, newLevelIn(pl, g.N, g.RowPtr, g.Col, g.Weight), k, opt, limit, pl)
 }
 
 // SmallestStencil is SmallestContext on the pixel graph in stencil form
@@ -205,12 +207,14 @@ func SmallestStencil(ctx context.Context, g *affinity.StencilGraph, k int, opt O
 	if err != nil {
 		return nil, err
 	}
-	return solve(ctx, newStencilLevel(g, parallel.Workers(opt.Workers)), k, opt, limit)
+	pl := takePool()
+	defer givePool(pl)
+	return solve(ctx, newStencilLevel(g, parallel.Workers(opt.Workers)), k, opt, limit, pl)
 }
 
 // solve is the solver behind both entry points, on the input level lv0;
 // opt is resolved (Options.resolved).
-func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Result, error) {
+func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int, pl *pool) (*Result, error) {
 	for i, d := range lv0.deg {
 		if !(d > 0) || math.IsInf(d, 0) {
 			return nil, fmt.Errorf("eigen: node %d has degree %v (the graph must be connected with finite weights)", i, d)
@@ -227,20 +231,25 @@ func solve(ctx context.Context, lv0 *level, k int, opt Options, limit int) (*Res
 			}
 		}
 	}
-	pl := solvePools.Get().(*pool)
-	defer func() {
-		pl.release()
-		if sz := pl.size(); sz <= poolKeep {
-			solvePools.Put(pl)
-		} else if sz >= collectAfter {
-			// The blocks are garbage now; collect before the caller's
-			// next allocations grow the heap toward the collector's
-			// target, which was set while they were live.
-			pl.free = nil
-			runtime.GC()
-		}
-	}()
 	return solveIn(ctx, lv0, k, opt, limit, pl)
+}
+
+// takePool returns a pool of solvePools for one solve.
+func takePool() *pool { return solvePools.Get().(*pool) }
+
+// givePool ends the solve of pl: its arenas are released and it goes
+// back to solvePools, unless it holds more than poolKeep.
+func givePool(pl *pool) {
+	pl.release()
+	if sz := pl.size(); sz <= poolKeep {
+		solvePools.Put(pl)
+	} else if sz >= collectAfter {
+		// The blocks are garbage now; collect before the caller's
+		// next allocations grow the heap toward the collector's
+		// target, which was set while they were live.
+		pl.free = nil
+		runtime.GC()
+	}
 }
 
 // solveIn is solve with its block storage and scratch from pl, which
@@ -285,9 +294,9 @@ func solveIn(ctx context.Context, lv0 *level, k int, opt Options, limit int, pl 
 			}
 			var c *level
 			if wide {
-				c = coarsenTwice(cur, workers)
+				c = coarsenTwice(cur, workers, pl)
 			} else {
-				c = coarsen(cur, workers)
+				c = coarsenIn(cur, workers, pl)
 			}
 			if c == nil {
 				break

@@ -38,8 +38,14 @@ type level struct {
 const chunkNNZ = 1 << 15
 
 func newLevel(n int, rowPtr []int, col []int32, wt []float32) *level {
+	return newLevelIn(nil, n, rowPtr, col, wt)
+}
+
+// newLevelIn is newLevel with its arrays from pl's arenas (nil:
+// allocated).
+func newLevelIn(pl *pool, n int, rowPtr []int, col []int32, wt []float32) *level {
 	lv := &level{n: n, rowPtr: rowPtr, col: col, wt: wt, stored: len(col)}
-	lv.fill(rowPtr)
+	lv.fill(pl, rowPtr)
 	return lv
 }
 
@@ -75,7 +81,7 @@ func newStencilLevel(g *affinity.StencilGraph, workers int) *level {
 	for i := 0; i < n; i++ {
 		rowPtr[i+1] += rowPtr[i]
 	}
-	lv.fill(rowPtr)
+	lv.fill(nil, rowPtr)
 	return lv
 }
 
@@ -101,15 +107,15 @@ func (lv *level) rowBound(i int) int {
 
 // fill computes the degrees (in stencil form newStencilLevel has summed
 // them), the diagonal of L, D^-1/2, z0 and the row chunks; rowPtr gives
-// the row lengths.
-func (lv *level) fill(rowPtr []int) {
+// the row lengths. Its arrays come from pl's arenas (nil: allocated).
+func (lv *level) fill(pl *pool, rowPtr []int) {
 	n := lv.n
 	if lv.sg == nil {
-		lv.deg = make([]float64, n)
+		lv.deg = pl.floats(n)
 	}
-	lv.s = make([]float64, n)
-	lv.z0 = make([]float64, n)
-	lv.diag = make([]float64, n)
+	lv.s = pl.floats(n)
+	lv.z0 = pl.floats(n)
+	lv.diag = pl.floats(n)
 	var sum float64
 	for i := 0; i < n; i++ {
 		var d, self float64
@@ -134,16 +140,26 @@ func (lv *level) fill(rowPtr []int) {
 	for i, d := range lv.deg {
 		lv.z0[i] = math.Sqrt(d) * inv
 	}
-	lv.chunks = append(lv.chunks, 0)
-	for i := 0; i < n; {
-		start := rowPtr[i]
-		j := i + 1
-		for j < n && rowPtr[j]-start < chunkNNZ && j-i < 4096 {
-			j++
-		}
-		lv.chunks = append(lv.chunks, j)
-		i = j
+	nc := 0
+	for i := 0; i < n; nc++ {
+		i = chunkEnd(rowPtr, n, i)
 	}
+	lv.chunks = pl.ints(nc + 1)
+	for i, c := 0, 1; i < n; c++ {
+		i = chunkEnd(rowPtr, n, i)
+		lv.chunks[c] = i
+	}
+}
+
+// chunkEnd is the end of the row chunk that starts at row i: rows up to
+// chunkNNZ stored entries and at most 4096 rows.
+func chunkEnd(rowPtr []int, n, i int) int {
+	start := rowPtr[i]
+	j := i + 1
+	for j < n && rowPtr[j]-start < chunkNNZ && j-i < 4096 {
+		j++
+	}
+	return j
 }
 
 // nchunks is the number of fixed row chunks.

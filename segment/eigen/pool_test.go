@@ -77,8 +77,8 @@ func TestEigSymAsGonum(t *testing.T) {
 	}
 }
 
-// dirty fills the storage a pool holds (free blocks, arena slab, partial
-// and running sums) with NaN, so that any read of storage a solve did
+// dirty fills the storage a pool holds (free blocks, arena slabs, partial
+// and running sums) with NaN (-7 in the integer arenas), so that any read of storage a solve did
 // not write first shows in its result.
 func dirty(pl *pool) {
 	nan := math.NaN()
@@ -93,6 +93,15 @@ func dirty(pl *pool) {
 	}
 	fill(pl.scratch.slab)
 	fill(pl.part)
+	for i := range pl.intScratch.slab {
+		pl.intScratch.slab[i] = -7
+	}
+	for i := range pl.int32Scratch.slab {
+		pl.int32Scratch.slab[i] = -7
+	}
+	for i := range pl.float32Scratch.slab {
+		pl.float32Scratch.slab[i] = float32(nan)
+	}
 	for _, s := range pl.sums {
 		fill(s)
 	}
@@ -108,17 +117,17 @@ func dirty(pl *pool) {
 func TestPooledAsFresh(t *testing.T) {
 	type tc struct {
 		name string
-		lv   func() *level
+		lv   func(pl *pool) *level
 		k    int
 		tol  float64
 	}
-	obj := func(rad float64) func() *level {
+	obj := func(rad float64) func(*pool) *level {
 		g := objectGraph(t, rad)
-		return func() *level { return newLevel(g.N, g.RowPtr, g.Col, g.Weight) }
+		return func(pl *pool) *level { return newLevelIn(pl, g.N, g.RowPtr, g.Col, g.Weight) }
 	}
-	pla := func(n int, seed uint64) func() *level {
+	pla := func(n int, seed uint64) func(*pool) *level {
 		g := planarGraph(n, seed)
-		return func() *level { return newLevel(g.N, g.RowPtr, g.Col, g.Weight) }
+		return func(pl *pool) *level { return newLevelIn(pl, g.N, g.RowPtr, g.Col, g.Weight) }
 	}
 	cases := []tc{
 		{"object40", obj(2.6), 2, 1e-4},
@@ -133,7 +142,7 @@ func TestPooledAsFresh(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := solveIn(context.Background(), c.lv(), c.k, opt, denseLimit(opt), pl)
+		res, err := solveIn(context.Background(), c.lv(pl), c.k, opt, denseLimit(opt), pl)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
