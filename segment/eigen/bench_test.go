@@ -200,17 +200,21 @@ func BenchmarkBlockCombine(b *testing.B) {
 // nodes. The re-cut makes hundreds of such solves per photograph
 // (scikit-image's bw_text.png: 367 solves of 129 nodes on average), so
 // the cost per call (allocations, building the levels) matters as much
-// as the arithmetic; run with -benchmem.
+// as the arithmetic; run with -benchmem. cpu-us/op is the process's CPU
+// time (user + system, the collector's included) per solve, which other
+// work on a shared machine does not inflate as it does the wall time.
 func BenchmarkSmallSolves(b *testing.B) {
 	for _, rad := range []float64{2.6, 4.8, 8, 16} {
 		g := objectGraph(b, rad)
 		b.Run(fmt.Sprintf("n=%d", g.N), func(b *testing.B) {
 			b.ReportAllocs()
+			c0 := cpuSeconds()
 			for b.Loop() {
 				if _, err := Smallest(g, 2, Options{Tol: 1e-4, Workers: 1}); err != nil {
 					b.Fatal(err)
 				}
 			}
+			b.ReportMetric((cpuSeconds()-c0)/float64(b.N)*1e6, "cpu-us/op")
 		})
 	}
 }

@@ -704,6 +704,11 @@ func (o *ops) combineChunk(outs []*block, segs []segment, cc, sums []float64, ch
 		combineRows(&sums[0], mc, &sg.b.v[r0*m], m, m, &cc[sg.off*mc], 0, ini, r1-r0)
 		ini = &sums[0]
 	}
+	if len(outs) == 1 {
+		// One output: its rows are the sums' rows, side by side.
+		copy(outs[0].v[r0*mc:r1*mc], sums[:(r1-r0)*mc])
+		return
+	}
 	off := 0
 	for _, out := range outs {
 		mo := out.m
