@@ -319,7 +319,7 @@ func solveIn(ctx context.Context, lv0 *level, k int, opt Options, limit int, pl 
 			if err != nil {
 				return nil, err
 			}
-			mg = newMultigrid(levels, workers, cvecs, cvals, wide)
+			mg = newMultigrid(pl, levels, workers, cvecs, cvals, wide)
 			mg.pool = pl
 			cnt := min(m, coarsest.n-1)
 			x = pl.get(coarsest.n, cnt)

@@ -46,16 +46,25 @@ type mgScratch struct {
 // one post-smoothing step: two coarse visits then cost half a fine
 // product per level, and the post-smoothing removes the rough part of
 // the unsmoothed aggregation's correction (see wideGraph).
-func newMultigrid(levels []*level, workers int, coarseVecs *block, coarseVals []float64, wide bool) *multigrid {
+//
+// The pseudo-inverse is scratch of pl (pool.floats); each eigenvector is
+// copied out of coarseVecs' column before its outer product is added, so
+// the inner loop reads it contiguously (the same operations).
+func newMultigrid(pl *pool, levels []*level, workers int, coarseVecs *block, coarseVals []float64, wide bool) *multigrid {
 	nc := coarseVecs.n
-	pinv := make([]float64, nc*nc)
+	pinv := pl.floats(nc * nc)
+	u := pl.floats(nc)
 	for j, lam := range coarseVals {
 		f := 1 / lam
+		for a := range u {
+			u[a] = coarseVecs.v[a*coarseVecs.m+j]
+		}
 		for a := 0; a < nc; a++ {
-			ua := coarseVecs.v[a*coarseVecs.m+j] * f
+			ua := u[a] * f
 			row := pinv[a*nc : a*nc+nc]
-			for b := range row {
-				row[b] += ua * coarseVecs.v[b*coarseVecs.m+j]
+			row = row[:len(u)]
+			for b, ub := range u {
+				row[b] += ua * ub
 			}
 		}
 	}
