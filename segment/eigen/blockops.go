@@ -159,6 +159,12 @@ func (p *pool) release() {
 // or by new storage of at least p.unit values.
 func (p *pool) get(n, m int) *block {
 	need := n * m
+	if need == 0 {
+		// No storage: a block of no columns must not hold a slab, or
+		// putting it back (once by the one who dropped it, once by the
+		// one who took it) would list the slab twice.
+		return &block{n: n, m: m}
+	}
 	best := -1
 	for t, f := range p.free {
 		if cap(f) >= need && (best < 0 || cap(f) < cap(p.free[best])) {
@@ -431,7 +437,9 @@ func (o *ops) orthogonalize(w *block, in ...*block) {
 func (o *ops) svqb(w *block, drop float64) (*block, []float64) {
 	m := w.m
 	if m == 0 {
-		return w, nil
+		// A new empty block, not w itself: callers put w back after the
+		// call, and would then put the block they keep a second time.
+		return &block{n: w.n}, nil
 	}
 	g := o.gram(w, w)
 	dscale := o.floats(m)

@@ -172,3 +172,31 @@ func TestPooledAsFresh(t *testing.T) {
 		}
 	}
 }
+
+// TestEmptyBlocksHoldNoStorage: a block of no columns takes no storage
+// from the pool, and svqb of such a block returns a new one, so that
+// LOBPCG, which puts back the block it orthonormalized and later the one
+// it kept, never lists one slab twice (two later blocks would then share
+// it). A property of the code, no reference.
+func TestEmptyBlocksHoldNoStorage(t *testing.T) {
+	p := new(pool)
+	p.put(&block{n: 8, m: 2, v: make([]float64, 16)})
+	if b := p.get(8, 0); cap(b.v) != 0 || len(p.free) != 1 {
+		t.Fatalf("get(8, 0): capacity %d, %d slabs left in the pool, want 0 and 1", cap(b.v), len(p.free))
+	}
+	o := &ops{lv: &level{n: 8}, pool: p, workers: 1}
+	w := &block{n: 8, m: 0}
+	w2, _ := o.svqb(w, 1e-12)
+	if w2 == w {
+		t.Fatal("svqb of an empty block returned the block itself")
+	}
+	o.put(w)
+	o.put(w2)
+	if len(p.free) != 1 {
+		t.Fatalf("%d slabs in the pool after putting two empty blocks back, want 1", len(p.free))
+	}
+	a, b := p.get(8, 2), p.get(8, 2)
+	if len(a.v) > 0 && len(b.v) > 0 && &a.v[0] == &b.v[0] {
+		t.Fatal("two blocks share one slab")
+	}
+}
