@@ -203,10 +203,6 @@ func meanOf(v []float32, w, h, workers int) float64 {
 // range of 1 to 8, a range of 1 to 64 in photon level. Our choice.
 const maxNoiseGain = 8
 
-// flattenRows is the number of rows of one block of the noise-levelled
-// subtraction.
-const flattenRows = 16
-
 func flatten(ctx context.Context, f []float32, w, h int, R float64, mode FlattenMode, workers int) ([]float32, error) {
 	bg, err := gaussianBlurContext(ctx, f, w, h, R, workers)
 	if err != nil {
@@ -225,7 +221,9 @@ func flatten(ctx context.Context, f []float32, w, h int, R float64, mode Flatten
 			return out, nil
 		}
 		local := noise.Local(f, w, h, sg/maxNoiseGain, workers)
-		parallel.Blocks(h, flattenRows, workers, func(_, y0, y1 int) {
+		// Whole rows (the noise is interpolated a row at a time), about
+		// a per-pixel pass's chunk of them (chunks.go).
+		parallel.Blocks(h, max(1, pixelBlock/w), workers, func(_, y0, y1 int) {
 			s := make([]float64, w)
 			for y := y0; y < y1; y++ {
 				local.Smooth(y, s)

@@ -83,9 +83,9 @@ func Local(v []float32, w, h int, floor float64, workers int) *Field {
 	f.S = make([]float64, f.GW*f.GH)
 	parallel.For(f.GH, workers, func(r int) {
 		var d []float32
-		y0, y1 := f.span(r, f.GH, h)
+		y0, y1 := span(r, f.GH, h)
 		for c := range f.GW {
-			x0, x1 := f.span(c, f.GW, w)
+			x0, x1 := span(c, f.GW, w)
 			d = d[:0]
 			for y := y0; y < y1; y++ {
 				row := v[y*w : (y+1)*w]
@@ -110,7 +110,7 @@ func Local(v []float32, w, h int, floor float64, workers int) *Field {
 func cells(n int) int { return max(1, (n+Cell/2)/Cell) }
 
 // span is the pixel range [lo, hi) of cell i of k along a side of n.
-func (f *Field) span(i, k, n int) (lo, hi int) {
+func span(i, k, n int) (lo, hi int) {
 	lo = i * Cell
 	if i == k-1 {
 		return lo, n
@@ -147,7 +147,7 @@ func (f *Field) Smooth(y int, dst []float64) {
 // next centre (0 before the first centre and after the last).
 func (f *Field) at(p, k, n int) (int, float64) {
 	centre := func(i int) float64 {
-		lo, hi := f.span(i, k, n)
+		lo, hi := span(i, k, n)
 		return float64(lo+hi) / 2
 	}
 	q := float64(p) + 0.5
