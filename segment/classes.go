@@ -14,7 +14,7 @@ import (
 // project's synthetic scenes).
 const (
 	fieldScale     = 8.0  // background field Gaussian σ = max(w,h)/fieldScale
-	fieldFloor     = 0.05 // smallest background level divided by, in normalized units
+	fieldFloor     = 0.05 // smallest background level divided by, in normalized units (backgroundRatio)
 	classRounds    = 3    // alternations of field estimate and regrouping
 	fieldGridCells = 64   // the field is estimated on about this many cells across
 	scoreFloor     = 1e-3 // smallest ratio I/B before the logarithm
@@ -327,7 +327,7 @@ func noiseCV(lum, field []float32, ref []bool) (c float64, ok bool) {
 	var dev []float64
 	for i := 0; i < len(lum); i += stride {
 		if ref[i] {
-			dev = append(dev, math.Abs(float64(lum[i])/math.Max(float64(field[i]), fieldFloor)-1))
+			dev = append(dev, math.Abs(backgroundRatio(float64(lum[i]), float64(field[i]))-1))
 		}
 	}
 	if len(dev) == 0 {
@@ -464,7 +464,7 @@ func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 }
 
 // planeRatioSums is the plane of g (into dst when it holds w·h values)
-// and, added into sum, the region sums of lum / max(field, fieldFloor)
+// and, added into sum, the region sums of backgroundRatio(lum, field)
 // over reg in raster order: sumRatioLabels(reg, lum, plane, sum). The
 // plane's bands of rows (forRowBands) are made on the workers while the
 // calling goroutine adds the bands in order, each once it is complete:

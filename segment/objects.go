@@ -13,8 +13,8 @@ import (
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
-// contrastOfGrid returns |I/B - 1| per pixel, the contrast against the
-// background field B (kept above fieldFloor) that the object stages
+// contrastOfGrid returns |I/B - 1| per pixel (I/B the backgroundRatio),
+// the contrast against the background field B that the object stages
 // judge by, B the field of grid g: each value made as interpolateGrid
 // makes it and read at once, so the map is the one a field plane
 // (g.plane) would give, bit for bit, without that plane. It is written
@@ -31,7 +31,7 @@ func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, workers int) [
 		c, in := con[y*w:(y+1)*w], inten[y*w:(y+1)*w]
 		for x := range c {
 			f := float32(top[x]*(1-ty) + bot[x]*ty)
-			c[x] = math.Abs(float64(in[x])/floorField(float64(f)) - 1)
+			c[x] = math.Abs(backgroundRatio(float64(in[x]), float64(f)) - 1)
 		}
 	})
 	return con

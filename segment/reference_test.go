@@ -18,7 +18,7 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int)
 }
 
 // contrastMap returns |I/B - 1| per pixel against the field plane B
-// (kept above fieldFloor).
+// (I/B the backgroundRatio).
 func contrastMap(inten, field []float32, workers int) []float64 {
 	return contrastMapInto(nil, inten, field, workers)
 }
@@ -34,7 +34,7 @@ func contrastMapInto(dst []float64, inten, field []float32, workers int) []float
 	const band = 1 << 16
 	parallel.Blocks(len(con), band, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
-			con[i] = math.Abs(float64(inten[i])/floorField(float64(field[i])) - 1)
+			con[i] = math.Abs(backgroundRatio(float64(inten[i]), float64(field[i])) - 1)
 		}
 	})
 	return con

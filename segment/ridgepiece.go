@@ -17,7 +17,7 @@ import (
 // as in it. It returns nil when nothing is dropped.
 //
 // The contrast is the signed s = I/B - 1 against the background field B
-// (kept above fieldFloor), smoothed by the 3x3 mean as tightenObjects
+// (I/B the backgroundRatio), smoothed by the 3x3 mean as tightenObjects
 // smooths it; an object's sign is that of its summed s, its plateau P
 // is halfMaxLevel of its smoothed values divided by tightenLevel (the
 // plateau its outline was drawn at half of). Its surround is the
@@ -56,7 +56,7 @@ func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 	// computed only at the pixels looked at: the thin objects and their
 	// surrounds are a small part of the frame.
 	contrast := func(i int) float32 {
-		return float32(float64(lum[i])/math.Max(float64(field[i]), fieldFloor) - 1)
+		return float32(backgroundRatio(float64(lum[i]), float64(field[i])) - 1)
 	}
 	smoothed := func(i int) float32 {
 		x, y := i%w, i/w

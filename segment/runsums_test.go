@@ -110,23 +110,54 @@ func TestRunSumsMatchPixelLoop(t *testing.T) {
 	}
 }
 
-// TestFloorFieldIsMax checks floorField against math.Max(f, fieldFloor)
-// on the values where the two could part: NaN, infinities, signed zeros,
-// the floor itself and its neighbours.
-func TestFloorFieldIsMax(t *testing.T) {
-	for _, f := range []float64{math.NaN(), math.Inf(1), math.Inf(-1), 0, math.Copysign(0, -1), fieldFloor,
-		math.Nextafter(fieldFloor, 0), math.Nextafter(fieldFloor, 1), -1, 1e-300, 7} {
-		got, want := floorField(f), math.Max(f, fieldFloor)
-		if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
-			t.Errorf("floorField(%v) = %v, math.Max gives %v", f, got, want)
+// TestBackgroundRatio checks backgroundRatio against its two closed
+// forms: x / f bit for bit at and above the floor (and for NaN and
+// infinite fields), 1 + (x - f) / fieldFloor below it; a background
+// pixel (x = f) has ratio 1 at any field, however dark; and the two
+// forms meet at the floor (x/floor = 1 + (x - floor)/floor, to rounding).
+func TestBackgroundRatio(t *testing.T) {
+	xs := []float64{0, 0.001, 0.02, 0.05, 0.3, 1}
+	for _, f := range []float64{math.NaN(), math.Inf(1), fieldFloor, math.Nextafter(fieldFloor, 1), 0.2, 7} {
+		for _, x := range xs {
+			got, want := backgroundRatio(x, f), x/f
+			if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
+				t.Errorf("backgroundRatio(%v, %v) = %v, want x/f = %v", x, f, got, want)
+			}
 		}
+	}
+	for _, f := range []float64{0, math.Copysign(0, -1), 1e-300, 0.005, math.Nextafter(fieldFloor, 0)} {
+		for _, x := range xs {
+			if got, want := backgroundRatio(x, f), 1+(x-f)/fieldFloor; got != want {
+				t.Errorf("backgroundRatio(%v, %v) = %v, want 1 + (x-f)/floor = %v", x, f, got, want)
+			}
+		}
+		if got := backgroundRatio(f, f); got != 1 {
+			t.Errorf("backgroundRatio(f, f) at f = %v is %v, want 1 (a background pixel)", f, got)
+		}
+	}
+	below, at := backgroundRatio(0.3, math.Nextafter(fieldFloor, 0)), backgroundRatio(0.3, fieldFloor)
+	if math.Abs(below-at) > 1e-12 {
+		t.Errorf("backgroundRatio jumps at the floor: %v below, %v at", below, at)
+	}
+	// A dark field (B = 0.005, the offset taken off by the percentile
+	// normalization): its background pixels, B plus or minus noise of
+	// 0.002, must lie nearer ratio 1 than a dim object at 0.045.
+	bg := max(math.Abs(backgroundRatio(0.007, 0.005)-1), math.Abs(backgroundRatio(0.003, 0.005)-1))
+	dim := math.Abs(backgroundRatio(0.045, 0.005) - 1)
+	if !(dim > 10*bg) {
+		t.Errorf("dark field: background contrast %v, dim object %v: the object should stand ten times clear", bg, dim)
 	}
 }
 
 // pixelRatioSums is the loop sumRatioLabels replaced, pixel by pixel.
 func pixelRatioSums(labels []int32, lum, field []float32, sum []float64) {
 	for i, l := range labels {
-		sum[l] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
+		f := float64(field[i])
+		if f >= fieldFloor || math.IsNaN(f) {
+			sum[l] += float64(lum[i]) / f
+		} else {
+			sum[l] += 1 + (float64(lum[i])-f)/fieldFloor
+		}
 	}
 }
 
