@@ -38,9 +38,20 @@ const faintSigmas = 7
 // so wide that a pair of dim nuclei at four times the background stayed
 // under the rule (generated nuclei, choice seed 13782). Over the
 // superpixels of background-class regions the scores have a robust
-// centre m (median) and spread σ (scaled median absolute deviation,
-// common practice), which hold both the pixel noise averaged over a
-// superpixel and the shading the field leaves. Background superpixels
+// centre m (median) and a spread σ on the objects' side: madScale times
+// the median of the deviations s_k - m beyond m on that side (above m
+// for a dark background, below for a bright one). For a symmetric
+// spread this is the scaled median absolute deviation (common practice);
+// a texture whose heavy tail lies on the other side (the dark pores of
+// a filter behind bright particles, othershapes.py filtered) no longer
+// widens it. It holds both the pixel noise averaged over a superpixel
+// and the shading the field leaves. Measured on choice seeds (Go
+// generators 15110-15119 and othershapes.py 1360-1369, every kind;
+// othershapes.py 1600-1604 and filtered 2000-2003), object F1 / mAP
+// against both sides' MAD: filtered 0.909 / 0.652 -> 0.928 / 0.676, haze
+// 0.840 / 0.595 -> 0.848 / 0.601, brightfield +0.002, clusters 0.829 /
+// 0.579 -> 0.825 / 0.577, the other kinds within 0.004 in mAP (most
+// identical). Background superpixels
 // beyond m + faintSigmas·σ on the objects' side (above for a dark
 // background, below for a bright one) stand out, and each connected
 // piece of them (4-neighbours, at least minArea pixels) becomes a new
@@ -88,14 +99,22 @@ func faintObjects(lum, field []float32, nodeOf []int32, nsp int, regions labelma
 		return regions, nreg, cls
 	}
 	m := kthSmallest(bgScores, len(bgScores)/2)
-	for i, v := range bgScores {
-		bgScores[i] = math.Abs(v - m)
-	}
-	t := faintSigmas * madScale * kthSmallest(bgScores, len(bgScores)/2)
 	sign, obj := 1.0, bg+1 // dark background: class 0, objects above
 	if background == "bright" {
 		sign, obj = -1, bg-1
 	}
+	// The deviations beyond m on the objects' side, written over the
+	// scores (read no more).
+	side := bgScores[:0]
+	for _, v := range bgScores {
+		if d := sign * (v - m); d > 0 {
+			side = append(side, d)
+		}
+	}
+	if len(side) == 0 { // nothing lies beyond the centre on that side
+		return regions, nreg, cls
+	}
+	t := faintSigmas * madScale * kthSmallest(side, len(side)/2)
 	// The group of each superpixel: 0 where it stands out, else -1 (a
 	// superpixel with no pixel is never in inBg).
 	group := make([]int32, nsp)
