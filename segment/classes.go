@@ -327,7 +327,7 @@ func noiseCV(lum, field []float32, ref []bool) (c float64, ok bool) {
 	var dev []float64
 	for i := 0; i < len(lum); i += stride {
 		if ref[i] {
-			dev = append(dev, math.Abs(backgroundRatio(float64(lum[i]), float64(field[i]))-1))
+			dev = append(dev, math.Abs(float64(lum[i])/floorField(float64(field[i]))-1))
 		}
 	}
 	if len(dev) == 0 {
@@ -464,7 +464,7 @@ func (g *fieldGrid) plane(dst []float32, workers int) []float32 {
 }
 
 // planeRatioSums is the plane of g (into dst when it holds w·h values)
-// and, added into sum, the region sums of backgroundRatio(lum, field)
+// and, added into sum, the region sums of lum / max(field, fieldFloor)
 // over reg in raster order: sumRatioLabels(reg, lum, plane, sum). The
 // plane's bands of rows (forRowBands) are made on the workers while the
 // calling goroutine adds the bands in order, each once it is complete:

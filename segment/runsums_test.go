@@ -110,6 +110,19 @@ func TestRunSumsMatchPixelLoop(t *testing.T) {
 	}
 }
 
+// TestFloorFieldIsMax checks floorField against math.Max(f, fieldFloor)
+// on the values where the two could part: NaN, infinities, signed zeros,
+// the floor itself and its neighbours.
+func TestFloorFieldIsMax(t *testing.T) {
+	for _, f := range []float64{math.NaN(), math.Inf(1), math.Inf(-1), 0, math.Copysign(0, -1), fieldFloor,
+		math.Nextafter(fieldFloor, 0), math.Nextafter(fieldFloor, 1), -1, 1e-300, 7} {
+		got, want := floorField(f), math.Max(f, fieldFloor)
+		if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Errorf("floorField(%v) = %v, math.Max gives %v", f, got, want)
+		}
+	}
+}
+
 // TestBackgroundRatio checks backgroundRatio against its two closed
 // forms: x / f bit for bit at and above the floor (and for NaN and
 // infinite fields), 1 + (x - f) / fieldFloor below it; a background
@@ -152,12 +165,7 @@ func TestBackgroundRatio(t *testing.T) {
 // pixelRatioSums is the loop sumRatioLabels replaced, pixel by pixel.
 func pixelRatioSums(labels []int32, lum, field []float32, sum []float64) {
 	for i, l := range labels {
-		f := float64(field[i])
-		if f >= fieldFloor || math.IsNaN(f) {
-			sum[l] += float64(lum[i]) / f
-		} else {
-			sum[l] += 1 + (float64(lum[i])-f)/fieldFloor
-		}
+		sum[l] += float64(lum[i]) / math.Max(float64(field[i]), fieldFloor)
 	}
 }
 
