@@ -342,8 +342,18 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 	// stencil a node); append grows it where needed.
 	g.Col = make([]int32, 0, len(nodes)*len(st.lin))
 	g.Weight = make([]float32, 0, len(nodes)*len(st.lin))
+	// The weight of an edge to an earlier node q is the one row q already
+	// stored for this node: the exponent depends on (F_i - F_j)² and on
+	// dx², dy² alone, so both directions have the same bits (and the
+	// same test against maxExpArg). Rows are made in node order and list
+	// their columns ascending, so the entries of row q past its diagonal
+	// are met in the order they were stored: next[q] is the first not
+	// yet met, and it is this node's entry exactly when the edge exists.
+	next := make([]int, len(nodes))
 	for k, i := range nodes {
 		x, y := i%w, i/w
+		kk := int32(k)
+		next[k] = -1
 		for gr, dy := range st.dy {
 			if y+dy < 0 || y+dy >= h {
 				continue
@@ -355,6 +365,17 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 				if q < 0 {
 					continue
 				}
+				if q < kk {
+					if p := next[q]; p < g.RowPtr[q+1] && g.Col[p] == kk {
+						g.Col = append(g.Col, q)
+						g.Weight = append(g.Weight, g.Weight[p])
+						next[q] = p + 1
+					}
+					continue
+				}
+				if next[k] < 0 {
+					next[k] = len(g.Col) // the row's first entry past its diagonal
+				}
 				arg := weightArg(f, i, j, invI2, st.spatial[o])
 				if arg > maxExpArg {
 					continue
@@ -362,6 +383,9 @@ func PixelSubgraph(f [][]float32, w, h int, nodes []int, p PixelParams) (*Graph,
 				g.Col = append(g.Col, q)
 				g.Weight = append(g.Weight, expNeg(arg))
 			}
+		}
+		if next[k] < 0 {
+			next[k] = len(g.Col)
 		}
 		g.RowPtr[k+1] = len(g.Col)
 	}

@@ -8,13 +8,15 @@ import (
 // Components labels the connected components of g (edges of positive
 // weight) by union-find with path halving and union by size. comp[i] is the
 // component of node i, numbered 0..n-1 in order of each component's lowest
-// node, so the numbering is deterministic.
+// node, so the numbering is deterministic. The edges are read until every
+// node is joined (the usual case for the re-cut's object graphs), since
+// the remaining ones cannot change the components.
 func Components(g *affinity.Graph) (comp []int32, n int) {
 	return components(g.N, func(link func(i, j int32) bool) {
 		for i := 0; i < g.N; i++ {
 			for p := g.RowPtr[i]; p < g.RowPtr[i+1]; p++ {
-				if j := g.Col[p]; int(j) > i && g.Weight[p] > 0 {
-					link(int32(i), j)
+				if j := g.Col[p]; int(j) > i && g.Weight[p] > 0 && link(int32(i), j) {
+					return
 				}
 			}
 		}
@@ -85,6 +87,9 @@ func components(nn int, edges func(link func(i, j int32) bool)) (comp []int32, n
 		return joins == nn-1
 	})
 	comp = make([]int32, nn)
+	if nn > 0 && joins == nn-1 {
+		return comp, 1 // one component: every label 0
+	}
 	id := make([]int32, nn)
 	for i := range id {
 		id[i] = -1
