@@ -186,9 +186,10 @@ func weightOf(wt []float64, i int) float64 {
 const boundSlack = 1e-9
 
 func sqDist(a, b []float64) float64 {
+	b = b[:len(a)]
 	var s float64
-	for d := range a {
-		t := a[d] - b[d]
+	for d, v := range a {
+		t := v - b[d]
 		s += t * t
 	}
 	return s
@@ -306,45 +307,59 @@ func iterate(ctx context.Context, x []float64, n, dim, k int, wt []float64, cent
 		last := iter == 299
 		clear(sum)
 		clear(cnt)
+		// The sums of the current run of points with one label are
+		// taken in sc, the slice of that label's sum (consecutive
+		// points mostly share a label).
+		run := -1
+		var sc []float64
+		w := 1.0
 		for i := 0; i < n; i++ {
-			xi := x[i*dim : (i+1)*dim]
+			xi := x[i*dim : i*dim+dim : i*dim+dim]
+			li := lab[i]
 			assign := true
 			if iter > 0 {
 				// The previous iteration's centre moves.
-				up[i] += move[lab[i]]
-				lo[i] -= maxMove
+				u, l := up[i]+move[li], lo[i]-maxMove
 				if !last {
-					if up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i] {
+					if u+boundSlack*(u+math.Abs(l)+travel) < l {
 						assign = false
 					} else {
 						// Tighten the upper bound to the exact distance
 						// and test again (Hamerly's second test).
-						c := int(lab[i])
-						up[i] = math.Sqrt(sqDist(xi, cent[c*dim:(c+1)*dim]))
-						assign = !(up[i]+boundSlack*(up[i]+math.Abs(lo[i])+travel) < lo[i])
+						c := int(li)
+						u = math.Sqrt(sqDist(xi, cent[c*dim:c*dim+dim]))
+						assign = !(u+boundSlack*(u+math.Abs(l)+travel) < l)
 					}
 				}
+				up[i], lo[i] = u, l
 			}
 			if assign {
 				bc, bd, sd := 0, math.Inf(1), math.Inf(1)
 				for c := 0; c < k; c++ {
-					d := sqDist(xi, cent[c*dim:(c+1)*dim])
+					d := sqDist(xi, cent[c*dim:c*dim+dim])
 					if d < bd {
 						bc, bd, sd = c, d, bd
 					} else if d < sd {
 						sd = d
 					}
 				}
-				if lab[i] != int32(bc) {
-					lab[i] = int32(bc)
+				if li != int32(bc) {
+					li = int32(bc)
+					lab[i] = li
 					changed = true
 				}
 				up[i], lo[i] = math.Sqrt(bd), math.Sqrt(sd)
 			}
-			c := int(lab[i])
-			w := weightOf(wt, i)
+			c := int(li)
+			if wt != nil {
+				w = wt[i]
+			}
 			cnt[c] += w
-			sc := sum[c*dim : (c+1)*dim]
+			if c != run {
+				run = c
+				sc = sum[c*dim : c*dim+dim : c*dim+dim]
+			}
+			sc = sc[:len(xi)]
 			for d, v := range xi {
 				sc[d] += w * v
 			}
