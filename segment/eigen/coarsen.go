@@ -271,45 +271,59 @@ func memberEntries(lv *level, a0, a1 int) int {
 // of first appearance (the members in ascending order, each row's
 // entries in order).
 func galerkinRows(lv *level, agg []int32, a0, a1 int, sc *galerkinScratch, co *chunkOut) {
-	acc, seen, cols := sc.acc, sc.seen, sc.cols[:0]
+	acc, seen, cols := sc.acc, sc.seen, sc.cols[:cap(sc.cols)]
 	var cb []int32
 	var wb []float32
 	for a := a0; a < a1; a++ {
-		cols = cols[:0]
-		for _, u := range lv.mem[lv.memPtr[a]:lv.memPtr[a+1]] {
+		mem := lv.mem[lv.memPtr[a]:lv.memPtr[a+1]]
+		// Every entry is written to cols and kept (nc advanced) only at
+		// its column's first appearance, without a branch on that test
+		// (the order of first appearance, so the rows, are as before;
+		// the first level of the coins pixel graph at 116,736 nodes took
+		// about half the CPU time of the branching loop); cols must have
+		// room for all the members' entries.
+		need := 0
+		for _, u := range mem {
+			need += lv.rowBound(int(u))
+		}
+		if len(cols) < need {
+			cols = make([]int32, 2*need)
+		}
+		nc := 0
+		for _, u := range mem {
 			if sg := lv.sg; sg != nil {
 				// The stencil's slots in order, as in matching.
+				lin := sg.lin[:sg.k]
 				for f, v := range sg.wt[int(u)*sg.k : int(u)*sg.k+sg.k] {
 					if v == 0 {
 						continue
 					}
-					b := agg[int(u)+sg.lin[f]]
-					if seen[b] == 0 {
-						seen[b] = 1
-						cols = append(cols, b)
-					}
+					b := agg[int(u)+lin[f]]
+					cols[nc] = b
+					nc += int(1 - seen[b])
+					seen[b] = 1
 					acc[b] += float64(v)
 				}
 				continue
 			}
 			rc, rw := lv.row(int(u), cb, wb)
+			rw = rw[:len(rc)]
 			for p, j := range rc {
 				b := agg[j]
-				if seen[b] == 0 {
-					seen[b] = 1
-					cols = append(cols, b)
-				}
+				cols[nc] = b
+				nc += int(1 - seen[b])
+				seen[b] = 1
 				acc[b] += float64(rw[p])
 			}
 		}
-		for _, b := range cols {
+		for _, b := range cols[:nc] {
 			co.col = append(co.col, b)
 			co.wt = append(co.wt, float32(acc[b]))
 			acc[b], seen[b] = 0, 0
 		}
-		co.cnt = append(co.cnt, len(cols))
+		co.cnt = append(co.cnt, nc)
 	}
-	sc.cols = cols
+	sc.cols = cols[:0]
 }
 
 // prolong interpolates a coarse block to the fine level: z_i =

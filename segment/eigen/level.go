@@ -22,7 +22,7 @@ type level struct {
 	sg     *stencilOp // the stencil form, or nil
 	stored int        // stored entries (len(col) in CSR form)
 	deg    []float64  // d_i = Σ_j w_ij (self loop included)
-	diag   []float64  // L_ii = 1 - w_ii/d_i
+	jac    []float64  // ω/L_ii, L_ii = 1 - w_ii/d_i, ω = jacobiOmega (the multigrid's Jacobi steps)
 	s      []float64  // d_i^-1/2
 	z0     []float64  // D^1/2 1 / ‖D^1/2 1‖, the exact null vector of L
 	agg    []int32    // fine node -> node of the next coarser level
@@ -115,7 +115,7 @@ func (lv *level) fill(pl *pool, rowPtr []int) {
 	}
 	lv.s = pl.floats(n)
 	lv.z0 = pl.floats(n)
-	lv.diag = pl.floats(n)
+	lv.jac = pl.floats(n)
 	var sum float64
 	for i := 0; i < n; i++ {
 		var d, self float64
@@ -133,8 +133,9 @@ func (lv *level) fill(pl *pool, rowPtr []int) {
 		lv.s[i] = 1 / math.Sqrt(d)
 		sum += d
 		// L_ii = 1 - w_ii/d_i, kept away from 0 for aggregates nearly cut
-		// off from the rest.
-		lv.diag[i] = max(1-self/d, 1e-3)
+		// off from the rest; the multigrid's smoothing scales by ω/L_ii,
+		// divided once here rather than at every step.
+		lv.jac[i] = jacobiOmega / max(1-self/d, 1e-3)
 	}
 	inv := 1 / math.Sqrt(sum)
 	for i, d := range lv.deg {

@@ -20,7 +20,6 @@ type multigrid struct {
 	levels  []*level // levels[0] is the finest level of this cycle
 	workers int
 	pinv    []float64 // dense pseudo-inverse of the coarsest L, row-major
-	omega   float64   // Jacobi damping
 	alpha   float64   // coarse-correction scale
 	gamma   int       // coarse visits per level (2: W-cycle)
 	post    int       // post-smoothing steps
@@ -73,7 +72,7 @@ func newMultigrid(pl *pool, levels []*level, workers int, coarseVecs *block, coa
 		post = 1
 	}
 	return &multigrid{levels: levels, workers: workers, pinv: pinv,
-		omega: 0.7, alpha: 1.5, gamma: 2, post: post, wAll: wide,
+		alpha: 1.5, gamma: 2, post: post, wAll: wide,
 		scratch: make([]mgScratch, len(levels))}
 }
 
@@ -182,7 +181,7 @@ func (mg *multigrid) residual(lv *level, r, x, b, tmp *block) {
 
 // The row operations of a cycle (mgRows): the pre-smoothing from zero x =
 // ω D_L^-1 b, the residual r = b - L x (given L x in r) and the
-// post-smoothing x += ω D_L^-1 r.
+// post-smoothing x += ω D_L^-1 r, ω = jacobiOmega.
 const (
 	jacobiFromZero = iota
 	residualFrom
@@ -194,35 +193,36 @@ const (
 // when one goroutine would run the chunks (serial).
 func (mg *multigrid) rows(lv *level, op int, dst, src *block) {
 	if serial(lv.nchunks(), mg.workers) {
-		mgRows(lv, mg.omega, op, dst, src, 0, lv.n)
+		mgRows(lv, op, dst, src, 0, lv.n)
 		return
 	}
-	hd, hs, omega := heapBlock(dst), heapBlock(src), mg.omega
+	hd, hs := heapBlock(dst), heapBlock(src)
 	parallel.For(lv.nchunks(), mg.workers, func(c int) {
-		mgRows(lv, omega, op, hd, hs, lv.chunks[c], lv.chunks[c+1])
+		mgRows(lv, op, hd, hs, lv.chunks[c], lv.chunks[c+1])
 	})
 }
 
 // mgRows is rows on rows r0..r1-1.
-func mgRows(lv *level, omega float64, op int, dst, src *block, r0, r1 int) {
+func mgRows(lv *level, op int, dst, src *block, r0, r1 int) {
 	m := dst.m
+	d, sv := dst.v[r0*m:r1*m], src.v[r0*m:r1*m]
 	switch op {
 	case jacobiFromZero:
-		for i := r0; i < r1; i++ {
-			f := omega / lv.diag[i]
-			for q := 0; q < m; q++ {
-				dst.v[i*m+q] = f * src.v[i*m+q]
+		for i, f := range lv.jac[r0:r1] {
+			dr, sr := d[i*m:i*m+m], sv[i*m:i*m+m]
+			for q, v := range sr {
+				dr[q] = f * v
 			}
 		}
 	case residualFrom:
-		for t := r0 * m; t < r1*m; t++ {
-			dst.v[t] = src.v[t] - dst.v[t]
+		for t, v := range sv {
+			d[t] = v - d[t]
 		}
 	case jacobiAdd:
-		for i := r0; i < r1; i++ {
-			f := omega / lv.diag[i]
-			for q := 0; q < m; q++ {
-				dst.v[i*m+q] += f * src.v[i*m+q]
+		for i, f := range lv.jac[r0:r1] {
+			dr, sr := d[i*m:i*m+m], sv[i*m:i*m+m]
+			for q, v := range sr {
+				dr[q] += f * v
 			}
 		}
 	}
@@ -304,6 +304,9 @@ func prolongRows(fine *level, zc, x *block, alpha float64, r0, r1 int) {
 		}
 	}
 }
+
+// jacobiOmega is the damping ω of the multigrid's Jacobi steps.
+const jacobiOmega = 0.7
 
 // wDepth is the number of top levels cycled as a W-cycle (two coarse
 // visits, no post-smoothing, over-correction 1.5); deeper levels use a

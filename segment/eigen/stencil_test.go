@@ -76,8 +76,8 @@ func TestStencilProductMatchesCSR(t *testing.T) {
 				}
 				same := func(u, v float64) bool { return math.Float64bits(u) == math.Float64bits(v) }
 				for i := range a.deg {
-					if !same(a.deg[i], b.deg[i]) || !same(a.diag[i], b.diag[i]) || !same(a.s[i], b.s[i]) {
-						t.Fatalf("node %d: degree %v / %v, diagonal %v / %v", i, a.deg[i], b.deg[i], a.diag[i], b.diag[i])
+					if !same(a.deg[i], b.deg[i]) || !same(a.jac[i], b.jac[i]) || !same(a.s[i], b.s[i]) {
+						t.Fatalf("node %d: degree %v / %v, ω/diagonal %v / %v", i, a.deg[i], b.deg[i], a.jac[i], b.jac[i])
 					}
 					if !(a.deg[i] > 0) && g.N > 1 {
 						t.Fatalf("node %d is isolated: pick another scene", i)
