@@ -19,6 +19,10 @@ type stencilOp struct {
 	wt  []float32
 	// Rows lo..n-1-hi have every neighbour index i + lin_f in range.
 	lo, hi int
+	// mono reports that lin increases with f (an image wider than the
+	// stencil): the pairs of a row in range are then the run of offsets
+	// f0..f1-1 (span).
+	mono bool
 }
 
 func newStencilOp(g *affinity.StencilGraph) *stencilOp {
@@ -30,7 +34,25 @@ func newStencilOp(g *affinity.StencilGraph) *stencilOp {
 		op.lin[f] = dy[f]*w + dx[f]
 		op.lo, op.hi = max(op.lo, -op.lin[f]), max(op.hi, op.lin[f])
 	}
+	op.mono = true
+	for f := 1; f < len(op.lin); f++ {
+		op.mono = op.mono && op.lin[f] > op.lin[f-1]
+	}
 	return op
+}
+
+// span returns the offsets f0..f1-1 whose neighbour index i + lin_f lies
+// in 0..n-1, for a stencil whose lin increases (mono): those filter
+// keeps, in the same order.
+func (op *stencilOp) span(i int) (f0, f1 int) {
+	f0, f1 = 0, len(op.lin)
+	for f0 < f1 && i+op.lin[f0] < 0 {
+		f0++
+	}
+	for f1 > f0 && i+op.lin[f1-1] >= op.n {
+		f1--
+	}
+	return f0, f1
 }
 
 // scaled returns the index differences multiplied by m, the distance
@@ -104,8 +126,13 @@ func (op *stencilOp) edgeRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1
 	for i := r0; i < r1; i++ {
 		lin, ws := lm, op.wt[i*k:i*k+k]
 		if !op.inRange(i) {
-			fl, fw = op.filter(i, lm, fl[:0], fw[:0])
-			lin, ws = fl, fw
+			if op.mono {
+				f0, f1 := op.span(i)
+				lin, ws = lm[f0:f1], ws[f0:f1]
+			} else {
+				fl, fw = op.filter(i, lm, fl[:0], fw[:0])
+				lin, ws = fl, fw
+			}
 		}
 		if len(lin) == 0 {
 			// No pair: y = x - s·0, as the Go loop leaves it.
@@ -182,17 +209,33 @@ func (op *stencilOp) single(lin []int, ws []float32, si float64, y, x, tmp *bloc
 	t := tmp.v
 	bi := i*m + c
 	ws = ws[:len(lin)]
-	var acc [2]float64
+	// Pairs of stored entries while both weights are nonzero (the
+	// entries then alternate between the sums as below), then one
+	// entry at a time from the first pair holding a zero.
+	var a0, a1 float64
+	f := 0
+	for ; f+1 < len(lin); f += 2 {
+		w0, w1 := ws[f], ws[f+1]
+		if w0 == 0 || w1 == 0 {
+			break
+		}
+		a0 += float64(w0) * t[bi+lin[f]]
+		a1 += float64(w1) * t[bi+lin[f+1]]
+	}
 	par := 0
-	for f, d := range lin {
+	for ; f < len(lin); f++ {
 		w := ws[f]
 		if w == 0 {
 			continue
 		}
-		acc[par] += float64(w) * t[bi+d]
+		if v := float64(w) * t[bi+lin[f]]; par == 0 {
+			a0 += v
+		} else {
+			a1 += v
+		}
 		par ^= 1
 	}
-	y.v[bi] = x.v[bi] - si*(acc[0]+acc[1])
+	y.v[bi] = x.v[bi] - si*(a0+a1)
 }
 
 // mulRowsGo is mulRows in Go alone.
