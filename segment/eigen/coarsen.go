@@ -151,15 +151,15 @@ func coarsenIn(lv *level, workers int, pl *pool) *level {
 
 	// Galerkin product, rows in fixed chunks built independently.
 	nch := (nc + rowsPerChunk - 1) / rowsPerChunk
-	var outBuf [1]chunkOut
-	var outs []chunkOut
+	rowPtr := pl.ints(nc + 1)
+	var c *level
 	if serial(nch, workers) {
 		// On the calling goroutine: one scratch, and the chunks' rows
 		// from pl's arenas with room for the members' rows (a bound of
 		// the coarse rows' entries), so that nothing grows.
-		if nch == 1 {
-			outs = outBuf[:]
-		} else {
+		var outBuf [1]chunkOut
+		outs := outBuf[:]
+		if nch > 1 {
 			outs = make([]chunkOut, nch)
 		}
 		sc := galerkinScratch{acc: pl.floats(nc), seen: pl.int32s(nc), cols: pl.int32s(nc)[:0]}
@@ -170,60 +170,78 @@ func coarsenIn(lv *level, workers int, pl *pool) *level {
 			galerkinRows(lv, agg, a0, a1, &sc, &co)
 			outs[c] = co
 		}
+		total := 0
+		a := 0
+		for _, co := range outs {
+			for _, k := range co.cnt {
+				total += k
+				a++
+				rowPtr[a] = total
+			}
+		}
+		if nch == 1 {
+			c = newLevelIn(pl, nc, rowPtr, outs[0].col, outs[0].wt)
+		} else {
+			col := make([]int32, total)
+			wt := make([]float32, total)
+			for ch, co := range outs {
+				at := rowPtr[ch*rowsPerChunk]
+				copy(col[at:], co.col)
+				copy(wt[at:], co.wt)
+			}
+			c = newLevelIn(pl, nc, rowPtr, col, wt)
+		}
 	} else {
-		pouts := make([]chunkOut, nch)
 		// Dense accumulators over the coarse columns, one per running
 		// goroutine (at most workers at a time), reused from chunk to
 		// chunk: every row clears what it touched. One per chunk made
 		// the allocations grow with the square of the size (1.2 GB of
 		// garbage at a million nodes).
 		free := make(chan *galerkinScratch, max(workers, 1))
+		take := func() *galerkinScratch {
+			select {
+			case sc := <-free:
+				return sc
+			default:
+				return &galerkinScratch{acc: make([]float64, nc), seen: make([]int32, nc)}
+			}
+		}
+		give := func(sc *galerkinScratch) {
+			select {
+			case free <- sc:
+			default:
+			}
+		}
+		// Two passes: the coarse rows' lengths, then the rows written
+		// in place into arrays of the exact size. The chunks' rows
+		// were built in arrays of half their members' entries and then
+		// copied: at 116,736 nodes about 37 MB of new memory besides
+		// the 24 MB of the first level's rows (their pages zeroed by
+		// the kernel on first touch), at a million nodes about nine
+		// times as much.
 		parallel.For(nch, workers, func(c int) {
 			a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
-			var sc *galerkinScratch
-			select {
-			case sc = <-free:
-			default:
-				sc = &galerkinScratch{acc: make([]float64, nc), seen: make([]int32, nc)}
-			}
-			defer func() {
-				select {
-				case free <- sc:
-				default:
-				}
-			}()
-			// The members' row lengths bound the coarse row's; coarse
-			// rows merge neighbours, so start from half the bound and
-			// let append grow the rest.
-			bound := memberEntries(lv, a0, a1)
-			co := chunkOut{cnt: make([]int, 0, a1-a0), col: make([]int32, 0, bound/2+16), wt: make([]float32, 0, bound/2+16)}
-			galerkinRows(lv, agg, a0, a1, sc, &co)
-			pouts[c] = co
+			sc := take()
+			galerkinCounts(lv, agg, a0, a1, sc, rowPtr[a0+1:a1+1])
+			give(sc)
 		})
-		outs = pouts
-	}
-	rowPtr := pl.ints(nc + 1)
-	total := 0
-	a := 0
-	for _, co := range outs {
-		for _, k := range co.cnt {
-			total += k
-			a++
-			rowPtr[a] = total
+		for a := 0; a < nc; a++ {
+			rowPtr[a+1] += rowPtr[a]
 		}
-	}
-	var c *level
-	if nch == 1 {
-		c = newLevelIn(pl, nc, rowPtr, outs[0].col, outs[0].wt)
-	} else {
-		// The chunks' rows copied to their places in parallel (at a
-		// million nodes the serial copy was 0.2 s of the first level).
+		total := rowPtr[nc]
 		col := make([]int32, total)
 		wt := make([]float32, total)
-		parallel.For(nch, workers, func(ch int) {
-			at := rowPtr[min(ch*rowsPerChunk, nc)]
-			copy(col[at:], outs[ch].col)
-			copy(wt[at:], outs[ch].wt)
+		parallel.For(nch, workers, func(c int) {
+			a0, a1 := c*rowsPerChunk, min((c+1)*rowsPerChunk, nc)
+			p0, p1 := rowPtr[a0], rowPtr[a1]
+			sc := take()
+			co := chunkOut{cnt: sc.cnt[:0], col: col[p0:p0:p1], wt: wt[p0:p0:p1]}
+			galerkinRows(lv, agg, a0, a1, sc, &co)
+			if len(co.col) != p1-p0 || cap(co.col) != p1-p0 {
+				panic("eigen: internal error: the Galerkin rows' lengths differ between the passes")
+			}
+			sc.cnt = co.cnt[:0]
+			give(sc)
 		})
 		c = newLevelIn(pl, nc, rowPtr, col, wt)
 	}
@@ -253,6 +271,7 @@ type galerkinScratch struct {
 	acc  []float64
 	seen []int32
 	cols []int32
+	cnt  []int // the row lengths of a chunk (the parallel path's second pass)
 }
 
 // memberEntries is the number of stored entries of the rows of the
@@ -322,6 +341,54 @@ func galerkinRows(lv *level, agg []int32, a0, a1 int, sc *galerkinScratch, co *c
 			acc[b], seen[b] = 0, 0
 		}
 		co.cnt = append(co.cnt, nc)
+	}
+	sc.cols = cols[:0]
+}
+
+// galerkinCounts sets cnt[a-a0] to the number of entries of coarse row a
+// of W_c = Pᵀ W P for a = a0..a1-1: the distinct coarse columns of its
+// members' entries, counted as galerkinRows lists them (sc's marks are
+// left clear).
+func galerkinCounts(lv *level, agg []int32, a0, a1 int, sc *galerkinScratch, cnt []int) {
+	seen, cols := sc.seen, sc.cols[:cap(sc.cols)]
+	var cb []int32
+	var wb []float32
+	for a := a0; a < a1; a++ {
+		mem := lv.mem[lv.memPtr[a]:lv.memPtr[a+1]]
+		need := 0
+		for _, u := range mem {
+			need += lv.rowBound(int(u))
+		}
+		if len(cols) < need {
+			cols = make([]int32, 2*need)
+		}
+		nc := 0
+		for _, u := range mem {
+			if sg := lv.sg; sg != nil {
+				lin := sg.lin[:sg.k]
+				for f, v := range sg.wt[int(u)*sg.k : int(u)*sg.k+sg.k] {
+					if v == 0 {
+						continue
+					}
+					b := agg[int(u)+lin[f]]
+					cols[nc] = b
+					nc += int(1 - seen[b])
+					seen[b] = 1
+				}
+				continue
+			}
+			rc, _ := lv.row(int(u), cb, wb)
+			for _, j := range rc {
+				b := agg[j]
+				cols[nc] = b
+				nc += int(1 - seen[b])
+				seen[b] = 1
+			}
+		}
+		for _, b := range cols[:nc] {
+			seen[b] = 0
+		}
+		cnt[a-a0] = nc
 	}
 	sc.cols = cols[:0]
 }
