@@ -113,10 +113,12 @@ func (op *stencilOp) mulRows(lm []int, s []float64, y, x, tmp *block, r0, r1 int
 }
 
 // edgeRowsAVX is mulRows on rows r0..r1-1 one row at a time, each with
-// the kernels of stencil_amd64.s on its pairs filtered as mulRowsGo
-// filters them (all of them for a row in range): the pairs and their
-// order are mulRowsGo's, so the result is too, bit for bit
-// (TestStencilAVXMatchesGo). The rows near the first and last image
+// the kernels of stencil_amd64.s on the pairs mulRowsGo takes (all of
+// them for a row in range; else the run of offsets in range, span, or
+// where lin does not increase the pairs filter keeps): the pairs and
+// their order are mulRowsGo's, so the result is too, bit for bit
+// (TestStencilAVXMatchesGo; TestStencilProductMatchesCSR on images as
+// narrow as the stencil). The rows near the first and last image
 // rows took about six times as long a row in the Go loop as in the
 // kernels (a CPU profile of the whole command at 116,736 nodes).
 func (op *stencilOp) edgeRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
