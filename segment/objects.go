@@ -222,25 +222,41 @@ func groupComponents(dst []int32, rowOf func(y int, buf []int32) []int32, w, h, 
 				above, labAbove = prev, lab[(y-1)*w:y*w]
 			}
 			prev = row
-			for x, g := range row {
+			// One provisional label a run of equal groups, written and
+			// counted once; the same labels, unions and order as a pass
+			// pixel by pixel.
+			for x := 0; x < w; {
+				g := row[x]
+				e := x + 1
+				for e < w && row[e] == g {
+					e++
+				}
 				if g < 0 {
-					out[x] = -1
+					for k := x; k < e; k++ {
+						out[k] = -1
+					}
+					x = e
 					continue
 				}
-				left := x > 0 && row[x-1] == g
-				if left {
-					out[x] = out[x-1]
-				} else {
-					out[x] = int32(len(f))
-					f = append(f, int32(len(f)))
-					size = append(size, 0)
+				l := int32(len(f))
+				f = append(f, l)
+				size = append(size, e-x)
+				for k := x; k < e; k++ {
+					out[k] = l
 				}
-				size[out[x]]++
-				// The run above is joined once, at its first pixel over this
-				// run (or this run's first pixel).
-				if above != nil && above[x] == g && !(left && above[x-1] == g) {
-					f.Union(out[x], labAbove[x])
+				// Each run above is joined once, at its first pixel over
+				// this run (or this run's first pixel).
+				if above != nil {
+					if above[x] == g {
+						f.Union(l, labAbove[x])
+					}
+					for k := x + 1; k < e; k++ {
+						if above[k] == g && above[k-1] != g {
+							f.Union(l, labAbove[k])
+						}
+					}
 				}
+				x = e
 			}
 		}
 		forests[b], sizes[b] = f, size
