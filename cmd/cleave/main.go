@@ -48,10 +48,11 @@ func requestErr(err error) error {
 }
 
 func main() {
-	// Only the commands that build graphs and solve eigenproblems gain
-	// from huge pages; help, version and score start without the advice
-	// (and without its large untouched allocation).
-	if len(os.Args) > 1 && slices.Contains([]string{"segment", "batch", "tune", "demo"}, os.Args[1]) {
+	// Only the commands that build graphs and solve eigenproblems may
+	// gain from huge pages, and only a build with the tag hugepages
+	// advises them (hugepages.AtStart); help, version and score start
+	// without the advice (and without its large untouched allocation).
+	if hugepages.AtStart && len(os.Args) > 1 && slices.Contains([]string{"segment", "batch", "tune", "demo"}, os.Args[1]) {
 		hugepages.Advise()
 	}
 	os.Exit(runWithSignals(func(ctx context.Context) int {

@@ -10,6 +10,8 @@ import (
 // TestMain starts the test binary as main starts cleave, so that the
 // benchmarks measure the memory set-up the command runs with.
 func TestMain(m *testing.M) {
-	hugepages.Advise()
+	if hugepages.AtStart {
+		hugepages.Advise()
+	}
 	loudskip.Main(m, "cmd/cleave")
 }

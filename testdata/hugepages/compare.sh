@@ -1,7 +1,7 @@
 #!/bin/sh
 # Does the huge-page advice at start-up (cmd/cleave/internal/hugepages)
-# still pay? Builds cleave twice, as shipped and with the build tag
-# nohugepages, and runs the two builds in turn ROUNDS times on the coins
+# pay? Builds cleave twice, with the build tag hugepages (advised) and as
+# shipped (plain, no advice), and runs the two builds in turn ROUNDS times on the coins
 # pixel graph (152x192, --superpixels 0) and on a generated 1024 x 1024
 # nuclei scene (seed 13600, --classes 2 --background dark), printing per
 # build the mean wall, CPU (user + system) and system seconds, minor page
@@ -15,8 +15,8 @@ set -eu
 ROUNDS=${1:-8}
 DIR=$(mktemp -d)
 trap 'rm -rf "$DIR"' EXIT
-go build -o "$DIR/advised" ./cmd/cleave
-go build -tags nohugepages -o "$DIR/plain" ./cmd/cleave
+go build -tags hugepages -o "$DIR/advised" ./cmd/cleave
+go build -o "$DIR/plain" ./cmd/cleave
 go run ./examples/scenes/gen -out "$DIR/img" -kind nuclei -n 1 -seed 13600 -size 1024 >/dev/null
 run() { # CASE IMAGE ARGS...
 	name=$1 img=$2

@@ -1,4 +1,4 @@
-//go:build linux && !nohugepages
+//go:build linux
 
 package hugepages
 

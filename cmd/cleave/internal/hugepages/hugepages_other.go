@@ -1,8 +1,7 @@
-//go:build !linux || nohugepages
+//go:build !linux
 
 package hugepages
 
 // Advise does nothing where transparent huge pages cannot be requested
-// with madvise, or in a build with the tag nohugepages (for comparing the
-// two: testdata/hugepages/compare.sh).
+// with madvise.
 func Advise() {}
