@@ -5,6 +5,7 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // palette is the set of colours given to labels: twelve hues 30 degrees
@@ -68,6 +69,14 @@ type LabelColours struct {
 	sparse map[int32][3]uint8
 }
 
+// comparePairs orders label pairs by their first label, then their second.
+func comparePairs(p, q [2]int32) int {
+	if p[0] != q[0] {
+		return int(p[0]) - int(q[0])
+	}
+	return int(p[1]) - int(q[1])
+}
+
 // Of is the colour of label l (black for 0 and for labels not in the map).
 func (c *LabelColours) Of(l int32) [3]uint8 {
 	if c.dense != nil {
@@ -91,84 +100,83 @@ func (c *LabelColours) Of(l int32) [3]uint8 {
 // connected and touch along sides) needs at most four colours (Appel and
 // Haken 1977), so twelve leave room for corner contacts and
 // disconnected labels. The result depends on the map only.
-func ColourLabels(m labelmap.Map) *LabelColours {
+func ColourLabels(m labelmap.Map) *LabelColours { return ColourLabelsWorkers(m, 1) }
+
+// colourBand is the number of rows of a band of ColourLabelsWorkers.
+const colourBand = 64
+
+// ColourLabelsWorkers is ColourLabels with the passes over the pixels on
+// bands of colourBand rows on workers goroutines (parallel's rules). The
+// colouring depends only on the set of labels and the set of touching
+// pairs, which the bands find between them (each band reads the row below
+// its last), so the result is ColourLabels' for any workers.
+func ColourLabelsWorkers(m labelmap.Map, workers int) *LabelColours {
 	labels, width, height := m.Pix, m.Width, m.Height
-	maxLabel := int32(0)
-	for _, l := range labels {
-		maxLabel = max(maxLabel, l)
-	}
-	// Distinct labels in increasing order, and each one's index.
-	var ids []int32
-	index := func(l int32) int { i, _ := slices.BinarySearch(ids, l); return i }
-	if int(maxLabel) <= len(labels) {
-		seen := make([]bool, int(maxLabel)+1)
-		for _, l := range labels {
-			if l > 0 {
-				seen[l] = true
+	nb := (height + colourBand - 1) / colourBand
+	// Each band lists its labels (> 0; one entry a run of one label) and
+	// its touching pairs (a < b), found on the right, lower, lower-left
+	// and lower-right neighbours of each pixel of a label > 0; a pair
+	// found again right after itself (along a shared border) is not
+	// appended twice. Each band sorts and compacts its lists; their
+	// concatenations are sorted and compacted again.
+	bandIDs := make([][]int32, nb)
+	bandPairs := make([][][2]int32, nb)
+	parallel.Blocks(height, colourBand, workers, func(b, y0, y1 int) {
+		var ids []int32
+		var pairs [][2]int32
+		last := [2]int32{-1, -1}
+		add := func(a, b int32) {
+			if b > 0 && a != b {
+				p := [2]int32{min(a, b), max(a, b)}
+				if p != last {
+					pairs = append(pairs, p)
+					last = p
+				}
 			}
 		}
-		for l, s := range seen {
-			if s {
-				ids = append(ids, int32(l))
+		for y := y0; y < y1; y++ {
+			row := labels[y*width : (y+1)*width]
+			var next []int32
+			if y+1 < height {
+				next = labels[(y+1)*width : (y+2)*width]
 			}
-		}
-	} else {
-		set := map[int32]bool{}
-		for _, l := range labels {
-			if l > 0 {
-				set[l] = true
-			}
-		}
-		for l := range set {
-			ids = append(ids, l)
-		}
-		slices.Sort(ids)
-	}
-	// Touching pairs (a < b), found on the right, lower, lower-left and
-	// lower-right neighbours of each pixel of a label > 0. A pair found
-	// again right after itself (along a shared border) is not appended
-	// twice; the sort and compaction below remove the other repeats.
-	var pairs [][2]int32
-	last := [2]int32{-1, -1}
-	add := func(a, b int32) {
-		if b > 0 && a != b {
-			p := [2]int32{min(a, b), max(a, b)}
-			if p != last {
-				pairs = append(pairs, p)
-				last = p
-			}
-		}
-	}
-	for y := range height {
-		row := labels[y*width : (y+1)*width]
-		var next []int32
-		if y+1 < height {
-			next = labels[(y+1)*width : (y+2)*width]
-		}
-		for x, l := range row {
-			if l <= 0 {
-				continue
-			}
-			if x+1 < width {
-				add(l, row[x+1])
-			}
-			if next != nil {
-				add(l, next[x])
-				if x > 0 {
-					add(l, next[x-1])
+			for x, l := range row {
+				if l <= 0 {
+					continue
+				}
+				if x == 0 || row[x-1] != l {
+					ids = append(ids, l)
 				}
 				if x+1 < width {
-					add(l, next[x+1])
+					add(l, row[x+1])
+				}
+				if next != nil {
+					add(l, next[x])
+					if x > 0 {
+						add(l, next[x-1])
+					}
+					if x+1 < width {
+						add(l, next[x+1])
+					}
 				}
 			}
 		}
-	}
-	slices.SortFunc(pairs, func(p, q [2]int32) int {
-		if p[0] != q[0] {
-			return int(p[0]) - int(q[0])
-		}
-		return int(p[1]) - int(q[1])
+		slices.Sort(ids)
+		bandIDs[b] = slices.Compact(ids)
+		slices.SortFunc(pairs, comparePairs)
+		bandPairs[b] = slices.Compact(pairs)
 	})
+	// Distinct labels in increasing order, and each one's index.
+	ids := slices.Concat(bandIDs...)
+	slices.Sort(ids)
+	ids = slices.Compact(ids)
+	maxLabel := int32(0)
+	if len(ids) > 0 {
+		maxLabel = ids[len(ids)-1]
+	}
+	index := func(l int32) int { i, _ := slices.BinarySearch(ids, l); return i }
+	pairs := slices.Concat(bandPairs...)
+	slices.SortFunc(pairs, comparePairs)
 	pairs = slices.Compact(pairs)
 	// Adjacency lists by index.
 	start := make([]int, len(ids)+1)

@@ -102,10 +102,11 @@ func TestNumberSize(t *testing.T) {
 	}
 }
 
-// TestColourLabelsMatchesFormer checks ColourLabels against
-// colourLabelsOld (the former scan, palette_old_test.go): the same colour
-// for every label on random maps of touching discs, with negative
-// labels, and with sparse huge labels (the map form).
+// TestColourLabelsMatchesFormer checks ColourLabelsWorkers (on one, two
+// and three workers) against colourLabelsOld (the former scan,
+// palette_old_test.go): the same colour for every label on random maps
+// of touching discs, with negative labels, and with sparse huge labels
+// (the map form).
 func TestColourLabelsMatchesFormer(t *testing.T) {
 	rng := rand.New(rand.NewPCG(12, 34))
 	for trial := range 12 {
@@ -131,10 +132,15 @@ func TestColourLabelsMatchesFormer(t *testing.T) {
 			}
 		}
 		m := labelmap.Map{Pix: labels, Width: w, Height: h}
-		got, want := ColourLabels(m), colourLabelsOld(m)
-		for _, l := range labels {
-			if got.Of(l) != want.Of(l) {
-				t.Fatalf("trial %d: label %d coloured %v, formerly %v", trial, l, got.Of(l), want.Of(l))
+		want := colourLabelsOld(m)
+		// Heights of 30-229 rows are one to four bands of
+		// ColourLabelsWorkers; any worker count gives the same colours.
+		for _, workers := range []int{1, 2, 3} {
+			got := ColourLabelsWorkers(m, workers)
+			for _, l := range labels {
+				if got.Of(l) != want.Of(l) {
+					t.Fatalf("trial %d, workers %d: label %d coloured %v, formerly %v", trial, workers, l, got.Of(l), want.Of(l))
+				}
 			}
 		}
 	}

@@ -16,6 +16,7 @@ import (
 	"runtime"
 	"slices"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/cleave-seg/cleave/affinity"
@@ -423,9 +424,14 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	// The preview and the overlay's tints share one colouring; the
 	// overlay shows a colour image in its colours.
 	labels, classes := res.Labels, res.Classes
-	palette := render.ColourLabels(labels)
 	workers := j.Options.Params.Workers
-	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Palette: palette, Numbers: true, Workers: workers}
+	// The colouring (a pass over the label map) is made beside the
+	// encoders that do not read it (the label and class maps, the region
+	// table, the outlines); the overlay and the preview wait for it.
+	paletteC := make(chan *render.LabelColours, 1)
+	go func() { paletteC <- render.ColourLabelsWorkers(labels, workers) }()
+	palette := sync.OnceValue(func() *render.LabelColours { return <-paletteC })
+	overlay := imageio.OverlayOptions{Tint: res.Params.Background != "", Numbers: true, Workers: workers}
 	if len(in.channels) == 3 {
 		overlay.Colour = in.channels
 		overlay.Lo, overlay.Hi = imageio.ColourWindow(in.channels, j.Options.Params.Workers)
@@ -458,9 +464,11 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	outs := []output{
 		{LabelsSuffix(format), encodeLabelMap(format, labels, tableSize, tableUnit, workers, &labelMaps[0])},
 		{SuffixOverlay, func(wr io.Writer) error {
-			return imageio.EncodeOverlay(wr, feat.Display, labels, overlay)
+			o := overlay
+			o.Palette = palette()
+			return imageio.EncodeOverlay(wr, feat.Display, labels, o)
 		}},
-		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, labels, palette, workers) }},
+		{SuffixPreview, func(wr io.Writer) error { return imageio.EncodePreview(wr, labels, palette(), workers) }},
 	}
 	if classes.Pix != nil {
 		labelMaps = append(labelMaps, LabelMapInfo{File: filepath.Base(j.Out.Path(ClassesSuffix(format))), Content: "classes"})
