@@ -433,69 +433,107 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 	for i, l := range labels {
 		group[i] = l - 1 // -1: background
 	}
-	for l := 1; l <= n; l++ {
-		if len(pixels[l]) == 0 {
-			continue
-		}
-		level := level[l]
-		b := boxes[l]
-		r := b.grown(tightenReach, w, h)
-		x0, y0, x1, y1 := r.x0, r.y0, r.x1, r.y1
-		bw, bh := x1-x0+1, y1-y0+1
-		own := make([]bool, bw*bh)
-		for y := y0; y <= y1; y++ {
-			for x := x0; x <= x1; x++ {
-				own[(y-y0)*bw+x-x0] = labels[y*w+x] == int32(l)
+	// Each object's outline is judged on its box grown by tightenReach:
+	// its own pixels below its level leave it (drop), background pixels
+	// near it at or above its level join it (take) unless an object before
+	// it in label order took them. The values are judged for a chunk of
+	// objects at a time on workers goroutines and applied in label order,
+	// as one pass over the objects applies them.
+	type outlineJudged struct {
+		drop, take []int
+		own        []bool // the object's pixels in its grown box, when read below
+	}
+	const chunk = 256
+	judged := make([]outlineJudged, chunk)
+	for c0 := 1; c0 <= n; c0 += chunk {
+		c1 := min(c0+chunk, n+1)
+		parallel.For(c1-c0, workers, func(k int) {
+			l := c0 + k
+			judged[k] = outlineJudged{}
+			if len(pixels[l]) == 0 {
+				return
 			}
-		}
-		near := dilateSquare(own, bw, bh, tightenReach)
-		// The value judged at (x, y): the 3x3 mean, or for a small
-		// object the contrast itself.
-		value := func(x, y int) float32 { return mean3At(con, w, h, x, y) }
-		if fine[l] {
-			value = func(x, y int) float32 { return float32(con[y*w+x]) }
-		}
-		for y := y0; y <= y1; y++ {
-			for x := x0; x <= x1; x++ {
-				k, i := (y-y0)*bw+x-x0, y*w+x
-				switch {
-				case own[k]:
-					if value(x, y) < level {
-						group[i] = -1
-					}
-				case near[k] && labels[i] == 0 && group[i] < 0:
-					if value(x, y) >= level {
-						group[i] = int32(l - 1)
+			level := level[l]
+			r := boxes[l].grown(tightenReach, w, h)
+			x0, y0, x1, y1 := r.x0, r.y0, r.x1, r.y1
+			bw, bh := x1-x0+1, y1-y0+1
+			own := make([]bool, bw*bh)
+			for y := y0; y <= y1; y++ {
+				for x := x0; x <= x1; x++ {
+					own[(y-y0)*bw+x-x0] = labels[y*w+x] == int32(l)
+				}
+			}
+			near := dilateSquare(own, bw, bh, tightenReach)
+			// The value judged at (x, y): the 3x3 mean, or for a small
+			// object the contrast itself.
+			value := func(x, y int) float32 { return mean3At(con, w, h, x, y) }
+			if fine[l] {
+				value = func(x, y int) float32 { return float32(con[y*w+x]) }
+			}
+			var j outlineJudged
+			for y := y0; y <= y1; y++ {
+				for x := x0; x <= x1; x++ {
+					k, i := (y-y0)*bw+x-x0, y*w+x
+					switch {
+					case own[k]:
+						if value(x, y) < level {
+							j.drop = append(j.drop, i)
+						}
+					case near[k] && labels[i] == 0:
+						if value(x, y) >= level {
+							j.take = append(j.take, i)
+						}
 					}
 				}
 			}
-		}
-		// The interior of a textured object is judged on its Gaussian
-		// mean (its own pixels only: no other object gains them).
-		for q, i := range inner[l].pix {
-			group[i] = -1
-			if inner[l].keep[q] {
-				group[i] = int32(l - 1)
+			if len(inner[l].pix) > 0 && !fine[l] {
+				j.own = own
 			}
-		}
-		// Notches that the grain cuts into a textured object's outline
-		// are closed (closeGrainNotches).
-		if len(inner[l].pix) > 0 && !fine[l] {
-			closeGrainNotches(group, own, int32(l-1), r, w)
-			fillPockets(group, own, int32(l-1), r, w)
-		}
-		// Dim members take their pixels as objects of their own (new
-		// groups after the n objects').
-		for _, m := range dims[l] {
-			id := int32(len(median))
-			median = append(median, m.median)
-			for q, k := range m.ks {
-				i := pixels[l][k]
+			judged[k] = j
+		})
+		for l := c0; l < c1; l++ {
+			j := &judged[l-c0]
+			if len(pixels[l]) == 0 {
+				continue
+			}
+			for _, i := range j.drop {
 				group[i] = -1
-				if m.vals[q] >= m.level {
-					group[i] = id
+			}
+			for _, i := range j.take {
+				if group[i] < 0 {
+					group[i] = int32(l - 1)
 				}
 			}
+			r := boxes[l].grown(tightenReach, w, h)
+			own := j.own
+			// The interior of a textured object is judged on its Gaussian
+			// mean (its own pixels only: no other object gains them).
+			for q, i := range inner[l].pix {
+				group[i] = -1
+				if inner[l].keep[q] {
+					group[i] = int32(l - 1)
+				}
+			}
+			// Notches that the grain cuts into a textured object's outline
+			// are closed (closeGrainNotches).
+			if len(inner[l].pix) > 0 && !fine[l] {
+				closeGrainNotches(group, own, int32(l-1), r, w)
+				fillPockets(group, own, int32(l-1), r, w)
+			}
+			// Dim members take their pixels as objects of their own (new
+			// groups after the n objects').
+			for _, m := range dims[l] {
+				id := int32(len(median))
+				median = append(median, m.median)
+				for q, k := range m.ks {
+					i := pixels[l][k]
+					group[i] = -1
+					if m.vals[q] >= m.level {
+						group[i] = id
+					}
+				}
+			}
+			*j = outlineJudged{}
 		}
 	}
 	fillHoles(group, w, h)
@@ -1125,6 +1163,9 @@ type edgeTest struct {
 	floor   float64
 	con     []float64
 	source  float64
+	// workers is the goroutines of edgeless's scan for outline pixels
+	// (parallel's rules; the result does not depend on it).
+	workers int
 }
 
 // sourceContrast is the contrast |I/B - 1| of an object sourceRatio
@@ -1242,9 +1283,35 @@ func edgeless(objects labelmap.Map, n int, t *edgeTest) []bool {
 	// (a diffuse edge: edgeIfSource), in a second pass. The median is
 	// a value of the same pixels either way.
 	outline := make([]outlineEnergy, n+1)
-	for i, l := range labels {
-		if l > 0 && onOutline(labels, i, w, h) {
-			outline[l].add(t, i)
+	// The outline pixels and their energies are found on bands of rows
+	// on t.workers goroutines and added to their objects band after band,
+	// so each object's lists are in raster order, as one pass makes them.
+	type outlinePixel struct {
+		l            int32
+		fine, coarse float64
+	}
+	nb := min(h, 16)
+	bands := make([][]outlinePixel, nb)
+	parallel.Blocks(h, (h+nb-1)/nb, t.workers, func(c, ya, yb int) {
+		var px []outlinePixel
+		for i := ya * w; i < yb*w; i++ {
+			if l := labels[i]; l > 0 && onOutline(labels, i, w, h) {
+				o := outlinePixel{l: l, fine: t.fineNear(i)}
+				if t.coarse != nil {
+					o.coarse = float64(t.coarseAt(i))
+				}
+				px = append(px, o)
+			}
+		}
+		bands[c] = px
+	})
+	for _, px := range bands {
+		for _, o := range px {
+			e := &outline[o.l]
+			e.fine = append(e.fine, o.fine)
+			if t.coarse != nil {
+				e.coarse = append(e.coarse, o.coarse)
+			}
 		}
 	}
 	verdict := make([]int8, n+1)
@@ -1483,18 +1550,25 @@ func joinTouching(con []float64, objects labelmap.Map, n, workers int) ([]int32,
 	}
 	mean := make([]float64, n+1)
 	cnt := make([]float64, n+1)
-	sumLabels(labels, con, mean, cnt)
-	for l := range mean {
-		if cnt[l] > 0 {
-			mean[l] /= cnt[l]
-		}
-	}
+	// The objects' sums (one pass in raster order) are added beside the
+	// border sums (on workers goroutines): both only read the maps.
+	summed := make(chan struct{})
+	go func() {
+		sumLabels(labels, con, mean, cnt)
+		close(summed)
+	}()
 	seamSum, seamCnt := seamSums(labels, w, h, con, func(a, b int32) (uint64, bool) {
 		if a == 0 || b == 0 {
 			return 0, false
 		}
 		return pairKey(min(a, b), max(a, b)), true
 	}, workers)
+	<-summed
+	for l := range mean {
+		if cnt[l] > 0 {
+			mean[l] /= cnt[l]
+		}
+	}
 	if len(seamSum) == 0 {
 		return labels, n
 	}

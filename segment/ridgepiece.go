@@ -5,6 +5,7 @@ import (
 	"slices"
 
 	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // outshone returns drop[l] true for every thin object l (labels 1..n, 0
@@ -46,8 +47,10 @@ import (
 // surround, so what lies around the part in view says little about the
 // whole (scikit-image's astronaut.png, `--classes 2 --background dark`:
 // four of the flag's stars cut by the left edge were dropped).
-// (DEVELOPERS.md, "Measured choices".)
-func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
+// (DEVELOPERS.md, "Measured choices".) The objects are judged on
+// workers goroutines (parallel's rules), each on its own, so the result
+// does not depend on workers.
+func outshone(lum, field []float32, objects labelmap.Map, n, workers int) []bool {
 	if n == 0 {
 		return nil
 	}
@@ -71,27 +74,53 @@ func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 		return s / float32(c)
 	}
 	// Each object's pixels are gathered from its box when it is judged,
-	// not all held at once (a 16 MP frame has millions of them).
-	boxes := make([]box, n+1)
-	for i := range boxes {
-		boxes[i] = box{w, h, -1, -1}
-	}
-	for i, l := range labels {
-		if l > 0 {
-			x, y := i%w, i/w
-			b := &boxes[l]
-			b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, x), max(b.y1, y)
+	// not all held at once (a 16 MP frame has millions of them). The
+	// boxes are found on bands of rows (a run of one label at a time),
+	// and merged: a box's least and largest coordinates do not depend on
+	// the order they are met in.
+	nb := min(h, 8)
+	bandBoxes := make([][]box, nb)
+	parallel.Blocks(h, (h+nb-1)/nb, workers, func(c, ya, yb int) {
+		boxes := make([]box, n+1)
+		for i := range boxes {
+			boxes[i] = box{w, h, -1, -1}
+		}
+		for y := ya; y < yb; y++ {
+			row := labels[y*w : (y+1)*w]
+			for x := 0; x < w; {
+				l := row[x]
+				e := x + 1
+				for e < w && row[e] == l {
+					e++
+				}
+				if l > 0 {
+					b := &boxes[l]
+					b.x0, b.y0, b.x1, b.y1 = min(b.x0, x), min(b.y0, y), max(b.x1, e-1), max(b.y1, y)
+				}
+				x = e
+			}
+		}
+		bandBoxes[c] = boxes
+	})
+	boxes := bandBoxes[0]
+	for _, bb := range bandBoxes[1:] {
+		for l, b := range bb {
+			a := &boxes[l]
+			a.x0, a.y0, a.x1, a.y1 = min(a.x0, b.x0), min(a.y0, b.y0), max(a.x1, b.x1), max(a.y1, b.y1)
 		}
 	}
+	// The objects are judged on workers goroutines, each on its own: an
+	// object's verdict reads the maps only.
 	drop := make([]bool, n+1)
-	any := false
-	var px []int
-	for l := 1; l <= n; l++ {
+	scratch := make([][]int, parallel.Goroutines(n, workers))
+	parallel.ForErr(n, workers, func(g, c int) error {
+		l := c + 1
 		b := boxes[l]
 		if b.x1 < 0 || b.x0 == 0 || b.y0 == 0 || b.x1 == w-1 || b.y1 == h-1 {
-			continue // none, or cut by the frame (see above)
+			return nil // none, or cut by the frame (see above)
 		}
-		px = px[:0]
+		px := scratch[g][:0]
+		defer func() { scratch[g] = px }()
 		for y := b.y0; y <= b.y1; y++ {
 			for x := b.x0; x <= b.x1; x++ {
 				if labels[y*w+x] == int32(l) {
@@ -100,7 +129,7 @@ func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 			}
 		}
 		if thick(labels, w, h, px) {
-			continue
+			return nil
 		}
 		var sum float64
 		for _, i := range px {
@@ -151,10 +180,11 @@ func outshone(lum, field []float32, objects labelmap.Map, n int) []bool {
 			})
 		}
 		if count > 0 {
-			drop[l], any = true, true
+			drop[l] = true
 		}
-	}
-	if !any {
+		return nil
+	})
+	if !slices.Contains(drop, true) {
 		return nil
 	}
 	return drop

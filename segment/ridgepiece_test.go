@@ -62,7 +62,7 @@ func lineScene(line, disc float32) (lum, field []float32, obj labelmap.Map) {
 // opposite sign and does not count.
 func TestOutshoneLineStretch(t *testing.T) {
 	lum, field, obj := lineScene(0.3, 0.8)
-	drop := outshone(lum, field, obj, 2)
+	drop := outshone(lum, field, obj, 2, 0)
 	if drop == nil || !drop[1] {
 		t.Fatalf("the stretch of line was kept (drop %v)", drop)
 	}
@@ -86,7 +86,7 @@ func TestOutshoneFrame(t *testing.T) {
 			obj.Pix[y*obj.Width+x] = 1
 		}
 	}
-	if drop := outshone(lum, field, obj, 2); drop != nil && drop[1] {
+	if drop := outshone(lum, field, obj, 2, 0); drop != nil && drop[1] {
 		t.Errorf("the stretch cut by the frame was dropped")
 	}
 }
@@ -105,14 +105,14 @@ func TestOutshoneKeepsIsolated(t *testing.T) {
 			lum[i] = 0.7
 		}
 	}
-	if drop := outshone(lum, field, obj, 2); drop != nil {
+	if drop := outshone(lum, field, obj, 2, 0); drop != nil {
 		t.Errorf("isolated objects dropped: %v", drop)
 	}
 	rng := rand.New(rand.NewPCG(1, 2))
 	for i := range lum {
 		lum[i] += float32(rng.NormFloat64() * 0.04)
 	}
-	if drop := outshone(lum, field, obj, 2); drop != nil {
+	if drop := outshone(lum, field, obj, 2, 0); drop != nil {
 		t.Errorf("isolated objects dropped under noise: %v", drop)
 	}
 }
@@ -137,7 +137,7 @@ func TestOutshoneNeighbourRim(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 2); drop != nil {
+	if drop := outshone(lum, field, obj, 2, 0); drop != nil {
 		t.Errorf("objects dropped beside a brighter rim: %v", drop)
 	}
 }
@@ -198,7 +198,7 @@ func TestOutshoneOwnRim(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1, 0); drop != nil {
 		t.Errorf("a thin object dropped for its own blurred rim")
 	}
 }
@@ -228,10 +228,10 @@ func TestOutshoneThick(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1, 0); drop != nil {
 		t.Errorf("a thick object dropped")
 	}
-	if drop := outshone(lum, field, bar, 1); drop == nil {
+	if drop := outshone(lum, field, bar, 1, 0); drop == nil {
 		t.Errorf("a thin bar with a brighter patch beside it kept")
 	}
 }
@@ -266,7 +266,7 @@ func TestOutshoneAcrossGap(t *testing.T) {
 			}
 		}
 	}
-	if drop := outshone(lum, field, obj, 1); drop != nil {
+	if drop := outshone(lum, field, obj, 1, 0); drop != nil {
 		t.Errorf("a bar dropped for a darker one across a gap")
 	}
 }

@@ -829,7 +829,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				ie.coarse, ie.coarseW = coarseEnergyBlocks(in.Luminance, w, h, p.Workers)
 				ie.floor = edgeFloor(energy, p.Workers)
 			}
-			edges := &edgeTest{w: w, h: h, fine: energy, floor: ie.floor, coarse: ie.coarse, coarseW: ie.coarseW, source: sourceContrast(p.Background)}
+			edges := &edgeTest{w: w, h: h, fine: energy, floor: ie.floor, coarse: ie.coarse, coarseW: ie.coarseW, source: sourceContrast(p.Background), workers: p.Workers}
 			con := contrastOfGrid(nil, in.Luminance, fieldG, p.Workers)
 			edges.con = con
 			// objects is an object map of this image.
@@ -933,7 +933,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
-			if drop := outshone(in.Luminance, fieldG.plane(nil, p.Workers), res.Labels, res.NumObjects); drop != nil {
+			if drop := outshone(in.Luminance, fieldG.plane(nil, p.Workers), res.Labels, res.NumObjects, p.Workers); drop != nil {
 				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
 			stage("objects")

@@ -7,6 +7,7 @@ import (
 
 	"github.com/cleave-seg/cleave/segment/eigen"
 	"github.com/cleave-seg/cleave/segment/labelmap"
+	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
 // Warning is a finding about a result that its user should check before
@@ -154,10 +155,33 @@ func objectWarnings(p Params, objects labelmap.Map, n, classPixels int) []Warnin
 		}
 		return []Warning{w}
 	}
-	area := make([]int, n+1)
-	for _, l := range labels {
-		if l > 0 {
-			area[l]++
+	// The areas are counted on bands of rows (a run of one label at a
+	// time) on the workers and added: counts, so exact in any order.
+	h := objects.Height
+	nb := max(1, min(h, 8))
+	bandArea := make([][]int, nb)
+	for c := range bandArea {
+		bandArea[c] = make([]int, n+1)
+	}
+	parallel.Blocks(h, (h+nb-1)/nb, p.Workers, func(c, ya, yb int) {
+		a := bandArea[c]
+		row := labels[ya*objects.Width : yb*objects.Width]
+		for i := 0; i < len(row); {
+			l := row[i]
+			e := i + 1
+			for e < len(row) && row[e] == l {
+				e++
+			}
+			if l > 0 {
+				a[l] += e - i
+			}
+			i = e
+		}
+	})
+	area := bandArea[0]
+	for _, a := range bandArea[1:] {
+		for l, v := range a {
+			area[l] += v
 		}
 	}
 	for l := 1; l <= n; l++ {
