@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"github.com/cleave-seg/cleave/segment/labelmap"
 )
 
 // The whole-image passes of the object stages, checked against plain
@@ -285,6 +287,64 @@ func TestMean3AtMatchesBoxMean3Rows(t *testing.T) {
 			if got := mean3At(v, w, h, i%w, i/w); got != want[i] {
 				t.Fatalf("%dx%d: (%d,%d) = %v, want %v", w, h, i%w, i/w, got, want[i])
 			}
+		}
+	}
+}
+
+// TestTightenObjectsAnyWorkers: tightenObjects judges its objects'
+// outlines on the workers, 256 objects at a time, and applies them in
+// label order, so a background pixel within reach of two objects goes to
+// the first as in one pass; the pieces must not depend on the workers.
+// A field of small blurred discs (more than two chunks), packed so
+// that their grown boxes overlap, with noise.
+func TestTightenObjectsAnyWorkers(t *testing.T) {
+	const w, h = 320, 300
+	rng := rand.New(rand.NewPCG(15, 16))
+	con := make([]float64, w*h)
+	labels := make([]int32, w*h)
+	n := 0
+	for range 1500 {
+		cx, cy, r := 6+rng.IntN(w-12), 6+rng.IntN(h-12), 2+rng.IntN(4)
+		peak := 0.5 + rng.Float64()
+		free := true
+		for y := cy - r; y <= cy+r && free; y++ {
+			for x := cx - r; x <= cx+r; x++ {
+				if labels[y*w+x] != 0 {
+					free = false
+					break
+				}
+			}
+		}
+		if !free {
+			continue
+		}
+		n++
+		for y := max(cy-2*r, 0); y < min(cy+2*r+1, h); y++ {
+			for x := max(cx-2*r, 0); x < min(cx+2*r+1, w); x++ {
+				d2 := float64((x-cx)*(x-cx) + (y-cy)*(y-cy))
+				con[y*w+x] += peak * math.Exp(-d2/float64(2*r*r))
+				if d2 <= float64(r*r) {
+					labels[y*w+x] = int32(n)
+				}
+			}
+		}
+	}
+	for i := range con {
+		con[i] += 0.05 * rng.NormFloat64()
+	}
+	if n <= 2*256 {
+		t.Fatalf("only %d discs placed; the test needs more than two chunks", n)
+	}
+	var want []int32
+	var wantN int
+	for _, workers := range []int{1, 2, 3} {
+		got, gotN := tightenObjects(con, labelmap.Map{Pix: slices.Clone(labels), Width: w, Height: h}, n, 5, workers)
+		if want == nil {
+			want, wantN = got, gotN
+			continue
+		}
+		if gotN != wantN || !slices.Equal(got, want) {
+			t.Fatalf("%d workers: %d pieces, %d with one worker, or other labels", workers, gotN, wantN)
 		}
 	}
 }

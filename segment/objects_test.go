@@ -636,7 +636,8 @@ func TestSeamSumsMatchOnePass(t *testing.T) {
 
 // TestEdgelessMatchesOnePass checks edgeless (the contrast of an
 // object's pixels gathered only when its outline leaves the answer to
-// it) against the former single pass that gathered every object's
+// it; the outline found on bands of rows on one or three workers)
+// against the former single pass that gathered every object's
 // contrast and asked edge: the same objects marked, on the scene of
 // TestEdgelessDiffuse cut into more objects (quarters of the discs, the
 // background pieces) at several contrast scales.
@@ -692,9 +693,13 @@ func TestEdgelessMatchesOnePass(t *testing.T) {
 			{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse, con: con, source: sourceContrast("dark")},
 		} {
 			want := onePass(test)
-			got := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 5, test)
-			if !slices.Equal(got, want) {
-				t.Fatalf("contrast x%v, coarse %v, con %v: %v, want %v", scale, test.coarse != nil, test.con != nil, got, want)
+			// edgeless scans 16 bands of rows on test.workers goroutines.
+			for _, workers := range []int{1, 3} {
+				test.workers = workers
+				got := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 5, test)
+				if !slices.Equal(got, want) {
+					t.Fatalf("contrast x%v, coarse %v, con %v, %d workers: %v, want %v", scale, test.coarse != nil, test.con != nil, workers, got, want)
+				}
 			}
 			if want != nil {
 				marked++
