@@ -443,7 +443,8 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 	// Label and class maps share one format; labels that PNG cannot hold
 	// switch both to TIFF, and the record and stderr say so.
 	asked := j.Options.LabelsFormat
-	format, switched := LabelsFormatFor(asked, labels.Max())
+	top := maxLabel(labels, workers)
+	format, switched := LabelsFormatFor(asked, top)
 	if switched {
 		also := ""
 		if classes.Pix != nil {
@@ -451,7 +452,7 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		}
 		rec.Warnings = append(rec.Warnings, WarningInfo{Code: LabelWarningCode, Message: j.Voice.Msg(fmt.Sprintf(
 			"the label map holds labels up to %d, more than the %d a 16-bit PNG holds; it was written as a 32-bit TIFF, %s, instead of %s%s; `labels-format` tiff asks for TIFF from the start",
-			labels.Max(), imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffix(format))), filepath.Base(j.Out.Path(LabelsSuffix(asked))), also))})
+			top, imageio.MaxPNGLabel, filepath.Base(j.Out.Path(LabelsSuffix(format))), filepath.Base(j.Out.Path(LabelsSuffix(asked))), also))})
 		fallback := []string{j.Out.Path(LabelsSuffix(format))}
 		if classes.Pix != nil {
 			fallback = append(fallback, j.Out.Path(ClassesSuffix(format)))
@@ -568,6 +569,25 @@ func Process(ctx context.Context, j Job) (*Record, error) {
 		return fail(err)
 	}
 	return rec, nil
+}
+
+// maxLabel is m.Max() found on blocks of pixels on workers goroutines
+// (parallel's rules): the largest of the blocks' largest labels.
+func maxLabel(m labelmap.Map, workers int) int32 {
+	const block = 1 << 16
+	tops := make([]int32, (len(m.Pix)+block-1)/block)
+	parallel.Blocks(len(m.Pix), block, workers, func(b, lo, hi int) {
+		var top int32
+		for _, l := range m.Pix[lo:hi] {
+			top = max(top, l)
+		}
+		tops[b] = top
+	})
+	var top int32
+	for _, t := range tops {
+		top = max(top, t)
+	}
+	return top
 }
 
 // priorOutputs reads the record an earlier run left for set and returns
