@@ -1478,11 +1478,26 @@ func relabelInto(dst, labels []int32, n int, drop []bool) ([]int32, int) {
 // minArea pixels to the neighbouring object it shares the most pixel
 // edges with, or to the background when it touches none (a re-cut can
 // leave a few pixels cut off from both sides of a split), and numbers the
-// objects 1..N in raster order of their first pixel.
-func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
+// objects 1..N in raster order of their first pixel. Areas and shared
+// edges are counted on bands of rows on workers goroutines and added, so
+// the result does not depend on workers.
+func absorbSmall(objects labelmap.Map, n, minArea, workers int) ([]int32, int) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
+	// The areas, and below the shared borders, are counted on bands of
+	// rows on the workers and added: counts, exact in any order.
+	nb := max(1, min(h, 8))
+	rows := (h + nb - 1) / nb
+	bandArea := make([][]int, nb)
+	parallel.Blocks(h, rows, workers, func(c, ya, yb int) {
+		bandArea[c] = make([]int, n+1)
+		countLabels(labels[ya*w:yb*w], bandArea[c])
+	})
 	area := make([]int, n+1)
-	countLabels(labels, area)
+	for _, a := range bandArea {
+		for l, v := range a {
+			area[l] += v
+		}
+	}
 	target := make([]int32, n+1)
 	small := false
 	for l := 1; l <= n; l++ {
@@ -1494,16 +1509,27 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 	if !small {
 		return labels, n
 	}
-	shared := map[uint64]int{}
-	for i, l := range labels {
-		if l <= 0 || area[l] >= minArea {
-			continue
-		}
-		neighbours4(i, w, h, func(j int) {
-			if m := labels[j]; m > 0 && m != l && area[m] >= minArea {
-				shared[uint64(l)<<32|uint64(m)]++
+	bandShared := make([]map[uint64]int, nb)
+	parallel.Blocks(h, rows, workers, func(c, ya, yb int) {
+		shared := map[uint64]int{}
+		for i := ya * w; i < yb*w; i++ {
+			l := labels[i]
+			if l <= 0 || area[l] >= minArea {
+				continue
 			}
-		})
+			neighbours4(i, w, h, func(j int) {
+				if m := labels[j]; m > 0 && m != l && area[m] >= minArea {
+					shared[uint64(l)<<32|uint64(m)]++
+				}
+			})
+		}
+		bandShared[c] = shared
+	})
+	shared := bandShared[0]
+	for _, bs := range bandShared[1:] {
+		for k, c := range bs {
+			shared[k] += c
+		}
 	}
 	best := make([]int, n+1)
 	for l := 1; l <= n; l++ {
@@ -1519,11 +1545,13 @@ func absorbSmall(objects labelmap.Map, n, minArea int) ([]int32, int) {
 	}
 	drop := make([]bool, n+1)
 	out := make([]int32, len(labels))
-	for i, l := range labels {
-		if l > 0 {
-			out[i] = target[l]
+	parallel.Blocks(len(labels), pixelBlock, workers, func(_, lo, hi int) {
+		for i, l := range labels[lo:hi] {
+			if l > 0 {
+				out[lo+i] = target[l]
+			}
 		}
-	}
+	})
 	return relabelInto(out, out, n, drop)
 }
 
@@ -1589,11 +1617,13 @@ func joinTouching(con []float64, objects labelmap.Map, n, workers int) ([]int32,
 	for l := range root {
 		root[l] = f.Find(int32(l))
 	}
-	for i, l := range labels {
-		if l > 0 {
-			labels[i] = root[l]
+	parallel.Blocks(len(labels), pixelBlock, workers, func(_, lo, hi int) {
+		for i, l := range labels[lo:hi] {
+			if l > 0 {
+				labels[lo+i] = root[l]
+			}
 		}
-	}
+	})
 	return relabelInto(labels, labels, n, make([]bool, n+1))
 }
 

@@ -204,18 +204,21 @@ func TestAbsorbSmall(t *testing.T) {
 		1, 1, 2, 3, 3, 0,
 		1, 1, 0, 3, 0, 4,
 	}
-	got, n := absorbSmall(labelmap.Map{Pix: labels, Width: w, Height: h}, 4, 3)
 	want := []int32{
 		1, 1, 1, 2, 2, 0,
 		1, 1, 1, 2, 2, 0,
 		1, 1, 0, 2, 0, 0,
 	}
-	if n != 2 {
-		t.Fatalf("%d objects, want 2", n)
-	}
-	for i := range want {
-		if got[i] != want[i] {
-			t.Fatalf("labels %v, want %v", got, want)
+	// Counted on bands of one row: the same on one to three workers.
+	for _, workers := range []int{1, 2, 3} {
+		got, n := absorbSmall(labelmap.Map{Pix: labels, Width: w, Height: h}, 4, 3, workers)
+		if n != 2 {
+			t.Fatalf("%d workers: %d objects, want 2", workers, n)
+		}
+		for i := range want {
+			if got[i] != want[i] {
+				t.Fatalf("%d workers: labels %v, want %v", workers, got, want)
+			}
 		}
 	}
 }

@@ -930,7 +930,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if drop := edgeless(res.Labels, res.NumObjects, edges); drop != nil {
 				res.Labels.Pix, res.NumObjects = relabelInto(res.Labels.Pix, res.Labels.Pix, res.NumObjects, drop)
 			}
-			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1))
+			res.Labels.Pix, res.NumObjects = absorbSmall(res.Labels, res.NumObjects, max(p.MinArea, 1), p.Workers)
 			// Pieces of a thin structure that the class map left as
 			// background around them go too (outshone).
 			if drop := outshone(in.Luminance, fieldG.plane(nil, p.Workers), res.Labels, res.NumObjects, p.Workers); drop != nil {
