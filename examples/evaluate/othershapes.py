@@ -36,7 +36,9 @@ covers: bacteria (dark rods with a faint bright halo on an uneven bright
 field, end to end and side by side), filtered (bright irregular
 particles on a porous filter membrane: dense dark pores, particles
 4.5-12 pixel noise deviations above it) and span (fluorescent nuclei whose brightness spans 30x in
-one field, on a dark background).
+one field, on a dark background); large (cells of radius 28-60 px, 8-25
+a field) and counts8 (8-bit nuclei of 14-40 counts on 8, saved as raw
+8-bit values).
 
     othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png (jpeg: .jpg), .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
@@ -737,6 +739,36 @@ def span(rng, n=512):
 
 
 
+def large(rng, n=512):
+    """Large cells (ellipses radius 28-60 px, aspect up to 1.4, 35 %
+    touching), 8-25 a field, bright on dark with a smooth 20 % interior
+    texture and a dimmer rim, blur 2 px, Poisson noise at 200 photons."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.full((n, n), 0.15)
+    tex = smooth_field(rng, n, 6, 0.2)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(8, 25), 0.35,
+                                    lambda r: r.uniform(28, 60), lambda r: r.uniform(1, 1.4), 3000, 0.06):
+        img[box][m] = rng.uniform(0.6, 1.2) * tex[box][m]
+    img = filters.gaussian(img, 2.0)
+    return noise(img, rng, 200, 0.0), truth
+
+
+def counts8(rng, n=512):
+    """8-bit nuclei stored with few grey levels: background about 8 counts,
+    nuclei 14-40 counts (ellipses radius 6-14 px, 30 % touching), blur 1.2
+    px, Poisson counts; saved as raw 8-bit values."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.full((n, n), 8.0)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.3,
+                                    lambda r: r.uniform(6, 14), lambda r: r.uniform(1, 1.5), 4000, 0.08):
+        img[box][m] = rng.uniform(14, 40)
+    img = filters.gaussian(img, 1.2, preserve_range=True)
+    return np.clip(rng.poisson(img), 0, 255).astype(np.uint8), truth
+
+
+
 def scores(pred, truth):
     iou, npred, ntrue = W.pair_ious(pred, truth)
     tp = (iou > 0.5).sum()
@@ -800,7 +832,7 @@ KINDS = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "
          "sizes": sizes, "hollow": hollow, "defocus": defocus, "jpeg": jpeg, "elongated": elongated,
          "chromatin": chromatin, "lowcount": lowcount, "pits": pits,
          "brightfield": brightfield, "tiles": tiles, "glowing": glowing, "machined": machined,
-         "bacteria": bacteria, "filtered": filtered, "span": span}
+         "bacteria": bacteria, "filtered": filtered, "span": span, "large": large, "counts8": counts8}
 
 
 def main():
@@ -810,7 +842,10 @@ def main():
         for s in range(seed, seed + count):
             rng = np.random.default_rng(s)
             img, truth = KINDS[kind](rng)
-            if kind == "jpeg":
+            if img.dtype == np.uint8:  # raw 8-bit values as they are
+                io.imsave(os.path.join(out, "%s-%d.png" % (kind, s)), img, check_contrast=False)
+                io.imsave(os.path.join(out, "%s-%d.truth.png" % (kind, s)), truth.astype(np.uint16), check_contrast=False)
+            elif kind == "jpeg":
                 save(out, "%s-%d" % (kind, s), img, truth, "jpg", rng.integers(60, 81))
             else:
                 save(out, "%s-%d" % (kind, s), img, truth, "counts" if kind == "lowcount" else "png16")
