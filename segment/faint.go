@@ -50,8 +50,10 @@ const faintSigmas = 7
 // othershapes.py 1600-1604 and filtered 2000-2003), object F1 / mAP
 // against both sides' MAD: filtered 0.909 / 0.652 -> 0.928 / 0.676, haze
 // 0.840 / 0.595 -> 0.848 / 0.601, brightfield +0.002, clusters 0.829 /
-// 0.579 -> 0.825 / 0.577, the other kinds within 0.004 in mAP (most
-// identical). Background superpixels
+// 0.579 -> 0.825 / 0.577 (measured while the class stage also took the
+// shifted backgroundRatio; with the final rules clusters scores as
+// before), the other kinds within 0.004 in mAP (most identical).
+// Background superpixels
 // beyond m + faintSigmas·σ on the objects' side (above for a dark
 // background, below for a bright one) stand out, and each connected
 // piece of them (4-neighbours, at least minArea pixels) becomes a new

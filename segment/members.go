@@ -47,7 +47,9 @@ type member struct {
 // means over its pixels, as for any object (tightenObjects then takes
 // the level of the rest of the region without the members' pixels,
 // since a large dim member pulls the region's plateau down and the
-// bright object's outline out). px are the region's pixels (frame
+// bright object's outline out). When neither the basins nor the necks
+// give a member, remainderMembers looks at what the region's level
+// would drop. px are the region's pixels (frame
 // indices, ascending), own their 3x3 means (their contrasts for a small
 // object, fineRadius), sm the same at any pixel, b the region's box, w x
 // h the frame.
