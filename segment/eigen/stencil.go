@@ -141,45 +141,21 @@ func (op *stencilOp) edgeRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1
 			op.mulRowsGo(lm, s, y, x, tmp, i, i+1)
 			continue
 		}
-		kern := func(f func(*float64, *int, int, *float32, *float64, *float64, *float64, int, int), c int) {
+		stencilGroups(m, func(f stencilKernel, c int) {
 			b := i*m + c
 			f(&tmp.v[b], &lin[0], len(lin), &ws[0], &s[i], &x.v[b], &y.v[b], m, 1)
-		}
-		for c0 := 0; c0 < m; {
-			switch columnGroup(m - c0) {
-			case 6:
-				kern(stencilRows6, c0)
-				c0 += 6
-			case 5:
-				kern(stencilRows5, c0)
-				c0 += 5
-			case 3:
-				kern(stencilRows3, c0)
-				c0 += 3
-			case 2:
-				kern(stencilRows2, c0)
-				c0 += 2
-			default:
-				op.single(lin, ws, s[i], y, x, tmp, i, c0)
-				c0++
-			}
-		}
+		}, func(c int) { op.single(lin, ws, s[i], y, x, tmp, i, c) })
 	}
 }
 
-// mulRowsAVX is mulRows on rows r0..r1-1, all in range (inRange), with
-// the kernels of stencil_amd64.s (groups of 6, 5, 3 and 2 columns). The
-// columns are grouped as mulRowsGo groups them, so that the same columns
-// take the single-column pass split by parity. Each kernel's lane does
-// the Go loop's operations in its order, so the result is mulRowsGo's
-// bit for bit (TestStencilProductMatchesCSR, TestStencilAVXMatchesGo).
-func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
-	m, k := x.m, op.k
-	rows := r1 - r0
-	kern := func(f func(*float64, *int, int, *float32, *float64, *float64, *float64, int, int), c int) {
-		b := r0*m + c
-		f(&tmp.v[b], &lm[0], k, &op.wt[r0*k], &s[r0], &x.v[b], &y.v[b], m, rows)
-	}
+// stencilKernel is the signature of the stencil product's kernels
+// (stencilRows6, 5, 3 and 2).
+type stencilKernel = func(t *float64, lm *int, k int, ws *float32, s *float64, x *float64, y *float64, stride int, rows int)
+
+// stencilGroups runs the m columns of a block in the groups columnGroup
+// makes (6, 5, 3 and 2 columns through kern with their kernel, a single
+// column through single), in column order.
+func stencilGroups(m int, kern func(f stencilKernel, c int), single func(c int)) {
 	for c0 := 0; c0 < m; {
 		switch columnGroup(m - c0) {
 		case 6:
@@ -195,12 +171,29 @@ func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 
 			kern(stencilRows2, c0)
 			c0 += 2
 		default:
-			for i := r0; i < r1; i++ {
-				op.single(lm, op.wt[i*k:i*k+k], s[i], y, x, tmp, i, c0)
-			}
+			single(c0)
 			c0++
 		}
 	}
+}
+
+// mulRowsAVX is mulRows on rows r0..r1-1, all in range (inRange), with
+// the kernels of stencil_amd64.s (groups of 6, 5, 3 and 2 columns). The
+// columns are grouped as mulRowsGo groups them, so that the same columns
+// take the single-column pass split by parity. Each kernel's lane does
+// the Go loop's operations in its order, so the result is mulRowsGo's
+// bit for bit (TestStencilProductMatchesCSR, TestStencilAVXMatchesGo).
+func (op *stencilOp) mulRowsAVX(lm []int, s []float64, y, x, tmp *block, r0, r1 int) {
+	m, k := x.m, op.k
+	rows := r1 - r0
+	stencilGroups(m, func(f stencilKernel, c int) {
+		b := r0*m + c
+		f(&tmp.v[b], &lm[0], k, &op.wt[r0*k], &s[r0], &x.v[b], &y.v[b], m, rows)
+	}, func(c int) {
+		for i := r0; i < r1; i++ {
+			op.single(lm, op.wt[i*k:i*k+k], s[i], y, x, tmp, i, c)
+		}
+	})
 }
 
 // single is the single-column pass of mulRowsGo for column c of row i
