@@ -732,23 +732,23 @@ def span(rng, n=512):
     img = np.full((n, n), 0.1)
     tex = smooth_field(rng, n, 3, 0.1)
     for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.35,
-                                    lambda r: r.uniform(7, 16), lambda r: r.uniform(1, 1.5), 4000, 0.08):
+                                  lambda r: r.uniform(7, 16), lambda r: r.uniform(1, 1.5), 4000, 0.08):
         img[box][m] = 0.1 + np.exp(rng.uniform(np.log(0.2), np.log(6))) * tex[box][m]
     img = filters.gaussian(img, 1.5)
     return noise(img, rng, 800, 0.0), truth
 
 
-
 def large(rng, n=512):
     """Large cells (ellipses radius 28-60 px, aspect up to 1.4, 35 %
-    touching), 8-25 a field, bright on dark with a smooth 20 % interior
-    texture and a dimmer rim, blur 2 px, Poisson noise at 200 photons."""
+    touching), 8-25 a field, bright on dark (0.6-1.2 on 0.15) with a
+    smooth 20 % interior texture, blur 2 px, Poisson noise at 200
+    photons."""
     truth = np.zeros((n, n), np.int32)
     cells = []
     img = np.full((n, n), 0.15)
     tex = smooth_field(rng, n, 6, 0.2)
     for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(8, 25), 0.35,
-                                    lambda r: r.uniform(28, 60), lambda r: r.uniform(1, 1.4), 3000, 0.06):
+                                  lambda r: r.uniform(28, 60), lambda r: r.uniform(1, 1.4), 3000, 0.06):
         img[box][m] = rng.uniform(0.6, 1.2) * tex[box][m]
     img = filters.gaussian(img, 2.0)
     return noise(img, rng, 200, 0.0), truth
@@ -762,7 +762,7 @@ def counts8(rng, n=512):
     cells = []
     img = np.full((n, n), 8.0)
     for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.3,
-                                    lambda r: r.uniform(6, 14), lambda r: r.uniform(1, 1.5), 4000, 0.08):
+                                  lambda r: r.uniform(6, 14), lambda r: r.uniform(1, 1.5), 4000, 0.08):
         img[box][m] = rng.uniform(14, 40)
     img = filters.gaussian(img, 1.2, preserve_range=True)
     return np.clip(rng.poisson(img), 0, 255).astype(np.uint8), truth
