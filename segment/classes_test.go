@@ -241,12 +241,14 @@ func TestContrastOfGridMatchesPlane(t *testing.T) {
 		g := smoothFieldGridOfClass(lum, reg, cls, 0, fc.w, fc.h, float64(max(fc.w, fc.h))/fieldScale, 1)
 		// A few field values below fieldFloor, so the floor is taken.
 		g.grid[0] = fieldFloor / 4
-		want := contrastMap(lum, g.plane(nil, 1), 1)
-		for _, workers := range []int{1, 3} {
-			got := contrastOfGrid(nil, lum, g, workers)
-			for i := range want {
-				if math.Float64bits(got[i]) != math.Float64bits(want[i]) {
-					t.Fatalf("%s, %d workers: pixel %d = %v, want %v", fc.name, workers, i, got[i], want[i])
+		for _, bg := range []Background{BackgroundDark, BackgroundBright, ""} {
+			want := contrastMap(lum, g.plane(nil, 1), bg, 1)
+			for _, workers := range []int{1, 3} {
+				got := contrastOfGrid(nil, lum, g, bg, workers)
+				for i := range want {
+					if math.Float64bits(got[i]) != math.Float64bits(want[i]) {
+						t.Fatalf("%s, background %q, %d workers: pixel %d = %v, want %v", fc.name, bg, workers, i, got[i], want[i])
+					}
 				}
 			}
 		}

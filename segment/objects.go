@@ -13,15 +13,22 @@ import (
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
-// contrastOfGrid returns |I/B - 1| per pixel (I/B the backgroundRatio),
-// the contrast against the background field B that the object stages
-// judge by, B the field of grid g: each value made as interpolateGrid
-// makes it and read at once, so the map is the one a field plane
-// (g.plane) would give, bit for bit, without that plane. It is written
-// into dst when dst has the length of inten (a map the caller no longer
-// needs), else into a new slice; rows run on workers goroutines
-// (workers < 1: GOMAXPROCS).
-func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, workers int) []float64 {
+// contrastOfGrid returns the contrast against the background field B
+// that the object stages judge by, per pixel: with r = I/B the
+// backgroundRatio, max(r - 1, 0) on a dark background, max(1 - r, 0) on
+// a bright one, and |r - 1| with any other background. Objects stand out
+// from their background on its named side (the rule backgroundSide
+// applies to whole regions in the class stage), so a pixel on the other
+// side is background to them: the bright halo that phase contrast draws
+// around a dark cell, or a dark rim around a bright particle, would
+// otherwise count as contrast of the object it surrounds, widening its
+// outline by the halo and joining neighbours through it. B is the field
+// of grid g: each value made as interpolateGrid makes it and read at
+// once, so the map is the one a field plane (g.plane) would give, bit
+// for bit, without that plane. It is written into dst when dst has the
+// length of inten (a map the caller no longer needs), else into a new
+// slice; rows run on workers goroutines (workers < 1: GOMAXPROCS).
+func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, background Background, workers int) []float64 {
 	con := dst
 	if len(con) != len(inten) {
 		con = make([]float64, len(inten))
@@ -31,10 +38,23 @@ func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, workers int) [
 		c, in := con[y*w:(y+1)*w], inten[y*w:(y+1)*w]
 		for x := range c {
 			f := float32(top[x]*(1-ty) + bot[x]*ty)
-			c[x] = math.Abs(backgroundRatio(float64(in[x]), float64(f)) - 1)
+			c[x] = signedContrast(backgroundRatio(float64(in[x]), float64(f)), background)
 		}
 	})
 	return con
+}
+
+// signedContrast is the contrast of a pixel whose ratio to the
+// background field is r, on the objects' side of background (see
+// contrastOfGrid).
+func signedContrast(r float64, background Background) float64 {
+	switch background {
+	case BackgroundDark:
+		return math.Max(r-1, 0)
+	case BackgroundBright:
+		return math.Max(1-r, 0)
+	}
+	return math.Abs(r - 1)
 }
 
 // seamRatio: two adjacent foreground regions stay separate objects when the
@@ -47,7 +67,7 @@ const seamRatio = 0.8
 // connected piece (4-neighbours) of non-background pixels is an object,
 // except that neighbouring pixels of two different regions are joined only
 // when the boundary between those regions is not a seam. A seam is a
-// boundary whose mean contrast con = |I/B - 1| (contrastOfGrid) is below
+// boundary whose mean contrast con (contrastOfGrid) is below
 // seamRatio times the mean contrast of the weaker of the two regions: the
 // dim line between two nuclei pressed together, or the bright ridge between
 // two touching pits. Objects under minArea pixels go to the background.
@@ -337,7 +357,7 @@ const (
 // follow superpixel borders, which keep to strong edges but cut corners
 // at faint ones: a faint nucleus comes out as a blocky patch that spills
 // into the background and joins its faint neighbour. For each object
-// (labels 1..n, 0 background), the contrast |I/B - 1| smoothed by a 3x3
+// (labels 1..n, 0 background), the contrast (contrastOfGrid) smoothed by a 3x3
 // mean is compared with halfMaxLevel of the object's values; the object
 // keeps its pixels at or above that level and gains background pixels at
 // or above it within tightenReach pixels (chessboard distance), where
@@ -1149,7 +1169,7 @@ func coarseEnergyBlocks(lum []float32, w, h, workers int) ([]float32, int) {
 // fine edge energy over its pixels reaches floor (edgeFloor), and, when
 // coarse (the energy at diffuseScale) is known, the edge is not diffuse:
 // median coarse / median fine is at most diffuseRatio, unless the
-// object's median contrast con = |I/B - 1| (contrastOfGrid, when set)
+// object's median contrast con (contrastOfGrid, when set)
 // exceeds source (sourceContrast): the object is then a source.
 type edgeTest struct {
 	w, h int
@@ -1168,7 +1188,7 @@ type edgeTest struct {
 	workers int
 }
 
-// sourceContrast is the contrast |I/B - 1| of an object sourceRatio
+// sourceContrast is the contrast (contrastOfGrid) of an object sourceRatio
 // times brighter than a dark background, or sourceRatio times darker
 // than a bright one.
 func sourceContrast(background Background) float64 {

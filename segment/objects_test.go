@@ -67,7 +67,7 @@ func TestTightenObjects(t *testing.T) {
 			labels[y*w+x] = 1
 		}
 	}
-	out, n := tightenObjects(contrastMap(inten, field, 2), labelmap.Map{Pix: labels, Width: w, Height: h}, 1, 20, 2)
+	out, n := tightenObjects(contrastMap(inten, field, "", 2), labelmap.Map{Pix: labels, Width: w, Height: h}, 1, 20, 2)
 	if n != 2 {
 		t.Fatalf("got %d objects, want 2", n)
 	}
@@ -330,7 +330,7 @@ func TestEdgelessDiffuse(t *testing.T) {
 	for i := range field {
 		field[i] = 0.2
 	}
-	con := contrastMap(lum, field, 2)
+	con := contrastMap(lum, field, "", 2)
 	test := &edgeTest{w: w, h: h, fine: fine, floor: edgeFloor(fine, 1), coarse: coarse, con: con, source: sourceContrast("dark")}
 	if drop := edgeless(labelmap.Map{Pix: labels, Width: w, Height: h}, 2, test); drop != nil {
 		t.Errorf("with the contrast: %v marked, want none (the blurred disc is a source)", drop)
@@ -686,7 +686,7 @@ func TestEdgelessMatchesOnePass(t *testing.T) {
 	}
 	marked := 0
 	for _, scale := range []float64{0.25, 0.5, 1, 2} {
-		con := contrastMap(lum, field, 1)
+		con := contrastMap(lum, field, "", 1)
 		for i := range con {
 			con[i] *= scale
 		}

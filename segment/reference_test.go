@@ -1,8 +1,6 @@
 package segment
 
 import (
-	"math"
-
 	"github.com/cleave-seg/cleave/segment/parallel"
 )
 
@@ -17,16 +15,16 @@ func smoothField(v []float32, mask []bool, w, h int, sigma float64, workers int)
 	return smoothFieldGrid(v, mask, w, h, sigma, workers).plane(nil, workers)
 }
 
-// contrastMap returns |I/B - 1| per pixel against the field plane B
-// (I/B the backgroundRatio).
-func contrastMap(inten, field []float32, workers int) []float64 {
-	return contrastMapInto(nil, inten, field, workers)
+// contrastMap returns the contrast of contrastOfGrid (signedContrast)
+// per pixel against the field plane B.
+func contrastMap(inten, field []float32, background Background, workers int) []float64 {
+	return contrastMapInto(nil, inten, field, background, workers)
 }
 
 // contrastMapInto is contrastMap written into dst when it has the length
 // of inten, else into a new slice; bands of pixels run on workers
 // goroutines, each pixel computed alone.
-func contrastMapInto(dst []float64, inten, field []float32, workers int) []float64 {
+func contrastMapInto(dst []float64, inten, field []float32, background Background, workers int) []float64 {
 	con := dst
 	if len(con) != len(inten) {
 		con = make([]float64, len(inten))
@@ -34,7 +32,7 @@ func contrastMapInto(dst []float64, inten, field []float32, workers int) []float
 	const band = 1 << 16
 	parallel.Blocks(len(con), band, workers, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
-			con[i] = math.Abs(backgroundRatio(float64(inten[i]), float64(field[i])) - 1)
+			con[i] = signedContrast(backgroundRatio(float64(inten[i]), float64(field[i])), background)
 		}
 	})
 	return con

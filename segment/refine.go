@@ -100,10 +100,10 @@ func recutSigmaI(feat []float32, nodes []int, dist []float64, cw, ch int) float6
 }
 
 // refineObjects splits touching objects: each object's pixels form a pixel
-// graph (Shi and Malik 2000) over the contrast |I/B - 1| (B the background
-// field), scaled by the object's own refinePercent quantile, and that graph
-// is cut recursively in two while the best cut has Ncut <= maxNcut (raised
-// for small objects, see refineArea), both
+// graph (Shi and Malik 2000) over the contrast against the background
+// field (contrastOfGrid), scaled by the object's own refinePercent
+// quantile, and that graph is cut recursively in two while the best cut
+// has Ncut <= maxNcut (raised for small objects, see refineArea), both
 // sides hold at least minPart pixels. A dim seam between two objects pressed together gives
 // weak affinities across it and so a cheap cut; a single object has none.
 // A split must also pass objectCrop.seam: the cut must run along a dip in

@@ -36,7 +36,7 @@ func BenchmarkRefineObjects(b *testing.B) {
 		}
 	}
 	field := smoothField(in.Luminance, mask, n, n, float64(n)/fieldScale, 0)
-	con := contrastMap(in.Luminance, field, 0)
+	con := contrastMap(in.Luminance, field, BackgroundDark, 0)
 	obj, nobj := componentsOfGroups(group, n, n, 20, 0)
 	objects := labelmap.Map{Pix: obj, Width: n, Height: n}
 	for _, workers := range []int{1, 0} {

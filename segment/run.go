@@ -830,7 +830,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				ie.floor = edgeFloor(energy, p.Workers)
 			}
 			edges := &edgeTest{w: w, h: h, fine: energy, floor: ie.floor, coarse: ie.coarse, coarseW: ie.coarseW, source: sourceContrast(p.Background), workers: p.Workers}
-			con := contrastOfGrid(nil, in.Luminance, fieldG, p.Workers)
+			con := contrastOfGrid(nil, in.Luminance, fieldG, p.Background, p.Workers)
 			edges.con = con
 			// objects is an object map of this image.
 			objects := func(l []int32) labelmap.Map { return labelmap.Map{Pix: l, Width: w, Height: h} }
@@ -865,7 +865,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				// made again, and made again only where it is read.
 				obj = nil
 				backgroundField()
-				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Background, p.Workers)
 				edges.con = con
 				if round == 1 || p.Classes != 2 || len(in.Planes) != 1 {
 					break
@@ -874,7 +874,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 					break
 				}
 				backgroundField()
-				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Background, p.Workers)
 				edges.con = con
 				obj, nobj = objectsFrom(con, regions, nreg, cls, bg, p.MinArea, p.Workers)
 				fresh = true
@@ -882,7 +882,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if p.Classes == 2 && len(in.Planes) == 1 && ringObjects(in.Luminance, edges, regions, cls, bg, p.Background) {
 				fresh = false
 				backgroundField()
-				con = contrastOfGrid(con, in.Luminance, fieldG, p.Workers)
+				con = contrastOfGrid(con, in.Luminance, fieldG, p.Background, p.Workers)
 				edges.con = con
 			}
 			if !fresh {
