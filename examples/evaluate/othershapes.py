@@ -38,7 +38,12 @@ particles on a porous filter membrane: dense dark pores, particles
 4.5-12 pixel noise deviations above it) and span (fluorescent nuclei whose brightness spans 30x in
 one field, on a dark background); large (cells of radius 28-60 px, 8-25
 a field) and counts8 (8-bit nuclei of 14-40 counts on 8, saved as raw
-8-bit values).
+8-bit values). Four more of that kind came after them: vignette (nuclei
+under a radial falloff to 0.35 at the corners), dense (150-260 nuclei in
+long touching chains without dark seams), phase (dark cells ringed by the
+bright halo of phase contrast on a grey field; the mask is the cell) and
+lowrange (raw 16-bit counts 150-400 above a background of 1000 with a
+gradient of +-150).
 
     othershapes.py gen KIND DIR SEED N      # DIR/KIND-SEED.png (jpeg: .jpg), .truth.png
     othershapes.py score KIND CHOOSE_DIR REPORT_DIR LABELS_DIR...
@@ -47,7 +52,7 @@ score chooses the watershed's parameters on CHOOSE_DIR (watershed.py's
 grid for nuclei, for grains on the inverted image for membrane, the
 nuclei's with objects down to 5 px and closer peaks for specks, surface's
 (inverted, objects down to 5 px) for pits and machined, stained's for
-brightfield, grains' for tiles, haze's for glowing; '-' skips the
+brightfield, bacteria and phase, grains' for tiles, haze's for glowing; '-' skips the
 baseline) and
 prints object F1, mAP over IoU 0.5:0.95 and ARI per scene of REPORT_DIR
 for the baseline and for each folder of NAME.labels.png (e.g. cleave's
@@ -769,6 +774,75 @@ def counts8(rng, n=512):
 
 
 
+def vignette(rng, n=512):
+    """Nuclei (ellipses radius 6-15 px, aspect up to 1.5, 30 % touching),
+    0.5-1.0 above a background of 0.15, under a radial falloff from 1 at
+    a centre up to 60 px off the middle to 0.35 at the corners (the
+    vignetting of a wide-field objective), blur 1.3 px, Poisson noise at
+    300 photons and read noise 0.004."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.full((n, n), 0.15)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.3,
+                                  lambda r: r.uniform(6, 15), lambda r: r.uniform(1, 1.5), 4000, 0.08):
+        img[box][m] = 0.15 + rng.uniform(0.5, 1.0)
+    yy, xx = np.mgrid[0:n, 0:n]
+    cy, cx = n / 2 + rng.uniform(-60, 60), n / 2 + rng.uniform(-60, 60)
+    rr = np.hypot(yy - cy, xx - cx) / (n / np.sqrt(2))
+    img = filters.gaussian(img, 1.3) * (1 - 0.65 * np.clip(rr, 0, 1) ** 2)
+    return noise(img, rng, 300, 0.004), truth
+
+
+def dense(rng, n=512):
+    """Packed nuclei: 150-260 ellipses (radius 7-12 px, aspect up to
+    1.4), 85 % placed beside an earlier one and overlapping up to 15 %,
+    so most lie in long touching chains without a dark seam; 0.6-1.0 on
+    0.1, blur 1.2 px, Poisson noise at 500 photons."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.full((n, n), 0.1)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(150, 260), 0.85,
+                                  lambda r: r.uniform(7, 12), lambda r: r.uniform(1, 1.4), 8000, 0.15):
+        img[box][m] = rng.uniform(0.6, 1.0)
+    img = filters.gaussian(img, 1.2)
+    return noise(img, rng, 500, 0.0), truth
+
+
+def phase(rng, n=512):
+    """Cells as phase contrast shows them: dark (0.35-0.55) on a grey
+    field (0.6), each ringed by a bright halo 3 px wide (0.85) just
+    outside its edge (ellipses radius 8-16 px, aspect up to 1.5, 25 %
+    touching); blur 1 px, Poisson noise at 400 photons. The label is the
+    cell without its halo."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.full((n, n), 0.6)
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(25, 55), 0.25,
+                                  lambda r: r.uniform(8, 16), lambda r: r.uniform(1, 1.5), 4000, 0.06):
+        img[box][m] = rng.uniform(0.35, 0.55)
+    img[ndi.binary_dilation(truth > 0, iterations=3) & (truth == 0)] = 0.85
+    img = filters.gaussian(img, 1.0)
+    return noise(img, rng, 400, 0.0), truth
+
+
+def lowrange(rng, n=512):
+    """16-bit raw counts in a narrow range: a background of 1000 counts
+    with a linear gradient of +-150 across the field in a random
+    direction, nuclei (ellipses radius 6-14 px, aspect up to 1.5, 30 %
+    touching) 150-400 counts above it, blur 1.5 px, Poisson counts."""
+    truth = np.zeros((n, n), np.int32)
+    cells = []
+    img = np.zeros((n, n))
+    for lab, box, m, q in ellipse(rng, truth, cells, rng.integers(30, 70), 0.3,
+                                  lambda r: r.uniform(6, 14), lambda r: r.uniform(1, 1.5), 4000, 0.08):
+        img[box][m] = rng.uniform(150, 400)
+    yy, xx = np.mgrid[0:n, 0:n]
+    a = rng.uniform(0, 2 * np.pi)
+    bg = 1000 + 150 * ((xx - n / 2) * np.cos(a) + (yy - n / 2) * np.sin(a)) / (n / 2)
+    img = filters.gaussian(img, 1.5, preserve_range=True) + bg
+    return rng.poisson(img).astype(np.float64), truth
+
+
 def scores(pred, truth):
     iou, npred, ntrue = W.pair_ious(pred, truth)
     tp = (iou > 0.5).sum()
@@ -800,7 +874,8 @@ def choose(kind, data, inv):
     # The four kinds modelled on the issue's weakest situations use the
     # grids of the Go kinds they stand beside.
     wk = {"membrane": "grains", "specks": "specks", "pits": "surface", "brightfield": "stained",
-          "tiles": "grains", "glowing": "haze", "machined": "surface", "bacteria": "stained"}.get(kind, "nuclei")
+          "tiles": "grains", "glowing": "haze", "machined": "surface", "bacteria": "stained",
+          "phase": "stained"}.get(kind, "nuclei")
     combos, sc = W.search(wk, [(1 - img if inv else img, truth) for _, img, truth in data])
     b = int(np.argmax(sc))
     return wk, combos[b], sc[b]
@@ -832,7 +907,8 @@ KINDS = {"rods": rods, "membrane": membrane, "lobes": lobes, "specks": specks, "
          "sizes": sizes, "hollow": hollow, "defocus": defocus, "jpeg": jpeg, "elongated": elongated,
          "chromatin": chromatin, "lowcount": lowcount, "pits": pits,
          "brightfield": brightfield, "tiles": tiles, "glowing": glowing, "machined": machined,
-         "bacteria": bacteria, "filtered": filtered, "span": span, "large": large, "counts8": counts8}
+         "bacteria": bacteria, "filtered": filtered, "span": span, "large": large, "counts8": counts8,
+         "vignette": vignette, "dense": dense, "phase": phase, "lowrange": lowrange}
 
 
 def main():
@@ -848,7 +924,7 @@ def main():
             elif kind == "jpeg":
                 save(out, "%s-%d" % (kind, s), img, truth, "jpg", rng.integers(60, 81))
             else:
-                save(out, "%s-%d" % (kind, s), img, truth, "counts" if kind == "lowcount" else "png16")
+                save(out, "%s-%d" % (kind, s), img, truth, "counts" if kind in ("lowcount", "lowrange") else "png16")
         return 0
     if len(sys.argv) >= 5 and sys.argv[1] == "score":
         score_main(sys.argv[2], sys.argv[3], sys.argv[4], sys.argv[5:])
