@@ -62,9 +62,9 @@ func BenchmarkMeshBackground(b *testing.B) {
 	}
 }
 
-// BenchmarkContrastMap is the contrast on a dark background over 1, 4 and 16 megapixels, all
-// cores, read from the field's grid and written into the previous map
-// as the class stage does (contrastOfGrid).
+// BenchmarkContrastMap is the contrast on a dark background over 1, 4
+// and 16 megapixels, all cores, read from the field's grid and written
+// into the previous map as the class stage does (contrastOfGrid).
 func BenchmarkContrastMap(b *testing.B) {
 	for _, n := range []int{1024, 2048, 4096} {
 		b.Run(fmt.Sprintf("%dx%d", n, n), func(b *testing.B) {

@@ -33,8 +33,9 @@ func TestSignedContrast(t *testing.T) {
 // haloCells is a phase-contrast-like scene on 240 x 160 pixels: six dark
 // cells (radius 12, level 0.40) on a grey field (0.60), each ringed by a
 // bright halo 3 px wide (0.85) just outside its edge, with Gaussian noise
-// of 0.03 (noisyField). Two pairs sit 30 px apart (their halos 3 px
-// apart), two cells stand alone. The label is the cell, not its halo.
+// of 0.03 (noisyField). Two pairs have centres 30 px apart (6 px between
+// the cells, their halos meeting), two cells stand alone. The label is
+// the cell, not its halo.
 func haloCells(x, y int) (float64, int32) {
 	centres := [][2]float64{{40, 40}, {70, 40}, {40, 115}, {70, 115}, {160, 60}, {200, 115}}
 	const r, halo = 12.0, 3.0
