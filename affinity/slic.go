@@ -56,11 +56,11 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 	}
 	s := newSLICState(f, w, h, p.Count, p.Compactness/100, workers)
 	for it := 0; it < iters; it++ {
-		// A band's sums need only its own labels: each band is summed
-		// right after it is assigned, while its rows are in cache.
-		parallel.For(s.nb, workers, func(b int) {
-			s.assign(b)
-			s.accumulate(b)
+		// A band's sums need only its own labels: assign sums each
+		// row as soon as it is final, while it is in cache.
+		_ = parallel.ForErr(s.nb, workers, func(g, b int) error {
+			s.assign(b, &s.sweeps[g])
+			return nil
 		})
 		s.update()
 	}
@@ -87,10 +87,10 @@ type slicState struct {
 	dist       []uint32
 	nb         int         // bands
 	bandSums   []float64   // nb blocks of k*(planes+3): count, Σx, Σy, ΣF
-	scratch    [][]float32 // per band: squared x distances in a window row
+	sweeps     []slicSweep // assign's scratch, one for each goroutine
 	sumsStride int
 	// span holds, per band, the least and the largest label whose sums
-	// accumulate wrote (least > largest: none); the band's entries
+	// assign summed (least > largest: none); the band's entries
 	// outside it are zero.
 	span [][2]int32
 }
@@ -145,9 +145,18 @@ func newSLICState(f [][]float32, w, h, count int, m float64, workers int) *slicS
 	for b := range s.span {
 		s.span[b] = [2]int32{int32(k), -1}
 	}
-	s.scratch = make([][]float32, s.nb)
-	for b := range s.scratch {
-		s.scratch[b] = make([]float32, 0, scratchLen(w, s.s))
+	s.sweeps = make([]slicSweep, parallel.Goroutines(s.nb, workers))
+	win := min(w, 2*int(s.s)+2) // a window's columns and rows, at most
+	for g := range s.sweeps {
+		s.sweeps[g] = slicSweep{
+			wins:       make([]slicWindow, 0, min(slicBatchWindows, k)),
+			dx2:        make([]float32, 0, min(slicBatch, k*win)),
+			byRow:      make([]int32, 0, min(slicBatch, k*min(h, win))),
+			count:      make([]int32, 0, h/s.nb+2),
+			next:       make([]int32, 0, h/s.nb+2),
+			maxEntries: slicBatch,
+			maxWindows: slicBatchWindows,
+		}
 	}
 	return s
 }
@@ -203,10 +212,24 @@ func (s *slicState) window(c int) (x0, x1, y0, y1 int) {
 	return
 }
 
-// assign is the assignment step for band b. Centres are visited in index
-// order and a pixel moves only to a strictly nearer centre, so the result
-// is that of one sequential pass.
-func (s *slicState) assign(b int) {
+// assign is the assignment step for band b, with sc the scratch of the
+// goroutine running it. Centres are visited in index order and a pixel
+// moves only to a strictly nearer centre, so the result is that of one
+// sequential pass.
+//
+// The band is swept row by row: the windows that reach the band are
+// listed (in index order, with their squared x distances), and each row
+// then takes the spans of the listed windows that cover it, in index
+// order. Every pixel meets the same centres in the same order, with the
+// same float32 operations, as in a sweep centre by centre; only updates
+// of different pixels change order, and a row stays in cache while every
+// window crossing it is applied, where a sweep centre by centre came
+// back to each row once for every window. The list is made in batches of
+// consecutive centres (slicBatch bounds its scratch); batches follow
+// each other in index order, so a pixel still meets the centres in that
+// order. The band's sums are added row by row as each row is finished
+// (after the last batch).
+func (s *slicState) assign(b int, sc *slicSweep) {
 	by0, by1 := s.band(b)
 	w := s.w
 	dist := s.dist[by0*w : by1*w]
@@ -214,10 +237,34 @@ func (s *slicState) assign(b int) {
 	for i := range dist {
 		dist[i] = inf
 	}
-	planes := len(s.f)
-	dx2 := s.scratch[b]
+	sums := s.startSums(b)
 	fb0, fb1 := float64(by0), float64(by1-1)
-	for c := 0; c < s.k; c++ {
+	rows := by1 - by0
+	sc.count = grow32(sc.count, rows+1)
+	sc.next = grow32(sc.next, rows)
+	for c := 0; c < s.k; {
+		c = sc.list(s, c, by0, by1, fb0, fb1)
+		last := c == s.k
+		for y := by0; y < by1; y++ {
+			s.assignRow(y, sc)
+			if last {
+				sums.row(y)
+			}
+		}
+	}
+	s.span[b] = [2]int32{sums.lo, sums.hi}
+}
+
+// list lists in sc the windows of centres from c on that reach rows
+// by0..by1-1, until slicBatch's bounds would be passed, and the windows
+// of each row (sc.byRow from sc.count[r]); it returns the first centre
+// not looked at.
+func (sc *slicSweep) list(s *slicState, c, by0, by1 int, fb0, fb1 float64) int {
+	sc.wins, sc.dx2, sc.byRow = sc.wins[:0], sc.dx2[:0], sc.byRow[:0]
+	rows := by1 - by0
+	clear(sc.count)
+	entries := 0 // window rows listed
+	for ; c < s.k; c++ {
 		// A centre whose window ends above the band (floor(cy+S) <=
 		// cy+S < by0) or starts below it (ceil(cy-S) >= cy-S > by1-1)
 		// is passed over before window's roundings.
@@ -229,98 +276,179 @@ func (s *slicState) assign(b int) {
 		if y0 > y1 || x0 > x1 {
 			continue
 		}
-		cx, cy := s.cx[c], s.cy[c]
-		dx2 = dx2[:0]
+		n, m := x1-x0+1, y1-y0+1
+		if len(sc.wins) > 0 && (len(sc.wins) == sc.maxWindows || len(sc.dx2)+n > sc.maxEntries || entries+m > sc.maxEntries) {
+			break
+		}
+		cx := s.cx[c]
+		off := len(sc.dx2)
 		for x := x0; x <= x1; x++ {
 			d := float32(x) - cx
-			dx2 = append(dx2, d*d*s.ms)
+			sc.dx2 = append(sc.dx2, d*d*s.ms)
 		}
-		lab := int32(c)
+		sc.wins = append(sc.wins, slicWindow{c: int32(c), x0: int32(x0), y0: int32(y0), y1: int32(y1), off: int32(off), n: int32(n)})
 		for y := y0; y <= y1; y++ {
-			dy := float32(y) - cy
-			dy2 := dy * dy * s.ms
-			row := y*w + x0
-			drow := s.dist[row : row+len(dx2)]
-			lrow := s.label[row : row+len(dx2)]
-			if planes == 1 {
-				frow := s.f[0][row : row+len(dx2)]
-				fc := s.cf[c]
-				if useAVX2 {
-					slicRowAVX2(&frow[0], &dx2[0], &drow[0], &lrow[0], len(dx2), fc, dy2, lab)
-					continue
-				}
-				frow, lrow := frow[:len(dx2)], lrow[:len(dx2)]
-				for x, d2 := range dx2 {
-					d := frow[x] - fc
-					D := math.Float32bits(d*d + d2 + dy2)
-					old, l := drow[x], lrow[x]
-					if D < old {
-						old, l = D, lab
-					}
-					drow[x], lrow[x] = old, l
-				}
+			sc.count[y-by0+1]++
+		}
+		entries += m
+	}
+	// The windows of each row, in index order (a counting sort).
+	for r := 1; r <= rows; r++ {
+		sc.count[r] += sc.count[r-1]
+	}
+	sc.byRow = grow32(sc.byRow, entries)
+	copy(sc.next, sc.count[:rows])
+	for k, win := range sc.wins {
+		for y := win.y0; y <= win.y1; y++ {
+			r := int(y) - by0
+			sc.byRow[sc.next[r]] = int32(k)
+			sc.next[r]++
+		}
+	}
+	sc.by0 = by0
+	return c
+}
+
+// assignRow applies to row y the listed windows that cover it, in index
+// order.
+func (s *slicState) assignRow(y int, sc *slicSweep) {
+	w, planes := s.w, len(s.f)
+	r := y - sc.by0
+	for _, k := range sc.byRow[sc.count[r]:sc.count[r+1]] {
+		win := &sc.wins[k]
+		c := int(win.c)
+		dx2 := sc.dx2[win.off : win.off+win.n]
+		lab := win.c
+		dy := float32(y) - s.cy[c]
+		dy2 := dy * dy * s.ms
+		row := y*w + int(win.x0)
+		drow := s.dist[row : row+len(dx2)]
+		lrow := s.label[row : row+len(dx2)]
+		if planes == 1 {
+			frow := s.f[0][row : row+len(dx2)]
+			fc := s.cf[c]
+			if useAVX2 {
+				slicRowAVX2(&frow[0], &dx2[0], &drow[0], &lrow[0], len(dx2), fc, dy2, lab)
 				continue
 			}
-			cf := s.cf[c*planes : (c+1)*planes]
+			frow, lrow := frow[:len(dx2)], lrow[:len(dx2)]
 			for x, d2 := range dx2 {
-				D := d2 + dy2
-				for pl, v := range cf {
-					d := s.f[pl][row+x] - v
-					D += d * d
+				d := frow[x] - fc
+				D := math.Float32bits(d*d + d2 + dy2)
+				old, l := drow[x], lrow[x]
+				if D < old {
+					old, l = D, lab
 				}
-				if Db := math.Float32bits(D); Db < drow[x] {
-					drow[x] = Db
-					lrow[x] = lab
-				}
+				drow[x], lrow[x] = old, l
+			}
+			continue
+		}
+		cf := s.cf[c*planes : (c+1)*planes]
+		for x, d2 := range dx2 {
+			D := d2 + dy2
+			for pl, v := range cf {
+				d := s.f[pl][row+x] - v
+				D += d * d
+			}
+			if Db := math.Float32bits(D); Db < drow[x] {
+				drow[x] = Db
+				lrow[x] = lab
 			}
 		}
 	}
 }
 
-// accumulate sums count, position and features per label over band b.
-// A row is taken in runs of one label: the count and the position sums
-// of a run are integers, exact in float64 (below 2^53), so adding them
-// per run gives the sums of adding them per pixel; the feature sums are
-// still added pixel by pixel in raster order.
-func (s *slicState) accumulate(b int) {
-	y0, y1 := s.band(b)
-	planes := len(s.f)
-	stride := planes + 3
+// slicBatch bounds the squared x distances and the window rows that
+// assign lists at once, and slicBatchWindows the windows: at most 1.5
+// MiB of scratch a goroutine. A band of a 4 MP frame at 37,631
+// superpixels lists about 2,800 windows of 21 x 21 pixels in one batch.
+const (
+	slicBatch        = 1 << 16
+	slicBatchWindows = 1 << 14
+)
+
+// slicWindow is one centre's window clipped to a band (assign): the
+// centre, its columns from x0 (n of them, their squared x distances at
+// off in the batch's dx2), and its rows y0..y1.
+type slicWindow struct {
+	c, x0, y0, y1, off, n int32
+}
+
+// slicSweep is assign's scratch, one for each goroutine, kept between
+// iterations: a batch's windows, their squared x distances, and the
+// windows of each row of the band (byRow[count[r]:count[r+1]] for row
+// by0+r; next is the counting sort's cursor).
+type slicSweep struct {
+	wins                   []slicWindow
+	dx2                    []float32
+	count, next, byRow     []int32
+	by0                    int
+	maxEntries, maxWindows int // a batch's bounds: slicBatch, slicBatchWindows
+}
+
+// grow32 returns b resized to n values, reallocated when short.
+func grow32(b []int32, n int) []int32 {
+	if cap(b) < n {
+		return make([]int32, n)
+	}
+	return b[:n]
+}
+
+// bandSums sums count, position and features per label over the rows of
+// one band, each row right after assign has finished it (a row is final
+// once every window that covers it has been applied), while the row is
+// in cache; rows are added in raster order. A row is taken in runs of one label: the count and
+// the position sums of a run are integers, exact in float64 (below
+// 2^53), so adding them per run gives the sums of adding them per pixel;
+// the feature sums are still added pixel by pixel in raster order.
+type bandSums struct {
+	s      *slicState
+	sums   []float64
+	stride int
+	lo, hi int32 // the least and the largest label summed so far
+}
+
+// startSums zeroes what the last iteration wrote into band b's sums (a
+// band meets the labels of a few rows of centres, not all of them).
+func (s *slicState) startSums(b int) bandSums {
+	stride := len(s.f) + 3
 	sums := s.bandSums[b*s.sumsStride : (b+1)*s.sumsStride]
-	// Zero what the last iteration wrote: a band meets the labels of a
-	// few rows of centres, not all of them.
 	lo, hi := s.span[b][0], s.span[b][1]
 	if lo <= hi {
 		clear(sums[int(lo)*stride : (int(hi)+1)*stride])
 	}
-	lo, hi = int32(s.k), -1
-	for y := y0; y < y1; y++ {
-		fy := float64(y)
-		row := y * s.w
-		lab := s.label[row : row+s.w]
-		for x0 := 0; x0 < len(lab); {
-			l := lab[x0]
-			x1 := x0 + 1
-			for x1 < len(lab) && lab[x1] == l {
-				x1++
-			}
-			n := x1 - x0
-			a := sums[int(l)*stride : int(l)*stride+stride]
-			lo, hi = min(lo, l), max(hi, l)
-			a[0] += float64(n)
-			a[1] += float64((x0 + x1 - 1) * n / 2)
-			a[2] += fy * float64(n)
-			for pl, p := range s.f {
-				acc := a[3+pl]
-				for _, v := range p[row+x0 : row+x1] {
-					acc += float64(v)
-				}
-				a[3+pl] = acc
-			}
-			x0 = x1
+	return bandSums{s: s, sums: sums, stride: stride, lo: int32(s.k), hi: -1}
+}
+
+// row adds row y's pixels to the band's sums.
+func (bs *bandSums) row(y int) {
+	s, sums, stride := bs.s, bs.sums, bs.stride
+	lo, hi := bs.lo, bs.hi
+	fy := float64(y)
+	row := y * s.w
+	lab := s.label[row : row+s.w]
+	for x0 := 0; x0 < len(lab); {
+		l := lab[x0]
+		x1 := x0 + 1
+		for x1 < len(lab) && lab[x1] == l {
+			x1++
 		}
+		n := x1 - x0
+		a := sums[int(l)*stride : int(l)*stride+stride]
+		lo, hi = min(lo, l), max(hi, l)
+		a[0] += float64(n)
+		a[1] += float64((x0 + x1 - 1) * n / 2)
+		a[2] += fy * float64(n)
+		for pl, p := range s.f {
+			acc := a[3+pl]
+			for _, v := range p[row+x0 : row+x1] {
+				acc += float64(v)
+			}
+			a[3+pl] = acc
+		}
+		x0 = x1
 	}
-	s.span[b] = [2]int32{lo, hi}
+	bs.lo, bs.hi = lo, hi
 }
 
 // update moves every non-empty cluster's centre to the mean of its pixels,
@@ -355,11 +483,6 @@ func (s *slicState) update() {
 	}
 }
 
-// scratchLen bounds the width of a window: 2S+1 pixels, at most w.
-func scratchLen(w int, step float64) int {
-	return min(w, 2*int(step)+3)
-}
-
 // EstimateSLICBytes returns the peak number of bytes SLIC allocates for a
 // w x h image with the given number of feature planes P, as an upper
 // bound over every superpixel count: labels and distances (8 bytes per
@@ -367,7 +490,8 @@ func scratchLen(w int, step float64) int {
 // more), and per-cluster centres and band sums, which take
 // K·(4(P+2) + 8(P+3)·bands) bytes and reach their bound, 2(P+3) + (P+2)
 // bytes per pixel, only at the limit of one superpixel per 4 pixels (with
-// 3000 superpixels on a megapixel they are under 2 MB). The feature
+// 3000 superpixels on a megapixel they are under 2 MB), and the
+// assignment's scratch (slicSweep, bounded by slicBatch). The feature
 // planes are the caller's and not included. Nonsensical sizes give 0.
 func EstimateSLICBytes(w, h, planes int) int64 {
 	if w < 1 || h < 1 || planes < 1 {
@@ -378,10 +502,15 @@ func EstimateSLICBytes(w, h, planes int) int64 {
 	K := max(1, math.Floor(N/4))
 	nbK := max(K, math.Floor(N/8)) // slicBands: nb·K <= max(K, N/8)
 	nb := math.Min(16, float64(h))
+	// A batch's windows, their squared x distances and window rows
+	// (slicBatch), and the row counts: K windows of at most 2S+2 columns
+	// and rows, K(2S+2) = 2√(NK) + 2K <= 1.5N at K = N/4.
+	sweepBytes := allocBytes(24*math.Min(slicBatchWindows, K)) +
+		2*allocBytes(4*math.Min(slicBatch, 1.5*N)) + 2*allocBytes(4*(float64(h)+1))
 	b := 4*allocBytes(4*N) + // label, dist, output labels, stack
 		2*allocBytes(4*K) + allocBytes(4*K*P) + // centres
 		allocBytes(8*(P+3)*nbK) + // band sums
-		nb*allocBytes(4*float64(min(w, 2*w+2*h+3))) + // window scratch
+		nb*sweepBytes + // assign's scratch, one for each goroutine (at most nb)
 		allocBytes(8*nb) + 16<<10 // headers, slack
 	if b >= math.MaxInt64 {
 		return math.MaxInt64
