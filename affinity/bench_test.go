@@ -90,3 +90,23 @@ func BenchmarkPixelGraphMegapixel(b *testing.B) {
 		}
 	})
 }
+
+// BenchmarkEnforceConnectivity is SLIC's connectivity pass alone (one
+// goroutine, serial by nature) on the superpixels of BenchmarkSLICCamera's
+// scenes: every piece flood-filled and numbered again.
+func BenchmarkEnforceConnectivity(b *testing.B) {
+	for _, c := range []struct{ n, count int }{{2048, 34000}, {4096, 48000}} {
+		b.Run(fmt.Sprintf("%dx%d", c.n, c.n), func(b *testing.B) {
+			f := blobImage(8, c.n, c.n, 0.03)
+			sp, _, err := SLIC(f, c.n, c.n, SLICParams{Count: c.count, Compactness: 20}, 0)
+			if err != nil {
+				b.Fatal(err)
+			}
+			scratch := make([]uint32, c.n*c.n)
+			expected := c.n * c.n / c.count
+			for b.Loop() {
+				enforceConnectivity(sp, expected/4, scratch)
+			}
+		})
+	}
+}

@@ -58,6 +58,12 @@ type SLICParams struct {
 	// Iterations of assignment and update; 0 means 10, which the paper
 	// reports to be enough for most images.
 	Iterations int
+	// AfterIterations, when not nil, is called on SLIC's goroutine as the
+	// iterations end, before the connectivity pass, which runs on one
+	// core: a caller may start work there (on goroutines of its own, not
+	// waiting for it) that then runs beside that pass. It does not change
+	// the superpixels.
+	AfterIterations func()
 }
 
 // Validate reports the first parameter outside its domain: Count >= 1,

@@ -64,6 +64,9 @@ func SLIC(f [][]float32, w, h int, p SLICParams, workers int) (labels labelmap.M
 		})
 		s.update()
 	}
+	if p.AfterIterations != nil {
+		p.AfterIterations()
+	}
 	expected := w * h / s.k
 	labels, n = enforceConnectivity(labelmap.Map{Pix: s.label, Width: w, Height: h}, expected/4, s.dist)
 	return labels, n, nil

@@ -106,3 +106,21 @@ func TestSweepMatchesCentreOrder(t *testing.T) {
 		})
 	}
 }
+
+// TestSLICAfterIterations: the hook is called once, and the superpixels
+// are those of a run without it.
+func TestSLICAfterIterations(t *testing.T) {
+	f := blobImage(3, 90, 70, 0.05)
+	want, n0, err := SLIC(f, 90, 70, SLICParams{Count: 60, Compactness: 20}, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	calls := 0
+	got, n1, err := SLIC(f, 90, 70, SLICParams{Count: 60, Compactness: 20, AfterIterations: func() { calls++ }}, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if calls != 1 || n0 != n1 || !slices.Equal(got.Pix, want.Pix) {
+		t.Fatalf("hook called %d times, %d and %d superpixels, labels equal %v", calls, n0, n1, slices.Equal(got.Pix, want.Pix))
+	}
+}

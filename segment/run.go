@@ -626,18 +626,22 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		stage("graph")
 	} else {
 		// The edge energy reads the luminance alone: it is made on a
-		// goroutine of its own while the superpixels are made, whose
-		// serial passes (the centre updates between SLIC's iterations,
-		// the connectivity pass, the region sums) leave a core idle.
-		// Its values do not depend on when it runs.
+		// goroutine of its own, started as SLIC's iterations end (whose
+		// parallel bands keep both cores busy), beside the connectivity
+		// pass, which runs on one core, and the region sums (started
+		// here when the superpixels come from the cache). Its values do
+		// not depend on when it runs.
 		var energyC chan []float32
+		startEnergy := func() {}
 		if p.Contour {
 			lum := in.Luminance
 			energyC = make(chan []float32, 1)
-			go func() { energyC <- affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, p.Workers) }()
+			startEnergy = sync.OnceFunc(func() {
+				go func() { energyC <- affinity.EdgeEnergy(lum, w, h, affinity.ContourScale, p.Workers) }()
+			})
 		}
 		compute := func() (*slicEntry, error) {
-			sp, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness}, p.Workers)
+			sp, n, err := affinity.SLIC(in.Planes, w, h, affinity.SLICParams{Count: p.Superpixels, Compactness: p.Compactness, AfterIterations: startEnergy}, p.Workers)
 			if err != nil {
 				return nil, err
 			}
@@ -657,6 +661,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		if err != nil {
 			return nil, err
 		}
+		startEnergy()
 		stage("superpixels")
 		if err := ctx.Err(); err != nil {
 			return nil, err
