@@ -450,9 +450,12 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 		inner[l] = texturedInterior(own, gauss, px, boxes[l], w, level[l])
 	})
 	group := make([]int32, len(labels))
-	for i, l := range labels {
-		group[i] = l - 1 // -1: background
-	}
+	parallel.Blocks(len(labels), pixelBlock, workers, func(_, lo, hi int) {
+		g := group[lo:hi]
+		for k, l := range labels[lo:hi] {
+			g[k] = l - 1 // -1: background
+		}
+	})
 	// Each object's outline is judged on its box grown by tightenReach:
 	// its own pixels below its level leave it (drop), background pixels
 	// near it at or above its level join it (take) unless an object before
@@ -559,7 +562,7 @@ func tightenObjects(con []float64, objects labelmap.Map, n, minArea, workers int
 	fillHoles(group, w, h)
 	// labels is read no more: the pieces are written over it.
 	out, m := componentsOfGroupsInto(labels, group, w, h, minArea, workers)
-	return withoutCrumbs(out, m, group, sm, median)
+	return withoutCrumbs(out, m, group, sm, median, workers)
 }
 
 // fineRadius is the radius (pixels) below which tightenObjects outlines
@@ -799,26 +802,69 @@ const (
 	crumbPeak     = 1.5 * tightenLevel
 )
 
+// crumbBlocks is the number of blocks of pixels withoutCrumbs measures
+// the pieces in, and crumbPixels the fewest pixels a piece for which it
+// measures them on more than one goroutine.
+const (
+	crumbBlocks = 16
+	crumbPixels = 256
+)
+
 // withoutCrumbs drops from labels (1..n, from componentsOfGroups over
 // group) every piece smaller than crumbFraction of the largest piece of
 // the same group whose smoothed contrast sm stays below crumbPeak times
 // median[g], the median contrast of its group g, and numbers the rest
 // 1..N in raster order, in place. sm(i) is the smoothed contrast at
-// pixel i.
-func withoutCrumbs(labels []int32, n int, group []int32, sm func(i int) float32, median []float32) ([]int32, int) {
+// pixel i. The pieces' areas, groups (one for all of a piece's pixels)
+// and peaks are taken in blocks of pixels on workers goroutines, each
+// into tables of its own, which are then joined: counts add, and the
+// largest of the tables' peaks is the largest of the pixels', so the
+// result is the same for any split. With more than one piece for every
+// crumbPixels pixels the tables would outweigh the work, and one
+// goroutine takes every pixel.
+func withoutCrumbs(labels []int32, n int, group []int32, sm func(i int) float32, median []float32, workers int) ([]int32, int) {
 	if n < 2 {
 		return labels, n
 	}
-	area := make([]int, n+1)
-	of := make([]int32, n+1)
-	peak := make([]float32, n+1)
-	for i, l := range labels {
-		if l > 0 {
-			area[l]++
-			of[l] = group[i]
-			peak[l] = max(peak[l], sm(i))
+	type tables struct {
+		area []int
+		of   []int32
+		peak []float32
+	}
+	newTables := func() tables {
+		return tables{make([]int, n+1), make([]int32, n+1), make([]float32, n+1)}
+	}
+	g := 1
+	if n <= len(labels)/crumbPixels {
+		g = parallel.Goroutines(crumbBlocks, workers)
+	}
+	parts := make([]tables, g)
+	for k := range parts {
+		parts[k] = newTables()
+	}
+	_ = parallel.ForErr(crumbBlocks, g, func(k, b int) error {
+		p := parts[k]
+		lo, hi := b*len(labels)/crumbBlocks, (b+1)*len(labels)/crumbBlocks
+		for i, l := range labels[lo:hi] {
+			if l > 0 {
+				p.area[l]++
+				p.of[l] = group[lo+i]
+				p.peak[l] = max(p.peak[l], sm(lo+i))
+			}
+		}
+		return nil
+	})
+	t := parts[0]
+	for _, p := range parts[1:] {
+		for l := 1; l <= n; l++ {
+			if p.area[l] > 0 {
+				t.area[l] += p.area[l]
+				t.of[l] = p.of[l]
+				t.peak[l] = max(t.peak[l], p.peak[l])
+			}
 		}
 	}
+	area, of, peak := t.area, t.of, t.peak
 	largest := map[int32]int{}
 	for l := 1; l <= n; l++ {
 		largest[of[l]] = max(largest[of[l]], area[l])

@@ -411,7 +411,7 @@ func TestWithoutCrumbs(t *testing.T) {
 	put(4, 1, 11, 14, 2, 4, 0.6) // 6 px
 	put(5, 0, 0, 2, 4, 6, 1.2)   // 4 px, brighter than its group's median
 	median := []float32{1, 1}
-	out, n := withoutCrumbs(labels, 5, group, func(i int) float32 { return sm[i] }, median)
+	out, n := withoutCrumbs(labels, 5, group, func(i int) float32 { return sm[i] }, median, 0)
 	if n != 4 {
 		t.Fatalf("%d objects, want 4", n)
 	}
@@ -711,5 +711,43 @@ func TestEdgelessMatchesOnePass(t *testing.T) {
 	}
 	if marked == 0 {
 		t.Fatal("no case marks an object: the comparison sees only empty answers")
+	}
+}
+
+// TestWithoutCrumbsWorkers: the pieces measured in blocks on several
+// goroutines give the labels of one goroutine, on a field of square
+// pieces of random sizes and contrasts in two groups (some of them
+// crumbs, some not).
+func TestWithoutCrumbsWorkers(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 7))
+	const w, h = 300, 200
+	labels := make([]int32, w*h)
+	group := make([]int32, w*h)
+	sm := make([]float32, w*h)
+	n := int32(0)
+	// Cells of 20 x 20 pixels: fewer pieces than one for every
+	// crumbPixels pixels, so the blocks run on several goroutines.
+	for y0 := 0; y0+20 <= h; y0 += 20 {
+		for x0 := 0; x0+20 <= w; x0 += 20 {
+			n++
+			s := 1 + rng.IntN(19)
+			g, v := int32(rng.IntN(2)), float32(rng.Float64()*2)
+			for y := y0; y < y0+s; y++ {
+				for x := x0; x < x0+s; x++ {
+					labels[y*w+x], group[y*w+x], sm[y*w+x] = n, g, v
+				}
+			}
+		}
+	}
+	median := []float32{1, 1}
+	one, n1 := withoutCrumbs(slices.Clone(labels), int(n), group, func(i int) float32 { return sm[i] }, median, 1)
+	if n1 == int(n) || n1 == 0 {
+		t.Fatalf("%d of %d pieces kept: the field should hold crumbs and pieces", n1, n)
+	}
+	for _, workers := range []int{2, 3, 0} {
+		got, m := withoutCrumbs(slices.Clone(labels), int(n), group, func(i int) float32 { return sm[i] }, median, workers)
+		if m != n1 || !slices.Equal(got, one) {
+			t.Fatalf("workers %d: %d pieces, want %d (labels equal %v)", workers, m, n1, slices.Equal(got, one))
+		}
 	}
 }
