@@ -93,7 +93,7 @@ func kwayStencil(ctx context.Context, sg *affinity.StencilGraph, p Params) (*cut
 		return kwayComponents(ctx, sg.CSR(), nil, p)
 	}
 	solve := func(m int) (*eigen.Result, error) {
-		return eigen.SmallestStencil(ctx, sg, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+		return eigen.SmallestStencil(ctx, sg, m, eigen.Options{Workers: p.Workers, Seed: p.Seed, SinglePrecond: true})
 	}
 	c, _, err := kwayWith(ctx, n, solve, nil, p)
 	return c, err

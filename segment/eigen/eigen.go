@@ -84,6 +84,17 @@ type Options struct {
 	// multilevel preconditioner is built as without it. Graphs solved
 	// densely ignore it. The result meets Tol either way.
 	Start [][]float64
+	// SinglePrecond takes the multigrid preconditioner's products with
+	// the input graph (two per cycle, two thirds of the input graph's
+	// products in a LOBPCG step of a pixel graph) in single precision:
+	// S x rounded to float32 and each row's sums in float32 (single.go;
+	// an AVX kernel of eight float32 lanes). The preconditioner only
+	// chooses the search directions; Rayleigh-Ritz, the residuals and
+	// the returned pairs use the double-precision product, so the result
+	// meets Tol either way, but it is not the one without it bit for bit.
+	// Graphs solved densely, and starts that use no preconditioner,
+	// ignore it.
+	SinglePrecond bool
 }
 
 // Result holds the k smallest eigenpairs of L.
@@ -321,6 +332,7 @@ func solveIn(ctx context.Context, lv0 *level, k int, opt Options, limit int, pl 
 			}
 			mg = newMultigrid(pl, levels, workers, cvecs, cvals, wide)
 			mg.pool = pl
+			mg.single = opt.SinglePrecond
 			cnt := min(m, coarsest.n-1)
 			x = pl.get(coarsest.n, cnt)
 			for i := 0; i < coarsest.n; i++ {

@@ -74,3 +74,12 @@ func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 //
 //go:noescape
 func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)
+
+// stencil32Rows is the float32 kernel of the preconditioner's product on
+// the stencil form (stencil32_amd64.s, single.go): for rows consecutive
+// rows r (t advanced by r·m values, ws by r·k), acc[r·8 + c] = Σ_f
+// ws[f]·t[lm[f] + c] over f = 0..k-1 in order, for the eight lanes c, in
+// float32: stencil32Go's operations in its order. k must be at least 1.
+//
+//go:noescape
+func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int)

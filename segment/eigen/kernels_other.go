@@ -50,3 +50,7 @@ func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
+
+func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}

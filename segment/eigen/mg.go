@@ -29,6 +29,10 @@ type multigrid struct {
 	// pool, when set, supplies the fine-size blocks of the top level of
 	// the cycle (see apply) instead of scratch space held between calls.
 	pool *pool
+	// single takes the residuals on the input graph (depth 0) with
+	// applyL32 (Options.SinglePrecond), in t32.
+	single bool
+	t32    []float32
 }
 
 // mgScratch holds the work blocks of one level, reused across cycles.
@@ -134,7 +138,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	res := &block{n: next.n, m: m, v: sc.res}
 	// Pre-smoothing from zero: x = ω D_L^-1 b.
 	mg.rows(lv, jacobiFromZero, x, b)
-	mg.residual(lv, r, x, b, tmp)
+	mg.residualAt(l, r, x, b, tmp)
 	restrict(lv, next, r, rc, mg.workers)
 	clear(xc.v)
 	gamma, alpha, post := mg.gamma, mg.alpha, mg.post
@@ -164,7 +168,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	}
 	prolongAdd(lv, next, xc, x, alpha, mg.workers)
 	for s := 0; s < post; s++ {
-		mg.residual(lv, r, x, b, tmp)
+		mg.residualAt(l, r, x, b, tmp)
 		mg.rows(lv, jacobiAdd, x, r)
 	}
 	// No deflation here: Pz maps z0 of the coarse level to z0 of the fine
@@ -173,9 +177,19 @@ func (mg *multigrid) apply(l int, b *block) *block {
 	return x
 }
 
-// residual sets r = b - L x on level lv (tmp: scratch of x's shape).
-func (mg *multigrid) residual(lv *level, r, x, b, tmp *block) {
-	lv.applyL(r, x, tmp, mg.workers)
+// residualAt sets r = b - L x on the cycle's level l (tmp: scratch of
+// x's shape), with L x from applyL32 on the input graph when single is
+// set, else from applyL.
+func (mg *multigrid) residualAt(l int, r, x, b, tmp *block) {
+	lv := mg.levels[l]
+	if mg.single && l+mg.depth0 == 0 {
+		if need := lv.n*x.m + single32Lanes; cap(mg.t32) < need {
+			mg.t32 = make([]float32, need)
+		}
+		lv.applyL32(r, x, mg.t32, mg.workers)
+	} else {
+		lv.applyL(r, x, tmp, mg.workers)
+	}
 	mg.rows(lv, residualFrom, r, b)
 }
 

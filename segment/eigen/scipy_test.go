@@ -89,7 +89,8 @@ func TestScipy(t *testing.T) {
 // default residual target against scipy's eigsh (shift-invert, tol 1e-6,
 // Debian python3-scipy) on the coins pixel graph (r = 5, 29184 nodes):
 // the eigenvalues must agree to 1e-6 relative, the agreement the pixel
-// graph's speed work promises.
+// graph's speed work promises; the stencil form too, with and without
+// Options.SinglePrecond.
 func TestScipyPixelGraph(t *testing.T) {
 	if testing.Short() {
 		t.Skip("short mode")
@@ -109,10 +110,16 @@ func TestScipyPixelGraph(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// And with the preconditioner's products in single precision, as
+	// segment's k-way cut of the pixel graph asks.
+	r32, err := SmallestStencil(context.Background(), coinsStencil(t), 6, Options{SinglePrecond: true})
+	if err != nil {
+		t.Fatal(err)
+	}
 	for _, c := range []struct {
 		name string
 		r    *Result
-	}{{"compressed rows", r}, {"stencil", rs}} {
+	}{{"compressed rows", r}, {"stencil", rs}, {"stencil, single-precision preconditioner", r32}} {
 		for i, w := range want {
 			if got := c.r.Values[i]; math.Abs(got-w) > 1e-12+1e-6*math.Abs(w) {
 				t.Errorf("%s: λ_%d = %.12g, scipy %.12g (relative %.2g)", c.name, i, got, w, math.Abs(got/w-1))

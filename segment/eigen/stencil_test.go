@@ -134,7 +134,8 @@ func structuralNNZ(w, h, r int) int {
 // returns what the solve on the compressed rows returns, bit for bit:
 // the dense path (tiny images), the coarse-to-fine path on a scene with
 // edges left out, and the coins photograph (whose eigenvalues
-// TestScipyPixelGraph checks against scipy).
+// TestScipyPixelGraph checks against scipy); the last three also with
+// Options.SinglePrecond.
 func TestSmallestStencilMatchesCSR(t *testing.T) {
 	type tc struct {
 		name   string
@@ -143,22 +144,30 @@ func TestSmallestStencilMatchesCSR(t *testing.T) {
 		k      int
 		tol    float64
 		sigmaI float64
+		single bool
 	}
 	var cases []tc
 	for _, c := range []struct{ w, h, r, k int }{{3, 3, 2, 3}, {8, 8, 2, 4}, {30, 20, 5, 6}, {61, 47, 3, 4}} {
 		_, _, g, sg := stencilLevels(t, c.w, c.h, c.r, 10)
-		cases = append(cases, tc{fmt.Sprintf("%dx%d_r%d", c.w, c.h, c.r), g, sg, c.k, 0, 10})
+		cases = append(cases, tc{fmt.Sprintf("%dx%d_r%d", c.w, c.h, c.r), g, sg, c.k, 0, 10, false})
 	}
 	_, _, g, sg := stencilLevels(t, 64, 48, 5, 0.1)
 	if g.NNZ() >= structuralNNZ(64, 48, 5) {
 		t.Fatal("the scene should leave edges out")
 	}
-	cases = append(cases, tc{"64x48_r5_dropped", g, sg, 6, 0, 0.1})
-	cases = append(cases, tc{"64x48_r5_loose", g, sg, 2, 1e-4, 0.1})
-	cases = append(cases, tc{"coins", coinsGraph(t), coinsStencil(t), 6, 0, 0.1})
+	cases = append(cases, tc{"64x48_r5_dropped", g, sg, 6, 0, 0.1, false})
+	cases = append(cases, tc{"64x48_r5_loose", g, sg, 2, 1e-4, 0.1, false})
+	cases = append(cases, tc{"coins", coinsGraph(t), coinsStencil(t), 6, 0, 0.1, false})
+	// The preconditioner's products in single precision (applyL32) on
+	// both forms.
+	for _, c := range cases[len(cases)-3:] {
+		c.name += "_single"
+		c.single = true
+		cases = append(cases, c)
+	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			opt := Options{Tol: c.tol, Workers: 2}
+			opt := Options{Tol: c.tol, Workers: 2, SinglePrecond: c.single}
 			want, err := Smallest(c.g, c.k, opt)
 			if err != nil {
 				t.Fatal(err)
@@ -214,14 +223,15 @@ func TestSmallestStencilErrors(t *testing.T) {
 // BenchmarkApplyLPixel times one product y = L x with a block of 6
 // columns on the coins photograph enlarged twice and six times (116,736
 // and 1,050,624 nodes, r = 5), with the graph in compressed rows and in
-// stencil form, one worker:
+// stencil form, and the preconditioner's single-precision product on the
+// stencil form (stencil32, applyL32), one worker:
 //
 //	go test -run '^$' -bench ApplyLPixel ./segment/eigen
 func BenchmarkApplyLPixel(b *testing.B) {
 	for _, c := range []struct {
 		f    int
 		form string
-	}{{2, "csr"}, {2, "stencil"}, {6, "csr"}, {6, "stencil"}} {
+	}{{2, "csr"}, {2, "stencil"}, {2, "stencil32"}, {6, "csr"}, {6, "stencil"}, {6, "stencil32"}} {
 		b.Run(fmt.Sprintf("x%d/%s", c.f, c.form), func(b *testing.B) {
 			var lv *level
 			if c.form == "csr" {
@@ -234,9 +244,14 @@ func BenchmarkApplyLPixel(b *testing.B) {
 			for k := range x.v {
 				x.v[k] = float64(k%7) - 3
 			}
+			t32 := make([]float32, lv.n*6+single32Lanes)
 			b.ResetTimer()
 			for b.Loop() {
-				lv.applyL(y, x, tmp, 1)
+				if c.form == "stencil32" {
+					lv.applyL32(y, x, t32, 1)
+				} else {
+					lv.applyL(y, x, tmp, 1)
+				}
 			}
 			b.ReportMetric(float64(lv.nnz())*float64(b.N)/b.Elapsed().Seconds()/1e9, "Gentries/s")
 		})
@@ -302,6 +317,75 @@ func applyAVXMatchesGo(t *testing.T, lv *level) {
 		for k := range ya.v {
 			if math.Float64bits(ya.v[k]) != math.Float64bits(yb.v[k]) {
 				t.Fatalf("%d nodes, m = %d, entry %d: AVX %v, Go %v", lv.n, m, k, ya.v[k], yb.v[k])
+			}
+		}
+	}
+}
+
+// TestApplyL32 checks the preconditioner's single-precision product
+// (applyL32) on the coins pixel graph, in stencil form and in compressed
+// rows, for block widths 1 to 13 (one and two groups of eight lanes),
+// with values of both signs, zeros and signed zeros in the block: the
+// AVX kernel against the Go loop bit for bit (where the kernel runs),
+// the stencil form against the compressed rows bit for bit, and the
+// result against the double-precision product applyL within the error
+// bound of recursive summation (Higham 2002, "Accuracy and Stability of
+// Numerical Algorithms", section 4.2): a sum of k products rounded in
+// float32 is off by at most (k+1)·u·Σ|w_ij t_j| with u = 2^-24, and
+// rounding t_j = s_j x_j to float32 adds u·Σ|w_ij s_j x_j| more; the
+// double-precision terms add their own (k+1)·2^-53 of the same sum and
+// the subtraction from x_i one rounding of each result.
+func TestApplyL32(t *testing.T) {
+	g := coinsGraph(t)
+	csr := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
+	st := newStencilLevel(coinsStencil(t), 2)
+	rng := rand.New(rand.NewPCG(5, 11))
+	for m := 1; m <= 13; m++ {
+		x := newBlock(csr.n, m)
+		for k := range x.v {
+			switch k % 17 {
+			case 0:
+				x.v[k] = 0
+			case 1:
+				x.v[k] = math.Copysign(0, -1)
+			default:
+				x.v[k] = rng.Float64() - 0.5
+			}
+		}
+		t32 := make([]float32, csr.n*m+single32Lanes)
+		ys, yc, y64 := newBlock(csr.n, m), newBlock(csr.n, m), newBlock(csr.n, m)
+		st.applyL32(ys, x, t32, 2)
+		csr.applyL32(yc, x, t32, 2)
+		csr.applyL(y64, x, newBlock(csr.n, m), 2)
+		if useAVX {
+			yg := newBlock(csr.n, m)
+			useAVX = false
+			st.applyL32(yg, x, t32, 2)
+			useAVX = true
+			for k := range ys.v {
+				if math.Float64bits(ys.v[k]) != math.Float64bits(yg.v[k]) {
+					t.Fatalf("m = %d, entry %d: AVX %v, Go %v", m, k, ys.v[k], yg.v[k])
+				}
+			}
+		}
+		for i := 0; i < csr.n; i++ {
+			cols := csr.col[csr.rowPtr[i]:csr.rowPtr[i+1]]
+			wts := csr.wt[csr.rowPtr[i]:csr.rowPtr[i+1]]
+			k := float64(len(cols))
+			for c := 0; c < m; c++ {
+				e := i*m + c
+				if math.Float64bits(ys.v[e]) != math.Float64bits(yc.v[e]) {
+					t.Fatalf("m = %d, row %d column %d: stencil %v, compressed rows %v", m, i, c, ys.v[e], yc.v[e])
+				}
+				var mag float64 // Σ|w_ij s_j x_j|
+				for p, j := range cols {
+					mag += float64(wts[p]) * math.Abs(csr.s[j]*x.v[int(j)*m+c])
+				}
+				bound := csr.s[i]*mag*((k+2)*0x1p-24+(k+1)*0x1p-53)*(1+1e-6) +
+					0x1p-52*(math.Abs(ys.v[e])+math.Abs(y64.v[e]))
+				if d := math.Abs(ys.v[e] - y64.v[e]); d > bound {
+					t.Fatalf("m = %d, row %d column %d: single %v, double %v, off by %.3g > %.3g", m, i, c, ys.v[e], y64.v[e], d, bound)
+				}
 			}
 		}
 	}

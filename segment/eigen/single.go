@@ -1,0 +1,182 @@
+package eigen
+
+import "github.com/cleave-seg/cleave/segment/parallel"
+
+// The preconditioner's products with the input graph in single precision
+// (Options.SinglePrecond). The multigrid cycle of mg.go takes two
+// products with the input graph per application (its residuals before
+// the coarse correction and before the post-smoothing), two thirds of the
+// input graph's products in a LOBPCG step. Those products only shape the
+// search directions W = T R: Rayleigh-Ritz, the residuals and the
+// returned pairs use the double-precision product (applyL), so a
+// preconditioner that rounds to single precision changes the path, not
+// the accuracy of the result (LOBPCG accepts any symmetric positive
+// definite preconditioner, Knyazev 2001; one that varies by rounding
+// slows it little, Knyazev 1998 and Notay 2000 on flexible
+// preconditioning, from memory). The weights are float32 already; the
+// vector S x is rounded to float32 and each column's sum of w_ij t_j
+// runs in float32 in the stored entries' order (one sum a column, so the
+// absent pairs of the stencil, which add 0·t = +0 or -0 to a sum that
+// starts at +0, leave it as over the stored entries, as in the double
+// product). Eight columns fit one AVX register of float32 lanes, which
+// halves the bytes of t read and takes each weight without a conversion
+// (stencil32_amd64.s).
+
+// single32Lanes is the number of columns a float32 kernel call sums at
+// once (one 256-bit register), and the padding of t past n·m values: a
+// row's load of eight values may run past the block's last value.
+const single32Lanes = 8
+
+// applyL32 sets y = x - S W S x as applyL does, with S x rounded to
+// float32 into t (at least n·m + single32Lanes values) and the sums of
+// W's rows taken in float32 (see the comment above). Rows are
+// independent and each row's sums run in a fixed order, so the result
+// does not depend on the worker count, and the AVX kernel gives the Go
+// loop's result bit for bit (TestApplyL32AVXMatchesGo); the stencil form
+// gives the compressed rows' result bit for bit
+// (TestSmallestStencilMatchesCSR with SinglePrecond).
+func (lv *level) applyL32(y, x *block, t []float32, workers int) {
+	m := x.m
+	t = t[:lv.n*m+single32Lanes]
+	clear(t[lv.n*m:])
+	nc := lv.nchunks()
+	if serial(nc, workers) {
+		lv.scaleRows32(t, x, 0, lv.n)
+		lv.mulRows32(y, x, t, 0, lv.n)
+		return
+	}
+	hy, hx := heapBlock(y), heapBlock(x)
+	parallel.For(nc, workers, func(c int) {
+		lv.scaleRows32(t, hx, lv.chunks[c], lv.chunks[c+1])
+	})
+	parallel.For(nc, workers, func(c int) {
+		lv.mulRows32(hy, hx, t, lv.chunks[c], lv.chunks[c+1])
+	})
+}
+
+// scaleRows32 sets rows r0..r1-1 of t (m values a row) to float32(S x).
+func (lv *level) scaleRows32(t []float32, x *block, r0, r1 int) {
+	m := x.m
+	for i := r0; i < r1; i++ {
+		si := lv.s[i]
+		xr, tr := x.v[i*m:i*m+m], t[i*m:i*m+m]
+		for j := range tr {
+			tr[j] = float32(si * xr[j])
+		}
+	}
+}
+
+// mulRows32 computes rows r0..r1-1 of y = x - S W t (see applyL32).
+func (lv *level) mulRows32(y, x *block, t []float32, r0, r1 int) {
+	if lv.sg != nil {
+		lv.sg.mulRows32(lv.sg.scaled(x.m), lv.s, y, x, t, r0, r1)
+		return
+	}
+	m := x.m
+	for i := r0; i < r1; i++ {
+		cols := lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]]
+		wts := lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
+		wts = wts[:len(cols)]
+		si := lv.s[i]
+		for c := 0; c < m; c++ {
+			var a float32
+			for p, j := range cols {
+				a += wts[p] * t[int(j)*m+c]
+			}
+			y.v[i*m+c] = x.v[i*m+c] - si*float64(a)
+		}
+	}
+}
+
+// rows32Batch is the number of rows whose sums one kernel call leaves in
+// a stack buffer before they are written to y.
+const rows32Batch = 64
+
+// mulRows32 is level.mulRows32 on the stencil form: the rows in range
+// (inRange) in the AVX kernel stencil32Rows, the others on their pairs in
+// range (span or filter, as mulRows takes them) one row a call; without
+// AVX the Go loop stencil32Go does the kernel's operations.
+func (op *stencilOp) mulRows32(lm []int, s []float64, y, x *block, t []float32, r0, r1 int) {
+	m, k := x.m, op.k
+	var acc [rows32Batch * single32Lanes]float32
+	var fl []int
+	var fw []float32
+	for c0 := 0; c0 < m; c0 += single32Lanes {
+		mc := min(single32Lanes, m-c0)
+		// out writes the sums of rows i..i+rows-1 from acc.
+		out := func(i, rows int) {
+			for r := 0; r < rows; r++ {
+				si := s[i+r]
+				b := (i+r)*m + c0
+				yr, xr := y.v[b:b+mc], x.v[b:b+mc]
+				for c := range yr {
+					yr[c] = xr[c] - si*float64(acc[r*single32Lanes+c])
+				}
+			}
+		}
+		for i := r0; i < r1; {
+			if op.inRange(i) && op.k > 0 {
+				rows := min(rows32Batch, r1-i, op.n-op.hi-i)
+				stencil32(t, i*m+c0, lm, k, op.wt[i*k:], m, acc[:], rows)
+				out(i, rows)
+				i += rows
+				continue
+			}
+			lin, ws := lm, op.wt[i*k:i*k+k]
+			if op.mono {
+				f0, f1 := op.span(i)
+				lin, ws = lm[f0:f1], ws[f0:f1]
+			} else {
+				fl, fw = op.filter(i, lm, fl[:0], fw[:0])
+				lin, ws = fl, fw
+			}
+			stencil32(t, i*m+c0, lin, len(lin), ws, m, acc[:], 1)
+			out(i, 1)
+			i++
+		}
+	}
+}
+
+// stencil32 sets acc[r·8 + c] = Σ_f ws[r·k + f] · t[base + r·m + lin[f] + c]
+// for rows rows r and the eight lanes c, each sum in float32 from +0 in
+// the order of f: in the AVX kernel stencil32Rows, else in Go.
+func stencil32(t []float32, base int, lin []int, k int, ws []float32, m int, acc []float32, rows int) {
+	if useAVX {
+		if k == 0 {
+			clear(acc[:rows*single32Lanes])
+			return
+		}
+		// Every load of the kernel in t (Go's bounds, checked once).
+		lo, hi := lin[0], lin[0]
+		for _, d := range lin[:k] {
+			lo, hi = min(lo, d), max(hi, d)
+		}
+		_ = t[base+lo]
+		_ = t[base+(rows-1)*m+hi+single32Lanes-1]
+		stencil32Rows(&t[base], &lin[0], k, &ws[0], m, &acc[0], rows)
+		return
+	}
+	stencil32Go(t, base, lin[:k], k, ws, m, acc, rows)
+}
+
+// stencil32Go is stencil32 in Go alone.
+func stencil32Go(t []float32, base int, lin []int, k int, ws []float32, m int, acc []float32, rows int) {
+	for r := 0; r < rows; r++ {
+		var a [single32Lanes]float32
+		w := ws[r*k : r*k+k]
+		for f, d := range lin {
+			wf := w[f]
+			j := base + r*m + d
+			q := t[j : j+single32Lanes : j+single32Lanes]
+			a[0] += wf * q[0]
+			a[1] += wf * q[1]
+			a[2] += wf * q[2]
+			a[3] += wf * q[3]
+			a[4] += wf * q[4]
+			a[5] += wf * q[5]
+			a[6] += wf * q[6]
+			a[7] += wf * q[7]
+		}
+		copy(acc[r*single32Lanes:], a[:])
+	}
+}
