@@ -17,10 +17,14 @@ const kmeansRestarts = 8
 // L = I - D^-1/2 W D^-1/2 form the rows u_i ∈ R^K, each normalized to unit
 // length, which k-means++ then clusters. With K = 0 the number of segments
 // is chosen from the largest eigengap λ_K - λ_{K-1} for 2 <= K <= maxSegments
-// (von Luxburg 2007, section 8.3). The graph must be connected.
+// (von Luxburg 2007, section 8.3). The graph must be connected. A pixel
+// graph (area nil: every node one pixel) is solved with the
+// preconditioner's products in single precision
+// (eigen.Options.SinglePrecond), as kwayStencil solves it, so that both
+// forms give one result.
 func kway(ctx context.Context, g *affinity.Graph, area []int, p Params) (*cutResult, int, error) {
 	solve := func(m int) (*eigen.Result, error) {
-		return eigen.SmallestContext(ctx, g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed})
+		return eigen.SmallestContext(ctx, g, m, eigen.Options{Workers: p.Workers, Seed: p.Seed, SinglePrecond: area == nil})
 	}
 	return kwayWith(ctx, g.N, solve, area, p)
 }

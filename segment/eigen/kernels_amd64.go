@@ -83,3 +83,19 @@ func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float
 //
 //go:noescape
 func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int)
+
+// csr32Rows is the float32 kernel of the preconditioner's products on
+// compressed rows (stencil32_amd64.s, single.go's csr32): for rows rows r
+// (rowPtr[r]..rowPtr[r+1] the places of row r in col and wt),
+// acc[r·8 + c] = (a0 + a1) + (a2 + a3) with a_q the sum of
+// wt[p]·t[col[p]·m + c] over the row's entries at places q modulo 4 from
+// its first, in order, in float32: csr32's Go loop bit for bit.
+//
+//go:noescape
+func csr32Rows(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int)
+
+// csr32Rows1 is csr32Rows with one sum a lane over the row's entries in
+// order (csr32 with partial unset).
+//
+//go:noescape
+func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int)

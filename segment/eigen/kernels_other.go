@@ -54,3 +54,11 @@ func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float
 func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
+
+func csr32Rows(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}

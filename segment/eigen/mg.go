@@ -155,7 +155,7 @@ func (mg *multigrid) apply(l int, b *block) *block {
 				break // the coarsest solve is exact
 			}
 			tc := block{n: next.n, m: m, v: tmp.v[:next.n*m]}
-			next.applyL(res, xc, &tc, mg.workers)
+			mg.applyAt(l+1, res, xc, &tc)
 			for t := range res.v {
 				res.v[t] = rc.v[t] - res.v[t]
 			}
@@ -178,19 +178,27 @@ func (mg *multigrid) apply(l int, b *block) *block {
 }
 
 // residualAt sets r = b - L x on the cycle's level l (tmp: scratch of
-// x's shape), with L x from applyL32 on the input graph when single is
-// set, else from applyL.
+// x's shape), L x from applyAt.
 func (mg *multigrid) residualAt(l int, r, x, b, tmp *block) {
+	mg.applyAt(l, r, x, tmp)
+	mg.rows(mg.levels[l], residualFrom, r, b)
+}
+
+// applyAt sets y = L x on the cycle's level l: with single set in
+// single precision (applyL32 on the input graph, its sums in stored
+// order; applyL32 in partial sums on the coarse levels, see
+// csr32Rows), in the cycle's t32; else in double precision (applyL,
+// tmp: scratch of x's shape).
+func (mg *multigrid) applyAt(l int, y, x, tmp *block) {
 	lv := mg.levels[l]
-	if mg.single && l+mg.depth0 == 0 {
-		if need := lv.n*x.m + single32Lanes; cap(mg.t32) < need {
-			mg.t32 = make([]float32, need)
-		}
-		lv.applyL32(r, x, mg.t32, mg.workers)
-	} else {
-		lv.applyL(r, x, tmp, mg.workers)
+	if !mg.single {
+		lv.applyL(y, x, tmp, mg.workers)
+		return
 	}
-	mg.rows(lv, residualFrom, r, b)
+	if need := lv.n*x.m + single32Lanes; cap(mg.t32) < need {
+		mg.t32 = make([]float32, need)
+	}
+	lv.applyL32(y, x, mg.t32, l+mg.depth0 > 0, mg.workers)
 }
 
 // The row operations of a cycle (mgRows): the pre-smoothing from zero x =

@@ -35,14 +35,14 @@ const single32Lanes = 8
 // loop's result bit for bit (TestApplyL32AVXMatchesGo); the stencil form
 // gives the compressed rows' result bit for bit
 // (TestSmallestStencilMatchesCSR with SinglePrecond).
-func (lv *level) applyL32(y, x *block, t []float32, workers int) {
+func (lv *level) applyL32(y, x *block, t []float32, partial bool, workers int) {
 	m := x.m
 	t = t[:lv.n*m+single32Lanes]
 	clear(t[lv.n*m:])
 	nc := lv.nchunks()
 	if serial(nc, workers) {
 		lv.scaleRows32(t, x, 0, lv.n)
-		lv.mulRows32(y, x, t, 0, lv.n)
+		lv.mulRows32(y, x, t, partial, 0, lv.n)
 		return
 	}
 	hy, hx := heapBlock(y), heapBlock(x)
@@ -50,7 +50,7 @@ func (lv *level) applyL32(y, x *block, t []float32, workers int) {
 		lv.scaleRows32(t, hx, lv.chunks[c], lv.chunks[c+1])
 	})
 	parallel.For(nc, workers, func(c int) {
-		lv.mulRows32(hy, hx, t, lv.chunks[c], lv.chunks[c+1])
+		lv.mulRows32(hy, hx, t, partial, lv.chunks[c], lv.chunks[c+1])
 	})
 }
 
@@ -66,24 +66,29 @@ func (lv *level) scaleRows32(t []float32, x *block, r0, r1 int) {
 	}
 }
 
-// mulRows32 computes rows r0..r1-1 of y = x - S W t (see applyL32).
-func (lv *level) mulRows32(y, x *block, t []float32, r0, r1 int) {
+// mulRows32 computes rows r0..r1-1 of y = x - S W t (see applyL32);
+// on compressed rows with partial set each sum in four partial sums
+// (csr32).
+func (lv *level) mulRows32(y, x *block, t []float32, partial bool, r0, r1 int) {
 	if lv.sg != nil {
 		lv.sg.mulRows32(lv.sg.scaled(x.m), lv.s, y, x, t, r0, r1)
 		return
 	}
 	m := x.m
-	for i := r0; i < r1; i++ {
-		cols := lv.col[lv.rowPtr[i]:lv.rowPtr[i+1]]
-		wts := lv.wt[lv.rowPtr[i]:lv.rowPtr[i+1]]
-		wts = wts[:len(cols)]
-		si := lv.s[i]
-		for c := 0; c < m; c++ {
-			var a float32
-			for p, j := range cols {
-				a += wts[p] * t[int(j)*m+c]
+	var acc [rows32Batch * single32Lanes]float32
+	for c0 := 0; c0 < m; c0 += single32Lanes {
+		mc := min(single32Lanes, m-c0)
+		for i := r0; i < r1; i += rows32Batch {
+			rows := min(rows32Batch, r1-i)
+			csr32(t, c0, lv.rowPtr[i:i+rows+1], lv.col, lv.wt, m, acc[:], partial)
+			for r := 0; r < rows; r++ {
+				si := lv.s[i+r]
+				b := (i+r)*m + c0
+				yr, xr := y.v[b:b+mc], x.v[b:b+mc]
+				for c := range yr {
+					yr[c] = xr[c] - si*float64(acc[r*single32Lanes+c])
+				}
 			}
-			y.v[i*m+c] = x.v[i*m+c] - si*float64(a)
 		}
 	}
 }
@@ -178,5 +183,62 @@ func stencil32Go(t []float32, base int, lin []int, k int, ws []float32, m int, a
 			a[7] += wf * q[7]
 		}
 		copy(acc[r*single32Lanes:], a[:])
+	}
+}
+
+// csr32 sets, for the rows r of rowPtr (len(rowPtr)-1 of them), acc[r·8
+// + c] for the eight lanes c to the float32 sum from +0 of wt[p]·t[base +
+// col[p]·m + c] over the row's entries p in order; with partial set to
+// (a_0 + a_1) + (a_2 + a_3) instead, a_q that sum over the entries whose
+// place p - rowPtr[r] is q modulo 4: four independent sums, so that a
+// row's additions need not wait for each other (the kernel takes one
+// row at a time). In the AVX kernels csr32Rows (partial) and csr32Rows1,
+// else in Go. t holds the level's n rows of m values and single32Lanes
+// more (applyL32), and every column is below n (a level's invariant), so
+// every load lies in t.
+func csr32(t []float32, base int, rowPtr []int, col []int32, wt []float32, m int, acc []float32, partial bool) {
+	rows := len(rowPtr) - 1
+	if rowPtr[rows] == rowPtr[0] {
+		clear(acc[:rows*single32Lanes])
+		return
+	}
+	if useAVX {
+		if partial {
+			csr32Rows(&t[base], &rowPtr[0], &col[0], &wt[0], m, &acc[0], rows)
+		} else {
+			csr32Rows1(&t[base], &rowPtr[0], &col[0], &wt[0], m, &acc[0], rows)
+		}
+		return
+	}
+	parts := 1
+	if partial {
+		parts = 4
+	}
+	for r := 0; r < rows; r++ {
+		var a [4][single32Lanes]float32
+		cols, wts := col[rowPtr[r]:rowPtr[r+1]], wt[rowPtr[r]:rowPtr[r+1]]
+		wts = wts[:len(cols)]
+		for p, j := range cols {
+			w := wts[p]
+			b := base + int(j)*m
+			q := t[b : b+single32Lanes : b+single32Lanes]
+			s := &a[p%parts]
+			s[0] += w * q[0]
+			s[1] += w * q[1]
+			s[2] += w * q[2]
+			s[3] += w * q[3]
+			s[4] += w * q[4]
+			s[5] += w * q[5]
+			s[6] += w * q[6]
+			s[7] += w * q[7]
+		}
+		out := acc[r*single32Lanes : r*single32Lanes+single32Lanes]
+		if !partial {
+			copy(out, a[0][:])
+			continue
+		}
+		for c := range out {
+			out[c] = (a[0][c] + a[1][c]) + (a[2][c] + a[3][c])
+		}
 	}
 }

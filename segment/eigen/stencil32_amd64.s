@@ -96,3 +96,145 @@ oneloop:
 done:
 	VZEROUPPER
 	RET
+
+// csr32Rows is the float32 kernel of the preconditioner's products on
+// compressed rows (single.go, csr32): for each of rows rows r, from
+// rowPtr[r] to rowPtr[r+1] (absolute places in col and wt),
+//
+//	acc[r·8 + c] = (a0 + a1) + (a2 + a3),   a_q = Σ wt[p]·t[col[p]·m + c]
+//
+// over the row's entries whose place from the row's first is q modulo
+// 4, each in order: one packed float32 multiply then one add an entry
+// (no fused multiply-add), so every lane is csr32's Go loop bit for bit.
+//
+// func csr32Rows(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int)
+TEXT ·csr32Rows(SB), NOSPLIT, $0-56
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R10
+	MOVQ m+32(FP), R9
+	SHLQ $2, R9 // m·4: bytes between two rows of t
+	MOVQ acc+40(FP), R11
+	MOVQ rows+48(FP), R13
+
+crow:
+	TESTQ R13, R13
+	JEQ   cdone
+	MOVQ  (DI), BX  // p
+	MOVQ  8(DI), CX // the row's end
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+
+cquad:
+	LEAQ 4(BX), AX
+	CMPQ AX, CX
+	JGT  crest
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y4
+	VMULPS  (SI)(AX*1), Y4, Y4
+	VADDPS  Y4, Y0, Y0
+	MOVLQSX 4(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 4(R10)(BX*4), Y5
+	VMULPS  (SI)(AX*1), Y5, Y5
+	VADDPS  Y5, Y1, Y1
+	MOVLQSX 8(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 8(R10)(BX*4), Y6
+	VMULPS  (SI)(AX*1), Y6, Y6
+	VADDPS  Y6, Y2, Y2
+	MOVLQSX 12(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 12(R10)(BX*4), Y7
+	VMULPS  (SI)(AX*1), Y7, Y7
+	VADDPS  Y7, Y3, Y3
+	ADDQ    $4, BX
+	JMP     cquad
+
+crest:
+	// Up to three entries left: the first three partial sums in turn.
+	CMPQ BX, CX
+	JGE  cfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y4
+	VMULPS  (SI)(AX*1), Y4, Y4
+	VADDPS  Y4, Y0, Y0
+	INCQ    BX
+	CMPQ    BX, CX
+	JGE     cfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y5
+	VMULPS  (SI)(AX*1), Y5, Y5
+	VADDPS  Y5, Y1, Y1
+	INCQ    BX
+	CMPQ    BX, CX
+	JGE     cfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y6
+	VMULPS  (SI)(AX*1), Y6, Y6
+	VADDPS  Y6, Y2, Y2
+
+cfin:
+	VADDPS  Y1, Y0, Y0
+	VADDPS  Y3, Y2, Y2
+	VADDPS  Y2, Y0, Y0
+	VMOVUPS Y0, (R11)
+	ADDQ    $32, R11
+	ADDQ    $8, DI
+	DECQ    R13
+	JMP     crow
+
+cdone:
+	VZEROUPPER
+	RET
+
+// csr32Rows1 is csr32Rows with one sum a lane: acc[r·8 + c] = Σ_p
+// wt[p]·t[col[p]·m + c] over the row's entries in order (applyL32 on the
+// input graph in compressed rows, whose sums are the stencil form's).
+//
+// func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int)
+TEXT ·csr32Rows1(SB), NOSPLIT, $0-56
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R10
+	MOVQ m+32(FP), R9
+	SHLQ $2, R9
+	MOVQ acc+40(FP), R11
+	MOVQ rows+48(FP), R13
+
+srow:
+	TESTQ R13, R13
+	JEQ   sdone
+	MOVQ  (DI), BX
+	MOVQ  8(DI), CX
+	VXORPS Y0, Y0, Y0
+
+sloop:
+	CMPQ BX, CX
+	JGE  sfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y4
+	VMULPS  (SI)(AX*1), Y4, Y4
+	VADDPS  Y4, Y0, Y0
+	INCQ    BX
+	JMP     sloop
+
+sfin:
+	VMOVUPS Y0, (R11)
+	ADDQ    $32, R11
+	ADDQ    $8, DI
+	DECQ    R13
+	JMP     srow
+
+sdone:
+	VZEROUPPER
+	RET

@@ -248,7 +248,7 @@ func BenchmarkApplyLPixel(b *testing.B) {
 			b.ResetTimer()
 			for b.Loop() {
 				if c.form == "stencil32" {
-					lv.applyL32(y, x, t32, 1)
+					lv.applyL32(y, x, t32, false, 1)
 				} else {
 					lv.applyL(y, x, tmp, 1)
 				}
@@ -324,67 +324,89 @@ func applyAVXMatchesGo(t *testing.T, lv *level) {
 
 // TestApplyL32 checks the preconditioner's single-precision product
 // (applyL32) on the coins pixel graph, in stencil form and in compressed
-// rows, for block widths 1 to 13 (one and two groups of eight lanes),
-// with values of both signs, zeros and signed zeros in the block: the
-// AVX kernel against the Go loop bit for bit (where the kernel runs),
-// the stencil form against the compressed rows bit for bit, and the
-// result against the double-precision product applyL within the error
-// bound of recursive summation (Higham 2002, "Accuracy and Stability of
-// Numerical Algorithms", section 4.2): a sum of k products rounded in
-// float32 is off by at most (k+1)·u·Σ|w_ij t_j| with u = 2^-24, and
-// rounding t_j = s_j x_j to float32 adds u·Σ|w_ij s_j x_j| more; the
-// double-precision terms add their own (k+1)·2^-53 of the same sum and
-// the subtraction from x_i one rounding of each result.
+// rows (one sum a column, as on the input graph), and on its first coarse
+// level (self loops, rows of every length; four partial sums a column,
+// as on the coarse levels), for block widths 1 to 13 (one and two groups
+// of eight lanes), with values of both signs, zeros and signed zeros in
+// the block: the AVX kernels against the Go loops bit for bit (where the
+// kernels run), the stencil form against the compressed rows bit for
+// bit, and every result against the double-precision product applyL
+// within the error bound of floating-point summation in any order
+// (Higham 2002, "Accuracy and Stability of Numerical Algorithms",
+// section 4.2): a sum of k products rounded in float32 is off by at most
+// (k+1)·u·Σ|w_ij t_j| with u = 2^-24, and rounding t_j = s_j x_j to
+// float32 adds u·Σ|w_ij s_j x_j| more; the double-precision terms add
+// their own (k+1)·2^-53 of the same sum and the subtraction from x_i one
+// rounding of each result.
 func TestApplyL32(t *testing.T) {
 	g := coinsGraph(t)
 	csr := newLevel(g.N, g.RowPtr, g.Col, g.Weight)
 	st := newStencilLevel(coinsStencil(t), 2)
+	coarse := coarsen(csr, 2)
 	rng := rand.New(rand.NewPCG(5, 11))
 	for m := 1; m <= 13; m++ {
-		x := newBlock(csr.n, m)
-		for k := range x.v {
-			switch k % 17 {
-			case 0:
-				x.v[k] = 0
-			case 1:
-				x.v[k] = math.Copysign(0, -1)
-			default:
-				x.v[k] = rng.Float64() - 0.5
-			}
-		}
-		t32 := make([]float32, csr.n*m+single32Lanes)
-		ys, yc, y64 := newBlock(csr.n, m), newBlock(csr.n, m), newBlock(csr.n, m)
-		st.applyL32(ys, x, t32, 2)
-		csr.applyL32(yc, x, t32, 2)
-		csr.applyL(y64, x, newBlock(csr.n, m), 2)
-		if useAVX {
-			yg := newBlock(csr.n, m)
-			useAVX = false
-			st.applyL32(yg, x, t32, 2)
-			useAVX = true
-			for k := range ys.v {
-				if math.Float64bits(ys.v[k]) != math.Float64bits(yg.v[k]) {
-					t.Fatalf("m = %d, entry %d: AVX %v, Go %v", m, k, ys.v[k], yg.v[k])
+		for _, c := range []struct {
+			name    string
+			lv      *level
+			partial bool
+		}{{"stencil", st, false}, {"compressed rows", csr, false}, {"coarse level", coarse, true}} {
+			lv := c.lv
+			x := newBlock(lv.n, m)
+			for k := range x.v {
+				switch k % 17 {
+				case 0:
+					x.v[k] = 0
+				case 1:
+					x.v[k] = math.Copysign(0, -1)
+				default:
+					x.v[k] = rng.Float64() - 0.5
 				}
 			}
-		}
-		for i := 0; i < csr.n; i++ {
-			cols := csr.col[csr.rowPtr[i]:csr.rowPtr[i+1]]
-			wts := csr.wt[csr.rowPtr[i]:csr.rowPtr[i+1]]
-			k := float64(len(cols))
-			for c := 0; c < m; c++ {
-				e := i*m + c
-				if math.Float64bits(ys.v[e]) != math.Float64bits(yc.v[e]) {
-					t.Fatalf("m = %d, row %d column %d: stencil %v, compressed rows %v", m, i, c, ys.v[e], yc.v[e])
+			t32 := make([]float32, lv.n*m+single32Lanes)
+			y, y64 := newBlock(lv.n, m), newBlock(lv.n, m)
+			lv.applyL32(y, x, t32, c.partial, 2)
+			lv.applyL(y64, x, newBlock(lv.n, m), 2)
+			if useAVX {
+				yg := newBlock(lv.n, m)
+				useAVX = false
+				lv.applyL32(yg, x, t32, c.partial, 2)
+				useAVX = true
+				for k := range y.v {
+					if math.Float64bits(y.v[k]) != math.Float64bits(yg.v[k]) {
+						t.Fatalf("%s, m = %d, entry %d: AVX %v, Go %v", c.name, m, k, y.v[k], yg.v[k])
+					}
 				}
-				var mag float64 // Σ|w_ij s_j x_j|
-				for p, j := range cols {
-					mag += float64(wts[p]) * math.Abs(csr.s[j]*x.v[int(j)*m+c])
+			}
+			if lv == st {
+				yc := newBlock(csr.n, m)
+				csr.applyL32(yc, x, t32, false, 2)
+				for k := range y.v {
+					if math.Float64bits(y.v[k]) != math.Float64bits(yc.v[k]) {
+						t.Fatalf("m = %d, entry %d: stencil %v, compressed rows %v", m, k, y.v[k], yc.v[k])
+					}
 				}
-				bound := csr.s[i]*mag*((k+2)*0x1p-24+(k+1)*0x1p-53)*(1+1e-6) +
-					0x1p-52*(math.Abs(ys.v[e])+math.Abs(y64.v[e]))
-				if d := math.Abs(ys.v[e] - y64.v[e]); d > bound {
-					t.Fatalf("m = %d, row %d column %d: single %v, double %v, off by %.3g > %.3g", m, i, c, ys.v[e], y64.v[e], d, bound)
+			}
+			// The rows as compressed rows (the stencil form's are the
+			// input graph's).
+			rl := lv
+			if lv == st {
+				rl = csr
+			}
+			for i := 0; i < lv.n; i++ {
+				cols := rl.col[rl.rowPtr[i]:rl.rowPtr[i+1]]
+				wts := rl.wt[rl.rowPtr[i]:rl.rowPtr[i+1]]
+				k := float64(len(cols))
+				for q := 0; q < m; q++ {
+					e := i*m + q
+					var mag float64 // Σ|w_ij s_j x_j|
+					for p, j := range cols {
+						mag += float64(wts[p]) * math.Abs(lv.s[j]*x.v[int(j)*m+q])
+					}
+					bound := lv.s[i]*mag*((k+2)*0x1p-24+(k+1)*0x1p-53)*(1+1e-6) +
+						0x1p-52*(math.Abs(y.v[e])+math.Abs(y64.v[e]))
+					if d := math.Abs(y.v[e] - y64.v[e]); d > bound {
+						t.Fatalf("%s, m = %d, row %d column %d: single %v, double %v, off by %.3g > %.3g", c.name, m, i, q, y.v[e], y64.v[e], d, bound)
+					}
 				}
 			}
 		}
