@@ -32,4 +32,11 @@
 // that do, lane by lane, the Go loops' multiplies and adds in their
 // order, without fused multiply-adds: the results are the Go code's bit
 // for bit, on any machine. The purego build tag leaves them out.
+//
+// With Options.SinglePrecond (segment's k-way cut of the pixel graph) the
+// multigrid preconditioner's products run in single precision (single.go,
+// stencil32_amd64.s): float32 vectors and sums, eight lanes a register.
+// The preconditioner only chooses LOBPCG's search directions, so the
+// result meets the same residual target; it is not the double-precision
+// path's result bit for bit.
 package eigen
