@@ -259,15 +259,17 @@ func BenchmarkApplyLPixel(b *testing.B) {
 }
 
 // BenchmarkSmallestStencilScaled is BenchmarkSmallestPixelScaled with the
-// input graph in stencil form (SmallestStencil, as segment's k-way cut of
-// the pixel graph calls it):
+// input graph in stencil form (SmallestStencil with SinglePrecond, as
+// segment's k-way cut of the pixel graph calls it):
 //
 //	go test -run '^$' -bench 'SmallestStencilScaled/x6' -benchtime 1x ./segment/eigen
 func BenchmarkSmallestStencilScaled(b *testing.B) {
 	for _, f := range []int{1, 2, 3, 4, 6} {
 		b.Run(fmt.Sprintf("x%d", f), func(b *testing.B) {
 			g := coinsScaledStencil(b, f)
-			benchSolve(b, g.Nodes(), func() (*Result, error) { return SmallestStencil(context.Background(), g, 6, Options{}) })
+			benchSolve(b, g.Nodes(), func() (*Result, error) {
+				return SmallestStencil(context.Background(), g, 6, Options{SinglePrecond: true})
+			})
 		})
 	}
 }
