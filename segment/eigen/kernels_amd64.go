@@ -75,15 +75,6 @@ func csrRows1(t *float64, rowPtr *int, col *int32, wt *float32, s *float64, x *f
 //go:noescape
 func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float64, sub int, ini *float64, rows int)
 
-// stencil32Rows is the float32 kernel of the preconditioner's product on
-// the stencil form (stencil32_amd64.s, single.go): for rows consecutive
-// rows r (t advanced by r·m values, ws by r·k), acc[r·8 + c] = Σ_f
-// ws[f]·t[lm[f] + c] over f = 0..k-1 in order, for the eight lanes c, in
-// float32: stencil32Go's operations in its order. k must be at least 1.
-//
-//go:noescape
-func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int)
-
 // csr32Rows is the float32 kernel of the preconditioner's products on
 // compressed rows (stencil32_amd64.s, single.go's csr32): for rows rows r
 // (rowPtr[r]..rowPtr[r+1] the places of row r in col and wt),
@@ -99,3 +90,14 @@ func csr32Rows(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *flo
 //
 //go:noescape
 func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int)
+
+// stencil32RowsY is the float32 kernel of the preconditioner's product on
+// the stencil form (stencil32_amd64.s, single.go): for rows consecutive
+// rows (t advanced by m values a row, ws by k, s by one, x and y by m),
+// acc[c] = Σ_f ws[f]·t[lm[f] + c] over f = 0..k-1 in order in float32
+// for the eight lanes c, and y[c] = x[c] - s·float64(acc[c]) for the
+// lanes whose mask is set: stencil32Go's sums and stencilOp.mulRows32's
+// Go loop bit for bit. k must be at least 1.
+//
+//go:noescape
+func stencil32RowsY(t *float32, lm *int, k int, ws *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int)

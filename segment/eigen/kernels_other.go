@@ -51,14 +51,14 @@ func combineRows(dst *float64, mc int, s *float64, ns int, sstride int, c *float
 	panic("eigen: no AVX kernel on this platform")
 }
 
-func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int) {
-	panic("eigen: no AVX kernel on this platform")
-}
-
 func csr32Rows(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
 
 func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *float32, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}
+
+func stencil32RowsY(t *float32, lm *int, k int, ws *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }

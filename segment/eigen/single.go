@@ -93,14 +93,15 @@ func (lv *level) mulRows32(y, x *block, t []float32, partial bool, r0, r1 int) {
 	}
 }
 
-// rows32Batch is the number of rows whose sums one kernel call leaves in
-// a stack buffer before they are written to y.
+// rows32Batch is the number of rows whose sums one call leaves in a
+// stack buffer before they are written to y (csr32, stencil32Go).
 const rows32Batch = 64
 
 // mulRows32 is level.mulRows32 on the stencil form: the rows in range
-// (inRange) in the AVX kernel stencil32Rows, the others on their pairs in
-// range (span or filter, as mulRows takes them) one row a call; without
-// AVX the Go loop stencil32Go does the kernel's operations.
+// (inRange) in runs, the others on their pairs in range (span or filter,
+// as mulRows takes them) one row at a time; with AVX in the kernel
+// stencil32RowsY, which writes y itself, else the sums from stencil32Go
+// and y from them in Go.
 func (op *stencilOp) mulRows32(lm []int, s []float64, y, x *block, t []float32, r0, r1 int) {
 	m, k := x.m, op.k
 	var acc [rows32Batch * single32Lanes]float32
@@ -108,22 +109,38 @@ func (op *stencilOp) mulRows32(lm []int, s []float64, y, x *block, t []float32, 
 	var fw []float32
 	for c0 := 0; c0 < m; c0 += single32Lanes {
 		mc := min(single32Lanes, m-c0)
-		// out writes the sums of rows i..i+rows-1 from acc.
-		out := func(i, rows int) {
-			for r := 0; r < rows; r++ {
-				si := s[i+r]
-				b := (i+r)*m + c0
-				yr, xr := y.v[b:b+mc], x.v[b:b+mc]
-				for c := range yr {
-					yr[c] = xr[c] - si*float64(acc[r*single32Lanes+c])
+		var mask [single32Lanes]int64
+		for c := range mc {
+			mask[c] = -1
+		}
+		// rowsOut writes rows i..i+rows-1 of y from the pairs lin, ws
+		// (ws advancing by k a row).
+		rowsOut := func(i, rows int, lin []int, ws []float32) {
+			b := i*m + c0
+			if useAVX && len(lin) > 0 {
+				checkStencil32(t, b, lin, m, rows)
+				_ = x.v[(i+rows)*m-1]
+				_ = y.v[(i+rows)*m-1]
+				stencil32RowsY(&t[b], &lin[0], len(lin), &ws[0], m, &s[i], &x.v[b], &y.v[b], &mask[0], rows)
+				return
+			}
+			for rows > 0 {
+				nr := min(rows, rows32Batch)
+				stencil32Go(t, b, lin, len(lin), ws, m, acc[:], nr)
+				for r := 0; r < nr; r++ {
+					si := s[i+r]
+					yr, xr := y.v[b+r*m:b+r*m+mc], x.v[b+r*m:b+r*m+mc]
+					for c := range yr {
+						yr[c] = xr[c] - si*float64(acc[r*single32Lanes+c])
+					}
 				}
+				i, rows, b, ws = i+nr, rows-nr, b+nr*m, ws[min(nr*k, len(ws)):]
 			}
 		}
 		for i := r0; i < r1; {
 			if op.inRange(i) && op.k > 0 {
-				rows := min(rows32Batch, r1-i, op.n-op.hi-i)
-				stencil32(t, i*m+c0, lm, k, op.wt[i*k:], m, acc[:], rows)
-				out(i, rows)
+				rows := min(r1-i, op.n-op.hi-i)
+				rowsOut(i, rows, lm, op.wt[i*k:(i+rows)*k])
 				i += rows
 				continue
 			}
@@ -135,36 +152,26 @@ func (op *stencilOp) mulRows32(lm []int, s []float64, y, x *block, t []float32, 
 				fl, fw = op.filter(i, lm, fl[:0], fw[:0])
 				lin, ws = fl, fw
 			}
-			stencil32(t, i*m+c0, lin, len(lin), ws, m, acc[:], 1)
-			out(i, 1)
+			rowsOut(i, 1, lin, ws)
 			i++
 		}
 	}
 }
 
-// stencil32 sets acc[r·8 + c] = Σ_f ws[r·k + f] · t[base + r·m + lin[f] + c]
-// for rows rows r and the eight lanes c, each sum in float32 from +0 in
-// the order of f: in the AVX kernel stencil32Rows, else in Go.
-func stencil32(t []float32, base int, lin []int, k int, ws []float32, m int, acc []float32, rows int) {
-	if useAVX {
-		if k == 0 {
-			clear(acc[:rows*single32Lanes])
-			return
-		}
-		// Every load of the kernel in t (Go's bounds, checked once).
-		lo, hi := lin[0], lin[0]
-		for _, d := range lin[:k] {
-			lo, hi = min(lo, d), max(hi, d)
-		}
-		_ = t[base+lo]
-		_ = t[base+(rows-1)*m+hi+single32Lanes-1]
-		stencil32Rows(&t[base], &lin[0], k, &ws[0], m, &acc[0], rows)
-		return
+// checkStencil32 checks that every load in t of a kernel call on rows
+// rows from t[b] with the pairs lin lies in t (Go's bounds, once a call).
+func checkStencil32(t []float32, b int, lin []int, m, rows int) {
+	lo, hi := lin[0], lin[0]
+	for _, d := range lin {
+		lo, hi = min(lo, d), max(hi, d)
 	}
-	stencil32Go(t, base, lin[:k], k, ws, m, acc, rows)
+	_ = t[b+lo]
+	_ = t[b+(rows-1)*m+hi+single32Lanes-1]
 }
 
-// stencil32Go is stencil32 in Go alone.
+// stencil32Go sets acc[r·8 + c] = Σ_f ws[r·k + f] · t[base + r·m + lin[f] + c]
+// for rows rows r and the eight lanes c, each sum in float32 from +0 in
+// the order of f (the operations of the AVX kernel stencil32RowsY).
 func stencil32Go(t []float32, base int, lin []int, k int, ws []float32, m int, acc []float32, rows int) {
 	for r := 0; r < rows; r++ {
 		var a [single32Lanes]float32

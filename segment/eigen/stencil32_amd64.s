@@ -2,101 +2,6 @@
 
 #include "textflag.h"
 
-// stencil32Rows is the float32 kernel of the preconditioner's product
-// (single.go): for each of rows consecutive rows r, with t advanced by
-// r·m values and ws by r·k,
-//
-//	acc[r·8 + c] = Σ_f ws[f] · t[lm[f] + c]   (f = 0..k-1 in order)
-//
-// for the eight lanes c, one packed float32 multiply then one add per f
-// (no fused multiply-add), so every lane is stencil32Go's sum bit for
-// bit. Rows are taken four at a time, their sums independent chains;
-// the rest one at a time. k must be at least 1.
-//
-// func stencil32Rows(t *float32, lm *int, k int, ws *float32, m int, acc *float32, rows int)
-TEXT ·stencil32Rows(SB), NOSPLIT, $0-56
-	MOVQ t+0(FP), SI
-	MOVQ k+16(FP), R10
-	SHLQ $2, R10          // k·4: bytes between two rows of ws
-	MOVQ ws+24(FP), R8
-	MOVQ m+32(FP), R9
-	SHLQ $2, R9           // m·4: bytes between two rows of t
-	MOVQ acc+40(FP), R11
-	MOVQ rows+48(FP), R13
-	LEAQ (R9)(R9*2), R12  // 3·m·4
-	LEAQ (R10)(R10*2), DX // 3·k·4
-
-quad:
-	CMPQ R13, $4
-	JLT  one
-	VXORPS Y0, Y0, Y0
-	VXORPS Y1, Y1, Y1
-	VXORPS Y2, Y2, Y2
-	VXORPS Y3, Y3, Y3
-	MOVQ lm+8(FP), DI
-	MOVQ R8, BX
-	MOVQ k+16(FP), CX
-
-quadloop:
-	MOVQ (DI), AX
-	LEAQ (SI)(AX*4), AX
-	VBROADCASTSS (BX), Y4
-	VMULPS (AX), Y4, Y4
-	VADDPS Y4, Y0, Y0
-	VBROADCASTSS (BX)(R10*1), Y5
-	VMULPS (AX)(R9*1), Y5, Y5
-	VADDPS Y5, Y1, Y1
-	VBROADCASTSS (BX)(R10*2), Y6
-	VMULPS (AX)(R9*2), Y6, Y6
-	VADDPS Y6, Y2, Y2
-	VBROADCASTSS (BX)(DX*1), Y7
-	VMULPS (AX)(R12*1), Y7, Y7
-	VADDPS Y7, Y3, Y3
-	ADDQ $8, DI
-	ADDQ $4, BX
-	DECQ CX
-	JNE  quadloop
-
-	VMOVUPS Y0, (R11)
-	VMOVUPS Y1, 32(R11)
-	VMOVUPS Y2, 64(R11)
-	VMOVUPS Y3, 96(R11)
-	ADDQ $128, R11
-	LEAQ (SI)(R9*4), SI
-	LEAQ (R8)(R10*4), R8
-	SUBQ $4, R13
-	JMP  quad
-
-one:
-	TESTQ R13, R13
-	JEQ  done
-	VXORPS Y0, Y0, Y0
-	MOVQ lm+8(FP), DI
-	MOVQ R8, BX
-	MOVQ k+16(FP), CX
-
-oneloop:
-	MOVQ (DI), AX
-	LEAQ (SI)(AX*4), AX
-	VBROADCASTSS (BX), Y4
-	VMULPS (AX), Y4, Y4
-	VADDPS Y4, Y0, Y0
-	ADDQ $8, DI
-	ADDQ $4, BX
-	DECQ CX
-	JNE  oneloop
-
-	VMOVUPS Y0, (R11)
-	ADDQ $32, R11
-	ADDQ R9, SI
-	ADDQ R10, R8
-	DECQ R13
-	JMP  one
-
-done:
-	VZEROUPPER
-	RET
-
 // csr32Rows is the float32 kernel of the preconditioner's products on
 // compressed rows (single.go, csr32): for each of rows rows r, from
 // rowPtr[r] to rowPtr[r+1] (absolute places in col and wt),
@@ -236,5 +141,179 @@ sfin:
 	JMP     srow
 
 sdone:
+	VZEROUPPER
+	RET
+
+// stencil32RowsY is the float32 kernel of the preconditioner's product on
+// the stencil form (single.go): for each of rows rows r (t advanced by
+// r·m values, ws by r·k, s by r, x and y by r·m float64s),
+//
+//	acc[c] = Σ_f ws[f] · t[lm[f] + c]   (f = 0..k-1 in order, float32)
+//	y[c]   = x[c] - s · float64(acc[c])   for the lanes c with mask[c] set
+//
+// (mask: eight int64 lanes, all ones for the columns of the group, zero
+// past them; x and y are neither read nor written there), the Go loop of
+// stencilOp.mulRows32 on stencil32Go's sums, bit for bit: the float32 sum
+// converted exactly, one float64 multiply, one subtraction.
+//
+// func stencil32RowsY(t *float32, lm *int, k int, ws *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int)
+TEXT ·stencil32RowsY(SB), NOSPLIT, $8-80
+	MOVQ t+0(FP), SI
+	MOVQ k+16(FP), R10
+	SHLQ $2, R10          // k·4: bytes between two rows of ws
+	MOVQ ws+24(FP), R8
+	MOVQ m+32(FP), R9
+	SHLQ $2, R9           // m·4: bytes between two rows of t
+	MOVQ s+40(FP), R14
+	MOVQ x+48(FP), R11
+	MOVQ y+56(FP), AX
+	MOVQ AX, 0(SP)        // y of the current row
+	MOVQ mask+64(FP), AX
+	VMOVDQU (AX), Y13
+	VMOVDQU 32(AX), Y14
+	MOVQ rows+72(FP), R13
+	LEAQ (R9)(R9*2), R12  // 3·m·4
+	LEAQ (R10)(R10*2), DX // 3·k·4
+
+yquad:
+	CMPQ R13, $4
+	JLT  yone
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	MOVQ lm+8(FP), DI
+	MOVQ R8, BX
+	MOVQ k+16(FP), CX
+
+yquadloop:
+	MOVQ (DI), AX
+	LEAQ (SI)(AX*4), AX
+	VBROADCASTSS (BX), Y4
+	VMULPS (AX), Y4, Y4
+	VADDPS Y4, Y0, Y0
+	VBROADCASTSS (BX)(R10*1), Y5
+	VMULPS (AX)(R9*1), Y5, Y5
+	VADDPS Y5, Y1, Y1
+	VBROADCASTSS (BX)(R10*2), Y6
+	VMULPS (AX)(R9*2), Y6, Y6
+	VADDPS Y6, Y2, Y2
+	VBROADCASTSS (BX)(DX*1), Y7
+	VMULPS (AX)(R12*1), Y7, Y7
+	VADDPS Y7, Y3, Y3
+	ADDQ $8, DI
+	ADDQ $4, BX
+	DECQ CX
+	JNE  yquadloop
+
+	// The four rows' results: x and y advance by m float64s (2·R9
+	// bytes) a row.
+	MOVQ 0(SP), CX
+	MOVQ R11, AX
+	VCVTPS2PD X0, Y8
+	VEXTRACTF128 $1, Y0, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD (R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (AX), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (CX)
+	VMASKMOVPD 32(AX), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(CX)
+	LEAQ (AX)(R9*2), AX
+	LEAQ (CX)(R9*2), CX
+	VCVTPS2PD X1, Y8
+	VEXTRACTF128 $1, Y1, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD 8(R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (AX), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (CX)
+	VMASKMOVPD 32(AX), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(CX)
+	LEAQ (AX)(R9*2), AX
+	LEAQ (CX)(R9*2), CX
+	VCVTPS2PD X2, Y8
+	VEXTRACTF128 $1, Y2, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD 16(R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (AX), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (CX)
+	VMASKMOVPD 32(AX), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(CX)
+	LEAQ (AX)(R9*2), AX
+	LEAQ (CX)(R9*2), CX
+	VCVTPS2PD X3, Y8
+	VEXTRACTF128 $1, Y3, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD 24(R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (AX), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (CX)
+	VMASKMOVPD 32(AX), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(CX)
+	LEAQ (AX)(R9*2), R11
+	LEAQ (CX)(R9*2), CX
+	MOVQ CX, 0(SP)
+	ADDQ $32, R14
+	LEAQ (SI)(R9*4), SI
+	LEAQ (R8)(R10*4), R8
+	SUBQ $4, R13
+	JMP  yquad
+
+yone:
+	TESTQ R13, R13
+	JEQ   ydone
+	VXORPS Y0, Y0, Y0
+	MOVQ  lm+8(FP), DI
+	MOVQ  R8, BX
+	MOVQ  k+16(FP), CX
+
+yoneloop:
+	MOVQ (DI), AX
+	LEAQ (SI)(AX*4), AX
+	VBROADCASTSS (BX), Y4
+	VMULPS (AX), Y4, Y4
+	VADDPS Y4, Y0, Y0
+	ADDQ $8, DI
+	ADDQ $4, BX
+	DECQ CX
+	JNE  yoneloop
+
+	MOVQ 0(SP), CX
+	VCVTPS2PD X0, Y8
+	VEXTRACTF128 $1, Y0, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD (R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (R11), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (CX)
+	VMASKMOVPD 32(R11), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(CX)
+	LEAQ (R11)(R9*2), R11
+	LEAQ (CX)(R9*2), CX
+	MOVQ CX, 0(SP)
+	ADDQ $8, R14
+	ADDQ R9, SI
+	ADDQ R10, R8
+	DECQ R13
+	JMP  yone
+
+ydone:
 	VZEROUPPER
 	RET
