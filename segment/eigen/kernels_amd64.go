@@ -101,3 +101,11 @@ func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *fl
 //
 //go:noescape
 func stencil32RowsY(t *float32, lm *int, k int, ws *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int)
+
+// csr32RowsY is csr32Rows with each row's result written as y[c] = x[c] -
+// s·float64(sum) for the lanes c whose mask is set (x and y advanced by
+// m a row, s by one; stencil32_amd64.s): level.mulRows32's Go loop on
+// csr32's partial sums bit for bit.
+//
+//go:noescape
+func csr32RowsY(t *float32, rowPtr *int, col *int32, wt *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int)

@@ -62,3 +62,7 @@ func csr32Rows1(t *float32, rowPtr *int, col *int32, wt *float32, m int, acc *fl
 func stencil32RowsY(t *float32, lm *int, k int, ws *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int) {
 	panic("eigen: no AVX kernel on this platform")
 }
+
+func csr32RowsY(t *float32, rowPtr *int, col *int32, wt *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int) {
+	panic("eigen: no AVX kernel on this platform")
+}

@@ -68,7 +68,7 @@ func (lv *level) scaleRows32(t []float32, x *block, r0, r1 int) {
 
 // mulRows32 computes rows r0..r1-1 of y = x - S W t (see applyL32);
 // on compressed rows with partial set each sum in four partial sums
-// (csr32).
+// (csr32; with AVX csr32RowsY, which writes y itself).
 func (lv *level) mulRows32(y, x *block, t []float32, partial bool, r0, r1 int) {
 	if lv.sg != nil {
 		lv.sg.mulRows32(lv.sg.scaled(x.m), lv.s, y, x, t, r0, r1)
@@ -78,6 +78,19 @@ func (lv *level) mulRows32(y, x *block, t []float32, partial bool, r0, r1 int) {
 	var acc [rows32Batch * single32Lanes]float32
 	for c0 := 0; c0 < m; c0 += single32Lanes {
 		mc := min(single32Lanes, m-c0)
+		if useAVX && partial && r0 < r1 && len(lv.col) > 0 {
+			// The kernel writes y itself (csr32RowsY).
+			var mask [single32Lanes]int64
+			for c := range mc {
+				mask[c] = -1
+			}
+			b := r0*m + c0
+			_ = x.v[r1*m-1]
+			_ = y.v[r1*m-1]
+			_ = lv.s[r1-1]
+			csr32RowsY(&t[c0], &lv.rowPtr[r0], &lv.col[0], &lv.wt[0], m, &lv.s[r0], &x.v[b], &y.v[b], &mask[0], r1-r0)
+			continue
+		}
 		for i := r0; i < r1; i += rows32Batch {
 			rows := min(rows32Batch, r1-i)
 			csr32(t, c0, lv.rowPtr[i:i+rows+1], lv.col, lv.wt, m, acc[:], partial)

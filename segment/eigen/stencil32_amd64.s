@@ -317,3 +317,113 @@ yoneloop:
 ydone:
 	VZEROUPPER
 	RET
+
+// csr32RowsY is csr32Rows with each row's result written to y instead of
+// acc: y[c] = x[c] - s·float64((a0 + a1) + (a2 + a3)) for the lanes c with
+// mask[c] set (x and y advanced by m float64s a row, s by one), the Go
+// loop of level.mulRows32 on csr32's partial sums bit for bit.
+//
+// func csr32RowsY(t *float32, rowPtr *int, col *int32, wt *float32, m int, s *float64, x *float64, y *float64, mask *int64, rows int)
+TEXT ·csr32RowsY(SB), NOSPLIT, $0-80
+	MOVQ t+0(FP), SI
+	MOVQ rowPtr+8(FP), DI
+	MOVQ col+16(FP), R8
+	MOVQ wt+24(FP), R10
+	MOVQ m+32(FP), R9
+	SHLQ $2, R9 // m·4: bytes between two rows of t
+	MOVQ s+40(FP), R14
+	MOVQ x+48(FP), R11
+	MOVQ y+56(FP), R12
+	MOVQ mask+64(FP), AX
+	VMOVDQU (AX), Y13
+	VMOVDQU 32(AX), Y14
+	MOVQ rows+72(FP), R13
+
+yrow:
+	TESTQ R13, R13
+	JEQ   yrdone
+	MOVQ  (DI), BX
+	MOVQ  8(DI), CX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+
+yrquad:
+	LEAQ 4(BX), AX
+	CMPQ AX, CX
+	JGT  yrrest
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y4
+	VMULPS  (SI)(AX*1), Y4, Y4
+	VADDPS  Y4, Y0, Y0
+	MOVLQSX 4(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 4(R10)(BX*4), Y5
+	VMULPS  (SI)(AX*1), Y5, Y5
+	VADDPS  Y5, Y1, Y1
+	MOVLQSX 8(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 8(R10)(BX*4), Y6
+	VMULPS  (SI)(AX*1), Y6, Y6
+	VADDPS  Y6, Y2, Y2
+	MOVLQSX 12(R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS 12(R10)(BX*4), Y7
+	VMULPS  (SI)(AX*1), Y7, Y7
+	VADDPS  Y7, Y3, Y3
+	ADDQ    $4, BX
+	JMP     yrquad
+
+yrrest:
+	CMPQ BX, CX
+	JGE  yrfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y4
+	VMULPS  (SI)(AX*1), Y4, Y4
+	VADDPS  Y4, Y0, Y0
+	INCQ    BX
+	CMPQ    BX, CX
+	JGE     yrfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y5
+	VMULPS  (SI)(AX*1), Y5, Y5
+	VADDPS  Y5, Y1, Y1
+	INCQ    BX
+	CMPQ    BX, CX
+	JGE     yrfin
+	MOVLQSX (R8)(BX*4), AX
+	IMULQ   R9, AX
+	VBROADCASTSS (R10)(BX*4), Y6
+	VMULPS  (SI)(AX*1), Y6, Y6
+	VADDPS  Y6, Y2, Y2
+
+yrfin:
+	VADDPS  Y1, Y0, Y0
+	VADDPS  Y3, Y2, Y2
+	VADDPS  Y2, Y0, Y0
+	VCVTPS2PD X0, Y8
+	VEXTRACTF128 $1, Y0, X9
+	VCVTPS2PD X9, Y9
+	VBROADCASTSD (R14), Y10
+	VMULPD Y10, Y8, Y8
+	VMULPD Y10, Y9, Y9
+	VMASKMOVPD (R11), Y13, Y11
+	VSUBPD Y8, Y11, Y11
+	VMASKMOVPD Y11, Y13, (R12)
+	VMASKMOVPD 32(R11), Y14, Y12
+	VSUBPD Y9, Y12, Y12
+	VMASKMOVPD Y12, Y14, 32(R12)
+	LEAQ (R11)(R9*2), R11
+	LEAQ (R12)(R9*2), R12
+	ADDQ $8, R14
+	ADDQ $8, DI
+	DECQ R13
+	JMP  yrow
+
+yrdone:
+	VZEROUPPER
+	RET
