@@ -84,16 +84,16 @@ type Options struct {
 	// multilevel preconditioner is built as without it. Graphs solved
 	// densely ignore it. The result meets Tol either way.
 	Start [][]float64
-	// SinglePrecond takes the multigrid preconditioner's products with
-	// the input graph (two per cycle, two thirds of the input graph's
-	// products in a LOBPCG step of a pixel graph) in single precision:
-	// S x rounded to float32 and each row's sums in float32 (single.go;
-	// an AVX kernel of eight float32 lanes). The preconditioner only
-	// chooses the search directions; Rayleigh-Ritz, the residuals and
-	// the returned pairs use the double-precision product, so the result
-	// meets Tol either way, but it is not the one without it bit for bit.
-	// Graphs solved densely, and starts that use no preconditioner,
-	// ignore it.
+	// SinglePrecond takes the multigrid preconditioner's products in
+	// single precision, on every level (on the input graph two per
+	// cycle, two thirds of its products in a LOBPCG step of a pixel
+	// graph): S x rounded to float32 and each row's sums in float32
+	// (single.go; AVX kernels of eight float32 lanes). The
+	// preconditioner only chooses the search directions; Rayleigh-Ritz,
+	// the residuals and the returned pairs use the double-precision
+	// product, so the result meets Tol either way, but it is not the
+	// one without it bit for bit. Graphs solved densely, and starts
+	// that use no preconditioner, ignore it.
 	SinglePrecond bool
 }
 

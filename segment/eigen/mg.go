@@ -29,8 +29,8 @@ type multigrid struct {
 	// pool, when set, supplies the fine-size blocks of the top level of
 	// the cycle (see apply) instead of scratch space held between calls.
 	pool *pool
-	// single takes the residuals on the input graph (depth 0) with
-	// applyL32 (Options.SinglePrecond), in t32.
+	// single takes the cycle's products on every level with applyL32
+	// (Options.SinglePrecond), in t32 (see applyAt).
 	single bool
 	t32    []float32
 }
