@@ -58,6 +58,14 @@ const stencilLevelBytes = 192
 // segment/eigen/lobpcg.go), counted with room for the pool's spares.
 const eigenBlocks = 16
 
+// precond32Bytes is, per node and block column, the float32 scratch of
+// the single-precision preconditioner (eigen.Options.SinglePrecond,
+// which the k-way cut of the pixel graph asks): 4 bytes a value on the
+// input level and, as each coarse level's solve holds its own, about a
+// third more on the coarse levels (levels four times smaller), rounded
+// up.
+const precond32Bytes = 6
+
 // EstimateStages returns the estimated peak memory, in bytes, that Run
 // allocates in each of its stages for a w x h input with the given
 // number of feature planes: the graph (pixel graph, or the object-scale
@@ -145,7 +153,7 @@ func EstimateStages(w, h, planes int, p Params) []StageBytes {
 	m := float64(want+max(1, (want+1)/6)) + 1 // the block (eigen's blockSize) and z0
 	cuts := before + 4*csr + nodes*80 + eigenBlocks*8*m*nodes + regionBytesPerPixel*npix
 	if stencil {
-		cuts = before + csr + nodes*stencilLevelBytes + eigenBlocks*8*m*nodes + regionBytesPerPixel*npix
+		cuts = before + csr + nodes*stencilLevelBytes + (eigenBlocks*8+precond32Bytes)*m*nodes + regionBytesPerPixel*npix
 	}
 	est := []StageBytes{{"graph", sat(graph)}, {"cuts", sat(cuts)}}
 	if p.Classes >= 2 || p.Background == BackgroundLines {
