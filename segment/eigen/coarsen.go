@@ -28,7 +28,11 @@ func coarsenIn(lv *level, workers int, pl *pool) *level {
 	}
 	// Visit nodes in index order; pair each free node with the free
 	// neighbour of largest normalized weight w_ij/sqrt(d_i d_j), ties to
-	// the earlier stored entry.
+	// the earlier stored entry. The largest weight wmax is kept by a
+	// comparison, not the builtin max, whose NaN and signed-zero rules
+	// cost branches (the weights are positive and finite): the matching
+	// loop's wmax lines were 200 of 11,700 ms of a profile of the
+	// 116,736-node command.
 	var cb []int32
 	var wb []float32
 	for i := 0; i < n; i++ {
@@ -47,7 +51,9 @@ func coarsenIn(lv *level, workers int, pl *pool) *level {
 				}
 				j := i + sg.lin[f]
 				w := float64(v) * si * lv.s[j]
-				wmax = max(wmax, w)
+				if w > wmax {
+					wmax = w
+				}
 				if mate[j] != unmatched {
 					continue
 				}
@@ -63,7 +69,9 @@ func coarsenIn(lv *level, workers int, pl *pool) *level {
 					continue
 				}
 				w := float64(wts[p]) * si * lv.s[j]
-				wmax = max(wmax, w)
+				if w > wmax {
+					wmax = w
+				}
 				if mate[j] != unmatched {
 					continue
 				}
