@@ -15,18 +15,23 @@ import (
 // 64, 256 and 1024 (two rounds each at load about 6; 1024 the most).
 const kmeansBlock = 64
 
+// kmeansGroup is the number of blocks iterateBlocks hands to a worker at
+// a time.
+const kmeansGroup = 16
+
 // iterateBlocks is iterate with the points in blocks of kmeansBlock
 // consecutive points, the blocks of one iteration run on workers
 // goroutines. Labels are Lloyd's (every point not skipped gets all k
 // squared distances, the first least one wins), but a centre's sum is
-// the sum, in block order, of the block's own sums in point order: the
+// the sum, in order, of the sums of groups of kmeansGroup blocks, each
+// the sum in block order of its blocks' own sums in point order: the
 // centres can differ from iterate's in the last bits, and so, at a point
 // lying within rounding of two centres, the labels (the result does not
 // depend on the worker count).
 //
 // Two savings come from the blocks. A block keeps its sums while none
-// of its labels changes, so an iteration adds up only the blocks where
-// labels moved. And a block whose smallest margin lo_i - up_i of
+// of its labels changes, so an iteration adds up only the blocks and
+// groups where labels moved. And a block whose smallest margin lo_i - up_i of
 // Hamerly's bounds exceeds twice the largest centre moves since its last
 // visit cannot change a label (up_i grows by its centre's move, lo_i
 // falls by the largest, each at most the largest move), so it is not
@@ -49,6 +54,12 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 	gap := make([]float64, nb)
 	mag := make([]float64, nb)
 	moved := make([]bool, nb)
+	// Per group of kmeansGroup blocks: the sums of its blocks' sums in
+	// block order (redone when one of them changed), and whether one did.
+	ng := (nb + kmeansGroup - 1) / kmeansGroup
+	gpart := make([]float64, ng*k*dim)
+	gcnt := make([]float64, ng*k)
+	gmoved := make([]bool, ng)
 	// cum[t*k+c] is the sum of centre c's moves over iterations before t,
 	// cumMax[t] the sum of the largest moves (travel before t).
 	cum := make([]float64, k, 301*k)
@@ -64,7 +75,7 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 		last := iter == 299
 		travel := cumMax[iter]
 		cm := cum[iter*k : iter*k+k]
-		parallel.For(nb, workers, func(b int) {
+		visit := func(b int) {
 			i0, i1 := b*kmeansBlock, min(n, (b+1)*kmeansBlock)
 			moved[b] = false
 			if iter > 0 && !last {
@@ -145,9 +156,34 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 					sc[d] += w * v
 				}
 			}
+		}
+		// The blocks are handed out kmeansGroup at a time: one block
+		// each made the shared counter of parallel.For a cost of its
+		// own.
+		parallel.For(ng, workers, func(c int) {
+			b0, b1 := c*kmeansGroup, min(nb, (c+1)*kmeansGroup)
+			gmoved[c] = false
+			for b := b0; b < b1; b++ {
+				visit(b)
+				gmoved[c] = gmoved[c] || moved[b]
+			}
+			if !gmoved[c] {
+				return
+			}
+			gs, gc := gpart[c*k*dim:(c+1)*k*dim], gcnt[c*k:(c+1)*k]
+			clear(gs)
+			clear(gc)
+			for b := b0; b < b1; b++ {
+				for j, v := range part[b*k*dim : (b+1)*k*dim] {
+					gs[j] += v
+				}
+				for j, v := range pcnt[b*k : (b+1)*k] {
+					gc[j] += v
+				}
+			}
 		})
 		changed := false
-		for _, m := range moved {
+		for _, m := range gmoved {
 			changed = changed || m
 		}
 		if !changed || last {
@@ -162,11 +198,11 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 		}
 		clear(sum)
 		clear(cnt)
-		for b := 0; b < nb; b++ {
-			for j, v := range part[b*k*dim : (b+1)*k*dim] {
+		for g := 0; g < ng; g++ {
+			for j, v := range gpart[g*k*dim : (g+1)*k*dim] {
 				sum[j] += v
 			}
-			for c, v := range pcnt[b*k : (b+1)*k] {
+			for c, v := range gcnt[g*k : (g+1)*k] {
 				cnt[c] += v
 			}
 		}
