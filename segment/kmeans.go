@@ -18,8 +18,8 @@ import (
 // the one of least inertia wins; the result is a pure function of the
 // inputs, whatever the worker count. From kmeansSampleMin points on, the
 // restarts run on an evenly strided sample and their end points are
-// iterated on all points in blocks (see kmeansSampleMin and
-// iterateBlocks).
+// iterated on all points, both in blocks of points (see kmeansSampleMin
+// and iterateBlocks).
 func kmeans(x []float64, n, dim, k int, wt []float64, restarts int, seed uint64, workers int) []int32 {
 	lab, _ := kmeansContext(context.Background(), x, n, dim, k, wt, restarts, seed, workers)
 	return lab
@@ -87,7 +87,19 @@ func kmeansRun(ctx context.Context, x []float64, n, dim, k int, wt []float64, re
 	inertia := make([]float64, restarts)
 	parallel.For(restarts, workers, func(r int) {
 		rng := rand.New(rand.NewPCG(seed, 0x6b6d65616e73+uint64(r)))
-		labs[r], cents[r], inertia[r] = lloyd(ctx, xs, ns, dim, k, ws, rng)
+		if !sampled {
+			labs[r], cents[r], inertia[r] = lloyd(ctx, xs, ns, dim, k, ws, rng)
+			return
+		}
+		// On the sample the iterations run in blocks as on all
+		// points (iterateBlocks), one worker a restart.
+		cent := seedCentres(ctx, xs, ns, dim, k, ws, rng)
+		if cent == nil {
+			inertia[r] = math.Inf(1)
+			return
+		}
+		labs[r], inertia[r] = iterateBlocks(ctx, xs, ns, dim, k, ws, cent, 1)
+		cents[r] = cent
 	})
 	if err := ctx.Err(); err != nil {
 		return nil, err
