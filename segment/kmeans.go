@@ -98,7 +98,7 @@ func kmeansRun(ctx context.Context, x []float64, n, dim, k int, wt []float64, re
 			inertia[r] = math.Inf(1)
 			return
 		}
-		labs[r], inertia[r] = iterateBlocks(ctx, xs, ns, dim, k, ws, cent, 1)
+		labs[r], inertia[r] = iterateBlocks(ctx, xs, ns, dim, k, ws, cent, 1, nil)
 		cents[r] = cent
 	})
 	if err := ctx.Err(); err != nil {
@@ -138,27 +138,29 @@ func kmeansRun(ctx context.Context, x []float64, n, dim, k int, wt []float64, re
 			}
 		}
 	}
-	full := make([][]int32, restarts)
-	fullIn := make([]float64, restarts)
 	// One end point after the other, each iteration's blocks of points
 	// on the workers (iterateBlocks): the end points' iteration counts
 	// differ (6 to 29 on the coins pixel graph at 116,736 nodes), and a
-	// long one run alone on one worker left the other idle.
+	// long one run alone on one worker left the other idle. The labels
+	// of the least inertia so far are kept (ties to the lower r), the
+	// other arrays reused.
+	var sc blockScratch
+	best, bestIn := -1, 0.0
+	var bestLab []int32
 	for r := range restarts {
-		if same[r] == r {
-			full[r], fullIn[r] = iterateBlocks(ctx, x, n, dim, k, wt, cents[r], workers)
+		if same[r] != r {
+			continue
+		}
+		lab, in := iterateBlocks(ctx, x, n, dim, k, wt, cents[r], workers, &sc)
+		if best < 0 || in < bestIn {
+			best, bestIn = r, in
+			bestLab, sc.lab = lab, bestLab
 		}
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	best := 0
-	for r := 1; r < restarts; r++ {
-		if same[r] == r && fullIn[r] < fullIn[best] {
-			best = r
-		}
-	}
-	return full[best], nil
+	return bestLab, nil
 }
 
 // canonicalOrder sorts the k centres of cent (k rows of dim values) in

@@ -374,7 +374,8 @@ func plantedWeights(n int, seed uint64, weighted bool) []float64 {
 // weighted and not, of fewer points than a block and of many blocks with
 // a short last one, the labels are equal and the inertia agrees to 1e-12
 // relative (the centres' sums are added in another order); one worker and
-// three give the same labels and inertia bit for bit.
+// three (with arrays reused from the previous restart) give the same
+// labels and inertia bit for bit.
 func TestIterateBlocksMatchesIterate(t *testing.T) {
 	for _, c := range []plantedCase{
 		{kmeansBlock - 5, 0.3, false, 14100},
@@ -386,12 +387,13 @@ func TestIterateBlocksMatchesIterate(t *testing.T) {
 			const dim, k = 6, 6
 			x, _ := clusteredRows(c.n, dim, k, c.spread, c.seed)
 			wt := plantedWeights(c.n, c.seed, c.weighted)
+			var sc blockScratch // reused by the three-worker runs
 			for r := uint64(0); r < 3; r++ {
 				cent := seedCentres(context.Background(), x, c.n, dim, k, wt, rand.New(rand.NewPCG(c.seed, r)))
 				c1, c3 := slices.Clone(cent), slices.Clone(cent)
 				want, wi := iterate(context.Background(), x, c.n, dim, k, wt, cent)
-				got, gi := iterateBlocks(context.Background(), x, c.n, dim, k, wt, c1, 1)
-				got3, gi3 := iterateBlocks(context.Background(), x, c.n, dim, k, wt, c3, 3)
+				got, gi := iterateBlocks(context.Background(), x, c.n, dim, k, wt, c1, 1, nil)
+				got3, gi3 := iterateBlocks(context.Background(), x, c.n, dim, k, wt, c3, 3, &sc)
 				if !slices.Equal(got, want) || math.Abs(gi-wi) > 1e-12*wi {
 					t.Fatalf("restart %d: labels equal %v, inertia %v, iterate's %v", r, slices.Equal(got, want), gi, wi)
 				}

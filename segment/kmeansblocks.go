@@ -37,14 +37,20 @@ const kmeansGroup = 16
 // falls by the largest, each at most the largest move), so it is not
 // read at all; its points' bounds catch up on the next visit, by the
 // cumulative moves of their centres since then.
-func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64, cent []float64, workers int) ([]int32, float64) {
+//
+// The labels and the per-point bounds come from sc (nil: allocated), the
+// labels returned being sc.lab: the caller keeps them by taking sc.lab
+// away. The inertia is summed in point order within each group of blocks
+// and over the groups in order.
+func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64, cent []float64, workers int, sc *blockScratch) ([]int32, float64) {
 	nb := (n + kmeansBlock - 1) / kmeansBlock
-	lab := make([]int32, n)
+	if sc == nil {
+		sc = new(blockScratch)
+	}
+	lab, up, lo := sc.arrays(n)
 	for i := range lab {
 		lab[i] = -1
 	}
-	up := make([]float64, n)
-	lo := make([]float64, n)
 	// Per block: its sums (k·dim) and counts (k), the iteration up to
 	// whose centre moves its points' bounds are brought (seen), and the
 	// least margin and the largest magnitude of those bounds.
@@ -60,6 +66,7 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 	gpart := make([]float64, ng*k*dim)
 	gcnt := make([]float64, ng*k)
 	gmoved := make([]bool, ng)
+	ginert := make([]float64, ng)
 	// cum[t*k+c] is the sum of centre c's moves over iterations before t,
 	// cumMax[t] the sum of the largest moves (travel before t).
 	cum := make([]float64, k, 301*k)
@@ -187,10 +194,17 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 			changed = changed || m
 		}
 		if !changed || last {
+			parallel.For(ng, workers, func(g int) {
+				var s float64
+				for i := g * kmeansGroup * kmeansBlock; i < min(n, (g+1)*kmeansGroup*kmeansBlock); i++ {
+					c := int(lab[i])
+					s += weightOf(wt, i) * sqDist(x[i*dim:(i+1)*dim], cent[c*dim:(c+1)*dim])
+				}
+				ginert[g] = s
+			})
 			inertia = 0
-			for i := 0; i < n; i++ {
-				c := int(lab[i])
-				inertia += weightOf(wt, i) * sqDist(x[i*dim:(i+1)*dim], cent[c*dim:(c+1)*dim])
+			for _, v := range ginert {
+				inertia += v
 			}
 			if !changed {
 				break
@@ -224,4 +238,24 @@ func iterateBlocks(ctx context.Context, x []float64, n, dim, k int, wt []float64
 		cumMax = append(cumMax, travel+maxMove)
 	}
 	return lab, inertia
+}
+
+// blockScratch holds the per-point arrays of iterateBlocks for reuse
+// from one call to the next.
+type blockScratch struct {
+	lab    []int32
+	up, lo []float64
+}
+
+// arrays returns the labels and the two bounds for n points, allocated
+// when sc's are shorter.
+func (sc *blockScratch) arrays(n int) ([]int32, []float64, []float64) {
+	if cap(sc.lab) < n {
+		sc.lab = make([]int32, n)
+	}
+	if cap(sc.up) < n {
+		sc.up, sc.lo = make([]float64, n), make([]float64, n)
+	}
+	sc.lab = sc.lab[:n]
+	return sc.lab, sc.up[:n], sc.lo[:n]
 }
