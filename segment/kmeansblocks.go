@@ -9,7 +9,7 @@ import (
 
 // kmeansBlock is the number of consecutive points in a block of
 // iterateBlocks. On the k-way embedding of the coins pixel graph at
-// 116,736 nodes (row-major pixels), 1,600-1,780 of its 1,824 blocks of 64
+// 116,736 nodes (row-major pixels), 1,540-1,780 of its 1,824 blocks of 64
 // were skipped in an iteration after the first (but for one long run),
 // and the whole clustering took about the least CPU time with 64 of 32,
 // 64, 256 and 1024 (two rounds each at load about 6; 1024 the most).
