@@ -36,9 +36,23 @@ func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, background Bac
 	w := g.w
 	forGridRows(g.grid, g.gw, g.gh, g.cell, w, g.h, workers, func(y int, top, bot []float64, ty float64) {
 		c, in := con[y*w:(y+1)*w], inten[y*w:(y+1)*w]
-		for x := range c {
-			f := float32(top[x]*(1-ty) + bot[x]*ty)
-			c[x] = signedContrast(backgroundRatio(float64(in[x]), float64(f)), background)
+		// One loop per side, so that the side is not decided per pixel.
+		switch background {
+		case BackgroundDark:
+			for x := range c {
+				f := float32(top[x]*(1-ty) + bot[x]*ty)
+				c[x] = darkContrast(backgroundRatio(float64(in[x]), float64(f)))
+			}
+		case BackgroundBright:
+			for x := range c {
+				f := float32(top[x]*(1-ty) + bot[x]*ty)
+				c[x] = brightContrast(backgroundRatio(float64(in[x]), float64(f)))
+			}
+		default:
+			for x := range c {
+				f := float32(top[x]*(1-ty) + bot[x]*ty)
+				c[x] = math.Abs(backgroundRatio(float64(in[x]), float64(f)) - 1)
+			}
 		}
 	})
 	return con
@@ -50,12 +64,17 @@ func contrastOfGrid(dst []float64, inten []float32, g *fieldGrid, background Bac
 func signedContrast(r float64, background Background) float64 {
 	switch background {
 	case BackgroundDark:
-		return math.Max(r-1, 0)
+		return darkContrast(r)
 	case BackgroundBright:
-		return math.Max(1-r, 0)
+		return brightContrast(r)
 	}
 	return math.Abs(r - 1)
 }
+
+// darkContrast is max(r - 1, 0) and brightContrast max(1 - r, 0).
+func darkContrast(r float64) float64 { return math.Max(r-1, 0) }
+
+func brightContrast(r float64) float64 { return math.Max(1-r, 0) }
 
 // seamRatio: two adjacent foreground regions stay separate objects when the
 // contrast along their shared boundary is below seamRatio times the weaker
