@@ -118,6 +118,10 @@ type cutOptions struct {
 	noSpectrum bool
 	// tree records the split tree in cutResult.tree (see cutTree).
 	tree bool
+	// initial, when set, is a partition of the graph's nodes (ascending
+	// node lists) to start from instead of the whole graph: each is split
+	// on as a part of its own (the re-cut's neck partition).
+	initial [][]int
 	// budget, when positive, bounds the nodes of all the parts whose
 	// Fiedler vector is solved for: a part whose solve would pass it is
 	// left whole (the re-cut of single objects, refineWork).
@@ -176,8 +180,15 @@ func bisect(ctx context.Context, g *affinity.Graph, area []int, p cutParams, o c
 		}
 		return pt
 	}
-	heap.Push(h, newPart(all, -1))
 	regions := 1
+	if len(o.initial) > 0 {
+		for _, nodes := range o.initial {
+			heap.Push(h, newPart(nodes, -1))
+		}
+		regions = len(o.initial)
+	} else {
+		heap.Push(h, newPart(all, -1))
+	}
 	solved := 0            // nodes of the parts solved so far (cutOptions.budget)
 	first := !o.noSpectrum // the top-level solve records the low spectrum
 	for h.Len() > 0 {

@@ -2,6 +2,7 @@ package segment
 
 import (
 	"math"
+	"slices"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
@@ -440,4 +441,158 @@ func radixSortKeyed(keys []keyed) []keyed {
 		keys, tmp = tmp, keys
 	}
 	return keys
+}
+
+// neckScaleFactor is how far the typical peak of a neck partition's
+// pieces may lie from the image's object radius, as a factor either way:
+// the peak of the distance map of a disc of radius R is about R, of an
+// ellipse its minor half-axis, and the objects of a cluster are of the
+// image's kind; a factor of two spans the radii of one kind of object in
+// a field (othershapes.py dense: 7-12 px). Our choice.
+const neckScaleFactor = 2
+
+// neckPartition divides a shape (distance map d, inside pixels > 0, crop
+// cw x ch) at all its necks at once, where neckPieces would divide it one
+// neck at a time: the pixels are flooded from the top as in deepestNecks,
+// and where two pieces meet at a saddle s the lower, of peak p, is kept
+// as a piece of its own when its neck is deep enough to part two objects
+// by its depth alone, p - s > neckNoise and (p - s)/(p - 1/2) >=
+// refineNeckAlone (neckPieces' rule); it merges into the other otherwise.
+// This is the selection of markers by their dynamics (the h-maxima of the
+// distance transform, Soille 2003, Morphological Image Analysis, 2nd ed.,
+// section 6.3) with cleave's relative floor beside the absolute one. The
+// pieces' peaks are then the markers of a watershed of -d (Meyer's
+// flooding, as splitAtNeck, with as many markers as pieces; section 9.3
+// there).
+//
+// It returns the piece (0..n-1) of every pixel, -1 outside, and the count
+// n, or nil and 0 unless there are at least minPieces pieces (and two), every piece
+// holds at least minPart pixels and is compact (compactSide of its area
+// and peak), and the median of the pieces' peaks lies within a factor
+// neckScaleFactor of radius, the image's object radius (ObjectRadius;
+// 0 or less: no partition): a chain or a cluster of touching objects is
+// parted into its objects, while a vessel or a ragged outline, whose
+// pieces between necks are long, and a region whose blobs are not of the
+// image's objects' size (the paper between the lines of a printed page
+// taken for the object class) are left to the cut. The cost is that of the flood, about
+// linear in the pixels, against one eigensolve a split for the cut.
+func neckPartition(d []float64, cw, ch int, minPart, minPieces int, radius float64) ([]int32, int) {
+	if !(radius > 0) {
+		return nil, 0
+	}
+	order := floodOrder(d)
+	if len(order) == 0 {
+		return nil, 0
+	}
+	parent := make(unionfind.Forest, len(d))
+	for i := range parent {
+		parent[i] = -1
+	}
+	top := make([]int32, len(d))
+	find := parent.Find
+	nbX := [8]int8{-1, 0, 1, -1, 1, -1, 0, 1}
+	nbY := [8]int8{-1, -1, -1, 0, 0, 1, 1, 1}
+	var markers []int32 // peaks of the pieces kept apart
+	for _, o := range order {
+		i := int(o)
+		parent[i] = int32(i)
+		top[i] = int32(i)
+		ri := int32(i)
+		x, y := i%cw, i/cw
+		for k := range nbX {
+			xx, yy := x+int(nbX[k]), y+int(nbY[k])
+			if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+				continue
+			}
+			j := yy*cw + xx
+			if parent[j] < 0 {
+				continue
+			}
+			a, b := ri, find(int32(j))
+			if a == b {
+				continue
+			}
+			pa, pb := d[top[a]], d[top[b]]
+			// The lower piece ends here and merges into the other (of
+			// equal peaks, b into a, as below).
+			lo, low := pb, top[b]
+			if pa < pb {
+				lo, low = pa, top[a]
+			}
+			if drop := lo - d[i]; lo > 0.5 && drop > neckNoise && drop/(lo-0.5) >= refineNeckAlone {
+				markers = append(markers, low)
+			}
+			if pa >= pb {
+				parent[b] = a
+			} else {
+				parent[a] = b
+				ri = b
+			}
+		}
+	}
+	if len(markers)+1 < max(minPieces, 2) {
+		return nil, 0
+	}
+	// The highest peak of all is the last piece's.
+	markers = append(markers, top[find(order[0])])
+	piece := make([]int32, len(d))
+	for i := range piece {
+		piece[i] = -1
+	}
+	q := floodQueue{d: d}
+	for m, p := range markers {
+		piece[p] = int32(m)
+		q.push(p)
+	}
+	for len(q.pix) > 0 {
+		i := int(q.pop())
+		x, y := i%cw, i/cw
+		for dy := -1; dy <= 1; dy++ {
+			for dx := -1; dx <= 1; dx++ {
+				xx, yy := x+dx, y+dy
+				if (dx == 0 && dy == 0) || xx < 0 || yy < 0 || xx >= cw || yy >= ch {
+					continue
+				}
+				j := yy*cw + xx
+				if d[j] > 0 && piece[j] < 0 {
+					piece[j] = piece[i]
+					q.push(int32(j))
+				}
+			}
+		}
+	}
+	area := make([]int, len(markers))
+	for i, p := range piece {
+		if p >= 0 {
+			area[p]++
+		} else if d[i] > 0 {
+			return nil, 0 // a second component: no marker reached it
+		}
+	}
+	peaks := make([]float64, len(markers))
+	for m, p := range markers {
+		if area[m] < minPart || !compactSide(area[m], d[p]) {
+			return nil, 0
+		}
+		peaks[m] = d[p]
+	}
+	if med := median(peaks); med < radius/neckScaleFactor || med > radius*neckScaleFactor {
+		return nil, 0
+	}
+	return piece, len(markers)
+}
+
+// median returns the median of v (the mean of the middle two for an even
+// count), sorting a copy; NaN for none.
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := slices.Clone(v)
+	slices.Sort(s)
+	m := len(s) / 2
+	if len(s)%2 == 1 {
+		return s[m]
+	}
+	return (s[m-1] + s[m]) / 2
 }

@@ -113,7 +113,7 @@ func recutSigmaI(feat []float32, nodes []int, dist []float64, cw, ch int) float6
 // unless necks is false (objects whose lobes are parts of one object).
 // It returns the new labels (1..N, numbered in raster order of their first
 // pixel), N and the Ncut of every accepted split.
-func refineObjects(ctx context.Context, con []float64, objects labelmap.Map, n int, maxNcut float64, minPart int, necks bool, workers int, seed uint64) (refined, error) {
+func refineObjects(ctx context.Context, con []float64, objects labelmap.Map, n int, maxNcut float64, minPart int, necks bool, radius float64, workers int, seed uint64) (refined, error) {
 	labels, w, h := objects.Pix, objects.Width, objects.Height
 	boxes, pixels := objectPixels(labels, w, h, n)
 	results := make([]refineResult, n+1)
@@ -124,10 +124,16 @@ func refineObjects(ctx context.Context, con []float64, objects labelmap.Map, n i
 			contrast[k] = con[i]
 		}
 		if len(px) <= refineMaxNodes {
-			results[l] = refineOne(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, seed)
+			results[l] = refineOne(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, radius, seed)
 			return
 		}
-		results[l] = refineCoarse(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, seed)
+		if necks {
+			if r, ok := refineByNecks(ctx, px, w, boxes[l], contrast, maxNcut, minPart, radius, seed); ok {
+				results[l] = r
+				return
+			}
+		}
+		results[l] = refineCoarse(ctx, px, w, boxes[l], contrast, maxNcut, minPart, necks, radius, seed)
 	}
 	// Objects are independent: refine them in parallel, one goroutine per
 	// object at a time, and assemble in label order (deterministic). The
@@ -1085,7 +1091,7 @@ type refineResult struct {
 // refineOne re-cuts one object (see refineObjects): px are its pixels in
 // raster order in an image w pixels wide, b their bounding box, and
 // contrast[k] the contrast of pixel px[k].
-func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
+func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, radius float64, seed uint64) refineResult {
 	if len(px) < 2*minPart {
 		return refineResult{regions: 1}
 	}
@@ -1212,11 +1218,28 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 		}
 		return solidity(whole, w) > refineSolidity
 	}
-	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true, budget: refineBudget(len(px))})
+	// A shape with at least neckPartitionPieces necks deep enough to part
+	// objects by depth alone is first parted at all of them
+	// (neckPartition, when all its pieces are compact blobs), and the cut
+	// goes on within the pieces.
+	var initial [][]int
+	var partNcuts []float64
+	if necked && len(px) >= neckPartitionPieces*minPart && radius > 0 {
+		if piece, np := neckPartition(dist, cw, ch, minPart, neckPartitionPieces, radius); piece != nil {
+			initial = make([][]int, np)
+			of := make([]int32, len(nodes))
+			for k, c := range nodes {
+				of[k] = piece[c]
+				initial[piece[c]] = append(initial[piece[c]], k)
+			}
+			partNcuts = pieceNcuts(sub, of, np)
+		}
+	}
+	cut, err := bisect(ctx, sub, nil, cutParams{maxNcut: cutLimit, minArea: minPart, workers: 1, seed: seed}, cutOptions{accept: accept, final: final, noSpectrum: true, budget: refineBudget(len(px)), initial: initial})
 	if err != nil {
 		return refineResult{err: err}
 	}
-	region, regions, splits := cut.region, cut.regions, cut.splitNcuts
+	region, regions, splits := cut.region, cut.regions, append(partNcuts, cut.splitNcuts...)
 	if necked {
 		region, regions, splits = neckPieces(sub, obj, smooth, region, regions, splits, minPart)
 	}
@@ -1305,7 +1328,7 @@ func coarseStep(area int) int {
 // the work per object is bounded; the cut follows seams at the
 // resolution of s pixels, which for objects this large is a small
 // fraction of their size. minPart is scaled by 1/s² (at least 1).
-func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, seed uint64) refineResult {
+func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, necks bool, radius float64, seed uint64) refineResult {
 	s := coarseStep(len(px))
 	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
 	gw, gh := (cw+s-1)/s, (ch+s-1)/s
@@ -1332,7 +1355,7 @@ func refineCoarse(ctx context.Context, px []int, w int, b box, contrast []float6
 			ccon = append(ccon, sum[c]/float64(n))
 		}
 	}
-	r := refineOne(ctx, cpx, gw, box{0, 0, gw - 1, gh - 1}, ccon, maxNcut, max(1, minPart/(s*s)), necks, seed)
+	r := refineOne(ctx, cpx, gw, box{0, 0, gw - 1, gh - 1}, ccon, maxNcut, max(1, minPart/(s*s)), necks, radius/float64(s), seed)
 	if r.err != nil || r.region == nil {
 		return r
 	}
@@ -1396,4 +1419,110 @@ func coreDistance(smooth []float32, mask []bool, d []float64, cw, ch int) []floa
 		out[c] = dc[c] + coreEps*d[c]
 	}
 	return out
+}
+
+// pieceNcuts returns, for each piece but the first of a partition of g's
+// nodes (piece of every node, n pieces), the Ncut of parting it from the
+// rest of g, cut(P, V\P)/assoc(P, V) + cut(P, V\P)/assoc(V\P, V) (Shi
+// and Malik 2000, eq. 2): the Ncut values a partition made without a
+// sweep records beside the cut's, from one pass over the edges.
+func pieceNcuts(g *affinity.Graph, piece []int32, n int) []float64 {
+	cut := make([]float64, n)
+	vol := make([]float64, n)
+	var total float64
+	for i := 0; i < g.N; i++ {
+		pi := piece[i]
+		for q := g.RowPtr[i]; q < g.RowPtr[i+1]; q++ {
+			w := float64(g.Weight[q])
+			vol[pi] += w
+			total += w
+			if piece[g.Col[q]] != pi {
+				cut[pi] += w
+			}
+		}
+	}
+	out := make([]float64, 0, n-1)
+	for p := 1; p < n; p++ {
+		rest := total - vol[p]
+		if vol[p] == 0 || rest == 0 {
+			out = append(out, math.Inf(1))
+			continue
+		}
+		out = append(out, cut[p]/vol[p]+cut[p]/rest)
+	}
+	return out
+}
+
+// neckPartitionPieces is the least number of pieces for which an
+// object's neck partition (neckPartition) is used before its cut. The cut
+// of a cluster of P touching objects costs about n (log2 P + 1) nodes of
+// eigensolves when it halves the cluster, but about n (P + 1)/2 when the
+// cheapest cut peels one object off at a time, as it does along chains
+// and in clusters whose objects meet at narrow necks; the work cap
+// (refineWork n) then stops it after a few pieces, and what is left stays
+// merged. Parted at its necks first, the cluster costs one flood of its
+// distance map and the cut goes on in each piece. A partition by the
+// distance map alone follows the geometry, not the contrast, so the cut
+// keeps the smaller clusters: 2, 3, 5 and 8 were tried on the choice
+// seeds and 5 was the best there (DEVELOPERS.md, "Measured choices").
+const neckPartitionPieces = 5
+
+// refineByNecks re-cuts an object of more than refineMaxNodes pixels
+// (refineObjects' arguments) as the pieces of its neck partition when it
+// has at least neckPartitionPieces: each piece is re-cut as an object of
+// its own (refineOne, or refineCoarse when it is itself that large), so
+// that a large cluster of touching objects is parted at full resolution
+// at the cost of one flood and its pieces' re-cuts. The work per object
+// stays linear in its size: each piece's re-cut solves at most
+// refineBudget of its pixels (none for a convex piece), at most
+// refineWork n in all for an object of n pixels, where refineCoarse's
+// stops at refineMaxWork. It reports false, with nothing done, for an
+// object with fewer pieces. The Ncut values of the partition's
+// boundaries are not recorded (no graph of the whole object is built).
+func refineByNecks(ctx context.Context, px []int, w int, b box, contrast []float64, maxNcut float64, minPart int, radius float64, seed uint64) (refineResult, bool) {
+	cw, ch := b.x1-b.x0+1, b.y1-b.y0+1
+	crop := make([]int, len(px))
+	for k, i := range px {
+		crop[k] = (i/w-b.y0)*cw + i%w - b.x0
+	}
+	piece, np := neckPartition(distanceInside(cropMask(crop, cw*ch), cw, ch), cw, ch, minPart, neckPartitionPieces, radius)
+	if piece == nil {
+		return refineResult{}, false
+	}
+	idx := make([][]int, np) // positions in px of each piece's pixels, raster order
+	for k, c := range crop {
+		idx[piece[c]] = append(idx[piece[c]], k)
+	}
+	out := refineResult{region: make([]int32, len(px))}
+	for _, ks := range idx {
+		pp := make([]int, len(ks))
+		pc := make([]float64, len(ks))
+		pb := box{w, math.MaxInt, -1, -1}
+		for j, k := range ks {
+			i := px[k]
+			pp[j], pc[j] = i, contrast[k]
+			x, y := i%w, i/w
+			pb = box{min(pb.x0, x), min(pb.y0, y), max(pb.x1, x), max(pb.y1, y)}
+		}
+		var r refineResult
+		if len(pp) <= refineMaxNodes {
+			r = refineOne(ctx, pp, w, pb, pc, maxNcut, minPart, true, radius, seed)
+		} else {
+			r = refineCoarse(ctx, pp, w, pb, pc, maxNcut, minPart, true, radius, seed)
+		}
+		if r.err != nil {
+			return r, true
+		}
+		for j, k := range ks {
+			v := int32(0)
+			if r.region != nil {
+				v = r.region[j]
+			}
+			out.region[k] = int32(out.regions) + v
+		}
+		out.regions += r.regions
+		out.splits = append(out.splits, r.splits...)
+		out.short.merge(r.short)
+	}
+	return out, true
 }

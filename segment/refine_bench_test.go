@@ -44,7 +44,7 @@ func BenchmarkRefineObjects(b *testing.B) {
 			var got int
 			c0 := cpuSeconds()
 			for b.Loop() {
-				ref, err := refineObjects(context.Background(), con, objects, nobj, RefineMaxNcut, 20, true, workers, 1)
+				ref, err := refineObjects(context.Background(), con, objects, nobj, RefineMaxNcut, 20, true, 0, workers, 1)
 				if err != nil {
 					b.Fatal(err)
 				}

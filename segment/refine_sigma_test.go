@@ -171,7 +171,7 @@ func TestRefineNoisyPairAndDisc(t *testing.T) {
 // object lab == 1 with contrast con (w x h), at the default limits.
 func refinedCount(t *testing.T, con []float64, lab []int32, w, h int) int {
 	t.Helper()
-	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: lab, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
+	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: lab, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 0, 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

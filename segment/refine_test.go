@@ -233,7 +233,7 @@ func TestRefineCoarseSplitsLargePair(t *testing.T) {
 		if coarse := area > refineMaxNodes; coarse != (r == 60) {
 			t.Fatalf("r %g: area %d, cap %d: the test no longer covers the path it names", r, area, refineMaxNodes)
 		}
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 30, true, 2, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 30, true, 0, 2, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -287,7 +287,7 @@ func TestRefineRodsAndShallowNecks(t *testing.T) {
 	run := func(name string, w, h int, necks bool, want int, inside func(x, y float64) (bool, float64)) {
 		t.Helper()
 		con, labels := draw(w, h, inside)
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, necks, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, necks, 0, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -444,7 +444,7 @@ func TestCoreDistanceHaloedPair(t *testing.T) {
 		if tc.depth > 0 && (core.peakA%w < 40) == (core.peakB%w < 40) {
 			t.Errorf("%s: the core's neck separates pixels %d and %d, not the two discs", tc.name, core.peakA, core.peakB)
 		}
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 0, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -578,7 +578,7 @@ func TestRefineSplitsConcaveClump(t *testing.T) {
 		atLeast int
 		atMost  int
 	}{{true, 2, 3}, {false, 1, 1}} {
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, tc.necks, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, tc.necks, 0, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -828,7 +828,7 @@ func TestRefineSmallSpots(t *testing.T) {
 				}
 			}
 		}
-		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 5, true, 1, 1)
+		ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 5, true, 0, 1, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -1008,7 +1008,7 @@ func TestRefineKeepsLines(t *testing.T) {
 	if p := slices.Max(distanceInside(mask, w, h)); !isLine(area, p) {
 		t.Fatalf("the crack (area %d, peak distance %.2f) is not a line to isLine", area, p)
 	}
-	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 1, 1)
+	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, 0, 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -796,14 +796,21 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 		// The object scale is estimated only if the class grouping needs
 		// the background mesh, and not again when the automatic
 		// superpixel count has estimated it already.
+		radiusKnown, radiusValue := false, 0.0
 		radius := func() float64 {
+			if radiusKnown {
+				return radiusValue
+			}
+			radiusKnown = true
 			if p.Background == "" || len(in.Planes) != 1 {
 				return 0
 			}
 			if res.ObjectScale != nil {
-				return ObjectRadius(*res.ObjectScale)
+				radiusValue = ObjectRadius(*res.ObjectScale)
+			} else {
+				radiusValue = ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
 			}
-			return ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
+			return radiusValue
 		}
 		cls, fieldG := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		if p.Background == "" {
@@ -920,7 +927,7 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			ref, err := refineObjects(ctx, con, objects(obj), nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, p.Workers, p.Seed)
+			ref, err := refineObjects(ctx, con, objects(obj), nobj, RefineMaxNcut, max(p.MinArea, 1), !p.SeamsOnly, radius(), p.Workers, p.Seed)
 			if err != nil {
 				return nil, err
 			}
