@@ -466,16 +466,17 @@ const neckScaleFactor = 2
 // there).
 //
 // It returns the piece (0..n-1) of every pixel, -1 outside, and the count
-// n, or nil and 0 unless there are at least minPieces pieces (and two), every piece
-// holds at least minPart pixels and is compact (compactSide of its area
-// and peak), and the median of the pieces' peaks lies within a factor
-// neckScaleFactor of radius, the image's object radius (ObjectRadius;
-// 0 or less: no partition): a chain or a cluster of touching objects is
-// parted into its objects, while a vessel or a ragged outline, whose
-// pieces between necks are long, and a region whose blobs are not of the
-// image's objects' size (the paper between the lines of a printed page
-// taken for the object class) are left to the cut. The cost is that of the flood, about
-// linear in the pixels, against one eigensolve a split for the cut.
+// n, or nil and 0 unless there are at least minPieces pieces (and two),
+// every piece holds at least minPart pixels and is compact (compactSide
+// of its area and peak), and the median of the pieces' peaks lies within
+// a factor neckScaleFactor of radius, the image's object radius
+// (ObjectRadius; 0 or less: no partition). A chain or a cluster of
+// touching objects is parted into its objects, while a vessel or a
+// ragged outline, whose pieces between necks are long, and a region
+// whose blobs are not of the image's objects' size (the paper between
+// the lines of a printed page taken for the object class) are left to
+// the cut. The cost is that of the flood, about linear in the pixels,
+// against one eigensolve a split for the cut.
 func neckPartition(d []float64, cw, ch int, minPart, minPieces int, radius float64) ([]int32, int) {
 	if !(radius > 0) {
 		return nil, 0
