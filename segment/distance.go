@@ -2,7 +2,6 @@ package segment
 
 import (
 	"math"
-	"slices"
 
 	"github.com/cleave-seg/cleave/segment/internal/unionfind"
 )
@@ -165,9 +164,38 @@ func deepestNeck(d []float64, cw, ch int, floor float64) neck {
 // deepestNecks is deepestNeck for several floors at once, from one
 // flood.
 func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
-	// The inside pixels by descending distance, ties by index:
-	// deterministic (floodOrder).
-	order := floodOrder(d)
+	best := make([]neck, len(floors))
+	for f := range best {
+		best[f] = neck{peakA: -1, peakB: -1}
+	}
+	floodMerges(d, cw, ch, floodOrder(d), func(i int, ta, tb int32) {
+		// The lower of the two pieces ends here, at saddle d[i].
+		lo := min(d[ta], d[tb])
+		if p := lo - 0.5; p > 0 {
+			r := (lo - d[i]) / p
+			for f, floor := range floors {
+				if lo-d[i] > floor && r > best[f].depth {
+					best[f] = neck{depth: r, drop: lo - d[i], peakA: int(ta), peakB: int(tb)}
+				}
+			}
+		}
+	})
+	return best
+}
+
+// floodMerges floods the inside pixels of d (d > 0, crop cw x ch) in
+// order, descending distance with ties by index (floodOrder), joining
+// each to its flooded 8-neighbours' pieces (union-find), and calls merge
+// wherever two pieces meet: at pixel i, the saddle, with the peak pixels
+// ta of the piece i belongs to so far and tb of the other, in the
+// neighbours' raster order. The piece of the lower peak joins the other
+// (of equal peaks, tb's joins ta's). It returns the peak pixel of the
+// piece holding the first pixel of order when the flood is done (-1 for
+// an empty order). deepestNecks and neckPartition read the merges.
+func floodMerges(d []float64, cw, ch int, order []int32, merge func(i int, ta, tb int32)) int32 {
+	if len(order) == 0 {
+		return -1
+	}
 	parent := make(unionfind.Forest, len(d))
 	for i := range parent {
 		parent[i] = -1 // not flooded yet
@@ -180,10 +208,6 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 	var nb [8]int
 	for k := range nb {
 		nb[k] = int(nbY[k])*cw + int(nbX[k])
-	}
-	best := make([]neck, len(floors))
-	for f := range best {
-		best[f] = neck{peakA: -1, peakB: -1}
 	}
 	for _, o := range order {
 		i := int(o)
@@ -207,18 +231,8 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 			if a == b {
 				continue
 			}
-			// The lower of the two pieces ends here, at saddle d[i].
-			pa, pb := d[top[a]], d[top[b]]
-			lo := min(pa, pb)
-			if p := lo - 0.5; p > 0 {
-				r := (lo - d[i]) / p
-				for f, floor := range floors {
-					if lo-d[i] > floor && r > best[f].depth {
-						best[f] = neck{depth: r, drop: lo - d[i], peakA: int(top[a]), peakB: int(top[b])}
-					}
-				}
-			}
-			if pa >= pb {
+			merge(i, top[a], top[b])
+			if d[top[a]] >= d[top[b]] {
 				parent[b] = a
 			} else {
 				parent[a] = b
@@ -226,7 +240,7 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 			}
 		}
 	}
-	return best
+	return top[find(order[0])]
 }
 
 // splitAtNeck divides a shape (distance map d, inside pixels > 0) in two
@@ -238,10 +252,23 @@ func deepestNecks(d []float64, cw, ch int, floors ...float64) []neck {
 // neck separates. It returns side 1 or 2 per pixel (0 outside).
 func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
 	side := make([]uint8, len(d))
-	q := floodQueue{d: d}
 	side[n.peakA], side[n.peakB] = 1, 2
-	q.push(int32(n.peakA))
-	q.push(int32(n.peakB))
+	floodFrom(d, cw, ch, side, []int32{int32(n.peakA), int32(n.peakB)})
+	return side
+}
+
+// floodFrom is the marker-controlled watershed of -d (Meyer's flooding by
+// a priority queue, highest distance first, ties by pixel index,
+// 8-neighbours; Soille 2003, section 9.3): lab holds a nonzero label at
+// each of the marker pixels and 0 elsewhere, and every inside pixel (d >
+// 0) a marker's flood reaches takes the label of the pixel it was
+// reached from. The queue's order is strict, so the result does not
+// depend on the markers' order.
+func floodFrom[L uint8 | int32](d []float64, cw, ch int, lab []L, markers []int32) {
+	q := floodQueue{d: d}
+	for _, p := range markers {
+		q.push(p)
+	}
 	for len(q.pix) > 0 {
 		i := int(q.pop())
 		x, y := i%cw, i/cw
@@ -252,14 +279,13 @@ func splitAtNeck(d []float64, cw, ch int, n neck) []uint8 {
 					continue
 				}
 				j := yy*cw + xx
-				if d[j] > 0 && side[j] == 0 {
-					side[j] = side[i]
+				if d[j] > 0 && lab[j] == 0 {
+					lab[j] = lab[i]
 					q.push(int32(j))
 				}
 			}
 		}
 	}
-	return side
 }
 
 // floodQueue is a binary heap of pixels (Williams 1964), highest
@@ -481,94 +507,38 @@ func neckPartition(d []float64, cw, ch int, minPart, minPieces int, radius float
 	if !(radius > 0) {
 		return nil, 0
 	}
-	order := floodOrder(d)
-	if len(order) == 0 {
-		return nil, 0
-	}
-	parent := make(unionfind.Forest, len(d))
-	for i := range parent {
-		parent[i] = -1
-	}
-	top := make([]int32, len(d))
-	find := parent.Find
-	nbX := [8]int8{-1, 0, 1, -1, 1, -1, 0, 1}
-	nbY := [8]int8{-1, -1, -1, 0, 0, 1, 1, 1}
 	var markers []int32 // peaks of the pieces kept apart
-	for _, o := range order {
-		i := int(o)
-		parent[i] = int32(i)
-		top[i] = int32(i)
-		ri := int32(i)
-		x, y := i%cw, i/cw
-		for k := range nbX {
-			xx, yy := x+int(nbX[k]), y+int(nbY[k])
-			if xx < 0 || yy < 0 || xx >= cw || yy >= ch {
-				continue
-			}
-			j := yy*cw + xx
-			if parent[j] < 0 {
-				continue
-			}
-			a, b := ri, find(int32(j))
-			if a == b {
-				continue
-			}
-			pa, pb := d[top[a]], d[top[b]]
-			// The lower piece ends here and merges into the other (of
-			// equal peaks, b into a, as below).
-			lo, low := pb, top[b]
-			if pa < pb {
-				lo, low = pa, top[a]
-			}
-			if drop := lo - d[i]; lo > 0.5 && drop > neckNoise && drop/(lo-0.5) >= refineNeckAlone {
-				markers = append(markers, low)
-			}
-			if pa >= pb {
-				parent[b] = a
-			} else {
-				parent[a] = b
-				ri = b
-			}
+	last := floodMerges(d, cw, ch, floodOrder(d), func(i int, ta, tb int32) {
+		// The lower piece ends here and joins the other (of equal
+		// peaks, tb's joins ta's, as floodMerges does).
+		lo, low := d[tb], tb
+		if d[ta] < d[tb] {
+			lo, low = d[ta], ta
 		}
-	}
+		if drop := lo - d[i]; lo > 0.5 && drop > neckNoise && drop/(lo-0.5) >= refineNeckAlone {
+			markers = append(markers, low)
+		}
+	})
 	if len(markers)+1 < max(minPieces, 2) {
 		return nil, 0
 	}
 	// The highest peak of all is the last piece's.
-	markers = append(markers, top[find(order[0])])
+	markers = append(markers, last)
+	// Flood with labels 1..n (0: not reached), then make them 0..n-1,
+	// -1 outside.
 	piece := make([]int32, len(d))
-	for i := range piece {
-		piece[i] = -1
-	}
-	q := floodQueue{d: d}
 	for m, p := range markers {
-		piece[p] = int32(m)
-		q.push(p)
+		piece[p] = int32(m) + 1
 	}
-	for len(q.pix) > 0 {
-		i := int(q.pop())
-		x, y := i%cw, i/cw
-		for dy := -1; dy <= 1; dy++ {
-			for dx := -1; dx <= 1; dx++ {
-				xx, yy := x+dx, y+dy
-				if (dx == 0 && dy == 0) || xx < 0 || yy < 0 || xx >= cw || yy >= ch {
-					continue
-				}
-				j := yy*cw + xx
-				if d[j] > 0 && piece[j] < 0 {
-					piece[j] = piece[i]
-					q.push(int32(j))
-				}
-			}
-		}
-	}
+	floodFrom(d, cw, ch, piece, markers)
 	area := make([]int, len(markers))
 	for i, p := range piece {
-		if p >= 0 {
-			area[p]++
+		if p > 0 {
+			area[p-1]++
 		} else if d[i] > 0 {
 			return nil, 0 // a second component: no marker reached it
 		}
+		piece[i] = p - 1
 	}
 	peaks := make([]float64, len(markers))
 	for m, p := range markers {
@@ -577,23 +547,8 @@ func neckPartition(d []float64, cw, ch int, minPart, minPieces int, radius float
 		}
 		peaks[m] = d[p]
 	}
-	if med := median(peaks); med < radius/neckScaleFactor || med > radius*neckScaleFactor {
+	if med := medianOf(peaks); med < radius/neckScaleFactor || med > radius*neckScaleFactor {
 		return nil, 0
 	}
 	return piece, len(markers)
-}
-
-// median returns the median of v (the mean of the middle two for an even
-// count), sorting a copy; NaN for none.
-func median(v []float64) float64 {
-	if len(v) == 0 {
-		return math.NaN()
-	}
-	s := slices.Clone(v)
-	slices.Sort(s)
-	m := len(s) / 2
-	if len(s)%2 == 1 {
-		return s[m]
-	}
-	return (s[m-1] + s[m]) / 2
 }

@@ -1224,7 +1224,7 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// goes on within the pieces.
 	var initial [][]int
 	var partNcuts []float64
-	if necked && len(px) >= neckPartitionPieces*minPart && radius > 0 {
+	if necked && len(px) >= neckPartitionPieces*minPart {
 		if piece, np := neckPartition(dist, cw, ch, minPart, neckPartitionPieces, radius); piece != nil {
 			initial = make([][]int, np)
 			of := make([]int32, len(nodes))

@@ -793,25 +793,18 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	}
 	objectClassPixels := 0 // pixels outside the background class, when objects are sought
 	if p.Classes >= 2 {
-		// The object scale is estimated only if the class grouping needs
-		// the background mesh, and not again when the automatic
-		// superpixel count has estimated it already.
-		radiusKnown, radiusValue := false, 0.0
-		radius := func() float64 {
-			if radiusKnown {
-				return radiusValue
-			}
-			radiusKnown = true
+		// The object scale is estimated only if the class grouping or the
+		// re-cut's neck partition needs it, once, and not again when the
+		// automatic superpixel count has estimated it already.
+		radius := sync.OnceValue(func() float64 {
 			if p.Background == "" || len(in.Planes) != 1 {
 				return 0
 			}
 			if res.ObjectScale != nil {
-				radiusValue = ObjectRadius(*res.ObjectScale)
-			} else {
-				radiusValue = ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
+				return ObjectRadius(*res.ObjectScale)
 			}
-			return radiusValue
-		}
+			return ObjectRadius(objectScaleOf(in, p.Grain, p.Workers))
+		})
 		cls, fieldG := groupClasses(in.Planes, in.Luminance, regions, nreg, p.Classes, p.Background, radius, p.Seed, p.Workers)
 		if p.Background == "" {
 			res.Classes = labelmap.New(w, h)
