@@ -43,7 +43,7 @@ func TestFaintObjects(t *testing.T) {
 			bg = 1
 		}
 		cls := []int32{bg}
-		out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, cls, bg, background, 20, 1)
+		out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, cls, bg, background, faintSigmas, 20, 1)
 		if n != 2 || outCls[1] == bg {
 			t.Fatalf("%s: %d regions, classes %v; want 2 with the new one an object", background, n, outCls)
 		}
@@ -88,7 +88,7 @@ func TestFaintObjectsNearZeroField(t *testing.T) {
 			nodeOf[i] = int32((y/cell)*(w/cell) + x/cell)
 		}
 	}
-	out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, []int32{0}, 0, BackgroundDark, 20, 1)
+	out, n, outCls := faintObjects(lum, field, nodeOf, (w/cell)*(h/cell), labelmap.Map{Pix: reg, Width: w, Height: h}, 1, []int32{0}, 0, BackgroundDark, faintSigmas, 20, 1)
 	if n != 2 || outCls[1] == 0 {
 		t.Fatalf("%d regions, classes %v; want 2 with the new one an object", n, outCls)
 	}

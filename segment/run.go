@@ -106,6 +106,13 @@ type Params struct {
 	// would call for it: for lobed or branched objects that are one
 	// object each.
 	SeamsOnly bool
+	// Faint, when above 0, also looks for faint objects against the
+	// local background: after the faint-object rule against the image's
+	// smooth field, background superpixels standing Faint robust
+	// spreads beyond a field that follows the background on the scale
+	// of a few objects become objects too (faintObjects, localField).
+	// Only with Classes 2 and a dark or bright Background; 0 is off.
+	Faint int
 
 	Workers   int
 	Seed      uint64
@@ -149,6 +156,11 @@ const (
 	// MaxRadius bounds Radius: the pixel graph has about pi r^2 neighbours
 	// per pixel (12,900 at 64), beyond any useful kernel.
 	MaxRadius = 64
+	// MinFaint and MaxFaint bound a Faint level other than 0 (off), in
+	// robust spreads: below 2 about one background superpixel in twenty
+	// of a Gaussian spread would stand out, above 50 nothing does that
+	// the rule against the smooth field has not found.
+	MinFaint, MaxFaint = 2, 50
 	// MaxCompactness bounds Compactness: far above the default 20,
 	// superpixels are already squares of the grid.
 	MaxCompactness = 10000
@@ -248,6 +260,12 @@ func (p Params) Validate() error {
 	}
 	if p.Classes == 1 || p.Classes < 0 || p.Classes > MaxClasses {
 		return &ParamError{"classes", fmt.Sprintf("must be 0 (off) or 2 to %d, got %d", MaxClasses, p.Classes)}
+	}
+	if p.Faint != 0 && (p.Faint < MinFaint || p.Faint > MaxFaint) {
+		return &ParamError{"faint", fmt.Sprintf("must be 0 (off) or %d to %d robust spreads, got %d", MinFaint, MaxFaint, p.Faint)}
+	}
+	if p.Faint != 0 && (p.Classes != 2 || (p.Background != BackgroundDark && p.Background != BackgroundBright)) {
+		return &ParamError{"faint", "needs classes 2 and background dark or bright"}
 	}
 	switch p.Background {
 	case "", "dark", "bright", BackgroundLines:
@@ -738,9 +756,10 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 	} else if p.Method == MethodBisect && in.Cache != nil && p.Segments == 0 {
 		// Everything the graph and the cut depend on except MaxNcut (the
 		// automatic values are resolved by now); Workers never changes
-		// results, and SeamsOnly acts on the objects after the cut.
+		// results, and SeamsOnly and Faint act on the objects after the
+		// cut.
 		q := p
-		q.MaxNcut, q.Workers, q.SeamsOnly = 0, 0, false
+		q.MaxNcut, q.Workers, q.SeamsOnly, q.Faint = 0, 0, false, 0
 		cut, err = in.Cache.cut(q, p.MaxNcut, func(at float64) (*cutResult, error) {
 			q := p
 			q.MaxNcut = at
@@ -899,8 +918,13 @@ func Run(ctx context.Context, in Input, p Params) (*Result, error) {
 				before := nreg
 				// faintObjects adds regions when it finds faint objects and
 				// leaves everything as it was otherwise.
-				regions, nreg, cls = faintObjects(in.Luminance, fieldG.plane(nil, p.Workers), nodeOf, nodes, regions, nreg, cls, bg, p.Background, max(p.MinArea, 1), p.Workers)
+				regions, nreg, cls = faintObjects(in.Luminance, fieldG.plane(nil, p.Workers), nodeOf, nodes, regions, nreg, cls, bg, p.Background, faintSigmas, max(p.MinArea, 1), p.Workers)
 				reg = regions.Pix
+				if p.Faint > 0 {
+					local := localField(in.Luminance, reg, cls, bg, w, h, radius(), p.Workers)
+					regions, nreg, cls = faintObjects(in.Luminance, local, nodeOf, nodes, regions, nreg, cls, bg, p.Background, float64(p.Faint), max(p.MinArea, 1), p.Workers)
+					reg = regions.Pix
+				}
 				if nreg != before {
 					fresh = false
 				}

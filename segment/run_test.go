@@ -152,6 +152,12 @@ func TestParamsValidate(t *testing.T) {
 		{"min-area", func(p *Params) { p.MinArea = -1 }},
 		{"classes", func(p *Params) { p.Classes = MaxClasses + 1 }},
 		{"classes", func(p *Params) { p.Classes = 1 << 31 }},
+		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint = 2, BackgroundDark, MinFaint-1 }},
+		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint = 2, BackgroundBright, MaxFaint+1 }},
+		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint = 2, BackgroundDark, -1 }},
+		{"faint", func(p *Params) { p.Faint = 4 }},                                             // no background
+		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint = 3, BackgroundDark, 4 }}, // three classes
+		{"faint", func(p *Params) { p.Background, p.Faint = BackgroundLines, 4 }},
 	}
 	for i, c := range bad {
 		p := defaultParams()
@@ -176,6 +182,8 @@ func TestParamsValidate(t *testing.T) {
 		},
 		func(p *Params) { p.Method, p.Segments, p.MaxSegments = MethodKway, MaxKwaySegments, MaxKwaySegments },
 		func(p *Params) { p.Segments, p.MinArea, p.Classes = MaxBisectSegments, MaxMinArea, MaxClasses },
+		func(p *Params) { p.Classes, p.Background, p.Faint = 2, BackgroundDark, MinFaint },
+		func(p *Params) { p.Classes, p.Background, p.Faint = 2, BackgroundBright, MaxFaint },
 	}
 	for i, f := range good {
 		p := defaultParams()

@@ -43,9 +43,10 @@ func writeNuclei(t testing.TB, dir string, seed uint64, n, size int) []*scenes.S
 	return out
 }
 
-// A small search, kept small for test time: 2 x 2 grid, 2 refinement steps.
+// A small search, kept small for test time: 2 x 2 grid, 2 refinement
+// steps, the faint search held off.
 var smallTune = []string{"--classes", "2", "--background", "dark", "--superpixels", "300",
-	"--sigma-i", "0.005,0.02", "--sigma-x", "6:12:2", "--max-ncut", "0.15", "--budget", "2", "--folds", "2"}
+	"--sigma-i", "0.005,0.02", "--sigma-x", "6:12:2", "--max-ncut", "0.15", "--faint", "0", "--budget", "2", "--folds", "2"}
 
 // readCSV reads a whole CSV file.
 func readCSV(t *testing.T, path string) [][]string {
@@ -318,7 +319,7 @@ func TestTuneNecks(t *testing.T) {
 	dir := t.TempDir()
 	writeNuclei(t, dir, 13150, 1, 112)
 	fixed := []string{"--classes", "2", "--background", "dark", "--superpixels", "300", "--sigma-i", "0.02", "--sigma-x", "8",
-		"--max-ncut", "0.15", "--budget", "0", "--folds", "0"}
+		"--max-ncut", "0.15", "--faint", "0", "--budget", "0", "--folds", "0"}
 	for _, c := range []struct {
 		name   string
 		necks  []string
@@ -367,6 +368,60 @@ func TestTuneNecks(t *testing.T) {
 		sp, _ := rep.Space["necks"].(map[string]any)
 		if fmt.Sprint(sp["grid"]) != "[off on]" || sp["refined"] != false || rep.Best["necks"] != best["necks"] {
 			t.Errorf("%s: tune.json search space %v, best %v; best.json %v", c.name, sp, rep.Best["necks"], best["necks"])
+		}
+	}
+}
+
+// The faint search's level: with --classes 2 and a dark background and
+// no --faint, tune tries off and tuning.DefaultFaintLevel (a faint column
+// in tune.csv holding both, beside the baseline's 0); --faint 0,6 tries
+// those two; one value fixes it (no column, best.json holds it). Without
+// --background the level is not searched (it needs objects).
+func TestTuneFaint(t *testing.T) {
+	dir := t.TempDir()
+	writeNuclei(t, dir, 13151, 1, 112)
+	fixed := []string{"--superpixels", "300", "--sigma-i", "0.02", "--sigma-x", "8", "--max-ncut", "0.15", "--budget", "0", "--folds", "0"}
+	dark := []string{"--classes", "2", "--background", "dark"}
+	def := strconv.Itoa(tuning.DefaultFaintLevel)
+	for _, c := range []struct {
+		name  string
+		flags []string
+		grid  []string // the faint column's values after the baseline; nil: no column
+		best  []string // the values best.json may hold
+	}{
+		{"default", dark, []string{"0", def}, []string{"0", def}},
+		{"listed", append(slices.Clone(dark), "--faint", "0,6"), []string{"0", "6"}, []string{"0", "6"}},
+		{"fixed", append(slices.Clone(dark), "--faint", "5"), nil, []string{"5"}},
+		{"no background", nil, nil, []string{"0"}},
+	} {
+		out := filepath.Join(dir, "tuned-"+strings.ReplaceAll(c.name, " ", "-"))
+		runOK(t, append(append([]string{"tune", "--images", dir, "--truth", dir, "--out", out}, fixed...), c.flags...)...)
+		rows := readCSV(t, filepath.Join(out, "tune.csv"))
+		col := slices.Index(rows[0], "faint")
+		if (col >= 0) != (c.grid != nil) {
+			t.Errorf("%s: tune.csv header %v", c.name, rows[0])
+		}
+		raw, err := os.ReadFile(filepath.Join(out, "best.json"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		var best map[string]any
+		if err := json.Unmarshal(raw, &best); err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Contains(c.best, fmt.Sprint(best["faint"])) {
+			t.Errorf("%s: best.json faint %v, want one of %v", c.name, best["faint"], c.best)
+		}
+		if col < 0 {
+			continue
+		}
+		var seen []string
+		for _, r := range rows[2:] { // after the baseline row
+			seen = append(seen, r[col])
+		}
+		slices.Sort(seen)
+		if got := slices.Compact(seen); !slices.Equal(got, c.grid) || rows[1][col] != "0" {
+			t.Errorf("%s: faint column baseline %q then %v, want 0 then %v", c.name, rows[1][col], got, c.grid)
 		}
 	}
 }

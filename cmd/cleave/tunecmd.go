@@ -15,20 +15,21 @@ import (
 	"github.com/spf13/pflag"
 )
 
-const tuneExample = `Example (tune on the shipped nuclei scenes, then use the result):
+var tuneExample = fmt.Sprintf(`Example (tune on the shipped nuclei scenes, then use the result):
 
   cleave tune --images examples/nuclei --truth examples/nuclei --out tuned \
       --classes 2 --background dark
   cleave segment --params tuned/best.json --out results examples/nuclei/nuclei-1.png
 
 The first command searches sigma-i, sigma-x and max-ncut (default ranges
-around the automatic values) for the best mean object F1 (the default with
---background), writes tuned/tune.csv, tune.png, tune.json and best.json,
-and prints the best with its other scores and seconds per image, and the
-cross-validated score. Search a range yourself with, e.g., --sigma-x
+around the automatic values) and the faint search (off and %d; --faint)
+for the best mean object F1 (the default with --background), writes
+tuned/tune.csv, tune.png, tune.json and best.json, and prints the best
+with its other scores and seconds per image, and the cross-validated
+score. Search a range yourself with, e.g., --sigma-x
 4:32:5 (5 log-spaced values) or --radius 3,5,8; one value fixes a
 parameter. --metric map tunes for mean average precision instead.
-`
+`, tuning.DefaultFaintLevel)
 
 func tuneHelp(w io.Writer) {
 	fs, _, _ := tuneFlags()
@@ -128,6 +129,7 @@ var searchFlagHelp = [tune.NumParams]string{
 	"superpixel counts to search, e.g. 800,1500,3000; 0 = pixel graph (default auto)",
 	"SLIC compactness values to search (default 20)",
 	"with --background dark or bright, the shape split of touching objects: on, off, or on,off to search both (on = cut also where the outline is pinched or notched, off = only along seams that do not run through a neck; default on)",
+	fmt.Sprintf("with --classes 2 and --background dark or bright, levels of the faint-object search against the local background to try, e.g. 0,4,6 (0 = off; default 0,%d; otherwise 0)", tuning.DefaultFaintLevel),
 }
 
 func tuneFlags() (*pflag.FlagSet, *settings, *tuneOptions) {

@@ -52,6 +52,7 @@ func sceneTuner(t *testing.T, workers int) *Tuner {
 	tn.Space[Superpixels] = DefaultAxis(Superpixels, []float64{300})
 	tn.Space[Compactness] = DefaultAxis(Compactness, []float64{20})
 	tn.Space[Necks] = DefaultAxis(Necks, []float64{On})
+	tn.Space[Faint] = DefaultAxis(Faint, []float64{0})
 	return tn
 }
 

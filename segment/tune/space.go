@@ -34,6 +34,10 @@ const (
 	// (0) only along seams that do not run through a neck
 	// (segment.Params.SeamsOnly).
 	Necks
+	// Faint is the level of the second faint-object search, against the
+	// local background (segment.Params.Faint): 0 off, else whole robust
+	// spreads. Its values are tried, never refined or widened.
+	Faint
 	NumParams
 )
 
@@ -43,7 +47,7 @@ const (
 	On  = 1.0
 )
 
-var paramNames = [NumParams]string{"sigma-i", "sigma-x", "max-ncut", "radius", "superpixels", "compactness", "necks"}
+var paramNames = [NumParams]string{"sigma-i", "sigma-x", "max-ncut", "radius", "superpixels", "compactness", "necks", "faint"}
 
 // String is the parameter's name, as segment.ParamError names it.
 func (d Param) String() string {
@@ -63,7 +67,7 @@ func Params() []Param {
 }
 
 // Integer reports whether the parameter takes whole numbers.
-func (d Param) Integer() bool { return d == Radius || d == Superpixels }
+func (d Param) Integer() bool { return d == Radius || d == Superpixels || d == Faint }
 
 // Switch reports whether the parameter is on or off (Off, On in a Point;
 // "off", "on" in text): never refined or widened, only its values tried.
@@ -93,6 +97,8 @@ func (d Param) Bounds() (lo, hi float64) {
 		return 0, segment.MaxCompactness
 	case Necks:
 		return Off, On
+	case Faint:
+		return 0, segment.MaxFaint
 	}
 	panic("tune: no bounds for " + d.String())
 }
@@ -306,6 +312,8 @@ func With(ps segment.Params, d Param, v float64, auto bool) segment.Params {
 		ps.Compactness = v
 	case Necks:
 		ps.SeamsOnly = v != On
+	case Faint:
+		ps.Faint = int(v)
 	}
 	return ps
 }
@@ -313,18 +321,31 @@ func With(ps segment.Params, d Param, v float64, auto bool) segment.Params {
 // smoother orders settings from the smoothest: wider kernels (a larger
 // sigma-x, then a larger sigma-i make affinities vary less), a stricter
 // stop threshold (smaller max-ncut: fewer splits), fewer superpixels, a
-// larger radius, rounder superpixels (larger compactness); last, necks on
+// larger radius, rounder superpixels (larger compactness); then necks on
 // before off: when nothing else differs and the scores tie, the truth
 // cannot tell the two apart, and on is the library's default
-// (segment.DefaultParams).
+// (segment.DefaultParams); last, the faint search off, then the higher
+// level (fewer objects from the background).
 func smoother(a, b Point) bool {
 	for _, c := range []struct {
 		d    Param
 		sign float64
-	}{{SigmaX, 1}, {SigmaI, 1}, {MaxNcut, -1}, {Superpixels, -1}, {Radius, 1}, {Compactness, 1}, {Necks, 1}} {
-		if a[c.d] != b[c.d] {
-			return c.sign*(a[c.d]-b[c.d]) > 0
+	}{{SigmaX, 1}, {SigmaI, 1}, {MaxNcut, -1}, {Superpixels, -1}, {Radius, 1}, {Compactness, 1}, {Necks, 1}, {Faint, 1}} {
+		x, y := a[c.d], b[c.d]
+		if c.d == Faint { // off (0) is the smoothest
+			x, y = faintOrder(x), faintOrder(y)
+		}
+		if x != y {
+			return c.sign*(x-y) > 0
 		}
 	}
 	return false
+}
+
+// faintOrder ranks a Faint level for smoother: off above every level.
+func faintOrder(v float64) float64 {
+	if v == 0 {
+		return math.Inf(1)
+	}
+	return v
 }

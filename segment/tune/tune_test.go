@@ -57,6 +57,7 @@ func synthTuner(sx []float64, f, cost func(sx float64, img int) float64) *Tuner 
 	t.Space[Superpixels] = AutoAxis(Superpixels, "auto")
 	t.Space[Compactness] = DefaultAxis(Compactness, []float64{20})
 	t.Space[Necks] = DefaultAxis(Necks, []float64{On})
+	t.Space[Faint] = DefaultAxis(Faint, []float64{0})
 	t.Objective = func(_ context.Context, p segment.Params, img int) (Sample, error) {
 		v := f(p.SigmaX, img)
 		if math.IsNaN(v) {

@@ -43,6 +43,7 @@ type Request struct {
 	Classes       int     `json:"classes"`
 	Background    string  `json:"background"`
 	Necks         string  `json:"necks"`
+	Faint         int     `json:"faint"`
 	PixelSize     float64 `json:"pixel-size"`
 	Unit          string  `json:"unit"`
 	MaxMemory     string  `json:"max-memory"`

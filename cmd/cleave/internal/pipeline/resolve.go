@@ -61,7 +61,7 @@ func (r Request) Options(workers int) (*Options, error) {
 	p := segment.Params{
 		Compactness: r.Compactness, Radius: r.Radius, Method: segment.Method(r.Method), Segments: r.Segments,
 		MaxSegments: r.MaxSegments, MaxNcut: r.MaxNcut, MinArea: r.MinArea, Classes: r.Classes,
-		Background: segment.Background(r.Background), Workers: workers, Seed: r.Seed,
+		Background: segment.Background(r.Background), Faint: r.Faint, Workers: workers, Seed: r.Seed,
 	}
 	if p.Contour, err = onOff("contour", r.Contour); err != nil {
 		return nil, err

@@ -85,6 +85,8 @@ func (c *Config) givenValue(d tune.Param) (v float64, auto bool) {
 			return tune.Off, false
 		}
 		return tune.On, false
+	case tune.Faint:
+		return float64(b.Faint), false
 	}
 	panic("tuning: no automatic value for " + d.String())
 }

@@ -35,7 +35,8 @@ func testPlan(pairs []Pair, out string, log *bytes.Buffer) *Plan {
 
 // A plan fixes the parameters given as one value, fills the default axes
 // from the request (superpixels 300, radius and compactness as given,
-// max-ncut as given; sigma-i's five values around the automatic one),
+// max-ncut as given; sigma-i's five values around the automatic one;
+// faint off and DefaultFaintLevel),
 // notes images without a truth, writes the files and
 // refuses to replace them without Force; errors in what was asked are
 // RequestErrors. On one generated nuclei scene (seed 13603).
@@ -56,6 +57,11 @@ func TestPlanRun(t *testing.T) {
 	if sp[tune.Superpixels].Values[0] != 300 || sp[tune.Radius].Values[0] != float64(testRequest().Radius) || len(sp[tune.MaxNcut].Values) != 1 {
 		t.Errorf("space %+v", sp)
 	}
+	// Two classes on a dark background: faint off and the default level
+	// are both tried (the grid doubles).
+	if !slices.Equal(sp[tune.Faint].Values, []float64{0, DefaultFaintLevel}) {
+		t.Errorf("faint axis %+v, want 0 and %d", sp[tune.Faint], DefaultFaintLevel)
+	}
 	if !strings.Contains(log.String(), "lonely.png has no truth") || len(p.Config.Unpaired) != 1 || filepath.Base(p.Config.Unpaired[0]) != "lonely.png" {
 		t.Errorf("log %q, unpaired %v", log.String(), p.Config.Unpaired)
 	}
@@ -69,7 +75,7 @@ func TestPlanRun(t *testing.T) {
 	}
 	var sum bytes.Buffer
 	o.WriteSummary(&sum, out)
-	if !strings.Contains(sum.String(), "tuned on 1 image: 5 grid") || !strings.Contains(sum.String(), "metric:              f1 (default with `background`: objects counted)") {
+	if !strings.Contains(sum.String(), "tuned on 1 image: 10 grid") || !strings.Contains(sum.String(), "metric:              f1 (default with `background`: objects counted)") {
 		t.Errorf("summary:\n%s", sum.String())
 	}
 	if _, err := testPlan(pairs, out, &log).Run(ctx); err == nil || !strings.Contains(err.Error(), "tune.csv already exists") && !strings.Contains(err.Error(), "best.json already exists") {

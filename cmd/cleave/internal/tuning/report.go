@@ -96,14 +96,14 @@ func meanOf(e *tune.Evaluation) *score.Report {
 }
 
 // Reported lists the searched parameters the files and the report name:
-// every one but the necks switch, which is named only when both its
-// values are searched, so that a run that keeps it as given writes the
-// files it wrote before the switch could be searched (best.json names it
-// always, as every parameter).
+// every one but the necks switch and the faint level, each named only
+// when two or more of its values are searched, so that a run that keeps
+// it as given writes the files it wrote before it could be searched
+// (best.json names it always, as every parameter).
 func Reported(s *tune.Space) []tune.Param {
 	var ps []tune.Param
 	for _, d := range tune.Params() {
-		if d == tune.Necks && len(s[d].Values) < 2 {
+		if (d == tune.Necks || d == tune.Faint) && len(s[d].Values) < 2 {
 			continue
 		}
 		ps = append(ps, d)

@@ -83,6 +83,7 @@ func testConfig(t *testing.T, pairs []Pair) *Config {
 	cfg.Space[tune.Superpixels] = tune.DefaultAxis(tune.Superpixels, []float64{300})
 	cfg.Space[tune.Compactness] = tune.DefaultAxis(tune.Compactness, []float64{20})
 	cfg.Space[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
+	cfg.Space[tune.Faint] = tune.DefaultAxis(tune.Faint, []float64{0})
 	for d := range tune.NumParams {
 		cfg.Given[d] = "given-" + d.String()
 	}
@@ -283,17 +284,23 @@ func TestRunNoImages(t *testing.T) {
 	}
 }
 
-// The necks switch is reported (tune.csv, tune.json) only when both its
-// values are searched; the other parameters always.
+// The necks switch and the faint level are reported (tune.csv,
+// tune.json) only when two or more of their values are searched; the
+// other parameters always.
 func TestReported(t *testing.T) {
 	var s tune.Space
 	s[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.On})
-	if got := Reported(&s); len(got) != int(tune.NumParams)-1 || slices.Contains(got, tune.Necks) {
-		t.Errorf("necks fixed: reported %v", got)
+	s[tune.Faint] = tune.DefaultAxis(tune.Faint, []float64{0})
+	if got := Reported(&s); len(got) != int(tune.NumParams)-2 || slices.Contains(got, tune.Necks) || slices.Contains(got, tune.Faint) {
+		t.Errorf("necks and faint fixed: reported %v", got)
 	}
 	s[tune.Necks] = tune.NewAxis(tune.Necks, []float64{tune.On, tune.Off}, "on,off")
-	if got := Reported(&s); len(got) != int(tune.NumParams) || got[len(got)-1] != tune.Necks {
+	if got := Reported(&s); len(got) != int(tune.NumParams)-1 || got[len(got)-1] != tune.Necks {
 		t.Errorf("necks searched: reported %v", got)
+	}
+	s[tune.Faint] = tune.NewAxis(tune.Faint, []float64{0, 4}, "0,4")
+	if got := Reported(&s); len(got) != int(tune.NumParams) || got[len(got)-1] != tune.Faint {
+		t.Errorf("necks and faint searched: reported %v", got)
 	}
 	m := map[string]string{"sigma-i": "0.1", "necks": "on"}
 	s[tune.Necks] = tune.DefaultAxis(tune.Necks, []float64{tune.Off})
