@@ -117,11 +117,17 @@ func dimMembers(own []float32, gauss func() gaussCrop, sm func(i int) float32, p
 				continue
 			}
 		}
-		basinMask := make([]bool, cw*ch)
+		// The basin's own box: its distance map and neck search are
+		// those over the region's box (beyond a box counts as outside,
+		// and the raster order of its pixels is the same), on fewer
+		// pixels.
+		bb := pixelBox(basinPx, w)
+		bw := bb.x1 - bb.x0 + 1
+		basinMask := make([]bool, bw*(bb.y1-bb.y0+1))
 		for _, i := range basinPx {
-			basinMask[(i/w-b.y0)*cw+i%w-b.x0] = true
+			basinMask[(i/w-bb.y0)*bw+i%w-bb.x0] = true
 		}
-		for _, m := range neckMember(basinOwn, basinPx, basinMask, around, b, w, level, minArea) {
+		for _, m := range neckMember(basinOwn, basinPx, basinMask, around, bb, w, level, minArea) {
 			for q, k := range m.ks {
 				m.ks[q] = ks[k] // the basin's index, back to the region's
 			}

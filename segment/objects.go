@@ -1112,6 +1112,18 @@ func neighbours4(i, w, h int, f func(j int)) {
 // box is an inclusive pixel bounding box.
 type box struct{ x0, y0, x1, y1 int }
 
+// pixelBox is the bounding box of the pixels px (indices into an image
+// w pixels wide; at least one).
+func pixelBox(px []int, w int) box {
+	b := box{px[0] % w, px[0] / w, px[0] % w, px[0] / w}
+	for _, i := range px[1:] {
+		x, y := i%w, i/w
+		b.x0, b.x1 = min(b.x0, x), max(b.x1, x)
+		b.y0, b.y1 = min(b.y0, y), max(b.y1, y)
+	}
+	return b
+}
+
 // grown is b grown by m pixels on every side, clipped to a w x h frame.
 func (b box) grown(m, w, h int) box {
 	return box{max(b.x0-m, 0), max(b.y0-m, 0), min(b.x1+m, w-1), min(b.y1+m, h-1)}
