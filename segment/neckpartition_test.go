@@ -161,3 +161,65 @@ func TestNeckPartitionMinPieces(t *testing.T) {
 		}
 	}
 }
+
+// A clump of six discs of radius 12 in two rows (centres 21 px apart:
+// necks deep enough for the neck partition) and a seventh disc 11 px
+// beside the third, overlapping it so far that its neck is within the
+// partition's drop floor and its notches within concaveNoise; the six
+// at contrast 1, the seventh 0.6 where no other disc covers it. The
+// partition parts the six and leaves the overlapping pair as one piece;
+// the re-cut then parts the pair along the step between their
+// plateaus (differ; 40 % against refineStep's 10 %), and the dim disc's
+// object is the pixels it alone covers (IoU >= 0.8). Without the differ
+// rule inside partitioned clumps the pair stays one object (6 objects).
+func TestRefineClumpStep(t *testing.T) {
+	const R, sep, s2 = 12.0, 21.0, 11.0
+	cx := func(c int) float64 { return 3 + R + sep*float64(c%3) }
+	cy := func(c int) float64 { return 3 + R + sep*float64(c/3) }
+	dx := cx(2) + s2 // the dim disc's centre, on the third disc's row
+	w, h := int(dx+R)+4, int(2*R+sep)+6
+	labels := make([]int32, w*h)
+	con := make([]float64, w*h)
+	dim := make([]bool, w*h)
+	for y := 0; y < h; y++ {
+		for x := 0; x < w; x++ {
+			fx, fy := float64(x)+0.5, float64(y)+0.5
+			v := 0.0
+			for c := range 6 {
+				if math.Hypot(fx-cx(c), fy-cy(c)) < R {
+					v = 1
+				}
+			}
+			if v == 0 && math.Hypot(fx-dx, fy-cy(0)) < R {
+				v, dim[y*w+x] = 0.6, true
+			}
+			if v > 0 {
+				labels[y*w+x], con[y*w+x] = 1, v
+			}
+		}
+	}
+	ref, err := refineObjects(context.Background(), con, labelmap.Map{Pix: labels, Width: w, Height: h}, 1, RefineMaxNcut, 20, true, R, 1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if ref.n != 7 {
+		t.Fatalf("%d objects, want the 7 discs", ref.n)
+	}
+	l := ref.labels[int(cy(0))*w+int(dx)+4] // inside the dim disc only
+	if l == 0 || l == ref.labels[int(cy(0))*w+int(cx(2))] {
+		t.Fatalf("dim disc label %d, bright neighbour's %d: not parted", l, ref.labels[int(cy(0))*w+int(cx(2))])
+	}
+	inter, union := 0, 0
+	for i := range dim {
+		a, b := dim[i], ref.labels[i] == l
+		if a && b {
+			inter++
+		}
+		if a || b {
+			union++
+		}
+	}
+	if iou := float64(inter) / float64(union); iou < 0.8 {
+		t.Errorf("dim disc's object IoU %.2f with the pixels it alone covers, want >= 0.8", iou)
+	}
+}

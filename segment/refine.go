@@ -1181,9 +1181,17 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// outline (concaveCut: saturated clumps blurred together have
 	// neither a seam nor a neck, but their outline still dents where
 	// two objects meet; within notchLimit, and parting no sliver); or,
-	// in a shape with a neck, through the neck.
+	// in a shape with a neck, through the neck; or, in a clump the neck
+	// partition parted (initial, below), between sides whose plateaus
+	// differ (differ): there each piece is already of the object scale,
+	// and two overlapping nuclei of different brightness that its
+	// markers left together show a step between them but no neck.
+	var initial [][]int
 	accept := func(part []int, inA []bool, ncut float64) bool {
 		if ncut <= limit && necks && obj.seam(part, inA) {
+			return true
+		}
+		if initial != nil && ncut <= limit && obj.differ(part, inA) {
 			return true
 		}
 		if necks && ncut <= notchLimit && obj.concave(part, inA) && !sliverSplit(inA) {
@@ -1222,7 +1230,6 @@ func refineOne(ctx context.Context, px []int, w int, b box, contrast []float64, 
 	// objects by depth alone is first parted at all of them
 	// (neckPartition, when all its pieces are compact blobs), and the cut
 	// goes on within the pieces.
-	var initial [][]int
 	var partNcuts []float64
 	if necked && len(px) >= neckPartitionPieces*minPart {
 		if piece, np := neckPartition(dist, cw, ch, minPart, neckPartitionPieces, radius); piece != nil {
