@@ -170,10 +170,11 @@ const localFieldRadii = 3
 // small to lift a field that wide by much, but shading over a few
 // objects' widths, which the smooth field leaves in the scores' spread,
 // is taken out. The field is made on smoothFieldGrid's grid of about
-// fieldGridCells cells across, so on a frame wider than 64 cells of
-// the Gaussian it follows no finer detail than a cell. Without an
-// object scale (radius <= 0) it is the smooth
-// field, a long side over fieldScale.
+// fieldGridCells cells across: where a cell is wider than the Gaussian
+// (a frame wider than fieldGridCells times localFieldRadii object
+// radii), it follows no detail finer than a cell. Without an object
+// scale (radius <= 0) it is the smooth field, a long side over
+// fieldScale.
 func localField(lum []float32, reg, cls []int32, bg int32, w, h int, radius float64, workers int) []float32 {
 	sigma := float64(max(w, h)) / fieldScale
 	if radius > 0 {

@@ -164,10 +164,11 @@ func TestNeckPartitionMinPieces(t *testing.T) {
 
 // A clump of six discs of radius 12 in two rows (centres 21 px apart:
 // necks deep enough for the neck partition) and a seventh disc 11 px
-// beside the third, overlapping it so far that its neck is within the
-// partition's drop floor and its notches within concaveNoise; the six
-// at contrast 1, the seventh 0.6 where no other disc covers it. The
-// partition parts the six and leaves the overlapping pair as one piece;
+// beside the third, overlapping it so far that its notches lie within
+// concaveNoise (1.3 px deep by plane geometry) and the partition, whose
+// floors its digitized neck does not clear, leaves the pair as one
+// piece; the six at contrast 1, the seventh 0.6 where no other disc
+// covers it. The partition parts the six;
 // the re-cut then parts the pair along the step between their
 // plateaus (differ; 40 % against refineStep's 10 %), and the dim disc's
 // object is the pixels it alone covers (IoU >= 0.8). Without the differ

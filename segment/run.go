@@ -111,7 +111,9 @@ type Params struct {
 	// smooth field, background superpixels standing Faint robust
 	// spreads beyond a field that follows the background on the scale
 	// of a few objects become objects too (faintObjects, localField).
-	// Only with Classes 2 and a dark or bright Background; 0 is off.
+	// Only with Classes 2 and a dark or bright Background; 0 is off. Both
+	// searches score superpixels: on a pixel graph (Superpixels 0, or
+	// automatic on an image of at most PixelGraphMaxPixels) neither runs.
 	Faint int
 
 	Workers   int
@@ -157,9 +159,10 @@ const (
 	// per pixel (12,900 at 64), beyond any useful kernel.
 	MaxRadius = 64
 	// MinFaint and MaxFaint bound a Faint level other than 0 (off), in
-	// robust spreads: below 2 about one background superpixel in twenty
-	// of a Gaussian spread would stand out, above 50 nothing does that
-	// the rule against the smooth field has not found.
+	// robust spreads: at 2 about one background superpixel in 44 of a
+	// Gaussian spread stands out (normal tail beyond 2σ, 2.3 %), and
+	// more below it; 50, seven times the smooth field's faintSigmas, is
+	// a bound of ours.
 	MinFaint, MaxFaint = 2, 50
 	// MaxCompactness bounds Compactness: far above the default 20,
 	// superpixels are already squares of the grid.
@@ -266,6 +269,9 @@ func (p Params) Validate() error {
 	}
 	if p.Faint != 0 && (p.Classes != 2 || (p.Background != BackgroundDark && p.Background != BackgroundBright)) {
 		return &ParamError{"faint", "needs classes 2 and background dark or bright"}
+	}
+	if p.Faint != 0 && p.Superpixels == 0 {
+		return &ParamError{"faint", "needs superpixels (it scores them; superpixels 0 is the pixel graph)"}
 	}
 	switch p.Background {
 	case "", "dark", "bright", BackgroundLines:

@@ -158,6 +158,7 @@ func TestParamsValidate(t *testing.T) {
 		{"faint", func(p *Params) { p.Faint = 4 }},                                             // no background
 		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint = 3, BackgroundDark, 4 }}, // three classes
 		{"faint", func(p *Params) { p.Background, p.Faint = BackgroundLines, 4 }},
+		{"faint", func(p *Params) { p.Classes, p.Background, p.Faint, p.Superpixels = 2, BackgroundDark, 4, 0 }}, // pixel graph
 	}
 	for i, c := range bad {
 		p := defaultParams()

@@ -376,7 +376,8 @@ func TestTuneNecks(t *testing.T) {
 // no --faint, tune tries off and tuning.DefaultFaintLevel (a faint column
 // in tune.csv holding both, beside the baseline's 0); --faint 0,6 tries
 // those two; one value fixes it (no column, best.json holds it). Without
-// --background the level is not searched (it needs objects).
+// --background the level is not searched (it needs objects), nor on a
+// pixel graph (it scores superpixels).
 func TestTuneFaint(t *testing.T) {
 	dir := t.TempDir()
 	writeNuclei(t, dir, 13151, 1, 112)
@@ -393,6 +394,7 @@ func TestTuneFaint(t *testing.T) {
 		{"listed", append(slices.Clone(dark), "--faint", "0,6"), []string{"0", "6"}, []string{"0", "6"}},
 		{"fixed", append(slices.Clone(dark), "--faint", "5"), nil, []string{"5"}},
 		{"no background", nil, nil, []string{"0"}},
+		{"pixel graph", append(slices.Clone(dark), "--superpixels", "0"), nil, []string{"0"}},
 	} {
 		out := filepath.Join(dir, "tuned-"+strings.ReplaceAll(c.name, " ", "-"))
 		runOK(t, append(append([]string{"tune", "--images", dir, "--truth", dir, "--out", out}, fixed...), c.flags...)...)

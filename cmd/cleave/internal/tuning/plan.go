@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -134,8 +135,8 @@ const DefaultFaintLevel = 4
 
 // defaultAxes fills the axes not given with their defaults: max-ncut the
 // default and half of it, faint off and DefaultFaintLevel when objects
-// are segmented on a dark or bright background with two classes (else as
-// given), the other parameters as the fixed settings give them; sigma-i
+// are segmented on a dark or bright background with two classes and no
+// searched setting is a pixel graph (else as given), the other parameters as the fixed settings give them; sigma-i
 // and sigma-x are left empty, for Run to centre on the automatic values.
 func (p *Plan) defaultAxes(given [tune.NumParams]bool) {
 	s, sp := p.Request, &p.Config.Space
@@ -164,7 +165,8 @@ func (p *Plan) defaultAxes(given [tune.NumParams]bool) {
 	}
 	if !given[tune.Faint] {
 		sp[tune.Faint] = tune.DefaultAxis(tune.Faint, []float64{float64(s.Faint)})
-		if s.Faint == 0 && s.Classes == 2 && (s.Background == string(segment.BackgroundDark) || s.Background == string(segment.BackgroundBright)) {
+		pixelGraph := slices.Contains(sp[tune.Superpixels].Values, 0) // the faint search scores superpixels
+		if s.Faint == 0 && s.Classes == 2 && (s.Background == string(segment.BackgroundDark) || s.Background == string(segment.BackgroundBright)) && !pixelGraph {
 			sp[tune.Faint] = tune.DefaultAxis(tune.Faint, []float64{0, DefaultFaintLevel})
 		}
 	}
