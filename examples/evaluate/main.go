@@ -50,7 +50,7 @@ import (
 var cleaveFlags = map[string][]string{
 	"nuclei":   {"--classes", "2", "--background", "dark"},
 	"plates":   {"--classes", "2", "--background", "bright", "--flatten", "30"},
-	"clusters": {"--classes", "2", "--background", "dark"},
+	"clusters": {"--classes", "2", "--background", "dark", "--faint", "4"}, // the README's row for dim nuclei among bright ones
 	"haze":     {"--classes", "2", "--background", "dark", "--flatten-radii", "3", "--flatten-mode", "subtract"},
 	"stained":  {"--classes", "2", "--background", "bright"},
 	"surface":  {"--classes", "2", "--background", "bright", "--flatten", "30", "--grain", "on"},
