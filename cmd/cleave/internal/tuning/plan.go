@@ -136,8 +136,9 @@ const DefaultFaintLevel = 4
 // defaultAxes fills the axes not given with their defaults: max-ncut the
 // default and half of it, faint off and DefaultFaintLevel when objects
 // are segmented on a dark or bright background with two classes and no
-// searched setting is a pixel graph (else as given), the other parameters as the fixed settings give them; sigma-i
-// and sigma-x are left empty, for Run to centre on the automatic values.
+// searched setting is a pixel graph (else as given), the other
+// parameters as the fixed settings give them; sigma-i and sigma-x are
+// left empty, for Run to centre on the automatic values.
 func (p *Plan) defaultAxes(given [tune.NumParams]bool) {
 	s, sp := p.Request, &p.Config.Space
 	if !given[tune.MaxNcut] {
