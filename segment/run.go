@@ -114,6 +114,8 @@ type Params struct {
 	// Only with Classes 2 and a dark or bright Background; 0 is off. Both
 	// searches score superpixels: on a pixel graph (Superpixels 0, or
 	// automatic on an image of at most PixelGraphMaxPixels) neither runs.
+	// With several feature planes (colour) no object scale is estimated,
+	// and the second search's field is the smooth one (localField).
 	Faint int
 
 	Workers   int
