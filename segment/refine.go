@@ -1504,13 +1504,10 @@ func refineByNecks(ctx context.Context, px []int, w int, b box, contrast []float
 	for _, ks := range idx {
 		pp := make([]int, len(ks))
 		pc := make([]float64, len(ks))
-		pb := box{w, math.MaxInt, -1, -1}
 		for j, k := range ks {
-			i := px[k]
-			pp[j], pc[j] = i, contrast[k]
-			x, y := i%w, i/w
-			pb = box{min(pb.x0, x), min(pb.y0, y), max(pb.x1, x), max(pb.y1, y)}
+			pp[j], pc[j] = px[k], contrast[k]
 		}
+		pb := pixelBox(pp, w)
 		var r refineResult
 		if len(pp) <= refineMaxNodes {
 			r = refineOne(ctx, pp, w, pb, pc, maxNcut, minPart, true, radius, seed)
